@@ -1,0 +1,43 @@
+#include "graph.h"
+
+namespace yoke {
+
+Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
+  Graph graph;
+  std::vector<std::uint32_t> degree(vertex_count, 0);
+  for (const Edge& e : edges) {
+    ++degree[e.a];
+    ++degree[e.b];
+  }
+  graph.incidence_.resize(vertex_count);
+  for (std::size_t v = 0; v < vertex_count; ++v) graph.incidence_[v].reserve(degree[v]);
+  for (std::size_t i = 0; i < edges.size(); ++i) {
+    const auto index = static_cast<EdgeIndex>(i);
+    graph.incidence_[edges[i].a].push_back({edges[i].b, index});
+    graph.incidence_[edges[i].b].push_back({edges[i].a, index});
+  }
+  graph.edges_ = std::move(edges);
+  return graph;
+}
+
+Vertex Graph::add_vertex() {
+  incidence_.emplace_back();
+  return static_cast<Vertex>(incidence_.size() - 1);
+}
+
+EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
+  const auto index = static_cast<EdgeIndex>(edges_.size());
+  edges_.push_back({a, b, w});
+  incidence_[a].push_back({b, index});
+  incidence_[b].push_back({a, index});
+  return index;
+}
+
+std::size_t Graph::memory_bytes() const {
+  std::size_t bytes = edges_.capacity() * sizeof(Edge) +
+                      incidence_.capacity() * sizeof(std::vector<Incidence>);
+  for (const auto& list : incidence_) bytes += list.capacity() * sizeof(Incidence);
+  return bytes;
+}
+
+}  // namespace yoke

@@ -1,0 +1,49 @@
+// Static maximum-weight matching on a general graph: Edmonds' primal-dual blossom method.
+//
+// solve() starts from a greedy dual and matching and runs one alternating-tree search per
+// vertex that breaks the optimality conditions; each search costs O(region log region) in the
+// size of the region it explores (lazy duals, search stamps, priority queues keyed by slack).
+// Results are deterministic: the same graph (same edge order) gives the same matching.
+#pragma once
+
+#include <cstdint>
+#include <vector>
+
+#include "certificate.h"
+#include "graph.h"
+#include "types.h"
+
+namespace yoke {
+
+struct SolveStats {
+  std::uint64_t searches = 0;
+  std::uint64_t augmentations = 0;
+  std::uint64_t blossoms_formed = 0;
+  std::uint64_t blossoms_expanded = 0;
+  std::uint64_t dual_steps = 0;
+};
+
+enum class SolveStatus {
+  optimal,              // the matching is optimal for the mode
+  no_perfect_matching,  // perfect mode only: the graph has none; `mate` holds a maximum-
+                        // cardinality matching of maximum weight as evidence of the shortfall
+};
+
+struct SolveResult {
+  SolveStatus status = SolveStatus::optimal;
+  Weight weight = 0;       // sum of the original weights of the matched edges
+  std::size_t pairs = 0;   // number of matched edges
+  std::vector<Vertex> mate;
+  Certificate certificate;
+  SolveStats stats;
+};
+
+// Throws InputError when a weight (after the mode's transformation) exceeds kMaxAbsWeight or
+// the total weight bound kMaxTotalWeight; the message names the bound that was hit.
+SolveResult solve(const Graph& graph, Mode mode);
+
+// The weight offset the mode adds to every edge (0 for max-weight). Throws InputError as
+// solve() does.
+Weight mode_weight_offset(const Graph& graph, Mode mode);
+
+}  // namespace yoke

@@ -1,0 +1,5 @@
+#include <gtest/gtest.h>
+
+#include "engine/solve.h"
+
+TEST(Solve, Placeholder) { SUCCEED(); }
