@@ -1,10 +1,119 @@
 #include "solve.h"
 
+#include <algorithm>
+#include <string>
+
+#include "alternating_search.h"
+#include "greedy_start.h"
+#include "matching_state.h"
+
 namespace yoke {
-SolveResult solve(const Graph& graph, Mode) {
-  SolveResult r;
-  r.mate.assign(graph.vertex_count(), kNoVertex);
-  return r;
+namespace {
+
+std::string int128_text(Int128 value) {
+  if (value == 0) return "0";
+  const bool negative = value < 0;
+  std::string digits;
+  for (Int128 rest = negative ? -value : value; rest > 0; rest /= 10) {
+    digits.push_back(static_cast<char>('0' + static_cast<int>(rest % 10)));
+  }
+  if (negative) digits.push_back('-');
+  std::reverse(digits.begin(), digits.end());
+  return digits;
 }
-Weight mode_weight_offset(const Graph&, Mode) { return 0; }
+
+void check_bounds(Int128 largest_abs, Int128 pairs_bound, const char* what) {
+  if (largest_abs > kMaxAbsWeight) {
+    throw InputError(std::string(what) + " " + int128_text(largest_abs) +
+                     " exceeds the bound |w| <= 2^52 = " + std::to_string(kMaxAbsWeight));
+  }
+  if (largest_abs * pairs_bound > kMaxTotalWeight) {
+    throw InputError("pairs x largest |" + std::string(what) + "| = " +
+                     int128_text(largest_abs * pairs_bound) +
+                     " exceeds the total-weight bound 2^61 = " + std::to_string(kMaxTotalWeight));
+  }
+}
+
+Certificate make_certificate(const MatchingState& state, Mode mode, Weight weight_offset) {
+  Certificate cert;
+  cert.mode = mode;
+  cert.weight_offset = weight_offset;
+  cert.mate = state.mate;
+  cert.vertex_dual2 = state.dual2;
+  const auto n = static_cast<NodeId>(state.mate.size());
+  const std::vector<NodeId> live = state.forest.live_blossoms();
+  std::vector<NodeId> index_of(n, kNoNode);  // blossom slot - n -> certificate index
+  for (std::size_t k = 0; k < live.size(); ++k) index_of[live[k] - n] = static_cast<NodeId>(k);
+  cert.blossoms.reserve(live.size());
+  for (NodeId b : live) {
+    CertificateBlossom out;
+    out.dual2 = state.forest.dual2(b);
+    out.base = state.forest.base(b);
+    for (NodeId child : state.forest.children(b)) {
+      out.children.push_back(child < n ? child : n + index_of[child - n]);
+    }
+    cert.blossoms.push_back(std::move(out));
+  }
+  return cert;
+}
+
+}  // namespace
+
+Weight mode_weight_offset(const Graph& graph, Mode mode) {
+  if (graph.edge_count() == 0) return 0;
+  Weight min_w = graph.edge(0).w, max_w = graph.edge(0).w;
+  for (const Edge& e : graph.edges()) {
+    min_w = std::min(min_w, e.w);
+    max_w = std::max(max_w, e.w);
+  }
+  const Int128 pairs_bound = std::min<Int128>(graph.vertex_count() / 2, graph.edge_count());
+  const Int128 largest_abs = std::max<Int128>(-Int128{min_w}, Int128{max_w});
+  if (largest_abs > kMaxAbsWeight) check_bounds(largest_abs, pairs_bound, "weight");
+  if (mode == Mode::max_weight) {
+    check_bounds(largest_abs, pairs_bound, "weight");
+    return 0;
+  }
+  // Every extra pair must outweigh any weight difference between matchings of consecutive
+  // sizes, and every shifted weight must be positive.
+  const Int128 offset = pairs_bound * (Int128{max_w} - min_w) + std::max<Int128>(0, -Int128{min_w}) + 1;
+  check_bounds(offset + max_w, pairs_bound, "weight after the cardinality offset");
+  return static_cast<Weight>(offset);
+}
+
+SolveResult solve(const Graph& graph, Mode mode) {
+  const Weight offset = mode_weight_offset(graph, mode);
+  const std::size_t n = graph.vertex_count();
+  MatchingState state(n);
+  greedy_start(graph, offset, state);
+
+  AlternatingSearch search(graph, offset, state);
+  for (Vertex v = 0; v < n; ++v) {
+    if (state.mate[v] == kNoVertex && state.dual2[v] > 0) search.run(v);
+  }
+
+  SolveResult result;
+  result.stats = search.stats();
+  result.mate = state.mate;
+  for (Vertex v = 0; v < n; ++v) {
+    const Vertex m = state.mate[v];
+    if (m == kNoVertex || m < v) continue;
+    ++result.pairs;
+    for (const Incidence& inc : graph.incident(v)) {
+      if (inc.other == m) {
+        result.weight += graph.edge(inc.edge).w;
+        break;
+      }
+    }
+  }
+  if (mode == Mode::perfect) {
+    if (2 * result.pairs != n) result.status = SolveStatus::no_perfect_matching;
+    // Perfect-matching duals for the original weights: shift each u by offset/2 (doubled: offset).
+    for (Weight& d : state.dual2) d -= offset;
+    result.certificate = make_certificate(state, mode, 0);
+  } else {
+    result.certificate = make_certificate(state, mode, offset);
+  }
+  return result;
+}
+
 }  // namespace yoke

@@ -1,0 +1,107 @@
+// One primal-dual search: grows a single alternating tree from a root that breaks the
+// optimality conditions (an exposed vertex with positive dual) and adjusts duals until it
+// augments or until some S-vertex dual reaches zero, where it shifts the matching along the
+// even path so that vertex becomes the exposed one.
+//
+// Locality: labels carry a search stamp (no clearing), vertex and blossom duals change lazily
+// (value at labelling + the running total of dual steps, settled when the search ends), and the
+// four bounds on each dual step sit in min-heaps keyed so that the key never changes while the
+// bound is valid. A search costs O(R log R) for a region of R touched vertices and edges.
+#pragma once
+
+#include <cstdint>
+#include <vector>
+
+#include "graph.h"
+#include "matching_state.h"
+#include "min_heap.h"
+#include "solve.h"
+
+namespace yoke {
+
+class AlternatingSearch {
+ public:
+  // `weight_offset` is added to every edge weight (the mode's transformation).
+  AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state);
+  AlternatingSearch(const AlternatingSearch&) = delete;
+  AlternatingSearch& operator=(const AlternatingSearch&) = delete;
+
+  // Precondition: `root` is exposed. Returns true when the matching grew by one pair.
+  bool run(Vertex root);
+
+  const SolveStats& stats() const { return stats_; }
+
+ private:
+  enum Label : std::uint8_t { kFree = 0, kEven = 1, kOdd = 2 };  // S = even, T = odd
+
+  Weight weight(EdgeIndex e) const { return graph_.edge(e).w + weight_offset_; }
+
+  // Lazy duals.
+  Weight vertex_dual(Vertex v) const;
+  Weight blossom_dual(NodeId b) const;
+  Label label_of(NodeId node) const {
+    return node_stamp_[node] == stamp_ ? static_cast<Label>(node_label_[node]) : kFree;
+  }
+  void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
+  void settle_blossom_dual(NodeId b);
+  void settle_all();
+
+  // Tree growth.
+  void label_node(NodeId node, Label label, Vertex outer, Vertex inner);
+  void label_even(NodeId node, Vertex via_odd, Vertex base);
+  void make_even(Vertex v);
+  void label_odd(NodeId node, Vertex via_even, Vertex entry);
+  void scan(Vertex v);
+  void push_edges_to_even(NodeId node);
+  bool grow_along(EdgeIndex e);               // true when it augmented
+  void shrink(Vertex v, Vertex w);
+  void expand_odd(NodeId b);
+  void flip_path_to_root(Vertex v, Vertex partner);
+
+  // Bound selection.
+  bool top_free_edge(Weight& key);
+  bool top_even_edge(Weight& key);
+  bool top_odd_blossom(Weight& key);
+
+  const Graph& graph_;
+  const Weight weight_offset_;
+  MatchingState& state_;
+  BlossomForest& forest_;
+  std::vector<Vertex>& mate_;
+  std::vector<Weight>& dual2_;
+  SolveStats stats_;
+
+  std::uint32_t stamp_ = 0;
+  Weight delta_ = 0;  // sum of the dual steps taken in this search
+
+  // Per vertex.
+  std::vector<std::uint32_t> vertex_stamp_;
+  std::vector<std::int8_t> vertex_sign_;   // -1 even (dual falls), +1 odd (dual rises), 0 free
+  std::vector<Weight> vertex_since_;       // delta_ when the sign was last set
+  // Per node (vertex or blossom slot).
+  std::vector<std::uint32_t> node_stamp_;
+  std::vector<std::uint8_t> node_label_;
+  std::vector<Weight> node_since_;         // delta_ when the label was set
+  // The tree edge above a labelled node: for an odd node, the even vertex that reached it and
+  // the vertex inside it; for an even node, its mate outside (kNoVertex at the root) and its base.
+  std::vector<Vertex> tree_outer_;
+  std::vector<Vertex> tree_inner_;
+  std::vector<std::uint32_t> mark_;        // scratch stamps for finding the tree's meeting point
+  std::uint32_t mark_stamp_ = 0;
+
+  std::vector<Vertex> touched_vertices_;
+  std::vector<NodeId> touched_nodes_;
+  std::vector<Vertex> scan_queue_;
+
+  MinHeap even_vertices_;   // key: delta_ at which the vertex's dual reaches 0
+  MinHeap free_edges_;      // even-to-free edges; key: delta_ at which slack reaches 0
+  MinHeap even_edges_;      // even-to-even edges; key: delta_ at which slack reaches 0
+  MinHeap odd_blossoms_;    // key: delta_ at which the blossom's dual reaches 0
+
+  std::vector<NodeId> cycle_nodes_;      // scratch for shrink
+  std::vector<CycleEdge> cycle_edges_;   // scratch for shrink
+  std::vector<NodeId> side_nodes_;       // scratch for shrink
+  std::vector<CycleEdge> side_edges_;    // scratch for shrink
+};
+
+}  // namespace yoke

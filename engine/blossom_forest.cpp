@@ -1,0 +1,129 @@
+#include "blossom_forest.h"
+
+#include <algorithm>
+
+namespace yoke {
+
+BlossomForest::BlossomForest(std::size_t vertex_count)
+    : vertex_count_(vertex_count),
+      parent_(2 * vertex_count, kNoNode),
+      top_(vertex_count),
+      base_(2 * vertex_count, kNoVertex),
+      dual2_(2 * vertex_count, 0),
+      first_leaf_(2 * vertex_count, kNoVertex),
+      last_leaf_(2 * vertex_count, kNoVertex),
+      next_leaf_(vertex_count, kNoVertex),
+      children_(vertex_count),
+      edges_(vertex_count) {
+  for (Vertex v = 0; v < vertex_count; ++v) {
+    top_[v] = v;
+    base_[v] = v;
+    first_leaf_[v] = last_leaf_[v] = v;
+  }
+  free_slots_.reserve(vertex_count);
+  for (std::size_t slot = 2 * vertex_count; slot > vertex_count; --slot) {
+    free_slots_.push_back(static_cast<NodeId>(slot - 1));
+  }
+}
+
+NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
+                                   const std::vector<CycleEdge>& edges) {
+  const NodeId b = free_slots_.back();
+  free_slots_.pop_back();
+  children_[b - vertex_count_] = children;
+  edges_[b - vertex_count_] = edges;
+  parent_[b] = kNoNode;
+  base_[b] = base_[children.front()];
+  dual2_[b] = 0;
+  for (std::size_t i = 0; i < children.size(); ++i) {
+    parent_[children[i]] = b;
+    if (i + 1 < children.size()) next_leaf_[last_leaf_[children[i]]] = first_leaf_[children[i + 1]];
+  }
+  first_leaf_[b] = first_leaf_[children.front()];
+  last_leaf_[b] = last_leaf_[children.back()];
+  for_each_vertex(b, [&](Vertex v) { top_[v] = b; });
+  return b;
+}
+
+void BlossomForest::dissolve(NodeId b) {
+  for (NodeId child : children_[b - vertex_count_]) {
+    parent_[child] = kNoNode;
+    for_each_vertex(child, [&](Vertex v) { top_[v] = child; });
+  }
+  children_[b - vertex_count_].clear();
+  edges_[b - vertex_count_].clear();
+  dual2_[b] = 0;
+  base_[b] = kNoVertex;
+  free_slots_.push_back(b);
+}
+
+NodeId BlossomForest::child_containing(NodeId b, Vertex v) const {
+  NodeId node = v;
+  while (parent_[node] != b) node = parent_[node];
+  return node;
+}
+
+void BlossomForest::make_base(NodeId b, Vertex v, std::vector<Vertex>& mate) {
+  base_work_.clear();
+  base_work_.push_back({b, v, kNoNode});
+  while (!base_work_.empty()) {
+    const BaseWork work = base_work_.back();
+    base_work_.pop_back();
+    if (is_vertex(work.blossom)) continue;
+    NodeId entry = work.entry;
+    if (entry == kNoNode) {
+      // Walk up once from the vertex and queue every blossom on the way with its entry child,
+      // so deep nests cost O(depth) in total, not O(depth^2).
+      NodeId below = work.vertex;
+      while (parent_[below] != work.blossom) {
+        const NodeId above = parent_[below];
+        base_work_.push_back({above, work.vertex, below});
+        below = above;
+      }
+      entry = below;
+    }
+    auto& kids = children_[work.blossom - vertex_count_];
+    auto& cycle = edges_[work.blossom - vertex_count_];
+    const std::size_t k = kids.size();
+    const std::size_t i = static_cast<std::size_t>(std::find(kids.begin(), kids.end(), entry) - kids.begin());
+    // Children are matched in pairs (1,2), (3,4), ... around the cycle from the base child.
+    // Walking from the entry child to the old base along the even side, the pairing shifts by
+    // one: the edges that become matched are every other edge of that path.
+    auto match_edge = [&](std::size_t j) {
+      const CycleEdge e = cycle[j];
+      mate[e.from] = e.to;
+      mate[e.to] = e.from;
+      base_work_.push_back({kids[j], e.from, kNoNode});
+      base_work_.push_back({kids[(j + 1) % k], e.to, kNoNode});
+    };
+    if (i % 2 == 1) {
+      for (std::size_t j = i + 1; j < k; j += 2) match_edge(j);
+    } else {
+      for (std::size_t j = i; j >= 2; j -= 2) match_edge(j - 2);
+    }
+    std::rotate(kids.begin(), kids.begin() + static_cast<std::ptrdiff_t>(i), kids.end());
+    std::rotate(cycle.begin(), cycle.begin() + static_cast<std::ptrdiff_t>(i), cycle.end());
+    base_[work.blossom] = work.vertex;
+  }
+}
+
+std::vector<NodeId> BlossomForest::live_blossoms() const {
+  std::vector<NodeId> live;
+  for (std::size_t slot = vertex_count_; slot < 2 * vertex_count_; ++slot) {
+    if (!children_[slot - vertex_count_].empty()) live.push_back(static_cast<NodeId>(slot));
+  }
+  return live;
+}
+
+std::size_t BlossomForest::memory_bytes() const {
+  std::size_t bytes = (parent_.capacity() + top_.capacity() + base_.capacity() +
+                       first_leaf_.capacity() + last_leaf_.capacity() + next_leaf_.capacity() +
+                       free_slots_.capacity()) * sizeof(std::uint32_t) +
+                      dual2_.capacity() * sizeof(Weight) +
+                      (children_.capacity() + edges_.capacity()) * sizeof(std::vector<NodeId>);
+  for (const auto& kids : children_) bytes += kids.capacity() * sizeof(NodeId);
+  for (const auto& cycle : edges_) bytes += cycle.capacity() * sizeof(CycleEdge);
+  return bytes;
+}
+
+}  // namespace yoke

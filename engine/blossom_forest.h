@@ -1,0 +1,95 @@
+// The laminar family of blossoms and the matching they structure.
+//
+// Node ids: 0 .. n-1 are vertices (trivial blossoms), n .. 2n-1 are blossom slots, recycled
+// through a free list. Each blossom keeps its children in cycle order, starting with the child
+// that holds its base, and the edge joining each child to the next. The vertices of every
+// blossom form one contiguous run of a shared linked list (first_leaf .. last_leaf), so a
+// blossom's vertices are listed in O(|B|) with no recursion and no per-vertex membership lists.
+#pragma once
+
+#include <cstdint>
+#include <vector>
+
+#include "certificate.h"
+#include "types.h"
+
+namespace yoke {
+
+inline constexpr NodeId kNoNode = std::numeric_limits<NodeId>::max();
+
+// The edge of a blossom's cycle joining child i (holding `from`) to child i+1 (holding `to`).
+struct CycleEdge {
+  Vertex from;
+  Vertex to;
+};
+
+class BlossomForest {
+ public:
+  explicit BlossomForest(std::size_t vertex_count = 0);
+
+  std::size_t vertex_count() const { return vertex_count_; }
+  bool is_vertex(NodeId node) const { return node < vertex_count_; }
+  bool is_live_blossom(NodeId node) const {
+    return !is_vertex(node) && !children_[node - vertex_count_].empty();
+  }
+
+  NodeId parent(NodeId node) const { return parent_[node]; }
+  NodeId top(Vertex v) const { return top_[v]; }
+  Vertex base(NodeId node) const { return base_[node]; }
+  Weight dual2(NodeId node) const { return dual2_[node]; }
+  void set_dual2(NodeId node, Weight z2) { dual2_[node] = z2; }
+  const std::vector<NodeId>& children(NodeId b) const { return children_[b - vertex_count_]; }
+  const std::vector<CycleEdge>& cycle_edges(NodeId b) const { return edges_[b - vertex_count_]; }
+
+  // Calls f(v) for every vertex of `node`, in list order. O(|node|).
+  template <class F>
+  void for_each_vertex(NodeId node, F&& f) const {
+    for (Vertex v = first_leaf_[node];; v = next_leaf_[v]) {
+      f(v);
+      if (v == last_leaf_[node]) break;
+    }
+  }
+
+  // Forms a top-level blossom from top-level `children` (cycle order, base child first) and the
+  // edges joining them. Sets top() of all its vertices. O(|B|).
+  NodeId make_blossom(const std::vector<NodeId>& children, const std::vector<CycleEdge>& edges);
+
+  // Dissolves top-level blossom `b` into its children, which become top-level. O(|b|).
+  void dissolve(NodeId b);
+
+  // The child of blossom `b` that contains vertex v. O(depth of v below b).
+  NodeId child_containing(NodeId b, Vertex v) const;
+
+  // Rotates blossom `b` (and, recursively, its sub-blossoms) so that v becomes its base,
+  // flipping the matched edges inside so that every vertex of b but v stays matched within b.
+  // Iterative; O(|b|) in the worst case.
+  void make_base(NodeId b, Vertex v, std::vector<Vertex>& mate);
+
+  // Live blossoms in increasing slot order (for certificates and tests). O(n).
+  std::vector<NodeId> live_blossoms() const;
+
+  std::size_t memory_bytes() const;
+
+ private:
+  std::size_t vertex_count_;
+  std::vector<NodeId> parent_;        // per node; kNoNode at top level
+  std::vector<NodeId> top_;           // per vertex: the top-level node containing it
+  std::vector<Vertex> base_;          // per node
+  std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
+  std::vector<Vertex> first_leaf_;    // per node
+  std::vector<Vertex> last_leaf_;     // per node
+  std::vector<Vertex> next_leaf_;     // per vertex
+  std::vector<std::vector<NodeId>> children_;   // per blossom slot
+  std::vector<std::vector<CycleEdge>> edges_;   // per blossom slot
+  std::vector<NodeId> free_slots_;    // unused blossom slots, lowest on top
+
+  struct BaseWork {
+    NodeId blossom;
+    Vertex vertex;
+    NodeId entry;  // child of `blossom` holding `vertex`, or kNoNode when not yet known
+  };
+  std::vector<BaseWork> base_work_;   // scratch for make_base
+  std::vector<NodeId> chain_;         // scratch for make_base
+};
+
+}  // namespace yoke
