@@ -19,6 +19,8 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       node_since_(2 * graph.vertex_count(), 0),
       tree_outer_(2 * graph.vertex_count(), kNoVertex),
       tree_inner_(2 * graph.vertex_count(), kNoVertex),
+      tree_of_(2 * graph.vertex_count(), kNoVertex),
+      tree_nodes_(graph.vertex_count()),
       mark_(2 * graph.vertex_count(), 0) {}
 
 Weight AlternatingSearch::vertex_dual(Vertex v) const {
@@ -34,12 +36,8 @@ Weight AlternatingSearch::blossom_dual(NodeId b) const {
 }
 
 void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
-  const Weight current = vertex_dual(v);
-  if (vertex_stamp_[v] != stamp_) {
-    vertex_stamp_[v] = stamp_;
-    touched_vertices_.push_back(v);
-  }
-  dual2_[v] = current;
+  dual2_[v] = vertex_dual(v);
+  vertex_stamp_[v] = stamp_;
   vertex_sign_[v] = static_cast<std::int8_t>(sign);
   vertex_since_[v] = delta_;
 }
@@ -50,29 +48,19 @@ void AlternatingSearch::settle_blossom_dual(NodeId b) {
   node_since_[b] = delta_;
 }
 
-void AlternatingSearch::settle_all() {
-  for (Vertex v : touched_vertices_) dual2_[v] = vertex_dual(v);
-  for (NodeId node : touched_nodes_) {
-    if (forest_.is_live_blossom(node) && forest_.parent(node) == kNoNode) settle_blossom_dual(node);
-  }
-  touched_vertices_.clear();
-  touched_nodes_.clear();
-}
-
-void AlternatingSearch::label_node(NodeId node, Label label, Vertex outer, Vertex inner) {
+void AlternatingSearch::label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree) {
   settle_blossom_dual(node);
-  if (node_stamp_[node] != stamp_) {
-    node_stamp_[node] = stamp_;
-    touched_nodes_.push_back(node);
-  }
+  node_stamp_[node] = stamp_;
   node_label_[node] = label;
   node_since_[node] = delta_;
   tree_outer_[node] = outer;
   tree_inner_[node] = inner;
+  tree_of_[node] = tree;
+  if (tree != kNoVertex) tree_nodes_[tree].push_back(node);
 }
 
-void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base) {
-  label_node(node, kEven, via_odd, base);
+void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree) {
+  label_node(node, kEven, via_odd, base, tree);
   forest_.for_each_vertex(node, [&](Vertex v) { make_even(v); });
 }
 
@@ -82,13 +70,14 @@ void AlternatingSearch::make_even(Vertex v) {
   scan_queue_.push_back(v);
 }
 
-void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry) {
-  label_node(node, kOdd, via_even, entry);
+void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree) {
+  label_node(node, kOdd, via_even, entry, tree);
   forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
   if (!forest_.is_vertex(node)) odd_blossoms_.push(delta_ + forest_.dual2(node) / 2, node);
 }
 
 void AlternatingSearch::scan(Vertex v) {
+  ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
   for (const Incidence& inc : graph_.incident(v)) {
@@ -118,6 +107,22 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
   });
 }
 
+bool AlternatingSearch::top_even_vertex(Weight& key) {
+  while (!even_vertices_.empty()) {
+    const MinHeap::Entry entry = even_vertices_.top();
+    const Vertex v = entry.id;
+    // Stale when v's tree ended since (v may even have joined another tree later).
+    if (vertex_stamp_[v] != stamp_ || vertex_sign_[v] != -1 ||
+        entry.key != vertex_since_[v] + dual2_[v]) {
+      even_vertices_.pop();
+      continue;
+    }
+    key = entry.key;
+    return true;
+  }
+  return false;
+}
+
 bool AlternatingSearch::top_free_edge(Weight& key) {
   while (!free_edges_.empty()) {
     const MinHeap::Entry entry = free_edges_.top();
@@ -131,8 +136,8 @@ bool AlternatingSearch::top_free_edge(Weight& key) {
       free_edges_.pop();
       continue;
     }
-    // The free end may have been odd for a while (inside a blossom since expanded), so its dual
-    // may have risen: recompute and requeue when the key is out of date.
+    // Either end may have spent time in another state since the push (inside an odd blossom
+    // since expanded, in a tree since ended), so recompute and requeue when out of date.
     const Weight due = delta_ + vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
     if (due != entry.key) {
       free_edges_.pop();
@@ -151,8 +156,24 @@ bool AlternatingSearch::top_even_edge(Weight& key) {
     const Edge& e = graph_.edge(entry.id);
     const NodeId top_a = forest_.top(e.a);
     const NodeId top_b = forest_.top(e.b);
-    if (top_a == top_b || label_of(top_a) != kEven || label_of(top_b) != kEven) {
+    const Label label_a = label_of(top_a);
+    const Label label_b = label_of(top_b);
+    if (top_a == top_b || label_a == kOdd || label_b == kOdd || (label_a == kFree && label_b == kFree)) {
       even_edges_.pop();
+      continue;
+    }
+    const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
+    if (label_a == kFree || label_b == kFree) {
+      // One end's tree ended: the edge now bounds the step as an even-to-free edge, whose key
+      // is never below this one.
+      even_edges_.pop();
+      free_edges_.push(delta_ + slack, entry.id);
+      continue;
+    }
+    const Weight due = delta_ + slack / 2;
+    if (due != entry.key) {
+      even_edges_.pop();
+      even_edges_.push(due, entry.id);
       continue;
     }
     key = entry.key;
@@ -176,7 +197,7 @@ bool AlternatingSearch::top_odd_blossom(Weight& key) {
   return false;
 }
 
-bool AlternatingSearch::run(Vertex root) {
+void AlternatingSearch::start_run() {
   if (++stamp_ == 0) {  // wrapped: old stamps could collide, so clear them once
     std::fill(vertex_stamp_.begin(), vertex_stamp_.end(), 0);
     std::fill(node_stamp_.begin(), node_stamp_.end(), 0);
@@ -188,73 +209,102 @@ bool AlternatingSearch::run(Vertex root) {
   even_edges_.clear();
   odd_blossoms_.clear();
   scan_queue_.clear();
+  running_ = true;
+}
+
+void AlternatingSearch::add_root(Vertex root) {
+  if (!running_) start_run();
+  const NodeId node = forest_.top(root);
+  label_even(node, kNoVertex, forest_.base(node), root);
+  ++live_trees_;
   ++stats_.searches;
+}
 
-  const NodeId root_node = forest_.top(root);
-  label_even(root_node, kNoVertex, forest_.base(root_node));
-
-  bool augmented = false;
-  for (;;) {
+std::size_t AlternatingSearch::run() {
+  std::size_t augmentations = 0;
+  while (live_trees_ > 0) {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
       scan_queue_.pop_back();
       scan(v);
     }
-    Weight free_key = 0, even_key = 0, odd_key = 0;
+    Weight vertex_key = 0, free_key = 0, even_key = 0, odd_key = 0;
+    // Every live tree has an even root, so this heap always has a valid entry.
+    top_even_vertex(vertex_key);
+    const bool has_even = top_even_edge(even_key);  // first: it may move entries to free_edges_
     const bool has_free = top_free_edge(free_key);
-    const bool has_even = top_even_edge(even_key);
     const bool has_odd = top_odd_blossom(odd_key);
-    Weight next = even_vertices_.top().key;  // the root is even, so this heap is never empty
+    Weight next = vertex_key;
     if (has_free) next = std::min(next, free_key);
     if (has_even) next = std::min(next, even_key);
     if (has_odd) next = std::min(next, odd_key);
     if (next != delta_) ++stats_.dual_steps;
     delta_ = next;
 
+    const std::uint64_t before = stats_.augmentations;
     if (has_free && free_key == next) {
       const EdgeIndex e = free_edges_.top().id;
       free_edges_.pop();
-      if (grow_along(e)) {
-        augmented = true;
-        break;
-      }
+      grow_along(e);
     } else if (has_even && even_key == next) {
       const EdgeIndex e = even_edges_.top().id;
       even_edges_.pop();
-      shrink(graph_.edge(e).a, graph_.edge(e).b);
+      join_even_ends(e);
     } else if (has_odd && odd_key == next) {
       const NodeId b = odd_blossoms_.top().id;
       odd_blossoms_.pop();
       expand_odd(b);
     } else {
       // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
-      // the even path from the root to it.
-      flip_path_to_root(even_vertices_.top().id, kNoVertex);
-      break;
+      // the even path from its root to it, and its tree is done.
+      const Vertex v = even_vertices_.top().id;
+      even_vertices_.pop();
+      const Vertex root = tree_of_[forest_.top(v)];
+      flip_path_to_root(v, kNoVertex);
+      end_tree(root);
     }
+    augmentations += stats_.augmentations - before;
   }
-  settle_all();
-  return augmented;
+  running_ = false;
+  stats_.heap_pushes = even_vertices_.pushes() + free_edges_.pushes() + even_edges_.pushes() +
+                       odd_blossoms_.pushes();
+  return augmentations;
 }
 
-bool AlternatingSearch::grow_along(EdgeIndex e) {
+void AlternatingSearch::grow_along(EdgeIndex e) {
   const Edge& edge = graph_.edge(e);
   const bool a_even = label_of(forest_.top(edge.a)) == kEven;
   const Vertex even_end = a_even ? edge.a : edge.b;
   const Vertex free_end = a_even ? edge.b : edge.a;
   const NodeId node = forest_.top(free_end);
   const Vertex base = forest_.base(node);
+  const Vertex tree = tree_of_[forest_.top(even_end)];
   if (mate_[base] == kNoVertex) {
     if (!forest_.is_vertex(node)) forest_.make_base(node, free_end, mate_);
     mate_[free_end] = even_end;
     flip_path_to_root(even_end, free_end);
     ++stats_.augmentations;
-    return true;
+    end_tree(tree);
+    return;
   }
-  label_odd(node, even_end, free_end);
+  label_odd(node, even_end, free_end, tree);
   const Vertex partner = mate_[base];
-  label_even(forest_.top(partner), base, partner);
-  return false;
+  label_even(forest_.top(partner), base, partner, tree);
+}
+
+void AlternatingSearch::join_even_ends(EdgeIndex e) {
+  const Edge& edge = graph_.edge(e);
+  const Vertex tree_a = tree_of_[forest_.top(edge.a)];
+  const Vertex tree_b = tree_of_[forest_.top(edge.b)];
+  if (tree_a == tree_b) {
+    shrink(edge.a, edge.b);
+    return;
+  }
+  flip_path_to_root(edge.a, edge.b);
+  flip_path_to_root(edge.b, edge.a);
+  ++stats_.augmentations;
+  end_tree(tree_a);
+  end_tree(tree_b);
 }
 
 void AlternatingSearch::flip_path_to_root(Vertex v, Vertex partner) {
@@ -274,9 +324,36 @@ void AlternatingSearch::flip_path_to_root(Vertex v, Vertex partner) {
   }
 }
 
+void AlternatingSearch::end_tree(Vertex root) {
+  std::vector<NodeId>& nodes = tree_nodes_[root];
+  // Only the nodes still at top level and still in this tree carry labels; the others were
+  // absorbed into blossoms or dissolved (their successors are in the list too).
+  auto in_tree = [&](NodeId node) {
+    return (forest_.is_vertex(node) || forest_.is_live_blossom(node)) &&
+           forest_.parent(node) == kNoNode && label_of(node) != kFree && tree_of_[node] == root;
+  };
+  std::size_t kept = 0;
+  for (NodeId node : nodes) {
+    if (!in_tree(node)) continue;
+    // Edges from formerly even vertices to other trees already sit in even_edges_ and are
+    // moved to free_edges_ when they surface; odd ones were never queued.
+    if (label_of(node) == kOdd) nodes[kept++] = node;
+    settle_blossom_dual(node);
+    node_label_[node] = kFree;
+    tree_of_[node] = kNoVertex;
+    forest_.for_each_vertex(node, [&](Vertex u) { set_vertex_sign(u, 0); });
+  }
+  // The freed odd vertices may border even vertices of other trees.
+  for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
+  nodes.clear();
+  nodes.shrink_to_fit();
+  --live_trees_;
+}
+
 void AlternatingSearch::shrink(Vertex v, Vertex w) {
   const NodeId top_v = forest_.top(v);
   const NodeId top_w = forest_.top(w);
+  const Vertex tree = tree_of_[top_v];
   auto even_parent = [&](NodeId node) {
     return forest_.top(tree_outer_[forest_.top(tree_outer_[node])]);
   };
@@ -329,7 +406,7 @@ void AlternatingSearch::shrink(Vertex v, Vertex w) {
     if (was == kOdd) forest_.for_each_vertex(node, [&](Vertex u) { make_even(u); });
   }
   const NodeId b = forest_.make_blossom(cycle_nodes_, cycle_edges_);
-  label_node(b, kEven, outer, inner);
+  label_node(b, kEven, outer, inner, tree);
   ++stats_.blossoms_formed;
 }
 
@@ -337,6 +414,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
   ++stats_.blossoms_expanded;
   const Vertex reached_from = tree_outer_[b];
   const Vertex reached_at = tree_inner_[b];
+  const Vertex tree = tree_of_[b];
   cycle_nodes_ = forest_.children(b);
   cycle_edges_ = forest_.cycle_edges(b);
   node_label_[b] = kFree;
@@ -348,14 +426,14 @@ void AlternatingSearch::expand_odd(NodeId b) {
       std::find(cycle_nodes_.begin(), cycle_nodes_.end(), entry) - cycle_nodes_.begin());
   // Relabel the even-length side of the cycle from the entry child to the base child as a
   // piece of the tree (odd, even, ..., odd); the children on the other side leave the tree.
-  label_odd(entry, reached_from, reached_at);
+  label_odd(entry, reached_from, reached_at, tree);
   std::size_t free_first, free_last;  // the children leaving the tree, [first, last)
   if (i % 2 == 1) {
     for (std::size_t j = i; j != k; j += 2) {
       const CycleEdge matched = cycle_edges_[j];
       const CycleEdge next = cycle_edges_[j + 1];
-      label_even(cycle_nodes_[j + 1], matched.from, matched.to);
-      label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to);
+      label_even(cycle_nodes_[j + 1], matched.from, matched.to, tree);
+      label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree);
     }
     free_first = 1;
     free_last = i;
@@ -363,15 +441,15 @@ void AlternatingSearch::expand_odd(NodeId b) {
     for (std::size_t j = i; j != 0; j -= 2) {
       const CycleEdge matched = cycle_edges_[j - 1];
       const CycleEdge next = cycle_edges_[j - 2];
-      label_even(cycle_nodes_[j - 1], matched.to, matched.from);
-      label_odd(cycle_nodes_[j - 2], next.to, next.from);
+      label_even(cycle_nodes_[j - 1], matched.to, matched.from, tree);
+      label_odd(cycle_nodes_[j - 2], next.to, next.from, tree);
     }
     free_first = i + 1;
     free_last = k;
   }
   for (std::size_t j = free_first; j < free_last; ++j) {
     const NodeId child = cycle_nodes_[j];
-    label_node(child, kFree, kNoVertex, kNoVertex);
+    label_node(child, kFree, kNoVertex, kNoVertex, kNoVertex);
     forest_.for_each_vertex(child, [&](Vertex u) { set_vertex_sign(u, 0); });
   }
   for (std::size_t j = free_first; j < free_last; ++j) push_edges_to_even(cycle_nodes_[j]);

@@ -1,12 +1,14 @@
-// One primal-dual search: grows a single alternating tree from a root that breaks the
-// optimality conditions (an exposed vertex with positive dual) and adjusts duals until it
-// augments or until some S-vertex dual reaches zero, where it shifts the matching along the
-// even path so that vertex becomes the exposed one.
+// The primal-dual search: grows alternating trees from every root that breaks the optimality
+// conditions (an exposed vertex with positive dual) at once, with one shared dual step, until
+// every tree has ended: by augmenting (into a free exposed vertex or into another tree) or
+// because one of its S-vertex duals reached zero, where the matching shifts along the even path
+// so that vertex becomes the exposed one. Trees that an augmentation does not touch live on.
 //
-// Locality: labels carry a search stamp (no clearing), vertex and blossom duals change lazily
-// (value at labelling + the running total of dual steps, settled when the search ends), and the
-// four bounds on each dual step sit in min-heaps keyed so that the key never changes while the
-// bound is valid. A search costs O(R log R) for a region of R touched vertices and edges.
+// Locality: labels carry a run stamp (no clearing), vertex and blossom duals change lazily
+// (value at labelling + the running total of dual steps, settled when a tree ends), and the
+// four bounds on each dual step sit in min-heaps keyed so that a key stays exact while its
+// bound is valid; stale entries are recognised when they surface. A run costs
+// O(R log R) for a region of R touched vertices and edges.
 #pragma once
 
 #include <cstdint>
@@ -26,8 +28,11 @@ class AlternatingSearch {
   AlternatingSearch(const AlternatingSearch&) = delete;
   AlternatingSearch& operator=(const AlternatingSearch&) = delete;
 
-  // Precondition: `root` is exposed. Returns true when the matching grew by one pair.
-  bool run(Vertex root);
+  // Starts a tree at `root`. Preconditions: root is exposed, its doubled dual is positive and
+  // has the same parity as every other root of this run (so every dual step is integral).
+  void add_root(Vertex root);
+  // Grows all trees until each has ended. Returns the number of augmentations.
+  std::size_t run();
 
   const SolveStats& stats() const { return stats_; }
 
@@ -44,21 +49,24 @@ class AlternatingSearch {
   }
   void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
   void settle_blossom_dual(NodeId b);
-  void settle_all();
 
   // Tree growth.
-  void label_node(NodeId node, Label label, Vertex outer, Vertex inner);
-  void label_even(NodeId node, Vertex via_odd, Vertex base);
+  void label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree);
+  void label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree);
   void make_even(Vertex v);
-  void label_odd(NodeId node, Vertex via_even, Vertex entry);
+  void label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree);
   void scan(Vertex v);
   void push_edges_to_even(NodeId node);
-  bool grow_along(EdgeIndex e);               // true when it augmented
+  void grow_along(EdgeIndex e);
+  void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
   void shrink(Vertex v, Vertex w);
   void expand_odd(NodeId b);
   void flip_path_to_root(Vertex v, Vertex partner);
+  void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
+  void start_run();
 
   // Bound selection.
+  bool top_even_vertex(Weight& key);
   bool top_free_edge(Weight& key);
   bool top_even_edge(Weight& key);
   bool top_odd_blossom(Weight& key);
@@ -72,7 +80,7 @@ class AlternatingSearch {
   SolveStats stats_;
 
   std::uint32_t stamp_ = 0;
-  Weight delta_ = 0;  // sum of the dual steps taken in this search
+  Weight delta_ = 0;  // sum of the dual steps taken in this run
 
   // Per vertex.
   std::vector<std::uint32_t> vertex_stamp_;
@@ -86,11 +94,13 @@ class AlternatingSearch {
   // the vertex inside it; for an even node, its mate outside (kNoVertex at the root) and its base.
   std::vector<Vertex> tree_outer_;
   std::vector<Vertex> tree_inner_;
+  std::vector<Vertex> tree_of_;            // per node: the root vertex of its tree
+  std::vector<std::vector<NodeId>> tree_nodes_;  // per root vertex: nodes labelled in its tree
+  std::size_t live_trees_ = 0;
+  bool running_ = false;
   std::vector<std::uint32_t> mark_;        // scratch stamps for finding the tree's meeting point
   std::uint32_t mark_stamp_ = 0;
 
-  std::vector<Vertex> touched_vertices_;
-  std::vector<NodeId> touched_nodes_;
   std::vector<Vertex> scan_queue_;
 
   MinHeap even_vertices_;   // key: delta_ at which the vertex's dual reaches 0

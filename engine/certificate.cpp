@@ -8,6 +8,8 @@
 #include "certificate.h"
 
 #include <algorithm>
+#include <string>
+#include <vector>
 
 #include "certificate_forest.h"
 #include "forest_lca.h"
@@ -24,7 +26,8 @@ std::string text(Int128 value) {
   const bool negative = value < 0;
   // Through unsigned so that the most negative value also converts.
   __extension__ typedef unsigned __int128 UInt128;
-  UInt128 magnitude = negative ? UInt128{0} - static_cast<UInt128>(value) : static_cast<UInt128>(value);
+  UInt128 magnitude =
+      negative ? UInt128{0} - static_cast<UInt128>(value) : static_cast<UInt128>(value);
   std::string digits;
   while (magnitude != 0) {
     digits.push_back(static_cast<char>('0' + static_cast<int>(magnitude % 10)));
@@ -92,8 +95,8 @@ class Checker {
   std::string slack_parts(const Slack& s) const {
     const char* weight_label = cert_.weight_offset == 0 ? "2w" : "2(w + offset)";
     return "(2u: " + text(s.u2_a) + " + " + text(s.u2_b) +
-           ", 2z of blossoms holding both ends: " + text(s.z2_common) + ", " + weight_label +
-           ": " + text(s.w2) + ")";
+           ", 2z of blossoms holding both ends: " + text(s.z2_common) + ", " + weight_label + ": " +
+           text(s.w2) + ")";
   }
 
   std::string check_sizes() const {
@@ -135,8 +138,8 @@ class Checker {
       if (m >= n_) return "mate[" + text(v) + "] = " + text(m) + " is not a vertex";
       if (m == v) return "vertex " + text(v) + " is matched to itself";
       if (cert_.mate[m] != v) {
-        const std::string back =
-            exposed(m) ? "vertex " + text(m) + " is exposed" : "mate[" + text(m) + "] = " + text(cert_.mate[m]);
+        const std::string back = exposed(m) ? "vertex " + text(m) + " is exposed"
+                                            : "mate[" + text(m) + "] = " + text(cert_.mate[m]);
         return "mate is not symmetric: mate[" + text(v) + "] = " + text(m) + " but " + back;
       }
     }
@@ -164,8 +167,8 @@ class Checker {
   std::string check_dual_signs() const {
     for (std::size_t k = 0; k < cert_.blossoms.size(); ++k) {
       if (cert_.blossoms[k].dual2 < 0) {
-        return certcheck::node_name(static_cast<NodeId>(n_ + k), n_) + " has negative dual 2z = " +
-               text(cert_.blossoms[k].dual2);
+        return certcheck::node_name(static_cast<NodeId>(n_ + k), n_) +
+               " has negative dual 2z = " + text(cert_.blossoms[k].dual2);
       }
     }
     if (cert_.mode == Mode::perfect) return "";
@@ -203,8 +206,9 @@ class Checker {
     if (cert_.mode == Mode::perfect) return "";  // no exposed vertex reaches here
     for (Vertex v = 0; v < n_; ++v) {
       if (exposed(v) && cert_.vertex_dual2[v] != 0) {
-        return "vertex " + text(v) + " is exposed but has dual 2u = " +
-               text(cert_.vertex_dual2[v]) + " (an exposed vertex needs u = 0)";
+        return "vertex " + text(v) +
+               " is exposed but has dual 2u = " + text(cert_.vertex_dual2[v]) +
+               " (an exposed vertex needs u = 0)";
       }
     }
     return "";

@@ -16,8 +16,8 @@ std::string link_parents(const Certificate& cert, std::size_t n, std::vector<Nod
                std::to_string(n) + ".." + std::to_string(node_count) + "-1)";
       }
       if (parent[child] != kNoNode) {
-        return node_name(child, n) + " has two parents: " + node_name(parent[child], n) +
-               " and " + node_name(self, n);
+        return node_name(child, n) + " has two parents: " + node_name(parent[child], n) + " and " +
+               node_name(self, n);
       }
       parent[child] = self;
     }
@@ -68,12 +68,11 @@ bool lay_out_preorder(const Certificate& cert, ForestLayout& forest, std::vector
 
 std::string node_name(NodeId node, std::size_t vertex_count) {
   if (node < vertex_count) return "vertex " + std::to_string(node);
-  return "blossom " + std::to_string(node - vertex_count) + " (node " + std::to_string(node) +
-         ")";
+  return "blossom " + std::to_string(node - vertex_count) + " (node " + std::to_string(node) + ")";
 }
 
 std::string build_forest_layout(const Certificate& cert, std::size_t vertex_count,
-                                 ForestLayout& forest) {
+                                ForestLayout& forest) {
   const std::size_t n = vertex_count;
   const std::size_t node_count = n + cert.blossoms.size();
   if (node_count >= kNoNode) {
@@ -117,14 +116,13 @@ std::string build_forest_layout(const Certificate& cert, std::size_t vertex_coun
     const auto self = static_cast<NodeId>(n + k);
     const std::uint32_t size = forest.subtree_vertices[self];
     if (size < 3 || size % 2 == 0) {
-      return node_name(self, n) + " holds " + std::to_string(size) +
-             " vertices; a blossom must hold an odd number of vertices, at least 3";
+      return node_name(self, n) + " has size " + std::to_string(size) +
+             "; a blossom must hold an odd number of vertices, at least 3";
     }
     const Vertex base = cert.blossoms[k].base;
     if (base == kNoVertex) continue;
     if (base >= n) {
-      return node_name(self, n) + " names base " + std::to_string(base) +
-             ", which is not a vertex";
+      return node_name(self, n) + " names base " + std::to_string(base) + ", which is not a vertex";
     }
     if (!forest.contains(self, base)) {
       return node_name(self, n) + " names base vertex " + std::to_string(base) +

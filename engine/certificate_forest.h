@@ -44,6 +44,6 @@ std::string node_name(NodeId node, std::size_t vertex_count);
 // base inside its blossom. Returns the first violation in words, or "" after filling `forest`.
 // Blossom duals are summed but not judged here.
 std::string build_forest_layout(const Certificate& cert, std::size_t vertex_count,
-                                 ForestLayout& forest);
+                                ForestLayout& forest);
 
 }  // namespace yoke::certcheck

@@ -4,22 +4,28 @@ namespace yoke::certcheck {
 
 namespace {
 
-// Edge ids grouped by endpoint (compressed rows), so each vertex sees its queries when the
-// walk reaches it.
-struct EdgesByVertex {
-  std::vector<std::uint32_t> begin;  // vertex v's ids are ids[begin[v] .. begin[v + 1])
-  std::vector<EdgeIndex> ids;
+// Each edge is asked once, at whichever end the preorder walk reaches second; there the other
+// end has been walked already. Grouped by that end in compressed rows, with the earlier end
+// stored beside the edge id so that the walk reads the rows sequentially.
+struct QueriesByVertex {
+  struct Query {
+    Vertex earlier;
+    EdgeIndex edge;
+  };
+  std::vector<std::uint32_t> begin;  // vertex v's queries are rows[begin[v] .. begin[v + 1])
+  std::vector<Query> rows;
 
-  EdgesByVertex(std::size_t n, std::span<const Edge> edges) : begin(n + 1, 0), ids(2 * edges.size()) {
-    for (const Edge& e : edges) {
-      ++begin[e.a + 1];
-      ++begin[e.b + 1];
-    }
-    for (std::size_t v = 0; v < n; ++v) begin[v + 1] += begin[v];
+  QueriesByVertex(const ForestLayout& forest, std::span<const Edge> edges)
+      : begin(forest.vertex_count + 1, 0), rows(edges.size()) {
+    auto later = [&](const Edge& e) {
+      return forest.position[e.a] > forest.position[e.b] ? e.a : e.b;
+    };
+    for (const Edge& e : edges) ++begin[later(e) + 1];
+    for (std::size_t v = 0; v < forest.vertex_count; ++v) begin[v + 1] += begin[v];
     std::vector<std::uint32_t> next(begin.begin(), begin.end() - 1);
     for (std::size_t i = 0; i < edges.size(); ++i) {
-      ids[next[edges[i].a]++] = static_cast<EdgeIndex>(i);
-      ids[next[edges[i].b]++] = static_cast<EdgeIndex>(i);
+      const Vertex second = later(edges[i]);
+      rows[next[second]++] = {edges[i].other(second), static_cast<EdgeIndex>(i)};
     }
   }
 };
@@ -42,7 +48,7 @@ std::vector<NodeId> edge_lcas(const ForestLayout& forest, std::span<const Edge> 
   // to it means "different trees".
   const auto super_root = static_cast<NodeId>(node_count);
 
-  const EdgesByVertex by_vertex(n, edges);
+  const QueriesByVertex queries(forest, edges);
   std::vector<NodeId> answer(edges.size(), kNoNode);
 
   // Tarjan's invariant: an open node (on the stack) is its own representative; a finished node
@@ -61,13 +67,9 @@ std::vector<NodeId> edge_lcas(const ForestLayout& forest, std::span<const Edge> 
     }
     open.push_back(node);
     if (node >= n) continue;
-    for (std::uint32_t q = by_vertex.begin[node]; q < by_vertex.begin[node + 1]; ++q) {
-      const EdgeIndex e = by_vertex.ids[q];
-      const Vertex other = edges[e].other(node);
-      if (forest.position[other] < forest.position[node]) {
-        const NodeId lca = find(link, other);
-        answer[e] = lca == super_root ? kNoNode : lca;
-      }
+    for (std::uint32_t q = queries.begin[node]; q < queries.begin[node + 1]; ++q) {
+      const NodeId lca = find(link, queries.rows[q].earlier);
+      answer[queries.rows[q].edge] = lca == super_root ? kNoNode : lca;
     }
   }
   return answer;

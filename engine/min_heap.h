@@ -23,6 +23,7 @@ class MinHeap {
   const Entry& top() const { return entries_.front(); }
 
   void push(Weight key, std::uint32_t id) {
+    ++pushes_;
     entries_.push_back({key, id});
     std::push_heap(entries_.begin(), entries_.end(), later);
   }
@@ -31,6 +32,7 @@ class MinHeap {
     entries_.pop_back();
   }
   void clear() { entries_.clear(); }
+  std::uint64_t pushes() const { return pushes_; }
   std::size_t memory_bytes() const { return entries_.capacity() * sizeof(Entry); }
 
  private:
@@ -38,6 +40,7 @@ class MinHeap {
     return x.key != y.key ? x.key > y.key : x.id > y.id;
   }
   std::vector<Entry> entries_;
+  std::uint64_t pushes_ = 0;
 };
 
 }  // namespace yoke

@@ -88,8 +88,13 @@ SolveResult solve(const Graph& graph, Mode mode) {
 
   AlternatingSearch search(graph, offset, state);
   for (Vertex v = 0; v < n; ++v) {
-    if (state.mate[v] == kNoVertex && state.dual2[v] > 0) search.run(v);
+    if (state.mate[v] != kNoVertex || state.dual2[v] == 0) continue;
+    // All roots share one parity, so the half-slack of an edge between two trees is integral.
+    // Raising an exposed vertex's dual keeps every slack >= 0.
+    state.dual2[v] += state.dual2[v] % 2;
+    search.add_root(v);
   }
+  search.run();
 
   SolveResult result;
   result.stats = search.stats();
@@ -105,8 +110,11 @@ SolveResult solve(const Graph& graph, Mode mode) {
       }
     }
   }
-  if (mode == Mode::perfect) {
-    if (2 * result.pairs != n) result.status = SolveStatus::no_perfect_matching;
+  if (mode == Mode::perfect && 2 * result.pairs != n) {
+    // No perfect matching: the certificate proves the matching has the most pairs possible.
+    result.status = SolveStatus::no_perfect_matching;
+    result.certificate = make_certificate(state, Mode::max_cardinality, offset);
+  } else if (mode == Mode::perfect) {
     // Perfect-matching duals for the original weights: shift each u by offset/2 (doubled: offset).
     for (Weight& d : state.dual2) d -= offset;
     result.certificate = make_certificate(state, mode, 0);

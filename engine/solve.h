@@ -21,6 +21,8 @@ struct SolveStats {
   std::uint64_t blossoms_formed = 0;
   std::uint64_t blossoms_expanded = 0;
   std::uint64_t dual_steps = 0;
+  std::uint64_t scans = 0;           // even vertices whose edges were scanned
+  std::uint64_t heap_pushes = 0;     // bound candidates queued
 };
 
 enum class SolveStatus {
