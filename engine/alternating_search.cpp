@@ -66,14 +66,14 @@ void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Ver
 
 void AlternatingSearch::make_even(Vertex v) {
   set_vertex_sign(v, -1);
-  even_vertices_.push(delta_ + dual2_[v], v);
+  bounds_.push(delta_ + dual2_[v], v, kEvenVertexDual);
   scan_queue_.push_back(v);
 }
 
 void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree) {
   label_node(node, kOdd, via_even, entry, tree);
   forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
-  if (!forest_.is_vertex(node)) odd_blossoms_.push(delta_ + forest_.dual2(node) / 2, node);
+  if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
 }
 
 void AlternatingSearch::scan(Vertex v) {
@@ -89,9 +89,9 @@ void AlternatingSearch::scan(Vertex v) {
     if (label == kOdd) continue;  // slack is constant while one end is even and the other odd
     const Weight slack = dual_v + vertex_dual(inc.other) - 2 * w;
     if (label == kEven) {
-      even_edges_.push(delta_ + slack / 2, inc.edge);
+      bounds_.push(delta_ + slack / 2, inc.edge, kEvenEdge);
     } else {
-      free_edges_.push(delta_ + slack, inc.edge);
+      bounds_.push(delta_ + slack, inc.edge, kFreeEdge);
     }
   }
 }
@@ -102,98 +102,44 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
     for (const Incidence& inc : graph_.incident(u)) {
       const Weight w = weight(inc.edge);
       if (w <= 0 || label_of(forest_.top(inc.other)) != kEven) continue;
-      free_edges_.push(delta_ + dual_u + vertex_dual(inc.other) - 2 * w, inc.edge);
+      bounds_.push(delta_ + dual_u + vertex_dual(inc.other) - 2 * w, inc.edge, kFreeEdge);
     }
   });
 }
 
-bool AlternatingSearch::top_even_vertex(Weight& key) {
-  while (!even_vertices_.empty()) {
-    const MinHeap::Entry entry = even_vertices_.top();
-    const Vertex v = entry.id;
-    // Stale when v's tree ended since (v may even have joined another tree later).
-    if (vertex_stamp_[v] != stamp_ || vertex_sign_[v] != -1 ||
-        entry.key != vertex_since_[v] + dual2_[v]) {
-      even_vertices_.pop();
-      continue;
+bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
+  switch (entry.kind) {
+    case kEvenVertexDual: {
+      // Stale when the vertex's tree ended since (it may even have joined another tree).
+      const Vertex v = entry.id;
+      return vertex_stamp_[v] == stamp_ && vertex_sign_[v] == -1 &&
+             entry.key == vertex_since_[v] + dual2_[v];
     }
-    key = entry.key;
-    return true;
+    case kOddBlossomDual: {
+      const NodeId b = entry.id;
+      return forest_.is_live_blossom(b) && forest_.parent(b) == kNoNode && label_of(b) == kOdd &&
+             entry.key == node_since_[b] + forest_.dual2(b) / 2;
+    }
+    default:
+      break;
   }
-  return false;
-}
-
-bool AlternatingSearch::top_free_edge(Weight& key) {
-  while (!free_edges_.empty()) {
-    const MinHeap::Entry entry = free_edges_.top();
-    const Edge& e = graph_.edge(entry.id);
-    const NodeId top_a = forest_.top(e.a);
-    const NodeId top_b = forest_.top(e.b);
-    const Label label_a = label_of(top_a);
-    const Label label_b = label_of(top_b);
-    const bool even_free = (label_a == kEven && label_b == kFree) || (label_a == kFree && label_b == kEven);
-    if (top_a == top_b || !even_free) {
-      free_edges_.pop();
-      continue;
-    }
-    // Either end may have spent time in another state since the push (inside an odd blossom
-    // since expanded, in a tree since ended), so recompute and requeue when out of date.
-    const Weight due = delta_ + vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
-    if (due != entry.key) {
-      free_edges_.pop();
-      free_edges_.push(due, entry.id);
-      continue;
-    }
-    key = entry.key;
-    return true;
+  const Edge& e = graph_.edge(entry.id);
+  const NodeId top_a = forest_.top(e.a);
+  const NodeId top_b = forest_.top(e.b);
+  const Label label_a = label_of(top_a);
+  const Label label_b = label_of(top_b);
+  if (top_a == top_b || label_a == kOdd || label_b == kOdd || (label_a == kFree && label_b == kFree)) {
+    return false;
   }
-  return false;
-}
-
-bool AlternatingSearch::top_even_edge(Weight& key) {
-  while (!even_edges_.empty()) {
-    const MinHeap::Entry entry = even_edges_.top();
-    const Edge& e = graph_.edge(entry.id);
-    const NodeId top_a = forest_.top(e.a);
-    const NodeId top_b = forest_.top(e.b);
-    const Label label_a = label_of(top_a);
-    const Label label_b = label_of(top_b);
-    if (top_a == top_b || label_a == kOdd || label_b == kOdd || (label_a == kFree && label_b == kFree)) {
-      even_edges_.pop();
-      continue;
-    }
-    const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
-    if (label_a == kFree || label_b == kFree) {
-      // One end's tree ended: the edge now bounds the step as an even-to-free edge, whose key
-      // is never below this one.
-      even_edges_.pop();
-      free_edges_.push(delta_ + slack, entry.id);
-      continue;
-    }
-    const Weight due = delta_ + slack / 2;
-    if (due != entry.key) {
-      even_edges_.pop();
-      even_edges_.push(due, entry.id);
-      continue;
-    }
-    key = entry.key;
-    return true;
-  }
-  return false;
-}
-
-bool AlternatingSearch::top_odd_blossom(Weight& key) {
-  while (!odd_blossoms_.empty()) {
-    const MinHeap::Entry entry = odd_blossoms_.top();
-    const NodeId b = entry.id;
-    if (!forest_.is_live_blossom(b) || forest_.parent(b) != kNoNode || label_of(b) != kOdd ||
-        entry.key != node_since_[b] + forest_.dual2(b) / 2) {
-      odd_blossoms_.pop();
-      continue;
-    }
-    key = entry.key;
-    return true;
-  }
+  // Either end may have spent time in another state since the push (free after its tree ended,
+  // odd inside a blossom since expanded): recompute, and requeue under the exact key when the
+  // entry came early or under the other kind.
+  const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
+  const bool both_even = label_a == kEven && label_b == kEven;
+  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  const auto kind = both_even ? kEvenEdge : kFreeEdge;
+  if (due == entry.key && kind == entry.kind) return true;
+  bounds_.push(due, entry.id, kind);
   return false;
 }
 
@@ -204,10 +150,7 @@ void AlternatingSearch::start_run() {
     stamp_ = 1;
   }
   delta_ = 0;
-  even_vertices_.clear();
-  free_edges_.clear();
-  even_edges_.clear();
-  odd_blossoms_.clear();
+  bounds_.reset(0);
   scan_queue_.clear();
   running_ = true;
 }
@@ -228,46 +171,36 @@ std::size_t AlternatingSearch::run() {
       scan_queue_.pop_back();
       scan(v);
     }
-    Weight vertex_key = 0, free_key = 0, even_key = 0, odd_key = 0;
-    // Every live tree has an even root, so this heap always has a valid entry.
-    top_even_vertex(vertex_key);
-    const bool has_even = top_even_edge(even_key);  // first: it may move entries to free_edges_
-    const bool has_free = top_free_edge(free_key);
-    const bool has_odd = top_odd_blossom(odd_key);
-    Weight next = vertex_key;
-    if (has_free) next = std::min(next, free_key);
-    if (has_even) next = std::min(next, even_key);
-    if (has_odd) next = std::min(next, odd_key);
-    if (next != delta_) ++stats_.dual_steps;
-    delta_ = next;
+    // Every live tree has an even root, so a valid bound always exists.
+    const RadixHeap::Entry entry = bounds_.top();
+    bounds_.pop();
+    if (!still_due(entry)) continue;
+    if (entry.key != delta_) ++stats_.dual_steps;
+    delta_ = entry.key;
 
     const std::uint64_t before = stats_.augmentations;
-    if (has_free && free_key == next) {
-      const EdgeIndex e = free_edges_.top().id;
-      free_edges_.pop();
-      grow_along(e);
-    } else if (has_even && even_key == next) {
-      const EdgeIndex e = even_edges_.top().id;
-      even_edges_.pop();
-      join_even_ends(e);
-    } else if (has_odd && odd_key == next) {
-      const NodeId b = odd_blossoms_.top().id;
-      odd_blossoms_.pop();
-      expand_odd(b);
-    } else {
-      // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
-      // the even path from its root to it, and its tree is done.
-      const Vertex v = even_vertices_.top().id;
-      even_vertices_.pop();
-      const Vertex root = tree_of_[forest_.top(v)];
-      flip_path_to_root(v, kNoVertex);
-      end_tree(root);
+    switch (entry.kind) {
+      case kFreeEdge:
+        grow_along(entry.id);
+        break;
+      case kEvenEdge:
+        join_even_ends(entry.id);
+        break;
+      case kOddBlossomDual:
+        expand_odd(entry.id);
+        break;
+      default: {
+        // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
+        // the even path from its root to it, and its tree is done.
+        const Vertex root = tree_of_[forest_.top(entry.id)];
+        flip_path_to_root(entry.id, kNoVertex);
+        end_tree(root);
+      }
     }
     augmentations += stats_.augmentations - before;
   }
   running_ = false;
-  stats_.heap_pushes = even_vertices_.pushes() + free_edges_.pushes() + even_edges_.pushes() +
-                       odd_blossoms_.pushes();
+  stats_.heap_pushes = bounds_.pushes();
   return augmentations;
 }
 

@@ -16,7 +16,7 @@
 
 #include "graph.h"
 #include "matching_state.h"
-#include "min_heap.h"
+#include "radix_heap.h"
 #include "solve.h"
 
 namespace yoke {
@@ -65,11 +65,16 @@ class AlternatingSearch {
   void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
   void start_run();
 
-  // Bound selection.
-  bool top_even_vertex(Weight& key);
-  bool top_free_edge(Weight& key);
-  bool top_even_edge(Weight& key);
-  bool top_odd_blossom(Weight& key);
+  // The four bounds on a dual step. An entry's key is never later than the moment its bound is
+  // reached; entries that went stale are dropped or requeued with their exact key when they
+  // surface (still_due).
+  enum BoundKind : std::uint32_t {
+    kEvenVertexDual,  // an even vertex's dual reaches 0
+    kFreeEdge,        // an even-to-free edge becomes tight
+    kEvenEdge,        // an even-to-even edge becomes tight
+    kOddBlossomDual,  // an odd blossom's dual reaches 0
+  };
+  bool still_due(const RadixHeap::Entry& entry);
 
   const Graph& graph_;
   const Weight weight_offset_;
@@ -103,10 +108,7 @@ class AlternatingSearch {
 
   std::vector<Vertex> scan_queue_;
 
-  MinHeap even_vertices_;   // key: delta_ at which the vertex's dual reaches 0
-  MinHeap free_edges_;      // even-to-free edges; key: delta_ at which slack reaches 0
-  MinHeap even_edges_;      // even-to-even edges; key: delta_ at which slack reaches 0
-  MinHeap odd_blossoms_;    // key: delta_ at which the blossom's dual reaches 0
+  RadixHeap bounds_;  // key: the value of delta_ at which the bound is reached
 
   std::vector<NodeId> cycle_nodes_;      // scratch for shrink
   std::vector<CycleEdge> cycle_edges_;   // scratch for shrink

@@ -1,0 +1,78 @@
+// A monotone priority queue of bound events (Ahuja-Mehlhorn-Orlin-Tarjan radix heap): every
+// key pushed is >= the last minimum taken, which holds for the dual-step bounds because the
+// running dual total only grows. Push is O(1); finding the minimum is amortised O(log K) for a
+// key range K, with sequential memory access instead of a binary heap's scattered swaps. Equal
+// keys come out in a fixed order, so runs are deterministic.
+#pragma once
+
+#include <array>
+#include <bit>
+#include <cstdint>
+#include <vector>
+
+#include "types.h"
+
+namespace yoke {
+
+class RadixHeap {
+ public:
+  struct Entry {
+    Weight key;
+    std::uint32_t id;
+    std::uint32_t kind;
+  };
+
+  // Forgets every entry; the next keys must be >= floor.
+  void reset(Weight floor) {
+    for (auto& bucket : buckets_) bucket.clear();
+    last_ = floor;
+    size_ = 0;
+  }
+
+  bool empty() const { return size_ == 0; }
+  std::uint64_t pushes() const { return pushes_; }
+
+  // Precondition: key >= the key of the last top().
+  void push(Weight key, std::uint32_t id, std::uint32_t kind) {
+    buckets_[bucket_of(key)].push_back({key, id, kind});
+    ++size_;
+    ++pushes_;
+  }
+
+  // Precondition: !empty(). The entry with the smallest key.
+  const Entry& top() {
+    if (buckets_[0].empty()) refill();
+    return buckets_[0].back();
+  }
+
+  void pop() {
+    buckets_[0].pop_back();
+    --size_;
+  }
+
+ private:
+  std::size_t bucket_of(Weight key) const {
+    const auto bits = static_cast<std::uint64_t>(key) ^ static_cast<std::uint64_t>(last_);
+    return bits == 0 ? 0 : 64 - static_cast<std::size_t>(std::countl_zero(bits));
+  }
+
+  // Moves the lowest non-empty bucket down around its minimum, which becomes the new floor.
+  void refill() {
+    std::size_t i = 1;
+    while (buckets_[i].empty()) ++i;
+    Weight least = buckets_[i].front().key;
+    for (const Entry& e : buckets_[i]) least = e.key < least ? e.key : least;
+    last_ = least;
+    std::vector<Entry>& spill = buckets_[i];
+    // Walk in reverse so entries with equal keys keep their relative order in bucket 0's stack.
+    for (std::size_t k = spill.size(); k-- > 0;) buckets_[bucket_of(spill[k].key)].push_back(spill[k]);
+    spill.clear();
+  }
+
+  std::array<std::vector<Entry>, 65> buckets_;
+  Weight last_ = 0;
+  std::size_t size_ = 0;
+  std::uint64_t pushes_ = 0;
+};
+
+}  // namespace yoke
