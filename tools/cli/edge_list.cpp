@@ -1,0 +1,216 @@
+#include "edge_list.h"
+
+#include <algorithm>
+#include <array>
+#include <charconv>
+#include <optional>
+#include <type_traits>
+
+#include "cli_error.h"
+#include "duplicate_edges.h"
+#include "file_io.h"
+#include "id_map.h"
+
+namespace yoke::cli {
+namespace {
+
+bool is_blank(char c) { return c == ' ' || c == '\t' || c == '\r' || c == '\v' || c == '\f'; }
+
+struct DataLine {
+  std::string_view text;  // without its newline, leading blanks removed
+  std::size_t number;     // 1-based
+};
+
+// Walks the lines of an edge list that carry data, skipping blank lines and comments.
+class DataLines {
+ public:
+  explicit DataLines(std::string_view text) : rest_(text) {}
+
+  bool next(DataLine& line) {
+    while (!rest_.empty()) {
+      const std::size_t newline = rest_.find('\n');
+      std::string_view text = rest_.substr(0, newline);
+      rest_.remove_prefix(newline == std::string_view::npos ? rest_.size() : newline + 1);
+      ++number_;
+      while (!text.empty() && is_blank(text.front())) text.remove_prefix(1);
+      if (text.empty() || text.front() == '#') continue;
+      line = {text, number_};
+      return true;
+    }
+    return false;
+  }
+
+ private:
+  std::string_view rest_;
+  std::size_t number_ = 0;
+};
+
+// A token as an error message shows it: quoted, cut short, control bytes escaped, so that a
+// binary file or a 10 MB line cannot flood the terminal.
+std::string shown(std::string_view token) {
+  constexpr std::size_t kMaxShown = 40;
+  std::string out = "'";
+  for (std::size_t i = 0; i < token.size() && i < kMaxShown; ++i) {
+    const auto c = static_cast<unsigned char>(token[i]);
+    if (c >= 0x20 && c < 0x7f) {
+      out += static_cast<char>(c);
+    } else {
+      constexpr char kHex[] = "0123456789abcdef";
+      out += "\\x";
+      out += kHex[c >> 4];
+      out += kHex[c & 0xf];
+    }
+  }
+  if (token.size() > kMaxShown) out += "...";
+  return out + "'";
+}
+
+struct Fields {
+  std::array<std::string_view, 3> values;
+  std::size_t count = 0;  // all fields on the line, also beyond the three kept
+};
+
+Fields split_fields(std::string_view line) {
+  Fields fields;
+  std::size_t i = 0;
+  while (i < line.size()) {
+    while (i < line.size() && is_blank(line[i])) ++i;
+    if (i == line.size()) break;
+    const std::size_t start = i;
+    while (i < line.size() && !is_blank(line[i])) ++i;
+    if (fields.count < fields.values.size()) {
+      fields.values[fields.count] = line.substr(start, i - start);
+    }
+    ++fields.count;
+  }
+  return fields;
+}
+
+// Parses the whole token as an integer of type T, or explains why not.
+template <typename T>
+std::optional<std::string> parse_integer(std::string_view token, T& value, const char* what,
+                                         const char* range) {
+  const auto [end, error] = std::from_chars(token.data(), token.data() + token.size(), value);
+  if (error == std::errc::result_out_of_range) {
+    return std::string(what) + " " + shown(token) + " is out of range (" + range + ")";
+  }
+  if (error != std::errc() || end != token.data() + token.size()) {
+    return std::string(what) + " " + shown(token) + " is not " +
+           (std::is_signed_v<T> ? "an integer" : "a non-negative integer");
+  }
+  return std::nullopt;
+}
+
+std::uint64_t parse_vertex_id(std::string_view token, std::size_t line) {
+  std::uint64_t id = 0;
+  if (auto problem = parse_integer(token, id, "vertex id", "0 .. 18446744073709551615")) {
+    throw EdgeListError(line, *problem);
+  }
+  return id;
+}
+
+Weight parse_weight(std::string_view token, std::size_t line) {
+  Weight weight = 0;
+  if (auto problem = parse_integer(token, weight, "weight",
+                                   "-9223372036854775808 .. 9223372036854775807")) {
+    throw EdgeListError(line, *problem);
+  }
+  return weight;
+}
+
+Vertex intern_vertex(IdMap& ids, std::uint64_t id, std::size_t line) {
+  const Vertex v = ids.intern(id);
+  if (v == kNoVertex) {
+    throw EdgeListError(line, "too many distinct vertex ids (at most 4294967294)");
+  }
+  return v;
+}
+
+Edge parse_edge(const DataLine& line, IdMap& ids) {
+  const Fields fields = split_fields(line.text);
+  if (fields.count != 3) {
+    throw EdgeListError(line.number, "expected 3 fields 'U V W', found " +
+                                         std::to_string(fields.count));
+  }
+  const std::uint64_t u = parse_vertex_id(fields.values[0], line.number);
+  const std::uint64_t v = parse_vertex_id(fields.values[1], line.number);
+  const Weight w = parse_weight(fields.values[2], line.number);
+  if (u == v) throw EdgeListError(line.number, "self loop on vertex " + std::to_string(u));
+  const Vertex a = intern_vertex(ids, u, line.number);
+  const Vertex b = intern_vertex(ids, v, line.number);
+  return {a, b, w};
+}
+
+// The line numbers of the data lines with the given indices (first < second): a second pass,
+// paid only when reporting a duplicate, instead of a line number kept for every edge.
+std::pair<std::size_t, std::size_t> lines_of_edges(std::string_view text, std::size_t first,
+                                                   std::size_t second) {
+  DataLines lines(text);
+  DataLine line{};
+  std::size_t first_line = 0;
+  for (std::size_t index = 0; lines.next(line); ++index) {
+    if (index == first) first_line = line.number;
+    if (index == second) return {first_line, line.number};
+  }
+  return {first_line, 0};  // unreachable: every edge came from a data line
+}
+
+}  // namespace
+
+EdgeListError::EdgeListError(std::size_t line, const std::string& problem)
+    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
+      line_(line),
+      problem_(problem) {}
+
+EdgeList parse_edge_list(std::string_view text) {
+  const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
+  // Ids up to twice the line count (ids 0..n-1 in practice) take the direct-indexed path.
+  IdMap ids(std::max<std::uint64_t>(IdMap::kDefaultDirectLimit, 2 * std::uint64_t{line_count}));
+  std::vector<Edge> edges;
+  edges.reserve(line_count);
+
+  // Stop at the first bad line, but report a duplicate that comes before it first, so that the
+  // error is always the earliest one in the file.
+  std::optional<EdgeListError> bad_line;
+  DataLines lines(text);
+  DataLine line{};
+  while (lines.next(line)) {
+    if (edges.size() + 1 >= kNoEdge) {
+      bad_line.emplace(line.number, "too many edges (at most 4294967294)");
+      break;
+    }
+    try {
+      edges.push_back(parse_edge(line, ids));
+    } catch (const EdgeListError& error) {
+      bad_line = error;
+      break;
+    }
+  }
+
+  if (const auto duplicate = find_first_duplicate(ids.size(), edges)) {
+    const auto [first_line, repeat_line] =
+        lines_of_edges(text, duplicate->first, duplicate->repeat);
+    const Edge& repeat = edges[duplicate->repeat];
+    throw EdgeListError(repeat_line, "duplicate edge between " +
+                                         std::to_string(ids.ids()[repeat.a]) + " and " +
+                                         std::to_string(ids.ids()[repeat.b]) +
+                                         " (first given on line " + std::to_string(first_line) +
+                                         ")");
+  }
+  if (bad_line) throw *bad_line;
+
+  edges.shrink_to_fit();
+  return {ids.release_ids(), std::move(edges)};
+}
+
+EdgeList load_edge_list(const std::string& path) {
+  const std::string text = read_whole_input(path);
+  try {
+    return parse_edge_list(text);
+  } catch (const EdgeListError& error) {
+    throw CliError(display_name(path) + ":" + std::to_string(error.line()) + ": " +
+                   error.problem());
+  }
+}
+
+}  // namespace yoke::cli

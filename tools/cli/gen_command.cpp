@@ -1,0 +1,203 @@
+#include "gen_command.h"
+
+#include <algorithm>
+#include <iostream>
+#include <vector>
+
+#include "cli_error.h"
+#include "file_io.h"
+#include "tools/graphgen/generators.h"
+
+namespace yoke::cli {
+namespace {
+
+// A generated graph and the canonical command that reproduces it (written as a comment).
+struct Generated {
+  gen::GeneratedGraph graph;
+  std::string recipe;
+  std::string note;  // an extra comment line about the vertex numbering, or empty
+};
+
+std::string str(std::uint64_t value) { return std::to_string(value); }
+std::string str(std::int64_t value) { return std::to_string(value); }
+std::string str(int value) { return std::to_string(value); }
+
+void require_vertex_count(std::uint64_t count) {
+  if (count >= kNoVertex) {
+    throw CliError("gen: at most " + str(std::uint64_t{kNoVertex} - 1) + " vertices");
+  }
+}
+
+void require_weight_range(Weight min_weight, Weight max_weight) {
+  if (min_weight > max_weight) {
+    throw CliError("gen: --min-weight " + str(min_weight) + " is above --max-weight " +
+                   str(max_weight));
+  }
+}
+
+// n (n - 1) / 2 without overflow for any n below 2^32.
+std::uint64_t pair_count(std::uint64_t n) { return n < 2 ? 0 : n * (n - 1) / 2; }
+
+Generated generate_city(const GenOptions& o) {
+  require_vertex_count(o.city.vertices);
+  return {gen::city(o.city.vertices, o.city.neighbours, o.seed),
+          "city --vertices " + str(o.city.vertices) + " --neighbours " + str(o.city.neighbours),
+          ""};
+}
+
+Generated generate_random(const GenOptions& o) {
+  const auto& r = o.random;
+  require_vertex_count(r.vertices);
+  require_weight_range(r.min_weight, r.max_weight);
+  if (r.edges > pair_count(r.vertices)) {
+    throw CliError("gen: " + str(r.vertices) + " vertices hold at most " +
+                   str(pair_count(r.vertices)) + " edges, asked for " + str(r.edges));
+  }
+  return {gen::sparse_random(r.vertices, r.edges, r.min_weight, r.max_weight, o.seed),
+          "random --vertices " + str(r.vertices) + " --edges " + str(r.edges) +
+              " --min-weight " + str(r.min_weight) + " --max-weight " + str(r.max_weight),
+          ""};
+}
+
+Generated generate_dispatch(const GenOptions& o) {
+  const auto& d = o.dispatch;
+  require_vertex_count(d.couriers);
+  require_vertex_count(d.orders);
+  require_vertex_count(d.couriers + d.orders);
+  return {gen::dispatch_bipartite(d.couriers, d.orders, d.per_order, o.seed),
+          "dispatch --couriers " + str(d.couriers) + " --orders " + str(d.orders) +
+              " --per-order " + str(d.per_order),
+          "vertices below " + str(d.couriers) + " are couriers, the others orders"};
+}
+
+Generated generate_complete(const GenOptions& o) {
+  const auto& c = o.complete;
+  require_vertex_count(c.vertices);
+  require_weight_range(c.min_weight, c.max_weight);
+  if (pair_count(c.vertices) >= kNoEdge) {
+    throw CliError("gen: a complete graph on " + str(c.vertices) +
+                   " vertices has too many edges");
+  }
+  return {gen::complete(c.vertices, c.min_weight, c.max_weight, o.seed),
+          "complete --vertices " + str(c.vertices) + " --min-weight " + str(c.min_weight) +
+              " --max-weight " + str(c.max_weight),
+          ""};
+}
+
+Generated generate_stress(const GenOptions& o) {
+  require_vertex_count(o.stress.vertices);
+  return {gen::blossom_stress(o.stress.vertices, o.seed),
+          "stress --vertices " + str(o.stress.vertices), ""};
+}
+
+Generated generate(const GenOptions& o) {
+  if (o.family == "city") return generate_city(o);
+  if (o.family == "random") return generate_random(o);
+  if (o.family == "dispatch") return generate_dispatch(o);
+  if (o.family == "complete") return generate_complete(o);
+  if (o.family == "stress") return generate_stress(o);
+  throw CliError("gen: unknown family '" + o.family + "'");
+}
+
+// Vertices without edges cannot appear in an edge list; the header says how many there are.
+std::size_t isolated_vertices(const gen::GeneratedGraph& graph) {
+  std::vector<bool> touched(graph.vertex_count, false);
+  for (const Edge& e : graph.edges) touched[e.a] = touched[e.b] = true;
+  return static_cast<std::size_t>(std::count(touched.begin(), touched.end(), false));
+}
+
+void write_generated(std::ostream& out, const Generated& generated, std::uint64_t seed) {
+  const std::size_t isolated = isolated_vertices(generated.graph);
+  out << "# yoke gen " << generated.recipe << " --seed " << seed << "\n"
+      << "# " << generated.graph.vertex_count << " vertices";
+  if (isolated > 0) out << " (" << isolated << " without edges, so absent below)";
+  out << ", " << generated.graph.edges.size() << " edges\n";
+  if (!generated.note.empty()) out << "# " << generated.note << "\n";
+  gen::write_edge_list(out, generated.graph);
+}
+
+// CLI11 would wrap "-6" around to a huge unsigned value.
+const CLI::Validator kNotNegative(
+    [](std::string& text) {
+      return text.starts_with('-') ? std::string("must not be negative") : std::string();
+    },
+    "");
+
+CLI::App* add_family(CLI::App& gen_command, GenOptions& options, const std::string& name,
+                     const std::string& description) {
+  CLI::App* family = gen_command.add_subcommand(name, description);
+  family->add_option("--seed", options.seed, "Random seed; the same seed gives the same graph")
+      ->check(kNotNegative)
+      ->capture_default_str();
+  family->add_option("-o,--output", options.output_path, "Output file, or - for stdout")
+      ->capture_default_str();
+  family->callback([&options, name] { options.family = name; });
+  return family;
+}
+
+void add_count(CLI::App* family, const std::string& flag, std::size_t& count,
+               const std::string& description) {
+  family->add_option(flag, count, description)->check(kNotNegative)->capture_default_str();
+}
+
+void add_positive(CLI::App* family, const std::string& flag, int& value,
+                  const std::string& description) {
+  family->add_option(flag, value, description)->check(CLI::PositiveNumber)->capture_default_str();
+}
+
+void add_weight_range(CLI::App* family, Weight& min_weight, Weight& max_weight) {
+  family->add_option("--min-weight", min_weight, "Smallest edge weight")->capture_default_str();
+  family->add_option("--max-weight", max_weight, "Largest edge weight")->capture_default_str();
+}
+
+}  // namespace
+
+CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
+  CLI::App* command =
+      app.add_subcommand("gen", "Write a seeded graph of a test family as an edge list");
+  command->require_subcommand(1);
+
+  CLI::App* city = add_family(*command, options, "city",
+                              "Larkspur Bay street points linked to their nearest neighbours");
+  add_count(city, "--vertices", options.city.vertices, "Number of points");
+  add_positive(city, "--neighbours", options.city.neighbours, "Links per point (about)");
+
+  CLI::App* random =
+      add_family(*command, options, "random", "Distinct random pairs, uniform weights");
+  add_count(random, "--vertices", options.random.vertices, "Number of vertices");
+  add_count(random, "--edges", options.random.edges, "Number of edges");
+  add_weight_range(random, options.random.min_weight, options.random.max_weight);
+
+  CLI::App* dispatch = add_family(*command, options, "dispatch",
+                                  "Couriers and orders of Larkspur Bay (bipartite)");
+  add_count(dispatch, "--couriers", options.dispatch.couriers, "Number of couriers");
+  add_count(dispatch, "--orders", options.dispatch.orders, "Number of orders");
+  add_positive(dispatch, "--per-order", options.dispatch.per_order,
+               "Nearby couriers linked to each order");
+
+  CLI::App* complete =
+      add_family(*command, options, "complete", "Complete graph, uniform weights");
+  add_count(complete, "--vertices", options.complete.vertices, "Number of vertices");
+  add_weight_range(complete, options.complete.min_weight, options.complete.max_weight);
+
+  CLI::App* stress = add_family(*command, options, "stress",
+                                "Nested odd cycles, ties, zero and negative weights");
+  add_count(stress, "--vertices", options.stress.vertices, "Number of vertices (about)");
+  return command;
+}
+
+int run_gen(const GenOptions& options) {
+  const Generated generated = generate(options);
+  if (options.output_path == "-") {
+    write_generated(std::cout, generated, options.seed);
+    std::cout.flush();
+    if (!std::cout) throw CliError("cannot write the graph to stdout");
+  } else {
+    std::ofstream out = open_output_file(options.output_path);
+    write_generated(out, generated, options.seed);
+    close_output_file(out, options.output_path);
+  }
+  return kExitOk;
+}
+
+}  // namespace yoke::cli

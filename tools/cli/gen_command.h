@@ -1,0 +1,54 @@
+// `yoke gen FAMILY [options] [--seed S] [-o FILE]`: writes a seeded graph of one of the test and
+// benchmark families (tools/graphgen) as an edge list that `yoke solve` reads.
+#pragma once
+
+#include <cstdint>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+#include "engine/types.h"
+
+namespace yoke::cli {
+
+struct GenOptions {
+  struct City {
+    std::size_t vertices = 1000;
+    int neighbours = 6;
+  };
+  struct Random {
+    std::size_t vertices = 1000;
+    std::size_t edges = 4000;
+    Weight min_weight = 1;
+    Weight max_weight = 1000;
+  };
+  struct Dispatch {
+    std::size_t couriers = 200;
+    std::size_t orders = 250;
+    int per_order = 6;
+  };
+  struct Complete {
+    std::size_t vertices = 40;
+    Weight min_weight = 1;
+    Weight max_weight = 1000;
+  };
+  struct Stress {
+    std::size_t vertices = 1000;
+  };
+
+  std::string family;  // the family subcommand that was given
+  std::uint64_t seed = 1;
+  std::string output_path = "-";
+  City city;
+  Random random;
+  Dispatch dispatch;
+  Complete complete;
+  Stress stress;
+};
+
+CLI::App* add_gen_command(CLI::App& app, GenOptions& options);
+
+// Returns kExitOk. Throws CliError for parameters the family cannot honour.
+int run_gen(const GenOptions& options);
+
+}  // namespace yoke::cli
