@@ -270,17 +270,34 @@ void AlternatingSearch::end_tree(Vertex root) {
     if (!in_tree(node)) continue;
     // Edges from formerly even vertices to other trees already sit in even_edges_ and are
     // moved to free_edges_ when they surface; odd ones were never queued.
-    if (label_of(node) == kOdd) nodes[kept++] = node;
+    const bool odd = label_of(node) == kOdd;
+    if (odd) nodes[kept++] = node;
     settle_blossom_dual(node);
     node_label_[node] = kFree;
     tree_of_[node] = kNoVertex;
     forest_.for_each_vertex(node, [&](Vertex u) { set_vertex_sign(u, 0); });
+    if (!odd) dissolve_unpriced(node);
   }
   // The freed odd vertices may border even vertices of other trees.
   for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
   nodes.clear();
   nodes.shrink_to_fit();
   --live_trees_;
+}
+
+void AlternatingSearch::dissolve_unpriced(NodeId node) {
+  // A free blossom whose dual is 0 costs nothing to undo now, and would only be expanded (or
+  // carried as dead weight) by the next tree that reaches it.
+  if (forest_.is_vertex(node) || forest_.dual2(node) != 0) return;
+  dissolve_stack_.assign(1, node);
+  while (!dissolve_stack_.empty()) {
+    const NodeId b = dissolve_stack_.back();
+    dissolve_stack_.pop_back();
+    for (NodeId child : forest_.children(b)) {
+      if (!forest_.is_vertex(child) && forest_.dual2(child) == 0) dissolve_stack_.push_back(child);
+    }
+    forest_.dissolve(b);
+  }
 }
 
 void AlternatingSearch::shrink(Vertex v, Vertex w) {

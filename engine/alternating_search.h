@@ -63,6 +63,7 @@ class AlternatingSearch {
   void expand_odd(NodeId b);
   void flip_path_to_root(Vertex v, Vertex partner);
   void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
+  void dissolve_unpriced(NodeId node);        // dissolves a free blossom with dual 0, and nested ones
   void start_run();
 
   // The four bounds on a dual step. An entry's key is never later than the moment its bound is
@@ -110,6 +111,7 @@ class AlternatingSearch {
 
   RadixHeap bounds_;  // key: the value of delta_ at which the bound is reached
 
+  std::vector<NodeId> dissolve_stack_;   // scratch for dissolve_unpriced
   std::vector<NodeId> cycle_nodes_;      // scratch for shrink
   std::vector<CycleEdge> cycle_edges_;   // scratch for shrink
   std::vector<NodeId> side_nodes_;       // scratch for shrink
