@@ -4,9 +4,12 @@
 
 namespace yoke {
 
-AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state)
+AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state,
+                                     bool half_cycles)
     : graph_(graph),
       weight_offset_(weight_offset),
+      half_cycles_mode_(half_cycles),
+      cycle_next_(half_cycles ? graph.vertex_count() : 0, kNoVertex),
       state_(state),
       forest_(state.forest),
       mate_(state.mate),
@@ -213,6 +216,7 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
   const Vertex base = forest_.base(node);
   const Vertex tree = tree_of_[forest_.top(even_end)];
   if (mate_[base] == kNoVertex) {
+    if (half_cycles_mode_ && cycle_next_[free_end] != kNoVertex) open_half_cycle(free_end);
     if (!forest_.is_vertex(node)) forest_.make_base(node, free_end, mate_);
     mate_[free_end] = even_end;
     flip_path_to_root(even_end, free_end);
@@ -230,7 +234,11 @@ void AlternatingSearch::join_even_ends(EdgeIndex e) {
   const Vertex tree_a = tree_of_[forest_.top(edge.a)];
   const Vertex tree_b = tree_of_[forest_.top(edge.b)];
   if (tree_a == tree_b) {
-    shrink(edge.a, edge.b);
+    if (half_cycles_mode_) {
+      form_half_cycle(edge.a, edge.b);
+    } else {
+      shrink(edge.a, edge.b);
+    }
     return;
   }
   flip_path_to_root(edge.a, edge.b);
@@ -300,10 +308,7 @@ void AlternatingSearch::dissolve_unpriced(NodeId node) {
   }
 }
 
-void AlternatingSearch::shrink(Vertex v, Vertex w) {
-  const NodeId top_v = forest_.top(v);
-  const NodeId top_w = forest_.top(w);
-  const Vertex tree = tree_of_[top_v];
+NodeId AlternatingSearch::meeting_node(NodeId x, NodeId y) {
   auto even_parent = [&](NodeId node) {
     return forest_.top(tree_outer_[forest_.top(tree_outer_[node])]);
   };
@@ -312,26 +317,27 @@ void AlternatingSearch::shrink(Vertex v, Vertex w) {
     std::fill(mark_.begin(), mark_.end(), 0);
     mark_stamp_ = 1;
   }
-  NodeId x = top_v, y = top_w, meet = kNoNode;
   mark_[x] = mark_[y] = mark_stamp_;
-  while (meet == kNoNode) {
+  for (;;) {
     if (tree_outer_[x] != kNoVertex) {
       x = even_parent(x);
-      if (mark_[x] == mark_stamp_) meet = x;
+      if (mark_[x] == mark_stamp_) return x;
       mark_[x] = mark_stamp_;
     }
-    if (meet == kNoNode && tree_outer_[y] != kNoVertex) {
+    if (tree_outer_[y] != kNoVertex) {
       y = even_parent(y);
-      if (mark_[y] == mark_stamp_) meet = y;
+      if (mark_[y] == mark_stamp_) return y;
       mark_[y] = mark_stamp_;
     }
   }
+}
 
-  // Cycle order: the meeting node, down the tree path to top_v, across {v, w}, up to the meeting
-  // node again. Each tree step is the edge (tree_inner_, tree_outer_) of the lower node.
+void AlternatingSearch::collect_cycle(Vertex v, Vertex w, NodeId meet) {
+  // Cycle order: the meeting node, down the tree path to v's node, across {v, w}, up to the
+  // meeting node again. Each tree step is the edge (tree_inner_, tree_outer_) of the lower node.
   side_nodes_.clear();
   side_edges_.clear();
-  for (NodeId node = top_v; node != meet; node = forest_.top(tree_outer_[node])) {
+  for (NodeId node = forest_.top(v); node != meet; node = forest_.top(tree_outer_[node])) {
     side_nodes_.push_back(node);
     side_edges_.push_back({tree_inner_[node], tree_outer_[node]});
   }
@@ -342,11 +348,16 @@ void AlternatingSearch::shrink(Vertex v, Vertex w) {
     cycle_nodes_.push_back(side_nodes_[i]);
   }
   cycle_edges_.push_back({v, w});
-  for (NodeId node = top_w; node != meet; node = forest_.top(tree_outer_[node])) {
+  for (NodeId node = forest_.top(w); node != meet; node = forest_.top(tree_outer_[node])) {
     cycle_nodes_.push_back(node);
     cycle_edges_.push_back({tree_inner_[node], tree_outer_[node]});
   }
+}
 
+void AlternatingSearch::shrink(Vertex v, Vertex w) {
+  const Vertex tree = tree_of_[forest_.top(v)];
+  const NodeId meet = meeting_node(forest_.top(v), forest_.top(w));
+  collect_cycle(v, w, meet);
   const Vertex outer = tree_outer_[meet];
   const Vertex inner = tree_inner_[meet];
   for (NodeId node : cycle_nodes_) {
@@ -358,6 +369,47 @@ void AlternatingSearch::shrink(Vertex v, Vertex w) {
   const NodeId b = forest_.make_blossom(cycle_nodes_, cycle_edges_);
   label_node(b, kEven, outer, inner, tree);
   ++stats_.blossoms_formed;
+}
+
+void AlternatingSearch::form_half_cycle(Vertex v, Vertex w) {
+  const Vertex tree = tree_of_[v];
+  const NodeId meet = meeting_node(v, w);
+  collect_cycle(v, w, meet);
+  // The stem from the root to the cycle flips, so the root is covered; every cycle vertex is
+  // covered by two half edges, and every cycle edge is tight.
+  flip_path_to_root(meet, kNoVertex);
+  const std::size_t k = cycle_nodes_.size();
+  for (std::size_t i = 0; i < k; ++i) {
+    mate_[cycle_nodes_[i]] = kNoVertex;
+    cycle_next_[cycle_nodes_[i]] = cycle_nodes_[(i + 1) % k];
+  }
+  half_cycles_.push_back(meet);
+  ++stats_.augmentations;
+  end_tree(tree);
+}
+
+void AlternatingSearch::open_half_cycle(Vertex x) {
+  Vertex y = cycle_next_[x];
+  cycle_next_[x] = kNoVertex;
+  while (y != x) {
+    const Vertex z = cycle_next_[y];
+    const Vertex after = cycle_next_[z];
+    mate_[y] = z;
+    mate_[z] = y;
+    cycle_next_[y] = cycle_next_[z] = kNoVertex;
+    y = after;
+  }
+}
+
+std::size_t AlternatingSearch::settle_half_cycles() {
+  std::size_t open = 0;
+  for (Vertex v : half_cycles_) {
+    if (cycle_next_[v] == kNoVertex) continue;  // a later tree already augmented into it
+    open_half_cycle(v);
+    ++open;
+  }
+  half_cycles_.clear();
+  return open;
 }
 
 void AlternatingSearch::expand_odd(NodeId b) {

@@ -24,7 +24,14 @@ namespace yoke {
 class AlternatingSearch {
  public:
   // `weight_offset` is added to every edge weight (the mode's transformation).
-  AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state);
+  //
+  // With `half_cycles`, the search solves the fractional relaxation instead (no odd-set
+  // constraints; precondition: no blossoms yet): a tree that closes an odd cycle turns it into
+  // a half-matched cycle instead of a blossom, and a later tree may augment into any vertex of
+  // such a cycle. Its optimum is a cheap, near-integral warm start: settle_half_cycles() then
+  // matches every remaining cycle but one vertex, which becomes a root of the exact search.
+  AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state,
+                    bool half_cycles = false);
   AlternatingSearch(const AlternatingSearch&) = delete;
   AlternatingSearch& operator=(const AlternatingSearch&) = delete;
 
@@ -33,6 +40,10 @@ class AlternatingSearch {
   void add_root(Vertex root);
   // Grows all trees until each has ended. Returns the number of augmentations.
   std::size_t run();
+
+  // Fractional mode only: matches each half-matched cycle along its cycle, leaving one vertex
+  // exposed. Returns the number of cycles.
+  std::size_t settle_half_cycles();
 
   const SolveStats& stats() const { return stats_; }
 
@@ -59,7 +70,11 @@ class AlternatingSearch {
   void push_edges_to_even(NodeId node);
   void grow_along(EdgeIndex e);
   void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
+  NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
+  void collect_cycle(Vertex v, Vertex w, NodeId meet);  // into cycle_nodes_ / cycle_edges_
   void shrink(Vertex v, Vertex w);
+  void form_half_cycle(Vertex v, Vertex w);
+  void open_half_cycle(Vertex x);             // matches the cycle around x; x stays exposed
   void expand_odd(NodeId b);
   void flip_path_to_root(Vertex v, Vertex partner);
   void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
@@ -69,16 +84,21 @@ class AlternatingSearch {
   // The four bounds on a dual step. An entry's key is never later than the moment its bound is
   // reached; entries that went stale are dropped or requeued with their exact key when they
   // surface (still_due).
+  // At equal keys the lower kind goes first: closing cycles and joining trees before growing
+  // keeps trees small, so fewer vertices are rescanned when a tree ends.
   enum BoundKind : std::uint32_t {
-    kEvenVertexDual,  // an even vertex's dual reaches 0
-    kFreeEdge,        // an even-to-free edge becomes tight
-    kEvenEdge,        // an even-to-even edge becomes tight
-    kOddBlossomDual,  // an odd blossom's dual reaches 0
+    kEvenEdge = 0,         // an even-to-even edge becomes tight
+    kFreeEdge = 1,         // an even-to-free edge becomes tight
+    kOddBlossomDual = 2,   // an odd blossom's dual reaches 0
+    kEvenVertexDual = 3,   // an even vertex's dual reaches 0
   };
   bool still_due(const RadixHeap::Entry& entry);
 
   const Graph& graph_;
   const Weight weight_offset_;
+  const bool half_cycles_mode_;
+  std::vector<Vertex> cycle_next_;   // fractional mode: successor on a half-matched cycle
+  std::vector<Vertex> half_cycles_;  // fractional mode: one vertex of each cycle formed
   MatchingState& state_;
   BlossomForest& forest_;
   std::vector<Vertex>& mate_;

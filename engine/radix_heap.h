@@ -1,10 +1,12 @@
 // A monotone priority queue of bound events (Ahuja-Mehlhorn-Orlin-Tarjan radix heap): every
 // key pushed is >= the last minimum taken, which holds for the dual-step bounds because the
 // running dual total only grows. Push is O(1); finding the minimum is amortised O(log K) for a
-// key range K, with sequential memory access instead of a binary heap's scattered swaps. Equal
-// keys come out in a fixed order, so runs are deterministic.
+// key range K, with sequential memory access instead of a binary heap's scattered swaps.
+// Among equal keys, lower kinds come first (kinds 0..3); otherwise equal keys come out in a
+// fixed order, so runs are deterministic.
 #pragma once
 
+#include <algorithm>
 #include <array>
 #include <bit>
 #include <cstdint>
@@ -19,13 +21,13 @@ class RadixHeap {
   struct Entry {
     Weight key;
     std::uint32_t id;
-    std::uint32_t kind;
+    std::uint32_t kind;  // 0..3
   };
 
   // Forgets every entry; the next keys must be >= floor.
   void reset(Weight floor) {
     for (auto& bucket : buckets_) bucket.clear();
-    last_ = floor;
+    last_ = floor * 4;
     size_ = 0;
   }
 
@@ -34,15 +36,18 @@ class RadixHeap {
 
   // Precondition: key >= the key of the last top().
   void push(Weight key, std::uint32_t id, std::uint32_t kind) {
-    buckets_[bucket_of(key)].push_back({key, id, kind});
+    // A kind that ranks before the one just taken, at the same key, is simply due next.
+    const Weight order = std::max(key * 4 + static_cast<Weight>(kind), last_);
+    buckets_[bucket_of(order)].push_back({order, id, kind});
     ++size_;
     ++pushes_;
   }
 
   // Precondition: !empty(). The entry with the smallest key.
-  const Entry& top() {
+  Entry top() {
     if (buckets_[0].empty()) refill();
-    return buckets_[0].back();
+    const Entry& e = buckets_[0].back();
+    return {e.key / 4, e.id, e.kind};
   }
 
   void pop() {
@@ -69,6 +74,7 @@ class RadixHeap {
     spill.clear();
   }
 
+  // Entries hold the ordering key 4 * key + kind.
   std::array<std::vector<Entry>, 65> buckets_;
   Weight last_ = 0;
   std::size_t size_ = 0;

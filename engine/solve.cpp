@@ -86,18 +86,31 @@ SolveResult solve(const Graph& graph, Mode mode) {
   MatchingState state(n);
   greedy_start(graph, offset, state);
 
-  AlternatingSearch search(graph, offset, state);
-  for (Vertex v = 0; v < n; ++v) {
-    if (state.mate[v] != kNoVertex || state.dual2[v] == 0) continue;
-    // All roots share one parity, so the half-slack of an edge between two trees is integral.
-    // Raising an exposed vertex's dual keeps every slack >= 0.
-    state.dual2[v] += state.dual2[v] % 2;
-    search.add_root(v);
+  // Both phases start a tree at every exposed vertex with a positive dual. All roots share one
+  // parity, so the half-slack of an edge between two trees is integral; raising an exposed
+  // vertex's dual keeps every slack >= 0.
+  auto add_roots = [&](AlternatingSearch& search) {
+    for (Vertex v = 0; v < n; ++v) {
+      if (state.mate[v] != kNoVertex || state.dual2[v] == 0) continue;
+      state.dual2[v] += state.dual2[v] % 2;
+      search.add_root(v);
+    }
+  };
+  SolveStats stats;
+  {
+    AlternatingSearch fractional(graph, offset, state, /*half_cycles=*/true);
+    add_roots(fractional);
+    fractional.run();
+    fractional.settle_half_cycles();
+    stats = fractional.stats();
   }
+  AlternatingSearch search(graph, offset, state);
+  add_roots(search);
   search.run();
 
   SolveResult result;
   result.stats = search.stats();
+  result.stats.warm_start_searches = stats.searches;
   result.mate = state.mate;
   for (Vertex v = 0; v < n; ++v) {
     const Vertex m = state.mate[v];

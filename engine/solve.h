@@ -16,7 +16,8 @@
 namespace yoke {
 
 struct SolveStats {
-  std::uint64_t searches = 0;
+  std::uint64_t warm_start_searches = 0;  // trees grown by the fractional warm start
+  std::uint64_t searches = 0;             // trees grown by the exact search
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_formed = 0;
   std::uint64_t blossoms_expanded = 0;

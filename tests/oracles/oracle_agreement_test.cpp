@@ -36,7 +36,7 @@ TEST(OracleAgreement, LemonAgreesWithExhaustiveEnumeration) {
       ASSERT_EQ(lemon_max_cardinality(graph), truth.max_cardinality.pairs) << spec.describe();
     }
   }
-  EXPECT_GT(compared, 1000);
+  EXPECT_GT(compared, 300 * seeds);  // the sweep really compared something
 }
 
 // oracle: exhaustive enumeration counts matchings; common knowledge: K_n has the telephone

@@ -10,6 +10,7 @@
 #include "random_graphs.h"
 #include "shapes.h"
 #include "test_scale.h"
+#include "tools/graphgen/generators.h"
 
 namespace yoke::oracle {
 namespace {
@@ -43,22 +44,50 @@ SolveStats sweep_weights(const Graph& shape, Weight lo, Weight hi, int count,
 
 // A triangle whose corner 2 carries two pendant vertices that compete for it. The triangle
 // shrinks into a blossom based at corner 2 and matched to one pendant; the search from the other
-// pendant enters the blossom at its base and labels it odd (T); when the blossom's dual is the
+// pendant enters the blossom at its base and labels it odd (T); if the blossom's dual is the
 // first bound to run out it falls to zero mid-search and the blossom is expanded, its cycle
 // relabelled along the even side. A stem on corner 0 moves the entry away from the base.
-// oracle: exhaustive enumeration, over random weights of both shapes.
-TEST(StressShapesExhaustive, TBlossomExpansionTriangleWithTwoPendants) {
-  const Graph shape =
+// A triangle sharing its edge 3-6 with a pentagon, plus a pendant: two overlapping odd cycles,
+// so a blossom shrunk on one must open again when the other one wins.
+// oracle: exhaustive enumeration, over random weights of each shape.
+TEST(StressShapesExhaustive, TBlossomExpansionSmallShapes) {
+  const Graph two_pendants =
       Graph::from_edges(5, {{0, 1, 1}, {1, 2, 1}, {2, 0, 1}, {2, 3, 1}, {2, 4, 1}});
+  const Graph shared_edge = Graph::from_edges(
+      7, {{1, 6, 1}, {5, 4, 1}, {4, 6, 1}, {0, 3, 1}, {3, 1, 1}, {0, 5, 1}, {6, 3, 1}, {2, 5, 1}});
   const int count = scaled(3000);
-  SolveStats total = sweep_weights(shape, 0, 8, count, "t_expand_two_pendants");
-  const SolveStats stem = sweep_weights(with_stem(shape, 0, 2, 1), -3, 9, count,
-                                        "t_expand_two_pendants_stem");
-  total.blossoms_formed += stem.blossoms_formed;
-  total.blossoms_expanded += stem.blossoms_expanded;
+  SolveStats total = sweep_weights(two_pendants, 0, 8, count, "t_expand_two_pendants");
+  for (const SolveStats& more :
+       {sweep_weights(with_stem(two_pendants, 0, 2, 1), -3, 9, count, "t_expand_stem"),
+        sweep_weights(shared_edge, 0, 8, count, "t_expand_shared_edge")}) {
+    total.blossoms_formed += more.blossoms_formed;
+    total.blossoms_expanded += more.blossoms_expanded;
+  }
+  // How often yoke's current search order takes these paths (information, not a requirement;
+  // the city sweep below asserts that expansions are exercised).
+  RecordProperty("blossoms_formed", static_cast<int>(total.blossoms_formed));
+  RecordProperty("blossoms_expanded", static_cast<int>(total.blossoms_expanded));
+}
+
+// City graphs of 60..120 points expand T-blossoms in most solves: many short odd cycles with
+// close weights, so blossoms form in one search and are entered through their base in the next.
+// oracle: LEMON (Debian liblemon-dev 1.3.1).
+TEST(StressShapesLemon, TBlossomExpansionCityGraphs) {
+  SolveStats total;
+  const int seeds = scaled(20);
+  for (std::size_t n : {60, 90, 120}) {
+    for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
+      const Graph graph = gen::city(n, 4, static_cast<std::uint64_t>(seed)).to_graph();
+      for (Mode mode : kModes) {
+        const SolveResult r = expect_optimal(
+            graph, mode, by_lemon, "t_expand_city_n" + std::to_string(n) + "_seed" +
+                                       std::to_string(seed));
+        total.blossoms_expanded += r.stats.blossoms_expanded;
+      }
+    }
+  }
   // Coverage, not correctness: the sweep must still drive yoke through T-blossom expansion
-  // (yoke counts an expansion when an odd blossom's dual reaches zero in a search).
-  EXPECT_GT(total.blossoms_formed, 0U) << "sweep no longer forms blossoms (SolveStats)";
+  // (SolveStats::blossoms_expanded counts odd blossoms whose dual reached zero in a search).
   EXPECT_GT(total.blossoms_expanded, 0U) << "sweep no longer expands T-blossoms (SolveStats)";
 }
 
