@@ -41,7 +41,6 @@ NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
   }
   first_leaf_[b] = first_leaf_[children.front()];
   last_leaf_[b] = last_leaf_[children.back()];
-  for_each_vertex(b, [&](Vertex v) { top_[v] = b; });
   return b;
 }
 

@@ -34,7 +34,15 @@ class BlossomForest {
   }
 
   NodeId parent(NodeId node) const { return parent_[node]; }
-  NodeId top(Vertex v) const { return top_[v]; }
+  // The top-level node containing v. top_[v] caches an ancestor-or-self of v; forming a blossom
+  // does not touch its vertices, the next lookup climbs the new levels and remembers the result.
+  NodeId top(Vertex v) const {
+    NodeId node = top_[v];
+    if (parent_[node] == kNoNode) return node;
+    while (parent_[node] != kNoNode) node = parent_[node];
+    top_[v] = node;
+    return node;
+  }
   Vertex base(NodeId node) const { return base_[node]; }
   Weight dual2(NodeId node) const { return dual2_[node]; }
   void set_dual2(NodeId node, Weight z2) { dual2_[node] = z2; }
@@ -51,7 +59,7 @@ class BlossomForest {
   }
 
   // Forms a top-level blossom from top-level `children` (cycle order, base child first) and the
-  // edges joining them. Sets top() of all its vertices. O(|B|).
+  // edges joining them. O(number of children).
   NodeId make_blossom(const std::vector<NodeId>& children, const std::vector<CycleEdge>& edges);
 
   // Dissolves top-level blossom `b` into its children, which become top-level. O(|b|).
@@ -73,7 +81,7 @@ class BlossomForest {
  private:
   std::size_t vertex_count_;
   std::vector<NodeId> parent_;        // per node; kNoNode at top level
-  std::vector<NodeId> top_;           // per vertex: the top-level node containing it
+  mutable std::vector<NodeId> top_;   // per vertex: an ancestor-or-self of it (see top())
   std::vector<Vertex> base_;          // per node
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
   std::vector<Vertex> first_leaf_;    // per node
