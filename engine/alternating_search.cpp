@@ -111,6 +111,22 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
 }
 
 bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
+  if (!may_matter(entry)) return false;
+  if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return true;
+  // Either end of the edge may have spent time in another state since the push (free after
+  // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
+  // exact key when the entry came early or under the other kind.
+  const Edge& e = graph_.edge(entry.id);
+  const bool both_even = label_of(forest_.top(e.a)) == kEven && label_of(forest_.top(e.b)) == kEven;
+  const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
+  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  const auto kind = both_even ? kEvenEdge : kFreeEdge;
+  if (due == entry.key && kind == entry.kind) return true;
+  bounds_.push(due, entry.id, kind);
+  return false;
+}
+
+bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
   switch (entry.kind) {
     case kEvenVertexDual: {
       // Stale when the vertex's tree ended since (it may even have joined another tree).
@@ -126,24 +142,24 @@ bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
     default:
       break;
   }
+  // Every transition into an even-free or even-even state queues a fresh entry, except an even
+  // end turning free, which relies on the even-even entry: keep exactly those two states.
   const Edge& e = graph_.edge(entry.id);
   const NodeId top_a = forest_.top(e.a);
   const NodeId top_b = forest_.top(e.b);
   const Label label_a = label_of(top_a);
   const Label label_b = label_of(top_b);
-  if (top_a == top_b || label_a == kOdd || label_b == kOdd || (label_a == kFree && label_b == kFree)) {
-    return false;
-  }
-  // Either end may have spent time in another state since the push (free after its tree ended,
-  // odd inside a blossom since expanded): recompute, and requeue under the exact key when the
-  // entry came early or under the other kind.
-  const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
-  const bool both_even = label_a == kEven && label_b == kEven;
-  const Weight due = delta_ + (both_even ? slack / 2 : slack);
-  const auto kind = both_even ? kEvenEdge : kFreeEdge;
-  if (due == entry.key && kind == entry.kind) return true;
-  bounds_.push(due, entry.id, kind);
-  return false;
+  return top_a != top_b && label_a != kOdd && label_b != kOdd &&
+         (label_a == kEven || label_b == kEven);
+}
+
+void AlternatingSearch::compact_bounds_if_bloated() {
+  // Stale entries only leave the heap when they surface; when the heap has doubled since the
+  // last sweep, drop the dead ones. Amortised O(1) per push, and memory stays in proportion
+  // to the live bounds.
+  if (bounds_.size() < compact_at_) return;
+  bounds_.compact([&](const RadixHeap::Entry& entry) { return may_matter(entry); });
+  compact_at_ = std::max(kFirstCompaction, 2 * bounds_.size());
 }
 
 void AlternatingSearch::start_run() {
@@ -154,6 +170,7 @@ void AlternatingSearch::start_run() {
   }
   delta_ = 0;
   bounds_.reset(0);
+  compact_at_ = kFirstCompaction;
   scan_queue_.clear();
   running_ = true;
 }
@@ -174,6 +191,7 @@ std::size_t AlternatingSearch::run() {
       scan_queue_.pop_back();
       scan(v);
     }
+    compact_bounds_if_bloated();
     // Every live tree has an even root, so a valid bound always exists.
     const RadixHeap::Entry entry = bounds_.top();
     bounds_.pop();

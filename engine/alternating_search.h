@@ -93,6 +93,10 @@ class AlternatingSearch {
     kEvenVertexDual = 3,   // an even vertex's dual reaches 0
   };
   bool still_due(const RadixHeap::Entry& entry);
+  // False for entries that can never become due again in the current state's future (still_due
+  // would drop them without requeueing). No side effects.
+  bool may_matter(const RadixHeap::Entry& entry) const;
+  void compact_bounds_if_bloated();
 
   const Graph& graph_;
   const Weight weight_offset_;
@@ -130,6 +134,8 @@ class AlternatingSearch {
   std::vector<Vertex> scan_queue_;
 
   RadixHeap bounds_;  // key: the value of delta_ at which the bound is reached
+  std::size_t compact_at_ = kFirstCompaction;
+  static constexpr std::size_t kFirstCompaction = std::size_t{1} << 16;
 
   std::vector<NodeId> dissolve_stack_;   // scratch for dissolve_unpriced
   std::vector<NodeId> cycle_nodes_;      // scratch for shrink

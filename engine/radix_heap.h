@@ -55,6 +55,21 @@ class RadixHeap {
     --size_;
   }
 
+  std::size_t size() const { return size_; }
+
+  // Drops every entry for which keep(Entry) is false, keeping the order of the others. O(size).
+  template <class Keep>
+  void compact(Keep&& keep) {
+    for (auto& bucket : buckets_) {
+      std::size_t kept = 0;
+      for (const Entry& e : bucket) {
+        if (keep(Entry{e.key / 4, e.id, e.kind})) bucket[kept++] = e;
+      }
+      size_ -= bucket.size() - kept;
+      bucket.resize(kept);
+    }
+  }
+
  private:
   std::size_t bucket_of(Weight key) const {
     const auto bits = static_cast<std::uint64_t>(key) ^ static_cast<std::uint64_t>(last_);
