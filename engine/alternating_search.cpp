@@ -159,7 +159,7 @@ void AlternatingSearch::compact_bounds_if_bloated() {
   // to the live bounds.
   if (bounds_.size() < compact_at_) return;
   bounds_.compact([&](const RadixHeap::Entry& entry) { return may_matter(entry); });
-  compact_at_ = std::max(kFirstCompaction, 2 * bounds_.size());
+  compact_at_ = std::max(kFirstCompaction, bounds_.size() + bounds_.size() / 2);
 }
 
 void AlternatingSearch::start_run() {

@@ -34,11 +34,11 @@ class RadixHeap {
   bool empty() const { return size_ == 0; }
   std::uint64_t pushes() const { return pushes_; }
 
-  // Precondition: key >= the key of the last top().
+  // Preconditions: key >= the key of the last top(); id < 2^30; kind < 4.
   void push(Weight key, std::uint32_t id, std::uint32_t kind) {
     // A kind that ranks before the one just taken, at the same key, is simply due next.
     const Weight order = std::max(key * 4 + static_cast<Weight>(kind), last_);
-    buckets_[bucket_of(order)].push_back({order, id, kind});
+    buckets_[bucket_of(order)].push_back(Slot::make(order, id, kind));
     ++size_;
     ++pushes_;
   }
@@ -46,8 +46,7 @@ class RadixHeap {
   // Precondition: !empty(). The entry with the smallest key.
   Entry top() {
     if (buckets_[0].empty()) refill();
-    const Entry& e = buckets_[0].back();
-    return {e.key / 4, e.id, e.kind};
+    return buckets_[0].back().entry();
   }
 
   void pop() {
@@ -62,8 +61,8 @@ class RadixHeap {
   void compact(Keep&& keep) {
     for (auto& bucket : buckets_) {
       std::size_t kept = 0;
-      for (const Entry& e : bucket) {
-        if (keep(Entry{e.key / 4, e.id, e.kind})) bucket[kept++] = e;
+      for (const Slot& slot : bucket) {
+        if (keep(slot.entry())) bucket[kept++] = slot;
       }
       size_ -= bucket.size() - kept;
       bucket.resize(kept);
@@ -80,17 +79,38 @@ class RadixHeap {
   void refill() {
     std::size_t i = 1;
     while (buckets_[i].empty()) ++i;
-    Weight least = buckets_[i].front().key;
-    for (const Entry& e : buckets_[i]) least = e.key < least ? e.key : least;
+    Weight least = buckets_[i].front().order();
+    for (const Slot& slot : buckets_[i]) least = std::min(least, slot.order());
     last_ = least;
-    std::vector<Entry>& spill = buckets_[i];
+    std::vector<Slot>& spill = buckets_[i];
     // Walk in reverse so entries with equal keys keep their relative order in bucket 0's stack.
-    for (std::size_t k = spill.size(); k-- > 0;) buckets_[bucket_of(spill[k].key)].push_back(spill[k]);
-    spill.clear();
+    for (std::size_t k = spill.size(); k-- > 0;) buckets_[bucket_of(spill[k].order())].push_back(spill[k]);
+    // A bucket that once held a burst would otherwise keep that capacity for good.
+    if (spill.capacity() > kKeptCapacity) {
+      std::vector<Slot>().swap(spill);
+    } else {
+      spill.clear();
+    }
   }
 
-  // Entries hold the ordering key 4 * key + kind.
-  std::array<std::vector<Entry>, 65> buckets_;
+  // 12 bytes an entry: the ordering key 4 * key + kind (raised to the floor when pushed late)
+  // in two halves, and the id with the kind in its low two bits.
+  struct Slot {
+    std::uint32_t order_low;
+    std::uint32_t order_high;
+    std::uint32_t tagged_id;
+
+    static Slot make(Weight order, std::uint32_t id, std::uint32_t kind) {
+      const auto bits = static_cast<std::uint64_t>(order);
+      return {static_cast<std::uint32_t>(bits), static_cast<std::uint32_t>(bits >> 32), id << 2 | kind};
+    }
+    Weight order() const {
+      return static_cast<Weight>(std::uint64_t{order_high} << 32 | order_low);
+    }
+    Entry entry() const { return {order() / 4, tagged_id >> 2, tagged_id & 3}; }
+  };
+  static constexpr std::size_t kKeptCapacity = 4096;
+  std::array<std::vector<Slot>, 65> buckets_;
   Weight last_ = 0;
   std::size_t size_ = 0;
   std::uint64_t pushes_ = 0;

@@ -60,6 +60,10 @@ Certificate make_certificate(const MatchingState& state, Mode mode, Weight weigh
 }  // namespace
 
 Weight mode_weight_offset(const Graph& graph, Mode mode) {
+  if (graph.vertex_count() >= kMaxVertices || graph.edge_count() >= kMaxEdges) {
+    throw InputError("the graph has " + std::to_string(graph.vertex_count()) + " vertices and " +
+                     std::to_string(graph.edge_count()) + " edges; each must stay below 2^30");
+  }
   if (graph.edge_count() == 0) return 0;
   Weight min_w = graph.edge(0).w, max_w = graph.edge(0).w;
   for (const Edge& e : graph.edges()) {
@@ -104,13 +108,14 @@ SolveResult solve(const Graph& graph, Mode mode) {
     fractional.settle_half_cycles();
     stats = fractional.stats();
   }
-  AlternatingSearch search(graph, offset, state);
-  add_roots(search);
-  search.run();
-
   SolveResult result;
-  result.stats = search.stats();
-  result.stats.warm_start_searches = stats.searches;
+  {
+    AlternatingSearch search(graph, offset, state);
+    add_roots(search);
+    search.run();
+    result.stats = search.stats();
+    result.stats.warm_start_searches = stats.searches;
+  }  // the search's scratch is released before the certificate is built
   result.mate = state.mate;
   for (Vertex v = 0; v < n; ++v) {
     const Vertex m = state.mate[v];

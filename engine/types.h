@@ -31,6 +31,11 @@ inline constexpr Weight kMaxAbsWeight = Weight{1} << 52;
 // the dual objective inside int64.
 inline constexpr Weight kMaxTotalWeight = Weight{1} << 61;
 
+// Largest accepted number of vertices, and of edges: indices leave two bits spare in the
+// engine's event queue.
+inline constexpr std::size_t kMaxVertices = std::size_t{1} << 30;
+inline constexpr std::size_t kMaxEdges = std::size_t{1} << 30;
+
 enum class Mode {
   max_weight,       // any cardinality; edges of weight <= 0 are never worth taking
   max_cardinality,  // most pairs first, then most weight
