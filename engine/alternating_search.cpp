@@ -14,11 +14,8 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       forest_(state.forest),
       mate_(state.mate),
       dual2_(state.dual2),
-      vertex_stamp_(graph.vertex_count(), 0),
-      vertex_sign_(graph.vertex_count(), 0),
-      vertex_since_(graph.vertex_count(), 0),
-      node_stamp_(2 * graph.vertex_count(), 0),
-      node_label_(2 * graph.vertex_count(), kFree),
+      vertex_mark_(graph.vertex_count()),
+      node_mark_(2 * graph.vertex_count()),
       node_since_(2 * graph.vertex_count(), 0),
       tree_outer_(2 * graph.vertex_count(), kNoVertex),
       tree_inner_(2 * graph.vertex_count(), kNoVertex),
@@ -27,8 +24,9 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       mark_(2 * graph.vertex_count(), 0) {}
 
 Weight AlternatingSearch::vertex_dual(Vertex v) const {
-  if (vertex_stamp_[v] != stamp_) return dual2_[v];
-  return dual2_[v] + vertex_sign_[v] * (delta_ - vertex_since_[v]);
+  const VertexMark& mark = vertex_mark_[v];
+  if (mark.stamp != stamp_) return dual2_[v];
+  return dual2_[v] + mark.sign * (delta_ - mark.since);
 }
 
 Weight AlternatingSearch::blossom_dual(NodeId b) const {
@@ -40,9 +38,7 @@ Weight AlternatingSearch::blossom_dual(NodeId b) const {
 
 void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
   dual2_[v] = vertex_dual(v);
-  vertex_stamp_[v] = stamp_;
-  vertex_sign_[v] = static_cast<std::int8_t>(sign);
-  vertex_since_[v] = delta_;
+  vertex_mark_[v] = {delta_, stamp_, static_cast<std::int8_t>(sign)};
 }
 
 void AlternatingSearch::settle_blossom_dual(NodeId b) {
@@ -53,8 +49,7 @@ void AlternatingSearch::settle_blossom_dual(NodeId b) {
 
 void AlternatingSearch::label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree) {
   settle_blossom_dual(node);
-  node_stamp_[node] = stamp_;
-  node_label_[node] = label;
+  node_mark_[node] = {stamp_, label};
   node_since_[node] = delta_;
   tree_outer_[node] = outer;
   tree_inner_[node] = inner;
@@ -131,8 +126,8 @@ bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
     case kEvenVertexDual: {
       // Stale when the vertex's tree ended since (it may even have joined another tree).
       const Vertex v = entry.id;
-      return vertex_stamp_[v] == stamp_ && vertex_sign_[v] == -1 &&
-             entry.key == vertex_since_[v] + dual2_[v];
+      const VertexMark& mark = vertex_mark_[v];
+      return mark.stamp == stamp_ && mark.sign == -1 && entry.key == mark.since + dual2_[v];
     }
     case kOddBlossomDual: {
       const NodeId b = entry.id;
@@ -159,13 +154,13 @@ void AlternatingSearch::compact_bounds_if_bloated() {
   // to the live bounds.
   if (bounds_.size() < compact_at_) return;
   bounds_.compact([&](const RadixHeap::Entry& entry) { return may_matter(entry); });
-  compact_at_ = std::max(kFirstCompaction, bounds_.size() + bounds_.size() / 2);
+  compact_at_ = std::max(kFirstCompaction, 2 * bounds_.size());
 }
 
 void AlternatingSearch::start_run() {
   if (++stamp_ == 0) {  // wrapped: old stamps could collide, so clear them once
-    std::fill(vertex_stamp_.begin(), vertex_stamp_.end(), 0);
-    std::fill(node_stamp_.begin(), node_stamp_.end(), 0);
+    for (VertexMark& mark : vertex_mark_) mark.stamp = 0;
+    for (NodeMark& mark : node_mark_) mark.stamp = 0;
     stamp_ = 1;
   }
   delta_ = 0;
@@ -299,7 +294,7 @@ void AlternatingSearch::end_tree(Vertex root) {
     const bool odd = label_of(node) == kOdd;
     if (odd) nodes[kept++] = node;
     settle_blossom_dual(node);
-    node_label_[node] = kFree;
+    node_mark_[node].label = kFree;
     tree_of_[node] = kNoVertex;
     forest_.for_each_vertex(node, [&](Vertex u) { set_vertex_sign(u, 0); });
     if (!odd) dissolve_unpriced(node);
@@ -381,7 +376,7 @@ void AlternatingSearch::shrink(Vertex v, Vertex w) {
   for (NodeId node : cycle_nodes_) {
     const Label was = label_of(node);
     settle_blossom_dual(node);  // frozen from now on: the node is no longer top level
-    node_label_[node] = kFree;
+    node_mark_[node].label = kFree;
     if (was == kOdd) forest_.for_each_vertex(node, [&](Vertex u) { make_even(u); });
   }
   const NodeId b = forest_.make_blossom(cycle_nodes_, cycle_edges_);
@@ -437,7 +432,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
   const Vertex tree = tree_of_[b];
   cycle_nodes_ = forest_.children(b);
   cycle_edges_ = forest_.cycle_edges(b);
-  node_label_[b] = kFree;
+  node_mark_[b].label = kFree;
   forest_.dissolve(b);
 
   const std::size_t k = cycle_nodes_.size();

@@ -56,7 +56,8 @@ class AlternatingSearch {
   Weight vertex_dual(Vertex v) const;
   Weight blossom_dual(NodeId b) const;
   Label label_of(NodeId node) const {
-    return node_stamp_[node] == stamp_ ? static_cast<Label>(node_label_[node]) : kFree;
+    const NodeMark& mark = node_mark_[node];
+    return mark.stamp == stamp_ ? static_cast<Label>(mark.label) : kFree;
   }
   void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
   void settle_blossom_dual(NodeId b);
@@ -113,12 +114,19 @@ class AlternatingSearch {
   Weight delta_ = 0;  // sum of the dual steps taken in this run
 
   // Per vertex.
-  std::vector<std::uint32_t> vertex_stamp_;
-  std::vector<std::int8_t> vertex_sign_;   // -1 even (dual falls), +1 odd (dual rises), 0 free
-  std::vector<Weight> vertex_since_;       // delta_ when the sign was last set
+  // Kept together so that reading a lazy dual touches one cache line of search state.
+  struct VertexMark {
+    Weight since = 0;         // delta_ when the sign was last set
+    std::uint32_t stamp = 0;  // the run that set it
+    std::int8_t sign = 0;     // -1 even (dual falls), +1 odd (dual rises), 0 free
+  };
+  std::vector<VertexMark> vertex_mark_;
   // Per node (vertex or blossom slot).
-  std::vector<std::uint32_t> node_stamp_;
-  std::vector<std::uint8_t> node_label_;
+  struct NodeMark {
+    std::uint32_t stamp = 0;  // the run that set the label
+    std::uint8_t label = kFree;
+  };
+  std::vector<NodeMark> node_mark_;
   std::vector<Weight> node_since_;         // delta_ when the label was set
   // The tree edge above a labelled node: for an odd node, the even vertex that reached it and
   // the vertex inside it; for an even node, its mate outside (kNoVertex at the root) and its base.
