@@ -85,11 +85,15 @@ void AlternatingSearch::scan(Vertex v) {
     if (top_x == top_v) continue;
     const Label label = label_of(top_x);
     if (label == kOdd) continue;  // slack is constant while one end is even and the other odd
-    const Weight slack = dual_v + vertex_dual(inc.other) - 2 * w;
+    const Weight dual_x = vertex_dual(inc.other);
+    const Weight slack = dual_v + dual_x - 2 * w;
+    // An even end stays even for at most its dual's worth of steps (then its tree ends); an
+    // end that turns even again is rescanned. So an edge whose slack exceeds what its even
+    // ends can still take away never becomes due in this episode: skip it.
     if (label == kEven) {
-      bounds_.push(delta_ + slack / 2, inc.edge, kEvenEdge);
+      if (slack <= dual_v + dual_x) bounds_.push(delta_ + slack / 2, inc.edge, kEvenEdge);
     } else {
-      bounds_.push(delta_ + slack, inc.edge, kFreeEdge);
+      if (slack <= dual_v) bounds_.push(delta_ + slack, inc.edge, kFreeEdge);
     }
   }
 }
@@ -100,7 +104,9 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
     for (const Incidence& inc : graph_.incident(u)) {
       const Weight w = weight(inc.edge);
       if (w <= 0 || label_of(forest_.top(inc.other)) != kEven) continue;
-      bounds_.push(delta_ + dual_u + vertex_dual(inc.other) - 2 * w, inc.edge, kFreeEdge);
+      const Weight dual_x = vertex_dual(inc.other);
+      const Weight slack = dual_u + dual_x - 2 * w;
+      if (slack <= dual_x) bounds_.push(delta_ + slack, inc.edge, kFreeEdge);  // as in scan()
     }
   });
 }
@@ -112,12 +118,17 @@ bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
   // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
   // exact key when the entry came early or under the other kind.
   const Edge& e = graph_.edge(entry.id);
-  const bool both_even = label_of(forest_.top(e.a)) == kEven && label_of(forest_.top(e.b)) == kEven;
-  const Weight slack = vertex_dual(e.a) + vertex_dual(e.b) - 2 * weight(entry.id);
+  const bool a_even = label_of(forest_.top(e.a)) == kEven;
+  const bool b_even = label_of(forest_.top(e.b)) == kEven;
+  const Weight dual_a = vertex_dual(e.a);
+  const Weight dual_b = vertex_dual(e.b);
+  const Weight slack = dual_a + dual_b - 2 * weight(entry.id);
+  const bool both_even = a_even && b_even;
   const Weight due = delta_ + (both_even ? slack / 2 : slack);
   const auto kind = both_even ? kEvenEdge : kFreeEdge;
   if (due == entry.key && kind == entry.kind) return true;
-  bounds_.push(due, entry.id, kind);
+  const Weight reach = (a_even ? dual_a : 0) + (b_even ? dual_b : 0);  // as in scan()
+  if (slack <= reach) bounds_.push(due, entry.id, kind);
   return false;
 }
 
