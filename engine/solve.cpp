@@ -115,6 +115,8 @@ SolveResult solve(const Graph& graph, Mode mode) {
     search.run();
     result.stats = search.stats();
     result.stats.warm_start_searches = stats.searches;
+    result.stats.warm_start_scans = stats.scans;
+    result.stats.warm_start_pushes = stats.heap_pushes;
   }  // the search's scratch is released before the certificate is built
   result.mate = state.mate;
   for (Vertex v = 0; v < n; ++v) {

@@ -17,6 +17,8 @@ namespace yoke {
 
 struct SolveStats {
   std::uint64_t warm_start_searches = 0;  // trees grown by the fractional warm start
+  std::uint64_t warm_start_scans = 0;
+  std::uint64_t warm_start_pushes = 0;
   std::uint64_t searches = 0;             // trees grown by the exact search
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_formed = 0;
