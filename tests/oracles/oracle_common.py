@@ -119,6 +119,21 @@ def lemon_optimum(lemon_file, graph_path, mode):
     return json.loads(done.stdout)
 
 
+def solve_and_check_matching(report, yoke, path, edges, mode, feasible, where,
+                             certificate_path=None):
+    """Runs `yoke solve` in `mode`; checks the exit code (0, or EXIT_NO_PERFECT when the
+    oracle found no perfect matching) and that the output is a matching of `edges` with the
+    reported weight and size. Returns the parsed output, or None when the exit code was wrong."""
+    code, result, stderr = run_solve(yoke, path, mode, certificate_path)
+    want_code = 0 if feasible else EXIT_NO_PERFECT
+    if not report.check(code == want_code and result is not None,
+                        f"{where}: yoke exit {code} (want {want_code}) {stderr.strip()}", path):
+        return None
+    problem = matching_problem(edges, result)
+    report.check(problem is None, f"{where}: {problem}", path)
+    return result
+
+
 def matching_problem(edges, result):
     """None when result['matching'] is a matching of `edges` whose weight and size are the
     reported ones; otherwise what is wrong."""
