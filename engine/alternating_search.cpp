@@ -79,7 +79,7 @@ void AlternatingSearch::scan(Vertex v) {
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
   for (const Incidence& inc : graph_.incident(v)) {
-    const Weight w = weight(inc.edge);
+    const Weight w = inc.w + weight_offset_;
     if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     const NodeId top_x = forest_.top(inc.other);
     if (top_x == top_v) continue;
@@ -102,7 +102,7 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
   forest_.for_each_vertex(node, [&](Vertex u) {
     const Weight dual_u = vertex_dual(u);
     for (const Incidence& inc : graph_.incident(u)) {
-      const Weight w = weight(inc.edge);
+      const Weight w = inc.w + weight_offset_;
       if (w <= 0 || label_of(forest_.top(inc.other)) != kEven) continue;
       const Weight dual_x = vertex_dual(inc.other);
       const Weight slack = dual_u + dual_x - 2 * w;

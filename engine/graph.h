@@ -20,10 +20,12 @@ struct Edge {
   Vertex other(Vertex v) const { return v == a ? b : a; }
 };
 
-// One end of an edge as seen from a vertex: the vertex at the far end and the edge's index.
+// One end of an edge as seen from a vertex: the vertex at the far end, the edge's index and a
+// copy of its weight (the search reads it for every edge it scans).
 struct Incidence {
   Vertex other;
   EdgeIndex edge;
+  Weight w;
 };
 
 class Graph {

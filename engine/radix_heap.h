@@ -2,8 +2,10 @@
 // key pushed is >= the last minimum taken, which holds for the dual-step bounds because the
 // running dual total only grows. Push is O(1); finding the minimum is amortised O(log K) for a
 // key range K, with sequential memory access instead of a binary heap's scattered swaps.
-// Among equal keys, lower kinds come first (kinds 0..3); otherwise equal keys come out in a
-// fixed order, so runs are deterministic.
+// Among equal keys, lower kinds come first (kinds 0..3), except that entries pushed late at
+// the current key (raised to the floor) come out newest first: the order is a heuristic for
+// speed, not a guarantee the caller may rely on. Equal keys always come out in a fixed order,
+// so runs are deterministic. Keys are >= 0.
 #pragma once
 
 #include <algorithm>
@@ -24,7 +26,7 @@ class RadixHeap {
     std::uint32_t kind;  // 0..3
   };
 
-  // Forgets every entry; the next keys must be >= floor.
+  // Forgets every entry; the next keys must be >= floor >= 0.
   void reset(Weight floor) {
     for (auto& bucket : buckets_) bucket.clear();
     last_ = floor * 4;
@@ -43,7 +45,8 @@ class RadixHeap {
     ++pushes_;
   }
 
-  // Precondition: !empty(). The entry with the smallest key.
+  // Precondition: !empty(). The entry with the smallest key; pop() removes it (call top()
+  // first: it is what brings the smallest entry to the front).
   Entry top() {
     if (buckets_[0].empty()) refill();
     return buckets_[0].back().entry();

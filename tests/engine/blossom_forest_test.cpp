@@ -1,0 +1,492 @@
+// Unit tests for the laminar blossom family (engine/blossom_forest.h): structure, top(),
+// vertex lists, make_base (rotation and matching flips, also 3000 levels deep), dissolve.
+#include "engine/blossom_forest.h"
+
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cstdint>
+#include <map>
+#include <set>
+#include <utility>
+#include <vector>
+
+namespace yoke {
+namespace {
+
+using Pair = std::pair<Vertex, Vertex>;
+
+Pair unordered(Vertex a, Vertex b) { return {std::min(a, b), std::max(a, b)}; }
+
+bool same_edges(const std::vector<CycleEdge>& x, const std::vector<CycleEdge>& y) {
+  return std::equal(x.begin(), x.end(), y.begin(), y.end(),
+                    [](const CycleEdge& p, const CycleEdge& q) { return p.from == q.from && p.to == q.to; });
+}
+
+// A forest built by hand, with what was given to make_blossom kept aside so the checks do not
+// rely on the forest's own view of itself.
+struct Fixture {
+  explicit Fixture(std::size_t n) : forest(n), mate(n, kNoVertex) {}
+
+  NodeId blossom(const std::vector<NodeId>& children, const std::vector<CycleEdge>& edges) {
+    const NodeId b = forest.make_blossom(children, edges);
+    given[b] = {children, edges};
+    for (const CycleEdge& e : edges) cycle_edges.insert(unordered(e.from, e.to));
+    return b;
+  }
+  void match(Vertex a, Vertex b) {
+    mate[a] = b;
+    mate[b] = a;
+  }
+
+  BlossomForest forest;
+  std::vector<Vertex> mate;
+  std::map<NodeId, std::pair<std::vector<NodeId>, std::vector<CycleEdge>>> given;
+  std::set<Pair> cycle_edges;  // every cycle edge at every level
+};
+
+std::vector<Vertex> vertices_of(const BlossomForest& forest, NodeId node) {
+  std::vector<Vertex> out;
+  forest.for_each_vertex(node, [&](Vertex v) { out.push_back(v); });
+  return out;
+}
+
+std::vector<Vertex> sorted(std::vector<Vertex> v) {
+  std::sort(v.begin(), v.end());
+  return v;
+}
+
+std::vector<Vertex> range(Vertex first, Vertex last) {  // [first, last]
+  std::vector<Vertex> out;
+  for (Vertex v = first; v <= last; ++v) out.push_back(v);
+  return out;
+}
+
+// The child of b holding v, or kNoNode when v is not in b (child_containing would run off the
+// top of the forest instead).
+NodeId holder(const BlossomForest& forest, NodeId b, Vertex v) {
+  NodeId node = v;
+  for (;;) {
+    const NodeId p = forest.parent(node);
+    if (p == b) return node;
+    if (p == kNoNode) return kNoNode;
+    node = p;
+  }
+}
+
+template <class T>
+std::vector<T> rotated(std::vector<T> v, std::size_t r) {
+  std::rotate(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(r), v.end());
+  return v;
+}
+
+// Every blossom below and including `top_blossom`: children and edges are the given ones rotated
+// by one amount, the base lies in the first child, cycle edge i joins child i to child i+1, edges
+// 1, 3, ... are matched and 0, 2, ... are not, and each child's base is the end of its matched
+// edge. With `all_vertices`, also checks directly that every vertex of each blossom but its base
+// is matched inside it (O(size x depth)).
+void check_structure(const Fixture& fx, NodeId top_blossom, bool all_vertices) {
+  const BlossomForest& forest = fx.forest;
+  const std::vector<Vertex>& mate = fx.mate;
+  std::vector<NodeId> stack = {top_blossom};
+  while (!stack.empty()) {
+    const NodeId b = stack.back();
+    stack.pop_back();
+    if (forest.is_vertex(b)) continue;
+    SCOPED_TRACE(::testing::Message() << "blossom " << b);
+    ASSERT_TRUE(forest.is_live_blossom(b));
+    const auto& kids = forest.children(b);
+    const auto& edges = forest.cycle_edges(b);
+    const auto& [given_kids, given_edges] = fx.given.at(b);
+    const std::size_t k = kids.size();
+    ASSERT_EQ(k, given_kids.size());
+    ASSERT_EQ(edges.size(), k);
+    const auto r = static_cast<std::size_t>(std::find(given_kids.begin(), given_kids.end(), kids[0]) -
+                                            given_kids.begin());
+    ASSERT_LT(r, k);
+    EXPECT_EQ(kids, rotated(given_kids, r));
+    EXPECT_TRUE(same_edges(edges, rotated(given_edges, r))) << "cycle edges not rotated with the children";
+    EXPECT_EQ(forest.base(b), forest.base(kids[0]));
+    EXPECT_EQ(holder(forest, b, forest.base(b)), kids[0]);
+    for (std::size_t i = 0; i < k; ++i) {
+      EXPECT_EQ(forest.parent(kids[i]), b);
+      const CycleEdge e = edges[i];
+      EXPECT_EQ(holder(forest, b, e.from), kids[i]) << "edge " << i;
+      EXPECT_EQ(holder(forest, b, e.to), kids[(i + 1) % k]) << "edge " << i;
+      if (i % 2 == 1) {
+        EXPECT_EQ(mate[e.from], e.to) << "edge " << i << " should be matched";
+        EXPECT_EQ(mate[e.to], e.from) << "edge " << i << " should be matched";
+        EXPECT_EQ(forest.base(kids[i]), e.from);
+        EXPECT_EQ(forest.base(kids[i + 1]), e.to);
+      } else {
+        EXPECT_NE(mate[e.from], e.to) << "edge " << i << " should be unmatched";
+        EXPECT_NE(mate[e.to], e.from) << "edge " << i << " should be unmatched";
+      }
+      stack.push_back(kids[i]);
+    }
+    if (all_vertices) {
+      for (Vertex u : vertices_of(forest, b)) {
+        if (u == forest.base(b)) {
+          EXPECT_TRUE(mate[u] == kNoVertex || holder(forest, b, mate[u]) == kNoNode)
+              << "base " << u << " is matched inside";
+          continue;
+        }
+        ASSERT_NE(mate[u], kNoVertex) << u;
+        EXPECT_NE(holder(forest, b, mate[u]), kNoNode) << u << " is matched outside";
+        EXPECT_EQ(mate[mate[u]], u);
+      }
+    }
+    if (::testing::Test::HasFatalFailure()) return;
+  }
+}
+
+// Rebases top-level blossom b at v and checks the result: base(b) == v, mate[v] untouched,
+// every other vertex of b matched to another vertex of b along a cycle edge, the top children
+// rotated so the child holding v leads, and check_structure at every level.
+void rebase_and_check(Fixture& fx, NodeId b, Vertex v, bool all_vertices = true) {
+  SCOPED_TRACE(::testing::Message() << "make_base(" << b << ", " << v << ")");
+  BlossomForest& forest = fx.forest;
+  ASSERT_EQ(forest.parent(b), kNoNode);
+  const std::vector<Vertex> members = sorted(vertices_of(forest, b));
+  const Vertex mate_v = fx.mate[v];
+  const NodeId entry = holder(forest, b, v);
+  ASSERT_NE(entry, kNoNode);
+  const auto& given_kids = fx.given.at(b).first;
+  const auto r = static_cast<std::size_t>(std::find(given_kids.begin(), given_kids.end(), entry) -
+                                          given_kids.begin());
+
+  forest.make_base(b, v, fx.mate);
+
+  EXPECT_EQ(forest.base(b), v);
+  EXPECT_EQ(fx.mate[v], mate_v) << "make_base must leave the new base's mate to the caller";
+  EXPECT_EQ(forest.children(b), rotated(given_kids, r));
+  EXPECT_EQ(sorted(vertices_of(forest, b)), members);
+  std::size_t matched = 0;
+  for (Vertex u : members) {
+    if (u == v) continue;
+    const Vertex m = fx.mate[u];
+    ASSERT_NE(m, kNoVertex) << u << " left unmatched";
+    EXPECT_NE(m, v) << u << " matched to the new base";
+    EXPECT_TRUE(std::binary_search(members.begin(), members.end(), m)) << u << " matched outside b";
+    EXPECT_EQ(fx.mate[m], u) << u << " -- " << m << " is one-sided";
+    EXPECT_TRUE(fx.cycle_edges.count(unordered(u, m))) << u << " -- " << m << " is no cycle edge";
+    ++matched;
+  }
+  EXPECT_EQ(matched, members.size() - 1);
+  // The caller then matches v outside b (here: leaves it exposed).
+  fx.mate[v] = kNoVertex;
+  check_structure(fx, b, all_vertices);
+}
+
+// Vertices 0..4 form a 5-cycle blossom with base 0; 5 and 6 stay outside. 0 is matched to 5.
+Fixture five_cycle(NodeId* b) {
+  Fixture fx(7);
+  *b = fx.blossom({0, 1, 2, 3, 4}, {{0, 1}, {1, 2}, {2, 3}, {3, 4}, {4, 0}});
+  fx.match(1, 2);
+  fx.match(3, 4);
+  fx.match(0, 5);
+  return fx;
+}
+
+TEST(BlossomForest, FreshForest) {
+  BlossomForest forest(4);
+  EXPECT_EQ(forest.vertex_count(), 4u);
+  for (Vertex v = 0; v < 4; ++v) {
+    EXPECT_TRUE(forest.is_vertex(v));
+    EXPECT_EQ(forest.top(v), v);
+    EXPECT_EQ(forest.base(v), v);
+    EXPECT_EQ(forest.parent(v), kNoNode);
+    EXPECT_EQ(vertices_of(forest, v), std::vector<Vertex>{v});
+  }
+  EXPECT_FALSE(forest.is_vertex(4));
+  EXPECT_FALSE(forest.is_live_blossom(4));
+  EXPECT_TRUE(forest.live_blossoms().empty());
+}
+
+TEST(BlossomForest, FiveCycleStructure) {
+  NodeId b = kNoNode;
+  Fixture fx = five_cycle(&b);
+  const BlossomForest& forest = fx.forest;
+  EXPECT_EQ(b, 7u);  // the first blossom slot is n
+  EXPECT_TRUE(forest.is_live_blossom(b));
+  EXPECT_FALSE(forest.is_vertex(b));
+  EXPECT_EQ(forest.parent(b), kNoNode);
+  EXPECT_EQ(forest.base(b), 0u);
+  EXPECT_EQ(forest.dual2(b), 0);
+  EXPECT_EQ(forest.children(b), (std::vector<NodeId>{0, 1, 2, 3, 4}));
+  const std::vector<CycleEdge> edges = {{0, 1}, {1, 2}, {2, 3}, {3, 4}, {4, 0}};
+  EXPECT_TRUE(same_edges(forest.cycle_edges(b), edges));
+  for (Vertex v = 0; v < 5; ++v) {
+    EXPECT_EQ(forest.top(v), b);
+    EXPECT_EQ(forest.parent(v), b);
+    EXPECT_EQ(forest.child_containing(b, v), v);
+  }
+  EXPECT_EQ(forest.top(5), 5u);
+  EXPECT_EQ(forest.top(6), 6u);
+  EXPECT_EQ(sorted(vertices_of(forest, b)), range(0, 4));
+  EXPECT_EQ(forest.live_blossoms(), std::vector<NodeId>{b});
+  fx.forest.set_dual2(b, 14);
+  EXPECT_EQ(forest.dual2(b), 14);
+  check_structure(fx, b, true);
+}
+
+TEST(BlossomForest, MakeBaseEveryVertexOfFiveCycle) {
+  for (Vertex v = 0; v < 5; ++v) {
+    NodeId b = kNoNode;
+    Fixture fx = five_cycle(&b);
+    rebase_and_check(fx, b, v);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+  // Exact pairs for two cases: from base 0 the even side towards v is re-paired.
+  {
+    NodeId b = kNoNode;
+    Fixture fx = five_cycle(&b);
+    fx.forest.make_base(b, 2, fx.mate);
+    EXPECT_EQ(fx.mate, (std::vector<Vertex>{1, 0, 1, 4, 3, 0, kNoVertex}));  // mate[2] stale
+    const std::vector<CycleEdge> edges = {{2, 3}, {3, 4}, {4, 0}, {0, 1}, {1, 2}};
+    EXPECT_TRUE(same_edges(fx.forest.cycle_edges(b), edges));
+  }
+  {
+    NodeId b = kNoNode;
+    Fixture fx = five_cycle(&b);
+    fx.forest.make_base(b, 3, fx.mate);
+    EXPECT_EQ(fx.mate, (std::vector<Vertex>{4, 2, 1, 4, 0, 0, kNoVertex}));  // mate[3] stale
+    EXPECT_EQ(fx.forest.children(b), (std::vector<NodeId>{3, 4, 0, 1, 2}));
+  }
+}
+
+TEST(BlossomForest, RepeatedMakeBaseOnFiveCycle) {
+  NodeId b = kNoNode;
+  Fixture fx = five_cycle(&b);
+  for (Vertex v : {2u, 4u, 1u, 3u, 3u, 0u, 4u, 2u, 0u}) {
+    rebase_and_check(fx, b, v);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+}
+
+// Three levels plus a sibling: A = [0,1,2] inside B = [A,3,4,5,6] inside C = [7,B,8,D,9], with
+// D = [10,11,12]. C's base 7 is matched to 13 outside. Slots: A 14, B 15, D 16, C 17.
+struct Nested {
+  Fixture fx{14};
+  NodeId a = kNoNode, b = kNoNode, d = kNoNode, c = kNoNode;
+};
+
+Nested nested(bool form_c = true) {
+  Nested n;
+  Fixture& fx = n.fx;
+  n.a = fx.blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}});
+  fx.match(1, 2);
+  n.b = fx.blossom({n.a, 3, 4, 5, 6}, {{1, 3}, {3, 4}, {4, 5}, {5, 6}, {6, 2}});
+  fx.match(3, 4);
+  fx.match(5, 6);
+  n.d = fx.blossom({10, 11, 12}, {{10, 11}, {11, 12}, {12, 10}});
+  fx.match(11, 12);
+  if (form_c) {
+    n.c = fx.blossom({7, n.b, 8, n.d, 9}, {{7, 5}, {0, 8}, {8, 11}, {10, 9}, {9, 7}});
+    fx.match(0, 8);
+    fx.match(10, 9);
+    fx.match(7, 13);
+  }
+  return n;
+}
+
+TEST(BlossomForest, NestedStructureAndTop) {
+  Nested n = nested(false);
+  const BlossomForest& forest = n.fx.forest;
+  EXPECT_EQ(std::vector<NodeId>({n.a, n.b, n.d}), (std::vector<NodeId>{14, 15, 16}));
+  for (Vertex v = 0; v <= 6; ++v) EXPECT_EQ(forest.top(v), n.b) << v;
+  for (Vertex v = 10; v <= 12; ++v) EXPECT_EQ(forest.top(v), n.d) << v;
+  for (Vertex v : {7u, 8u, 9u, 13u}) EXPECT_EQ(forest.top(v), v);
+
+  // Forming C must move every cached top, including those just looked up.
+  n.c = n.fx.blossom({7, n.b, 8, n.d, 9}, {{7, 5}, {0, 8}, {8, 11}, {10, 9}, {9, 7}});
+  EXPECT_EQ(n.c, 17u);
+  for (Vertex v = 0; v <= 12; ++v) EXPECT_EQ(forest.top(v), n.c) << v;
+  EXPECT_EQ(forest.top(13), 13u);
+
+  EXPECT_EQ(forest.parent(0), n.a);
+  EXPECT_EQ(forest.parent(n.a), n.b);
+  EXPECT_EQ(forest.parent(n.b), n.c);
+  EXPECT_EQ(forest.parent(n.d), n.c);
+  EXPECT_EQ(forest.parent(3), n.b);
+  EXPECT_EQ(forest.parent(7), n.c);
+  EXPECT_EQ(forest.parent(n.c), kNoNode);
+  EXPECT_EQ(forest.children(n.c), (std::vector<NodeId>{7, n.b, 8, n.d, 9}));
+  EXPECT_EQ(forest.children(n.b), (std::vector<NodeId>{n.a, 3, 4, 5, 6}));
+  EXPECT_EQ(forest.base(n.a), 0u);
+  EXPECT_EQ(forest.base(n.b), 0u);
+  EXPECT_EQ(forest.base(n.d), 10u);
+  EXPECT_EQ(forest.base(n.c), 7u);
+  EXPECT_EQ(forest.child_containing(n.c, 0), n.b);
+  EXPECT_EQ(forest.child_containing(n.b, 0), n.a);
+  EXPECT_EQ(forest.child_containing(n.c, 12), n.d);
+  EXPECT_EQ(forest.child_containing(n.c, 9), 9u);
+
+  EXPECT_EQ(sorted(vertices_of(forest, n.a)), range(0, 2));
+  EXPECT_EQ(sorted(vertices_of(forest, n.b)), range(0, 6));
+  EXPECT_EQ(sorted(vertices_of(forest, n.d)), range(10, 12));
+  EXPECT_EQ(sorted(vertices_of(forest, n.c)), range(0, 12));
+  EXPECT_EQ(forest.live_blossoms(), (std::vector<NodeId>{n.a, n.b, n.d, n.c}));
+
+  n.fx.match(0, 8);
+  n.fx.match(10, 9);
+  n.fx.match(7, 13);
+  check_structure(n.fx, n.c, true);
+}
+
+TEST(BlossomForest, MakeBaseEveryVertexOfNestedBlossom) {
+  for (Vertex v = 0; v <= 12; ++v) {
+    Nested n = nested();
+    rebase_and_check(n.fx, n.c, v);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+  // Rebasing an inner top-level blossom before C exists, at its deepest vertex.
+  for (Vertex v = 0; v <= 6; ++v) {
+    Nested n = nested(false);
+    rebase_and_check(n.fx, n.b, v);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+}
+
+TEST(BlossomForest, RepeatedMakeBaseOnNestedBlossom) {
+  Nested n = nested();
+  for (Vertex v : {2u, 11u, 5u, 0u, 9u, 12u, 1u, 7u, 4u, 10u, 3u, 8u, 6u, 2u}) {
+    rebase_and_check(n.fx, n.c, v);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+}
+
+TEST(BlossomForest, DissolveAndReuseSlot) {
+  Nested n = nested();
+  BlossomForest& forest = n.fx.forest;
+  // Rotate first, so the children order differs from the vertex list order.
+  forest.make_base(n.c, 11, n.fx.mate);
+  forest.make_base(n.c, 2, n.fx.mate);
+  forest.dissolve(n.c);
+  EXPECT_FALSE(forest.is_live_blossom(n.c));
+  EXPECT_EQ(forest.live_blossoms(), (std::vector<NodeId>{n.a, n.b, n.d}));
+  for (Vertex v = 0; v <= 6; ++v) EXPECT_EQ(forest.top(v), n.b) << v;
+  for (Vertex v = 10; v <= 12; ++v) EXPECT_EQ(forest.top(v), n.d) << v;
+  for (Vertex v : {7u, 8u, 9u}) EXPECT_EQ(forest.top(v), v);
+  EXPECT_EQ(forest.parent(n.b), kNoNode);
+  EXPECT_EQ(forest.parent(n.d), kNoNode);
+  EXPECT_EQ(forest.parent(7), kNoNode);
+  EXPECT_EQ(forest.base(n.b), 2u);  // the base make_base gave it stays
+  EXPECT_EQ(sorted(vertices_of(forest, n.b)), range(0, 6));
+  EXPECT_EQ(sorted(vertices_of(forest, n.d)), range(10, 12));
+
+  // The freed slot is the next one handed out.
+  const NodeId e = forest.make_blossom({9, 7, 8}, {{9, 7}, {7, 8}, {8, 9}});
+  EXPECT_EQ(e, n.c);
+  EXPECT_TRUE(forest.is_live_blossom(e));
+  EXPECT_EQ(forest.base(e), 9u);
+  EXPECT_EQ(forest.dual2(e), 0);
+  EXPECT_EQ(forest.children(e), (std::vector<NodeId>{9, 7, 8}));
+  EXPECT_EQ(sorted(vertices_of(forest, e)), (std::vector<Vertex>{7, 8, 9}));
+  for (Vertex v : {7u, 8u, 9u}) EXPECT_EQ(forest.top(v), e);
+  EXPECT_EQ(forest.top(0), n.b);
+
+  // Regroup: dissolve B, then put A between its former siblings, in a new order; the next slot
+  // after C's reuse is B's.
+  forest.dissolve(n.b);
+  for (Vertex v = 0; v <= 2; ++v) EXPECT_EQ(forest.top(v), n.a);
+  for (Vertex v = 3; v <= 6; ++v) EXPECT_EQ(forest.top(v), v);
+  EXPECT_EQ(forest.live_blossoms(), (std::vector<NodeId>{n.a, n.d, e}));
+  const NodeId f = forest.make_blossom({4, n.a, 3}, {{4, 1}, {0, 3}, {3, 4}});
+  EXPECT_EQ(f, n.b);
+  EXPECT_EQ(sorted(vertices_of(forest, f)), (std::vector<Vertex>{0, 1, 2, 3, 4}));
+  const NodeId g = forest.make_blossom({f, e, n.d}, {{3, 8}, {9, 12}, {11, 0}});
+  EXPECT_EQ(g, 18u);  // the next never-used slot
+  EXPECT_EQ(sorted(vertices_of(forest, g)),
+            (std::vector<Vertex>{0, 1, 2, 3, 4, 7, 8, 9, 10, 11, 12}));
+  for (Vertex v : {0u, 4u, 8u, 12u}) EXPECT_EQ(forest.top(v), g);
+  for (Vertex v : {5u, 6u, 13u}) EXPECT_EQ(forest.top(v), v);
+  EXPECT_EQ(forest.base(g), 4u);
+  EXPECT_EQ(forest.live_blossoms(), (std::vector<NodeId>{n.a, f, n.d, e, g}));
+}
+
+// B_k = [B_(k-1), x_k, y_k] for k = 1..K with B_0 = vertex 0, x_k = 2k-1, y_k = 2k, edges
+// x_(k-1) -- x_k, x_k -- y_k (matched), y_k -- y_(k-1) (vertex 0 for k = 1). Vertex 0 is the
+// base of all. B_k is slot n + k - 1.
+constexpr std::size_t kDepth = 3000;
+constexpr auto kDeepVertices = static_cast<Vertex>(2 * kDepth + 1);
+
+Vertex x_of(std::size_t k) { return k == 0 ? 0 : static_cast<Vertex>(2 * k - 1); }
+Vertex y_of(std::size_t k) { return k == 0 ? 0 : static_cast<Vertex>(2 * k); }
+
+Fixture deep_nest(NodeId* outer) {
+  Fixture fx(kDeepVertices);
+  NodeId inner = 0;
+  for (std::size_t k = 1; k <= kDepth; ++k) {
+    inner = fx.blossom({inner, x_of(k), y_of(k)},
+                       {{x_of(k - 1), x_of(k)}, {x_of(k), y_of(k)}, {y_of(k), y_of(k - 1)}});
+    fx.match(x_of(k), y_of(k));
+  }
+  *outer = inner;
+  return fx;
+}
+
+TEST(BlossomForest, DeepNest) {
+  NodeId outer = kNoNode;
+  Fixture fx = deep_nest(&outer);
+  BlossomForest& forest = fx.forest;
+  EXPECT_EQ(outer, kDeepVertices + kDepth - 1);
+  EXPECT_EQ(forest.live_blossoms().size(), kDepth);
+  // The innermost vertex first: its cached top is itself, so top() climbs all 3000 levels.
+  EXPECT_EQ(forest.top(0), outer);
+  for (Vertex v = 0; v < kDeepVertices; ++v) ASSERT_EQ(forest.top(v), outer) << v;
+  std::size_t depth = 0;
+  for (NodeId node = 0; forest.parent(node) != kNoNode; node = forest.parent(node)) ++depth;
+  EXPECT_EQ(depth, kDepth);
+  const std::vector<Vertex> all = vertices_of(forest, outer);
+  EXPECT_EQ(all.size(), kDeepVertices);
+  EXPECT_EQ(sorted(all), range(0, kDeepVertices - 1));
+  const NodeId middle = kDeepVertices + kDepth / 2 - 1;  // B_(K/2)
+  EXPECT_EQ(sorted(vertices_of(forest, middle)), range(0, 2 * (kDepth / 2)));
+  check_structure(fx, outer, false);
+}
+
+TEST(BlossomForest, DeepNestMakeBase) {
+  NodeId outer = kNoNode;
+  Fixture fx = deep_nest(&outer);
+  // The outermost x: every level below is rebased in turn (a cascade 3000 deep).
+  rebase_and_check(fx, outer, x_of(kDepth), false);
+  ASSERT_FALSE(HasFatalFailure());
+  // The deepest vertex: found 3000 levels down, and every level flips back.
+  rebase_and_check(fx, outer, 0, false);
+  ASSERT_FALSE(HasFatalFailure());
+  // Deep, middle and outer vertices, from a rotated state each time.
+  for (Vertex v : {y_of(1), x_of(kDepth / 2), y_of(kDepth), x_of(2), 0u}) {
+    rebase_and_check(fx, outer, v, false);
+    ASSERT_FALSE(HasFatalFailure());
+  }
+  // Along the cascade, B_k's base is x_k or y_k: exact values at a few levels after the last
+  // rebase at 0 all bases are 0 again.
+  for (std::size_t k : {std::size_t{1}, kDepth / 3, kDepth}) {
+    EXPECT_EQ(fx.forest.base(static_cast<NodeId>(kDeepVertices + k - 1)), 0u) << k;
+  }
+}
+
+TEST(BlossomForest, DeepNestDissolveFromTheTop) {
+  NodeId outer = kNoNode;
+  Fixture fx = deep_nest(&outer);
+  BlossomForest& forest = fx.forest;
+  EXPECT_EQ(forest.top(0), outer);
+  for (std::size_t k = kDepth; k >= 1; --k) {
+    const auto b = static_cast<NodeId>(kDeepVertices + k - 1);
+    forest.dissolve(b);
+    const NodeId below = k == 1 ? NodeId{0} : b - 1;
+    ASSERT_EQ(forest.top(0), below) << k;
+    ASSERT_EQ(forest.top(x_of(k)), x_of(k));
+    ASSERT_EQ(forest.top(y_of(k)), y_of(k));
+    if (k > 1) {
+      ASSERT_EQ(forest.top(y_of(k - 1)), below);
+    }
+  }
+  EXPECT_TRUE(forest.live_blossoms().empty());
+  // Slots come back lowest first.
+  EXPECT_EQ(forest.make_blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}}), kDeepVertices);
+}
+
+}  // namespace
+}  // namespace yoke
