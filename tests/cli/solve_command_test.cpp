@@ -264,6 +264,10 @@ TEST(SolveCommand, UsageErrorsExitTwo) {
       run_yoke(dir, {"solve", file, "--certificate", dir.file("no/such/dir/c.json")});
   EXPECT_EQ(unwritable.exit_code, 2);
   EXPECT_EQ(unwritable.err.rfind("error: cannot write ", 0), 0u) << unwritable.err;
+  const RunResult to_stdout = run_yoke(dir, {"solve", file, "--certificate", "-"});
+  EXPECT_EQ(to_stdout.exit_code, 2);
+  EXPECT_EQ(to_stdout.out, "");
+  EXPECT_NE(to_stdout.err.find("--certificate needs a file path"), std::string::npos) << to_stdout.err;
 }
 
 TEST(SolveCommand, HelpAndVersionExitZero) {

@@ -84,6 +84,10 @@ CLI::App* add_solve_command(CLI::App& app, SolveOptions& options) {
 
 int run_solve(const SolveOptions& options) {
   const Mode mode = parse_mode(options.mode);
+  if (options.certificate_path == "-") {
+    // Standard output carries the solution; a file named "-" would surprise everyone.
+    throw CliError("--certificate needs a file path: standard output carries the solution");
+  }
   EdgeList input = load_edge_list(options.graph_path);
   const std::vector<std::uint64_t> external_ids = std::move(input.external_ids);
   const Graph graph = Graph::from_edges(external_ids.size(), std::move(input.edges));
