@@ -68,9 +68,12 @@ void AlternatingSearch::make_even(Vertex v) {
   scan_queue_.push_back(v);
 }
 
-void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree) {
+void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree,
+                                  bool vertices_already_odd) {
   label_node(node, kOdd, via_even, entry, tree);
-  forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
+  // A child of an expanding odd blossom that stays odd keeps its vertices' lazy duals as they
+  // are (same sign, same start): skipping the pass saves O(|child|) per expanded level.
+  if (!vertices_already_odd) forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
   if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
 }
 
@@ -452,14 +455,14 @@ void AlternatingSearch::expand_odd(NodeId b) {
       std::find(cycle_nodes_.begin(), cycle_nodes_.end(), entry) - cycle_nodes_.begin());
   // Relabel the even-length side of the cycle from the entry child to the base child as a
   // piece of the tree (odd, even, ..., odd); the children on the other side leave the tree.
-  label_odd(entry, reached_from, reached_at, tree);
+  label_odd(entry, reached_from, reached_at, tree, /*vertices_already_odd=*/true);
   std::size_t free_first, free_last;  // the children leaving the tree, [first, last)
   if (i % 2 == 1) {
     for (std::size_t j = i; j != k; j += 2) {
       const CycleEdge matched = cycle_edges_[j];
       const CycleEdge next = cycle_edges_[j + 1];
       label_even(cycle_nodes_[j + 1], matched.from, matched.to, tree);
-      label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree);
+      label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree, true);
     }
     free_first = 1;
     free_last = i;
@@ -468,7 +471,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
       const CycleEdge matched = cycle_edges_[j - 1];
       const CycleEdge next = cycle_edges_[j - 2];
       label_even(cycle_nodes_[j - 1], matched.to, matched.from, tree);
-      label_odd(cycle_nodes_[j - 2], next.to, next.from, tree);
+      label_odd(cycle_nodes_[j - 2], next.to, next.from, tree, true);
     }
     free_first = i + 1;
     free_last = k;

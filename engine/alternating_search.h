@@ -66,7 +66,8 @@ class AlternatingSearch {
   void label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree);
   void label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree);
   void make_even(Vertex v);
-  void label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree);
+  void label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree,
+                 bool vertices_already_odd = false);
   void scan(Vertex v);
   void push_edges_to_even(NodeId node);
   void grow_along(EdgeIndex e);
