@@ -10,7 +10,6 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       weight_offset_(weight_offset),
       half_cycles_mode_(half_cycles),
       cycle_next_(half_cycles ? graph.vertex_count() : 0, kNoVertex),
-      state_(state),
       forest_(state.forest),
       mate_(state.mate),
       dual2_(state.dual2),

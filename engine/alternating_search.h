@@ -105,7 +105,6 @@ class AlternatingSearch {
   const bool half_cycles_mode_;
   std::vector<Vertex> cycle_next_;   // fractional mode: successor on a half-matched cycle
   std::vector<Vertex> half_cycles_;  // fractional mode: one vertex of each cycle formed
-  MatchingState& state_;
   BlossomForest& forest_;
   std::vector<Vertex>& mate_;
   std::vector<Weight>& dual2_;
