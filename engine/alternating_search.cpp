@@ -88,15 +88,20 @@ void AlternatingSearch::scan(Vertex v) {
     const Label label = label_of(top_x);
     if (label == kOdd) continue;  // slack is constant while one end is even and the other odd
     const Weight dual_x = vertex_dual(inc.other);
-    const Weight slack = dual_v + dual_x - 2 * w;
-    // An even end stays even for at most its dual's worth of steps (then its tree ends); an
-    // end that turns even again is rescanned. So an edge whose slack exceeds what its even
-    // ends can still take away never becomes due in this episode: skip it.
-    if (label == kEven) {
-      if (slack <= dual_v + dual_x) bounds_.push(delta_ + slack / 2, inc.edge, kEvenEdge);
-    } else {
-      if (slack <= dual_v) bounds_.push(delta_ + slack, inc.edge, kFreeEdge);
-    }
+    const bool both_even = label == kEven;
+    queue_edge(inc.edge, dual_v + dual_x - 2 * w, both_even ? dual_v + dual_x : dual_v, both_even);
+  }
+}
+
+void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even) {
+  // An even end stays even for at most its dual's worth of steps (then its tree ends), and an
+  // end that turns even again is rescanned. So an edge whose slack exceeds what its even ends
+  // can still take away (`reach`) never becomes due in this episode: skip it.
+  if (slack > reach) return;
+  if (both_even) {
+    bounds_.push(delta_ + slack / 2, e, kEvenEdge);
+  } else {
+    bounds_.push(delta_ + slack, e, kFreeEdge);
   }
 }
 
@@ -107,8 +112,7 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
       const Weight w = inc.w + weight_offset_;
       if (w <= 0 || label_of(forest_.top(inc.other)) != kEven) continue;
       const Weight dual_x = vertex_dual(inc.other);
-      const Weight slack = dual_u + dual_x - 2 * w;
-      if (slack <= dual_x) bounds_.push(delta_ + slack, inc.edge, kFreeEdge);  // as in scan()
+      queue_edge(inc.edge, dual_u + dual_x - 2 * w, dual_x, /*both_even=*/false);
     }
   });
 }
@@ -129,8 +133,7 @@ bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
   const Weight due = delta_ + (both_even ? slack / 2 : slack);
   const auto kind = both_even ? kEvenEdge : kFreeEdge;
   if (due == entry.key && kind == entry.kind) return true;
-  const Weight reach = (a_even ? dual_a : 0) + (b_even ? dual_b : 0);  // as in scan()
-  if (slack <= reach) bounds_.push(due, entry.id, kind);
+  queue_edge(entry.id, slack, (a_even ? dual_a : 0) + (b_even ? dual_b : 0), both_even);
   return false;
 }
 
@@ -192,7 +195,7 @@ void AlternatingSearch::add_root(Vertex root) {
 }
 
 std::size_t AlternatingSearch::run() {
-  std::size_t augmentations = 0;
+  const std::uint64_t augmentations_before = stats_.augmentations;
   while (live_trees_ > 0) {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
@@ -207,7 +210,6 @@ std::size_t AlternatingSearch::run() {
     if (entry.key != delta_) ++stats_.dual_steps;
     delta_ = entry.key;
 
-    const std::uint64_t before = stats_.augmentations;
     switch (entry.kind) {
       case kFreeEdge:
         grow_along(entry.id);
@@ -226,11 +228,10 @@ std::size_t AlternatingSearch::run() {
         end_tree(root);
       }
     }
-    augmentations += stats_.augmentations - before;
   }
   running_ = false;
   stats_.heap_pushes = bounds_.pushes();
-  return augmentations;
+  return stats_.augmentations - augmentations_before;
 }
 
 void AlternatingSearch::grow_along(EdgeIndex e) {
@@ -302,8 +303,8 @@ void AlternatingSearch::end_tree(Vertex root) {
   std::size_t kept = 0;
   for (NodeId node : nodes) {
     if (!in_tree(node)) continue;
-    // Edges from formerly even vertices to other trees already sit in even_edges_ and are
-    // moved to free_edges_ when they surface; odd ones were never queued.
+    // Edges from formerly even vertices to other trees already sit in the queue as even-even
+    // bounds and are requeued as even-free ones when they surface; odd ones were never queued.
     const bool odd = label_of(node) == kOdd;
     if (odd) nodes[kept++] = node;
     settle_blossom_dual(node);

@@ -70,6 +70,7 @@ class AlternatingSearch {
                  bool vertices_already_odd = false);
   void scan(Vertex v);
   void push_edges_to_even(NodeId node);
+  void queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even);
   void grow_along(EdgeIndex e);
   void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
   NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree

@@ -72,11 +72,12 @@ Weight mode_weight_offset(const Graph& graph, Mode mode) {
   }
   const Int128 pairs_bound = std::min<Int128>(graph.vertex_count() / 2, graph.edge_count());
   const Int128 largest_abs = std::max<Int128>(-Int128{min_w}, Int128{max_w});
-  if (largest_abs > kMaxAbsWeight) check_bounds(largest_abs, pairs_bound, "weight");
   if (mode == Mode::max_weight) {
     check_bounds(largest_abs, pairs_bound, "weight");
     return 0;
   }
+  // A raw weight past the bound is named as such before the offset is even computed.
+  if (largest_abs > kMaxAbsWeight) check_bounds(largest_abs, pairs_bound, "weight");
   // Every extra pair must outweigh any weight difference between matchings of consecutive
   // sizes, and every shifted weight must be positive.
   const Int128 offset = pairs_bound * (Int128{max_w} - min_w) + std::max<Int128>(0, -Int128{min_w}) + 1;
