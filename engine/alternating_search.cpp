@@ -244,7 +244,7 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
   const Vertex tree = tree_of_[forest_.top(even_end)];
   if (mate_[base] == kNoVertex) {
     if (half_cycles_mode_ && cycle_next_[free_end] != kNoVertex) open_half_cycle(free_end);
-    if (!forest_.is_vertex(node)) forest_.make_base(node, free_end, mate_);
+    forest_.make_base(node, free_end, mate_);
     mate_[free_end] = even_end;
     flip_path_to_root(even_end, free_end);
     ++stats_.augmentations;
@@ -279,13 +279,13 @@ void AlternatingSearch::flip_path_to_root(Vertex v, Vertex partner) {
   for (;;) {
     const NodeId even_node = forest_.top(v);
     const Vertex odd_vertex = tree_outer_[even_node];
-    if (!forest_.is_vertex(even_node)) forest_.make_base(even_node, v, mate_);
+    forest_.make_base(even_node, v, mate_);
     mate_[v] = partner;
     if (odd_vertex == kNoVertex) return;
     const NodeId odd_node = forest_.top(odd_vertex);
     const Vertex next_even = tree_outer_[odd_node];
     const Vertex entry = tree_inner_[odd_node];
-    if (!forest_.is_vertex(odd_node)) forest_.make_base(odd_node, entry, mate_);
+    forest_.make_base(odd_node, entry, mate_);
     mate_[entry] = next_even;
     v = next_even;
     partner = entry;

@@ -63,6 +63,7 @@ NodeId BlossomForest::child_containing(NodeId b, Vertex v) const {
 }
 
 void BlossomForest::make_base(NodeId b, Vertex v, std::vector<Vertex>& mate) {
+  if (is_vertex(b)) return;  // a vertex is its own base
   base_work_.clear();
   base_work_.push_back({b, v, kNoNode});
   while (!base_work_.empty()) {

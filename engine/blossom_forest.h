@@ -70,7 +70,7 @@ class BlossomForest {
 
   // Rotates blossom `b` (and, recursively, its sub-blossoms) so that v becomes its base,
   // flipping the matched edges inside so that every vertex of b but v stays matched within b.
-  // Iterative; O(|b|) in the worst case.
+  // Iterative; O(|b|) in the worst case; a no-op when b is a vertex.
   void make_base(NodeId b, Vertex v, std::vector<Vertex>& mate);
 
   // Live blossoms in increasing slot order (for certificates and tests). O(n).
@@ -97,7 +97,6 @@ class BlossomForest {
     NodeId entry;  // child of `blossom` holding `vertex`, or kNoNode when not yet known
   };
   std::vector<BaseWork> base_work_;   // scratch for make_base
-  std::vector<NodeId> chain_;         // scratch for make_base
 };
 
 }  // namespace yoke

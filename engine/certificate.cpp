@@ -21,22 +21,7 @@ namespace {
 using certcheck::ForestLayout;
 using certcheck::kNoNode;
 
-std::string text(Int128 value) {
-  if (value == 0) return "0";
-  const bool negative = value < 0;
-  // Through unsigned so that the most negative value also converts.
-  __extension__ typedef unsigned __int128 UInt128;
-  UInt128 magnitude =
-      negative ? UInt128{0} - static_cast<UInt128>(value) : static_cast<UInt128>(value);
-  std::string digits;
-  while (magnitude != 0) {
-    digits.push_back(static_cast<char>('0' + static_cast<int>(magnitude % 10)));
-    magnitude /= 10;
-  }
-  if (negative) digits.push_back('-');
-  std::reverse(digits.begin(), digits.end());
-  return digits;
-}
+std::string text(Int128 value) { return int128_text(value); }
 
 // The parts of one edge's doubled slack, kept for the failure message.
 struct Slack {

@@ -10,18 +10,6 @@
 namespace yoke {
 namespace {
 
-std::string int128_text(Int128 value) {
-  if (value == 0) return "0";
-  const bool negative = value < 0;
-  std::string digits;
-  for (Int128 rest = negative ? -value : value; rest > 0; rest /= 10) {
-    digits.push_back(static_cast<char>('0' + static_cast<int>(rest % 10)));
-  }
-  if (negative) digits.push_back('-');
-  std::reverse(digits.begin(), digits.end());
-  return digits;
-}
-
 void check_bounds(Int128 largest_abs, Int128 pairs_bound, const char* what) {
   if (largest_abs > kMaxAbsWeight) {
     throw InputError(std::string(what) + " " + int128_text(largest_abs) +

@@ -43,6 +43,8 @@ enum class Mode {
 };
 
 const char* mode_name(Mode mode);
+// Decimal text of an exact 128-bit value (for messages).
+std::string int128_text(Int128 value);
 // Parses "max-weight", "max-cardinality" or "perfect"; throws InputError otherwise.
 Mode parse_mode(const std::string& text);
 
