@@ -115,15 +115,4 @@ std::vector<NodeId> BlossomForest::live_blossoms() const {
   return live;
 }
 
-std::size_t BlossomForest::memory_bytes() const {
-  std::size_t bytes = (parent_.capacity() + top_.capacity() + base_.capacity() +
-                       first_leaf_.capacity() + last_leaf_.capacity() + next_leaf_.capacity() +
-                       free_slots_.capacity()) * sizeof(std::uint32_t) +
-                      dual2_.capacity() * sizeof(Weight) +
-                      (children_.capacity() + edges_.capacity()) * sizeof(std::vector<NodeId>);
-  for (const auto& kids : children_) bytes += kids.capacity() * sizeof(NodeId);
-  for (const auto& cycle : edges_) bytes += cycle.capacity() * sizeof(CycleEdge);
-  return bytes;
-}
-
 }  // namespace yoke

@@ -76,8 +76,6 @@ class BlossomForest {
   // Live blossoms in increasing slot order (for certificates and tests). O(n).
   std::vector<NodeId> live_blossoms() const;
 
-  std::size_t memory_bytes() const;
-
  private:
   std::size_t vertex_count_;
   std::vector<NodeId> parent_;        // per node; kNoNode at top level

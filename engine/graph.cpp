@@ -33,11 +33,4 @@ EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
   return index;
 }
 
-std::size_t Graph::memory_bytes() const {
-  std::size_t bytes = edges_.capacity() * sizeof(Edge) +
-                      incidence_.capacity() * sizeof(std::vector<Incidence>);
-  for (const auto& list : incidence_) bytes += list.capacity() * sizeof(Incidence);
-  return bytes;
-}
-
 }  // namespace yoke

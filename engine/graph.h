@@ -47,9 +47,6 @@ class Graph {
   const std::vector<Edge>& edges() const { return edges_; }
   std::span<const Incidence> incident(Vertex v) const { return incidence_[v]; }
 
-  // Bytes held by the store (for memory reports).
-  std::size_t memory_bytes() const;
-
  private:
   std::vector<Edge> edges_;
   std::vector<std::vector<Incidence>> incidence_;
