@@ -245,7 +245,7 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
   if (mate_[base] == kNoVertex) {
     if (half_cycles_mode_ && cycle_next_[free_end] != kNoVertex) open_half_cycle(free_end);
     forest_.make_base(node, free_end, mate_);
-    mate_[free_end] = even_end;
+    mate_.set(free_end, even_end);
     flip_path_to_root(even_end, free_end);
     ++stats_.augmentations;
     end_tree(tree);
@@ -280,13 +280,13 @@ void AlternatingSearch::flip_path_to_root(Vertex v, Vertex partner) {
     const NodeId even_node = forest_.top(v);
     const Vertex odd_vertex = tree_outer_[even_node];
     forest_.make_base(even_node, v, mate_);
-    mate_[v] = partner;
+    mate_.set(v, partner);
     if (odd_vertex == kNoVertex) return;
     const NodeId odd_node = forest_.top(odd_vertex);
     const Vertex next_even = tree_outer_[odd_node];
     const Vertex entry = tree_inner_[odd_node];
     forest_.make_base(odd_node, entry, mate_);
-    mate_[entry] = next_even;
+    mate_.set(entry, next_even);
     v = next_even;
     partner = entry;
   }
@@ -407,7 +407,7 @@ void AlternatingSearch::form_half_cycle(Vertex v, Vertex w) {
   flip_path_to_root(meet, kNoVertex);
   const std::size_t k = cycle_nodes_.size();
   for (std::size_t i = 0; i < k; ++i) {
-    mate_[cycle_nodes_[i]] = kNoVertex;
+    mate_.set(cycle_nodes_[i], kNoVertex);
     cycle_next_[cycle_nodes_[i]] = cycle_nodes_[(i + 1) % k];
   }
   half_cycles_.push_back(meet);
@@ -421,8 +421,8 @@ void AlternatingSearch::open_half_cycle(Vertex x) {
   while (y != x) {
     const Vertex z = cycle_next_[y];
     const Vertex after = cycle_next_[z];
-    mate_[y] = z;
-    mate_[z] = y;
+    mate_.set(y, z);
+    mate_.set(z, y);
     cycle_next_[y] = cycle_next_[z] = kNoVertex;
     y = after;
   }

@@ -107,7 +107,7 @@ class AlternatingSearch {
   std::vector<Vertex> cycle_next_;   // fractional mode: successor on a half-matched cycle
   std::vector<Vertex> half_cycles_;  // fractional mode: one vertex of each cycle formed
   BlossomForest& forest_;
-  std::vector<Vertex>& mate_;
+  Mates& mate_;
   std::vector<Weight>& dual2_;
   SolveStats stats_;
 

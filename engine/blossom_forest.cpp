@@ -1,6 +1,7 @@
 #include "blossom_forest.h"
 
 #include <algorithm>
+#include <type_traits>
 
 namespace yoke {
 
@@ -12,6 +13,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
       dual2_(2 * vertex_count, 0),
       first_leaf_(2 * vertex_count, kNoVertex),
       last_leaf_(2 * vertex_count, kNoVertex),
+      size_(2 * vertex_count, 1),
       next_leaf_(vertex_count, kNoVertex),
       children_(vertex_count),
       edges_(vertex_count) {
@@ -35,8 +37,10 @@ NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
   parent_[b] = kNoNode;
   base_[b] = base_[children.front()];
   dual2_[b] = 0;
+  size_[b] = 0;
   for (std::size_t i = 0; i < children.size(); ++i) {
     parent_[children[i]] = b;
+    size_[b] += size_[children[i]];
     if (i + 1 < children.size()) next_leaf_[last_leaf_[children[i]]] = first_leaf_[children[i + 1]];
   }
   first_leaf_[b] = first_leaf_[children.front()];
@@ -56,13 +60,88 @@ void BlossomForest::dissolve(NodeId b) {
   free_slots_.push_back(b);
 }
 
+void BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
+                                  std::vector<Vertex>& bases) {
+  path_.clear();
+  for (NodeId node = lowest; node != kNoNode; node = parent_[node]) path_.push_back(node);
+  // Walk down from the top. A vertex receives the pushes of all dissolved blossoms holding it at
+  // once, when its child leaves the path: every vertex of the top blossom is visited once.
+  Weight pushed = 0;
+  for (std::size_t level = path_.size(); level-- > 0;) {
+    const NodeId b = path_[level];
+    const NodeId next = level > 0 ? path_[level - 1] : kNoNode;
+    pushed += dual2_[b] / 2;  // z2 is even: blossom duals move in steps of 2
+    bases.push_back(base_[b]);
+    for (NodeId child : children_[b - vertex_count_]) {
+      parent_[child] = kNoNode;
+      if (child == next) continue;
+      for_each_vertex(child, [&](Vertex x) {
+        vertex_dual2[x] += pushed;
+        top_[x] = child;
+      });
+    }
+    children_[b - vertex_count_].clear();
+    edges_[b - vertex_count_].clear();
+    dual2_[b] = 0;
+    base_[b] = kNoVertex;
+    free_slots_.push_back(b);
+  }
+}
+
+void BlossomForest::grow(std::size_t vertex_count) {
+  const std::size_t old_n = vertex_count_;
+  if (vertex_count <= old_n) return;
+  const std::size_t shift = vertex_count - old_n;
+  auto moved = [&](NodeId id) {
+    return id == kNoNode || id < old_n ? id : static_cast<NodeId>(id + shift);
+  };
+  auto remap_nodes = [&](auto& per_node, auto fill, bool values_are_nodes) {
+    std::remove_reference_t<decltype(per_node)> grown(2 * vertex_count, fill);
+    for (std::size_t id = 0; id < 2 * old_n; ++id) {
+      auto value = per_node[id];
+      if constexpr (std::is_same_v<decltype(value), NodeId>) {
+        if (values_are_nodes) value = moved(value);
+      }
+      grown[moved(static_cast<NodeId>(id))] = value;
+    }
+    per_node = std::move(grown);
+  };
+  remap_nodes(parent_, kNoNode, true);
+  remap_nodes(base_, kNoVertex, false);
+  remap_nodes(dual2_, Weight{0}, false);
+  remap_nodes(first_leaf_, kNoVertex, false);
+  remap_nodes(last_leaf_, kNoVertex, false);
+  remap_nodes(size_, std::uint32_t{1}, false);
+  for (NodeId& t : top_) t = moved(t);
+  top_.resize(vertex_count);
+  next_leaf_.resize(vertex_count, kNoVertex);
+  for (std::size_t v = old_n; v < vertex_count; ++v) {
+    top_[v] = base_[v] = first_leaf_[v] = last_leaf_[v] = static_cast<Vertex>(v);
+  }
+  for (auto& kids : children_) {
+    for (NodeId& child : kids) child = moved(child);
+  }
+  children_.resize(vertex_count);
+  edges_.resize(vertex_count);
+  // New slots go below the old free ones, lowest nearest the top, so slots keep being handed
+  // out lowest first among the new ones.
+  std::vector<NodeId> free_slots;
+  free_slots.reserve(vertex_count);
+  for (std::size_t slot = 2 * vertex_count; slot > vertex_count + old_n; --slot) {
+    free_slots.push_back(static_cast<NodeId>(slot - 1));
+  }
+  for (NodeId slot : free_slots_) free_slots.push_back(moved(slot));
+  free_slots_ = std::move(free_slots);
+  vertex_count_ = vertex_count;
+}
+
 NodeId BlossomForest::child_containing(NodeId b, Vertex v) const {
   NodeId node = v;
   while (parent_[node] != b) node = parent_[node];
   return node;
 }
 
-void BlossomForest::make_base(NodeId b, Vertex v, std::vector<Vertex>& mate) {
+void BlossomForest::make_base(NodeId b, Vertex v, Mates& mate) {
   if (is_vertex(b)) return;  // a vertex is its own base
   base_work_.clear();
   base_work_.push_back({b, v, kNoNode});
@@ -91,8 +170,8 @@ void BlossomForest::make_base(NodeId b, Vertex v, std::vector<Vertex>& mate) {
     // one: the edges that become matched are every other edge of that path.
     auto match_edge = [&](std::size_t j) {
       const CycleEdge e = cycle[j];
-      mate[e.from] = e.to;
-      mate[e.to] = e.from;
+      mate.set(e.from, e.to);
+      mate.set(e.to, e.from);
       base_work_.push_back({kids[j], e.from, kNoNode});
       base_work_.push_back({kids[(j + 1) % k], e.to, kNoNode});
     };

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "certificate.h"
+#include "mates.h"
 #include "types.h"
 
 namespace yoke {
@@ -65,13 +66,29 @@ class BlossomForest {
   // Dissolves top-level blossom `b` into its children, which become top-level. O(|b|).
   void dissolve(NodeId b);
 
+  // Dissolves blossom `lowest` and all its ancestors, moving their duals
+  // onto their vertices: each vertex gains z/2 of every dissolved blossom holding it (doubled:
+  // `vertex_dual2` += z2/2). Edges inside a dissolved blossom keep their slack and edges leaving
+  // it gain, so feasibility holds; only the matched edges at the dissolved blossoms' bases can
+  // lose tightness, and those bases are appended to `bases` for the caller to check.
+  // O(size of the top blossom), however deep the path.
+  void dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
+                     std::vector<Vertex>& bases);
+
+  // Number of vertices in `node`. O(1).
+  std::uint32_t size(NodeId node) const { return size_[node]; }
+
+  // Makes room for vertices up to `vertex_count` (isolated, top level). Blossom ids change:
+  // call only when no node id is held outside the forest. O(new vertex_count).
+  void grow(std::size_t vertex_count);
+
   // The child of blossom `b` that contains vertex v. O(depth of v below b).
   NodeId child_containing(NodeId b, Vertex v) const;
 
   // Rotates blossom `b` (and, recursively, its sub-blossoms) so that v becomes its base,
   // flipping the matched edges inside so that every vertex of b but v stays matched within b.
   // Iterative; O(|b|) in the worst case; a no-op when b is a vertex.
-  void make_base(NodeId b, Vertex v, std::vector<Vertex>& mate);
+  void make_base(NodeId b, Vertex v, Mates& mate);
 
   // Live blossoms in increasing slot order (for certificates and tests). O(n).
   std::vector<NodeId> live_blossoms() const;
@@ -84,6 +101,7 @@ class BlossomForest {
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
   std::vector<Vertex> first_leaf_;    // per node
   std::vector<Vertex> last_leaf_;     // per node
+  std::vector<std::uint32_t> size_;   // per node: number of vertices
   std::vector<Vertex> next_leaf_;     // per vertex
   std::vector<std::vector<NodeId>> children_;   // per blossom slot
   std::vector<std::vector<CycleEdge>> edges_;   // per blossom slot
@@ -95,6 +113,7 @@ class BlossomForest {
     NodeId entry;  // child of `blossom` holding `vertex`, or kNoNode when not yet known
   };
   std::vector<BaseWork> base_work_;   // scratch for make_base
+  std::vector<NodeId> path_;          // scratch for dissolve_path
 };
 
 }  // namespace yoke

@@ -25,12 +25,65 @@ Vertex Graph::add_vertex() {
   return static_cast<Vertex>(incidence_.size() - 1);
 }
 
+void Graph::grow_vertices(std::size_t vertex_count) {
+  if (vertex_count > incidence_.size()) incidence_.resize(vertex_count);
+}
+
 EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
-  const auto index = static_cast<EdgeIndex>(edges_.size());
-  edges_.push_back({a, b, w});
+  EdgeIndex index;
+  if (free_edges_.empty()) {
+    index = static_cast<EdgeIndex>(edges_.size());
+    edges_.push_back({a, b, w});
+    if (tracking_) positions_.emplace_back();
+  } else {
+    index = free_edges_.back();
+    free_edges_.pop_back();
+    edges_[index] = {a, b, w};
+  }
+  if (tracking_) {
+    positions_[index] = {static_cast<std::uint32_t>(incidence_[a].size()),
+                         static_cast<std::uint32_t>(incidence_[b].size())};
+  }
   incidence_[a].push_back({b, index, w});
   incidence_[b].push_back({a, index, w});
   return index;
+}
+
+void Graph::track_positions() {
+  if (tracking_) return;
+  tracking_ = true;
+  positions_.assign(edges_.size(), {0, 0});
+  for (Vertex v = 0; v < incidence_.size(); ++v) {
+    for (std::uint32_t i = 0; i < incidence_[v].size(); ++i) {
+      const EdgeIndex e = incidence_[v][i].edge;
+      (edges_[e].a == v ? positions_[e].in_a : positions_[e].in_b) = i;
+    }
+  }
+}
+
+void Graph::set_weight(EdgeIndex e, Weight w) {
+  Edge& edge = edges_[e];
+  edge.w = w;
+  incidence_[edge.a][positions_[e].in_a].w = w;
+  incidence_[edge.b][positions_[e].in_b].w = w;
+}
+
+void Graph::remove_incidence(Vertex v, std::uint32_t at) {
+  // Swap-remove: the last entry moves into the hole, and its edge learns its new position.
+  std::vector<Incidence>& list = incidence_[v];
+  const Incidence moved = list.back();
+  list[at] = moved;
+  list.pop_back();
+  if (at == list.size()) return;
+  (edges_[moved.edge].a == v ? positions_[moved.edge].in_a : positions_[moved.edge].in_b) = at;
+}
+
+void Graph::remove_edge(EdgeIndex e) {
+  const Edge edge = edges_[e];
+  remove_incidence(edge.a, positions_[e].in_a);
+  remove_incidence(edge.b, positions_[e].in_b);
+  edges_[e] = {kNoVertex, kNoVertex, 0};
+  free_edges_.push_back(e);
 }
 
 }  // namespace yoke

@@ -1,8 +1,9 @@
 // The graph store: dense vertices, edges in a flat array, per-vertex incidence lists.
 //
-// Cost: add_vertex and add_edge are amortised O(1); incident(v) is O(1). The store never hands
-// out pointers that a later insertion could invalidate except the spans of incident(), which
-// stay valid until the next mutation of that vertex.
+// Cost: add_vertex and add_edge are amortised O(1); incident(v) is O(1); with positions
+// tracked (track_positions), set_weight and remove_edge are O(1) too. The store never hands out
+// pointers that a later mutation could invalidate except the spans of incident(), which stay
+// valid until the next mutation of that vertex.
 #pragma once
 
 #include <span>
@@ -38,18 +39,41 @@ class Graph {
   static Graph from_edges(std::size_t vertex_count, std::vector<Edge> edges);
 
   Vertex add_vertex();
-  // Preconditions: a != b, both exist, {a, b} is not an edge yet.
+  // Adds isolated vertices up to `vertex_count` (a pool grows its capacity this way).
+  void grow_vertices(std::size_t vertex_count);
+  // Preconditions: a != b, both exist, {a, b} is not an edge yet. Reuses the slot of a removed
+  // edge when there is one.
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
 
+  // From now on, remember where each edge sits in its ends' incidence lists, so that weight
+  // changes and removals cost O(1). O(m) once.
+  void track_positions();
+  // Preconditions: positions are tracked, e is live.
+  void set_weight(EdgeIndex e, Weight w);
+  void remove_edge(EdgeIndex e);
+
   std::size_t vertex_count() const { return incidence_.size(); }
-  std::size_t edge_count() const { return edges_.size(); }
+  std::size_t edge_count() const { return edges_.size() - free_edges_.size(); }
+  // Edge slots in use or freed: edges() holds removed slots (a == kNoVertex) once an edge was
+  // removed; is_live tells them apart.
+  std::size_t edge_slots() const { return edges_.size(); }
+  bool is_live(EdgeIndex e) const { return edges_[e].a != kNoVertex; }
   const Edge& edge(EdgeIndex e) const { return edges_[e]; }
   const std::vector<Edge>& edges() const { return edges_; }
   std::span<const Incidence> incident(Vertex v) const { return incidence_[v]; }
 
  private:
+  struct Positions {
+    std::uint32_t in_a;  // index of the edge's entry in incidence_[a]
+    std::uint32_t in_b;
+  };
+  void remove_incidence(Vertex v, std::uint32_t at);
+
   std::vector<Edge> edges_;
   std::vector<std::vector<Incidence>> incidence_;
+  bool tracking_ = false;
+  std::vector<Positions> positions_;  // per edge slot, while tracking
+  std::vector<EdgeIndex> free_edges_;  // removed slots, reused last-in first-out
 };
 
 }  // namespace yoke

@@ -29,8 +29,8 @@ void greedy_start(const Graph& graph, Weight weight_offset, MatchingState& state
     for (const Incidence& inc : graph.incident(v)) {
       if (state.mate[inc.other] != kNoVertex) continue;
       if (state.dual2[v] + state.dual2[inc.other] == 2 * weight(inc.edge)) {
-        state.mate[v] = inc.other;
-        state.mate[inc.other] = v;
+        state.mate.set(v, inc.other);
+        state.mate.set(inc.other, v);
         break;
       }
     }

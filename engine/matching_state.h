@@ -6,15 +6,16 @@
 #include <vector>
 
 #include "blossom_forest.h"
+#include "mates.h"
 #include "types.h"
 
 namespace yoke {
 
 struct MatchingState {
   explicit MatchingState(std::size_t vertex_count = 0)
-      : mate(vertex_count, kNoVertex), dual2(vertex_count, 0), forest(vertex_count) {}
+      : mate(vertex_count), dual2(vertex_count, 0), forest(vertex_count) {}
 
-  std::vector<Vertex> mate;   // kNoVertex when exposed
+  Mates mate;                 // kNoVertex when exposed
   std::vector<Weight> dual2;  // 2 u(v)
   BlossomForest forest;
 };

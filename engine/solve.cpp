@@ -26,7 +26,7 @@ Certificate make_certificate(const MatchingState& state, Mode mode, Weight weigh
   Certificate cert;
   cert.mode = mode;
   cert.weight_offset = weight_offset;
-  cert.mate = state.mate;
+  cert.mate = state.mate.values();
   cert.vertex_dual2 = state.dual2;
   const auto n = static_cast<NodeId>(state.mate.size());
   const std::vector<NodeId> live = state.forest.live_blossoms();
@@ -107,7 +107,7 @@ SolveResult solve(const Graph& graph, Mode mode) {
     result.stats.warm_start_scans = stats.scans;
     result.stats.warm_start_pushes = stats.heap_pushes;
   }  // the search's scratch is released before the certificate is built
-  result.mate = state.mate;
+  result.mate = state.mate.values();
   for (Vertex v = 0; v < n; ++v) {
     const Vertex m = state.mate[v];
     if (m == kNoVertex || m < v) continue;

@@ -26,7 +26,7 @@ bool same_edges(const std::vector<CycleEdge>& x, const std::vector<CycleEdge>& y
 // A forest built by hand, with what was given to make_blossom kept aside so the checks do not
 // rely on the forest's own view of itself.
 struct Fixture {
-  explicit Fixture(std::size_t n) : forest(n), mate(n, kNoVertex) {}
+  explicit Fixture(std::size_t n) : forest(n), mate(n) {}
 
   NodeId blossom(const std::vector<NodeId>& children, const std::vector<CycleEdge>& edges) {
     const NodeId b = forest.make_blossom(children, edges);
@@ -35,12 +35,12 @@ struct Fixture {
     return b;
   }
   void match(Vertex a, Vertex b) {
-    mate[a] = b;
-    mate[b] = a;
+    mate.set(a, b);
+    mate.set(b, a);
   }
 
   BlossomForest forest;
-  std::vector<Vertex> mate;
+  Mates mate;
   std::map<NodeId, std::pair<std::vector<NodeId>, std::vector<CycleEdge>>> given;
   std::set<Pair> cycle_edges;  // every cycle edge at every level
 };
@@ -87,7 +87,7 @@ std::vector<T> rotated(std::vector<T> v, std::size_t r) {
 // is matched inside it (O(size x depth)).
 void check_structure(const Fixture& fx, NodeId top_blossom, bool all_vertices) {
   const BlossomForest& forest = fx.forest;
-  const std::vector<Vertex>& mate = fx.mate;
+  const Mates& mate = fx.mate;
   std::vector<NodeId> stack = {top_blossom};
   while (!stack.empty()) {
     const NodeId b = stack.back();
@@ -174,7 +174,7 @@ void rebase_and_check(Fixture& fx, NodeId b, Vertex v, bool all_vertices = true)
   }
   EXPECT_EQ(matched, members.size() - 1);
   // The caller then matches v outside b (here: leaves it exposed).
-  fx.mate[v] = kNoVertex;
+  fx.mate.set(v, kNoVertex);
   check_structure(fx, b, all_vertices);
 }
 
@@ -242,7 +242,7 @@ TEST(BlossomForest, MakeBaseEveryVertexOfFiveCycle) {
     NodeId b = kNoNode;
     Fixture fx = five_cycle(&b);
     fx.forest.make_base(b, 2, fx.mate);
-    EXPECT_EQ(fx.mate, (std::vector<Vertex>{1, 0, 1, 4, 3, 0, kNoVertex}));  // mate[2] stale
+    EXPECT_EQ(fx.mate.values(), (std::vector<Vertex>{1, 0, 1, 4, 3, 0, kNoVertex}));  // mate[2] stale
     const std::vector<CycleEdge> edges = {{2, 3}, {3, 4}, {4, 0}, {0, 1}, {1, 2}};
     EXPECT_TRUE(same_edges(fx.forest.cycle_edges(b), edges));
   }
@@ -250,7 +250,7 @@ TEST(BlossomForest, MakeBaseEveryVertexOfFiveCycle) {
     NodeId b = kNoNode;
     Fixture fx = five_cycle(&b);
     fx.forest.make_base(b, 3, fx.mate);
-    EXPECT_EQ(fx.mate, (std::vector<Vertex>{4, 2, 1, 4, 0, 0, kNoVertex}));  // mate[3] stale
+    EXPECT_EQ(fx.mate.values(), (std::vector<Vertex>{4, 2, 1, 4, 0, 0, kNoVertex}));  // mate[3] stale
     EXPECT_EQ(fx.forest.children(b), (std::vector<NodeId>{3, 4, 0, 1, 2}));
   }
 }

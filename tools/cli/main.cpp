@@ -8,6 +8,7 @@
 #include "cli_error.h"
 #include "engine/types.h"
 #include "gen_command.h"
+#include "replay_command.h"
 #include "solve_command.h"
 #include "verify_command.h"
 
@@ -16,8 +17,10 @@ namespace {
 using namespace yoke::cli;
 
 constexpr const char* kExitCodesHelp =
-    "Exit codes: 0 done; 1 verify rejected the certificate; 2 error in the invocation or the\n"
-    "input (the message names FILE:LINE); 3 solve --mode perfect found no perfect matching.";
+    "Exit codes: 0 done; 1 verify rejected the certificate, or replay --verify found a commit\n"
+    "whose certificate fails; 2 error in the invocation or the input (the message names\n"
+    "FILE:LINE; for replay also a batch the pool rejects); 3 solve --mode perfect found no\n"
+    "perfect matching.";
 
 int report_usage_error(const CLI::App& app, const CLI::ParseError& error) {
   if (error.get_exit_code() == 0) return app.exit(error);  // --help, --version
@@ -45,9 +48,11 @@ int main(int argc, char** argv) {
   SolveOptions solve_options;
   VerifyOptions verify_options;
   GenOptions gen_options;
+  ReplayOptions replay_options;
   const CLI::App* solve = add_solve_command(app, solve_options);
   const CLI::App* verify = add_verify_command(app, verify_options);
   const CLI::App* gen = add_gen_command(app, gen_options);
+  const CLI::App* replay = add_replay_command(app, replay_options);
 
   try {
     app.parse(argc, argv);
@@ -59,6 +64,7 @@ int main(int argc, char** argv) {
     if (solve->parsed()) return run_solve(solve_options);
     if (verify->parsed()) return run_verify(verify_options);
     if (gen->parsed()) return run_gen(gen_options);
+    if (replay->parsed()) return run_replay(replay_options);
     return report_error("", "no command given");
   } catch (const CliError& error) {
     return report_error("", error.what());

@@ -1,0 +1,35 @@
+// The events a pool takes: vertex arrivals and departures and edge weight changes, grouped in
+// batches. A batch ends with a commit, after which the pool's matching is optimal again.
+#pragma once
+
+#include <cstdint>
+#include <string>
+
+#include "types.h"
+
+namespace yoke {
+
+// A vertex as the outside world names it: any 64-bit key. The pool maps keys to dense slots.
+using VertexKey = std::uint64_t;
+
+enum class EventKind : std::uint8_t {
+  add_vertex,     // vertex u arrives with no edges (an error if it exists)
+  set_edge,       // insert edge {u, v} or change its weight to w; u and v arrive if new
+  unset_edge,     // remove edge {u, v} (an error if there is none); u and v stay
+  remove_vertex,  // vertex u departs with all its edges (an error if it does not exist)
+};
+
+struct Event {
+  EventKind kind = EventKind::add_vertex;
+  VertexKey u = 0;
+  VertexKey v = 0;  // set_edge and unset_edge only
+  Weight w = 0;     // set_edge only
+};
+
+// Why an event of a batch was rejected: its position in the batch and a message in words.
+struct EventError {
+  std::size_t index = 0;
+  std::string message;
+};
+
+}  // namespace yoke

@@ -1,0 +1,28 @@
+#include "mates.h"
+
+#include <algorithm>
+
+namespace yoke {
+
+void Mates::resize(std::size_t vertex_count) {
+  mate_.resize(vertex_count, kNoVertex);
+  if (!written_.empty() || journal_open_) {
+    written_.resize(vertex_count, 0);
+    position_.resize(vertex_count, 0);
+  }
+}
+
+void Mates::open_journal() {
+  if (written_.size() != mate_.size()) {
+    written_.resize(mate_.size(), 0);
+    position_.resize(mate_.size(), 0);
+  }
+  if (++epoch_ == 0) {  // wrapped: old epochs could collide, so clear them once
+    std::fill(written_.begin(), written_.end(), 0);
+    epoch_ = 1;
+  }
+  journal_.clear();
+  journal_open_ = true;
+}
+
+}  // namespace yoke

@@ -1,0 +1,149 @@
+#include "pool.h"
+
+#include <algorithm>
+
+#include "pool_state.h"
+
+namespace yoke {
+
+PoolState::PoolState(Mode pool_mode, PoolLimits pool_limits)
+    : mode(pool_mode),
+      limits(pool_limits),
+      weight_offset(resolve_limits(pool_mode, limits)),
+      matching(graph.capacity()),
+      search(std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching)),
+      node_mark(2 * graph.capacity(), 0) {}
+
+void PoolState::fit_capacity() {
+  const std::size_t n = graph.capacity();
+  matching.mate.resize(n);
+  matching.dual2.resize(n, 0);
+  matching.forest.grow(n);
+  node_mark.assign(2 * n, 0);
+  node_stamp = 0;
+  // The search's per-node arrays follow the capacity; it keeps no state between runs.
+  search = std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching);
+}
+
+Pool::Pool(Mode mode, PoolLimits limits) : state_(std::make_unique<State>(mode, limits)) {}
+Pool::~Pool() = default;
+
+Mode Pool::mode() const { return state_->mode; }
+const PoolLimits& Pool::limits() const { return state_->limits; }
+
+CommitResult Pool::commit(std::span<const Event> batch) {
+  State& pool = *state_;
+  pool.stats = {};
+  pool.root_candidates.clear();
+  pool.weight_before.clear();
+  pool.matching.mate.open_journal();
+  for (const Event& event : batch) apply_event(pool, event);
+  search_from_roots(pool);
+
+  CommitResult result;
+  result.diff = collect_diff(pool);
+  pool.matching.mate.close_journal();
+  pool.graph.release_slots();
+  result.commit = ++pool.commits;
+  result.weight = pool.weight;
+  result.pairs = pool.pairs;
+  result.stats = pool.stats;
+  if (pool.mode == Mode::perfect && 2 * pool.pairs != pool.graph.vertex_count()) {
+    result.status = SolveStatus::no_perfect_matching;
+  }
+  return result;
+}
+
+Weight Pool::weight() const { return state_->weight; }
+std::size_t Pool::pairs() const { return state_->pairs; }
+std::size_t Pool::vertex_count() const { return state_->graph.vertex_count(); }
+std::size_t Pool::edge_count() const { return state_->graph.edge_count(); }
+std::uint64_t Pool::commits() const { return state_->commits; }
+bool Pool::has_vertex(VertexKey key) const { return state_->graph.find(key) != kNoVertex; }
+
+std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
+  const Vertex v = state_->graph.find(key);
+  if (v == kNoVertex) return std::nullopt;
+  const Vertex m = state_->matching.mate[v];
+  if (m == kNoVertex) return std::nullopt;
+  return state_->graph.key(m);
+}
+
+std::vector<MatchedPair> Pool::matching() const {
+  const State& pool = *state_;
+  std::vector<MatchedPair> pairs;
+  pairs.reserve(pool.pairs);
+  for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
+    const Vertex m = pool.matching.mate[v];
+    if (m == kNoVertex || m < v) continue;
+    const VertexKey a = pool.graph.key(v);
+    const VertexKey b = pool.graph.key(m);
+    const Weight w = pool.graph.graph().edge(pool.graph.find_edge(v, m)).w;
+    pairs.push_back({std::min(a, b), std::max(a, b), w});
+  }
+  std::sort(pairs.begin(), pairs.end(), [](const MatchedPair& x, const MatchedPair& y) {
+    return x.a != y.a ? x.a < y.a : x.b < y.b;
+  });
+  return pairs;
+}
+
+PoolExport Pool::export_certified() const {
+  const State& pool = *state_;
+  const std::size_t capacity = pool.graph.capacity();
+  PoolExport out;
+  std::vector<Vertex> dense(capacity, kNoVertex);
+  for (Vertex v = 0; v < capacity; ++v) {
+    if (!pool.graph.alive(v)) continue;
+    dense[v] = static_cast<Vertex>(out.keys.size());
+    out.keys.push_back(pool.graph.key(v));
+  }
+  const std::size_t n = out.keys.size();
+  std::vector<Edge> edges;
+  edges.reserve(pool.graph.edge_count());
+  for (Vertex v = 0; v < capacity; ++v) {
+    for (const Incidence& inc : pool.graph.graph().incident(v)) {
+      if (v < inc.other) edges.push_back({dense[v], dense[inc.other], inc.w});
+    }
+  }
+  out.graph = Graph::from_edges(n, std::move(edges));
+
+  Certificate& cert = out.certificate;
+  cert.mode = pool.mode;
+  cert.weight_offset = pool.weight_offset;
+  cert.mate.assign(n, kNoVertex);
+  cert.vertex_dual2.assign(n, 0);
+  for (Vertex v = 0; v < capacity; ++v) {
+    if (dense[v] == kNoVertex) continue;
+    const Vertex m = pool.matching.mate[v];
+    cert.mate[dense[v]] = m == kNoVertex ? kNoVertex : dense[m];
+    cert.vertex_dual2[dense[v]] = pool.matching.dual2[v];
+  }
+  const BlossomForest& forest = pool.matching.forest;
+  const std::vector<NodeId> live = forest.live_blossoms();
+  std::vector<NodeId> index_of(capacity, kNoNode);  // blossom slot - capacity -> certificate index
+  for (std::size_t k = 0; k < live.size(); ++k) index_of[live[k] - capacity] = static_cast<NodeId>(k);
+  cert.blossoms.reserve(live.size());
+  for (NodeId b : live) {
+    CertificateBlossom blossom;
+    blossom.dual2 = forest.dual2(b);
+    blossom.base = dense[forest.base(b)];
+    for (NodeId child : forest.children(b)) {
+      blossom.children.push_back(forest.is_vertex(child)
+                                     ? dense[child]
+                                     : static_cast<NodeId>(n + index_of[child - capacity]));
+    }
+    cert.blossoms.push_back(std::move(blossom));
+  }
+  if (pool.mode == Mode::perfect) {
+    if (2 * pool.pairs == n) {
+      // Perfect-matching duals for the original weights: shift each u by offset/2.
+      for (Weight& d : cert.vertex_dual2) d -= pool.weight_offset;
+      cert.weight_offset = 0;
+    } else {
+      cert.mode = Mode::max_cardinality;  // evidence of the shortfall
+    }
+  }
+  return out;
+}
+
+}  // namespace yoke

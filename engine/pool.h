@@ -1,0 +1,112 @@
+// A pool: a graph that changes batch by batch, with its maximum-weight matching and the dual
+// solution that proves it optimal kept warm in memory.
+//
+// A commit applies a batch of events and repairs the optimum locally (DESIGN.md section 4):
+// each event restores dual feasibility at the edge or vertex it changes, dissolving only the
+// blossoms it breaks; then one primal-dual search from the vertices that break the optimality
+// conditions ends in augmentations or in dual changes. Cost: O(R log R) for the region R the
+// repair touches, never a pass over all vertices. The diff is collected while repairing.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <optional>
+#include <span>
+#include <utility>
+#include <vector>
+
+#include "certificate.h"
+#include "events.h"
+#include "graph.h"
+#include "solve.h"
+#include "types.h"
+
+namespace yoke {
+
+// What a pool accepts. The bounds keep every engine value inside 64-bit integers: see
+// resolve_limits() for the rules and DEVELOPERS.md ("Bounds") for the numbers.
+struct PoolLimits {
+  std::size_t max_vertices = std::size_t{1} << 22;  // alive at once
+  std::size_t max_edges = std::size_t{1} << 26;     // alive at once
+  // Largest accepted |w|. 0 picks the largest the mode allows with max_vertices.
+  Weight max_abs_weight = 0;
+};
+
+// A pair of the matching, by the outside world's keys (a < b), with its weight.
+struct MatchedPair {
+  VertexKey a = 0;
+  VertexKey b = 0;
+  Weight w = 0;
+  friend bool operator==(const MatchedPair&, const MatchedPair&) = default;
+};
+
+// How the matching changed in one commit: the pairs it lost and the pairs it gained, each
+// sorted by (a, b). A pair whose weight changed but stayed matched is in neither list.
+struct MatchingDiff {
+  std::vector<MatchedPair> removed;  // with the weight the pair had before the batch
+  std::vector<MatchedPair> added;    // with its weight after the batch
+};
+
+struct RepairStats {
+  std::uint64_t events = 0;
+  std::uint64_t roots = 0;               // exposed vertices that broke the conditions
+  std::uint64_t searches = 0;            // alternating trees grown
+  std::uint64_t augmentations = 0;
+  std::uint64_t blossoms_dissolved = 0;  // by events (the search forms and expands its own)
+  std::uint64_t vertices_touched = 0;    // vertex visits: scans, labels, dual pushes
+};
+
+struct CommitResult {
+  std::uint64_t commit = 0;  // 1 for the first commit of the pool
+  SolveStatus status = SolveStatus::optimal;  // no_perfect_matching only in perfect mode
+  Weight weight = 0;         // sum of the matched edges' weights
+  std::size_t pairs = 0;
+  MatchingDiff diff;
+  RepairStats stats;
+};
+
+// The pool as a static graph (dense ids 0..n-1; keys[i] names vertex i) with its certificate,
+// for the independent checker and for comparisons with a from-scratch solve.
+struct PoolExport {
+  Graph graph;
+  std::vector<VertexKey> keys;
+  Certificate certificate;
+};
+
+class Pool {
+ public:
+  // Throws InputError when the limits exceed what the mode can keep exact.
+  explicit Pool(Mode mode, PoolLimits limits = {});
+  ~Pool();
+  Pool(const Pool&) = delete;
+  Pool& operator=(const Pool&) = delete;
+
+  Mode mode() const;
+  const PoolLimits& limits() const;
+
+  // The first event of `batch` that cannot be applied to the current state (unknown vertex or
+  // edge, self loop, weight out of range, a limit exceeded), or nothing. Earlier events of the
+  // batch count: `add 7` then `set 7 8 1` is fine. Leaves the pool untouched. O(batch).
+  std::optional<EventError> check(std::span<const Event> batch) const;
+
+  // Applies a batch and repairs the optimum. Precondition: check(batch) found nothing.
+  CommitResult commit(std::span<const Event> batch);
+
+  Weight weight() const;
+  std::size_t pairs() const;
+  std::size_t vertex_count() const;  // alive vertices
+  std::size_t edge_count() const;
+  std::uint64_t commits() const;
+  bool has_vertex(VertexKey key) const;
+  std::optional<VertexKey> mate_of(VertexKey key) const;
+  // Every pair, sorted. O(n).
+  std::vector<MatchedPair> matching() const;
+  // O(n + m + blossom sizes).
+  PoolExport export_certified() const;
+
+ private:
+  struct State;
+  std::unique_ptr<State> state_;
+};
+
+}  // namespace yoke

@@ -1,0 +1,255 @@
+// Event-level repair (DESIGN.md section 4). Every event leaves the duals feasible, matched and
+// blossom-cycle edges tight and blossoms full; the only condition it may break is "an exposed
+// vertex has dual 0", at vertices it queues as roots for the search that ends the commit.
+#include <algorithm>
+
+#include "pool_state.h"
+
+namespace yoke {
+namespace {
+
+class EventRepair {
+ public:
+  explicit EventRepair(PoolState& pool)
+      : pool_(pool),
+        graph_(pool.graph),
+        mate_(pool.matching.mate),
+        dual2_(pool.matching.dual2),
+        forest_(pool.matching.forest) {}
+
+  void apply(const Event& event) {
+    switch (event.kind) {
+      case EventKind::add_vertex:
+        ensure_vertex(event.u);
+        break;
+      case EventKind::set_edge:
+        set_edge(ensure_vertex(event.u), ensure_vertex(event.v), event.w);
+        break;
+      case EventKind::unset_edge:
+        unset_edge(graph_.find(event.u), graph_.find(event.v));
+        break;
+      case EventKind::remove_vertex:
+        remove_vertex(graph_.find(event.u));
+        break;
+    }
+  }
+
+ private:
+  struct Common {
+    NodeId lowest;  // the smallest blossom holding both ends, kNoNode when none does
+    Weight z2;      // doubled duals of every blossom holding both ends
+  };
+
+  Vertex ensure_vertex(VertexKey key) {
+    Vertex v = graph_.find(key);
+    if (v != kNoVertex) return v;
+    v = graph_.add_vertex(key);
+    if (graph_.capacity() != mate_.size()) pool_.fit_capacity();
+    dual2_[v] = 0;  // a fresh slot: exposed, top level, dual 0 (a freed slot was left so)
+    return v;
+  }
+
+  void set_edge(Vertex a, Vertex b, Weight w) {
+    const EdgeIndex e = graph_.find_edge(a, b);
+    if (e == kNoEdge) {
+      restore_edge(a, b, graph_.add_edge(a, b, w), /*tight_before=*/false);
+      return;
+    }
+    const Weight before = graph_.graph().edge(e).w;
+    if (before == w) return;
+    remember_weight_before(a, b, before);
+    const bool tight_before = slack2(a, b, e) == 0;
+    graph_.set_weight(e, w);
+    restore_edge(a, b, e, tight_before);
+  }
+
+  // After edge e = {a, b} got its weight: keep the blossom that relied on it only if it still
+  // can, then make the edge feasible again and its matched state consistent with its slack.
+  void restore_edge(Vertex a, Vertex b, EdgeIndex e, bool tight_before) {
+    dissolve_if_cycle_edge(a, b, tight_before);
+    const Weight slack = slack2(a, b, e);
+    if (slack < 0) {
+      lift(a, b, e);
+    } else if (slack > 0 && mate_[a] == b) {
+      unmatch(a, b);
+    }
+  }
+
+  void unset_edge(Vertex a, Vertex b) {
+    const EdgeIndex e = graph_.find_edge(a, b);
+    remember_weight_before(a, b, graph_.graph().edge(e).w);
+    dissolve_if_cycle_edge(a, b, slack2(a, b, e) == 0);
+    if (mate_[a] == b) unmatch(a, b);
+    graph_.remove_edge(e);
+  }
+
+  void remove_vertex(Vertex v) {
+    if (forest_.parent(v) != kNoNode) dissolve_from(forest_.parent(v));
+    if (mate_[v] != kNoVertex) unmatch(v, mate_[v]);
+    // v is a top-level vertex now: none of its edges is on a blossom's cycle.
+    while (!graph_.graph().incident(v).empty()) {
+      const Incidence inc = graph_.graph().incident(v).back();
+      remember_weight_before(v, inc.other, inc.w);
+      graph_.remove_edge(inc.edge);
+    }
+    dual2_[v] = 0;
+    graph_.remove_vertex(v);
+    ++pool_.stats.vertices_touched;
+  }
+
+  // A blossom whose cycle uses {a, b} keeps its structure only while that edge stays tight:
+  // dissolve it (and the blossoms around it) before the edge changes its slack.
+  void dissolve_if_cycle_edge(Vertex a, Vertex b, bool tight_before) {
+    if (!tight_before) return;
+    const Common common = common_blossom(a, b);
+    if (common.lowest == kNoNode) return;
+    // A matched edge inside a blossom is on the cycle of the smallest blossom holding both ends.
+    if (mate_[a] == b || is_cycle_edge(common.lowest, a, b)) dissolve_from(common.lowest);
+  }
+
+  bool is_cycle_edge(NodeId blossom, Vertex a, Vertex b) const {
+    for (const CycleEdge& edge : forest_.cycle_edges(blossom)) {
+      if ((edge.from == a && edge.to == b) || (edge.from == b && edge.to == a)) return true;
+    }
+    return false;
+  }
+
+  // Edge {a, b} has negative slack: raise the dual of one end until it is tight. The end must
+  // be a top-level vertex, so its blossoms are dissolved first; its matched edge, if not {a, b},
+  // loses tightness and is given up.
+  void lift(Vertex a, Vertex b, EdgeIndex e) {
+    const Vertex x = lift_cost(b) < lift_cost(a) ? b : a;
+    const Vertex y = x == a ? b : a;
+    if (forest_.parent(x) != kNoNode) dissolve_from(forest_.parent(x));
+    const Weight slack = slack2(x, y, e);
+    if (slack < 0) dual2_[x] -= slack;
+    const Vertex m = mate_[x];
+    if (m != kNoVertex && (m != y || slack > 0)) unmatch(x, m);
+    pool_.root_candidates.push_back(x);
+  }
+
+  // Lifting a top-level vertex touches nothing else; lifting inside a blossom dissolves it.
+  std::size_t lift_cost(Vertex v) const {
+    const NodeId top = forest_.top(v);
+    return forest_.is_vertex(top) ? (mate_[v] == kNoVertex ? 0 : 1) : 1 + forest_.size(top);
+  }
+
+  void dissolve_from(NodeId lowest) {
+    NodeId top = lowest;
+    while (forest_.parent(top) != kNoNode) top = forest_.parent(top);
+    pool_.stats.vertices_touched += forest_.size(top);
+    bases_.clear();
+    forest_.dissolve_path(lowest, dual2_, bases_);
+    pool_.stats.blossoms_dissolved += bases_.size();
+    for (Vertex base : bases_) recheck_matched_edge(base);
+  }
+
+  // After a dissolution the base's matched edge may have gained slack: then it is no longer
+  // worth keeping. An exposed base may have gained dual: then it is a root.
+  void recheck_matched_edge(Vertex base) {
+    const Vertex m = mate_[base];
+    if (m == kNoVertex) {
+      pool_.root_candidates.push_back(base);
+      return;
+    }
+    if (slack2(base, m, graph_.find_edge(base, m)) > 0) unmatch(base, m);
+  }
+
+  void unmatch(Vertex a, Vertex b) {
+    mate_.set(a, kNoVertex);
+    mate_.set(b, kNoVertex);
+    pool_.root_candidates.push_back(a);
+    pool_.root_candidates.push_back(b);
+  }
+
+  void remember_weight_before(Vertex a, Vertex b, Weight w) {
+    if (mate_.before(a) == b) pool_.weight_before.try_emplace(slot_pair(a, b), w);
+  }
+
+  Weight slack2(Vertex a, Vertex b, EdgeIndex e) {
+    return dual2_[a] + dual2_[b] + common_blossom(a, b).z2 - pool_.weight2(e);
+  }
+
+  // O(depth of a and b in their blossom).
+  Common common_blossom(Vertex a, Vertex b) {
+    if (forest_.top(a) != forest_.top(b)) return {kNoNode, 0};
+    if (++pool_.node_stamp == 0) {
+      std::fill(pool_.node_mark.begin(), pool_.node_mark.end(), 0);
+      pool_.node_stamp = 1;
+    }
+    for (NodeId node = forest_.parent(a); node != kNoNode; node = forest_.parent(node)) {
+      pool_.node_mark[node] = pool_.node_stamp;
+    }
+    NodeId lowest = forest_.parent(b);
+    while (pool_.node_mark[lowest] != pool_.node_stamp) lowest = forest_.parent(lowest);
+    Weight z2 = 0;
+    for (NodeId node = lowest; node != kNoNode; node = forest_.parent(node)) z2 += forest_.dual2(node);
+    return {lowest, z2};
+  }
+
+  PoolState& pool_;
+  PoolGraph& graph_;
+  Mates& mate_;
+  std::vector<Weight>& dual2_;
+  BlossomForest& forest_;
+  std::vector<Vertex> bases_;
+};
+
+}  // namespace
+
+void apply_event(PoolState& pool, const Event& event) {
+  EventRepair(pool).apply(event);
+  ++pool.stats.events;
+}
+
+void search_from_roots(PoolState& pool) {
+  std::vector<Vertex>& roots = pool.root_candidates;
+  const Mates& mate = pool.matching.mate;
+  std::vector<Weight>& dual2 = pool.matching.dual2;
+  const BlossomForest& forest = pool.matching.forest;
+  std::sort(roots.begin(), roots.end());
+  roots.erase(std::unique(roots.begin(), roots.end()), roots.end());
+  std::erase_if(roots, [&](Vertex v) {
+    return !pool.graph.alive(v) || mate[v] != kNoVertex || dual2[v] == 0;
+  });
+  if (roots.empty()) return;
+  pool.stats.roots += roots.size();
+
+  // All roots of one run share a dual parity, so that every dual step is integral. A root that
+  // is a plain vertex takes any parity (raising an exposed vertex's dual keeps every slack >= 0);
+  // a root blossom cannot, and one of the other parity waits for a second run.
+  std::int64_t parity = 0;
+  for (Vertex v : roots) {
+    if (!forest.is_vertex(forest.top(v))) {
+      parity = dual2[v] & 1;
+      break;
+    }
+  }
+  AlternatingSearch& search = *pool.search;
+  const SolveStats before = search.stats();
+  std::vector<Vertex> later;
+  for (Vertex v : roots) {
+    if ((dual2[v] & 1) == parity) {
+      search.add_root(v);
+    } else if (forest.is_vertex(forest.top(v))) {
+      dual2[v] += 1;
+      search.add_root(v);
+    } else {
+      later.push_back(v);
+    }
+  }
+  search.run();
+  bool again = false;
+  for (Vertex v : later) {
+    if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // a tree of the first run reached it
+    search.add_root(v);
+    again = true;
+  }
+  if (again) search.run();
+  const SolveStats& after = search.stats();
+  pool.stats.searches += after.searches - before.searches;
+  pool.stats.augmentations += after.augmentations - before.augmentations;
+  pool.stats.vertices_touched += after.scans - before.scans;
+}
+
+}  // namespace yoke

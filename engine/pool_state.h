@@ -1,0 +1,68 @@
+// What a pool holds between commits, shared by the files that implement Pool (pool.cpp,
+// pool_check.cpp, pool_repair.cpp, pool_diff.cpp). Not part of the public interface.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <unordered_map>
+#include <vector>
+
+#include "alternating_search.h"
+#include "matching_state.h"
+#include "pool.h"
+#include "pool_graph.h"
+
+namespace yoke {
+
+// Fills in the limits the caller left open and checks that the mode keeps them exact; returns
+// the weight offset of the mode. Throws InputError naming the bound that fails.
+Weight resolve_limits(Mode mode, PoolLimits& limits);
+
+struct PoolState {
+  PoolState(Mode mode, PoolLimits limits);
+
+  // Grows every per-vertex array to graph.capacity() after the graph gained slots. Blossom ids
+  // change, so no node id may be held across this call.
+  void fit_capacity();
+
+  Weight weight2(EdgeIndex e) const { return 2 * (graph.graph().edge(e).w + weight_offset); }
+
+  const Mode mode;
+  PoolLimits limits;
+  const Weight weight_offset;  // added to every weight (max-cardinality and perfect modes)
+
+  PoolGraph graph;
+  MatchingState matching;                    // mate, doubled duals, blossom forest by slot
+  std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
+  std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
+  std::uint32_t node_stamp = 0;
+
+  Weight weight = 0;  // sum of the matched edges' weights
+  std::size_t pairs = 0;
+  std::uint64_t commits = 0;
+
+  // Per commit.
+  std::vector<Vertex> root_candidates;  // may break "exposed => dual 0"; checked before searching
+  // Edges matched before the batch whose weight the batch changed or that it removed: their
+  // weight before the batch, by pair of slots (the diff reports it, the objective needs it).
+  std::unordered_map<std::uint64_t, Weight> weight_before;
+  RepairStats stats;
+};
+
+struct Pool::State : PoolState {
+  using PoolState::PoolState;
+};
+
+inline std::uint64_t slot_pair(Vertex a, Vertex b) {
+  return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
+}
+
+// Applies one event and restores every optimality condition except "an exposed vertex has
+// dual 0" at the vertices it queues in root_candidates. Precondition: the event passed check.
+void apply_event(PoolState& pool, const Event& event);
+// Grows alternating trees from the queued roots until the matching is optimal again.
+void search_from_roots(PoolState& pool);
+// The diff of the commit, read from the mate journal; updates pool.weight and pool.pairs.
+MatchingDiff collect_diff(PoolState& pool);
+
+}  // namespace yoke

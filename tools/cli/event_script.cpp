@@ -1,0 +1,213 @@
+#include "event_script.h"
+
+#include <algorithm>
+#include <array>
+#include <charconv>
+#include <limits>
+
+#include "cli_error.h"
+#include "file_io.h"
+#include "id_map.h"
+
+namespace yoke::cli {
+namespace {
+
+bool is_blank(char c) { return c == ' ' || c == '\t' || c == '\r' || c == '\v' || c == '\f'; }
+
+// The tokens of one line up to its comment: the verb and at most three fields are kept, the
+// count covers them all (so "set 1 2 3 4" can say it found 4 fields).
+struct Tokens {
+  std::array<std::string_view, 4> values;
+  std::size_t count = 0;
+};
+
+Tokens split_tokens(std::string_view line) {
+  Tokens tokens;
+  std::size_t i = 0;
+  while (i < line.size()) {
+    while (i < line.size() && is_blank(line[i])) ++i;
+    if (i == line.size() || line[i] == '#') break;
+    const std::size_t start = i;
+    while (i < line.size() && !is_blank(line[i])) ++i;
+    if (tokens.count < tokens.values.size()) {
+      tokens.values[tokens.count] = line.substr(start, i - start);
+    }
+    ++tokens.count;
+  }
+  return tokens;
+}
+
+// A token as an error message shows it: quoted, cut short, control bytes escaped, so that a
+// binary file or a huge line cannot flood the terminal.
+std::string shown(std::string_view token) {
+  constexpr std::size_t kMaxShown = 40;
+  constexpr char kHex[] = "0123456789abcdef";
+  std::string out = "'";
+  for (std::size_t i = 0; i < token.size() && i < kMaxShown; ++i) {
+    const auto c = static_cast<unsigned char>(token[i]);
+    if (c >= 0x20 && c < 0x7f) {
+      out += static_cast<char>(c);
+    } else {
+      out += "\\x";
+      out += kHex[c >> 4];
+      out += kHex[c & 0xf];
+    }
+  }
+  if (token.size() > kMaxShown) out += "...";
+  return out + "'";
+}
+
+// The verbs with the fields each takes after it.
+struct VerbForm {
+  std::string_view verb;
+  const char* fields;  // as the usage message shows them
+  std::size_t field_count;
+};
+
+constexpr std::array<VerbForm, 5> kVerbForms{{
+    {"add", "U", 1},
+    {"set", "U V W", 3},
+    {"unset", "U V", 2},
+    {"remove", "U", 1},
+    {"commit", "", 0},
+}};
+
+const VerbForm* find_verb(std::string_view verb) {
+  for (const VerbForm& form : kVerbForms) {
+    if (form.verb == verb) return &form;
+  }
+  return nullptr;
+}
+
+// Builds the script batch by batch and keeps the pre-scan counts.
+class ScriptBuilder {
+ public:
+  explicit ScriptBuilder(std::size_t line_count)
+      // Ids up to twice the line count (small dense ids in practice) take IdMap's flat path.
+      : ids_(std::max<std::uint64_t>(IdMap::kDefaultDirectLimit, 2 * std::uint64_t{line_count})) {}
+
+  void parse_line(std::string_view text, std::size_t line) {
+    const Tokens tokens = split_tokens(text);
+    if (tokens.count == 0) return;  // blank or comment only
+    const VerbForm* form = find_verb(tokens.values[0]);
+    if (form == nullptr) {
+      throw EventScriptError(line, "unknown verb " + shown(tokens.values[0]) +
+                                       " (expected add, set, unset, remove or commit)");
+    }
+    if (tokens.count - 1 != form->field_count) {
+      std::string usage = std::string(form->verb);
+      if (form->field_count > 0) usage += std::string(" ") + form->fields;
+      throw EventScriptError(line, "'" + usage + "' takes " + std::to_string(form->field_count) +
+                                       (form->field_count == 1 ? " field" : " fields") +
+                                       " after the verb, found " +
+                                       std::to_string(tokens.count - 1));
+    }
+    if (form->verb == "commit") {
+      current_.commit_line = line;
+      script_.batches.push_back(std::move(current_));
+      current_ = {};
+      return;
+    }
+    current_.events.push_back(parse_event(*form, tokens, line));
+    current_.lines.push_back(line);
+    ++script_.event_count;
+  }
+
+  EventScript finish() && {
+    if (!current_.events.empty()) script_.batches.push_back(std::move(current_));
+    script_.distinct_vertices = ids_.size();
+    return std::move(script_);
+  }
+
+ private:
+  Event parse_event(const VerbForm& form, const Tokens& tokens, std::size_t line) {
+    Event event;
+    event.u = vertex_id(tokens.values[1], line);
+    if (form.verb == "add") {
+      event.kind = EventKind::add_vertex;
+    } else if (form.verb == "remove") {
+      event.kind = EventKind::remove_vertex;
+    } else {
+      event.kind = form.verb == "set" ? EventKind::set_edge : EventKind::unset_edge;
+      event.v = vertex_id(tokens.values[2], line);
+      if (event.u == event.v) {
+        throw EventScriptError(line, "self loop on vertex " + std::to_string(event.u));
+      }
+      if (event.kind == EventKind::set_edge) event.w = weight(tokens.values[3], line);
+    }
+    return event;
+  }
+
+  VertexKey vertex_id(std::string_view token, std::size_t line) {
+    VertexKey id = 0;
+    parse_integer(token, id, "vertex id", line);
+    if (ids_.intern(id) == kNoVertex) {
+      throw EventScriptError(line, "too many distinct vertex ids (at most 4294967294)");
+    }
+    return id;
+  }
+
+  Weight weight(std::string_view token, std::size_t line) {
+    Weight w = 0;
+    parse_integer(token, w, "weight", line);
+    // |w| as unsigned, exact also for the most negative weight.
+    const std::uint64_t magnitude =
+        w < 0 ? std::uint64_t{0} - static_cast<std::uint64_t>(w) : static_cast<std::uint64_t>(w);
+    script_.largest_abs_weight = std::max(script_.largest_abs_weight, magnitude);
+    return w;
+  }
+
+  // Parses the whole token as an integer of type T, or throws saying why not.
+  template <typename T>
+  static void parse_integer(std::string_view token, T& value, const char* what,
+                            std::size_t line) {
+    const auto [end, error] = std::from_chars(token.data(), token.data() + token.size(), value);
+    if (error == std::errc::result_out_of_range) {
+      throw EventScriptError(line, std::string(what) + " " + shown(token) +
+                                       " is out of range (" +
+                                       std::to_string(std::numeric_limits<T>::min()) + " .. " +
+                                       std::to_string(std::numeric_limits<T>::max()) + ")");
+    }
+    if (error != std::errc() || end != token.data() + token.size()) {
+      throw EventScriptError(line, std::string(what) + " " + shown(token) + " is not " +
+                                       (std::numeric_limits<T>::is_signed
+                                            ? "an integer"
+                                            : "a non-negative integer"));
+    }
+  }
+
+  EventScript script_;
+  ScriptBatch current_;
+  IdMap ids_;
+};
+
+}  // namespace
+
+EventScriptError::EventScriptError(std::size_t line, const std::string& problem)
+    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
+      line_(line),
+      problem_(problem) {}
+
+EventScript parse_event_script(std::string_view text) {
+  const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
+  ScriptBuilder builder(line_count);
+  std::size_t line = 0;
+  while (!text.empty()) {
+    const std::size_t newline = text.find('\n');
+    builder.parse_line(text.substr(0, newline), ++line);
+    text.remove_prefix(newline == std::string_view::npos ? text.size() : newline + 1);
+  }
+  return std::move(builder).finish();
+}
+
+EventScript load_event_script(const std::string& path) {
+  const std::string text = read_whole_input(path);
+  try {
+    return parse_event_script(text);
+  } catch (const EventScriptError& error) {
+    throw CliError(display_name(path) + ":" + std::to_string(error.line()) + ": " +
+                   error.problem());
+  }
+}
+
+}  // namespace yoke::cli

@@ -1,0 +1,64 @@
+// The event script, input of `yoke replay` (DESIGN.md section 6): a plain-text event stream,
+// one event per line, cut into batches by `commit` lines.
+//
+//     add U          vertex U arrives with no edges
+//     set U V W      insert edge {U,V} or change its weight (U and V arrive if new)
+//     unset U V      remove edge {U,V}; U and V stay
+//     remove U       remove vertex U and all its edges
+//     commit         end of a batch
+//
+// U and V are unsigned 64-bit ids, W a signed 64-bit weight; tokens are separated by spaces or
+// tabs. Blank lines are ignored, and '#' at the start of a token begins a comment that runs to
+// the end of the line. Events after the last `commit` form one more batch, committed at the end
+// of the file; an empty batch (`commit` right after `commit`) is a commit with no events.
+//
+// The parser checks the form of each line only; whether an event fits the pool's state (an
+// unknown vertex, a missing edge, a weight beyond the pool's limits) is Pool::check's job.
+#pragma once
+
+#include <cstdint>
+#include <stdexcept>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "engine/events.h"
+
+namespace yoke::cli {
+
+struct ScriptBatch {
+  std::vector<Event> events;
+  std::vector<std::size_t> lines;  // lines[i]: the 1-based line of events[i]
+  std::size_t commit_line = 0;     // the `commit` line; 0 for the implicit one at end of file
+};
+
+struct EventScript {
+  std::vector<ScriptBatch> batches;
+  std::size_t event_count = 0;
+  // The pre-scan that sizes a pool for the whole script: how many distinct vertex ids the
+  // script mentions, and the largest |W| of any `set` (2^63 for W = -2^63).
+  std::size_t distinct_vertices = 0;
+  std::uint64_t largest_abs_weight = 0;
+};
+
+// A malformed script: the first offending line (1-based) and what is wrong with it.
+class EventScriptError : public std::runtime_error {
+ public:
+  EventScriptError(std::size_t line, const std::string& problem);
+  std::size_t line() const { return line_; }
+  const std::string& problem() const { return problem_; }
+
+ private:
+  std::size_t line_;
+  std::string problem_;
+};
+
+// Parses a whole script. Throws EventScriptError for the first bad line: an unknown verb, a
+// wrong number of fields, an id or weight that is not an integer or out of range, or a `set`
+// or `unset` of a self loop. Cost O(size of text + number of events).
+EventScript parse_event_script(std::string_view text);
+
+// Reads `path` ("-" for stdin) whole and parses it. Throws CliError "FILE:LINE: problem".
+EventScript load_event_script(const std::string& path);
+
+}  // namespace yoke::cli

@@ -1,0 +1,251 @@
+#include "replay_command.h"
+
+#include <algorithm>
+#include <charconv>
+#include <chrono>
+#include <cmath>
+#include <iostream>
+#include <optional>
+#include <set>
+#include <utility>
+#include <vector>
+
+#include "cli_error.h"
+#include "engine/certificate.h"
+#include "engine/pool.h"
+#include "event_script.h"
+#include "file_io.h"
+
+namespace yoke::cli {
+namespace {
+
+constexpr const char* kScriptHelp =
+    "Script: one event per line; blank lines and '#' comments are ignored.\n"
+    "  add U        vertex U arrives with no edges\n"
+    "  set U V W    insert edge {U,V} or change its weight (U and V arrive if new)\n"
+    "  unset U V    remove edge {U,V}; U and V stay\n"
+    "  remove U     remove vertex U and all its edges\n"
+    "  commit       end of a batch: repair the optimum and report it\n"
+    "Ids are unsigned 64-bit, W signed 64-bit. Events after the last commit are committed at\n"
+    "the end of the file. A batch the pool rejects stops the replay (exit 2) before any of it\n"
+    "is applied.\n"
+    "Output, per commit I (from 1):\n"
+    "  commit I weight W pairs K repair_us T\n"
+    "  note commit I: no perfect matching (K pairs for N vertices)    [perfect mode]\n"
+    "  - A B / + A B    pairs removed, then added (A < B, sorted)     [--diffs]\n"
+    "and after the last commit with --stats:\n"
+    "  stats commits N events E\n"
+    "  stats repair_us p50 A p90 B p99 C max D\n"
+    "  stats searches_per_commit mean X max Y\n"
+    "  stats touched_per_commit mean X p99 Y max Z\n"
+    "  stats events_per_second X\n"
+    "Only the timings differ between runs.";
+
+using KeyPair = std::pair<VertexKey, VertexKey>;
+
+// Sized to the whole script: every id it mentions may be alive at once, and the largest |W|
+// it sets is the bound (the smallest bound keeps max-cardinality's offset exact the longest).
+PoolLimits limits_for(const EventScript& script) {
+  PoolLimits limits;
+  limits.max_vertices = std::max<std::size_t>(2, script.distinct_vertices);
+  const auto largest = std::min<std::uint64_t>(script.largest_abs_weight, kMaxAbsWeight);
+  limits.max_abs_weight = std::max<Weight>(1, static_cast<Weight>(largest));
+  return limits;
+}
+
+// A pool for the script. When the script's weights are beyond what the mode keeps exact, the
+// pool takes the mode's largest bound instead, so that Pool::check names the offending line.
+Pool make_pool(Mode mode, const EventScript& script, const std::string& path) {
+  PoolLimits limits = limits_for(script);
+  try {
+    return Pool(mode, limits);
+  } catch (const InputError&) {
+  }
+  limits.max_abs_weight = 0;
+  try {
+    return Pool(mode, limits);
+  } catch (const InputError& error) {
+    throw CliError(display_name(path) + ": " + error.what());
+  }
+}
+
+// --verify: the diffs must add up to the certificate's matching, and the certificate must hold.
+class CommitVerifier {
+ public:
+  // The reason the commit fails verification, or nothing.
+  std::optional<std::string> check(const Pool& pool, const CommitResult& result) {
+    if (auto problem = apply_diff(result.diff)) return problem;
+    const PoolExport exported = pool.export_certified();
+    const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
+    if (!verdict.ok) return verdict.failure;
+
+    std::vector<KeyPair> pairs;
+    Int128 weight = 0;
+    for (const Edge& e : exported.graph.edges()) {
+      if (exported.certificate.mate[e.a] != e.b) continue;
+      const VertexKey a = exported.keys[e.a];
+      const VertexKey b = exported.keys[e.b];
+      pairs.emplace_back(std::min(a, b), std::max(a, b));
+      weight += e.w;
+    }
+    if (pairs.size() != result.pairs) {
+      return "the certificate's matching has " + std::to_string(pairs.size()) +
+             " pairs, the commit reported " + std::to_string(result.pairs);
+    }
+    if (weight != result.weight) {
+      return "the certificate's matching weighs " + int128_text(weight) +
+             ", the commit reported " + std::to_string(result.weight);
+    }
+    std::sort(pairs.begin(), pairs.end());
+    if (!std::equal(pairs.begin(), pairs.end(), matched_.begin(), matched_.end())) {
+      return std::string("the certificate's matching differs from the one the diffs add up to");
+    }
+    return std::nullopt;
+  }
+
+ private:
+  std::optional<std::string> apply_diff(const MatchingDiff& diff) {
+    for (const MatchedPair& pair : diff.removed) {
+      if (matched_.erase({pair.a, pair.b}) == 0) {
+        return "the diff removes " + text(pair) + ", which was not matched";
+      }
+    }
+    for (const MatchedPair& pair : diff.added) {
+      if (!matched_.insert({pair.a, pair.b}).second) {
+        return "the diff adds " + text(pair) + ", which was already matched";
+      }
+    }
+    return std::nullopt;
+  }
+
+  static std::string text(const MatchedPair& pair) {
+    return "pair " + std::to_string(pair.a) + " " + std::to_string(pair.b);
+  }
+
+  std::set<KeyPair> matched_;  // the matching the diffs so far add up to
+};
+
+// --stats: per-commit numbers kept for percentiles, totals for the rates.
+class ReplayStats {
+ public:
+  void record(const CommitResult& result, std::size_t events, std::uint64_t repair_ns) {
+    repair_us_.push_back(repair_ns / 1000);
+    searches_.push_back(result.stats.searches);
+    touched_.push_back(result.stats.vertices_touched);
+    events_ += events;
+    repair_ns_ += repair_ns;
+  }
+
+  void print(std::ostream& out) {
+    std::sort(repair_us_.begin(), repair_us_.end());
+    std::sort(searches_.begin(), searches_.end());
+    std::sort(touched_.begin(), touched_.end());
+    out << "stats commits " << repair_us_.size() << " events " << events_ << '\n';
+    out << "stats repair_us p50 " << percentile(repair_us_, 50) << " p90 "
+        << percentile(repair_us_, 90) << " p99 " << percentile(repair_us_, 99) << " max "
+        << percentile(repair_us_, 100) << '\n';
+    out << "stats searches_per_commit mean " << mean(searches_) << " max "
+        << percentile(searches_, 100) << '\n';
+    out << "stats touched_per_commit mean " << mean(touched_) << " p99 "
+        << percentile(touched_, 99) << " max " << percentile(touched_, 100) << '\n';
+    const double per_second =
+        events_ == 0 ? 0.0
+                     : static_cast<double>(events_) * 1e9 /
+                           static_cast<double>(std::max<std::uint64_t>(repair_ns_, 1));
+    out << "stats events_per_second " << std::llround(per_second) << '\n';
+  }
+
+ private:
+  // Nearest rank: the smallest value with at least p% of the list at or below it. 0 if empty.
+  static std::uint64_t percentile(const std::vector<std::uint64_t>& sorted, std::uint64_t p) {
+    if (sorted.empty()) return 0;
+    const std::uint64_t rank = std::max<std::uint64_t>(1, (p * sorted.size() + 99) / 100);
+    return sorted[rank - 1];
+  }
+
+  // With two decimals; 0.00 if empty.
+  static std::string mean(const std::vector<std::uint64_t>& values) {
+    double sum = 0;
+    for (const std::uint64_t v : values) sum += static_cast<double>(v);
+    const double value = values.empty() ? 0.0 : sum / static_cast<double>(values.size());
+    char text[64];
+    const auto end = std::to_chars(text, text + sizeof text, value, std::chars_format::fixed, 2);
+    return std::string(text, end.ptr);
+  }
+
+  std::vector<std::uint64_t> repair_us_;
+  std::vector<std::uint64_t> searches_;
+  std::vector<std::uint64_t> touched_;
+  std::uint64_t events_ = 0;
+  std::uint64_t repair_ns_ = 0;
+};
+
+void print_diff(std::ostream& out, const MatchingDiff& diff) {
+  for (const MatchedPair& pair : diff.removed) out << "- " << pair.a << ' ' << pair.b << '\n';
+  for (const MatchedPair& pair : diff.added) out << "+ " << pair.a << ' ' << pair.b << '\n';
+}
+
+}  // namespace
+
+CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
+  CLI::App* command = app.add_subcommand(
+      "replay", "Replay an event script through an incremental pool, one line per commit");
+  command->add_option("SCRIPT", options.script_path, "Event-script file, or - for stdin")
+      ->required();
+  command->add_option("--mode", options.mode, "What to optimise")
+      ->check(CLI::IsMember({"max-weight", "max-cardinality", "perfect"}))
+      ->capture_default_str();
+  command->add_flag("--verify", options.verify,
+                    "Check the optimality certificate after every commit (exit 1 if one fails)");
+  command->add_flag("--stats", options.stats, "Print summary lines after the last commit");
+  command->add_flag("--diffs", options.diffs, "Print the pairs each commit removed and added");
+  command->footer(kScriptHelp);
+  return command;
+}
+
+int run_replay(const ReplayOptions& options) {
+  const Mode mode = parse_mode(options.mode);
+  const EventScript script = load_event_script(options.script_path);
+  Pool pool = make_pool(mode, script, options.script_path);
+  CommitVerifier verifier;
+  ReplayStats stats;
+  std::ostream& out = std::cout;
+
+  std::uint64_t index = 0;
+  for (const ScriptBatch& batch : script.batches) {
+    ++index;
+    if (const auto rejected = pool.check(batch.events)) {
+      throw CliError(display_name(options.script_path) + ":" +
+                     std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
+    }
+    const auto start = std::chrono::steady_clock::now();
+    const CommitResult result = pool.commit(batch.events);
+    const auto repair_ns = static_cast<std::uint64_t>(
+        std::chrono::duration_cast<std::chrono::nanoseconds>(std::chrono::steady_clock::now() -
+                                                             start)
+            .count());
+
+    out << "commit " << index << " weight " << result.weight << " pairs " << result.pairs
+        << " repair_us " << repair_ns / 1000 << '\n';
+    if (result.status == SolveStatus::no_perfect_matching) {
+      out << "note commit " << index << ": no perfect matching (" << result.pairs
+          << " pairs for " << pool.vertex_count() << " vertices)\n";
+    }
+    if (options.diffs) print_diff(out, result.diff);
+    if (options.stats) stats.record(result, batch.events.size(), repair_ns);
+    if (options.verify) {
+      if (const auto failure = verifier.check(pool, result)) {
+        out.flush();
+        std::cerr << "error: commit " << index << ": certificate check failed: " << *failure
+                  << "\n";
+        return kExitCertificateRejected;
+      }
+    }
+  }
+  if (options.stats) stats.print(out);
+  out.flush();
+  if (!out) throw CliError("cannot write the result to stdout");
+  return kExitOk;
+}
+
+}  // namespace yoke::cli

@@ -1,0 +1,42 @@
+// `yoke replay SCRIPT [--mode M] [--verify] [--stats] [--diffs]`: feeds an event script to a
+// pool batch by batch and prints one line per commit (DESIGN.md section 6):
+//
+//     commit I weight W pairs K repair_us T
+//
+// with, in this order after it: `note commit I: no perfect matching (K pairs for N vertices)`
+// (perfect mode only), and with --diffs one `- A B` per removed pair then one `+ A B` per added
+// pair (A < B, sorted). With --stats, summary lines follow the last commit:
+//
+//     stats commits N events E
+//     stats repair_us p50 A p90 B p99 C max D
+//     stats searches_per_commit mean X max Y
+//     stats touched_per_commit mean X p99 Y max Z
+//     stats events_per_second X
+//
+// repair_us is the time of Pool::commit alone (not the check, not --verify), in whole
+// microseconds. Percentiles are nearest-rank, means have two decimals, events_per_second is
+// all events over all repair time. Only the timings vary between runs of the same script.
+#pragma once
+
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+namespace yoke::cli {
+
+struct ReplayOptions {
+  std::string script_path;
+  std::string mode = "max-weight";
+  bool verify = false;  // check the certificate after every commit
+  bool stats = false;   // summary lines at the end
+  bool diffs = false;   // the pairs each commit removed and added
+};
+
+CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
+
+// Returns kExitOk, or kExitCertificateRejected when --verify finds a commit whose certificate
+// fails (the message is on stderr). Throws CliError for an unreadable or malformed script and
+// for a batch the pool rejects ("FILE:LINE: why", nothing of that batch applied).
+int run_replay(const ReplayOptions& options);
+
+}  // namespace yoke::cli
