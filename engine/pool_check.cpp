@@ -53,6 +53,7 @@ class BatchCheck {
         if (!exists(event.u)) return "remove names unknown vertex " + text(event.u);
         vertex_[event.u].alive = false;
         ++vertex_[event.u].generation;  // its edges go with it
+        --alive_change_;
         return std::nullopt;
     }
     return "unknown event kind";
@@ -84,7 +85,8 @@ class BatchCheck {
     return it == vertex_.end() ? 0 : it->second.generation;
   }
   std::optional<std::string> arrive(VertexKey key) {
-    if (pool_.graph.vertex_count() + ++vertices_added_ > pool_.limits.max_vertices) {
+    if (static_cast<std::ptrdiff_t>(pool_.graph.vertex_count()) + ++alive_change_ >
+        static_cast<std::ptrdiff_t>(pool_.limits.max_vertices)) {
       return "the pool would exceed its limit of " + std::to_string(pool_.limits.max_vertices) +
              " vertices";
     }
@@ -107,7 +109,9 @@ class BatchCheck {
   const PoolState& pool_;
   std::unordered_map<VertexKey, VertexState> vertex_;
   std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
-  std::size_t vertices_added_ = 0;
+  std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
+  // Edges inserted so far; removals do not count (a departure's edges are not enumerated), so
+  // the edge limit is checked conservatively.
   std::size_t edges_added_ = 0;
 };
 
