@@ -37,8 +37,18 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   pool.root_candidates.clear();
   pool.weight_before.clear();
   pool.matching.mate.open_journal();
-  for (const Event& event : batch) apply_event(pool, event);
-  search_from_roots(pool);
+  if (pool.graph.vertex_count() == 0) {
+    // Nothing to repair: the first batch (or one after the pool emptied) is solved from scratch.
+    for (const Event& event : batch) load_event(pool, event);
+    const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
+    pool.stats.initial_solve = true;
+    pool.stats.searches = solved.searches;
+    pool.stats.augmentations = solved.augmentations;
+    pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
+  } else {
+    for (const Event& event : batch) apply_event(pool, event);
+    search_from_roots(pool);
+  }
 
   CommitResult result;
   result.diff = collect_diff(pool);

@@ -53,7 +53,8 @@ struct RepairStats {
   std::uint64_t searches = 0;            // alternating trees grown
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_dissolved = 0;  // by events (the search forms and expands its own)
-  std::uint64_t vertices_touched = 0;    // vertex visits: scans, labels, dual pushes
+  std::uint64_t vertices_touched = 0;    // vertex visits: scans and dual pushes
+  bool initial_solve = false;  // the pool was empty before the batch: solved from scratch
 };
 
 struct CommitResult {

@@ -197,6 +197,43 @@ class EventRepair {
 
 }  // namespace
 
+void load_event(PoolState& pool, const Event& event) {
+  PoolGraph& graph = pool.graph;
+  auto ensure_vertex = [&](VertexKey key) {
+    Vertex v = graph.find(key);
+    if (v != kNoVertex) return v;
+    v = graph.add_vertex(key);
+    if (graph.capacity() != pool.matching.mate.size()) pool.fit_capacity();
+    return v;
+  };
+  switch (event.kind) {
+    case EventKind::add_vertex:
+      ensure_vertex(event.u);
+      break;
+    case EventKind::set_edge: {
+      const Vertex a = ensure_vertex(event.u);
+      const Vertex b = ensure_vertex(event.v);
+      const EdgeIndex e = graph.find_edge(a, b);
+      if (e == kNoEdge) {
+        graph.add_edge(a, b, event.w);
+      } else {
+        graph.set_weight(e, event.w);
+      }
+      break;
+    }
+    case EventKind::unset_edge:
+      graph.remove_edge(graph.find_edge(graph.find(event.u), graph.find(event.v)));
+      break;
+    case EventKind::remove_vertex: {
+      const Vertex v = graph.find(event.u);
+      while (!graph.graph().incident(v).empty()) graph.remove_edge(graph.graph().incident(v).back().edge);
+      graph.remove_vertex(v);
+      break;
+    }
+  }
+  ++pool.stats.events;
+}
+
 void apply_event(PoolState& pool, const Event& event) {
   EventRepair(pool).apply(event);
   ++pool.stats.events;

@@ -57,6 +57,9 @@ inline std::uint64_t slot_pair(Vertex a, Vertex b) {
   return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
 }
 
+// Applies one event to the graph alone. Precondition: the pool was empty when the batch began
+// (every slot exposed with dual 0, no blossoms), so the batch is then solved from scratch.
+void load_event(PoolState& pool, const Event& event);
 // Applies one event and restores every optimality condition except "an exposed vertex has
 // dual 0" at the vertices it queues in root_candidates. Precondition: the event passed check.
 void apply_event(PoolState& pool, const Event& event);

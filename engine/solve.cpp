@@ -73,10 +73,8 @@ Weight mode_weight_offset(const Graph& graph, Mode mode) {
   return static_cast<Weight>(offset);
 }
 
-SolveResult solve(const Graph& graph, Mode mode) {
-  const Weight offset = mode_weight_offset(graph, mode);
+SolveStats solve_from_scratch(const Graph& graph, Weight offset, MatchingState& state) {
   const std::size_t n = graph.vertex_count();
-  MatchingState state(n);
   greedy_start(graph, offset, state);
 
   // Both phases start a tree at every exposed vertex with a positive dual. All roots share one
@@ -89,24 +87,30 @@ SolveResult solve(const Graph& graph, Mode mode) {
       search.add_root(v);
     }
   };
-  SolveStats stats;
+  SolveStats warm;
   {
     AlternatingSearch fractional(graph, offset, state, /*half_cycles=*/true);
     add_roots(fractional);
     fractional.run();
     fractional.settle_half_cycles();
-    stats = fractional.stats();
+    warm = fractional.stats();
   }
+  AlternatingSearch search(graph, offset, state);
+  add_roots(search);
+  search.run();
+  SolveStats stats = search.stats();
+  stats.warm_start_searches = warm.searches;
+  stats.warm_start_scans = warm.scans;
+  stats.warm_start_pushes = warm.heap_pushes;
+  return stats;
+}
+
+SolveResult solve(const Graph& graph, Mode mode) {
+  const Weight offset = mode_weight_offset(graph, mode);
+  const std::size_t n = graph.vertex_count();
+  MatchingState state(n);
   SolveResult result;
-  {
-    AlternatingSearch search(graph, offset, state);
-    add_roots(search);
-    search.run();
-    result.stats = search.stats();
-    result.stats.warm_start_searches = stats.searches;
-    result.stats.warm_start_scans = stats.scans;
-    result.stats.warm_start_pushes = stats.heap_pushes;
-  }  // the search's scratch is released before the certificate is built
+  result.stats = solve_from_scratch(graph, offset, state);
   result.mate = state.mate.values();
   for (Vertex v = 0; v < n; ++v) {
     const Vertex m = state.mate[v];

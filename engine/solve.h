@@ -47,6 +47,12 @@ struct SolveResult {
 // the total weight bound kMaxTotalWeight; the message names the bound that was hit.
 SolveResult solve(const Graph& graph, Mode mode);
 
+struct MatchingState;
+// The pipeline of solve() on a given state: greedy duals and matching, the fractional warm
+// start, then the exact search. Precondition: `state` is fresh (every vertex exposed with dual
+// 0, no blossoms) and sized for `graph`. Used by solve() and by a pool's first commit.
+SolveStats solve_from_scratch(const Graph& graph, Weight weight_offset, MatchingState& state);
+
 // The weight offset the mode adds to every edge (0 for max-weight). Throws InputError as
 // solve() does.
 Weight mode_weight_offset(const Graph& graph, Mode mode);
