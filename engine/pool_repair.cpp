@@ -69,10 +69,59 @@ class EventRepair {
     dissolve_if_cycle_edge(a, b, tight_before);
     const Weight slack = slack2(a, b, e);
     if (slack < 0) {
-      lift(a, b, e);
+      if (mate_[a] == b || (!shift_along_matched_edge(a, b, -slack) &&
+                            !shift_along_matched_edge(b, a, -slack))) {
+        lift(a, b, e);
+      }
     } else if (slack > 0 && mate_[a] == b) {
-      unmatch(a, b);
+      if (!lower_ends(a, b, slack)) unmatch(a, b);
     }
+  }
+
+  // Fast paths that keep the matching: most small weight changes are absorbed by moving dual
+  // between the ends of one matched edge, at the cost of a look at their edges.
+  //
+  // A matched edge {a, b} has gained `excess` slack: lower the duals of its ends by that much,
+  // when their other edges have room. Both must be plain top-level vertices (a blossom's cycle
+  // edges pin its vertices' duals).
+  bool lower_ends(Vertex a, Vertex b, Weight excess) {
+    const Weight room_a = room(a, b);
+    if (room_a >= excess) {
+      dual2_[a] -= excess;
+      return true;
+    }
+    const Weight room_b = room(b, a);
+    if (room_a + room_b < excess) return false;
+    dual2_[a] -= room_a;
+    dual2_[b] -= excess - room_a;
+    return true;
+  }
+
+  // Unmatched edge {x, y} lacks `deficit` slack: raise x's dual and lower its mate's by the same
+  // amount, which keeps their matched edge tight, when the mate's other edges have room.
+  bool shift_along_matched_edge(Vertex x, Vertex y, Weight deficit) {
+    const Vertex m = mate_[x];
+    if (m == kNoVertex || m == y || !is_plain_top(x) || room(m, x) < deficit) return false;
+    dual2_[x] += deficit;
+    dual2_[m] -= deficit;
+    return true;
+  }
+
+  bool is_plain_top(Vertex v) const { return forest_.parent(v) == kNoNode; }
+
+  // How far v's dual can fall with every edge but {v, skip} staying feasible: 0 unless v is a
+  // plain top-level vertex. O(degree of v).
+  Weight room(Vertex v, Vertex skip) {
+    if (!is_plain_top(v)) return 0;
+    Weight least = dual2_[v];
+    for (const Incidence& inc : graph_.graph().incident(v)) {
+      if (inc.other == skip) continue;
+      // v is in no blossom, so no blossom dual counts on its edges.
+      least = std::min(least, dual2_[v] + dual2_[inc.other] - 2 * (inc.w + pool_.weight_offset));
+      if (least <= 0) return 0;
+    }
+    pool_.stats.vertices_touched += 1;
+    return least;
   }
 
   void unset_edge(Vertex a, Vertex b) {
