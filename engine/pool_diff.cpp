@@ -17,6 +17,27 @@ auto pair_order = [](const MatchedPair& x, const MatchedPair& y) {
   return x.a != y.a ? x.a < y.a : x.b < y.b;
 };
 
+// A vertex that left and came back within the batch has a new slot, so a pair it kept shows up
+// as removed under the old slot and added under the new one: by keys it never changed.
+void drop_kept_pairs(MatchingDiff& diff) {
+  std::vector<MatchedPair> removed;
+  std::vector<MatchedPair> added;
+  auto r = diff.removed.begin();
+  auto a = diff.added.begin();
+  while (r != diff.removed.end() || a != diff.added.end()) {
+    if (a == diff.added.end() || (r != diff.removed.end() && pair_order(*r, *a))) {
+      removed.push_back(*r++);
+    } else if (r == diff.removed.end() || pair_order(*a, *r)) {
+      added.push_back(*a++);
+    } else {
+      ++r;
+      ++a;
+    }
+  }
+  diff.removed = std::move(removed);
+  diff.added = std::move(added);
+}
+
 }  // namespace
 
 MatchingDiff collect_diff(PoolState& pool) {
@@ -54,6 +75,7 @@ MatchingDiff collect_diff(PoolState& pool) {
   }
   std::sort(diff.removed.begin(), diff.removed.end(), pair_order);
   std::sort(diff.added.begin(), diff.added.end(), pair_order);
+  drop_kept_pairs(diff);
   return diff;
 }
 

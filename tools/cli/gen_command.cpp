@@ -1,11 +1,15 @@
 #include "gen_command.h"
 
 #include <algorithm>
+#include <functional>
 #include <iostream>
+#include <memory>
+#include <stdexcept>
 #include <vector>
 
 #include "cli_error.h"
 #include "file_io.h"
+#include "tools/graphgen/event_stream.h"
 #include "tools/graphgen/generators.h"
 
 namespace yoke::cli {
@@ -116,10 +120,89 @@ void write_generated(std::ostream& out, const Generated& generated, std::uint64_
   gen::write_edge_list(out, generated.graph);
 }
 
+gen::StreamSpec stream_spec(const GenOptions& o) {
+  const auto& s = o.stream;
+  require_vertex_count(s.vertices);
+  if (s.batch_max != 0 && s.batch_max < s.batch) {
+    throw CliError("gen stream: --batch-max " + str(s.batch_max) + " is below --batch " +
+                   str(s.batch));
+  }
+  gen::StreamSpec spec;
+  try {
+    spec.family = gen::parse_stream_family(s.family);
+    spec.mix = gen::parse_mix(s.mix);
+  } catch (const std::invalid_argument& error) {
+    throw CliError(std::string("gen stream: ") + error.what());
+  }
+  spec.vertices = s.vertices;
+  spec.seed = o.seed;
+  spec.scrambled_keys = s.scrambled_keys;
+  spec.events = s.events;
+  spec.batch_min = s.batch;
+  spec.batch_max = s.batch_max == 0 ? s.batch : s.batch_max;
+  return spec;
+}
+
+// The preset's name, or the shares spelled out.
+std::string mix_recipe(const gen::EventMix& mix) {
+  if (mix == gen::benchmark_mix()) return "bench";
+  if (mix == gen::test_mix()) return "test";
+  return gen::mix_text(mix);
+}
+
+std::string stream_recipe(const gen::StreamSpec& spec) {
+  std::string recipe = std::string("stream ") + gen::stream_family_name(spec.family) +
+                       " --vertices " + str(spec.vertices) + " --events " + str(spec.events) +
+                       " --batch " + str(spec.batch_min);
+  if (spec.batch_max != spec.batch_min) recipe += " --batch-max " + str(spec.batch_max);
+  recipe += " --mix " + mix_recipe(spec.mix);
+  if (spec.scrambled_keys) recipe += " --scrambled-keys";
+  return recipe;
+}
+
+// The stream is drawn batch by batch: millions of events never sit in memory at once.
+void write_stream(std::ostream& out, const gen::StreamSpec& spec) {
+  std::unique_ptr<gen::EventStream> stream;
+  try {
+    stream = std::make_unique<gen::EventStream>(spec);
+  } catch (const std::invalid_argument& error) {
+    throw CliError(std::string("gen stream: ") + error.what());
+  }
+  out << "# yoke gen " << stream_recipe(spec) << " --seed " << spec.seed << "\n"
+      << "# first batch: the base graph, " << stream->base_vertices() << " vertices and "
+      << stream->base_edges() << " edges; then " << spec.events << " events\n";
+  std::vector<yoke::Event> batch;
+  while (stream->next_batch(batch)) gen::write_event_script(out, batch);
+}
+
+// Runs `write` on stdout or on the file, and reports a failed write of `what`.
+void write_output(const std::string& path, const std::string& what,
+                  const std::function<void(std::ostream&)>& write) {
+  if (path == "-") {
+    write(std::cout);
+    std::cout.flush();
+    if (!std::cout) throw CliError("cannot write " + what + " to stdout");
+  } else {
+    std::ofstream out = open_output_file(path);
+    write(out);
+    close_output_file(out, path);
+  }
+}
+
 // CLI11 would wrap "-6" around to a huge unsigned value.
 const CLI::Validator kNotNegative(
     [](std::string& text) {
       return text.starts_with('-') ? std::string("must not be negative") : std::string();
+    },
+    "");
+
+// CLI::PositiveNumber's message prints the range up to the largest double.
+const CLI::Validator kAtLeastOne(
+    [](std::string& text) {
+      return text.find_first_not_of("0123456789") == std::string::npos &&
+                     text.find_first_not_of('0') != std::string::npos
+                 ? std::string()
+                 : std::string("must be a whole number of at least 1");
     },
     "");
 
@@ -142,7 +225,7 @@ void add_count(CLI::App* family, const std::string& flag, std::size_t& count,
 
 void add_positive(CLI::App* family, const std::string& flag, int& value,
                   const std::string& description) {
-  family->add_option(flag, value, description)->check(CLI::PositiveNumber)->capture_default_str();
+  family->add_option(flag, value, description)->check(kAtLeastOne)->capture_default_str();
 }
 
 void add_weight_range(CLI::App* family, Weight& min_weight, Weight& max_weight) {
@@ -183,20 +266,39 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
   CLI::App* stress = add_family(*command, options, "stress",
                                 "Nested odd cycles, ties, zero and negative weights");
   add_count(stress, "--vertices", options.stress.vertices, "Number of vertices (about)");
+
+  CLI::App* stream = add_family(*command, options, "stream",
+                                "An event script on a graph of FAMILY: the graph, then changes");
+  stream->add_option("family", options.stream.family, "city, random, dispatch, complete or stress")
+      ->required()
+      ->check(CLI::IsMember({"city", "random", "dispatch", "complete", "stress"}));
+  add_count(stream, "--vertices", options.stream.vertices, "Vertices of the base graph");
+  add_count(stream, "--events", options.stream.events, "Events after the first batch");
+  stream->add_option("--batch", options.stream.batch,
+                     "Events per batch (the smallest, with --batch-max)")
+      ->check(kAtLeastOne)
+      ->capture_default_str();
+  add_count(stream, "--batch-max", options.stream.batch_max,
+            "Largest batch: sizes uniform in [--batch, --batch-max]");
+  stream->add_option("--mix", options.stream.mix,
+                     "bench, test, or NAME=SHARE,... over small-drift, large-drift, arrive, "
+                     "depart, unset, link, burst, flash, flicker, special, revive")
+      ->capture_default_str();
+  stream->add_flag("--scrambled-keys", options.stream.scrambled_keys,
+                   "Scattered 64-bit vertex keys (some near 2^64-1) instead of 0, 1, 2, ...");
   return command;
 }
 
 int run_gen(const GenOptions& options) {
-  const Generated generated = generate(options);
-  if (options.output_path == "-") {
-    write_generated(std::cout, generated, options.seed);
-    std::cout.flush();
-    if (!std::cout) throw CliError("cannot write the graph to stdout");
-  } else {
-    std::ofstream out = open_output_file(options.output_path);
-    write_generated(out, generated, options.seed);
-    close_output_file(out, options.output_path);
+  if (options.family == "stream") {
+    const gen::StreamSpec spec = stream_spec(options);
+    write_output(options.output_path, "the event script",
+                 [&](std::ostream& out) { write_stream(out, spec); });
+    return kExitOk;
   }
+  const Generated generated = generate(options);
+  write_output(options.output_path, "the graph",
+               [&](std::ostream& out) { write_generated(out, generated, options.seed); });
   return kExitOk;
 }
 

@@ -1,5 +1,7 @@
 // `yoke gen FAMILY [options] [--seed S] [-o FILE]`: writes a seeded graph of one of the test and
 // benchmark families (tools/graphgen) as an edge list that `yoke solve` reads.
+// `yoke gen stream FAMILY [options]`: writes a seeded event stream on such a graph as an event
+// script (DESIGN.md section 6), one `commit` per batch.
 #pragma once
 
 #include <cstdint>
@@ -35,6 +37,15 @@ struct GenOptions {
   struct Stress {
     std::size_t vertices = 1000;
   };
+  struct Stream {
+    std::string family = "city";  // base graph family, as the subcommands above are named
+    std::size_t vertices = 1000;
+    std::size_t events = 10000;   // after the first batch, which sets the base graph
+    std::size_t batch = 100;
+    std::size_t batch_max = 0;    // > 0: batch sizes uniform in [batch, batch_max]
+    std::string mix = "bench";    // see gen::parse_mix
+    bool scrambled_keys = false;
+  };
 
   std::string family;  // the family subcommand that was given
   std::uint64_t seed = 1;
@@ -44,6 +55,7 @@ struct GenOptions {
   Dispatch dispatch;
   Complete complete;
   Stress stress;
+  Stream stream;
 };
 
 CLI::App* add_gen_command(CLI::App& app, GenOptions& options);

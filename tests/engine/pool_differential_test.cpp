@@ -1,0 +1,436 @@
+// The incremental pool against yoke's static engine: hundreds of seeded event streams over the
+// five graph families, in every mode, at batch sizes 1, 5, 100 and 1..100, with every kind of
+// event. After every commit the pool's certificate must hold and its optimum must be the one a
+// from-scratch solve of the same graph finds. A failing stream is saved as an event script for
+// `yoke replay --verify`.
+//
+// The streams come from tools/graphgen/event_stream.h; the first tests below check that they
+// are what the differential tests assume: valid, deterministic, varied.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <set>
+#include <string>
+#include <tuple>
+#include <utility>
+#include <vector>
+
+#include "engine/pool.h"
+#include "engine/solve.h"
+#include "tests/oracles/checked_solve.h"
+#include "tests/oracles/test_scale.h"
+#include "tools/graphgen/event_stream.h"
+
+namespace yoke {
+namespace {
+
+using gen::StreamFamily;
+using KeyPair = std::pair<VertexKey, VertexKey>;
+
+constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
+                                      StreamFamily::dispatch, StreamFamily::complete,
+                                      StreamFamily::stress};
+constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
+
+KeyPair ordered(VertexKey a, VertexKey b) { return {std::min(a, b), std::max(a, b)}; }
+
+// ---- the streams ----------------------------------------------------------------------------
+
+// The state a stream describes, replayed with plain ordered containers (no engine code): every
+// event must fit it, and each event is classified for the coverage test.
+struct StreamReplay {
+  std::set<VertexKey> alive;
+  std::set<VertexKey> departed;
+  std::map<KeyPair, Weight> edges;
+  std::map<std::string, int> seen;  // how often each kind of event occurred
+
+  // The problem with `e`, or empty; applies it when it fits.
+  std::string apply(const Event& e) {
+    switch (e.kind) {
+      case EventKind::add_vertex:
+        if (!alive.insert(e.u).second) return "add of a vertex that exists";
+        ++seen[departed.erase(e.u) > 0 ? "add of a returning key" : "add"];
+        return "";
+      case EventKind::set_edge: {
+        if (e.u == e.v) return "self loop";
+        const auto [at, inserted] = edges.try_emplace(ordered(e.u, e.v), e.w);
+        if (!inserted) {
+          ++seen[at->second == e.w ? "set to the same weight" : "set of an existing edge"];
+          at->second = e.w;
+        } else {
+          ++seen["set of a new edge"];
+          for (const VertexKey x : {e.u, e.v}) {
+            if (alive.insert(x).second) ++seen[departed.erase(x) > 0 ? "set brings a key back"
+                                                                      : "set brings a vertex"];
+          }
+        }
+        if (e.w == 0) ++seen["weight 0"];
+        if (e.w < 0) ++seen["negative weight"];
+        return "";
+      }
+      case EventKind::unset_edge:
+        if (e.u == e.v) return "unset of a self loop";
+        if (edges.erase(ordered(e.u, e.v)) == 0) return "unset of an edge that does not exist";
+        ++seen["unset"];
+        return "";
+      case EventKind::remove_vertex:
+        if (alive.erase(e.u) == 0) return "remove of a vertex that does not exist";
+        departed.insert(e.u);
+        std::erase_if(edges, [&](const auto& kv) { return kv.first.first == e.u || kv.first.second == e.u; });
+        ++seen["remove"];
+        return "";
+    }
+    return "unknown event kind";
+  }
+};
+
+// Common knowledge (what "valid" means, DESIGN.md section 6): each event fits the state the
+// events before it leave.
+TEST(EventStream, EveryEventFitsTheStateBeforeIt) {
+  for (const StreamFamily family : kFamilies) {
+    for (std::uint64_t seed = 0; seed < 8; ++seed) {
+      gen::StreamSpec spec = gen::test_stream_spec(family, seed, 40, 30);
+      spec.extreme_weight = 1000000;
+      StreamReplay replay;
+      std::size_t index = 0;
+      for (const auto& batch : gen::generate_stream(spec)) {
+        for (const Event& e : batch) {
+          const std::string problem = replay.apply(e);
+          ASSERT_EQ(problem, "") << gen::stream_family_name(family) << " seed " << seed
+                                 << ", event " << index;
+          ++index;
+        }
+      }
+    }
+  }
+}
+
+// The test mix reaches every kind of event and the corner cases the pool must handle.
+TEST(EventStream, TestMixCoversEveryEventKind) {
+  gen::StreamSpec spec = gen::test_stream_spec(StreamFamily::random, 3, 40, 40);
+  spec.events = 3000;
+  spec.batch_min = spec.batch_max = 100;
+  spec.scrambled_keys = true;
+  spec.extreme_weight = 1 << 20;
+  StreamReplay replay;
+  int same_batch_add_remove = 0;
+  int same_batch_set_unset = 0;
+  int tied_weights = 0;
+  bool near_top_key = false;
+  for (const auto& batch : gen::generate_stream(spec)) {
+    std::set<VertexKey> added;
+    std::set<KeyPair> set_here;
+    std::map<VertexKey, Weight> weight_at;  // a weight set at each vertex in this batch
+    for (const Event& e : batch) {
+      ASSERT_EQ(replay.apply(e), "");
+      near_top_key |= e.u >= ~VertexKey{0} - (VertexKey{1} << 32);
+      if (e.kind == EventKind::add_vertex) added.insert(e.u);
+      if (e.kind == EventKind::remove_vertex) same_batch_add_remove += added.count(e.u) > 0;
+      if (e.kind == EventKind::set_edge) {
+        set_here.insert(ordered(e.u, e.v));
+        tied_weights += weight_at.count(e.u) > 0 && weight_at[e.u] == e.w;
+        weight_at[e.u] = weight_at[e.v] = e.w;
+      }
+      if (e.kind == EventKind::unset_edge) same_batch_set_unset += set_here.count(ordered(e.u, e.v)) > 0;
+    }
+  }
+  for (const char* kind : {"add", "add of a returning key", "set of a new edge",
+                           "set of an existing edge", "set to the same weight",
+                           "set brings a vertex", "unset", "remove", "weight 0",
+                           "negative weight"}) {
+    EXPECT_GT(replay.seen[kind], 0) << kind;
+  }
+  EXPECT_GT(same_batch_add_remove, 0);
+  EXPECT_GT(same_batch_set_unset, 0);
+  EXPECT_GT(tied_weights, 0);
+  EXPECT_TRUE(near_top_key);
+}
+
+// Events as comparable (and printable) values.
+using EventTuple = std::tuple<EventKind, VertexKey, VertexKey, Weight>;
+
+std::vector<EventTuple> tuples(const std::vector<Event>& batch) {
+  std::vector<EventTuple> out;
+  for (const Event& e : batch) out.emplace_back(e.kind, e.u, e.v, e.w);
+  return out;
+}
+
+std::vector<std::vector<EventTuple>> tuples(const std::vector<std::vector<Event>>& batches) {
+  std::vector<std::vector<EventTuple>> out;
+  for (const auto& batch : batches) out.push_back(tuples(batch));
+  return out;
+}
+
+std::vector<EventTuple> after_first_batch(const std::vector<std::vector<Event>>& batches) {
+  std::vector<EventTuple> events;
+  for (std::size_t i = 1; i < batches.size(); ++i) {
+    const auto batch = tuples(batches[i]);
+    events.insert(events.end(), batch.begin(), batch.end());
+  }
+  return events;
+}
+
+TEST(EventStream, SameSpecSameEventsOtherSeedOtherEvents) {
+  for (const StreamFamily family : kFamilies) {
+    const gen::StreamSpec spec = gen::test_stream_spec(family, 11, 40, 20);
+    gen::StreamSpec other = spec;
+    other.seed = 12;
+    const auto first = tuples(gen::generate_stream(spec));
+    EXPECT_EQ(first, tuples(gen::generate_stream(spec))) << gen::stream_family_name(family);
+    EXPECT_NE(first, tuples(gen::generate_stream(other))) << gen::stream_family_name(family);
+  }
+}
+
+// The batch sizes only cut the events: the same spec with other batch sizes gives the same
+// events, in batches of the sizes asked for.
+TEST(EventStream, BatchSizesOnlyCutTheStream) {
+  gen::StreamSpec spec = gen::test_stream_spec(StreamFamily::city, 5, 60, 1);
+  spec.events = 1234;
+  const auto cut = [&](std::size_t low, std::size_t high) {
+    gen::StreamSpec s = spec;
+    s.batch_min = low;
+    s.batch_max = high;
+    return gen::generate_stream(s);
+  };
+  const auto ones = cut(1, 1);
+  const auto hundreds = cut(100, 100);
+  const auto mixed = cut(1, 100);
+  EXPECT_EQ(tuples(ones.front()), tuples(hundreds.front()));
+  EXPECT_EQ(after_first_batch(ones).size(), 1234u);
+  EXPECT_EQ(after_first_batch(ones), after_first_batch(hundreds));
+  EXPECT_EQ(after_first_batch(ones), after_first_batch(mixed));
+  EXPECT_EQ(ones.size(), 1235u);
+  EXPECT_EQ(hundreds.size(), 1u + 13u);  // twelve of 100 and the last 34
+  for (std::size_t i = 1; i < mixed.size(); ++i) {
+    EXPECT_GE(mixed[i].size(), 1u);
+    EXPECT_LE(mixed[i].size(), 100u);
+  }
+}
+
+// The benchmark mix balances arrivals and departures (shares of actions), so a long stream
+// keeps the pool near its starting size.
+TEST(EventStream, BenchmarkMixKeepsThePoolNearItsSize) {
+  gen::StreamSpec spec;
+  spec.vertices = 1000;
+  spec.events = 30000;
+  StreamReplay replay;
+  for (const auto& batch : gen::generate_stream(spec)) {
+    for (const Event& e : batch) ASSERT_EQ(replay.apply(e), "");
+  }
+  EXPECT_GT(replay.alive.size(), 500u);
+  EXPECT_LT(replay.alive.size(), 1500u);
+}
+
+TEST(EventStream, MixTextRoundTripsAndBadMixesAreErrors) {
+  EXPECT_EQ(gen::parse_mix("bench"), gen::benchmark_mix());
+  EXPECT_EQ(gen::parse_mix(gen::mix_text(gen::test_mix())), gen::test_mix());
+  EXPECT_EQ(gen::parse_mix("depart=3").depart, 3);
+  for (const char* bad : {"", "drift=5", "arrive", "arrive=-1", "arrive=x", "arrive=0",
+                          "arrive=1,arrive=2", "arrive=1,"}) {
+    EXPECT_THROW(gen::parse_mix(bad), std::invalid_argument) << bad;
+  }
+}
+
+// ---- the pool against the static engine --------------------------------------------------
+
+// yoke's static engine (independent from-scratch solve), as the oracle of same_optimum.
+oracle::Answer static_optimum(const Graph& graph, Mode mode) {
+  const SolveResult fresh = solve(graph, mode);
+  return {fresh.status == SolveStatus::optimal, fresh.weight, fresh.pairs};
+}
+
+// The commit's answer with the pool's certificate, in the form checked_solve's checks take.
+SolveResult as_solve_result(const CommitResult& result, const PoolExport& exported) {
+  SolveResult r;
+  r.status = result.status;
+  r.weight = result.weight;
+  r.pairs = result.pairs;
+  r.mate = exported.certificate.mate;
+  r.certificate = exported.certificate;
+  return r;
+}
+
+std::vector<KeyPair> certified_pairs(const PoolExport& exported) {
+  std::vector<KeyPair> pairs;
+  const auto& mate = exported.certificate.mate;
+  for (Vertex v = 0; v < mate.size(); ++v) {
+    if (mate[v] != kNoVertex && v < mate[v]) {
+      pairs.push_back(ordered(exported.keys[v], exported.keys[mate[v]]));
+    }
+  }
+  std::sort(pairs.begin(), pairs.end());
+  return pairs;
+}
+
+std::vector<KeyPair> listed_pairs(const Pool& pool) {
+  std::vector<KeyPair> pairs;
+  for (const MatchedPair& p : pool.matching()) pairs.push_back({p.a, p.b});
+  return pairs;
+}
+
+// Everything checked after one commit: the first problem, or success.
+testing::AssertionResult commit_is_certified_optimum(const Pool& pool, const CommitResult& result) {
+  const PoolExport exported = pool.export_certified();
+  const Graph& graph = exported.graph;
+  const SolveResult r = as_solve_result(result, exported);
+  // Common knowledge: result.weight and result.pairs are those of the certificate's matching,
+  // and that matching is a matching of the pool's graph.
+  if (auto sound = oracle::result_is_sound(graph, pool.mode(), r); !sound) return sound;
+  // yoke::check_certificate (engine/certificate.h), the engine's independent referee.
+  if (auto holds = oracle::certificate_holds(graph, r); !holds) return holds;
+  // yoke's static engine (independent from-scratch solve): the same optimum weight; in
+  // max-cardinality and perfect mode the same number of pairs, and the same feasibility.
+  if (auto same = oracle::same_optimum(graph, pool.mode(), r, static_optimum); !same) return same;
+  // The certificate is about the matching the pool lists.
+  if (listed_pairs(pool) != certified_pairs(exported)) {
+    return testing::AssertionFailure() << "pool.matching() is not the certificate's matching";
+  }
+  if (pool.weight() != result.weight || pool.pairs() != result.pairs) {
+    return testing::AssertionFailure() << "pool.weight() " << pool.weight() << " pairs "
+                                       << pool.pairs() << ", the commit said " << result.weight
+                                       << " and " << result.pairs;
+  }
+  if (pool.vertex_count() != graph.vertex_count() || pool.edge_count() != graph.edge_count() ||
+      exported.keys.size() != graph.vertex_count()) {
+    return testing::AssertionFailure() << "pool counts " << pool.vertex_count() << " vertices "
+                                       << pool.edge_count() << " edges, its export "
+                                       << graph.vertex_count() << " and " << graph.edge_count();
+  }
+  return testing::AssertionSuccess();
+}
+
+// Writes the batches as an event script under /tmp/yoke-pool-failures/; returns the command
+// that replays it.
+std::string save_script(const std::string& label, Mode mode,
+                        const std::vector<std::vector<Event>>& batches) {
+  const std::filesystem::path dir = "/tmp/yoke-pool-failures";
+  std::error_code ignored;
+  std::filesystem::create_directories(dir, ignored);
+  const std::filesystem::path path = dir / (label + ".txt");
+  std::ofstream out(path);
+  out << "# " << label << "\n";
+  for (const auto& batch : batches) gen::write_event_script(out, batch);
+  return std::string("yoke replay --verify --mode ") + mode_name(mode) + " " + path.string();
+}
+
+// Streams `spec` through a fresh pool and checks every commit; stops at the first problem.
+void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string& label) {
+  Pool pool(mode);
+  // Every fifth stream also sets weights at the pool's bound.
+  if (spec.seed % 5 == 0) spec.extreme_weight = pool.limits().max_abs_weight;
+  gen::EventStream stream(spec);
+  std::vector<std::vector<Event>> batches;
+  std::vector<Event> batch;
+  while (stream.next_batch(batch)) {
+    batches.push_back(batch);
+    if (const auto error = pool.check(batch)) {
+      FAIL() << label << ": generated batch " << batches.size() << " rejected at event "
+             << error->index << ": " << error->message
+             << "\n  replay: " << save_script(label, mode, batches);
+    }
+    const CommitResult result = pool.commit(batch);
+    if (result.commit != batches.size()) {
+      FAIL() << label << ": commit numbered " << result.commit << ", expected " << batches.size();
+    }
+    if (auto ok = commit_is_certified_optimum(pool, result); !ok) {
+      FAIL() << label << ", commit " << result.commit << " (" << batch.size()
+             << " events): " << ok.message() << "\n  replay: " << save_script(label, mode, batches);
+    }
+  }
+}
+
+std::string label_of(StreamFamily family, Mode mode, std::uint64_t seed) {
+  std::string name = std::string("pool_") + gen::stream_family_name(family) + "_" +
+                     mode_name(mode) + "_seed" + std::to_string(seed);
+  std::replace(name.begin(), name.end(), '-', '_');
+  return name;
+}
+
+class PoolAgainstStatic : public testing::TestWithParam<std::tuple<StreamFamily, Mode>> {};
+
+TEST_P(PoolAgainstStatic, EveryCommitIsACertifiedOptimum) {
+  const auto [family, mode] = GetParam();
+  // Perfect mode mostly reports that no perfect matching exists: fewer seeds.
+  const int seeds = oracle::scaled(mode == Mode::perfect ? 40 : 150);
+  for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(seed);
+    expect_stream_certified(gen::test_stream_spec(family, s, 80, 60), mode,
+                            label_of(family, mode, s));
+  }
+}
+
+// The same events cut into batches of 1, 10 and 50: after every 50 events all three pools hold
+// the same graph, so the same optimum. Common knowledge: the optimum depends on the graph only.
+TEST_P(PoolAgainstStatic, BatchingDoesNotChangeTheOptimum) {
+  const auto [family, mode] = GetParam();
+  const int seeds = oracle::scaled(5);
+  for (int seed = 100; seed < 100 + seeds; ++seed) {
+    gen::StreamSpec spec = gen::test_stream_spec(family, static_cast<std::uint64_t>(seed), 40, 1);
+    spec.events = 300;
+    std::vector<std::map<std::size_t, std::pair<Weight, std::size_t>>> at_event;  // per cut
+    for (const std::size_t size : {1, 10, 50}) {
+      spec.batch_min = spec.batch_max = size;
+      Pool pool(mode);
+      gen::EventStream stream(spec);
+      std::vector<Event> batch;
+      std::size_t events = 0;
+      at_event.emplace_back();
+      for (bool first = true; stream.next_batch(batch); first = false) {
+        ASSERT_FALSE(pool.check(batch).has_value());
+        const CommitResult result = pool.commit(batch);
+        if (!first) events += batch.size();
+        if (events % 50 == 0) at_event.back()[events] = {result.weight, result.pairs};
+      }
+    }
+    const bool pairs_matter = mode != Mode::max_weight;
+    for (const auto& [events, answer] : at_event[0]) {
+      for (std::size_t cut = 1; cut < at_event.size(); ++cut) {
+        const auto& other = at_event[cut].at(events);
+        EXPECT_EQ(other.first, answer.first) << "seed " << seed << " after " << events << " events";
+        if (pairs_matter) {
+          EXPECT_EQ(other.second, answer.second) << "seed " << seed << " after " << events;
+        }
+      }
+    }
+  }
+}
+
+std::string case_name(const testing::TestParamInfo<PoolAgainstStatic::ParamType>& info) {
+  std::string mode = mode_name(std::get<1>(info.param));
+  std::erase(mode, '-');
+  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, PoolAgainstStatic,
+                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
+                         case_name);
+
+// A few long streams on graphs large enough for blossoms nested several deep.
+class LongPoolStreams : public PoolAgainstStatic {};
+
+TEST_P(LongPoolStreams, EveryCommitIsACertifiedOptimum) {
+  const auto [family, mode] = GetParam();
+  const int seeds = oracle::small_scale() ? 1 : 2;
+  for (int seed = 500; seed < 500 + seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(seed);
+    // 500..1500 vertices; complete graphs 40..120.
+    gen::StreamSpec spec =
+        gen::test_stream_spec(family, s, family == StreamFamily::complete ? 360 : 1500, 1);
+    spec.vertices = std::max<std::size_t>(spec.vertices, family == StreamFamily::complete ? 40 : 500);
+    spec.events = 3000;
+    spec.batch_min = 1;
+    spec.batch_max = 30;
+    expect_stream_certified(spec, mode, label_of(family, mode, s));
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, LongPoolStreams,
+                         testing::Combine(testing::ValuesIn(kFamilies),
+                                          testing::Values(Mode::max_weight, Mode::max_cardinality)),
+                         case_name);
+
+}  // namespace
+}  // namespace yoke

@@ -1,0 +1,124 @@
+// Seeded streams of pool events (engine/events.h) for the differential tests, the soak run and
+// the benchmarks. The first batch sets the whole base graph of one family; after it, weights
+// drift, vertices arrive with edges to vertices near them and depart, edges appear and vanish.
+//
+// Valid by construction: every event applies to the state the events before it leave, so
+// Pool::check accepts every batch, and every prefix of a stream is valid too. Deterministic:
+// the same spec gives the same events on every machine, and the events do not depend on the
+// batch sizes (they are drawn from their own stream and only cut into batches). Cost: O(1)
+// expected per event, O(degree) for a departure, O(arrival_edges) for an arrival.
+#pragma once
+
+#include <cstdint>
+#include <iosfwd>
+#include <memory>
+#include <span>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "engine/events.h"
+#include "engine/types.h"
+
+namespace yoke::gen {
+
+// The base graph families of generators.h, by their `yoke gen` names.
+enum class StreamFamily { city, random, dispatch, complete, stress };
+
+// Throws std::invalid_argument for a name other than city, random, dispatch, complete, stress.
+StreamFamily parse_stream_family(std::string_view name);
+const char* stream_family_name(StreamFamily family);
+
+// Relative shares of the actions a stream draws after its first batch (percentages by
+// convention; any non-negative numbers with a positive sum). An action emits one event or a
+// few in a row; consecutive events usually land in the same batch.
+struct EventMix {
+  int small_drift = 0;  // an existing edge's weight moves by 1..5% of the weight range
+  int large_drift = 0;  // an existing edge gets a new weight, uniform over the range
+  int arrive = 0;       // a new vertex with ~arrival_edges edges to vertices near it
+  int depart = 0;       // a uniformly chosen alive vertex leaves (matched or not)
+  int unset = 0;        // an existing edge is removed
+  int link = 0;         // a new edge between two existing vertices near each other
+  int burst = 0;        // 2..4 changes at the edges of one vertex, back to back
+  int flash = 0;        // a vertex arrives with 1..3 edges and leaves right away
+  int flicker = 0;      // an edge (new or existing) is set and then unset right away
+  int special = 0;      // an edge set to 0, to a negative weight, to a tie with a neighbouring
+                        // edge, to its own weight, or to +-extreme_weight
+  int revive = 0;       // a vertex leaves and comes back under the same key, right away or
+                        // long after it left
+
+  friend bool operator==(const EventMix&, const EventMix&) = default;
+};
+
+// 35% small drift, 35% large drift, 15% arrivals, 15% departures: the benchmark load.
+EventMix benchmark_mix();
+// Every action, each often enough to show up in a few hundred events: the test load.
+EventMix test_mix();
+
+// "bench", "test", or "NAME=SHARE,..." with NAME one of small-drift, large-drift, arrive,
+// depart, unset, link, burst, flash, flicker, special, revive (unnamed shares are 0).
+// Throws std::invalid_argument naming what is wrong.
+EventMix parse_mix(std::string_view text);
+// The "NAME=SHARE,..." form of the non-zero shares; parse_mix reads it back.
+std::string mix_text(const EventMix& mix);
+
+struct StreamSpec {
+  StreamFamily family = StreamFamily::city;
+  std::size_t vertices = 1000;  // of the base graph
+  int degree = 6;  // city: neighbours per point; dispatch: couriers per order; random: mean degree
+  Weight min_weight = 1;  // base weights of the random and complete families
+  Weight max_weight = 1000;
+  std::uint64_t seed = 1;
+  // Dense ids 0..n-1 for the base graph and n, n+1, ... for arrivals; or scattered 64-bit keys,
+  // a quarter of them within 2^32 of 2^64-1 (the first two are 2^64-1 and 2^64-2).
+  bool scrambled_keys = false;
+  std::size_t events = 10000;  // after the first batch
+  std::size_t batch_min = 100;  // batch sizes are uniform in [batch_min, batch_max]
+  std::size_t batch_max = 100;
+  EventMix mix = benchmark_mix();
+  int arrival_edges = 10;
+  int explicit_add_percent = 25;  // arrivals that start with `add` rather than their first `set`
+  Weight extreme_weight = 0;      // > 0: some `special` actions set +-extreme_weight
+};
+
+// A small stream for the differential tests, with every knob varied by the seed: base size in
+// [max_vertices / 4, max_vertices] (a third of that for complete graphs), batch sizes 1, 5, 100
+// or uniform in 1..100 (seed % 4), tied, mixed-sign or wide weights (seed % 3), dense or
+// scrambled keys, 1..10 edges per arrival, the test mix; about `commits` commits after the base
+// graph's.
+StreamSpec test_stream_spec(StreamFamily family, std::uint64_t seed, std::size_t max_vertices,
+                            std::size_t commits);
+
+// A stream drawn lazily, batch by batch (a soak run of millions of events never holds them all).
+class EventStream {
+ public:
+  // Generates the base graph. Throws std::invalid_argument for a spec it cannot honour.
+  explicit EventStream(const StreamSpec& spec);
+  ~EventStream();
+  EventStream(const EventStream&) = delete;
+  EventStream& operator=(const EventStream&) = delete;
+
+  // Replaces `batch` with the next batch: the whole base graph first (isolated base vertices as
+  // `add`, every edge as `set`), then batches of batch_min..batch_max events until spec.events
+  // events have followed the first batch. Returns false, with `batch` empty, when it is over.
+  bool next_batch(std::vector<Event>& batch);
+
+  // Vertices and edges of the base graph (the first batch).
+  std::size_t base_vertices() const;
+  std::size_t base_edges() const;
+
+ private:
+  class Builder;
+  std::unique_ptr<Builder> builder_;
+  std::size_t batches_ = 0;
+  std::size_t events_left_ = 0;
+};
+
+// All batches of a stream at once.
+std::vector<std::vector<Event>> generate_stream(const StreamSpec& spec);
+
+// One batch as event-script lines (DESIGN.md section 6: `add U`, `set U V W`, `unset U V`,
+// `remove U`), then `commit`.
+void write_event_script(std::ostream& out, std::span<const Event> batch);
+
+}  // namespace yoke::gen
