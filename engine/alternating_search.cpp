@@ -313,8 +313,10 @@ void AlternatingSearch::end_tree(Vertex root) {
     forest_.for_each_vertex(node, [&](Vertex u) { set_vertex_sign(u, 0); });
     if (!odd) dissolve_unpriced(node);
   }
-  // The freed odd vertices may border even vertices of other trees.
-  for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
+  // The freed odd vertices may border even vertices of other trees, if any are left.
+  if (live_trees_ > 1) {
+    for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
+  }
   nodes.clear();
   nodes.shrink_to_fit();
   --live_trees_;

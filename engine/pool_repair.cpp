@@ -292,7 +292,6 @@ void search_from_roots(PoolState& pool) {
   std::vector<Vertex>& roots = pool.root_candidates;
   const Mates& mate = pool.matching.mate;
   std::vector<Weight>& dual2 = pool.matching.dual2;
-  const BlossomForest& forest = pool.matching.forest;
   std::sort(roots.begin(), roots.end());
   roots.erase(std::unique(roots.begin(), roots.end()), roots.end());
   std::erase_if(roots, [&](Vertex v) {
@@ -301,37 +300,15 @@ void search_from_roots(PoolState& pool) {
   if (roots.empty()) return;
   pool.stats.roots += roots.size();
 
-  // All roots of one run share a dual parity, so that every dual step is integral. A root that
-  // is a plain vertex takes any parity (raising an exposed vertex's dual keeps every slack >= 0);
-  // a root blossom cannot, and one of the other parity waits for a second run.
-  std::int64_t parity = 0;
-  for (Vertex v : roots) {
-    if (!forest.is_vertex(forest.top(v))) {
-      parity = dual2[v] & 1;
-      break;
-    }
-  }
+  // One tree at a time: a tree that reaches a later root augments into it as into any exposed
+  // vertex, and a lone tree never has to tell other trees about the vertices it frees.
   AlternatingSearch& search = *pool.search;
   const SolveStats before = search.stats();
-  std::vector<Vertex> later;
   for (Vertex v : roots) {
-    if ((dual2[v] & 1) == parity) {
-      search.add_root(v);
-    } else if (forest.is_vertex(forest.top(v))) {
-      dual2[v] += 1;
-      search.add_root(v);
-    } else {
-      later.push_back(v);
-    }
-  }
-  search.run();
-  bool again = false;
-  for (Vertex v : later) {
-    if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // a tree of the first run reached it
+    if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
     search.add_root(v);
-    again = true;
+    search.run();
   }
-  if (again) search.run();
   const SolveStats& after = search.stats();
   pool.stats.searches += after.searches - before.searches;
   pool.stats.augmentations += after.augmentations - before.augmentations;

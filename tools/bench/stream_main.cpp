@@ -1,0 +1,139 @@
+// yoke_stream_bench: a warm yoke::Pool repairing commit by commit against LEMON's
+// MaxWeightedMatching solving the same graph from scratch after the same commit, on Larkspur
+// Bay city graphs with the benchmark event mix (tools/graphgen/event_stream.h).
+//
+//   yoke_stream_bench [--quick] [--vertices N[,N...]]... [--events E] [--seed S]
+//                     [--lemon-samples K] [--only SETTING]... [--list]
+//
+// Exit codes: 0 done (a missed performance target is reported, not fatal); 1 yoke and LEMON
+// disagree on a weight or a certificate fails; 2 bad options or an error the engine threw.
+#include <algorithm>
+#include <cstdint>
+#include <iostream>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+
+#include "tools/bench/heap_counter.h"
+#include "tools/bench/report.h"
+#include "tools/bench/stream_report.h"
+#include "tools/bench/stream_runner.h"
+#include "tools/bench/stream_settings.h"
+
+namespace {
+
+using namespace yoke::bench;
+
+struct Options {
+  bool quick = false;
+  bool list = false;
+  std::vector<std::size_t> vertices;  // empty: the default (or quick) sizes
+  std::optional<std::size_t> events;
+  std::uint64_t seed = 1;
+  std::optional<std::size_t> lemon_samples;
+  std::vector<std::string> only;
+};
+
+constexpr std::size_t kDefaultLemonSamples = 5;
+constexpr std::size_t kQuickLemonSamples = 3;
+constexpr int kDisagreement = 1;
+constexpr int kUsageError = 2;
+
+// The settings the options select; throws CLI::ValidationError for an --only that names none.
+std::vector<StreamSetting> selected(const Options& o) {
+  const std::vector<std::size_t> sizes =
+      !o.vertices.empty() ? o.vertices : (o.quick ? quick_sizes() : default_sizes());
+  const std::vector<StreamSetting> all = make_settings(sizes, o.events, o.quick);
+  if (o.only.empty()) return all;
+  for (const std::string& pattern : o.only) {
+    if (std::none_of(all.begin(), all.end(),
+                     [&](const StreamSetting& s) { return setting_matches(s, pattern); })) {
+      throw CLI::ValidationError("--only", "no setting, graph or commit size named '" + pattern +
+                                               "' (see --list)");
+    }
+  }
+  std::vector<StreamSetting> chosen;
+  for (const StreamSetting& s : all) {
+    if (std::any_of(o.only.begin(), o.only.end(),
+                    [&](const std::string& pattern) { return setting_matches(s, pattern); })) {
+      chosen.push_back(s);
+    }
+  }
+  return chosen;
+}
+
+int run(const Options& o, const std::vector<StreamSetting>& settings, const std::string& command) {
+  if (!heap::counting_works()) {
+    std::cerr << "yoke_stream_bench: the counting operator new is not in use; memory figures "
+                 "would be wrong\n";
+    return kUsageError;
+  }
+  const std::size_t samples =
+      o.lemon_samples.value_or(o.quick ? kQuickLemonSamples : kDefaultLemonSamples);
+  print_stream_preamble(std::cout, {command, o.seed, samples});
+  std::vector<StreamResult> results;
+  bool all_ok = true;
+  for (const StreamSetting& setting : settings) {
+    results.push_back(run_setting(setting, o.seed, samples));
+    print_setting(std::cout, results.back());
+    all_ok = all_ok && results.back().ok();
+  }
+  print_stream_tables(std::cout, results);
+  if (!all_ok) {
+    std::cout << "\nFAILED: yoke and LEMON disagree on a weight, or a certificate fails (see "
+                 "above)\n";
+    return kDisagreement;
+  }
+  return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  Options o;
+  CLI::App app(
+      "yoke_stream_bench: repair per commit in a warm pool against LEMON solving from scratch");
+  app.add_flag("--quick", o.quick, "Small graphs and short streams (a smoke test, seconds)");
+  app.add_option("--vertices", o.vertices,
+                 "Base graph sizes, instead of 100000 and 300000 (repeatable, or N,N,...)")
+      ->delimiter(',')
+      ->check(CLI::Range(std::size_t{2}, std::size_t{1} << 22));
+  app.add_option("--events", o.events,
+                 "Events streamed per setting (default 20000 up to 150000 vertices, 10000 above; "
+                 "1000 with --quick)")
+      ->check(CLI::Range(std::size_t{1}, std::size_t{1} << 30));
+  app.add_option("--seed", o.seed, "Seed of the graphs and the streams")->capture_default_str();
+  app.add_option("--lemon-samples", o.lemon_samples,
+                 "Commits after which LEMON re-solves from scratch, at least 3 (default 5; 3 with "
+                 "--quick)")
+      ->check(CLI::Range(std::size_t{3}, std::size_t{1000}));  // a median of fewer means little
+  app.add_option("--only", o.only,
+                 "Run only this setting (city-100k/b1), graph (city-100k) or commit size (b100); "
+                 "repeatable");
+  app.add_flag("--list", o.list, "List the settings and exit");
+
+  std::vector<StreamSetting> settings;
+  try {
+    app.parse(argc, argv);
+    settings = selected(o);
+  } catch (const CLI::ParseError& error) {
+    const int code = app.exit(error);
+    return code == 0 ? 0 : kUsageError;
+  }
+  if (o.list) {
+    for (const StreamSetting& s : settings) {
+      std::cout << s.name << "  (" << s.vertices << " vertices, " << s.events << " events in "
+                << s.commits() << (s.commits() == 1 ? " commit" : " commits") << " of "
+                << s.batch << ")\n";
+    }
+    return 0;
+  }
+  try {
+    return run(o, settings, command_line(argc, argv));
+  } catch (const std::exception& error) {
+    std::cerr << "yoke_stream_bench: " << error.what() << "\n";
+    return kUsageError;
+  }
+}
