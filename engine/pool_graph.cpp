@@ -12,8 +12,8 @@ PoolGraph::PoolGraph()
 }
 
 Vertex PoolGraph::find(VertexKey key) const {
-  const auto it = key_to_slot_.find(key);
-  return it == key_to_slot_.end() ? kNoVertex : it->second;
+  const std::uint32_t v = key_to_slot_.find(key);
+  return v == FlatMap::kAbsent ? kNoVertex : v;
 }
 
 Vertex PoolGraph::add_vertex(VertexKey key) {
@@ -30,7 +30,7 @@ Vertex PoolGraph::add_vertex(VertexKey key) {
     }
     v = static_cast<Vertex>(next_unused_++);
   }
-  key_to_slot_.emplace(key, v);
+  key_to_slot_.insert(key, v);
   slot_key_[v] = key;
   slot_alive_[v] = 1;
   return v;
@@ -48,13 +48,13 @@ void PoolGraph::release_slots() {
 }
 
 EdgeIndex PoolGraph::find_edge(Vertex a, Vertex b) const {
-  const auto it = edge_of_pair_.find(pair_key(a, b));
-  return it == edge_of_pair_.end() ? kNoEdge : it->second;
+  const std::uint32_t e = edge_of_pair_.find(pair_key(a, b));
+  return e == FlatMap::kAbsent ? kNoEdge : e;
 }
 
 EdgeIndex PoolGraph::add_edge(Vertex a, Vertex b, Weight w) {
   const EdgeIndex e = graph_.add_edge(a, b, w);
-  edge_of_pair_.emplace(pair_key(a, b), e);
+  edge_of_pair_.insert(pair_key(a, b), e);
   return e;
 }
 

@@ -6,10 +6,10 @@
 #include <cstdint>
 #include <functional>
 #include <queue>
-#include <unordered_map>
 #include <vector>
 
 #include "events.h"
+#include "flat_map.h"
 #include "graph.h"
 
 namespace yoke {
@@ -47,8 +47,8 @@ class PoolGraph {
   }
 
   Graph graph_;
-  std::unordered_map<VertexKey, Vertex> key_to_slot_;
-  std::unordered_map<std::uint64_t, EdgeIndex> edge_of_pair_;
+  FlatMap key_to_slot_;   // vertex key -> slot
+  FlatMap edge_of_pair_;  // pair_key(a, b) -> edge
   std::vector<VertexKey> slot_key_;
   std::vector<std::uint8_t> slot_alive_;
   std::priority_queue<Vertex, std::vector<Vertex>, std::greater<>> free_slots_;  // lowest first
