@@ -64,6 +64,7 @@ void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Ver
 void AlternatingSearch::make_even(Vertex v) {
   set_vertex_sign(v, -1);
   bounds_.push(delta_ + dual2_[v], v, kEvenVertexDual);
+  if (lone_tree_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
   scan_queue_.push_back(v);
 }
 
@@ -83,13 +84,16 @@ void AlternatingSearch::scan(Vertex v) {
   for (const Incidence& inc : graph_.incident(v)) {
     const Weight w = inc.w + weight_offset_;
     if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
-    const NodeId top_x = forest_.top(inc.other);
-    if (top_x == top_v) continue;
-    const Label label = label_of(top_x);
-    if (label == kOdd) continue;  // slack is constant while one end is even and the other odd
-    const Weight dual_x = vertex_dual(inc.other);
-    const bool both_even = label == kEven;
-    queue_edge(inc.edge, dual_v + dual_x - 2 * w, both_even ? dual_v + dual_x : dual_v, both_even);
+    // The far end's sign says its top node's label, so most edges need no look at the forest.
+    const VertexMark& mark = vertex_mark_[inc.other];
+    const int sign = mark.stamp == stamp_ ? mark.sign : 0;
+    if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
+    const Weight dual_x = sign == 0 ? dual2_[inc.other] : dual2_[inc.other] - (delta_ - mark.since);
+    if (sign == 0) {
+      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v, /*both_even=*/false);
+    } else if (forest_.top(inc.other) != top_v) {
+      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v + dual_x, /*both_even=*/true);
+    }
   }
 }
 
@@ -98,11 +102,11 @@ void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, bool
   // end that turns even again is rescanned. So an edge whose slack exceeds what its even ends
   // can still take away (`reach`) never becomes due in this episode: skip it.
   if (slack > reach) return;
-  if (both_even) {
-    bounds_.push(delta_ + slack / 2, e, kEvenEdge);
-  } else {
-    bounds_.push(delta_ + slack, e, kFreeEdge);
-  }
+  // A lone tree ends, at the latest, when the smallest dual among its even vertices reaches 0:
+  // a bound due later can never be taken.
+  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  if (due > latest_end_) return;
+  bounds_.push(due, e, both_even ? kEvenEdge : kFreeEdge);
 }
 
 void AlternatingSearch::push_edges_to_even(NodeId node) {
@@ -110,7 +114,7 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
     const Weight dual_u = vertex_dual(u);
     for (const Incidence& inc : graph_.incident(u)) {
       const Weight w = inc.w + weight_offset_;
-      if (w <= 0 || label_of(forest_.top(inc.other)) != kEven) continue;
+      if (w <= 0 || !is_even_vertex(inc.other)) continue;
       const Weight dual_x = vertex_dual(inc.other);
       queue_edge(inc.edge, dual_u + dual_x - 2 * w, dual_x, /*both_even=*/false);
     }
@@ -124,8 +128,8 @@ bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
   // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
   // exact key when the entry came early or under the other kind.
   const Edge& e = graph_.edge(entry.id);
-  const bool a_even = label_of(forest_.top(e.a)) == kEven;
-  const bool b_even = label_of(forest_.top(e.b)) == kEven;
+  const bool a_even = is_even_vertex(e.a);
+  const bool b_even = is_even_vertex(e.b);
   const Weight dual_a = vertex_dual(e.a);
   const Weight dual_b = vertex_dual(e.b);
   const Weight slack = dual_a + dual_b - 2 * weight(entry.id);
@@ -156,12 +160,12 @@ bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
   // Every transition into an even-free or even-even state queues a fresh entry, except an even
   // end turning free, which relies on the even-even entry: keep exactly those two states.
   const Edge& e = graph_.edge(entry.id);
-  const NodeId top_a = forest_.top(e.a);
-  const NodeId top_b = forest_.top(e.b);
-  const Label label_a = label_of(top_a);
-  const Label label_b = label_of(top_b);
-  return top_a != top_b && label_a != kOdd && label_b != kOdd &&
-         (label_a == kEven || label_b == kEven);
+  const int sign_a = vertex_sign(e.a);
+  const int sign_b = vertex_sign(e.b);
+  if (sign_a > 0 || sign_b > 0) return false;       // an odd end
+  if (sign_a == 0 && sign_b == 0) return false;     // no even end
+  if (sign_a < 0 && sign_b < 0) return forest_.top(e.a) != forest_.top(e.b);
+  return true;
 }
 
 void AlternatingSearch::compact_bounds_if_bloated() {
@@ -196,6 +200,11 @@ void AlternatingSearch::add_root(Vertex root) {
 
 std::size_t AlternatingSearch::run() {
   const std::uint64_t augmentations_before = stats_.augmentations;
+  if (live_trees_ == 1 && !half_cycles_mode_) {
+    // The root was labelled before the run knew it would be alone: take its bound now.
+    lone_tree_ = true;
+    for (Vertex v : scan_queue_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
+  }
   while (live_trees_ > 0) {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
@@ -230,13 +239,15 @@ std::size_t AlternatingSearch::run() {
     }
   }
   running_ = false;
+  lone_tree_ = false;
+  latest_end_ = kNever;
   stats_.heap_pushes = bounds_.pushes();
   return stats_.augmentations - augmentations_before;
 }
 
 void AlternatingSearch::grow_along(EdgeIndex e) {
   const Edge& edge = graph_.edge(e);
-  const bool a_even = label_of(forest_.top(edge.a)) == kEven;
+  const bool a_even = is_even_vertex(edge.a);
   const Vertex even_end = a_even ? edge.a : edge.b;
   const Vertex free_end = a_even ? edge.b : edge.a;
   const NodeId node = forest_.top(free_end);

@@ -12,6 +12,7 @@
 #pragma once
 
 #include <cstdint>
+#include <limits>
 #include <vector>
 
 #include "graph.h"
@@ -60,6 +61,13 @@ class AlternatingSearch {
     return mark.stamp == stamp_ ? static_cast<Label>(mark.label) : kFree;
   }
   void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
+  // -1 even, +1 odd, 0 free: a vertex's sign always follows the label of its top-level node
+  // (every relabelling sets its vertices' signs), so this avoids a climb in the forest.
+  int vertex_sign(Vertex v) const {
+    const VertexMark& mark = vertex_mark_[v];
+    return mark.stamp == stamp_ ? mark.sign : 0;
+  }
+  bool is_even_vertex(Vertex v) const { return vertex_sign(v) < 0; }
   void settle_blossom_dual(NodeId b);
 
   // Tree growth.
@@ -136,6 +144,11 @@ class AlternatingSearch {
   std::vector<Vertex> tree_of_;            // per node: the root vertex of its tree
   std::vector<std::vector<NodeId>> tree_nodes_;  // per root vertex: nodes labelled in its tree
   std::size_t live_trees_ = 0;
+  // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
+  // key of its even vertices' dual bounds), and queues no bound due after it.
+  static constexpr Weight kNever = std::numeric_limits<Weight>::max();
+  bool lone_tree_ = false;
+  Weight latest_end_ = kNever;
   bool running_ = false;
   std::vector<std::uint32_t> mark_;        // scratch stamps for finding the tree's meeting point
   std::uint32_t mark_stamp_ = 0;
