@@ -1,6 +1,7 @@
 #include "blossom_forest.h"
 
 #include <algorithm>
+#include <string>
 #include <type_traits>
 
 namespace yoke {
@@ -192,6 +193,99 @@ std::vector<NodeId> BlossomForest::live_blossoms() const {
     if (!children_[slot - vertex_count_].empty()) live.push_back(static_cast<NodeId>(slot));
   }
   return live;
+}
+
+void BlossomForest::save(ByteWriter& out) const {
+  out.put<std::uint64_t>(vertex_count_);
+  out.put_vector(parent_);
+  out.put_vector(base_);
+  out.put_vector(dual2_);
+  out.put_vector(first_leaf_);
+  out.put_vector(last_leaf_);
+  out.put_vector(next_leaf_);
+  out.put_vector(size_);
+  for (std::size_t slot = 0; slot < vertex_count_; ++slot) {
+    out.put_vector(children_[slot]);
+    out.put_vector(edges_[slot]);
+  }
+  out.put_vector(free_slots_);
+}
+
+BlossomForest BlossomForest::load(ByteReader& in) {
+  const auto n = in.get<std::uint64_t>();
+  if (n >= kMaxVertices) ByteReader::fail("too many vertices in the forest");
+  BlossomForest forest(0);
+  forest.vertex_count_ = n;
+  auto per_node = [&](auto& values) {
+    values = in.get_vector<typename std::remove_reference_t<decltype(values)>::value_type>(2 * n);
+    if (values.size() != 2 * n) ByteReader::fail("a forest array has the wrong length");
+  };
+  per_node(forest.parent_);
+  per_node(forest.base_);
+  per_node(forest.dual2_);
+  per_node(forest.first_leaf_);
+  per_node(forest.last_leaf_);
+  forest.next_leaf_ = in.get_vector<Vertex>(n);
+  if (forest.next_leaf_.size() != n) ByteReader::fail("the leaf list has the wrong length");
+  per_node(forest.size_);
+  forest.children_.resize(n);
+  forest.edges_.resize(n);
+  for (std::size_t slot = 0; slot < n; ++slot) {
+    forest.children_[slot] = in.get_vector<NodeId>(2 * n);
+    forest.edges_[slot] = in.get_vector<CycleEdge>(2 * n);
+  }
+  forest.free_slots_ = in.get_vector<NodeId>(n);
+  forest.top_.resize(n);
+  for (Vertex v = 0; v < n; ++v) forest.top_[v] = v;  // a cache: any ancestor-or-self will do
+  forest.check_loaded();
+  return forest;
+}
+
+void BlossomForest::check_loaded() const {
+  const std::size_t n = vertex_count_;
+  auto bad = [](const std::string& why) { ByteReader::fail("blossom forest: " + why); };
+  for (std::size_t node = 0; node < 2 * n; ++node) {
+    const NodeId parent = parent_[node];
+    if (parent != kNoNode && (parent < n || parent >= 2 * n || !is_live_blossom(parent))) bad("a parent is not a blossom");
+    if (node < n && (size_[node] != 1 || first_leaf_[node] != node || last_leaf_[node] != node)) bad("a vertex is not its own leaf run");
+  }
+  std::vector<std::uint8_t> slot_free(n, 0);
+  for (NodeId slot : free_slots_) {
+    if (slot < n || slot >= 2 * n || is_live_blossom(slot) || slot_free[slot - n] != 0) bad("the free list is wrong");
+    slot_free[slot - n] = 1;
+  }
+  for (std::size_t slot = 0; slot < n; ++slot) {
+    const auto b = static_cast<NodeId>(n + slot);
+    const auto& kids = children_[slot];
+    if (kids.empty()) {
+      if (slot_free[slot] == 0) bad("an unused slot is not free");
+      continue;
+    }
+    if (kids.size() < 3 || kids.size() % 2 == 0 || edges_[slot].size() != kids.size()) bad("a blossom is not an odd cycle");
+    std::uint64_t total = 0;
+    for (NodeId child : kids) {
+      if (child >= 2 * n || parent_[child] != b) bad("a child does not name its blossom");
+      total += size_[child];
+    }
+    // Each blossom is larger than each child: following parents always grows, so no cycle.
+    if (total != size_[b]) bad("a blossom's size is not the sum of its children's");
+    // (make_base rotates the children, not the leaf run, so the run need not start at the
+    // base child; its length is checked below for top-level blossoms.)
+    if (base_[b] >= n || first_leaf_[b] >= n || last_leaf_[b] >= n) bad("a blossom's leaf run or base is wrong");
+    for (const CycleEdge& e : edges_[slot]) {
+      if (e.from >= n || e.to >= n) bad("a cycle edge names a missing vertex");
+    }
+  }
+  // Every top-level node's leaf run holds exactly its size, ending at its last leaf.
+  for (std::size_t node = 0; node < 2 * n; ++node) {
+    if (parent_[node] != kNoNode || (node >= n && !is_live_blossom(static_cast<NodeId>(node)))) continue;
+    Vertex v = first_leaf_[node];
+    for (std::uint32_t k = 1; k < size_[node]; ++k) {
+      if (v >= n || v == last_leaf_[node]) bad("a leaf run is short");
+      v = next_leaf_[v];
+    }
+    if (v != last_leaf_[node]) bad("a leaf run does not end at its last leaf");
+  }
 }
 
 }  // namespace yoke

@@ -10,6 +10,7 @@
 #include <cstdint>
 #include <vector>
 
+#include "byte_io.h"
 #include "certificate.h"
 #include "mates.h"
 #include "types.h"
@@ -93,6 +94,12 @@ class BlossomForest {
   // Live blossoms in increasing slot order (for certificates and tests). O(n).
   std::vector<NodeId> live_blossoms() const;
 
+  // The whole forest, slot order and free list included, and back. load() checks that the
+  // bytes describe a laminar family whose leaf runs are consistent (every blossom larger than
+  // each child, so no cycle) and throws InputError otherwise. O(n + total children).
+  void save(ByteWriter& out) const;
+  static BlossomForest load(ByteReader& in);
+
  private:
   std::size_t vertex_count_;
   std::vector<NodeId> parent_;        // per node; kNoNode at top level
@@ -114,6 +121,8 @@ class BlossomForest {
   };
   std::vector<BaseWork> base_work_;   // scratch for make_base
   std::vector<NodeId> path_;          // scratch for dissolve_path
+
+  void check_loaded() const;
 };
 
 }  // namespace yoke

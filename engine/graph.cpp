@@ -1,5 +1,7 @@
 #include "graph.h"
 
+#include <string>
+
 namespace yoke {
 
 Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
@@ -84,6 +86,52 @@ void Graph::remove_edge(EdgeIndex e) {
   remove_incidence(edge.b, positions_[e].in_b);
   edges_[e] = {kNoVertex, kNoVertex, 0};
   free_edges_.push_back(e);
+}
+
+void Graph::save(ByteWriter& out) const {
+  out.put<std::uint64_t>(incidence_.size());
+  out.put<std::uint8_t>(tracking_ ? 1 : 0);
+  out.put_vector(edges_);
+  out.put_vector(free_edges_);
+  std::vector<EdgeIndex> order;
+  for (const auto& list : incidence_) {
+    order.clear();
+    for (const Incidence& inc : list) order.push_back(inc.edge);
+    out.put_vector(order);
+  }
+}
+
+Graph Graph::load(ByteReader& in) {
+  const auto n = in.get<std::uint64_t>();
+  if (n >= kMaxVertices) ByteReader::fail("too many vertices");
+  const bool tracking = in.get<std::uint8_t>() != 0;
+  Graph graph;
+  graph.edges_ = in.get_vector<Edge>(kMaxEdges);
+  graph.free_edges_ = in.get_vector<EdgeIndex>(graph.edges_.size());
+  const std::size_t m = graph.edges_.size();
+  std::vector<std::uint8_t> seen(m, 0);  // live edges must sit once in each end's list
+  for (EdgeIndex e : graph.free_edges_) {
+    if (e >= m || graph.edges_[e].a != kNoVertex || seen[e] != 0) ByteReader::fail("a free edge slot is in use");
+    seen[e] = 3;
+  }
+  graph.incidence_.resize(n);
+  for (Vertex v = 0; v < n; ++v) {
+    for (EdgeIndex e : in.get_vector<EdgeIndex>(m)) {
+      if (e >= m) ByteReader::fail("an incidence names a missing edge");
+      const Edge& edge = graph.edges_[e];
+      const int end = edge.a == v ? 1 : edge.b == v ? 2 : 0;
+      if (end == 0 || (seen[e] & end) != 0 || edge.a >= n || edge.b >= n || edge.a == edge.b) {
+        ByteReader::fail("edge " + std::to_string(e) + " is listed at the wrong vertex");
+      }
+      seen[e] |= static_cast<std::uint8_t>(end);
+      graph.incidence_[v].push_back({edge.other(v), e, edge.w});
+    }
+  }
+  for (EdgeIndex e = 0; e < m; ++e) {
+    if (seen[e] != 3) ByteReader::fail("edge " + std::to_string(e) + " is missing from a list");
+  }
+  if (tracking) graph.track_positions();
+  return graph;
 }
 
 }  // namespace yoke

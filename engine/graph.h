@@ -9,6 +9,7 @@
 #include <span>
 #include <vector>
 
+#include "byte_io.h"
 #include "types.h"
 
 namespace yoke {
@@ -61,6 +62,11 @@ class Graph {
   const Edge& edge(EdgeIndex e) const { return edges_[e]; }
   const std::vector<Edge>& edges() const { return edges_; }
   std::span<const Incidence> incident(Vertex v) const { return incidence_[v]; }
+
+  // The whole store, incidence order included (the search's order follows it), and back.
+  // load() checks that the bytes describe a consistent graph and throws InputError otherwise.
+  void save(ByteWriter& out) const;
+  static Graph load(ByteReader& in);
 
  private:
   struct Positions {

@@ -12,6 +12,15 @@ void Mates::resize(std::size_t vertex_count) {
   }
 }
 
+void Mates::assign(std::vector<Vertex> mates) {
+  mate_ = std::move(mates);
+  journal_open_ = false;
+  journal_.clear();
+  written_.assign(mate_.size(), 0);
+  position_.assign(mate_.size(), 0);
+  epoch_ = 0;
+}
+
 void Mates::open_journal() {
   if (written_.size() != mate_.size()) {
     written_.resize(mate_.size(), 0);

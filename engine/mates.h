@@ -31,6 +31,8 @@ class Mates {
   }
   // New vertices are exposed.
   void resize(std::size_t vertex_count);
+  // Replaces every mate (a restored pool); the journal is closed and empty.
+  void assign(std::vector<Vertex> mates);
 
   // Forgets the previous journal and records first writes from now on.
   void open_journal();

@@ -12,6 +12,8 @@
 #include <memory>
 #include <optional>
 #include <span>
+#include <string>
+#include <string_view>
 #include <utility>
 #include <vector>
 
@@ -105,8 +107,16 @@ class Pool {
   // O(n + m + blossom sizes).
   PoolExport export_certified() const;
 
+  // The pool's whole state as bytes, and a pool rebuilt from them that behaves exactly as this
+  // one would: the same later batches give the same results and diffs. Both O(n + m + blossom
+  // sizes). restore() throws InputError on bytes that do not describe a consistent pool; a
+  // caller that did not write the bytes itself should also check the restored certificate.
+  std::string save() const;
+  static std::unique_ptr<Pool> restore(std::string_view bytes);
+
  private:
   struct State;
+  explicit Pool(std::unique_ptr<State> state);
   std::unique_ptr<State> state_;
 };
 

@@ -41,6 +41,11 @@ class PoolGraph {
   void set_weight(EdgeIndex e, Weight w) { graph_.set_weight(e, w); }
   void remove_edge(EdgeIndex e);
 
+  // Everything, between commits (no slot freed in a batch still pending), and back; the maps
+  // are rebuilt from the slots and edges. load() throws InputError on inconsistent bytes.
+  void save(ByteWriter& out) const;
+  static PoolGraph load(ByteReader& in);
+
  private:
   static std::uint64_t pair_key(Vertex a, Vertex b) {
     return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
