@@ -14,6 +14,7 @@
 //   soak done: E events in C commits, X events/s in commits (Y/s overall), N checks passed
 // Exit codes: 0 every check passed; 1 a check failed (the line says which); 2 bad options or
 // an error the engine threw.
+#include <algorithm>
 #include <chrono>
 #include <cstdint>
 #include <iostream>
@@ -28,6 +29,8 @@
 #include "engine/certificate.h"
 #include "engine/pool.h"
 #include "engine/solve.h"
+#include "tools/cli/certified_matching.h"
+#include "tools/cli/number_options.h"
 #include "tools/graphgen/event_stream.h"
 
 namespace {
@@ -59,21 +62,16 @@ std::optional<std::string> check_pool(const Pool& pool, const CommitResult& resu
   const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
   if (!verdict.ok) return "certificate rejected: " + verdict.failure;
 
-  std::set<KeyPair> certified;
-  Weight weight = 0;
-  for (const Edge& e : exported.graph.edges()) {
-    if (exported.certificate.mate[e.a] != e.b) continue;
-    const VertexKey a = exported.keys[e.a];
-    const VertexKey b = exported.keys[e.b];
-    certified.emplace(std::min(a, b), std::max(a, b));
-    weight += e.w;
-  }
-  if (weight != result.weight || certified.size() != result.pairs) {
+  const cli::CertifiedMatching certified = cli::certified_matching(exported);
+  if (certified.weight != result.weight || certified.pairs.size() != result.pairs) {
     return "the commit reports weight " + std::to_string(result.weight) + " pairs " +
            std::to_string(result.pairs) + ", its certificate's matching " +
-           std::to_string(weight) + " and " + std::to_string(certified.size());
+           int128_text(certified.weight) + " and " + std::to_string(certified.pairs.size());
   }
-  if (certified != from_diffs) return std::string("the diffs do not add up to the matching");
+  if (!std::equal(certified.pairs.begin(), certified.pairs.end(), from_diffs.begin(),
+                  from_diffs.end())) {
+    return std::string("the diffs do not add up to the matching");
+  }
 
   // yoke's static engine (independent from-scratch solve).
   const SolveResult fresh = solve(exported.graph, pool.mode());
@@ -173,16 +171,6 @@ int run(const SoakOptions& o) {
 
 }  // namespace
 
-// CLI::PositiveNumber's message prints the range up to the largest double.
-const CLI::Validator kAtLeastOne(
-    [](std::string& text) {
-      return text.find_first_not_of("0123456789") == std::string::npos &&
-                     text.find_first_not_of('0') != std::string::npos
-                 ? std::string()
-                 : std::string("must be a whole number of at least 1");
-    },
-    "");
-
 int main(int argc, char** argv) {
   SoakOptions o;
   CLI::App app("yoke_soak: a long event stream through one pool, checked every K commits");
@@ -192,12 +180,12 @@ int main(int argc, char** argv) {
   app.add_option("--vertices", o.vertices, "Vertices of the base graph")->capture_default_str();
   app.add_option("--events", o.events, "Events after the base graph")->capture_default_str();
   app.add_option("--batch", o.batch, "Events per batch")
-      ->check(kAtLeastOne)
+      ->check(cli::kAtLeastOne)
       ->capture_default_str();
   app.add_option("--batch-max", o.batch_max, "Largest batch (sizes uniform in [batch, max])");
   app.add_option("--seed", o.seed, "Random seed")->capture_default_str();
   app.add_option("--check-every", o.check_every, "Commits between two full checks")
-      ->check(kAtLeastOne)
+      ->check(cli::kAtLeastOne)
       ->capture_default_str();
   app.add_option("--mode", o.mode, "max-weight, max-cardinality or perfect")
       ->check(CLI::IsMember({"max-weight", "max-cardinality", "perfect"}))

@@ -1,17 +1,10 @@
 #include "tools/bench/lemon_runner.h"
 
-#include <vector>
-
-#include "tools/bench/lemon_matching.h"
-
 namespace yoke::bench {
 
 SolverRun run_lemon(const gen::GeneratedGraph& input) {
-  // The copy is made before LEMON's heap window opens: it stands for the input, as the
-  // generated graph does for yoke.
-  std::vector<LemonEdge> edges;
-  edges.reserve(input.edges.size());
-  for (const Edge& e : input.edges) edges.push_back({e.a, e.b, e.w});
+  // The copy stands for the input, as the generated graph does for yoke.
+  const std::vector<LemonEdge> edges = lemon_edges(input.edges);
   const LemonOutcome outcome = lemon_max_weight_matching(input.vertex_count, edges.data(), edges.size());
 
   SolverRun run;
@@ -21,6 +14,13 @@ SolverRun run_lemon(const gen::GeneratedGraph& input) {
   run.weight = outcome.weight;
   run.pairs = outcome.pairs;
   return run;
+}
+
+std::vector<LemonEdge> lemon_edges(const std::vector<Edge>& edges) {
+  std::vector<LemonEdge> out;
+  out.reserve(edges.size());
+  for (const Edge& e : edges) out.push_back({e.a, e.b, e.w});
+  return out;
 }
 
 }  // namespace yoke::bench

@@ -1,5 +1,4 @@
 // Facts about the machine and the source a benchmark ran on, for the head of its report.
-// (report.cpp keeps private copies of the first three for yoke_bench.)
 #pragma once
 
 #include <string>

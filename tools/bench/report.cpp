@@ -1,14 +1,11 @@
 #include "tools/bench/report.h"
 
-#include <sched.h>
-#include <unistd.h>
-
-#include <cstdio>
-#include <fstream>
 #include <ostream>
 #include <string>
 
 #include "tools/bench/lemon_matching.h"
+#include "tools/bench/machine_facts.h"
+#include "tools/bench/number_format.h"
 
 #ifndef YOKE_BENCH_BUILD_TYPE
 #define YOKE_BENCH_BUILD_TYPE "unknown"
@@ -17,45 +14,9 @@
 namespace yoke::bench {
 namespace {
 
-std::string format(const char* pattern, double value) {
-  char text[64];
-  std::snprintf(text, sizeof text, pattern, value);
-  return text;
-}
-
-std::string mib(std::size_t bytes) {
-  return format("%.1f", static_cast<double>(bytes) / (1024.0 * 1024.0));
-}
-
 std::string ms(double value) { return format(value < 10 ? "%.2f" : "%.1f", value); }
 
 std::string ratio(double a, double b) { return b > 0 ? format("%.2f", a / b) : "n/a"; }
-
-// The first line of /proc/cpuinfo's "model name", or "unknown".
-std::string cpu_model() {
-  std::ifstream in("/proc/cpuinfo");
-  for (std::string line; std::getline(in, line);) {
-    if (line.rfind("model name", 0) == 0) {
-      const auto colon = line.find(':');
-      if (colon != std::string::npos) return line.substr(line.find_first_not_of(' ', colon + 1));
-    }
-  }
-  return "unknown";
-}
-
-// CPUs this process may run on, as nproc counts them (affinity, not the machine total).
-long usable_cpus() {
-  cpu_set_t set;
-  if (sched_getaffinity(0, sizeof set, &set) == 0) return CPU_COUNT(&set);
-  return sysconf(_SC_NPROCESSORS_ONLN);
-}
-
-std::string load_average() {
-  std::ifstream in("/proc/loadavg");
-  std::string one, five, fifteen;
-  if (!(in >> one >> five >> fifteen)) return "unknown";
-  return one + " " + five + " " + fifteen;
-}
 
 std::string certificate_word(const SolverRun& run) {
   if (!run.checked) return "not checked";

@@ -1,10 +1,10 @@
 #include "tools/bench/stream_report.h"
 
-#include <cstdio>
 #include <ostream>
 
 #include "tools/bench/lemon_matching.h"
 #include "tools/bench/machine_facts.h"
+#include "tools/bench/number_format.h"
 #include "tools/graphgen/event_stream.h"
 
 #ifndef YOKE_BENCH_BUILD_TYPE
@@ -19,16 +19,6 @@ constexpr double kMedianRatioTarget = 0.001;  // yoke p50 / LEMON median, at mos
 constexpr double kP99RatioTarget = 0.01;      // yoke p99 / LEMON median, at most
 constexpr double kEventsPerSecondTarget = 1e5;  // in 100-event commits, at least
 constexpr std::size_t kThroughputBatch = 100;
-
-std::string format(const char* pattern, double value) {
-  char text[64];
-  std::snprintf(text, sizeof text, pattern, value);
-  return text;
-}
-
-std::string mib(std::size_t bytes) {
-  return format("%.1f", static_cast<double>(bytes) / (1024.0 * 1024.0));
-}
 
 // Three significant figures or so, whatever the magnitude (microseconds to seconds).
 std::string amount(double value) {

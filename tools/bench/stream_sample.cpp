@@ -4,6 +4,7 @@
 
 #include "engine/certificate.h"
 #include "tools/bench/lemon_matching.h"
+#include "tools/bench/lemon_runner.h"
 #include "tools/bench/stopwatch.h"
 
 namespace yoke::bench {
@@ -25,11 +26,10 @@ LemonSample sample_against_lemon(const Pool& pool, std::uint64_t commit) {
 
     // The matching the certificate proves optimal, summed here so that the comparison with
     // LEMON does not rest on the pool's own running total.
-    edges.reserve(graph.edge_count());
     for (const Edge& e : graph.edges()) {
       if (exported.certificate.mate[e.a] == e.b) sample.certified_weight += e.w;
-      edges.push_back({e.a, e.b, e.w});
     }
+    edges = lemon_edges(graph.edges());
   }  // the export is freed before LEMON's heap window opens
 
   const Stopwatch watch;

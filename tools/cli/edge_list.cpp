@@ -2,19 +2,16 @@
 
 #include <algorithm>
 #include <array>
-#include <charconv>
 #include <optional>
-#include <type_traits>
 
 #include "cli_error.h"
 #include "duplicate_edges.h"
 #include "file_io.h"
 #include "id_map.h"
+#include "tokens.h"
 
 namespace yoke::cli {
 namespace {
-
-bool is_blank(char c) { return c == ' ' || c == '\t' || c == '\r' || c == '\v' || c == '\f'; }
 
 struct DataLine {
   std::string_view text;  // without its newline, leading blanks removed
@@ -45,26 +42,6 @@ class DataLines {
   std::size_t number_ = 0;
 };
 
-// A token as an error message shows it: quoted, cut short, control bytes escaped, so that a
-// binary file or a 10 MB line cannot flood the terminal.
-std::string shown(std::string_view token) {
-  constexpr std::size_t kMaxShown = 40;
-  std::string out = "'";
-  for (std::size_t i = 0; i < token.size() && i < kMaxShown; ++i) {
-    const auto c = static_cast<unsigned char>(token[i]);
-    if (c >= 0x20 && c < 0x7f) {
-      out += static_cast<char>(c);
-    } else {
-      constexpr char kHex[] = "0123456789abcdef";
-      out += "\\x";
-      out += kHex[c >> 4];
-      out += kHex[c & 0xf];
-    }
-  }
-  if (token.size() > kMaxShown) out += "...";
-  return out + "'";
-}
-
 struct Fields {
   std::array<std::string_view, 3> values;
   std::size_t count = 0;  // all fields on the line, also beyond the three kept
@@ -86,24 +63,9 @@ Fields split_fields(std::string_view line) {
   return fields;
 }
 
-// Parses the whole token as an integer of type T, or explains why not.
-template <typename T>
-std::optional<std::string> parse_integer(std::string_view token, T& value, const char* what,
-                                         const char* range) {
-  const auto [end, error] = std::from_chars(token.data(), token.data() + token.size(), value);
-  if (error == std::errc::result_out_of_range) {
-    return std::string(what) + " " + shown(token) + " is out of range (" + range + ")";
-  }
-  if (error != std::errc() || end != token.data() + token.size()) {
-    return std::string(what) + " " + shown(token) + " is not " +
-           (std::is_signed_v<T> ? "an integer" : "a non-negative integer");
-  }
-  return std::nullopt;
-}
-
 std::uint64_t parse_vertex_id(std::string_view token, std::size_t line) {
   std::uint64_t id = 0;
-  if (auto problem = parse_integer(token, id, "vertex id", "0 .. 18446744073709551615")) {
+  if (auto problem = parse_integer(token, id, "vertex id")) {
     throw EdgeListError(line, *problem);
   }
   return id;
@@ -111,8 +73,7 @@ std::uint64_t parse_vertex_id(std::string_view token, std::size_t line) {
 
 Weight parse_weight(std::string_view token, std::size_t line) {
   Weight weight = 0;
-  if (auto problem = parse_integer(token, weight, "weight",
-                                   "-9223372036854775808 .. 9223372036854775807")) {
+  if (auto problem = parse_integer(token, weight, "weight")) {
     throw EdgeListError(line, *problem);
   }
   return weight;

@@ -2,17 +2,14 @@
 
 #include <algorithm>
 #include <array>
-#include <charconv>
-#include <limits>
 
 #include "cli_error.h"
 #include "file_io.h"
 #include "id_map.h"
+#include "tokens.h"
 
 namespace yoke::cli {
 namespace {
-
-bool is_blank(char c) { return c == ' ' || c == '\t' || c == '\r' || c == '\v' || c == '\f'; }
 
 // The tokens of one line up to its comment: the verb and at most three fields are kept, the
 // count covers them all (so "set 1 2 3 4" can say it found 4 fields).
@@ -35,26 +32,6 @@ Tokens split_tokens(std::string_view line) {
     ++tokens.count;
   }
   return tokens;
-}
-
-// A token as an error message shows it: quoted, cut short, control bytes escaped, so that a
-// binary file or a huge line cannot flood the terminal.
-std::string shown(std::string_view token) {
-  constexpr std::size_t kMaxShown = 40;
-  constexpr char kHex[] = "0123456789abcdef";
-  std::string out = "'";
-  for (std::size_t i = 0; i < token.size() && i < kMaxShown; ++i) {
-    const auto c = static_cast<unsigned char>(token[i]);
-    if (c >= 0x20 && c < 0x7f) {
-      out += static_cast<char>(c);
-    } else {
-      out += "\\x";
-      out += kHex[c >> 4];
-      out += kHex[c & 0xf];
-    }
-  }
-  if (token.size() > kMaxShown) out += "...";
-  return out + "'";
 }
 
 // The verbs with the fields each takes after it.
@@ -140,7 +117,9 @@ class ScriptBuilder {
 
   VertexKey vertex_id(std::string_view token, std::size_t line) {
     VertexKey id = 0;
-    parse_integer(token, id, "vertex id", line);
+    if (auto problem = parse_integer(token, id, "vertex id")) {
+      throw EventScriptError(line, *problem);
+    }
     if (ids_.intern(id) == kNoVertex) {
       throw EventScriptError(line, "too many distinct vertex ids (at most 4294967294)");
     }
@@ -149,31 +128,14 @@ class ScriptBuilder {
 
   Weight weight(std::string_view token, std::size_t line) {
     Weight w = 0;
-    parse_integer(token, w, "weight", line);
+    if (auto problem = parse_integer(token, w, "weight")) {
+      throw EventScriptError(line, *problem);
+    }
     // |w| as unsigned, exact also for the most negative weight.
     const std::uint64_t magnitude =
         w < 0 ? std::uint64_t{0} - static_cast<std::uint64_t>(w) : static_cast<std::uint64_t>(w);
     script_.largest_abs_weight = std::max(script_.largest_abs_weight, magnitude);
     return w;
-  }
-
-  // Parses the whole token as an integer of type T, or throws saying why not.
-  template <typename T>
-  static void parse_integer(std::string_view token, T& value, const char* what,
-                            std::size_t line) {
-    const auto [end, error] = std::from_chars(token.data(), token.data() + token.size(), value);
-    if (error == std::errc::result_out_of_range) {
-      throw EventScriptError(line, std::string(what) + " " + shown(token) +
-                                       " is out of range (" +
-                                       std::to_string(std::numeric_limits<T>::min()) + " .. " +
-                                       std::to_string(std::numeric_limits<T>::max()) + ")");
-    }
-    if (error != std::errc() || end != token.data() + token.size()) {
-      throw EventScriptError(line, std::string(what) + " " + shown(token) + " is not " +
-                                       (std::numeric_limits<T>::is_signed
-                                            ? "an integer"
-                                            : "a non-negative integer"));
-    }
   }
 
   EventScript script_;

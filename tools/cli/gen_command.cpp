@@ -9,6 +9,7 @@
 
 #include "cli_error.h"
 #include "file_io.h"
+#include "number_options.h"
 #include "tools/graphgen/event_stream.h"
 #include "tools/graphgen/generators.h"
 
@@ -188,23 +189,6 @@ void write_output(const std::string& path, const std::string& what,
     close_output_file(out, path);
   }
 }
-
-// CLI11 would wrap "-6" around to a huge unsigned value.
-const CLI::Validator kNotNegative(
-    [](std::string& text) {
-      return text.starts_with('-') ? std::string("must not be negative") : std::string();
-    },
-    "");
-
-// CLI::PositiveNumber's message prints the range up to the largest double.
-const CLI::Validator kAtLeastOne(
-    [](std::string& text) {
-      return text.find_first_not_of("0123456789") == std::string::npos &&
-                     text.find_first_not_of('0') != std::string::npos
-                 ? std::string()
-                 : std::string("must be a whole number of at least 1");
-    },
-    "");
 
 CLI::App* add_family(CLI::App& gen_command, GenOptions& options, const std::string& name,
                      const std::string& description) {

@@ -10,6 +10,7 @@
 #include <utility>
 #include <vector>
 
+#include "certified_matching.h"
 #include "cli_error.h"
 #include "engine/certificate.h"
 #include "engine/pool.h"
@@ -79,25 +80,17 @@ class CommitVerifier {
     const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
     if (!verdict.ok) return verdict.failure;
 
-    std::vector<KeyPair> pairs;
-    Int128 weight = 0;
-    for (const Edge& e : exported.graph.edges()) {
-      if (exported.certificate.mate[e.a] != e.b) continue;
-      const VertexKey a = exported.keys[e.a];
-      const VertexKey b = exported.keys[e.b];
-      pairs.emplace_back(std::min(a, b), std::max(a, b));
-      weight += e.w;
-    }
-    if (pairs.size() != result.pairs) {
-      return "the certificate's matching has " + std::to_string(pairs.size()) +
+    const CertifiedMatching certified = certified_matching(exported);
+    if (certified.pairs.size() != result.pairs) {
+      return "the certificate's matching has " + std::to_string(certified.pairs.size()) +
              " pairs, the commit reported " + std::to_string(result.pairs);
     }
-    if (weight != result.weight) {
-      return "the certificate's matching weighs " + int128_text(weight) +
+    if (certified.weight != result.weight) {
+      return "the certificate's matching weighs " + int128_text(certified.weight) +
              ", the commit reported " + std::to_string(result.weight);
     }
-    std::sort(pairs.begin(), pairs.end());
-    if (!std::equal(pairs.begin(), pairs.end(), matched_.begin(), matched_.end())) {
+    if (!std::equal(certified.pairs.begin(), certified.pairs.end(), matched_.begin(),
+                    matched_.end())) {
       return std::string("the certificate's matching differs from the one the diffs add up to");
     }
     return std::nullopt;

@@ -1,0 +1,20 @@
+#include "certified_matching.h"
+
+#include <algorithm>
+
+namespace yoke::cli {
+
+CertifiedMatching certified_matching(const PoolExport& exported) {
+  CertifiedMatching matching;
+  for (const Edge& e : exported.graph.edges()) {
+    if (exported.certificate.mate[e.a] != e.b) continue;
+    const VertexKey a = exported.keys[e.a];
+    const VertexKey b = exported.keys[e.b];
+    matching.pairs.emplace_back(std::min(a, b), std::max(a, b));
+    matching.weight += e.w;
+  }
+  std::sort(matching.pairs.begin(), matching.pairs.end());
+  return matching;
+}
+
+}  // namespace yoke::cli
