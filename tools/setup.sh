@@ -9,6 +9,11 @@ packages=(
   libcli11-dev nlohmann-json3-dev
   liblemon-dev                      # test and benchmark oracle only
   python3 python3-networkx python3-scipy python3-numpy   # test oracles
+  # yoked, the daemon: sockets, messages, event loop, logging, config
+  libzmq3-dev cppzmq-dev libprotobuf-dev protobuf-compiler
+  libboost-dev libspdlog-dev libtomlplusplus-dev
+  python3-protobuf python3-zmq      # the Python client and the daemon's tests
+  clang                             # the libFuzzer target of the message decoder
 )
 
 missing=()

@@ -1,0 +1,115 @@
+#include "journal.h"
+
+#include <limits>
+#include <system_error>
+
+#include "journal_state.h"
+#include "segment_names.h"
+
+namespace yoke::journal {
+
+Journal::State::~State() {
+  if (failed || !writer.is_open()) return;
+  try {
+    writer.flush();
+  } catch (...) {
+    // A destructor cannot report it; only synced records were promised.
+  }
+}
+
+void Journal::State::check_usable() const {
+  if (failed) {
+    throw Error("journal: " + dir.string() +
+                " is unusable after a failed write or sync; reopen it to recover");
+  }
+}
+
+void Journal::State::start_segment(std::uint64_t first_seq) {
+  writer = SegmentWriter::create(segment_path(dir, first_seq), first_seq);
+  segments.push_back(first_seq);
+  directory_unsynced = true;
+}
+
+void Journal::State::sync() {
+  if (!writer.is_open()) return;
+  if (options.durability == Durability::none) {
+    writer.flush();
+    return;
+  }
+  writer.sync();
+  if (directory_unsynced) {
+    sync_directory(dir_fd, dir);
+    directory_unsynced = false;
+  }
+}
+
+Journal::Journal(Journal&&) noexcept = default;
+Journal& Journal::operator=(Journal&&) noexcept = default;
+Journal::~Journal() = default;
+
+const std::filesystem::path& Journal::directory() const { return state_->dir; }
+const Recovery& Journal::recovery() const { return state_->recovery; }
+std::uint64_t Journal::first_seq() const {
+  return state_->segments.empty() ? 0 : state_->segments.front();
+}
+std::uint64_t Journal::next_seq() const { return state_->next_seq; }
+
+void Journal::append(std::uint64_t seq, std::string_view payload) {
+  State& s = *state_;
+  s.check_usable();
+  if (payload.size() > s.options.max_record_bytes) {
+    throw Error("journal: record " + std::to_string(seq) + " of " +
+                std::to_string(payload.size()) + " bytes exceeds the maximum record size of " +
+                std::to_string(s.options.max_record_bytes) + " bytes");
+  }
+  if (seq == 0 || seq == std::numeric_limits<std::uint64_t>::max()) {
+    throw Error("journal: sequence number " + std::to_string(seq) + " is out of range");
+  }
+  if (s.next_seq != 0 && seq != s.next_seq) {
+    throw Error("journal: append of sequence number " + std::to_string(seq) + ", expected " +
+                std::to_string(s.next_seq));
+  }
+  s.guarded([&] {
+    const std::uint64_t bytes = format::kRecordHeaderBytes + payload.size();
+    if (!s.writer.is_open()) {
+      s.start_segment(seq);
+    } else if (s.writer.holds_records() && s.writer.size() + bytes > s.options.segment_bytes) {
+      // Under every policy: only the last segment may ever be torn (FORMAT.md).
+      s.writer.sync();
+      s.start_segment(seq);
+    }
+    s.writer.add(seq, payload);
+    s.next_seq = seq + 1;
+    if (s.options.durability == Durability::every_batch) s.sync();
+  });
+}
+
+void Journal::sync() {
+  State& s = *state_;
+  s.check_usable();
+  s.guarded([&] { s.sync(); });
+}
+
+Reader Journal::read_after(std::uint64_t after_seq) {
+  State& s = *state_;
+  if (!s.failed && s.writer.is_open()) s.guarded([&] { s.writer.flush(); });
+  return Reader(s.dir, after_seq);
+}
+
+std::size_t Journal::drop_before(std::uint64_t seq) {
+  State& s = *state_;
+  std::size_t dropped = 0;
+  // Segment i holds segments[i] .. segments[i+1] - 1; the last one is never dropped.
+  while (s.segments.size() >= 2 && s.segments[1] <= seq) {
+    const std::filesystem::path file = segment_path(s.dir, s.segments.front());
+    std::error_code error;
+    std::filesystem::remove(file, error);
+    if (error) throw Error("journal: cannot remove " + file.string() + ": " + error.message());
+    s.segments.erase(s.segments.begin());
+    ++dropped;
+  }
+  if (dropped > 0) sync_directory(s.dir_fd, s.dir);
+  return dropped;
+}
+
+}  // namespace yoke::journal

@@ -1,0 +1,70 @@
+// Journal::open: find the journal's end, cut a torn tail, resume appending after it.
+#include <fcntl.h>
+
+#include <system_error>
+
+#include "journal_state.h"
+#include "segment_names.h"
+
+namespace yoke::journal {
+namespace {
+
+// Creates dir if missing, and makes its entry durable in its parent.
+void create_directory_durably(const std::filesystem::path& dir) {
+  std::filesystem::path clean = dir.lexically_normal();
+  if (!clean.has_filename()) clean = clean.parent_path();  // "a/b/" -> "a/b"
+  std::error_code error;
+  const bool created = std::filesystem::create_directories(clean, error);
+  if (error) throw Error("journal: cannot create " + dir.string() + ": " + error.message());
+  if (!created) return;
+  const std::filesystem::path parent = clean.has_parent_path() ? clean.parent_path() : ".";
+  sync_directory(open_directory(parent), parent);
+}
+
+}  // namespace
+
+void Journal::State::cut_tail(const TailCut& cut) {
+  if (cut.offset == 0) {
+    std::error_code error;
+    std::filesystem::remove(cut.segment, error);
+    if (error) {
+      throw Error("journal: cannot remove " + cut.segment.string() + ": " + error.message());
+    }
+    segments.pop_back();
+    sync_directory(dir_fd, dir);
+    return;
+  }
+  const FileDescriptor file = open_file(cut.segment, O_WRONLY);
+  truncate_file(file, cut.offset, cut.segment);
+  sync_data(file, cut.segment);
+}
+
+Journal::Journal(std::unique_ptr<State> state) : state_(std::move(state)) {}
+
+Journal Journal::open(const std::filesystem::path& dir, const Options& options) {
+  if (options.max_record_bytes > format::kMaxPayloadBytes) {
+    throw Error("journal: max_record_bytes " + std::to_string(options.max_record_bytes) +
+                " exceeds the format limit of " + std::to_string(format::kMaxPayloadBytes));
+  }
+  auto state = std::make_unique<State>();
+  state->dir = dir;
+  state->options = options;
+  create_directory_durably(dir);
+  state->dir_fd = open_directory(dir);
+  lock_directory(state->dir_fd, dir);
+
+  Reader scan = Reader::from_start(dir);
+  std::uint64_t records = 0;
+  while (scan.next()) ++records;
+  state->segments = scan.segments();
+  if (scan.tail()) state->cut_tail(*scan.tail());
+
+  state->next_seq = state->segments.empty() ? 0 : scan.next_seq();
+  if (!state->segments.empty()) {
+    state->writer = SegmentWriter::reopen(segment_path(dir, state->segments.back()));
+  }
+  state->recovery = Recovery{state->segments.size(), records, scan.tail()};
+  return Journal(std::move(state));
+}
+
+}  // namespace yoke::journal

@@ -1,0 +1,49 @@
+// The insides of a Journal, shared by journal_open.cpp (recovery) and journal.cpp (appending).
+#pragma once
+
+#include <cstdint>
+#include <filesystem>
+#include <vector>
+
+#include "journal.h"
+#include "posix_file.h"
+#include "segment_writer.h"
+
+namespace yoke::journal {
+
+struct Journal::State {
+  std::filesystem::path dir;
+  Options options;
+  FileDescriptor dir_fd;                // holds the directory lock; fsync'ed for new entries
+  std::vector<std::uint64_t> segments;  // first sequence numbers, ascending; the last is open
+  SegmentWriter writer;                 // the last segment
+  std::uint64_t next_seq = 0;           // 0: no segment yet, any first seq goes
+  bool directory_unsynced = false;      // a segment created since the last directory fsync
+  bool failed = false;                  // a write or sync failed: see journal.h
+  Recovery recovery;
+
+  State() = default;
+  State(const State&) = delete;
+  State& operator=(const State&) = delete;
+  // Best effort: unsynced records go to the OS, so a clean exit loses nothing appended.
+  ~State();
+
+  void check_usable() const;
+  // Runs an I/O step; if it throws, the journal is marked failed.
+  template <typename Step>
+  void guarded(Step step) {
+    try {
+      step();
+    } catch (...) {
+      failed = true;
+      throw;
+    }
+  }
+  // Removes a damaged tail found by recovery: the bytes from the cut on, or the whole file when
+  // its header was torn. Durable before any record is written after it.
+  void cut_tail(const TailCut& cut);
+  void start_segment(std::uint64_t first_seq);
+  void sync();
+};
+
+}  // namespace yoke::journal

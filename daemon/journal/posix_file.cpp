@@ -1,0 +1,126 @@
+#include "posix_file.h"
+
+#include <fcntl.h>
+#include <sys/file.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cerrno>
+#include <cstring>
+#include <utility>
+
+#include "journal_error.h"
+
+namespace yoke::journal {
+namespace {
+
+constexpr std::size_t kReadBufferBytes = std::size_t{1} << 20;
+
+[[noreturn]] void fail(const char* what, const std::filesystem::path& path) {
+  const int error = errno;
+  throw Error(std::string("journal: ") + what + " " + path.string() + " failed: " +
+              std::strerror(error));
+}
+
+}  // namespace
+
+FileDescriptor& FileDescriptor::operator=(FileDescriptor&& other) noexcept {
+  if (this != &other) {
+    if (fd_ >= 0) ::close(fd_);
+    fd_ = other.release();
+  }
+  return *this;
+}
+
+FileDescriptor::~FileDescriptor() {
+  if (fd_ >= 0) ::close(fd_);
+}
+
+int FileDescriptor::release() { return std::exchange(fd_, -1); }
+
+FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode) {
+  int fd;
+  do {
+    fd = ::open(path.c_str(), flags | O_CLOEXEC, static_cast<mode_t>(mode));
+  } while (fd < 0 && errno == EINTR);
+  if (fd < 0) fail("open of", path);
+  return FileDescriptor(fd);
+}
+
+FileDescriptor open_directory(const std::filesystem::path& dir) {
+  return open_file(dir, O_RDONLY | O_DIRECTORY);
+}
+
+void lock_directory(const FileDescriptor& dir, const std::filesystem::path& path) {
+  if (::flock(dir.get(), LOCK_EX | LOCK_NB) == 0) return;
+  if (errno == EWOULDBLOCK) {
+    throw Error("journal: " + path.string() + " is already open (in this or another process)");
+  }
+  fail("lock of", path);
+}
+
+std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path& path) {
+  struct stat status {};
+  if (::fstat(file.get(), &status) != 0) fail("stat of", path);
+  return static_cast<std::uint64_t>(status.st_size);
+}
+
+void write_all(const FileDescriptor& file, std::string_view bytes,
+               const std::filesystem::path& path) {
+  while (!bytes.empty()) {
+    const ssize_t written = ::write(file.get(), bytes.data(), bytes.size());
+    if (written < 0) {
+      if (errno == EINTR) continue;
+      fail("write to", path);
+    }
+    bytes.remove_prefix(static_cast<std::size_t>(written));
+  }
+}
+
+void sync_data(const FileDescriptor& file, const std::filesystem::path& path) {
+  if (::fdatasync(file.get()) != 0) fail("fdatasync of", path);
+}
+
+void sync_directory(const FileDescriptor& dir, const std::filesystem::path& path) {
+  if (::fsync(dir.get()) != 0) fail("fsync of directory", path);
+}
+
+void truncate_file(const FileDescriptor& file, std::uint64_t size,
+                   const std::filesystem::path& path) {
+  if (::ftruncate(file.get(), static_cast<off_t>(size)) != 0) fail("truncate of", path);
+}
+
+BufferedReader::BufferedReader(FileDescriptor file, std::filesystem::path path)
+    : file_(std::move(file)), path_(std::move(path)) {}
+
+void BufferedReader::read(char* out, std::size_t n) {
+  while (n > 0) {
+    if (begin_ == end_) {
+      // A large read goes straight to the caller's memory; small ones refill the buffer.
+      if (n >= kReadBufferBytes) {
+        const ssize_t got = ::read(file_.get(), out, n);
+        if (got < 0 && errno == EINTR) continue;
+        if (got < 0) fail("read of", path_);
+        if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");
+        out += got;
+        n -= static_cast<std::size_t>(got);
+        continue;
+      }
+      if (buffer_.empty()) buffer_.resize(kReadBufferBytes);
+      const ssize_t got = ::read(file_.get(), buffer_.data(), buffer_.size());
+      if (got < 0 && errno == EINTR) continue;
+      if (got < 0) fail("read of", path_);
+      if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");
+      begin_ = 0;
+      end_ = static_cast<std::size_t>(got);
+    }
+    const std::size_t take = std::min(n, end_ - begin_);
+    std::memcpy(out, buffer_.data() + begin_, take);
+    begin_ += take;
+    out += take;
+    n -= take;
+  }
+}
+
+}  // namespace yoke::journal

@@ -1,0 +1,67 @@
+// The few POSIX file calls the journal needs (fdatasync and directory fsync have no standard
+// C++ form), wrapped so that every failure becomes an Error naming the file and the cause.
+#pragma once
+
+#include <cstddef>
+#include <cstdint>
+#include <filesystem>
+#include <string>
+#include <string_view>
+
+namespace yoke::journal {
+
+// Owns one file descriptor and closes it. Not copyable.
+class FileDescriptor {
+ public:
+  FileDescriptor() = default;
+  explicit FileDescriptor(int fd) : fd_(fd) {}
+  FileDescriptor(FileDescriptor&& other) noexcept : fd_(other.release()) {}
+  FileDescriptor& operator=(FileDescriptor&& other) noexcept;
+  FileDescriptor(const FileDescriptor&) = delete;
+  FileDescriptor& operator=(const FileDescriptor&) = delete;
+  ~FileDescriptor();
+
+  int get() const { return fd_; }
+  bool is_open() const { return fd_ >= 0; }
+  int release();
+
+ private:
+  int fd_ = -1;
+};
+
+// open(2) with O_CLOEXEC added; throws Error on failure.
+FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode = 0644);
+// The directory, opened for fsync and locking.
+FileDescriptor open_directory(const std::filesystem::path& dir);
+// Takes an exclusive lock on the open directory for the life of the descriptor; throws Error
+// if another process (or another open Journal) holds it.
+void lock_directory(const FileDescriptor& dir, const std::filesystem::path& path);
+
+std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path& path);
+// Writes every byte (retrying short writes and EINTR) or throws.
+void write_all(const FileDescriptor& file, std::string_view bytes,
+               const std::filesystem::path& path);
+// fdatasync: the file's data and the metadata needed to read it (its size) are on disk.
+void sync_data(const FileDescriptor& file, const std::filesystem::path& path);
+// fsync of a directory: entries created, renamed or removed in it are on disk.
+void sync_directory(const FileDescriptor& dir, const std::filesystem::path& path);
+void truncate_file(const FileDescriptor& file, std::uint64_t size,
+                   const std::filesystem::path& path);
+
+// Reads a file front to back through a buffer: few system calls for many small records.
+class BufferedReader {
+ public:
+  BufferedReader(FileDescriptor file, std::filesystem::path path);
+  // Copies the next n bytes to out; throws Error if the file ends first (the caller checks
+  // lengths against the size, so that means the file shrank while being read).
+  void read(char* out, std::size_t n);
+
+ private:
+  FileDescriptor file_;
+  std::filesystem::path path_;
+  std::string buffer_;
+  std::size_t begin_ = 0;  // unread bytes are buffer_[begin_, end_)
+  std::size_t end_ = 0;
+};
+
+}  // namespace yoke::journal

@@ -1,0 +1,43 @@
+// Encoding and checking of the segment header and the record header (FORMAT.md). Pure byte
+// work, no I/O: the writer, the reader and the tests that forge damaged journals share it.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+
+namespace yoke::journal {
+
+// Appends the segment header for a segment whose first record is first_seq.
+void append_segment_header(std::string& out, std::uint64_t first_seq);
+// Appends one record: header (length, checksum, sequence number), then the payload.
+// Precondition: payload.size() <= format::kMaxPayloadBytes.
+void append_record(std::string& out, std::uint64_t seq, std::string_view payload);
+
+// What a segment header says, or why it cannot be trusted.
+struct HeaderCheck {
+  enum class Verdict {
+    ok,
+    torn,         // shorter than a header, or all zero bytes: the file was being created
+    bad_magic,
+    bad_version,
+    bad_checksum,
+  };
+  Verdict verdict = Verdict::ok;
+  std::uint64_t first_seq = 0;  // when ok
+  std::string reason;           // when not ok
+};
+// `bytes` is the start of the file (all of it, if shorter than a header).
+HeaderCheck check_segment_header(std::string_view bytes);
+
+struct RecordHeader {
+  std::uint32_t length = 0;
+  std::uint32_t checksum = 0;
+  std::uint64_t seq = 0;
+};
+// Precondition: bytes.size() == format::kRecordHeaderBytes.
+RecordHeader decode_record_header(std::string_view bytes);
+// The checksum a record with this header and payload must carry.
+std::uint32_t record_checksum(std::string_view header_bytes, std::string_view payload);
+
+}  // namespace yoke::journal

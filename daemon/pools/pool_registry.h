@@ -1,0 +1,40 @@
+// The daemon's pools by name. A pool is created on first use, with the mode and limits the
+// config declares for that name or else the default ones.
+#pragma once
+
+#include <map>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "engine/pool.h"
+
+namespace yoke::daemon {
+
+struct PoolSettings {
+  Mode mode = Mode::max_weight;
+  PoolLimits limits;
+};
+
+class PoolRegistry {
+ public:
+  // Throws InputError when a declared or the default setting cannot be kept exact.
+  PoolRegistry(PoolSettings defaults, std::map<std::string, PoolSettings> declared);
+
+  // The pool called `name`, created now if it does not exist yet.
+  Pool& pool(const std::string& name);
+  // nullptr when no pool has that name yet.
+  Pool* find(const std::string& name);
+  // Replaces (or creates) a pool, as recovery does with a restored snapshot.
+  void put(const std::string& name, std::unique_ptr<Pool> pool);
+  // Names of the existing pools, sorted.
+  std::vector<std::string> names() const;
+  const PoolSettings& settings_for(const std::string& name) const;
+
+ private:
+  PoolSettings defaults_;
+  std::map<std::string, PoolSettings> declared_;
+  std::map<std::string, std::unique_ptr<Pool>> pools_;  // ordered: names() is deterministic
+};
+
+}  // namespace yoke::daemon

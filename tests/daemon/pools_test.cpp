@@ -1,0 +1,40 @@
+#include <gtest/gtest.h>
+
+#include "daemon/pools/pool_registry.h"
+#include "daemon/pools/retry_ledger.h"
+
+namespace yoke::daemon {
+namespace {
+
+TEST(PoolRegistry, CreatesPoolsOnFirstUseWithTheirSettings) {
+  PoolSettings cardinality{Mode::max_cardinality, {}};
+  cardinality.limits.max_vertices = 1000;
+  PoolRegistry registry({}, {{"riders", cardinality}});
+  EXPECT_EQ(registry.find("riders"), nullptr);
+  EXPECT_EQ(registry.pool("riders").mode(), Mode::max_cardinality);
+  EXPECT_EQ(registry.pool("riders").limits().max_vertices, 1000u);
+  EXPECT_EQ(registry.pool("couriers").mode(), Mode::max_weight);
+  EXPECT_NE(registry.find("riders"), nullptr);
+  EXPECT_EQ(registry.names(), (std::vector<std::string>{"couriers", "riders"}));
+}
+
+TEST(PoolRegistry, RefusesSettingsThatCannotStayExact) {
+  PoolSettings too_wide{Mode::max_cardinality, {}};
+  too_wide.limits.max_abs_weight = Weight{1} << 50;  // the offset would pass 2^52
+  EXPECT_THROW(PoolRegistry({}, {{"wide", too_wide}}), InputError);
+}
+
+TEST(RetryLedger, AppliesEachClientBatchOnce) {
+  RetryLedger ledger;
+  EXPECT_EQ(ledger.classify("van-7", 1), RetryVerdict::fresh);
+  ledger.record("van-7", {1, "default", 41});
+  EXPECT_EQ(ledger.classify("van-7", 1), RetryVerdict::duplicate);
+  EXPECT_EQ(ledger.last("van-7")->seq, 41u);
+  EXPECT_EQ(ledger.classify("van-7", 0), RetryVerdict::stale);
+  EXPECT_EQ(ledger.classify("van-7", 2), RetryVerdict::fresh);
+  EXPECT_EQ(ledger.classify("bike-2", 1), RetryVerdict::fresh);  // clients are independent
+  EXPECT_FALSE(ledger.last("bike-2").has_value());
+}
+
+}  // namespace
+}  // namespace yoke::daemon

@@ -1,0 +1,250 @@
+// Records written are the records read: across rotations, reopens, empty and maximal payloads;
+// appends out of sequence are refused; old segments are dropped after a snapshot.
+#include <gtest/gtest.h>
+
+#include "daemon/journal/journal.h"
+#include "daemon/journal/journal_format.h"
+#include "daemon/journal/segment_names.h"
+#include "journal_test_util.h"
+
+namespace yoke::journal {
+namespace {
+
+using testing::append_range;
+using testing::expected_range;
+using testing::payload_for;
+using testing::read_all;
+using testing::segment_files;
+using testing::small_segments;
+using testing::TempDir;
+
+constexpr std::uint64_t kRecordHeader = format::kRecordHeaderBytes;
+constexpr std::uint64_t kSegmentHeader = format::kSegmentHeaderBytes;
+
+TEST(JournalRoundTrip, ManyRecordsAcrossRotations) {
+  TempDir dir;
+  const Options options = small_segments(4096, Durability::group);
+  {
+    Journal journal = Journal::open(dir.path(), options);
+    EXPECT_EQ(journal.next_seq(), 0u);
+    EXPECT_EQ(journal.first_seq(), 0u);
+    append_range(journal, 1, 3000);
+    EXPECT_EQ(journal.next_seq(), 3001u);
+  }
+  const auto files = segment_files(dir.path());
+  ASSERT_GE(files.size(), 20u);
+  for (const auto& file : files) EXPECT_LE(std::filesystem::file_size(file), 4096u) << file;
+  EXPECT_EQ(read_all(dir.path()), expected_range(1, 3000));
+
+  Journal reopened = Journal::open(dir.path(), options);
+  EXPECT_EQ(reopened.recovery().records, 3000u);
+  EXPECT_EQ(reopened.recovery().segments, files.size());
+  EXPECT_FALSE(reopened.recovery().cut);
+  EXPECT_EQ(reopened.first_seq(), 1u);
+  EXPECT_EQ(reopened.next_seq(), 3001u);
+}
+
+TEST(JournalRoundTrip, SegmentsStartWhereThePreviousEnds) {
+  TempDir dir;
+  {
+    Journal journal = Journal::open(dir.path(), small_segments(1000));
+    append_range(journal, 1, 500);
+  }
+  const auto files = segment_files(dir.path());
+  ASSERT_GE(files.size(), 10u);
+  std::uint64_t seq = 1;
+  for (std::size_t i = 0; i < files.size(); ++i) {
+    EXPECT_EQ(parse_segment_file_name(files[i].filename().string()), seq) << files[i];
+    const std::uint64_t next_first =
+        i + 1 < files.size() ? *parse_segment_file_name(files[i + 1].filename().string()) : 501;
+    // The segment's size is its header plus exactly its records.
+    std::uint64_t bytes = kSegmentHeader;
+    for (; seq < next_first; ++seq) bytes += kRecordHeader + payload_for(seq).size();
+    EXPECT_EQ(std::filesystem::file_size(files[i]), bytes) << files[i];
+  }
+}
+
+TEST(JournalRoundTrip, ReopenAndContinueAppending) {
+  TempDir dir;
+  const Options options = small_segments(2048, Durability::group);
+  {
+    Journal journal = Journal::open(dir.path(), options);
+    append_range(journal, 1, 100);
+  }
+  for (std::uint64_t round = 1; round <= 3; ++round) {
+    Journal journal = Journal::open(dir.path(), options);
+    EXPECT_EQ(journal.next_seq(), 100 * round + 1);
+    EXPECT_THROW(journal.append(100 * round, "again"), Error);
+    append_range(journal, 100 * round + 1, 100 * (round + 1));
+  }
+  EXPECT_EQ(read_all(dir.path()), expected_range(1, 400));
+}
+
+TEST(JournalRoundTrip, UnsyncedRecordsReachTheFileOnCleanClose) {
+  TempDir dir;
+  {
+    Journal journal = Journal::open(dir.path(), small_segments(1 << 20, Durability::group));
+    for (std::uint64_t seq = 1; seq <= 50; ++seq) journal.append(seq, payload_for(seq));
+  }
+  EXPECT_EQ(read_all(dir.path()), expected_range(1, 50));
+}
+
+TEST(JournalRoundTrip, EveryDurabilityPolicyRoundTrips) {
+  for (const Durability durability :
+       {Durability::every_batch, Durability::group, Durability::none}) {
+    TempDir dir;
+    {
+      Journal journal = Journal::open(dir.path(), small_segments(512, durability));
+      append_range(journal, 1, 30);
+    }
+    EXPECT_EQ(read_all(dir.path()), expected_range(1, 30));
+  }
+}
+
+TEST(JournalRoundTrip, ZeroLengthPayloads) {
+  TempDir dir;
+  {
+    Journal journal = Journal::open(dir.path(), small_segments(200));
+    for (std::uint64_t seq = 1; seq <= 40; ++seq) {
+      journal.append(seq, seq % 3 == 0 ? payload_for(seq) : "");
+    }
+    journal.sync();
+  }
+  const auto records = read_all(dir.path());
+  ASSERT_EQ(records.size(), 40u);
+  for (const auto& [seq, payload] : records) {
+    EXPECT_EQ(payload, seq % 3 == 0 ? payload_for(seq) : "") << seq;
+  }
+  EXPECT_GE(segment_files(dir.path()).size(), 3u);
+}
+
+TEST(JournalRoundTrip, MaximumRecordSize) {
+  TempDir dir;
+  Options options = small_segments(1000);
+  options.max_record_bytes = 3000;
+  Journal journal = Journal::open(dir.path(), options);
+  const std::string largest(3000, 'x');
+  journal.append(1, "small");
+  journal.append(2, largest);  // larger than a segment: it gets one to itself
+  try {
+    journal.append(3, largest + "y");
+    FAIL() << "a record over the limit was accepted";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("3001 bytes exceeds the maximum record size of 3000"),
+              std::string::npos)
+        << error.what();
+  }
+  journal.append(3, "after");  // the refusal changed nothing
+  journal.sync();
+  EXPECT_EQ(read_all(dir.path()),
+            (testing::Records{{1, "small"}, {2, largest}, {3, "after"}}));
+  EXPECT_EQ(segment_files(dir.path()).size(), 3u);
+
+  Options too_large;
+  too_large.max_record_bytes = format::kMaxPayloadBytes + 1;
+  TempDir other;
+  EXPECT_THROW(Journal::open(other.path(), too_large), Error);
+}
+
+TEST(JournalRoundTrip, SequenceNumbersMustRiseByOne) {
+  TempDir dir;
+  Journal journal = Journal::open(dir.path(), small_segments(4096));
+  EXPECT_THROW(journal.append(0, "zero"), Error);
+  journal.append(1000, "first");  // an empty journal starts anywhere (after a snapshot)
+  try {
+    journal.append(1002, "gap");
+    FAIL() << "a gap was accepted";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("append of sequence number 1002, expected 1001"),
+              std::string::npos)
+        << error.what();
+  }
+  EXPECT_THROW(journal.append(1000, "duplicate"), Error);
+  EXPECT_THROW(journal.append(999, "backwards"), Error);
+  journal.append(1001, "second");
+  journal.sync();
+  EXPECT_EQ(read_all(dir.path()), (testing::Records{{1000, "first"}, {1001, "second"}}));
+  EXPECT_EQ(journal.first_seq(), 1000u);
+  EXPECT_EQ(journal.next_seq(), 1002u);
+}
+
+TEST(JournalRoundTrip, ReadAfterSkipsToTheRecordsWanted) {
+  TempDir dir;
+  Journal journal = Journal::open(dir.path(), small_segments(1024));
+  append_range(journal, 1, 300);
+  for (std::uint64_t unsynced = 301; unsynced <= 310; ++unsynced) {
+    journal.append(unsynced, payload_for(unsynced));
+  }
+  for (const std::uint64_t after : {0u, 1u, 57u, 299u, 300u, 309u, 310u, 400u}) {
+    testing::Records records;
+    Reader reader = journal.read_after(after);
+    while (auto record = reader.next()) records.emplace_back(record->seq, record->payload);
+    EXPECT_EQ(records, expected_range(after + 1, 310)) << "after " << after;
+    EXPECT_FALSE(reader.tail());
+  }
+}
+
+TEST(JournalRoundTrip, DropBeforeDeletesWholeSegmentsBelow) {
+  TempDir dir;
+  const Options options = small_segments(1024);
+  Journal journal = Journal::open(dir.path(), options);
+  append_range(journal, 1, 400);
+  const std::vector<std::uint64_t> before = list_segments(dir.path());
+  ASSERT_GE(before.size(), 6u);
+
+  // Up to the first record of the fourth segment: the first three go.
+  EXPECT_EQ(journal.drop_before(before[3]), 3u);
+  EXPECT_EQ(list_segments(dir.path()), std::vector<std::uint64_t>(before.begin() + 3, before.end()));
+  EXPECT_EQ(journal.first_seq(), before[3]);
+  // One record short of the next boundary: nothing more goes.
+  EXPECT_EQ(journal.drop_before(before[4]), 1u);
+  EXPECT_EQ(journal.drop_before(before[5] - 1), 0u);
+  EXPECT_EQ(journal.first_seq(), before[4]);
+
+  // Replay after a snapshot: records after it, and a snapshot older than the journal fails.
+  testing::Records replayed;
+  Reader reader = journal.read_after(before[5] - 2);
+  while (auto record = reader.next()) replayed.emplace_back(record->seq, record->payload);
+  EXPECT_EQ(replayed, expected_range(before[5] - 1, 400));
+  EXPECT_THROW(journal.read_after(before[4] - 2), Error);
+
+  // Never the segment being appended to, even past the end.
+  EXPECT_EQ(journal.drop_before(10'000), before.size() - 5);
+  EXPECT_EQ(list_segments(dir.path()), std::vector<std::uint64_t>{before.back()});
+  append_range(journal, 401, 420);
+
+  Journal moved = std::move(journal);
+  TempDir other;
+  moved = Journal::open(other.path(), options);  // closes the first journal, unlocking it
+  Journal reopened = Journal::open(dir.path(), options);
+  EXPECT_EQ(reopened.first_seq(), before.back());
+  EXPECT_EQ(reopened.next_seq(), 421u);
+  EXPECT_EQ(read_all(dir.path()), expected_range(before.back(), 420));
+}
+
+TEST(JournalRoundTrip, OneJournalPerDirectory) {
+  TempDir dir;
+  Journal journal = Journal::open(dir.path());
+  try {
+    Journal second = Journal::open(dir.path());
+    FAIL() << "a second journal opened the same directory";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("already open"), std::string::npos) << error.what();
+  }
+}
+
+TEST(JournalRoundTrip, CreatesTheDirectoryAndIgnoresOtherFiles) {
+  TempDir dir;
+  const std::filesystem::path nested = dir / "data/journal/";
+  {
+    Journal journal = Journal::open(nested);
+    append_range(journal, 1, 5);
+  }
+  testing::write_file(nested / "notes.txt", "not a segment");
+  EXPECT_EQ(read_all(nested), expected_range(1, 5));
+  testing::write_file(nested / "12.seg", "misnamed");
+  EXPECT_THROW(Journal::open(nested), Error);
+}
+
+}  // namespace
+}  // namespace yoke::journal
