@@ -68,6 +68,24 @@ struct CommitResult {
   RepairStats stats;
 };
 
+// Why a vertex is or is not paired: its doubled dual price, its pair, and the unmatched edges
+// that came closest, with their doubled slack (2 x how much more weight each would need to be
+// worth taking; 0 means a tie). All in the pool's internal weights: the mode's offset is added
+// to every weight (weight_offset) and the duals include it.
+struct Alternative {
+  VertexKey other = 0;
+  Weight w = 0;
+  Weight slack2 = 0;
+  std::optional<VertexKey> other_mate;
+};
+struct VertexExplanation {
+  std::optional<VertexKey> mate;
+  Weight pair_weight = 0;   // 0 when unpaired
+  Weight dual2 = 0;         // doubled price
+  Weight weight_offset = 0;
+  std::vector<Alternative> alternatives;  // least slack first, ties by key
+};
+
 // The pool as a static graph (dense ids 0..n-1; keys[i] names vertex i) with its certificate,
 // for the independent checker and for comparisons with a from-scratch solve.
 struct PoolExport {
@@ -104,6 +122,9 @@ class Pool {
   std::optional<VertexKey> mate_of(VertexKey key) const;
   // Every pair, sorted. O(n).
   std::vector<MatchedPair> matching() const;
+  // Nothing when the vertex does not exist. At most `limit` alternatives. O(degree x depth in
+  // the blossom forest + degree log degree).
+  std::optional<VertexExplanation> explain(VertexKey key, std::size_t limit = 5) const;
   // O(n + m + blossom sizes).
   PoolExport export_certified() const;
 
