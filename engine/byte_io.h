@@ -27,6 +27,7 @@ class ByteWriter {
   void put_vector(const std::vector<T>& values) {
     static_assert(std::is_trivially_copyable_v<T>);
     put<std::uint64_t>(values.size());
+    if (values.empty()) return;  // data() may be null
     out_.append(reinterpret_cast<const char*>(values.data()), values.size() * sizeof(T));
   }
   std::string take() { return std::move(out_); }
@@ -54,6 +55,7 @@ class ByteReader {
     if (count > most) fail("a list is longer than the state allows");
     need(count * sizeof(T));
     std::vector<T> values(count);
+    if (count == 0) return values;  // memcpy must not see the null data() of an empty vector
     std::memcpy(values.data(), in_.data() + at_, count * sizeof(T));
     at_ += count * sizeof(T);
     return values;
