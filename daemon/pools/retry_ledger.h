@@ -1,39 +1,41 @@
-// Exactly-once batches: each client numbers its batches, and a batch whose (client, number) was
-// applied before is answered with its first outcome instead of being applied again. Numbers
-// must grow per client; the ledger keeps each client's last batch only (a client retries the
-// batch it has no answer for, never an older one).
+// Exactly-once batches: each client numbers its batches per pool, and a batch whose number is
+// not above the last one applied for (pool, client) is a retry, answered and not applied again
+// (proto/yoke/v1/events.proto, EventBatch). The ledger keeps each (pool, client)'s last batch
+// only: a retry of that batch gets its sequence number back; an older one is known to be
+// applied, without its number.
 #pragma once
 
 #include <cstdint>
 #include <map>
 #include <optional>
 #include <string>
+#include <utility>
 
 namespace yoke::daemon {
 
 struct AppliedBatch {
   std::uint64_t batch_number = 0;
-  std::string pool;
-  std::uint64_t seq = 0;  // the pool's sequence number that batch became
+  std::uint64_t seq = 0;  // the sequence number that batch became
 };
 
 enum class RetryVerdict {
   fresh,      // not seen: apply it
-  duplicate,  // the client's last batch again: answer with its outcome
-  stale,      // older than the client's last batch: refuse
+  duplicate,  // the last batch again: answer with its outcome
+  older,      // below the last batch: applied long ago, answer without applying
 };
 
 class RetryLedger {
  public:
-  RetryVerdict classify(const std::string& client, std::uint64_t batch_number) const;
-  // The outcome of the client's last batch (for duplicates).
-  std::optional<AppliedBatch> last(const std::string& client) const;
+  RetryVerdict classify(const std::string& pool, const std::string& client,
+                        std::uint64_t batch_number) const;
+  // The last batch applied for (pool, client).
+  std::optional<AppliedBatch> last(const std::string& pool, const std::string& client) const;
   // Records an applied batch; recovery calls it for every journal record it replays.
-  void record(const std::string& client, const AppliedBatch& batch);
-  std::size_t clients() const { return last_.size(); }
+  void record(const std::string& pool, const std::string& client, const AppliedBatch& batch);
+  std::size_t size() const { return last_.size(); }
 
  private:
-  std::map<std::string, AppliedBatch> last_;
+  std::map<std::pair<std::string, std::string>, AppliedBatch> last_;  // (pool, client)
 };
 
 }  // namespace yoke::daemon

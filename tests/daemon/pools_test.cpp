@@ -24,16 +24,19 @@ TEST(PoolRegistry, RefusesSettingsThatCannotStayExact) {
   EXPECT_THROW(PoolRegistry({}, {{"wide", too_wide}}), InputError);
 }
 
-TEST(RetryLedger, AppliesEachClientBatchOnce) {
+TEST(RetryLedger, AppliesEachClientBatchOncePerPool) {
   RetryLedger ledger;
-  EXPECT_EQ(ledger.classify("van-7", 1), RetryVerdict::fresh);
-  ledger.record("van-7", {1, "default", 41});
-  EXPECT_EQ(ledger.classify("van-7", 1), RetryVerdict::duplicate);
-  EXPECT_EQ(ledger.last("van-7")->seq, 41u);
-  EXPECT_EQ(ledger.classify("van-7", 0), RetryVerdict::stale);
-  EXPECT_EQ(ledger.classify("van-7", 2), RetryVerdict::fresh);
-  EXPECT_EQ(ledger.classify("bike-2", 1), RetryVerdict::fresh);  // clients are independent
-  EXPECT_FALSE(ledger.last("bike-2").has_value());
+  EXPECT_EQ(ledger.classify("default", "van-7", 1), RetryVerdict::fresh);
+  ledger.record("default", "van-7", {1, 41});
+  EXPECT_EQ(ledger.classify("default", "van-7", 1), RetryVerdict::duplicate);
+  EXPECT_EQ(ledger.last("default", "van-7")->seq, 41u);
+  EXPECT_EQ(ledger.classify("default", "van-7", 0), RetryVerdict::older);
+  EXPECT_EQ(ledger.classify("default", "van-7", 2), RetryVerdict::fresh);
+  // Clients, and one client's pools, are independent.
+  EXPECT_EQ(ledger.classify("default", "bike-2", 1), RetryVerdict::fresh);
+  EXPECT_EQ(ledger.classify("airport", "van-7", 1), RetryVerdict::fresh);
+  EXPECT_FALSE(ledger.last("airport", "van-7").has_value());
+  EXPECT_EQ(ledger.size(), 1u);
 }
 
 }  // namespace
