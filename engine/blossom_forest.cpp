@@ -195,6 +195,27 @@ std::vector<NodeId> BlossomForest::live_blossoms() const {
   return live;
 }
 
+std::vector<CertificateBlossom> BlossomForest::certificate_blossoms(
+    const std::vector<Vertex>& vertex_id, std::size_t vertex_ids) const {
+  auto name = [&](Vertex v) { return vertex_id.empty() ? v : vertex_id[v]; };
+  const std::vector<NodeId> live = live_blossoms();
+  std::vector<NodeId> index_of(vertex_count_, kNoNode);  // blossom slot - n -> list index
+  for (std::size_t k = 0; k < live.size(); ++k) index_of[live[k] - vertex_count_] = static_cast<NodeId>(k);
+  std::vector<CertificateBlossom> out;
+  out.reserve(live.size());
+  for (NodeId b : live) {
+    CertificateBlossom blossom;
+    blossom.dual2 = dual2_[b];
+    blossom.base = name(base_[b]);
+    for (NodeId child : children(b)) {
+      blossom.children.push_back(is_vertex(child) ? name(child)
+                                                  : static_cast<NodeId>(vertex_ids + index_of[child - vertex_count_]));
+    }
+    out.push_back(std::move(blossom));
+  }
+  return out;
+}
+
 void BlossomForest::save(ByteWriter& out) const {
   out.put<std::uint64_t>(vertex_count_);
   out.put_vector(parent_);

@@ -94,6 +94,11 @@ class BlossomForest {
   // Live blossoms in increasing slot order (for certificates and tests). O(n).
   std::vector<NodeId> live_blossoms() const;
 
+  // The live blossoms as a certificate lists them: vertex v is named vertex_id[v] (v itself
+  // when vertex_id is empty), blossom k of the list is vertex_ids + k. O(n + total children).
+  std::vector<CertificateBlossom> certificate_blossoms(const std::vector<Vertex>& vertex_id,
+                                                      std::size_t vertex_ids) const;
+
   // The whole forest, slot order and free list included, and back. load() checks that the
   // bytes describe a laminar family whose leaf runs are consistent (every blossom larger than
   // each child, so no cycle) and throws InputError otherwise. O(n + total children).

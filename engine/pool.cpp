@@ -128,22 +128,7 @@ PoolExport Pool::export_certified() const {
     cert.mate[dense[v]] = m == kNoVertex ? kNoVertex : dense[m];
     cert.vertex_dual2[dense[v]] = pool.matching.dual2[v];
   }
-  const BlossomForest& forest = pool.matching.forest;
-  const std::vector<NodeId> live = forest.live_blossoms();
-  std::vector<NodeId> index_of(capacity, kNoNode);  // blossom slot - capacity -> certificate index
-  for (std::size_t k = 0; k < live.size(); ++k) index_of[live[k] - capacity] = static_cast<NodeId>(k);
-  cert.blossoms.reserve(live.size());
-  for (NodeId b : live) {
-    CertificateBlossom blossom;
-    blossom.dual2 = forest.dual2(b);
-    blossom.base = dense[forest.base(b)];
-    for (NodeId child : forest.children(b)) {
-      blossom.children.push_back(forest.is_vertex(child)
-                                     ? dense[child]
-                                     : static_cast<NodeId>(n + index_of[child - capacity]));
-    }
-    cert.blossoms.push_back(std::move(blossom));
-  }
+  cert.blossoms = pool.matching.forest.certificate_blossoms(dense, n);
   if (pool.mode == Mode::perfect) {
     if (2 * pool.pairs == n) {
       // Perfect-matching duals for the original weights: shift each u by offset/2.

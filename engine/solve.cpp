@@ -28,20 +28,7 @@ Certificate make_certificate(const MatchingState& state, Mode mode, Weight weigh
   cert.weight_offset = weight_offset;
   cert.mate = state.mate.values();
   cert.vertex_dual2 = state.dual2;
-  const auto n = static_cast<NodeId>(state.mate.size());
-  const std::vector<NodeId> live = state.forest.live_blossoms();
-  std::vector<NodeId> index_of(n, kNoNode);  // blossom slot - n -> certificate index
-  for (std::size_t k = 0; k < live.size(); ++k) index_of[live[k] - n] = static_cast<NodeId>(k);
-  cert.blossoms.reserve(live.size());
-  for (NodeId b : live) {
-    CertificateBlossom out;
-    out.dual2 = state.forest.dual2(b);
-    out.base = state.forest.base(b);
-    for (NodeId child : state.forest.children(b)) {
-      out.children.push_back(child < n ? child : n + index_of[child - n]);
-    }
-    cert.blossoms.push_back(std::move(out));
-  }
+  cert.blossoms = state.forest.certificate_blossoms({}, state.mate.size());
   return cert;
 }
 
