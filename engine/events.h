@@ -26,9 +26,21 @@ struct Event {
   Weight w = 0;     // set_edge only
 };
 
-// Why an event of a batch was rejected: its position in the batch and a message in words.
+// What was wrong with a rejected event.
+enum class EventErrorCode : std::uint8_t {
+  vertex_exists,        // add_vertex of a vertex that is alive
+  self_loop,            // set_edge with u == v
+  weight_out_of_range,  // |w| above the pool's bound
+  unknown_vertex,       // unset_edge or remove_vertex naming a vertex that is not alive
+  unknown_edge,         // unset_edge of an edge that does not exist
+  limit_exceeded,       // the pool would hold more vertices or edges than its limits allow
+};
+
+// Why an event of a batch was rejected: its position in the batch, what was wrong, and a
+// message in words that names the values involved.
 struct EventError {
   std::size_t index = 0;
+  EventErrorCode code = EventErrorCode::unknown_vertex;
   std::string message;
 };
 

@@ -17,6 +17,7 @@
 #include <utility>
 #include <vector>
 
+#include "batch_checker.h"
 #include "certificate.h"
 #include "events.h"
 #include "graph.h"
@@ -136,6 +137,7 @@ class Pool {
   static std::unique_ptr<Pool> restore(std::string_view bytes);
 
  private:
+  friend class BatchChecker;  // reads the state it checks batches against
   struct State;
   explicit Pool(std::unique_ptr<State> state);
   std::unique_ptr<State> state_;

@@ -275,6 +275,7 @@ struct BadBatch {
   const char* what;
   std::vector<Event> events;
   std::size_t bad_index;
+  EventErrorCode code;
 };
 
 // Common knowledge (events.h, Pool::check): each of these batches has one event that cannot
@@ -291,27 +292,28 @@ TEST(PoolCheck, RejectsBadBatchesAndChangesNothing) {
     constexpr Weight kLowest = std::numeric_limits<Weight>::min();
     constexpr Weight kHighest = std::numeric_limits<Weight>::max();
     const std::vector<BadBatch> cases = {
-        {"unset at an unknown vertex", {set(a, c, 5), unset(x, a)}, 1},
-        {"unset at two unknown vertices", {unset(x, y)}, 0},
-        {"unset of a missing edge", {unset(a, c)}, 0},
-        {"unset of an edge twice", {unset(a, b), unset(b, a)}, 1},
-        {"unset after its vertex left", {remove(a), unset(a, b)}, 1},
-        {"remove of an unknown vertex", {add(y), remove(x)}, 1},
-        {"remove twice", {remove(a), remove(a)}, 1},
-        {"add of a vertex that exists", {add(a)}, 0},
-        {"add twice", {add(x), set(x, a, 1), add(x)}, 2},
-        {"self loop", {set(a, a, 3)}, 0},
-        {"self loop at a new vertex", {set(x, x, 3)}, 0},
-        {"weight above the bound", {set(a, b, 1), set(a, c, max + 1)}, 1},
-        {"weight below the bound", {set(a, c, -max - 1)}, 0},
-        {"largest int64 weight", {set(x, y, kHighest)}, 0},
-        {"smallest int64 weight", {set(a, b, kLowest)}, 0},
+        {"unset at an unknown vertex", {set(a, c, 5), unset(x, a)}, 1, EventErrorCode::unknown_vertex},
+        {"unset at two unknown vertices", {unset(x, y)}, 0, EventErrorCode::unknown_vertex},
+        {"unset of a missing edge", {unset(a, c)}, 0, EventErrorCode::unknown_edge},
+        {"unset of an edge twice", {unset(a, b), unset(b, a)}, 1, EventErrorCode::unknown_edge},
+        {"unset after its vertex left", {remove(a), unset(a, b)}, 1, EventErrorCode::unknown_vertex},
+        {"remove of an unknown vertex", {add(y), remove(x)}, 1, EventErrorCode::unknown_vertex},
+        {"remove twice", {remove(a), remove(a)}, 1, EventErrorCode::unknown_vertex},
+        {"add of a vertex that exists", {add(a)}, 0, EventErrorCode::vertex_exists},
+        {"add twice", {add(x), set(x, a, 1), add(x)}, 2, EventErrorCode::vertex_exists},
+        {"self loop", {set(a, a, 3)}, 0, EventErrorCode::self_loop},
+        {"self loop at a new vertex", {set(x, x, 3)}, 0, EventErrorCode::self_loop},
+        {"weight above the bound", {set(a, b, 1), set(a, c, max + 1)}, 1, EventErrorCode::weight_out_of_range},
+        {"weight below the bound", {set(a, c, -max - 1)}, 0, EventErrorCode::weight_out_of_range},
+        {"largest int64 weight", {set(x, y, kHighest)}, 0, EventErrorCode::weight_out_of_range},
+        {"smallest int64 weight", {set(a, b, kLowest)}, 0, EventErrorCode::weight_out_of_range},
     };
     const Snapshot before = snapshot(pool);
     for (const BadBatch& bad : cases) {
       const std::optional<EventError> error = pool.check(bad.events);
       ASSERT_TRUE(error.has_value()) << bad.what;
       EXPECT_EQ(error->index, bad.bad_index) << bad.what;
+      EXPECT_EQ(error->code, bad.code) << bad.what;
       EXPECT_FALSE(error->message.empty()) << bad.what;
       EXPECT_EQ(snapshot(pool), before) << bad.what;
     }

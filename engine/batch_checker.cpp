@@ -1,0 +1,227 @@
+// BatchChecker and Pool::check: the first event of a batch that cannot be applied, found
+// without touching the pool. What earlier events (and earlier accepted batches) changed is kept
+// on the side in an overlay, with an undo log so that a refused batch leaves no trace.
+#include "batch_checker.h"
+
+#include <string>
+#include <unordered_map>
+#include <utility>
+#include <vector>
+
+#include "pool_state.h"
+
+namespace yoke {
+namespace {
+
+std::string text(VertexKey key) { return std::to_string(key); }
+
+struct Refusal {
+  EventErrorCode code;
+  std::string message;
+};
+
+}  // namespace
+
+class BatchChecker::Overlay {
+ public:
+  explicit Overlay(const PoolState& pool) : pool_(pool) {}
+
+  std::optional<EventError> accept(std::span<const Event> batch) {
+    const Mark mark = this->mark();
+    for (std::size_t i = 0; i < batch.size(); ++i) {
+      if (auto refusal = check(batch[i])) {
+        undo_to(mark);
+        return EventError{i, refusal->code, std::move(refusal->message)};
+      }
+    }
+    accepted_events_ += batch.size();
+    vertex_undo_.clear();  // accepted for good: nothing left to undo
+    edge_undo_.clear();
+    return std::nullopt;
+  }
+
+  std::size_t accepted_events() const { return accepted_events_; }
+
+ private:
+  struct VertexState {
+    bool alive;
+    std::uint32_t generation;  // removals so far: edge overrides of older ones are void
+  };
+  struct EdgeKey {
+    VertexKey low, high;
+    std::uint32_t low_generation, high_generation;
+    bool operator==(const EdgeKey&) const = default;
+  };
+  struct EdgeKeyHash {
+    std::size_t operator()(const EdgeKey& k) const {
+      return std::hash<VertexKey>()(k.low * 0x9e3779b97f4a7c15ULL ^ k.high) ^
+             (std::size_t{k.low_generation} << 7) ^ k.high_generation;
+    }
+  };
+  // What a key held in the overlay before a change: nothing, or its earlier value.
+  template <typename Key, typename Value>
+  struct Undo {
+    Key key;
+    std::optional<Value> before;
+  };
+  struct Mark {
+    std::ptrdiff_t alive_change;
+    std::size_t edges_added;
+  };
+
+  std::optional<Refusal> check(const Event& event) {
+    switch (event.kind) {
+      case EventKind::add_vertex:
+        if (exists(event.u)) {
+          return Refusal{EventErrorCode::vertex_exists,
+                         "vertex " + text(event.u) + " already exists"};
+        }
+        return arrive(event.u);
+      case EventKind::set_edge:
+        return check_set(event);
+      case EventKind::unset_edge:
+        for (const VertexKey end : {event.u, event.v}) {
+          if (!exists(end)) {
+            return Refusal{EventErrorCode::unknown_vertex,
+                           "unset names unknown vertex " + text(end)};
+          }
+        }
+        if (!edge_exists(event.u, event.v)) {
+          return Refusal{EventErrorCode::unknown_edge, "there is no edge {" + text(event.u) +
+                                                           ", " + text(event.v) + "} to unset"};
+        }
+        write_edge(edge_key(event.u, event.v), false);
+        return std::nullopt;
+      case EventKind::remove_vertex: {
+        if (!exists(event.u)) {
+          return Refusal{EventErrorCode::unknown_vertex,
+                         "remove names unknown vertex " + text(event.u)};
+        }
+        const std::uint32_t generation = this->generation(event.u);
+        write_vertex(event.u, {false, generation + 1});  // its edges go with it
+        --alive_change_;
+        return std::nullopt;
+      }
+    }
+    return Refusal{EventErrorCode::unknown_vertex, "unknown event kind"};
+  }
+
+  std::optional<Refusal> check_set(const Event& event) {
+    if (event.u == event.v) {
+      return Refusal{EventErrorCode::self_loop, "self loop at vertex " + text(event.u)};
+    }
+    const Weight bound = pool_.limits.max_abs_weight;
+    if (event.w > bound || event.w < -bound) {
+      return Refusal{EventErrorCode::weight_out_of_range,
+                     "weight " + std::to_string(event.w) + " of edge {" + text(event.u) + ", " +
+                         text(event.v) + "} is out of range: |w| must be at most " +
+                         std::to_string(bound)};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (!exists(end)) {
+        if (auto refusal = arrive(end)) return refusal;
+      }
+    }
+    if (!edge_exists(event.u, event.v)) {
+      if (pool_.graph.edge_count() + ++edges_added_ > pool_.limits.max_edges) {
+        return Refusal{EventErrorCode::limit_exceeded,
+                       "the pool would exceed its limit of " +
+                           std::to_string(pool_.limits.max_edges) + " edges"};
+      }
+    }
+    write_edge(edge_key(event.u, event.v), true);
+    return std::nullopt;
+  }
+
+  bool exists(VertexKey key) const {
+    const auto it = vertex_.find(key);
+    return it != vertex_.end() ? it->second.alive : pool_.graph.find(key) != kNoVertex;
+  }
+  std::uint32_t generation(VertexKey key) const {
+    const auto it = vertex_.find(key);
+    return it == vertex_.end() ? 0 : it->second.generation;
+  }
+  std::optional<Refusal> arrive(VertexKey key) {
+    if (static_cast<std::ptrdiff_t>(pool_.graph.vertex_count()) + ++alive_change_ >
+        static_cast<std::ptrdiff_t>(pool_.limits.max_vertices)) {
+      return Refusal{EventErrorCode::limit_exceeded,
+                     "the pool would exceed its limit of " +
+                         std::to_string(pool_.limits.max_vertices) + " vertices"};
+    }
+    write_vertex(key, {true, generation(key)});
+    return std::nullopt;
+  }
+  EdgeKey edge_key(VertexKey a, VertexKey b) const {
+    if (a > b) std::swap(a, b);
+    return {a, b, generation(a), generation(b)};
+  }
+  bool edge_exists(VertexKey a, VertexKey b) const {
+    const auto it = edge_override_.find(edge_key(a, b));
+    if (it != edge_override_.end()) return it->second;
+    if (generation(a) != 0 || generation(b) != 0) return false;  // an end left earlier
+    const Vertex va = pool_.graph.find(a);
+    const Vertex vb = pool_.graph.find(b);
+    return va != kNoVertex && vb != kNoVertex && pool_.graph.find_edge(va, vb) != kNoEdge;
+  }
+
+  void write_vertex(VertexKey key, VertexState state) {
+    const auto [it, inserted] = vertex_.try_emplace(key, state);
+    vertex_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    it->second = state;
+  }
+  void write_edge(const EdgeKey& key, bool present) {
+    const auto [it, inserted] = edge_override_.try_emplace(key, present);
+    edge_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    it->second = present;
+  }
+
+  Mark mark() const { return {alive_change_, edges_added_}; }
+  void undo_to(const Mark& mark) {
+    for (auto it = vertex_undo_.rbegin(); it != vertex_undo_.rend(); ++it) {
+      if (it->before) {
+        vertex_[it->key] = *it->before;
+      } else {
+        vertex_.erase(it->key);
+      }
+    }
+    for (auto it = edge_undo_.rbegin(); it != edge_undo_.rend(); ++it) {
+      if (it->before) {
+        edge_override_[it->key] = *it->before;
+      } else {
+        edge_override_.erase(it->key);
+      }
+    }
+    vertex_undo_.clear();
+    edge_undo_.clear();
+    alive_change_ = mark.alive_change;
+    edges_added_ = mark.edges_added;
+  }
+
+  const PoolState& pool_;
+  std::unordered_map<VertexKey, VertexState> vertex_;
+  std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
+  std::vector<Undo<VertexKey, VertexState>> vertex_undo_;  // this batch's writes, in order
+  std::vector<Undo<EdgeKey, bool>> edge_undo_;
+  std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
+  // Edges inserted so far; removals do not count (a departure's edges are not enumerated), so
+  // the edge limit is checked conservatively.
+  std::size_t edges_added_ = 0;
+  std::size_t accepted_events_ = 0;
+};
+
+BatchChecker::BatchChecker(const Pool& pool) : overlay_(std::make_unique<Overlay>(*pool.state_)) {}
+BatchChecker::~BatchChecker() = default;
+BatchChecker::BatchChecker(BatchChecker&&) noexcept = default;
+BatchChecker& BatchChecker::operator=(BatchChecker&&) noexcept = default;
+
+std::optional<EventError> BatchChecker::accept(std::span<const Event> batch) {
+  return overlay_->accept(batch);
+}
+
+std::size_t BatchChecker::accepted_events() const { return overlay_->accepted_events(); }
+
+std::optional<EventError> Pool::check(std::span<const Event> batch) const {
+  return BatchChecker(*this).accept(batch);
+}
+
+}  // namespace yoke

@@ -1,0 +1,94 @@
+// BatchChecker: batches checked one after another against a pool plus the batches accepted
+// before them, as the daemon's batching window does.
+#include <gtest/gtest.h>
+
+#include <optional>
+#include <random>
+#include <vector>
+
+#include "engine/batch_checker.h"
+#include "engine/pool.h"
+
+namespace yoke {
+namespace {
+
+Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
+Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
+Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
+Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
+
+// Common knowledge (batch_checker.h): a batch may rely on what earlier accepted batches did.
+TEST(BatchChecker, LaterBatchesSeeEarlierAcceptedOnes) {
+  Pool pool(Mode::max_weight);
+  BatchChecker checker(pool);
+  EXPECT_FALSE(checker.accept(std::vector{add(1), set(1, 2, 5)}));
+  EXPECT_FALSE(checker.accept(std::vector{unset(2, 1), remove(2)}));
+  const auto error = checker.accept(std::vector{set(3, 4, 1), remove(2)});
+  ASSERT_TRUE(error);
+  EXPECT_EQ(error->index, 1u);
+  EXPECT_EQ(error->code, EventErrorCode::unknown_vertex);
+  EXPECT_EQ(checker.accepted_events(), 4u);
+}
+
+// Common knowledge (batch_checker.h): a refused batch leaves no trace for the batches after it.
+TEST(BatchChecker, RefusedBatchLeavesNoTrace) {
+  Pool pool(Mode::max_weight);
+  ASSERT_FALSE(pool.check(std::vector{set(1, 2, 3)}));
+  pool.commit(std::vector{set(1, 2, 3)});
+  BatchChecker checker(pool);
+  // Each refused batch first changes what a later, good batch depends on.
+  const auto removed = checker.accept(std::vector{remove(1), add(7), set(5, 5, 1)});
+  ASSERT_TRUE(removed);
+  EXPECT_EQ(removed->code, EventErrorCode::self_loop);
+  const auto unset_first = checker.accept(std::vector{unset(1, 2), add(1)});
+  ASSERT_TRUE(unset_first);
+  EXPECT_EQ(unset_first->code, EventErrorCode::vertex_exists);
+  EXPECT_FALSE(checker.accept(std::vector{unset(1, 2), add(7), remove(1)}));
+  EXPECT_EQ(checker.accepted_events(), 3u);
+}
+
+// Differential: the checker's verdict on each batch equals Pool::check on a pool that has
+// committed exactly the batches accepted before it (the pool's own check is the reference).
+TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
+  std::mt19937_64 random(20261202);
+  for (int round = 0; round < 300; ++round) {
+    PoolLimits limits;
+    limits.max_vertices = 7;
+    limits.max_edges = 9;
+    limits.max_abs_weight = 50;
+    Pool base(Mode::max_weight, limits);
+    Pool reference(Mode::max_weight, limits);
+    // A warm start common to both pools.
+    const std::vector start{set(0, 1, 4), set(1, 2, 6), set(2, 3, 5)};
+    base.commit(start);
+    reference.commit(start);
+    BatchChecker checker(base);
+    std::uniform_int_distribution<int> kind(0, 3);
+    std::uniform_int_distribution<VertexKey> key(0, 8);
+    std::uniform_int_distribution<Weight> weight(-60, 60);
+    for (int batch_index = 0; batch_index < 12; ++batch_index) {
+      std::vector<Event> batch(std::uniform_int_distribution<int>(0, 4)(random));
+      for (Event& event : batch) {
+        switch (kind(random)) {
+          case 0: event = add(key(random)); break;
+          case 1: event = set(key(random), key(random), weight(random)); break;
+          case 2: event = unset(key(random), key(random)); break;
+          default: event = remove(key(random)); break;
+        }
+      }
+      const std::optional<EventError> expected = reference.check(batch);
+      const std::optional<EventError> got = checker.accept(batch);
+      ASSERT_EQ(got.has_value(), expected.has_value()) << "round " << round;
+      if (expected) {
+        EXPECT_EQ(got->index, expected->index);
+        EXPECT_EQ(got->code, expected->code);
+        EXPECT_EQ(got->message, expected->message);
+      } else {
+        reference.commit(batch);
+      }
+    }
+  }
+}
+
+}  // namespace
+}  // namespace yoke
