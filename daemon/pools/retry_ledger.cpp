@@ -21,4 +21,14 @@ void RetryLedger::record(const std::string& pool, const std::string& client,
   last_[{pool, client}] = batch;
 }
 
+std::vector<std::pair<std::string, AppliedBatch>> RetryLedger::clients_of(
+    const std::string& pool) const {
+  std::vector<std::pair<std::string, AppliedBatch>> clients;
+  for (auto it = last_.lower_bound({pool, std::string()});
+       it != last_.end() && it->first.first == pool; ++it) {
+    clients.emplace_back(it->first.second, it->second);
+  }
+  return clients;
+}
+
 }  // namespace yoke::daemon

@@ -10,6 +10,7 @@
 #include <optional>
 #include <string>
 #include <utility>
+#include <vector>
 
 namespace yoke::daemon {
 
@@ -33,6 +34,8 @@ class RetryLedger {
   // Records an applied batch; recovery calls it for every journal record it replays.
   void record(const std::string& pool, const std::string& client, const AppliedBatch& batch);
   std::size_t size() const { return last_.size(); }
+  // Every client's last batch in one pool, by client id (what a snapshot of the pool keeps).
+  std::vector<std::pair<std::string, AppliedBatch>> clients_of(const std::string& pool) const;
 
  private:
   std::map<std::pair<std::string, std::string>, AppliedBatch> last_;  // (pool, client)

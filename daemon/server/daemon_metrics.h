@@ -1,0 +1,44 @@
+// What yoked reports on GET /metrics: counters and histograms updated as work happens, and
+// per-pool gauges read from the service when the page is rendered.
+#pragma once
+
+#include <chrono>
+#include <cstdint>
+#include <string>
+
+#include "daemon/metrics/metrics_registry.h"
+#include "daemon/service/pool_service.h"
+
+namespace yoke::daemon {
+
+class DaemonMetrics {
+ public:
+  DaemonMetrics();
+
+  void ingest_message() { ingest_messages_->add(); }
+  void acknowledged(const v1::Ack& ack);
+  void query(const std::string& kind) { registry_.counter(kQueries, kQueriesHelp, {{"kind", kind}}).add(); }
+  void journal_synced(std::chrono::nanoseconds took, std::size_t batches);
+  void committed(const v1::Diff& diff);
+  void published(std::chrono::nanoseconds commit_to_publish);
+  void snapshot_written(std::chrono::nanoseconds took);
+
+  // The page, with the pools' gauges refreshed from `service` first.
+  std::string render(PoolService& service, std::chrono::steady_clock::duration uptime);
+
+ private:
+  static constexpr const char* kQueries = "yoke_queries_total";
+  static constexpr const char* kQueriesHelp = "Query socket requests by kind.";
+
+  metrics::Registry registry_;
+  metrics::Counter* ingest_messages_;
+  metrics::Counter* journal_syncs_;
+  metrics::Counter* journal_records_;
+  metrics::Histogram* journal_sync_seconds_;
+  metrics::Histogram* commit_to_publish_seconds_;
+  metrics::Counter* snapshots_;
+  metrics::Gauge* snapshot_seconds_;
+  metrics::Gauge* uptime_seconds_;
+};
+
+}  // namespace yoke::daemon

@@ -1,0 +1,94 @@
+// yoked: the streaming matching daemon. Reads its settings (flags over a config file over the
+// embedded defaults), recovers its pools from the data directory, and serves until SIGTERM or
+// SIGINT (DESIGN.md sections 5 and 6).
+#include <exception>
+#include <iostream>
+
+#include <google/protobuf/stubs/logging.h>
+#include <spdlog/spdlog.h>
+
+#include "daemon/config/command_line.h"
+#include "daemon/config/config_error.h"
+#include "daemon/config/config_overrides.h"
+#include "daemon/logging/log_event.h"
+#include "daemon/logging/logger_setup.h"
+#include "daemon/service/recovery.h"
+#include "yoked_server.h"
+
+namespace {
+
+using namespace yoke::daemon;
+
+// Protobuf reports some parse problems (invalid UTF-8 in a string field) on stderr by itself:
+// send them through the daemon's log instead.
+void route_protobuf_logs() {
+  google::protobuf::SetLogHandler([](google::protobuf::LogLevel level, const char* file, int line,
+                                     const std::string& message) {
+    const LogLevel mapped = level >= google::protobuf::LOGLEVEL_ERROR ? LogLevel::warn
+                                                                      : LogLevel::debug;
+    log_event(mapped, "protobuf", {{"file", file}, {"line", line}, {"message", message}});
+  });
+}
+
+void log_recovery(const RecoveryReport& report, const yoke::journal::Recovery& journal) {
+  for (const std::string& reason : report.skipped) {
+    log_event(LogLevel::warn, "snapshot_skipped", {{"reason", reason}});
+  }
+  if (journal.cut) {
+    log_event(LogLevel::warn, "journal_tail_cut",
+              {{"segment", journal.cut->segment.string()},
+               {"offset", journal.cut->offset},
+               {"bytes", journal.cut->bytes},
+               {"reason", journal.cut->reason}});
+  }
+  log_event(LogLevel::info, "recovered",
+            {{"snapshot", report.snapshot ? std::to_string(*report.snapshot) : "none"},
+             {"pools", report.pools},
+             {"journal_records", report.records},
+             {"commits", report.commits}});
+}
+
+int serve(const yoke::daemon::DaemonConfig& config) {
+  yoke::journal::Journal journal = yoke::journal::Journal::open(config.data_dir / "journal",
+                                                                config.journal);
+  SnapshotStore snapshots(config.data_dir / "snapshots", config.snapshots.keep);
+  RecoveryReport report;
+  ServiceState state = recover(config, journal, snapshots, report);
+  log_recovery(report, journal.recovery());
+  PoolService service(config, std::move(state), std::move(journal));
+  YokedServer server(config, service, snapshots);
+  return server.run();
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  const CommandLine command_line = parse_command_line(argc, argv);
+  if (command_line.exit_code) {
+    (*command_line.exit_code == 0 ? std::cout : std::cerr) << command_line.message;
+    return *command_line.exit_code;
+  }
+  DaemonConfig config;
+  try {
+    config = load_config(command_line.overrides);
+  } catch (const ConfigError& error) {
+    std::cerr << "yoked: " << error.what() << "\n";
+    return kYokedConfigError;
+  }
+  try {
+    install_logger(make_logger(config.logging));
+  } catch (const std::exception& error) {
+    std::cerr << "yoked: cannot set up logging: " << error.what() << "\n";
+    return kYokedConfigError;
+  }
+  route_protobuf_logs();
+  try {
+    const int status = serve(config);
+    log_event(status == kYokedOk ? LogLevel::info : LogLevel::error, "stopped",
+              {{"status", status}});
+    return status;
+  } catch (const std::exception& error) {
+    log_event(LogLevel::critical, "cannot_serve", {{"reason", error.what()}});
+    return kYokedFailure;
+  }
+}

@@ -1,0 +1,332 @@
+#include "yoked_server.h"
+
+#include <exception>
+#include <stdexcept>
+
+#include <boost/asio/post.hpp>
+#include <zmq_addon.hpp>
+
+#include "daemon/config/endpoint_address.h"
+#include "daemon/logging/log_event.h"
+#include "daemon/metrics/http_endpoint.h"
+#include "daemon/service/snapshot_capture.h"
+#include "daemon/service/wire_types.h"
+#include "daemon_metrics.h"
+#include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/publish.pb.h"
+
+namespace yoke::daemon {
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+std::uint64_t unix_us_now() {
+  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
+                                        std::chrono::system_clock::now().time_since_epoch())
+                                        .count());
+}
+
+std::uint64_t micros(Clock::duration duration) {
+  return static_cast<std::uint64_t>(
+      std::chrono::duration_cast<std::chrono::microseconds>(duration).count());
+}
+
+// Messages past this many bytes are dropped by ZeroMQ itself (the peer is disconnected): up to
+// it, an oversized message is read and answered with OVERSIZED_MESSAGE.
+std::int64_t hard_message_cap(std::uint64_t max_message_bytes) {
+  return static_cast<std::int64_t>(2 * max_message_bytes + (1 << 20));
+}
+
+std::string query_kind_name(std::string_view message) {
+  v1::QueryRequest request;
+  if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) return "malformed";
+  switch (request.kind_case()) {
+    case v1::QueryRequest::kSummary: return "summary";
+    case v1::QueryRequest::kMate: return "mate";
+    case v1::QueryRequest::kMatching: return "matching";
+    case v1::QueryRequest::kExplain: return "explain";
+    case v1::QueryRequest::kStats: return "stats";
+    case v1::QueryRequest::kSnapshot: return "snapshot";
+    case v1::QueryRequest::kHealth: return "health";
+    default: return "unknown";
+  }
+}
+
+}  // namespace
+
+YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
+                         SnapshotStore& snapshots)
+    : config_(config),
+      service_(service),
+      snapshots_(snapshots),
+      zmq_context_(1),
+      ingest_(zmq_context_, zmq::socket_type::router),
+      publisher_(zmq_context_, zmq::socket_type::pub),
+      query_(zmq_context_, zmq::socket_type::router),
+      window_timer_(io_),
+      snapshot_timer_(io_),
+      signals_(io_, SIGINT, SIGTERM),
+      queries_(
+          service, config.limits.max_message_bytes,
+          [this](bool, const std::string&) { return take_snapshot(); },
+          [this] { return health(); }),
+      metrics_(std::make_unique<DaemonMetrics>()),
+      started_(Clock::now()) {
+  const std::int64_t cap = hard_message_cap(config.limits.max_message_bytes);
+  for (zmq::socket_t* socket : {&ingest_, &query_}) {
+    socket->set(zmq::sockopt::maxmsgsize, cap);
+    socket->set(zmq::sockopt::linger, 0);
+    socket->set(zmq::sockopt::rcvhwm, 100000);
+    socket->set(zmq::sockopt::sndhwm, 100000);
+  }
+  publisher_.set(zmq::sockopt::linger, 0);
+  publisher_.set(zmq::sockopt::sndhwm, 100000);
+  ingest_.bind(config.endpoints.ingest);
+  publisher_.bind(config.endpoints.publish);
+  query_.bind(config.endpoints.query);
+
+  const auto metrics_address = parse_host_port(config.endpoints.metrics);
+  http_ = std::make_unique<metrics::HttpEndpoint>(
+      io_, *metrics_address,
+      metrics::HttpHandlers{
+          [this] { return metrics_->render(service_, Clock::now() - started_); },
+          [this] {
+            const v1::Health now = health();
+            return metrics::HealthReport{now.ok(), now.status()};
+          }});
+
+  ingest_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, ingest_, [this] { on_ingest_message(); });
+  query_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, query_, [this] { on_query_message(); });
+}
+
+YokedServer::~YokedServer() = default;
+
+int YokedServer::run() {
+  signals_.async_wait([this](const boost::system::error_code& error, int signal) {
+    if (error) return;
+    log_event(LogLevel::info, "stopping", {{"signal", signal}});
+    shut_down(kYokedOk);
+  });
+  ingest_watcher_->start();
+  query_watcher_->start();
+  arm_snapshot_timer();
+  log_event(LogLevel::info, "serving",
+            {{"ingest", config_.endpoints.ingest},
+             {"publish", config_.endpoints.publish},
+             {"query", config_.endpoints.query},
+             {"metrics", config_.endpoints.metrics}});
+  io_.run();
+  return exit_status_;
+}
+
+void YokedServer::on_ingest_message() {
+  Envelope frames;
+  if (!zmq::recv_multipart(ingest_, std::back_inserter(frames), zmq::recv_flags::dontwait)) return;
+  metrics_->ingest_message();
+  if (frames.size() < 2) return;  // a ROUTER always prepends the peer's identity
+  zmq::message_t payload = std::move(frames.back());
+  frames.pop_back();  // what is left is the envelope: identity, and a delimiter from REQ peers
+
+  if (stopping_) {
+    v1::IngestReply reply;
+    reply.set_version(v1::PROTOCOL_VERSION_1);
+    *reply.mutable_ack()->mutable_rejected()->add_errors() =
+        make_error(v1::Error::UNAVAILABLE, "the daemon is shutting down");
+    metrics_->acknowledged(reply.ack());
+    this->reply(ingest_, frames, reply.SerializeAsString());
+    return;
+  }
+  const Ticket ticket = next_ticket_++;
+  std::optional<v1::Ack> ack = service_.offer(ticket, payload.to_string_view());
+  if (ack) {
+    if (ack->has_rejected()) {
+      const v1::Error& first = ack->rejected().errors(0);
+      log_event(LogLevel::warn, "batch_rejected",
+                {{"pool", ack->pool()},
+                 {"client", ack->client_id()},
+                 {"client_batch", ack->client_batch()},
+                 {"code", error_code_name(first.code())},
+                 {"reason", first.message()}});
+    }
+    metrics_->acknowledged(*ack);
+    v1::IngestReply reply;
+    reply.set_version(v1::PROTOCOL_VERSION_1);
+    *reply.mutable_ack() = std::move(*ack);
+    this->reply(ingest_, frames, reply.SerializeAsString());
+    return;
+  }
+  waiting_.emplace(ticket, std::move(frames));
+  if (service_.window_events() >= config_.batching.max_events) {
+    close_window();
+  } else {
+    arm_window_timer();
+  }
+}
+
+void YokedServer::reply(zmq::socket_t& socket, Envelope& envelope, const std::string& payload) {
+  try {
+    for (zmq::message_t& frame : envelope) socket.send(frame, zmq::send_flags::sndmore);
+    socket.send(zmq::buffer(payload), zmq::send_flags::dontwait);
+  } catch (const zmq::error_t& error) {
+    // The peer is gone or its queue is full: it will retry, and the retry rule answers it.
+    log_event(LogLevel::warn, "reply_dropped", {{"reason", error.what()}});
+  }
+}
+
+void YokedServer::arm_window_timer() {
+  if (window_timer_armed_) return;
+  window_timer_armed_ = true;
+  window_timer_.expires_after(std::chrono::microseconds(config_.batching.max_delay_us));
+  window_timer_.async_wait([this](const boost::system::error_code& error) {
+    window_timer_armed_ = false;
+    if (!error) close_window();
+  });
+}
+
+void YokedServer::close_window() {
+  if (window_timer_armed_) {
+    window_timer_.cancel();
+    window_timer_armed_ = false;
+  }
+  if (service_.window_empty()) return;
+  const Clock::time_point closed = Clock::now();
+  std::vector<std::pair<Ticket, v1::Ack>> acks;
+  try {
+    acks = service_.seal();
+  } catch (const std::exception& error) {
+    // Nothing of this window is acknowledged; what reached the disk is recovered at restart.
+    log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
+    journal_failed_ = true;
+    shut_down(kYokedFailure);
+    return;
+  }
+  metrics_->journal_synced(Clock::now() - closed, acks.size());
+  for (auto& [ticket, ack] : acks) {
+    const auto peer = waiting_.find(ticket);
+    if (peer == waiting_.end()) continue;
+    metrics_->acknowledged(ack);
+    v1::IngestReply reply;
+    reply.set_version(v1::PROTOCOL_VERSION_1);
+    *reply.mutable_ack() = std::move(ack);
+    this->reply(ingest_, peer->second, reply.SerializeAsString());
+    waiting_.erase(peer);
+  }
+  ingest_watcher_->poke();
+
+  std::vector<v1::Diff> diffs = service_.apply();
+  for (v1::Diff& diff : diffs) {
+    metrics_->committed(diff);
+    publish(diff, closed);
+  }
+}
+
+void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {
+  const Clock::time_point now = Clock::now();
+  diff.mutable_timings()->set_commit_to_publish_us(micros(now - closed));
+  diff.mutable_timings()->set_publish_unix_us(unix_us_now());
+  service_.progress_of(diff.pool()).last_timings = diff.timings();
+  v1::Publication publication;
+  publication.set_version(v1::PROTOCOL_VERSION_1);
+  *publication.mutable_diff() = diff;
+  const std::string bytes = publication.SerializeAsString();
+  try {
+    publisher_.send(zmq::buffer(diff.pool()), zmq::send_flags::sndmore);
+    publisher_.send(zmq::buffer(bytes), zmq::send_flags::dontwait);
+  } catch (const zmq::error_t& error) {
+    log_event(LogLevel::warn, "publish_failed", {{"pool", diff.pool()}, {"reason", error.what()}});
+  }
+  metrics_->published(Clock::now() - closed);
+}
+
+void YokedServer::on_query_message() {
+  Envelope frames;
+  if (!zmq::recv_multipart(query_, std::back_inserter(frames), zmq::recv_flags::dontwait)) return;
+  if (frames.size() < 2) return;
+  zmq::message_t payload = std::move(frames.back());
+  frames.pop_back();
+  metrics_->query(query_kind_name(payload.to_string_view()));
+  reply(query_, frames, queries_.handle(payload.to_string_view()));
+  query_watcher_->poke();
+}
+
+v1::SnapshotTaken YokedServer::take_snapshot() {
+  close_window();  // the ledger may hold batches of the open window: seal them first
+  if (journal_failed_) {
+    // The retry ledger holds batches that never became durable: a snapshot of it would
+    // answer their retries as duplicates. Only the journal on disk may be trusted now.
+    throw std::runtime_error("no snapshot after a journal failure");
+  }
+  const Clock::time_point start = Clock::now();
+  const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
+  const std::filesystem::path path = snapshots_.write(service_.next_journal_seq(), records);
+  v1::SnapshotTaken taken;
+  taken.set_path(path.string());
+  for (const v1::SnapshotRecord& record : records) {
+    service_.progress_of(record.pool()).last_snapshot_seq = record.seq();
+    v1::SnapshotTaken::Entry& entry = *taken.add_pools();
+    entry.set_pool(record.pool());
+    entry.set_seq(record.seq());
+  }
+  // Journal records older than the oldest kept snapshot are no longer needed by any fallback.
+  std::size_t dropped = 0;
+  if (const auto oldest = snapshots_.oldest_kept()) dropped = service_.journal().drop_before(*oldest);
+  metrics_->snapshot_written(Clock::now() - start);
+  log_event(LogLevel::info, "snapshot_written",
+            {{"path", path.string()},
+             {"pools", records.size()},
+             {"journal_seq", service_.next_journal_seq()},
+             {"segments_dropped", dropped},
+             {"ms", micros(Clock::now() - start) / 1000}});
+  return taken;
+}
+
+void YokedServer::arm_snapshot_timer() {
+  snapshot_timer_.expires_after(std::chrono::seconds(config_.snapshots.interval_seconds));
+  snapshot_timer_.async_wait([this](const boost::system::error_code& error) {
+    if (error || stopping_) return;
+    try {
+      take_snapshot();
+    } catch (const std::exception& failure) {
+      // The journal still holds everything: a failed snapshot costs restart time, not data.
+      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+    }
+    arm_snapshot_timer();
+  });
+}
+
+v1::Health YokedServer::health() const {
+  v1::Health health;
+  health.set_ok(!stopping_ && !journal_failed_);
+  health.set_status(journal_failed_ ? "the journal cannot be written"
+                    : stopping_     ? "shutting down"
+                                    : "ok");
+  health.set_uptime_s(static_cast<std::uint64_t>(
+      std::chrono::duration_cast<std::chrono::seconds>(Clock::now() - started_).count()));
+  health.set_pools(static_cast<std::uint32_t>(service_.registry().names().size()));
+  health.set_daemon_version(YOKE_VERSION);
+  return health;
+}
+
+void YokedServer::shut_down(int status) {
+  if (stopping_) return;
+  if (status == kYokedOk) {
+    try {
+      close_window();
+      take_snapshot();
+    } catch (const std::exception& error) {
+      log_event(LogLevel::error, "final_snapshot_failed", {{"reason", error.what()}});
+      status = kYokedFailure;
+    }
+  }
+  stopping_ = true;
+  exit_status_ = status;
+  signals_.cancel();
+  window_timer_.cancel();
+  snapshot_timer_.cancel();
+  ingest_watcher_->stop();
+  query_watcher_->stop();
+  http_->stop();
+  io_.stop();
+}
+
+}  // namespace yoke::daemon

@@ -1,0 +1,91 @@
+// yoked's transport and loop: one Boost.Asio io_context owns the ZeroMQ sockets (ingest
+// ROUTER, publish PUB, query ROUTER), the batching-window and snapshot timers, the signals and
+// the metrics HTTP endpoint. Everything runs on the one thread that calls run(); the
+// PoolService holds the state and never sees a socket.
+#pragma once
+
+#include <chrono>
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include <boost/asio/io_context.hpp>
+#include <boost/asio/signal_set.hpp>
+#include <boost/asio/steady_timer.hpp>
+#include <zmq.hpp>
+
+#include "daemon/config/daemon_config.h"
+#include "daemon/service/pool_service.h"
+#include "daemon/service/query_handler.h"
+#include "daemon/snapshots/snapshot_store.h"
+#include "zmq_socket_watcher.h"
+
+namespace yoke::daemon {
+
+class DaemonMetrics;
+namespace metrics {
+class HttpEndpoint;
+}
+
+// Exit statuses of yoked.
+enum YokedExit : int {
+  kYokedOk = 0,           // stopped by SIGTERM or SIGINT after a final snapshot
+  kYokedFailure = 1,      // the journal, a snapshot or a socket failed; see the log
+  kYokedConfigError = 2,  // bad flags or config file; nothing was started
+};
+
+class YokedServer {
+ public:
+  // Binds every endpoint; throws zmq::error_t or std::system_error naming what failed.
+  YokedServer(const DaemonConfig& config, PoolService& service, SnapshotStore& snapshots);
+  ~YokedServer();
+  YokedServer(const YokedServer&) = delete;
+  YokedServer& operator=(const YokedServer&) = delete;
+
+  // Serves until a signal (then finishes the window, snapshots and returns kYokedOk) or a
+  // failure that makes serving unsafe (returns kYokedFailure).
+  int run();
+
+ private:
+  using Envelope = std::vector<zmq::message_t>;
+
+  void on_ingest_message();
+  void on_query_message();
+  void reply(zmq::socket_t& socket, Envelope& envelope, const std::string& payload);
+  void arm_window_timer();
+  void close_window();
+  void publish(v1::Diff& diff, std::chrono::steady_clock::time_point closed);
+  v1::SnapshotTaken take_snapshot();
+  void arm_snapshot_timer();
+  v1::Health health() const;
+  void shut_down(int status);
+
+  const DaemonConfig& config_;
+  PoolService& service_;
+  SnapshotStore& snapshots_;
+  boost::asio::io_context io_;
+  zmq::context_t zmq_context_;
+  zmq::socket_t ingest_;
+  zmq::socket_t publisher_;
+  zmq::socket_t query_;
+  std::unique_ptr<ZmqSocketWatcher> ingest_watcher_;
+  std::unique_ptr<ZmqSocketWatcher> query_watcher_;
+  boost::asio::steady_timer window_timer_;
+  boost::asio::steady_timer snapshot_timer_;
+  boost::asio::signal_set signals_;
+  QueryHandler queries_;
+  std::unique_ptr<DaemonMetrics> metrics_;
+  std::unique_ptr<metrics::HttpEndpoint> http_;
+
+  bool window_timer_armed_ = false;
+  Ticket next_ticket_ = 1;
+  std::map<Ticket, Envelope> waiting_;  // peers whose acknowledgement waits for the window
+  std::chrono::steady_clock::time_point started_;
+  bool stopping_ = false;
+  bool journal_failed_ = false;  // stop without a snapshot: only the disk may be trusted
+  int exit_status_ = kYokedOk;
+};
+
+}  // namespace yoke::daemon

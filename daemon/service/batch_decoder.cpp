@@ -1,0 +1,108 @@
+#include "batch_decoder.h"
+
+#include <optional>
+#include <utility>
+
+#include "pool_names.h"
+#include "wire_types.h"
+
+namespace yoke::daemon {
+namespace {
+
+v1::Ack refusal(v1::Error error) {
+  v1::Ack ack;
+  *ack.mutable_rejected()->add_errors() = std::move(error);
+  return ack;
+}
+
+v1::Ack refusal_for(const v1::EventBatch& batch, const std::string& pool, v1::Error error) {
+  v1::Ack ack = refusal(std::move(error));
+  ack.set_client_id(batch.client_id());
+  ack.set_client_batch(batch.client_batch());
+  ack.set_pool(pool);
+  return ack;
+}
+
+}  // namespace
+
+std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t index) {
+  const auto malformed = [index](const std::string& why) {
+    return make_error(v1::Error::MALFORMED_MESSAGE, why, index);
+  };
+  Event event;
+  event.u = wire.u();
+  switch (wire.kind()) {
+    case v1::Event::ADD_VERTEX: event.kind = EventKind::add_vertex; break;
+    case v1::Event::SET_EDGE: event.kind = EventKind::set_edge; break;
+    case v1::Event::UNSET_EDGE: event.kind = EventKind::unset_edge; break;
+    case v1::Event::REMOVE_VERTEX: event.kind = EventKind::remove_vertex; break;
+    default:
+      return malformed("event kind " + std::to_string(static_cast<int>(wire.kind())) +
+                       " is not one of ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX");
+  }
+  const bool has_v = event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge;
+  const bool has_w = event.kind == EventKind::set_edge;
+  if (!has_v && wire.v() != 0) {
+    return malformed(v1::Event::Kind_Name(wire.kind()) + " carries v = " +
+                     std::to_string(wire.v()) + ", which only edge events may set");
+  }
+  if (!has_w && wire.w() != 0) {
+    return malformed(v1::Event::Kind_Name(wire.kind()) + " carries w = " +
+                     std::to_string(wire.w()) + ", which only SET_EDGE may set");
+  }
+  event.v = wire.v();
+  event.w = wire.w();
+  return event;
+}
+
+DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) {
+  if (message.size() > limits.max_message_bytes) {
+    return refusal(make_error(v1::Error::OVERSIZED_MESSAGE,
+                              "message of " + std::to_string(message.size()) +
+                                  " bytes exceeds the limit of " +
+                                  std::to_string(limits.max_message_bytes)));
+  }
+  v1::IngestRequest request;
+  if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+    return refusal(make_error(v1::Error::MALFORMED_MESSAGE,
+                              "the message is not a yoke.v1.IngestRequest"));
+  }
+  if (request.version() != v1::PROTOCOL_VERSION_1) {
+    return refusal(make_error(v1::Error::UNSUPPORTED_VERSION,
+                              "protocol version " + std::to_string(request.version()) +
+                                  " is not spoken here; this daemon speaks version 1"));
+  }
+  if (request.kind_case() != v1::IngestRequest::kBatch) {
+    return refusal(make_error(v1::Error::UNKNOWN_MESSAGE_KIND,
+                              "the request carries no kind this daemon knows (expected batch)"));
+  }
+  v1::EventBatch& batch = *request.mutable_batch();
+  const std::string pool = resolve_pool_name(batch.pool());
+  if (auto problem = pool_name_problem(pool)) {
+    return refusal_for(batch, "", make_error(v1::Error::UNKNOWN_POOL, *problem));
+  }
+  if (static_cast<std::uint64_t>(batch.events_size()) > limits.max_events_per_batch) {
+    return refusal_for(batch, pool,
+                       make_error(v1::Error::TOO_MANY_EVENTS,
+                                  "batch of " + std::to_string(batch.events_size()) +
+                                      " events exceeds the limit of " +
+                                      std::to_string(limits.max_events_per_batch)));
+  }
+  DecodedBatch decoded;
+  decoded.events.reserve(static_cast<std::size_t>(batch.events_size()));
+  for (int i = 0; i < batch.events_size(); ++i) {
+    auto event = decode_event(batch.events(i), static_cast<std::uint32_t>(i));
+    if (auto* error = std::get_if<v1::Error>(&event)) {
+      return refusal_for(batch, pool, std::move(*error));
+    }
+    decoded.events.push_back(std::get<Event>(event));
+  }
+  decoded.pool = pool;
+  decoded.client_id = batch.client_id();
+  decoded.client_batch = batch.client_batch();
+  decoded.after_batch = batch.after_batch();
+  decoded.wire = std::move(batch);
+  return decoded;
+}
+
+}  // namespace yoke::daemon

@@ -1,0 +1,39 @@
+// The first half of ingest: the bytes of one client message turned into a batch of engine
+// events, or into the Ack that refuses it. Checks everything that needs no pool state: size,
+// Protobuf syntax, version, message kind, events per batch, each event's fields, the pool's
+// name. The pool-dependent checks (unknown vertices, weights, limits) come after, in the
+// PoolService. This is the fuzz target's path: it must never throw or crash on any input.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <variant>
+#include <vector>
+
+#include "daemon/config/daemon_config.h"
+#include "engine/events.h"
+#include "yoke/v1/events.pb.h"
+#include "yoke/v1/ingest.pb.h"
+
+namespace yoke::daemon {
+
+struct DecodedBatch {
+  std::string pool;  // resolved: never empty
+  std::string client_id;
+  std::uint64_t client_batch = 0;
+  std::uint64_t after_batch = 0;
+  std::vector<Event> events;
+  v1::EventBatch wire;  // as received: becomes the journal record
+};
+
+// A refusal: the Ack to send back (client id, batch and pool filled in when readable).
+using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
+
+DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
+
+// One wire event as an engine event, or the MALFORMED_MESSAGE error (with event_index = index)
+// that says which field is wrong. Also used to read journal records back.
+std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t index);
+
+}  // namespace yoke::daemon

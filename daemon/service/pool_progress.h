@@ -1,0 +1,25 @@
+// What the daemon knows about each pool beyond the engine's state: its sequence number and its
+// counters, for acknowledgements, queries and metrics.
+#pragma once
+
+#include <cstdint>
+
+#include "engine/pool.h"
+#include "yoke/v1/publish.pb.h"
+
+namespace yoke::daemon {
+
+struct PoolProgress {
+  std::uint64_t seq = 0;  // the last batch applied (0: none yet)
+  std::uint64_t batches_accepted = 0;
+  std::uint64_t batches_rejected = 0;
+  std::uint64_t batches_duplicate = 0;
+  std::uint64_t events_applied = 0;
+  std::uint64_t commits = 0;
+  bool no_perfect_matching = false;
+  RepairStats last_repair;
+  v1::Timings last_timings;
+  std::uint64_t last_snapshot_seq = 0;
+};
+
+}  // namespace yoke::daemon

@@ -1,0 +1,208 @@
+#include "pool_service.h"
+
+#include <chrono>
+
+#include "wire_types.h"
+#include "yoke/v1/records.pb.h"
+
+namespace yoke::daemon {
+namespace {
+
+std::uint64_t unix_us_now() {
+  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
+                                        std::chrono::system_clock::now().time_since_epoch())
+                                        .count());
+}
+
+v1::Ack accepted(const DecodedBatch& batch, std::uint64_t seq, bool duplicate) {
+  v1::Ack ack;
+  ack.set_client_id(batch.client_id);
+  ack.set_client_batch(batch.client_batch);
+  ack.set_pool(batch.pool);
+  ack.mutable_accepted()->set_seq(seq);
+  ack.mutable_accepted()->set_duplicate(duplicate);
+  return ack;
+}
+
+v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
+  v1::Ack ack;
+  ack.set_client_id(batch.client_id);
+  ack.set_client_batch(batch.client_batch);
+  ack.set_pool(batch.pool);
+  *ack.mutable_rejected()->add_errors() = std::move(error);
+  return ack;
+}
+
+}  // namespace
+
+PoolService::PoolService(const DaemonConfig& config, ServiceState state, journal::Journal journal)
+    : limits_(config.limits), state_(std::move(state)), journal_(std::move(journal)) {}
+
+const PoolProgress* PoolService::progress(const std::string& pool) const {
+  const auto it = state_.progress.find(pool);
+  return it == state_.progress.end() ? nullptr : &it->second;
+}
+
+v1::Ack PoolService::refuse(v1::Ack ack) {
+  for (const v1::Error& error : ack.rejected().errors()) ++refusals_[error.code()];
+  if (!ack.pool().empty()) {
+    if (auto it = state_.progress.find(ack.pool()); it != state_.progress.end()) {
+      ++it->second.batches_rejected;
+    }
+  }
+  return ack;
+}
+
+std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view message) {
+  DecodeResult decoded = decode_ingest(message, limits_);
+  if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
+  DecodedBatch& batch = std::get<DecodedBatch>(decoded);
+
+  Pool& pool = state_.registry.pool(batch.pool);
+  state_.progress.try_emplace(batch.pool);
+  if (!batch.client_id.empty()) {
+    const RetryVerdict verdict =
+        state_.ledger.classify(batch.pool, batch.client_id, batch.client_batch);
+    if (verdict != RetryVerdict::fresh) return answer_retry(ticket, batch);
+    if (batch.after_batch != 0) {
+      const auto last = state_.ledger.last(batch.pool, batch.client_id);
+      if (!last || last->batch_number != batch.after_batch) {
+        return refuse(rejected(
+            batch, make_error(v1::Error::OUT_OF_ORDER,
+                              "batch " + std::to_string(batch.client_batch) + " must follow batch " +
+                                  std::to_string(batch.after_batch) + ", but the last applied is " +
+                                  (last ? std::to_string(last->batch_number) : "none") +
+                                  ": resend from the first batch not acknowledged")));
+      }
+    }
+  }
+
+  WindowPool& in_window = window_pool(batch.pool, pool);
+  if (auto error = in_window.checker.accept(batch.events)) {
+    return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
+                                             static_cast<std::uint32_t>(error->index))));
+  }
+  const std::uint64_t seq = in_window.next_seq++;
+  if (!batch.client_id.empty()) {
+    // Recorded now, before it is durable: a retry arriving within this window must be seen as
+    // one. If the journal fails the daemon stops, and recovery rebuilds the ledger from disk.
+    state_.ledger.record(batch.pool, batch.client_id, {batch.client_batch, seq});
+  }
+  window_events_ += batch.events.size();
+  window_.push_back({ticket, seq, std::move(batch)});
+  return std::nullopt;
+}
+
+std::optional<v1::Ack> PoolService::answer_retry(Ticket ticket, const DecodedBatch& batch) {
+  const AppliedBatch last = *state_.ledger.last(batch.pool, batch.client_id);
+  ++state_.progress[batch.pool].batches_duplicate;
+  v1::Ack ack = accepted(batch, last.seq, true);
+  if (last.seq > state_.progress[batch.pool].seq) {  // in this window: answer once it is durable
+    waiting_duplicates_.emplace_back(ticket, std::move(ack));
+    return std::nullopt;
+  }
+  return ack;
+}
+
+PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
+  auto it = window_pools_.find(name);
+  if (it == window_pools_.end()) {
+    const std::uint64_t seq = state_.progress[name].seq;
+    it = window_pools_.emplace(name, WindowPool{seq, seq + 1, BatchChecker(pool)}).first;
+  }
+  return it->second;
+}
+
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
+  std::vector<std::pair<Ticket, v1::Ack>> replies;
+  replies.reserve(window_.size() + waiting_duplicates_.size());
+  const std::uint64_t window_start = state_.next_journal_seq;
+  const std::uint64_t wall_time = unix_us_now();
+  std::string bytes;
+  for (PendingBatch& pending : window_) {
+    DecodedBatch& batch = pending.batch;
+    v1::JournalRecord record;
+    record.set_pool(batch.pool);
+    record.set_seq(pending.seq);
+    record.set_client_id(batch.client_id);
+    record.set_client_batch(batch.client_batch);
+    record.mutable_events()->Swap(batch.wire.mutable_events());
+    record.set_wall_time_unix_us(wall_time);
+    if (pending.seq == 1) {
+      const Pool& pool = *state_.registry.find(batch.pool);
+      *record.mutable_created() = to_wire(pool.mode(), pool.limits());
+    }
+    record.set_window_start(window_start);
+    bytes.clear();
+    record.SerializeToString(&bytes);
+    journal_.append(state_.next_journal_seq, bytes);
+    ++state_.next_journal_seq;
+  }
+  if (!window_.empty()) journal_.sync();
+
+  for (const PendingBatch& pending : window_) {
+    replies.emplace_back(pending.ticket, accepted(pending.batch, pending.seq, false));
+  }
+  for (auto& waiting : waiting_duplicates_) replies.push_back(std::move(waiting));
+  waiting_duplicates_.clear();
+  for (const auto& [name, in_window] : window_pools_) sealed_seq_before_[name] = in_window.seq_before;
+  window_pools_.clear();  // the checkers read the pools, which apply() is about to change
+  for (PendingBatch& pending : window_) sealed_.push_back(std::move(pending));
+  window_.clear();
+  window_events_ = 0;
+  return replies;
+}
+
+std::vector<v1::Diff> PoolService::apply() {
+  struct PoolWork {
+    std::vector<Event> events;
+    std::uint64_t last_seq = 0;
+    std::uint64_t batches = 0;
+  };
+  std::map<std::string, PoolWork> work;  // name order: diffs go out in a fixed order
+  for (PendingBatch& pending : sealed_) {
+    PoolWork& pool_work = work[pending.batch.pool];
+    pool_work.events.insert(pool_work.events.end(), pending.batch.events.begin(),
+                            pending.batch.events.end());
+    pool_work.last_seq = pending.seq;
+    ++pool_work.batches;
+  }
+  sealed_.clear();
+
+  std::vector<v1::Diff> diffs;
+  diffs.reserve(work.size());
+  for (auto& [name, pool_work] : work) {
+    Pool& pool = *state_.registry.find(name);
+    const auto start = std::chrono::steady_clock::now();
+    const CommitResult result = pool.commit(pool_work.events);
+    const auto repair_us = static_cast<std::uint64_t>(
+        std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
+                                                              start)
+            .count());
+
+    PoolProgress& progress = state_.progress[name];
+    progress.seq = pool_work.last_seq;
+    progress.batches_accepted += pool_work.batches;
+    progress.events_applied += pool_work.events.size();
+    ++progress.commits;
+    progress.no_perfect_matching = result.status == SolveStatus::no_perfect_matching;
+    progress.last_repair = result.stats;
+    progress.last_timings.set_repair_us(repair_us);
+
+    v1::Diff& diff = diffs.emplace_back();
+    diff.set_pool(name);
+    diff.set_seq(pool_work.last_seq);
+    diff.set_prev_seq(sealed_seq_before_[name]);
+    for (const MatchedPair& pair : result.diff.removed) *diff.add_removed() = to_wire(pair);
+    for (const MatchedPair& pair : result.diff.added) *diff.add_added() = to_wire(pair);
+    diff.set_weight(result.weight);
+    diff.set_pairs(result.pairs);
+    diff.set_no_perfect_matching(progress.no_perfect_matching);
+    diff.mutable_timings()->set_repair_us(repair_us);
+    *diff.mutable_stats() = to_wire(result.stats);
+  }
+  sealed_seq_before_.clear();
+  return diffs;
+}
+
+}  // namespace yoke::daemon

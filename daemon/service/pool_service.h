@@ -1,0 +1,101 @@
+// The daemon's state machine, free of sockets and timers: pools, their progress, the retry
+// ledger, the journal and the batching window. The server (daemon/server) feeds it messages
+// and closes windows; tests drive it directly.
+//
+// A batch goes through: decode (batch_decoder.h) -> pool name and retry rules -> the pool's
+// checks against its state plus the batches already in the window -> the window. Closing the
+// window is two steps: seal() journals every batch of the window and syncs once (group commit),
+// and returns their acknowledgements; apply() then repairs each pool once for all of its
+// batches and returns one diff per pool. Refusals are answered at once and change nothing.
+#pragma once
+
+#include <chrono>
+#include <cstdint>
+#include <map>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <utility>
+#include <vector>
+
+#include "batch_decoder.h"
+#include "daemon/config/daemon_config.h"
+#include "daemon/journal/journal.h"
+#include "daemon/pools/pool_registry.h"
+#include "daemon/pools/retry_ledger.h"
+#include "pool_progress.h"
+#include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/publish.pb.h"
+
+namespace yoke::daemon {
+
+// Identifies a request whose reply waits for the window (the server maps it to a socket peer).
+using Ticket = std::uint64_t;
+
+// Everything recovery rebuilds, handed to the service.
+struct ServiceState {
+  PoolRegistry registry;
+  std::map<std::string, PoolProgress> progress;
+  RetryLedger ledger;
+  std::uint64_t next_journal_seq = 1;
+};
+
+class PoolService {
+ public:
+  PoolService(const DaemonConfig& config, ServiceState state, journal::Journal journal);
+
+  // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
+  // batch already durable; nothing when the reply comes with the window (see seal()).
+  std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
+
+  bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
+  std::size_t window_events() const { return window_events_; }
+
+  // Journals the window's batches (window_start = the first record's number), syncs once,
+  // and returns every waiting reply. Throws journal::Error when the journal cannot be written:
+  // nothing is acknowledged then, and the daemon must stop (recovery keeps what is on disk).
+  std::vector<std::pair<Ticket, v1::Ack>> seal();
+
+  // Repairs each pool of the sealed window once and returns its diff, pools in name order.
+  // Timings carry repair_us only; the publisher fills in the rest.
+  std::vector<v1::Diff> apply();
+
+  PoolRegistry& registry() { return state_.registry; }
+  const PoolProgress* progress(const std::string& pool) const;
+  PoolProgress& progress_of(const std::string& pool) { return state_.progress[pool]; }
+  const RetryLedger& ledger() const { return state_.ledger; }
+  journal::Journal& journal() { return journal_; }
+  std::uint64_t next_journal_seq() const { return state_.next_journal_seq; }
+
+  // Refusals by error code over the daemon's life, for metrics.
+  const std::map<v1::Error::Code, std::uint64_t>& refusals() const { return refusals_; }
+
+ private:
+  struct PendingBatch {
+    Ticket ticket;
+    std::uint64_t seq;
+    DecodedBatch batch;
+  };
+  struct WindowPool {
+    std::uint64_t seq_before;  // the pool's seq when the window opened
+    std::uint64_t next_seq;    // the seq the next batch of this pool would get
+    BatchChecker checker;
+  };
+
+  v1::Ack refuse(v1::Ack ack);
+  std::optional<v1::Ack> answer_retry(Ticket ticket, const DecodedBatch& batch);
+  WindowPool& window_pool(const std::string& name, Pool& pool);
+
+  InputLimits limits_;
+  ServiceState state_;
+  journal::Journal journal_;
+  std::vector<PendingBatch> window_;
+  std::map<std::string, WindowPool> window_pools_;
+  std::vector<std::pair<Ticket, v1::Ack>> waiting_duplicates_;  // retries of batches in the window
+  std::vector<PendingBatch> sealed_;
+  std::map<std::string, std::uint64_t> sealed_seq_before_;
+  std::size_t window_events_ = 0;
+  std::map<v1::Error::Code, std::uint64_t> refusals_;
+};
+
+}  // namespace yoke::daemon

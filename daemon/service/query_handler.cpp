@@ -1,0 +1,172 @@
+#include "query_handler.h"
+
+#include <algorithm>
+#include <exception>
+
+#include "pool_names.h"
+#include "wire_types.h"
+
+namespace yoke::daemon {
+namespace {
+
+v1::QueryReply error_reply(v1::Error::Code code, std::string message) {
+  v1::QueryReply reply;
+  *reply.mutable_error() = make_error(code, std::move(message));
+  return reply;
+}
+
+}  // namespace
+
+QueryHandler::QueryHandler(PoolService& service, std::size_t max_message_bytes,
+                           SnapshotNow snapshot_now, HealthNow health_now)
+    : service_(service),
+      max_message_bytes_(max_message_bytes),
+      snapshot_now_(std::move(snapshot_now)),
+      health_now_(std::move(health_now)) {}
+
+std::string QueryHandler::handle(std::string_view message) {
+  v1::QueryReply reply;
+  v1::QueryRequest request;
+  if (message.size() > max_message_bytes_) {
+    reply = error_reply(v1::Error::OVERSIZED_MESSAGE,
+                        "message of " + std::to_string(message.size()) +
+                            " bytes exceeds the limit of " + std::to_string(max_message_bytes_));
+  } else if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+    reply = error_reply(v1::Error::MALFORMED_MESSAGE, "the message is not a yoke.v1.QueryRequest");
+  } else if (request.version() != v1::PROTOCOL_VERSION_1) {
+    reply = error_reply(v1::Error::UNSUPPORTED_VERSION,
+                        "protocol version " + std::to_string(request.version()) +
+                            " is not spoken here; this daemon speaks version 1");
+    reply.set_request_id(request.request_id());
+  } else {
+    try {
+      reply = answer(request);
+    } catch (const std::exception& error) {
+      reply = error_reply(v1::Error::INTERNAL, error.what());
+    }
+    reply.set_request_id(request.request_id());
+  }
+  reply.set_version(v1::PROTOCOL_VERSION_1);
+  return reply.SerializeAsString();
+}
+
+v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
+  if (request.kind_case() == v1::QueryRequest::kHealth) {
+    v1::QueryReply reply;
+    *reply.mutable_health() = health_now_();
+    return reply;
+  }
+  if (request.kind_case() == v1::QueryRequest::KIND_NOT_SET) {
+    return error_reply(v1::Error::UNKNOWN_MESSAGE_KIND,
+                       "the request carries no kind this daemon knows");
+  }
+  const std::string name = resolve_pool_name(request.pool());
+  if (request.kind_case() == v1::QueryRequest::kSnapshot) {
+    if (!request.snapshot().all_pools() && service_.progress(name) == nullptr) {
+      return error_reply(v1::Error::UNKNOWN_POOL, "there is no pool " + name);
+    }
+    v1::QueryReply reply;
+    reply.set_pool(name);
+    *reply.mutable_snapshot() = snapshot_now_(request.snapshot().all_pools(), name);
+    return reply;
+  }
+  Pool* pool = service_.registry().find(name);
+  const PoolProgress* progress = service_.progress(name);
+  if (pool == nullptr || progress == nullptr) {
+    v1::QueryReply reply = error_reply(v1::Error::UNKNOWN_POOL, "there is no pool " + name);
+    reply.set_pool(name);
+    return reply;
+  }
+
+  v1::QueryReply reply;
+  reply.set_pool(name);
+  const auto unknown_vertex = [&](std::uint64_t vertex) {
+    v1::QueryReply error = error_reply(v1::Error::UNKNOWN_VERTEX,
+                                       "pool " + name + " holds no vertex " +
+                                           std::to_string(vertex));
+    error.set_pool(name);
+    return error;
+  };
+  switch (request.kind_case()) {
+    case v1::QueryRequest::kSummary: {
+      v1::Summary& summary = *reply.mutable_summary();
+      summary.set_seq(progress->seq);
+      summary.set_weight(pool->weight());
+      summary.set_pairs(pool->pairs());
+      summary.set_vertices(pool->vertex_count());
+      summary.set_edges(pool->edge_count());
+      summary.set_mode(to_wire(pool->mode()));
+      summary.set_no_perfect_matching(progress->no_perfect_matching);
+      return reply;
+    }
+    case v1::QueryRequest::kMate: {
+      const std::uint64_t vertex = request.mate().vertex();
+      if (!pool->has_vertex(vertex)) return unknown_vertex(vertex);
+      v1::Mate& mate = *reply.mutable_mate();
+      mate.set_seq(progress->seq);
+      mate.set_vertex(vertex);
+      // explain() with no alternatives is the cheap way to the pair's weight.
+      const auto explanation = pool->explain(vertex, 0);
+      if (explanation && explanation->mate) {
+        mate.set_mate(*explanation->mate);
+        mate.set_weight(explanation->pair_weight);
+      }
+      return reply;
+    }
+    case v1::QueryRequest::kMatching: {
+      v1::Matching& matching = *reply.mutable_matching();
+      matching.set_seq(progress->seq);
+      matching.set_weight(pool->weight());
+      for (const MatchedPair& pair : pool->matching()) *matching.add_pairs() = to_wire(pair);
+      matching.set_mode(to_wire(pool->mode()));
+      matching.set_no_perfect_matching(progress->no_perfect_matching);
+      return reply;
+    }
+    case v1::QueryRequest::kExplain: {
+      const std::uint64_t vertex = request.explain().vertex();
+      std::uint32_t limit = request.explain().max_alternatives();
+      if (limit == 0) limit = kDefaultAlternatives;
+      limit = std::min(limit, kMostAlternatives);
+      const auto explanation = pool->explain(vertex, limit);
+      if (!explanation) return unknown_vertex(vertex);
+      v1::Explanation& explain = *reply.mutable_explain();
+      explain.set_seq(progress->seq);
+      explain.set_vertex(vertex);
+      if (explanation->mate) explain.set_mate(*explanation->mate);
+      explain.set_pair_weight(explanation->pair_weight);
+      explain.set_dual2(explanation->dual2);
+      explain.set_weight_offset(explanation->weight_offset);
+      for (const Alternative& alternative : explanation->alternatives) {
+        v1::Alternative& wire = *explain.add_alternatives();
+        wire.set_other(alternative.other);
+        wire.set_weight(alternative.w);
+        wire.set_slack2(alternative.slack2);
+        if (alternative.other_mate) wire.set_other_mate(*alternative.other_mate);
+      }
+      return reply;
+    }
+    case v1::QueryRequest::kStats: {
+      v1::Stats& stats = *reply.mutable_stats();
+      stats.set_seq(progress->seq);
+      stats.set_weight(pool->weight());
+      stats.set_pairs(pool->pairs());
+      stats.set_vertices(pool->vertex_count());
+      stats.set_edges(pool->edge_count());
+      *stats.mutable_config() = to_wire(pool->mode(), pool->limits());
+      stats.set_batches_accepted(progress->batches_accepted);
+      stats.set_batches_rejected(progress->batches_rejected);
+      stats.set_batches_duplicate(progress->batches_duplicate);
+      stats.set_events_applied(progress->events_applied);
+      stats.set_commits(progress->commits);
+      *stats.mutable_last_repair() = to_wire(progress->last_repair);
+      *stats.mutable_last_timings() = progress->last_timings;
+      stats.set_last_snapshot_seq(progress->last_snapshot_seq);
+      return reply;
+    }
+    default:
+      return error_reply(v1::Error::UNKNOWN_MESSAGE_KIND,
+                         "the request carries no kind this daemon knows");
+  }
+}
+
+}  // namespace yoke::daemon

@@ -1,0 +1,41 @@
+// The query and control socket's requests (proto/yoke/v1/query.proto), answered from the
+// service's current state: every reply that describes a pool carries the seq it describes.
+#pragma once
+
+#include <cstdint>
+#include <functional>
+#include <string>
+#include <string_view>
+
+#include "pool_service.h"
+#include "yoke/v1/query.pb.h"
+
+namespace yoke::daemon {
+
+class QueryHandler {
+ public:
+  // Writes a snapshot now (every pool, or the named one's file set) and says what it wrote.
+  // May throw std::exception: the reply is then an INTERNAL error.
+  using SnapshotNow = std::function<v1::SnapshotTaken(bool all_pools, const std::string& pool)>;
+  using HealthNow = std::function<v1::Health()>;
+
+  QueryHandler(PoolService& service, std::size_t max_message_bytes, SnapshotNow snapshot_now,
+               HealthNow health_now);
+
+  // One request's bytes in, the serialized QueryReply out. Never throws for bad input.
+  std::string handle(std::string_view message);
+
+  // Alternatives listed when a request asks for 0, and the most it may ask for.
+  static constexpr std::uint32_t kDefaultAlternatives = 5;
+  static constexpr std::uint32_t kMostAlternatives = 1000;
+
+ private:
+  v1::QueryReply answer(const v1::QueryRequest& request);
+
+  PoolService& service_;
+  std::size_t max_message_bytes_;
+  SnapshotNow snapshot_now_;
+  HealthNow health_now_;
+};
+
+}  // namespace yoke::daemon

@@ -1,0 +1,43 @@
+// Rebuilding the service after a start or a crash: the newest snapshot that can be trusted,
+// then every journal record after it, committed in the same groups as before (commit_groups.h).
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "commit_groups.h"
+#include "daemon/config/daemon_config.h"
+#include "daemon/journal/journal.h"
+#include "daemon/snapshots/snapshot_store.h"
+#include "pool_service.h"
+
+namespace yoke::daemon {
+
+// The journal cannot be replayed: a record does not apply, a sequence number is missing, or
+// no usable snapshot covers the records the journal has dropped. The daemon must not start.
+class RecoveryError : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
+};
+
+struct RecoveryReport {
+  std::optional<std::uint64_t> snapshot;  // journal position of the snapshot loaded
+  std::vector<std::string> skipped;       // why newer snapshots were passed over
+  std::size_t pools = 0;
+  std::uint64_t records = 0;  // journal records replayed
+  std::uint64_t commits = 0;
+};
+
+ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
+                     const SnapshotStore& snapshots, RecoveryReport& report);
+
+// Applies one commit group to the state (recovery, and tools that replay a journal): creates
+// the pool from its first record, checks the sequence numbers and the events, commits, and
+// records the client marks. Records already in the state (seq <= the pool's) are skipped.
+// Throws RecoveryError when the group does not continue the pool's history.
+void apply_commit_group(const CommitGroup& group, ServiceState& state);
+
+}  // namespace yoke::daemon

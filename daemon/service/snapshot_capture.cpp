@@ -1,0 +1,66 @@
+#include "snapshot_capture.h"
+
+#include <chrono>
+
+#include "engine/certificate.h"
+#include "wire_types.h"
+
+namespace yoke::daemon {
+
+std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
+  const std::uint64_t wall_time = static_cast<std::uint64_t>(
+      std::chrono::duration_cast<std::chrono::microseconds>(
+          std::chrono::system_clock::now().time_since_epoch())
+          .count());
+  std::vector<v1::SnapshotRecord> records;
+  for (const std::string& name : service.registry().names()) {
+    const PoolProgress* progress = service.progress(name);
+    if (progress == nullptr || progress->seq == 0) continue;  // nothing applied: nothing to keep
+    const Pool& pool = *service.registry().find(name);
+    v1::SnapshotRecord& record = records.emplace_back();
+    record.set_pool(name);
+    record.set_seq(progress->seq);
+    *record.mutable_config() = to_wire(pool.mode(), pool.limits());
+    for (const auto& [client, applied] : service.ledger().clients_of(name)) {
+      v1::ClientMark& mark = *record.add_clients();
+      mark.set_client_id(client);
+      mark.set_last_batch(applied.batch_number);
+      mark.set_seq(applied.seq);
+    }
+    record.set_weight(pool.weight());
+    record.set_pairs(pool.pairs());
+    record.set_vertices(pool.vertex_count());
+    record.set_edges(pool.edge_count());
+    record.set_wall_time_unix_us(wall_time);
+    record.set_engine_state_format(kEngineStateFormat);
+    record.set_engine_state(pool.save());
+    record.set_journal_seq(service.next_journal_seq());
+  }
+  return records;
+}
+
+std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record) {
+  const auto damaged = [&record](const std::string& why) {
+    return SnapshotDamage("pool " + record.pool() + " at seq " + std::to_string(record.seq()) +
+                          ": " + why);
+  };
+  if (record.engine_state_format() != kEngineStateFormat) {
+    throw damaged("unknown engine state format " + std::to_string(record.engine_state_format()));
+  }
+  std::unique_ptr<Pool> pool;
+  try {
+    pool = Pool::restore(record.engine_state());
+  } catch (const InputError& error) {
+    throw damaged(std::string("the engine state does not restore: ") + error.what());
+  }
+  const PoolExport exported = pool->export_certified();
+  const CheckResult check = check_certificate(exported.graph, exported.certificate);
+  if (!check.ok) throw damaged("the restored certificate fails: " + check.failure);
+  if (pool->weight() != record.weight() || pool->pairs() != record.pairs() ||
+      pool->vertex_count() != record.vertices() || pool->edge_count() != record.edges()) {
+    throw damaged("the restored pool's weight, pairs or size disagree with the record");
+  }
+  return pool;
+}
+
+}  // namespace yoke::daemon

@@ -1,0 +1,28 @@
+// A snapshot's contents taken from the running service, and the check that a snapshot's
+// contents can be trusted when they are read back.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "daemon/snapshots/snapshot_file.h"
+#include "engine/pool.h"
+#include "pool_progress.h"
+#include "pool_service.h"
+
+namespace yoke::daemon {
+
+// The engine_state encoding this daemon writes and reads (Pool::save).
+inline constexpr std::uint32_t kEngineStateFormat = 1;
+
+// One record per pool that has applied a batch, in name order, with its retry marks. Call
+// between windows (nothing pending). O(state size).
+std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
+
+// A pool rebuilt from a SnapshotRecord whose certificate holds and whose weight, pairs,
+// vertices and edges agree with the record. Throws SnapshotDamage saying what failed.
+std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record);
+
+}  // namespace yoke::daemon

@@ -1,0 +1,88 @@
+#include "wire_types.h"
+
+#include <limits>
+
+namespace yoke::daemon {
+
+v1::Mode to_wire(Mode mode) {
+  switch (mode) {
+    case Mode::max_weight: return v1::MODE_MAX_WEIGHT;
+    case Mode::max_cardinality: return v1::MODE_MAX_CARDINALITY;
+    case Mode::perfect: return v1::MODE_PERFECT;
+  }
+  return v1::MODE_UNSPECIFIED;
+}
+
+std::optional<Mode> from_wire(v1::Mode mode) {
+  switch (mode) {
+    case v1::MODE_MAX_WEIGHT: return Mode::max_weight;
+    case v1::MODE_MAX_CARDINALITY: return Mode::max_cardinality;
+    case v1::MODE_PERFECT: return Mode::perfect;
+    default: return std::nullopt;
+  }
+}
+
+v1::PoolConfig to_wire(Mode mode, const PoolLimits& limits) {
+  v1::PoolConfig config;
+  config.set_mode(to_wire(mode));
+  config.mutable_limits()->set_max_vertices(limits.max_vertices);
+  config.mutable_limits()->set_max_edges(limits.max_edges);
+  config.mutable_limits()->set_max_abs_weight(static_cast<std::uint64_t>(limits.max_abs_weight));
+  return config;
+}
+
+std::optional<PoolLimits> from_wire(const v1::PoolLimits& wire) {
+  if (wire.max_abs_weight() > static_cast<std::uint64_t>(std::numeric_limits<Weight>::max())) {
+    return std::nullopt;
+  }
+  PoolLimits limits;
+  limits.max_vertices = wire.max_vertices();
+  limits.max_edges = wire.max_edges();
+  limits.max_abs_weight = static_cast<Weight>(wire.max_abs_weight());
+  return limits;
+}
+
+v1::Pair to_wire(const MatchedPair& pair) {
+  v1::Pair wire;
+  wire.set_a(pair.a);
+  wire.set_b(pair.b);
+  wire.set_weight(pair.w);
+  return wire;
+}
+
+v1::RepairStats to_wire(const RepairStats& stats) {
+  v1::RepairStats wire;
+  wire.set_events(stats.events);
+  wire.set_roots(stats.roots);
+  wire.set_searches(stats.searches);
+  wire.set_augmentations(stats.augmentations);
+  wire.set_blossoms_dissolved(stats.blossoms_dissolved);
+  wire.set_vertices_touched(stats.vertices_touched);
+  wire.set_initial_solve(stats.initial_solve);
+  return wire;
+}
+
+v1::Error::Code to_wire(EventErrorCode code) {
+  switch (code) {
+    case EventErrorCode::vertex_exists: return v1::Error::VERTEX_EXISTS;
+    case EventErrorCode::self_loop: return v1::Error::SELF_LOOP;
+    case EventErrorCode::weight_out_of_range: return v1::Error::WEIGHT_OUT_OF_RANGE;
+    case EventErrorCode::unknown_vertex: return v1::Error::UNKNOWN_VERTEX;
+    case EventErrorCode::unknown_edge: return v1::Error::UNKNOWN_EDGE;
+    case EventErrorCode::limit_exceeded: return v1::Error::POOL_LIMIT_EXCEEDED;
+  }
+  return v1::Error::INTERNAL;
+}
+
+v1::Error make_error(v1::Error::Code code, std::string message,
+                     std::optional<std::uint32_t> event_index) {
+  v1::Error error;
+  error.set_code(code);
+  error.set_message(std::move(message));
+  if (event_index) error.set_event_index(*event_index);
+  return error;
+}
+
+std::string error_code_name(v1::Error::Code code) { return v1::Error::Code_Name(code); }
+
+}  // namespace yoke::daemon
