@@ -1,0 +1,262 @@
+// yoke_daemon_bench: yoked under load on this machine over loopback TCP, with the bare ZeroMQ
+// figure for the same messages measured in the same run as the physical reference.
+//
+//   1. raw ZeroMQ: the stream's ingest messages through a DEALER -> ROUTER echo;
+//   2. sustained ingest: a city pool of --vertices loaded in one batch, then the stream's
+//      batches with --in-flight unacknowledged, every acknowledgement durable (group commit);
+//   3. latency: batches sent on a fixed schedule at --rate events per second, send-to-ack
+//      percentiles, and commit-to-publish percentiles from the published diffs;
+//   4. restart: a pool of --restart-edges edges, stopped cleanly (snapshot) and by SIGKILL
+//      after more batches (snapshot + journal), timed from exec to the first health answer.
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <chrono>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <iostream>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+#include <zmq.hpp>
+
+#include "ingest_load.h"
+#include "tools/bench/machine_facts.h"
+#include "tools/graphgen/event_stream.h"
+#include "yoke/v1/publish.pb.h"
+#include "yoked_process.h"
+
+namespace {
+
+using namespace yoke;
+using namespace yoke::bench;
+
+struct Settings {
+  std::string yoked = YOKE_YOKED_BINARY;
+  std::size_t vertices = 100000;
+  std::size_t events = 400000;
+  std::size_t batch = 100;
+  std::size_t in_flight = 256;
+  double rate = 20000;
+  double latency_seconds = 5;
+  std::size_t restart_edges = 1000000;
+  std::string mix = "bench";
+  bool quick = false;
+};
+
+std::filesystem::path make_work_dir() {
+  char pattern[] = "/tmp/yoke-daemon-bench-XXXXXX";
+  if (mkdtemp(pattern) == nullptr) throw std::runtime_error("cannot create a temp directory");
+  return pattern;
+}
+
+void write_config(const std::filesystem::path& file, const YokedEndpoints& endpoints) {
+  std::ofstream out(file);
+  out << "[endpoints]\n"
+      << "ingest = \"" << endpoints.ingest << "\"\n"
+      << "publish = \"" << endpoints.publish << "\"\n"
+      << "query = \"" << endpoints.query << "\"\n"
+      << "metrics = \"" << endpoints.metrics << "\"\n"
+      << "[limits]\nmax_message_bytes = 268435456\nmax_events_per_batch = 10000000\n"
+      << "[journal]\nmax_record_bytes = 268435456\n"
+      << "[logging]\nlevel = \"warn\"\n";
+}
+
+// The stream's base graph as one batch, then its batches.
+std::vector<std::vector<Event>> draw_stream(const gen::StreamSpec& spec) {
+  gen::EventStream stream(spec);
+  std::vector<std::vector<Event>> batches;
+  std::vector<Event> batch;
+  while (stream.next_batch(batch)) batches.push_back(batch);
+  return batches;
+}
+
+void print_latency(const char* what, const std::vector<double>& us) {
+  std::printf("%-34s p50 %9.0f us  p90 %9.0f us  p99 %9.0f us  max %9.0f us  (%zu)\n", what,
+              percentile(us, 50), percentile(us, 90), percentile(us, 99), percentile(us, 100),
+              us.size());
+}
+
+// Collects the commit_to_publish_us of every diff published while it runs.
+class DiffListener {
+ public:
+  DiffListener(zmq::context_t& context, const std::string& endpoint)
+      : socket_(context, zmq::socket_type::sub) {
+    socket_.set(zmq::sockopt::linger, 0);
+    socket_.set(zmq::sockopt::subscribe, "");
+    socket_.connect(endpoint);
+    thread_ = std::thread([this] { run(); });
+  }
+  std::vector<double> stop() {
+    stopping_ = true;
+    thread_.join();
+    return commit_to_publish_us_;
+  }
+
+ private:
+  void run() {
+    while (!stopping_) {
+      zmq::pollitem_t item{socket_.handle(), 0, ZMQ_POLLIN, 0};
+      if (zmq::poll(&item, 1, std::chrono::milliseconds(50)) <= 0) continue;
+      zmq::message_t topic, body;
+      (void)socket_.recv(topic);
+      (void)socket_.recv(body);
+      v1::Publication publication;
+      if (publication.ParseFromArray(body.data(), static_cast<int>(body.size()))) {
+        commit_to_publish_us_.push_back(
+            static_cast<double>(publication.diff().timings().commit_to_publish_us()));
+      }
+    }
+  }
+  zmq::socket_t socket_;
+  std::thread thread_;
+  std::atomic<bool> stopping_{false};
+  std::vector<double> commit_to_publish_us_;
+};
+
+int run(const Settings& settings) {
+  std::printf("yoke_daemon_bench: yoked over loopback TCP, durable acknowledgements (group commit)\n");
+  std::printf("machine: %s, %ld usable CPUs, load %s; source %s\n", cpu_model().c_str(),
+              usable_cpus(), load_average().c_str(), source_commit().c_str());
+  std::printf("settings: city pool of %zu vertices, %zu events in batches of %zu, mix %s, "
+              "%zu in flight, paced rate %.0f events/s\n\n",
+              settings.vertices, settings.events, settings.batch, settings.mix.c_str(),
+              settings.in_flight, settings.rate);
+
+  zmq::context_t context(1);
+  const std::filesystem::path work = make_work_dir();
+
+  gen::StreamSpec spec;
+  spec.family = gen::StreamFamily::city;
+  spec.vertices = settings.vertices;
+  spec.events = settings.events;
+  spec.batch_min = spec.batch_max = settings.batch;
+  spec.mix = gen::parse_mix(settings.mix);
+  spec.seed = 2026;
+  const std::vector<std::vector<Event>> stream = draw_stream(spec);
+  const std::vector<EncodedBatch> batches = encode_batches(stream, "bench", "city", 1);
+  const std::size_t paced_batches =
+      std::min<std::size_t>(batches.size() - 1,
+                            static_cast<std::size_t>(settings.rate * settings.latency_seconds /
+                                                     static_cast<double>(settings.batch)));
+  const std::size_t sustained_end = batches.size() - paced_batches;
+  std::size_t message_bytes = 0;
+  for (std::size_t i = 1; i < batches.size(); ++i) message_bytes += batches[i].bytes.size();
+  message_bytes /= std::max<std::size_t>(1, batches.size() - 1);
+
+  // 1. The physical reference: the same messages (the stream after its base graph).
+  const std::vector<EncodedBatch> reference_batches(batches.begin() + 1, batches.end());
+  const LoadResult raw = raw_zmq_reference(context, free_loopback_endpoints().ingest,
+                                           reference_batches, settings.in_flight, 40);
+
+  // 2. Sustained ingest.
+  const YokedEndpoints endpoints = free_loopback_endpoints();
+  const std::filesystem::path config = work / "yoked.toml";
+  write_config(config, endpoints);
+  YokedProcess daemon(settings.yoked, work / "data", config);
+  daemon.wait_ready(context, endpoints.query, std::chrono::seconds(30));
+  const LoadResult load = send_pipelined(context, endpoints.ingest, batches, 0, 1, 1);
+  const LoadResult sustained =
+      send_pipelined(context, endpoints.ingest, batches, 1, sustained_end, settings.in_flight);
+
+  // 3. Latency at a fixed offered load.
+  DiffListener listener(context, endpoints.publish);
+  std::this_thread::sleep_for(std::chrono::milliseconds(200));  // the subscription settles
+  const LoadResult paced =
+      send_paced(context, endpoints.ingest, batches, sustained_end, batches.size(),
+                 settings.rate / static_cast<double>(settings.batch));
+  std::this_thread::sleep_for(std::chrono::milliseconds(200));
+  const std::vector<double> publish_us = listener.stop();
+  daemon.stop(false);
+
+  std::printf("%-34s %12s %14s %12s\n", "", "batches/s", "events/s", "vs raw ZeroMQ");
+  std::printf("%-34s %12.0f %14.0f %12s\n", "raw ZeroMQ echo (same messages)",
+              raw.batches_per_second(), raw.events_per_second(), "1");
+  std::printf("%-34s %12.0f %14.0f %12.3f\n", "yoked sustained ingest", sustained.batches_per_second(),
+              sustained.events_per_second(),
+              sustained.events_per_second() / std::max(raw.events_per_second(), 1.0));
+  std::printf("  (message %zu bytes on average; base graph of %zu events loaded in %.2f s)\n\n",
+              message_bytes, load.events, load.seconds);
+  std::printf("at %.0f events/s offered for %.1f s (%zu batches of %zu):\n",
+              settings.rate, paced.seconds, paced.batches, settings.batch);
+  print_latency("  send to durable ack", paced.latency_us);
+  print_latency("  commit to publish (daemon side)", publish_us);
+  print_latency("  send to ack, sustained run", sustained.latency_us);
+
+  // 4. Restart of a larger pool.
+  gen::StreamSpec big = spec;
+  big.vertices = settings.restart_edges / 3;  // a city graph has about 3 edges per vertex
+  big.events = 20000;
+  const std::vector<std::vector<Event>> big_stream = draw_stream(big);
+  const std::vector<EncodedBatch> big_batches = encode_batches(big_stream, "bench", "big", 1);
+  const YokedEndpoints big_endpoints = free_loopback_endpoints();
+  write_config(config, big_endpoints);
+  const std::filesystem::path big_data = work / "big";
+  double first_ready = 0;
+  {
+    YokedProcess first(settings.yoked, big_data, config);
+    first_ready = first.wait_ready(context, big_endpoints.query, std::chrono::seconds(60)).count();
+    const LoadResult big_load = send_pipelined(context, big_endpoints.ingest, big_batches, 0, 1, 1);
+    std::printf("\nrestart pool: %zu events in its base graph, solved and journalled in %.2f s\n",
+                big_load.events, big_load.seconds);
+    first.stop(false);  // clean: final snapshot
+  }
+  YokedProcess clean(settings.yoked, big_data, config);
+  const double clean_ready =
+      clean.wait_ready(context, big_endpoints.query, std::chrono::seconds(120)).count();
+  send_pipelined(context, big_endpoints.ingest, big_batches, 1, big_batches.size(),
+                 settings.in_flight);
+  clean.stop(true);  // crash: the snapshot plus the journal after it
+  YokedProcess crashed(settings.yoked, big_data, config);
+  const double crash_ready =
+      crashed.wait_ready(context, big_endpoints.query, std::chrono::seconds(120)).count();
+  crashed.stop(false);
+  std::printf("%-34s %8.2f s (empty data directory)\n", "  start", first_ready);
+  std::printf("%-34s %8.2f s (from the shutdown snapshot)\n", "  restart after SIGTERM", clean_ready);
+  std::printf("%-34s %8.2f s (snapshot + %zu journalled batches)\n", "  restart after SIGKILL",
+              crash_ready, big_batches.size() - 1);
+
+  std::error_code ignored;
+  std::filesystem::remove_all(work, ignored);
+  return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  Settings settings;
+  CLI::App app("yoked under load over loopback TCP, against bare ZeroMQ in the same run",
+               "yoke_daemon_bench");
+  app.add_option("--yoked", settings.yoked, "The daemon binary")->capture_default_str();
+  app.add_option("--vertices", settings.vertices, "City pool size")->capture_default_str();
+  app.add_option("--events", settings.events, "Events after the base graph")->capture_default_str();
+  app.add_option("--batch", settings.batch, "Events per batch")->capture_default_str();
+  app.add_option("--in-flight", settings.in_flight, "Unacknowledged batches in the sustained run")
+      ->capture_default_str();
+  app.add_option("--rate", settings.rate, "Offered events per second in the latency run")
+      ->capture_default_str();
+  app.add_option("--latency-seconds", settings.latency_seconds, "Length of the latency run")
+      ->capture_default_str();
+  app.add_option("--restart-edges", settings.restart_edges, "Edges of the restart pool")
+      ->capture_default_str();
+  app.add_option("--mix", settings.mix, "Event mix (see yoke gen stream --help)")
+      ->capture_default_str();
+  app.add_flag("--quick", settings.quick, "Small sizes: a smoke run of every phase");
+  CLI11_PARSE(app, argc, argv);
+  if (settings.quick) {
+    settings.vertices = 2000;
+    settings.events = 20000;
+    settings.rate = 5000;
+    settings.latency_seconds = 1;
+    settings.restart_edges = 30000;
+  }
+  try {
+    return run(settings);
+  } catch (const std::exception& error) {
+    std::fprintf(stderr, "yoke_daemon_bench: %s\n", error.what());
+    return 1;
+  }
+}
