@@ -41,6 +41,7 @@ void read_snapshots(TomlTableReader& table, SnapshotSettings& out) {
   table.read("interval_seconds", std::uint64_t{1}, std::uint64_t{7 * 24 * 3600},
              out.interval_seconds);
   table.read("keep", std::uint64_t{1}, std::uint64_t{1000}, out.keep);
+  table.read("after_events", std::uint64_t{0}, std::uint64_t{1} << 40, out.after_events);
   table.finish();
 }
 

@@ -31,6 +31,9 @@ struct BatchingSettings {
 struct SnapshotSettings {
   std::uint64_t interval_seconds = 300;
   std::uint64_t keep = 2;  // newest snapshots kept; older ones are the fallback for a bad one
+  // Also a snapshot once this many events were journalled since the last one (0: timer
+  // only): bounds what a restart after a crash must replay.
+  std::uint64_t after_events = 200000;
 };
 
 // What one client message may carry.

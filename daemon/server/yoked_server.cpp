@@ -190,6 +190,7 @@ void YokedServer::close_window() {
   }
   if (service_.window_empty()) return;
   const Clock::time_point closed = Clock::now();
+  events_since_snapshot_ += service_.window_events();
   std::vector<std::pair<Ticket, v1::Ack>> acks;
   try {
     acks = service_.seal();
@@ -217,6 +218,15 @@ void YokedServer::close_window() {
   for (v1::Diff& diff : diffs) {
     metrics_->committed(diff);
     publish(diff, closed);
+  }
+  if (config_.snapshots.after_events > 0 &&
+      events_since_snapshot_ >= config_.snapshots.after_events) {
+    try {
+      take_snapshot();
+    } catch (const std::exception& failure) {
+      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+      events_since_snapshot_ = 0;  // try again after as many events, not after every window
+    }
   }
 }
 
@@ -257,6 +267,7 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
     throw std::runtime_error("no snapshot after a journal failure");
   }
   const Clock::time_point start = Clock::now();
+  events_since_snapshot_ = 0;
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
   const std::filesystem::path path = snapshots_.write(service_.next_journal_seq(), records);
   v1::SnapshotTaken taken;

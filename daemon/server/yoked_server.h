@@ -80,6 +80,7 @@ class YokedServer {
   std::unique_ptr<metrics::HttpEndpoint> http_;
 
   bool window_timer_armed_ = false;
+  std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   Ticket next_ticket_ = 1;
   std::map<Ticket, Envelope> waiting_;  // peers whose acknowledgement waits for the window
   std::chrono::steady_clock::time_point started_;

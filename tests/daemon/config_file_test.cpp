@@ -30,6 +30,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.journal.max_record_bytes, b.journal.max_record_bytes);
   EXPECT_EQ(a.snapshots.interval_seconds, b.snapshots.interval_seconds);
   EXPECT_EQ(a.snapshots.keep, b.snapshots.keep);
+  EXPECT_EQ(a.snapshots.after_events, b.snapshots.after_events);
   EXPECT_EQ(a.limits.max_message_bytes, b.limits.max_message_bytes);
   EXPECT_EQ(a.limits.max_events_per_batch, b.limits.max_events_per_batch);
   expect_same_pool(a.pool_defaults, b.pool_defaults);
@@ -89,6 +90,7 @@ max_record_bytes = 8388608
 [snapshots]
 interval_seconds = 60
 keep = 5
+after_events = 0
 [limits]
 max_message_bytes = 65536
 max_events_per_batch = 500
@@ -114,6 +116,7 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.journal.max_record_bytes, 8388608u);
   EXPECT_EQ(config.snapshots.interval_seconds, 60u);
   EXPECT_EQ(config.snapshots.keep, 5u);
+  EXPECT_EQ(config.snapshots.after_events, 0u);
   EXPECT_EQ(config.limits.max_message_bytes, 65536u);
   EXPECT_EQ(config.limits.max_events_per_batch, 500u);
   EXPECT_EQ(config.pool_defaults.mode, Mode::perfect);
