@@ -50,6 +50,7 @@ void read_limits(TomlTableReader& table, InputLimits& out) {
              out.max_message_bytes);
   table.read("max_events_per_batch", std::uint64_t{1}, std::uint64_t{10'000'000},
              out.max_events_per_batch);
+  table.read("max_pools", std::uint64_t{1}, std::uint64_t{1'000'000}, out.max_pools);
   table.finish();
 }
 

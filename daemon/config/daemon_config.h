@@ -40,6 +40,7 @@ struct SnapshotSettings {
 struct InputLimits {
   std::uint64_t max_message_bytes = std::uint64_t{4} << 20;
   std::uint64_t max_events_per_batch = 100000;
+  std::uint64_t max_pools = 10000;  // a batch naming a new pool past this is refused
 };
 
 struct DaemonConfig {

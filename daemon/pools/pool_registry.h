@@ -29,6 +29,7 @@ class PoolRegistry {
   void put(const std::string& name, std::unique_ptr<Pool> pool);
   // Names of the existing pools, sorted.
   std::vector<std::string> names() const;
+  std::size_t size() const { return pools_.size(); }
   const PoolSettings& settings_for(const std::string& name) const;
 
  private:

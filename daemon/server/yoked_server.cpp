@@ -331,6 +331,11 @@ void YokedServer::shut_down(int status) {
   }
   stopping_ = true;
   exit_status_ = status;
+  // The last window's acknowledgements and diffs may still sit in ZeroMQ's queues: give them a
+  // moment to leave when the sockets close (a lost ack only costs the client a retry).
+  for (zmq::socket_t* socket : {&ingest_, &publisher_, &query_}) {
+    socket->set(zmq::sockopt::linger, 1000);
+  }
   signals_.cancel();
   window_timer_.cancel();
   snapshot_timer_.cancel();

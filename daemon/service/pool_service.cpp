@@ -58,6 +58,12 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
 
+  if (state_.registry.find(batch.pool) == nullptr && state_.registry.size() >= limits_.max_pools) {
+    return refuse(rejected(batch, make_error(v1::Error::UNKNOWN_POOL,
+                                             "pool " + batch.pool + " may not be created: the " +
+                                                 "daemon holds its limit of " +
+                                                 std::to_string(limits_.max_pools) + " pools")));
+  }
   Pool& pool = state_.registry.pool(batch.pool);
   state_.progress.try_emplace(batch.pool);
   if (!batch.client_id.empty()) {

@@ -87,7 +87,15 @@ ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
       if (journal.first_seq() > candidate) {
         throw SnapshotDamage("the journal no longer holds the records after it");
       }
-      load_snapshot(read_snapshot_file(snapshots.path_for(candidate)), state);
+      const std::filesystem::path path = snapshots.path_for(candidate);
+      const SnapshotContents contents = read_snapshot_file(path);
+      // The journal is replayed from the name's position: a header that says otherwise (a
+      // file copied under another name) would skip or repeat records.
+      if (contents.journal_seq != candidate) {
+        throw SnapshotDamage("snapshot " + path.string() + " holds journal position " +
+                             std::to_string(contents.journal_seq) + ", not the one its name says");
+      }
+      load_snapshot(contents, state);
       position = candidate;
       report.snapshot = candidate;
       break;

@@ -33,6 +33,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.snapshots.after_events, b.snapshots.after_events);
   EXPECT_EQ(a.limits.max_message_bytes, b.limits.max_message_bytes);
   EXPECT_EQ(a.limits.max_events_per_batch, b.limits.max_events_per_batch);
+  EXPECT_EQ(a.limits.max_pools, b.limits.max_pools);
   expect_same_pool(a.pool_defaults, b.pool_defaults);
   ASSERT_EQ(a.pools.size(), b.pools.size());
   for (const auto& [name, settings] : a.pools) {
@@ -94,6 +95,7 @@ after_events = 0
 [limits]
 max_message_bytes = 65536
 max_events_per_batch = 500
+max_pools = 3
 [pool_defaults]
 mode = "perfect"
 max_vertices = 1000
@@ -119,6 +121,7 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.snapshots.after_events, 0u);
   EXPECT_EQ(config.limits.max_message_bytes, 65536u);
   EXPECT_EQ(config.limits.max_events_per_batch, 500u);
+  EXPECT_EQ(config.limits.max_pools, 3u);
   EXPECT_EQ(config.pool_defaults.mode, Mode::perfect);
   // A declared pool starts from [pool_defaults], wherever the tables sit in the file.
   const PoolSettings& night = config.pools.at("night-shift");
