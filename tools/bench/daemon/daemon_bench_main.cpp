@@ -8,6 +8,7 @@
 //      percentiles, and commit-to-publish percentiles from the published diffs;
 //   4. restart: a pool of --restart-edges edges, stopped cleanly (snapshot) and by SIGKILL
 //      after more batches (snapshot + journal), timed from exec to the first health answer.
+#include <fcntl.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -44,6 +45,7 @@ struct Settings {
   double latency_seconds = 5;
   std::size_t restart_edges = 1000000;
   std::string mix = "bench";
+  std::string durability = "group";
   bool quick = false;
 };
 
@@ -53,7 +55,8 @@ std::filesystem::path make_work_dir() {
   return pattern;
 }
 
-void write_config(const std::filesystem::path& file, const YokedEndpoints& endpoints) {
+void write_config(const std::filesystem::path& file, const YokedEndpoints& endpoints,
+                  const std::string& durability) {
   std::ofstream out(file);
   out << "[endpoints]\n"
       << "ingest = \"" << endpoints.ingest << "\"\n"
@@ -61,7 +64,7 @@ void write_config(const std::filesystem::path& file, const YokedEndpoints& endpo
       << "query = \"" << endpoints.query << "\"\n"
       << "metrics = \"" << endpoints.metrics << "\"\n"
       << "[limits]\nmax_message_bytes = 268435456\nmax_events_per_batch = 10000000\n"
-      << "[journal]\nmax_record_bytes = 268435456\n"
+      << "[journal]\nmax_record_bytes = 268435456\ndurability = \"" << durability << "\"\n"
       << "[logging]\nlevel = \"warn\"\n";
 }
 
@@ -78,6 +81,28 @@ void print_latency(const char* what, const std::vector<double>& us) {
   std::printf("%-34s p50 %9.0f us  p90 %9.0f us  p99 %9.0f us  max %9.0f us  (%zu)\n", what,
               percentile(us, 50), percentile(us, 90), percentile(us, 99), percentile(us, 100),
               us.size());
+}
+
+// The disk's floor under a durable acknowledgement: one 4 KiB append and fdatasync, timed.
+std::vector<double> fsync_probe(const std::filesystem::path& dir, int rounds) {
+  const std::filesystem::path file = dir / "fsync-probe";
+  const int fd = ::open(file.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd < 0) throw std::runtime_error("cannot open " + file.string());
+  const std::string block(4096, 'y');
+  std::vector<double> us;
+  for (int i = 0; i < rounds; ++i) {
+    const auto start = std::chrono::steady_clock::now();
+    if (::write(fd, block.data(), block.size()) != static_cast<ssize_t>(block.size()) ||
+        ::fdatasync(fd) != 0) {
+      ::close(fd);
+      throw std::runtime_error("cannot write " + file.string());
+    }
+    us.push_back(std::chrono::duration<double, std::micro>(std::chrono::steady_clock::now() - start)
+                     .count());
+  }
+  ::close(fd);
+  std::filesystem::remove(file);
+  return us;
 }
 
 // Collects the commit_to_publish_us of every diff published while it runs.
@@ -118,7 +143,8 @@ class DiffListener {
 };
 
 int run(const Settings& settings) {
-  std::printf("yoke_daemon_bench: yoked over loopback TCP, durable acknowledgements (group commit)\n");
+  std::printf("yoke_daemon_bench: yoked over loopback TCP, journal durability %s\n",
+              settings.durability.c_str());
   std::printf("machine: %s, %ld usable CPUs, load %s; source %s\n", cpu_model().c_str(),
               usable_cpus(), load_average().c_str(), source_commit().c_str());
   std::printf("settings: city pool of %zu vertices, %zu events in batches of %zu, mix %s, "
@@ -155,7 +181,7 @@ int run(const Settings& settings) {
   // 2. Sustained ingest.
   const YokedEndpoints endpoints = free_loopback_endpoints();
   const std::filesystem::path config = work / "yoked.toml";
-  write_config(config, endpoints);
+  write_config(config, endpoints, settings.durability);
   YokedProcess daemon(settings.yoked, work / "data", config);
   daemon.wait_ready(context, endpoints.query, std::chrono::seconds(30));
   const LoadResult load = send_pipelined(context, endpoints.ingest, batches, 0, 1, 1);
@@ -182,9 +208,10 @@ int run(const Settings& settings) {
               message_bytes, load.events, load.seconds);
   std::printf("at %.0f events/s offered for %.1f s (%zu batches of %zu):\n",
               settings.rate, paced.seconds, paced.batches, settings.batch);
-  print_latency("  send to durable ack", paced.latency_us);
+  print_latency("  send to ack", paced.latency_us);
   print_latency("  commit to publish (daemon side)", publish_us);
   print_latency("  send to ack, sustained run", sustained.latency_us);
+  print_latency("  disk: 4 KiB write + fdatasync", fsync_probe(work, settings.quick ? 20 : 200));
 
   // 4. Restart of a larger pool.
   gen::StreamSpec big = spec;
@@ -193,7 +220,7 @@ int run(const Settings& settings) {
   const std::vector<std::vector<Event>> big_stream = draw_stream(big);
   const std::vector<EncodedBatch> big_batches = encode_batches(big_stream, "bench", "big", 1);
   const YokedEndpoints big_endpoints = free_loopback_endpoints();
-  write_config(config, big_endpoints);
+  write_config(config, big_endpoints, settings.durability);
   const std::filesystem::path big_data = work / "big";
   double first_ready = 0;
   {
@@ -243,6 +270,10 @@ int main(int argc, char** argv) {
   app.add_option("--restart-edges", settings.restart_edges, "Edges of the restart pool")
       ->capture_default_str();
   app.add_option("--mix", settings.mix, "Event mix (see yoke gen stream --help)")
+      ->capture_default_str();
+  app.add_option("--durability", settings.durability,
+                 "The journal's durability: group (fsync per window), every-batch or none")
+      ->check(CLI::IsMember({"group", "every-batch", "none"}))
       ->capture_default_str();
   app.add_flag("--quick", settings.quick, "Small sizes: a smoke run of every phase");
   CLI11_PARSE(app, argc, argv);
