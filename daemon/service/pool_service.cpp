@@ -58,14 +58,21 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
 
-  if (state_.registry.find(batch.pool) == nullptr && state_.registry.size() >= limits_.max_pools) {
-    return refuse(rejected(batch, make_error(v1::Error::UNKNOWN_POOL,
-                                             "pool " + batch.pool + " may not be created: the " +
-                                                 "daemon holds its limit of " +
-                                                 std::to_string(limits_.max_pools) + " pools")));
+  // A pool named for the first time is made aside and kept only if the batch is accepted: a
+  // refusal changes nothing, not even the pools there are (nor their count, for max_pools).
+  Pool* pool = state_.registry.find(batch.pool);
+  std::unique_ptr<Pool> created;
+  if (pool == nullptr) {
+    if (state_.registry.size() >= limits_.max_pools) {
+      return refuse(rejected(batch, make_error(v1::Error::UNKNOWN_POOL,
+                                               "pool " + batch.pool + " may not be created: the " +
+                                                   "daemon holds its limit of " +
+                                                   std::to_string(limits_.max_pools) + " pools")));
+    }
+    const PoolSettings& settings = state_.registry.settings_for(batch.pool);
+    created = std::make_unique<Pool>(settings.mode, settings.limits);
+    pool = created.get();
   }
-  Pool& pool = state_.registry.pool(batch.pool);
-  state_.progress.try_emplace(batch.pool);
   if (!batch.client_id.empty()) {
     const RetryVerdict verdict =
         state_.ledger.classify(batch.pool, batch.client_id, batch.client_batch);
@@ -83,11 +90,14 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
     }
   }
 
-  WindowPool& in_window = window_pool(batch.pool, pool);
+  WindowPool& in_window = window_pool(batch.pool, *pool);
   if (auto error = in_window.checker.accept(batch.events)) {
+    if (created) window_pools_.erase(batch.pool);  // its checker reads the pool dropped here
     return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
                                              static_cast<std::uint32_t>(error->index))));
   }
+  if (created) state_.registry.put(batch.pool, std::move(created));  // the checker's pool stays
+  state_.progress.try_emplace(batch.pool);
   const std::uint64_t seq = in_window.next_seq++;
   if (!batch.client_id.empty()) {
     // Recorded now, before it is durable: a retry arriving within this window must be seen as
@@ -113,7 +123,8 @@ std::optional<v1::Ack> PoolService::answer_retry(Ticket ticket, const DecodedBat
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
   auto it = window_pools_.find(name);
   if (it == window_pools_.end()) {
-    const std::uint64_t seq = state_.progress[name].seq;
+    const auto progress = state_.progress.find(name);
+    const std::uint64_t seq = progress == state_.progress.end() ? 0 : progress->second.seq;
     it = window_pools_.emplace(name, WindowPool{seq, seq + 1, BatchChecker(pool)}).first;
   }
   return it->second;
