@@ -80,6 +80,9 @@ class BatchChecker::Overlay {
       case EventKind::set_edge:
         return check_set(event);
       case EventKind::unset_edge:
+        if (event.u == event.v) {
+          return Refusal{EventErrorCode::self_loop, "self loop at vertex " + text(event.u)};
+        }
         for (const VertexKey end : {event.u, event.v}) {
           if (!exists(end)) {
             return Refusal{EventErrorCode::unknown_vertex,

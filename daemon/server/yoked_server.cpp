@@ -109,6 +109,8 @@ int YokedServer::run() {
   });
   ingest_watcher_->start();
   query_watcher_->start();
+  const std::vector<std::uint64_t> kept = snapshots_.positions();
+  if (!kept.empty()) last_snapshot_position_ = kept.front();
   arm_snapshot_timer();
   log_event(LogLevel::info, "serving",
             {{"ingest", config_.endpoints.ingest},
@@ -270,6 +272,7 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   events_since_snapshot_ = 0;
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
   const std::filesystem::path path = snapshots_.write(service_.next_journal_seq(), records);
+  last_snapshot_position_ = service_.next_journal_seq();
   v1::SnapshotTaken taken;
   taken.set_path(path.string());
   for (const v1::SnapshotRecord& record : records) {
@@ -296,7 +299,10 @@ void YokedServer::arm_snapshot_timer() {
   snapshot_timer_.async_wait([this](const boost::system::error_code& error) {
     if (error || stopping_) return;
     try {
-      take_snapshot();
+      // Idle since the last snapshot: the newest file already holds this state.
+      if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_seq()) {
+        take_snapshot();
+      }
     } catch (const std::exception& failure) {
       // The journal still holds everything: a failed snapshot costs restart time, not data.
       log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});

@@ -81,6 +81,7 @@ class YokedServer {
 
   bool window_timer_armed_ = false;
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
+  std::uint64_t last_snapshot_position_ = 0;  // journal position of the newest snapshot file
   Ticket next_ticket_ = 1;
   std::map<Ticket, Envelope> waiting_;  // peers whose acknowledgement waits for the window
   std::chrono::steady_clock::time_point started_;

@@ -303,6 +303,8 @@ TEST(PoolCheck, RejectsBadBatchesAndChangesNothing) {
         {"add twice", {add(x), set(x, a, 1), add(x)}, 2, EventErrorCode::vertex_exists},
         {"self loop", {set(a, a, 3)}, 0, EventErrorCode::self_loop},
         {"self loop at a new vertex", {set(x, x, 3)}, 0, EventErrorCode::self_loop},
+        {"unset of a self loop", {unset(a, a)}, 0, EventErrorCode::self_loop},
+        {"unset of a self loop at an unknown vertex", {unset(x, x)}, 0, EventErrorCode::self_loop},
         {"weight above the bound", {set(a, b, 1), set(a, c, max + 1)}, 1, EventErrorCode::weight_out_of_range},
         {"weight below the bound", {set(a, c, -max - 1)}, 0, EventErrorCode::weight_out_of_range},
         {"largest int64 weight", {set(x, y, kHighest)}, 0, EventErrorCode::weight_out_of_range},

@@ -8,9 +8,12 @@
 #include "cli_error.h"
 #include "engine/types.h"
 #include "gen_command.h"
+#include "query_command.h"
 #include "replay_command.h"
+#include "send_command.h"
 #include "solve_command.h"
 #include "verify_command.h"
+#include "watch_command.h"
 
 namespace {
 
@@ -19,8 +22,9 @@ using namespace yoke::cli;
 constexpr const char* kExitCodesHelp =
     "Exit codes: 0 done; 1 verify rejected the certificate, or replay --verify found a commit\n"
     "whose certificate fails; 2 error in the invocation or the input (the message names\n"
-    "FILE:LINE; for replay also a batch the pool rejects); 3 solve --mode perfect found no\n"
-    "perfect matching.";
+    "FILE:LINE; for replay also a batch the pool rejects; for send, query and watch also an\n"
+    "error the daemon answered); 3 solve --mode perfect found no perfect matching; 4 send,\n"
+    "query or watch got no answer from the daemon in time (send: after its retries).";
 
 int report_usage_error(const CLI::App& app, const CLI::ParseError& error) {
   if (error.get_exit_code() == 0) return app.exit(error);  // --help, --version
@@ -29,9 +33,9 @@ int report_usage_error(const CLI::App& app, const CLI::ParseError& error) {
   return kExitError;
 }
 
-int report_error(const char* kind, const char* message) {
+int report_error(const char* kind, const char* message, int exit_code = kExitError) {
   std::cerr << "error: " << kind << message << "\n";
-  return kExitError;
+  return exit_code;
 }
 
 }  // namespace
@@ -49,10 +53,16 @@ int main(int argc, char** argv) {
   VerifyOptions verify_options;
   GenOptions gen_options;
   ReplayOptions replay_options;
+  SendOptions send_options;
+  WatchOptions watch_options;
+  QueryOptions query_options;
   const CLI::App* solve = add_solve_command(app, solve_options);
   const CLI::App* verify = add_verify_command(app, verify_options);
   const CLI::App* gen = add_gen_command(app, gen_options);
   const CLI::App* replay = add_replay_command(app, replay_options);
+  const CLI::App* send = add_send_command(app, send_options);
+  const CLI::App* watch = add_watch_command(app, watch_options);
+  const CLI::App* query = add_query_command(app, query_options);
 
   try {
     app.parse(argc, argv);
@@ -65,7 +75,12 @@ int main(int argc, char** argv) {
     if (verify->parsed()) return run_verify(verify_options);
     if (gen->parsed()) return run_gen(gen_options);
     if (replay->parsed()) return run_replay(replay_options);
+    if (send->parsed()) return run_send(send_options);
+    if (watch->parsed()) return run_watch(watch_options);
+    if (query->parsed()) return run_query(query_options);
     return report_error("", "no command given");
+  } catch (const UnavailableError& error) {
+    return report_error("", error.what(), kExitUnavailable);
   } catch (const CliError& error) {
     return report_error("", error.what());
   } catch (const yoke::InputError& error) {

@@ -4,6 +4,8 @@
 #include <charconv>
 #include <chrono>
 #include <cmath>
+#include <filesystem>
+#include <span>
 #include <iostream>
 #include <optional>
 #include <set>
@@ -16,6 +18,7 @@
 #include "engine/pool.h"
 #include "event_script.h"
 #include "file_io.h"
+#include "journal_commits.h"
 
 namespace yoke::cli {
 namespace {
@@ -32,6 +35,7 @@ constexpr const char* kScriptHelp =
     "is applied.\n"
     "Output, per commit I (from 1):\n"
     "  commit I weight W pairs K repair_us T\n"
+    "  (from a journal directory the line ends in `seq S`, the daemon's sequence number)\n"
     "  note commit I: no perfect matching (K pairs for N vertices)    [perfect mode]\n"
     "  - A B / + A B    pairs removed, then added (A < B, sorted)     [--diffs]\n"
     "and after the last commit with --stats:\n"
@@ -73,6 +77,11 @@ Pool make_pool(Mode mode, const EventScript& script, const std::string& path) {
 // --verify: the diffs must add up to the certificate's matching, and the certificate must hold.
 class CommitVerifier {
  public:
+  // The matching the later diffs apply to, when the replay does not start from empty.
+  void start_from(const std::vector<MatchedPair>& pairs) {
+    for (const MatchedPair& pair : pairs) matched_.insert({pair.a, pair.b});
+  }
+
   // The reason the commit fails verification, or nothing.
   std::optional<std::string> check(const Pool& pool, const CommitResult& result) {
     if (auto problem = apply_diff(result.diff)) return problem;
@@ -183,7 +192,8 @@ void print_diff(std::ostream& out, const MatchingDiff& diff) {
 CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
   CLI::App* command = app.add_subcommand(
       "replay", "Replay an event script through an incremental pool, one line per commit");
-  command->add_option("SCRIPT", options.script_path, "Event-script file, or - for stdin")
+  command->add_option("SCRIPT", options.script_path,
+                      "Event-script file, - for stdin, or a yoked data or journal directory")
       ->required();
   command->add_option("--mode", options.mode, "What to optimise")
       ->check(CLI::IsMember({"max-weight", "max-cardinality", "perfect"}))
@@ -192,53 +202,113 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
                     "Check the optimality certificate after every commit (exit 1 if one fails)");
   command->add_flag("--stats", options.stats, "Print summary lines after the last commit");
   command->add_flag("--diffs", options.diffs, "Print the pairs each commit removed and added");
+  command->add_option("--pool", options.pool,
+                      "Which pool of a journal directory to replay (--mode is then the pool's own)")
+      ->capture_default_str();
   command->footer(kScriptHelp);
   return command;
 }
 
-int run_replay(const ReplayOptions& options) {
-  const Mode mode = parse_mode(options.mode);
-  const EventScript script = load_event_script(options.script_path);
-  Pool pool = make_pool(mode, script, options.script_path);
-  CommitVerifier verifier;
-  ReplayStats stats;
-  std::ostream& out = std::cout;
+namespace {
 
-  std::uint64_t index = 0;
-  for (const ScriptBatch& batch : script.batches) {
-    ++index;
-    if (const auto rejected = pool.check(batch.events)) {
-      throw CliError(display_name(options.script_path) + ":" +
-                     std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
-    }
+// The commit loop both sources share: repair, print, and optionally verify and count.
+class ReplayRun {
+ public:
+  ReplayRun(const ReplayOptions& options, std::ostream& out) : options_(options), out_(out) {}
+
+  // Commits one batch (already checked) and prints its lines. Returns kExitCertificateRejected
+  // when --verify finds the certificate failing (the message is on stderr), else nothing.
+  // `seq`: the daemon's sequence number after this commit, printed for journal replays.
+  std::optional<int> commit(Pool& pool, std::span<const Event> events,
+                            std::optional<std::uint64_t> seq = std::nullopt) {
+    ++index_;
     const auto start = std::chrono::steady_clock::now();
-    const CommitResult result = pool.commit(batch.events);
+    const CommitResult result = pool.commit(events);
     const auto repair_ns = static_cast<std::uint64_t>(
         std::chrono::duration_cast<std::chrono::nanoseconds>(std::chrono::steady_clock::now() -
                                                              start)
             .count());
 
-    out << "commit " << index << " weight " << result.weight << " pairs " << result.pairs
-        << " repair_us " << repair_ns / 1000 << '\n';
+    out_ << "commit " << index_ << " weight " << result.weight << " pairs " << result.pairs
+         << " repair_us " << repair_ns / 1000;
+    if (seq) out_ << " seq " << *seq;
+    out_ << '\n';
     if (result.status == SolveStatus::no_perfect_matching) {
-      out << "note commit " << index << ": no perfect matching (" << result.pairs
-          << " pairs for " << pool.vertex_count() << " vertices)\n";
+      out_ << "note commit " << index_ << ": no perfect matching (" << result.pairs
+           << " pairs for " << pool.vertex_count() << " vertices)\n";
     }
-    if (options.diffs) print_diff(out, result.diff);
-    if (options.stats) stats.record(result, batch.events.size(), repair_ns);
-    if (options.verify) {
-      if (const auto failure = verifier.check(pool, result)) {
-        out.flush();
-        std::cerr << "error: commit " << index << ": certificate check failed: " << *failure
+    if (options_.diffs) print_diff(out_, result.diff);
+    if (options_.stats) stats_.record(result, events.size(), repair_ns);
+    if (options_.verify) {
+      if (const auto failure = verifier_.check(pool, result)) {
+        out_.flush();
+        std::cerr << "error: commit " << index_ << ": certificate check failed: " << *failure
                   << "\n";
         return kExitCertificateRejected;
       }
     }
+    return std::nullopt;
   }
-  if (options.stats) stats.print(out);
-  out.flush();
-  if (!out) throw CliError("cannot write the result to stdout");
-  return kExitOk;
+
+  // After a snapshot start: the diffs of later commits apply to the restored matching.
+  void start_from(const Pool& pool) { verifier_.start_from(pool.matching()); }
+
+  int finish() {
+    if (options_.stats) stats_.print(out_);
+    out_.flush();
+    if (!out_) throw CliError("cannot write the result to stdout");
+    return kExitOk;
+  }
+
+ private:
+  const ReplayOptions& options_;
+  std::ostream& out_;
+  CommitVerifier verifier_;
+  ReplayStats stats_;
+  std::uint64_t index_ = 0;
+};
+
+int run_script_replay(const ReplayOptions& options) {
+  const Mode mode = parse_mode(options.mode);
+  const EventScript script = load_event_script(options.script_path);
+  Pool pool = make_pool(mode, script, options.script_path);
+  ReplayRun run(options, std::cout);
+  for (const ScriptBatch& batch : script.batches) {
+    if (const auto rejected = pool.check(batch.events)) {
+      throw CliError(display_name(options.script_path) + ":" +
+                     std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
+    }
+    if (const auto failed = run.commit(pool, batch.events)) return *failed;
+  }
+  return run.finish();
+}
+
+int run_journal_replay(const ReplayOptions& options) {
+  JournalCommits journal(options.script_path, options.pool);
+  std::unique_ptr<Pool> pool = journal.start();
+  ReplayRun run(options, std::cout);
+  if (const auto snapshot = journal.snapshot_seq()) {
+    std::cout << "note starting from the snapshot at seq " << *snapshot << "\n";
+    run.start_from(*pool);
+  }
+  while (const daemon::CommitGroup* group = journal.next()) {
+    if (const auto rejected = pool->check(group->events)) {
+      throw CliError(options.script_path + ": pool " + options.pool + " seq " +
+                     std::to_string(group->records.front().seq()) + ": the journal holds an event " +
+                     "that does not apply: " + rejected->message);
+    }
+    if (const auto failed = run.commit(*pool, group->events, group->records.back().seq())) {
+      return *failed;
+    }
+  }
+  return run.finish();
+}
+
+}  // namespace
+
+int run_replay(const ReplayOptions& options) {
+  if (std::filesystem::is_directory(options.script_path)) return run_journal_replay(options);
+  return run_script_replay(options);
 }
 
 }  // namespace yoke::cli

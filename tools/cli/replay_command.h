@@ -30,6 +30,7 @@ struct ReplayOptions {
   bool verify = false;  // check the certificate after every commit
   bool stats = false;   // summary lines at the end
   bool diffs = false;   // the pairs each commit removed and added
+  std::string pool = "default";  // which pool of a journal directory
 };
 
 CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);

@@ -1,0 +1,32 @@
+// The options `yoke send`, `yoke query` and `yoke watch` share: the pool, the daemon's
+// endpoints (defaults of DESIGN.md section 6, the same as yoked's) and a timeout.
+#pragma once
+
+#include <cstdint>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+namespace yoke::cli {
+
+inline constexpr const char* kDefaultPool = "default";
+inline constexpr const char* kDefaultIngestEndpoint = "tcp://127.0.0.1:7410";
+inline constexpr const char* kDefaultPublishEndpoint = "tcp://127.0.0.1:7411";
+inline constexpr const char* kDefaultQueryEndpoint = "tcp://127.0.0.1:7412";
+
+// Rejects an empty value: an empty pool would mean "default" on the wire but subscribe to
+// every pool, and an empty client id would turn off the daemon's retry protection.
+extern const CLI::Validator kNotEmpty;
+
+// --pool P.
+CLI::Option* add_pool_option(CLI::App& command, std::string& pool);
+
+// `flag` ENDPOINT; `socket` says which of the daemon's sockets it reaches, for the help.
+CLI::Option* add_endpoint_option(CLI::App& command, const std::string& flag,
+                                 std::string& endpoint, const std::string& socket);
+
+// --timeout-ms T, a whole number of milliseconds; `allow_zero` when 0 means "no timeout".
+CLI::Option* add_timeout_option(CLI::App& command, std::uint64_t& timeout_ms,
+                                const std::string& description, bool allow_zero);
+
+}  // namespace yoke::cli

@@ -1,0 +1,43 @@
+// `yoke query KIND [--pool P] [--query ENDPOINT] [--vertex V] [--limit K] [--all-pools]
+// [--timeout-ms T]`: asks yoked's query socket one question and prints the answer as one JSON
+// object (layouts in proto_json.h). KIND is one of
+//
+//     summary    seq, weight, pairs, vertices, edges, mode, no_perfect_matching
+//     mate       --vertex V: its mate (null when exposed) and the pair's weight
+//     matching   every pair as [a, b, weight], with the seq they describe
+//     explain    --vertex V [--limit K]: its doubled dual and its nearest alternatives
+//     stats      the pool's counters, limits and last repair
+//     snapshot   write a snapshot now (--all-pools: of every pool)
+//     health     whether the daemon serves
+//
+// A reply of kind error is printed as "error: CODE_NAME: message" (exit 2); no reply within
+// the timeout is exit 4.
+#pragma once
+
+#include <cstdint>
+#include <optional>
+#include <string>
+
+#include <CLI/CLI.hpp>
+
+#include "client_options.h"
+
+namespace yoke::cli {
+
+struct QueryOptions {
+  std::string kind;
+  std::string pool = kDefaultPool;
+  std::string endpoint = kDefaultQueryEndpoint;
+  std::optional<std::uint64_t> vertex;  // mate and explain
+  std::uint32_t limit = 0;              // explain: alternatives at most; 0 the daemon's default
+  bool all_pools = false;               // snapshot
+  std::uint64_t timeout_ms = 5000;
+};
+
+CLI::App* add_query_command(CLI::App& app, QueryOptions& options);
+
+// Returns kExitOk. Throws CliError for an option that does not fit KIND, for a reply of kind
+// error ("CODE_NAME: message") or one of the wrong kind, UnavailableError when no reply comes.
+int run_query(const QueryOptions& options);
+
+}  // namespace yoke::cli

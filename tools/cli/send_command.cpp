@@ -1,0 +1,190 @@
+#include "send_command.h"
+
+#include <unistd.h>
+
+#include <array>
+#include <chrono>
+#include <iostream>
+
+#include "batch_sender.h"
+#include "cli_error.h"
+#include "event_script.h"
+#include "file_io.h"
+#include "number_options.h"
+#include "proto_json.h"
+#include "yoke/v1/ingest.pb.h"
+
+namespace yoke::cli {
+namespace {
+
+constexpr const char* kSendHelp =
+    "The script is the one `yoke replay` reads (see `yoke replay --help`); each commit is sent\n"
+    "as one batch, and events after the last commit as one more. Up to --in-flight batches\n"
+    "wait for their acknowledgement at once. A batch the daemon refuses with OUT_OF_ORDER or\n"
+    "UNAVAILABLE, or does not acknowledge within --timeout-ms, is sent again with every\n"
+    "unacknowledged batch after it, under the same numbers (the daemon applies each once), at\n"
+    "most --retries times. Output once every batch is acknowledged:\n"
+    "  {\"pool\":P,\"batches\":N,\"events\":E,\"first_seq\":S1,\"last_seq\":S2,\"duplicates\":D}\n"
+    "Exit codes: 0 all acknowledged; 2 a malformed script, or a batch the daemon rejects\n"
+    "(FILE:LINE names its event); 4 no acknowledgement after the retries.";
+
+yoke::v1::Event::Kind proto_kind(EventKind kind) {
+  switch (kind) {
+    case EventKind::add_vertex: return yoke::v1::Event::ADD_VERTEX;
+    case EventKind::set_edge: return yoke::v1::Event::SET_EDGE;
+    case EventKind::unset_edge: return yoke::v1::Event::UNSET_EDGE;
+    case EventKind::remove_vertex: return yoke::v1::Event::REMOVE_VERTEX;
+  }
+  return yoke::v1::Event::KIND_UNSPECIFIED;
+}
+
+// One batch as the ingest socket takes it. v and w are left 0 where the kind has none (the
+// script parser leaves them 0), as the schema requires.
+std::string ingest_request(const ScriptBatch& batch, const SendOptions& options,
+                           const std::string& client_id, std::uint64_t number,
+                           std::uint64_t after) {
+  yoke::v1::IngestRequest request;
+  request.set_version(yoke::v1::PROTOCOL_VERSION_1);
+  yoke::v1::EventBatch& out = *request.mutable_batch();
+  out.set_client_id(client_id);
+  out.set_client_batch(number);
+  out.set_pool(options.pool);
+  out.set_after_batch(after);
+  out.mutable_events()->Reserve(static_cast<int>(batch.events.size()));
+  for (const Event& event : batch.events) {
+    yoke::v1::Event& message = *out.add_events();
+    message.set_kind(proto_kind(event.kind));
+    message.set_u(event.u);
+    message.set_v(event.v);
+    message.set_w(event.w);
+  }
+  return request.SerializeAsString();
+}
+
+std::string default_client_id() {
+  std::array<char, 256> host{};
+  if (gethostname(host.data(), host.size() - 1) != 0) host[0] = '\0';
+  return "yoke-send-" + std::string(host.data()) + "-" + std::to_string(getpid());
+}
+
+std::uint64_t unix_time_us() {
+  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
+                                        std::chrono::system_clock::now().time_since_epoch())
+                                        .count());
+}
+
+// The line a refusal is about: its event's, or else the batch's `commit` (the last event's
+// line for the batch the end of the file closes).
+std::size_t refused_line(const ScriptBatch& batch, const yoke::v1::Error& error) {
+  if (error.has_event_index() && error.event_index() < batch.lines.size()) {
+    return batch.lines[error.event_index()];
+  }
+  if (batch.commit_line != 0 || batch.lines.empty()) return batch.commit_line;
+  return batch.lines.back();
+}
+
+std::string refusal(const SendOptions& options, const EventScript& script,
+                    const SendReport& report) {
+  const ScriptBatch& batch = script.batches[report.failed_batch];
+  return display_name(options.script_path) + ":" +
+         std::to_string(refused_line(batch, report.error)) + ": batch " +
+         std::to_string(report.failed_batch + 1) + " rejected by the daemon: " +
+         error_code_name(report.error.code()) + ": " + report.error.message();
+}
+
+// Turns every way a send can fail into the exception main() reports.
+void throw_failure(const SendOptions& options, const EventScript& script,
+                   const SendReport& report) {
+  using Outcome = SendReport::Outcome;
+  const std::string retries = std::to_string(options.retries) + " retries";
+  switch (report.outcome) {
+    case Outcome::acknowledged: return;
+    case Outcome::rejected: throw CliError(refusal(options, script, report));
+    case Outcome::refused_on_retry: {
+      const std::string message =
+          refusal(options, script, report) + " (still refused after " + retries + ")";
+      if (report.error.code() == yoke::v1::Error::UNAVAILABLE) throw UnavailableError(message);
+      throw CliError(message);
+    }
+    case Outcome::no_acknowledgement: {
+      std::string message = "no acknowledgement from " + options.ingest + " after " + retries;
+      if (report.error.code() != yoke::v1::Error::CODE_UNSPECIFIED) {
+        message += " (last answer: " + error_code_name(report.error.code()) + ": " +
+                   report.error.message() + ")";
+      }
+      throw UnavailableError(message);
+    }
+    case Outcome::unreadable:
+      throw CliError(display_name(options.script_path) + ": the daemon at " + options.ingest +
+                     " could not read a batch: " + error_code_name(report.error.code()) + ": " +
+                     report.error.message());
+    case Outcome::bad_reply:
+      throw CliError(options.ingest + ": " + report.problem);
+  }
+}
+
+}  // namespace
+
+CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
+  CLI::App* command =
+      app.add_subcommand("send", "Stream an event script to yoked, one batch per commit");
+  command->add_option("SCRIPT", options.script_path, "Event-script file, or - for stdin")
+      ->required();
+  add_pool_option(*command, options.pool);
+  add_endpoint_option(*command, "--ingest", options.ingest, "The daemon's ingest socket");
+  command
+      ->add_option("--client-id", options.client_id,
+                   "The sender's name for exactly-once retries [default: yoke-send-HOST-PID]")
+      ->check(kNotEmpty);
+  command->add_option("--in-flight", options.in_flight, "Batches awaiting acknowledgement, at most")
+      ->check(kAtLeastOne)
+      ->capture_default_str();
+  add_timeout_option(*command, options.timeout_ms,
+                     "Silence after which unacknowledged batches are sent again", false);
+  command->add_option("--retries", options.retries, "Resends of one batch before giving up")
+      ->check(kNotNegative)
+      ->capture_default_str();
+  command->footer(kSendHelp);
+  return command;
+}
+
+int run_send(const SendOptions& options) {
+  const EventScript script = load_event_script(options.script_path);
+  const std::string client_id =
+      options.client_id.empty() ? default_client_id() : options.client_id;
+
+  SenderSettings settings;
+  settings.client_id = client_id;
+  settings.first_batch_number = unix_time_us();
+  settings.in_flight = static_cast<std::size_t>(options.in_flight);
+  settings.timeout = timeout_from_option(options.timeout_ms);
+  settings.retries = options.retries;
+
+  std::vector<std::string> requests;
+  requests.reserve(script.batches.size());
+  for (std::size_t i = 0; i < script.batches.size(); ++i) {
+    const std::uint64_t number = settings.first_batch_number + i;
+    requests.push_back(ingest_request(script.batches[i], options, client_id, number,
+                                      i == 0 ? 0 : number - 1));
+  }
+
+  SendReport report;
+  if (!requests.empty()) {  // nothing to send: no need for a daemon either
+    EndpointClient ingest(zmq::socket_type::dealer, options.ingest);
+    report = send_batches(ingest, requests, settings);
+  }
+  throw_failure(options, script, report);
+
+  const bool any = report.accepted > 0;
+  const Json result{{"pool", options.pool},
+                    {"batches", script.batches.size()},
+                    {"events", script.event_count},
+                    {"first_seq", any ? Json(report.first_seq) : Json(nullptr)},
+                    {"last_seq", any ? Json(report.last_seq) : Json(nullptr)},
+                    {"duplicates", report.duplicates}};
+  std::cout << json_line(result) << '\n' << std::flush;
+  if (!std::cout) throw CliError("cannot write the result to stdout");
+  return kExitOk;
+}
+
+}  // namespace yoke::cli

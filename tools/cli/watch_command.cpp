@@ -1,0 +1,174 @@
+#include "watch_command.h"
+
+#include <signal.h>
+
+#include <atomic>
+#include <iostream>
+#include <optional>
+
+#include "cli_error.h"
+#include "number_options.h"
+#include "proto_json.h"
+#include "query_client.h"
+#include "yoke/v1/publish.pb.h"
+#include "zmq_endpoint_client.h"
+
+namespace yoke::cli {
+namespace {
+
+using yoke::v1::Diff;
+
+constexpr const char* kWatchHelp =
+    "Output: one JSON object per diff, one per line:\n"
+    "  {\"pool\",\"seq\",\"prev_seq\",\"weight\",\"pairs\",\"no_perfect_matching\",\n"
+    "   \"removed\":[[A,B,W],...],\"added\":[[A,B,W],...],\"repair_us\",\n"
+    "   \"commit_to_publish_us\",\"publish_unix_us\",\"stats\":{...}}\n"
+    "With --catch-up, first the whole matching with \"snapshot\":true (as `yoke query\n"
+    "matching` prints it), then the diffs after it; a missed diff is reported on stderr and\n"
+    "the matching fetched again.\n"
+    "Exit codes: 0 after --count diffs, or on SIGINT/SIGTERM; 2 an unreadable publication or\n"
+    "query error; 4 nothing within --timeout-ms.";
+
+// Used when --timeout-ms is 0 ("watch for ever") but the catch-up query still needs a bound.
+constexpr std::chrono::milliseconds kCatchUpTimeout{5000};
+
+static_assert(std::atomic<bool>::is_always_lock_free, "set from a signal handler");
+std::atomic<bool> stop_requested{false};
+
+void request_stop(int) { stop_requested.store(true); }
+
+// No SA_RESTART: the signal interrupts the wait for the next publication.
+void stop_on_signals() {
+  struct sigaction action = {};
+  action.sa_handler = request_stop;
+  sigemptyset(&action.sa_mask);
+  sigaction(SIGINT, &action, nullptr);
+  sigaction(SIGTERM, &action, nullptr);
+}
+
+void print_line(const Json& value) {
+  std::cout << json_line(value) << '\n' << std::flush;
+  if (!std::cout) throw CliError("cannot write to stdout");
+}
+
+class Watcher {
+ public:
+  explicit Watcher(const WatchOptions& options)
+      : options_(options),
+        timeout_(timeout_from_option(options.timeout_ms)),
+        subscriber_(zmq::socket_type::sub, options.publish) {
+    subscriber_.subscribe(options.pool);
+  }
+
+  int run() {
+    // Subscribed before the matching is fetched, so no diff after it can slip past.
+    if (options_.catch_up) catch_up();
+    std::uint64_t printed = 0;
+    Deadline deadline = deadline_after(timeout_);
+    while (options_.count == 0 || printed < options_.count) {
+      const auto frames = subscriber_.receive(deadline, &stop_requested);
+      if (!frames) {
+        if (stop_requested.load()) return kExitOk;
+        throw UnavailableError("no publication for pool " + options_.pool + " from " +
+                               options_.publish + " within " + std::to_string(timeout_.count()) +
+                               " ms");
+      }
+      // Subscriptions match prefixes: pool "city" also receives "city-east".
+      if (frames->empty() || frames->front() != options_.pool) continue;
+      deadline = deadline_after(timeout_);
+      if (const auto diff = read_diff(*frames)) {
+        if (take(*diff)) ++printed;
+      }
+    }
+    return kExitOk;
+  }
+
+ private:
+  // The diff a message carries; nothing for a kind this client does not know.
+  std::optional<Diff> read_diff(const std::vector<std::string>& frames) const {
+    yoke::v1::Publication publication;
+    if (frames.size() != 2 || !publication.ParseFromString(frames[1])) {
+      throw CliError(options_.publish + ": a publication that is not a topic frame and a " +
+                     "yoke.v1.Publication");
+    }
+    if (publication.version() != yoke::v1::PROTOCOL_VERSION_1) {
+      throw CliError(options_.publish + ": a publication in protocol version " +
+                     std::to_string(publication.version()) + " (this yoke speaks version 1)");
+    }
+    if (!publication.has_diff()) return std::nullopt;
+    return publication.diff();
+  }
+
+  // Prints `diff` unless the state held already covers it; true if printed.
+  bool take(const Diff& diff) {
+    if (held_seq_) {
+      if (diff.seq() <= *held_seq_) return false;
+      if (diff.prev_seq() != *held_seq_) {
+        std::cerr << "error: pool " << options_.pool << ": diff " << diff.seq()
+                  << " follows seq " << diff.prev_seq() << ", but the last seq held is "
+                  << *held_seq_ << "; catching up again\n";
+        catch_up();
+        // Checked once more against the fresh matching; a diff that still does not fit is left
+        // to the next one to report.
+        if (diff.seq() <= *held_seq_ || diff.prev_seq() != *held_seq_) return false;
+      }
+      held_seq_ = diff.seq();
+    }
+    print_line(diff_json(diff));
+    return true;
+  }
+
+  void catch_up() {
+    yoke::v1::QueryRequest request;
+    request.set_pool(options_.pool);
+    request.mutable_matching();
+    const auto reply = ask_query(options_.query, request,
+                                 timeout_.count() == 0 ? kCatchUpTimeout : timeout_);
+    yoke::v1::Matching matching;
+    if (reply.has_matching()) {
+      matching = reply.matching();
+    } else if (!reply.has_error()) {
+      throw CliError(options_.query + ": the daemon answered a matching query with a reply " +
+                     "of another kind");
+    } else if (reply.error().code() != yoke::v1::Error::UNKNOWN_POOL) {
+      throw CliError(query_error_text(reply.error()));
+    }
+    // else: a pool not created yet is the empty matching at seq 0; its first diff follows 0.
+    Json snapshot = matching_json(options_.pool, matching);
+    snapshot["snapshot"] = true;
+    print_line(snapshot);
+    held_seq_ = matching.seq();
+  }
+
+  const WatchOptions& options_;
+  const std::chrono::milliseconds timeout_;
+  EndpointClient subscriber_;
+  std::optional<std::uint64_t> held_seq_;  // --catch-up: the seq the printed lines add up to
+};
+
+}  // namespace
+
+CLI::App* add_watch_command(CLI::App& app, WatchOptions& options) {
+  CLI::App* command =
+      app.add_subcommand("watch", "Print a pool's published diffs as JSON lines");
+  add_pool_option(*command, options.pool);
+  add_endpoint_option(*command, "--publish", options.publish,
+                      "The daemon's publication socket");
+  command->add_option("--count", options.count, "Exit after this many diffs [default: no limit]")
+      ->check(kAtLeastOne);
+  command->add_flag("--catch-up", options.catch_up,
+                    "Start from the whole matching (fetched from the query socket)");
+  add_endpoint_option(*command, "--query", options.query,
+                      "The daemon's query socket (for --catch-up)");
+  add_timeout_option(*command, options.timeout_ms,
+                     "Exit 4 when nothing arrives for this long (0: wait for ever)", true);
+  command->footer(kWatchHelp);
+  return command;
+}
+
+int run_watch(const WatchOptions& options) {
+  stop_on_signals();
+  return Watcher(options).run();
+}
+
+}  // namespace yoke::cli
