@@ -61,6 +61,7 @@ class ByteReader {
     return values;
   }
   bool done() const { return at_ == in_.size(); }
+  std::size_t remaining() const { return in_.size() - at_; }
   [[noreturn]] static void fail(const std::string& why) {
     throw InputError("pool snapshot is not valid: " + why);
   }

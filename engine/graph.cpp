@@ -114,6 +114,9 @@ Graph Graph::load(ByteReader& in) {
     if (e >= m || graph.edges_[e].a != kNoVertex || seen[e] != 0) ByteReader::fail("a free edge slot is in use");
     seen[e] = 3;
   }
+  // Each incidence list takes at least its 8-byte count: a vertex count the bytes cannot hold
+  // is damage, and must not first allocate n lists (a few bytes asked for 25 GB; fuzzing found it).
+  if (n > in.remaining() / sizeof(std::uint64_t)) ByteReader::fail("too many vertices for its size");
   graph.incidence_.resize(n);
   for (Vertex v = 0; v < n; ++v) {
     for (EdgeIndex e : in.get_vector<EdgeIndex>(m)) {

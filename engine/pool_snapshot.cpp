@@ -22,6 +22,31 @@ void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector
   if (dual2.size() != mate.size()) ByteReader::fail("the duals have the wrong length");
 }
 
+// What the certificate check after a restore does not see: every weight within the pool's bound
+// (the engine's arithmetic counts on it: a weight of 2^62 that no optimality condition minds
+// overflowed the next repair), and the weight and pair counters equal to the matching's (the
+// objective is only ever moved by diffs after this). Found by tests/fuzz/snapshot_fuzz.
+void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weight weight,
+                   std::uint64_t pairs) {
+  const Graph& g = graph.graph();
+  for (EdgeIndex e = 0; e < g.edge_slots(); ++e) {
+    if (g.is_live(e) && (g.edge(e).w > bound || g.edge(e).w < -bound)) {
+      ByteReader::fail("edge " + std::to_string(e) + " has a weight beyond the pool's bound");
+    }
+  }
+  Int128 total = 0;  // |w| <= 2^52 for at most 2^29 pairs: no overflow here
+  std::uint64_t count = 0;
+  for (Vertex v = 0; v < mate.size(); ++v) {
+    const Vertex m = mate[v];
+    if (m == kNoVertex || m < v) continue;
+    total += g.edge(graph.find_edge(v, m)).w;
+    ++count;
+  }
+  if (total != weight || count != pairs) {
+    ByteReader::fail("the weight or the pair count is not the matching's");
+  }
+}
+
 }  // namespace
 
 Pool::Pool(std::unique_ptr<State> state) : state_(std::move(state)) {}
@@ -66,6 +91,7 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   if (pool.matching.mate.size() != n) ByteReader::fail("the matching has the wrong length");
   pool.matching.dual2 = in.get_vector<Weight>(n);
   check_matching(pool.graph, pool.matching.mate, pool.matching.dual2);
+  check_weights(pool.graph, pool.matching.mate, pool.limits.max_abs_weight, pool.weight, pool.pairs);
   pool.matching.forest = BlossomForest::load(in);
   if (pool.matching.forest.vertex_count() != n) ByteReader::fail("the forest has the wrong size");
   if (!in.done()) ByteReader::fail("bytes are left over at the end");

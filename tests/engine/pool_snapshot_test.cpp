@@ -3,6 +3,7 @@
 // pool must be refused with InputError, never read out of bounds.
 #include <gtest/gtest.h>
 
+#include <cstring>
 #include <string>
 #include <vector>
 
@@ -88,6 +89,35 @@ TEST(PoolSnapshot, TruncatedOrDamagedBytesAreRefusedOrStillSafe) {
     }
   }
   EXPECT_GT(refused, 0);
+}
+
+// Bytes the certificate check after a restore cannot judge (found by tests/fuzz/snapshot_fuzz;
+// tests/fuzz/regressions/snapshot/README.md).
+TEST(PoolSnapshot, RestoreRefusesWhatTheCertificateCannotSee) {
+  Pool pool(Mode::max_weight, PoolLimits{12, 30, 1000});
+  pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 6}, {EventKind::set_edge, 2, 3, 5}});
+  const std::string bytes = pool.save();
+  ASSERT_NO_THROW(Pool::restore(bytes));
+  constexpr std::size_t kWeight = 8 + 4 + 1 + 24 + 8;  // magic, version, mode, limits, commits
+  constexpr std::size_t kGraph = kWeight + 16;          // weight, pairs
+  constexpr std::size_t kEdges = kGraph + 8 + 1 + 8;    // vertex count, tracking, edge count
+  const auto with = [&bytes](std::size_t at, auto value) {
+    std::string changed = bytes;
+    std::memcpy(changed.data() + at, &value, sizeof value);
+    return changed;
+  };
+  // A weight counter that is not the matching's.
+  EXPECT_THROW(Pool::restore(with(kWeight, Weight{5})), InputError);
+  // An edge far beyond the pool's bound of 1000: the unmatched one only gains slack, and its
+  // weight overflowed the next repair.
+  for (std::size_t edge = 0; edge < 2; ++edge) {
+    EXPECT_THROW(Pool::restore(with(kEdges + 16 * edge + 8, -(Weight{1} << 62))), InputError);
+  }
+  // A vertex count the bytes cannot hold (no edges, no free slots, then the end): refused before
+  // its lists are allocated (25 GB).
+  const std::string short_graph =
+      with(kGraph, std::uint64_t{(1 << 30) - 1}).substr(0, kGraph + 9) + std::string(16, '\0');
+  EXPECT_THROW(Pool::restore(short_graph), InputError);
 }
 
 }  // namespace

@@ -1,0 +1,109 @@
+#include "service_model.h"
+
+#include <algorithm>
+#include <cstdint>
+
+namespace yoke::fuzz {
+namespace {
+
+using Code = v1::Error::Code;
+
+// A vertex arrives (add_vertex, or an end of set_edge that was not alive).
+bool arrive(ModelGraph& graph, const PoolLimits& limits, VertexKey key) {
+  if (graph.alive.size() + 1 > limits.max_vertices) return false;
+  graph.alive.insert(key);
+  return true;
+}
+
+}  // namespace
+
+std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolLimits& limits,
+                              const Event& event) {
+  const auto alive = [&graph](VertexKey key) { return graph.alive.count(key) != 0; };
+  switch (event.kind) {
+    case EventKind::add_vertex:
+      if (alive(event.u)) return {v1::Error::VERTEX_EXISTS};
+      if (!arrive(graph, limits, event.u)) return {v1::Error::POOL_LIMIT_EXCEEDED};
+      return {};
+    case EventKind::set_edge: {
+      std::vector<Code> codes;
+      if (event.u == event.v) codes.push_back(v1::Error::SELF_LOOP);
+      if (event.w > limits.max_abs_weight || event.w < -limits.max_abs_weight) {
+        codes.push_back(v1::Error::WEIGHT_OUT_OF_RANGE);
+      }
+      if (!codes.empty()) return codes;
+      for (const VertexKey end : {event.u, event.v}) {
+        if (!alive(end) && !arrive(graph, limits, end)) return {v1::Error::POOL_LIMIT_EXCEEDED};
+      }
+      const EdgeKey key = edge_key(event.u, event.v);
+      if (graph.edges.count(key) == 0 &&
+          count.base_edges + ++count.insertions > limits.max_edges) {
+        return {v1::Error::POOL_LIMIT_EXCEEDED};
+      }
+      graph.edges[key] = event.w;
+      return {};
+    }
+    case EventKind::unset_edge:
+      // protocol.proto: SELF_LOOP is "a SET_EDGE or UNSET_EDGE with u == v".
+      if (event.u == event.v) return {v1::Error::SELF_LOOP};
+      if (!alive(event.u) || !alive(event.v)) return {v1::Error::UNKNOWN_VERTEX};
+      if (graph.edges.erase(edge_key(event.u, event.v)) == 0) return {v1::Error::UNKNOWN_EDGE};
+      return {};
+    case EventKind::remove_vertex: {
+      if (graph.alive.erase(event.u) == 0) return {v1::Error::UNKNOWN_VERTEX};
+      std::erase_if(graph.edges, [&event](const auto& edge) {
+        return edge.first.first == event.u || edge.first.second == event.u;
+      });
+      return {};
+    }
+  }
+  return {v1::Error::MALFORMED_MESSAGE};
+}
+
+Weight largest_weight(Mode mode, std::size_t max_vertices) {
+  const Weight pairs = static_cast<Weight>(max_vertices / 2);
+  const Weight exact = Weight{1} << 52;
+  if (mode == Mode::max_weight) return std::min(exact, (Weight{1} << 61) / pairs);
+  // The offset pairs x 2W + W + 1 plus W must stay within 2^52.
+  return (exact - 1) / (2 * pairs + 2);
+}
+
+std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,
+                                           std::size_t max_vertices) {
+  const std::size_t n = graph.alive.size();
+  if (n > max_vertices) return std::nullopt;
+  const std::vector<VertexKey> keys(graph.alive.begin(), graph.alive.end());
+  const auto index = [&keys](VertexKey key) {
+    return static_cast<std::size_t>(std::lower_bound(keys.begin(), keys.end(), key) - keys.begin());
+  };
+  // weight[i][j] for the edge {i, j}; `present` tells an edge of weight 0 from no edge.
+  std::vector<std::vector<std::optional<Weight>>> weight(n, std::vector<std::optional<Weight>>(n));
+  for (const auto& [key, w] : graph.edges) {
+    const std::size_t i = index(key.first);
+    const std::size_t j = index(key.second);
+    weight[i][j] = weight[j][i] = w;
+  }
+  const bool cardinality_first = mode != Mode::max_weight;
+  const auto better = [cardinality_first](const Optimum& a, const Optimum& b) {
+    if (cardinality_first && a.pairs != b.pairs) return a.pairs > b.pairs;
+    return a.weight > b.weight;
+  };
+  // best[mask]: the optimum on the vertices in mask. Its lowest vertex is either left exposed
+  // or matched to another vertex of the mask.
+  std::vector<Optimum> best(std::size_t{1} << n);
+  for (std::size_t mask = 1; mask < best.size(); ++mask) {
+    const std::size_t i = static_cast<std::size_t>(__builtin_ctzll(mask));
+    const std::size_t rest = mask & (mask - 1);
+    Optimum top = best[rest];
+    for (std::size_t j = i + 1; j < n; ++j) {
+      if (!(rest >> j & 1) || !weight[i][j]) continue;
+      const Optimum& inner = best[rest & ~(std::size_t{1} << j)];
+      const Optimum candidate{inner.pairs + 1, inner.weight + *weight[i][j]};
+      if (better(candidate, top)) top = candidate;
+    }
+    best[mask] = top;
+  }
+  return best.back();
+}
+
+}  // namespace yoke::fuzz

@@ -1,0 +1,56 @@
+// A plain model of what the ingest path promises (proto/yoke/v1/events.proto, protocol.proto,
+// engine/pool.h), written apart from the daemon and the engine so the fuzz target can hold the
+// real code to it: which events a pool takes, the weight bound each mode keeps exact, and the
+// optimum of a tiny graph by brute force.
+#pragma once
+
+#include <cstddef>
+#include <map>
+#include <optional>
+#include <set>
+#include <utility>
+#include <vector>
+
+#include "engine/events.h"
+#include "engine/pool.h"
+#include "yoke/v1/protocol.pb.h"
+
+namespace yoke::fuzz {
+
+using EdgeKey = std::pair<VertexKey, VertexKey>;  // (smaller key, larger key)
+
+inline EdgeKey edge_key(VertexKey a, VertexKey b) { return a < b ? EdgeKey{a, b} : EdgeKey{b, a}; }
+
+struct ModelGraph {
+  std::set<VertexKey> alive;
+  std::map<EdgeKey, Weight> edges;
+};
+
+// What a pool's checks count within one batching window. The edge limit counts insertions, not
+// edges alive (DEVELOPERS.md, "Limits"): an edge removed in the window does not free its place
+// until the window is committed.
+struct WindowCount {
+  std::size_t base_edges = 0;  // edges alive when the window opened
+  std::size_t insertions = 0;  // edges inserted by the window's accepted events so far
+};
+
+// Applies `event` to `graph` and returns nothing, or returns (leaving `graph` half changed: use a
+// copy) every code that may refuse it; the daemon must name one of them.
+std::vector<v1::Error::Code> apply_event(ModelGraph& graph, WindowCount& count,
+                                         const PoolLimits& limits, const Event& event);
+
+// The bound on |w| that a limit of 0 stands for (DEVELOPERS.md, "Inside the pool", Limits).
+Weight largest_weight(Mode mode, std::size_t max_vertices);
+
+struct Optimum {
+  std::size_t pairs = 0;
+  Weight weight = 0;
+};
+
+// The optimum by dynamic programming over vertex subsets: the most weight (max-weight), or the
+// most pairs and then the most weight (max-cardinality, perfect). Nothing above `max_vertices`
+// vertices (its cost is 2^n x n).
+std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,
+                                           std::size_t max_vertices);
+
+}  // namespace yoke::fuzz
