@@ -1,0 +1,42 @@
+"""Events as plain tuples, and their encoding.
+
+An event is ("add", u), ("set", u, v, w), ("unset", u, v) or ("remove", u), the event script's
+words (DESIGN.md section 6); the helpers below build them. A yoke.v1 Event message is accepted
+as is. Vertex keys are unsigned 64-bit integers; weights signed 64-bit.
+"""
+
+from yoke.v1 import events_pb2
+
+_KINDS = {"add": events_pb2.Event.ADD_VERTEX, "set": events_pb2.Event.SET_EDGE,
+          "unset": events_pb2.Event.UNSET_EDGE, "remove": events_pb2.Event.REMOVE_VERTEX}
+
+
+def add(u):
+    """Vertex u arrives with no edges."""
+    return ("add", u)
+
+
+def set_edge(u, v, w):
+    """Edge {u, v} gets weight w (created if new; u and v arrive if new)."""
+    return ("set", u, v, w)
+
+
+def unset_edge(u, v):
+    """Edge {u, v} goes; its ends stay."""
+    return ("unset", u, v)
+
+
+def remove(u):
+    """Vertex u departs with all its edges."""
+    return ("remove", u)
+
+
+def to_proto(event):
+    """The Event message of a tuple (or the message itself). ValueError on an unknown word."""
+    if isinstance(event, events_pb2.Event):
+        return event
+    kind, *numbers = event
+    if kind not in _KINDS:
+        raise ValueError(f"unknown event kind {kind!r}")
+    u, v, w = (list(numbers) + [0, 0, 0])[:3]
+    return events_pb2.Event(kind=_KINDS[kind], u=u, v=v, w=w)

@@ -1,0 +1,216 @@
+"""Sender: batches of events into one pool through the ingest socket (default
+tcp://127.0.0.1:7410), pipelined, resent until acknowledged, each applied exactly once.
+
+How (proto/yoke/v1/events.proto, EventBatch): every batch carries this sender's client id and a
+batch number; numbers increase (the first of a call is the current Unix time in microseconds, or
+one more than the last number used), and each batch names the previous batch's number as its
+after_batch (0 for the sender's very first batch), so the daemon never applies a batch whose
+predecessor was lost. On silence (timeout_s) or an OUT_OF_ORDER / UNAVAILABLE refusal the sender
+resends from the oldest unacknowledged batch with the same numbers: the daemon acknowledges an
+already-applied batch again without applying it.
+"""
+
+import collections
+import os
+import secrets
+import time
+
+import zmq
+
+from yoke.v1 import ingest_pb2, protocol_pb2
+
+from . import dicts, events as event_codec
+from .errors import Rejected, Unavailable
+
+VERSION = protocol_pb2.PROTOCOL_VERSION_1
+_RESEND_CODES = (protocol_pb2.Error.OUT_OF_ORDER, protocol_pb2.Error.UNAVAILABLE)
+
+Ack = collections.namedtuple("Ack", "seq duplicate client_batch pool")
+Ack.__doc__ = """An accepted batch: the pool's seq for it (for a duplicate, the seq of this
+client's latest applied batch), whether it was a retry of an applied batch, its number, and the
+pool as the daemon resolved it."""
+
+
+class Sender:
+    """Sends batches to one pool. Not thread safe; one call at a time.
+
+    in_flight: batches sent and not yet acknowledged, at most. timeout_s: silence after which the
+    unacknowledged batches are resent. retries: resends of one batch before Unavailable.
+    client_id: stable across reconnects; a fresh random one by default.
+    """
+
+    def __init__(self, ingest_endpoint, pool="default", client_id=None, in_flight=32,
+                 timeout_s=5.0, retries=5, context=None):
+        self.endpoint = ingest_endpoint
+        self.pool = pool
+        self.client_id = client_id or f"py-{os.getpid()}-{secrets.token_hex(6)}"
+        self.in_flight = max(1, in_flight)
+        self.timeout_s = timeout_s
+        self.retries = retries
+        self._context = context or zmq.Context.instance()
+        self._sock = None
+        self._last_used = 0     # the largest batch number sent so far
+        self._last_applied = 0  # the after_batch of the next batch (0: no condition)
+
+    def _socket(self):
+        if self._sock is None:
+            self._sock = self._context.socket(zmq.DEALER)
+            self._sock.setsockopt(zmq.LINGER, 0)
+            self._sock.setsockopt(zmq.RECONNECT_IVL, 50)
+            self._sock.setsockopt(zmq.RECONNECT_IVL_MAX, 500)
+            self._sock.connect(self.endpoint)
+        return self._sock
+
+    def close(self):
+        if self._sock is not None:
+            self._sock.close()
+            self._sock = None
+
+    def __del__(self):
+        self.close()
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+    def send(self, events):
+        """Sends one batch (an iterable of events, see yoke_client.events) and returns its Ack
+        once it is durable. Raises Rejected (batch_index 0) or Unavailable."""
+        return self._pipeline([events])[0]
+
+    def send_all(self, batches):
+        """Sends the batches in order, up to in_flight at once, and returns their seqs once all
+        are acknowledged. Raises Rejected for the first refused batch (every batch before it is
+        then applied, none after it) or Unavailable after the retries (the batches not
+        acknowledged may or may not be applied; the next call sends without a predecessor
+        condition)."""
+        return [ack.seq for ack in self._pipeline(list(batches))]
+
+    # --- the pipeline ---
+
+    def _encode(self, events, number, after):
+        request = ingest_pb2.IngestRequest(version=VERSION)
+        batch = request.batch
+        batch.client_id, batch.client_batch = self.client_id, number
+        batch.pool, batch.after_batch = self.pool, after
+        batch.events.extend(event_codec.to_proto(e) for e in events)
+        return request.SerializeToString()
+
+    def _pipeline(self, batches):
+        if not batches:
+            return []
+        first = max(time.time_ns() // 1000, self._last_used + 1)
+        numbers = [first + i for i in range(len(batches))]
+        self._last_used = numbers[-1]
+        afters = [self._last_applied] + numbers[:-1]
+        requests = [self._encode(b, n, a) for b, n, a in zip(batches, numbers, afters)]
+        run = _Run(self, requests, numbers)
+        try:
+            acks = run.wait()
+        except Rejected:
+            if run.oldest > 0:
+                self._last_applied = numbers[run.oldest - 1]
+            raise
+        except Unavailable:
+            self._last_applied = 0
+            self.close()  # drop what is still queued: it must not arrive later
+            raise
+        self._last_applied = numbers[-1]
+        return acks
+
+
+class _Run:
+    """One call's batches in flight: which are sent, acknowledged, refused, resent."""
+
+    def __init__(self, sender, requests, numbers):
+        self.s = sender
+        self.sock = sender._socket()
+        self.requests = requests
+        self.index = {n: i for i, n in enumerate(numbers)}
+        n = len(requests)
+        self.acks = [None] * n
+        self.pending = [0] * n     # sends of the batch not answered yet
+        self.sent_round = [0] * n  # the resend round of the batch's latest send
+        self.resends = [0] * n
+        self.round = 0
+        self.oldest = 0            # the first batch not acknowledged
+        self.next = 0              # the first batch not sent yet
+        self.failure = None        # (index, Error) of the first real refusal
+        self.resend_at = None      # a refusal asked for a resend at this time
+        self.deadline = time.monotonic() + sender.timeout_s
+
+    def limit(self):
+        return len(self.requests) if self.failure is None else self.failure[0]
+
+    def transmit(self, i):
+        self.sock.send(self.requests[i])
+        self.pending[i] += 1
+        self.sent_round[i] = self.round
+
+    def wait(self):
+        while self.oldest < len(self.requests):
+            if self.failure is not None and self.oldest >= self.failure[0]:
+                index, error = self.failure
+                raise Rejected(dicts.code_name(error.code), error.message,
+                               error.event_index if error.HasField("event_index") else None,
+                               index)
+            while self.next < self.limit() and self.next - self.oldest < self.s.in_flight:
+                self.transmit(self.next)
+                self.next += 1
+            now = time.monotonic()
+            wake = self.deadline if self.resend_at is None else min(self.deadline, self.resend_at)
+            if now >= wake:
+                self.resend(timed_out=now >= self.deadline)
+                continue
+            if self.sock.poll(max(1, int((wake - now) * 1000)), zmq.POLLIN):
+                self.receive(self.sock.recv())
+        return self.acks
+
+    def resend(self, timed_out):
+        """Sends again every unacknowledged batch from the oldest, with the same numbers."""
+        if self.resends[self.oldest] >= self.s.retries:
+            raise Unavailable(f"batch {self.oldest} not accepted after {self.s.retries} resends "
+                              f"to {self.s.endpoint}")
+        self.resends[self.oldest] += 1
+        self.round += 1
+        for i in range(self.oldest, min(self.next, self.limit())):
+            if self.acks[i] is None:
+                if timed_out:
+                    self.pending[i] = 0  # its earlier sends are presumed lost
+                self.transmit(i)
+        self.resend_at = None
+        self.deadline = time.monotonic() + self.s.timeout_s
+
+    def receive(self, payload):
+        reply = ingest_pb2.IngestReply()
+        reply.ParseFromString(payload)
+        if not reply.HasField("ack"):
+            return
+        ack = reply.ack
+        if ack.client_id == "" and ack.HasField("rejected"):
+            error = ack.rejected.errors[0]  # the daemon could not read one of our messages
+            raise Rejected(dicts.code_name(error.code), error.message, None, None)
+        i = self.index.get(ack.client_batch)
+        if ack.client_id != self.s.client_id or i is None:
+            return  # a late answer from an earlier call
+        self.pending[i] = max(0, self.pending[i] - 1)
+        if ack.HasField("accepted"):
+            if self.acks[i] is None:
+                self.acks[i] = Ack(ack.accepted.seq, ack.accepted.duplicate, ack.client_batch,
+                                   ack.pool)
+                while self.oldest < len(self.acks) and self.acks[self.oldest] is not None:
+                    self.oldest += 1
+                self.deadline = time.monotonic() + self.s.timeout_s
+            return
+        error = ack.rejected.errors[0]
+        if error.code not in _RESEND_CODES:
+            if self.failure is None or i < self.failure[0]:
+                self.failure = (i, error)
+            return
+        # Act on the answer to a batch's latest send only; one resend for a burst of refusals.
+        if (self.acks[i] is None and i < self.limit() and self.pending[i] == 0
+                and self.sent_round[i] == self.round and self.resend_at is None):
+            backoff = min(self.s.timeout_s, 0.05 * 2 ** self.resends[self.oldest])
+            self.resend_at = time.monotonic() + backoff

@@ -1,0 +1,140 @@
+"""Watcher: one pool's diffs from the publication socket (default tcp://127.0.0.1:7411).
+
+Messages are two frames, [pool name][Publication]. ZeroMQ subscriptions match prefixes, so the
+watcher keeps only the messages whose topic frame equals the pool's name exactly. In catch-up
+mode (proto/yoke/v1/publish.proto) it holds the whole matching: it fetches it from the query
+socket at some seq s, drops diffs with seq <= s, applies the rest in order, and fetches the
+matching again when a diff's prev_seq is not the seq it holds (a message was missed).
+"""
+
+import time
+
+import zmq
+
+from yoke.v1 import protocol_pb2, publish_pb2
+
+from . import dicts
+from .errors import QueryError
+from .query import Query
+
+VERSION = protocol_pb2.PROTOCOL_VERSION_1
+
+
+class Watcher:
+    """Iterating yields each diff of the pool as a dict (the keys `yoke watch` prints), in the
+    order received. After catch_up(), only diffs that apply on top of the held state are
+    yielded, and `.matching`, `.weight` and `.seq` follow them.
+
+    `.matching` maps every matched vertex to its mate (both ends of each pair: {a: b, b: a}).
+    Pair weights are not kept per pair: a diff does not report a matched pair whose weight
+    changed, so only the total (`.weight`, from each diff) stays exact."""
+
+    def __init__(self, publish_endpoint, pool="default", query_endpoint=None, context=None):
+        self.pool = pool
+        self.query_endpoint = query_endpoint
+        self.matching = None  # {vertex: mate}, in catch-up mode
+        self.weight = None    # the matching's total weight, in catch-up mode
+        self.seq = None       # the seq `matching` describes, in catch-up mode
+        self.refetches = 0    # matchings fetched again after a missed diff
+        self._topic = pool.encode()
+        self._query = None
+        context = context or zmq.Context.instance()
+        self._sock = context.socket(zmq.SUB)
+        self._sock.setsockopt(zmq.LINGER, 0)
+        self._sock.setsockopt(zmq.RCVHWM, 0)
+        self._sock.setsockopt(zmq.RECONNECT_IVL, 50)
+        self._sock.setsockopt(zmq.SUBSCRIBE, self._topic)
+        self._sock.connect(publish_endpoint)
+
+    def close(self):
+        """Closes the sockets; idempotent (also run when the watcher is collected)."""
+        self._sock.close()
+        if self._query is not None:
+            self._query.close()
+
+    def __del__(self):
+        self.close()
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+    def catch_up(self, timeout_s=5.0):
+        """Switches to catch-up mode: fetches the whole matching now (needs query_endpoint;
+        raises QueryError / Unavailable as Query does). A pool the daemon does not hold yet
+        counts as empty at seq 0. Returns self."""
+        if self.query_endpoint is None:
+            raise ValueError("catch_up needs the query endpoint")
+        if self._query is None:
+            self._query = Query(self.query_endpoint, timeout_s)
+        self._fetch()
+        return self
+
+    def _fetch(self):
+        try:
+            whole = self._query.matching(self.pool)
+        except QueryError as error:
+            if error.code_name != "UNKNOWN_POOL":
+                raise
+            whole = {"seq": 0, "weight": 0, "pairs": []}  # created by its first batch
+        self.matching = {}
+        for a, b, _ in whole["pairs"]:
+            self.matching[a], self.matching[b] = b, a
+        self.weight = whole["weight"]
+        self.seq = whole["seq"]
+
+    def __iter__(self):
+        while True:
+            diff = self.next(None)
+            if diff is not None:
+                yield diff
+
+    def next(self, timeout_s=None):
+        """The next diff as a dict, or None when none comes within timeout_s (None: wait for
+        ever). In catch-up mode, applies it first."""
+        deadline = None if timeout_s is None else time.monotonic() + timeout_s
+        while True:
+            wait_ms = -1 if deadline is None else max(0, int((deadline - time.monotonic()) * 1000))
+            if not self._sock.poll(wait_ms, zmq.POLLIN):
+                return None
+            frames = self._sock.recv_multipart()
+            if len(frames) != 2 or frames[0] != self._topic:
+                continue
+            publication = publish_pb2.Publication()
+            publication.ParseFromString(frames[1])
+            if publication.version != VERSION or not publication.HasField("diff"):
+                continue
+            diff = publication.diff
+            if self.matching is not None and not self._apply(diff):
+                continue
+            return dicts.diff(diff)
+
+    def wait_for_seq(self, seq, timeout_s):
+        """Catch-up mode: reads diffs until the held state is at seq or later. True if it got
+        there within timeout_s."""
+        deadline = time.monotonic() + timeout_s
+        while self.seq < seq:
+            left = deadline - time.monotonic()
+            if left <= 0:
+                return False
+            self.next(left)
+        return True
+
+    def _apply(self, diff):
+        """Applies a diff to the held matching; False when it is old (dropped) or did not follow
+        (the matching is fetched again)."""
+        if diff.seq <= self.seq:
+            return False
+        if diff.prev_seq != self.seq:
+            self.refetches += 1
+            self._fetch()
+            return False
+        for pair in diff.removed:
+            self.matching.pop(pair.a, None)
+            self.matching.pop(pair.b, None)
+        for pair in diff.added:
+            self.matching[pair.a], self.matching[pair.b] = pair.b, pair.a
+        self.seq, self.weight = diff.seq, diff.weight
+        return True
