@@ -10,6 +10,7 @@
 #include "daemon/logging/log_event.h"
 #include "daemon/metrics/http_endpoint.h"
 #include "daemon/service/snapshot_capture.h"
+#include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
 #include "daemon_metrics.h"
 #include "yoke/v1/ingest.pb.h"
@@ -19,12 +20,6 @@ namespace yoke::daemon {
 namespace {
 
 using Clock = std::chrono::steady_clock;
-
-std::uint64_t unix_us_now() {
-  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
-                                        std::chrono::system_clock::now().time_since_epoch())
-                                        .count());
-}
 
 std::uint64_t micros(Clock::duration duration) {
   return static_cast<std::uint64_t>(
@@ -235,7 +230,7 @@ void YokedServer::close_window() {
 void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {
   const Clock::time_point now = Clock::now();
   diff.mutable_timings()->set_commit_to_publish_us(micros(now - closed));
-  diff.mutable_timings()->set_publish_unix_us(unix_us_now());
+  diff.mutable_timings()->set_publish_unix_us(unix_time_us());
   service_.progress_of(diff.pool()).last_timings = diff.timings();
   v1::Publication publication;
   publication.set_version(v1::PROTOCOL_VERSION_1);

@@ -2,17 +2,12 @@
 
 #include <chrono>
 
+#include "unix_time.h"
 #include "wire_types.h"
 #include "yoke/v1/records.pb.h"
 
 namespace yoke::daemon {
 namespace {
-
-std::uint64_t unix_us_now() {
-  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
-                                        std::chrono::system_clock::now().time_since_epoch())
-                                        .count());
-}
 
 v1::Ack accepted(const DecodedBatch& batch, std::uint64_t seq, bool duplicate) {
   v1::Ack ack;
@@ -134,7 +129,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
   replies.reserve(window_.size() + waiting_duplicates_.size());
   const std::uint64_t window_start = state_.next_journal_seq;
-  const std::uint64_t wall_time = unix_us_now();
+  const std::uint64_t wall_time = unix_time_us();
   std::string bytes;
   for (PendingBatch& pending : window_) {
     DecodedBatch& batch = pending.batch;

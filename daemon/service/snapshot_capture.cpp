@@ -3,15 +3,13 @@
 #include <chrono>
 
 #include "engine/certificate.h"
+#include "unix_time.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
 
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
-  const std::uint64_t wall_time = static_cast<std::uint64_t>(
-      std::chrono::duration_cast<std::chrono::microseconds>(
-          std::chrono::system_clock::now().time_since_epoch())
-          .count());
+  const std::uint64_t wall_time = unix_time_us();
   std::vector<v1::SnapshotRecord> records;
   for (const std::string& name : service.registry().names()) {
     const PoolProgress* progress = service.progress(name);

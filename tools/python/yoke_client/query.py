@@ -7,44 +7,22 @@ import zmq
 from yoke.v1 import protocol_pb2, query_pb2
 
 from . import dicts
+from .connection import DealerConnection
 from .errors import QueryError, Unavailable
 
 VERSION = protocol_pb2.PROTOCOL_VERSION_1
 
 
-class Query:
+class Query(DealerConnection):
     """Asks yoked about a pool or itself. Each method sends one QueryRequest and returns the
     reply as a plain dict (the keys `yoke query KIND` prints). Raises QueryError when the daemon
     answers with an Error, Unavailable when nothing comes back within timeout_s (the socket is
     then replaced, so a late reply is never taken for the next one's). Not thread safe."""
 
     def __init__(self, query_endpoint, timeout_s=5.0, context=None):
-        self.endpoint = query_endpoint
+        super().__init__(query_endpoint, context)
         self.timeout_s = timeout_s
-        self._context = context or zmq.Context.instance()
         self._ids = itertools.count(1)
-        self._sock = None
-
-    def _socket(self):
-        if self._sock is None:
-            self._sock = self._context.socket(zmq.DEALER)
-            self._sock.setsockopt(zmq.LINGER, 0)
-            self._sock.connect(self.endpoint)
-        return self._sock
-
-    def close(self):
-        if self._sock is not None:
-            self._sock.close()
-            self._sock = None
-
-    def __del__(self):
-        self.close()
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
 
     def ask(self, kind, pool="", **fields):
         """Sends a request of `kind` (a QueryRequest oneof name) and returns the QueryReply

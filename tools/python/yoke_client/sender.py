@@ -20,6 +20,7 @@ import zmq
 from yoke.v1 import ingest_pb2, protocol_pb2
 
 from . import dicts, events as event_codec
+from .connection import DealerConnection
 from .errors import Rejected, Unavailable
 
 VERSION = protocol_pb2.PROTOCOL_VERSION_1
@@ -31,7 +32,7 @@ client's latest applied batch), whether it was a retry of an applied batch, its 
 pool as the daemon resolved it."""
 
 
-class Sender:
+class Sender(DealerConnection):
     """Sends batches to one pool. Not thread safe; one call at a time.
 
     in_flight: batches sent and not yet acknowledged, at most. timeout_s: silence after which the
@@ -39,41 +40,18 @@ class Sender:
     client_id: stable across reconnects; a fresh random one by default.
     """
 
+    fast_reconnect = True  # a restarting daemon is found again within half a second
+
     def __init__(self, ingest_endpoint, pool="default", client_id=None, in_flight=32,
                  timeout_s=5.0, retries=5, context=None):
-        self.endpoint = ingest_endpoint
+        super().__init__(ingest_endpoint, context)
         self.pool = pool
         self.client_id = client_id or f"py-{os.getpid()}-{secrets.token_hex(6)}"
         self.in_flight = max(1, in_flight)
         self.timeout_s = timeout_s
         self.retries = retries
-        self._context = context or zmq.Context.instance()
-        self._sock = None
         self._last_used = 0     # the largest batch number sent so far
         self._last_applied = 0  # the after_batch of the next batch (0: no condition)
-
-    def _socket(self):
-        if self._sock is None:
-            self._sock = self._context.socket(zmq.DEALER)
-            self._sock.setsockopt(zmq.LINGER, 0)
-            self._sock.setsockopt(zmq.RECONNECT_IVL, 50)
-            self._sock.setsockopt(zmq.RECONNECT_IVL_MAX, 500)
-            self._sock.connect(self.endpoint)
-        return self._sock
-
-    def close(self):
-        if self._sock is not None:
-            self._sock.close()
-            self._sock = None
-
-    def __del__(self):
-        self.close()
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
 
     def send(self, events):
         """Sends one batch (an iterable of events, see yoke_client.events) and returns its Ack
