@@ -1,6 +1,8 @@
 #include "journal_commits.h"
 
+#include <cstdint>
 #include <iostream>
+#include <optional>
 
 #include "cli_error.h"
 #include "daemon/journal/journal_reader.h"
@@ -47,8 +49,13 @@ JournalCommits::JournalCommits(const std::filesystem::path& path, const std::str
   }
 }
 
-std::unique_ptr<Pool> JournalCommits::start() {
+std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
   const v1::JournalRecord& first = groups_.front().records.front();
+  if (from_seq > 0) {
+    if (auto pool = restore_snapshot(from_seq, true)) return pool;
+    std::cerr << "note: no snapshot of pool " << pool_ << " at or before seq " << from_seq
+              << " that the journal continues: starting from the journal's first record\n";
+  }
   if (first.seq() == 1) {
     const auto mode = daemon::from_wire(first.created().mode());
     const auto limits = daemon::from_wire(first.created().limits());
@@ -58,31 +65,43 @@ std::unique_ptr<Pool> JournalCommits::start() {
     }
     return std::make_unique<Pool>(*mode, *limits);
   }
-  // The journal starts later: the oldest snapshot of the pool that the journal continues.
-  if (std::filesystem::is_directory(snapshot_dir_)) {
-    const daemon::SnapshotStore store(snapshot_dir_, 1 << 30);
-    std::vector<std::uint64_t> positions = store.positions();
-    for (auto it = positions.rbegin(); it != positions.rend(); ++it) {
-      try {
-        const daemon::SnapshotContents contents =
-            daemon::read_snapshot_file(store.path_for(*it));
-        for (const v1::SnapshotRecord& record : contents.pools) {
-          if (record.pool() != pool_ || record.seq() + 1 < first.seq()) continue;
-          std::unique_ptr<Pool> pool = daemon::restore_checked(record);
-          while (next_ < groups_.size() && groups_[next_].records.back().seq() <= record.seq()) {
-            ++next_;
-          }
-          snapshot_seq_ = record.seq();
-          return pool;
-        }
-      } catch (const daemon::SnapshotDamage& damage) {
-        std::cerr << "note: " << damage.what() << ": skipped\n";
-      }
-    }
-  }
+  if (auto pool = restore_snapshot(UINT64_MAX, false)) return pool;
   throw CliError(journal_dir_.string() + ": the journal starts at seq " +
                  std::to_string(first.seq()) + " of pool " + pool_ +
                  " and no snapshot in " + snapshot_dir_.string() + " leads up to it");
+}
+
+std::unique_ptr<Pool> JournalCommits::restore_snapshot(std::uint64_t most, bool newest) {
+  if (!std::filesystem::is_directory(snapshot_dir_)) return nullptr;
+  const std::uint64_t journal_first = groups_.front().records.front().seq();
+  const daemon::SnapshotStore store(snapshot_dir_, 1 << 30);
+  std::optional<v1::SnapshotRecord> best;
+  for (const std::uint64_t position : store.positions()) {
+    try {
+      const daemon::SnapshotContents contents =
+          daemon::read_snapshot_file(store.path_for(position));
+      for (const v1::SnapshotRecord& record : contents.pools) {
+        if (record.pool() != pool_ || record.seq() + 1 < journal_first || record.seq() > most) {
+          continue;
+        }
+        if (!best || (newest ? record.seq() > best->seq() : record.seq() < best->seq())) {
+          best = record;
+        }
+      }
+    } catch (const daemon::SnapshotDamage& damage) {
+      std::cerr << "note: " << damage.what() << ": skipped\n";
+    }
+  }
+  if (!best) return nullptr;
+  std::unique_ptr<Pool> pool;
+  try {
+    pool = daemon::restore_checked(*best);
+  } catch (const daemon::SnapshotDamage& damage) {
+    throw CliError(snapshot_dir_.string() + ": " + damage.what());
+  }
+  while (next_ < groups_.size() && groups_[next_].records.back().seq() <= best->seq()) ++next_;
+  snapshot_seq_ = best->seq();
+  return pool;
 }
 
 const daemon::CommitGroup* JournalCommits::next() {

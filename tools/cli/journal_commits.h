@@ -23,14 +23,21 @@ class JournalCommits {
   // of `pool`, or starts after the pool's first record with no snapshot to start from.
   JournalCommits(const std::filesystem::path& path, const std::string& pool);
 
-  // The pool before the first commit next() returns.
-  std::unique_ptr<Pool> start();
+  // The pool before the first commit next() returns: with from_seq > 0, restored from the
+  // newest snapshot of the pool at or before from_seq that the journal continues (else the
+  // start below); else empty, made with the settings of the pool's first record, or when the
+  // journal no longer holds that record, restored from the oldest snapshot it continues.
+  std::unique_ptr<Pool> start(std::uint64_t from_seq = 0);
   // The pool's seq in the snapshot start() restored, if it restored one.
   std::optional<std::uint64_t> snapshot_seq() const { return snapshot_seq_; }
   // The next commit, or nullptr after the last.
   const daemon::CommitGroup* next();
 
  private:
+  // The snapshot of the pool with the largest (newest) or smallest (oldest) seq within
+  // [journal's first seq - 1, most], restored; nullptr when there is none.
+  std::unique_ptr<Pool> restore_snapshot(std::uint64_t most, bool newest);
+
   std::filesystem::path journal_dir_;
   std::filesystem::path snapshot_dir_;
   std::string pool_;

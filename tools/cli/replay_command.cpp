@@ -202,6 +202,11 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
                     "Check the optimality certificate after every commit (exit 1 if one fails)");
   command->add_flag("--stats", options.stats, "Print summary lines after the last commit");
   command->add_flag("--diffs", options.diffs, "Print the pairs each commit removed and added");
+  command->add_option("--until", options.until,
+                      "Journal: stop at the state after seq SEQ (the last commit ending at or "
+                      "before it)");
+  command->add_option("--from", options.from,
+                      "Journal: start from the newest snapshot at or before seq SEQ");
   command->add_option("--pool", options.pool,
                       "Which pool of a journal directory to replay (--mode is then the pool's own)")
       ->capture_default_str();
@@ -285,13 +290,20 @@ int run_script_replay(const ReplayOptions& options) {
 
 int run_journal_replay(const ReplayOptions& options) {
   JournalCommits journal(options.script_path, options.pool);
-  std::unique_ptr<Pool> pool = journal.start();
+  std::unique_ptr<Pool> pool = journal.start(options.from);
   ReplayRun run(options, std::cout);
   if (const auto snapshot = journal.snapshot_seq()) {
     std::cout << "note starting from the snapshot at seq " << *snapshot << "\n";
     run.start_from(*pool);
   }
   while (const daemon::CommitGroup* group = journal.next()) {
+    if (options.until != 0 && group->records.back().seq() > options.until) {
+      if (group->records.front().seq() <= options.until) {
+        std::cout << "note seq " << options.until << " was committed together with seqs up to "
+                  << group->records.back().seq() << ": stopping before that commit\n";
+      }
+      break;
+    }
     if (const auto rejected = pool->check(group->events)) {
       throw CliError(options.script_path + ": pool " + options.pool + " seq " +
                      std::to_string(group->records.front().seq()) + ": the journal holds an event " +
@@ -308,6 +320,9 @@ int run_journal_replay(const ReplayOptions& options) {
 
 int run_replay(const ReplayOptions& options) {
   if (std::filesystem::is_directory(options.script_path)) return run_journal_replay(options);
+  if (options.until != 0 || options.from != 0) {
+    throw CliError("--until and --from apply to a daemon's journal directory, not a script");
+  }
   return run_script_replay(options);
 }
 

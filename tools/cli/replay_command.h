@@ -18,6 +18,7 @@
 // all events over all repair time. Only the timings vary between runs of the same script.
 #pragma once
 
+#include <cstdint>
 #include <string>
 
 #include <CLI/CLI.hpp>
@@ -31,6 +32,10 @@ struct ReplayOptions {
   bool stats = false;   // summary lines at the end
   bool diffs = false;   // the pairs each commit removed and added
   std::string pool = "default";  // which pool of a journal directory
+  // Journal directories only: stop after the last commit whose seq is at most `until`, and
+  // start from the newest snapshot of the pool at or before `from` (0: none asked for).
+  std::uint64_t until = 0;
+  std::uint64_t from = 0;
 };
 
 CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
