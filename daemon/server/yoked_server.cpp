@@ -32,21 +32,6 @@ std::int64_t hard_message_cap(std::uint64_t max_message_bytes) {
   return static_cast<std::int64_t>(2 * max_message_bytes + (1 << 20));
 }
 
-std::string query_kind_name(std::string_view message) {
-  v1::QueryRequest request;
-  if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) return "malformed";
-  switch (request.kind_case()) {
-    case v1::QueryRequest::kSummary: return "summary";
-    case v1::QueryRequest::kMate: return "mate";
-    case v1::QueryRequest::kMatching: return "matching";
-    case v1::QueryRequest::kExplain: return "explain";
-    case v1::QueryRequest::kStats: return "stats";
-    case v1::QueryRequest::kSnapshot: return "snapshot";
-    case v1::QueryRequest::kHealth: return "health";
-    default: return "unknown";
-  }
-}
-
 }  // namespace
 
 YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
@@ -251,8 +236,10 @@ void YokedServer::on_query_message() {
   if (frames.size() < 2) return;
   zmq::message_t payload = std::move(frames.back());
   frames.pop_back();
-  metrics_->query(query_kind_name(payload.to_string_view()));
-  reply(query_, frames, queries_.handle(payload.to_string_view()));
+  std::string kind;
+  const std::string answer = queries_.handle(payload.to_string_view(), &kind);
+  metrics_->query(kind);
+  reply(query_, frames, answer);
   query_watcher_->poke();
 }
 
@@ -314,7 +301,7 @@ v1::Health YokedServer::health() const {
                                     : "ok");
   health.set_uptime_s(static_cast<std::uint64_t>(
       std::chrono::duration_cast<std::chrono::seconds>(Clock::now() - started_).count()));
-  health.set_pools(static_cast<std::uint32_t>(service_.registry().names().size()));
+  health.set_pools(static_cast<std::uint32_t>(service_.registry().size()));
   health.set_daemon_version(YOKE_VERSION);
   return health;
 }

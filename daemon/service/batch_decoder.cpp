@@ -9,18 +9,10 @@
 namespace yoke::daemon {
 namespace {
 
-v1::Ack refusal(v1::Error error) {
-  v1::Ack ack;
-  *ack.mutable_rejected()->add_errors() = std::move(error);
-  return ack;
-}
+v1::Ack refusal(v1::Error error) { return refused(v1::Ack(), std::move(error)); }
 
 v1::Ack refusal_for(const v1::EventBatch& batch, const std::string& pool, v1::Error error) {
-  v1::Ack ack = refusal(std::move(error));
-  ack.set_client_id(batch.client_id());
-  ack.set_client_batch(batch.client_batch());
-  ack.set_pool(pool);
-  return ack;
+  return refused(batch_ack(batch.client_id(), batch.client_batch(), pool), std::move(error));
 }
 
 }  // namespace

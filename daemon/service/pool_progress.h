@@ -20,6 +20,17 @@ struct PoolProgress {
   RepairStats last_repair;
   v1::Timings last_timings;
   std::uint64_t last_snapshot_seq = 0;
+
+  // One commit of `batches` batches ending at `last_seq`, as the daemon and recovery both
+  // count it.
+  void record_commit(const CommitResult& result, std::uint64_t last_seq, std::uint64_t batches) {
+    seq = last_seq;
+    batches_accepted += batches;
+    events_applied += result.stats.events;
+    ++commits;
+    no_perfect_matching = result.status == SolveStatus::no_perfect_matching;
+    last_repair = result.stats;
+  }
 };
 
 }  // namespace yoke::daemon

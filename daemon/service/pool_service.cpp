@@ -9,23 +9,12 @@
 namespace yoke::daemon {
 namespace {
 
-v1::Ack accepted(const DecodedBatch& batch, std::uint64_t seq, bool duplicate) {
-  v1::Ack ack;
-  ack.set_client_id(batch.client_id);
-  ack.set_client_batch(batch.client_batch);
-  ack.set_pool(batch.pool);
-  ack.mutable_accepted()->set_seq(seq);
-  ack.mutable_accepted()->set_duplicate(duplicate);
-  return ack;
+v1::Ack ack_for(const DecodedBatch& batch) {
+  return batch_ack(batch.client_id, batch.client_batch, batch.pool);
 }
 
 v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
-  v1::Ack ack;
-  ack.set_client_id(batch.client_id);
-  ack.set_client_batch(batch.client_batch);
-  ack.set_pool(batch.pool);
-  *ack.mutable_rejected()->add_errors() = std::move(error);
-  return ack;
+  return refused(ack_for(batch), std::move(error));
 }
 
 }  // namespace
@@ -107,7 +96,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
 std::optional<v1::Ack> PoolService::answer_retry(Ticket ticket, const DecodedBatch& batch) {
   const AppliedBatch last = *state_.ledger.last(batch.pool, batch.client_id);
   ++state_.progress[batch.pool].batches_duplicate;
-  v1::Ack ack = accepted(batch, last.seq, true);
+  v1::Ack ack = accepted(ack_for(batch), last.seq, true);
   if (last.seq > state_.progress[batch.pool].seq) {  // in this window: answer once it is durable
     waiting_duplicates_.emplace_back(ticket, std::move(ack));
     return std::nullopt;
@@ -153,7 +142,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
   if (!window_.empty()) journal_.sync();
 
   for (const PendingBatch& pending : window_) {
-    replies.emplace_back(pending.ticket, accepted(pending.batch, pending.seq, false));
+    replies.emplace_back(pending.ticket, accepted(ack_for(pending.batch), pending.seq, false));
   }
   for (auto& waiting : waiting_duplicates_) replies.push_back(std::move(waiting));
   waiting_duplicates_.clear();
@@ -193,12 +182,7 @@ std::vector<v1::Diff> PoolService::apply() {
             .count());
 
     PoolProgress& progress = state_.progress[name];
-    progress.seq = pool_work.last_seq;
-    progress.batches_accepted += pool_work.batches;
-    progress.events_applied += pool_work.events.size();
-    ++progress.commits;
-    progress.no_perfect_matching = result.status == SolveStatus::no_perfect_matching;
-    progress.last_repair = result.stats;
+    progress.record_commit(result, pool_work.last_seq, pool_work.batches);
     progress.last_timings.set_repair_us(repair_us);
 
     v1::Diff& diff = diffs.emplace_back();

@@ -15,6 +15,19 @@ v1::QueryReply error_reply(v1::Error::Code code, std::string message) {
   return reply;
 }
 
+std::string kind_name(const v1::QueryRequest& request) {
+  switch (request.kind_case()) {
+    case v1::QueryRequest::kSummary: return "summary";
+    case v1::QueryRequest::kMate: return "mate";
+    case v1::QueryRequest::kMatching: return "matching";
+    case v1::QueryRequest::kExplain: return "explain";
+    case v1::QueryRequest::kStats: return "stats";
+    case v1::QueryRequest::kSnapshot: return "snapshot";
+    case v1::QueryRequest::kHealth: return "health";
+    default: return "unknown";
+  }
+}
+
 }  // namespace
 
 QueryHandler::QueryHandler(PoolService& service, std::size_t max_message_bytes,
@@ -24,21 +37,26 @@ QueryHandler::QueryHandler(PoolService& service, std::size_t max_message_bytes,
       snapshot_now_(std::move(snapshot_now)),
       health_now_(std::move(health_now)) {}
 
-std::string QueryHandler::handle(std::string_view message) {
+std::string QueryHandler::handle(std::string_view message, std::string* kind) {
   v1::QueryReply reply;
   v1::QueryRequest request;
+  std::string asked;
   if (message.size() > max_message_bytes_) {
+    asked = "oversized";
     reply = error_reply(v1::Error::OVERSIZED_MESSAGE,
                         "message of " + std::to_string(message.size()) +
                             " bytes exceeds the limit of " + std::to_string(max_message_bytes_));
   } else if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+    asked = "malformed";
     reply = error_reply(v1::Error::MALFORMED_MESSAGE, "the message is not a yoke.v1.QueryRequest");
   } else if (request.version() != v1::PROTOCOL_VERSION_1) {
+    asked = kind_name(request);
     reply = error_reply(v1::Error::UNSUPPORTED_VERSION,
                         "protocol version " + std::to_string(request.version()) +
                             " is not spoken here; this daemon speaks version 1");
     reply.set_request_id(request.request_id());
   } else {
+    asked = kind_name(request);
     try {
       reply = answer(request);
     } catch (const std::exception& error) {
@@ -47,6 +65,7 @@ std::string QueryHandler::handle(std::string_view message) {
     reply.set_request_id(request.request_id());
   }
   reply.set_version(v1::PROTOCOL_VERSION_1);
+  if (kind != nullptr) *kind = std::move(asked);
   return reply.SerializeAsString();
 }
 

@@ -22,8 +22,10 @@ class QueryHandler {
   QueryHandler(PoolService& service, std::size_t max_message_bytes, SnapshotNow snapshot_now,
                HealthNow health_now);
 
-  // One request's bytes in, the serialized QueryReply out. Never throws for bad input.
-  std::string handle(std::string_view message);
+  // One request's bytes in, the serialized QueryReply out. Never throws for bad input. When
+  // `kind` is given it receives what was asked, for metrics: "summary", ..., "health", or
+  // "unknown" (no kind this daemon knows), "malformed" (unreadable), "oversized".
+  std::string handle(std::string_view message, std::string* kind = nullptr);
 
   // Alternatives listed when a request asks for 0, and the most it may ask for.
   static constexpr std::uint32_t kDefaultAlternatives = 5;

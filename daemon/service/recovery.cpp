@@ -64,12 +64,7 @@ void apply_commit_group(const CommitGroup& group, ServiceState& state) {
     throw fail("event " + std::to_string(error->index) + " does not apply: " + error->message);
   }
   const CommitResult result = pool->commit(group.events);
-  progress.seq = group.records.back().seq();
-  progress.batches_accepted += group.records.size();
-  progress.events_applied += group.events.size();
-  ++progress.commits;
-  progress.no_perfect_matching = result.status == SolveStatus::no_perfect_matching;
-  progress.last_repair = result.stats;
+  progress.record_commit(result, group.records.back().seq(), group.records.size());
   for (const v1::JournalRecord& record : group.records) {
     if (!record.client_id().empty()) {
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});
@@ -131,7 +126,7 @@ ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
   }
 
   state.next_journal_seq = std::max<std::uint64_t>({journal.next_seq(), position, 1});
-  report.pools = state.registry.names().size();
+  report.pools = state.registry.size();
   return state;
 }
 

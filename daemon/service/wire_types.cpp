@@ -62,6 +62,42 @@ v1::RepairStats to_wire(const RepairStats& stats) {
   return wire;
 }
 
+v1::Event to_wire(const Event& event) {
+  v1::Event wire;
+  switch (event.kind) {
+    case EventKind::add_vertex: wire.set_kind(v1::Event::ADD_VERTEX); break;
+    case EventKind::set_edge: wire.set_kind(v1::Event::SET_EDGE); break;
+    case EventKind::unset_edge: wire.set_kind(v1::Event::UNSET_EDGE); break;
+    case EventKind::remove_vertex: wire.set_kind(v1::Event::REMOVE_VERTEX); break;
+  }
+  wire.set_u(event.u);
+  if (event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge) {
+    wire.set_v(event.v);
+  }
+  if (event.kind == EventKind::set_edge) wire.set_w(event.w);
+  return wire;
+}
+
+v1::Ack batch_ack(const std::string& client_id, std::uint64_t client_batch,
+                  const std::string& pool) {
+  v1::Ack ack;
+  ack.set_client_id(client_id);
+  ack.set_client_batch(client_batch);
+  ack.set_pool(pool);
+  return ack;
+}
+
+v1::Ack accepted(v1::Ack ack, std::uint64_t seq, bool duplicate) {
+  ack.mutable_accepted()->set_seq(seq);
+  ack.mutable_accepted()->set_duplicate(duplicate);
+  return ack;
+}
+
+v1::Ack refused(v1::Ack ack, v1::Error error) {
+  *ack.mutable_rejected()->add_errors() = std::move(error);
+  return ack;
+}
+
 v1::Error::Code to_wire(EventErrorCode code) {
   switch (code) {
     case EventErrorCode::vertex_exists: return v1::Error::VERTEX_EXISTS;

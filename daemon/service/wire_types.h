@@ -7,6 +7,8 @@
 #include <string>
 
 #include "engine/pool.h"
+#include "yoke/v1/events.pb.h"
+#include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/pool.pb.h"
 #include "yoke/v1/protocol.pb.h"
 
@@ -22,7 +24,17 @@ std::optional<PoolLimits> from_wire(const v1::PoolLimits& limits);
 v1::Pair to_wire(const MatchedPair& pair);
 v1::RepairStats to_wire(const RepairStats& stats);
 
+// An engine event as the ingest socket takes it: v only on edge events, w only on SET_EDGE
+// (the schema refuses them elsewhere). decode_event (batch_decoder.h) reads it back.
+v1::Event to_wire(const Event& event);
+
 v1::Error::Code to_wire(EventErrorCode code);
+
+// An Ack naming its batch, before its outcome is set; `accepted` and `refused` add one.
+v1::Ack batch_ack(const std::string& client_id, std::uint64_t client_batch,
+                  const std::string& pool);
+v1::Ack accepted(v1::Ack ack, std::uint64_t seq, bool duplicate);
+v1::Ack refused(v1::Ack ack, v1::Error error);
 
 v1::Error make_error(v1::Error::Code code, std::string message,
                      std::optional<std::uint32_t> event_index = std::nullopt);

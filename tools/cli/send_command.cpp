@@ -3,7 +3,6 @@
 #include <unistd.h>
 
 #include <array>
-#include <chrono>
 #include <iostream>
 
 #include "batch_sender.h"
@@ -11,6 +10,8 @@
 #include "event_script.h"
 #include "file_io.h"
 #include "number_options.h"
+#include "daemon/service/unix_time.h"
+#include "daemon/service/wire_types.h"
 #include "proto_json.h"
 #include "yoke/v1/ingest.pb.h"
 
@@ -28,18 +29,7 @@ constexpr const char* kSendHelp =
     "Exit codes: 0 all acknowledged; 2 a malformed script, or a batch the daemon rejects\n"
     "(FILE:LINE names its event); 4 no acknowledgement after the retries.";
 
-yoke::v1::Event::Kind proto_kind(EventKind kind) {
-  switch (kind) {
-    case EventKind::add_vertex: return yoke::v1::Event::ADD_VERTEX;
-    case EventKind::set_edge: return yoke::v1::Event::SET_EDGE;
-    case EventKind::unset_edge: return yoke::v1::Event::UNSET_EDGE;
-    case EventKind::remove_vertex: return yoke::v1::Event::REMOVE_VERTEX;
-  }
-  return yoke::v1::Event::KIND_UNSPECIFIED;
-}
-
-// One batch as the ingest socket takes it. v and w are left 0 where the kind has none (the
-// script parser leaves them 0), as the schema requires.
+// One batch as the ingest socket takes it.
 std::string ingest_request(const ScriptBatch& batch, const SendOptions& options,
                            const std::string& client_id, std::uint64_t number,
                            std::uint64_t after) {
@@ -51,13 +41,7 @@ std::string ingest_request(const ScriptBatch& batch, const SendOptions& options,
   out.set_pool(options.pool);
   out.set_after_batch(after);
   out.mutable_events()->Reserve(static_cast<int>(batch.events.size()));
-  for (const Event& event : batch.events) {
-    yoke::v1::Event& message = *out.add_events();
-    message.set_kind(proto_kind(event.kind));
-    message.set_u(event.u);
-    message.set_v(event.v);
-    message.set_w(event.w);
-  }
+  for (const Event& event : batch.events) *out.add_events() = daemon::to_wire(event);
   return request.SerializeAsString();
 }
 
@@ -65,12 +49,6 @@ std::string default_client_id() {
   std::array<char, 256> host{};
   if (gethostname(host.data(), host.size() - 1) != 0) host[0] = '\0';
   return "yoke-send-" + std::string(host.data()) + "-" + std::to_string(getpid());
-}
-
-std::uint64_t unix_time_us() {
-  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
-                                        std::chrono::system_clock::now().time_since_epoch())
-                                        .count());
 }
 
 // The line a refusal is about: its event's, or else the batch's `commit` (the last event's
@@ -155,7 +133,7 @@ int run_send(const SendOptions& options) {
 
   SenderSettings settings;
   settings.client_id = client_id;
-  settings.first_batch_number = unix_time_us();
+  settings.first_batch_number = daemon::unix_time_us();
   settings.in_flight = static_cast<std::size_t>(options.in_flight);
   settings.timeout = timeout_from_option(options.timeout_ms);
   settings.retries = options.retries;

@@ -9,22 +9,13 @@
 #include <stdexcept>
 #include <thread>
 
+#include "daemon/service/wire_types.h"
 #include "yoke/v1/ingest.pb.h"
 
 namespace yoke::bench {
 namespace {
 
 using Clock = std::chrono::steady_clock;
-
-v1::Event::Kind wire_kind(EventKind kind) {
-  switch (kind) {
-    case EventKind::add_vertex: return v1::Event::ADD_VERTEX;
-    case EventKind::set_edge: return v1::Event::SET_EDGE;
-    case EventKind::unset_edge: return v1::Event::UNSET_EDGE;
-    case EventKind::remove_vertex: return v1::Event::REMOVE_VERTEX;
-  }
-  return v1::Event::KIND_UNSPECIFIED;
-}
 
 double micros_since(Clock::time_point start) {
   return std::chrono::duration<double, std::micro>(Clock::now() - start).count();
@@ -103,13 +94,7 @@ std::vector<EncodedBatch> encode_batches(const std::vector<std::vector<Event>>& 
     wire.set_client_id(client_id);
     wire.set_client_batch(number);
     wire.set_pool(pool);
-    for (const Event& event : batch) {
-      v1::Event& e = *wire.add_events();
-      e.set_kind(wire_kind(event.kind));
-      e.set_u(event.u);
-      if (event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge) e.set_v(event.v);
-      if (event.kind == EventKind::set_edge) e.set_w(event.w);
-    }
+    for (const Event& event : batch) *wire.add_events() = daemon::to_wire(event);
     encoded.push_back({request.SerializeAsString(), batch.size(), number});
     ++number;
   }
