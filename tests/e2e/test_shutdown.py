@@ -17,6 +17,24 @@ class ShutdownTest(unittest.TestCase):
     def setUp(self):
         check_binaries()
 
+    def test_snapshots_after_events_and_not_when_idle(self):
+        # snapshots.after_events: a snapshot once that many events were journalled since the
+        # last one (daemon_config.h); the timer skips a daemon idle since its last snapshot.
+        daemon = Daemon(self, config="[snapshots]\nafter_events = 500\ninterval_seconds = 1\n")
+        daemon.start()
+        path = os.path.join(daemon.dir, "harbour.txt")
+        gen_stream(path, "city", 100, 2000, 20, seed=17)
+        daemon.yoke("send", path)
+        by_events = len(daemon.log_lines("snapshot_written"))
+        self.assertGreaterEqual(by_events, 2, daemon.log_text())  # > 2000 events, 500 a time
+        time.sleep(1.5)  # the timer fires at least once: one snapshot of the last state at most
+        settled = len(daemon.log_lines("snapshot_written"))
+        self.assertLessEqual(settled - by_events, 1, daemon.log_text())
+        time.sleep(2.5)  # idle: the timer fires twice more and writes nothing
+        self.assertEqual(len(daemon.log_lines("snapshot_written")), settled, daemon.log_text())
+        summary = daemon.summary()
+        self.assertEqual(daemon.ask("stats").stats.last_snapshot_seq, summary["seq"])
+
     def test_sigterm_snapshot_and_restart(self):
         daemon = Daemon(self).start()
         streams = {}
