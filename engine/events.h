@@ -26,6 +26,11 @@ struct Event {
   Weight w = 0;     // set_edge only
 };
 
+// The event of a batch that a change of pairs goes back to: its index in the committed batch.
+// kNoCause when the batch was solved from scratch (the pool was empty before it).
+using EventCause = std::uint32_t;
+inline constexpr EventCause kNoCause = 0xffffffffu;
+
 // What was wrong with a rejected event.
 enum class EventErrorCode : std::uint8_t {
   vertex_exists,        // add_vertex of a vertex that is alive

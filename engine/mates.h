@@ -3,11 +3,14 @@
 // A pool repairs its matching in many small steps spread over the search and the blossom
 // forest; the journal remembers, for each vertex written since it was opened, the mate it had
 // then. The diff of a commit is read from the journal: O(vertices written), never O(n).
+// Writes are tagged with the event they go back to (set_cause), so that every change of pairs
+// can name its root event.
 #pragma once
 
 #include <cstdint>
 #include <vector>
 
+#include "events.h"
 #include "types.h"
 
 namespace yoke {
@@ -16,7 +19,8 @@ class Mates {
  public:
   struct Change {
     Vertex vertex;
-    Vertex before;  // the mate when the journal was opened
+    Vertex before;           // the mate when the journal was opened
+    EventCause first_cause;  // the cause of the first write: when v lost `before`
   };
 
   explicit Mates(std::size_t vertex_count = 0) : mate_(vertex_count, kNoVertex) {}
@@ -26,9 +30,16 @@ class Mates {
   const std::vector<Vertex>& values() const { return mate_; }
 
   void set(Vertex v, Vertex m) {
-    if (journal_open_) note(v);
+    if (journal_open_) {
+      note(v);
+      last_cause_[v] = cause_;
+    }
     mate_[v] = m;
   }
+  // The event the writes from now on go back to.
+  void set_cause(EventCause cause) { cause_ = cause; }
+  // The cause of the last write of v since the journal was opened. Precondition: v was written.
+  EventCause last_cause(Vertex v) const { return last_cause_[v]; }
   // New vertices are exposed.
   void resize(std::size_t vertex_count);
   // Replaces every mate (a restored pool); the journal is closed and empty.
@@ -48,7 +59,7 @@ class Mates {
     if (written_[v] == epoch_) return;
     written_[v] = epoch_;
     position_[v] = static_cast<std::uint32_t>(journal_.size());
-    journal_.push_back({v, mate_[v]});
+    journal_.push_back({v, mate_[v], cause_});
   }
 
   std::vector<Vertex> mate_;  // kNoVertex when exposed
@@ -56,6 +67,8 @@ class Mates {
   std::uint32_t epoch_ = 0;
   std::vector<std::uint32_t> written_;   // per vertex: the epoch of its last journal entry
   std::vector<std::uint32_t> position_;  // per vertex: its entry in journal_
+  std::vector<EventCause> last_cause_;   // per vertex: valid where written_ is the epoch
+  EventCause cause_ = kNoCause;
   std::vector<Change> journal_;
 };
 

@@ -46,7 +46,11 @@ CommitResult Pool::commit(std::span<const Event> batch) {
     pool.stats.augmentations = solved.augmentations;
     pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
   } else {
-    for (const Event& event : batch) apply_event(pool, event);
+    for (std::size_t i = 0; i < batch.size(); ++i) {
+      pool.current_cause = static_cast<EventCause>(std::min<std::size_t>(i, kNoCause));
+      pool.matching.mate.set_cause(pool.current_cause);
+      apply_event(pool, batch[i]);
+    }
     search_from_roots(pool);
   }
 

@@ -1,5 +1,6 @@
 // The diff of a commit from the mate journal: every vertex whose mate was written during the
-// commit, with the mate it had before. O(vertices written + pairs changed x log).
+// commit, with the mate it had before and the event each change goes back to.
+// O(vertices written + pairs changed x log).
 #include <algorithm>
 
 #include "pool_state.h"
@@ -7,35 +8,40 @@
 namespace yoke {
 namespace {
 
-MatchedPair by_key(const PoolGraph& graph, Vertex a, Vertex b, Weight w) {
+struct Change {
+  MatchedPair pair;
+  EventCause cause;
+};
+
+Change by_key(const PoolGraph& graph, Vertex a, Vertex b, Weight w, EventCause cause) {
   const VertexKey ka = graph.key(a);
   const VertexKey kb = graph.key(b);
-  return {std::min(ka, kb), std::max(ka, kb), w};
+  return {{std::min(ka, kb), std::max(ka, kb), w}, cause};
 }
 
-auto pair_order = [](const MatchedPair& x, const MatchedPair& y) {
-  return x.a != y.a ? x.a < y.a : x.b < y.b;
+auto pair_order = [](const Change& x, const Change& y) {
+  return x.pair.a != y.pair.a ? x.pair.a < y.pair.a : x.pair.b < y.pair.b;
 };
 
 // A vertex that left and came back within the batch has a new slot, so a pair it kept shows up
 // as removed under the old slot and added under the new one: by keys it never changed.
-void drop_kept_pairs(MatchingDiff& diff) {
-  std::vector<MatchedPair> removed;
-  std::vector<MatchedPair> added;
-  auto r = diff.removed.begin();
-  auto a = diff.added.begin();
-  while (r != diff.removed.end() || a != diff.added.end()) {
-    if (a == diff.added.end() || (r != diff.removed.end() && pair_order(*r, *a))) {
-      removed.push_back(*r++);
-    } else if (r == diff.removed.end() || pair_order(*a, *r)) {
-      added.push_back(*a++);
+void drop_kept_pairs(std::vector<Change>& removed, std::vector<Change>& added, MatchingDiff& diff) {
+  auto keep = [](std::vector<MatchedPair>& pairs, std::vector<EventCause>& causes, const Change& c) {
+    pairs.push_back(c.pair);
+    causes.push_back(c.cause);
+  };
+  auto r = removed.begin();
+  auto a = added.begin();
+  while (r != removed.end() || a != added.end()) {
+    if (a == added.end() || (r != removed.end() && pair_order(*r, *a))) {
+      keep(diff.removed, diff.removed_cause, *r++);
+    } else if (r == removed.end() || pair_order(*a, *r)) {
+      keep(diff.added, diff.added_cause, *a++);
     } else {
       ++r;
       ++a;
     }
   }
-  diff.removed = std::move(removed);
-  diff.added = std::move(added);
 }
 
 }  // namespace
@@ -48,7 +54,8 @@ MatchingDiff collect_diff(PoolState& pool) {
     const auto it = pool.weight_before.find(slot_pair(a, b));
     return it != pool.weight_before.end() ? it->second : weight_now(a, b);
   };
-  MatchingDiff diff;
+  std::vector<Change> removed;
+  std::vector<Change> added;
   // Each changed pair appears in the journal from both ends: report it from the lower slot.
   for (const Mates::Change& change : mate.journal()) {
     const Vertex v = change.vertex;
@@ -56,13 +63,13 @@ MatchingDiff collect_diff(PoolState& pool) {
     if (change.before == after) continue;
     if (change.before != kNoVertex && v < change.before) {
       const Weight w = weight_then(v, change.before);
-      diff.removed.push_back(by_key(pool.graph, v, change.before, w));
+      removed.push_back(by_key(pool.graph, v, change.before, w, change.first_cause));
       pool.weight -= w;
       --pool.pairs;
     }
     if (after != kNoVertex && v < after) {
       const Weight w = weight_now(v, after);
-      diff.added.push_back(by_key(pool.graph, v, after, w));
+      added.push_back(by_key(pool.graph, v, after, w, mate.last_cause(v)));
       pool.weight += w;
       ++pool.pairs;
     }
@@ -73,9 +80,10 @@ MatchingDiff collect_diff(PoolState& pool) {
     const auto b = static_cast<Vertex>(pair & 0xffffffffu);
     if (mate.before(a) == b && mate[a] == b) pool.weight += weight_now(a, b) - w;
   }
-  std::sort(diff.removed.begin(), diff.removed.end(), pair_order);
-  std::sort(diff.added.begin(), diff.added.end(), pair_order);
-  drop_kept_pairs(diff);
+  std::sort(removed.begin(), removed.end(), pair_order);
+  std::sort(added.begin(), added.end(), pair_order);
+  MatchingDiff diff;
+  drop_kept_pairs(removed, added, diff);
   return diff;
 }
 

@@ -174,7 +174,7 @@ class EventRepair {
     if (slack < 0) dual2_[x] -= slack;
     const Vertex m = mate_[x];
     if (m != kNoVertex && (m != y || slack > 0)) unmatch(x, m);
-    pool_.root_candidates.push_back(x);
+    queue_root(x);
   }
 
   // Lifting a top-level vertex touches nothing else; lifting inside a blossom dissolves it.
@@ -198,7 +198,7 @@ class EventRepair {
   void recheck_matched_edge(Vertex base) {
     const Vertex m = mate_[base];
     if (m == kNoVertex) {
-      pool_.root_candidates.push_back(base);
+      queue_root(base);
       return;
     }
     if (slack2(base, m, graph_.find_edge(base, m)) > 0) unmatch(base, m);
@@ -207,9 +207,11 @@ class EventRepair {
   void unmatch(Vertex a, Vertex b) {
     mate_.set(a, kNoVertex);
     mate_.set(b, kNoVertex);
-    pool_.root_candidates.push_back(a);
-    pool_.root_candidates.push_back(b);
+    queue_root(a);
+    queue_root(b);
   }
+
+  void queue_root(Vertex v) { pool_.root_candidates.push_back({v, pool_.current_cause}); }
 
   void remember_weight_before(Vertex a, Vertex b, Weight w) {
     if (mate_.before(a) == b) pool_.weight_before.try_emplace(slot_pair(a, b), w);
@@ -289,12 +291,19 @@ void apply_event(PoolState& pool, const Event& event) {
 }
 
 void search_from_roots(PoolState& pool) {
-  std::vector<Vertex>& roots = pool.root_candidates;
-  const Mates& mate = pool.matching.mate;
+  using Root = PoolState::RootCandidate;
+  std::vector<Root>& roots = pool.root_candidates;
+  Mates& mate = pool.matching.mate;
   std::vector<Weight>& dual2 = pool.matching.dual2;
-  std::sort(roots.begin(), roots.end());
-  roots.erase(std::unique(roots.begin(), roots.end()), roots.end());
-  std::erase_if(roots, [&](Vertex v) {
+  // A vertex queued by several events goes back to the first of them.
+  std::sort(roots.begin(), roots.end(), [](const Root& x, const Root& y) {
+    return x.vertex != y.vertex ? x.vertex < y.vertex : x.cause < y.cause;
+  });
+  roots.erase(std::unique(roots.begin(), roots.end(),
+                          [](const Root& x, const Root& y) { return x.vertex == y.vertex; }),
+              roots.end());
+  std::erase_if(roots, [&](const Root& root) {
+    const Vertex v = root.vertex;
     return !pool.graph.alive(v) || mate[v] != kNoVertex || dual2[v] == 0;
   });
   if (roots.empty()) return;
@@ -304,8 +313,10 @@ void search_from_roots(PoolState& pool) {
   // vertex, and a lone tree never has to tell other trees about the vertices it frees.
   AlternatingSearch& search = *pool.search;
   const SolveStats before = search.stats();
-  for (Vertex v : roots) {
+  for (const Root& root : roots) {
+    const Vertex v = root.vertex;
     if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
+    mate.set_cause(root.cause);  // what this tree changes goes back to the event that queued v
     search.add_root(v);
     search.run();
   }

@@ -42,7 +42,12 @@ struct PoolState {
   std::uint64_t commits = 0;
 
   // Per commit.
-  std::vector<Vertex> root_candidates;  // may break "exposed => dual 0"; checked before searching
+  struct RootCandidate {
+    Vertex vertex;
+    EventCause cause;  // the event that queued it
+  };
+  std::vector<RootCandidate> root_candidates;  // may break "exposed => dual 0"; checked first
+  EventCause current_cause = kNoCause;         // the event being applied
   // Edges matched before the batch whose weight the batch changed or that it removed: their
   // weight before the batch, by pair of slots (the diff reports it, the objective needs it).
   std::unordered_map<std::uint64_t, Weight> weight_before;

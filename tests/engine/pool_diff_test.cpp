@@ -106,6 +106,19 @@ void expect_diff_consistent(const Pool& pool, const std::vector<MatchedPair>& be
   EXPECT_EQ(result.diff.removed, minus(before, after));
   EXPECT_EQ(result.diff.added, minus(after, before));
 
+  // Every change names the event it goes back to: one of the batch, or none for a first solve.
+  ASSERT_EQ(result.diff.removed_cause.size(), result.diff.removed.size());
+  ASSERT_EQ(result.diff.added_cause.size(), result.diff.added.size());
+  for (const auto* causes : {&result.diff.removed_cause, &result.diff.added_cause}) {
+    for (const EventCause cause : *causes) {
+      if (result.stats.initial_solve) {
+        EXPECT_EQ(cause, kNoCause);
+      } else {
+        EXPECT_LT(cause, batch.size());
+      }
+    }
+  }
+
   // Applying the diff to the matching before gives the matching after.
   std::set<KeyPair> applied = keys_of(before);
   for (const MatchedPair& p : result.diff.removed) EXPECT_EQ(applied.erase(key_of(p)), 1u);

@@ -1,0 +1,73 @@
+// The root event of each change of pairs: on small pools where the cause is known by
+// construction (common knowledge: the only event that can break or make a pair here is the one
+// named in each test).
+#include <gtest/gtest.h>
+
+#include <vector>
+
+#include "engine/certificate.h"
+#include "engine/pool.h"
+
+namespace yoke {
+namespace {
+
+Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
+Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
+Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
+Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
+
+// Every answer here is also an optimum: the independent checker accepts the pool's certificate.
+CommitResult commit_checked(Pool& pool, const std::vector<Event>& batch) {
+  CommitResult result = pool.commit(batch);
+  const PoolExport exported = pool.export_certified();
+  const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
+  EXPECT_TRUE(verdict.ok) << verdict.failure;
+  return result;
+}
+
+TEST(PoolCause, FirstSolveHasNoRootEvent) {
+  Pool pool(Mode::max_weight);
+  const std::vector<Event> batch{set(1, 2, 5), set(3, 4, 7)};
+  const CommitResult result = commit_checked(pool, batch);
+  ASSERT_EQ(result.diff.added.size(), 2u);
+  EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{kNoCause, kNoCause}));
+  EXPECT_TRUE(result.diff.removed_cause.empty());
+}
+
+TEST(PoolCause, ARivalEdgeThatRisesTakesTheVertex) {
+  Pool pool(Mode::max_weight);
+  commit_checked(pool, std::vector<Event>{set(1, 2, 5), add(3)});
+  // Event 1 makes {2,3} worth more than {1,2}: it breaks {1,2} and forms {2,3}.
+  const CommitResult result = commit_checked(pool, std::vector<Event>{add(9), set(2, 3, 9), add(10)});
+  ASSERT_EQ(result.diff.removed, (std::vector<MatchedPair>{{1, 2, 5}}));
+  ASSERT_EQ(result.diff.added, (std::vector<MatchedPair>{{2, 3, 9}}));
+  EXPECT_EQ(result.diff.removed_cause, (std::vector<EventCause>{1}));
+  EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{1}));
+}
+
+TEST(PoolCause, ADepartureFreesItsMateWhoPairsAgain) {
+  Pool pool(Mode::max_weight);
+  commit_checked(pool, std::vector<Event>{set(1, 2, 8), set(1, 4, 3), set(5, 6, 1)});
+  ASSERT_EQ(pool.mate_of(1), 2u);
+  const CommitResult result = commit_checked(pool, std::vector<Event>{set(5, 6, 2), add(7), remove(2)});
+  ASSERT_EQ(result.diff.removed, (std::vector<MatchedPair>{{1, 2, 8}}));
+  ASSERT_EQ(result.diff.added, (std::vector<MatchedPair>{{1, 4, 3}}));
+  EXPECT_EQ(result.diff.removed_cause, (std::vector<EventCause>{2}));
+  EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{2}));
+}
+
+TEST(PoolCause, EachChangeGoesBackToItsOwnEvent) {
+  Pool pool(Mode::max_weight);
+  commit_checked(pool, std::vector<Event>{set(1, 2, 5), set(3, 4, 5), set(2, 3, 1)});
+  // Event 0 removes {1,2}; event 1 lowers {3,4} below zero, so 3 and 4 part. Then 2 and 3 are
+  // both free and {2,3} forms from the search of one of them: event 0's or event 1's.
+  const CommitResult result = commit_checked(pool, std::vector<Event>{unset(1, 2), set(3, 4, -1)});
+  ASSERT_EQ(result.diff.removed, (std::vector<MatchedPair>{{1, 2, 5}, {3, 4, 5}}));
+  ASSERT_EQ(result.diff.added, (std::vector<MatchedPair>{{2, 3, 1}}));
+  EXPECT_EQ(result.diff.removed_cause, (std::vector<EventCause>{0, 1}));
+  ASSERT_EQ(result.diff.added_cause.size(), 1u);
+  EXPECT_LE(result.diff.added_cause[0], 1u);
+}
+
+}  // namespace
+}  // namespace yoke
