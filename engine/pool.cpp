@@ -6,13 +6,16 @@
 
 namespace yoke {
 
-PoolState::PoolState(Mode pool_mode, PoolLimits pool_limits)
+PoolState::PoolState(Mode pool_mode, PoolLimits pool_limits, Weight bonus)
     : mode(pool_mode),
       limits(pool_limits),
-      weight_offset(resolve_limits(pool_mode, limits)),
+      churn_bonus(bonus),
+      weight_offset(resolve_limits(pool_mode, limits, bonus)),
       matching(graph.capacity()),
       search(std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching)),
-      node_mark(2 * graph.capacity(), 0) {}
+      node_mark(2 * graph.capacity(), 0) {
+  if (churn_bonus != 0) bonus_mate.assign(graph.capacity(), kNoVertex);
+}
 
 void PoolState::fit_capacity() {
   const std::size_t n = graph.capacity();
@@ -21,15 +24,18 @@ void PoolState::fit_capacity() {
   matching.forest.grow(n);
   node_mark.assign(2 * n, 0);
   node_stamp = 0;
+  if (churn_bonus != 0) bonus_mate.resize(n, kNoVertex);
   // The search's per-node arrays follow the capacity; it keeps no state between runs.
   search = std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching);
 }
 
-Pool::Pool(Mode mode, PoolLimits limits) : state_(std::make_unique<State>(mode, limits)) {}
+Pool::Pool(Mode mode, PoolLimits limits, Weight churn_bonus)
+    : state_(std::make_unique<State>(mode, limits, churn_bonus)) {}
 Pool::~Pool() = default;
 
 Mode Pool::mode() const { return state_->mode; }
 const PoolLimits& Pool::limits() const { return state_->limits; }
+Weight Pool::churn_bonus() const { return state_->churn_bonus; }
 
 CommitResult Pool::commit(std::span<const Event> batch) {
   State& pool = *state_;
@@ -53,6 +59,7 @@ CommitResult Pool::commit(std::span<const Event> batch) {
     }
     search_from_roots(pool);
   }
+  settle_churn_bonus(pool);
 
   CommitResult result;
   result.diff = collect_diff(pool);
@@ -92,7 +99,7 @@ std::vector<MatchedPair> Pool::matching() const {
     if (m == kNoVertex || m < v) continue;
     const VertexKey a = pool.graph.key(v);
     const VertexKey b = pool.graph.key(m);
-    const Weight w = pool.graph.graph().edge(pool.graph.find_edge(v, m)).w;
+    const Weight w = pool.own_weight(v, m, pool.graph.find_edge(v, m));
     pairs.push_back({std::min(a, b), std::max(a, b), w});
   }
   std::sort(pairs.begin(), pairs.end(), [](const MatchedPair& x, const MatchedPair& y) {
@@ -120,6 +127,8 @@ PoolExport Pool::export_certified() const {
     }
   }
   out.graph = Graph::from_edges(n, std::move(edges));
+
+  out.matched_bonus = pool.churn_bonus;
 
   Certificate& cert = out.certificate;
   cert.mode = pool.mode;

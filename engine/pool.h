@@ -89,29 +89,40 @@ struct Alternative {
 struct VertexExplanation {
   std::optional<VertexKey> mate;
   Weight pair_weight = 0;   // 0 when unpaired
+  Weight pair_bonus = 0;    // the churn bonus the pair carries on top (in the duals and slacks)
   Weight dual2 = 0;         // doubled price
   Weight weight_offset = 0;
   std::vector<Alternative> alternatives;  // least slack first, ties by key
 };
 
 // The pool as a static graph (dense ids 0..n-1; keys[i] names vertex i) with its certificate,
-// for the independent checker and for comparisons with a from-scratch solve.
+// for the independent checker and for comparisons with a from-scratch solve. With a churn bonus
+// the graph holds the weights the pool optimises: every matched edge carries matched_bonus on
+// top of its own weight, so the certificate proves the matching optimal with its standing pairs
+// favoured by that much.
 struct PoolExport {
   Graph graph;
   std::vector<VertexKey> keys;
   Certificate certificate;
+  Weight matched_bonus = 0;
 };
 
 class Pool {
  public:
   // Throws InputError when the limits exceed what the mode can keep exact.
-  explicit Pool(Mode mode, PoolLimits limits = {});
+  //
+  // Churn control: with churn_bonus > 0 a commit maximises w(M) + churn_bonus x |M ∩ M_before|,
+  // where M_before is the matching before the batch: a standing pair is kept unless replacing
+  // it gains more than the bonus. Reported weights never include the bonus. The bonus takes
+  // room from the weight bound: max_abs_weight + churn_bonus must stay within the mode's bound.
+  explicit Pool(Mode mode, PoolLimits limits = {}, Weight churn_bonus = 0);
   ~Pool();
   Pool(const Pool&) = delete;
   Pool& operator=(const Pool&) = delete;
 
   Mode mode() const;
   const PoolLimits& limits() const;
+  Weight churn_bonus() const;
 
   // The first event of `batch` that cannot be applied to the current state (unknown vertex or
   // edge, self loop, weight out of range, a limit exceeded), or nothing. Earlier events of the

@@ -48,8 +48,8 @@ void drop_kept_pairs(std::vector<Change>& removed, std::vector<Change>& added, M
 
 MatchingDiff collect_diff(PoolState& pool) {
   const Mates& mate = pool.matching.mate;
-  const Graph& graph = pool.graph.graph();
-  auto weight_now = [&](Vertex a, Vertex b) { return graph.edge(pool.graph.find_edge(a, b)).w; };
+  // Own weights, without the churn bonus: between commits the bonus sits on the matching.
+  auto weight_now = [&](Vertex a, Vertex b) { return pool.own_weight(a, b, pool.graph.find_edge(a, b)); };
   auto weight_then = [&](Vertex a, Vertex b) {
     const auto it = pool.weight_before.find(slot_pair(a, b));
     return it != pool.weight_before.end() ? it->second : weight_now(a, b);

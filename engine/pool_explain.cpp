@@ -39,7 +39,8 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
   if (mate[v] != kNoVertex) out.mate = pool.graph.key(mate[v]);
   for (const Incidence& inc : pool.graph.graph().incident(v)) {
     if (inc.other == mate[v]) {
-      out.pair_weight = inc.w;
+      out.pair_bonus = pool.bonus_on(v, inc.other);
+      out.pair_weight = inc.w - out.pair_bonus;
       continue;
     }
     Alternative alt;

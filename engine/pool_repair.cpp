@@ -2,6 +2,7 @@
 // blossom-cycle edges tight and blossoms full; the only condition it may break is "an exposed
 // vertex has dual 0", at vertices it queues as roots for the search that ends the commit.
 #include <algorithm>
+#include <utility>
 
 #include "pool_state.h"
 
@@ -34,6 +35,14 @@ class EventRepair {
     }
   }
 
+  // Moves the churn bonus between pairs: `delta` is +bonus for a pair that now carries it and
+  // -bonus for one that no longer does. Repaired as any other weight change.
+  void shift_bonus(Vertex a, Vertex b, Weight delta) {
+    const EdgeIndex e = graph_.find_edge(a, b);
+    if (e == kNoEdge) return;  // the pair broke because its edge left
+    reweigh(a, b, e, graph_.graph().edge(e).w + delta);
+  }
+
  private:
   struct Common {
     NodeId lowest;  // the smallest blossom holding both ends, kNoNode when none does
@@ -55,9 +64,14 @@ class EventRepair {
       restore_edge(a, b, graph_.add_edge(a, b, w), /*tight_before=*/false);
       return;
     }
+    const Weight carried = w + pool_.bonus_on(a, b);  // a standing pair keeps its bonus
     const Weight before = graph_.graph().edge(e).w;
-    if (before == w) return;
+    if (before == carried) return;
     remember_weight_before(a, b, before);
+    reweigh(a, b, e, carried);
+  }
+
+  void reweigh(Vertex a, Vertex b, EdgeIndex e, Weight w) {
     const bool tight_before = slack2(a, b, e) == 0;
     graph_.set_weight(e, w);
     restore_edge(a, b, e, tight_before);
@@ -129,6 +143,7 @@ class EventRepair {
     remember_weight_before(a, b, graph_.graph().edge(e).w);
     dissolve_if_cycle_edge(a, b, slack2(a, b, e) == 0);
     if (mate_[a] == b) unmatch(a, b);
+    if (pool_.bonus_on(a, b) != 0) drop_bonus(a);  // the edge takes its bonus with it
     graph_.remove_edge(e);
   }
 
@@ -142,6 +157,7 @@ class EventRepair {
       graph_.remove_edge(inc.edge);
     }
     dual2_[v] = 0;
+    drop_bonus(v);
     graph_.remove_vertex(v);
     ++pool_.stats.vertices_touched;
   }
@@ -211,10 +227,18 @@ class EventRepair {
     queue_root(b);
   }
 
+  // A pair whose edge leaves loses its bonus: an edge set again later in the batch is new.
+  void drop_bonus(Vertex v) {
+    if (pool_.churn_bonus == 0 || pool_.bonus_mate[v] == kNoVertex) return;
+    pool_.bonus_mate[pool_.bonus_mate[v]] = kNoVertex;
+    pool_.bonus_mate[v] = kNoVertex;
+  }
+
   void queue_root(Vertex v) { pool_.root_candidates.push_back({v, pool_.current_cause}); }
 
+  // The weight the outside world gave the pair, without the bonus it carried in the graph.
   void remember_weight_before(Vertex a, Vertex b, Weight w) {
-    if (mate_.before(a) == b) pool_.weight_before.try_emplace(slot_pair(a, b), w);
+    if (mate_.before(a) == b) pool_.weight_before.try_emplace(slot_pair(a, b), w - pool_.bonus_on(a, b));
   }
 
   Weight slack2(Vertex a, Vertex b, EdgeIndex e) {
@@ -324,6 +348,47 @@ void search_from_roots(PoolState& pool) {
   pool.stats.searches += after.searches - before.searches;
   pool.stats.augmentations += after.augmentations - before.augmentations;
   pool.stats.vertices_touched += after.scans - before.scans;
+}
+
+void settle_churn_bonus(PoolState& pool) {
+  if (pool.churn_bonus == 0) return;
+  Mates& mate = pool.matching.mate;
+  std::vector<Vertex>& bonus_mate = pool.bonus_mate;
+  const Weight bonus = pool.churn_bonus;
+  pool.current_cause = kNoCause;  // the repair may only swap pairs of equal worth: no event did it
+  mate.set_cause(kNoCause);
+  EventRepair repair(pool);
+  std::vector<std::pair<Vertex, Vertex>> lose;
+  std::vector<std::pair<Vertex, Vertex>> gain;
+  // Only vertices whose mate changed (the mate journal) can differ from their bonus pair. Each
+  // pass moves the bonus from the pairs the matching no longer has to the pairs it has now, all
+  // against the matching at the start of the pass; a move that breaks a pair is repaired by the
+  // search. The matching is optimal for the moved bonus too (a pass after the first only follows
+  // a tie), so the loop ends when a pass finds nothing to move, after one or two passes.
+  for (;;) {
+    lose.clear();
+    gain.clear();
+    for (std::size_t i = 0; i < mate.journal().size(); ++i) {
+      const Vertex v = mate.journal()[i].vertex;
+      const Vertex m = mate[v];
+      const Vertex held = bonus_mate[v];
+      if (held == m) continue;
+      if (held != kNoVertex && v < held) lose.emplace_back(v, held);
+      if (m != kNoVertex && v < m) gain.emplace_back(v, m);
+    }
+    if (lose.empty() && gain.empty()) return;
+    for (const auto& [a, b] : lose) {
+      bonus_mate[a] = bonus_mate[b] = kNoVertex;
+      if (pool.graph.alive(a) && pool.graph.alive(b)) repair.shift_bonus(a, b, -bonus);
+    }
+    for (const auto& [a, b] : gain) {
+      if (mate[a] != b) continue;  // broken by a move above: the next pass looks again
+      bonus_mate[a] = b;
+      bonus_mate[b] = a;
+      repair.shift_bonus(a, b, bonus);
+    }
+    search_from_roots(pool);
+  }
 }
 
 }  // namespace yoke

@@ -9,7 +9,7 @@ namespace yoke {
 namespace {
 
 constexpr std::uint64_t kMagic = 0x4c4f4f50454b4f59;  // "YOKEPOOL"
-constexpr std::uint32_t kVersion = 1;
+constexpr std::uint32_t kVersion = 2;  // 2 added the churn bonus; 1 is read as bonus 0
 
 void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2) {
   for (Vertex v = 0; v < mate.size(); ++v) {
@@ -26,11 +26,15 @@ void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector
 // (the engine's arithmetic counts on it: a weight of 2^62 that no optimality condition minds
 // overflowed the next repair), and the weight and pair counters equal to the matching's (the
 // objective is only ever moved by diffs after this). Found by tests/fuzz/snapshot_fuzz.
-void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weight weight,
-                   std::uint64_t pairs) {
+// With a churn bonus, matched edges carry it on top of their own weight.
+void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weight bonus,
+                   Weight weight, std::uint64_t pairs) {
   const Graph& g = graph.graph();
   for (EdgeIndex e = 0; e < g.edge_slots(); ++e) {
-    if (g.is_live(e) && (g.edge(e).w > bound || g.edge(e).w < -bound)) {
+    if (!g.is_live(e)) continue;
+    const Edge& edge = g.edge(e);
+    const Weight own = edge.w - (mate[edge.a] == edge.b ? bonus : 0);
+    if (own > bound || own < -bound) {
       ByteReader::fail("edge " + std::to_string(e) + " has a weight beyond the pool's bound");
     }
   }
@@ -39,7 +43,7 @@ void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weig
   for (Vertex v = 0; v < mate.size(); ++v) {
     const Vertex m = mate[v];
     if (m == kNoVertex || m < v) continue;
-    total += g.edge(graph.find_edge(v, m)).w;
+    total += g.edge(graph.find_edge(v, m)).w - bonus;
     ++count;
   }
   if (total != weight || count != pairs) {
@@ -60,6 +64,7 @@ std::string Pool::save() const {
   out.put<std::uint64_t>(pool.limits.max_vertices);
   out.put<std::uint64_t>(pool.limits.max_edges);
   out.put(pool.limits.max_abs_weight);
+  out.put(pool.churn_bonus);
   out.put(pool.commits);
   out.put(pool.weight);
   out.put<std::uint64_t>(pool.pairs);
@@ -73,14 +78,17 @@ std::string Pool::save() const {
 std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   ByteReader in(bytes);
   if (in.get<std::uint64_t>() != kMagic) ByteReader::fail("it does not start with the pool magic");
-  if (in.get<std::uint32_t>() != kVersion) ByteReader::fail("unknown format version");
+  const auto version = in.get<std::uint32_t>();
+  if (version != 1 && version != kVersion) ByteReader::fail("unknown format version");
   const auto mode_number = in.get<std::uint8_t>();
   if (mode_number > static_cast<std::uint8_t>(Mode::perfect)) ByteReader::fail("unknown mode");
   PoolLimits limits;
   limits.max_vertices = in.get<std::uint64_t>();
   limits.max_edges = in.get<std::uint64_t>();
   limits.max_abs_weight = in.get<Weight>();
-  auto state = std::make_unique<State>(static_cast<Mode>(mode_number), limits);
+  const Weight bonus = version >= 2 ? in.get<Weight>() : 0;
+  // The constructor checks the limits and the bonus: an InputError is what restore() throws.
+  auto state = std::make_unique<State>(static_cast<Mode>(mode_number), limits, bonus);
   State& pool = *state;
   pool.commits = in.get<std::uint64_t>();
   pool.weight = in.get<Weight>();
@@ -91,7 +99,9 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   if (pool.matching.mate.size() != n) ByteReader::fail("the matching has the wrong length");
   pool.matching.dual2 = in.get_vector<Weight>(n);
   check_matching(pool.graph, pool.matching.mate, pool.matching.dual2);
-  check_weights(pool.graph, pool.matching.mate, pool.limits.max_abs_weight, pool.weight, pool.pairs);
+  check_weights(pool.graph, pool.matching.mate, pool.limits.max_abs_weight, bonus, pool.weight,
+                pool.pairs);
+  if (bonus != 0) pool.bonus_mate = pool.matching.mate.values();  // between commits: the matching
   pool.matching.forest = BlossomForest::load(in);
   if (pool.matching.forest.vertex_count() != n) ByteReader::fail("the forest has the wrong size");
   if (!in.done()) ByteReader::fail("bytes are left over at the end");

@@ -14,12 +14,13 @@
 
 namespace yoke {
 
-// Fills in the limits the caller left open and checks that the mode keeps them exact; returns
-// the weight offset of the mode. Throws InputError naming the bound that fails.
-Weight resolve_limits(Mode mode, PoolLimits& limits);
+// Fills in the limits the caller left open and checks that the mode keeps them exact with the
+// churn bonus on top of every weight; returns the weight offset of the mode. Throws InputError
+// naming the bound that fails.
+Weight resolve_limits(Mode mode, PoolLimits& limits, Weight churn_bonus);
 
 struct PoolState {
-  PoolState(Mode mode, PoolLimits limits);
+  PoolState(Mode mode, PoolLimits limits, Weight churn_bonus);
 
   // Grows every per-vertex array to graph.capacity() after the graph gained slots. Blossom ids
   // change, so no node id may be held across this call.
@@ -27,12 +28,25 @@ struct PoolState {
 
   Weight weight2(EdgeIndex e) const { return 2 * (graph.graph().edge(e).w + weight_offset); }
 
+  // The bonus edge {a, b} carries in the graph: churn_bonus when it is a pair of bonus_mate.
+  Weight bonus_on(Vertex a, Vertex b) const {
+    return churn_bonus != 0 && bonus_mate[a] == b ? churn_bonus : 0;
+  }
+  // The weight the outside world gave edge e = {a, b}: the graph's, less its bonus.
+  Weight own_weight(Vertex a, Vertex b, EdgeIndex e) const {
+    return graph.graph().edge(e).w - bonus_on(a, b);
+  }
+
   const Mode mode;
   PoolLimits limits;
+  const Weight churn_bonus;    // 0: no churn control
   const Weight weight_offset;  // added to every weight (max-cardinality and perfect modes)
 
   PoolGraph graph;
   MatchingState matching;                    // mate, doubled duals, blossom forest by slot
+  // The pairs whose edges carry the churn bonus in the graph: the matching before the batch
+  // during a commit, the matching itself between commits. Empty when churn_bonus is 0.
+  std::vector<Vertex> bonus_mate;
   std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
   std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
   std::uint32_t node_stamp = 0;
@@ -70,6 +84,9 @@ void load_event(PoolState& pool, const Event& event);
 void apply_event(PoolState& pool, const Event& event);
 // Grows alternating trees from the queued roots until the matching is optimal again.
 void search_from_roots(PoolState& pool);
+// Moves the churn bonus from the pairs the commit broke to the pairs it formed, repairing after
+// each move, until the bonus sits on exactly the matching (DESIGN.md section 4, churn).
+void settle_churn_bonus(PoolState& pool);
 // The diff of the commit, read from the mate journal; updates pool.weight and pool.pairs.
 MatchingDiff collect_diff(PoolState& pool);
 

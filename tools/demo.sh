@@ -1,11 +1,17 @@
 #!/usr/bin/env bash
 # The README's first command: sets up the machine, builds yoke (Release), starts the yoked
-# daemon on a fresh data directory, and streams an evening of Larkspur Bay courier dispatch
-# through it: a subscriber watches the published diffs, `yoke send` delivers the batches (each
-# acknowledged once durable), the daemon is killed with SIGKILL halfway and restarted, and at the
-# end the journal is replayed with every commit's certificate checked. Exits non-zero if any
-# step fails, and stops the daemon in every case.
-#   tools/demo.sh                         # build in build/, demo files in build/demo/
+# daemon on a fresh data directory and runs the live demo (tools/demo/city_sim.py): an evening
+# of courier dispatch in the invented harbour city of Larkspur Bay, one batch of events per tick,
+# fed to two pools, `bay` (with a churn bonus) and `bay-plain` (without), with a live summary.
+# Then it stops the daemon with SIGTERM, replays the journal of `bay` with every commit's
+# certificate checked, and prints the commands to look further. Exits non-zero if a step fails,
+# and stops the daemon in every case. Ctrl-C during the run ends the simulation early; the
+# rest still runs.
+#   tools/demo.sh                    # build in build/, demo files in build/demo/ (the previous
+#                                    # run's are moved to build/demo.previous/)
+#   tools/demo.sh --seconds 20       # a shorter run (default 45 s)
+#   tools/demo.sh --churn-bonus 0    # no bonus on `bay` (default 60)
+#   tools/demo.sh --crash            # also SIGKILL the daemon halfway and restart it
 #   YOKE_BUILD_DIR=build-x tools/demo.sh  # another build directory
 # The daemon listens on the default loopback endpoints (tcp://127.0.0.1:7410-7412, metrics on
 # 127.0.0.1:7413); they must be free.
@@ -13,107 +19,153 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 build_dir="${YOKE_BUILD_DIR:-build}"
-seed=20240611
+seconds=45
+churn_bonus=60
+crash=0
+seed=20261203
+while (($#)); do
+  case "$1" in
+    --seconds) seconds="$2"; shift 2 ;;
+    --churn-bonus) churn_bonus="$2"; shift 2 ;;
+    --seed) seed="$2"; shift 2 ;;
+    --crash) crash=1; shift ;;
+    *) echo "usage: tools/demo.sh [--seconds N] [--churn-bonus N] [--seed S] [--crash]" >&2
+       exit 2 ;;
+  esac
+done
 
 tools/setup.sh
 cmake -S . -B "$build_dir" -G Ninja -DCMAKE_BUILD_TYPE=Release
-cmake --build "$build_dir" -j 2 --target yoke yoked
+cmake --build "$build_dir" -j 2 --target yoke yoked yoke_proto_python
 
+python=/usr/bin/python3  # Debian's, with python3-zmq and python3-protobuf
 yoke="$build_dir/tools/cli/yoke"
 yoked="$build_dir/daemon/server/yoked"
 demo="$build_dir/demo"
 data="$demo/data"
-rm -rf "$demo"
+export PYTHONPATH="$build_dir/proto/python:tools/python${PYTHONPATH:+:$PYTHONPATH}"
+if [[ -d "$demo" ]]; then
+  rm -rf "$demo.previous"
+  mv "$demo" "$demo.previous"
+fi
 mkdir -p "$demo"
 
-daemon_pid=""
-watch_pid=""
+crash_pid=""
 stop_all() {
-  [[ -n "$watch_pid" ]] && kill "$watch_pid" 2>/dev/null || true
-  [[ -n "$daemon_pid" ]] && kill "$daemon_pid" 2>/dev/null || true
+  [[ -n "$crash_pid" ]] && kill "$crash_pid" 2>/dev/null || true
+  [[ -f "$demo/yoked.pid" ]] && kill "$(cat "$demo/yoked.pid")" 2>/dev/null || true
   wait 2>/dev/null || true
 }
 trap stop_all EXIT
 
+write_config() {  # $1: the churn bonus of `bay`, or "" for none
+  {
+    echo '[logging]'
+    echo "file = \"$demo/yoked.log\""
+    echo
+    "$python" tools/demo/city_sim.py --write-config - ${1:+--churn-bonus "$1"}
+  } > "$demo/yoked.toml"
+}
+
+# Starts yoked in a session of its own (a Ctrl-C meant for the simulation does not reach it)
+# and waits until it answers; its pid goes to $demo/yoked.pid.
 start_daemon() {
-  "$yoked" --data-dir "$data" 2>>"$demo/yoked.log" &
-  daemon_pid=$!
+  setsid "$yoked" --data-dir "$data" --config "$demo/yoked.toml" 2>>"$demo/yoked.stderr" &
+  echo $! > "$demo/yoked.pid"
   for _ in $(seq 100); do
     "$yoke" query health --timeout-ms 100 >/dev/null 2>&1 && return 0
+    kill -0 "$(cat "$demo/yoked.pid")" 2>/dev/null || return 1
     sleep 0.05
   done
-  echo "demo: yoked did not start; its log:" >&2
-  cat "$demo/yoked.log" >&2
   return 1
 }
 
-echo
-echo "demo: the Larkspur Bay evening shift: 3000 couriers and orders, then 20000 changes"
-echo "      (prices drift, orders arrive, couriers sign off) in batches of 1..50"
-"$yoke" gen stream dispatch --vertices 3000 --events 20000 --batch 1 --batch-max 50 \
-  --seed "$seed" -o "$demo/evening.txt"
-# Two halves, so that the daemon can be killed between them.
-python3 - "$demo/evening.txt" <<'PY'
-import sys
-lines = open(sys.argv[1]).read().splitlines(keepends=True)
-commits = [i for i, line in enumerate(lines) if line.strip() == "commit"]
-cut = commits[len(commits) // 2] + 1
-open(sys.argv[1] + ".first", "w").writelines(lines[:cut])
-open(sys.argv[1] + ".second", "w").writelines(lines[cut:])
-PY
+not_started() {
+  echo "demo: yoked did not start; its log:" >&2
+  cat "$demo/yoked.stderr" "$demo/yoked.log" >&2 2>/dev/null || true
+  exit 1
+}
 
-echo "demo: starting yoked (data in $data, log in $demo/yoked.log)"
-start_daemon
-"$yoke" watch > "$demo/diffs.jsonl" &
-watch_pid=$!
-sleep 0.3  # the subscription reaches the daemon before the first diff
+bonus_args=()
+if ((churn_bonus > 0)); then
+  write_config "$churn_bonus"
+  if start_daemon; then
+    bonus_args=(--churn-bonus "$churn_bonus")
+  elif grep -q churn_bonus "$demo/yoked.stderr" "$demo/yoked.log" 2>/dev/null; then
+    echo "demo: this yoked does not know churn_bonus yet; both pools run without a bonus"
+    write_config ""
+    start_daemon || not_started
+  else
+    not_started
+  fi
+else
+  write_config ""
+  start_daemon || not_started
+fi
+echo "demo: yoked is running (data in $data, log in $demo/yoked.log, config $demo/yoked.toml)"
 
-echo "demo: sending the first half of the evening with yoke send"
-"$yoke" send "$demo/evening.txt.first" --client-id larkspur-dispatch | sed 's/^/  acknowledged /'
-"$yoke" query summary | sed 's/^/  summary /'
+if ((crash)); then
+  # Halfway through, SIGKILL the daemon and start it again on the same data: the simulator's
+  # senders resend what was not acknowledged, and each batch is applied once.
+  (
+    sleep "$(awk -v s="$seconds" 'BEGIN { print s / 2 }')"
+    kill -KILL "$(cat "$demo/yoked.pid")"
+    sleep 0.2
+    start_daemon
+  ) > "$demo/crash.log" 2>&1 &
+  crash_pid=$!
+fi
 
-echo "demo: SIGKILL: the daemon dies without warning; restarting it on the same data"
-kill -KILL "$daemon_pid"
-wait "$daemon_pid" 2>/dev/null || true
-start_daemon
-grep -E 'recovered' "$demo/yoked.log" | tail -n 1 | sed 's/^/  /'
-"$yoke" query summary | sed 's/^/  summary /'
+echo "demo: streaming the Larkspur Bay evening for $seconds s (Ctrl-C ends it early)"
+"$python" tools/demo/city_sim.py --seconds "$seconds" --seed "$seed" "${bonus_args[@]}" \
+  --result "$demo/result.json"
+if [[ -n "$crash_pid" ]]; then
+  wait "$crash_pid" || { echo "demo: the restart after SIGKILL failed" >&2; exit 1; }
+  crash_pid=""
+  grep -E 'recovered' "$demo/yoked.log" | tail -n 1 | sed 's/^/  after SIGKILL: /' || true
+fi
 
-echo "demo: sending the second half"
-"$yoke" send "$demo/evening.txt.second" --client-id larkspur-dispatch | sed 's/^/  acknowledged /'
-summary=$("$yoke" query summary)
-echo "  summary $summary"
-courier=$(python3 -c 'import json,sys; print(json.load(sys.stdin)["pairs"][0][0])' \
-  <<<"$("$yoke" query matching)")
-echo "demo: why is courier $courier paired as it is? (doubled prices and slacks)"
-"$yoke" query explain --vertex "$courier" --limit 3 | sed 's/^/  /'
-
+summary=$("$yoke" query summary --pool bay)
+echo "demo: the daemon's summary of bay: $summary"
 echo "demo: SIGTERM: the daemon finishes its window, writes a snapshot and exits 0"
+daemon_pid=$(cat "$demo/yoked.pid")
 kill -TERM "$daemon_pid"
-wait "$daemon_pid"
-daemon_pid=""
-kill "$watch_pid" 2>/dev/null || true
-wait "$watch_pid" 2>/dev/null || true
-watch_pid=""
+if ((crash)); then  # the restarted daemon is not this shell's child: watch it go
+  while kill -0 "$daemon_pid" 2>/dev/null; do sleep 0.05; done
+else
+  wait "$daemon_pid"  # its exit status: 0 after a clean stop
+fi
+rm -f "$demo/yoked.pid"
 
-echo "demo: replaying the journal, every commit's certificate checked (yoke replay --verify)"
-"$yoke" replay "$data" --verify --stats > "$demo/replay.txt"
-python3 - "$demo" "$summary" <<'PY'
+echo "demo: replaying the journal of bay, every commit's certificate checked:"
+echo "      $yoke replay $data --pool bay --verify --stats"
+"$yoke" replay "$data" --pool bay --verify --stats > "$demo/replay-bay.txt"
+"$python" - "$demo" "$summary" "$yoke" "$data" <<'PY'
 import json, sys
-demo, summary = sys.argv[1], json.loads(sys.argv[2])
-commits = [line.split() for line in open(f"{demo}/replay.txt") if line.startswith("commit ")]
+demo, summary, yoke, data = sys.argv[1], json.loads(sys.argv[2]), sys.argv[3], sys.argv[4]
+lines = open(f"{demo}/replay-bay.txt").read().splitlines()
+commits = [line.split() for line in lines if line.startswith("commit ")]
 last = commits[-1]
-weight, pairs, seq = int(last[3]), int(last[5]), int(last[9])
-if (weight, pairs, seq) != (summary["weight"], summary["pairs"], summary["seq"]):
-    sys.exit(f"demo: the journal replay ends at {last}, the daemon said {summary}")
-diffs = [json.loads(line) for line in open(f"{demo}/diffs.jsonl")]
+weight, pairs, seq = int(last[3]), int(last[5]), int(last[last.index("seq") + 1])
+result = json.load(open(f"{demo}/result.json"))
+lead = result["pools"][0]
+if (weight, pairs, seq) != (summary["weight"], summary["pairs"], summary["seq"]) or \
+        (weight, pairs, seq) != (lead["weight"], lead["pairs"], lead["seq"]):
+    sys.exit(f"demo: the replay ends at {last}; the daemon said {summary}, the simulator {lead}")
+for line in lines:
+    if not line.startswith("commit "):
+        print("  " + line)
+print(f"  {len(commits)} commits replayed, each certificate held; the last one is the daemon's"
+      f" and the simulator's: seq {seq}, weight {weight}, pairs {pairs}")
 print()
-print(f"Larkspur Bay evening: {summary['seq']} batches applied once each, "
-      f"{len(commits)} repairs")
-print(f"  pairs        {summary['pairs']} orders assigned to a courier")
-print(f"  total value  {summary['weight']}")
-print(f"  diffs seen   {len(diffs)} published while the watcher listened")
-print(f"  journal      replayed: the same weight, pairs and seq, every certificate held")
-print(f"  files        {demo}/ (script, diffs.jsonl, yoked.log, replay.txt, data/)")
-print("  (the pairs are advisory: local working-time, safety and labour rules decide)")
+print("Look further (the pairs are advisory: local working-time, safety and labour rules decide):")
+print(f"  {yoke} replay {data} --pool bay --report bay-report.html"
+      "      # the evening as a report")
+courier = result.get("busy_courier")
+if courier is not None:
+    print(f"  {yoke} replay {data} --pool bay --vertex {courier}"
+          f"      # courier {courier}: paired {result['busy_courier_pairings']} times")
+print(f"  {yoke} replay {data} --pool bay-plain --stats"
+      "      # the pool without the churn bonus")
+print(f"  files: {demo}/ (yoked.toml, yoked.log, result.json, replay-bay.txt, data/)")
 PY

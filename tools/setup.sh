@@ -14,6 +14,7 @@ packages=(
   libboost-dev libspdlog-dev libtomlplusplus-dev
   python3-protobuf python3-zmq      # the Python client and the daemon's tests
   clang                             # the libFuzzer target of the message decoder
+  libjs-chart.js chromium           # yoke replay --report: the charts' library; the page's browser test
 )
 
 missing=()

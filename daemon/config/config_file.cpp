@@ -64,6 +64,7 @@ void read_pool(TomlTableReader& table, PoolSettings& out) {
              out.limits.max_vertices);
   table.read("max_edges", std::uint64_t{1}, std::uint64_t{kMaxEdges}, out.limits.max_edges);
   table.read("max_abs_weight", std::int64_t{0}, kMaxAbsWeight, out.limits.max_abs_weight);
+  table.read("churn_bonus", std::int64_t{0}, kMaxAbsWeight, out.churn_bonus);
   table.finish();
 }
 

@@ -5,8 +5,8 @@ namespace yoke::daemon {
 PoolRegistry::PoolRegistry(PoolSettings defaults, std::map<std::string, PoolSettings> declared)
     : defaults_(std::move(defaults)), declared_(std::move(declared)) {
   // Fail at start-up, not at the first batch, when a setting is out of range.
-  Pool(defaults_.mode, defaults_.limits);
-  for (const auto& [name, settings] : declared_) Pool(settings.mode, settings.limits);
+  Pool(defaults_.mode, defaults_.limits, defaults_.churn_bonus);
+  for (const auto& [name, settings] : declared_) Pool(settings.mode, settings.limits, settings.churn_bonus);
 }
 
 const PoolSettings& PoolRegistry::settings_for(const std::string& name) const {
@@ -18,7 +18,7 @@ Pool& PoolRegistry::pool(const std::string& name) {
   auto& slot = pools_[name];
   if (!slot) {
     const PoolSettings& settings = settings_for(name);
-    slot = std::make_unique<Pool>(settings.mode, settings.limits);
+    slot = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
   }
   return *slot;
 }

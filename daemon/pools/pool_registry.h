@@ -14,6 +14,7 @@ namespace yoke::daemon {
 struct PoolSettings {
   Mode mode = Mode::max_weight;
   PoolLimits limits;
+  Weight churn_bonus = 0;  // Pool's churn control; 0: none
 };
 
 class PoolRegistry {

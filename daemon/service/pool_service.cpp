@@ -54,7 +54,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
                                                    std::to_string(limits_.max_pools) + " pools")));
     }
     const PoolSettings& settings = state_.registry.settings_for(batch.pool);
-    created = std::make_unique<Pool>(settings.mode, settings.limits);
+    created = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
     pool = created.get();
   }
   if (!batch.client_id.empty()) {
@@ -131,7 +131,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
     record.set_wall_time_unix_us(wall_time);
     if (pending.seq == 1) {
       const Pool& pool = *state_.registry.find(batch.pool);
-      *record.mutable_created() = to_wire(pool.mode(), pool.limits());
+      *record.mutable_created() = pool_config(pool);
     }
     record.set_window_start(window_start);
     bytes.clear();

@@ -153,6 +153,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       explain.set_vertex(vertex);
       if (explanation->mate) explain.set_mate(*explanation->mate);
       explain.set_pair_weight(explanation->pair_weight);
+      explain.set_pair_bonus(explanation->pair_bonus);
       explain.set_dual2(explanation->dual2);
       explain.set_weight_offset(explanation->weight_offset);
       for (const Alternative& alternative : explanation->alternatives) {
@@ -171,7 +172,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       stats.set_pairs(pool->pairs());
       stats.set_vertices(pool->vertex_count());
       stats.set_edges(pool->edge_count());
-      *stats.mutable_config() = to_wire(pool->mode(), pool->limits());
+      *stats.mutable_config() = pool_config(*pool);
       stats.set_batches_accepted(progress->batches_accepted);
       stats.set_batches_rejected(progress->batches_rejected);
       stats.set_batches_duplicate(progress->batches_duplicate);

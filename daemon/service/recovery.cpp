@@ -10,13 +10,12 @@ namespace yoke::daemon {
 namespace {
 
 std::unique_ptr<Pool> pool_from_record(const v1::JournalRecord& first) {
-  const auto mode = from_wire(first.created().mode());
-  const auto limits = from_wire(first.created().limits());
-  if (!first.has_created() || !mode || !limits) {
+  std::unique_ptr<Pool> pool = first.has_created() ? make_pool(first.created()) : nullptr;
+  if (!pool) {
     throw RecoveryError("journal record 1 of pool " + first.pool() +
                         " does not say how the pool was created");
   }
-  return std::make_unique<Pool>(*mode, *limits);
+  return pool;
 }
 
 // Loads one snapshot into `state`, or throws SnapshotDamage (state untouched then).

@@ -18,7 +18,7 @@ std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
     v1::SnapshotRecord& record = records.emplace_back();
     record.set_pool(name);
     record.set_seq(progress->seq);
-    *record.mutable_config() = to_wire(pool.mode(), pool.limits());
+    *record.mutable_config() = pool_config(pool);
     for (const auto& [client, applied] : service.ledger().clients_of(name)) {
       v1::ClientMark& mark = *record.add_clients();
       mark.set_client_id(client);

@@ -22,13 +22,23 @@ std::optional<Mode> from_wire(v1::Mode mode) {
   }
 }
 
-v1::PoolConfig to_wire(Mode mode, const PoolLimits& limits) {
+v1::PoolConfig pool_config(const Pool& pool) {
   v1::PoolConfig config;
-  config.set_mode(to_wire(mode));
+  const PoolLimits& limits = pool.limits();
+  config.set_mode(to_wire(pool.mode()));
   config.mutable_limits()->set_max_vertices(limits.max_vertices);
   config.mutable_limits()->set_max_edges(limits.max_edges);
   config.mutable_limits()->set_max_abs_weight(static_cast<std::uint64_t>(limits.max_abs_weight));
+  config.set_churn_bonus(static_cast<std::uint64_t>(pool.churn_bonus()));
   return config;
+}
+
+std::unique_ptr<Pool> make_pool(const v1::PoolConfig& config) {
+  const auto mode = from_wire(config.mode());
+  const auto limits = from_wire(config.limits());
+  const auto bonus_bound = static_cast<std::uint64_t>(std::numeric_limits<Weight>::max());
+  if (!mode || !limits || config.churn_bonus() > bonus_bound) return nullptr;
+  return std::make_unique<Pool>(*mode, *limits, static_cast<Weight>(config.churn_bonus()));
 }
 
 std::optional<PoolLimits> from_wire(const v1::PoolLimits& wire) {

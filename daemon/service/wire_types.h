@@ -3,6 +3,7 @@
 #pragma once
 
 #include <cstdint>
+#include <memory>
 #include <optional>
 #include <string>
 
@@ -18,9 +19,13 @@ v1::Mode to_wire(Mode mode);
 // Nothing for MODE_UNSPECIFIED and values this version does not know.
 std::optional<Mode> from_wire(v1::Mode mode);
 
-v1::PoolConfig to_wire(Mode mode, const PoolLimits& limits);
+// How `pool` was created.
+v1::PoolConfig pool_config(const Pool& pool);
 // Nothing when a bound does not fit the engine's types.
 std::optional<PoolLimits> from_wire(const v1::PoolLimits& limits);
+// An empty pool made as `config` says; nullptr when the mode, a bound or the bonus cannot be
+// read. Throws InputError when the engine refuses the settings.
+std::unique_ptr<Pool> make_pool(const v1::PoolConfig& config);
 v1::Pair to_wire(const MatchedPair& pair);
 v1::RepairStats to_wire(const RepairStats& stats);
 

@@ -111,7 +111,7 @@ TEST(ProtoJson, Explanation) {
   far.set_weight(-1);
   far.set_slack2(40);
   EXPECT_EQ(json_line(explanation_json("x", explanation)),
-            "{\"pool\":\"x\",\"seq\":3,\"vertex\":5,\"mate\":6,\"pair_weight\":10,\"dual2\":-4,"
+            "{\"pool\":\"x\",\"seq\":3,\"vertex\":5,\"mate\":6,\"pair_weight\":10,\"pair_bonus\":0,\"dual2\":-4,"
             "\"weight_offset\":21,\"alternatives\":[{\"other\":8,\"weight\":9,\"slack2\":0,"
             "\"other_mate\":2},{\"other\":1,\"weight\":-1,\"slack2\":40,\"other_mate\":null}]}");
 }
@@ -137,7 +137,7 @@ TEST(ProtoJson, Stats) {
   EXPECT_EQ(json_line(stats_json("s", stats)),
             "{\"pool\":\"s\",\"seq\":100,\"weight\":55,\"pairs\":4,\"vertices\":9,\"edges\":14,"
             "\"mode\":\"max-cardinality\",\"limits\":{\"max_vertices\":1000,"
-            "\"max_edges\":5000,\"max_abs_weight\":0},\"batches_accepted\":98,"
+            "\"max_edges\":5000,\"max_abs_weight\":0},\"churn_bonus\":0,\"batches_accepted\":98,"
             "\"batches_rejected\":2,\"batches_duplicate\":1,\"events_applied\":400,"
             "\"commits\":90,\"last_repair\":{\"events\":5,\"roots\":0,\"searches\":0,"
             "\"augmentations\":0,\"blossoms_dissolved\":0,\"vertices_touched\":0,"

@@ -101,6 +101,34 @@ TEST(QueryCommand, MateAndExplainCarryTheVertexAndLimit) {
   EXPECT_EQ(explain.requests[0].explain().max_alternatives(), 2u);
 }
 
+TEST(QueryCommand, ExplainTextWordsTheReply) {
+  // Doubled dual 95 with offset 8: price (95 - 8) / 2 = 43.5; slack2 4: 2 short.
+  const QueryRun run = run_query({"explain", "--vertex", "12", "--text"}, [](const QueryRequest&) {
+    QueryReply reply;
+    reply.set_pool("default");
+    yoke::v1::Explanation& explain = *reply.mutable_explain();
+    explain.set_seq(31);
+    explain.set_vertex(12);
+    explain.set_mate(40);
+    explain.set_pair_weight(87);
+    explain.set_dual2(95);
+    explain.set_weight_offset(8);
+    yoke::v1::Alternative& rival = *explain.add_alternatives();
+    rival.set_other(55);
+    rival.set_weight(80);
+    rival.set_slack2(4);
+    rival.set_other_mate(9);
+    return reply;
+  });
+  ASSERT_EQ(run.result.exit_code, 0) << run.result.err;
+  EXPECT_EQ(run.result.out.substr(0, run.result.out.find("Slack:")),
+            "explain 12 at seq 31 (pool default):\n"
+            "12 is paired with 40 (weight 87). Its price is 43.5.\n"
+            "Closest alternatives, least slack first:\n"
+            "  55 (weight 80): 2 short of winning (slack 2); 55 is paired with 9\n");
+  EXPECT_EQ(run_query({"summary", "--text"}, summary_reply).result.exit_code, 2);
+}
+
 TEST(QueryCommand, EveryKindAsksForItself) {
   for (const std::string kind : {"matching", "stats", "snapshot", "health"}) {
     const QueryRun run = run_query({kind}, [](const QueryRequest& request) {

@@ -319,8 +319,14 @@ TEST(WireTypes, LimitsRoundTripAndRefuseWhatDoesNotFit) {
   limits.max_vertices = 1000;
   limits.max_edges = 5000;
   limits.max_abs_weight = 77;
-  const v1::PoolConfig wire = to_wire(Mode::max_cardinality, limits);
+  const Pool pool(Mode::max_cardinality, limits, 5);
+  const v1::PoolConfig wire = pool_config(pool);
   EXPECT_EQ(wire.mode(), v1::MODE_MAX_CARDINALITY);
+  EXPECT_EQ(wire.churn_bonus(), 5u);
+  const std::unique_ptr<Pool> made = make_pool(wire);
+  ASSERT_NE(made, nullptr);
+  EXPECT_EQ(made->churn_bonus(), 5);
+  EXPECT_EQ(made->limits().max_abs_weight, 77);
   const auto back = from_wire(wire.limits());
   ASSERT_TRUE(back.has_value());
   EXPECT_EQ(back->max_vertices, 1000u);

@@ -15,6 +15,7 @@ void expect_same_pool(const PoolSettings& a, const PoolSettings& b) {
   EXPECT_EQ(a.limits.max_vertices, b.limits.max_vertices);
   EXPECT_EQ(a.limits.max_edges, b.limits.max_edges);
   EXPECT_EQ(a.limits.max_abs_weight, b.limits.max_abs_weight);
+  EXPECT_EQ(a.churn_bonus, b.churn_bonus);
 }
 
 void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
@@ -101,6 +102,7 @@ mode = "perfect"
 max_vertices = 1000
 [pools.night-shift]
 max_abs_weight = 1000000
+churn_bonus = 250
 [pools."quay 4"]
 mode = "max-weight"
 [logging]
@@ -128,6 +130,8 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(night.mode, Mode::perfect);
   EXPECT_EQ(night.limits.max_vertices, 1000u);
   EXPECT_EQ(night.limits.max_abs_weight, 1000000);
+  EXPECT_EQ(night.churn_bonus, 250);
+  EXPECT_EQ(config.pools.at("quay 4").churn_bonus, 0);
   EXPECT_EQ(config.pools.at("quay 4").mode, Mode::max_weight);
   EXPECT_EQ(config.logging.level, LogLevel::debug);
   EXPECT_EQ(config.logging.format, LogFormat::json);
@@ -174,6 +178,8 @@ TEST(ConfigFile, ValuesOutOfRangeAreErrors) {
             "t.toml:2: 'pool_defaults.max_vertices' is 0, out of range 1..1073741824");
   EXPECT_EQ(read_error("[pool_defaults]\nmax_abs_weight = -3\n"),
             "t.toml:2: 'pool_defaults.max_abs_weight' is -3, out of range 0..4503599627370496");
+  EXPECT_EQ(read_error("[pools.a]\nchurn_bonus = -1\n"),
+            "t.toml:2: 'pools.a.churn_bonus' is -1, out of range 0..4503599627370496");
 }
 
 TEST(ConfigFile, UnknownNamesOfModesPoliciesAndLevelsAreErrors) {

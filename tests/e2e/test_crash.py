@@ -2,8 +2,10 @@
 snapshot; restart it on the same data directory each time. Nothing acknowledged is lost and
 nothing is applied twice."""
 
+import contextlib
 import json
 import os
+import signal
 import time
 import unittest
 
@@ -22,6 +24,20 @@ def current_seq(daemon, pool="default"):
         return None
     return reply.summary.seq
 
+
+
+@contextlib.contextmanager
+def held(*processes):
+    """Stops the processes that are still running (SIGSTOP) and lets them go on at the end."""
+    running = [p for p in processes if p.poll() is None]
+    for process in running:
+        process.send_signal(signal.SIGSTOP)
+    try:
+        yield
+    finally:
+        for process in running:
+            if process.poll() is None:
+                process.send_signal(signal.SIGCONT)
 
 class CrashTest(unittest.TestCase):
     def setUp(self):
@@ -71,12 +87,16 @@ class CrashTest(unittest.TestCase):
                 time.sleep(0.003)
             if sender.poll() is not None:
                 break
-            time.sleep(random.uniform(0, 0.03))
-            daemon.kill()
-            killed_at.append(seq)
-            # Down for a while at times: the sender's timeouts and retries come into play.
-            time.sleep(random.choice([0, 0, random.uniform(0.1, 0.6)]))
-            daemon.start()
+            # The sender is held while the daemon is down and restarting, so that it cannot run
+            # to the end of the stream before the next kill point (its clock runs on: when it
+            # goes on, its timeouts have expired and its retries come into play). The daemon
+            # still works through the batches in flight until the kill.
+            with held(sender):
+                time.sleep(random.uniform(0, 0.03))
+                daemon.kill()
+                killed_at.append(seq)
+                time.sleep(random.choice([0, 0, random.uniform(0.1, 0.6)]))
+                daemon.start()
         out, err = sender.communicate(timeout=300 * SLOWDOWN)
         self.assertEqual(sender.returncode, 0, f"{err}\n{daemon.diagnostics()}")
         sent = json.loads(out)
@@ -133,10 +153,11 @@ class CrashTest(unittest.TestCase):
                 time.sleep(0.003)
             if all(sender.poll() is not None for sender in senders):
                 break
-            time.sleep(random.uniform(0, 0.02))
-            daemon.kill()
-            kills += 1
-            daemon.start()
+            with held(*senders):
+                time.sleep(random.uniform(0, 0.02))
+                daemon.kill()
+                kills += 1
+                daemon.start()
         for sender in senders:
             out, err = sender.communicate(timeout=300 * SLOWDOWN)
             self.assertEqual(sender.returncode, 0, f"{err}\n{daemon.diagnostics()}")

@@ -47,8 +47,10 @@ class PostmortemReplayTest(unittest.TestCase):
         self.assertEqual([(c["seq"], c["weight"]) for c in got],
                          [(c["seq"], c["weight"]) for c in after])
 
-        # A script is not a journal: both options are refused (exit 2).
-        run_yoke("replay", first.path, "--until", "3", expect=2)
+        # A script has no snapshots: --from is refused (exit 2); --until counts its commits.
+        run_yoke("replay", first.path, "--from", "3", expect=2)
+        self.assertEqual([c["commit"] for c in replay_commits(first.path, "--until", "3")],
+                         [1, 2, 3])
 
 
 if __name__ == "__main__":

@@ -98,7 +98,7 @@ TEST(PoolSnapshot, RestoreRefusesWhatTheCertificateCannotSee) {
   pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 6}, {EventKind::set_edge, 2, 3, 5}});
   const std::string bytes = pool.save();
   ASSERT_NO_THROW(Pool::restore(bytes));
-  constexpr std::size_t kWeight = 8 + 4 + 1 + 24 + 8;  // magic, version, mode, limits, commits
+  constexpr std::size_t kWeight = 8 + 4 + 1 + 24 + 8 + 8;  // magic, version, mode, limits, bonus, commits
   constexpr std::size_t kGraph = kWeight + 16;          // weight, pairs
   constexpr std::size_t kEdges = kGraph + 8 + 1 + 8;    // vertex count, tracking, edge count
   const auto with = [&bytes](std::size_t at, auto value) {

@@ -4,18 +4,24 @@
 //
 //   yoke_stream_bench [--quick] [--vertices N[,N...]]... [--events E] [--seed S]
 //                     [--lemon-samples K] [--only SETTING]... [--list]
+//                     [--churn-bonus B[,B...] | none] [--churn-only]
+//
+// Then the churn section (churn_runner.h): the same stream through pools with a churn bonus.
 //
 // Exit codes: 0 done (a missed performance target is reported, not fatal); 1 yoke and LEMON
-// disagree on a weight or a certificate fails; 2 bad options or an error the engine threw.
+// disagree on a weight, a certificate fails or a churn check fails; 2 bad options or an error
+// the engine threw.
 #include <algorithm>
 #include <cstdint>
 #include <iostream>
 #include <optional>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
 #include <CLI/CLI.hpp>
 
+#include "tools/bench/churn_report.h"
 #include "tools/bench/heap_counter.h"
 #include "tools/bench/report.h"
 #include "tools/bench/stream_report.h"
@@ -34,6 +40,8 @@ struct Options {
   std::uint64_t seed = 1;
   std::optional<std::size_t> lemon_samples;
   std::vector<std::string> only;
+  std::vector<std::string> churn_bonus;  // empty: default_churn_bonuses(); "none": no section
+  bool churn_only = false;
 };
 
 constexpr std::size_t kDefaultLemonSamples = 5;
@@ -64,7 +72,26 @@ std::vector<StreamSetting> selected(const Options& o) {
   return chosen;
 }
 
-int run(const Options& o, const std::vector<StreamSetting>& settings, const std::string& command) {
+// The churn section's bonuses; throws CLI::ValidationError for one that does not parse.
+std::vector<ChurnBonus> churn_bonuses(const Options& o) {
+  if (o.churn_bonus.empty()) return default_churn_bonuses();
+  if (o.churn_bonus.size() == 1 && o.churn_bonus.front() == "none") {
+    if (o.churn_only) throw CLI::ValidationError("--churn-only", "needs a churn bonus, not none");
+    return {};
+  }
+  std::vector<ChurnBonus> bonuses;
+  for (const std::string& text : o.churn_bonus) {
+    try {
+      bonuses.push_back(parse_churn_bonus(text));
+    } catch (const std::invalid_argument& error) {
+      throw CLI::ValidationError("--churn-bonus", error.what());
+    }
+  }
+  return bonuses;
+}
+
+int run(const Options& o, const std::vector<StreamSetting>& settings,
+        const std::vector<ChurnBonus>& bonuses, const std::string& command) {
   if (!heap::counting_works()) {
     std::cerr << "yoke_stream_bench: the counting operator new is not in use; memory figures "
                  "would be wrong\n";
@@ -75,15 +102,25 @@ int run(const Options& o, const std::vector<StreamSetting>& settings, const std:
   print_stream_preamble(std::cout, {command, o.seed, samples});
   std::vector<StreamResult> results;
   bool all_ok = true;
-  for (const StreamSetting& setting : settings) {
-    results.push_back(run_setting(setting, o.seed, samples));
-    print_setting(std::cout, results.back());
-    all_ok = all_ok && results.back().ok();
+  if (!o.churn_only) {
+    for (const StreamSetting& setting : settings) {
+      results.push_back(run_setting(setting, o.seed, samples));
+      print_setting(std::cout, results.back());
+      all_ok = all_ok && results.back().ok();
+    }
+    print_stream_tables(std::cout, results);
   }
-  print_stream_tables(std::cout, results);
+  if (!bonuses.empty()) {
+    print_churn_preamble(std::cout, bonuses);
+    for (const StreamSetting& setting : settings) {
+      const ChurnResult churn = run_churn(setting, o.seed, bonuses);
+      print_churn_rows(std::cout, churn);
+      all_ok = all_ok && churn.ok();
+    }
+  }
   if (!all_ok) {
-    std::cout << "\nFAILED: yoke and LEMON disagree on a weight, or a certificate fails (see "
-                 "above)\n";
+    std::cout << "\nFAILED: yoke and LEMON disagree on a weight, a certificate fails, or a churn "
+                 "check fails (see above)\n";
     return kDisagreement;
   }
   return 0;
@@ -113,11 +150,19 @@ int main(int argc, char** argv) {
                  "Run only this setting (city-100k/b1), graph (city-100k) or commit size (b100); "
                  "repeatable");
   app.add_flag("--list", o.list, "List the settings and exit");
+  app.add_option("--churn-bonus", o.churn_bonus,
+                 "Churn section: bonuses for standing pairs, absolute (40) or a share of the "
+                 "stream's largest weight (2%); default 2%,10%; none skips the section")
+      ->delimiter(',');
+  app.add_flag("--churn-only", o.churn_only,
+               "Only the churn section (no LEMON comparison)");
 
   std::vector<StreamSetting> settings;
+  std::vector<ChurnBonus> bonuses;
   try {
     app.parse(argc, argv);
     settings = selected(o);
+    bonuses = churn_bonuses(o);
   } catch (const CLI::ParseError& error) {
     const int code = app.exit(error);
     return code == 0 ? 0 : kUsageError;
@@ -131,7 +176,7 @@ int main(int argc, char** argv) {
     return 0;
   }
   try {
-    return run(o, settings, command_line(argc, argv));
+    return run(o, settings, bonuses, command_line(argc, argv));
   } catch (const std::exception& error) {
     std::cerr << "yoke_stream_bench: " << error.what() << "\n";
     return kUsageError;

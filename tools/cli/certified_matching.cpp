@@ -11,7 +11,7 @@ CertifiedMatching certified_matching(const PoolExport& exported) {
     const VertexKey a = exported.keys[e.a];
     const VertexKey b = exported.keys[e.b];
     matching.pairs.emplace_back(std::min(a, b), std::max(a, b));
-    matching.weight += e.w;
+    matching.weight += e.w - exported.matched_bonus;  // reported weights leave the bonus out
   }
   std::sort(matching.pairs.begin(), matching.pairs.end());
   return matching;

@@ -12,7 +12,8 @@
 
 namespace yoke::cli {
 
-JournalCommits::JournalCommits(const std::filesystem::path& path, const std::string& pool)
+JournalCommits::JournalCommits(const std::filesystem::path& path, const std::string& pool,
+                               bool count_events)
     : pool_(pool) {
   if (std::filesystem::is_directory(path / "journal")) {
     journal_dir_ = path / "journal";
@@ -32,6 +33,12 @@ JournalCommits::JournalCommits(const std::filesystem::path& path, const std::str
       done.clear();
     };
     while (auto record = reader.next()) {
+      v1::JournalRecord counted;
+      if (count_events && counted.ParseFromArray(record->payload.data(),
+                                                 static_cast<int>(record->payload.size())) &&
+          counted.pool() == pool_) {
+        event_counts_[counted.seq()] = static_cast<std::size_t>(counted.events_size());
+      }
       grouper.add(record->payload, done);
       keep_ours();
     }
@@ -57,13 +64,12 @@ std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
               << " that the journal continues: starting from the journal's first record\n";
   }
   if (first.seq() == 1) {
-    const auto mode = daemon::from_wire(first.created().mode());
-    const auto limits = daemon::from_wire(first.created().limits());
-    if (!mode || !limits) {
+    std::unique_ptr<Pool> pool = daemon::make_pool(first.created());
+    if (!pool) {
       throw CliError(journal_dir_.string() + ": the first record of pool " + pool_ +
                      " does not say how the pool was created");
     }
-    return std::make_unique<Pool>(*mode, *limits);
+    return pool;
   }
   if (auto pool = restore_snapshot(UINT64_MAX, false)) return pool;
   throw CliError(journal_dir_.string() + ": the journal starts at seq " +

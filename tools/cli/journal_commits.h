@@ -9,6 +9,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <unordered_map>
 #include <vector>
 
 #include "daemon/service/commit_groups.h"
@@ -21,7 +22,10 @@ class JournalCommits {
   // `path` is a yoked data directory (holding journal/ and snapshots/) or its journal/
   // directory. Reads the whole journal; throws CliError when it cannot be read, holds no record
   // of `pool`, or starts after the pool's first record with no snapshot to start from.
-  JournalCommits(const std::filesystem::path& path, const std::string& pool);
+  // With `count_events`, also keeps how many events each record of the pool holds (events_in):
+  // a second parse of every record, for answers that name the record an event came from.
+  JournalCommits(const std::filesystem::path& path, const std::string& pool,
+                 bool count_events = false);
 
   // The pool before the first commit next() returns: with from_seq > 0, restored from the
   // newest snapshot of the pool at or before from_seq that the journal continues (else the
@@ -32,6 +36,14 @@ class JournalCommits {
   std::optional<std::uint64_t> snapshot_seq() const { return snapshot_seq_; }
   // The next commit, or nullptr after the last.
   const daemon::CommitGroup* next();
+  // How many events the pool's record `seq` holds (count_events only; 0 when not known). The
+  // groups' records do not keep their events: CommitGroup::events has them all, in order.
+  std::size_t events_in(std::uint64_t seq) const {
+    const auto it = event_counts_.find(seq);
+    return it == event_counts_.end() ? 0 : it->second;
+  }
+  // How many commits next() has left to return (for a progress bar).
+  std::size_t remaining() const { return groups_.size() - next_; }
 
  private:
   // The snapshot of the pool with the largest (newest) or smallest (oldest) seq within
@@ -44,6 +56,7 @@ class JournalCommits {
   std::vector<daemon::CommitGroup> groups_;
   std::size_t next_ = 0;
   std::optional<std::uint64_t> snapshot_seq_;
+  std::unordered_map<std::uint64_t, std::size_t> event_counts_;  // seq -> events (count_events)
 };
 
 }  // namespace yoke::cli

@@ -112,6 +112,7 @@ Json explanation_json(const std::string& pool, const Explanation& explanation) {
               {"vertex", explanation.vertex()},
               {"mate", optional_key(explanation.has_mate(), explanation.mate())},
               {"pair_weight", explanation.pair_weight()},
+              {"pair_bonus", explanation.pair_bonus()},
               {"dual2", explanation.dual2()},
               {"weight_offset", explanation.weight_offset()},
               {"alternatives", std::move(alternatives)}};
@@ -130,6 +131,7 @@ Json stats_json(const std::string& pool, const Stats& stats) {
                Json{{"max_vertices", limits.max_vertices()},
                     {"max_edges", limits.max_edges()},
                     {"max_abs_weight", limits.max_abs_weight()}}},
+              {"churn_bonus", stats.config().churn_bonus()},
               {"batches_accepted", stats.batches_accepted()},
               {"batches_rejected", stats.batches_rejected()},
               {"batches_duplicate", stats.batches_duplicate()},

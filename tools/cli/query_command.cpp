@@ -3,6 +3,7 @@
 #include <iostream>
 
 #include "cli_error.h"
+#include "explanation_text.h"
 #include "number_options.h"
 #include "proto_json.h"
 #include "query_client.h"
@@ -23,7 +24,8 @@ constexpr const char* kQueryHelp =
     "              \"no_perfect_matching\"}\n"
     "  explain    --vertex V [--limit K]: {\"pool\",\"seq\",\"vertex\",\"mate\",\"pair_weight\",\n"
     "              \"dual2\",\"weight_offset\",\"alternatives\":[{\"other\",\"weight\",\n"
-    "              \"slack2\",\"other_mate\"},...]} (duals and slacks doubled)\n"
+    "              \"slack2\",\"other_mate\"},...]} (duals and slacks doubled); --text\n"
+    "              prints it in sentences instead, as `yoke replay --explain` does\n"
     "  stats      the pool's counters, limits, last repair and timings\n"
     "  snapshot   write a snapshot now [--all-pools]: {\"pools\":[{\"pool\",\"seq\"}],\"path\"}\n"
     "  health     {\"ok\",\"status\",\"uptime_s\",\"pools\",\"daemon_version\"}\n"
@@ -41,6 +43,9 @@ void check_options_fit(const QueryOptions& options) {
   }
   if (options.limit != 0 && options.kind != "explain") {
     throw CliError("--limit goes with query explain, not " + options.kind);
+  }
+  if (options.text && options.kind != "explain") {
+    throw CliError("--text goes with query explain, not " + options.kind);
   }
   if (options.all_pools && options.kind != "snapshot") {
     throw CliError("--all-pools goes with query snapshot, not " + options.kind);
@@ -89,6 +94,7 @@ CLI::App* add_query_command(CLI::App& app, QueryOptions& options) {
   command->add_option("--limit", options.limit, "Alternatives to list at most (explain)")
       ->check(kAtLeastOne);
   command->add_flag("--all-pools", options.all_pools, "Snapshot every pool (snapshot)");
+  command->add_flag("--text", options.text, "Explain in sentences instead of JSON (explain)");
   add_timeout_option(*command, options.timeout_ms, "How long to wait for the reply", false);
   command->footer(kQueryHelp);
   return command;
@@ -105,7 +111,15 @@ int run_query(const QueryOptions& options) {
     throw CliError(options.endpoint + ": the daemon answered a " + options.kind +
                    " query with a reply of another kind");
   }
-  std::cout << json_line(query_reply_json(reply)) << '\n' << std::flush;
+  if (options.text) {
+    const yoke::v1::Explanation& explanation = reply.explain();
+    std::cout << "explain " << explanation.vertex() << " at seq " << explanation.seq()
+              << " (pool " << reply.pool() << "):\n"
+              << explanation_text(explanation.vertex(), explanation_from_wire(explanation))
+              << std::flush;
+  } else {
+    std::cout << json_line(query_reply_json(reply)) << '\n' << std::flush;
+  }
   if (!std::cout) throw CliError("cannot write the result to stdout");
   return kExitOk;
 }

@@ -5,7 +5,8 @@
 //     summary    seq, weight, pairs, vertices, edges, mode, no_perfect_matching
 //     mate       --vertex V: its mate (null when exposed) and the pair's weight
 //     matching   every pair as [a, b, weight], with the seq they describe
-//     explain    --vertex V [--limit K]: its doubled dual and its nearest alternatives
+//     explain    --vertex V [--limit K] [--text]: its doubled dual and its nearest
+//                alternatives (--text: the same in sentences, as `yoke replay --explain`)
 //     stats      the pool's counters, limits and last repair
 //     snapshot   write a snapshot now (--all-pools: of every pool)
 //     health     whether the daemon serves
@@ -31,6 +32,7 @@ struct QueryOptions {
   std::optional<std::uint64_t> vertex;  // mate and explain
   std::uint32_t limit = 0;              // explain: alternatives at most; 0 the daemon's default
   bool all_pools = false;               // snapshot
+  bool text = false;                    // explain: in words (explanation_text.h), not JSON
   std::uint64_t timeout_ms = 5000;
 };
 

@@ -19,6 +19,9 @@
 #include "event_script.h"
 #include "file_io.h"
 #include "journal_commits.h"
+#include "progress_bar.h"
+#include "replay_report.h"
+#include "replay_why.h"
 
 namespace yoke::cli {
 namespace {
@@ -203,14 +206,19 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
   command->add_flag("--stats", options.stats, "Print summary lines after the last commit");
   command->add_flag("--diffs", options.diffs, "Print the pairs each commit removed and added");
   command->add_option("--until", options.until,
-                      "Journal: stop at the state after seq SEQ (the last commit ending at or "
-                      "before it)");
+                      "Stop at the state after seq SEQ (the last commit ending at or before it); "
+                      "for a script, after commit SEQ");
   command->add_option("--from", options.from,
                       "Journal: start from the newest snapshot at or before seq SEQ");
   command->add_option("--pool", options.pool,
                       "Which pool of a journal directory to replay (--mode is then the pool's own)")
       ->capture_default_str();
+  command->add_option("--report", options.report,
+                      "Also write a self-contained HTML page of charts about the replay to FILE "
+                      "(needs Debian's libjs-chart.js)")
+      ->type_name("FILE.html");
   command->footer(kScriptHelp);
+  add_why_options(*command, options);
   return command;
 }
 
@@ -219,7 +227,22 @@ namespace {
 // The commit loop both sources share: repair, print, and optionally verify and count.
 class ReplayRun {
  public:
-  ReplayRun(const ReplayOptions& options, std::ostream& out) : options_(options), out_(out) {}
+  ReplayRun(const ReplayOptions& options, std::ostream& out) : options_(options), out_(out) {
+    if (!options.report.empty()) {
+      report_.emplace(ReportSource{options.script_path,
+                                   std::filesystem::is_directory(options.script_path),
+                                   options.pool});
+    }
+  }
+
+  // A progress bar on stderr over `total` commits, when stderr is a terminal (progress_bar.h).
+  void show_progress(std::uint64_t total) {
+    progress_.emplace(total, "commits", std::cerr, ProgressBar::wanted());
+  }
+  // --report: the wall-clock time of the next commit (journal replays).
+  void note_wall_time(std::uint64_t unix_us) {
+    if (report_) report_->note_wall_time(unix_us);
+  }
 
   // Commits one batch (already checked) and prints its lines. Returns kExitCertificateRejected
   // when --verify finds the certificate failing (the message is on stderr), else nothing.
@@ -244,8 +267,11 @@ class ReplayRun {
     }
     if (options_.diffs) print_diff(out_, result.diff);
     if (options_.stats) stats_.record(result, events.size(), repair_ns);
+    if (report_) report_->record(pool, result, events.size(), repair_ns, seq);
+    if (progress_) progress_->step();
     if (options_.verify) {
       if (const auto failure = verifier_.check(pool, result)) {
+        if (progress_) progress_->finish();
         out_.flush();
         std::cerr << "error: commit " << index_ << ": certificate check failed: " << *failure
                   << "\n";
@@ -259,7 +285,9 @@ class ReplayRun {
   void start_from(const Pool& pool) { verifier_.start_from(pool.matching()); }
 
   int finish() {
+    if (progress_) progress_->finish();
     if (options_.stats) stats_.print(out_);
+    if (report_) report_->write(options_.report);
     out_.flush();
     if (!out_) throw CliError("cannot write the result to stdout");
     return kExitOk;
@@ -270,6 +298,8 @@ class ReplayRun {
   std::ostream& out_;
   CommitVerifier verifier_;
   ReplayStats stats_;
+  std::optional<ReplayReport> report_;
+  std::optional<ProgressBar> progress_;
   std::uint64_t index_ = 0;
 };
 
@@ -278,7 +308,8 @@ int run_script_replay(const ReplayOptions& options) {
   const EventScript script = load_event_script(options.script_path);
   Pool pool = make_pool(mode, script, options.script_path);
   ReplayRun run(options, std::cout);
-  for (const ScriptBatch& batch : script.batches) {
+  run.show_progress(batches_until(script, options.until).size());
+  for (const ScriptBatch& batch : batches_until(script, options.until)) {
     if (const auto rejected = pool.check(batch.events)) {
       throw CliError(display_name(options.script_path) + ":" +
                      std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
@@ -296,6 +327,7 @@ int run_journal_replay(const ReplayOptions& options) {
     std::cout << "note starting from the snapshot at seq " << *snapshot << "\n";
     run.start_from(*pool);
   }
+  run.show_progress(journal.remaining());
   while (const daemon::CommitGroup* group = journal.next()) {
     if (options.until != 0 && group->records.back().seq() > options.until) {
       if (group->records.front().seq() <= options.until) {
@@ -309,6 +341,7 @@ int run_journal_replay(const ReplayOptions& options) {
                      std::to_string(group->records.front().seq()) + ": the journal holds an event " +
                      "that does not apply: " + rejected->message);
     }
+    run.note_wall_time(group->records.back().wall_time_unix_us());
     if (const auto failed = run.commit(*pool, group->events, group->records.back().seq())) {
       return *failed;
     }
@@ -318,10 +351,15 @@ int run_journal_replay(const ReplayOptions& options) {
 
 }  // namespace
 
+Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path) {
+  return make_pool(mode, script, path);
+}
+
 int run_replay(const ReplayOptions& options) {
+  if (wants_why(options)) return run_why_replay(options);
   if (std::filesystem::is_directory(options.script_path)) return run_journal_replay(options);
-  if (options.until != 0 || options.from != 0) {
-    throw CliError("--until and --from apply to a daemon's journal directory, not a script");
+  if (options.from != 0) {
+    throw CliError("--from applies to a daemon's journal directory, not a script");
   }
   return run_script_replay(options);
 }

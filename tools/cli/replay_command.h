@@ -20,8 +20,12 @@
 
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
+
+#include "engine/pool.h"
+#include "event_script.h"
 
 namespace yoke::cli {
 
@@ -32,10 +36,18 @@ struct ReplayOptions {
   bool stats = false;   // summary lines at the end
   bool diffs = false;   // the pairs each commit removed and added
   std::string pool = "default";  // which pool of a journal directory
-  // Journal directories only: stop after the last commit whose seq is at most `until`, and
-  // start from the newest snapshot of the pool at or before `from` (0: none asked for).
+  // Stop after the last commit whose seq (a script: commit number) is at most `until`; journal
+  // directories only: start from the newest snapshot of the pool at or before `from` (0: none asked for).
   std::uint64_t until = 0;
   std::uint64_t from = 0;
+  // --report FILE.html: a self-contained page of charts about the replay (replay_report.h).
+  std::string report;
+  // Postmortem questions (replay_why.h): --vertex V histories, --explain V explanations with
+  // at most `alternatives` alternatives, --json answers.
+  std::vector<std::uint64_t> history_vertices;
+  std::vector<std::uint64_t> explain_vertices;
+  std::size_t alternatives = 5;
+  bool json = false;
 };
 
 CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
@@ -44,5 +56,9 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
 // fails (the message is on stderr). Throws CliError for an unreadable or malformed script and
 // for a batch the pool rejects ("FILE:LINE: why", nothing of that batch applied).
 int run_replay(const ReplayOptions& options);
+
+// The pool `yoke replay` replays a script into: sized to the whole script (distinct ids,
+// largest |W|), or the mode's largest bounds when the script's weights exceed them.
+Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path);
 
 }  // namespace yoke::cli

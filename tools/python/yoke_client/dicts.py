@@ -62,14 +62,15 @@ def reply(r):
         alternatives = [{"other": a.other, "weight": a.weight, "slack2": a.slack2,
                          "other_mate": _optional(a, "other_mate")} for a in m.alternatives]
         return {"pool": pool, "seq": m.seq, "vertex": m.vertex, "mate": _optional(m, "mate"),
-                "pair_weight": m.pair_weight, "dual2": m.dual2, "weight_offset": m.weight_offset,
-                "alternatives": alternatives}
+                "pair_weight": m.pair_weight, "pair_bonus": m.pair_bonus, "dual2": m.dual2,
+                "weight_offset": m.weight_offset, "alternatives": alternatives}
     if kind == "stats":
         limits = m.config.limits
         return {"pool": pool, "seq": m.seq, "weight": m.weight, "pairs": m.pairs,
                 "vertices": m.vertices, "edges": m.edges, "mode": _MODES.get(m.config.mode),
                 "limits": {"max_vertices": limits.max_vertices, "max_edges": limits.max_edges,
                            "max_abs_weight": limits.max_abs_weight},
+                "churn_bonus": m.config.churn_bonus,
                 "batches_accepted": m.batches_accepted, "batches_rejected": m.batches_rejected,
                 "batches_duplicate": m.batches_duplicate, "events_applied": m.events_applied,
                 "commits": m.commits, "last_repair": _repair(m.last_repair),
