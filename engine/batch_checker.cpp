@@ -37,6 +37,7 @@ class BatchChecker::Overlay {
     accepted_events_ += batch.size();
     vertex_undo_.clear();  // accepted for good: nothing left to undo
     edge_undo_.clear();
+    partner_undo_.clear();
     return std::nullopt;
   }
 
@@ -94,12 +95,17 @@ class BatchChecker::Overlay {
                                                            ", " + text(event.v) + "} to unset"};
         }
         write_edge(edge_key(event.u, event.v), false);
+        if (partner_of(event.u) == event.v) unpin(event.u, event.v);  // the pin goes with its edge
         return std::nullopt;
+      case EventKind::pin_pair:
+      case EventKind::unpin_pair:
+        return check_pin(event);
       case EventKind::remove_vertex: {
         if (!exists(event.u)) {
           return Refusal{EventErrorCode::unknown_vertex,
                          "remove names unknown vertex " + text(event.u)};
         }
+        if (const auto partner = partner_of(event.u)) unpin(event.u, *partner);
         const std::uint32_t generation = this->generation(event.u);
         write_vertex(event.u, {false, generation + 1});  // its edges go with it
         --alive_change_;
@@ -107,6 +113,57 @@ class BatchChecker::Overlay {
       }
     }
     return Refusal{EventErrorCode::unknown_vertex, "unknown event kind"};
+  }
+
+  std::optional<Refusal> check_pin(const Event& event) {
+    const bool pin = event.kind == EventKind::pin_pair;
+    const char* verb = pin ? "pin" : "unpin";
+    if (event.u == event.v) {
+      return Refusal{EventErrorCode::self_loop, std::string(verb) + " names vertex " +
+                                                    text(event.u) + " twice"};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (!exists(end)) {
+        return Refusal{EventErrorCode::unknown_vertex,
+                       std::string(verb) + " names unknown vertex " + text(end)};
+      }
+    }
+    std::string pair = text(event.u);  // appended, not '"{" + ...': GCC 12 warns on that
+    pair.insert(0, 1, '{');
+    pair += ", " + text(event.v) + "}";
+    if (!pin) {
+      if (partner_of(event.u) != event.v) {
+        return Refusal{EventErrorCode::not_pinned, "the pair " + pair + " is not pinned"};
+      }
+      unpin(event.u, event.v);
+      return std::nullopt;
+    }
+    if (!edge_exists(event.u, event.v)) {
+      return Refusal{EventErrorCode::unknown_edge, "there is no edge " + pair + " to pin"};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (const auto partner = partner_of(end)) {
+        return Refusal{EventErrorCode::already_pinned, "vertex " + text(end) +
+                                                           " is pinned to " + text(*partner)};
+      }
+    }
+    write_partner(event.u, event.v);
+    write_partner(event.v, event.u);
+    return std::nullopt;
+  }
+
+  std::optional<VertexKey> partner_of(VertexKey key) const {
+    const auto it = partner_.find(key);
+    return it != partner_.end() ? it->second : pool_.pins.partner(key);
+  }
+  void unpin(VertexKey a, VertexKey b) {
+    write_partner(a, std::nullopt);
+    write_partner(b, std::nullopt);
+  }
+  void write_partner(VertexKey key, std::optional<VertexKey> partner) {
+    const auto [it, inserted] = partner_.try_emplace(key, partner);
+    partner_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    it->second = partner;
   }
 
   std::optional<Refusal> check_set(const Event& event) {
@@ -126,7 +183,8 @@ class BatchChecker::Overlay {
       }
     }
     if (!edge_exists(event.u, event.v)) {
-      if (pool_.graph.edge_count() + ++edges_added_ > pool_.limits.max_edges) {
+      if (pool_.graph.edge_count() + pool_.pins.aside_count() + ++edges_added_ >
+          pool_.limits.max_edges) {
         return Refusal{EventErrorCode::limit_exceeded,
                        "the pool would exceed its limit of " +
                            std::to_string(pool_.limits.max_edges) + " edges"};
@@ -162,6 +220,7 @@ class BatchChecker::Overlay {
     const auto it = edge_override_.find(edge_key(a, b));
     if (it != edge_override_.end()) return it->second;
     if (generation(a) != 0 || generation(b) != 0) return false;  // an end left earlier
+    if (pool_.pins.aside_weight(a, b)) return true;
     const Vertex va = pool_.graph.find(a);
     const Vertex vb = pool_.graph.find(b);
     return va != kNoVertex && vb != kNoVertex && pool_.graph.find_edge(va, vb) != kNoEdge;
@@ -194,8 +253,16 @@ class BatchChecker::Overlay {
         edge_override_.erase(it->key);
       }
     }
+    for (auto it = partner_undo_.rbegin(); it != partner_undo_.rend(); ++it) {
+      if (it->before) {
+        partner_[it->key] = *it->before;
+      } else {
+        partner_.erase(it->key);
+      }
+    }
     vertex_undo_.clear();
     edge_undo_.clear();
+    partner_undo_.clear();
     alive_change_ = mark.alive_change;
     edges_added_ = mark.edges_added;
   }
@@ -205,6 +272,9 @@ class BatchChecker::Overlay {
   std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
   std::vector<Undo<VertexKey, VertexState>> vertex_undo_;  // this batch's writes, in order
   std::vector<Undo<EdgeKey, bool>> edge_undo_;
+  // Pins the batches changed: the partner, or nothing for a vertex no longer pinned.
+  std::unordered_map<VertexKey, std::optional<VertexKey>> partner_;
+  std::vector<Undo<VertexKey, std::optional<VertexKey>>> partner_undo_;
   std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
   // Edges inserted so far; removals do not count (a departure's edges are not enumerated), so
   // the edge limit is checked conservatively.

@@ -10,6 +10,14 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
   const State& pool = *state_;
   const Vertex v = pool.graph.find(key);
   if (v == kNoVertex) return std::nullopt;
+  if (const auto partner = pool.pins.partner(key)) {
+    VertexExplanation pinned;
+    pinned.mate = partner;
+    pinned.pair_weight = *pool.pins.aside_weight(key, *partner);
+    pinned.weight_offset = pool.weight_offset;
+    pinned.pinned = true;
+    return pinned;
+  }
   const BlossomForest& forest = pool.matching.forest;
   const std::vector<Weight>& dual2 = pool.matching.dual2;
   const Mates& mate = pool.matching.mate;

@@ -16,21 +16,52 @@ class EventRepair {
         graph_(pool.graph),
         mate_(pool.matching.mate),
         dual2_(pool.matching.dual2),
-        forest_(pool.matching.forest) {}
+        forest_(pool.matching.forest),
+        pins_(pool.pins) {}
 
   void apply(const Event& event) {
+    const VertexKey u = event.u;
+    const VertexKey v = event.v;
     switch (event.kind) {
       case EventKind::add_vertex:
-        ensure_vertex(event.u);
+        ensure_vertex(u);
         break;
       case EventKind::set_edge:
-        set_edge(ensure_vertex(event.u), ensure_vertex(event.v), event.w);
+        if (pins_.pinned(u) || pins_.pinned(v)) {
+          ensure_vertex(u);
+          ensure_vertex(v);
+          if (pins_.is_pair(u, v)) touch_pin(u, v);
+          pins_.put_aside(u, v, event.w);
+        } else {
+          set_edge(ensure_vertex(u), ensure_vertex(v), event.w);
+        }
         break;
       case EventKind::unset_edge:
-        unset_edge(graph_.find(event.u), graph_.find(event.v));
+        if (pins_.is_pair(u, v)) {
+          end_pin(u, v, /*keep_edge=*/false);
+        } else if (pins_.aside_weight(u, v)) {
+          pins_.erase_aside(u, v);
+        } else {
+          unset_edge(graph_.find(u), graph_.find(v));
+        }
         break;
       case EventKind::remove_vertex:
-        remove_vertex(graph_.find(event.u));
+      {
+        const auto partner = pins_.partner(u);
+        if (partner) {
+          touch_pin(u, *partner);
+          pins_.unpin(u, *partner);
+        }
+        for (const VertexKey other : pins_.aside_at(u)) pins_.erase_aside(u, other);
+        if (partner) release(*partner);
+        remove_vertex(graph_.find(u));
+      }
+        break;
+      case EventKind::pin_pair:
+        pin(u, v);
+        break;
+      case EventKind::unpin_pair:
+        end_pin(u, v, /*keep_edge=*/true);
         break;
     }
   }
@@ -44,6 +75,48 @@ class EventRepair {
   }
 
  private:
+  // Pinning takes both vertices out of the optimisation: their edges go aside, each removed
+  // from the graph as an unset would remove it, so the rest is repaired around them.
+  void pin(VertexKey u, VertexKey v) {
+    touch_pin(u, v);
+    for (const VertexKey key : {u, v}) {
+      const Vertex x = graph_.find(key);
+      while (!graph_.graph().incident(x).empty()) {
+        const Incidence inc = graph_.graph().incident(x).back();
+        pins_.put_aside(key, graph_.key(inc.other), pool_.own_weight(x, inc.other, inc.edge));
+        unset_edge(x, inc.other);
+      }
+    }
+    pins_.pin(u, v);
+  }
+
+  // The pair goes back to the optimisation: every edge aside at either end whose other end is
+  // not pinned returns to the graph, in key order.
+  void end_pin(VertexKey u, VertexKey v, bool keep_edge) {
+    touch_pin(u, v);
+    pins_.unpin(u, v);
+    if (!keep_edge) pins_.erase_aside(u, v);
+    release(u);
+    release(v);
+  }
+
+  void release(VertexKey key) {
+    for (const VertexKey other : pins_.aside_at(key)) {
+      if (pins_.pinned(other)) continue;
+      const Weight w = *pins_.aside_weight(key, other);
+      pins_.erase_aside(key, other);
+      set_edge(graph_.find(key), graph_.find(other), w);
+    }
+  }
+
+  void touch_pin(VertexKey u, VertexKey v) {
+    const PinnedPairs::KeyPair pair = PinnedPairs::ordered(u, v);
+    const bool was = pins_.is_pair(u, v);
+    const Weight w = was ? *pins_.aside_weight(u, v) : 0;
+    auto [it, inserted] = pool_.pins_touched.try_emplace(pair, PoolState::PinTouch{was, w, 0});
+    it->second.cause = pool_.current_cause;
+  }
+
   struct Common {
     NodeId lowest;  // the smallest blossom holding both ends, kNoNode when none does
     Weight z2;      // doubled duals of every blossom holding both ends
@@ -267,6 +340,7 @@ class EventRepair {
   Mates& mate_;
   std::vector<Weight>& dual2_;
   BlossomForest& forest_;
+  PinnedPairs& pins_;
   std::vector<Vertex> bases_;
 };
 
@@ -304,7 +378,9 @@ void load_event(PoolState& pool, const Event& event) {
       while (!graph.graph().incident(v).empty()) graph.remove_edge(graph.graph().incident(v).back().edge);
       graph.remove_vertex(v);
       break;
-    }
+    }    case EventKind::pin_pair:
+    case EventKind::unpin_pair:
+      break;  // never here: Pool::commit repairs batches with pins event by event
   }
   ++pool.stats.events;
 }

@@ -9,7 +9,8 @@ namespace yoke {
 namespace {
 
 constexpr std::uint64_t kMagic = 0x4c4f4f50454b4f59;  // "YOKEPOOL"
-constexpr std::uint32_t kVersion = 2;  // 2 added the churn bonus; 1 is read as bonus 0
+// 2 added the churn bonus, 3 the pinned pairs; older versions are read as none of either.
+constexpr std::uint32_t kVersion = 3;
 
 void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2) {
   for (Vertex v = 0; v < mate.size(); ++v) {
@@ -51,6 +52,21 @@ void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weig
   }
 }
 
+// Pinned vertices are alive with no edges in the graph; edges aside join alive vertices.
+void check_pins(const PoolGraph& graph, const PinnedPairs& pins) {
+  for (const auto& [pair, w] : pins.pairs()) {
+    for (const VertexKey key : {pair.first, pair.second}) {
+      const Vertex v = graph.find(key);
+      if (v == kNoVertex || !graph.graph().incident(v).empty()) {
+        ByteReader::fail("pinned vertex " + std::to_string(key) + " is not alive or has edges");
+      }
+      for (const VertexKey other : pins.aside_at(key)) {
+        if (graph.find(other) == kNoVertex) ByteReader::fail("an edge aside ends at no vertex");
+      }
+    }
+  }
+}
+
 }  // namespace
 
 Pool::Pool(std::unique_ptr<State> state) : state_(std::move(state)) {}
@@ -72,6 +88,7 @@ std::string Pool::save() const {
   out.put_vector(pool.matching.mate.values());
   out.put_vector(pool.matching.dual2);
   pool.matching.forest.save(out);
+  pool.pins.save(out);
   return out.take();
 }
 
@@ -79,7 +96,7 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   ByteReader in(bytes);
   if (in.get<std::uint64_t>() != kMagic) ByteReader::fail("it does not start with the pool magic");
   const auto version = in.get<std::uint32_t>();
-  if (version != 1 && version != kVersion) ByteReader::fail("unknown format version");
+  if (version < 1 || version > kVersion) ByteReader::fail("unknown format version");
   const auto mode_number = in.get<std::uint8_t>();
   if (mode_number > static_cast<std::uint8_t>(Mode::perfect)) ByteReader::fail("unknown mode");
   PoolLimits limits;
@@ -104,6 +121,13 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   if (bonus != 0) pool.bonus_mate = pool.matching.mate.values();  // between commits: the matching
   pool.matching.forest = BlossomForest::load(in);
   if (pool.matching.forest.vertex_count() != n) ByteReader::fail("the forest has the wrong size");
+  if (version >= 3) {
+    pool.pins = PinnedPairs::load(in);
+    check_pins(pool.graph, pool.pins);
+    if (!pool.pins.weights_within(pool.limits.max_abs_weight)) {
+      ByteReader::fail("an edge aside has a weight beyond the pool's bound");
+    }
+  }
   if (!in.done()) ByteReader::fail("bytes are left over at the end");
   pool.node_mark.assign(2 * n, 0);
   pool.search = std::make_unique<AlternatingSearch>(pool.graph.graph(), pool.weight_offset, pool.matching);

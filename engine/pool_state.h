@@ -3,12 +3,14 @@
 #pragma once
 
 #include <cstdint>
+#include <map>
 #include <memory>
 #include <unordered_map>
 #include <vector>
 
 #include "alternating_search.h"
 #include "matching_state.h"
+#include "pinned_pairs.h"
 #include "pool.h"
 #include "pool_graph.h"
 
@@ -47,6 +49,7 @@ struct PoolState {
   // The pairs whose edges carry the churn bonus in the graph: the matching before the batch
   // during a commit, the matching itself between commits. Empty when churn_bonus is 0.
   std::vector<Vertex> bonus_mate;
+  PinnedPairs pins;  // pairs fixed by pin_pair, outside the optimisation
   std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
   std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
   std::uint32_t node_stamp = 0;
@@ -65,6 +68,13 @@ struct PoolState {
   // Edges matched before the batch whose weight the batch changed or that it removed: their
   // weight before the batch, by pair of slots (the diff reports it, the objective needs it).
   std::unordered_map<std::uint64_t, Weight> weight_before;
+  // Pinned pairs the batch pinned, unpinned or re-weighed: how they were before it.
+  struct PinTouch {
+    bool was_pinned;
+    Weight weight_before;
+    EventCause cause;  // the last event that touched the pair
+  };
+  std::map<PinnedPairs::KeyPair, PinTouch> pins_touched;
   RepairStats stats;
 };
 

@@ -53,6 +53,22 @@ v1::Event wire_remove(VertexKey u) {
   return event;
 }
 
+v1::Event wire_pin(VertexKey u, VertexKey v) {
+  v1::Event event;
+  event.set_kind(v1::Event::PIN_PAIR);
+  event.set_u(u);
+  event.set_v(v);
+  return event;
+}
+
+v1::Event wire_unpin(VertexKey u, VertexKey v) {
+  v1::Event event;
+  event.set_kind(v1::Event::UNPIN_PAIR);
+  event.set_u(u);
+  event.set_v(v);
+  return event;
+}
+
 v1::EventBatch make_batch(const std::vector<v1::Event>& events, const BatchHeader& header) {
   v1::EventBatch batch;
   batch.set_client_id(header.client_id);

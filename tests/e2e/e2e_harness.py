@@ -122,7 +122,8 @@ def ask(endpoint, kind, pool="", timeout_ms=2000, **fields):
 
 def make_event(kind, u, v=0, w=0):
     kinds = {"add": events_pb2.Event.ADD_VERTEX, "set": events_pb2.Event.SET_EDGE,
-             "unset": events_pb2.Event.UNSET_EDGE, "remove": events_pb2.Event.REMOVE_VERTEX}
+             "unset": events_pb2.Event.UNSET_EDGE, "remove": events_pb2.Event.REMOVE_VERTEX,
+             "pin": events_pb2.Event.PIN_PAIR, "unpin": events_pb2.Event.UNPIN_PAIR}
     return events_pb2.Event(kind=kinds[kind], u=u, v=v, w=w)
 
 
@@ -559,13 +560,15 @@ class Script:
         for batch in self.batches:
             for _, kind, u, v, w in batch:
                 lines.append({"add": f"add {u}", "remove": f"remove {u}", "unset": f"unset {u} {v}",
-                              "set": f"set {u} {v} {w}"}[kind])
+                              "set": f"set {u} {v} {w}", "pin": f"pin {u} {v}",
+                              "unpin": f"unpin {u} {v}"}[kind])
             lines.append("commit")
         return "\n".join(lines) + "\n"
 
     def shifted(self, offset):
         """The same stream on vertex ids + offset."""
-        return Script([[(n, k, u + offset, v + offset if k in ("set", "unset") else 0, w)
+        pairs = ("set", "unset", "pin", "unpin")
+        return Script([[(n, k, u + offset, v + offset if k in pairs else 0, w)
                         for n, k, u, v, w in batch] for batch in self.batches])
 
     def prefix(self, count):
@@ -592,6 +595,8 @@ class Script:
                     graph.remove_edge(u, v)
                 elif kind == "remove":
                     graph.remove_node(u)
+                elif kind in ("pin", "unpin"):
+                    pass  # the graph stays; a pinned pair is the matching's business
                 else:
                     raise AssertionError(f"unknown event kind {kind}")
         return graph

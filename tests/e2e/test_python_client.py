@@ -12,8 +12,10 @@ import unittest
 
 from e2e_harness import (SLOWDOWN, Daemon, check_binaries, gen_stream, networkx_weight,
                          replay_commits, scaled)
-from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add,
-                         set_edge, unset_edge)
+from yoke.v1 import events_pb2
+from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add, pin,
+                         set_edge, unpin, unset_edge)
+from yoke_client.events import to_proto
 
 
 def tuples(script):
@@ -160,6 +162,22 @@ class PythonClientTest(unittest.TestCase):
         silent = Query("ipc://" + os.path.join(daemon.dir, "nobody.sock"), timeout_s=0.2)
         with self.assertRaises(Unavailable):
             silent.health()
+
+
+class EventTuplesTest(unittest.TestCase):
+    """The tuples and their messages, without a daemon: proto/yoke/v1/events.proto is the spec
+    (pairs carry v, only SET_EDGE carries w)."""
+
+    def test_pin_and_unpin_tuples_encode_as_pair_events(self):
+        self.assertEqual(pin(4, 9), ("pin", 4, 9))
+        self.assertEqual(unpin(9, 4), ("unpin", 9, 4))
+        self.assertEqual(to_proto(pin(4, 9)),
+                         events_pb2.Event(kind=events_pb2.Event.PIN_PAIR, u=4, v=9))
+        self.assertEqual(to_proto(unpin(9, 4)),
+                         events_pb2.Event(kind=events_pb2.Event.UNPIN_PAIR, u=9, v=4))
+        self.assertEqual(to_proto(("pin", 2**64 - 1, 0)).u, 2**64 - 1)
+        with self.assertRaises(ValueError):
+            to_proto(("hold", 1, 2))
 
 
 if __name__ == "__main__":

@@ -41,11 +41,13 @@ struct VerbForm {
   std::size_t field_count;
 };
 
-constexpr std::array<VerbForm, 5> kVerbForms{{
+constexpr std::array<VerbForm, 7> kVerbForms{{
     {"add", "U", 1},
     {"set", "U V W", 3},
     {"unset", "U V", 2},
     {"remove", "U", 1},
+    {"pin", "U V", 2},
+    {"unpin", "U V", 2},
     {"commit", "", 0},
 }};
 
@@ -69,7 +71,7 @@ class ScriptBuilder {
     const VerbForm* form = find_verb(tokens.values[0]);
     if (form == nullptr) {
       throw EventScriptError(line, "unknown verb " + shown(tokens.values[0]) +
-                                       " (expected add, set, unset, remove or commit)");
+                                       " (expected add, set, unset, remove, pin, unpin or commit)");
     }
     if (tokens.count - 1 != form->field_count) {
       std::string usage = std::string(form->verb);
@@ -105,7 +107,15 @@ class ScriptBuilder {
     } else if (form.verb == "remove") {
       event.kind = EventKind::remove_vertex;
     } else {
-      event.kind = form.verb == "set" ? EventKind::set_edge : EventKind::unset_edge;
+      if (form.verb == "set") {
+        event.kind = EventKind::set_edge;
+      } else if (form.verb == "unset") {
+        event.kind = EventKind::unset_edge;
+      } else if (form.verb == "pin") {
+        event.kind = EventKind::pin_pair;
+      } else {
+        event.kind = EventKind::unpin_pair;
+      }
       event.v = vertex_id(tokens.values[2], line);
       if (event.u == event.v) {
         throw EventScriptError(line, "self loop on vertex " + std::to_string(event.u));

@@ -6,11 +6,15 @@ through a running yoked, one batch per tick.
 
 Couriers and orders appear in the city's districts; couriers walk the streets, so the scores
 of their pairs change every tick; a pair that stands long enough in the lead pool (`bay`) is
-dispatched: courier and order leave the pool, and the courier comes back when the delivery is
-done. Orders nobody takes expire, couriers end their shifts. Every tick's events go, unchanged,
-to two pools: the lead pool `bay` (declared in the daemon's config, with a churn bonus when the
+dispatched: the pair is pinned (a `pin` event: it stays matched whatever the scores do) while
+the courier travels to the order, a few ticks drawn per pair (--travel-ticks), then courier and
+order leave the pool (delivered), and the courier comes back when the delivery is done.
+Orders nobody takes expire, couriers end their shifts. Every tick's events go, unchanged, to two
+pools: the lead pool `bay` (declared in the daemon's config, with a churn bonus when the
 daemon supports one) and the shadow pool `bay-plain` (plain maximum weight), so the summary
-shows the churn of both side by side.
+shows the churn of both side by side. Every diff is checked against the pins: a pinned pair
+that a diff removes, or that is not matched after a batch, counts as a pin violation (none are
+expected).
 
 The summary is redrawn every second on a terminal, or printed as one line a second otherwise;
 the run ends after --seconds of wall time, after --ticks ticks, or at Ctrl-C (SIGINT or
@@ -65,6 +69,10 @@ def parse_args(argv):
                    help="new orders per tick before the evening peak (default 7)")
     p.add_argument("--hold-ticks", type=int, default=6,
                    help="a pair standing this many ticks in the lead pool is dispatched")
+    p.add_argument("--travel-ticks", type=int, default=4,
+                   help="a dispatched pair stays pinned about this many ticks (drawn per pair "
+                        "between half and one and a half times it) before its delivery "
+                        "removes it; 0: removed at once (default 4)")
     p.add_argument("--pool", default="bay", help="the lead pool (default bay)")
     p.add_argument("--shadow-pool", default="bay-plain", help="the shadow pool (default bay-plain)")
     p.add_argument("--churn-bonus", type=int, default=None,
@@ -99,16 +107,26 @@ class Run:
         ev = self.evening
         events = ev.step()
         sent_at = time.monotonic()
-        self.pools.send(events, ev.tick, ev.alive)
+        self.pools.send(events, ev.tick, ev.alive, ev.pinned)
         # Both pools acknowledged: each saw len(events) events.
         self.events_total += 2 * len(events)
         self.history.append((sent_at, 2 * len(events), time.monotonic()))
-        # Dispatch what stood long enough in the lead pool.
+        # Dispatch what stood long enough in the lead pool (and is not on its way already): each
+        # pair is pinned for its travel time, then delivered.
         hold = self.args.hold_ticks
         due = [(a, b) if dispatch_model.is_courier(a) else (b, a)
                for (a, b), since in sorted(self.pools.lead.since.items())
-               if ev.tick - since >= hold]
-        ev.dispatch(due)
+               if ev.tick - since >= hold and (a, b) not in ev.pinned]
+        ev.dispatch([(c, o, self.travel_ticks(c, o)) for c, o in due])
+
+    def travel_ticks(self, courier, order):
+        """The pair's travel time in ticks, from the seed and the pair alone (the evening's
+        own random stream is not touched)."""
+        n = self.args.travel_ticks
+        if n <= 0:
+            return 0
+        rng = random.Random(f"{self.args.seed}/{courier}/{order}")
+        return rng.randint(max(1, (n + 1) // 2), n + n // 2)
 
     def frame(self):
         ev, lead, shadow = self.evening, self.pools.lead, self.pools.shadow
@@ -136,7 +154,8 @@ class Run:
                           "pairs": track.pairs, "weight": track.weight,
                           "changed_rate": sum(changed) / len(changed) if changed else 0.0,
                           "changed_total": track.changed_total,
-                          "broken_total": track.broken_total, "resyncs": track.resyncs})
+                          "broken_total": track.broken_total,
+                          "pin_violations": track.pin_violations, "resyncs": track.resyncs})
         city = ev.city
         per = [[d.name, 0, 0, 0] for d in city.districts]
         for c in ev.couriers.values():
@@ -158,6 +177,8 @@ class Run:
             "diff_p99_ms": percentile(diffs, 0.99) or 0.0,
             "dispatched": ev.counts["dispatched"], "expired": ev.counts["expired"],
             "shifts_ended": ev.counts["shifts_ended"], "hold_ticks": self.args.hold_ticks,
+            "delivered": ev.counts["delivered"], "pinned_now": len(ev.pinned),
+            "pinned_total": ev.counts["pinned_total"], "travel_ticks": self.args.travel_ticks,
             "districts": per,
         }
 

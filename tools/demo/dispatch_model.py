@@ -2,15 +2,16 @@
 between them.
 
 Each `step()` advances the simulated clock by one tick and returns that tick's events, in the
-yoke_client tuple form: departures (`remove`), then arrivals (`add`), then edge changes
-(`set`, `unset`). The model keeps its own copy of the pool (who is alive, which edges exist and
-their weights), so every event it emits is valid for a daemon pool that received the same
-events before, and its counts can be compared with the daemon's.
+yoke_client tuple form: pins (`pin`), then departures (`remove`), then arrivals (`add`), then
+edge changes (`set`, `unset`). The model keeps its own copy of the pool (who is alive, which
+edges exist and their weights, which pairs are pinned), so every event it emits is valid for a
+daemon pool that received the same events before, and its counts can be compared with the
+daemon's (a pinned pair's vertices and all their edges are in the pool until the delivery).
 
-Vertices: couriers are 10000 + n, orders 1000000 + n. A courier who is dispatched leaves the
-pool with the order, delivers it off the pool, and comes back (same id) where the delivery
-ended; a courier whose shift is over leaves for good; an order nobody took leaves when its
-patience runs out.
+Vertices: couriers are 10000 + n, orders 1000000 + n. A courier who is dispatched is pinned to
+the order while it travels there, then leaves the pool with the order, delivers it off the
+pool, and comes back (same id) where the delivery ended; a courier whose shift is over leaves
+for good; an order nobody took leaves when its patience runs out.
 
 Edges: a courier and an order within RADIUS_M metres (along streets) may be linked; an order
 holds at most ORDER_EDGES edges and a courier at most COURIER_EDGES, the nearest ones found so
@@ -19,8 +20,13 @@ proportion to the couriers that moved and the vertices that came or went, not to
 Weight (an integer score): the order's value, plus a bonus growing with each minute it has
 waited, minus a cost per 25 m the courier is away.
 
-What is dispatched is decided by the caller (`dispatch(pairs)`): the pairs it names leave at
-the next step.
+What is dispatched is decided by the caller (`dispatch(pairs)`): at the next step each pair it
+names is pinned (a `pin` event: the courier is on the way, and no later change of the scores may
+break the pair) for the pair's travel time in ticks, then leaves the pool (delivered: both
+`remove`d, which ends the pin); a travel time of 0 removes the pair at once. While pinned, the
+courier walks to its order, neither end expires nor ends its shift, the pair's edge stays
+whatever the distance, and neither end gets new edges (the edges it has stay, and count, as in
+the daemon's pool).
 """
 
 import math
@@ -146,8 +152,11 @@ class Evening:
         self.next_courier = COURIER_BASE + 1
         self.next_order = ORDER_BASE + 1
         self.to_dispatch = []
-        self.counts = {"dispatched": 0, "expired": 0, "shifts_ended": 0, "shifts_started": 0,
-                       "orders_placed": 0, "returned": 0}
+        self.pinned = {}                              # (courier, order) -> tick of delivery
+        self.pinned_by = {}                           # courier or order -> its pinned pair
+        self.counts = {"dispatched": 0, "delivered": 0, "pinned_total": 0, "expired": 0,
+                       "shifts_ended": 0, "shifts_started": 0, "orders_placed": 0,
+                       "returned": 0}
         self._touched = {}   # (courier, order) -> weight before this tick (None: no edge)
         self._weights = {}   # (courier, order) -> current weight
         self._dirty_orders = set()
@@ -222,7 +231,7 @@ class Evening:
         c.scan_pos = c.pos
         candidates = []
         for o in self.order_grid.near(c.pos):
-            if o.id in c.edges or len(o.edges) >= ORDER_EDGES:
+            if o.id in c.edges or len(o.edges) >= ORDER_EDGES or o.id in self.pinned_by:
                 continue
             d = larkspur.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
@@ -245,7 +254,7 @@ class Evening:
             return
         candidates = []
         for c in self.courier_grid.near(o.pos):
-            if c.id in o.edges or len(c.edges) >= COURIER_EDGES:
+            if c.id in o.edges or len(c.edges) >= COURIER_EDGES or c.id in self.pinned_by:
                 continue
             d = larkspur.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
@@ -303,8 +312,37 @@ class Evening:
         events.append(("remove", o.id))
 
     def dispatch(self, pairs):
-        """The caller commits these (courier, order) pairs; they leave the pool next step."""
+        """The caller commits these (courier, order, travel ticks) triples: at the next step
+        each pair is pinned for its travel ticks, then delivered (0: delivered at once)."""
         self.to_dispatch.extend(pairs)
+
+    def _deliver(self, cid, oid, events):
+        """Courier and order leave the pool (a pinned pair's pin ends with them); the courier
+        comes back where the delivery ends."""
+        rng = self.rng
+        c, o = self.couriers[cid], self.orders[oid]
+        trip_s = larkspur.manhattan(c.pos, o.pos) / c.speed + rng.uniform(3, 8) * 60
+        self._leave_courier(c, events)
+        self._leave_order(o, events)
+        c.out_until = self.clock + trip_s
+        c.pos = self.city.street_point_near(
+            rng, self.city.random_intersection(rng, self.city.pick_district(rng)), 100)
+        c.route, c.park, c.scan_pos, c.edges = [], rng.randrange(1, 4), None, {}
+        c.deliveries += 1
+        self.away[cid] = c
+        self.counts["delivered"] += 1
+
+    def _pin(self, cid, oid, travel_ticks, events):
+        """The pair is pinned until the step of tick self.tick + travel_ticks; the courier sets
+        off to the order."""
+        c, o = self.couriers[cid], self.orders[oid]
+        events.append(("pin", cid, oid))
+        self.pinned[(cid, oid)] = self.tick + travel_ticks
+        self.pinned_by[cid] = self.pinned_by[oid] = (cid, oid)
+        goal = (larkspur.snap(o.pos[0], larkspur.WIDTH_M),
+                larkspur.snap(o.pos[1], larkspur.HEIGHT_M))
+        c.route, c.park = larkspur.route(c.pos, goal, True), 0
+        self.counts["pinned_total"] += 1
 
     # --- one tick ---
 
@@ -317,26 +355,29 @@ class Evening:
             self.clock += self.tick_s
         self.tick += 1
 
-        # Departures: dispatched pairs, expired orders, shifts that ended.
-        for cid, oid in self.to_dispatch:
-            c, o = self.couriers.get(cid), self.orders.get(oid)
-            if c is None or o is None:
+        # Pins and deliveries first (a pin needs the pair's edge as it stood before this tick),
+        # then departures: expired orders, shifts that ended (a pinned end stays).
+        for cid, oid, travel_ticks in self.to_dispatch:
+            if cid not in self.couriers or oid not in self.orders or \
+                    oid not in self.couriers[cid].edges or \
+                    cid in self.pinned_by or oid in self.pinned_by:
                 continue
-            trip_s = larkspur.manhattan(c.pos, o.pos) / c.speed + rng.uniform(3, 8) * 60
-            self._leave_courier(c, events)
-            self._leave_order(o, events)
-            c.out_until = self.clock + trip_s
-            c.pos = self.city.street_point_near(
-                rng, self.city.random_intersection(rng, self.city.pick_district(rng)), 100)
-            c.route, c.park, c.scan_pos, c.edges = [], rng.randrange(1, 4), None, {}
-            c.deliveries += 1
-            self.away[cid] = c
             self.counts["dispatched"] += 1
+            if travel_ticks > 0:
+                self._pin(cid, oid, travel_ticks, events)
+            else:
+                self._deliver(cid, oid, events)
         self.to_dispatch = []
-        for o in [o for o in self.orders.values() if self.clock - o.born > o.patience]:
+        for (cid, oid), due in sorted(self.pinned.items()):
+            if due <= self.tick:
+                del self.pinned[(cid, oid)], self.pinned_by[cid], self.pinned_by[oid]
+                self._deliver(cid, oid, events)
+        for o in [o for o in self.orders.values()
+                  if self.clock - o.born > o.patience and o.id not in self.pinned_by]:
             self._leave_order(o, events)
             self.counts["expired"] += 1
-        for c in [c for c in self.couriers.values() if self.clock >= c.shift_end]:
+        for c in [c for c in self.couriers.values()
+                  if self.clock >= c.shift_end and c.id not in self.pinned_by]:
             self._leave_courier(c, events)
             self.counts["shifts_ended"] += 1
 
@@ -367,18 +408,21 @@ class Evening:
             if c.park > 0:
                 c.park -= 1
                 continue
+            pair = self.pinned_by.get(c.id)
             if not c.route:
+                if pair is not None:
+                    continue  # at its order: waits there until the pickup
                 self._choose_destination(c)
                 if not c.route:
                     continue
             c.pos = larkspur.advance(c.pos, c.route, c.speed * self.tick_s)
             self.courier_grid.put(c)
-            if not c.route:
+            if not c.route and pair is None:
                 c.park = rng.randrange(2, 12)
             for oid in list(c.edges):
                 o = self.orders[oid]
                 d = larkspur.manhattan(c.pos, o.pos)
-                if d > RADIUS_M:
+                if d > RADIUS_M and (c.id, oid) != pair:
                     self._unlink(c, o)
                 else:
                     self._reweigh(c, o, d)
@@ -397,12 +441,12 @@ class Evening:
         dirty, self._dirty_couriers = sorted(self._dirty_couriers), set()
         for cid in dirty:
             c = self.couriers.get(cid)
-            if c is not None:
+            if c is not None and cid not in self.pinned_by:
                 self._scan_courier(c)
         dirty, self._dirty_orders = sorted(self._dirty_orders), set()
         for oid in dirty:
             o = self.orders.get(oid)
-            if o is not None:
+            if o is not None and oid not in self.pinned_by:
                 self._scan_order(o)
 
         for key in sorted(self._touched):

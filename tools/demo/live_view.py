@@ -76,6 +76,7 @@ class LiveView:
         rows = [("pairs", "pairs"), ("objective w(M)", "weight"),
                 ("pairs changed / tick", "changed_rate"),
                 ("standing pairs broken", "broken_total"),
+                ("pinned pairs broken", "pin_violations"),
                 ("pool seq", "seq")]
         for title_, key in rows:
             lv, sv = lead[key], shadow[key]
@@ -89,9 +90,12 @@ class LiveView:
             f"   commit to publish p50 {_ms(f['publish_p50_us'])} ms",
             f"client            send to ack p50 {f['ack_p50_ms']:.2f} ms   "
             f"send to diff p99 {f['diff_p99_ms']:.2f} ms",
-            f"dispatched {_num(f['dispatched'])}   expired {_num(f['expired'])}   "
-            f"shifts ended {_num(f['shifts_ended'])}   {d}(pairs standing "
-            f"{f['hold_ticks']} ticks in {lead['name']} are dispatched){r}",
+            f"dispatched {_num(f['dispatched'])}   delivered {_num(f['delivered'])}   "
+            f"expired {_num(f['expired'])}   shifts ended {_num(f['shifts_ended'])}",
+            f"pinned now {_num(f['pinned_now'])}   pinned in all {_num(f['pinned_total'])}   "
+            f"{d}(pairs standing {f['hold_ticks']} ticks in {lead['name']} are dispatched: "
+            f"pinned about {f['travel_ticks']} ticks while the courier travels, then "
+            f"delivered){r}",
             "",
             f"{'district':<20}{'couriers':>9}{'orders':>8}{'pairs':>7}",
         ]
@@ -109,15 +113,19 @@ class LiveView:
                 f"repair_ms_p50={_ms(f['repair_p50_us'])} p99={_ms(f['repair_p99_us'])} "
                 f"ack_ms_p50={f['ack_p50_ms']:.2f} "
                 f"changed_per_tick={lead['changed_rate']:.1f}/{shadow['changed_rate']:.1f} "
-                f"broken={lead['broken_total']}/{shadow['broken_total']}")
+                f"broken={lead['broken_total']}/{shadow['broken_total']} "
+                f"pinned={f['pinned_now']} pinned_total={f['pinned_total']} "
+                f"pin_violations={lead['pin_violations']}/{shadow['pin_violations']}")
 
 
 def final_line(f):
     """One line a script or a test can read: the run's totals per pool."""
     parts = [f"demo: final ticks={f['tick']} events={f['events_total']} "
              f"vertices={f['couriers'] + f['orders']} edges={f['edges']} "
-             f"dispatched={f['dispatched']}"]
+             f"dispatched={f['dispatched']} delivered={f['delivered']} "
+             f"pinned={f['pinned_now']} pinned_total={f['pinned_total']}"]
     for p in f["pools"]:
         parts.append(f"{p['name']}: seq={p['seq']} pairs={p['pairs']} weight={p['weight']} "
-                     f"changed={p['changed_total']} broken={p['broken_total']}")
+                     f"changed={p['changed_total']} broken={p['broken_total']} "
+                     f"pin_violations={p['pin_violations']}")
     return " | ".join(parts)

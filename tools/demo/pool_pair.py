@@ -5,9 +5,11 @@ its long-standing pairs are dispatched) and to a shadow pool (same events, its o
 e.g. no churn bonus), waits for both acknowledgements and both published diffs, and keeps per
 pool: the acknowledged seq, the matching (from the diffs, after a catch-up at the start), the
 weight, how many pairs each tick changed, and how many standing pairs were broken while both of
-their ends stayed in the pool (reassignments, the churn a dispatcher and a courier feel).
-It also records timings: the daemon's repair_us and commit_to_publish_us from each diff, and
-send-to-ack and send-to-diff as the client saw them.
+their ends stayed in the pool (reassignments, the churn a dispatcher and a courier feel). It
+checks the pins too: a pair the simulation has pinned must stay matched until its pin ends (no
+diff may remove it while it is pinned, and it is in the matching after every batch); each miss
+counts as a pin violation (expected: none). It also records timings: the daemon's repair_us and
+commit_to_publish_us from each diff, and send-to-ack and send-to-diff as the client saw them.
 """
 
 import collections
@@ -28,6 +30,7 @@ class PoolTrack:
         self.since = {}            # (a, b) -> tick it was formed
         self.changed_total = 0     # pairs removed + added, all ticks
         self.broken_total = 0      # standing pairs broken with both ends still in the pool
+        self.pin_violations = 0    # pinned pairs removed (or missing) while pinned
         self.changed_tick = 0
         self.broken_tick = 0
         self.changed_recent = collections.deque(maxlen=10)  # changed_tick of the last ticks
@@ -43,6 +46,8 @@ class PoolTrack:
 
 
 class PoolPair:
+    QUIET_S = 1.0  # no diff this long after the ack: fetch the matching instead
+
     def __init__(self, ingest, publish, query, lead, shadow, client_id, timeout_s=5.0):
         self.lead = PoolTrack(lead)
         self.shadow = PoolTrack(shadow)
@@ -71,10 +76,11 @@ class PoolPair:
         for w in self._watchers:
             w.close()
 
-    def send(self, events, tick, alive):
+    def send(self, events, tick, alive, pinned=()):
         """Sends one tick's events to both pools; returns once both are acknowledged and both
         diffs are in. `alive(v)` says whether v is still in the pool after this tick (to tell a
-        reassignment from a departure). Raises yoke_client's Rejected / Unavailable."""
+        reassignment from a departure); `pinned` holds the (a, b) pairs (a < b) pinned after
+        this tick's events. Raises yoke_client's Rejected / Unavailable."""
         protos = [event_codec.to_proto(e) for e in events]
         started = time.monotonic()
         shadow_ack = self._pool.submit(self._senders[1].send, protos)
@@ -83,12 +89,13 @@ class PoolPair:
         for track, ack in zip(self.tracks, acks):
             track.ack_ms.append((acked - started) * 1000.0)
         for watcher, track, ack in zip(self._watchers, self.tracks, acks):
-            self._follow(watcher, track, ack.seq, tick, alive, started)
+            self._follow(watcher, track, ack.seq, tick, alive, pinned, started)
         return acks
 
-    def _follow(self, watcher, track, seq, tick, alive, started):
+    def _follow(self, watcher, track, seq, tick, alive, pinned, started):
         track.changed_tick = track.broken_tick = 0
         deadline = time.monotonic() + self._timeout_s
+        heard = time.monotonic()
         while watcher.seq < seq:
             left = deadline - time.monotonic()
             if left <= 0:
@@ -101,13 +108,22 @@ class PoolPair:
                 track.since = {(a, b): tick for a, b in watcher.matching.items() if a < b}
                 continue
             if diff is None:
+                if time.monotonic() - heard >= self.QUIET_S:
+                    # The diff went out while the SUB socket was reconnecting (the daemon
+                    # restarted) and no later one will tell: fetch the matching again.
+                    watcher.catch_up(self._timeout_s)
+                    track.resyncs += 1
+                    track.since = {(a, b): tick for a, b in watcher.matching.items() if a < b}
+                    heard = time.monotonic()
                 continue
-            now = time.monotonic()
+            heard = now = time.monotonic()
             track.repair_us.append((now, diff["repair_us"]))
             track.publish_us.append((now, diff["commit_to_publish_us"]))
             track.diff_ms.append((now - started) * 1000.0)
             for a, b, _ in diff["removed"]:
                 track.since.pop((a, b), None)
+                if (a, b) in pinned:
+                    track.pin_violations += 1
                 if alive(a) and alive(b):
                     track.broken_tick += 1
             for a, b, _ in diff["added"]:
@@ -118,6 +134,7 @@ class PoolPair:
         track.changed_total += track.changed_tick
         track.changed_recent.append(track.changed_tick)
         track.broken_total += track.broken_tick
+        track.pin_violations += sum(1 for a, b in pinned if watcher.matching.get(a) != b)
         track.seq, track.weight = watcher.seq, watcher.weight
         track.pairs = len(watcher.matching) // 2
 

@@ -1,0 +1,202 @@
+// Pinned pairs: a pinned pair stays matched whatever the weights, and the rest of the pool is
+// optimised around it. After every commit of seeded streams with pins and unpins mixed in, the
+// pool's weight less its pinned pairs must be the optimum of the graph without the pinned
+// vertices: oracle: LEMON MaxWeightedMatching / MaxWeightedPerfectMatching / MaxMatching (Debian
+// liblemon-dev 1.3.1, lemon_oracle.h). The pool's certificate must hold as well.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <random>
+#include <set>
+#include <string>
+#include <tuple>
+#include <vector>
+
+#include "checked_solve.h"
+#include "engine/certificate.h"
+#include "engine/pool.h"
+#include "lemon_oracle.h"
+#include "test_scale.h"
+#include "tools/graphgen/event_stream.h"
+
+namespace yoke::oracle {
+namespace {
+
+using gen::StreamFamily;
+
+Event pin(VertexKey u, VertexKey v) { return {EventKind::pin_pair, u, v, 0}; }
+Event unpin(VertexKey u, VertexKey v) { return {EventKind::unpin_pair, u, v, 0}; }
+Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
+
+// A batch that pins a few unpinned edges of the pool and unpins a few pinned pairs.
+std::vector<Event> pin_batch(const Pool& pool, std::mt19937_64& random) {
+  const PoolExport exported = pool.export_certified();
+  std::vector<Event> batch;
+  for (const MatchedPair& p : exported.pinned) {
+    if (random() % 3 == 0) batch.push_back(unpin(p.b, p.a));
+  }
+  std::set<VertexKey> used;
+  for (const Edge& e : exported.graph.edges()) {
+    const VertexKey a = exported.keys[e.a];
+    const VertexKey b = exported.keys[e.b];
+    if (random() % 8 != 0 || used.contains(a) || used.contains(b)) continue;
+    used.insert(a);
+    used.insert(b);
+    batch.push_back(pin(a, b));
+  }
+  return batch;
+}
+
+void expect_pins_hold(StreamFamily family, Mode mode, std::uint64_t seed, Weight bonus) {
+  const std::string label = std::string("pins_") + gen::stream_family_name(family) + "_" +
+                            mode_name(mode) + "_seed" + std::to_string(seed);
+  std::mt19937_64 random(seed);
+  PoolLimits limits;
+  limits.max_vertices = 4096;
+  limits.max_abs_weight = 1'000'000;
+  Pool pool(mode, limits, bonus);
+  gen::EventStream stream(gen::test_stream_spec(family, seed, 40, 30));
+  std::vector<Event> batch;
+  std::size_t batches = 0;
+  std::size_t pinned_seen = 0;  // pinned pairs summed over the commits: the test must pin
+  for (;;) {
+    if (batches++ % 3 == 2) {
+      batch = pin_batch(pool, random);
+    } else if (!stream.next_batch(batch)) {
+      break;
+    }
+    ASSERT_FALSE(pool.check(batch).has_value()) << label << ": " << pool.check(batch)->message;
+    const CommitResult result = pool.commit(batch);
+    SCOPED_TRACE(label + ", commit " + std::to_string(result.commit));
+    const PoolExport exported = pool.export_certified();
+    const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
+    ASSERT_TRUE(verdict.ok) << verdict.failure;
+    Weight pinned_weight = 0;
+    pinned_seen += exported.pinned.size();
+    for (const MatchedPair& p : exported.pinned) {
+      ASSERT_EQ(pool.mate_of(p.a), p.b);
+      ASSERT_EQ(pool.mate_of(p.b), p.a);
+      pinned_weight += p.w;
+    }
+    ASSERT_EQ(result.weight, pool.weight());
+    ASSERT_EQ(result.pairs, pool.matching().size());
+    if (bonus != 0) continue;  // the churn test checks the bonus; here the pins alone
+    const Answer best = lemon_optimum(exported.graph, mode);
+    if (mode == Mode::perfect && !best.feasible) {
+      ASSERT_EQ(result.status, SolveStatus::no_perfect_matching);
+      continue;
+    }
+    ASSERT_EQ(result.weight - pinned_weight, best.weight)
+        << "\n  graph: " << write_reproducer(exported.graph, mode, label);
+    if (mode != Mode::max_weight) {
+      ASSERT_EQ(result.pairs - exported.pinned.size(), best.pairs);
+    }
+  }
+  EXPECT_GT(pinned_seen, 0u) << label;
+}
+
+constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
+                                      StreamFamily::dispatch, StreamFamily::complete,
+                                      StreamFamily::stress};
+constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
+
+class PinsAgainstLemon : public testing::TestWithParam<std::tuple<StreamFamily, Mode>> {};
+
+TEST_P(PinsAgainstLemon, PinnedPairsStayAndTheRestIsOptimal) {
+  const auto [family, mode] = GetParam();
+  const int seeds = scaled(20);
+  for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(7000 + seed);
+    expect_pins_hold(family, mode, s, 0);
+    expect_pins_hold(family, mode, s, 25);  // with a churn bonus: certified, pins kept
+  }
+}
+
+std::string case_name(const testing::TestParamInfo<PinsAgainstLemon::ParamType>& info) {
+  std::string mode = mode_name(std::get<1>(info.param));
+  std::erase(mode, '-');
+  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, PinsAgainstLemon,
+                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
+                         case_name);
+
+// Common knowledge, by hand: {2,3} outweighs {1,2}, but {1,2} is pinned.
+TEST(Pins, APinnedPairStaysWhateverTheWeights) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector<Event>{set(1, 2, 5), set(2, 3, 9)});
+  EXPECT_EQ(pool.mate_of(2), 3u);
+  CommitResult result = pool.commit(std::vector<Event>{pin(1, 2)});
+  EXPECT_EQ(result.diff.removed, (std::vector<MatchedPair>{{2, 3, 9}}));
+  EXPECT_EQ(result.diff.added, (std::vector<MatchedPair>{{1, 2, 5}}));
+  EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{0}));
+  EXPECT_EQ(result.weight, 5);
+  // Its edge may fall below zero and its vertices gain edges: it stays.
+  result = pool.commit(std::vector<Event>{set(1, 2, -4), set(1, 4, 50), set(3, 4, 1)});
+  EXPECT_EQ(pool.mate_of(1), 2u);
+  EXPECT_EQ(pool.mate_of(3), 4u);
+  EXPECT_EQ(result.weight, -4 + 1);
+  const std::optional<VertexExplanation> why = pool.explain(1);
+  ASSERT_TRUE(why.has_value());
+  EXPECT_TRUE(why->pinned);
+  EXPECT_EQ(why->pair_weight, -4);
+  // Unpinned, the optimum comes back: {1,4} 50 and {2,3} 9.
+  result = pool.commit(std::vector<Event>{unpin(2, 1)});
+  EXPECT_EQ(pool.mate_of(1), 4u);
+  EXPECT_EQ(pool.mate_of(2), 3u);
+  EXPECT_EQ(result.weight, 59);
+  const PoolExport exported = pool.export_certified();
+  EXPECT_TRUE(check_certificate(exported.graph, exported.certificate).ok);
+}
+
+TEST(Pins, ADepartureOrAnUnsetEndsThePin) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector<Event>{set(1, 2, 5), set(2, 3, 9), set(3, 4, 2)});
+  pool.commit(std::vector<Event>{pin(1, 2), pin(3, 4)});
+  CommitResult result = pool.commit(std::vector<Event>{{EventKind::remove_vertex, 1, 0, 0}});
+  EXPECT_EQ(pool.mate_of(2), std::nullopt);  // 3 is still pinned to 4
+  result = pool.commit(std::vector<Event>{{EventKind::unset_edge, 4, 3, 0}});
+  EXPECT_EQ(pool.mate_of(2), 3u);
+  EXPECT_EQ(result.weight, 9);
+}
+
+TEST(Pins, BadPinsAreRefusedAndChangeNothing) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector<Event>{set(1, 2, 5), set(2, 3, 9), set(3, 4, 2), {EventKind::add_vertex, 9, 0, 0}});
+  pool.commit(std::vector<Event>{pin(1, 2)});
+  const auto code = [&](std::vector<Event> batch) {
+    const auto error = pool.check(batch);
+    return error ? error->code : EventErrorCode::vertex_exists;  // vertex_exists: "accepted" here
+  };
+  EXPECT_EQ(code({pin(3, 3)}), EventErrorCode::self_loop);
+  EXPECT_EQ(code({pin(3, 77)}), EventErrorCode::unknown_vertex);
+  EXPECT_EQ(code({pin(3, 9)}), EventErrorCode::unknown_edge);
+  EXPECT_EQ(code({pin(2, 3)}), EventErrorCode::already_pinned);
+  EXPECT_EQ(code({unpin(3, 4)}), EventErrorCode::not_pinned);
+  EXPECT_EQ(code({unpin(1, 2), pin(2, 3)}), EventErrorCode::vertex_exists);  // fine in order
+  EXPECT_EQ(code({unpin(1, 2), unpin(1, 2)}), EventErrorCode::not_pinned);
+  EXPECT_EQ(code({{EventKind::remove_vertex, 1, 0, 0}, pin(2, 3)}), EventErrorCode::vertex_exists);
+  EXPECT_EQ(code({{EventKind::unset_edge, 2, 1, 0}, unpin(1, 2)}), EventErrorCode::not_pinned);
+  // An edge aside exists: it can be unset and pinned again after an unpin.
+  EXPECT_EQ(code({set(1, 9, 3), {EventKind::unset_edge, 9, 1, 0}}), EventErrorCode::vertex_exists);
+  EXPECT_EQ(pool.mate_of(1), 2u);
+  EXPECT_EQ(pool.weight(), 5 + 2);
+}
+
+TEST(Pins, ASavedPoolKeepsItsPins) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector<Event>{set(1, 2, 5), set(2, 3, 9), set(3, 4, 2), set(1, 4, 1)});
+  pool.commit(std::vector<Event>{pin(1, 2)});
+  const std::unique_ptr<Pool> copy = Pool::restore(pool.save());
+  EXPECT_EQ(copy->matching(), pool.matching());
+  EXPECT_EQ(copy->weight(), pool.weight());
+  const std::vector<Event> release{unpin(1, 2)};
+  const CommitResult a = pool.commit(release);
+  const CommitResult b = copy->commit(release);
+  EXPECT_EQ(a.diff.added, b.diff.added);
+  EXPECT_EQ(a.weight, b.weight);
+}
+
+}  // namespace
+}  // namespace yoke::oracle
