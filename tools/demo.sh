@@ -171,6 +171,8 @@ courier = result.get("busy_courier")
 if courier is not None:
     print(f"  {yoke} replay {data} --pool bay --vertex {courier}"
           f"      # courier {courier}: paired {result['busy_courier_pairings']} times")
+    print(f"  {yoke} replay {data} --pool bay --explain {courier} --until {seq // 2}"
+          f"      # why it was paired so at seq {seq // 2}")
 print(f"  {yoke} replay {data} --pool bay-plain --stats"
       "      # the pool without the churn bonus")
 print(f"  files: {demo}/ (yoked.toml, yoked.log, result.json, replay-bay.txt, data/)")

@@ -14,7 +14,7 @@ packages=(
   libboost-dev libspdlog-dev libtomlplusplus-dev
   python3-protobuf python3-zmq      # the Python client and the daemon's tests
   clang                             # the libFuzzer target of the message decoder
-  libjs-chart.js chromium           # yoke replay --report: the charts' library; the page's browser test
+  libjs-chart.js chromium fonts-liberation  # replay --report: charts; its browser test (fonts: only recommended)
 )
 
 missing=()

@@ -19,6 +19,7 @@
 #include "engine/pool.h"
 #include "exhaustive.h"
 #include "lemon_oracle.h"
+#include "stream_cases.h"
 #include "test_scale.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -112,12 +113,7 @@ void expect_churn_optimal(StreamFamily family, Mode mode, Weight bonus, std::uin
   }
 }
 
-constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
-                                      StreamFamily::dispatch, StreamFamily::complete,
-                                      StreamFamily::stress};
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
-
-class ChurnAgainstOracles : public testing::TestWithParam<std::tuple<StreamFamily, Mode>> {};
+class ChurnAgainstOracles : public testing::TestWithParam<StreamCase> {};
 
 TEST_P(ChurnAgainstOracles, EveryCommitMaximisesWeightPlusBonusForKeptPairs) {
   const auto [family, mode] = GetParam();
@@ -134,15 +130,7 @@ TEST_P(ChurnAgainstOracles, EveryCommitMaximisesWeightPlusBonusForKeptPairs) {
   }
 }
 
-std::string case_name(const testing::TestParamInfo<ChurnAgainstOracles::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
-}
-
-INSTANTIATE_TEST_SUITE_P(Streams, ChurnAgainstOracles,
-                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
-                         case_name);
+INSTANTIATE_TEST_SUITE_P(Streams, ChurnAgainstOracles, all_stream_cases(), stream_case_name);
 
 // Common knowledge, by hand: a standing pair {1,2} of weight 5 against a rival {2,3}.
 TEST(Churn, AStandingPairIsKeptUnlessTheRivalGainsMoreThanTheBonus) {

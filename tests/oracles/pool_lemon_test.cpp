@@ -11,6 +11,7 @@
 #include "checked_solve.h"
 #include "engine/pool.h"
 #include "lemon_oracle.h"
+#include "stream_cases.h"
 #include "test_scale.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -19,12 +20,7 @@ namespace {
 
 using gen::StreamFamily;
 
-constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
-                                      StreamFamily::dispatch, StreamFamily::complete,
-                                      StreamFamily::stress};
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
-
-class PoolAgainstLemon : public testing::TestWithParam<std::tuple<StreamFamily, Mode>> {};
+class PoolAgainstLemon : public testing::TestWithParam<StreamCase> {};
 
 TEST_P(PoolAgainstLemon, EveryCommitHasLemonsOptimum) {
   const auto [family, mode] = GetParam();
@@ -56,15 +52,7 @@ TEST_P(PoolAgainstLemon, EveryCommitHasLemonsOptimum) {
   }
 }
 
-std::string case_name(const testing::TestParamInfo<PoolAgainstLemon::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
-}
-
-INSTANTIATE_TEST_SUITE_P(Streams, PoolAgainstLemon,
-                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
-                         case_name);
+INSTANTIATE_TEST_SUITE_P(Streams, PoolAgainstLemon, all_stream_cases(), stream_case_name);
 
 }  // namespace
 }  // namespace yoke::oracle

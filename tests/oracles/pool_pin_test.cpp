@@ -16,6 +16,7 @@
 #include "engine/certificate.h"
 #include "engine/pool.h"
 #include "lemon_oracle.h"
+#include "stream_cases.h"
 #include "test_scale.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -95,12 +96,7 @@ void expect_pins_hold(StreamFamily family, Mode mode, std::uint64_t seed, Weight
   EXPECT_GT(pinned_seen, 0u) << label;
 }
 
-constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
-                                      StreamFamily::dispatch, StreamFamily::complete,
-                                      StreamFamily::stress};
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
-
-class PinsAgainstLemon : public testing::TestWithParam<std::tuple<StreamFamily, Mode>> {};
+class PinsAgainstLemon : public testing::TestWithParam<StreamCase> {};
 
 TEST_P(PinsAgainstLemon, PinnedPairsStayAndTheRestIsOptimal) {
   const auto [family, mode] = GetParam();
@@ -112,15 +108,7 @@ TEST_P(PinsAgainstLemon, PinnedPairsStayAndTheRestIsOptimal) {
   }
 }
 
-std::string case_name(const testing::TestParamInfo<PinsAgainstLemon::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
-}
-
-INSTANTIATE_TEST_SUITE_P(Streams, PinsAgainstLemon,
-                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
-                         case_name);
+INSTANTIATE_TEST_SUITE_P(Streams, PinsAgainstLemon, all_stream_cases(), stream_case_name);
 
 // Common knowledge, by hand: {2,3} outweighs {1,2}, but {1,2} is pinned.
 TEST(Pins, APinnedPairStaysWhateverTheWeights) {
