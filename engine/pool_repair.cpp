@@ -46,16 +46,7 @@ class EventRepair {
         }
         break;
       case EventKind::remove_vertex:
-      {
-        const auto partner = pins_.partner(u);
-        if (partner) {
-          touch_pin(u, *partner);
-          pins_.unpin(u, *partner);
-        }
-        for (const VertexKey other : pins_.aside_at(u)) pins_.erase_aside(u, other);
-        if (partner) release(*partner);
-        remove_vertex(graph_.find(u));
-      }
+        depart(u);
         break;
       case EventKind::pin_pair:
         pin(u, v);
@@ -98,6 +89,20 @@ class EventRepair {
     if (!keep_edge) pins_.erase_aside(u, v);
     release(u);
     release(v);
+  }
+
+  // A departure ends its vertex's pin: the edges aside at it leave with it, and its partner's
+  // go back to the graph (not through end_pin, which would put the departing vertex's edges
+  // back only for remove_vertex to take them out again).
+  void depart(VertexKey u) {
+    const auto partner = pins_.partner(u);
+    if (partner) {
+      touch_pin(u, *partner);
+      pins_.unpin(u, *partner);
+    }
+    for (const VertexKey other : pins_.aside_at(u)) pins_.erase_aside(u, other);
+    if (partner) release(*partner);
+    remove_vertex(graph_.find(u));
   }
 
   void release(VertexKey key) {
