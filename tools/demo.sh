@@ -1,16 +1,17 @@
 #!/usr/bin/env bash
 # The README's first command: sets up the machine, builds yoke (Release), starts the yoked
 # daemon on a fresh data directory and runs the live demo (tools/demo/city_sim.py): an evening
-# of courier dispatch in the invented harbour city of Larkspur Bay, one batch of events per tick,
-# fed to two pools, `bay` (with a churn bonus) and `bay-plain` (without), with a live summary.
-# Then it stops the daemon with SIGTERM, replays the journal of `bay` with every commit's
+# of courier dispatch in the invented harbour city of Quillory, one batch of events per tick,
+# fed to two pools, `quillory` (with a churn bonus) and `quillory-plain` (without), with a live
+# summary.
+# Then it stops the daemon with SIGTERM, replays the journal of `quillory` with every commit's
 # certificate checked, and prints the commands to look further. Exits non-zero if a step fails,
 # and stops the daemon in every case. Ctrl-C during the run ends the simulation early; the
 # rest still runs.
 #   tools/demo.sh                    # build in build/, demo files in build/demo/ (the previous
 #                                    # run's are moved to build/demo.previous/)
 #   tools/demo.sh --seconds 20       # a shorter run (default 45 s)
-#   tools/demo.sh --churn-bonus 0    # no bonus on `bay` (default 60)
+#   tools/demo.sh --churn-bonus 0    # no bonus on `quillory` (default 60)
 #   tools/demo.sh --crash            # also SIGKILL the daemon halfway and restart it
 #   YOKE_BUILD_DIR=build-x tools/demo.sh  # another build directory
 # The daemon listens on the default loopback endpoints (tcp://127.0.0.1:7410-7412, metrics on
@@ -58,7 +59,7 @@ stop_all() {
 }
 trap stop_all EXIT
 
-write_config() {  # $1: the churn bonus of `bay`, or "" for none
+write_config() {  # $1: the churn bonus of `quillory`, or "" for none
   {
     echo '[logging]'
     echo "file = \"$demo/yoked.log\""
@@ -116,7 +117,7 @@ if ((crash)); then
   crash_pid=$!
 fi
 
-echo "demo: streaming the Larkspur Bay evening for $seconds s (Ctrl-C ends it early)"
+echo "demo: streaming the Quillory evening for $seconds s (Ctrl-C ends it early)"
 "$python" tools/demo/city_sim.py --seconds "$seconds" --seed "$seed" "${bonus_args[@]}" \
   --result "$demo/result.json"
 if [[ -n "$crash_pid" ]]; then
@@ -125,8 +126,8 @@ if [[ -n "$crash_pid" ]]; then
   grep -E 'recovered' "$demo/yoked.log" | tail -n 1 | sed 's/^/  after SIGKILL: /' || true
 fi
 
-summary=$("$yoke" query summary --pool bay)
-echo "demo: the daemon's summary of bay: $summary"
+summary=$("$yoke" query summary --pool quillory)
+echo "demo: the daemon's summary of quillory: $summary"
 echo "demo: SIGTERM: the daemon finishes its window, writes a snapshot and exits 0"
 daemon_pid=$(cat "$demo/yoked.pid")
 kill -TERM "$daemon_pid"
@@ -137,13 +138,13 @@ else
 fi
 rm -f "$demo/yoked.pid"
 
-echo "demo: replaying the journal of bay, every commit's certificate checked:"
-echo "      $yoke replay $data --pool bay --verify --stats"
-"$yoke" replay "$data" --pool bay --verify --stats > "$demo/replay-bay.txt"
+echo "demo: replaying the journal of quillory, every commit's certificate checked:"
+echo "      $yoke replay $data --pool quillory --verify --stats"
+"$yoke" replay "$data" --pool quillory --verify --stats > "$demo/replay-quillory.txt"
 "$python" - "$demo" "$summary" "$yoke" "$data" <<'PY'
 import json, sys
 demo, summary, yoke, data = sys.argv[1], json.loads(sys.argv[2]), sys.argv[3], sys.argv[4]
-lines = open(f"{demo}/replay-bay.txt").read().splitlines()
+lines = open(f"{demo}/replay-quillory.txt").read().splitlines()
 commits = [line.split() for line in lines if line.startswith("commit ")]
 last = commits[-1]
 weight, pairs, seq = int(last[3]), int(last[5]), int(last[last.index("seq") + 1])
@@ -165,15 +166,15 @@ if "pinned_total" in result:
           f" ({result['pinned_now']} still pinned), none broken in either pool")
 print()
 print("Look further (the pairs are advisory: local working-time, safety and labour rules decide):")
-print(f"  {yoke} replay {data} --pool bay --report bay-report.html"
+print(f"  {yoke} replay {data} --pool quillory --report quillory-report.html"
       "      # the evening as a report")
 courier = result.get("busy_courier")
 if courier is not None:
-    print(f"  {yoke} replay {data} --pool bay --vertex {courier}"
+    print(f"  {yoke} replay {data} --pool quillory --vertex {courier}"
           f"      # courier {courier}: paired {result['busy_courier_pairings']} times")
-    print(f"  {yoke} replay {data} --pool bay --explain {courier} --until {seq // 2}"
+    print(f"  {yoke} replay {data} --pool quillory --explain {courier} --until {seq // 2}"
           f"      # why it was paired so at seq {seq // 2}")
-print(f"  {yoke} replay {data} --pool bay-plain --stats"
+print(f"  {yoke} replay {data} --pool quillory-plain --stats"
       "      # the pool without the churn bonus")
-print(f"  files: {demo}/ (yoked.toml, yoked.log, result.json, replay-bay.txt, data/)")
+print(f"  files: {demo}/ (yoked.toml, yoked.log, result.json, replay-quillory.txt, data/)")
 PY

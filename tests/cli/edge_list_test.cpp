@@ -39,7 +39,7 @@ TEST(EdgeList, ParsesEdgesInFileOrderWithDenseIdsByFirstAppearance) {
 
 TEST(EdgeList, IgnoresBlankLinesAndComments) {
   const EdgeList list = parse_edge_list(
-      "# Larkspur Bay, harbour shift\n"
+      "# Vardolune, harbour shift\n"
       "\n"
       "   \t\n"
       "   # an indented comment 1 2 3\n"

@@ -80,7 +80,7 @@ TEST(EventScript, ParsesPinAndUnpin) {
 
 TEST(EventScript, IgnoresBlankLinesCommentsAndTrailingComments) {
   const EventScript script = parse_event_script(
-      "# Larkspur Bay, night shift at the ferry terminal\n"
+      "# Vardolune, night shift at the ferry terminal\n"
       "\n"
       "   \t\n"
       "   # an indented comment: set 1 2 3\n"

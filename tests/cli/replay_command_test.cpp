@@ -376,7 +376,7 @@ GeneratedScript random_script(std::uint64_t seed, std::size_t event_count, Verte
   GeneratedScript script;
   PoolState state;
   std::ostringstream text;
-  text << "# Larkspur Bay dispatch, seed " << seed << "\n";
+  text << "# Vardolune dispatch, seed " << seed << "\n";
   bool pending = false;
   while (script.events < event_count) {
     const std::uint64_t roll = below(100);

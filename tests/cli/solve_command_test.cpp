@@ -19,7 +19,7 @@ namespace {
 
 using nlohmann::json;
 
-// A triangle of Larkspur Bay pickup points with a courier hanging off one corner; sparse ids,
+// A triangle of Vardolune pickup points with a courier hanging off one corner; sparse ids,
 // one at the top of the 64-bit range.
 const char* const kHarbourTriangle =
     "# harbour triangle with a tail\n"

@@ -14,7 +14,7 @@ namespace {
 
 using nlohmann::json;
 
-// Two Larkspur Bay triangles joined by a bridge, plus a spare courier: odd cycles make the
+// Two Vardolune triangles joined by a bridge, plus a spare courier: odd cycles make the
 // certificate carry blossoms in some optima. Ids are sparse on purpose.
 const char* const kTwoTriangles =
     "101 102 8\n102 103 8\n103 101 8\n"

@@ -245,7 +245,7 @@ void damage_file(const std::filesystem::path& file, Damage damage) {
     case Damage::flipped_byte: journal::testing::flip_bit(file, size / 2, 4); break;
     case Damage::truncated: std::filesystem::resize_file(file, size - 13); break;
     case Damage::garbage:
-      journal::testing::write_file(file, "Larkspur Bay ferry timetable, not a snapshot\n");
+      journal::testing::write_file(file, "Vardolune ferry timetable, not a snapshot\n");
       break;
     case Damage::empty: journal::testing::write_file(file, ""); break;
     case Damage::wrong_weight: {
@@ -723,7 +723,7 @@ TEST(SnapshotCapture, CheckedRestoreRefusesWhatItCannotTrust) {
   record.set_engine_state_format(kEngineStateFormat + 1);
   EXPECT_THROW(restore_checked(record), SnapshotDamage);
   record = good;
-  record.set_engine_state("Larkspur Bay");
+  record.set_engine_state("Vardolune");
   EXPECT_THROW(restore_checked(record), SnapshotDamage);
   record = good;
   record.set_engine_state(good.engine_state().substr(0, good.engine_state().size() / 2));

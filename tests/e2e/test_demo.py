@@ -3,7 +3,7 @@
 The simulator runs as its own process, output piped (so in its plain line-per-update form), on
 the harness daemon's endpoints. Checks: it exits 0; its final numbers (seq, weight, pairs per
 pool; vertices and edges of its own model of the pool) are the daemon's (`summary` query); the
-journal of the lead pool replays with every certificate checked (`yoke replay DATA --pool bay
+journal of the lead pool replays, every certificate checked (`yoke replay DATA --pool quillory
 --verify`) and ends at the same state; dispatched pairs are pinned while the courier travels
 (pins happen, and no diff of either pool ever removes a pinned pair, nor is one missing from the
 matching after a batch: 0 pin violations); the same seed and tick count give the same run;
@@ -36,7 +36,7 @@ class DemoTest(unittest.TestCase):
     def setUp(self):
         check_binaries()
 
-    def start_daemon(self, pool_names=(("bay", "bay-plain"),)):
+    def start_daemon(self, pool_names=(("quillory", "quillory-plain"),)):
         """A daemon with the demo's pools declared: with the churn bonus, or without it when
         this yoked does not know the key yet. Returns (daemon, bonus or None)."""
         for bonus in (BONUS, None):
@@ -49,7 +49,7 @@ class DemoTest(unittest.TestCase):
                     raise
         raise AssertionError("unreachable")
 
-    def sim(self, daemon, *args, result="result.json", pool="bay", shadow="bay-plain"):
+    def sim(self, daemon, *args, result="result.json", pool="quillory", shadow="quillory-plain"):
         """Starts the simulator on the daemon's endpoints; returns (process, result path)."""
         path = os.path.join(daemon.dir, f"{pool}-{result}")
         env = dict(os.environ)
@@ -92,7 +92,8 @@ class DemoTest(unittest.TestCase):
         self.assertGreaterEqual(shadow["weight"], lead["weight"])
 
     def test_run_matches_the_daemon_and_replays(self):
-        daemon, bonus = self.start_daemon((("bay", "bay-plain"), ("bay2", "bay2-plain")))
+        daemon, bonus = self.start_daemon((("quillory", "quillory-plain"),
+                                           ("quillory2", "quillory2-plain")))
         ticks = scaled(80, 25)
         args = ("--ticks", ticks, "--seconds", 120, "--tick-ms", 0, "--seed", 7)
         if bonus is not None:
@@ -109,7 +110,7 @@ class DemoTest(unittest.TestCase):
         self.assertEqual(result["pinned_now"], result["pinned_total"] - result["delivered"])
         self.check_against_daemon(daemon, result)
         lead = result["pools"][0]
-        self.assertIn(f"bay: seq={lead['seq']} pairs={lead['pairs']} weight={lead['weight']}",
+        self.assertIn(f"quillory: seq={lead['seq']} pairs={lead['pairs']} weight={lead['weight']}",
                       out)
         self.assertIn(f"pinned={result['pinned_now']} pinned_total={result['pinned_total']}",
                       out)
@@ -117,7 +118,7 @@ class DemoTest(unittest.TestCase):
         self.assertNotRegex(out, r"pin_violations=(?!0\b)|pin_violations=0/(?!0\b)")
 
         # The same seed and tick count, into two more pools declared the same way: the same run.
-        child, path2 = self.sim(daemon, *args, pool="bay2", shadow="bay2-plain")
+        child, path2 = self.sim(daemon, *args, pool="quillory2", shadow="quillory2-plain")
         self.finish(child, 90)
         with open(path2) as f:
             again = json.load(f)
@@ -128,7 +129,7 @@ class DemoTest(unittest.TestCase):
             self.assertEqual(again[key], result[key], key)
 
         self.assertEqual(daemon.terminate(), 0)
-        commits = replay_commits(daemon.data_dir, "--pool", "bay", "--verify")
+        commits = replay_commits(daemon.data_dir, "--pool", "quillory", "--verify")
         self.assertEqual((commits[-1]["seq"], commits[-1]["weight"], commits[-1]["pairs"]),
                          (lead["seq"], lead["weight"], lead["pairs"]))
 
@@ -139,7 +140,8 @@ class DemoTest(unittest.TestCase):
             args += ("--churn-bonus", bonus)
         child, path = self.sim(daemon, *args)
         deadline = time.monotonic() + 30 * SLOWDOWN
-        while time.monotonic() < deadline and (daemon.summary("bay") or {"seq": 0})["seq"] < 10:
+        while (time.monotonic() < deadline
+               and (daemon.summary("quillory") or {"seq": 0})["seq"] < 10):
             self.assertIsNone(child.poll(), "the simulator ended early")
             time.sleep(0.05)
         child.send_signal(signal.SIGINT)

@@ -82,20 +82,20 @@ class PythonClientTest(unittest.TestCase):
 
     def test_watcher_catch_up_ends_at_the_daemon_matching(self):
         daemon = Daemon(self).start()
-        script = gen_stream(os.path.join(daemon.dir, "north.txt"), "dispatch", scaled(150, 50),
+        script = gen_stream(os.path.join(daemon.dir, "brissa.txt"), "dispatch", scaled(150, 50),
                             scaled(1500, 300), 15, seed=42)
         batches = tuples(script)
         half = len(batches) // 2
-        sender = Sender(daemon.ingest, pool="north")
+        sender = Sender(daemon.ingest, pool="brissa")
         sender.send_all(batches[:half])
-        # A pool whose name extends "north": its diffs reach the subscription and are dropped.
-        Sender(daemon.ingest, pool="northgate").send_all(batches[:3])
+        # A pool whose name extends "brissa": its diffs reach the subscription and are dropped.
+        Sender(daemon.ingest, pool="brissamar").send_all(batches[:3])
 
-        watcher = Watcher(daemon.publish, "north", query_endpoint=daemon.query).catch_up()
+        watcher = Watcher(daemon.publish, "brissa", query_endpoint=daemon.query).catch_up()
         self.addCleanup(watcher.close)
         self.assertEqual(watcher.seq, half)
         last = sender.send_all(batches[half:])[-1]
-        Sender(daemon.ingest, pool="northgate").send_all(batches[3:6])
+        Sender(daemon.ingest, pool="brissamar").send_all(batches[3:6])
         seen = []
         deadline = time.monotonic() + 20 * SLOWDOWN
         while watcher.seq < last and time.monotonic() < deadline:
@@ -104,10 +104,10 @@ class PythonClientTest(unittest.TestCase):
                 seen.append(diff)
         self.assertEqual(watcher.seq, last)
         self.assertTrue(seen)
-        self.assertTrue(all(diff["pool"] == "north" for diff in seen))
+        self.assertTrue(all(diff["pool"] == "brissa" for diff in seen))
         self.assertEqual(seen[-1]["seq"], last)
 
-        whole = Query(daemon.query).matching("north")
+        whole = Query(daemon.query).matching("brissa")
         self.assertEqual(whole["seq"], watcher.seq)
         mates = {}
         for a, b, _ in whole["pairs"]:

@@ -158,24 +158,24 @@ class SubscriberTest(unittest.TestCase):
 
     def test_pools_sharing_a_name_prefix(self):
         daemon = Daemon(self).start()
-        north = gen_stream(os.path.join(daemon.dir, "north.txt"), "city", scaled(150, 60),
-                           scaled(1200, 300), 20, seed=42)
-        northgate = gen_stream(os.path.join(daemon.dir, "northgate.txt"), "city",
+        brissa = gen_stream(os.path.join(daemon.dir, "brissa.txt"), "city", scaled(150, 60),
+                            scaled(1200, 300), 20, seed=42)
+        brissamar = gen_stream(os.path.join(daemon.dir, "brissamar.txt"), "city",
                                scaled(150, 60), scaled(1200, 300), 20, seed=43)
-        sub_north = Subscriber(daemon.publish, ["north"])
-        self.addCleanup(sub_north.close)
-        sub_northgate = Subscriber(daemon.publish, ["northgate"])
-        self.addCleanup(sub_northgate.close)
+        sub_brissa = Subscriber(daemon.publish, ["brissa"])
+        self.addCleanup(sub_brissa.close)
+        sub_brissamar = Subscriber(daemon.publish, ["brissamar"])
+        self.addCleanup(sub_brissamar.close)
         probe = Subscriber(daemon.publish, ["probe"])
         self.addCleanup(probe.close)
         self.wait_connected(daemon, probe, "probe")
-        watch = daemon.popen_yoke("watch", "--pool", "north", "--count",
-                                  str(len(north.batches)))
+        watch = daemon.popen_yoke("watch", "--pool", "brissa", "--count",
+                                  str(len(brissa.batches)))
         watch_out = LineReader(watch)
         time.sleep(0.5 * SLOWDOWN)
 
-        senders = [daemon.popen_yoke("send", north.path, "--pool", "north", "--in-flight", "1"),
-                   daemon.popen_yoke("send", northgate.path, "--pool", "northgate")]
+        senders = [daemon.popen_yoke("send", brissa.path, "--pool", "brissa", "--in-flight", "1"),
+                   daemon.popen_yoke("send", brissamar.path, "--pool", "brissamar")]
         for sender in senders:
             _, err = sender.communicate(timeout=120 * SLOWDOWN)
             self.assertEqual(sender.returncode, 0, err)
@@ -183,26 +183,26 @@ class SubscriberTest(unittest.TestCase):
         watch_out.join(5)
         self.assertEqual(watch.returncode, 0, watch.stderr.read())
 
-        # `yoke watch --pool north` prints north's diffs only.
+        # `yoke watch --pool brissa` prints brissa's diffs only.
         watched = watch_out.json_lines()
-        self.assertEqual({line["pool"] for line in watched}, {"north"})
-        self.assertEqual(watched[-1]["seq"], len(north.batches))
+        self.assertEqual({line["pool"] for line in watched}, {"brissa"})
+        self.assertEqual(watched[-1]["seq"], len(brissa.batches))
 
-        self.assertTrue(sub_north.wait_for_seq("north", len(north.batches), 10))
-        self.assertTrue(sub_northgate.wait_for_seq("northgate", len(northgate.batches), 10))
-        # A SUB on "northgate" never receives "north": the topic frame is the whole pool name.
-        self.assertEqual({topic for topic, _, _ in sub_northgate.messages}, {b"northgate"})
-        # ZeroMQ subscriptions match prefixes, so the SUB on "north" is also handed "northgate"
+        self.assertTrue(sub_brissa.wait_for_seq("brissa", len(brissa.batches), 10))
+        self.assertTrue(sub_brissamar.wait_for_seq("brissamar", len(brissamar.batches), 10))
+        # A SUB on "brissamar" never receives "brissa": the topic frame is the whole pool name.
+        self.assertEqual({topic for topic, _, _ in sub_brissamar.messages}, {b"brissamar"})
+        # ZeroMQ subscriptions match prefixes, so the SUB on "brissa" is also handed "brissamar"
         # (publish.proto: the topic frame is the pool's name; `yoke watch` keeps the frames
         # equal to its pool). Every message carries its pool in the topic frame and in the
-        # diff, so the exact-frame filter separates them; what it keeps is north's history.
-        for topic, publication, _ in sub_north.messages:
+        # diff, so the exact-frame filter separates them; what it keeps is brissa's history.
+        for topic, publication, _ in sub_brissa.messages:
             self.assertEqual(topic.decode(), publication.diff.pool)
-            self.assertIn(topic, (b"north", b"northgate"))
-        north_pairs, north_seq = apply_diffs(self, sub_north.diffs("north"))
-        self.assertEqual((north_seq, north_pairs), daemon.matching("north")[0::2])
-        gate_pairs, gate_seq = apply_diffs(self, sub_northgate.diffs("northgate"))
-        self.assertEqual((gate_seq, gate_pairs), daemon.matching("northgate")[0::2])
+            self.assertIn(topic, (b"brissa", b"brissamar"))
+        brissa_pairs, brissa_seq = apply_diffs(self, sub_brissa.diffs("brissa"))
+        self.assertEqual((brissa_seq, brissa_pairs), daemon.matching("brissa")[0::2])
+        brissamar_pairs, brissamar_seq = apply_diffs(self, sub_brissamar.diffs("brissamar"))
+        self.assertEqual((brissamar_seq, brissamar_pairs), daemon.matching("brissamar")[0::2])
 
 
 if __name__ == "__main__":

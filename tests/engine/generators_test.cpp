@@ -10,7 +10,7 @@
 #include <vector>
 
 #include "tools/graphgen/generators.h"
-#include "tools/graphgen/larkspur_bay.h"
+#include "tools/graphgen/vardolune.h"
 #include "tools/graphgen/point_grid.h"
 #include "tools/graphgen/rng.h"
 
@@ -204,14 +204,14 @@ TEST(PointGrid, FindsTheTrueNearestNeighbours) {
   }
 }
 
-TEST(LarkspurBay, PointsAreOnLandInsideTheMap) {
+TEST(Vardolune, PointsAreOnLandInsideTheMap) {
   Rng rng(3);
   for (const Point& p : scatter(20000, Crowd::orders, rng)) {
     ASSERT_GE(p.x, 0);
     ASSERT_GE(p.y, 0);
-    ASSERT_LE(p.x, kBayExtent);
-    ASSERT_LE(p.y, kBayExtent);
-    ASSERT_GT(squared_distance(p, {3000, 0}), 3500LL * 3500) << "point in the bay";
+    ASSERT_LE(p.x, kMapExtent);
+    ASSERT_LE(p.y, kMapExtent);
+    ASSERT_GT(squared_distance(p, {3000, 0}), 3500LL * 3500) << "point in the lagoon";
   }
   EXPECT_EQ(distance_m({0, 0}, {3, 4}), 5);
   EXPECT_EQ(distance_m({0, 0}, {1, 1}), 1);

@@ -1,6 +1,6 @@
 // yoke_stream_bench: a warm yoke::Pool repairing commit by commit against LEMON's
-// MaxWeightedMatching solving the same graph from scratch after the same commit, on Larkspur
-// Bay city graphs with the benchmark event mix (tools/graphgen/event_stream.h).
+// MaxWeightedMatching solving the same graph from scratch after the same commit, on Vardolune
+// city graphs with the benchmark event mix (tools/graphgen/event_stream.h).
 //
 //   yoke_stream_bench [--quick] [--vertices N[,N...]]... [--events E] [--seed S]
 //                     [--lemon-samples K] [--only SETTING]... [--list]

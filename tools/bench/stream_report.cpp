@@ -110,7 +110,7 @@ void print_stream_preamble(std::ostream& out, const StreamRunInfo& info) {
       << "load:     " << load_average() << " (1/5/15 min, at start)\n"
       << "source:   commit " << source_commit() << "\n"
       << "compiler: " << __VERSION__ << ", build type " << YOKE_BENCH_BUILD_TYPE << "\n"
-      << "graphs:   Larkspur Bay city graphs, " << kStreamCityNeighbours
+      << "graphs:   Vardolune city graphs, " << kStreamCityNeighbours
       << " nearest neighbours per point (yoke_bench's city graphs), seed " << info.seed << "\n"
       << "actions:  " << mix.small_drift + mix.large_drift << "% drift = " << mix.small_drift
       << "% small (weight moves by 1..5% of the weight range) + " << mix.large_drift

@@ -225,7 +225,7 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
   command->require_subcommand(1);
 
   CLI::App* city = add_family(*command, options, "city",
-                              "Larkspur Bay street points linked to their nearest neighbours");
+                              "Vardolune street points linked to their nearest neighbours");
   add_count(city, "--vertices", options.city.vertices, "Number of points");
   add_positive(city, "--neighbours", options.city.neighbours, "Links per point (about)");
 
@@ -236,7 +236,7 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
   add_weight_range(random, options.random.min_weight, options.random.max_weight);
 
   CLI::App* dispatch = add_family(*command, options, "dispatch",
-                                  "Couriers and orders of Larkspur Bay (bipartite)");
+                                  "Couriers and orders of Vardolune (bipartite)");
   add_count(dispatch, "--couriers", options.dispatch.couriers, "Number of couriers");
   add_count(dispatch, "--orders", options.dispatch.orders, "Number of orders");
   add_positive(dispatch, "--per-order", options.dispatch.per_order,

@@ -1,17 +1,17 @@
-"""The live demo: an evening of courier dispatch in the invented city of Larkspur Bay, streamed
+"""The live demo: an evening of courier dispatch in the invented city of Quillory, streamed
 through a running yoked, one batch per tick.
 
     PYTHONPATH=build/proto/python:tools/python /usr/bin/python3 tools/demo/city_sim.py \
         [--seconds 45] [--seed S] [--ingest EP --publish EP --query EP] [--result FILE]
 
 Couriers and orders appear in the city's districts; couriers walk the streets, so the scores
-of their pairs change every tick; a pair that stands long enough in the lead pool (`bay`) is
+of their pairs change every tick; a pair standing long enough in the lead pool (`quillory`) is
 dispatched: the pair is pinned (a `pin` event: it stays matched whatever the scores do) while
 the courier travels to the order, a few ticks drawn per pair (--travel-ticks), then courier and
 order leave the pool (delivered), and the courier comes back when the delivery is done.
 Orders nobody takes expire, couriers end their shifts. Every tick's events go, unchanged, to two
-pools: the lead pool `bay` (declared in the daemon's config, with a churn bonus when the
-daemon supports one) and the shadow pool `bay-plain` (plain maximum weight), so the summary
+pools: the lead pool `quillory` (declared in the daemon's config, with a churn bonus when the
+daemon supports one) and the shadow pool `quillory-plain` (plain maximum weight), so the summary
 shows the churn of both side by side. Every diff is checked against the pins: a pinned pair
 that a diff removes, or that is not matched after a batch, counts as a pin violation (none are
 expected).
@@ -56,7 +56,7 @@ def pools_toml(lead, shadow, churn_bonus):
 
 def parse_args(argv):
     p = argparse.ArgumentParser(
-        prog="city_sim.py", description="Stream a Larkspur Bay courier evening through yoked.")
+        prog="city_sim.py", description="Stream a Quillory courier evening through yoked.")
     p.add_argument("--seconds", type=float, default=45.0,
                    help="wall-clock length of the run (default 45)")
     p.add_argument("--ticks", type=int, default=0, help="stop after this many ticks (0: no limit)")
@@ -73,14 +73,15 @@ def parse_args(argv):
                    help="a dispatched pair stays pinned about this many ticks (drawn per pair "
                         "between half and one and a half times it) before its delivery "
                         "removes it; 0: removed at once (default 4)")
-    p.add_argument("--pool", default="bay", help="the lead pool (default bay)")
-    p.add_argument("--shadow-pool", default="bay-plain", help="the shadow pool (default bay-plain)")
+    p.add_argument("--pool", default="quillory", help="the lead pool (default quillory)")
+    p.add_argument("--shadow-pool", default="quillory-plain",
+                   help="the shadow pool (default quillory-plain)")
     p.add_argument("--churn-bonus", type=int, default=None,
                    help="the lead pool's churn bonus, for the labels and --write-config")
     p.add_argument("--ingest", default=DEFAULT_INGEST)
     p.add_argument("--publish", default=DEFAULT_PUBLISH)
     p.add_argument("--query", default=DEFAULT_QUERY)
-    p.add_argument("--client-id", default="larkspur-sim")
+    p.add_argument("--client-id", default="quillory-sim")
     p.add_argument("--result", help="write the final numbers here as JSON")
     p.add_argument("--write-config", metavar="FILE",
                    help="write the yoked [pools] tables of the two pools to FILE ('-': stdout) and exit")

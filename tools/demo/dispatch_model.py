@@ -1,4 +1,4 @@
-"""The evening in Larkspur Bay as a stream of pool events: couriers and orders, and the edges
+"""The evening in Quillory as a stream of pool events: couriers and orders, and the edges
 between them.
 
 Each `step()` advances the simulated clock by one tick and returns that tick's events, in the
@@ -31,7 +31,7 @@ the daemon's pool).
 
 import math
 
-import larkspur
+import quillory
 
 COURIER_BASE = 10_000
 ORDER_BASE = 1_000_000
@@ -136,7 +136,7 @@ class Evening:
     def __init__(self, rng, couriers=260, orders=120, order_rate=5.0, tick_s=10,
                  start_clock_s=18 * 3600 + 30 * 60):
         self.rng = rng
-        self.city = larkspur.City(rng)
+        self.city = quillory.City(rng)
         self.tick_s = tick_s
         self.clock = start_clock_s
         self.tick = 0
@@ -233,7 +233,7 @@ class Evening:
         for o in self.order_grid.near(c.pos):
             if o.id in c.edges or len(o.edges) >= ORDER_EDGES or o.id in self.pinned_by:
                 continue
-            d = larkspur.manhattan(c.pos, o.pos)
+            d = quillory.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
                 candidates.append((d, o.id))
         candidates.sort()
@@ -256,7 +256,7 @@ class Evening:
         for c in self.courier_grid.near(o.pos):
             if c.id in o.edges or len(c.edges) >= COURIER_EDGES or c.id in self.pinned_by:
                 continue
-            d = larkspur.manhattan(c.pos, o.pos)
+            d = quillory.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
                 candidates.append((d, c.id))
         candidates.sort()
@@ -321,7 +321,7 @@ class Evening:
         comes back where the delivery ends."""
         rng = self.rng
         c, o = self.couriers[cid], self.orders[oid]
-        trip_s = larkspur.manhattan(c.pos, o.pos) / c.speed + rng.uniform(3, 8) * 60
+        trip_s = quillory.manhattan(c.pos, o.pos) / c.speed + rng.uniform(3, 8) * 60
         self._leave_courier(c, events)
         self._leave_order(o, events)
         c.out_until = self.clock + trip_s
@@ -339,9 +339,9 @@ class Evening:
         events.append(("pin", cid, oid))
         self.pinned[(cid, oid)] = self.tick + travel_ticks
         self.pinned_by[cid] = self.pinned_by[oid] = (cid, oid)
-        goal = (larkspur.snap(o.pos[0], larkspur.WIDTH_M),
-                larkspur.snap(o.pos[1], larkspur.HEIGHT_M))
-        c.route, c.park = larkspur.route(c.pos, goal, True), 0
+        goal = (quillory.snap(o.pos[0], quillory.WIDTH_M),
+                quillory.snap(o.pos[1], quillory.HEIGHT_M))
+        c.route, c.park = quillory.route(c.pos, goal, True), 0
         self.counts["pinned_total"] += 1
 
     # --- one tick ---
@@ -415,18 +415,18 @@ class Evening:
                 self._choose_destination(c)
                 if not c.route:
                     continue
-            c.pos = larkspur.advance(c.pos, c.route, c.speed * self.tick_s)
+            c.pos = quillory.advance(c.pos, c.route, c.speed * self.tick_s)
             self.courier_grid.put(c)
             if not c.route and pair is None:
                 c.park = rng.randrange(2, 12)
             for oid in list(c.edges):
                 o = self.orders[oid]
-                d = larkspur.manhattan(c.pos, o.pos)
+                d = quillory.manhattan(c.pos, o.pos)
                 if d > RADIUS_M and (c.id, oid) != pair:
                     self._unlink(c, o)
                 else:
                     self._reweigh(c, o, d)
-            if c.scan_pos is None or larkspur.manhattan(c.pos, c.scan_pos) >= RESCAN_M:
+            if c.scan_pos is None or quillory.manhattan(c.pos, c.scan_pos) >= RESCAN_M:
                 self._dirty_couriers.add(c.id)
 
         # Each order gains its wait bonus once a minute (a minute after it was placed).
@@ -469,4 +469,4 @@ class Evening:
         d = self.city.pick_district(rng, "demand", self.city.districts[here].neighbours())
         goal = rng.choice(d.hotspots) if rng.random() < 0.7 else \
             self.city.random_intersection(rng, d)
-        c.route = larkspur.route(c.pos, goal, rng.random() < 0.5)
+        c.route = quillory.route(c.pos, goal, rng.random() < 0.5)

@@ -66,7 +66,7 @@ class LiveView:
         b, d, r = (_BOLD, _DIM, _RESET) if self.ansi and not final else ("", "", "")
         title = "final" if final else "live"
         lines = [
-            f"{b}Larkspur Bay, {title}{r}   sim {clock_text(f['clock'])}   "
+            f"{b}Quillory, {title}{r}   sim {clock_text(f['clock'])}   "
             f"wall {f['wall']:.1f} s of {f['seconds']:.0f} s   tick {f['tick']}",
             f"couriers  {f['couriers']} in the pool, {f['away']} delivering"
             f"      orders  {f['orders']} waiting      edges {_num(f['edges'])}",

@@ -6,7 +6,7 @@
 #include <stdexcept>
 #include <string>
 
-#include "tools/graphgen/larkspur_bay.h"
+#include "tools/graphgen/vardolune.h"
 #include "tools/graphgen/pair_set.h"
 #include "tools/graphgen/point_grid.h"
 #include "tools/graphgen/rng.h"
@@ -18,7 +18,7 @@ namespace {
 // not move the points.
 enum Stream : std::uint64_t { kPlaces = 1, kPlaces2, kValues, kValues2, kPairs, kWeights };
 
-// Shared ride in Larkspur Bay: each rider saves 500..1500 by sharing; arranging a shared ride
+// Shared ride in Vardolune: each rider saves 500..1500 by sharing; arranging a shared ride
 // costs a fixed overhead plus the detour, a quarter point per metre.
 constexpr Weight kRiderSavingMin = 500;
 constexpr Weight kRiderSavingMax = 1500;

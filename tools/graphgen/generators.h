@@ -1,6 +1,7 @@
 // Seeded generators for the graph families yoke is tested and measured on (DESIGN.md section 7).
 // Every generator is deterministic in its arguments and returns edges with no self loops and no
-// duplicates. Scenarios are set in Larkspur Bay, an invented harbour city.
+// duplicates. Scenarios are set in Vardolune, an invented harbour city
+// (vardolune.h).
 #pragma once
 
 #include <cstdint>
@@ -20,7 +21,7 @@ struct GeneratedGraph {
   Graph to_graph() const { return Graph::from_edges(vertex_count, edges); }
 };
 
-// Points scattered over the districts of Larkspur Bay (dense centre, sparser suburbs); each
+// Points scattered over the districts of Vardolune (dense centre, sparser suburbs); each
 // point linked to its ~`neighbours` nearest others; weight = value - distance cost (may be <= 0).
 GeneratedGraph city(std::size_t vertex_count, int neighbours, std::uint64_t seed);
 

@@ -9,8 +9,8 @@ namespace yoke::gen {
 PointGrid::PointGrid(std::span<const Point> sites) {
   const double target_cells = std::max(1.0, static_cast<double>(sites.size()) / 2.0);
   const auto side = static_cast<std::int32_t>(std::max(1.0, std::floor(std::sqrt(target_cells))));
-  cell_width_ = (kBayExtent + side) / side;  // ceil((extent + 1) / side)
-  cells_per_side_ = (kBayExtent + cell_width_) / cell_width_;
+  cell_width_ = (kMapExtent + side) / side;  // ceil((extent + 1) / side)
+  cells_per_side_ = (kMapExtent + cell_width_) / cell_width_;
 
   // Counting sort of the sites by cell.
   const auto cells = static_cast<std::size_t>(cells_per_side_) * cells_per_side_;

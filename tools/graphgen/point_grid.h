@@ -1,4 +1,4 @@
-// Nearest-neighbour queries over a fixed set of sites in Larkspur Bay, via a uniform grid of
+// Nearest-neighbour queries over a fixed set of sites in Vardolune, via a uniform grid of
 // square cells (about two sites per cell on average). A query scans rings of cells outward and
 // stops once no unscanned cell can hold a closer site, so it costs about the number of sites in
 // the few cells around the query point, never O(n).
@@ -9,13 +9,13 @@
 #include <vector>
 
 #include "engine/types.h"
-#include "tools/graphgen/larkspur_bay.h"
+#include "tools/graphgen/vardolune.h"
 
 namespace yoke::gen {
 
 class PointGrid {
  public:
-  // `sites` must lie in [0, kBayExtent]^2 (the grid keeps its own copy).
+  // `sites` must lie in [0, kMapExtent]^2 (the grid keeps its own copy).
   explicit PointGrid(std::span<const Point> sites);
 
   // Replaces `out` with the indices of the k sites nearest to q, nearest first; ties by lower

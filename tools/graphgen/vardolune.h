@@ -1,6 +1,7 @@
-// The map of Larkspur Bay, the invented harbour city every geometric family is set in: a
-// 20 km x 20 km square with the bay's water in the south-west corner, a few dense districts
-// and a sparse background. Coordinates are whole metres.
+// The map of Vardolune, the invented harbour city every geometric family is set in: a
+// 20 km x 20 km square with the water of its lagoon in the south-west corner, five dense
+// districts and a sparse background. Coordinates are whole metres. (The live demo in
+// tools/demo is set in another invented city, Quillory, with a map of its own.)
 #pragma once
 
 #include <cstdint>
@@ -15,13 +16,13 @@ struct Point {
   std::int32_t y = 0;
 };
 
-inline constexpr std::int32_t kBayExtent = 20000;  // metres; points lie in [0, kBayExtent]^2
+inline constexpr std::int32_t kMapExtent = 20000;  // metres; points lie in [0, kMapExtent]^2
 
 // Who is being placed: each crowd favours different districts.
 enum class Crowd {
   riders,    // people asking to share a ride: the busy districts, many in the background
   couriers,  // spread over the whole city, a little denser where the work is
-  orders,    // restaurants and shops: Old Quay, Lantern Row, Tanner's Hill, Eastgate
+  orders,    // restaurants and shops: Orrivane, Lanquivel, Pazzaret, Ekkavan
 };
 
 // `count` points on land, deterministic in `rng`'s stream.

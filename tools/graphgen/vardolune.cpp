@@ -1,4 +1,4 @@
-#include "tools/graphgen/larkspur_bay.h"
+#include "tools/graphgen/vardolune.h"
 
 #include <array>
 #include <cmath>
@@ -14,11 +14,11 @@ struct District {
 };
 
 constexpr std::array<District, 5> kDistricts = {{
-    {"Old Quay", 5200, 4600, 650},
-    {"Saltmarsh", 1800, 9800, 1400},
-    {"Tanner's Hill", 9600, 9000, 900},
-    {"Eastgate", 15800, 7400, 1100},
-    {"Lantern Row", 11800, 14600, 550},
+    {"Orrivane", 5200, 4600, 650},
+    {"Nuvessa", 1800, 9800, 1400},
+    {"Pazzaret", 9600, 9000, 900},
+    {"Ekkavan", 15800, 7400, 1100},
+    {"Lanquivel", 11800, 14600, 550},
 }};
 
 // Share of each crowd per district in per mille, same order as kDistricts; the rest is
@@ -27,9 +27,9 @@ constexpr std::array<std::uint64_t, 5> kRiderShare = {150, 80, 170, 140, 120};
 constexpr std::array<std::uint64_t, 5> kCourierShare = {80, 60, 100, 100, 60};
 constexpr std::array<std::uint64_t, 5> kOrderShare = {200, 40, 160, 160, 180};
 
-// The bay: water inside this disc (centre on the south edge).
-constexpr std::int64_t kBayX = 3000;
-constexpr std::int64_t kBayRadius = 3500;
+// The lagoon: water inside this disc (centre on the south edge).
+constexpr std::int64_t kLagoonX = 3000;
+constexpr std::int64_t kLagoonRadius = 3500;
 
 const std::array<std::uint64_t, 5>& shares(Crowd crowd) {
   switch (crowd) {
@@ -51,9 +51,9 @@ std::int64_t near_gaussian(Rng& rng, std::int64_t spread) {
 }
 
 bool on_land(std::int64_t x, std::int64_t y) {
-  if (x < 0 || y < 0 || x > kBayExtent || y > kBayExtent) return false;
-  const std::int64_t dx = x - kBayX;
-  return dx * dx + y * y > kBayRadius * kBayRadius;
+  if (x < 0 || y < 0 || x > kMapExtent || y > kMapExtent) return false;
+  const std::int64_t dx = x - kLagoonX;
+  return dx * dx + y * y > kLagoonRadius * kLagoonRadius;
 }
 
 Point draw_point(Crowd crowd, Rng& rng) {
@@ -67,15 +67,15 @@ Point draw_point(Crowd crowd, Rng& rng) {
     }
     pick -= share[d];
   }
-  for (;;) {  // redraw until on land: the bay and the map edge clip the crowds
+  for (;;) {  // redraw until on land: the lagoon and the map edge clip the crowds
     std::int64_t x;
     std::int64_t y;
     if (home != nullptr) {
       x = home->x + near_gaussian(rng, home->spread);
       y = home->y + near_gaussian(rng, home->spread);
     } else {
-      x = static_cast<std::int64_t>(rng.below(kBayExtent + 1));
-      y = static_cast<std::int64_t>(rng.below(kBayExtent + 1));
+      x = static_cast<std::int64_t>(rng.below(kMapExtent + 1));
+      y = static_cast<std::int64_t>(rng.below(kMapExtent + 1));
     }
     if (on_land(x, y)) return {static_cast<std::int32_t>(x), static_cast<std::int32_t>(y)};
   }

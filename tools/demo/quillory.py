@@ -1,7 +1,7 @@
-"""The invented harbour city of Larkspur Bay: its streets, its districts and where people go.
+"""The invented harbour city of Quillory: its streets, its districts and where people go.
 
-The city is a rectangle of 7.2 km (west to east) by 4.8 km (south to north), the bay along its
-southern edge. Streets run every BLOCK metres in both directions; every courier stands on a
+The city is a rectangle of 7.2 km (west to east) by 4.8 km (south to north), the harbour along
+its southern edge. Streets run every BLOCK metres in both directions; every courier stands on a
 street, and distances are walked along streets (Manhattan distance). Nine districts tile the
 city in a 3 x 3 grid; each has a few hotspots (kitchens and shop rows) where orders start and
 idle couriers wait, and a share of the evening's demand.
@@ -16,9 +16,9 @@ BLOCK_M = 200  # distance between parallel streets
 
 # (name, demand share, courier share), row by row from the waterfront (south) to the hills.
 _DISTRICTS = [
-    ("Gullwharf", 1.2, 1.1), ("Tidewater Market", 1.6, 1.3), ("Saltpan Row", 0.8, 0.8),
-    ("Ropewalk", 0.9, 1.0), ("Bellbuoy Quarter", 1.3, 1.2), ("Chandler's Cross", 1.0, 1.0),
-    ("Kelp Hill", 0.6, 0.8), ("Millrace", 1.0, 0.9), ("Cormorant Heights", 0.7, 0.7),
+    ("Ondavel", 1.2, 1.1), ("Brissamar", 1.6, 1.3), ("Saverlo", 0.8, 0.8),
+    ("Quimbrell", 0.9, 1.0), ("Tazzaline", 1.3, 1.2), ("Harnevoy", 1.0, 1.0),
+    ("Oskevarra", 0.6, 0.8), ("Mellivant", 1.0, 0.9), ("Yssolind", 0.7, 0.7),
 ]
 DISTRICT_COLUMNS, DISTRICT_ROWS = 3, 3
 _DISTRICT_W = WIDTH_M // DISTRICT_COLUMNS
