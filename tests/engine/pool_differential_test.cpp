@@ -229,9 +229,17 @@ TEST(EventStream, BenchmarkMixKeepsThePoolNearItsSize) {
 TEST(EventStream, MixTextRoundTripsAndBadMixesAreErrors) {
   EXPECT_EQ(gen::parse_mix("bench"), gen::benchmark_mix());
   EXPECT_EQ(gen::parse_mix(gen::mix_text(gen::test_mix())), gen::test_mix());
-  EXPECT_EQ(gen::parse_mix("depart=3").depart, 3);
-  for (const char* bad : {"", "drift=5", "arrive", "arrive=-1", "arrive=x", "arrive=0",
-                          "arrive=1,arrive=2", "arrive=1,"}) {
+  EXPECT_EQ(gen::parse_mix("remove=3").remove, 3);
+  const gen::EventMix every = gen::parse_mix(
+      "nudge-weight=1,random-weight=2,add=3,remove=4,unset=5,link=6,vertex-burst=7,add-remove=8,"
+      "set-unset=9,tricky-weight=10,re-add=11");
+  EXPECT_EQ(std::vector<int>({every.nudge_weight, every.random_weight, every.add, every.remove,
+                              every.unset, every.link, every.vertex_burst, every.add_remove,
+                              every.set_unset, every.tricky_weight, every.re_add}),
+            std::vector<int>({1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11}));
+  EXPECT_EQ(gen::parse_mix(gen::mix_text(every)), every);
+  for (const char* bad : {"", "drift=5", "arrive=1", "add", "add=-1", "add=x", "add=0",
+                          "add=1,add=2", "add=1,"}) {
     EXPECT_THROW(gen::parse_mix(bad), std::invalid_argument) << bad;
   }
 }

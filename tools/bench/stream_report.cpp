@@ -112,12 +112,13 @@ void print_stream_preamble(std::ostream& out, const StreamRunInfo& info) {
       << "compiler: " << __VERSION__ << ", build type " << YOKE_BENCH_BUILD_TYPE << "\n"
       << "graphs:   Vardolune city graphs, " << kStreamCityNeighbours
       << " nearest neighbours per point (yoke_bench's city graphs), seed " << info.seed << "\n"
-      << "actions:  " << mix.small_drift + mix.large_drift << "% drift = " << mix.small_drift
-      << "% small (weight moves by 1..5% of the weight range) + " << mix.large_drift
-      << "% large (new weight uniform over the range); " << mix.arrive
-      << "% arrivals (a new vertex with edges to up to " << kArrivalEdges
-      << " vertices near a random place, a quarter announced by `add` first); " << mix.depart
-      << "% departures (a uniformly chosen vertex, matched or not)\n"
+      << "actions:  --mix bench: " << mix.nudge_weight + mix.random_weight
+      << "% weight changes (drifts below) = " << mix.nudge_weight
+      << "% nudge-weight (weight moves by 1..5% of the weight range) + " << mix.random_weight
+      << "% random-weight (new weight uniform over the range); " << mix.add
+      << "% add (arrivals below: a new vertex with edges to up to " << kArrivalEdges
+      << " vertices near a random place, a quarter announced by `add` first); " << mix.remove
+      << "% remove (departures below: a uniformly chosen vertex, matched or not)\n"
       << "events:   an arrival is ~" << kArrivalEdges
       << " events and the others one each, so most events are arrival edges (counts per\n"
       << "          setting below); a 1-event commit holds one edge of an arrival, not all of it\n"

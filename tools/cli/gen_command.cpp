@@ -265,8 +265,20 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
   add_count(stream, "--batch-max", options.stream.batch_max,
             "Largest batch: sizes uniform in [--batch, --batch-max]");
   stream->add_option("--mix", options.stream.mix,
-                     "bench, test, or NAME=SHARE,... over small-drift, large-drift, arrive, "
-                     "depart, unset, link, burst, flash, flicker, special, revive")
+                     "bench, test, or NAME=SHARE,... (shares of the actions drawn after the "
+                     "graph):\n"
+                     "  nudge-weight   an edge's weight moves by 1..5% of the weight range\n"
+                     "  random-weight  an edge gets a new weight, uniform over the range\n"
+                     "  add            a new vertex with edges to vertices near it\n"
+                     "  remove         a vertex leaves (matched or not)\n"
+                     "  unset          an edge is removed\n"
+                     "  link           a new edge between two vertices near each other\n"
+                     "  vertex-burst   2..4 changes at the edges of one vertex, back to back\n"
+                     "  add-remove     a vertex is added with 1..3 edges and removed at once\n"
+                     "  set-unset      an edge is set and unset at once\n"
+                     "  tricky-weight  an edge gets 0, a negative weight, a tie, its own weight\n"
+                     "  re-add         a removed vertex's key is added again\n"
+                     "bench = nudge-weight=35,random-weight=35,add=15,remove=15; test = all eleven")
       ->capture_default_str();
   stream->add_flag("--scrambled-keys", options.stream.scrambled_keys,
                    "Scattered 64-bit vertex keys (some near 2^64-1) instead of 0, 1, 2, ...");

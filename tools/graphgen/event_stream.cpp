@@ -25,8 +25,10 @@ using EdgeId = std::uint32_t;  // reused once the edge is gone
 constexpr std::uint32_t kAbsent = std::numeric_limits<std::uint32_t>::max();
 constexpr VertexKey kTopKey = std::numeric_limits<VertexKey>::max();
 
+// In the order of kMixEntries, which draw_action walks: the order fixes the streams' events.
 enum class Action {
-  small_drift, large_drift, arrive, depart, unset, link, burst, flash, flicker, special, revive
+  nudge_weight, random_weight, add, remove, unset, link, vertex_burst, add_remove, set_unset,
+  tricky_weight, re_add
 };
 
 struct MixEntry {
@@ -36,17 +38,17 @@ struct MixEntry {
 };
 
 constexpr std::array<MixEntry, 11> kMixEntries = {{
-    {"small-drift", &EventMix::small_drift, Action::small_drift},
-    {"large-drift", &EventMix::large_drift, Action::large_drift},
-    {"arrive", &EventMix::arrive, Action::arrive},
-    {"depart", &EventMix::depart, Action::depart},
+    {"nudge-weight", &EventMix::nudge_weight, Action::nudge_weight},
+    {"random-weight", &EventMix::random_weight, Action::random_weight},
+    {"add", &EventMix::add, Action::add},
+    {"remove", &EventMix::remove, Action::remove},
     {"unset", &EventMix::unset, Action::unset},
     {"link", &EventMix::link, Action::link},
-    {"burst", &EventMix::burst, Action::burst},
-    {"flash", &EventMix::flash, Action::flash},
-    {"flicker", &EventMix::flicker, Action::flicker},
-    {"special", &EventMix::special, Action::special},
-    {"revive", &EventMix::revive, Action::revive},
+    {"vertex-burst", &EventMix::vertex_burst, Action::vertex_burst},
+    {"add-remove", &EventMix::add_remove, Action::add_remove},
+    {"set-unset", &EventMix::set_unset, Action::set_unset},
+    {"tricky-weight", &EventMix::tricky_weight, Action::tricky_weight},
+    {"re-add", &EventMix::re_add, Action::re_add},
 }};
 
 constexpr const char* kFamilyNames[] = {"city", "random", "dispatch", "complete", "stress"};
@@ -185,10 +187,10 @@ class EventStream::Builder {
   std::size_t base_edges_ = 0;
   std::size_t base_events_ = 0;
 
-  // Weights of new edges and drifts stay in the base graph's range.
+  // Weights of new edges and weight changes stay in the base graph's range.
   Weight low_ = 1;
   Weight high_ = 1000;
-  Weight small_step_ = 1;  // largest small drift: 5% of the range
+  Weight small_step_ = 1;  // largest nudge-weight step: 5% of the range
   bool local_ = false;     // city and dispatch: partners come from the graph neighbourhood
   bool bipartite_ = false;  // dispatch: couriers (side 0) link only to orders (side 1)
   std::size_t base_couriers_ = 0;
@@ -200,7 +202,7 @@ class EventStream::Builder {
   std::vector<std::uint32_t> seen_;  // search stamps
   std::uint32_t stamp_ = 0;
   IdSet alive_;
-  IdSet departed_;
+  IdSet removed_;
   std::unordered_set<VertexKey> used_keys_;  // scrambled keys only; looked up, never iterated
 
   std::vector<EdgeRecord> edges_;
@@ -363,7 +365,7 @@ class EventStream::Builder {
   void make_alive(Slot v) {
     if (alive_.contains(v)) return;
     alive_.insert(v);
-    if (departed_.contains(v)) departed_.erase(v);
+    if (removed_.contains(v)) removed_.erase(v);
   }
 
   // Edges are named in a random orientation: {u, v} is unordered.
@@ -411,7 +413,7 @@ class EventStream::Builder {
   void emit_remove(Slot v) {
     while (!incident_[v].empty()) drop_edge(incident_[v].back());
     alive_.erase(v);
-    departed_.insert(v);
+    removed_.insert(v);
     pending_.push_back({EventKind::remove_vertex, keys_[v], 0, 0});
   }
 
@@ -448,71 +450,72 @@ class EventStream::Builder {
 
   void run(Action action) {
     switch (action) {
-      case Action::small_drift: return small_drift();
-      case Action::large_drift: return large_drift();
-      case Action::arrive: return arrive();
-      case Action::depart: return depart();
+      case Action::nudge_weight: return nudge_weight();
+      case Action::random_weight: return random_weight();
+      case Action::add: return add();
+      case Action::remove: return remove();
       case Action::unset: return unset();
       case Action::link: return link();
-      case Action::burst: return burst();
-      case Action::flash: return flash();
-      case Action::flicker: return flicker();
-      case Action::special: return special();
-      case Action::revive: return revive();
+      case Action::vertex_burst: return vertex_burst();
+      case Action::add_remove: return add_remove();
+      case Action::set_unset: return set_unset();
+      case Action::tricky_weight: return tricky_weight();
+      case Action::re_add: return re_add();
     }
   }
 
   std::size_t arrival_edges() const { return static_cast<std::size_t>(spec_.arrival_edges); }
   bool explicit_add() { return actions_.below(100) < static_cast<std::uint64_t>(spec_.explicit_add_percent); }
 
-  Weight drifted(Weight w) {
+  Weight nudged(Weight w) {
     const Weight delta = actions_.between(1, small_step_);
     return std::clamp(actions_.chance(0.5) ? w + delta : w - delta, low_, high_);
   }
 
-  // Every action falls back to an arrival when the pool is too empty for it.
-  void small_drift() {
-    if (live_edges_.empty()) return arrive();
+  // Every action falls back to `add` when the pool is too empty for it.
+  void nudge_weight() {
+    if (live_edges_.empty()) return add();
     const EdgeId e = live_edges_.draw(actions_);
-    emit_weight(e, drifted(edges_[e].w));
+    emit_weight(e, nudged(edges_[e].w));
   }
 
-  void large_drift() {
-    if (live_edges_.empty()) return arrive();
+  void random_weight() {
+    if (live_edges_.empty()) return add();
     emit_weight(live_edges_.draw(actions_), actions_.between(low_, high_));
   }
 
-  void arrive() { arrive_at(new_slot(side_for_arrival()), arrival_edges(), explicit_add()); }
+  void add() { add_with_edges(new_slot(side_for_arrival()), arrival_edges(), explicit_add()); }
 
-  // Vertex v (new, or departed earlier) arrives with up to `count` edges.
-  void arrive_at(Slot v, std::size_t count, bool with_add) {
+  // Vertex v (new, or removed earlier) comes into the pool with up to `count` edges, announced
+  // by `add` first when with_add (or when it finds no partner).
+  void add_with_edges(Slot v, std::size_t count, bool with_add) {
     partners_for(v, count);
     const std::vector<Slot> partners = found_;
     if (with_add || partners.empty()) emit_add(v);
     for (const Slot c : partners) emit_new_edge(v, c, new_edge_weight(c));
   }
 
-  void depart() {
-    if (alive_.size() <= 2) return arrive();
+  void remove() {
+    if (alive_.size() <= 2) return add();
     emit_remove(alive_.draw(actions_));
   }
 
   void unset() {
-    if (live_edges_.empty()) return arrive();
+    if (live_edges_.empty()) return add();
     emit_unset(live_edges_.draw(actions_));
   }
 
   void link() {
-    if (alive_.size() < 2) return arrive();
+    if (alive_.size() < 2) return add();
     const Slot u = alive_.draw(actions_);
     const std::optional<Slot> v = link_partner(u);
-    if (!v) return small_drift();
+    if (!v) return nudge_weight();
     emit_new_edge(u, *v, new_edge_weight(*v));
   }
 
-  // The same vertex several times in a row: drifts, removals and new edges at one vertex.
-  void burst() {
-    if (live_edges_.empty()) return arrive();
+  // The same vertex several times in a row: weight changes, unsets and new edges at one vertex.
+  void vertex_burst() {
+    if (live_edges_.empty()) return add();
     const EdgeRecord& picked = edges_[live_edges_.draw(actions_)];
     const Slot u = actions_.chance(0.5) ? picked.a : picked.b;
     const auto changes = 2 + actions_.below(3);
@@ -526,21 +529,21 @@ class EventStream::Builder {
         continue;
       }
       const EdgeId e = at_u[actions_.below(at_u.size())];
-      if (kind == 0) emit_weight(e, drifted(edges_[e].w));
+      if (kind == 0) emit_weight(e, nudged(edges_[e].w));
       if (kind == 1) emit_weight(e, actions_.between(low_, high_));
       if (kind == 2) emit_unset(e);
     }
   }
 
   // A vertex added and removed in the same batch (when the cut between batches allows).
-  void flash() {
+  void add_remove() {
     const Slot v = new_slot(side_for_arrival());
-    arrive_at(v, 1 + actions_.below(3), actions_.chance(0.5));
+    add_with_edges(v, 1 + actions_.below(3), actions_.chance(0.5));
     emit_remove(v);
   }
 
   // An edge set and then unset right away: a new edge, or an existing one given a new weight.
-  void flicker() {
+  void set_unset() {
     if (alive_.size() >= 2 && actions_.chance(0.5)) {
       const Slot u = alive_.draw(actions_);
       if (const std::optional<Slot> v = link_partner(u)) {
@@ -548,15 +551,15 @@ class EventStream::Builder {
         return;
       }
     }
-    if (live_edges_.empty()) return arrive();
+    if (live_edges_.empty()) return add();
     const EdgeId e = live_edges_.draw(actions_);
     emit_weight(e, actions_.between(low_, high_));
     emit_unset(e);
   }
 
   // Weights that are easy to get wrong: zero, negative, ties, no change, the largest allowed.
-  void special() {
-    if (live_edges_.empty()) return arrive();
+  void tricky_weight() {
+    if (live_edges_.empty()) return add();
     const EdgeId e = live_edges_.draw(actions_);
     const EdgeRecord& r = edges_[e];
     switch (actions_.below(spec_.extreme_weight > 0 ? 5 : 4)) {
@@ -572,15 +575,15 @@ class EventStream::Builder {
     }
   }
 
-  // A key comes back: one that left long ago, or one that leaves and returns right away with
+  // A key comes back: one removed long ago, or one removed and added back right away with
   // edges to some of its old partners.
-  void revive() {
-    if (!departed_.empty() && actions_.chance(0.5)) {
-      const Slot v = departed_.draw(actions_);
-      departed_.erase(v);
-      return arrive_at(v, arrival_edges(), explicit_add());
+  void re_add() {
+    if (!removed_.empty() && actions_.chance(0.5)) {
+      const Slot v = removed_.draw(actions_);
+      removed_.erase(v);
+      return add_with_edges(v, arrival_edges(), explicit_add());
     }
-    if (alive_.size() <= 2) return arrive();
+    if (alive_.size() <= 2) return add();
     const Slot u = alive_.draw(actions_);
     found_.clear();
     for (const EdgeId e : incident_[u]) found_.push_back(edges_[e].other(u));
@@ -606,26 +609,26 @@ const char* stream_family_name(StreamFamily family) {
 
 EventMix benchmark_mix() {
   EventMix mix;
-  mix.small_drift = 35;
-  mix.large_drift = 35;
-  mix.arrive = 15;
-  mix.depart = 15;
+  mix.nudge_weight = 35;
+  mix.random_weight = 35;
+  mix.add = 15;
+  mix.remove = 15;
   return mix;
 }
 
 EventMix test_mix() {
   EventMix mix;
-  mix.small_drift = 18;
-  mix.large_drift = 12;
-  mix.arrive = 10;
-  mix.depart = 12;  // revive brings departed keys back: together they keep the size steady
+  mix.nudge_weight = 18;
+  mix.random_weight = 12;
+  mix.add = 10;
+  mix.remove = 12;  // re_add brings removed keys back: together they keep the size steady
   mix.unset = 8;
   mix.link = 10;
-  mix.burst = 6;
-  mix.flash = 5;
-  mix.flicker = 6;
-  mix.special = 9;
-  mix.revive = 4;
+  mix.vertex_burst = 6;
+  mix.add_remove = 5;
+  mix.set_unset = 6;
+  mix.tricky_weight = 9;
+  mix.re_add = 4;
   return mix;
 }
 
@@ -645,8 +648,9 @@ EventMix parse_mix(std::string_view text) {
                                     [&](const MixEntry& m) { return name == m.name; });
     if (entry == kMixEntries.end()) {
       throw std::invalid_argument("mix: unknown action '" + std::string(name) +
-                                  "' (small-drift, large-drift, arrive, depart, unset, link, "
-                                  "burst, flash, flicker, special, revive; or bench, test)");
+                                  "' (nudge-weight, random-weight, add, remove, unset, link, "
+                                  "vertex-burst, add-remove, set-unset, tricky-weight, re-add; "
+                                  "or bench, test)");
     }
     auto& seen = named[static_cast<std::size_t>(entry - kMixEntries.begin())];
     if (seen) throw std::invalid_argument("mix: '" + std::string(name) + "' given twice");

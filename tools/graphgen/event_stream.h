@@ -1,12 +1,13 @@
 // Seeded streams of pool events (engine/events.h) for the differential tests, the soak run and
 // the benchmarks. The first batch sets the whole base graph of one family; after it, weights
-// drift, vertices arrive with edges to vertices near them and depart, edges appear and vanish.
+// change, vertices are added with edges to vertices near them and removed, edges appear and
+// vanish.
 //
 // Valid by construction: every event applies to the state the events before it leave, so
 // Pool::check accepts every batch, and every prefix of a stream is valid too. Deterministic:
 // the same spec gives the same events on every machine, and the events do not depend on the
 // batch sizes (they are drawn from their own stream and only cut into batches). Cost: O(1)
-// expected per event, O(degree) for a departure, O(arrival_edges) for an arrival.
+// expected per event, O(degree) for a removal, O(arrival_edges) for an addition.
 #pragma once
 
 #include <cstdint>
@@ -33,30 +34,32 @@ const char* stream_family_name(StreamFamily family);
 // convention; any non-negative numbers with a positive sum). An action emits one event or a
 // few in a row; consecutive events usually land in the same batch.
 struct EventMix {
-  int small_drift = 0;  // an existing edge's weight moves by 1..5% of the weight range
-  int large_drift = 0;  // an existing edge gets a new weight, uniform over the range
-  int arrive = 0;       // a new vertex with ~arrival_edges edges to vertices near it
-  int depart = 0;       // a uniformly chosen alive vertex leaves (matched or not)
-  int unset = 0;        // an existing edge is removed
-  int link = 0;         // a new edge between two existing vertices near each other
-  int burst = 0;        // 2..4 changes at the edges of one vertex, back to back
-  int flash = 0;        // a vertex arrives with 1..3 edges and leaves right away
-  int flicker = 0;      // an edge (new or existing) is set and then unset right away
-  int special = 0;      // an edge set to 0, to a negative weight, to a tie with a neighbouring
-                        // edge, to its own weight, or to +-extreme_weight
-  int revive = 0;       // a vertex leaves and comes back under the same key, right away or
-                        // long after it left
+  int nudge_weight = 0;   // an existing edge's weight moves by 1..5% of the weight range
+  int random_weight = 0;  // an existing edge gets a new weight, uniform over the range
+  int add = 0;            // a new vertex with ~arrival_edges edges to vertices near it
+  int remove = 0;         // a uniformly chosen alive vertex leaves (matched or not)
+  int unset = 0;          // an existing edge is removed
+  int link = 0;           // a new edge between two existing vertices near each other
+  int vertex_burst = 0;   // 2..4 changes at the edges of one vertex, back to back
+  int add_remove = 0;     // a vertex is added with 1..3 edges and removed right away (in the
+                          // same batch unless the cut between batches falls in between)
+  int set_unset = 0;      // an edge (new or existing) is set and then unset right away
+  int tricky_weight = 0;  // an edge set to a weight that is easy to get wrong: 0, negative, a
+                          // tie with a neighbouring edge, its own weight, or +-extreme_weight
+  int re_add = 0;         // a removed vertex's key is added again: one removed long ago, or
+                          // one removed and added back right away
 
   friend bool operator==(const EventMix&, const EventMix&) = default;
 };
 
-// 35% small drift, 35% large drift, 15% arrivals, 15% departures: the benchmark load.
+// 35% nudge-weight, 35% random-weight, 15% add, 15% remove: the benchmark load.
 EventMix benchmark_mix();
 // Every action, each often enough to show up in a few hundred events: the test load.
 EventMix test_mix();
 
-// "bench", "test", or "NAME=SHARE,..." with NAME one of small-drift, large-drift, arrive,
-// depart, unset, link, burst, flash, flicker, special, revive (unnamed shares are 0).
+// "bench", "test", or "NAME=SHARE,..." with NAME one of nudge-weight, random-weight, add,
+// remove, unset, link, vertex-burst, add-remove, set-unset, tricky-weight, re-add (the field
+// names of EventMix with '-' for '_'; unnamed shares are 0).
 // Throws std::invalid_argument naming what is wrong.
 EventMix parse_mix(std::string_view text);
 // The "NAME=SHARE,..." form of the non-zero shares; parse_mix reads it back.
@@ -78,7 +81,7 @@ struct StreamSpec {
   EventMix mix = benchmark_mix();
   int arrival_edges = 10;
   int explicit_add_percent = 25;  // arrivals that start with `add` rather than their first `set`
-  Weight extreme_weight = 0;      // > 0: some `special` actions set +-extreme_weight
+  Weight extreme_weight = 0;      // > 0: some `tricky-weight` actions set +-extreme_weight
 };
 
 // A small stream for the differential tests, with every knob varied by the seed: base size in
