@@ -88,8 +88,8 @@ TEST(ProtoJson, Matching) {
   matching.set_mode(MODE_MAX_WEIGHT);
   set_pair(*matching.add_pairs(), 1, 2, 5);
   set_pair(*matching.add_pairs(), 3, 4, 7);
-  EXPECT_EQ(json_line(matching_json("bay", matching)),
-            "{\"pool\":\"bay\",\"seq\":9,\"weight\":12,\"pairs\":[[1,2,5],[3,4,7]],"
+  EXPECT_EQ(json_line(matching_json("quillory", matching)),
+            "{\"pool\":\"quillory\",\"seq\":9,\"weight\":12,\"pairs\":[[1,2,5],[3,4,7]],"
             "\"mode\":\"max-weight\",\"no_perfect_matching\":false}");
 }
 
