@@ -8,14 +8,10 @@
 
 #include "engine/batch_checker.h"
 #include "engine/pool.h"
+#include "tests/event_builders.h"
 
 namespace yoke {
 namespace {
-
-Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
-Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
-Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
-Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
 
 // Common knowledge (batch_checker.h): a batch may rely on what earlier accepted batches did.
 TEST(BatchChecker, LaterBatchesSeeEarlierAcceptedOnes) {

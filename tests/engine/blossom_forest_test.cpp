@@ -271,7 +271,7 @@ struct Nested {
   NodeId a = kNoNode, b = kNoNode, d = kNoNode, c = kNoNode;
 };
 
-Nested nested(bool form_c = true) {
+Nested nested_forest(bool form_c = true) {
   Nested n;
   Fixture& fx = n.fx;
   n.a = fx.blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}});
@@ -291,7 +291,7 @@ Nested nested(bool form_c = true) {
 }
 
 TEST(BlossomForest, NestedStructureAndTop) {
-  Nested n = nested(false);
+  Nested n = nested_forest(false);
   const BlossomForest& forest = n.fx.forest;
   EXPECT_EQ(std::vector<NodeId>({n.a, n.b, n.d}), (std::vector<NodeId>{14, 15, 16}));
   for (Vertex v = 0; v <= 6; ++v) EXPECT_EQ(forest.top(v), n.b) << v;
@@ -336,20 +336,20 @@ TEST(BlossomForest, NestedStructureAndTop) {
 
 TEST(BlossomForest, MakeBaseEveryVertexOfNestedBlossom) {
   for (Vertex v = 0; v <= 12; ++v) {
-    Nested n = nested();
+    Nested n = nested_forest();
     rebase_and_check(n.fx, n.c, v);
     ASSERT_FALSE(HasFatalFailure());
   }
   // Rebasing an inner top-level blossom before C exists, at its deepest vertex.
   for (Vertex v = 0; v <= 6; ++v) {
-    Nested n = nested(false);
+    Nested n = nested_forest(false);
     rebase_and_check(n.fx, n.b, v);
     ASSERT_FALSE(HasFatalFailure());
   }
 }
 
 TEST(BlossomForest, RepeatedMakeBaseOnNestedBlossom) {
-  Nested n = nested();
+  Nested n = nested_forest();
   for (Vertex v : {2u, 11u, 5u, 0u, 9u, 12u, 1u, 7u, 4u, 10u, 3u, 8u, 6u, 2u}) {
     rebase_and_check(n.fx, n.c, v);
     ASSERT_FALSE(HasFatalFailure());
@@ -357,7 +357,7 @@ TEST(BlossomForest, RepeatedMakeBaseOnNestedBlossom) {
 }
 
 TEST(BlossomForest, DissolveAndReuseSlot) {
-  Nested n = nested();
+  Nested n = nested_forest();
   BlossomForest& forest = n.fx.forest;
   // Rotate first, so the children order differs from the vertex list order.
   forest.make_base(n.c, 11, n.fx.mate);
@@ -408,8 +408,8 @@ TEST(BlossomForest, DissolveAndReuseSlot) {
 // B_k = [B_(k-1), x_k, y_k] for k = 1..K with B_0 = vertex 0, x_k = 2k-1, y_k = 2k, edges
 // x_(k-1) -- x_k, x_k -- y_k (matched), y_k -- y_(k-1) (vertex 0 for k = 1). Vertex 0 is the
 // base of all. B_k is slot n + k - 1.
-constexpr std::size_t kDepth = 3000;
-constexpr auto kDeepVertices = static_cast<Vertex>(2 * kDepth + 1);
+constexpr std::size_t kChainDepth = 3000;
+constexpr auto kDeepVertices = static_cast<Vertex>(2 * kChainDepth + 1);
 
 Vertex x_of(std::size_t k) { return k == 0 ? 0 : static_cast<Vertex>(2 * k - 1); }
 Vertex y_of(std::size_t k) { return k == 0 ? 0 : static_cast<Vertex>(2 * k); }
@@ -417,7 +417,7 @@ Vertex y_of(std::size_t k) { return k == 0 ? 0 : static_cast<Vertex>(2 * k); }
 Fixture deep_nest(NodeId* outer) {
   Fixture fx(kDeepVertices);
   NodeId inner = 0;
-  for (std::size_t k = 1; k <= kDepth; ++k) {
+  for (std::size_t k = 1; k <= kChainDepth; ++k) {
     inner = fx.blossom({inner, x_of(k), y_of(k)},
                        {{x_of(k - 1), x_of(k)}, {x_of(k), y_of(k)}, {y_of(k), y_of(k - 1)}});
     fx.match(x_of(k), y_of(k));
@@ -430,19 +430,19 @@ TEST(BlossomForest, DeepNest) {
   NodeId outer = kNoNode;
   Fixture fx = deep_nest(&outer);
   BlossomForest& forest = fx.forest;
-  EXPECT_EQ(outer, kDeepVertices + kDepth - 1);
-  EXPECT_EQ(forest.live_blossoms().size(), kDepth);
+  EXPECT_EQ(outer, kDeepVertices + kChainDepth - 1);
+  EXPECT_EQ(forest.live_blossoms().size(), kChainDepth);
   // The innermost vertex first: its cached top is itself, so top() climbs all 3000 levels.
   EXPECT_EQ(forest.top(0), outer);
   for (Vertex v = 0; v < kDeepVertices; ++v) ASSERT_EQ(forest.top(v), outer) << v;
   std::size_t depth = 0;
   for (NodeId node = 0; forest.parent(node) != kNoNode; node = forest.parent(node)) ++depth;
-  EXPECT_EQ(depth, kDepth);
+  EXPECT_EQ(depth, kChainDepth);
   const std::vector<Vertex> all = vertices_of(forest, outer);
   EXPECT_EQ(all.size(), kDeepVertices);
   EXPECT_EQ(sorted(all), range(0, kDeepVertices - 1));
-  const NodeId middle = kDeepVertices + kDepth / 2 - 1;  // B_(K/2)
-  EXPECT_EQ(sorted(vertices_of(forest, middle)), range(0, 2 * (kDepth / 2)));
+  const NodeId middle = kDeepVertices + kChainDepth / 2 - 1;  // B_(K/2)
+  EXPECT_EQ(sorted(vertices_of(forest, middle)), range(0, 2 * (kChainDepth / 2)));
   check_structure(fx, outer, false);
 }
 
@@ -450,19 +450,19 @@ TEST(BlossomForest, DeepNestMakeBase) {
   NodeId outer = kNoNode;
   Fixture fx = deep_nest(&outer);
   // The outermost x: every level below is rebased in turn (a cascade 3000 deep).
-  rebase_and_check(fx, outer, x_of(kDepth), false);
+  rebase_and_check(fx, outer, x_of(kChainDepth), false);
   ASSERT_FALSE(HasFatalFailure());
   // The deepest vertex: found 3000 levels down, and every level flips back.
   rebase_and_check(fx, outer, 0, false);
   ASSERT_FALSE(HasFatalFailure());
   // Deep, middle and outer vertices, from a rotated state each time.
-  for (Vertex v : {y_of(1), x_of(kDepth / 2), y_of(kDepth), x_of(2), 0u}) {
+  for (Vertex v : {y_of(1), x_of(kChainDepth / 2), y_of(kChainDepth), x_of(2), 0u}) {
     rebase_and_check(fx, outer, v, false);
     ASSERT_FALSE(HasFatalFailure());
   }
   // Along the cascade, B_k's base is x_k or y_k: exact values at a few levels after the last
   // rebase at 0 all bases are 0 again.
-  for (std::size_t k : {std::size_t{1}, kDepth / 3, kDepth}) {
+  for (std::size_t k : {std::size_t{1}, kChainDepth / 3, kChainDepth}) {
     EXPECT_EQ(fx.forest.base(static_cast<NodeId>(kDeepVertices + k - 1)), 0u) << k;
   }
 }
@@ -472,7 +472,7 @@ TEST(BlossomForest, DeepNestDissolveFromTheTop) {
   Fixture fx = deep_nest(&outer);
   BlossomForest& forest = fx.forest;
   EXPECT_EQ(forest.top(0), outer);
-  for (std::size_t k = kDepth; k >= 1; --k) {
+  for (std::size_t k = kChainDepth; k >= 1; --k) {
     const auto b = static_cast<NodeId>(kDeepVertices + k - 1);
     forest.dissolve(b);
     const NodeId below = k == 1 ? NodeId{0} : b - 1;

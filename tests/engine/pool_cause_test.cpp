@@ -7,14 +7,10 @@
 
 #include "engine/certificate.h"
 #include "engine/pool.h"
+#include "tests/event_builders.h"
 
 namespace yoke {
 namespace {
-
-Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
-Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
-Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
-Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
 
 // Every answer here is also an optimum: the independent checker accepts the pool's certificate.
 CommitResult commit_checked(Pool& pool, const std::vector<Event>& batch) {

@@ -15,6 +15,8 @@
 #include <vector>
 
 #include "engine/pool.h"
+#include "tests/event_builders.h"
+#include "tests/oracles/stream_cases.h"
 #include "tests/oracles/test_scale.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -29,10 +31,6 @@ namespace {
 
 using gen::StreamFamily;
 using KeyPair = std::pair<VertexKey, VertexKey>;
-
-constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
-                                      StreamFamily::dispatch, StreamFamily::complete,
-                                      StreamFamily::stress};
 
 KeyPair key_of(const MatchedPair& p) { return {p.a, p.b}; }
 
@@ -167,18 +165,18 @@ void expect_diff_consistent(const Pool& pool, const std::vector<MatchedPair>& be
   }
 }
 
-std::string label_of(StreamFamily family, Mode mode, std::uint64_t seed) {
+std::string trace_label(StreamFamily family, Mode mode, std::uint64_t seed) {
   return std::string(gen::stream_family_name(family)) + " " + mode_name(mode) + " seed " +
          std::to_string(seed);
 }
 
 TEST(PoolDiff, DiffsTakeTheMatchingBeforeToTheMatchingAfter) {
   const int seeds = oracle::scaled(20);
-  for (const StreamFamily family : kFamilies) {
-    for (const Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {
+  for (const StreamFamily family : oracle::kStreamFamilies) {
+    for (const Mode mode : oracle::kAllModes) {
       for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
         const auto s = static_cast<std::uint64_t>(1000 + seed);
-        const std::string label = label_of(family, mode, s);
+        const std::string label = trace_label(family, mode, s);
         Pool pool(mode);
         gen::EventStream stream(gen::test_stream_spec(family, s, 40, 30));
         std::vector<Event> batch;
@@ -212,11 +210,11 @@ void expect_same_result(const CommitResult& x, const CommitResult& y) {
 // Two pools fed the same stream give the same results, diffs and matchings at every commit.
 TEST(PoolDiff, SameStreamSameAnswers) {
   const int seeds = oracle::scaled(5);
-  for (const StreamFamily family : kFamilies) {
+  for (const StreamFamily family : oracle::kStreamFamilies) {
     for (const Mode mode : {Mode::max_weight, Mode::max_cardinality}) {
       for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
         const auto s = static_cast<std::uint64_t>(2000 + seed);
-        SCOPED_TRACE(label_of(family, mode, s));
+        SCOPED_TRACE(trace_label(family, mode, s));
         Pool first(mode);
         Pool second(mode);
         for (const auto& batch : gen::generate_stream(gen::test_stream_spec(family, s, 60, 30))) {
@@ -244,11 +242,6 @@ Snapshot snapshot(const Pool& pool) {
   return {pool.matching(), pool.weight(), pool.pairs(), pool.vertex_count(), pool.edge_count(),
           pool.commits()};
 }
-
-Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
-Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
-Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
-Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
 
 // A pool warmed up by a stream, and keys to build bad batches from.
 struct WarmPool {
@@ -294,7 +287,7 @@ struct BadBatch {
 // Common knowledge (events.h, Pool::check): each of these batches has one event that cannot
 // apply; check names it, and the pool is as it was.
 TEST(PoolCheck, RejectsBadBatchesAndChangesNothing) {
-  for (const Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {
+  for (const Mode mode : oracle::kAllModes) {
     SCOPED_TRACE(mode_name(mode));
     WarmPool warm(mode);
     ASSERT_TRUE(warm.found_c);

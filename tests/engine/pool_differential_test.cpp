@@ -21,6 +21,7 @@
 #include "engine/pool.h"
 #include "engine/solve.h"
 #include "tests/oracles/checked_solve.h"
+#include "tests/oracles/stream_cases.h"
 #include "tests/oracles/test_scale.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -30,10 +31,6 @@ namespace {
 using gen::StreamFamily;
 using KeyPair = std::pair<VertexKey, VertexKey>;
 
-constexpr StreamFamily kFamilies[] = {StreamFamily::city, StreamFamily::random,
-                                      StreamFamily::dispatch, StreamFamily::complete,
-                                      StreamFamily::stress};
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 KeyPair ordered(VertexKey a, VertexKey b) { return {std::min(a, b), std::max(a, b)}; }
 
@@ -92,7 +89,7 @@ struct StreamReplay {
 // Common knowledge (what "valid" means, DESIGN.md section 6): each event fits the state the
 // events before it leave.
 TEST(EventStream, EveryEventFitsTheStateBeforeIt) {
-  for (const StreamFamily family : kFamilies) {
+  for (const StreamFamily family : oracle::kStreamFamilies) {
     for (std::uint64_t seed = 0; seed < 8; ++seed) {
       gen::StreamSpec spec = gen::test_stream_spec(family, seed, 40, 30);
       spec.extreme_weight = 1000000;
@@ -176,7 +173,7 @@ std::vector<EventTuple> after_first_batch(const std::vector<std::vector<Event>>&
 }
 
 TEST(EventStream, SameSpecSameEventsOtherSeedOtherEvents) {
-  for (const StreamFamily family : kFamilies) {
+  for (const StreamFamily family : oracle::kStreamFamilies) {
     const gen::StreamSpec spec = gen::test_stream_spec(family, 11, 40, 20);
     gen::StreamSpec other = spec;
     other.seed = 12;
@@ -352,7 +349,7 @@ void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string&
   }
 }
 
-std::string label_of(StreamFamily family, Mode mode, std::uint64_t seed) {
+std::string script_label(StreamFamily family, Mode mode, std::uint64_t seed) {
   std::string name = std::string("pool_") + gen::stream_family_name(family) + "_" +
                      mode_name(mode) + "_seed" + std::to_string(seed);
   std::replace(name.begin(), name.end(), '-', '_');
@@ -368,7 +365,7 @@ TEST_P(PoolAgainstStatic, EveryCommitIsACertifiedOptimum) {
   for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
     const auto s = static_cast<std::uint64_t>(seed);
     expect_stream_certified(gen::test_stream_spec(family, s, 80, 60), mode,
-                            label_of(family, mode, s));
+                            script_label(family, mode, s));
   }
 }
 
@@ -408,15 +405,8 @@ TEST_P(PoolAgainstStatic, BatchingDoesNotChangeTheOptimum) {
   }
 }
 
-std::string case_name(const testing::TestParamInfo<PoolAgainstStatic::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
-}
-
-INSTANTIATE_TEST_SUITE_P(Streams, PoolAgainstStatic,
-                         testing::Combine(testing::ValuesIn(kFamilies), testing::ValuesIn(kModes)),
-                         case_name);
+INSTANTIATE_TEST_SUITE_P(Streams, PoolAgainstStatic, oracle::all_stream_cases(),
+                         oracle::stream_case_name);
 
 // A few long streams on graphs large enough for blossoms nested several deep.
 class LongPoolStreams : public PoolAgainstStatic {};
@@ -433,14 +423,14 @@ TEST_P(LongPoolStreams, EveryCommitIsACertifiedOptimum) {
     spec.events = 3000;
     spec.batch_min = 1;
     spec.batch_max = 30;
-    expect_stream_certified(spec, mode, label_of(family, mode, s));
+    expect_stream_certified(spec, mode, script_label(family, mode, s));
   }
 }
 
 INSTANTIATE_TEST_SUITE_P(Streams, LongPoolStreams,
-                         testing::Combine(testing::ValuesIn(kFamilies),
+                         testing::Combine(testing::ValuesIn(oracle::kStreamFamilies),
                                           testing::Values(Mode::max_weight, Mode::max_cardinality)),
-                         case_name);
+                         oracle::stream_case_name);
 
 }  // namespace
 }  // namespace yoke

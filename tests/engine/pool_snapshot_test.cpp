@@ -9,6 +9,7 @@
 
 #include "engine/certificate.h"
 #include "engine/pool.h"
+#include "tests/oracles/all_modes.h"
 #include "tools/graphgen/event_stream.h"
 #include "tools/graphgen/rng.h"
 
@@ -30,7 +31,7 @@ TEST(PoolSnapshot, RestoredPoolBehavesExactlyLikeTheOriginal) {
   const gen::StreamFamily families[] = {gen::StreamFamily::city, gen::StreamFamily::stress,
                                         gen::StreamFamily::dispatch, gen::StreamFamily::random};
   for (std::uint64_t seed = 1; seed <= 12; ++seed) {
-    for (Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {
+    for (Mode mode : oracle::kAllModes) {
       const gen::StreamSpec spec = gen::test_stream_spec(families[seed % 4], seed, 120, 40);
       const std::vector<std::vector<Event>> batches = gen::generate_stream(spec);
       Pool original(mode);

@@ -21,11 +21,11 @@ using testing::small_segments;
 using testing::TempDir;
 using testing::write_file;
 
-const Options kOptions = small_segments(400);
+const Options kCorruptionOptions = small_segments(400);
 
 // Records 1..30 in several segments.
 void write_journal(const std::filesystem::path& dir) {
-  Journal journal = Journal::open(dir, kOptions);
+  Journal journal = Journal::open(dir, kCorruptionOptions);
   testing::append_range(journal, 1, 30);
 }
 
@@ -33,7 +33,7 @@ void write_journal(const std::filesystem::path& dir) {
 void expect_corruption(const std::filesystem::path& dir, const std::filesystem::path& segment,
                        std::uint64_t offset, const std::string& reason) {
   try {
-    Journal journal = Journal::open(dir, kOptions);
+    Journal journal = Journal::open(dir, kCorruptionOptions);
     ADD_FAILURE() << "opened a journal damaged in " << segment << " at " << offset;
   } catch (const Corruption& error) {
     EXPECT_EQ(error.segment(), segment);
@@ -169,7 +169,7 @@ TEST(JournalCorruption, GapOrDuplicateInsideASegment) {
   write_file(dir / segment_file_name(1),
              forge_segment(1, {{1, "one"}, {2, "two"}, {4, "four"}, {5, "five"}}));
   {
-    Journal journal = Journal::open(dir.path(), kOptions);
+    Journal journal = Journal::open(dir.path(), kCorruptionOptions);
     ASSERT_TRUE(journal.recovery().cut);
     EXPECT_EQ(journal.recovery().cut->offset, bad_offset);
     EXPECT_NE(journal.recovery().cut->reason.find("expected 3"), std::string::npos);

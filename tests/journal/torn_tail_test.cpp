@@ -23,7 +23,7 @@ using testing::small_segments;
 using testing::TempDir;
 using testing::write_file;
 
-const Options kOptions = small_segments(600);
+const Options kTornTailOptions = small_segments(600);
 const std::string kLastPayload = "the last record, forty bytes in length..";
 
 // A journal of records 1..20 whose last segment holds several records; record 20 carries
@@ -37,7 +37,7 @@ struct Reference {
 
 Reference write_reference(const std::filesystem::path& dir) {
   {
-    Journal journal = Journal::open(dir, kOptions);
+    Journal journal = Journal::open(dir, kTornTailOptions);
     for (std::uint64_t seq = 1; seq <= 19; ++seq) journal.append(seq, payload_for(seq));
     journal.append(20, kLastPayload);
     journal.sync();
@@ -67,7 +67,7 @@ void expect_last_record_cut(const Reference& reference, const std::filesystem::p
   const std::filesystem::path segment = dir / reference.last_segment;
   damage(segment);
   {
-    Journal journal = Journal::open(dir, kOptions);
+    Journal journal = Journal::open(dir, kTornTailOptions);
     const Recovery& recovery = journal.recovery();
     EXPECT_EQ(recovery.records, 19u);
     ASSERT_EQ(recovery.cut.has_value(), expect_cut);
@@ -82,7 +82,7 @@ void expect_last_record_cut(const Reference& reference, const std::filesystem::p
     journal.append(21, "after the cut");
     journal.sync();
   }
-  Journal reopened = Journal::open(dir, kOptions);
+  Journal reopened = Journal::open(dir, kTornTailOptions);
   EXPECT_FALSE(reopened.recovery().cut);
   EXPECT_EQ(read_all(dir), records_1_to_21());
   std::filesystem::remove_all(dir);
@@ -102,7 +102,7 @@ TEST(JournalTornTail, CutAtEveryByteOfTheLastRecord) {
   // The reported size of the cut.
   testing::copy_directory(reference.dir, scratch / "sized");
   std::filesystem::resize_file(scratch / "sized" / reference.last_segment, reference.size - 5);
-  const Journal journal = Journal::open(scratch / "sized", kOptions);
+  const Journal journal = Journal::open(scratch / "sized", kTornTailOptions);
   ASSERT_TRUE(journal.recovery().cut);
   EXPECT_EQ(journal.recovery().cut->bytes, reference.size - 5 - reference.last_record_start);
   EXPECT_NE(journal.recovery().cut->reason.find("cut short"), std::string::npos);
@@ -174,7 +174,7 @@ TEST(JournalTornTail, CutWhileStartingASegment) {
   const std::filesystem::path reference = scratch / "reference";
   std::uint64_t last = 0;
   {
-    Journal journal = Journal::open(reference, kOptions);
+    Journal journal = Journal::open(reference, kTornTailOptions);
     while (list_segments(reference).size() < 3) {
       ++last;
       journal.append(last, payload_for(last));
@@ -193,7 +193,7 @@ TEST(JournalTornTail, CutWhileStartingASegment) {
     const std::filesystem::path segment = dir / last_file.filename();
     damage(segment);
     {
-      Journal journal = Journal::open(dir, kOptions);
+      Journal journal = Journal::open(dir, kTornTailOptions);
       EXPECT_EQ(journal.recovery().records, last - 1);
       EXPECT_EQ(std::filesystem::exists(segment), !file_removed);
       EXPECT_EQ(journal.recovery().segments, file_removed ? 2u : 3u);

@@ -8,17 +8,17 @@
 #include "exhaustive.h"
 #include "random_graphs.h"
 #include "test_scale.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 // Enumerates once per graph and answers all three modes from it.
 void expect_all_modes(const Graph& graph, const std::string& label) {
   const ExhaustiveOptima truth = exhaustive_optima(graph);
   const Oracle oracle = [&truth](const Graph&, Mode mode) { return truth.for_mode(mode); };
-  for (Mode mode : kModes) expect_optimal(graph, mode, oracle, label);
+  for (Mode mode : kAllModes) expect_optimal(graph, mode, oracle, label);
 }
 
 // oracle: exhaustive enumeration. Random graphs of 1..12 vertices with mixed-sign, zero,

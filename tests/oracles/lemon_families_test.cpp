@@ -11,6 +11,7 @@
 #include "lemon_oracle.h"
 #include "test_scale.h"
 #include "tools/graphgen/generators.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
@@ -46,7 +47,6 @@ const Family kFamilies[] = {
      }},
 };
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 class LemonFamilies : public testing::TestWithParam<std::tuple<std::size_t, Mode>> {};
 
@@ -71,16 +71,15 @@ TEST_P(LemonFamilies, SmallGraphsMatchLemon) {
   }
 }
 
-std::string case_name(const testing::TestParamInfo<LemonFamilies::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(kFamilies[std::get<0>(info.param)].name) + "_" + mode;
+std::string family_case_name(const testing::TestParamInfo<LemonFamilies::ParamType>& info) {
+  return std::string(kFamilies[std::get<0>(info.param)].name) + "_" +
+         mode_label(std::get<1>(info.param));
 }
 
 INSTANTIATE_TEST_SUITE_P(Generators, LemonFamilies,
                          testing::Combine(testing::Range<std::size_t>(0, std::size(kFamilies)),
-                                          testing::ValuesIn(kModes)),
-                         case_name);
+                                          testing::ValuesIn(kAllModes)),
+                         family_case_name);
 
 }  // namespace
 }  // namespace yoke::oracle

@@ -10,6 +10,7 @@
 #include "lemon_oracle.h"
 #include "test_scale.h"
 #include "tools/graphgen/generators.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
@@ -32,7 +33,6 @@ const LargeCase kCases[] = {
     {"BlossomStress10k", [] { return gen::blossom_stress(sized(10000), 5); }},
 };
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 class LemonLarge : public testing::TestWithParam<std::tuple<std::size_t, Mode>> {};
 
@@ -44,16 +44,15 @@ TEST_P(LemonLarge, MatchesLemon) {
                  std::string("lemon_large_") + c.name);
 }
 
-std::string case_name(const testing::TestParamInfo<LemonLarge::ParamType>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(kCases[std::get<0>(info.param)].name) + "_" + mode;
+std::string large_case_name(const testing::TestParamInfo<LemonLarge::ParamType>& info) {
+  return std::string(kCases[std::get<0>(info.param)].name) + "_" +
+         mode_label(std::get<1>(info.param));
 }
 
 INSTANTIATE_TEST_SUITE_P(Generators, LemonLarge,
                          testing::Combine(testing::Range<std::size_t>(0, std::size(kCases)),
-                                          testing::ValuesIn(kModes)),
-                         case_name);
+                                          testing::ValuesIn(kAllModes)),
+                         large_case_name);
 
 }  // namespace
 }  // namespace yoke::oracle

@@ -5,11 +5,11 @@
 #include "lemon_oracle.h"
 #include "random_graphs.h"
 #include "test_scale.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 // oracle: LEMON MaxWeightedMatching, MaxWeightedPerfectMatching and MaxMatching (Debian
 // liblemon-dev 1.3.1) against exhaustive enumeration, on graphs of 1..12 vertices.
@@ -20,7 +20,7 @@ TEST(OracleAgreement, LemonAgreesWithExhaustiveEnumeration) {
     for (int seed = 0; seed < seeds; ++seed) {
       const Graph graph = random_graph(spec, 7000 + static_cast<std::uint64_t>(seed));
       const ExhaustiveOptima truth = exhaustive_optima(graph);
-      for (Mode mode : kModes) {
+      for (Mode mode : kAllModes) {
         const Answer lemon = lemon_optimum(graph, mode);
         const Answer& want = truth.for_mode(mode);
         const std::string where = spec.describe() + " seed " + std::to_string(seed) + " " +

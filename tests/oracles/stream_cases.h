@@ -8,6 +8,7 @@
 #include <tuple>
 
 #include "engine/types.h"
+#include "tests/oracles/all_modes.h"
 #include "tools/graphgen/event_stream.h"
 
 namespace yoke::oracle {
@@ -15,7 +16,6 @@ namespace yoke::oracle {
 inline constexpr gen::StreamFamily kStreamFamilies[] = {
     gen::StreamFamily::city, gen::StreamFamily::random, gen::StreamFamily::dispatch,
     gen::StreamFamily::complete, gen::StreamFamily::stress};
-inline constexpr Mode kAllModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 using StreamCase = std::tuple<gen::StreamFamily, Mode>;
 
@@ -24,9 +24,8 @@ inline auto all_stream_cases() {
 }
 
 inline std::string stream_case_name(const testing::TestParamInfo<StreamCase>& info) {
-  std::string mode = mode_name(std::get<1>(info.param));
-  std::erase(mode, '-');
-  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" + mode;
+  return std::string(gen::stream_family_name(std::get<0>(info.param))) + "_" +
+         mode_label(std::get<1>(info.param));
 }
 
 }  // namespace yoke::oracle

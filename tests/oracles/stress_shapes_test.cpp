@@ -11,11 +11,11 @@
 #include "shapes.h"
 #include "test_scale.h"
 #include "tools/graphgen/generators.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 Answer by_lemon(const Graph& graph, Mode mode) { return lemon_optimum(graph, mode); }
 Answer by_enumeration(const Graph& graph, Mode mode) { return exhaustive_optimum(graph, mode); }
@@ -33,7 +33,7 @@ SolveStats sweep_weights(const Graph& shape, Weight lo, Weight hi, int count,
     const Graph graph = with_weights(shape, weights);
     const ExhaustiveOptima truth = exhaustive_optima(graph);
     const Oracle oracle = [&truth](const Graph&, Mode mode) { return truth.for_mode(mode); };
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       const SolveResult r = expect_optimal(graph, mode, oracle, name + "_" + std::to_string(i));
       total.blossoms_formed += r.stats.blossoms_formed;
       total.blossoms_expanded += r.stats.blossoms_expanded;
@@ -78,7 +78,7 @@ TEST(StressShapesLemon, TBlossomExpansionCityGraphs) {
   for (std::size_t n : {60, 90, 120}) {
     for (int seed = 0; seed < seeds && !HasFailure(); ++seed) {
       const Graph graph = gen::city(n, 4, static_cast<std::uint64_t>(seed)).to_graph();
-      for (Mode mode : kModes) {
+      for (Mode mode : kAllModes) {
         const SolveResult r = expect_optimal(
             graph, mode, by_lemon, "t_expand_city_n" + std::to_string(n) + "_seed" +
                                        std::to_string(seed));
@@ -111,7 +111,7 @@ TEST(StressShapesExhaustive, BlossomsInsideBlossomsSmall) {
   const Graph nested = with_stem(nested_odd_cycles(2, 3, 4, 3), 4, 2, 2);  // 11 vertices
   const ExhaustiveOptima truth = exhaustive_optima(nested);
   const Oracle oracle = [&truth](const Graph&, Mode mode) { return truth.for_mode(mode); };
-  for (Mode mode : kModes) expect_optimal(nested, mode, oracle, "nested_3x3_stem");
+  for (Mode mode : kAllModes) expect_optimal(nested, mode, oracle, "nested_3x3_stem");
   sweep_weights(nested, 0, 7, scaled(1500), "nested_3x3_stem_random");
   sweep_weights(with_stem(nested_odd_cycles(2, 3, 1, 1), 0, 1, 1), -2, 5, scaled(1500),
                 "nested_3x3_pendant_random");
@@ -129,7 +129,7 @@ TEST(StressShapesLemon, BlossomsInsideBlossomsDeep) {
   };
   int k = 0;
   for (const Graph& g : shapes) {
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(g, mode, by_lemon, "nested_deep_" + std::to_string(k));
     }
     ++k;
@@ -146,7 +146,7 @@ TEST(StressShapesLemon, LongOddCycleChain) {
   std::uint64_t seed = 11;
   for (const auto& c : chains) {
     const Graph g = odd_cycle_chain(c.count, c.length, c.lo, c.hi, seed++);
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(g, mode, by_lemon,
                      "odd_chain_" + std::to_string(c.count) + "x" + std::to_string(c.length));
     }
@@ -163,7 +163,7 @@ TEST(StressShapesLemon, ZeroAndNegativeWeights) {
   for (std::uint64_t seed = 0; seed < 10; ++seed) {
     for (const RandomGraphSpec& spec : specs) {
       const Graph g = random_graph(spec, seed);
-      for (Mode mode : kModes) {
+      for (Mode mode : kAllModes) {
         expect_optimal(g, mode, by_lemon, "zero_negative_" + spec.describe() + "_seed" +
                                               std::to_string(seed));
       }
@@ -172,7 +172,7 @@ TEST(StressShapesLemon, ZeroAndNegativeWeights) {
   // All-negative complete graphs: max-weight takes nothing; the others take the least bad.
   for (std::size_t n = 2; n <= 12; ++n) {
     const Graph g = random_graph({n, 1.0, -50, -1, 0}, n);
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(g, mode, by_enumeration, "all_negative_K" + std::to_string(n));
     }
   }
@@ -212,7 +212,7 @@ TEST(StressShapesLemon, IsolatedVertices) {
     };
     int k = 0;
     for (const Graph& g : shapes) {
-      for (Mode mode : kModes) {
+      for (Mode mode : kAllModes) {
         expect_optimal(g, mode, by_lemon,
                        "isolated_" + std::to_string(k) + "_seed" + std::to_string(seed));
       }

@@ -5,11 +5,11 @@
 #include "checked_solve.h"
 #include "random_graphs.h"
 #include "shapes.h"
+#include "tests/oracles/all_modes.h"
 
 namespace yoke::oracle {
 namespace {
 
-constexpr Mode kModes[] = {Mode::max_weight, Mode::max_cardinality, Mode::perfect};
 
 // An oracle that knows the answer: `pairs` pairs of total `weight`, perfect iff 2 pairs == n.
 Oracle known(std::size_t pairs, Weight weight) {
@@ -26,7 +26,7 @@ Oracle known(std::size_t pairs, Weight weight) {
 // common knowledge: K_n with unit weights has floor(n/2) pairs; a perfect matching iff n even.
 TEST(CommonKnowledge, CompleteGraphHasFloorHalfPairs) {
   for (std::size_t n = 1; n <= 40; ++n) {
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(complete_graph(n, 1), mode, known(n / 2, static_cast<Weight>(n / 2)),
                      "common_knowledge_K" + std::to_string(n));
     }
@@ -37,7 +37,7 @@ TEST(CommonKnowledge, CompleteGraphHasFloorHalfPairs) {
 // no perfect matching; an even cycle has n/2 pairs and a perfect matching.
 TEST(CommonKnowledge, CycleHasFloorHalfPairs) {
   for (std::size_t n = 3; n <= 301; n += n < 40 ? 1 : 38) {
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(cycle_graph(n, 1), mode, known(n / 2, static_cast<Weight>(n / 2)),
                      "common_knowledge_C" + std::to_string(n));
     }
@@ -71,7 +71,7 @@ TEST(CommonKnowledge, StarHasOnePair) {
     std::vector<Weight> weights;
     for (std::size_t i = 0; i < leaves; ++i) weights.push_back(static_cast<Weight>(i * 7 % 23) + 1);
     const Weight best = *std::max_element(weights.begin(), weights.end());
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       // The fallback of perfect mode is also one pair of the heaviest edge.
       expect_optimal(star_graph(weights), mode, known(1, best),
                      "common_knowledge_star" + std::to_string(leaves));
@@ -82,7 +82,7 @@ TEST(CommonKnowledge, StarHasOnePair) {
 // common knowledge: a path on n vertices has floor(n/2) pairs; a perfect matching iff n even.
 TEST(CommonKnowledge, PathHasFloorHalfPairs) {
   for (std::size_t n = 1; n <= 60; ++n) {
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       expect_optimal(path_graph(n, 1), mode, known(n / 2, static_cast<Weight>(n / 2)),
                      "common_knowledge_P" + std::to_string(n));
     }
@@ -93,7 +93,7 @@ TEST(CommonKnowledge, PathHasFloorHalfPairs) {
 TEST(CommonKnowledge, CompleteBipartiteHasMinSidePairs) {
   for (std::size_t a = 1; a <= 12; ++a) {
     for (std::size_t b = a; b <= 12; b += 3) {
-      for (Mode mode : kModes) {
+      for (Mode mode : kAllModes) {
         expect_optimal(complete_bipartite(a, b, 2), mode, known(a, static_cast<Weight>(2 * a)),
                        "common_knowledge_K" + std::to_string(a) + "_" + std::to_string(b));
       }
@@ -108,7 +108,7 @@ TEST(CommonKnowledge, DisjointUnionAddsOptima) {
     const Graph a = random_graph({20 + seed % 9, 0.2, -5, 30, seed % 3}, seed);
     const Graph b = random_graph({15 + seed % 6, 0.3, 1, 4, 0}, seed + 100);
     const Graph both = disjoint_union(a, b);
-    for (Mode mode : kModes) {
+    for (Mode mode : kAllModes) {
       SolveResult ra, rb, rboth;
       ASSERT_TRUE(solve_checked(a, mode, ra));
       ASSERT_TRUE(solve_checked(b, mode, rb));

@@ -51,13 +51,6 @@ Weight largest_weight(const StoredStream& stream) {
   return largest;
 }
 
-void reject_if_invalid(const Pool& pool, std::span<const Event> batch, std::size_t commit) {
-  if (const auto error = pool.check(batch)) {
-    throw std::runtime_error("the pool rejects generated batch " + std::to_string(commit) +
-                             " at event " + std::to_string(error->index) + ": " +
-                             error->message);
-  }
-}
 
 // The export after the last commit: its certificate must hold for the weights the pool
 // optimises, and its matching, bonus taken off, must weigh what the pool reports.

@@ -1,5 +1,8 @@
 #include "tools/bench/stored_stream.h"
 
+#include <stdexcept>
+#include <string>
+
 #include "tools/bench/stopwatch.h"
 
 namespace yoke::bench {
@@ -25,6 +28,14 @@ StoredStream store_stream(const gen::StreamSpec& spec) {
   }
   stored.generate_ms = watch.elapsed_ms();
   return stored;
+}
+
+void reject_if_invalid(const Pool& pool, std::span<const Event> batch, std::size_t commit) {
+  if (const auto error = pool.check(batch)) {
+    throw std::runtime_error("the pool rejects generated batch " + std::to_string(commit) +
+                             " at event " + std::to_string(error->index) + ": " +
+                             error->message);
+  }
 }
 
 }  // namespace yoke::bench

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "engine/events.h"
+#include "engine/pool.h"
 #include "tools/bench/event_tally.h"
 #include "tools/graphgen/event_stream.h"
 
@@ -30,5 +31,9 @@ struct StoredStream {
 
 // Draws every batch of `spec` and classifies its events. Throws what EventStream throws.
 StoredStream store_stream(const gen::StreamSpec& spec);
+
+// Throws, naming the batch (0: the base) and the event, when `pool` would refuse `batch`: a
+// generated stream that the pool refuses is a generator bug, not a measurement.
+void reject_if_invalid(const Pool& pool, std::span<const Event> batch, std::size_t commit);
 
 }  // namespace yoke::bench

@@ -27,13 +27,6 @@ std::vector<std::size_t> sample_points(std::size_t commits, std::size_t k) {
   return points;
 }
 
-void reject_if_invalid(const Pool& pool, std::span<const Event> batch, std::size_t commit) {
-  if (const auto error = pool.check(batch)) {
-    throw std::runtime_error("the pool rejects generated batch " + std::to_string(commit) +
-                             " at event " + std::to_string(error->index) + ": " +
-                             error->message);
-  }
-}
 
 }  // namespace
 

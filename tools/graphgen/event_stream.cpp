@@ -18,7 +18,7 @@ namespace yoke::gen {
 namespace {
 
 // Independent streams from one seed: batch sizes never move the events, keys never move either.
-enum Stream : std::uint64_t { kActions = 11, kBatchSizes, kKeys, kTestSpecs };
+enum EventStreamRng : std::uint64_t { kActions = 11, kBatchSizes, kKeys, kTestSpecs };
 
 using Slot = std::uint32_t;    // the generator's vertex index; one per key, never reused
 using EdgeId = std::uint32_t;  // reused once the edge is gone

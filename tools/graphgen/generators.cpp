@@ -16,7 +16,7 @@ namespace {
 
 // Independent streams drawn from one seed, so that e.g. changing how values are drawn does
 // not move the points.
-enum Stream : std::uint64_t { kPlaces = 1, kPlaces2, kValues, kValues2, kPairs, kWeights };
+enum GraphRng : std::uint64_t { kPlaces = 1, kPlaces2, kValues, kValues2, kPairs, kWeights };
 
 // Shared ride in Vardolune: each rider saves 500..1500 by sharing; arranging a shared ride
 // costs a fixed overhead plus the detour, a quarter point per metre.

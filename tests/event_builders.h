@@ -1,0 +1,14 @@
+// Events spelled as the event script spells them (`add 4`, `set 1 2 50`, ...), for tests that
+// build batches by hand.
+#pragma once
+
+#include "engine/events.h"
+
+namespace yoke {
+
+inline Event add(VertexKey u) { return {EventKind::add_vertex, u, 0, 0}; }
+inline Event set(VertexKey u, VertexKey v, Weight w) { return {EventKind::set_edge, u, v, w}; }
+inline Event unset(VertexKey u, VertexKey v) { return {EventKind::unset_edge, u, v, 0}; }
+inline Event remove(VertexKey u) { return {EventKind::remove_vertex, u, 0, 0}; }
+
+}  // namespace yoke
