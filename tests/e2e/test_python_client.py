@@ -13,8 +13,8 @@ import unittest
 from e2e_harness import (SLOWDOWN, Daemon, check_binaries, gen_stream, networkx_weight,
                          replay_commits, scaled)
 from yoke.v1 import events_pb2
-from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add, pin,
-                         set_edge, unpin, unset_edge)
+from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add,
+                         hold_pair, release_pair, set_edge, unset_edge)
 from yoke_client.events import to_proto
 
 
@@ -168,16 +168,16 @@ class EventTuplesTest(unittest.TestCase):
     """The tuples and their messages, without a daemon: proto/yoke/v1/events.proto is the spec
     (pairs carry v, only SET_EDGE carries w)."""
 
-    def test_pin_and_unpin_tuples_encode_as_pair_events(self):
-        self.assertEqual(pin(4, 9), ("pin", 4, 9))
-        self.assertEqual(unpin(9, 4), ("unpin", 9, 4))
-        self.assertEqual(to_proto(pin(4, 9)),
-                         events_pb2.Event(kind=events_pb2.Event.PIN_PAIR, u=4, v=9))
-        self.assertEqual(to_proto(unpin(9, 4)),
-                         events_pb2.Event(kind=events_pb2.Event.UNPIN_PAIR, u=9, v=4))
-        self.assertEqual(to_proto(("pin", 2**64 - 1, 0)).u, 2**64 - 1)
+    def test_hold_and_release_tuples_encode_as_pair_events(self):
+        self.assertEqual(hold_pair(4, 9), ("hold", 4, 9))
+        self.assertEqual(release_pair(9, 4), ("release", 9, 4))
+        self.assertEqual(to_proto(hold_pair(4, 9)),
+                         events_pb2.Event(kind=events_pb2.Event.HOLD_PAIR, u=4, v=9))
+        self.assertEqual(to_proto(release_pair(9, 4)),
+                         events_pb2.Event(kind=events_pb2.Event.RELEASE_PAIR, u=9, v=4))
+        self.assertEqual(to_proto(("hold", 2**64 - 1, 0)).u, 2**64 - 1)
         with self.assertRaises(ValueError):
-            to_proto(("hold", 1, 2))
+            to_proto(("move", 1, 2))
 
 
 if __name__ == "__main__":
