@@ -1,8 +1,9 @@
 """Events as plain tuples, and their encoding.
 
 An event is ("add", u), ("set", u, v, w), ("unset", u, v), ("remove", u), ("hold", u, v) or
-("release", u, v), the event script's words (DESIGN.md section 6); the helpers below build them.
-A yoke.v1 Event message is accepted as is. Vertex keys are unsigned 64-bit integers; weights
+("release", u, v), the event script's words (DESIGN.md section 6); the helpers below build them,
+one per wire kind (ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, HOLD_PAIR, RELEASE_PAIR). A
+yoke.v1 Event message is accepted as is. Vertex keys are unsigned 64-bit integers; weights
 signed 64-bit.
 """
 
@@ -13,7 +14,7 @@ _KINDS = {"add": events_pb2.Event.ADD_VERTEX, "set": events_pb2.Event.SET_EDGE,
           "hold": events_pb2.Event.HOLD_PAIR, "release": events_pb2.Event.RELEASE_PAIR}
 
 
-def add(u):
+def add_vertex(u):
     """Vertex u arrives with no edges."""
     return ("add", u)
 
@@ -28,7 +29,7 @@ def unset_edge(u, v):
     return ("unset", u, v)
 
 
-def remove(u):
+def remove_vertex(u):
     """Vertex u departs with all its edges."""
     return ("remove", u)
 
