@@ -95,17 +95,17 @@ class BatchChecker::Overlay {
                                                            ", " + text(event.v) + "} to unset"};
         }
         write_edge(edge_key(event.u, event.v), false);
-        if (partner_of(event.u) == event.v) unpin(event.u, event.v);  // the pin goes with its edge
+        if (partner_of(event.u) == event.v) release(event.u, event.v);  // the hold ends with its edge
         return std::nullopt;
-      case EventKind::pin_pair:
-      case EventKind::unpin_pair:
-        return check_pin(event);
+      case EventKind::hold_pair:
+      case EventKind::release_pair:
+        return check_hold(event);
       case EventKind::remove_vertex: {
         if (!exists(event.u)) {
           return Refusal{EventErrorCode::unknown_vertex,
                          "remove names unknown vertex " + text(event.u)};
         }
-        if (const auto partner = partner_of(event.u)) unpin(event.u, *partner);
+        if (const auto partner = partner_of(event.u)) release(event.u, *partner);
         const std::uint32_t generation = this->generation(event.u);
         write_vertex(event.u, {false, generation + 1});  // its edges go with it
         --alive_change_;
@@ -115,9 +115,9 @@ class BatchChecker::Overlay {
     return Refusal{EventErrorCode::unknown_vertex, "unknown event kind"};
   }
 
-  std::optional<Refusal> check_pin(const Event& event) {
-    const bool pin = event.kind == EventKind::pin_pair;
-    const char* verb = pin ? "pin" : "unpin";
+  std::optional<Refusal> check_hold(const Event& event) {
+    const bool hold = event.kind == EventKind::hold_pair;
+    const char* verb = hold ? "hold" : "release";
     if (event.u == event.v) {
       return Refusal{EventErrorCode::self_loop, std::string(verb) + " names vertex " +
                                                     text(event.u) + " twice"};
@@ -131,20 +131,20 @@ class BatchChecker::Overlay {
     std::string pair = text(event.u);  // appended, not '"{" + ...': GCC 12 warns on that
     pair.insert(0, 1, '{');
     pair += ", " + text(event.v) + "}";
-    if (!pin) {
+    if (!hold) {
       if (partner_of(event.u) != event.v) {
-        return Refusal{EventErrorCode::not_pinned, "the pair " + pair + " is not pinned"};
+        return Refusal{EventErrorCode::not_held, "the pair " + pair + " is not held"};
       }
-      unpin(event.u, event.v);
+      release(event.u, event.v);
       return std::nullopt;
     }
     if (!edge_exists(event.u, event.v)) {
-      return Refusal{EventErrorCode::unknown_edge, "there is no edge " + pair + " to pin"};
+      return Refusal{EventErrorCode::unknown_edge, "there is no edge " + pair + " to hold"};
     }
     for (const VertexKey end : {event.u, event.v}) {
       if (const auto partner = partner_of(end)) {
-        return Refusal{EventErrorCode::already_pinned, "vertex " + text(end) +
-                                                           " is pinned to " + text(*partner)};
+        return Refusal{EventErrorCode::already_held, "vertex " + text(end) +
+                                                           " is held with " + text(*partner)};
       }
     }
     write_partner(event.u, event.v);
@@ -154,9 +154,9 @@ class BatchChecker::Overlay {
 
   std::optional<VertexKey> partner_of(VertexKey key) const {
     const auto it = partner_.find(key);
-    return it != partner_.end() ? it->second : pool_.pins.partner(key);
+    return it != partner_.end() ? it->second : pool_.holds.partner(key);
   }
-  void unpin(VertexKey a, VertexKey b) {
+  void release(VertexKey a, VertexKey b) {
     write_partner(a, std::nullopt);
     write_partner(b, std::nullopt);
   }
@@ -183,7 +183,7 @@ class BatchChecker::Overlay {
       }
     }
     if (!edge_exists(event.u, event.v)) {
-      if (pool_.graph.edge_count() + pool_.pins.aside_count() + ++edges_added_ >
+      if (pool_.graph.edge_count() + pool_.holds.aside_count() + ++edges_added_ >
           pool_.limits.max_edges) {
         return Refusal{EventErrorCode::limit_exceeded,
                        "the pool would exceed its limit of " +
@@ -220,7 +220,7 @@ class BatchChecker::Overlay {
     const auto it = edge_override_.find(edge_key(a, b));
     if (it != edge_override_.end()) return it->second;
     if (generation(a) != 0 || generation(b) != 0) return false;  // an end left earlier
-    if (pool_.pins.aside_weight(a, b)) return true;
+    if (pool_.holds.aside_weight(a, b)) return true;
     const Vertex va = pool_.graph.find(a);
     const Vertex vb = pool_.graph.find(b);
     return va != kNoVertex && vb != kNoVertex && pool_.graph.find_edge(va, vb) != kNoEdge;
@@ -272,7 +272,7 @@ class BatchChecker::Overlay {
   std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
   std::vector<Undo<VertexKey, VertexState>> vertex_undo_;  // this batch's writes, in order
   std::vector<Undo<EdgeKey, bool>> edge_undo_;
-  // Pins the batches changed: the partner, or nothing for a vertex no longer pinned.
+  // The holds the batches changed: the partner, or nothing for a vertex no longer held.
   std::unordered_map<VertexKey, std::optional<VertexKey>> partner_;
   std::vector<Undo<VertexKey, std::optional<VertexKey>>> partner_undo_;
   std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far

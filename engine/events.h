@@ -17,11 +17,11 @@ enum class EventKind : std::uint8_t {
   set_edge,       // insert edge {u, v} or change its weight to w; u and v arrive if new
   unset_edge,     // remove edge {u, v} (an error if there is none); u and v stay
   remove_vertex,  // vertex u departs with all its edges (an error if it does not exist)
-  // The pair {u, v} is matched from now on, whatever the weights, until unpin_pair {u, v},
+  // The pair {u, v} is matched from now on, whatever the weights, until release_pair {u, v},
   // unset_edge {u, v} or the departure of u or v (a dispatched courier). The edge {u, v} must
-  // exist and neither end may be pinned already. The rest of the pool is optimised around it.
-  pin_pair,
-  unpin_pair,  // the pair {u, v} is optimised again (an error if it is not pinned)
+  // exist and neither end may be held already. The rest of the pool is optimised around it.
+  hold_pair,
+  release_pair,  // the pair {u, v} is optimised again (an error if it is not held)
 };
 
 struct Event {
@@ -44,8 +44,8 @@ enum class EventErrorCode : std::uint8_t {
   unknown_vertex,       // unset_edge or remove_vertex naming a vertex that is not alive
   unknown_edge,         // unset_edge of an edge that does not exist
   limit_exceeded,       // the pool would hold more vertices or edges than its limits allow
-  already_pinned,       // pin_pair naming a vertex that is pinned
-  not_pinned,           // unpin_pair of a pair that is not pinned
+  already_held,         // hold_pair naming a vertex that is held
+  not_held,             // release_pair of a pair that is not held
 };
 
 // Why an event of a batch was rejected: its position in the batch, what was wrong, and a

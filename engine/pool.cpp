@@ -42,12 +42,12 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   pool.stats = {};
   pool.root_candidates.clear();
   pool.weight_before.clear();
-  pool.pins_touched.clear();
+  pool.holds_touched.clear();
   pool.matching.mate.open_journal();
-  const bool pins_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
-    return e.kind == EventKind::pin_pair || e.kind == EventKind::unpin_pair;
+  const bool holds_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
+    return e.kind == EventKind::hold_pair || e.kind == EventKind::release_pair;
   });
-  if (pool.graph.vertex_count() == 0 && !pins_in_batch) {
+  if (pool.graph.vertex_count() == 0 && !holds_in_batch) {
     // Nothing to repair: the first batch (or one after the pool emptied) is solved from scratch.
     for (const Event& event : batch) load_event(pool, event);
     const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
@@ -70,8 +70,8 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   pool.matching.mate.close_journal();
   pool.graph.release_slots();
   result.commit = ++pool.commits;
-  result.weight = pool.weight + pool.pins.weight();
-  result.pairs = pool.pairs + pool.pins.size();
+  result.weight = pool.weight + pool.holds.weight();
+  result.pairs = pool.pairs + pool.holds.size();
   result.stats = pool.stats;
   if (pool.mode == Mode::perfect && 2 * result.pairs != pool.graph.vertex_count()) {
     result.status = SolveStatus::no_perfect_matching;
@@ -79,17 +79,17 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   return result;
 }
 
-Weight Pool::weight() const { return state_->weight + state_->pins.weight(); }
-std::size_t Pool::pairs() const { return state_->pairs + state_->pins.size(); }
+Weight Pool::weight() const { return state_->weight + state_->holds.weight(); }
+std::size_t Pool::pairs() const { return state_->pairs + state_->holds.size(); }
 std::size_t Pool::vertex_count() const { return state_->graph.vertex_count(); }
 std::size_t Pool::edge_count() const {
-  return state_->graph.edge_count() + state_->pins.aside_count();
+  return state_->graph.edge_count() + state_->holds.aside_count();
 }
 std::uint64_t Pool::commits() const { return state_->commits; }
 bool Pool::has_vertex(VertexKey key) const { return state_->graph.find(key) != kNoVertex; }
 
 std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
-  if (const auto partner = state_->pins.partner(key)) return partner;
+  if (const auto partner = state_->holds.partner(key)) return partner;
   const Vertex v = state_->graph.find(key);
   if (v == kNoVertex) return std::nullopt;
   const Vertex m = state_->matching.mate[v];
@@ -109,7 +109,7 @@ std::vector<MatchedPair> Pool::matching() const {
     const Weight w = pool.own_weight(v, m, pool.graph.find_edge(v, m));
     pairs.push_back({std::min(a, b), std::max(a, b), w});
   }
-  for (const auto& [pair, w] : pool.pins.pairs()) pairs.push_back({pair.first, pair.second, w});
+  for (const auto& [pair, w] : pool.holds.pairs()) pairs.push_back({pair.first, pair.second, w});
   std::sort(pairs.begin(), pairs.end(), [](const MatchedPair& x, const MatchedPair& y) {
     return x.a != y.a ? x.a < y.a : x.b < y.b;
   });
@@ -122,7 +122,7 @@ PoolExport Pool::export_certified() const {
   PoolExport out;
   std::vector<Vertex> dense(capacity, kNoVertex);
   for (Vertex v = 0; v < capacity; ++v) {
-    if (!pool.graph.alive(v) || pool.pins.pinned(pool.graph.key(v))) continue;
+    if (!pool.graph.alive(v) || pool.holds.held(pool.graph.key(v))) continue;
     dense[v] = static_cast<Vertex>(out.keys.size());
     out.keys.push_back(pool.graph.key(v));
   }
@@ -137,7 +137,7 @@ PoolExport Pool::export_certified() const {
   out.graph = Graph::from_edges(n, std::move(edges));
 
   out.matched_bonus = pool.churn_bonus;
-  for (const auto& [pair, w] : pool.pins.pairs()) out.pinned.push_back({pair.first, pair.second, w});
+  for (const auto& [pair, w] : pool.holds.pairs()) out.held.push_back({pair.first, pair.second, w});
 
   Certificate& cert = out.certificate;
   cert.mode = pool.mode;

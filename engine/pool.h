@@ -90,7 +90,7 @@ struct VertexExplanation {
   std::optional<VertexKey> mate;
   Weight pair_weight = 0;   // 0 when unpaired
   Weight pair_bonus = 0;    // the churn bonus the pair carries on top (in the duals and slacks)
-  bool pinned = false;      // a pinned pair: fixed, so no price and no alternatives
+  bool held = false;        // a held pair: fixed, so no price and no alternatives
   Weight dual2 = 0;         // doubled price
   Weight weight_offset = 0;
   std::vector<Alternative> alternatives;  // least slack first, ties by key
@@ -102,15 +102,15 @@ struct VertexExplanation {
 // top of its own weight, so the certificate proves the matching optimal with its standing pairs
 // favoured by that much.
 //
-// Pinned pairs are fixed, not optimised: they are listed in `pinned` and their vertices are
+// Held pairs are fixed, not optimised: they are listed in `held` and their vertices are
 // left out of the graph (the certificate proves the optimum of the rest, which is the optimum
-// of the pool under its pins).
+// of the pool under its holds).
 struct PoolExport {
   Graph graph;
   std::vector<VertexKey> keys;
   Certificate certificate;
   Weight matched_bonus = 0;
-  std::vector<MatchedPair> pinned;  // sorted
+  std::vector<MatchedPair> held;  // sorted
 };
 
 class Pool {

@@ -80,12 +80,12 @@ MatchingDiff collect_diff(PoolState& pool) {
     const auto b = static_cast<Vertex>(pair & 0xffffffffu);
     if (mate.before(a) == b && mate[a] == b) pool.weight += weight_now(a, b) - w;
   }
-  // Pins the batch made or ended: pairs by keys, outside the mate journal.
-  for (const auto& [pair, touch] : pool.pins_touched) {
-    const bool now = pool.pins.is_pair(pair.first, pair.second);
-    if (touch.was_pinned && !now) removed.push_back({{pair.first, pair.second, touch.weight_before}, touch.cause});
-    if (!touch.was_pinned && now) {
-      added.push_back({{pair.first, pair.second, *pool.pins.aside_weight(pair.first, pair.second)}, touch.cause});
+  // The holds the batch made or ended: pairs by keys, outside the mate journal.
+  for (const auto& [pair, touch] : pool.holds_touched) {
+    const bool now = pool.holds.is_pair(pair.first, pair.second);
+    if (touch.was_held && !now) removed.push_back({{pair.first, pair.second, touch.weight_before}, touch.cause});
+    if (!touch.was_held && now) {
+      added.push_back({{pair.first, pair.second, *pool.holds.aside_weight(pair.first, pair.second)}, touch.cause});
     }
   }
   std::sort(removed.begin(), removed.end(), pair_order);

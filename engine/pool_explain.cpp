@@ -10,13 +10,13 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
   const State& pool = *state_;
   const Vertex v = pool.graph.find(key);
   if (v == kNoVertex) return std::nullopt;
-  if (const auto partner = pool.pins.partner(key)) {
-    VertexExplanation pinned;
-    pinned.mate = partner;
-    pinned.pair_weight = *pool.pins.aside_weight(key, *partner);
-    pinned.weight_offset = pool.weight_offset;
-    pinned.pinned = true;
-    return pinned;
+  if (const auto partner = pool.holds.partner(key)) {
+    VertexExplanation held;
+    held.mate = partner;
+    held.pair_weight = *pool.holds.aside_weight(key, *partner);
+    held.weight_offset = pool.weight_offset;
+    held.held = true;
+    return held;
   }
   const BlossomForest& forest = pool.matching.forest;
   const std::vector<Weight>& dual2 = pool.matching.dual2;

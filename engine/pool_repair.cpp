@@ -17,7 +17,7 @@ class EventRepair {
         mate_(pool.matching.mate),
         dual2_(pool.matching.dual2),
         forest_(pool.matching.forest),
-        pins_(pool.pins) {}
+        holds_(pool.holds) {}
 
   void apply(const Event& event) {
     const VertexKey u = event.u;
@@ -27,20 +27,20 @@ class EventRepair {
         ensure_vertex(u);
         break;
       case EventKind::set_edge:
-        if (pins_.pinned(u) || pins_.pinned(v)) {
+        if (holds_.held(u) || holds_.held(v)) {
           ensure_vertex(u);
           ensure_vertex(v);
-          if (pins_.is_pair(u, v)) touch_pin(u, v);
-          pins_.put_aside(u, v, event.w);
+          if (holds_.is_pair(u, v)) touch_hold(u, v);
+          holds_.put_aside(u, v, event.w);
         } else {
           set_edge(ensure_vertex(u), ensure_vertex(v), event.w);
         }
         break;
       case EventKind::unset_edge:
-        if (pins_.is_pair(u, v)) {
-          end_pin(u, v, /*keep_edge=*/false);
-        } else if (pins_.aside_weight(u, v)) {
-          pins_.erase_aside(u, v);
+        if (holds_.is_pair(u, v)) {
+          end_hold(u, v, /*keep_edge=*/false);
+        } else if (holds_.aside_weight(u, v)) {
+          holds_.erase_aside(u, v);
         } else {
           unset_edge(graph_.find(u), graph_.find(v));
         }
@@ -48,11 +48,11 @@ class EventRepair {
       case EventKind::remove_vertex:
         depart(u);
         break;
-      case EventKind::pin_pair:
-        pin(u, v);
+      case EventKind::hold_pair:
+        hold(u, v);
         break;
-      case EventKind::unpin_pair:
-        end_pin(u, v, /*keep_edge=*/true);
+      case EventKind::release_pair:
+        end_hold(u, v, /*keep_edge=*/true);
         break;
     }
   }
@@ -66,59 +66,59 @@ class EventRepair {
   }
 
  private:
-  // Pinning takes both vertices out of the optimisation: their edges go aside, each removed
+  // Holding takes both vertices out of the optimisation: their edges go aside, each removed
   // from the graph as an unset would remove it, so the rest is repaired around them.
-  void pin(VertexKey u, VertexKey v) {
-    touch_pin(u, v);
+  void hold(VertexKey u, VertexKey v) {
+    touch_hold(u, v);
     for (const VertexKey key : {u, v}) {
       const Vertex x = graph_.find(key);
       while (!graph_.graph().incident(x).empty()) {
         const Incidence inc = graph_.graph().incident(x).back();
-        pins_.put_aside(key, graph_.key(inc.other), pool_.own_weight(x, inc.other, inc.edge));
+        holds_.put_aside(key, graph_.key(inc.other), pool_.own_weight(x, inc.other, inc.edge));
         unset_edge(x, inc.other);
       }
     }
-    pins_.pin(u, v);
+    holds_.hold(u, v);
   }
 
   // The pair goes back to the optimisation: every edge aside at either end whose other end is
-  // not pinned returns to the graph, in key order.
-  void end_pin(VertexKey u, VertexKey v, bool keep_edge) {
-    touch_pin(u, v);
-    pins_.unpin(u, v);
-    if (!keep_edge) pins_.erase_aside(u, v);
-    release(u);
-    release(v);
+  // not held returns to the graph, in key order.
+  void end_hold(VertexKey u, VertexKey v, bool keep_edge) {
+    touch_hold(u, v);
+    holds_.release(u, v);
+    if (!keep_edge) holds_.erase_aside(u, v);
+    return_aside(u);
+    return_aside(v);
   }
 
-  // A departure ends its vertex's pin: the edges aside at it leave with it, and its partner's
-  // go back to the graph (not through end_pin, which would put the departing vertex's edges
+  // A departure ends its vertex's hold: the edges aside at it leave with it, and its partner's
+  // go back to the graph (not through end_hold, which would put the departing vertex's edges
   // back only for remove_vertex to take them out again).
   void depart(VertexKey u) {
-    const auto partner = pins_.partner(u);
+    const auto partner = holds_.partner(u);
     if (partner) {
-      touch_pin(u, *partner);
-      pins_.unpin(u, *partner);
+      touch_hold(u, *partner);
+      holds_.release(u, *partner);
     }
-    for (const VertexKey other : pins_.aside_at(u)) pins_.erase_aside(u, other);
-    if (partner) release(*partner);
+    for (const VertexKey other : holds_.aside_at(u)) holds_.erase_aside(u, other);
+    if (partner) return_aside(*partner);
     remove_vertex(graph_.find(u));
   }
 
-  void release(VertexKey key) {
-    for (const VertexKey other : pins_.aside_at(key)) {
-      if (pins_.pinned(other)) continue;
-      const Weight w = *pins_.aside_weight(key, other);
-      pins_.erase_aside(key, other);
+  void return_aside(VertexKey key) {
+    for (const VertexKey other : holds_.aside_at(key)) {
+      if (holds_.held(other)) continue;
+      const Weight w = *holds_.aside_weight(key, other);
+      holds_.erase_aside(key, other);
       set_edge(graph_.find(key), graph_.find(other), w);
     }
   }
 
-  void touch_pin(VertexKey u, VertexKey v) {
-    const PinnedPairs::KeyPair pair = PinnedPairs::ordered(u, v);
-    const bool was = pins_.is_pair(u, v);
-    const Weight w = was ? *pins_.aside_weight(u, v) : 0;
-    auto [it, inserted] = pool_.pins_touched.try_emplace(pair, PoolState::PinTouch{was, w, 0});
+  void touch_hold(VertexKey u, VertexKey v) {
+    const HeldPairs::KeyPair pair = HeldPairs::ordered(u, v);
+    const bool was = holds_.is_pair(u, v);
+    const Weight w = was ? *holds_.aside_weight(u, v) : 0;
+    auto [it, inserted] = pool_.holds_touched.try_emplace(pair, PoolState::HoldTouch{was, w, 0});
     it->second.cause = pool_.current_cause;
   }
 
@@ -175,7 +175,7 @@ class EventRepair {
   //
   // A matched edge {a, b} has gained `excess` slack: lower the duals of its ends by that much,
   // when their other edges have room. Both must be plain top-level vertices (a blossom's cycle
-  // edges pin its vertices' duals).
+  // edges fix its vertices' duals).
   bool lower_ends(Vertex a, Vertex b, Weight excess) {
     const Weight room_a = room(a, b);
     if (room_a >= excess) {
@@ -345,7 +345,7 @@ class EventRepair {
   Mates& mate_;
   std::vector<Weight>& dual2_;
   BlossomForest& forest_;
-  PinnedPairs& pins_;
+  HeldPairs& holds_;
   std::vector<Vertex> bases_;
 };
 
@@ -383,9 +383,9 @@ void load_event(PoolState& pool, const Event& event) {
       while (!graph.graph().incident(v).empty()) graph.remove_edge(graph.graph().incident(v).back().edge);
       graph.remove_vertex(v);
       break;
-    }    case EventKind::pin_pair:
-    case EventKind::unpin_pair:
-      break;  // never here: Pool::commit repairs batches with pins event by event
+    }    case EventKind::hold_pair:
+    case EventKind::release_pair:
+      break;  // never here: Pool::commit repairs batches with holds event by event
   }
   ++pool.stats.events;
 }

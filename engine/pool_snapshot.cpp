@@ -9,7 +9,7 @@ namespace yoke {
 namespace {
 
 constexpr std::uint64_t kMagic = 0x4c4f4f50454b4f59;  // "YOKEPOOL"
-// 2 added the churn bonus, 3 the pinned pairs; older versions are read as none of either.
+// 2 added the churn bonus, 3 the held pairs; older versions are read as none of either.
 constexpr std::uint32_t kVersion = 3;
 
 void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2) {
@@ -52,15 +52,15 @@ void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weig
   }
 }
 
-// Pinned vertices are alive with no edges in the graph; edges aside join alive vertices.
-void check_pins(const PoolGraph& graph, const PinnedPairs& pins) {
-  for (const auto& [pair, w] : pins.pairs()) {
+// Held vertices are alive with no edges in the graph; edges aside join alive vertices.
+void check_holds(const PoolGraph& graph, const HeldPairs& holds) {
+  for (const auto& [pair, w] : holds.pairs()) {
     for (const VertexKey key : {pair.first, pair.second}) {
       const Vertex v = graph.find(key);
       if (v == kNoVertex || !graph.graph().incident(v).empty()) {
-        ByteReader::fail("pinned vertex " + std::to_string(key) + " is not alive or has edges");
+        ByteReader::fail("held vertex " + std::to_string(key) + " is not alive or has edges");
       }
-      for (const VertexKey other : pins.aside_at(key)) {
+      for (const VertexKey other : holds.aside_at(key)) {
         if (graph.find(other) == kNoVertex) ByteReader::fail("an edge aside ends at no vertex");
       }
     }
@@ -88,7 +88,7 @@ std::string Pool::save() const {
   out.put_vector(pool.matching.mate.values());
   out.put_vector(pool.matching.dual2);
   pool.matching.forest.save(out);
-  pool.pins.save(out);
+  pool.holds.save(out);
   return out.take();
 }
 
@@ -122,9 +122,9 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   pool.matching.forest = BlossomForest::load(in);
   if (pool.matching.forest.vertex_count() != n) ByteReader::fail("the forest has the wrong size");
   if (version >= 3) {
-    pool.pins = PinnedPairs::load(in);
-    check_pins(pool.graph, pool.pins);
-    if (!pool.pins.weights_within(pool.limits.max_abs_weight)) {
+    pool.holds = HeldPairs::load(in);
+    check_holds(pool.graph, pool.holds);
+    if (!pool.holds.weights_within(pool.limits.max_abs_weight)) {
       ByteReader::fail("an edge aside has a weight beyond the pool's bound");
     }
   }

@@ -10,7 +10,7 @@
 
 #include "alternating_search.h"
 #include "matching_state.h"
-#include "pinned_pairs.h"
+#include "held_pairs.h"
 #include "pool.h"
 #include "pool_graph.h"
 
@@ -49,7 +49,7 @@ struct PoolState {
   // The pairs whose edges carry the churn bonus in the graph: the matching before the batch
   // during a commit, the matching itself between commits. Empty when churn_bonus is 0.
   std::vector<Vertex> bonus_mate;
-  PinnedPairs pins;  // pairs fixed by pin_pair, outside the optimisation
+  HeldPairs holds;  // pairs fixed by hold_pair, outside the optimisation
   std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
   std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
   std::uint32_t node_stamp = 0;
@@ -68,13 +68,13 @@ struct PoolState {
   // Edges matched before the batch whose weight the batch changed or that it removed: their
   // weight before the batch, by pair of slots (the diff reports it, the objective needs it).
   std::unordered_map<std::uint64_t, Weight> weight_before;
-  // Pinned pairs the batch pinned, unpinned or re-weighed: how they were before it.
-  struct PinTouch {
-    bool was_pinned;
+  // Held pairs the batch held, released or re-weighed: how they were before it.
+  struct HoldTouch {
+    bool was_held;
     Weight weight_before;
     EventCause cause;  // the last event that touched the pair
   };
-  std::map<PinnedPairs::KeyPair, PinTouch> pins_touched;
+  std::map<HeldPairs::KeyPair, HoldTouch> holds_touched;
   RepairStats stats;
 };
 

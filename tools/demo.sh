@@ -153,17 +153,17 @@ lead = result["pools"][0]
 if (weight, pairs, seq) != (summary["weight"], summary["pairs"], summary["seq"]) or \
         (weight, pairs, seq) != (lead["weight"], lead["pairs"], lead["seq"]):
     sys.exit(f"demo: the replay ends at {last}; the daemon said {summary}, the simulator {lead}")
-violations = {p["name"]: p["pin_violations"] for p in result["pools"] if p.get("pin_violations")}
+violations = {p["name"]: p["hold_violations"] for p in result["pools"] if p.get("hold_violations")}
 if violations:
-    sys.exit(f"demo: pinned pairs were broken while pinned: {violations}")
+    sys.exit(f"demo: held pairs were broken while held: {violations}")
 for line in lines:
     if not line.startswith("commit "):
         print("  " + line)
 print(f"  {len(commits)} commits replayed, each certificate held; the last one is the daemon's"
       f" and the simulator's: seq {seq}, weight {weight}, pairs {pairs}")
-if "pinned_total" in result:
-    print(f"  {result['pinned_total']} dispatched pairs pinned while their couriers travelled"
-          f" ({result['pinned_now']} still pinned), none broken in either pool")
+if "held_total" in result:
+    print(f"  {result['held_total']} dispatched pairs held while their couriers travelled"
+          f" ({result['held_now']} still held), none broken in either pool")
 print()
 print("Look further (the pairs are advisory: local working-time, safety and labour rules decide):")
 print(f"  {yoke} replay {data} --pool quillory --report quillory-report.html"

@@ -41,7 +41,7 @@ void SegmentWriter::flush() {
   write_all(file_, buffer_, path_);
   written_ += buffer_.size();
   buffer_.clear();
-  // One huge record should not pin its buffer for the life of the segment.
+  // One huge record should not keep its buffer for the life of the segment.
   if (buffer_.capacity() > 4 * kFlushBufferBytes) buffer_.shrink_to_fit();
 }
 

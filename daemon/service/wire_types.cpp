@@ -79,12 +79,12 @@ v1::Event to_wire(const Event& event) {
     case EventKind::set_edge: wire.set_kind(v1::Event::SET_EDGE); break;
     case EventKind::unset_edge: wire.set_kind(v1::Event::UNSET_EDGE); break;
     case EventKind::remove_vertex: wire.set_kind(v1::Event::REMOVE_VERTEX); break;
-    case EventKind::pin_pair: wire.set_kind(v1::Event::PIN_PAIR); break;
-    case EventKind::unpin_pair: wire.set_kind(v1::Event::UNPIN_PAIR); break;
+    case EventKind::hold_pair: wire.set_kind(v1::Event::HOLD_PAIR); break;
+    case EventKind::release_pair: wire.set_kind(v1::Event::RELEASE_PAIR); break;
   }
   wire.set_u(event.u);
   if (event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
-      event.kind == EventKind::pin_pair || event.kind == EventKind::unpin_pair) {
+      event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair) {
     wire.set_v(event.v);
   }
   if (event.kind == EventKind::set_edge) wire.set_w(event.w);
@@ -119,8 +119,8 @@ v1::Error::Code to_wire(EventErrorCode code) {
     case EventErrorCode::unknown_vertex: return v1::Error::UNKNOWN_VERTEX;
     case EventErrorCode::unknown_edge: return v1::Error::UNKNOWN_EDGE;
     case EventErrorCode::limit_exceeded: return v1::Error::POOL_LIMIT_EXCEEDED;
-    case EventErrorCode::already_pinned: return v1::Error::ALREADY_PINNED;
-    case EventErrorCode::not_pinned: return v1::Error::NOT_PINNED;
+    case EventErrorCode::already_held: return v1::Error::ALREADY_HELD;
+    case EventErrorCode::not_held: return v1::Error::NOT_HELD;
   }
   return v1::Error::INTERNAL;
 }

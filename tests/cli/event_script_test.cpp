@@ -51,29 +51,29 @@ TEST(EventScript, ParsesEveryVerbIntoOneBatch) {
   EXPECT_EQ(script.event_count, 4u);
 }
 
-TEST(EventScript, ParsesPinAndUnpin) {
+TEST(EventScript, ParsesHoldAndRelease) {
   // A courier held to one order across commits, then released: the pair is named in either
   // order, and neither line carries a weight.
   const EventScript script = parse_event_script(
       "set 3 9 40\n"
-      "pin 3 9\n"
+      "hold 3 9\n"
       "commit\n"
-      "unpin 9 3\t# the order left the terminal\n"
+      "release 9 3\t# the order left the terminal\n"
       "commit\n");
   ASSERT_EQ(script.batches.size(), 2u);
   ASSERT_EQ(script.batches[0].events.size(), 2u);
-  expect_event(script.batches[0].events[1], EventKind::pin_pair, 3, 9, 0);
+  expect_event(script.batches[0].events[1], EventKind::hold_pair, 3, 9, 0);
   EXPECT_EQ(script.batches[0].lines, (std::vector<std::size_t>{1, 2}));
   ASSERT_EQ(script.batches[1].events.size(), 1u);
-  expect_event(script.batches[1].events[0], EventKind::unpin_pair, 9, 3, 0);
+  expect_event(script.batches[1].events[0], EventKind::release_pair, 9, 3, 0);
   EXPECT_EQ(script.batches[1].lines, (std::vector<std::size_t>{4}));
   EXPECT_EQ(script.event_count, 3u);
   EXPECT_EQ(script.distinct_vertices, 2u);
   EXPECT_EQ(script.largest_abs_weight, 40u);
 
-  // Pins of ids no other line mentions still count for the pre-scan (the pool refuses them,
+  // Holds of ids no other line mentions still count for the pre-scan (the pool refuses them,
   // not the parser).
-  const EventScript unknown = parse_event_script("pin 1 2\nunpin 3 4\n");
+  const EventScript unknown = parse_event_script("hold 1 2\nrelease 3 4\n");
   EXPECT_EQ(unknown.distinct_vertices, 4u);
   EXPECT_EQ(unknown.largest_abs_weight, 0u);
 }
@@ -174,9 +174,9 @@ TEST(EventScript, RejectsUnknownVerbs) {
   const EventScriptError error = error_of("add 1\n\nmove 1 2\n");
   EXPECT_EQ(error.line(), 3u);
   EXPECT_EQ(error.problem(),
-            "unknown verb 'move' (expected add, set, unset, remove, pin, unpin or commit)");
+            "unknown verb 'move' (expected add, set, unset, remove, hold, release or commit)");
   EXPECT_EQ(error_of("SET 1 2 3\n").problem(),
-            "unknown verb 'SET' (expected add, set, unset, remove, pin, unpin or commit)");
+            "unknown verb 'SET' (expected add, set, unset, remove, hold, release or commit)");
   EXPECT_EQ(error_of("1 2 3\n").line(), 1u) << "an edge-list line is not an event";
 }
 
@@ -190,11 +190,13 @@ TEST(EventScript, RejectsWrongFieldCountsForEachVerb) {
   EXPECT_EQ(error_of("unset 1 2 3\n").problem(),
             "'unset U V' takes 2 fields after the verb, found 3");
   EXPECT_EQ(error_of("remove\n").problem(), "'remove U' takes 1 field after the verb, found 0");
-  EXPECT_EQ(error_of("pin 1\n").problem(), "'pin U V' takes 2 fields after the verb, found 1");
-  EXPECT_EQ(error_of("pin 1 2 3\n").problem(), "'pin U V' takes 2 fields after the verb, found 3");
-  EXPECT_EQ(error_of("unpin\n").problem(), "'unpin U V' takes 2 fields after the verb, found 0");
-  EXPECT_EQ(error_of("unpin 1 2 3\n").problem(),
-            "'unpin U V' takes 2 fields after the verb, found 3");
+  EXPECT_EQ(error_of("hold 1\n").problem(), "'hold U V' takes 2 fields after the verb, found 1");
+  EXPECT_EQ(error_of("hold 1 2 3\n").problem(),
+            "'hold U V' takes 2 fields after the verb, found 3");
+  EXPECT_EQ(error_of("release\n").problem(),
+            "'release U V' takes 2 fields after the verb, found 0");
+  EXPECT_EQ(error_of("release 1 2 3\n").problem(),
+            "'release U V' takes 2 fields after the verb, found 3");
   EXPECT_EQ(error_of("commit now\n").problem(),
             "'commit' takes 0 fields after the verb, found 1");
   // The trailing comment does not count as fields.
@@ -214,9 +216,9 @@ TEST(EventScript, RejectsNonNumericIds) {
   EXPECT_EQ(error_of("unset 1.5 2\n").problem(), "vertex id '1.5' is not a non-negative integer");
   EXPECT_EQ(error_of("add 0x10\n").problem(), "vertex id '0x10' is not a non-negative integer");
   EXPECT_EQ(error_of("add +3\n").problem(), "vertex id '+3' is not a non-negative integer");
-  EXPECT_EQ(error_of("pin 1 x\n").problem(), "vertex id 'x' is not a non-negative integer");
-  EXPECT_EQ(error_of("unpin -1 2\n").problem(), "vertex id '-1' is not a non-negative integer");
-  EXPECT_EQ(error_of("pin 18446744073709551616 1\n").problem(),
+  EXPECT_EQ(error_of("hold 1 x\n").problem(), "vertex id 'x' is not a non-negative integer");
+  EXPECT_EQ(error_of("release -1 2\n").problem(), "vertex id '-1' is not a non-negative integer");
+  EXPECT_EQ(error_of("hold 18446744073709551616 1\n").problem(),
             "vertex id '18446744073709551616' is out of range (0 .. 18446744073709551615)");
 }
 
@@ -247,11 +249,11 @@ TEST(EventScript, RejectsSelfLoops) {
   EXPECT_EQ(loop.problem(), "self loop on vertex 5");
   // No edge {5,5} can ever exist, so unsetting one is as malformed.
   EXPECT_EQ(error_of("unset 5 5\n").problem(), "self loop on vertex 5");
-  // Nor can a vertex be pinned to itself.
-  const EventScriptError pin = error_of("set 1 2 3\npin 6 6\n");
-  EXPECT_EQ(pin.line(), 2u);
-  EXPECT_EQ(pin.problem(), "self loop on vertex 6");
-  EXPECT_EQ(error_of("unpin 6 6\n").problem(), "self loop on vertex 6");
+  // Nor can a vertex be held with itself.
+  const EventScriptError hold = error_of("set 1 2 3\nhold 6 6\n");
+  EXPECT_EQ(hold.line(), 2u);
+  EXPECT_EQ(hold.problem(), "self loop on vertex 6");
+  EXPECT_EQ(error_of("release 6 6\n").problem(), "self loop on vertex 6");
 }
 
 TEST(EventScript, ReportsTheFirstBadLine) {
@@ -272,7 +274,7 @@ TEST(EventScript, ArbitraryTextIsParsedOrRejectedWithALine) {
   // line always inside the text, and every parsed line number inside it too.
   std::mt19937 random(11);
   const std::vector<std::string> pieces = {
-      "add ", "set ", "unset ", "remove ", "pin ", "unpin ", "commit", "1", "2",
+      "add ", "set ", "unset ", "remove ", "hold ", "release ", "commit", "1", "2",
       " ",    "\t",   "\n",     "\n",      "#",    "-",      "x",      "\r"};
   for (int round = 0; round < 2000; ++round) {
     std::string text;

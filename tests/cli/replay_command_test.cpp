@@ -291,7 +291,7 @@ TEST(ReplayCommand, MalformedScriptIsRejectedBeforeAnyCommit) {
   EXPECT_EQ(run.exit_code, 2);
   EXPECT_EQ(run.out, "");
   EXPECT_EQ(run.err, "error: " + dir.file("shift.events") +
-                         ":3: unknown verb 'sett' (expected add, set, unset, remove, pin, unpin or commit)\n");
+                         ":3: unknown verb 'sett' (expected add, set, unset, remove, hold, release or commit)\n");
 
   const RunResult loop = replay(dir, "set 5 5 1\n");
   EXPECT_EQ(loop.exit_code, 2);

@@ -190,8 +190,8 @@ TEST(VertexHistory, EventWords) {
   EXPECT_EQ(event_text(set(12, 40, -3)), "set 12 40 -3");
   EXPECT_EQ(event_text(Event{EventKind::unset_edge, 12, 40, 0}), "unset 12 40");
   EXPECT_EQ(event_text(remove(12)), "remove 12");
-  EXPECT_EQ(event_text(Event{EventKind::pin_pair, 40, 12, 0}), "pin 40 12");
-  EXPECT_EQ(event_text(Event{EventKind::unpin_pair, 12, 40, 0}), "unpin 12 40");
+  EXPECT_EQ(event_text(Event{EventKind::hold_pair, 40, 12, 0}), "hold 40 12");
+  EXPECT_EQ(event_text(Event{EventKind::release_pair, 12, 40, 0}), "release 12 40");
 }
 
 // The built binary: `--vertex` and `--explain` on a script, with `--until` picking the commit.

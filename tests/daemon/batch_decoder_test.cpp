@@ -21,10 +21,10 @@ using testing::BatchHeader;
 using testing::ingest_message;
 using testing::make_batch;
 using testing::wire_add;
-using testing::wire_pin;
+using testing::wire_hold;
 using testing::wire_remove;
 using testing::wire_set;
-using testing::wire_unpin;
+using testing::wire_release;
 using testing::wire_unset;
 
 InputLimits small_limits() {
@@ -79,31 +79,31 @@ TEST(BatchDecoder, GoodBatchMapsEveryKind) {
   EXPECT_EQ(decoded.wire.SerializeAsString(), batch.SerializeAsString());
 }
 
-TEST(BatchDecoder, PinAndUnpinCarryBothEnds) {
-  // events.proto: PIN_PAIR and UNPIN_PAIR name the pair {u, v}; the decoder checks form only
-  // (whether the edge exists or an end is pinned is the pool's check).
+TEST(BatchDecoder, HoldAndReleaseCarryBothEnds) {
+  // events.proto: HOLD_PAIR and RELEASE_PAIR name the pair {u, v}; the decoder checks form only
+  // (whether the edge exists or an end is held is the pool's check).
   const VertexKey big = ~VertexKey{0};
   const DecodeResult result = decode_ingest(
-      ingest_message({wire_set(4, 9, 2), wire_pin(4, 9), wire_unpin(9, 4), wire_pin(big, 0)},
+      ingest_message({wire_set(4, 9, 2), wire_hold(4, 9), wire_release(9, 4), wire_hold(big, 0)},
                      kHeader),
       small_limits());
   ASSERT_TRUE(std::holds_alternative<DecodedBatch>(result));
   const DecodedBatch& decoded = std::get<DecodedBatch>(result);
   ASSERT_EQ(decoded.events.size(), 4u);
-  EXPECT_EQ(decoded.events[1].kind, EventKind::pin_pair);
+  EXPECT_EQ(decoded.events[1].kind, EventKind::hold_pair);
   EXPECT_EQ(decoded.events[1].u, 4u);
   EXPECT_EQ(decoded.events[1].v, 9u);
   EXPECT_EQ(decoded.events[1].w, 0);
-  EXPECT_EQ(decoded.events[2].kind, EventKind::unpin_pair);
+  EXPECT_EQ(decoded.events[2].kind, EventKind::release_pair);
   EXPECT_EQ(decoded.events[2].u, 9u);
   EXPECT_EQ(decoded.events[2].v, 4u);
-  EXPECT_EQ(decoded.events[3].kind, EventKind::pin_pair);
+  EXPECT_EQ(decoded.events[3].kind, EventKind::hold_pair);
   EXPECT_EQ(decoded.events[3].u, big);
   EXPECT_EQ(decoded.events[3].v, 0u);
   // u == v is the pool's SELF_LOOP, as for UNSET_EDGE: the decoder passes it on.
-  const auto loop = decode_event(wire_pin(6, 6), 0);
+  const auto loop = decode_event(wire_hold(6, 6), 0);
   ASSERT_TRUE(std::holds_alternative<Event>(loop));
-  EXPECT_EQ(std::get<Event>(loop).kind, EventKind::pin_pair);
+  EXPECT_EQ(std::get<Event>(loop).kind, EventKind::hold_pair);
 }
 
 TEST(BatchDecoder, FullRangeKeysAndWeightsSurvive) {
@@ -187,13 +187,13 @@ TEST(BatchDecoder, FieldsAnEventKindDoesNotHaveAreMalformed) {
   remove_with_v.set_v(9);
   v1::Event unset_with_w = wire_unset(1, 2);
   unset_with_w.set_w(-4);
-  // events.proto: w is SET_EDGE's only; a pin has no weight to set.
-  v1::Event pin_with_w = wire_pin(1, 2);
-  pin_with_w.set_w(7);
-  v1::Event unpin_with_w = wire_unpin(1, 2);
-  unpin_with_w.set_w(-1);
+  // events.proto: w is SET_EDGE's only; a hold has no weight to set.
+  v1::Event hold_with_w = wire_hold(1, 2);
+  hold_with_w.set_w(7);
+  v1::Event release_with_w = wire_release(1, 2);
+  release_with_w.set_w(-1);
   for (const v1::Event& bad :
-       {add_with_v, add_with_w, remove_with_v, unset_with_w, pin_with_w, unpin_with_w}) {
+       {add_with_v, add_with_w, remove_with_v, unset_with_w, hold_with_w, release_with_w}) {
     const DecodeResult result =
         decode_ingest(ingest_message({wire_set(1, 2, 1), bad}, kHeader), small_limits());
     const v1::Error error = refusal_error(result);
@@ -400,8 +400,8 @@ TEST(WireTypes, PairsStatsAndErrors) {
   EXPECT_EQ(to_wire(EventErrorCode::unknown_vertex), v1::Error::UNKNOWN_VERTEX);
   EXPECT_EQ(to_wire(EventErrorCode::unknown_edge), v1::Error::UNKNOWN_EDGE);
   EXPECT_EQ(to_wire(EventErrorCode::limit_exceeded), v1::Error::POOL_LIMIT_EXCEEDED);
-  EXPECT_EQ(to_wire(EventErrorCode::already_pinned), v1::Error::ALREADY_PINNED);
-  EXPECT_EQ(to_wire(EventErrorCode::not_pinned), v1::Error::NOT_PINNED);
+  EXPECT_EQ(to_wire(EventErrorCode::already_held), v1::Error::ALREADY_HELD);
+  EXPECT_EQ(to_wire(EventErrorCode::not_held), v1::Error::NOT_HELD);
 
   const v1::Error with_index = make_error(v1::Error::SELF_LOOP, "loop", 0);
   EXPECT_TRUE(with_index.has_event_index());
@@ -409,8 +409,8 @@ TEST(WireTypes, PairsStatsAndErrors) {
   EXPECT_FALSE(make_error(v1::Error::INTERNAL, "x").has_event_index());
   EXPECT_EQ(error_code_name(v1::Error::WEIGHT_OUT_OF_RANGE), "WEIGHT_OUT_OF_RANGE");
   EXPECT_EQ(error_code_name(v1::Error::OUT_OF_ORDER), "OUT_OF_ORDER");
-  EXPECT_EQ(error_code_name(v1::Error::ALREADY_PINNED), "ALREADY_PINNED");
-  EXPECT_EQ(error_code_name(v1::Error::NOT_PINNED), "NOT_PINNED");
+  EXPECT_EQ(error_code_name(v1::Error::ALREADY_HELD), "ALREADY_HELD");
+  EXPECT_EQ(error_code_name(v1::Error::NOT_HELD), "NOT_HELD");
 }
 
 TEST(WireTypes, EveryEventKindRoundTrips) {
@@ -419,10 +419,10 @@ TEST(WireTypes, EveryEventKindRoundTrips) {
   const std::vector<Event> events = {
       {EventKind::add_vertex, 5, 0, 0},    {EventKind::set_edge, 5, 6, -8},
       {EventKind::unset_edge, 6, 5, 0},    {EventKind::remove_vertex, 5, 0, 0},
-      {EventKind::pin_pair, 11, 12, 0},    {EventKind::unpin_pair, 12, 11, 0}};
+      {EventKind::hold_pair, 11, 12, 0},    {EventKind::release_pair, 12, 11, 0}};
   const std::vector<v1::Event::Kind> kinds = {v1::Event::ADD_VERTEX,    v1::Event::SET_EDGE,
                                               v1::Event::UNSET_EDGE,    v1::Event::REMOVE_VERTEX,
-                                              v1::Event::PIN_PAIR,      v1::Event::UNPIN_PAIR};
+                                              v1::Event::HOLD_PAIR,      v1::Event::RELEASE_PAIR};
   for (std::size_t i = 0; i < events.size(); ++i) {
     const v1::Event wire = to_wire(events[i]);
     EXPECT_EQ(wire.kind(), kinds[i]) << i;

@@ -53,17 +53,17 @@ v1::Event wire_remove(VertexKey u) {
   return event;
 }
 
-v1::Event wire_pin(VertexKey u, VertexKey v) {
+v1::Event wire_hold(VertexKey u, VertexKey v) {
   v1::Event event;
-  event.set_kind(v1::Event::PIN_PAIR);
+  event.set_kind(v1::Event::HOLD_PAIR);
   event.set_u(u);
   event.set_v(v);
   return event;
 }
 
-v1::Event wire_unpin(VertexKey u, VertexKey v) {
+v1::Event wire_release(VertexKey u, VertexKey v) {
   v1::Event event;
-  event.set_kind(v1::Event::UNPIN_PAIR);
+  event.set_kind(v1::Event::RELEASE_PAIR);
   event.set_u(u);
   event.set_v(v);
   return event;

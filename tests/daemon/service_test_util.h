@@ -36,8 +36,8 @@ v1::Event wire_add(VertexKey u);
 v1::Event wire_set(VertexKey u, VertexKey v, Weight w);
 v1::Event wire_unset(VertexKey u, VertexKey v);
 v1::Event wire_remove(VertexKey u);
-v1::Event wire_pin(VertexKey u, VertexKey v);
-v1::Event wire_unpin(VertexKey u, VertexKey v);
+v1::Event wire_hold(VertexKey u, VertexKey v);
+v1::Event wire_release(VertexKey u, VertexKey v);
 
 // The EventBatch fields around the events.
 struct BatchHeader {

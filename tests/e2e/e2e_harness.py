@@ -123,7 +123,7 @@ def ask(endpoint, kind, pool="", timeout_ms=2000, **fields):
 def make_event(kind, u, v=0, w=0):
     kinds = {"add": events_pb2.Event.ADD_VERTEX, "set": events_pb2.Event.SET_EDGE,
              "unset": events_pb2.Event.UNSET_EDGE, "remove": events_pb2.Event.REMOVE_VERTEX,
-             "pin": events_pb2.Event.PIN_PAIR, "unpin": events_pb2.Event.UNPIN_PAIR}
+             "hold": events_pb2.Event.HOLD_PAIR, "release": events_pb2.Event.RELEASE_PAIR}
     return events_pb2.Event(kind=kinds[kind], u=u, v=v, w=w)
 
 
@@ -560,14 +560,14 @@ class Script:
         for batch in self.batches:
             for _, kind, u, v, w in batch:
                 lines.append({"add": f"add {u}", "remove": f"remove {u}", "unset": f"unset {u} {v}",
-                              "set": f"set {u} {v} {w}", "pin": f"pin {u} {v}",
-                              "unpin": f"unpin {u} {v}"}[kind])
+                              "set": f"set {u} {v} {w}", "hold": f"hold {u} {v}",
+                              "release": f"release {u} {v}"}[kind])
             lines.append("commit")
         return "\n".join(lines) + "\n"
 
     def shifted(self, offset):
         """The same stream on vertex ids + offset."""
-        pairs = ("set", "unset", "pin", "unpin")
+        pairs = ("set", "unset", "hold", "release")
         return Script([[(n, k, u + offset, v + offset if k in pairs else 0, w)
                         for n, k, u, v, w in batch] for batch in self.batches])
 
@@ -595,8 +595,8 @@ class Script:
                     graph.remove_edge(u, v)
                 elif kind == "remove":
                     graph.remove_node(u)
-                elif kind in ("pin", "unpin"):
-                    pass  # the graph stays; a pinned pair is the matching's business
+                elif kind in ("hold", "release"):
+                    pass  # the graph stays; a held pair is the matching's business
                 else:
                     raise AssertionError(f"unknown event kind {kind}")
         return graph

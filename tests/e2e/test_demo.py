@@ -3,10 +3,10 @@
 The simulator runs as its own process, output piped (so in its plain line-per-update form), on
 the harness daemon's endpoints. Checks: it exits 0; its final numbers (seq, weight, pairs per
 pool; vertices and edges of its own model of the pool) are the daemon's (`summary` query); the
-journal of the lead pool replays, every certificate checked (`yoke replay DATA --pool quillory
---verify`) and ends at the same state; dispatched pairs are pinned while the courier travels
-(pins happen, and no diff of either pool ever removes a pinned pair, nor is one missing from the
-matching after a batch: 0 pin violations); the same seed and tick count give the same run;
+journal of the lead pool replays with every certificate checked (`yoke replay DATA --pool quillory
+--verify`) and ends at the same state; dispatched pairs are held while the courier travels
+(holds happen, and no diff of either pool ever removes a held pair, nor is one missing from the
+matching after a batch: 0 hold violations); the same seed and tick count give the same run;
 SIGINT ends a run cleanly with the final summary. The lead pool is declared with a churn bonus
 when the daemon accepts the key (the check that the shadow pool, plain maximum weight on the
 same graph, weighs at least as much holds either way)."""
@@ -84,9 +84,9 @@ class DemoTest(unittest.TestCase):
                              (result["couriers"] + result["orders"], result["edges"]),
                              mine["name"])
             self.assertEqual(mine["seq"], result["tick"])
-            self.assertEqual(mine["pin_violations"], 0, mine["name"])
-        # Pinned pairs are matched in both pools, so neither holds fewer pairs than are pinned.
-        self.assertGreaterEqual(min(lead["pairs"], shadow["pairs"]), result["pinned_now"])
+            self.assertEqual(mine["hold_violations"], 0, mine["name"])
+        # Held pairs are matched in both pools, so neither holds fewer pairs than are held.
+        self.assertGreaterEqual(min(lead["pairs"], shadow["pairs"]), result["held_now"])
         # Same graph in both pools: plain maximum weight is at least the lead pool's weight,
         # and equal when the lead pool has no bonus (common knowledge: w(M*) is the maximum).
         self.assertGreaterEqual(shadow["weight"], lead["weight"])
@@ -95,7 +95,8 @@ class DemoTest(unittest.TestCase):
         daemon, bonus = self.start_daemon((("quillory", "quillory-plain"),
                                            ("quillory2", "quillory2-plain")))
         ticks = scaled(80, 25)
-        args = ("--ticks", ticks, "--seconds", 120, "--tick-ms", 0, "--seed", 7)
+        args = ("--ticks", ticks, "--seconds", 120, "--tick-ms", 0, "--seed", 7,
+                "--standing-ticks", 6)
         if bonus is not None:
             args += ("--churn-bonus", bonus)
         child, path = self.sim(daemon, *args)
@@ -103,29 +104,30 @@ class DemoTest(unittest.TestCase):
         with open(path) as f:
             result = json.load(f)
         self.assertEqual(result["tick"], ticks)
+        self.assertEqual(result["standing_ticks"], 6)
         self.assertGreater(result["dispatched"], 0, out[-2000:])
-        self.assertGreater(result["pinned_total"], 0, out[-2000:])
-        # Every dispatched pair was pinned first; those delivered are no longer pinned.
-        self.assertEqual(result["pinned_total"], result["dispatched"])
-        self.assertEqual(result["pinned_now"], result["pinned_total"] - result["delivered"])
+        self.assertGreater(result["held_total"], 0, out[-2000:])
+        # Every dispatched pair was held first; those delivered are no longer held.
+        self.assertEqual(result["held_total"], result["dispatched"])
+        self.assertEqual(result["held_now"], result["held_total"] - result["delivered"])
         self.check_against_daemon(daemon, result)
         lead = result["pools"][0]
         self.assertIn(f"quillory: seq={lead['seq']} pairs={lead['pairs']} weight={lead['weight']}",
                       out)
-        self.assertIn(f"pinned={result['pinned_now']} pinned_total={result['pinned_total']}",
+        self.assertIn(f"held={result['held_now']} held_total={result['held_total']}",
                       out)
-        self.assertIn("pin_violations=0", out)
-        self.assertNotRegex(out, r"pin_violations=(?!0\b)|pin_violations=0/(?!0\b)")
+        self.assertIn("hold_violations=0", out)
+        self.assertNotRegex(out, r"hold_violations=(?!0\b)|hold_violations=0/(?!0\b)")
 
         # The same seed and tick count, into two more pools declared the same way: the same run.
         child, path2 = self.sim(daemon, *args, pool="quillory2", shadow="quillory2-plain")
         self.finish(child, 90)
         with open(path2) as f:
             again = json.load(f)
-        for key in ("weight", "pairs", "seq", "changed_total", "broken_total", "pin_violations"):
+        for key in ("weight", "pairs", "seq", "changed_total", "broken_total", "hold_violations"):
             self.assertEqual([p[key] for p in again["pools"]],
                              [p[key] for p in result["pools"]], key)
-        for key in ("pinned_total", "pinned_now", "delivered"):
+        for key in ("held_total", "held_now", "delivered"):
             self.assertEqual(again[key], result[key], key)
 
         self.assertEqual(daemon.terminate(), 0)

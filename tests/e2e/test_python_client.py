@@ -13,8 +13,8 @@ import unittest
 from e2e_harness import (SLOWDOWN, Daemon, check_binaries, gen_stream, networkx_weight,
                          replay_commits, scaled)
 from yoke.v1 import events_pb2
-from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add, pin,
-                         set_edge, unpin, unset_edge)
+from yoke_client import (Query, QueryError, Rejected, Sender, Unavailable, Watcher, add_vertex,
+                         hold_pair, release_pair, remove_vertex, set_edge, unset_edge)
 from yoke_client.events import to_proto
 
 
@@ -44,7 +44,7 @@ class PythonClientTest(unittest.TestCase):
     def test_query_dicts_are_what_yoke_query_prints(self):
         daemon = Daemon(self).start()
         sender = Sender(daemon.ingest, pool="quay")
-        sender.send([set_edge(1, 2, 5), set_edge(2, 3, 7), set_edge(3, 4, 6), add(9)])
+        sender.send([set_edge(1, 2, 5), set_edge(2, 3, 7), set_edge(3, 4, 6), add_vertex(9)])
         query = Query(daemon.query)
         for kind, mine, extra in (
                 ("summary", query.summary("quay"), ()),
@@ -67,7 +67,7 @@ class PythonClientTest(unittest.TestCase):
         sender = Sender(daemon.ingest, pool="mill")
         self.assertEqual(sender.send([set_edge(1, 2, 4)]).seq, 1)
         good, later = [set_edge(3, 4, 2)], [set_edge(5, 6, 1)]
-        bad = [set_edge(7, 8, 3), add(9), unset_edge(1, 3)]  # no edge {1, 3}
+        bad = [set_edge(7, 8, 3), add_vertex(9), unset_edge(1, 3)]  # no edge {1, 3}
         with self.assertRaises(Rejected) as caught:
             sender.send_all([good, bad, later])
         self.assertEqual((caught.exception.code_name, caught.exception.event_index,
@@ -75,10 +75,10 @@ class PythonClientTest(unittest.TestCase):
         # The batch before it is applied, none after it; the sender goes on from there.
         self.assertEqual(Query(daemon.query).summary("mill")["seq"], 2)
         with self.assertRaises(Rejected) as caught:
-            sender.send([add(1)])
+            sender.send([add_vertex(1)])
         self.assertEqual((caught.exception.code_name, caught.exception.event_index),
                          ("VERTEX_EXISTS", 0))
-        self.assertEqual(sender.send_all([later, [add(20)]]), [3, 4])
+        self.assertEqual(sender.send_all([later, [add_vertex(20)]]), [3, 4])
 
     def test_watcher_catch_up_ends_at_the_daemon_matching(self):
         daemon = Daemon(self).start()
@@ -168,16 +168,29 @@ class EventTuplesTest(unittest.TestCase):
     """The tuples and their messages, without a daemon: proto/yoke/v1/events.proto is the spec
     (pairs carry v, only SET_EDGE carries w)."""
 
-    def test_pin_and_unpin_tuples_encode_as_pair_events(self):
-        self.assertEqual(pin(4, 9), ("pin", 4, 9))
-        self.assertEqual(unpin(9, 4), ("unpin", 9, 4))
-        self.assertEqual(to_proto(pin(4, 9)),
-                         events_pb2.Event(kind=events_pb2.Event.PIN_PAIR, u=4, v=9))
-        self.assertEqual(to_proto(unpin(9, 4)),
-                         events_pb2.Event(kind=events_pb2.Event.UNPIN_PAIR, u=9, v=4))
-        self.assertEqual(to_proto(("pin", 2**64 - 1, 0)).u, 2**64 - 1)
+    def test_hold_and_release_tuples_encode_as_pair_events(self):
+        self.assertEqual(hold_pair(4, 9), ("hold", 4, 9))
+        self.assertEqual(release_pair(9, 4), ("release", 9, 4))
+        self.assertEqual(to_proto(hold_pair(4, 9)),
+                         events_pb2.Event(kind=events_pb2.Event.HOLD_PAIR, u=4, v=9))
+        self.assertEqual(to_proto(release_pair(9, 4)),
+                         events_pb2.Event(kind=events_pb2.Event.RELEASE_PAIR, u=9, v=4))
+        self.assertEqual(to_proto(("hold", 2**64 - 1, 0)).u, 2**64 - 1)
         with self.assertRaises(ValueError):
-            to_proto(("hold", 1, 2))
+            to_proto(("move", 1, 2))
+
+    def test_one_constructor_per_wire_kind(self):
+        E = events_pb2.Event
+        cases = [(add_vertex(7), E(kind=E.ADD_VERTEX, u=7)),
+                 (set_edge(7, 8, -3), E(kind=E.SET_EDGE, u=7, v=8, w=-3)),
+                 (unset_edge(8, 7), E(kind=E.UNSET_EDGE, u=8, v=7)),
+                 (remove_vertex(8), E(kind=E.REMOVE_VERTEX, u=8)),
+                 (hold_pair(7, 8), E(kind=E.HOLD_PAIR, u=7, v=8)),
+                 (release_pair(8, 7), E(kind=E.RELEASE_PAIR, u=8, v=7))]
+        for event, message in cases:
+            self.assertEqual(to_proto(event), message, event)
+        # Wire numbers never change: old journals and snapshots still read.
+        self.assertEqual((E.HOLD_PAIR, E.RELEASE_PAIR), (5, 6))
 
 
 if __name__ == "__main__":

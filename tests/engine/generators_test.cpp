@@ -35,7 +35,7 @@ bool same_edges(const GeneratedGraph& x, const GeneratedGraph& y) {
                     [](const Edge& p, const Edge& q) { return p.a == q.a && p.b == q.b && p.w == q.w; });
 }
 
-// FNV-1a over (a, b, w) in edge order: pins the exact output across machines and libraries.
+// FNV-1a over (a, b, w) in edge order: fixes the exact output across machines and libraries.
 std::uint64_t fingerprint(const GeneratedGraph& g) {
   std::uint64_t h = 0xcbf29ce484222325ULL;
   auto mix = [&h](std::uint64_t value) {
@@ -81,7 +81,7 @@ TEST(Generators, SameSeedSameGraphOtherSeedOtherGraph) {
 
 // Golden values: if one of these changes, every machine's benchmark and test inputs changed
 // with it. Update deliberately, never to make a test pass.
-TEST(Generators, OutputIsPinned) {
+TEST(Generators, OutputIsFixedByItsFingerprint) {
   EXPECT_EQ(fingerprint(city(3000, 10, 1)), 5307933496286825300ULL);
   EXPECT_EQ(fingerprint(sparse_random(2000, 8000, 1, 1000000, 1)), 713477251379010378ULL);
   EXPECT_EQ(fingerprint(dispatch_bipartite(500, 500, 10, 1)), 5127592059097710987ULL);

@@ -79,8 +79,8 @@ struct StreamReplay {
         std::erase_if(edges, [&](const auto& kv) { return kv.first.first == e.u || kv.first.second == e.u; });
         ++seen["remove"];
         return "";
-      case EventKind::pin_pair:
-      case EventKind::unpin_pair: return "a pin event (the generators draw none)";
+      case EventKind::hold_pair:
+      case EventKind::release_pair: return "a hold event (the generators draw none)";
     }
     return "unknown event kind";
   }

@@ -5,6 +5,7 @@
 
 #include <cstring>
 #include <string>
+#include <tuple>
 #include <vector>
 
 #include "engine/certificate.h"
@@ -119,6 +120,81 @@ TEST(PoolSnapshot, RestoreRefusesWhatTheCertificateCannotSee) {
   const std::string short_graph =
       with(kGraph, std::uint64_t{(1 << 30) - 1}).substr(0, kGraph + 9) + std::string(16, '\0');
   EXPECT_THROW(Pool::restore(short_graph), InputError);
+}
+
+// Snapshot bytes from before a format change must keep loading. The layout: magic (8), version
+// (4), mode (1), limits (24), then from version 2 on the churn bonus (8), ..., the forest, then
+// from version 3 on the held pairs.
+constexpr std::size_t kVersionAt = 8;
+constexpr std::size_t kBonusAt = 8 + 4 + 1 + 24;
+
+void put_u64(std::string& out, std::uint64_t value) {
+  out.append(reinterpret_cast<const char*>(&value), sizeof value);
+}
+
+std::string with_version(std::string bytes, std::uint32_t version) {
+  std::memcpy(bytes.data() + kVersionAt, &version, sizeof version);
+  return bytes;
+}
+
+// Versions 1 (no churn bonus, no held pairs) and 2 (no held pairs), laid out as those versions
+// wrote them, from a version 3 save of a pool with neither: they load into the same pool.
+TEST(PoolSnapshot, OlderVersionsStillLoad) {
+  for (Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {
+    const gen::StreamSpec spec = gen::test_stream_spec(gen::StreamFamily::city, 3, 60, 20);
+    const std::vector<std::vector<Event>> batches = gen::generate_stream(spec);
+    ASSERT_GE(batches.size(), 2u);
+    Pool pool(mode);
+    for (std::size_t i = 0; i + 1 < batches.size(); ++i) pool.commit(batches[i]);
+    const std::string v3 = pool.save();
+    std::uint32_t version = 0;
+    std::memcpy(&version, v3.data() + kVersionAt, sizeof version);
+    ASSERT_EQ(version, 3u);
+    // No held pairs: no edge aside, no pair (two zero counts at the end); no bonus.
+    ASSERT_EQ(v3.substr(v3.size() - 16), std::string(16, '\0'));
+    ASSERT_EQ(v3.substr(kBonusAt, 8), std::string(8, '\0'));
+    const std::string v2 = with_version(v3.substr(0, v3.size() - 16), 2);
+    std::string v1 = with_version(v2, 1);
+    v1.erase(kBonusAt, 8);
+    for (const std::string& old : {v1, v2}) {
+      std::unique_ptr<Pool> restored;
+      ASSERT_NO_THROW(restored = Pool::restore(old)) << mode_name(mode);
+      EXPECT_EQ(restored->save(), v3) << mode_name(mode);
+      const std::unique_ptr<Pool> original = Pool::restore(v3);
+      const CommitResult a = original->commit(batches.back());
+      expect_same(a, restored->commit(batches.back()), mode_name(mode));
+    }
+  }
+}
+
+// The held pairs' section of version 3, byte for byte: the edges aside (count, then a, b, w in
+// key order), then the held pairs (count, then a, b).
+TEST(PoolSnapshot, HeldPairsKeepTheirVersion3Bytes) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 5}, {EventKind::set_edge, 2, 3, 9},
+                                 {EventKind::set_edge, 3, 4, 2}, {EventKind::set_edge, 1, 4, 1}});
+  pool.commit(std::vector<Event>{{EventKind::hold_pair, 2, 1, 0}});
+  const std::string bytes = pool.save();
+  std::uint32_t version = 0;
+  std::memcpy(&version, bytes.data() + kVersionAt, sizeof version);
+  EXPECT_EQ(version, 3u);
+  std::string held;
+  put_u64(held, 3);  // {1,2} 5, {1,4} 1, {2,3} 9 wait aside; {3,4} stays in the graph
+  for (const auto& [a, b, w] : {std::tuple{1, 2, 5}, std::tuple{1, 4, 1}, std::tuple{2, 3, 9}}) {
+    put_u64(held, static_cast<std::uint64_t>(a));
+    put_u64(held, static_cast<std::uint64_t>(b));
+    put_u64(held, static_cast<std::uint64_t>(w));
+  }
+  put_u64(held, 1);
+  put_u64(held, 1);
+  put_u64(held, 2);
+  ASSERT_GT(bytes.size(), held.size());
+  EXPECT_EQ(bytes.substr(bytes.size() - held.size()), held);
+  const std::unique_ptr<Pool> restored = Pool::restore(bytes);
+  EXPECT_EQ(restored->mate_of(1), 2u);
+  EXPECT_EQ(restored->mate_of(3), 4u);
+  EXPECT_EQ(restored->weight(), 5 + 2);
+  EXPECT_EQ(restored->save(), bytes);
 }
 
 }  // namespace

@@ -1,4 +1,4 @@
-// Engine-level behaviour of yoke::solve that the oracle suites do not pin down: input bounds,
+// Engine-level behaviour of yoke::solve that the oracle suites do not settle: input bounds,
 // determinism, degenerate graphs, the perfect-mode shortfall, and the warm start. Optimality
 // itself is checked against outside oracles in tests/oracles/.
 #include <gtest/gtest.h>

@@ -12,8 +12,8 @@
 // in a temporary directory that lives as long as the process. Every reply is held to
 // service_model.h: a refusal names a code the model allows and changes no pool, acceptances get
 // the pool's next seq, retries their batch's seq, and after each commit the pool's graph is the
-// model's, its pinned pairs are matched, its certificate holds and, on up to 12 vertices, its
-// optimum is the brute-force one (around the pinned pairs).
+// model's, its held pairs are matched, its certificate holds and, on up to 12 vertices, its
+// optimum is the brute-force one (around the held pairs).
 // A violation prints what failed and traps.
 
 #include <unistd.h>
@@ -384,7 +384,7 @@ void Run::close_window() {
   REQUIRE(diff == diffs.end());
 }
 
-// After a commit: the pool holds the model's graph and the diffs' matching with every pinned pair
+// After a commit: the pool holds the model's graph and the diffs' matching with every held pair
 // in it, its certificate holds, and on a few vertices its optimum is the brute-force one.
 void Run::check_pool(const std::string& name) {
   const PoolModel& model = pools_.at(name);
@@ -402,23 +402,23 @@ void Run::check_pool(const std::string& name) {
   }
   REQUIRE(listed == model.matching);
   REQUIRE(pool.pairs() == listed.size() && pool.weight() == total);
-  // Every pinned pair is matched (engine/events.h, pin_pair).
-  for (const auto& [a, b] : model.committed.pinned) {
+  // Every held pair is matched (engine/events.h, hold_pair).
+  for (const auto& [a, b] : model.committed.held) {
     if (a < b) REQUIRE(listed.count(EdgeKey{a, b}) == 1);
   }
 
-  // The export leaves pinned vertices and their edges out: they are fixed, not optimised.
+  // The export leaves held vertices and their edges out: they are fixed, not optimised.
   const PoolExport exported = pool.export_certified();
   const std::size_t n = exported.keys.size();
   std::set<VertexKey> optimised = model.committed.alive;
   std::map<EdgeKey, Weight> optimised_edges = model.committed.edges;
-  for (const auto& [a, b] : model.committed.pinned) {
+  for (const auto& [a, b] : model.committed.held) {
     optimised.erase(a);
     std::erase_if(optimised_edges, [a = a](const auto& edge) {
       return edge.first.first == a || edge.first.second == a;
     });
   }
-  REQUIRE(exported.pinned.size() * 2 == model.committed.pinned.size());
+  REQUIRE(exported.held.size() * 2 == model.committed.held.size());
   REQUIRE(std::set<VertexKey>(exported.keys.begin(), exported.keys.end()) == optimised);
   REQUIRE(n == optimised.size());
   std::map<EdgeKey, Weight> edges;
@@ -437,7 +437,7 @@ void Run::check_pool(const std::string& name) {
     REQUIRE(listed.count(fuzz::edge_key(exported.keys[v], exported.keys[mate])) == 1);
     ++certificate_pairs;
   }
-  REQUIRE(certificate_pairs + exported.pinned.size() == listed.size());
+  REQUIRE(certificate_pairs + exported.held.size() == listed.size());
 
   const bool short_of_perfect = 2 * listed.size() != model.committed.alive.size();
   REQUIRE(progress->no_perfect_matching == (model.mode == Mode::perfect && short_of_perfect));

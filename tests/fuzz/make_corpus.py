@@ -53,12 +53,12 @@ def remove(u):
     return {"kind": E.REMOVE_VERTEX, "u": u}
 
 
-def pin(u, v):
-    return {"kind": E.PIN_PAIR, "u": u, "v": v}
+def hold(u, v):
+    return {"kind": E.HOLD_PAIR, "u": u, "v": v}
 
 
-def unpin(u, v):
-    return {"kind": E.UNPIN_PAIR, "u": u, "v": v}
+def release(u, v):
+    return {"kind": E.RELEASE_PAIR, "u": u, "v": v}
 
 
 def query(pool="", **kind):
@@ -100,14 +100,14 @@ def seeds():
             frame(COMMIT),
             all_queries(pool, vertex=3),
         ])
-    for pool in ("c", ""):  # pins against the optimum, and every way a pin ends
-        yield f"pins_{pool or 'default'}", b"".join([
-            batch(CYCLES + [pin(3, 4)], pool=pool),  # the bridge is not in the optimum
+    for pool in ("c", ""):  # holds against the optimum, and every way a hold ends
+        yield f"holds_{pool or 'default'}", b"".join([
+            batch(CYCLES + [hold(3, 4)], pool=pool),  # the bridge is not in the optimum
             frame(COMMIT),
-            batch([set_edge(3, 4, 1), pin(1, 2)], pool=pool),
-            batch([unpin(4, 3), pin(5, 6)], pool=pool),
+            batch([set_edge(3, 4, 1), hold(1, 2)], pool=pool),
+            batch([release(4, 3), hold(5, 6)], pool=pool),
             frame(COMMIT),
-            batch([unset(1, 2), remove(6), pin(2, 3), pin(4, 5)], pool=pool),
+            batch([unset(1, 2), remove(6), hold(2, 3), hold(4, 5)], pool=pool),
             frame(COMMIT),
             all_queries(pool, vertex=3),
         ])
@@ -153,13 +153,13 @@ def seeds():
         batch([remove(8)]),  # unknown vertex
         batch([add(1), add(2), unset(1, 2)]),  # unknown edge
         batch([add(1), add(1)]),  # vertex exists
-        batch([set_edge(1, 2, 3), pin(2, 2)]),  # self loop
-        batch([set_edge(1, 2, 3), pin(1, 9)]),  # unknown vertex
-        batch([add(1), add(2), pin(1, 2)]),  # unknown edge
-        batch([set_edge(1, 2, 3), set_edge(2, 3, 3), pin(1, 2), pin(3, 2)]),  # already pinned
-        batch([set_edge(1, 2, 3), set_edge(2, 3, 3), pin(1, 2), unpin(2, 3)]),  # not pinned
-        batch([set_edge(1, 2, 3), pin(1, 2), unset(1, 2), unpin(1, 2)]),  # the unset ended it
-        batch([{"kind": E.PIN_PAIR, "u": 1, "v": 2, "w": 4}]),  # w on a pair event
+        batch([set_edge(1, 2, 3), hold(2, 2)]),  # self loop
+        batch([set_edge(1, 2, 3), hold(1, 9)]),  # unknown vertex
+        batch([add(1), add(2), hold(1, 2)]),  # unknown edge
+        batch([set_edge(1, 2, 3), set_edge(2, 3, 3), hold(1, 2), hold(3, 2)]),  # already held
+        batch([set_edge(1, 2, 3), set_edge(2, 3, 3), hold(1, 2), release(2, 3)]),  # not held
+        batch([set_edge(1, 2, 3), hold(1, 2), unset(1, 2), release(1, 2)]),  # the unset ended it
+        batch([{"kind": E.HOLD_PAIR, "u": 1, "v": 2, "w": 4}]),  # w on a pair event
         batch([add(u) for u in range(10, 27)]),  # 17 vertices: above the limit of 16
         batch([add(u) for u in range(30, 55)]),  # 25 events: above 24 per batch
         batch([add(1)], pool="no spaces"),  # bad pool name

@@ -15,12 +15,12 @@ bool arrive(ModelGraph& graph, const PoolLimits& limits, VertexKey key) {
   return true;
 }
 
-// Ends the pin of `key`, if any, on both of its ends.
-void unpin(ModelGraph& graph, VertexKey key) {
-  const auto it = graph.pinned.find(key);
-  if (it == graph.pinned.end()) return;
-  graph.pinned.erase(it->second);
-  graph.pinned.erase(it);
+// Ends the hold of `key`, if any, on both of its ends.
+void release(ModelGraph& graph, VertexKey key) {
+  const auto it = graph.held.find(key);
+  if (it == graph.held.end()) return;
+  graph.held.erase(it->second);
+  graph.held.erase(it);
 }
 
 }  // namespace
@@ -52,38 +52,39 @@ std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolL
       return {};
     }
     case EventKind::unset_edge: {
-      // protocol.proto: SELF_LOOP is "a SET_EDGE, UNSET_EDGE, PIN_PAIR or UNPIN_PAIR with u == v".
+      // protocol.proto: SELF_LOOP is "a SET_EDGE, UNSET_EDGE, HOLD_PAIR or RELEASE_PAIR
+      // with u == v".
       if (event.u == event.v) return {v1::Error::SELF_LOOP};
       if (!alive(event.u) || !alive(event.v)) return {v1::Error::UNKNOWN_VERTEX};
       if (graph.edges.erase(edge_key(event.u, event.v)) == 0) return {v1::Error::UNKNOWN_EDGE};
-      // events.proto: unsetting a pinned pair's edge ends the pin.
-      const auto pin = graph.pinned.find(event.u);
-      if (pin != graph.pinned.end() && pin->second == event.v) unpin(graph, event.u);
+      // events.proto: unsetting a held pair's edge ends the hold.
+      const auto hold = graph.held.find(event.u);
+      if (hold != graph.held.end() && hold->second == event.v) release(graph, event.u);
       return {};
     }
-    // The pool checks a pin or unpin in this order: self loop, u then v alive, the edge (pin
-    // only), then the pins.
-    case EventKind::pin_pair:
+    // The pool checks a hold or release in this order: self loop, u then v alive, the edge (hold
+    // only), then the holds.
+    case EventKind::hold_pair:
       if (event.u == event.v) return {v1::Error::SELF_LOOP};
       if (!alive(event.u) || !alive(event.v)) return {v1::Error::UNKNOWN_VERTEX};
       if (graph.edges.count(edge_key(event.u, event.v)) == 0) return {v1::Error::UNKNOWN_EDGE};
-      if (graph.pinned.count(event.u) != 0 || graph.pinned.count(event.v) != 0) {
-        return {v1::Error::ALREADY_PINNED};
+      if (graph.held.count(event.u) != 0 || graph.held.count(event.v) != 0) {
+        return {v1::Error::ALREADY_HELD};
       }
-      graph.pinned[event.u] = event.v;
-      graph.pinned[event.v] = event.u;
+      graph.held[event.u] = event.v;
+      graph.held[event.v] = event.u;
       return {};
-    case EventKind::unpin_pair: {
+    case EventKind::release_pair: {
       if (event.u == event.v) return {v1::Error::SELF_LOOP};
       if (!alive(event.u) || !alive(event.v)) return {v1::Error::UNKNOWN_VERTEX};
-      const auto pin = graph.pinned.find(event.u);
-      if (pin == graph.pinned.end() || pin->second != event.v) return {v1::Error::NOT_PINNED};
-      unpin(graph, event.u);
+      const auto hold = graph.held.find(event.u);
+      if (hold == graph.held.end() || hold->second != event.v) return {v1::Error::NOT_HELD};
+      release(graph, event.u);
       return {};
     }
     case EventKind::remove_vertex: {
       if (graph.alive.erase(event.u) == 0) return {v1::Error::UNKNOWN_VERTEX};
-      unpin(graph, event.u);  // a departure ends its pin
+      release(graph, event.u);  // a departure ends its hold
       std::erase_if(graph.edges, [&event](const auto& edge) {
         return edge.first.first == event.u || edge.first.second == event.u;
       });
@@ -104,16 +105,16 @@ Weight largest_weight(Mode mode, std::size_t max_vertices) {
 std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,
                                            std::size_t max_vertices) {
   if (graph.alive.size() > max_vertices) return std::nullopt;
-  // Pinned pairs are matched whatever they cost; the rest is optimised on the other vertices.
-  Optimum pinned;
+  // Held pairs are matched whatever they cost; the rest is optimised on the other vertices.
+  Optimum held;
   std::vector<VertexKey> keys;
   for (const VertexKey key : graph.alive) {
-    const auto pin = graph.pinned.find(key);
-    if (pin == graph.pinned.end()) {
+    const auto hold = graph.held.find(key);
+    if (hold == graph.held.end()) {
       keys.push_back(key);
-    } else if (key < pin->second) {
-      ++pinned.pairs;
-      pinned.weight += graph.edges.at(edge_key(key, pin->second));
+    } else if (key < hold->second) {
+      ++held.pairs;
+      held.weight += graph.edges.at(edge_key(key, hold->second));
     }
   }
   const std::size_t n = keys.size();
@@ -123,7 +124,7 @@ std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,
   // weight[i][j] for the edge {i, j}; `present` tells an edge of weight 0 from no edge.
   std::vector<std::vector<std::optional<Weight>>> weight(n, std::vector<std::optional<Weight>>(n));
   for (const auto& [key, w] : graph.edges) {
-    if (graph.pinned.count(key.first) != 0 || graph.pinned.count(key.second) != 0) continue;
+    if (graph.held.count(key.first) != 0 || graph.held.count(key.second) != 0) continue;
     const std::size_t i = index(key.first);
     const std::size_t j = index(key.second);
     weight[i][j] = weight[j][i] = w;
@@ -148,7 +149,7 @@ std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,
     }
     best[mask] = top;
   }
-  return Optimum{best.back().pairs + pinned.pairs, best.back().weight + pinned.weight};
+  return Optimum{best.back().pairs + held.pairs, best.back().weight + held.weight};
 }
 
 }  // namespace yoke::fuzz

@@ -24,9 +24,9 @@ inline EdgeKey edge_key(VertexKey a, VertexKey b) { return a < b ? EdgeKey{a, b}
 struct ModelGraph {
   std::set<VertexKey> alive;
   std::map<EdgeKey, Weight> edges;
-  // Pinned pairs (engine/events.h, pin_pair), both ways: pinned[u] == v and pinned[v] == u. A
-  // pin ends with unpin_pair, unset_edge of its edge or remove_vertex of either end.
-  std::map<VertexKey, VertexKey> pinned;
+  // Held pairs (engine/events.h, hold_pair), both ways: held[u] == v and held[v] == u. A
+  // hold ends with release_pair, unset_edge of its edge or remove_vertex of either end.
+  std::map<VertexKey, VertexKey> held;
 };
 
 // What a pool's checks count within one batching window. The edge limit counts insertions, not
@@ -51,7 +51,7 @@ struct Optimum {
 };
 
 // The optimum by dynamic programming over vertex subsets: the most weight (max-weight), or the
-// most pairs and then the most weight (max-cardinality, perfect). Pinned pairs are matched
+// most pairs and then the most weight (max-cardinality, perfect). Held pairs are matched
 // whatever they cost, and the rest is optimised without their ends ("around" them). Nothing above
 // `max_vertices` vertices (its cost is 2^n x n).
 std::optional<Optimum> brute_force_optimum(const ModelGraph& graph, Mode mode,

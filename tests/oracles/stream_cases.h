@@ -1,5 +1,5 @@
 // The stream families and modes the pool's oracle tests sweep, with readable test names
-// ("city_maxweight"). Shared by pool_lemon_test, pool_churn_test and pool_pin_test.
+// ("city_maxweight"). Shared by pool_lemon_test, pool_churn_test and pool_hold_test.
 #pragma once
 
 #include <gtest/gtest.h>

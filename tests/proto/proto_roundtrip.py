@@ -1,6 +1,6 @@
 #!/usr/bin/python3
 """The generated Python modules of yoke.v1: import them, round-trip one event batch, check its
-bytes against the ones the C++ test pins (so both languages agree on the wire form), and check
+bytes against the ones the C++ test fixes (so both languages agree on the wire form), and check
 that garbage raises DecodeError. PYTHONPATH must hold the generated directory
 (YOKE_PROTO_PYTHON_DIR); CTest sets it."""
 import sys

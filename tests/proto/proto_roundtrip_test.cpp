@@ -51,7 +51,7 @@ Event make_event(Event::Kind kind, std::uint64_t u, std::uint64_t v = 0, std::in
   return e;
 }
 
-// The batch whose bytes are pinned below and in proto_roundtrip.py.
+// The batch whose bytes are fixed below and in proto_roundtrip.py.
 IngestRequest golden_request() {
   IngestRequest req;
   req.set_version(PROTOCOL_VERSION_1);

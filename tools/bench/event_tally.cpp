@@ -38,8 +38,8 @@ void EventClassifier::classify(std::span<const Event> batch, EventTally* tally) 
         ++t.departure_events;
         break;
       }
-      case EventKind::pin_pair:
-      case EventKind::unpin_pair: ++t.other_events; break;  // no edge or vertex changes
+      case EventKind::hold_pair:
+      case EventKind::release_pair: ++t.other_events; break;  // no edge or vertex changes
     }
   }
 }

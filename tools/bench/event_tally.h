@@ -18,7 +18,7 @@ struct EventTally {
   std::size_t drift_events = 0;      // `set` on an edge that exists: a weight change
   std::size_t arrival_events = 0;    // `add`, or a `set` that creates an edge
   std::size_t departure_events = 0;  // `remove`
-  std::size_t other_events = 0;      // `unset`, `pin`, `unpin` (the benchmark mix draws none)
+  std::size_t other_events = 0;      // `unset`, `hold`, `release` (the benchmark mix draws none)
   std::size_t arrivals = 0;          // vertices that appeared (arrival actions)
 
   // Looked up in the pool just before the commit that carries the event, outside the timing.

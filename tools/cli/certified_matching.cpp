@@ -13,7 +13,7 @@ CertifiedMatching certified_matching(const PoolExport& exported) {
     matching.pairs.emplace_back(std::min(a, b), std::max(a, b));
     matching.weight += e.w - exported.matched_bonus;  // reported weights leave the bonus out
   }
-  for (const MatchedPair& pair : exported.pinned) {  // fixed, outside the certificate
+  for (const MatchedPair& pair : exported.held) {  // fixed, outside the certificate
     matching.pairs.emplace_back(pair.a, pair.b);
     matching.weight += pair.w;
   }

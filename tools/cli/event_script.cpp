@@ -46,8 +46,8 @@ constexpr std::array<VerbForm, 7> kVerbForms{{
     {"set", "U V W", 3},
     {"unset", "U V", 2},
     {"remove", "U", 1},
-    {"pin", "U V", 2},
-    {"unpin", "U V", 2},
+    {"hold", "U V", 2},
+    {"release", "U V", 2},
     {"commit", "", 0},
 }};
 
@@ -71,7 +71,7 @@ class ScriptBuilder {
     const VerbForm* form = find_verb(tokens.values[0]);
     if (form == nullptr) {
       throw EventScriptError(line, "unknown verb " + shown(tokens.values[0]) +
-                                       " (expected add, set, unset, remove, pin, unpin or commit)");
+                                       " (expected add, set, unset, remove, hold, release or commit)");
     }
     if (tokens.count - 1 != form->field_count) {
       std::string usage = std::string(form->verb);
@@ -111,10 +111,10 @@ class ScriptBuilder {
         event.kind = EventKind::set_edge;
       } else if (form.verb == "unset") {
         event.kind = EventKind::unset_edge;
-      } else if (form.verb == "pin") {
-        event.kind = EventKind::pin_pair;
+      } else if (form.verb == "hold") {
+        event.kind = EventKind::hold_pair;
       } else {
-        event.kind = EventKind::unpin_pair;
+        event.kind = EventKind::release_pair;
       }
       event.v = vertex_id(tokens.values[2], line);
       if (event.u == event.v) {

@@ -5,8 +5,8 @@
 //     set U V W      insert edge {U,V} or change its weight (U and V arrive if new)
 //     unset U V      remove edge {U,V}; U and V stay
 //     remove U       remove vertex U and all its edges
-//     pin U V        match U with V from now on, whatever the weights (edge {U,V} must exist)
-//     unpin U V      the pinned pair {U,V} is optimised again
+//     hold U V       match U with V from now on, whatever the weights (edge {U,V} must exist)
+//     release U V    the held pair {U,V} is optimised again
 //     commit         end of a batch
 //
 // U and V are unsigned 64-bit ids, W a signed 64-bit weight; tokens are separated by spaces or
@@ -57,7 +57,7 @@ class EventScriptError : public std::runtime_error {
 
 // Parses a whole script. Throws EventScriptError for the first bad line: an unknown verb, a
 // wrong number of fields, an id or weight that is not an integer or out of range, or a `set`,
-// `unset`, `pin` or `unpin` of a self loop. Cost O(size of text + number of events).
+// `unset`, `hold` or `release` of a self loop. Cost O(size of text + number of events).
 EventScript parse_event_script(std::string_view text);
 
 // Reads `path` ("-" for stdin) whole and parses it. Throws CliError "FILE:LINE: problem".

@@ -113,10 +113,10 @@ std::string event_text(const Event& event) {
     case EventKind::unset_edge:
       return "unset " + std::to_string(event.u) + " " + std::to_string(event.v);
     case EventKind::remove_vertex: return "remove " + std::to_string(event.u);
-    case EventKind::pin_pair:
-      return "pin " + std::to_string(event.u) + " " + std::to_string(event.v);
-    case EventKind::unpin_pair:
-      return "unpin " + std::to_string(event.u) + " " + std::to_string(event.v);
+    case EventKind::hold_pair:
+      return "hold " + std::to_string(event.u) + " " + std::to_string(event.v);
+    case EventKind::release_pair:
+      return "release " + std::to_string(event.u) + " " + std::to_string(event.v);
   }
   return "?";
 }
@@ -216,8 +216,8 @@ void HistoryBuilder::record(const ReplayedCommit& commit, const CommitResult& re
         arrives(event.v);
         break;
       case EventKind::unset_edge:
-      case EventKind::pin_pair:  // pins name vertices that are alive already
-      case EventKind::unpin_pair: break;
+      case EventKind::hold_pair:  // holds name vertices that are alive already
+      case EventKind::release_pair: break;
       case EventKind::remove_vertex: {
         const auto it = index_.find(event.u);
         if (it == index_.end() || !alive_[it->second]) break;

@@ -5,15 +5,15 @@ through a running yoked, one batch per tick.
         [--seconds 45] [--seed S] [--ingest EP --publish EP --query EP] [--result FILE]
 
 Couriers and orders appear in the city's districts; couriers walk the streets, so the scores
-of their pairs change every tick; a pair standing long enough in the lead pool (`quillory`) is
-dispatched: the pair is pinned (a `pin` event: it stays matched whatever the scores do) while
+of their pairs change every tick; a pair that stands long enough in the lead pool (`quillory`) is
+dispatched: the pair is held (a `hold` event: it stays matched whatever the scores do) while
 the courier travels to the order, a few ticks drawn per pair (--travel-ticks), then courier and
 order leave the pool (delivered), and the courier comes back when the delivery is done.
 Orders nobody takes expire, couriers end their shifts. Every tick's events go, unchanged, to two
 pools: the lead pool `quillory` (declared in the daemon's config, with a churn bonus when the
 daemon supports one) and the shadow pool `quillory-plain` (plain maximum weight), so the summary
-shows the churn of both side by side. Every diff is checked against the pins: a pinned pair
-that a diff removes, or that is not matched after a batch, counts as a pin violation (none are
+shows the churn of both side by side. Every diff is checked against the holds: a held pair
+that a diff removes, or that is not matched after a batch, counts as a hold violation (none are
 expected).
 
 The summary is redrawn every second on a terminal, or printed as one line a second otherwise;
@@ -67,10 +67,10 @@ def parse_args(argv):
     p.add_argument("--orders", type=int, default=150, help="orders waiting at the start")
     p.add_argument("--order-rate", type=float, default=7.0,
                    help="new orders per tick before the evening peak (default 7)")
-    p.add_argument("--hold-ticks", type=int, default=6,
+    p.add_argument("--standing-ticks", type=int, default=6,
                    help="a pair standing this many ticks in the lead pool is dispatched")
     p.add_argument("--travel-ticks", type=int, default=4,
-                   help="a dispatched pair stays pinned about this many ticks (drawn per pair "
+                   help="a dispatched pair stays held about this many ticks (drawn per pair "
                         "between half and one and a half times it) before its delivery "
                         "removes it; 0: removed at once (default 4)")
     p.add_argument("--pool", default="quillory", help="the lead pool (default quillory)")
@@ -108,16 +108,16 @@ class Run:
         ev = self.evening
         events = ev.step()
         sent_at = time.monotonic()
-        self.pools.send(events, ev.tick, ev.alive, ev.pinned)
+        self.pools.send(events, ev.tick, ev.alive, ev.held)
         # Both pools acknowledged: each saw len(events) events.
         self.events_total += 2 * len(events)
         self.history.append((sent_at, 2 * len(events), time.monotonic()))
         # Dispatch what stood long enough in the lead pool (and is not on its way already): each
-        # pair is pinned for its travel time, then delivered.
-        hold = self.args.hold_ticks
+        # pair is held for its travel time, then delivered.
+        standing = self.args.standing_ticks
         due = [(a, b) if dispatch_model.is_courier(a) else (b, a)
                for (a, b), since in sorted(self.pools.lead.since.items())
-               if ev.tick - since >= hold and (a, b) not in ev.pinned]
+               if ev.tick - since >= standing and (a, b) not in ev.held]
         ev.dispatch([(c, o, self.travel_ticks(c, o)) for c, o in due])
 
     def travel_ticks(self, courier, order):
@@ -156,7 +156,7 @@ class Run:
                           "changed_rate": sum(changed) / len(changed) if changed else 0.0,
                           "changed_total": track.changed_total,
                           "broken_total": track.broken_total,
-                          "pin_violations": track.pin_violations, "resyncs": track.resyncs})
+                          "hold_violations": track.hold_violations, "resyncs": track.resyncs})
         city = ev.city
         per = [[d.name, 0, 0, 0] for d in city.districts]
         for c in ev.couriers.values():
@@ -177,9 +177,9 @@ class Run:
             "ack_p50_ms": percentile(acks, 0.5) or 0.0,
             "diff_p99_ms": percentile(diffs, 0.99) or 0.0,
             "dispatched": ev.counts["dispatched"], "expired": ev.counts["expired"],
-            "shifts_ended": ev.counts["shifts_ended"], "hold_ticks": self.args.hold_ticks,
-            "delivered": ev.counts["delivered"], "pinned_now": len(ev.pinned),
-            "pinned_total": ev.counts["pinned_total"], "travel_ticks": self.args.travel_ticks,
+            "shifts_ended": ev.counts["shifts_ended"], "standing_ticks": self.args.standing_ticks,
+            "delivered": ev.counts["delivered"], "held_now": len(ev.held),
+            "held_total": ev.counts["held_total"], "travel_ticks": self.args.travel_ticks,
             "districts": per,
         }
 

@@ -2,13 +2,13 @@
 between them.
 
 Each `step()` advances the simulated clock by one tick and returns that tick's events, in the
-yoke_client tuple form: pins (`pin`), then departures (`remove`), then arrivals (`add`), then
+yoke_client tuple form: holds (`hold`), then departures (`remove`), then arrivals (`add`), then
 edge changes (`set`, `unset`). The model keeps its own copy of the pool (who is alive, which
-edges exist and their weights, which pairs are pinned), so every event it emits is valid for a
+edges exist and their weights, which pairs are held), so every event it emits is valid for a
 daemon pool that received the same events before, and its counts can be compared with the
-daemon's (a pinned pair's vertices and all their edges are in the pool until the delivery).
+daemon's (a held pair's vertices and all their edges are in the pool until the delivery).
 
-Vertices: couriers are 10000 + n, orders 1000000 + n. A courier who is dispatched is pinned to
+Vertices: couriers are 10000 + n, orders 1000000 + n. A courier who is dispatched is held with
 the order while it travels there, then leaves the pool with the order, delivers it off the
 pool, and comes back (same id) where the delivery ended; a courier whose shift is over leaves
 for good; an order nobody took leaves when its patience runs out.
@@ -21,9 +21,9 @@ Weight (an integer score): the order's value, plus a bonus growing with each min
 waited, minus a cost per 25 m the courier is away.
 
 What is dispatched is decided by the caller (`dispatch(pairs)`): at the next step each pair it
-names is pinned (a `pin` event: the courier is on the way, and no later change of the scores may
+names is held (a `hold` event: the courier is on the way, and no later change of the scores may
 break the pair) for the pair's travel time in ticks, then leaves the pool (delivered: both
-`remove`d, which ends the pin); a travel time of 0 removes the pair at once. While pinned, the
+`remove`d, which ends the hold); a travel time of 0 removes the pair at once. While held, the
 courier walks to its order, neither end expires nor ends its shift, the pair's edge stays
 whatever the distance, and neither end gets new edges (the edges it has stay, and count, as in
 the daemon's pool).
@@ -152,9 +152,9 @@ class Evening:
         self.next_courier = COURIER_BASE + 1
         self.next_order = ORDER_BASE + 1
         self.to_dispatch = []
-        self.pinned = {}                              # (courier, order) -> tick of delivery
-        self.pinned_by = {}                           # courier or order -> its pinned pair
-        self.counts = {"dispatched": 0, "delivered": 0, "pinned_total": 0, "expired": 0,
+        self.held = {}                              # (courier, order) -> tick of delivery
+        self.held_by = {}                           # courier or order -> its held pair
+        self.counts = {"dispatched": 0, "delivered": 0, "held_total": 0, "expired": 0,
                        "shifts_ended": 0, "shifts_started": 0, "orders_placed": 0,
                        "returned": 0}
         self._touched = {}   # (courier, order) -> weight before this tick (None: no edge)
@@ -231,7 +231,7 @@ class Evening:
         c.scan_pos = c.pos
         candidates = []
         for o in self.order_grid.near(c.pos):
-            if o.id in c.edges or len(o.edges) >= ORDER_EDGES or o.id in self.pinned_by:
+            if o.id in c.edges or len(o.edges) >= ORDER_EDGES or o.id in self.held_by:
                 continue
             d = quillory.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
@@ -254,7 +254,7 @@ class Evening:
             return
         candidates = []
         for c in self.courier_grid.near(o.pos):
-            if c.id in o.edges or len(c.edges) >= COURIER_EDGES or c.id in self.pinned_by:
+            if c.id in o.edges or len(c.edges) >= COURIER_EDGES or c.id in self.held_by:
                 continue
             d = quillory.manhattan(c.pos, o.pos)
             if d <= RADIUS_M:
@@ -313,11 +313,11 @@ class Evening:
 
     def dispatch(self, pairs):
         """The caller commits these (courier, order, travel ticks) triples: at the next step
-        each pair is pinned for its travel ticks, then delivered (0: delivered at once)."""
+        each pair is held for its travel ticks, then delivered (0: delivered at once)."""
         self.to_dispatch.extend(pairs)
 
     def _deliver(self, cid, oid, events):
-        """Courier and order leave the pool (a pinned pair's pin ends with them); the courier
+        """Courier and order leave the pool (a held pair's hold ends with them); the courier
         comes back where the delivery ends."""
         rng = self.rng
         c, o = self.couriers[cid], self.orders[oid]
@@ -332,17 +332,17 @@ class Evening:
         self.away[cid] = c
         self.counts["delivered"] += 1
 
-    def _pin(self, cid, oid, travel_ticks, events):
-        """The pair is pinned until the step of tick self.tick + travel_ticks; the courier sets
+    def _hold(self, cid, oid, travel_ticks, events):
+        """The pair is held until the step of tick self.tick + travel_ticks; the courier sets
         off to the order."""
         c, o = self.couriers[cid], self.orders[oid]
-        events.append(("pin", cid, oid))
-        self.pinned[(cid, oid)] = self.tick + travel_ticks
-        self.pinned_by[cid] = self.pinned_by[oid] = (cid, oid)
+        events.append(("hold", cid, oid))
+        self.held[(cid, oid)] = self.tick + travel_ticks
+        self.held_by[cid] = self.held_by[oid] = (cid, oid)
         goal = (quillory.snap(o.pos[0], quillory.WIDTH_M),
                 quillory.snap(o.pos[1], quillory.HEIGHT_M))
         c.route, c.park = quillory.route(c.pos, goal, True), 0
-        self.counts["pinned_total"] += 1
+        self.counts["held_total"] += 1
 
     # --- one tick ---
 
@@ -355,29 +355,29 @@ class Evening:
             self.clock += self.tick_s
         self.tick += 1
 
-        # Pins and deliveries first (a pin needs the pair's edge as it stood before this tick),
-        # then departures: expired orders, shifts that ended (a pinned end stays).
+        # Holds and deliveries first (a hold needs the pair's edge as it stood before this tick),
+        # then departures: expired orders, shifts that ended (a held end stays).
         for cid, oid, travel_ticks in self.to_dispatch:
             if cid not in self.couriers or oid not in self.orders or \
                     oid not in self.couriers[cid].edges or \
-                    cid in self.pinned_by or oid in self.pinned_by:
+                    cid in self.held_by or oid in self.held_by:
                 continue
             self.counts["dispatched"] += 1
             if travel_ticks > 0:
-                self._pin(cid, oid, travel_ticks, events)
+                self._hold(cid, oid, travel_ticks, events)
             else:
                 self._deliver(cid, oid, events)
         self.to_dispatch = []
-        for (cid, oid), due in sorted(self.pinned.items()):
+        for (cid, oid), due in sorted(self.held.items()):
             if due <= self.tick:
-                del self.pinned[(cid, oid)], self.pinned_by[cid], self.pinned_by[oid]
+                del self.held[(cid, oid)], self.held_by[cid], self.held_by[oid]
                 self._deliver(cid, oid, events)
         for o in [o for o in self.orders.values()
-                  if self.clock - o.born > o.patience and o.id not in self.pinned_by]:
+                  if self.clock - o.born > o.patience and o.id not in self.held_by]:
             self._leave_order(o, events)
             self.counts["expired"] += 1
         for c in [c for c in self.couriers.values()
-                  if self.clock >= c.shift_end and c.id not in self.pinned_by]:
+                  if self.clock >= c.shift_end and c.id not in self.held_by]:
             self._leave_courier(c, events)
             self.counts["shifts_ended"] += 1
 
@@ -408,7 +408,7 @@ class Evening:
             if c.park > 0:
                 c.park -= 1
                 continue
-            pair = self.pinned_by.get(c.id)
+            pair = self.held_by.get(c.id)
             if not c.route:
                 if pair is not None:
                     continue  # at its order: waits there until the pickup
@@ -441,12 +441,12 @@ class Evening:
         dirty, self._dirty_couriers = sorted(self._dirty_couriers), set()
         for cid in dirty:
             c = self.couriers.get(cid)
-            if c is not None and cid not in self.pinned_by:
+            if c is not None and cid not in self.held_by:
                 self._scan_courier(c)
         dirty, self._dirty_orders = sorted(self._dirty_orders), set()
         for oid in dirty:
             o = self.orders.get(oid)
-            if o is not None and oid not in self.pinned_by:
+            if o is not None and oid not in self.held_by:
                 self._scan_order(o)
 
         for key in sorted(self._touched):

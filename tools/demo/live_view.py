@@ -76,7 +76,7 @@ class LiveView:
         rows = [("pairs", "pairs"), ("objective w(M)", "weight"),
                 ("pairs changed / tick", "changed_rate"),
                 ("standing pairs broken", "broken_total"),
-                ("pinned pairs broken", "pin_violations"),
+                ("held pairs broken", "hold_violations"),
                 ("pool seq", "seq")]
         for title_, key in rows:
             lv, sv = lead[key], shadow[key]
@@ -92,9 +92,9 @@ class LiveView:
             f"send to diff p99 {f['diff_p99_ms']:.2f} ms",
             f"dispatched {_num(f['dispatched'])}   delivered {_num(f['delivered'])}   "
             f"expired {_num(f['expired'])}   shifts ended {_num(f['shifts_ended'])}",
-            f"pinned now {_num(f['pinned_now'])}   pinned in all {_num(f['pinned_total'])}   "
-            f"{d}(pairs standing {f['hold_ticks']} ticks in {lead['name']} are dispatched: "
-            f"pinned about {f['travel_ticks']} ticks while the courier travels, then "
+            f"held now {_num(f['held_now'])}   held in all {_num(f['held_total'])}   "
+            f"{d}(pairs standing {f['standing_ticks']} ticks in {lead['name']} are dispatched: "
+            f"held about {f['travel_ticks']} ticks while the courier travels, then "
             f"delivered){r}",
             "",
             f"{'district':<20}{'couriers':>9}{'orders':>8}{'pairs':>7}",
@@ -114,8 +114,8 @@ class LiveView:
                 f"ack_ms_p50={f['ack_p50_ms']:.2f} "
                 f"changed_per_tick={lead['changed_rate']:.1f}/{shadow['changed_rate']:.1f} "
                 f"broken={lead['broken_total']}/{shadow['broken_total']} "
-                f"pinned={f['pinned_now']} pinned_total={f['pinned_total']} "
-                f"pin_violations={lead['pin_violations']}/{shadow['pin_violations']}")
+                f"held={f['held_now']} held_total={f['held_total']} "
+                f"hold_violations={lead['hold_violations']}/{shadow['hold_violations']}")
 
 
 def final_line(f):
@@ -123,9 +123,9 @@ def final_line(f):
     parts = [f"demo: final ticks={f['tick']} events={f['events_total']} "
              f"vertices={f['couriers'] + f['orders']} edges={f['edges']} "
              f"dispatched={f['dispatched']} delivered={f['delivered']} "
-             f"pinned={f['pinned_now']} pinned_total={f['pinned_total']}"]
+             f"held={f['held_now']} held_total={f['held_total']}"]
     for p in f["pools"]:
         parts.append(f"{p['name']}: seq={p['seq']} pairs={p['pairs']} weight={p['weight']} "
                      f"changed={p['changed_total']} broken={p['broken_total']} "
-                     f"pin_violations={p['pin_violations']}")
+                     f"hold_violations={p['hold_violations']}")
     return " | ".join(parts)

@@ -6,9 +6,9 @@ e.g. no churn bonus), waits for both acknowledgements and both published diffs, 
 pool: the acknowledged seq, the matching (from the diffs, after a catch-up at the start), the
 weight, how many pairs each tick changed, and how many standing pairs were broken while both of
 their ends stayed in the pool (reassignments, the churn a dispatcher and a courier feel). It
-checks the pins too: a pair the simulation has pinned must stay matched until its pin ends (no
-diff may remove it while it is pinned, and it is in the matching after every batch); each miss
-counts as a pin violation (expected: none). It also records timings: the daemon's repair_us and
+checks the holds too: a pair the simulation has held must stay matched until its hold ends (no
+diff may remove it while it is held, and it is in the matching after every batch); each miss
+counts as a hold violation (expected: none). It also records timings: the daemon's repair_us and
 commit_to_publish_us from each diff, and send-to-ack and send-to-diff as the client saw them.
 """
 
@@ -30,7 +30,7 @@ class PoolTrack:
         self.since = {}            # (a, b) -> tick it was formed
         self.changed_total = 0     # pairs removed + added, all ticks
         self.broken_total = 0      # standing pairs broken with both ends still in the pool
-        self.pin_violations = 0    # pinned pairs removed (or missing) while pinned
+        self.hold_violations = 0    # held pairs removed (or missing) while held
         self.changed_tick = 0
         self.broken_tick = 0
         self.changed_recent = collections.deque(maxlen=10)  # changed_tick of the last ticks
@@ -76,10 +76,10 @@ class PoolPair:
         for w in self._watchers:
             w.close()
 
-    def send(self, events, tick, alive, pinned=()):
+    def send(self, events, tick, alive, held=()):
         """Sends one tick's events to both pools; returns once both are acknowledged and both
         diffs are in. `alive(v)` says whether v is still in the pool after this tick (to tell a
-        reassignment from a departure); `pinned` holds the (a, b) pairs (a < b) pinned after
+        reassignment from a departure); `held` holds the (a, b) pairs (a < b) held after
         this tick's events. Raises yoke_client's Rejected / Unavailable."""
         protos = [event_codec.to_proto(e) for e in events]
         started = time.monotonic()
@@ -89,10 +89,10 @@ class PoolPair:
         for track, ack in zip(self.tracks, acks):
             track.ack_ms.append((acked - started) * 1000.0)
         for watcher, track, ack in zip(self._watchers, self.tracks, acks):
-            self._follow(watcher, track, ack.seq, tick, alive, pinned, started)
+            self._follow(watcher, track, ack.seq, tick, alive, held, started)
         return acks
 
-    def _follow(self, watcher, track, seq, tick, alive, pinned, started):
+    def _follow(self, watcher, track, seq, tick, alive, held, started):
         track.changed_tick = track.broken_tick = 0
         deadline = time.monotonic() + self._timeout_s
         heard = time.monotonic()
@@ -122,8 +122,8 @@ class PoolPair:
             track.diff_ms.append((now - started) * 1000.0)
             for a, b, _ in diff["removed"]:
                 track.since.pop((a, b), None)
-                if (a, b) in pinned:
-                    track.pin_violations += 1
+                if (a, b) in held:
+                    track.hold_violations += 1
                 if alive(a) and alive(b):
                     track.broken_tick += 1
             for a, b, _ in diff["added"]:
@@ -134,7 +134,7 @@ class PoolPair:
         track.changed_total += track.changed_tick
         track.changed_recent.append(track.changed_tick)
         track.broken_total += track.broken_tick
-        track.pin_violations += sum(1 for a, b in pinned if watcher.matching.get(a) != b)
+        track.hold_violations += sum(1 for a, b in held if watcher.matching.get(a) != b)
         track.seq, track.weight = watcher.seq, watcher.weight
         track.pairs = len(watcher.matching) // 2
 

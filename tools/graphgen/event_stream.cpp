@@ -757,9 +757,9 @@ void write_event_script(std::ostream& out, std::span<const Event> batch) {
       case EventKind::set_edge: buffer += "set"; put(e.u); put(e.v); put(e.w); break;
       case EventKind::unset_edge: buffer += "unset"; put(e.u); put(e.v); break;
       case EventKind::remove_vertex: buffer += "remove"; put(e.u); break;
-      // The generators draw no pins; written for streams that carry them all the same.
-      case EventKind::pin_pair: buffer += "pin"; put(e.u); put(e.v); break;
-      case EventKind::unpin_pair: buffer += "unpin"; put(e.u); put(e.v); break;
+      // The generators draw no holds; written for streams that carry them all the same.
+      case EventKind::hold_pair: buffer += "hold"; put(e.u); put(e.v); break;
+      case EventKind::release_pair: buffer += "release"; put(e.u); put(e.v); break;
     }
     buffer.push_back('\n');
     if (buffer.size() > (1 << 16) - 80) {

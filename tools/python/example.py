@@ -9,7 +9,7 @@ Couriers are vertices 101..104, parcels 201..205; an edge's weight is what a cou
 carrying that parcel. The pool `lanternfield` holds the best set of (courier, parcel) pairs.
 """
 
-from yoke_client import Query, Sender, Watcher, remove, set_edge
+from yoke_client import Query, Sender, Watcher, remove_vertex, set_edge
 
 INGEST, PUBLISH, QUERY = "tcp://127.0.0.1:7410", "tcp://127.0.0.1:7411", "tcp://127.0.0.1:7412"
 POOL = "lanternfield"
@@ -21,7 +21,7 @@ BATCHES = [
     # Cleo (103) starts her shift near the canal.
     [set_edge(103, 202, 45), set_edge(103, 204, 20)],
     # A rush parcel (205) pays well for Bruno; parcel 201 is collected by its owner.
-    [set_edge(102, 205, 60), remove(201)],
+    [set_edge(102, 205, 60), remove_vertex(201)],
     # Dario (104) arrives and can take the parcel by the canal.
     [set_edge(104, 204, 33), set_edge(104, 203, 28)],
 ]

@@ -3,18 +3,19 @@
     Sender(ingest_endpoint, pool, ...)      batches in, exactly once        (sender.py)
     Query(query_endpoint)                   questions, as plain dicts       (query.py)
     Watcher(publish_endpoint, pool, ...)    diffs out, optional catch-up    (watcher.py)
-    add, set_edge, unset_edge, remove,      events as tuples                (events.py)
-    pin, unpin
+    add_vertex, set_edge, unset_edge,       events as tuples                (events.py)
+    remove_vertex, hold_pair, release_pair
 
 Needs the generated modules (`from yoke.v1 import ...`, build/proto/python) and pyzmq on the
 path. Errors: Rejected, Unavailable, QueryError, all YokeError (errors.py).
 """
 
 from .errors import QueryError, Rejected, Unavailable, YokeError
-from .events import add, pin, remove, set_edge, unpin, unset_edge
+from .events import add_vertex, hold_pair, release_pair, remove_vertex, set_edge, unset_edge
 from .query import Query
 from .sender import Ack, Sender
 from .watcher import Watcher
 
 __all__ = ["Ack", "Query", "QueryError", "Rejected", "Sender", "Unavailable", "Watcher",
-           "YokeError", "add", "pin", "remove", "set_edge", "unpin", "unset_edge"]
+           "YokeError", "add_vertex", "hold_pair", "release_pair", "remove_vertex", "set_edge",
+           "unset_edge"]

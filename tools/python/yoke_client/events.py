@@ -1,18 +1,20 @@
 """Events as plain tuples, and their encoding.
 
-An event is ("add", u), ("set", u, v, w), ("unset", u, v), ("remove", u), ("pin", u, v) or
-("unpin", u, v), the event script's words (DESIGN.md section 6); the helpers below build them. A yoke.v1 Event message is accepted
-as is. Vertex keys are unsigned 64-bit integers; weights signed 64-bit.
+An event is ("add", u), ("set", u, v, w), ("unset", u, v), ("remove", u), ("hold", u, v) or
+("release", u, v), the event script's words (DESIGN.md section 6); the helpers below build them,
+one per wire kind (ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, HOLD_PAIR, RELEASE_PAIR). A
+yoke.v1 Event message is accepted as is. Vertex keys are unsigned 64-bit integers; weights
+signed 64-bit.
 """
 
 from yoke.v1 import events_pb2
 
 _KINDS = {"add": events_pb2.Event.ADD_VERTEX, "set": events_pb2.Event.SET_EDGE,
           "unset": events_pb2.Event.UNSET_EDGE, "remove": events_pb2.Event.REMOVE_VERTEX,
-          "pin": events_pb2.Event.PIN_PAIR, "unpin": events_pb2.Event.UNPIN_PAIR}
+          "hold": events_pb2.Event.HOLD_PAIR, "release": events_pb2.Event.RELEASE_PAIR}
 
 
-def add(u):
+def add_vertex(u):
     """Vertex u arrives with no edges."""
     return ("add", u)
 
@@ -27,20 +29,21 @@ def unset_edge(u, v):
     return ("unset", u, v)
 
 
-def remove(u):
+def remove_vertex(u):
     """Vertex u departs with all its edges."""
     return ("remove", u)
 
 
-def pin(u, v):
-    """The pair {u, v} stays matched, whatever the weights, until unpin(u, v), unset_edge(u, v)
-    or the departure of u or v. The edge {u, v} must exist and neither end be pinned already."""
-    return ("pin", u, v)
+def hold_pair(u, v):
+    """The pair {u, v} stays matched, whatever the weights, until release_pair(u, v),
+    unset_edge(u, v) or the departure of u or v. The edge {u, v} must exist and neither end be
+    held already."""
+    return ("hold", u, v)
 
 
-def unpin(u, v):
-    """The pinned pair {u, v} is optimised again."""
-    return ("unpin", u, v)
+def release_pair(u, v):
+    """The held pair {u, v} is optimised again."""
+    return ("release", u, v)
 
 
 def to_proto(event):

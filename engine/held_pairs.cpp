@@ -1,21 +1,21 @@
-#include "pinned_pairs.h"
+#include "held_pairs.h"
 
 #include <algorithm>
 
 namespace yoke {
 
-std::optional<VertexKey> PinnedPairs::partner(VertexKey key) const {
+std::optional<VertexKey> HeldPairs::partner(VertexKey key) const {
   const auto it = partner_.find(key);
   if (it == partner_.end()) return std::nullopt;
   return it->second;
 }
 
-bool PinnedPairs::is_pair(VertexKey a, VertexKey b) const {
+bool HeldPairs::is_pair(VertexKey a, VertexKey b) const {
   const auto it = partner_.find(a);
   return it != partner_.end() && it->second == b;
 }
 
-std::vector<std::pair<PinnedPairs::KeyPair, Weight>> PinnedPairs::pairs() const {
+std::vector<std::pair<HeldPairs::KeyPair, Weight>> HeldPairs::pairs() const {
   std::vector<std::pair<KeyPair, Weight>> out;
   out.reserve(size());
   for (const auto& [key, other] : partner_) {
@@ -25,19 +25,19 @@ std::vector<std::pair<PinnedPairs::KeyPair, Weight>> PinnedPairs::pairs() const 
   return out;
 }
 
-std::optional<Weight> PinnedPairs::aside_weight(VertexKey a, VertexKey b) const {
+std::optional<Weight> HeldPairs::aside_weight(VertexKey a, VertexKey b) const {
   const auto it = aside_.find(ordered(a, b));
   if (it == aside_.end()) return std::nullopt;
   return it->second;
 }
 
-std::vector<VertexKey> PinnedPairs::aside_at(VertexKey key) const {
+std::vector<VertexKey> HeldPairs::aside_at(VertexKey key) const {
   const auto it = aside_of_.find(key);
   if (it == aside_of_.end()) return {};
   return {it->second.begin(), it->second.end()};
 }
 
-void PinnedPairs::put_aside(VertexKey a, VertexKey b, Weight w) {
+void HeldPairs::put_aside(VertexKey a, VertexKey b, Weight w) {
   auto [it, inserted] = aside_.try_emplace(ordered(a, b), w);
   if (!inserted) {
     if (is_pair(a, b)) weight_ += w - it->second;
@@ -48,7 +48,7 @@ void PinnedPairs::put_aside(VertexKey a, VertexKey b, Weight w) {
   aside_of_[b].insert(a);
 }
 
-void PinnedPairs::erase_aside(VertexKey a, VertexKey b) {
+void HeldPairs::erase_aside(VertexKey a, VertexKey b) {
   if (aside_.erase(ordered(a, b)) == 0) return;
   for (const auto& [from, to] : {KeyPair{a, b}, KeyPair{b, a}}) {
     const auto it = aside_of_.find(from);
@@ -57,63 +57,63 @@ void PinnedPairs::erase_aside(VertexKey a, VertexKey b) {
   }
 }
 
-void PinnedPairs::pin(VertexKey a, VertexKey b) {
+void HeldPairs::hold(VertexKey a, VertexKey b) {
   partner_[a] = b;
   partner_[b] = a;
   weight_ += aside_.at(ordered(a, b));
 }
 
-void PinnedPairs::unpin(VertexKey a, VertexKey b) {
+void HeldPairs::release(VertexKey a, VertexKey b) {
   partner_.erase(a);
   partner_.erase(b);
   weight_ -= aside_.at(ordered(a, b));
 }
 
-bool PinnedPairs::weights_within(Weight bound) const {
+bool HeldPairs::weights_within(Weight bound) const {
   return std::all_of(aside_.begin(), aside_.end(),
                      [bound](const auto& edge) { return edge.second <= bound && edge.second >= -bound; });
 }
 
-void PinnedPairs::save(ByteWriter& out) const {
+void HeldPairs::save(ByteWriter& out) const {
   out.put<std::uint64_t>(aside_.size());
   for (const auto& [pair, w] : aside_) {
     out.put(pair.first);
     out.put(pair.second);
     out.put(w);
   }
-  const auto pinned = pairs();
-  out.put<std::uint64_t>(pinned.size());
-  for (const auto& [pair, w] : pinned) {
+  const auto held_now = pairs();
+  out.put<std::uint64_t>(held_now.size());
+  for (const auto& [pair, w] : held_now) {
     out.put(pair.first);
     out.put(pair.second);
   }
 }
 
-PinnedPairs PinnedPairs::load(ByteReader& in) {
-  PinnedPairs pins;
+HeldPairs HeldPairs::load(ByteReader& in) {
+  HeldPairs holds;
   const auto edges = in.get<std::uint64_t>();
   for (std::uint64_t i = 0; i < edges; ++i) {
     const auto a = in.get<VertexKey>();
     const auto b = in.get<VertexKey>();
     const auto w = in.get<Weight>();
-    if (a >= b || pins.aside_.contains({a, b})) ByteReader::fail("an edge aside is malformed");
-    pins.put_aside(a, b, w);
+    if (a >= b || holds.aside_.contains({a, b})) ByteReader::fail("an edge aside is malformed");
+    holds.put_aside(a, b, w);
   }
   const auto count = in.get<std::uint64_t>();
   for (std::uint64_t i = 0; i < count; ++i) {
     const auto a = in.get<VertexKey>();
     const auto b = in.get<VertexKey>();
-    if (a >= b || pins.pinned(a) || pins.pinned(b) || !pins.aside_.contains({a, b})) {
-      ByteReader::fail("a pinned pair is malformed");
+    if (a >= b || holds.held(a) || holds.held(b) || !holds.aside_.contains({a, b})) {
+      ByteReader::fail("a held pair is malformed");
     }
-    pins.pin(a, b);
+    holds.hold(a, b);
   }
-  for (const auto& [pair, w] : pins.aside_) {
-    if (!pins.pinned(pair.first) && !pins.pinned(pair.second)) {
-      ByteReader::fail("an edge aside has no pinned end");
+  for (const auto& [pair, w] : holds.aside_) {
+    if (!holds.held(pair.first) && !holds.held(pair.second)) {
+      ByteReader::fail("an edge aside has no held end");
     }
   }
-  return pins;
+  return holds;
 }
 
 }  // namespace yoke
