@@ -397,7 +397,7 @@ class Daemon:
         if reply.HasField("error"):
             raise AssertionError(f"matching of {pool}: {reply.error}")
         m = reply.matching
-        return m.seq, m.weight, {(p.a, p.b) for p in m.pairs}
+        return m.seq, m.weight, {(p.a, p.b) for p in m.matching}
 
     def metrics_text(self):
         with urllib.request.urlopen(self.metrics_url, timeout=10 * SLOWDOWN) as response:

@@ -268,7 +268,7 @@ class BadInputTest(unittest.TestCase):
         result = self.daemon.yoke("query", "matching", "--pool", "nowhere", expect=2)
         self.assertIn("UNKNOWN_POOL", result.stderr)
         mate = self.daemon.yoke_json("query", "mate", "--vertex", "3")
-        self.assertEqual((mate["mate"], mate["weight"]), (4, 20))
+        self.assertEqual((mate["mate"], mate["pair_weight"]), (4, 20))
         # The query socket refuses garbage too, and keeps serving.
         sock = _context.socket(zmq.DEALER)
         sock.setsockopt(zmq.LINGER, 0)
