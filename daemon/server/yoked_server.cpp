@@ -125,7 +125,7 @@ void YokedServer::on_ingest_message() {
       const v1::Error& first = ack->rejected().errors(0);
       log_event(LogLevel::warn, "batch_rejected",
                 {{"pool", ack->pool()},
-                 {"client", ack->client_id()},
+                 {"client_id", ack->client_id()},
                  {"client_batch", ack->client_batch()},
                  {"code", error_code_name(first.code())},
                  {"reason", first.message()}});
