@@ -9,6 +9,7 @@
 #include "daemon/config/endpoint_address.h"
 #include "daemon/logging/log_event.h"
 #include "daemon/metrics/http_endpoint.h"
+#include "daemon/service/batch_decoder.h"
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
@@ -123,12 +124,17 @@ void YokedServer::on_ingest_message() {
   if (ack) {
     if (ack->has_rejected()) {
       const v1::Error& first = ack->rejected().errors(0);
-      log_event(LogLevel::warn, "batch_rejected",
-                {{"pool", ack->pool()},
-                 {"client_id", ack->client_id()},
-                 {"client_batch", ack->client_batch()},
-                 {"code", error_code_name(first.code())},
-                 {"reason", first.message()}});
+      if (refuses_unread_message(*ack)) {
+        log_event(LogLevel::warn, "message_rejected",
+                  {{"code", error_code_name(first.code())}, {"reason", first.message()}});
+      } else {
+        log_event(LogLevel::warn, "batch_rejected",
+                  {{"pool", ack->pool()},
+                   {"client_id", ack->client_id()},
+                   {"client_batch", ack->client_batch()},
+                   {"code", error_code_name(first.code())},
+                   {"reason", first.message()}});
+      }
     }
     metrics_->acknowledged(*ack);
     v1::IngestReply reply;
