@@ -1,4 +1,4 @@
-// The root event of each change of pairs: on small pools where the cause is known by
+// The cause of each change of pairs: on small pools where the cause is known by
 // construction (common knowledge: the only event that can break or make a pair here is the one
 // named in each test).
 #include <gtest/gtest.h>

@@ -164,7 +164,7 @@ class Run {
   // Hands the journal back for the next input, without the segments this one filled.
   ~Run() {
     fixture_.journal.emplace(std::move(service_.journal()));
-    fixture_.journal->drop_before(fixture_.journal->next_seq());
+    fixture_.journal->drop_before(fixture_.journal->next_position());
   }
 
   void ingest(std::string_view message);
@@ -174,7 +174,7 @@ class Run {
 
  private:
   static ServiceState initial_state(const Fixture& fixture) {
-    const std::uint64_t next = fixture.journal->next_seq();
+    const std::uint64_t next = fixture.journal->next_position();
     return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {},
                         next == 0 ? 1 : next};
   }

@@ -249,7 +249,7 @@ class ReplayRun {
 
   // Commits one batch (already checked) and prints its lines. Returns kExitCertificateRejected
   // when --verify finds the certificate failing (the message is on stderr), else nothing.
-  // `seq`: the daemon's sequence number after this commit, printed for journal replays.
+  // `seq`: the pool's sequence number after this commit, printed for journal replays.
   std::optional<int> commit(Pool& pool, std::span<const Event> events,
                             std::optional<std::uint64_t> seq = std::nullopt) {
     ++index_;

@@ -97,8 +97,8 @@ void print_answers(const ReplayOptions& options, const WhySource& source,
   if (!out) throw CliError("cannot write the result to stdout");
 }
 
-// Notes on the way (a start from a snapshot, a seq inside a commit): on stdout with the text answers,
-// on stderr with --json so that stdout stays one object per line.
+// Notes on the way (a start from a snapshot, a seq inside a commit): on stdout with the text
+// answers, on stderr with --json so that stdout stays one object per line.
 std::ostream& note_stream(const ReplayOptions& options) {
   return options.json ? std::cerr : std::cout;
 }
