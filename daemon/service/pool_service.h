@@ -67,7 +67,8 @@ class PoolService {
   journal::Journal& journal() { return journal_; }
   std::uint64_t next_journal_position() const { return state_.next_journal_position; }
 
-  // Refusals by error code over the daemon's life, for metrics.
+  // Refusals by error code over the daemon's life: of batches and of messages not read as one
+  // (refuses_unread_message tells them apart).
   const std::map<v1::Error::Code, std::uint64_t>& refusals() const { return refusals_; }
 
  private:

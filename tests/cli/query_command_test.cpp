@@ -75,7 +75,7 @@ TEST(QueryCommand, SummaryPrintsOneObject) {
   EXPECT_TRUE(run.requests[0].has_summary());
 }
 
-TEST(QueryCommand, MateAndExplainCarryTheVertexAndLimit) {
+TEST(QueryCommand, MateAndExplainCarryTheVertexAndAlternatives) {
   const QueryRun mate = run_query({"mate", "--vertex", "18446744073709551615"},
                                   [](const QueryRequest& request) {
                                     QueryReply reply;

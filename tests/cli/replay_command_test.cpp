@@ -131,7 +131,7 @@ TEST(ReplayCommand, PathWhoseMiddleEdgeRisesAndGoes) {
             "+ 3 4\n");
 }
 
-TEST(ReplayCommand, DepartureAndReturnOfAVertex) {
+TEST(ReplayCommand, RemovalAndReturnOfAVertex) {
   TempDir dir;
   const RunResult run = replay(dir,
                                "set 10 20 8\n"

@@ -139,7 +139,7 @@ TEST(JournalCorruption, SegmentRenamed) {
                     "header says the first position is 1, the file name says 2");
 }
 
-TEST(JournalCorruption, MissingSegmentIsASequenceGap) {
+TEST(JournalCorruption, MissingSegmentIsAPositionGap) {
   TempDir dir;
   write_journal(dir.path());
   const auto files = segment_files(dir.path());

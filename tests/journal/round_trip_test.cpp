@@ -148,7 +148,7 @@ TEST(JournalRoundTrip, MaximumRecordSize) {
   EXPECT_THROW(Journal::open(other.path(), too_large), Error);
 }
 
-TEST(JournalRoundTrip, SequenceNumbersMustRiseByOne) {
+TEST(JournalRoundTrip, PositionsMustRiseByOne) {
   TempDir dir;
   Journal journal = Journal::open(dir.path(), small_segments(4096));
   EXPECT_THROW(journal.append(0, "zero"), Error);
