@@ -4,7 +4,7 @@
 // forest; the journal remembers, for each vertex written since it was opened, the mate it had
 // then. The diff of a commit is read from the journal: O(vertices written), never O(n).
 // Writes are tagged with the event they go back to (set_cause), so that every change of pairs
-// can name its root event.
+// can name its cause.
 #pragma once
 
 #include <cstdint>

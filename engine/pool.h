@@ -46,7 +46,7 @@ struct MatchedPair {
 // How the matching changed in one commit: the pairs it lost and the pairs it gained, each
 // sorted by (a, b). A pair whose weight changed but stayed matched is in neither list.
 //
-// Each change has a root event: the event whose repair broke the pair (an edge that fell or
+// Each change has a cause: the event whose repair broke the pair (an edge that fell or
 // left, a vertex that left, a rise that made a rival edge worth more) or, for a gained pair,
 // the event that queued the search that formed it. removed_cause[i] belongs to removed[i],
 // added_cause[i] to added[i].

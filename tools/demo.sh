@@ -170,7 +170,7 @@ print(f"  {yoke} replay {data} --pool quillory --report quillory-report.html"
       "      # the evening as a report")
 courier = result.get("busy_courier")
 if courier is not None:
-    print(f"  {yoke} replay {data} --pool quillory --vertex {courier}"
+    print(f"  {yoke} replay {data} --pool quillory --history {courier}"
           f"      # courier {courier}: paired {result['busy_courier_pairings']} times")
     print(f"  {yoke} replay {data} --pool quillory --explain {courier} --until {seq // 2}"
           f"      # why it was paired so at seq {seq // 2}")

@@ -24,9 +24,9 @@ void Journal::State::check_usable() const {
   }
 }
 
-void Journal::State::start_segment(std::uint64_t first_seq) {
-  writer = SegmentWriter::create(segment_path(dir, first_seq), first_seq);
-  segments.push_back(first_seq);
+void Journal::State::start_segment(std::uint64_t first_position) {
+  writer = SegmentWriter::create(segment_path(dir, first_position), first_position);
+  segments.push_back(first_position);
   directory_unsynced = true;
 }
 
@@ -49,37 +49,37 @@ Journal::~Journal() = default;
 
 const std::filesystem::path& Journal::directory() const { return state_->dir; }
 const Recovery& Journal::recovery() const { return state_->recovery; }
-std::uint64_t Journal::first_seq() const {
+std::uint64_t Journal::first_position() const {
   return state_->segments.empty() ? 0 : state_->segments.front();
 }
-std::uint64_t Journal::next_seq() const { return state_->next_seq; }
+std::uint64_t Journal::next_position() const { return state_->next_position; }
 
-void Journal::append(std::uint64_t seq, std::string_view payload) {
+void Journal::append(std::uint64_t position, std::string_view payload) {
   State& s = *state_;
   s.check_usable();
   if (payload.size() > s.options.max_record_bytes) {
-    throw Error("journal: record " + std::to_string(seq) + " of " +
+    throw Error("journal: record " + std::to_string(position) + " of " +
                 std::to_string(payload.size()) + " bytes exceeds the maximum record size of " +
                 std::to_string(s.options.max_record_bytes) + " bytes");
   }
-  if (seq == 0 || seq == std::numeric_limits<std::uint64_t>::max()) {
-    throw Error("journal: sequence number " + std::to_string(seq) + " is out of range");
+  if (position == 0 || position == std::numeric_limits<std::uint64_t>::max()) {
+    throw Error("journal: position " + std::to_string(position) + " is out of range");
   }
-  if (s.next_seq != 0 && seq != s.next_seq) {
-    throw Error("journal: append of sequence number " + std::to_string(seq) + ", expected " +
-                std::to_string(s.next_seq));
+  if (s.next_position != 0 && position != s.next_position) {
+    throw Error("journal: append of position " + std::to_string(position) + ", expected " +
+                std::to_string(s.next_position));
   }
   s.guarded([&] {
     const std::uint64_t bytes = format::kRecordHeaderBytes + payload.size();
     if (!s.writer.is_open()) {
-      s.start_segment(seq);
+      s.start_segment(position);
     } else if (s.writer.holds_records() && s.writer.size() + bytes > s.options.segment_bytes) {
       // Under every policy: only the last segment may ever be torn (FORMAT.md).
       s.writer.sync();
-      s.start_segment(seq);
+      s.start_segment(position);
     }
-    s.writer.add(seq, payload);
-    s.next_seq = seq + 1;
+    s.writer.add(position, payload);
+    s.next_position = position + 1;
     if (s.options.durability == Durability::every_batch) s.sync();
   });
 }
@@ -90,17 +90,17 @@ void Journal::sync() {
   s.guarded([&] { s.sync(); });
 }
 
-Reader Journal::read_after(std::uint64_t after_seq) {
+Reader Journal::read_after(std::uint64_t after_position) {
   State& s = *state_;
   if (!s.failed && s.writer.is_open()) s.guarded([&] { s.writer.flush(); });
-  return Reader(s.dir, after_seq);
+  return Reader(s.dir, after_position);
 }
 
-std::size_t Journal::drop_before(std::uint64_t seq) {
+std::size_t Journal::drop_before(std::uint64_t position) {
   State& s = *state_;
   std::size_t dropped = 0;
   // Segment i holds segments[i] .. segments[i+1] - 1; the last one is never dropped.
-  while (s.segments.size() >= 2 && s.segments[1] <= seq) {
+  while (s.segments.size() >= 2 && s.segments[1] <= position) {
     const std::filesystem::path file = segment_path(s.dir, s.segments.front());
     std::error_code error;
     std::filesystem::remove(file, error);

@@ -1,4 +1,4 @@
-// The journal: an append-only log of opaque records, numbered by consecutive sequence numbers,
+// The journal: an append-only log of opaque records, numbered by consecutive positions,
 // in a directory of checksummed segment files (FORMAT.md). The daemon appends one record per
 // batch, syncs once per group commit, acknowledges after sync() returns, and after a crash
 // replays the records after its newest snapshot.
@@ -62,30 +62,32 @@ class Journal {
 
   const std::filesystem::path& directory() const;
   const Recovery& recovery() const;
-  // The journal holds records first_seq() .. next_seq() - 1; both are 0 while it holds no
-  // segment, and then the first append may carry any sequence number >= 1.
-  std::uint64_t first_seq() const;
-  std::uint64_t next_seq() const;
+  // The journal holds records first_position() .. next_position() - 1; both are 0 while it
+  // holds no segment, and then the first append may carry any position >= 1.
+  std::uint64_t first_position() const;
+  std::uint64_t next_position() const;
 
-  // Appends a record with sequence number seq, which must be next_seq() (or any seq >= 1 for
-  // an empty journal). Throws Error, changing nothing, for a wrong seq or a payload longer than
-  // max_record_bytes. Buffered: durable after the next sync() (at once under every_batch).
+  // Appends a record at `position`, which must be next_position() (or any position >= 1 for
+  // an empty journal). Throws Error, changing nothing, for a wrong position or a payload longer
+  // than max_record_bytes. Buffered: durable after the next sync() (at once under every_batch).
   // Starts a new segment when the current one is full, first making the full one durable.
   // Amortised O(payload).
-  void append(std::uint64_t seq, std::string_view payload);
+  void append(std::uint64_t position, std::string_view payload);
 
   // Makes every record appended so far durable (see Durability); returns when it is. O(bytes
   // since the last sync) plus one fdatasync.
   void sync();
 
-  // Reads the records with seq > after_seq, including those appended but not yet synced.
+  // Reads the records with position > after_position, including those appended but not yet
+  // synced.
   // The reader sees the records appended before this call.
-  Reader read_after(std::uint64_t after_seq);
+  Reader read_after(std::uint64_t after_position);
 
-  // Deletes the segments whose records all have seq < seq (after a snapshot at seq - 1 or
-  // later), oldest first; never the segment being appended to. Returns how many it deleted.
+  // Deletes the segments whose records all have a position below `position` (after a snapshot
+  // at position - 1 or later), oldest first; never the segment being appended to. Returns how
+  // many it deleted.
   // O(segments deleted).
-  std::size_t drop_before(std::uint64_t seq);
+  std::size_t drop_before(std::uint64_t position);
 
  private:
   struct State;

@@ -8,7 +8,7 @@
 
 namespace yoke::journal {
 
-// Misuse (a sequence number out of order, a record over the size limit), a failed system call,
+// Misuse (a position out of order, a record over the size limit), a failed system call,
 // or a journal that cannot be opened. The message says which file and why.
 class Error : public std::runtime_error {
  public:

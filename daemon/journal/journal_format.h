@@ -11,23 +11,23 @@ namespace yoke::journal::format {
 inline constexpr std::string_view kMagic = "YOKEJRNL";
 inline constexpr std::uint32_t kVersion = 1;
 
-// Segment header: magic, version, first sequence number, CRC-32C of the preceding bytes.
+// Segment header: magic, version, first position, CRC-32C of the preceding bytes.
 inline constexpr std::size_t kHeaderMagicOffset = 0;
 inline constexpr std::size_t kHeaderVersionOffset = 8;
-inline constexpr std::size_t kHeaderFirstSeqOffset = 12;
+inline constexpr std::size_t kHeaderFirstPositionOffset = 12;
 inline constexpr std::size_t kHeaderChecksumOffset = 20;
 inline constexpr std::size_t kSegmentHeaderBytes = 24;
 
-// Record header: payload length, CRC-32C (of length, sequence number, payload), sequence number.
+// Record header: payload length, CRC-32C (of length, position, payload), position.
 inline constexpr std::size_t kRecordLengthOffset = 0;
 inline constexpr std::size_t kRecordChecksumOffset = 4;
-inline constexpr std::size_t kRecordSeqOffset = 8;
+inline constexpr std::size_t kRecordPositionOffset = 8;
 inline constexpr std::size_t kRecordHeaderBytes = 16;
 
 // No payload is longer, whatever the writer's own limit: a reader never trusts a larger length.
 inline constexpr std::uint32_t kMaxPayloadBytes = std::uint32_t{1} << 30;
 
-// Segment file names: the first sequence number in this many decimal digits, then the suffix.
+// Segment file names: the first position in this many decimal digits, then the suffix.
 inline constexpr std::size_t kSegmentNameDigits = 20;
 inline constexpr std::string_view kSegmentSuffix = ".seg";
 

@@ -59,7 +59,7 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
   state->segments = scan.segments();
   if (scan.tail()) state->cut_tail(*scan.tail());
 
-  state->next_seq = state->segments.empty() ? 0 : scan.next_seq();
+  state->next_position = state->segments.empty() ? 0 : scan.next_position();
   if (!state->segments.empty()) {
     state->writer = SegmentWriter::reopen(segment_path(dir, state->segments.back()));
   }

@@ -10,11 +10,11 @@ namespace yoke::journal {
 
 struct Reader::State {
   std::filesystem::path dir;
-  std::uint64_t after_seq = 0;
+  std::uint64_t after_position = 0;
   std::vector<std::uint64_t> segments;
   std::size_t index = 0;  // segment being read, or to open next
   std::optional<SegmentReader> current;
-  std::uint64_t next_seq = 0;
+  std::uint64_t next_position = 0;
   std::optional<TailCut> tail;
   bool done = false;
 
@@ -27,23 +27,26 @@ struct Reader::State {
 
 Reader::Reader(std::unique_ptr<State> state) : state_(std::move(state)) {}
 
-Reader::Reader(const std::filesystem::path& dir, std::uint64_t after_seq)
+Reader::Reader(const std::filesystem::path& dir, std::uint64_t after_position)
     : state_(std::make_unique<State>()) {
   State& s = *state_;
   s.dir = dir;
-  s.after_seq = after_seq;
+  s.after_position = after_position;
   s.segments = list_segments(dir);
   if (s.segments.empty()) {
     s.done = true;
     return;
   }
-  if (after_seq < s.segments.front() - 1) {
-    throw Error("journal: " + dir.string() + " starts at sequence number " +
+  if (after_position < s.segments.front() - 1) {
+    throw Error("journal: " + dir.string() + " starts at position " +
                 std::to_string(s.segments.front()) + ": records after " +
-                std::to_string(after_seq) + " are missing");
+                std::to_string(after_position) + " are missing");
   }
-  // Segment i holds seq segments[i] .. segments[i+1]-1: skip those ending at or below after_seq.
-  while (s.index + 1 < s.segments.size() && s.segments[s.index + 1] <= after_seq + 1) ++s.index;
+  // Segment i holds positions segments[i] .. segments[i+1]-1: skip those ending at or below
+  // after_position.
+  while (s.index + 1 < s.segments.size() && s.segments[s.index + 1] <= after_position + 1) {
+    ++s.index;
+  }
 }
 
 Reader Reader::from_start(const std::filesystem::path& dir) {
@@ -63,12 +66,12 @@ bool Reader::State::open_segment() {
     return false;
   }
   // Past the first segment read, each must begin right after the one before.
-  if (next_seq != 0 && first != next_seq) {
+  if (next_position != 0 && first != next_position) {
     throw Corruption(current->file(), 0,
-                     "sequence gap: the segment starts at " + std::to_string(first) +
-                         " but the previous segment ends at " + std::to_string(next_seq - 1));
+                     "position gap: the segment starts at " + std::to_string(first) +
+                         " but the previous segment ends at " + std::to_string(next_position - 1));
   }
-  next_seq = first;
+  next_position = first;
   return true;
 }
 
@@ -85,8 +88,8 @@ std::optional<Record> Reader::next() {
   while (!s.done) {
     if (!s.current && !s.open_segment()) break;
     if (auto record = s.current->next()) {
-      s.next_seq = record->seq + 1;
-      if (record->seq > s.after_seq) return record;
+      s.next_position = record->position + 1;
+      if (record->position > s.after_position) return record;
       continue;
     }
     if (s.current->damage()) {
@@ -100,7 +103,7 @@ std::optional<Record> Reader::next() {
 }
 
 const std::optional<TailCut>& Reader::tail() const { return state_->tail; }
-std::uint64_t Reader::next_seq() const { return state_->next_seq; }
+std::uint64_t Reader::next_position() const { return state_->next_position; }
 const std::vector<std::uint64_t>& Reader::segments() const { return state_->segments; }
 
 }  // namespace yoke::journal

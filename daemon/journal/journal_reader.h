@@ -1,4 +1,4 @@
-// Reading a journal in sequence order, every record checked on the way (FORMAT.md). Read only:
+// Reading a journal in position order, every record checked on the way (FORMAT.md). Read only:
 // a Reader never changes the files, so it can look at the journal of a running daemon.
 #pragma once
 
@@ -14,7 +14,7 @@ namespace yoke::journal {
 
 // One record as read. The payload stays valid until the reader's next call to next().
 struct Record {
-  std::uint64_t seq = 0;
+  std::uint64_t position = 0;
   std::string_view payload;
 };
 
@@ -28,9 +28,9 @@ struct TailCut {
 
 class Reader {
  public:
-  // Reads the records with seq > after_seq, in order. Throws Error when the journal starts
-  // after after_seq + 1 (the records in between were dropped) or cannot be listed.
-  Reader(const std::filesystem::path& dir, std::uint64_t after_seq);
+  // Reads the records with position > after_position, in order. Throws Error when the journal
+  // starts after after_position + 1 (the records in between were dropped) or cannot be listed.
+  Reader(const std::filesystem::path& dir, std::uint64_t after_position);
   // Reads every record the journal holds.
   static Reader from_start(const std::filesystem::path& dir);
 
@@ -42,16 +42,16 @@ class Reader {
 
   // The next record; nullopt at the end of the journal, or at damage in the last segment (then
   // tail() says where). Throws Corruption for damage anywhere else, after returning the
-  // records before it. Segments holding only records <= after_seq are not read at all; the
+  // records before it. Segments holding only records <= after_position are not read at all; the
   // rest costs O(bytes read).
   std::optional<Record> next();
 
   // Set once next() has stopped at a damaged tail.
   const std::optional<TailCut>& tail() const;
-  // The sequence number after the last good record read so far (records skipped because they
-  // are <= after_seq count as read); 0 until a segment has been opened.
-  std::uint64_t next_seq() const;
-  // The first sequence numbers of the segments in the directory when the reader started.
+  // The position after the last good record read so far (records skipped because they
+  // are <= after_position count as read); 0 until a segment has been opened.
+  std::uint64_t next_position() const;
+  // The first positions of the segments in the directory when the reader started.
   const std::vector<std::uint64_t>& segments() const;
 
  private:

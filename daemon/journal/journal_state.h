@@ -15,9 +15,9 @@ struct Journal::State {
   std::filesystem::path dir;
   Options options;
   FileDescriptor dir_fd;                // holds the directory lock; fsync'ed for new entries
-  std::vector<std::uint64_t> segments;  // first sequence numbers, ascending; the last is open
+  std::vector<std::uint64_t> segments;  // first positions, ascending; the last is open
   SegmentWriter writer;                 // the last segment
-  std::uint64_t next_seq = 0;           // 0: no segment yet, any first seq goes
+  std::uint64_t next_position = 0;      // 0: no segment yet, any first position goes
   bool directory_unsynced = false;      // a segment created since the last directory fsync
   bool failed = false;                  // a write or sync failed: see journal.h
   Recovery recovery;
@@ -42,7 +42,7 @@ struct Journal::State {
   // Removes a damaged tail found by recovery: the bytes from the cut on, or the whole file when
   // its header was torn. Durable before any record is written after it.
   void cut_tail(const TailCut& cut);
-  void start_segment(std::uint64_t first_seq);
+  void start_segment(std::uint64_t first_position);
   void sync();
 };
 

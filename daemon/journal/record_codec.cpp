@@ -24,19 +24,19 @@ std::uint64_t get_le(std::string_view bytes, std::size_t offset, int count) {
 
 }  // namespace
 
-void append_segment_header(std::string& out, std::uint64_t first_seq) {
+void append_segment_header(std::string& out, std::uint64_t first_position) {
   const std::size_t start = out.size();
   out.append(kMagic);
   put_le(out, kVersion, 4);
-  put_le(out, first_seq, 8);
+  put_le(out, first_position, 8);
   put_le(out, crc32c(std::string_view(out).substr(start, kHeaderChecksumOffset)), 4);
 }
 
-void append_record(std::string& out, std::uint64_t seq, std::string_view payload) {
+void append_record(std::string& out, std::uint64_t position, std::string_view payload) {
   const std::size_t start = out.size();
   put_le(out, payload.size(), 4);
   put_le(out, 0, 4);  // checksum, filled in below
-  put_le(out, seq, 8);
+  put_le(out, position, 8);
   out.append(payload);
   const std::string_view header = std::string_view(out).substr(start, kRecordHeaderBytes);
   const std::uint32_t crc = record_checksum(header, payload);
@@ -80,7 +80,7 @@ HeaderCheck check_segment_header(std::string_view bytes) {
     check.reason = "segment header checksum mismatch";
     return check;
   }
-  check.first_seq = get_le(bytes, kHeaderFirstSeqOffset, 8);
+  check.first_position = get_le(bytes, kHeaderFirstPositionOffset, 8);
   return check;
 }
 
@@ -88,14 +88,14 @@ RecordHeader decode_record_header(std::string_view bytes) {
   RecordHeader header;
   header.length = static_cast<std::uint32_t>(get_le(bytes, kRecordLengthOffset, 4));
   header.checksum = static_cast<std::uint32_t>(get_le(bytes, kRecordChecksumOffset, 4));
-  header.seq = get_le(bytes, kRecordSeqOffset, 8);
+  header.position = get_le(bytes, kRecordPositionOffset, 8);
   return header;
 }
 
 // The checksum covers the length and everything after the checksum field.
 std::uint32_t record_checksum(std::string_view header_bytes, std::string_view payload) {
   std::uint32_t crc = crc32c(header_bytes.substr(kRecordLengthOffset, 4));
-  crc = crc32c_extend(crc, header_bytes.substr(kRecordSeqOffset, 8));
+  crc = crc32c_extend(crc, header_bytes.substr(kRecordPositionOffset, 8));
   return crc32c_extend(crc, payload);
 }
 

@@ -8,11 +8,11 @@
 
 namespace yoke::journal {
 
-// Appends the segment header for a segment whose first record is first_seq.
-void append_segment_header(std::string& out, std::uint64_t first_seq);
-// Appends one record: header (length, checksum, sequence number), then the payload.
+// Appends the segment header for a segment whose first record is first_position.
+void append_segment_header(std::string& out, std::uint64_t first_position);
+// Appends one record: header (length, checksum, position), then the payload.
 // Precondition: payload.size() <= format::kMaxPayloadBytes.
-void append_record(std::string& out, std::uint64_t seq, std::string_view payload);
+void append_record(std::string& out, std::uint64_t position, std::string_view payload);
 
 // What a segment header says, or why it cannot be trusted.
 struct HeaderCheck {
@@ -24,7 +24,7 @@ struct HeaderCheck {
     bad_checksum,
   };
   Verdict verdict = Verdict::ok;
-  std::uint64_t first_seq = 0;  // when ok
+  std::uint64_t first_position = 0;  // when ok
   std::string reason;           // when not ok
 };
 // `bytes` is the start of the file (all of it, if shorter than a header).
@@ -33,7 +33,7 @@ HeaderCheck check_segment_header(std::string_view bytes);
 struct RecordHeader {
   std::uint32_t length = 0;
   std::uint32_t checksum = 0;
-  std::uint64_t seq = 0;
+  std::uint64_t position = 0;
 };
 // Precondition: bytes.size() == format::kRecordHeaderBytes.
 RecordHeader decode_record_header(std::string_view bytes);

@@ -9,14 +9,14 @@ namespace yoke::journal {
 
 using namespace format;
 
-std::string segment_file_name(std::uint64_t first_seq) {
-  std::string digits = std::to_string(first_seq);
+std::string segment_file_name(std::uint64_t first_position) {
+  std::string digits = std::to_string(first_position);
   return std::string(kSegmentNameDigits - digits.size(), '0') + digits +
          std::string(kSegmentSuffix);
 }
 
-std::filesystem::path segment_path(const std::filesystem::path& dir, std::uint64_t first_seq) {
-  return dir / segment_file_name(first_seq);
+std::filesystem::path segment_path(const std::filesystem::path& dir, std::uint64_t first_position) {
+  return dir / segment_file_name(first_position);
 }
 
 std::optional<std::uint64_t> parse_segment_file_name(std::string_view name) {
@@ -31,7 +31,7 @@ std::optional<std::uint64_t> parse_segment_file_name(std::string_view name) {
     if (value > (UINT64_MAX - digit) / 10) return std::nullopt;  // past 2^64 - 1
     value = value * 10 + digit;
   }
-  if (value == 0) return std::nullopt;  // sequence numbers start at 1
+  if (value == 0) return std::nullopt;  // positions start at 1
   return value;
 }
 

@@ -1,4 +1,4 @@
-// Segment file names: the first sequence number, zero-padded to 20 digits, then ".seg".
+// Segment file names: the first position, zero-padded to 20 digits, then ".seg".
 #pragma once
 
 #include <cstdint>
@@ -10,11 +10,11 @@
 
 namespace yoke::journal {
 
-std::string segment_file_name(std::uint64_t first_seq);
-std::filesystem::path segment_path(const std::filesystem::path& dir, std::uint64_t first_seq);
-// The first sequence number a segment file name stands for; nullopt if it is not one.
+std::string segment_file_name(std::uint64_t first_position);
+std::filesystem::path segment_path(const std::filesystem::path& dir, std::uint64_t first_position);
+// The first position a segment file name stands for; nullopt if it is not one.
 std::optional<std::uint64_t> parse_segment_file_name(std::string_view name);
-// The first sequence numbers of the segments in dir, ascending. Files not ending in ".seg" are
+// The first positions of the segments in dir, ascending. Files not ending in ".seg" are
 // ignored; one that does but is not a segment name is an Error (a stray copy, a typo), since
 // skipping it could hide records. O(files in dir).
 std::vector<std::uint64_t> list_segments(const std::filesystem::path& dir);

@@ -12,8 +12,8 @@ namespace yoke::journal {
 
 using namespace format;
 
-SegmentReader::SegmentReader(const std::filesystem::path& file, std::uint64_t first_seq)
-    : file_(file), expected_seq_(first_seq) {
+SegmentReader::SegmentReader(const std::filesystem::path& file, std::uint64_t first_position)
+    : file_(file), expected_position_(first_position) {
   FileDescriptor fd = open_file(file_, O_RDONLY);
   size_ = journal::file_size(fd, file_);
   input_.emplace(std::move(fd), file_);
@@ -25,10 +25,10 @@ SegmentReader::SegmentReader(const std::filesystem::path& file, std::uint64_t fi
     set_damage(Damage::Kind::torn_header, 0, check.reason);
   } else if (check.verdict != HeaderCheck::Verdict::ok) {
     set_damage(Damage::Kind::bad_header, 0, check.reason);
-  } else if (check.first_seq != first_seq) {
-    set_damage(Damage::Kind::bad_header, kHeaderFirstSeqOffset,
-               "header says the first sequence number is " + std::to_string(check.first_seq) +
-                   ", the file name says " + std::to_string(first_seq));
+  } else if (check.first_position != first_position) {
+    set_damage(Damage::Kind::bad_header, kHeaderFirstPositionOffset,
+               "header says the first position is " + std::to_string(check.first_position) +
+                   ", the file name says " + std::to_string(first_position));
   }
   offset_ = kSegmentHeaderBytes;
 }
@@ -62,15 +62,15 @@ std::optional<Record> SegmentReader::next() {
     set_damage(Damage::Kind::bad_record, offset_, "record checksum mismatch");
     return std::nullopt;
   }
-  if (header.seq != expected_seq_) {
+  if (header.position != expected_position_) {
     set_damage(Damage::Kind::bad_record, offset_,
-               "record has sequence number " + std::to_string(header.seq) + ", expected " +
-                   std::to_string(expected_seq_));
+               "record has position " + std::to_string(header.position) + ", expected " +
+                   std::to_string(expected_position_));
     return std::nullopt;
   }
   offset_ += kRecordHeaderBytes + header.length;
-  ++expected_seq_;
-  return Record{header.seq, payload_};
+  ++expected_position_;
+  return Record{header.position, payload_};
 }
 
 void SegmentReader::set_damage(Damage::Kind kind, std::uint64_t offset, std::string reason) {

@@ -16,8 +16,8 @@ namespace yoke::journal {
 struct Damage {
   enum class Kind {
     torn_header,  // header cut short or zeroed: the file was being created
-    bad_header,   // wrong magic, version, checksum or first sequence number
-    bad_record,   // a record cut short, or failing its length, checksum or sequence check
+    bad_header,   // wrong magic, version, checksum or first position
+    bad_record,   // a record cut short, or failing its length, checksum or position check
   };
   Kind kind = Kind::bad_record;
   std::uint64_t offset = 0;
@@ -26,9 +26,9 @@ struct Damage {
 
 class SegmentReader {
  public:
-  // Opens the segment file and checks its header against first_seq (from its name). Throws
+  // Opens the segment file and checks its header against first_position (from its name). Throws
   // Error only when a system call fails.
-  SegmentReader(const std::filesystem::path& file, std::uint64_t first_seq);
+  SegmentReader(const std::filesystem::path& file, std::uint64_t first_position);
 
   // The next good record (payload valid until the next call); nullopt at the end of the file
   // or at damage (then damage() is set and every later call returns nullopt).
@@ -37,8 +37,8 @@ class SegmentReader {
   const std::optional<Damage>& damage() const { return damage_; }
   const std::filesystem::path& file() const { return file_; }
   std::uint64_t file_size() const { return size_; }
-  // The sequence number the next record must carry.
-  std::uint64_t expected_seq() const { return expected_seq_; }
+  // The position the next record must carry.
+  std::uint64_t expected_position() const { return expected_position_; }
 
  private:
   void set_damage(Damage::Kind kind, std::uint64_t offset, std::string reason);
@@ -46,7 +46,7 @@ class SegmentReader {
   std::filesystem::path file_;
   std::uint64_t size_ = 0;
   std::uint64_t offset_ = 0;  // start of the next record
-  std::uint64_t expected_seq_;
+  std::uint64_t expected_position_;
   std::optional<BufferedReader> input_;
   std::string header_;
   std::string payload_;

@@ -13,11 +13,12 @@ constexpr std::size_t kFlushBufferBytes = std::size_t{1} << 20;
 
 }  // namespace
 
-SegmentWriter SegmentWriter::create(const std::filesystem::path& file, std::uint64_t first_seq) {
+SegmentWriter SegmentWriter::create(const std::filesystem::path& file,
+                                    std::uint64_t first_position) {
   SegmentWriter writer;
   writer.file_ = open_file(file, O_WRONLY | O_CREAT | O_EXCL | O_APPEND);
   writer.path_ = file;
-  append_segment_header(writer.buffer_, first_seq);
+  append_segment_header(writer.buffer_, first_position);
   return writer;
 }
 
@@ -31,8 +32,8 @@ SegmentWriter SegmentWriter::reopen(const std::filesystem::path& file) {
 
 bool SegmentWriter::holds_records() const { return size() > format::kSegmentHeaderBytes; }
 
-void SegmentWriter::add(std::uint64_t seq, std::string_view payload) {
-  append_record(buffer_, seq, payload);
+void SegmentWriter::add(std::uint64_t position, std::string_view payload) {
+  append_record(buffer_, position, payload);
   if (buffer_.size() >= kFlushBufferBytes) flush();
 }
 

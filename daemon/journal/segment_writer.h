@@ -14,9 +14,9 @@ namespace yoke::journal {
 class SegmentWriter {
  public:
   SegmentWriter() = default;  // no segment
-  // Creates the segment file for first_seq (it must not exist); its header is buffered and
+  // Creates the segment file for first_position (it must not exist); its header is buffered and
   // reaches the file with the first record.
-  static SegmentWriter create(const std::filesystem::path& file, std::uint64_t first_seq);
+  static SegmentWriter create(const std::filesystem::path& file, std::uint64_t first_position);
   // Continues an existing segment whose bytes have all been checked.
   static SegmentWriter reopen(const std::filesystem::path& file);
 
@@ -26,7 +26,7 @@ class SegmentWriter {
   bool holds_records() const;
 
   // Buffers one record; writes the buffer out when it grows large. Amortised O(payload).
-  void add(std::uint64_t seq, std::string_view payload);
+  void add(std::uint64_t position, std::string_view payload);
   // Hands the buffered bytes to the OS: safe from a process crash, not yet from power loss.
   void flush();
   // flush(), then fdatasync: the bytes are on disk.

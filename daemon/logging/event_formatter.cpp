@@ -1,9 +1,11 @@
 #include "event_formatter.h"
 
+#include <algorithm>
 #include <chrono>
 #include <cstdio>
 #include <ctime>
 #include <string>
+#include <vector>
 
 #include "log_escape.h"
 
@@ -45,6 +47,18 @@ std::string_view view(const spdlog::string_view_t& text) {
   return {text.data(), text.size()};
 }
 
+// The key a field is written under in a JSON line: its own, or KEY_2, KEY_3, ... when that is
+// taken by a fixed key or an earlier field. `taken` holds the keys written so far.
+std::string free_key(const std::string& key, std::vector<std::string>& taken) {
+  const auto is_taken = [&taken](const std::string& candidate) {
+    return std::find(taken.begin(), taken.end(), candidate) != taken.end();
+  };
+  std::string out = key;
+  for (std::size_t n = 2; is_taken(out); ++n) out = key + "_" + std::to_string(n);
+  taken.push_back(out);
+  return out;
+}
+
 }  // namespace
 
 EventFormatter::FieldsScope::FieldsScope(std::span<const LogField> fields)
@@ -61,11 +75,12 @@ void EventFormatter::format(const spdlog::details::log_msg& msg, spdlog::memory_
     line += level_name(msg.level);
     line += "\",\"logger\":";
     append_json_string(line, view(msg.logger_name));
-    line += ",\"message\":";
+    line += ",\"event\":";
     append_json_string(line, view(msg.payload));
+    std::vector<std::string> taken(kFixedJsonKeys.begin(), kFixedJsonKeys.end());
     for (const LogField& field : current_fields) {
       line += ',';
-      append_json_string(line, field.key);
+      append_json_string(line, free_key(field.key, taken));
       line += ':';
       if (field.is_text) {
         append_json_string(line, field.value);

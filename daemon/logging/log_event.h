@@ -1,7 +1,8 @@
 // Logs a named event with key/value fields:
 //   log_event(LogLevel::warn, "batch_rejected", {{"pool", "default"}, {"reason", "self loop"}});
 // renders as `... warn yoked batch_rejected pool=default reason="self loop"` in text and as
-// {"time":...,"message":"batch_rejected","pool":"default","reason":"self loop"} in JSON.
+// {"time":...,"event":"batch_rejected","pool":"default","reason":"self loop"} in JSON (every key
+// once: event_formatter.h says how a field named like a fixed key is written).
 #pragma once
 
 #include <initializer_list>

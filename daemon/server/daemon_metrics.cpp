@@ -1,5 +1,6 @@
 #include "daemon_metrics.h"
 
+#include "daemon/service/batch_decoder.h"
 #include "daemon/service/wire_types.h"
 
 namespace yoke::daemon {
@@ -31,8 +32,9 @@ DaemonMetrics::DaemonMetrics()
           "From the close of a batching window to its diff handed to the publication socket.",
           kLatencyBounds)),
       snapshots_(&registry_.counter("yoke_snapshots_total", "Snapshots written.")),
-      snapshot_seconds_(&registry_.gauge("yoke_snapshot_last_seconds",
-                                         "Time the last snapshot took to capture and write.")),
+      snapshot_seconds_(&registry_.gauge(
+          "yoke_snapshot_last_duration_seconds",
+          "How long the last snapshot took to capture and write, in seconds (0: none yet).")),
       uptime_seconds_(&registry_.gauge("yoke_uptime_seconds", "Seconds since the daemon started.")) {}
 
 void DaemonMetrics::acknowledged(const v1::Ack& ack) {
@@ -44,14 +46,24 @@ void DaemonMetrics::acknowledged(const v1::Ack& ack) {
         .add();
     return;
   }
-  for (const v1::Error& error : ack.rejected().errors()) {
+  if (ack.rejected().errors_size() == 0) return;
+  // One count per refusal, by its first error's code; a message that was not read as a batch
+  // is no rejected batch and has its own counter.
+  const metrics::Labels code = {{"code", error_code_name(ack.rejected().errors(0).code())}};
+  if (refuses_unread_message(ack)) {
     registry_
-        .counter("yoke_rejections_total",
-                 "Batches or messages refused, by the code of their first error.",
-                 {{"code", error_code_name(error.code())}})
+        .counter("yoke_ingest_messages_rejected_total",
+                 "Ingest messages refused without being read as a batch (too large, not a "
+                 "yoke.v1.IngestRequest batch, another protocol version, or during shutdown), "
+                 "by error code.",
+                 code)
         .add();
-    break;  // one count per refusal
+    return;
   }
+  registry_
+      .counter("yoke_batches_rejected_total",
+               "Batches refused as a whole, by the code of their first error.", code)
+      .add();
 }
 
 void DaemonMetrics::journal_synced(std::chrono::nanoseconds took, std::size_t batches) {
@@ -62,7 +74,10 @@ void DaemonMetrics::journal_synced(std::chrono::nanoseconds took, std::size_t ba
 
 void DaemonMetrics::committed(const v1::Diff& diff) {
   const metrics::Labels pool = {{"pool", diff.pool()}};
-  registry_.counter("yoke_commits_total", "Repairs (one per pool per window).", pool).add();
+  registry_
+      .counter("yoke_commits_total",
+               "Commits: one repair of the pool for all its batches of a batching window.", pool)
+      .add();
   registry_.counter("yoke_events_applied_total", "Events applied.", pool).add(diff.stats().events());
   registry_.counter("yoke_pairs_changed_total", "Pairs removed plus pairs added by commits.", pool)
       .add(static_cast<std::uint64_t>(diff.removed_size() + diff.added_size()));

@@ -42,7 +42,8 @@ void log_recovery(const RecoveryReport& report, const yoke::journal::Recovery& j
                {"reason", journal.cut->reason}});
   }
   log_event(LogLevel::info, "recovered",
-            {{"snapshot", report.snapshot ? std::to_string(*report.snapshot) : "none"},
+            {{"snapshot_position",
+              report.snapshot_position ? std::to_string(*report.snapshot_position) : "none"},
              {"pools", report.pools},
              {"journal_records", report.records},
              {"commits", report.commits}});

@@ -9,6 +9,7 @@
 #include "daemon/config/endpoint_address.h"
 #include "daemon/logging/log_event.h"
 #include "daemon/metrics/http_endpoint.h"
+#include "daemon/service/batch_decoder.h"
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
@@ -123,12 +124,17 @@ void YokedServer::on_ingest_message() {
   if (ack) {
     if (ack->has_rejected()) {
       const v1::Error& first = ack->rejected().errors(0);
-      log_event(LogLevel::warn, "batch_rejected",
-                {{"pool", ack->pool()},
-                 {"client", ack->client_id()},
-                 {"client_batch", ack->client_batch()},
-                 {"code", error_code_name(first.code())},
-                 {"reason", first.message()}});
+      if (refuses_unread_message(*ack)) {
+        log_event(LogLevel::warn, "message_rejected",
+                  {{"code", error_code_name(first.code())}, {"reason", first.message()}});
+      } else {
+        log_event(LogLevel::warn, "batch_rejected",
+                  {{"pool", ack->pool()},
+                   {"client_id", ack->client_id()},
+                   {"client_batch", ack->client_batch()},
+                   {"code", error_code_name(first.code())},
+                   {"reason", first.message()}});
+      }
     }
     metrics_->acknowledged(*ack);
     v1::IngestReply reply;
@@ -253,8 +259,8 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   const Clock::time_point start = Clock::now();
   events_since_snapshot_ = 0;
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
-  const std::filesystem::path path = snapshots_.write(service_.next_journal_seq(), records);
-  last_snapshot_position_ = service_.next_journal_seq();
+  const std::filesystem::path path = snapshots_.write(service_.next_journal_position(), records);
+  last_snapshot_position_ = service_.next_journal_position();
   v1::SnapshotTaken taken;
   taken.set_path(path.string());
   for (const v1::SnapshotRecord& record : records) {
@@ -270,7 +276,7 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   log_event(LogLevel::info, "snapshot_written",
             {{"path", path.string()},
              {"pools", records.size()},
-             {"journal_seq", service_.next_journal_seq()},
+             {"journal_position", service_.next_journal_position()},
              {"segments_dropped", dropped},
              {"ms", micros(Clock::now() - start) / 1000}});
   return taken;
@@ -282,7 +288,7 @@ void YokedServer::arm_snapshot_timer() {
     if (error || stopping_) return;
     try {
       // Idle since the last snapshot: the newest file already holds this state.
-      if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_seq()) {
+      if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_position()) {
         take_snapshot();
       }
     } catch (const std::exception& failure) {

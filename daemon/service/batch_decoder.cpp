@@ -101,4 +101,17 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
   return decoded;
 }
 
+bool refuses_unread_message(const v1::Ack& ack) {
+  if (!ack.has_rejected() || ack.rejected().errors_size() == 0) return false;
+  const v1::Error& first = ack.rejected().errors(0);
+  switch (first.code()) {
+    case v1::Error::OVERSIZED_MESSAGE:
+    case v1::Error::UNSUPPORTED_VERSION:
+    case v1::Error::UNKNOWN_MESSAGE_KIND:
+    case v1::Error::UNAVAILABLE: return true;
+    case v1::Error::MALFORMED_MESSAGE: return !first.has_event_index();
+    default: return false;
+  }
+}
+
 }  // namespace yoke::daemon

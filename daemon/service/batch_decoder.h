@@ -32,6 +32,13 @@ using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
 
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
 
+// Whether a refusal is of a message that was not read as a batch: too large to read
+// (OVERSIZED_MESSAGE), not a yoke.v1.IngestRequest (MALFORMED_MESSAGE without an event index),
+// another protocol version or kind (UNSUPPORTED_VERSION, UNKNOWN_MESSAGE_KIND), or not read at
+// all (UNAVAILABLE: the daemon is shutting down). Every other refusal is of a batch. False for
+// an accepted Ack.
+bool refuses_unread_message(const v1::Ack& ack);
+
 // One wire event as an engine event, or the MALFORMED_MESSAGE error (with event_index = index)
 // that says which field is wrong. Also used to read journal records back.
 std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t index);

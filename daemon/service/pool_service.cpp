@@ -117,7 +117,7 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
   replies.reserve(window_.size() + waiting_duplicates_.size());
-  const std::uint64_t window_start = state_.next_journal_seq;
+  const std::uint64_t window_start = state_.next_journal_position;
   const std::uint64_t wall_time = unix_time_us();
   std::string bytes;
   for (PendingBatch& pending : window_) {
@@ -136,8 +136,8 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
     record.set_window_start(window_start);
     bytes.clear();
     record.SerializeToString(&bytes);
-    journal_.append(state_.next_journal_seq, bytes);
-    ++state_.next_journal_seq;
+    journal_.append(state_.next_journal_position, bytes);
+    ++state_.next_journal_position;
   }
   if (!window_.empty()) journal_.sync();
 

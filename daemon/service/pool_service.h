@@ -37,7 +37,7 @@ struct ServiceState {
   PoolRegistry registry;
   std::map<std::string, PoolProgress> progress;
   RetryLedger ledger;
-  std::uint64_t next_journal_seq = 1;
+  std::uint64_t next_journal_position = 1;
 };
 
 class PoolService {
@@ -65,9 +65,10 @@ class PoolService {
   PoolProgress& progress_of(const std::string& pool) { return state_.progress[pool]; }
   const RetryLedger& ledger() const { return state_.ledger; }
   journal::Journal& journal() { return journal_; }
-  std::uint64_t next_journal_seq() const { return state_.next_journal_seq; }
+  std::uint64_t next_journal_position() const { return state_.next_journal_position; }
 
-  // Refusals by error code over the daemon's life, for metrics.
+  // Refusals by error code over the daemon's life: of batches and of messages not read as one
+  // (refuses_unread_message tells them apart).
   const std::map<v1::Error::Code, std::uint64_t>& refusals() const { return refusals_; }
 
  private:

@@ -128,7 +128,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       const auto explanation = pool->explain(vertex, 0);
       if (explanation && explanation->mate) {
         mate.set_mate(*explanation->mate);
-        mate.set_weight(explanation->pair_weight);
+        mate.set_pair_weight(explanation->pair_weight);
       }
       return reply;
     }
@@ -136,7 +136,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       v1::Matching& matching = *reply.mutable_matching();
       matching.set_seq(progress->seq);
       matching.set_weight(pool->weight());
-      for (const MatchedPair& pair : pool->matching()) *matching.add_pairs() = to_wire(pair);
+      for (const MatchedPair& pair : pool->matching()) *matching.add_matching() = to_wire(pair);
       matching.set_mode(to_wire(pool->mode()));
       matching.set_no_perfect_matching(progress->no_perfect_matching);
       return reply;
@@ -151,16 +151,18 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       v1::Explanation& explain = *reply.mutable_explain();
       explain.set_seq(progress->seq);
       explain.set_vertex(vertex);
-      if (explanation->mate) explain.set_mate(*explanation->mate);
-      explain.set_pair_weight(explanation->pair_weight);
+      if (explanation->mate) {
+        explain.set_mate(*explanation->mate);
+        explain.set_pair_weight(explanation->pair_weight);
+      }
       explain.set_pair_bonus(explanation->pair_bonus);
-      explain.set_dual2(explanation->dual2);
+      explain.set_dual_x2(explanation->dual2);
       explain.set_weight_offset(explanation->weight_offset);
       for (const Alternative& alternative : explanation->alternatives) {
         v1::Alternative& wire = *explain.add_alternatives();
         wire.set_other(alternative.other);
         wire.set_weight(alternative.w);
-        wire.set_slack2(alternative.slack2);
+        wire.set_slack_x2(alternative.slack2);
         if (alternative.other_mate) wire.set_other_mate(*alternative.other_mate);
       }
       return reply;

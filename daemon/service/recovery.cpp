@@ -78,20 +78,21 @@ ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
   std::uint64_t position = 0;  // journal records below this one are in the snapshot
   for (const std::uint64_t candidate : snapshots.positions()) {
     try {
-      if (journal.first_seq() > candidate) {
+      if (journal.first_position() > candidate) {
         throw SnapshotDamage("the journal no longer holds the records after it");
       }
       const std::filesystem::path path = snapshots.path_for(candidate);
       const SnapshotContents contents = read_snapshot_file(path);
       // The journal is replayed from the name's position: a header that says otherwise (a
       // file copied under another name) would skip or repeat records.
-      if (contents.journal_seq != candidate) {
+      if (contents.journal_position != candidate) {
         throw SnapshotDamage("snapshot " + path.string() + " holds journal position " +
-                             std::to_string(contents.journal_seq) + ", not the one its name says");
+                             std::to_string(contents.journal_position) +
+                             ", not the one its name says");
       }
       load_snapshot(contents, state);
       position = candidate;
-      report.snapshot = candidate;
+      report.snapshot_position = candidate;
       break;
     } catch (const SnapshotDamage& damage) {
       report.skipped.push_back(damage.what());
@@ -124,7 +125,7 @@ ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
     throw RecoveryError(error.what());
   }
 
-  state.next_journal_seq = std::max<std::uint64_t>({journal.next_seq(), position, 1});
+  state.next_journal_position = std::max<std::uint64_t>({journal.next_position(), position, 1});
   report.pools = state.registry.size();
   return state;
 }

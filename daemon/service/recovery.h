@@ -24,8 +24,8 @@ class RecoveryError : public std::runtime_error {
 };
 
 struct RecoveryReport {
-  std::optional<std::uint64_t> snapshot;  // journal position of the snapshot loaded
-  std::vector<std::string> skipped;       // why newer snapshots were passed over
+  std::optional<std::uint64_t> snapshot_position;  // journal position of the snapshot loaded
+  std::vector<std::string> skipped;  // why newer snapshots were passed over
   std::size_t pools = 0;
   std::uint64_t records = 0;  // journal records replayed
   std::uint64_t commits = 0;

@@ -32,7 +32,7 @@ std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
     record.set_wall_time_unix_us(wall_time);
     record.set_engine_state_format(kEngineStateFormat);
     record.set_engine_state(pool.save());
-    record.set_journal_seq(service.next_journal_seq());
+    record.set_journal_position(service.next_journal_position());
   }
   return records;
 }

@@ -18,11 +18,11 @@ constexpr std::string_view kEndMarker = "SNAPEND1";
 constexpr std::uint32_t kVersion = 1;
 constexpr std::size_t kHeaderBytes = 8 + 4 + 8 + 4;  // before the header checksum
 
-std::string header(std::uint64_t journal_seq, std::uint32_t pools) {
+std::string header(std::uint64_t journal_position, std::uint32_t pools) {
   ByteWriter writer;
   for (const char c : kMagic) writer.put(c);
   writer.put(kVersion);
-  writer.put(journal_seq);
+  writer.put(journal_position);
   writer.put(pools);
   std::string bytes = writer.take();
   ByteWriter crc;
@@ -48,14 +48,14 @@ std::string read_whole(const std::filesystem::path& path) {
 
 }  // namespace
 
-void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journal_seq,
+void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journal_position,
                          const std::vector<v1::SnapshotRecord>& pools) {
   std::filesystem::path temporary = path;
   temporary += ".tmp";
   {
     journal::FileDescriptor file =
         journal::open_file(temporary, O_WRONLY | O_CREAT | O_TRUNC, 0644);
-    journal::write_all(file, header(journal_seq, static_cast<std::uint32_t>(pools.size())),
+    journal::write_all(file, header(journal_position, static_cast<std::uint32_t>(pools.size())),
                        temporary);
     std::string payload;
     for (const v1::SnapshotRecord& pool : pools) {
@@ -99,7 +99,7 @@ SnapshotContents read_snapshot_file(const std::filesystem::path& path) {
   if (take(kMagic.size()) != kMagic) throw damaged("it does not start with a snapshot header");
   const auto version = number(std::uint32_t{});
   SnapshotContents contents;
-  contents.journal_seq = number(std::uint64_t{});
+  contents.journal_position = number(std::uint64_t{});
   const auto pools = number(std::uint32_t{});
   if (number(std::uint32_t{}) != journal::crc32c(std::string_view(bytes).substr(0, kHeaderBytes))) {
     throw damaged("the header checksum does not match");

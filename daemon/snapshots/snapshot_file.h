@@ -19,13 +19,13 @@ class SnapshotDamage : public std::runtime_error {
 };
 
 struct SnapshotContents {
-  std::uint64_t journal_seq = 0;
+  std::uint64_t journal_position = 0;
   std::vector<v1::SnapshotRecord> pools;
 };
 
 // Writes `path` atomically (a temporary file, fsync, rename, fsync of the directory). Throws
 // journal::Error (naming the file and the system call) when a write fails.
-void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journal_seq,
+void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journal_position,
                          const std::vector<v1::SnapshotRecord>& pools);
 
 // Reads and checks a whole file. Throws SnapshotDamage saying what is wrong and where, and

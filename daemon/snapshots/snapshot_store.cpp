@@ -38,16 +38,17 @@ SnapshotStore::SnapshotStore(std::filesystem::path directory, std::size_t keep)
   }
 }
 
-std::filesystem::path SnapshotStore::path_for(std::uint64_t journal_seq) const {
+std::filesystem::path SnapshotStore::path_for(std::uint64_t journal_position) const {
   char digits[kDigits + 1];
-  std::snprintf(digits, sizeof digits, "%020llu", static_cast<unsigned long long>(journal_seq));
+  std::snprintf(digits, sizeof digits, "%020llu",
+                static_cast<unsigned long long>(journal_position));
   return directory_ / (std::string(kPrefix) + digits + std::string(kSuffix));
 }
 
-std::filesystem::path SnapshotStore::write(std::uint64_t journal_seq,
+std::filesystem::path SnapshotStore::write(std::uint64_t journal_position,
                                            const std::vector<v1::SnapshotRecord>& pools) {
-  const std::filesystem::path path = path_for(journal_seq);
-  write_snapshot_file(path, journal_seq, pools);
+  const std::filesystem::path path = path_for(journal_position);
+  write_snapshot_file(path, journal_position, pools);
   prune();
   return path;
 }

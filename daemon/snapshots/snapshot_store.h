@@ -18,9 +18,9 @@ class SnapshotStore {
 
   const std::filesystem::path& directory() const { return directory_; }
 
-  // Writes a snapshot at journal position `journal_seq` and deletes the files beyond the newest
-  // `keep` (and leftover temporary files). Returns the path written.
-  std::filesystem::path write(std::uint64_t journal_seq,
+  // Writes a snapshot at `journal_position` and deletes the files beyond the newest `keep`
+  // (and leftover temporary files). Returns the path written.
+  std::filesystem::path write(std::uint64_t journal_position,
                               const std::vector<v1::SnapshotRecord>& pools);
 
   // Journal positions of the snapshot files present, newest first.
@@ -29,7 +29,7 @@ class SnapshotStore {
   // The oldest position kept: the journal must be kept from here on (a fallback may need it).
   std::optional<std::uint64_t> oldest_kept() const;
 
-  std::filesystem::path path_for(std::uint64_t journal_seq) const;
+  std::filesystem::path path_for(std::uint64_t journal_position) const;
 
  private:
   void prune();

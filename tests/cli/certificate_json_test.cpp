@@ -56,15 +56,15 @@ std::string edited(const std::function<void(json&)>& edit) {
 
 TEST(CertificateJson, WritesExternalIdsAndTheDocumentedLayout) {
   const json document = json::parse(written(sample_certificate()));
-  EXPECT_EQ(document["format"], "yoke-certificate/1");
+  EXPECT_EQ(document["format"], "yoke-certificate/2");
   EXPECT_EQ(document["mode"], "max-cardinality");
   EXPECT_EQ(document["weight_offset"], 11);
   ASSERT_EQ(document["vertices"].size(), 5u);
   EXPECT_EQ(document["vertices"][0],
-            json::parse(R"({"id":900,"dual2":4,"mate":18446744073709551615})"));
-  EXPECT_EQ(document["vertices"][4], json::parse(R"({"id":0,"dual2":0,"mate":null})"));
+            json::parse(R"({"id":900,"dual_x2":4,"mate":18446744073709551615})"));
+  EXPECT_EQ(document["vertices"][4], json::parse(R"({"id":0,"dual_x2":0,"mate":null})"));
   EXPECT_EQ(document["blossoms"][1],
-            json::parse(R"({"dual2":2,"base":0,
+            json::parse(R"({"dual_x2":2,"base":0,
                             "children":[{"blossom":0},{"vertex":7},{"vertex":0}]})"));
 }
 
@@ -102,7 +102,7 @@ TEST(CertificateJson, RejectsWhatIsNotACertificate) {
   EXPECT_NE(error_of("{\"format\": ").find("not valid JSON"), std::string::npos);
   EXPECT_EQ(error_of("[1, 2]"), "expected a JSON object");
   EXPECT_EQ(error_of(edited([](json& d) { d["format"] = "yoke-certificate/9"; })),
-            "format: expected \"yoke-certificate/1\", found \"yoke-certificate/9\"");
+            "format: expected \"yoke-certificate/2\", found \"yoke-certificate/9\"");
   EXPECT_EQ(error_of(edited([](json& d) { d.erase("mode"); })), "mode: missing");
   EXPECT_NE(error_of(edited([](json& d) { d["mode"] = "fastest"; })).find("mode: unknown mode"),
             std::string::npos);
@@ -112,12 +112,12 @@ TEST(CertificateJson, RejectsWhatIsNotACertificate) {
 }
 
 TEST(CertificateJson, RejectsBadVertexEntries) {
-  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2].erase("dual2"); })),
-            "vertices[2].dual2: missing");
-  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2]["dual2"] = "4"; })),
-            "vertices[2].dual2: expected an integer");
-  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2]["dual2"] = 9223372036854775808ULL; })),
-            "vertices[2].dual2: out of the 64-bit signed range");
+  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2].erase("dual_x2"); })),
+            "vertices[2].dual_x2: missing");
+  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2]["dual_x2"] = "4"; })),
+            "vertices[2].dual_x2: expected an integer");
+  EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][2]["dual_x2"] = 9223372036854775808ULL; })),
+            "vertices[2].dual_x2: out of the 64-bit signed range");
   EXPECT_EQ(error_of(edited([](json& d) { d["vertices"][1]["id"] = -1; })),
             "vertices[1].id: expected a non-negative integer vertex id");
 }

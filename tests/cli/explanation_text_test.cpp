@@ -13,12 +13,12 @@
 namespace yoke::cli {
 namespace {
 
-Alternative alternative(VertexKey other, Weight w, Weight slack2,
+Alternative alternative(VertexKey other, Weight w, Weight slack_x2,
                         std::optional<VertexKey> other_mate = std::nullopt) {
   Alternative out;
   out.other = other;
   out.w = w;
-  out.slack2 = slack2;
+  out.slack2 = slack_x2;
   out.other_mate = other_mate;
   return out;
 }
@@ -99,7 +99,7 @@ TEST(ExplanationText, OffsetLeavesThePlainPrice) {
   explanation.pair_weight = 6;
   explanation.dual2 = 15;
   explanation.weight_offset = 7;
-  EXPECT_EQ(plain_price2(explanation), 8);
+  EXPECT_EQ(price_x2(explanation), 8);
   EXPECT_NE(explanation_text(1, explanation).find("Its price is 4.\n"), std::string::npos);
   explanation.dual2 = 14;  // 14 - 7 = 7 doubled: 3.5
   EXPECT_NE(explanation_text(1, explanation).find("Its price is 3.5.\n"), std::string::npos);
@@ -132,15 +132,22 @@ TEST(ExplanationText, JsonForm) {
   explanation.alternatives = {alternative(55, 80, 4, 9), alternative(61, 44, 1)};
   EXPECT_EQ(json_line(vertex_explanation_json(12, explanation)),
             "{\"vertex\":12,\"present\":true,\"mate\":40,\"pair_weight\":87,\"pair_bonus\":0,"
-            "\"price\":43.5,"
-            "\"price2\":87,\"alternatives\":[{\"other\":55,\"weight\":80,\"slack\":2,"
-            "\"slack2\":4,\"other_mate\":9},{\"other\":61,\"weight\":44,\"slack\":0.5,"
-            "\"slack2\":1,\"other_mate\":null}]}");
+            "\"weight_offset\":0,\"dual_x2\":87,\"price\":43.5,\"alternatives\":[{\"other\":55,"
+            "\"weight\":80,\"slack\":2,\"slack_x2\":4,\"other_mate\":9},{\"other\":61,"
+            "\"weight\":44,\"slack\":0.5,\"slack_x2\":1,\"other_mate\":null}]}");
   VertexExplanation alone;
   EXPECT_EQ(json_line(vertex_explanation_json(7, alone)),
             "{\"vertex\":7,\"present\":true,\"mate\":null,\"pair_weight\":null,\"pair_bonus\":0,"
-            "\"price\":0,"
-            "\"price2\":0,\"alternatives\":[]}");
+            "\"weight_offset\":0,\"dual_x2\":0,\"price\":0,\"alternatives\":[]}");
+  // The offset is in dual_x2, not in the price: (15 - 7) / 2 = 4.
+  VertexExplanation offset;
+  offset.mate = 2;
+  offset.pair_weight = 6;
+  offset.dual2 = 15;
+  offset.weight_offset = 7;
+  EXPECT_EQ(json_line(vertex_explanation_json(1, offset)),
+            "{\"vertex\":1,\"present\":true,\"mate\":2,\"pair_weight\":6,\"pair_bonus\":0,"
+            "\"weight_offset\":7,\"dual_x2\":15,\"price\":4,\"alternatives\":[]}");
 }
 
 TEST(ExplanationText, FromTheWire) {
@@ -148,17 +155,17 @@ TEST(ExplanationText, FromTheWire) {
   wire.set_vertex(12);
   wire.set_mate(40);
   wire.set_pair_weight(87);
-  wire.set_dual2(95);
+  wire.set_dual_x2(95);
   wire.set_weight_offset(8);
   yoke::v1::Alternative& rival = *wire.add_alternatives();
   rival.set_other(55);
   rival.set_weight(80);
-  rival.set_slack2(4);
+  rival.set_slack_x2(4);
   const VertexExplanation got = explanation_from_wire(wire);
   ASSERT_TRUE(got.mate.has_value());
   EXPECT_EQ(*got.mate, 40u);
   EXPECT_EQ(got.pair_weight, 87);
-  EXPECT_EQ(plain_price2(got), 87);
+  EXPECT_EQ(price_x2(got), 87);
   ASSERT_EQ(got.alternatives.size(), 1u);
   EXPECT_EQ(got.alternatives[0].other, 55u);
   EXPECT_FALSE(got.alternatives[0].other_mate.has_value());

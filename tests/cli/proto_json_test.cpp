@@ -73,12 +73,16 @@ TEST(ProtoJson, MateMatchedAndExposed) {
   mate.set_vertex(kMaxKey);
   EXPECT_EQ(json_line(mate_json("p", mate)),
             "{\"pool\":\"p\",\"seq\":4,\"vertex\":18446744073709551615,\"mate\":null,"
-            "\"weight\":0}");
+            "\"pair_weight\":null}");
   mate.set_mate(0);  // present even though 0: key 0 is a vertex like any other
-  mate.set_weight(-9);
+  mate.set_pair_weight(0);
   EXPECT_EQ(json_line(mate_json("p", mate)),
             "{\"pool\":\"p\",\"seq\":4,\"vertex\":18446744073709551615,\"mate\":0,"
-            "\"weight\":-9}");
+            "\"pair_weight\":0}");
+  mate.set_pair_weight(-9);
+  EXPECT_EQ(json_line(mate_json("p", mate)),
+            "{\"pool\":\"p\",\"seq\":4,\"vertex\":18446744073709551615,\"mate\":0,"
+            "\"pair_weight\":-9}");
 }
 
 TEST(ProtoJson, Matching) {
@@ -86,10 +90,11 @@ TEST(ProtoJson, Matching) {
   matching.set_seq(9);
   matching.set_weight(12);
   matching.set_mode(MODE_MAX_WEIGHT);
-  set_pair(*matching.add_pairs(), 1, 2, 5);
-  set_pair(*matching.add_pairs(), 3, 4, 7);
+  set_pair(*matching.add_matching(), 1, 2, 5);
+  set_pair(*matching.add_matching(), 3, 4, 7);
   EXPECT_EQ(json_line(matching_json("quillory", matching)),
-            "{\"pool\":\"quillory\",\"seq\":9,\"weight\":12,\"pairs\":[[1,2,5],[3,4,7]],"
+            "{\"pool\":\"quillory\",\"seq\":9,\"weight\":12,\"pairs\":2,"
+            "\"matching\":[[1,2,5],[3,4,7]],"
             "\"mode\":\"max-weight\",\"no_perfect_matching\":false}");
 }
 
@@ -99,21 +104,31 @@ TEST(ProtoJson, Explanation) {
   explanation.set_vertex(5);
   explanation.set_mate(6);
   explanation.set_pair_weight(10);
-  explanation.set_dual2(-4);
+  explanation.set_dual_x2(-4);
   explanation.set_weight_offset(21);
   Alternative& near = *explanation.add_alternatives();
   near.set_other(8);
   near.set_weight(9);
-  near.set_slack2(0);
+  near.set_slack_x2(0);
   near.set_other_mate(2);
   Alternative& far = *explanation.add_alternatives();
   far.set_other(1);
   far.set_weight(-1);
-  far.set_slack2(40);
+  far.set_slack_x2(40);
   EXPECT_EQ(json_line(explanation_json("x", explanation)),
-            "{\"pool\":\"x\",\"seq\":3,\"vertex\":5,\"mate\":6,\"pair_weight\":10,\"pair_bonus\":0,\"dual2\":-4,"
-            "\"weight_offset\":21,\"alternatives\":[{\"other\":8,\"weight\":9,\"slack2\":0,"
-            "\"other_mate\":2},{\"other\":1,\"weight\":-1,\"slack2\":40,\"other_mate\":null}]}");
+            "{\"pool\":\"x\",\"seq\":3,\"vertex\":5,\"present\":true,\"mate\":6,"
+            "\"pair_weight\":10,\"pair_bonus\":0,\"weight_offset\":21,\"dual_x2\":-4,"
+            "\"price\":-12.5,\"alternatives\":[{\"other\":8,\"weight\":9,\"slack\":0,"
+            "\"slack_x2\":0,\"other_mate\":2},{\"other\":1,\"weight\":-1,\"slack\":20,"
+            "\"slack_x2\":40,\"other_mate\":null}]}");
+  // Unpaired: no mate and no pair weight on the wire, null in the JSON.
+  Explanation alone;
+  alone.set_seq(3);
+  alone.set_vertex(7);
+  EXPECT_EQ(json_line(explanation_json("x", alone)),
+            "{\"pool\":\"x\",\"seq\":3,\"vertex\":7,\"present\":true,\"mate\":null,"
+            "\"pair_weight\":null,\"pair_bonus\":0,\"weight_offset\":0,\"dual_x2\":0,"
+            "\"price\":0,\"alternatives\":[]}");
 }
 
 TEST(ProtoJson, Stats) {

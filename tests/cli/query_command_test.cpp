@@ -1,6 +1,7 @@
 // `yoke query` end to end against a query peer (fake_daemon.h) on ipc:// in a temp dir: the
 // request each KIND and option makes, the JSON printed for the reply, and the error paths.
 #include <gtest/gtest.h>
+#include <nlohmann/json.hpp>
 
 #include <functional>
 #include <optional>
@@ -74,7 +75,7 @@ TEST(QueryCommand, SummaryPrintsOneObject) {
   EXPECT_TRUE(run.requests[0].has_summary());
 }
 
-TEST(QueryCommand, MateAndExplainCarryTheVertexAndLimit) {
+TEST(QueryCommand, MateAndExplainCarryTheVertexAndAlternatives) {
   const QueryRun mate = run_query({"mate", "--vertex", "18446744073709551615"},
                                   [](const QueryRequest& request) {
                                     QueryReply reply;
@@ -86,11 +87,11 @@ TEST(QueryCommand, MateAndExplainCarryTheVertexAndLimit) {
   ASSERT_EQ(mate.result.exit_code, 0) << mate.result.err;
   EXPECT_EQ(mate.result.out,
             "{\"pool\":\"default\",\"seq\":5,\"vertex\":18446744073709551615,\"mate\":null,"
-            "\"weight\":0}\n");
+            "\"pair_weight\":null}\n");
   EXPECT_EQ(mate.requests.at(0).pool(), "default");
 
   const QueryRun explain =
-      run_query({"explain", "--vertex", "3", "--limit", "2"}, [](const QueryRequest&) {
+      run_query({"explain", "--vertex", "3", "--alternatives", "2"}, [](const QueryRequest&) {
         QueryReply reply;
         reply.mutable_explain()->set_vertex(3);
         return reply;
@@ -102,8 +103,9 @@ TEST(QueryCommand, MateAndExplainCarryTheVertexAndLimit) {
 }
 
 TEST(QueryCommand, ExplainTextWordsTheReply) {
-  // Doubled dual 95 with offset 8: price (95 - 8) / 2 = 43.5; slack2 4: 2 short.
-  const QueryRun run = run_query({"explain", "--vertex", "12", "--text"}, [](const QueryRequest&) {
+  // Doubled dual 95 with offset 8: price (95 - 8) / 2 = 43.5; slack_x2 4: 2 short. The JSON
+  // form of the same reply gives the same numbers.
+  const auto reply_of = [](const QueryRequest&) {
     QueryReply reply;
     reply.set_pool("default");
     yoke::v1::Explanation& explain = *reply.mutable_explain();
@@ -111,21 +113,29 @@ TEST(QueryCommand, ExplainTextWordsTheReply) {
     explain.set_vertex(12);
     explain.set_mate(40);
     explain.set_pair_weight(87);
-    explain.set_dual2(95);
+    explain.set_dual_x2(95);
     explain.set_weight_offset(8);
     yoke::v1::Alternative& rival = *explain.add_alternatives();
     rival.set_other(55);
     rival.set_weight(80);
-    rival.set_slack2(4);
+    rival.set_slack_x2(4);
     rival.set_other_mate(9);
     return reply;
-  });
+  };
+  const QueryRun run = run_query({"explain", "--vertex", "12", "--text"}, reply_of);
   ASSERT_EQ(run.result.exit_code, 0) << run.result.err;
   EXPECT_EQ(run.result.out.substr(0, run.result.out.find("Slack:")),
             "explain 12 at seq 31 (pool default):\n"
             "12 is paired with 40 (weight 87). Its price is 43.5.\n"
             "Closest alternatives, least slack first:\n"
             "  55 (weight 80): 2 short of winning (slack 2); 55 is paired with 9\n");
+  const QueryRun json = run_query({"explain", "--vertex", "12"}, reply_of);
+  ASSERT_EQ(json.result.exit_code, 0) << json.result.err;
+  const nlohmann::json answer = nlohmann::json::parse(json.result.out);
+  EXPECT_EQ(answer["price"], 43.5);
+  EXPECT_EQ(answer["dual_x2"], 95);
+  EXPECT_EQ(answer["alternatives"][0]["slack"], 2);
+  EXPECT_EQ(answer["alternatives"][0]["slack_x2"], 4);
   EXPECT_EQ(run_query({"summary", "--text"}, summary_reply).result.exit_code, 2);
 }
 
@@ -199,7 +209,7 @@ TEST(QueryCommand, OptionsThatDoNotFitTheKindAreExit2) {
   for (const std::vector<std::string>& args : std::vector<std::vector<std::string>>{
            {"query", "mate"},
            {"query", "summary", "--vertex", "3"},
-           {"query", "mate", "--vertex", "3", "--limit", "2"},
+           {"query", "mate", "--vertex", "3", "--alternatives", "2"},
            {"query", "stats", "--all-pools"},
            {"query", "everything"}}) {
     const RunResult result = run_yoke(dir, args);

@@ -131,7 +131,7 @@ TEST(ReplayCommand, PathWhoseMiddleEdgeRisesAndGoes) {
             "+ 3 4\n");
 }
 
-TEST(ReplayCommand, DepartureAndReturnOfAVertex) {
+TEST(ReplayCommand, RemovalAndReturnOfAVertex) {
   TempDir dir;
   const RunResult run = replay(dir,
                                "set 10 20 8\n"
@@ -195,9 +195,9 @@ TEST(ReplayCommand, PerfectModeNotesCommitsWithoutAPerfectMatching) {
   // With 3-4 the only perfect matching is {1-2, 3-4} = 5.
   EXPECT_EQ(masked(run.out),
             "commit 1 weight 5 pairs 1 repair_us T\n"
-            "note commit 1: no perfect matching (1 pairs for 3 vertices)\n"
+            "note: commit 1: no perfect matching (1 pairs for 3 vertices)\n"
             "commit 2 weight 5 pairs 1 repair_us T\n"
-            "note commit 2: no perfect matching (1 pairs for 4 vertices)\n"
+            "note: commit 2: no perfect matching (1 pairs for 4 vertices)\n"
             "commit 3 weight 5 pairs 2 repair_us T\n");
 }
 
@@ -314,7 +314,7 @@ TEST(ReplayCommand, HelpDocumentsTheScriptAndTheOutput) {
   EXPECT_EQ(help.exit_code, 0);
   for (const std::string text :
        {"add U", "set U V W", "unset U V", "remove U", "commit", "end of the file",
-        "commit I weight W pairs K repair_us T", "note commit I", "--diffs", "--verify",
+        "commit I weight W pairs K repair_us T", "note: commit I", "--diffs", "--verify",
         "stats events_per_second"}) {
     EXPECT_NE(help.out.find(text), std::string::npos) << text;
   }
@@ -455,7 +455,7 @@ std::vector<CommitLine> commit_lines(const std::string& output) {
       EXPECT_EQ(shape(line), total < 0 ? "commit N weight -N pairs N repair_us N"
                                        : "commit N weight N pairs N repair_us N");
       commits.push_back({total, pair_count, false});
-    } else if (line.rfind("note commit ", 0) == 0 && !commits.empty()) {
+    } else if (line.rfind("note: commit ", 0) == 0 && !commits.empty()) {
       commits.back().no_perfect_matching = true;
     }
   }

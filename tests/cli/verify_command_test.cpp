@@ -54,7 +54,7 @@ TEST_F(VerifyCommand, AcceptsTheCertificateSolveWroteInEveryMode) {
   for (const std::string mode : {"max-weight", "max-cardinality"}) {
     SCOPED_TRACE(mode);
     const Solved solved = solve(mode);
-    EXPECT_EQ(solved.certificate.at("format"), "yoke-certificate/1");
+    EXPECT_EQ(solved.certificate.at("format"), "yoke-certificate/2");
     EXPECT_EQ(solved.certificate.at("mode"), mode);
     const RunResult run = run_yoke(dir_, {"verify", graph_, dir_.file("cert.json")});
     ASSERT_EQ(run.exit_code, 0) << run.out << run.err;
@@ -79,7 +79,7 @@ TEST_F(VerifyCommand, RejectsARaisedVertexDual) {
   // Raising u(v) breaks complementary slackness whatever v is: a matched v's edge loses its
   // zero slack, an exposed v gets u > 0.
   const RunResult run = verify(edited(solved.certificate, [](json& c) {
-    c["vertices"][0]["dual2"] = c["vertices"][0]["dual2"].get<std::int64_t>() + 2;
+    c["vertices"][0]["dual_x2"] = c["vertices"][0]["dual_x2"].get<std::int64_t>() + 2;
   }));
   EXPECT_EQ(run.exit_code, 1) << run.out << run.err;
   const json verdict = json::parse(run.out);
@@ -142,7 +142,7 @@ TEST_F(VerifyCommand, CertificateForAnotherGraphIsAnError) {
 }
 
 TEST_F(VerifyCommand, MalformedCertificateIsAnError) {
-  const RunResult truncated = verify("{\"format\":\"yoke-certificate/1\",\"vertices\":[");
+  const RunResult truncated = verify("{\"format\":\"yoke-certificate/2\",\"vertices\":[");
   EXPECT_EQ(truncated.exit_code, 2);
   EXPECT_EQ(truncated.out, "");
   EXPECT_EQ(truncated.err.rfind("error: " + dir_.file("edited.json") + ": not valid JSON", 0), 0u)

@@ -1,6 +1,6 @@
-// The history builder (vertex_history.h) on small scripts whose root events are known by
+// The history builder (vertex_history.h) on small scripts whose causes are known by
 // construction, fed by a real Pool; and the fallback when a commit reports no causes. Also
-// `yoke replay SCRIPT --vertex V / --explain V` end to end on the built binary.
+// `yoke replay SCRIPT --history V / --explain V` end to end on the built binary.
 #include <gtest/gtest.h>
 
 #include <string>
@@ -44,7 +44,7 @@ HistoryBuilder replay(const std::vector<std::vector<Event>>& batches,
 
 TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   // Commit 1: 1-2 (5), solved from scratch. Commit 2: `set 5 6 1` (an unrelated pair) then
-  // `set 2 3 9`: 2-3 outweighs 1-2, so 1 loses 2 and the root event is event 1 of commit 2.
+  // `set 2 3 9`: 2-3 outweighs 1-2, so 1 loses 2 and the cause is event 1 of commit 2.
   // Commit 3: `remove 1`.
   const HistoryBuilder built =
       replay({{set(1, 2, 5)}, {set(5, 6, 1), set(2, 3, 9)}, {remove(1)}}, {1, 3});
@@ -54,26 +54,26 @@ TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   EXPECT_FALSE(one.start.present);
   ASSERT_EQ(one.entries.size(), 4u);
 
-  EXPECT_EQ(one.entries[0].change, HistoryChange::arrives);
+  EXPECT_EQ(one.entries[0].change, HistoryChange::vertex_added);
   EXPECT_EQ(one.entries[0].at, 1u);
   EXPECT_EQ(one.entries[0].cause.origin.line, 100u);
 
   EXPECT_EQ(one.entries[1].change, HistoryChange::pair_gained);
   EXPECT_EQ(one.entries[1].other, 2u);
   EXPECT_EQ(one.entries[1].w, 5);
-  EXPECT_EQ(one.entries[1].cause.kind, RootCause::Kind::first_solve);
+  EXPECT_EQ(one.entries[1].cause.kind, ChangeCause::Kind::first_solve);
 
   const HistoryEntry& lost = one.entries[2];
   EXPECT_EQ(lost.change, HistoryChange::pair_lost);
   EXPECT_EQ(lost.at, 2u);
   EXPECT_EQ(lost.other, 2u);
   EXPECT_EQ(lost.w, 5);
-  ASSERT_EQ(lost.cause.kind, RootCause::Kind::event);
+  ASSERT_EQ(lost.cause.kind, ChangeCause::Kind::event);
   EXPECT_EQ(lost.cause.index, 1u);
   EXPECT_EQ(event_text(lost.cause.event), "set 2 3 9");
   EXPECT_EQ(lost.cause.origin.line, 201u);
 
-  EXPECT_EQ(one.entries[3].change, HistoryChange::departs);
+  EXPECT_EQ(one.entries[3].change, HistoryChange::vertex_removed);
   EXPECT_EQ(one.entries[3].at, 3u);
   EXPECT_EQ(event_text(one.entries[3].cause.event), "remove 1");
 
@@ -84,12 +84,12 @@ TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   EXPECT_EQ(*one.partners[0].to, 2u);
   EXPECT_FALSE(one.end.present);
 
-  // 3 arrives with `set 2 3 9` and gains 2 by the same event; still paired at the end.
+  // 3 is added by `set 2 3 9` and gains 2 by the same event; still paired at the end.
   const VertexHistory& three = built.histories()[1];
   ASSERT_EQ(three.entries.size(), 2u);
-  EXPECT_EQ(three.entries[0].change, HistoryChange::arrives);
+  EXPECT_EQ(three.entries[0].change, HistoryChange::vertex_added);
   EXPECT_EQ(three.entries[1].change, HistoryChange::pair_gained);
-  ASSERT_EQ(three.entries[1].cause.kind, RootCause::Kind::event);
+  ASSERT_EQ(three.entries[1].cause.kind, ChangeCause::Kind::event);
   EXPECT_EQ(event_text(three.entries[1].cause.event), "set 2 3 9");
   ASSERT_EQ(three.partners.size(), 1u);
   EXPECT_FALSE(three.partners[0].to.has_value());
@@ -104,15 +104,15 @@ TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   EXPECT_NE(text.find("  commit 1: pair with 2 gained (weight 5): first solve of the pool"),
             std::string::npos)
       << text;
-  EXPECT_NE(text.find("  commit 2: pair with 2 lost (weight 5): root event set 2 3 9 [line 201]\n"),
+  EXPECT_NE(text.find("  commit 2: pair with 2 lost (weight 5): cause set 2 3 9 [line 201]\n"),
             std::string::npos)
       << text;
-  EXPECT_NE(text.find("  commit 3: departs: remove 1 [line 300]\n"), std::string::npos) << text;
+  EXPECT_NE(text.find("  commit 3: removed: remove 1 [line 300]\n"), std::string::npos) << text;
   EXPECT_NE(text.find("  2 (weight 5) from commit 1 to commit 2\n"), std::string::npos) << text;
   EXPECT_NE(text.find("at commit 3: 1 is not in the pool\n"), std::string::npos) << text;
 }
 
-TEST(VertexHistory, DepartingPartnerIsTheRootEvent) {
+TEST(VertexHistory, RemovedPartnerIsTheCause) {
   // 1-2 (4) and 3-4 (4), then `set 3 4 6` (unrelated) and `remove 2`: 1 loses 2 by event 1.
   const HistoryBuilder built =
       replay({{set(1, 2, 4), set(3, 4, 4)}, {set(3, 4, 6), remove(2)}}, {1});
@@ -120,7 +120,7 @@ TEST(VertexHistory, DepartingPartnerIsTheRootEvent) {
   ASSERT_EQ(one.entries.size(), 3u);
   const HistoryEntry& lost = one.entries[2];
   EXPECT_EQ(lost.change, HistoryChange::pair_lost);
-  ASSERT_EQ(lost.cause.kind, RootCause::Kind::event);
+  ASSERT_EQ(lost.cause.kind, ChangeCause::Kind::event);
   EXPECT_EQ(event_text(lost.cause.event), "remove 2");
   EXPECT_TRUE(one.end.present);
   EXPECT_FALSE(one.end.mate.has_value());
@@ -155,19 +155,19 @@ TEST(VertexHistory, WithoutCausesTheBatchAnswers) {
   builder.finish(empty, 8);
   const VertexHistory& history = builder.histories()[0];
   ASSERT_EQ(history.entries.size(), 3u);
-  EXPECT_EQ(history.entries[1].cause.kind, RootCause::Kind::batch);
+  EXPECT_EQ(history.entries[1].cause.kind, ChangeCause::Kind::batch);
   EXPECT_EQ(history.entries[1].cause.batch_events, 2u);
-  EXPECT_EQ(history.entries[2].cause.kind, RootCause::Kind::event);
+  EXPECT_EQ(history.entries[2].cause.kind, ChangeCause::Kind::event);
 
   const std::string text = history_text(history, "pool default");
-  EXPECT_NE(text.find("  seqs 6-7: arrives: set 1 2 5 [seq 6, client alice, batch 3]\n"),
+  EXPECT_NE(text.find("  seqs 6-7: added: set 1 2 5 [seq 6, client alice, batch 3]\n"),
             std::string::npos)
       << text;
   EXPECT_NE(text.find("  seqs 6-7: pair with 2 gained (weight 5): one of the commit's 2 events "
-                      "(no root event reported)\n"),
+                      "(no cause reported)\n"),
             std::string::npos)
       << text;
-  EXPECT_NE(text.find("  seq 8: pair with 2 lost (weight 5): root event remove 2 [seq 8]\n"),
+  EXPECT_NE(text.find("  seq 8: pair with 2 lost (weight 5): cause remove 2 [seq 8]\n"),
             std::string::npos)
       << text;
   EXPECT_NE(text.find("  2 (weight 5) from seq 7 to seq 8\n"), std::string::npos) << text;
@@ -175,7 +175,7 @@ TEST(VertexHistory, WithoutCausesTheBatchAnswers) {
   EXPECT_EQ(json_line(history_json(history, std::string("default"))),
             "{\"kind\":\"history\",\"vertex\":1,\"pool\":\"default\",\"unit\":\"seq\","
             "\"start\":{\"at\":0,\"present\":false,\"mate\":null,\"pair_weight\":null},"
-            "\"changes\":[{\"first\":6,\"at\":7,\"change\":\"arrives\",\"cause\":{\"kind\":"
+            "\"changes\":[{\"first\":6,\"at\":7,\"change\":\"added\",\"cause\":{\"kind\":"
             "\"event\",\"index\":0,\"event\":\"set 1 2 5\",\"seq\":6,\"client_id\":\"alice\","
             "\"client_batch\":3}},{\"first\":6,\"at\":7,\"change\":\"pair_gained\",\"other\":2,"
             "\"weight\":5,\"cause\":{\"kind\":\"batch\",\"events\":2}},{\"first\":8,\"at\":8,"
@@ -194,16 +194,16 @@ TEST(VertexHistory, EventWords) {
   EXPECT_EQ(event_text(Event{EventKind::release_pair, 12, 40, 0}), "release 12 40");
 }
 
-// The built binary: `--vertex` and `--explain` on a script, with `--until` picking the commit.
+// The built binary: `--history` and `--explain` on a script, with `--until` picking the commit.
 TEST(ReplayWhy, ScriptHistoryAndExplanation) {
   const testing::TempDir dir;
   const std::string script = dir.write("steal.events",
                                        "set 1 2 5\ncommit\n"
                                        "set 5 6 1\nset 2 3 9\ncommit\n"
                                        "remove 1\ncommit\n");
-  const testing::RunResult history = testing::run_yoke(dir, {"replay", script, "--vertex", "1"});
+  const testing::RunResult history = testing::run_yoke(dir, {"replay", script, "--history", "1"});
   ASSERT_EQ(history.exit_code, 0) << history.err;
-  EXPECT_NE(history.out.find("  commit 2: pair with 2 lost (weight 5): root event set 2 3 9 "
+  EXPECT_NE(history.out.find("  commit 2: pair with 2 lost (weight 5): cause set 2 3 9 "
                              "[line 4]\n"),
             std::string::npos)
       << history.out;
@@ -229,23 +229,25 @@ TEST(ReplayWhy, ScriptHistoryAndExplanation) {
   EXPECT_EQ(answer["unit"], "commit");
   EXPECT_EQ(answer["at"], 2);
   EXPECT_TRUE(answer["mate"].is_null());
-  EXPECT_EQ(answer["price2"], 0);
+  EXPECT_TRUE(answer["pair_weight"].is_null());
+  EXPECT_EQ(answer["price"], 0);
+  EXPECT_EQ(answer["dual_x2"], 0);
   ASSERT_EQ(answer["alternatives"].size(), 1u);
   EXPECT_EQ(answer["alternatives"][0]["other"], 2);
   EXPECT_EQ(answer["alternatives"][0]["other_mate"], 3);
-  EXPECT_GE(answer["alternatives"][0]["slack2"].get<std::int64_t>(), 0);
+  EXPECT_GE(answer["alternatives"][0]["slack_x2"].get<std::int64_t>(), 0);
 
   // The help documents both questions and the JSON shapes.
   const testing::RunResult help = testing::run_yoke(dir, {"replay", "--help"});
   ASSERT_EQ(help.exit_code, 0) << help.err;
-  for (const char* wanted : {"--vertex", "--explain", "--alternatives", "--json",
+  for (const char* wanted : {"--history", "--explain", "--alternatives", "--json",
                              "\"kind\":\"history\"", "\"kind\":\"explanation\"",
-                             "first_solve", "slack"}) {
+                             "first_solve", "slack_x2", "dual_x2"}) {
     EXPECT_NE(help.out.find(wanted), std::string::npos) << wanted;
   }
 
   // Not combinable with the commit-line options.
-  EXPECT_EQ(testing::run_yoke(dir, {"replay", script, "--vertex", "1", "--diffs"}).exit_code, 2);
+  EXPECT_EQ(testing::run_yoke(dir, {"replay", script, "--history", "1", "--diffs"}).exit_code, 2);
   EXPECT_EQ(testing::run_yoke(dir, {"replay", script, "--json"}).exit_code, 2);
 }
 

@@ -97,7 +97,7 @@ TEST(WatchCommand, CatchUpStartsFromTheMatchingAndRefetchesAfterAGap) {
     matching.set_seq(matching_seqs.at(std::min(asked++, matching_seqs.size() - 1)));
     matching.set_weight(-3);
     matching.set_mode(yoke::v1::MODE_PERFECT);
-    yoke::v1::Pair& pair = *matching.add_pairs();
+    yoke::v1::Pair& pair = *matching.add_matching();
     pair.set_a(1);
     pair.set_b(2);
     pair.set_weight(-3);
@@ -106,15 +106,15 @@ TEST(WatchCommand, CatchUpStartsFromTheMatchingAndRefetchesAfterAGap) {
   const RunResult result = run_yoke(dir, {"watch", "--pool", "city", "--publish", publish,
                                           "--query", query, "--catch-up", "--count", "2"});
   ASSERT_EQ(result.exit_code, 0) << result.err;
-  const auto snapshot = [](std::uint64_t seq) {
+  const auto start = [](std::uint64_t seq) {
     return "{\"pool\":\"city\",\"seq\":" + std::to_string(seq) +
-           ",\"weight\":-3,\"pairs\":[[1,2,-3]],\"mode\":\"perfect\","
-           "\"no_perfect_matching\":false,\"snapshot\":true}";
+           ",\"weight\":-3,\"pairs\":1,\"matching\":[[1,2,-3]],\"mode\":\"perfect\","
+           "\"no_perfect_matching\":false,\"catch_up\":true}";
   };
-  EXPECT_EQ(lines_of(result.out), (std::vector<std::string>{snapshot(5), diff_line("city", 6, 5),
-                                                            snapshot(8), diff_line("city", 9, 8)}));
+  EXPECT_EQ(lines_of(result.out), (std::vector<std::string>{start(5), diff_line("city", 6, 5),
+                                                            start(8), diff_line("city", 9, 8)}));
   EXPECT_EQ(result.err,
-            "error: pool city: diff 8 follows seq 7, but the last seq held is 6; catching up "
+            "note: pool city: diff 8 follows seq 7, but the last seq held is 6; catching up "
             "again\n");
 }
 
@@ -136,9 +136,9 @@ TEST(WatchCommand, CatchUpOnAPoolNotCreatedYetStartsAtSeqZero) {
       dir, {"watch", "--publish", publish, "--query", query, "--catch-up", "--count", "1"});
   ASSERT_EQ(result.exit_code, 0) << result.err;
   EXPECT_EQ(lines_of(result.out),
-            (std::vector<std::string>{"{\"pool\":\"default\",\"seq\":0,\"weight\":0,\"pairs\":[],"
-                                      "\"mode\":null,\"no_perfect_matching\":false,"
-                                      "\"snapshot\":true}",
+            (std::vector<std::string>{"{\"pool\":\"default\",\"seq\":0,\"weight\":0,\"pairs\":0,"
+                                      "\"matching\":[],\"mode\":null,"
+                                      "\"no_perfect_matching\":false,\"catch_up\":true}",
                                       diff_line("default", 1, 0)}));
 }
 

@@ -178,6 +178,36 @@ TEST(BatchDecoder, UnknownEventKindIsMalformedWithItsIndex) {
   }
 }
 
+// What the metrics count as a refused message rather than a refused batch.
+TEST(BatchDecoder, UnreadMessagesAreToldFromBatches) {
+  const InputLimits limits = small_limits();
+  // Not read as a batch: garbage, too large, another version, no batch in it.
+  EXPECT_TRUE(refuses_unread_message(refusal_ack(decode_ingest("not protobuf at all", limits))));
+  InputLimits tiny = limits;
+  tiny.max_message_bytes = 3;
+  EXPECT_TRUE(refuses_unread_message(
+      refusal_ack(decode_ingest(ingest_message({wire_add(1)}, kHeader), tiny))));
+  v1::IngestRequest other_version;
+  other_version.set_version(7);
+  other_version.mutable_batch();
+  EXPECT_TRUE(refuses_unread_message(
+      refusal_ack(decode_ingest(other_version.SerializeAsString(), limits))));
+  v1::IngestRequest no_kind;
+  no_kind.set_version(v1::PROTOCOL_VERSION_1);
+  EXPECT_TRUE(
+      refuses_unread_message(refusal_ack(decode_ingest(no_kind.SerializeAsString(), limits))));
+  // Read as a batch, then refused: a bad event (MALFORMED_MESSAGE with its index), too many
+  // events.
+  v1::Event odd;
+  odd.set_kind(static_cast<v1::Event::Kind>(99));
+  EXPECT_FALSE(refuses_unread_message(
+      refusal_ack(decode_ingest(ingest_message({wire_add(1), odd}, kHeader), limits))));
+  EXPECT_FALSE(refuses_unread_message(refusal_ack(decode_ingest(
+      ingest_message({wire_add(1), wire_add(2), wire_add(3), wire_add(4), wire_add(5)}, kHeader),
+      limits))));
+  EXPECT_FALSE(refuses_unread_message(v1::Ack()));  // not a refusal at all
+}
+
 TEST(BatchDecoder, FieldsAnEventKindDoesNotHaveAreMalformed) {
   v1::Event add_with_v = wire_add(1);
   add_with_v.set_v(2);

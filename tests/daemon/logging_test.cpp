@@ -4,7 +4,10 @@
 #include <filesystem>
 #include <fstream>
 #include <sstream>
+#include <string>
+#include <vector>
 
+#include <nlohmann/json.hpp>
 #include <spdlog/sinks/ostream_sink.h>
 #include <spdlog/spdlog.h>
 #include <unistd.h>
@@ -55,8 +58,49 @@ TEST(Logging, JsonLinesAreOneObjectWithFields) {
   ASSERT_EQ(line.rfind("{\"time\":\"", 0), 0u) << line;
   ASSERT_TRUE(starts_with_utc_time(line.substr(9))) << line;
   EXPECT_EQ(line.substr(9 + 27),
-            "\",\"level\":\"warn\",\"logger\":\"yoked\",\"message\":\"batch_rejected\","
+            "\",\"level\":\"warn\",\"logger\":\"yoked\",\"event\":\"batch_rejected\","
             "\"pool\":\"default\",\"reason\":\"self loop\",\"events\":12,\"retry\":false}\n");
+}
+
+// Every key of a JSON line once, the event name kept: a field named like a fixed key (the
+// Protobuf log event's "message" used to collide with the event name) or like an earlier field
+// goes under KEY_2, KEY_3, ...
+TEST(Logging, JsonKeysAreUniqueAndKeepTheEventName) {
+  Captured log(LogFormat::json);
+  log_event(*log.logger, LogLevel::warn, "protobuf",
+            {{"file", "a.cc"},
+             {"line", 7},
+             {"message", "bad"},
+             {"event", "mine"},
+             {"time", "then"},
+             {"level", "low"},
+             {"logger", "me"},
+             {"event_2", "taken"},
+             {"file", "b.cc"}});
+  const std::string line = log.out.str();
+  // nlohmann keeps the last of duplicate keys; count them in the text too.
+  const nlohmann::json parsed = nlohmann::json::parse(line);
+  EXPECT_EQ(parsed["event"], "protobuf");
+  EXPECT_EQ(parsed["level"], "warn");
+  EXPECT_EQ(parsed["logger"], "yoked");
+  EXPECT_EQ(parsed["message"], "bad");
+  EXPECT_EQ(parsed["file"], "a.cc");
+  EXPECT_EQ(parsed["line"], 7);
+  EXPECT_EQ(parsed["event_2"], "mine");
+  EXPECT_EQ(parsed["time_2"], "then");
+  EXPECT_EQ(parsed["level_2"], "low");
+  EXPECT_EQ(parsed["logger_2"], "me");
+  EXPECT_EQ(parsed["event_2_2"], "taken");
+  EXPECT_EQ(parsed["file_2"], "b.cc");
+  EXPECT_EQ(parsed.size(), 13u);
+  std::vector<std::string> keys;
+  for (const auto& [key, value] : parsed.items()) keys.push_back(key);
+  for (const std::string& key : keys) {
+    const std::string quoted = "\"" + key + "\":";
+    const auto first = line.find(quoted);
+    ASSERT_NE(first, std::string::npos) << key;
+    EXPECT_EQ(line.find(quoted, first + 1), std::string::npos) << key << " twice in " << line;
+  }
 }
 
 TEST(Logging, TimeIsRfc3339InUtc) {
@@ -71,7 +115,7 @@ TEST(Logging, TimeIsRfc3339InUtc) {
   EXPECT_EQ(fmt::to_string(text), "2024-05-01T12:00:00.123456Z info yoked started\n");
   EXPECT_EQ(fmt::to_string(json),
             "{\"time\":\"2024-05-01T12:00:00.123456Z\",\"level\":\"info\",\"logger\":\"yoked\","
-            "\"message\":\"started\"}\n");
+            "\"event\":\"started\"}\n");
 }
 
 TEST(Logging, EscapesQuotesBackslashesControlsAndNonAscii) {
@@ -98,7 +142,7 @@ TEST(Logging, PlainMessagesAreEscapedToo) {
   EXPECT_EQ(text.out.str().substr(27), " info yoked two\\nlines\n");
   Captured json(LogFormat::json);
   json.logger->error("say \"hi\"");
-  EXPECT_NE(json.out.str().find("\"level\":\"error\",\"logger\":\"yoked\",\"message\":\"say "
+  EXPECT_NE(json.out.str().find("\"level\":\"error\",\"logger\":\"yoked\",\"event\":\"say "
                                 "\\\"hi\\\"\"}\n"),
             std::string::npos);
 }
@@ -132,7 +176,7 @@ TEST(Logging, WritesToAFileAndThroughTheDefaultLogger) {
   std::string line;
   std::getline(in, line);
   std::filesystem::remove(file);
-  EXPECT_NE(line.find("\"message\":\"started\",\"pools\":2}"), std::string::npos) << line;
+  EXPECT_NE(line.find("\"event\":\"started\",\"pools\":2}"), std::string::npos) << line;
 }
 
 TEST(LogSettings, NamesRoundTrip) {

@@ -105,7 +105,7 @@ class PoolServiceTest : public ::testing::Test {
                       v1::Error::Code code, std::optional<std::uint32_t> index) {
     const std::string pool = header.pool.empty() ? "default" : header.pool;
     const PoolView before = view_of(service(), pool);
-    const std::uint64_t journal_before = service().next_journal_seq();
+    const std::uint64_t journal_before = service().next_journal_position();
     const std::size_t window_events = service().window_events();
     const v1::Ack ack = offer_now(events, header);
     ASSERT_TRUE(ack.has_rejected()) << ack.ShortDebugString();
@@ -121,7 +121,7 @@ class PoolServiceTest : public ::testing::Test {
     EXPECT_EQ(ack.client_batch(), header.client_batch);
     EXPECT_EQ(ack.pool(), pool);
     EXPECT_EQ(view_of(service(), pool), before);
-    EXPECT_EQ(service().next_journal_seq(), journal_before);
+    EXPECT_EQ(service().next_journal_position(), journal_before);
     EXPECT_EQ(service().window_events(), window_events);
   }
 
@@ -417,7 +417,7 @@ TEST_F(PoolServiceTest, EmptyWindowPublishesNothing) {
   const WindowResult result = close_window(service());
   EXPECT_TRUE(result.acks.empty());
   EXPECT_TRUE(result.diffs.empty());
-  EXPECT_EQ(service().next_journal_seq(), 1u);
+  EXPECT_EQ(service().next_journal_position(), 1u);
 }
 
 TEST_F(PoolServiceTest, JournalHoldsOneRecordPerAcceptedBatch) {
@@ -429,7 +429,7 @@ TEST_F(PoolServiceTest, JournalHoldsOneRecordPerAcceptedBatch) {
   offer({wire_unset(2, 3)}, from_client("d", 7));
   offer({wire_add(8)}, in_pool("tiny"));
   close_window(service());
-  EXPECT_EQ(service().next_journal_seq(), 6u);
+  EXPECT_EQ(service().next_journal_position(), 6u);
 
   const std::vector<v1::JournalRecord> records = journal_records(service());
   ASSERT_EQ(records.size(), 5u);

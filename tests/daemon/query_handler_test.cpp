@@ -181,7 +181,7 @@ class QueryHandlerTest : public ::testing::Test {
       }
     }
     EXPECT_EQ(explanation.vertex(), vertex);
-    EXPECT_EQ(explanation.dual2(), certificate.vertex_dual2[v]);
+    EXPECT_EQ(explanation.dual_x2(), certificate.vertex_dual2[v]);
     EXPECT_EQ(explanation.weight_offset(), certificate.weight_offset);
     const Vertex mate_of_v = certificate.mate[v];
     EXPECT_EQ(explanation.has_mate(), mate_of_v != kNoVertex);
@@ -211,6 +211,7 @@ class QueryHandlerTest : public ::testing::Test {
                                 ? std::nullopt
                                 : std::optional<VertexKey>(exported.keys[other_mate]));
     }
+    EXPECT_EQ(explanation.has_pair_weight(), mate_of_v != kNoVertex);
     EXPECT_EQ(explanation.pair_weight(), pair_weight);
     std::sort(expected.begin(), expected.end());
     expected.resize(std::min(expected.size(), limit));
@@ -219,8 +220,8 @@ class QueryHandlerTest : public ::testing::Test {
       SCOPED_TRACE(i);
       const v1::Alternative& alternative = explanation.alternatives(static_cast<int>(i));
       const auto& [slack2, other, weight, other_mate] = expected[i];
-      EXPECT_GE(alternative.slack2(), 0);
-      EXPECT_EQ(alternative.slack2(), slack2);
+      EXPECT_GE(alternative.slack_x2(), 0);
+      EXPECT_EQ(alternative.slack_x2(), slack2);
       EXPECT_EQ(alternative.other(), other);
       EXPECT_EQ(alternative.weight(), weight);
       EXPECT_EQ(alternative.has_other_mate(), other_mate.has_value());
@@ -273,15 +274,15 @@ TEST_F(QueryHandlerTest, MateOfMatchedExposedAndUnknownVertices) {
   EXPECT_EQ(reply.mate().vertex(), 4u);
   ASSERT_TRUE(reply.mate().has_mate());
   EXPECT_EQ(reply.mate().mate(), 1u);
-  EXPECT_EQ(reply.mate().weight(), 1);
+  EXPECT_EQ(reply.mate().pair_weight(), 1);
   reply = ask(mate(3));
   EXPECT_EQ(reply.mate().mate(), 2u);
-  EXPECT_EQ(reply.mate().weight(), 10);
+  EXPECT_EQ(reply.mate().pair_weight(), 10);
 
   reply = ask(mate(5));  // alive, no edge: exposed
   ASSERT_TRUE(reply.has_mate()) << reply.ShortDebugString();
   EXPECT_FALSE(reply.mate().has_mate());
-  EXPECT_EQ(reply.mate().weight(), 0);
+  EXPECT_FALSE(reply.mate().has_pair_weight());
 
   reply = ask(mate(77));
   expect_error(reply, v1::Error::UNKNOWN_VERTEX);
@@ -295,13 +296,13 @@ TEST_F(QueryHandlerTest, MatchingIsSortedWithWeights) {
   EXPECT_EQ(reply.matching().seq(), 2u);
   EXPECT_EQ(reply.matching().weight(), 11);
   EXPECT_EQ(reply.matching().mode(), v1::MODE_MAX_WEIGHT);
-  ASSERT_EQ(reply.matching().pairs_size(), 2);
-  EXPECT_EQ(reply.matching().pairs(0).ShortDebugString(), "a: 1 b: 4 weight: 1");
-  EXPECT_EQ(reply.matching().pairs(1).ShortDebugString(), "a: 2 b: 3 weight: 10");
+  ASSERT_EQ(reply.matching().matching_size(), 2);
+  EXPECT_EQ(reply.matching().matching(0).ShortDebugString(), "a: 1 b: 4 weight: 1");
+  EXPECT_EQ(reply.matching().matching(1).ShortDebugString(), "a: 2 b: 3 weight: 10");
 
   const v1::QueryReply hub = ask_pool("hub", matching());
-  ASSERT_EQ(hub.matching().pairs_size(), 1);
-  EXPECT_EQ(hub.matching().pairs(0).ShortDebugString(), "a: 100 b: 108 weight: 8");
+  ASSERT_EQ(hub.matching().matching_size(), 1);
+  EXPECT_EQ(hub.matching().matching(0).ShortDebugString(), "a: 100 b: 108 weight: 8");
   EXPECT_EQ(hub.matching().seq(), 1u);
   EXPECT_TRUE(ask_pool("pairs", matching()).matching().no_perfect_matching());
 }
@@ -329,7 +330,8 @@ TEST_F(QueryHandlerTest, ExplainListsAlternativesConsistentWithTheCertificate) {
   // Vertex 5 is exposed with no edges: dual 0 in max-weight mode, nothing to list.
   reply = ask(explain(5));
   EXPECT_FALSE(reply.explain().has_mate());
-  EXPECT_EQ(reply.explain().dual2(), 0);
+  EXPECT_EQ(reply.explain().dual_x2(), 0);
+  EXPECT_FALSE(reply.explain().has_pair_weight());
   EXPECT_EQ(reply.explain().alternatives_size(), 0);
 
   // The hub: seven unmatched edges; 5 by default, as many as asked, capped by what exists.

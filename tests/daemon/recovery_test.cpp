@@ -128,11 +128,11 @@ testing::ScriptSpec three_pools() {
 TEST(Recovery, EmptyDataDirectoryGivesAnEmptyService) {
   ServiceHarness harness;
   const RecoveryReport report = harness.restart();
-  EXPECT_FALSE(report.snapshot.has_value());
+  EXPECT_FALSE(report.snapshot_position.has_value());
   EXPECT_TRUE(report.skipped.empty());
   EXPECT_EQ(report.pools, 0u);
   EXPECT_EQ(report.records, 0u);
-  EXPECT_EQ(harness.service().next_journal_seq(), 1u);
+  EXPECT_EQ(harness.service().next_journal_position(), 1u);
   EXPECT_FALSE(harness.offer({wire_set(1, 2, 3)}).has_value());
   const auto result = harness.close();
   EXPECT_EQ(result.acks.at(0).second.accepted().seq(), 1u);
@@ -143,16 +143,16 @@ TEST(Recovery, JournalAloneRebuildsTheSameState) {
   ServiceHarness harness;
   ASSERT_TRUE(testing::run_script(harness, script));
   const ServiceRecord before = record_of(harness.service());
-  const std::uint64_t next_record = harness.service().next_journal_seq();
+  const std::uint64_t next_record = harness.service().next_journal_position();
 
   const RecoveryReport report = harness.restart();
-  EXPECT_FALSE(report.snapshot.has_value());
+  EXPECT_FALSE(report.snapshot_position.has_value());
   EXPECT_TRUE(report.skipped.empty());
   EXPECT_EQ(report.pools, before.size());
   EXPECT_EQ(report.records, next_record - 1);
   EXPECT_EQ(report.commits, commits_of(script));
   expect_rebuilt(before, harness.service(), true);
-  EXPECT_EQ(harness.service().next_journal_seq(), next_record);
+  EXPECT_EQ(harness.service().next_journal_position(), next_record);
 
   // The ledger survived: the last batch of each client is a duplicate with its seq.
   for (const auto& [pool, record] : before) {
@@ -172,7 +172,7 @@ TEST(Recovery, JournalAloneRebuildsTheSameState) {
   ASSERT_EQ(result.acks.size(), 1u);
   EXPECT_EQ(result.acks[0].second.accepted().seq(), default_seq + 1);
   EXPECT_EQ(result.diffs.at(0).prev_seq(), default_seq);
-  EXPECT_EQ(harness.service().next_journal_seq(), next_record + 1);
+  EXPECT_EQ(harness.service().next_journal_position(), next_record + 1);
   const ServiceRecord after_more = record_of(harness.service());
   harness.restart();
   expect_rebuilt(after_more, harness.service(), false);
@@ -187,11 +187,11 @@ TEST(Recovery, SnapshotPlusJournalTail) {
   const std::uint64_t position = harness.snapshot();
   ASSERT_TRUE(testing::run_script(harness, slice(script, 15, 30)));
   const ServiceRecord before = record_of(harness.service());
-  const std::uint64_t next_record = harness.service().next_journal_seq();
+  const std::uint64_t next_record = harness.service().next_journal_position();
 
   const RecoveryReport report = harness.restart();
-  ASSERT_TRUE(report.snapshot.has_value());
-  EXPECT_EQ(*report.snapshot, position);
+  ASSERT_TRUE(report.snapshot_position.has_value());
+  EXPECT_EQ(*report.snapshot_position, position);
   EXPECT_TRUE(report.skipped.empty());
   EXPECT_EQ(report.records, next_record - position);  // only the tail was replayed
   EXPECT_EQ(report.commits, commits_of(slice(script, 15, 30)));
@@ -199,7 +199,7 @@ TEST(Recovery, SnapshotPlusJournalTail) {
   for (const auto& [name, seq] : seq_at_snapshot) {
     EXPECT_EQ(harness.service().progress(name)->last_snapshot_seq, seq) << name;
   }
-  EXPECT_EQ(harness.service().next_journal_seq(), next_record);
+  EXPECT_EQ(harness.service().next_journal_position(), next_record);
 }
 
 TEST(Recovery, SnapshotWithoutATailAndAnEmptyJournal) {
@@ -208,7 +208,7 @@ TEST(Recovery, SnapshotWithoutATailAndAnEmptyJournal) {
   const ServiceRecord before = record_of(harness.service());
   const std::uint64_t position = harness.snapshot();
   RecoveryReport report = harness.restart();
-  EXPECT_EQ(report.snapshot, position);
+  EXPECT_EQ(report.snapshot_position, position);
   EXPECT_EQ(report.records, 0u);
   expect_rebuilt(before, harness.service(), false);
   // The journal's segments gone (an operator cleaning up after the snapshot): the snapshot
@@ -216,9 +216,9 @@ TEST(Recovery, SnapshotWithoutATailAndAnEmptyJournal) {
   harness.stop();
   std::filesystem::remove_all(harness.journal_dir());
   report = harness.restart();
-  EXPECT_EQ(report.snapshot, position);
+  EXPECT_EQ(report.snapshot_position, position);
   expect_rebuilt(before, harness.service(), false);
-  EXPECT_EQ(harness.service().next_journal_seq(), position);
+  EXPECT_EQ(harness.service().next_journal_position(), position);
   EXPECT_FALSE(harness.offer({wire_set(200, 201, 4)}).has_value());
   harness.close();
   const ServiceRecord more = record_of(harness.service());
@@ -252,7 +252,7 @@ void damage_file(const std::filesystem::path& file, Damage damage) {
       // Checksums intact, contents wrong: only the checked restore can tell.
       SnapshotContents contents = read_snapshot_file(file);
       contents.pools.at(0).set_weight(contents.pools.at(0).weight() + 1);
-      write_snapshot_file(file, contents.journal_seq, contents.pools);
+      write_snapshot_file(file, contents.journal_position, contents.pools);
       break;
     }
   }
@@ -271,13 +271,13 @@ TEST(Recovery, DamagedNewestSnapshotFallsBackToTheOlderOne) {
     ASSERT_TRUE(testing::run_script(harness, slice(script, 20, 30)));
     ASSERT_LT(older, newer);
     const ServiceRecord before = record_of(harness.service());
-    const std::uint64_t next_record = harness.service().next_journal_seq();
+    const std::uint64_t next_record = harness.service().next_journal_position();
     const std::filesystem::path newest = SnapshotStore(harness.snapshot_dir(), 2).path_for(newer);
     damage_file(newest, damage);
 
     const RecoveryReport report = harness.restart();
-    ASSERT_TRUE(report.snapshot.has_value());
-    EXPECT_EQ(*report.snapshot, older);
+    ASSERT_TRUE(report.snapshot_position.has_value());
+    EXPECT_EQ(*report.snapshot_position, older);
     ASSERT_EQ(report.skipped.size(), 1u);
     if (damage != Damage::wrong_weight) {
       EXPECT_NE(report.skipped[0].find(newest.filename().string()), std::string::npos)
@@ -313,7 +313,7 @@ TEST(Recovery, SnapshotUnderAnotherPositionsNameIsSkipped) {
 
   const RecoveryReport report = harness.restart();
   expect_rebuilt(before, harness.service(), false);
-  EXPECT_EQ(report.snapshot, older);
+  EXPECT_EQ(report.snapshot_position, older);
   ASSERT_EQ(report.skipped.size(), 1u);
   EXPECT_NE(report.skipped[0].find(store.path_for(newer).filename().string()), std::string::npos)
       << report.skipped[0];
@@ -333,7 +333,7 @@ TEST(Recovery, EverySnapshotDamagedFallsBackToTheWholeJournal) {
   damage_file(store.path_for(older), Damage::flipped_byte);
 
   const RecoveryReport report = harness.restart();
-  EXPECT_FALSE(report.snapshot.has_value());
+  EXPECT_FALSE(report.snapshot_position.has_value());
   EXPECT_EQ(report.skipped.size(), 2u);
   expect_rebuilt(before, harness.service(), true);
 }
@@ -482,7 +482,7 @@ TEST(Recovery, ForgedJournalThatIsRightRecovers) {
   EXPECT_EQ(report.records, 3u);
   EXPECT_EQ(report.commits, 2u);
   EXPECT_EQ(state.progress.at("quay").seq, 3u);
-  EXPECT_EQ(state.next_journal_seq, 4u);
+  EXPECT_EQ(state.next_journal_position, 4u);
   const Pool& pool = *state.registry.find("quay");
   EXPECT_TRUE(testing::pool_certified(pool));
   // Common knowledge: vertices 1, 2 and 9 are left with no edge at all.
@@ -558,9 +558,9 @@ class DroppedSegments : public ::testing::Test {
 
 TEST_F(DroppedSegments, PoolWhoseEarlyRecordsAreGoneIsAnError) {
   windows("harbour", 20, 1);
-  const std::uint64_t cut = harness_.service().next_journal_seq() - 3;
+  const std::uint64_t cut = harness_.service().next_journal_position() - 3;
   EXPECT_GT(harness_.service().journal().drop_before(cut), 0u);
-  EXPECT_GT(harness_.service().journal().first_seq(), 1u);
+  EXPECT_GT(harness_.service().journal().first_position(), 1u);
   EXPECT_THROW(harness_.restart(), RecoveryError);
 }
 
@@ -578,10 +578,10 @@ TEST_F(DroppedSegments, PoolWhollyInTheDroppedRecordsIsAnError) {
   // "airport" lives only in the records that are dropped; "harbour" starts after them, so its
   // own records are whole. Recovery must still refuse: airport would vanish silently.
   windows("airport", 15, 1);
-  const std::uint64_t harbour_starts = harness_.service().next_journal_seq();
+  const std::uint64_t harbour_starts = harness_.service().next_journal_position();
   windows("harbour", 15, 1);
   EXPECT_GT(harness_.service().journal().drop_before(harbour_starts), 0u);
-  const std::uint64_t first = harness_.service().journal().first_seq();
+  const std::uint64_t first = harness_.service().journal().first_position();
   ASSERT_GT(first, 1u);
   ASSERT_LE(first, harbour_starts);  // every harbour record is still there
   const std::string error = restart_error(harness_);
@@ -596,7 +596,7 @@ TEST_F(DroppedSegments, SnapshotCoversTheDroppedRecords) {
   EXPECT_GT(harness_.service().journal().drop_before(position), 0u);
   const ServiceRecord before = record_of(harness_.service());
   const RecoveryReport report = harness_.restart();
-  EXPECT_EQ(report.snapshot, position);
+  EXPECT_EQ(report.snapshot_position, position);
   expect_rebuilt(before, harness_.service(), false);
 }
 
@@ -607,11 +607,11 @@ TEST_F(DroppedSegments, SnapshotOlderThanTheJournalIsSkipped) {
   const std::uint64_t newer = harness_.snapshot();
   windows("airport", 5, 201);
   EXPECT_GT(harness_.service().journal().drop_before(newer), 0u);
-  ASSERT_GT(harness_.service().journal().first_seq(), older);
+  ASSERT_GT(harness_.service().journal().first_position(), older);
   const ServiceRecord before = record_of(harness_.service());
   // The newer snapshot is fine: the older one is never needed.
   RecoveryReport report = harness_.restart();
-  EXPECT_EQ(report.snapshot, newer);
+  EXPECT_EQ(report.snapshot_position, newer);
   expect_rebuilt(before, harness_.service(), false);
   // Without it, the older one cannot be used (the records after it are gone): no way back.
   harness_.stop();
@@ -692,7 +692,7 @@ TEST(SnapshotCapture, OneRecordPerPoolWithItsMarks) {
   EXPECT_EQ(records[1].pool(), "quay");
   const v1::SnapshotRecord& quay = records[1];
   EXPECT_EQ(quay.seq(), 2u);
-  EXPECT_EQ(quay.journal_seq(), harness.service().next_journal_seq());
+  EXPECT_EQ(quay.journal_position(), harness.service().next_journal_position());
   EXPECT_EQ(quay.config().mode(), v1::MODE_MAX_WEIGHT);
   EXPECT_EQ(quay.engine_state_format(), kEngineStateFormat);
   ASSERT_EQ(quay.clients_size(), 2);

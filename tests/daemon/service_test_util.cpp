@@ -137,7 +137,7 @@ std::optional<v1::Ack> ServiceHarness::offer_bytes(std::string_view message) {
 
 std::uint64_t ServiceHarness::snapshot(std::size_t keep) {
   SnapshotStore store(snapshot_dir(), keep);
-  const std::uint64_t position = service_->next_journal_seq();
+  const std::uint64_t position = service_->next_journal_position();
   store.write(position, capture_snapshot(*service_));
   return position;
 }

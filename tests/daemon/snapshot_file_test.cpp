@@ -45,7 +45,7 @@ v1::SnapshotRecord sample_record(const std::string& pool, std::uint64_t seq) {
   std::string state(40 + seq, '\0');
   for (std::size_t i = 0; i < state.size(); i += 3) state[i] = static_cast<char>(i * 7 + seq);
   record.set_engine_state(state);
-  record.set_journal_seq(1234);
+  record.set_journal_position(1234);
   return record;
 }
 
@@ -60,9 +60,9 @@ std::string little_endian(std::uint64_t value, int bytes) {
 }
 
 // A file built field by field, for damage the writer cannot make.
-std::string forged_file(std::uint32_t version, std::uint64_t journal_seq, std::uint32_t pools,
+std::string forged_file(std::uint32_t version, std::uint64_t journal_position, std::uint32_t pools,
                         const std::vector<std::string>& payloads) {
-  std::string bytes = "YOKESNAP" + little_endian(version, 4) + little_endian(journal_seq, 8) +
+  std::string bytes = "YOKESNAP" + little_endian(version, 4) + little_endian(journal_position, 8) +
                       little_endian(pools, 4);
   bytes += little_endian(journal::crc32c(bytes), 4);
   for (const std::string& payload : payloads) {
@@ -96,7 +96,7 @@ TEST_F(SnapshotFileTest, RoundTripOfSeveralRecords) {
   write_sample();
   EXPECT_FALSE(std::filesystem::exists(dir_ / "snapshot-00000000000000001234.yks.tmp"));
   const SnapshotContents contents = read_snapshot_file(path_);
-  EXPECT_EQ(contents.journal_seq, 1234u);
+  EXPECT_EQ(contents.journal_position, 1234u);
   const std::vector<v1::SnapshotRecord> expected = sample_records();
   ASSERT_EQ(contents.pools.size(), expected.size());
   for (std::size_t i = 0; i < expected.size(); ++i) {
@@ -119,7 +119,7 @@ TEST_F(SnapshotFileTest, RoundTripOfSeveralRecords) {
 TEST_F(SnapshotFileTest, RoundTripOfNoRecordsAndRewrite) {
   write_snapshot_file(path_, 9, {});
   SnapshotContents contents = read_snapshot_file(path_);
-  EXPECT_EQ(contents.journal_seq, 9u);
+  EXPECT_EQ(contents.journal_position, 9u);
   EXPECT_TRUE(contents.pools.empty());
   // Writing again replaces the file whole.
   write_sample();
@@ -271,7 +271,7 @@ TEST(SnapshotStore, KeepsTheNewestAndRemovesTemporaryFiles) {
   store.write(4000, records);
   EXPECT_EQ(store.positions(), (std::vector<std::uint64_t>{4000, 300}));
   EXPECT_EQ(store.oldest_kept(), 300u);
-  EXPECT_EQ(read_snapshot_file(store.path_for(4000)).journal_seq, 4000u);
+  EXPECT_EQ(read_snapshot_file(store.path_for(4000)).journal_position, 4000u);
 }
 
 TEST(SnapshotStore, KeepZeroMeansOne) {

@@ -397,7 +397,7 @@ class Daemon:
         if reply.HasField("error"):
             raise AssertionError(f"matching of {pool}: {reply.error}")
         m = reply.matching
-        return m.seq, m.weight, {(p.a, p.b) for p in m.pairs}
+        return m.seq, m.weight, {(p.a, p.b) for p in m.matching}
 
     def metrics_text(self):
         with urllib.request.urlopen(self.metrics_url, timeout=10 * SLOWDOWN) as response:
@@ -672,17 +672,17 @@ RECORD_HEADER_BYTES = 16
 
 
 def segment_records(path):
-    """(offset, payload length, seq) of each whole record of a segment file; the parse stops at
+    """(offset, payload length, journal position) of each whole record of a segment file; the parse stops at
     the first record that does not fit in the file."""
     with open(path, "rb") as segment:
         data = segment.read()
     records = []
     offset = SEGMENT_HEADER_BYTES
     while offset + RECORD_HEADER_BYTES <= len(data):
-        length, _crc, seq = struct.unpack_from("<IIQ", data, offset)
+        length, _crc, position = struct.unpack_from("<IIQ", data, offset)
         if offset + RECORD_HEADER_BYTES + length > len(data):
             break
-        records.append((offset, length, seq))
+        records.append((offset, length, position))
         offset += RECORD_HEADER_BYTES + length
     return records, len(data)
 

@@ -1,8 +1,9 @@
 """End to end: bad input on the ingest socket, sent by a raw DEALER with messages built from the
 generated yoke.v1 modules, and bad queries through `yoke query`. Each refusal: the error code and
 event_index in the Ack (protocol.proto, ingest.proto), every pool untouched, the counter
-yoke_rejections_total{code} on /metrics one higher, a batch_rejected log line; the daemon then
-applies a good batch."""
+yoke_batches_rejected_total{code} on /metrics one higher and a batch_rejected log line (for a
+message not read as a batch: yoke_ingest_messages_rejected_total{code} and message_rejected,
+the batch counter unchanged); the daemon then applies a good batch."""
 
 import unittest
 
@@ -58,11 +59,20 @@ class BadInputTest(unittest.TestCase):
     def expect_refusal(self, payload, code, event_index=None, pool=None, client=None):
         """Sends `payload` (an IngestRequest or raw bytes) and checks the refusal."""
         code_name = ErrorCode.Code.Name(code)
+        # Refusals of what was never read as a batch (batch_decoder.h, refuses_unread_message).
+        unread = event_index is None and code in (
+            ErrorCode.OVERSIZED_MESSAGE, ErrorCode.MALFORMED_MESSAGE,
+            ErrorCode.UNSUPPORTED_VERSION, ErrorCode.UNKNOWN_MESSAGE_KIND)
+        metric = "yoke_ingest_messages_rejected_total" if unread else "yoke_batches_rejected_total"
+        other_metric = ("yoke_batches_rejected_total" if unread
+                        else "yoke_ingest_messages_rejected_total")
+        event = "message_rejected" if unread else "batch_rejected"
         before_state = self.pools_state()
         before_pools = self.daemon.ask("health").health.pools
-        before_metric = metric_value(self.daemon.metrics_text(), "yoke_rejections_total",
-                                     code=code_name)
-        before_log = len(self.daemon.log_lines("batch_rejected"))
+        metrics = self.daemon.metrics_text()
+        before_metric = metric_value(metrics, metric, code=code_name)
+        before_other = metric_value(metrics, other_metric, code=code_name)
+        before_log = len(self.daemon.log_lines(event))
 
         client = client or self.client
         if isinstance(payload, bytes):
@@ -88,10 +98,12 @@ class BadInputTest(unittest.TestCase):
         self.assertEqual(self.pools_state(), before_state)
         self.assertEqual(self.daemon.ask("health").health.pools, before_pools,
                          "a refused batch created a pool")
-        after_metric = metric_value(self.daemon.metrics_text(), "yoke_rejections_total",
-                                    code=code_name)
-        self.assertEqual(after_metric, before_metric + 1, f"yoke_rejections_total{{{code_name}}}")
-        lines = self.daemon.log_lines("batch_rejected")
+        metrics = self.daemon.metrics_text()
+        after_metric = metric_value(metrics, metric, code=code_name)
+        self.assertEqual(after_metric, before_metric + 1, f"{metric}{{{code_name}}}")
+        self.assertEqual(metric_value(metrics, other_metric, code=code_name), before_other,
+                         f"{other_metric}{{{code_name}}}")
+        lines = self.daemon.log_lines(event)
         self.assertEqual(len(lines), before_log + 1)
         self.assertIn(f"code={code_name}", lines[-1])
         self.good_batch_applies()
@@ -268,7 +280,7 @@ class BadInputTest(unittest.TestCase):
         result = self.daemon.yoke("query", "matching", "--pool", "nowhere", expect=2)
         self.assertIn("UNKNOWN_POOL", result.stderr)
         mate = self.daemon.yoke_json("query", "mate", "--vertex", "3")
-        self.assertEqual((mate["mate"], mate["weight"]), (4, 20))
+        self.assertEqual((mate["mate"], mate["pair_weight"]), (4, 20))
         # The query socket refuses garbage too, and keeps serving.
         sock = _context.socket(zmq.DEALER)
         sock.setsockopt(zmq.LINGER, 0)

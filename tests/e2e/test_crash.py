@@ -199,7 +199,7 @@ class CrashTest(unittest.TestCase):
             daemon.kill()
             daemon.start()
             recovered = log_fields(daemon.log_lines("recovered")[-1])
-            self.assertNotEqual(recovered["snapshot"], "none",
+            self.assertNotEqual(recovered["snapshot_position"], "none",
                                 "no timer snapshot was taken before the kill")
         out, err = sender.communicate(timeout=300 * SLOWDOWN)
         self.assertEqual(sender.returncode, 0, f"{err}\n{daemon.diagnostics()}")
@@ -266,7 +266,7 @@ class CrashTest(unittest.TestCase):
         recovered = daemon.log_lines("recovered")[-1]
         # The snapshot file is named by its journal position (daemon/snapshots/FORMAT.md).
         position = int(os.path.basename(taken["path"]).split("-")[1].split(".")[0])
-        self.assertIn(f"snapshot={position}", recovered)
+        self.assertIn(f"snapshot_position={position}", recovered)
         self.assertEqual(daemon.summary(), before)
         self.assertEqual(daemon.matching(), before_matching)
 

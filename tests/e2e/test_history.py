@@ -1,10 +1,10 @@
-"""End to end: the postmortem answers of `yoke replay DATA_DIR --vertex V` (a vertex's history
-with the root event of every change) and `--explain V --until SEQ` (its pair, price and closest
+"""End to end: the postmortem answers of `yoke replay DATA_DIR --history V` (a vertex's history
+with the cause of every change) and `--explain V --until SEQ` (its pair, price and closest
 alternatives at a past seq) on a real daemon's journal.
 
 References: the commit lines and diffs of the plain `yoke replay DATA_DIR --diffs` (every
 history change must sit at a commit whose diff holds V, and every such diff line must be in the
-history); the event script the test sent (arrivals, departures and root events are its events);
+history); the event script the test sent (vertices added and removed, and the causes, are its events);
 and the oracle NetworkX max_weight_matching (Debian python3-networkx) on the graph rebuilt from
 that script at the explained seq."""
 
@@ -58,13 +58,13 @@ class HistoryTest(unittest.TestCase):
         daemon.yoke("send", path, "--in-flight", "1", "--client-id", "hist")
         self.assertEqual(daemon.terminate(), 0, daemon.diagnostics())
 
-        [history] = json_lines(run_yoke("replay", daemon.data_dir, "--vertex", "1",
+        [history] = json_lines(run_yoke("replay", daemon.data_dir, "--history", "1",
                                         "--json").stdout)
         self.assertEqual((history["kind"], history["vertex"], history["unit"]),
                          ("history", 1, "seq"))
         changes = [(c["at"], c["change"], c.get("other")) for c in history["changes"]]
-        self.assertEqual(changes, [(1, "arrives", None), (1, "pair_gained", 2),
-                                   (2, "pair_lost", 2), (3, "departs", None)])
+        self.assertEqual(changes, [(1, "added", None), (1, "pair_gained", 2),
+                                   (2, "pair_lost", 2), (3, "removed", None)])
         self.assertEqual(history["changes"][1]["cause"], {"kind": "first_solve"})
         lost = history["changes"][2]["cause"]
         self.assertEqual((lost["kind"], lost["event"], lost["index"], lost["seq"],
@@ -74,15 +74,16 @@ class HistoryTest(unittest.TestCase):
                                                 "from_start": False, "to": 2}])
         self.assertFalse(history["end"]["present"])
 
-        text = run_yoke("replay", daemon.data_dir, "--vertex", "1").stdout
-        self.assertIn("seq 2: pair with 2 lost (weight 5): root event set 2 3 9 [seq 2, "
+        text = run_yoke("replay", daemon.data_dir, "--history", "1").stdout
+        self.assertIn("seq 2: pair with 2 lost (weight 5): cause set 2 3 9 [seq 2, "
                       "client hist, batch ", text)
         self.assertIn("  2 (weight 5) from seq 1 to seq 2\n", text)
 
         # At seq 2, 1 is alone: price 0, its edge to 2 (now paired with 3) the alternative.
         [explained] = json_lines(run_yoke("replay", daemon.data_dir, "--explain", "1",
                                           "--until", "2", "--json").stdout)
-        self.assertEqual((explained["at"], explained["mate"], explained["price2"]), (2, None, 0))
+        self.assertEqual((explained["at"], explained["mate"], explained["pair_weight"],
+                          explained["price"], explained["dual_x2"]), (2, None, None, 0, 0))
         self.assertEqual([(a["other"], a["weight"], a["other_mate"])
                           for a in explained["alternatives"]], [(2, 5, 3)])
 
@@ -96,7 +97,7 @@ class HistoryTest(unittest.TestCase):
 
         commits = replay_diffs(daemon.data_dir)
         self.assertGreater(len(commits), len(script.batches) // 4)
-        # The vertex whose pair changed most often, and one that departs, if any.
+        # The vertex whose pair changed most often, and one that is removed, if any.
         counts = {}
         for _, _, removed, added in commits:
             for a, b in removed + added:
@@ -108,7 +109,7 @@ class HistoryTest(unittest.TestCase):
 
         args = []
         for vertex in watched:
-            args += ["--vertex", str(vertex)]
+            args += ["--history", str(vertex)]
         histories = json_lines(run_yoke("replay", daemon.data_dir, *args, "--json").stdout)
         self.assertEqual([h["vertex"] for h in histories], watched)
         for history in histories:
@@ -155,7 +156,7 @@ class HistoryTest(unittest.TestCase):
             self.assertEqual(held, [partner] if partner is not None else [], (vertex, seq))
         self.assertEqual(history["end"]["mate"], partner)
 
-        # Root events: an event of the batch sent as that seq (one batch per seq), or the
+        # Causes: an event of the batch sent as that seq (one batch per seq), or the
         # first solve at the pool's first commit.
         first_seq = commits[0][0]
         for change in history["changes"]:
@@ -168,20 +169,20 @@ class HistoryTest(unittest.TestCase):
             batch = script.batches[cause["seq"] - 1]
             self.assertIn(cause["event"], [event_words(e) for e in batch], change)
 
-        # Arrivals and departures: the script's first mention and its `remove`.
+        # Vertices added and removed: the script's first mention and its `remove`.
         alive, expected = False, []
         for seq, batch in enumerate(script.batches, start=1):
             for event in batch:
                 _, kind, u, v, _ = event
                 if kind == "remove" and u == vertex and alive:
                     alive = False
-                    expected.append((seq, "departs", event_words(event)))
+                    expected.append((seq, "removed", event_words(event)))
                 elif (kind in ("add", "set") and vertex in ((u, v) if kind == "set" else (u,))
                       and not alive):
                     alive = True
-                    expected.append((seq, "arrives", event_words(event)))
+                    expected.append((seq, "added", event_words(event)))
         got = [(c["cause"]["seq"], c["change"], c["cause"]["event"]) for c in history["changes"]
-               if c["change"] in ("arrives", "departs")]
+               if c["change"] in ("added", "removed")]
         self.assertEqual(got, expected, vertex)
 
     def check_explanation(self, data_dir, vertex, until, commits, script):
@@ -219,11 +220,11 @@ class HistoryTest(unittest.TestCase):
             other = alternative["other"]
             self.assertEqual(alternative["weight"], graph[vertex][other]["weight"])
             self.assertEqual(alternative["other_mate"], mates.get(other))
-            self.assertGreaterEqual(alternative["slack2"], 0)
-            self.assertEqual(alternative["slack"] * 2, alternative["slack2"])
-            slacks.append(alternative["slack2"])
+            self.assertGreaterEqual(alternative["slack_x2"], 0)
+            self.assertEqual(alternative["slack"] * 2, alternative["slack_x2"])
+            slacks.append(alternative["slack_x2"])
         self.assertEqual(slacks, sorted(slacks))
-        self.assertEqual(answer["price"] * 2, answer["price2"])
+        self.assertEqual(answer["price"] * 2, answer["dual_x2"] - answer["weight_offset"])
 
 
 if __name__ == "__main__":

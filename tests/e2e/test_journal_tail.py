@@ -44,7 +44,7 @@ class JournalTailTest(unittest.TestCase):
         daemon, script, before = self.stream_then_kill(seed=61)
         segment = daemon.journal_segments()[-1]
         records, size = segment_records(segment)
-        last_offset, last_length, last_seq = records[-1]
+        last_offset, last_length, _ = records[-1]
         # The records fill the file exactly (daemon/journal/FORMAT.md: nothing after the last).
         self.assertEqual(last_offset + 16 + last_length, size)
         cut = 5
@@ -127,7 +127,7 @@ class JournalTailTest(unittest.TestCase):
         daemon.start()
         self.assertEqual(len(daemon.log_lines("snapshot_skipped")), 1, daemon.log_text())
         older = int(os.path.basename(snapshots[0]).split("-")[1].split(".")[0])
-        self.assertIn(f"snapshot={older}", daemon.log_lines("recovered")[-1])
+        self.assertIn(f"snapshot_position={older}", daemon.log_lines("recovered")[-1])
         summary = daemon.summary()
         self.assertEqual(summary, before)
         # Reference: the journal replayed from the start ends at the same seq and weight (the
@@ -159,7 +159,7 @@ class JournalTailTest(unittest.TestCase):
 
         daemon.start()
         self.assertEqual(len(daemon.log_lines("snapshot_skipped")), 2, daemon.log_text())
-        self.assertIn("snapshot=none", daemon.log_lines("recovered")[-1])
+        self.assertIn("snapshot_position=none", daemon.log_lines("recovered")[-1])
         # From the journal alone, the daemon commits where it did before: the same pairs.
         self.assertEqual(daemon.summary(), before)
         self.assertEqual(daemon.matching(), before_matching)
@@ -210,12 +210,12 @@ class JournalTailTest(unittest.TestCase):
         daemon, script, before = self.stream_then_kill(seed=66)
         segments = daemon.journal_segments()
         records, _ = segment_records(segments[-1])
-        next_seq = records[-1][2] + 1
+        next_position = records[-1][2] + 1
         directory = os.path.dirname(segments[-1])
         # A crash while the next segment was being created: too short for a header, or a header
         # of zero bytes (FORMAT.md: such a last segment is removed).
         for content in (b"YOKE", bytes(24)):
-            path = os.path.join(directory, f"{next_seq:020d}.seg")
+            path = os.path.join(directory, f"{next_position:020d}.seg")
             with open(path, "wb") as out:
                 out.write(content)
             daemon.start()

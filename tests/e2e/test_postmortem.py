@@ -41,7 +41,7 @@ class PostmortemReplayTest(unittest.TestCase):
         # --from: starts at the snapshot taken at snapshot_seq, then the commits after it, with
         # every certificate checked (--verify).
         out = run_yoke("replay", daemon.data_dir, "--from", str(snapshot_seq), "--verify").stdout
-        self.assertIn(f"note starting from the snapshot at seq {snapshot_seq}", out)
+        self.assertIn(f"note: starting from the snapshot at seq {snapshot_seq}", out)
         got = replay_commits(daemon.data_dir, "--from", str(snapshot_seq))
         after = [c for c in full if c["seq"] > snapshot_seq]
         self.assertEqual([(c["seq"], c["weight"]) for c in got],

@@ -52,7 +52,7 @@ class PythonClientTest(unittest.TestCase):
                 ("stats", query.stats("quay"), ()),
                 ("mate", query.mate("quay", 2), ("--vertex", "2")),
                 ("mate", query.mate("quay", 9), ("--vertex", "9")),
-                ("explain", query.explain("quay", 1, 2), ("--vertex", "1", "--limit", "2"))):
+                ("explain", query.explain("quay", 1, 2), ("--vertex", "1", "--alternatives", "2"))):
             self.assertEqual(mine, daemon.yoke_json("query", kind, "--pool", "quay", *extra),
                              kind)
         self.assertIsNone(query.mate("quay", 9)["mate"])
@@ -110,7 +110,7 @@ class PythonClientTest(unittest.TestCase):
         whole = Query(daemon.query).matching("brissa")
         self.assertEqual(whole["seq"], watcher.seq)
         mates = {}
-        for a, b, _ in whole["pairs"]:
+        for a, b, _ in whole["matching"]:
             mates[a], mates[b] = b, a
         self.assertEqual(watcher.matching, mates)
         self.assertEqual(watcher.weight, whole["weight"])

@@ -55,15 +55,15 @@ class ShutdownTest(unittest.TestCase):
         self.assertEqual(len(written), 1, daemon.log_text())
         self.assertEqual(len(daemon.log_lines("stopped")), 1)
         self.assertIn("status=0", daemon.log_lines("stopped")[0])
-        journal_seq = int(log_fields(written[0])["journal_seq"])
+        journal_position = int(log_fields(written[0])["journal_position"])
         self.assertEqual(int(log_fields(written[0])["pools"]), 2)
         # The final snapshot is a whole file named by its journal position.
         self.assertEqual([os.path.basename(p) for p in daemon.snapshot_files()],
-                         [f"snapshot-{journal_seq:020d}.yks"])
+                         [f"snapshot-{journal_position:020d}.yks"])
 
         daemon.start()
         recovered = log_fields(daemon.log_lines("recovered")[-1])
-        self.assertEqual(recovered["snapshot"], str(journal_seq))
+        self.assertEqual(recovered["snapshot_position"], str(journal_position))
         self.assertEqual(recovered["journal_records"], "0")  # nothing after the snapshot
         for pool, stream in streams.items():
             self.assertEqual((daemon.summary(pool), daemon.matching(pool)), before[pool], pool)

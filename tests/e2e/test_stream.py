@@ -44,7 +44,7 @@ class StreamTest(unittest.TestCase):
         # Reference for the exact pairs: `yoke replay DATA_DIR --diffs` replays the journal,
         # committing at the daemon's window boundaries, so ties break the same way.
         matching = daemon.yoke_json("query", "matching")
-        pairs = {(a, b) for a, b, _ in matching["pairs"]}
+        pairs = {(a, b) for a, b, _ in matching["matching"]}
         replay_pairs, journal_commits = replay_final_matching(daemon.data_dir)
         self.assertEqual(pairs, replay_pairs)
         self.assertEqual(journal_commits[-1]["seq"], batches)
@@ -52,9 +52,10 @@ class StreamTest(unittest.TestCase):
         self.assertEqual(matching["seq"], batches)
         self.assertEqual(matching["weight"], summary["weight"])
         self.assertEqual(len(pairs), summary["pairs"])
+        self.assertEqual(matching["pairs"], summary["pairs"])
         # Common knowledge: the pairs form a matching of the final graph with that weight.
         check_matching_in_graph(self, pairs, graph, summary["weight"])
-        for a, b, w in matching["pairs"]:
+        for a, b, w in matching["matching"]:
             self.assertEqual(w, graph[a][b]["weight"])
 
         # The /metrics page agrees (daemon_metrics.cpp: batches by outcome, pool gauges).

@@ -119,7 +119,7 @@ class SubscriberTest(unittest.TestCase):
         self.assertEqual(pairs, final_pairs)
         self.assertEqual(diffs[-1]["weight"], final_weight)
         query = daemon.yoke_json("query", "matching")
-        self.assertEqual(json_pairs(query["pairs"]), pairs)
+        self.assertEqual(json_pairs(query["matching"]), pairs)
 
         # The late subscriber: the matching fetched at some seq s, then diffs after s.
         wait_until(lambda: any(line.get("seq") == batches for line in late_out.json_lines()),
@@ -130,16 +130,16 @@ class SubscriberTest(unittest.TestCase):
         self.assertEqual(late.returncode, 0, late.stderr.read())
         lines = late_out.json_lines()
         start = lines[0]
-        self.assertTrue(start.get("snapshot"))
+        self.assertTrue(start.get("catch_up"))
         self.assertGreaterEqual(start["seq"], batches // 3)
         self.assertLess(start["seq"], batches, "the late subscriber started after the stream")
-        pairs, seq = json_pairs(start["pairs"]), start["seq"]
+        pairs, seq = json_pairs(start["matching"]), start["seq"]
         for diff in lines[1:]:
-            if diff.get("snapshot"):
+            if diff.get("catch_up"):
                 # `yoke watch --help`: a missed diff (its SUB connects asynchronously, so the
                 # first diffs after the fetched matching can be lost) fetches the matching again.
                 self.assertGreaterEqual(diff["seq"], seq)
-                pairs, seq = json_pairs(diff["pairs"]), diff["seq"]
+                pairs, seq = json_pairs(diff["matching"]), diff["seq"]
                 continue
             self.assertEqual(diff["prev_seq"], seq)
             for a, b, _ in diff["removed"]:

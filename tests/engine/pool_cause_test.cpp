@@ -1,4 +1,4 @@
-// The root event of each change of pairs: on small pools where the cause is known by
+// The cause of each change of pairs: on small pools where the cause is known by
 // construction (common knowledge: the only event that can break or make a pair here is the one
 // named in each test).
 #include <gtest/gtest.h>
@@ -21,7 +21,7 @@ CommitResult commit_checked(Pool& pool, const std::vector<Event>& batch) {
   return result;
 }
 
-TEST(PoolCause, FirstSolveHasNoRootEvent) {
+TEST(PoolCause, FirstSolveHasNoEventAsCause) {
   Pool pool(Mode::max_weight);
   const std::vector<Event> batch{set(1, 2, 5), set(3, 4, 7)};
   const CommitResult result = commit_checked(pool, batch);
@@ -41,7 +41,7 @@ TEST(PoolCause, ARivalEdgeThatRisesTakesTheVertex) {
   EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{1}));
 }
 
-TEST(PoolCause, ADepartureFreesItsMateWhoPairsAgain) {
+TEST(PoolCause, ARemovalFreesItsMateWhoPairsAgain) {
   Pool pool(Mode::max_weight);
   commit_checked(pool, std::vector<Event>{set(1, 2, 8), set(1, 4, 3), set(5, 6, 1)});
   ASSERT_EQ(pool.mate_of(1), 2u);

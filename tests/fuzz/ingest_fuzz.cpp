@@ -164,7 +164,7 @@ class Run {
   // Hands the journal back for the next input, without the segments this one filled.
   ~Run() {
     fixture_.journal.emplace(std::move(service_.journal()));
-    fixture_.journal->drop_before(fixture_.journal->next_seq());
+    fixture_.journal->drop_before(fixture_.journal->next_position());
   }
 
   void ingest(std::string_view message);
@@ -174,7 +174,7 @@ class Run {
 
  private:
   static ServiceState initial_state(const Fixture& fixture) {
-    const std::uint64_t next = fixture.journal->next_seq();
+    const std::uint64_t next = fixture.journal->next_position();
     return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {},
                         next == 0 ? 1 : next};
   }
@@ -482,12 +482,14 @@ void Run::query(std::string_view message) {
     mates[key.second] = {key.first, w};
     total += w;
   }
-  const auto check_mate = [&](std::uint64_t vertex, bool has_mate, std::uint64_t mate, Weight w) {
+  // The pair's weight is present exactly when the mate is.
+  const auto check_mate = [&](std::uint64_t vertex, bool has_mate, std::uint64_t mate,
+                              bool has_weight, Weight w) {
     REQUIRE(model.committed.alive.count(vertex) == 1);
     const auto found = mates.find(vertex);
     REQUIRE(has_mate == (found != mates.end()));
+    REQUIRE(has_weight == has_mate);
     if (has_mate) REQUIRE(mate == found->second.first && w == found->second.second);
-    if (!has_mate) REQUIRE(w == 0);
   };
   switch (reply.kind_case()) {
     case v1::QueryReply::kSummary: {
@@ -501,14 +503,15 @@ void Run::query(std::string_view message) {
     case v1::QueryReply::kMate: {
       const v1::Mate& mate = reply.mate();
       REQUIRE(mate.seq() == model.seq);
-      check_mate(mate.vertex(), mate.has_mate(), mate.mate(), mate.weight());
+      check_mate(mate.vertex(), mate.has_mate(), mate.mate(), mate.has_pair_weight(),
+                 mate.pair_weight());
       break;
     }
     case v1::QueryReply::kMatching: {
       const v1::Matching& matching = reply.matching();
       REQUIRE(matching.seq() == model.seq && matching.weight() == total);
       std::map<EdgeKey, Weight> pairs;
-      for (const v1::Pair& pair : matching.pairs()) {
+      for (const v1::Pair& pair : matching.matching()) {
         REQUIRE(pairs.empty() || pairs.rbegin()->first < EdgeKey{pair.a(), pair.b()});  // sorted
         pairs.emplace(EdgeKey{pair.a(), pair.b()}, pair.weight());
       }
@@ -518,7 +521,8 @@ void Run::query(std::string_view message) {
     case v1::QueryReply::kExplain: {
       const v1::Explanation& explain = reply.explain();
       REQUIRE(explain.seq() == model.seq);
-      check_mate(explain.vertex(), explain.has_mate(), explain.mate(), explain.pair_weight());
+      check_mate(explain.vertex(), explain.has_mate(), explain.mate(), explain.has_pair_weight(),
+                 explain.pair_weight());
       std::uint32_t limit = request.explain().max_alternatives();
       if (limit == 0) limit = QueryHandler::kDefaultAlternatives;
       REQUIRE(static_cast<std::uint32_t>(explain.alternatives_size()) <= limit);
@@ -528,8 +532,8 @@ void Run::query(std::string_view message) {
             model.committed.edges.find(fuzz::edge_key(explain.vertex(), alternative.other()));
         REQUIRE(edge != model.committed.edges.end() && edge->second == alternative.weight());
         REQUIRE(!explain.has_mate() || alternative.other() != explain.mate());
-        REQUIRE(alternative.slack2() >= 0);
-        const std::pair<std::int64_t, std::uint64_t> order{alternative.slack2(),
+        REQUIRE(alternative.slack_x2() >= 0);
+        const std::pair<std::int64_t, std::uint64_t> order{alternative.slack_x2(),
                                                            alternative.other()};
         REQUIRE(previous <= order);  // least slack first, ties by key
         previous = order;

@@ -64,7 +64,7 @@ int main(int argc, char** argv) {
     record.set_edges(pool.edge_count());
     record.set_engine_state_format(daemon::kEngineStateFormat);
     record.set_engine_state(state);
-    record.set_journal_seq(7);
+    record.set_journal_position(7);
   }
   const std::filesystem::path file = dir / "snapshot.tmp";
   daemon::write_snapshot_file(file, 7, records);

@@ -47,21 +47,21 @@ void expect_corruption(const std::filesystem::path& dir, const std::filesystem::
 
 // The start of each record of a segment written by write_journal, and the segment's end.
 std::vector<std::uint64_t> record_starts(const std::filesystem::path& segment) {
-  std::uint64_t seq = *parse_segment_file_name(segment.filename().string());
+  std::uint64_t position = *parse_segment_file_name(segment.filename().string());
   const std::uint64_t size = std::filesystem::file_size(segment);
   std::vector<std::uint64_t> starts;
-  for (std::uint64_t at = format::kSegmentHeaderBytes; at < size; ++seq) {
+  for (std::uint64_t at = format::kSegmentHeaderBytes; at < size; ++position) {
     starts.push_back(at);
-    at += format::kRecordHeaderBytes + payload_for(seq).size();
+    at += format::kRecordHeaderBytes + payload_for(position).size();
   }
   starts.push_back(size);
   return starts;
 }
 
-std::string forge_segment(std::uint64_t first_seq, const testing::Records& records) {
+std::string forge_segment(std::uint64_t first_position, const testing::Records& records) {
   std::string bytes;
-  append_segment_header(bytes, first_seq);
-  for (const auto& [seq, payload] : records) append_record(bytes, seq, payload);
+  append_segment_header(bytes, first_position);
+  for (const auto& [position, payload] : records) append_record(bytes, position, payload);
   return bytes;
 }
 
@@ -135,11 +135,11 @@ TEST(JournalCorruption, SegmentRenamed) {
   TempDir dir;
   write_journal(dir.path());
   std::filesystem::rename(dir / segment_file_name(1), dir / segment_file_name(2));
-  expect_corruption(dir.path(), dir / segment_file_name(2), format::kHeaderFirstSeqOffset,
-                    "header says the first sequence number is 1, the file name says 2");
+  expect_corruption(dir.path(), dir / segment_file_name(2), format::kHeaderFirstPositionOffset,
+                    "header says the first position is 1, the file name says 2");
 }
 
-TEST(JournalCorruption, MissingSegmentIsASequenceGap) {
+TEST(JournalCorruption, MissingSegmentIsAPositionGap) {
   TempDir dir;
   write_journal(dir.path());
   const auto files = segment_files(dir.path());
@@ -147,7 +147,7 @@ TEST(JournalCorruption, MissingSegmentIsASequenceGap) {
   const std::uint64_t removed_first = *parse_segment_file_name(files[1].filename().string());
   const std::uint64_t next_first = *parse_segment_file_name(files[2].filename().string());
   expect_corruption(dir.path(), files[2], 0,
-                    "sequence gap: the segment starts at " + std::to_string(next_first) +
+                    "position gap: the segment starts at " + std::to_string(next_first) +
                         " but the previous segment ends at " + std::to_string(removed_first - 1));
 }
 
@@ -159,10 +159,10 @@ TEST(JournalCorruption, GapOrDuplicateInsideASegment) {
   write_file(dir / segment_file_name(1), forge_segment(1, {{1, "one"}, {2, "two"}, {4, "four"}}));
   write_file(dir / segment_file_name(3), forge_segment(3, {{3, "three"}}));
   expect_corruption(dir.path(), dir / segment_file_name(1), bad_offset,
-                    "record has sequence number 4, expected 3");
+                    "record has position 4, expected 3");
   write_file(dir / segment_file_name(1), forge_segment(1, {{1, "one"}, {2, "two"}, {2, "two"}}));
   expect_corruption(dir.path(), dir / segment_file_name(1), bad_offset,
-                    "record has sequence number 2, expected 3");
+                    "record has position 2, expected 3");
 
   // The last segment: the misplaced record and what follows are cut.
   std::filesystem::remove(dir / segment_file_name(3));
@@ -173,7 +173,7 @@ TEST(JournalCorruption, GapOrDuplicateInsideASegment) {
     ASSERT_TRUE(journal.recovery().cut);
     EXPECT_EQ(journal.recovery().cut->offset, bad_offset);
     EXPECT_NE(journal.recovery().cut->reason.find("expected 3"), std::string::npos);
-    EXPECT_EQ(journal.next_seq(), 3u);
+    EXPECT_EQ(journal.next_position(), 3u);
     journal.append(3, "three");
     journal.sync();
   }
@@ -185,13 +185,14 @@ TEST(JournalCorruption, RecordsBeforeTheDamageAreStillReadable) {
   write_journal(dir.path());
   const auto files = segment_files(dir.path());
   std::string bytes = read_file(files[1]);
-  bytes[format::kSegmentHeaderBytes + format::kRecordSeqOffset] ^= 1;  // first record's seq
+  // The first record's position.
+  bytes[format::kSegmentHeaderBytes + format::kRecordPositionOffset] ^= 1;
   write_file(files[1], bytes);
   Reader reader = Reader::from_start(dir.path());
   std::uint64_t last = 0;
   EXPECT_THROW(
       {
-        while (auto record = reader.next()) last = record->seq;
+        while (auto record = reader.next()) last = record->position;
       },
       Corruption);
   EXPECT_EQ(last, *parse_segment_file_name(files[1].filename().string()) - 1);

@@ -25,21 +25,21 @@ Options crash_options(Durability durability) {
 }
 
 // The child: appends batches of records forever and, once a batch is durable, writes its last
-// sequence number to the pipe. Never returns.
+// position to the pipe. Never returns.
 [[noreturn]] void run_writer(const std::filesystem::path& dir, Durability durability,
                              int report_fd, std::uint64_t seed) {
   try {
     std::mt19937_64 random(seed);
     Journal journal = Journal::open(dir, crash_options(durability));
-    std::uint64_t seq = 0;
-    while (seq < 1'000'000) {  // ends long after the parent's kill, in case the parent fails
+    std::uint64_t position = 0;
+    while (position < 1'000'000) {  // ends long after the parent's kill, in case the parent fails
       const std::uint64_t batch = 1 + random() % 8;
       for (std::uint64_t i = 0; i < batch; ++i) {
-        ++seq;
-        journal.append(seq, payload_for(seq, kMaxPayload));
+        ++position;
+        journal.append(position, payload_for(position, kMaxPayload));
       }
       if (durability != Durability::every_batch) journal.sync();
-      if (::write(report_fd, &seq, sizeof seq) != sizeof seq) ::_exit(3);
+      if (::write(report_fd, &position, sizeof position) != sizeof position) ::_exit(3);
     }
     ::_exit(0);
   } catch (...) {
@@ -48,8 +48,8 @@ Options crash_options(Durability durability) {
 }
 
 // Reads one report; false at the end of the pipe.
-bool read_report(int fd, std::uint64_t& seq) {
-  char bytes[sizeof seq];
+bool read_report(int fd, std::uint64_t& position) {
+  char bytes[sizeof position];
   std::size_t got = 0;
   while (got < sizeof bytes) {
     const ssize_t n = ::read(fd, bytes + got, sizeof bytes - got);
@@ -57,7 +57,7 @@ bool read_report(int fd, std::uint64_t& seq) {
     if (n <= 0) return false;
     got += static_cast<std::size_t>(n);
   }
-  std::memcpy(&seq, bytes, sizeof seq);
+  std::memcpy(&position, bytes, sizeof position);
   return true;
 }
 
@@ -82,14 +82,15 @@ TEST(JournalCrash, SigkillLosesNothingSynced) {
     const std::uint64_t reports_before_kill = 1 + random() % 30;
     std::uint64_t synced = 0;
     std::uint64_t reported = 0;
-    for (std::uint64_t seq = 0; reported < reports_before_kill && read_report(pipe_fds[0], seq);
+    for (std::uint64_t position = 0;
+         reported < reports_before_kill && read_report(pipe_fds[0], position);
          ++reported) {
-      synced = seq;
+      synced = position;
     }
     ::usleep(static_cast<useconds_t>(random() % 3000));
     ASSERT_EQ(::kill(child, SIGKILL), 0);
     // Whatever is in the pipe was written after its sync() returned, so before the kill.
-    for (std::uint64_t seq = 0; read_report(pipe_fds[0], seq);) synced = seq;
+    for (std::uint64_t position = 0; read_report(pipe_fds[0], position);) synced = position;
     ::close(pipe_fds[0]);
     int status = 0;
     ASSERT_EQ(::waitpid(child, &status, 0), child);
@@ -100,7 +101,7 @@ TEST(JournalCrash, SigkillLosesNothingSynced) {
     Journal journal = Journal::open(dir.path(), crash_options(durability));
     const std::uint64_t recovered = journal.recovery().records;
     EXPECT_GE(recovered, synced);
-    EXPECT_EQ(journal.next_seq(), recovered + 1);
+    EXPECT_EQ(journal.next_position(), recovered + 1);
     testing::append_range(journal, recovered + 1, recovered + 10, kMaxPayload);
     EXPECT_EQ(testing::read_all(dir.path()),
               testing::expected_range(1, recovered + 10, kMaxPayload));

@@ -21,17 +21,19 @@ TempDir::~TempDir() {
   std::filesystem::remove_all(path_, ignored);
 }
 
-std::string payload_for(std::uint64_t seq, std::size_t max_bytes) {
-  const std::size_t length = max_bytes == 0 ? 0 : (seq * 2654435761u) % (max_bytes + 1);
+std::string payload_for(std::uint64_t position, std::size_t max_bytes) {
+  const std::size_t length = max_bytes == 0 ? 0 : (position * 2654435761u) % (max_bytes + 1);
   std::string payload(length, '\0');
-  for (std::size_t i = 0; i < length; ++i) payload[i] = static_cast<char>((seq * 31 + i * 7) & 0xFF);
+  for (std::size_t i = 0; i < length; ++i) {
+    payload[i] = static_cast<char>((position * 31 + i * 7) & 0xFF);
+  }
   return payload;
 }
 
 void append_range(Journal& journal, std::uint64_t first, std::uint64_t last,
                   std::size_t max_bytes) {
-  for (std::uint64_t seq = first; seq <= last; ++seq) {
-    journal.append(seq, payload_for(seq, max_bytes));
+  for (std::uint64_t position = first; position <= last; ++position) {
+    journal.append(position, payload_for(position, max_bytes));
   }
   journal.sync();
 }
@@ -39,14 +41,14 @@ void append_range(Journal& journal, std::uint64_t first, std::uint64_t last,
 Records read_all(const std::filesystem::path& dir) {
   Records records;
   Reader reader = Reader::from_start(dir);
-  while (auto record = reader.next()) records.emplace_back(record->seq, record->payload);
+  while (auto record = reader.next()) records.emplace_back(record->position, record->payload);
   return records;
 }
 
 Records expected_range(std::uint64_t first, std::uint64_t last, std::size_t max_bytes) {
   Records records;
-  for (std::uint64_t seq = first; seq <= last; ++seq) {
-    records.emplace_back(seq, payload_for(seq, max_bytes));
+  for (std::uint64_t position = first; position <= last; ++position) {
+    records.emplace_back(position, payload_for(position, max_bytes));
   }
   return records;
 }

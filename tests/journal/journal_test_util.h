@@ -28,8 +28,9 @@ class TempDir {
   std::filesystem::path path_;
 };
 
-// The payload the tests write for seq: lengths from 0 to max_bytes, bytes depending on seq.
-std::string payload_for(std::uint64_t seq, std::size_t max_bytes = 100);
+// The payload the tests write at a position: lengths from 0 to max_bytes, bytes depending on
+// the position.
+std::string payload_for(std::uint64_t position, std::size_t max_bytes = 100);
 
 // Appends first..last with payload_for, then syncs.
 void append_range(Journal& journal, std::uint64_t first, std::uint64_t last,
@@ -38,7 +39,7 @@ void append_range(Journal& journal, std::uint64_t first, std::uint64_t last,
 using Records = std::vector<std::pair<std::uint64_t, std::string>>;
 // Every record of the journal in dir, read only.
 Records read_all(const std::filesystem::path& dir);
-// The records first..last with payload_for(seq, max_bytes).
+// The records first..last with payload_for(position, max_bytes).
 Records expected_range(std::uint64_t first, std::uint64_t last, std::size_t max_bytes = 100);
 
 std::string read_file(const std::filesystem::path& file);

@@ -1,5 +1,5 @@
 // Records written are the records read: across rotations, reopens, empty and maximal payloads;
-// appends out of sequence are refused; old segments are dropped after a snapshot.
+// appends out of order are refused; old segments are dropped after a snapshot.
 #include <gtest/gtest.h>
 
 #include "daemon/journal/journal.h"
@@ -26,10 +26,10 @@ TEST(JournalRoundTrip, ManyRecordsAcrossRotations) {
   const Options options = small_segments(4096, Durability::group);
   {
     Journal journal = Journal::open(dir.path(), options);
-    EXPECT_EQ(journal.next_seq(), 0u);
-    EXPECT_EQ(journal.first_seq(), 0u);
+    EXPECT_EQ(journal.next_position(), 0u);
+    EXPECT_EQ(journal.first_position(), 0u);
     append_range(journal, 1, 3000);
-    EXPECT_EQ(journal.next_seq(), 3001u);
+    EXPECT_EQ(journal.next_position(), 3001u);
   }
   const auto files = segment_files(dir.path());
   ASSERT_GE(files.size(), 20u);
@@ -40,8 +40,8 @@ TEST(JournalRoundTrip, ManyRecordsAcrossRotations) {
   EXPECT_EQ(reopened.recovery().records, 3000u);
   EXPECT_EQ(reopened.recovery().segments, files.size());
   EXPECT_FALSE(reopened.recovery().cut);
-  EXPECT_EQ(reopened.first_seq(), 1u);
-  EXPECT_EQ(reopened.next_seq(), 3001u);
+  EXPECT_EQ(reopened.first_position(), 1u);
+  EXPECT_EQ(reopened.next_position(), 3001u);
 }
 
 TEST(JournalRoundTrip, SegmentsStartWhereThePreviousEnds) {
@@ -52,14 +52,14 @@ TEST(JournalRoundTrip, SegmentsStartWhereThePreviousEnds) {
   }
   const auto files = segment_files(dir.path());
   ASSERT_GE(files.size(), 10u);
-  std::uint64_t seq = 1;
+  std::uint64_t position = 1;
   for (std::size_t i = 0; i < files.size(); ++i) {
-    EXPECT_EQ(parse_segment_file_name(files[i].filename().string()), seq) << files[i];
+    EXPECT_EQ(parse_segment_file_name(files[i].filename().string()), position) << files[i];
     const std::uint64_t next_first =
         i + 1 < files.size() ? *parse_segment_file_name(files[i + 1].filename().string()) : 501;
     // The segment's size is its header plus exactly its records.
     std::uint64_t bytes = kSegmentHeader;
-    for (; seq < next_first; ++seq) bytes += kRecordHeader + payload_for(seq).size();
+    for (; position < next_first; ++position) bytes += kRecordHeader + payload_for(position).size();
     EXPECT_EQ(std::filesystem::file_size(files[i]), bytes) << files[i];
   }
 }
@@ -73,7 +73,7 @@ TEST(JournalRoundTrip, ReopenAndContinueAppending) {
   }
   for (std::uint64_t round = 1; round <= 3; ++round) {
     Journal journal = Journal::open(dir.path(), options);
-    EXPECT_EQ(journal.next_seq(), 100 * round + 1);
+    EXPECT_EQ(journal.next_position(), 100 * round + 1);
     EXPECT_THROW(journal.append(100 * round, "again"), Error);
     append_range(journal, 100 * round + 1, 100 * (round + 1));
   }
@@ -84,7 +84,9 @@ TEST(JournalRoundTrip, UnsyncedRecordsReachTheFileOnCleanClose) {
   TempDir dir;
   {
     Journal journal = Journal::open(dir.path(), small_segments(1 << 20, Durability::group));
-    for (std::uint64_t seq = 1; seq <= 50; ++seq) journal.append(seq, payload_for(seq));
+    for (std::uint64_t position = 1; position <= 50; ++position) {
+      journal.append(position, payload_for(position));
+    }
   }
   EXPECT_EQ(read_all(dir.path()), expected_range(1, 50));
 }
@@ -105,15 +107,15 @@ TEST(JournalRoundTrip, ZeroLengthPayloads) {
   TempDir dir;
   {
     Journal journal = Journal::open(dir.path(), small_segments(200));
-    for (std::uint64_t seq = 1; seq <= 40; ++seq) {
-      journal.append(seq, seq % 3 == 0 ? payload_for(seq) : "");
+    for (std::uint64_t position = 1; position <= 40; ++position) {
+      journal.append(position, position % 3 == 0 ? payload_for(position) : "");
     }
     journal.sync();
   }
   const auto records = read_all(dir.path());
   ASSERT_EQ(records.size(), 40u);
-  for (const auto& [seq, payload] : records) {
-    EXPECT_EQ(payload, seq % 3 == 0 ? payload_for(seq) : "") << seq;
+  for (const auto& [position, payload] : records) {
+    EXPECT_EQ(payload, position % 3 == 0 ? payload_for(position) : "") << position;
   }
   EXPECT_GE(segment_files(dir.path()).size(), 3u);
 }
@@ -146,7 +148,7 @@ TEST(JournalRoundTrip, MaximumRecordSize) {
   EXPECT_THROW(Journal::open(other.path(), too_large), Error);
 }
 
-TEST(JournalRoundTrip, SequenceNumbersMustRiseByOne) {
+TEST(JournalRoundTrip, PositionsMustRiseByOne) {
   TempDir dir;
   Journal journal = Journal::open(dir.path(), small_segments(4096));
   EXPECT_THROW(journal.append(0, "zero"), Error);
@@ -155,7 +157,7 @@ TEST(JournalRoundTrip, SequenceNumbersMustRiseByOne) {
     journal.append(1002, "gap");
     FAIL() << "a gap was accepted";
   } catch (const Error& error) {
-    EXPECT_NE(std::string(error.what()).find("append of sequence number 1002, expected 1001"),
+    EXPECT_NE(std::string(error.what()).find("append of position 1002, expected 1001"),
               std::string::npos)
         << error.what();
   }
@@ -164,8 +166,8 @@ TEST(JournalRoundTrip, SequenceNumbersMustRiseByOne) {
   journal.append(1001, "second");
   journal.sync();
   EXPECT_EQ(read_all(dir.path()), (testing::Records{{1000, "first"}, {1001, "second"}}));
-  EXPECT_EQ(journal.first_seq(), 1000u);
-  EXPECT_EQ(journal.next_seq(), 1002u);
+  EXPECT_EQ(journal.first_position(), 1000u);
+  EXPECT_EQ(journal.next_position(), 1002u);
 }
 
 TEST(JournalRoundTrip, ReadAfterSkipsToTheRecordsWanted) {
@@ -178,7 +180,7 @@ TEST(JournalRoundTrip, ReadAfterSkipsToTheRecordsWanted) {
   for (const std::uint64_t after : {0u, 1u, 57u, 299u, 300u, 309u, 310u, 400u}) {
     testing::Records records;
     Reader reader = journal.read_after(after);
-    while (auto record = reader.next()) records.emplace_back(record->seq, record->payload);
+    while (auto record = reader.next()) records.emplace_back(record->position, record->payload);
     EXPECT_EQ(records, expected_range(after + 1, 310)) << "after " << after;
     EXPECT_FALSE(reader.tail());
   }
@@ -195,16 +197,16 @@ TEST(JournalRoundTrip, DropBeforeDeletesWholeSegmentsBelow) {
   // Up to the first record of the fourth segment: the first three go.
   EXPECT_EQ(journal.drop_before(before[3]), 3u);
   EXPECT_EQ(list_segments(dir.path()), std::vector<std::uint64_t>(before.begin() + 3, before.end()));
-  EXPECT_EQ(journal.first_seq(), before[3]);
+  EXPECT_EQ(journal.first_position(), before[3]);
   // One record short of the next boundary: nothing more goes.
   EXPECT_EQ(journal.drop_before(before[4]), 1u);
   EXPECT_EQ(journal.drop_before(before[5] - 1), 0u);
-  EXPECT_EQ(journal.first_seq(), before[4]);
+  EXPECT_EQ(journal.first_position(), before[4]);
 
   // Replay after a snapshot: records after it, and a snapshot older than the journal fails.
   testing::Records replayed;
   Reader reader = journal.read_after(before[5] - 2);
-  while (auto record = reader.next()) replayed.emplace_back(record->seq, record->payload);
+  while (auto record = reader.next()) replayed.emplace_back(record->position, record->payload);
   EXPECT_EQ(replayed, expected_range(before[5] - 1, 400));
   EXPECT_THROW(journal.read_after(before[4] - 2), Error);
 
@@ -217,8 +219,8 @@ TEST(JournalRoundTrip, DropBeforeDeletesWholeSegmentsBelow) {
   TempDir other;
   moved = Journal::open(other.path(), options);  // closes the first journal, unlocking it
   Journal reopened = Journal::open(dir.path(), options);
-  EXPECT_EQ(reopened.first_seq(), before.back());
-  EXPECT_EQ(reopened.next_seq(), 421u);
+  EXPECT_EQ(reopened.first_position(), before.back());
+  EXPECT_EQ(reopened.next_position(), 421u);
   EXPECT_EQ(read_all(dir.path()), expected_range(before.back(), 420));
 }
 

@@ -38,7 +38,9 @@ struct Reference {
 Reference write_reference(const std::filesystem::path& dir) {
   {
     Journal journal = Journal::open(dir, kTornTailOptions);
-    for (std::uint64_t seq = 1; seq <= 19; ++seq) journal.append(seq, payload_for(seq));
+    for (std::uint64_t position = 1; position <= 19; ++position) {
+      journal.append(position, payload_for(position));
+    }
     journal.append(20, kLastPayload);
     journal.sync();
   }
@@ -77,7 +79,7 @@ void expect_last_record_cut(const Reference& reference, const std::filesystem::p
       EXPECT_FALSE(recovery.cut->reason.empty());
     }
     EXPECT_EQ(std::filesystem::file_size(segment), reference.last_record_start);
-    EXPECT_EQ(journal.next_seq(), 20u);
+    EXPECT_EQ(journal.next_position(), 20u);
     journal.append(20, kLastPayload);
     journal.append(21, "after the cut");
     journal.sync();
@@ -200,7 +202,7 @@ TEST(JournalTornTail, CutWhileStartingASegment) {
       if (journal.recovery().cut) {
         EXPECT_EQ(journal.recovery().cut->offset, cut_offset);
       }
-      EXPECT_EQ(journal.next_seq(), last);
+      EXPECT_EQ(journal.next_position(), last);
       append_range(journal, last, last + 5);
     }
     EXPECT_EQ(read_all(dir), expected_range(1, last + 5));

@@ -200,7 +200,7 @@ def check_verify_rejects(report, args):
     vertices = original.get("vertices") or []
     if not report.check(bool(vertices), "tamper case: certificate has no vertices list", path):
         return
-    vertices[0]["dual2"] += 2  # dual objective no longer equals the matching's weight
+    vertices[0]["dual_x2"] += 2  # dual objective no longer equals the matching's weight
     with open(certificate, "w") as out:
         json.dump(original, out)
     vcode, verdict, _ = oc.run_verify(args.yoke, path, certificate)

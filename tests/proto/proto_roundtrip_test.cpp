@@ -216,16 +216,16 @@ TEST(ProtoRoundTrip, QueryEnvelopes) {
   why->set_vertex(17);
   why->set_mate(4);
   why->set_pair_weight(9);
-  why->set_dual2(8);
+  why->set_dual_x2(8);
   Alternative* alt = why->add_alternatives();
   alt->set_other(9);
   alt->set_weight(3);
-  alt->set_slack2(0);
+  alt->set_slack_x2(0);
   alt->set_other_mate(0);  // key 0 is a real vertex: present, not absent
   Alternative* lonely = why->add_alternatives();
   lonely->set_other(30);
   lonely->set_weight(1);
-  lonely->set_slack2(14);
+  lonely->set_slack_x2(14);
   QueryReply reply_out = round_trip(reply);
   ASSERT_EQ(reply_out.kind_case(), QueryReply::kExplain);
   ASSERT_TRUE(reply_out.explain().has_mate());
@@ -234,7 +234,9 @@ TEST(ProtoRoundTrip, QueryEnvelopes) {
   EXPECT_TRUE(reply_out.explain().alternatives(0).has_other_mate());
   EXPECT_EQ(reply_out.explain().alternatives(0).other_mate(), 0u);
   EXPECT_FALSE(reply_out.explain().alternatives(1).has_other_mate());
-  EXPECT_EQ(reply_out.explain().alternatives(1).slack2(), 14);
+  EXPECT_EQ(reply_out.explain().alternatives(1).slack_x2(), 14);
+  ASSERT_TRUE(reply_out.explain().has_pair_weight());
+  EXPECT_EQ(reply_out.explain().pair_weight(), 9);
 
   QueryReply summary;
   summary.set_version(PROTOCOL_VERSION_1);

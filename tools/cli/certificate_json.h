@@ -1,9 +1,9 @@
 // The JSON form of a yoke::Certificate, with external vertex ids. The format is documented in
 // DEVELOPERS.md, "Certificate format":
 //
-//   {"format":"yoke-certificate/1","mode":"max-weight","weight_offset":0,
-//    "vertices":[{"id":U,"dual2":D,"mate":V|null},...],
-//    "blossoms":[{"dual2":Z,"base":U,"children":[{"vertex":U}|{"blossom":K},...]},...]}
+//   {"format":"yoke-certificate/2","mode":"max-weight","weight_offset":0,
+//    "vertices":[{"id":U,"dual_x2":D,"mate":V|null},...],
+//    "blossoms":[{"dual_x2":Z,"base":U,"children":[{"vertex":U}|{"blossom":K},...]},...]}
 #pragma once
 
 #include <cstdint>
@@ -17,7 +17,7 @@
 
 namespace yoke::cli {
 
-inline constexpr std::string_view kCertificateFormat = "yoke-certificate/1";
+inline constexpr std::string_view kCertificateFormat = "yoke-certificate/2";
 
 // Writes `cert` with external_ids[v] in place of each dense vertex v, one vertex or blossom
 // per line. Preconditions: cert.mate and cert.vertex_dual2 have external_ids.size() entries.

@@ -279,8 +279,8 @@ bool CertificateSax::start(bool is_object) {
   // A container under a key of a vertex, blossom or child: scalars are expected for the
   // known keys, anything goes under unknown ones.
   const bool known =
-      (scope() == Scope::vertex && (key_ == "id" || key_ == "dual2" || key_ == "mate")) ||
-      (scope() == Scope::blossom && (key_ == "dual2" || key_ == "base")) ||
+      (scope() == Scope::vertex && (key_ == "id" || key_ == "dual_x2" || key_ == "mate")) ||
+      (scope() == Scope::blossom && (key_ == "dual_x2" || key_ == "base")) ||
       (scope() == Scope::child && (key_ == "vertex" || key_ == "blossom"));
   if (known) fail(where(key_.c_str()), "expected a scalar value");
   skip_depth_ = 1;
@@ -334,9 +334,9 @@ void CertificateSax::vertex_field(const Scalar& value) {
                             " is listed twice");
     }
     listed_[vertex_.vertex] = true;
-  } else if (key_ == "dual2") {
+  } else if (key_ == "dual_x2") {
     vertex_.has_dual2 = true;
-    vertex_.dual2 = value.as_int64(where("dual2"));
+    vertex_.dual2 = value.as_int64(where("dual_x2"));
   } else if (key_ == "mate") {
     vertex_.has_mate = true;
     vertex_.mate =
@@ -346,7 +346,7 @@ void CertificateSax::vertex_field(const Scalar& value) {
 
 void CertificateSax::finish_vertex() {
   if (vertex_.vertex == kNoVertex) fail(where("id"), "missing");
-  if (!vertex_.has_dual2) fail(where("dual2"), "missing");
+  if (!vertex_.has_dual2) fail(where("dual_x2"), "missing");
   if (!vertex_.has_mate) fail(where("mate"), "missing");
   cert_.vertex_dual2[vertex_.vertex] = vertex_.dual2;
   cert_.mate[vertex_.vertex] = vertex_.mate;
@@ -354,9 +354,9 @@ void CertificateSax::finish_vertex() {
 
 void CertificateSax::blossom_field(const Scalar& value) {
   CertificateBlossom& blossom = cert_.blossoms.back();
-  if (key_ == "dual2") {
+  if (key_ == "dual_x2") {
     blossom_.has_dual2 = true;
-    blossom.dual2 = value.as_int64(where("dual2"));
+    blossom.dual2 = value.as_int64(where("dual_x2"));
   } else if (key_ == "base") {
     blossom_.has_base = true;
     blossom.base = graph_vertex(value, where("base"));
@@ -366,7 +366,7 @@ void CertificateSax::blossom_field(const Scalar& value) {
 }
 
 void CertificateSax::finish_blossom() {
-  if (!blossom_.has_dual2) fail(where("dual2"), "missing");
+  if (!blossom_.has_dual2) fail(where("dual_x2"), "missing");
   if (!blossom_.has_base) fail(where("base"), "missing");
   if (!blossom_.has_children) fail(where("children"), "missing");
 }

@@ -30,7 +30,7 @@ void write_certificate_json(std::ostream& out, const Certificate& cert,
     json.begin_object();
     json.key("id");
     json.unsigned_integer(external_ids[v]);
-    json.key("dual2");
+    json.key("dual_x2");
     json.integer(cert.vertex_dual2[v]);
     json.key("mate");
     if (cert.mate[v] == kNoVertex) {
@@ -47,7 +47,7 @@ void write_certificate_json(std::ostream& out, const Certificate& cert,
   for (const CertificateBlossom& blossom : cert.blossoms) {
     json.line_break();
     json.begin_object();
-    json.key("dual2");
+    json.key("dual_x2");
     json.integer(blossom.dual2);
     json.key("base");
     json.unsigned_integer(external_ids[blossom.base]);

@@ -44,7 +44,14 @@ std::string half_text(Weight doubled) {
   return text;
 }
 
-Weight plain_price2(const VertexExplanation& explanation) {
+const char* const kExplanationJsonHelp =
+    "  {\"vertex\",\"present\":true,\"mate\" (null: unpaired),\"pair_weight\" (null:\n"
+    "  unpaired),\"pair_bonus\",\"weight_offset\",\"dual_x2\",\"price\",\"alternatives\":\n"
+    "  [{\"other\",\"weight\",\"slack\",\"slack_x2\",\"other_mate\"},...]}: the _x2 values are\n"
+    "  doubled, exact integers; dual_x2 counts the mode's weight_offset, price does not:\n"
+    "  price = (dual_x2 - weight_offset) / 2 and slack = slack_x2 / 2 (either may end in .5)";
+
+Weight price_x2(const VertexExplanation& explanation) {
   return explanation.dual2 - explanation.weight_offset;
 }
 
@@ -68,7 +75,7 @@ std::string explanation_text(VertexKey vertex, const VertexExplanation& explanat
   } else {
     out += name + " is unpaired.";
   }
-  out += " Its price is " + half_text(plain_price2(explanation)) + ".\n";
+  out += " Its price is " + half_text(price_x2(explanation)) + ".\n";
   if (explanation.alternatives.empty()) {
     out += explanation.mate ? "No other edges.\n" : "No edges.\n";
     return out;
@@ -100,35 +107,42 @@ Json vertex_explanation_json(VertexKey vertex, const VertexExplanation& explanat
     alternatives.push_back(Json{{"other", alternative.other},
                                 {"weight", alternative.w},
                                 {"slack", half_json(alternative.slack2)},
-                                {"slack2", alternative.slack2},
+                                {"slack_x2", alternative.slack2},
                                 {"other_mate", optional_key_json(alternative.other_mate)}});
   }
-  const Weight price2 = plain_price2(explanation);
   return Json{{"vertex", vertex},
               {"present", true},
               {"mate", optional_key_json(explanation.mate)},
               {"pair_weight", explanation.mate ? Json(explanation.pair_weight) : Json(nullptr)},
               {"pair_bonus", explanation.pair_bonus},
-              {"price", half_json(price2)},
-              {"price2", price2},
+              {"weight_offset", explanation.weight_offset},
+              {"dual_x2", explanation.dual2},
+              {"price", half_json(price_x2(explanation))},
               {"alternatives", std::move(alternatives)}};
 }
 
 VertexExplanation explanation_from_wire(const yoke::v1::Explanation& explanation) {
   VertexExplanation out;
   if (explanation.has_mate()) out.mate = explanation.mate();
-  out.pair_weight = explanation.pair_weight();
+  out.pair_weight = explanation.pair_weight();  // 0 when absent, as the engine's struct has it
   out.pair_bonus = explanation.pair_bonus();
-  out.dual2 = explanation.dual2();
+  out.dual2 = explanation.dual_x2();
   out.weight_offset = explanation.weight_offset();
   for (const yoke::v1::Alternative& wire : explanation.alternatives()) {
     Alternative alternative;
     alternative.other = wire.other();
     alternative.w = wire.weight();
-    alternative.slack2 = wire.slack2();
+    alternative.slack2 = wire.slack_x2();
     if (wire.has_other_mate()) alternative.other_mate = wire.other_mate();
     out.alternatives.push_back(alternative);
   }
+  return out;
+}
+
+Json explanation_json(const std::string& pool, const yoke::v1::Explanation& explanation) {
+  // The writer of `yoke replay --explain --json`, behind the reply's pool and seq.
+  Json out{{"pool", pool}, {"seq", explanation.seq()}};
+  out.update(vertex_explanation_json(explanation.vertex(), explanation_from_wire(explanation)));
   return out;
 }
 

@@ -1,15 +1,18 @@
 // A vertex's explanation (Pool::explain) in words a person reads without knowing the duals:
 // its pair and the pair's weight, its price in the pool's plain weights, and the alternatives
 // that came closest with how far each fell short. `yoke replay --explain` prints it for a past
-// state, `yoke query explain --text` for the daemon's current state; the JSON form below is
-// what `yoke replay --explain V --json` prints.
+// state, `yoke query explain --text` for the daemon's current state. The JSON form below is the
+// one shape both commands print (`yoke replay --explain V --json`, `yoke query explain`).
 //
-// Units: Pool::explain reports doubled duals of the weights plus the mode's offset
-// (weight_offset, non-zero only in max-cardinality and perfect mode). The price printed here is
-// (dual2 - weight_offset) / 2: in max-weight mode simply the dual; in the other modes the share
-// of the plain weights, so that the two ends of a pair outside blossoms add up to its weight.
-// A slack needs no conversion (the offset cancels in it): an alternative's weight must rise by
-// its slack before taking it could pay. Halves are printed as ".5", never rounded.
+// Units (the one place that states them): Pool::explain and the wire (query.proto
+// Explanation) report doubled values, named `..._x2`: dual_x2 is twice the vertex's dual over
+// the weights plus the mode's offset (weight_offset, non-zero only in max-cardinality and
+// perfect mode), as the engine solves them. The price is the vertex's share of the plain
+// weights: price = (dual_x2 - weight_offset) / 2, in max-weight mode simply the dual; the two
+// ends of a pair outside blossoms add up to its weight. A slack needs no conversion (the offset
+// cancels in it): slack = slack_x2 / 2, and an alternative's weight must rise by its slack
+// before taking it could pay. The text and the JSON print the same price and slack; halves are
+// printed as ".5", never rounded.
 #pragma once
 
 #include <cstdint>
@@ -24,8 +27,8 @@ namespace yoke::cli {
 // A doubled value in plain units: 87 -> "43.5", -3 -> "-1.5", 8 -> "4".
 std::string half_text(Weight doubled);
 
-// The vertex's price, doubled, in plain weights: dual2 - weight_offset (exact).
-Weight plain_price2(const VertexExplanation& explanation);
+// The vertex's price in plain weights, doubled: dual_x2 - weight_offset (exact).
+Weight price_x2(const VertexExplanation& explanation);
 
 // One line that says what slack means (printed under every text explanation).
 const char* slack_meaning();
@@ -46,11 +49,14 @@ const char* slack_meaning();
 // never reports.
 std::string explanation_text(VertexKey vertex, const VertexExplanation& explanation);
 
+// The keys of the JSON form, for the help texts of both commands that print it.
+extern const char* const kExplanationJsonHelp;
+
 // The JSON form: {"vertex","present":true,"mate" (null: unpaired),"pair_weight" (null when
-// unpaired),"pair_bonus","price","price2","alternatives":[{"other","weight","slack","slack2",
-// "other_mate"},...]}. price and slack are numbers with at most one decimal (.5); price2 and
-// slack2 are the same values doubled, exact integers. Throws CliError on a negative slack, as
-// above.
+// unpaired),"pair_bonus","weight_offset","dual_x2","price","alternatives":[{"other","weight",
+// "slack","slack_x2","other_mate"},...]}. price and slack are numbers with at most one decimal
+// (.5); dual_x2 and slack_x2 are exact integers (see Units above). Throws CliError on a
+// negative slack, as above.
 Json vertex_explanation_json(VertexKey vertex, const VertexExplanation& explanation);
 
 // The daemon's reply (query.proto Explanation) as the engine's struct, for the same wording.

@@ -47,7 +47,7 @@ class JournalCommits {
 
  private:
   // The snapshot of the pool with the largest (newest) or smallest (oldest) seq within
-  // [journal's first seq - 1, most], restored; nullptr when there is none.
+  // [the pool's first seq in the journal - 1, most], restored; nullptr when there is none.
   std::unique_ptr<Pool> restore_snapshot(std::uint64_t most, bool newest);
 
   std::filesystem::path journal_dir_;

@@ -86,37 +86,20 @@ Json mate_json(const std::string& pool, const Mate& mate) {
               {"seq", mate.seq()},
               {"vertex", mate.vertex()},
               {"mate", optional_key(mate.has_mate(), mate.mate())},
-              {"weight", mate.weight()}};
+              {"pair_weight", optional_key(mate.has_pair_weight(), mate.pair_weight())}};
 }
 
 Json matching_json(const std::string& pool, const Matching& matching) {
   return Json{{"pool", pool},
               {"seq", matching.seq()},
               {"weight", matching.weight()},
-              {"pairs", pairs_json(matching.pairs())},
+              {"pairs", matching.matching_size()},
+              {"matching", pairs_json(matching.matching())},
               {"mode", mode_json(matching.mode())},
               {"no_perfect_matching", matching.no_perfect_matching()}};
 }
 
-Json explanation_json(const std::string& pool, const Explanation& explanation) {
-  Json alternatives = Json::array();
-  for (const Alternative& alternative : explanation.alternatives()) {
-    alternatives.push_back(
-        Json{{"other", alternative.other()},
-             {"weight", alternative.weight()},
-             {"slack2", alternative.slack2()},
-             {"other_mate", optional_key(alternative.has_other_mate(), alternative.other_mate())}});
-  }
-  return Json{{"pool", pool},
-              {"seq", explanation.seq()},
-              {"vertex", explanation.vertex()},
-              {"mate", optional_key(explanation.has_mate(), explanation.mate())},
-              {"pair_weight", explanation.pair_weight()},
-              {"pair_bonus", explanation.pair_bonus()},
-              {"dual2", explanation.dual2()},
-              {"weight_offset", explanation.weight_offset()},
-              {"alternatives", std::move(alternatives)}};
-}
+// explanation_json is in explanation_text.cpp, beside the writer it shares.
 
 Json stats_json(const std::string& pool, const Stats& stats) {
   const PoolLimits& limits = stats.config().limits();

@@ -9,10 +9,12 @@
 //   RepairStats:   {"events","roots","searches","augmentations","blossoms_dissolved",
 //                   "vertices_touched","initial_solve"}
 //   Summary:       {"pool","seq","weight","pairs","vertices","edges","mode","no_perfect_matching"}
-//   Mate:          {"pool","seq","vertex","mate" (null when exposed),"weight"}
-//   Matching:      {"pool","seq","weight","pairs":[[a,b,w],...],"mode","no_perfect_matching"}
-//   Explanation:   {"pool","seq","vertex","mate","pair_weight","dual2","weight_offset",
-//                   "alternatives":[{"other","weight","slack2","other_mate"},...]}
+//   Mate:          {"pool","seq","vertex","mate" (null when exposed),"pair_weight" (null when
+//                   exposed)}
+//   Matching:      {"pool","seq","weight","pairs" (the count),"matching":[[a,b,w],...],"mode",
+//                   "no_perfect_matching"}
+//   Explanation:   {"pool","seq"} followed by the keys of vertex_explanation_json
+//                   (explanation_text.h: the shape `yoke replay --explain --json` prints too)
 //   Stats:         {"pool","seq","weight","pairs","vertices","edges","mode",
 //                   "limits":{"max_vertices","max_edges","max_abs_weight"},"batches_accepted",
 //                   "batches_rejected","batches_duplicate","events_applied","commits",

@@ -1,6 +1,7 @@
 #include "query_command.h"
 
 #include <iostream>
+#include <string>
 
 #include "cli_error.h"
 #include "explanation_text.h"
@@ -19,18 +20,19 @@ constexpr const char* kQueryHelp =
     "Kinds:\n"
     "  summary    {\"pool\",\"seq\",\"weight\",\"pairs\",\"vertices\",\"edges\",\"mode\",\n"
     "              \"no_perfect_matching\"}\n"
-    "  mate       --vertex V: {\"pool\",\"seq\",\"vertex\",\"mate\" (null: exposed),\"weight\"}\n"
-    "  matching   {\"pool\",\"seq\",\"weight\",\"pairs\":[[A,B,W],...],\"mode\",\n"
-    "              \"no_perfect_matching\"}\n"
-    "  explain    --vertex V [--limit K]: {\"pool\",\"seq\",\"vertex\",\"mate\",\"pair_weight\",\n"
-    "              \"dual2\",\"weight_offset\",\"alternatives\":[{\"other\",\"weight\",\n"
-    "              \"slack2\",\"other_mate\"},...]} (duals and slacks doubled); --text\n"
-    "              prints it in sentences instead, as `yoke replay --explain` does\n"
+    "  mate       --vertex V: {\"pool\",\"seq\",\"vertex\",\"mate\" (null: exposed),\n"
+    "              \"pair_weight\" (null: exposed)}\n"
+    "  matching   {\"pool\",\"seq\",\"weight\",\"pairs\" (a count),\"matching\":[[A,B,W],...],\n"
+    "              \"mode\",\"no_perfect_matching\"}\n"
+    "  explain    --vertex V [--alternatives N]: {\"pool\",\"seq\"} and the explanation keys\n"
+    "              below; --text prints it in sentences instead, as `yoke replay --explain`\n"
+    "              does\n"
     "  stats      the pool's counters, limits, last repair and timings\n"
     "  snapshot   write a snapshot now [--all-pools]: {\"pools\":[{\"pool\",\"seq\"}],\"path\"}\n"
     "  health     {\"ok\",\"status\",\"uptime_s\",\"pools\",\"daemon_version\"}\n"
     "Exit codes: 0 answered; 2 the daemon answered with an error (printed as\n"
-    "'error: CODE: message') or the options do not fit KIND; 4 no reply within --timeout-ms.";
+    "'error: CODE: message') or the options do not fit KIND; 4 no reply within --timeout-ms.\n"
+    "Explanation keys (the same as `yoke replay --explain V --json`):\n";
 
 // Options that only some kinds take: naming one for another kind is a mistake worth reporting.
 void check_options_fit(const QueryOptions& options) {
@@ -41,8 +43,8 @@ void check_options_fit(const QueryOptions& options) {
   if (!about_vertex && options.vertex) {
     throw CliError("--vertex goes with query mate or explain, not " + options.kind);
   }
-  if (options.limit != 0 && options.kind != "explain") {
-    throw CliError("--limit goes with query explain, not " + options.kind);
+  if (options.alternatives != 0 && options.kind != "explain") {
+    throw CliError("--alternatives goes with query explain, not " + options.kind);
   }
   if (options.text && options.kind != "explain") {
     throw CliError("--text goes with query explain, not " + options.kind);
@@ -64,7 +66,7 @@ QueryRequest build_request(const QueryOptions& options) {
     request.mutable_matching();
   } else if (kind == "explain") {
     request.mutable_explain()->set_vertex(*options.vertex);
-    request.mutable_explain()->set_max_alternatives(options.limit);
+    request.mutable_explain()->set_max_alternatives(options.alternatives);
   } else if (kind == "stats") {
     request.mutable_stats();
   } else if (kind == "snapshot") {
@@ -91,12 +93,14 @@ CLI::App* add_query_command(CLI::App& app, QueryOptions& options) {
           "--vertex", [&options](const std::uint64_t& vertex) { options.vertex = vertex; },
           "The vertex's key (mate, explain)")
       ->check(kNotNegative);
-  command->add_option("--limit", options.limit, "Alternatives to list at most (explain)")
+  command
+      ->add_option("--alternatives", options.alternatives,
+                   "Alternatives to list at most (explain; default: the daemon's)")
       ->check(kAtLeastOne);
   command->add_flag("--all-pools", options.all_pools, "Snapshot every pool (snapshot)");
   command->add_flag("--text", options.text, "Explain in sentences instead of JSON (explain)");
   add_timeout_option(*command, options.timeout_ms, "How long to wait for the reply", false);
-  command->footer(kQueryHelp);
+  command->footer(std::string(kQueryHelp) + kExplanationJsonHelp);
   return command;
 }
 

@@ -1,12 +1,15 @@
-// `yoke query KIND [--pool P] [--query ENDPOINT] [--vertex V] [--limit K] [--all-pools]
+// `yoke query KIND [--pool P] [--query ENDPOINT] [--vertex V] [--alternatives N]
+// [--all-pools] [--text]
 // [--timeout-ms T]`: asks yoked's query socket one question and prints the answer as one JSON
 // object (layouts in proto_json.h). KIND is one of
 //
 //     summary    seq, weight, pairs, vertices, edges, mode, no_perfect_matching
-//     mate       --vertex V: its mate (null when exposed) and the pair's weight
-//     matching   every pair as [a, b, weight], with the seq they describe
-//     explain    --vertex V [--limit K] [--text]: its doubled dual and its nearest
-//                alternatives (--text: the same in sentences, as `yoke replay --explain`)
+//     mate       --vertex V: its mate and the pair's weight (both null when exposed)
+//     matching   every pair as [a, b, weight] (`matching`) and their count (`pairs`), with the
+//                seq they describe
+//     explain    --vertex V [--alternatives N] [--text]: its price and its nearest
+//                alternatives, in the shape `yoke replay --explain --json` prints
+//                (explanation_text.h; --text: the same in sentences)
 //     stats      the pool's counters, limits and last repair
 //     snapshot   write a snapshot now (--all-pools: of every pool)
 //     health     whether the daemon serves
@@ -30,7 +33,7 @@ struct QueryOptions {
   std::string pool = kDefaultPool;
   std::string endpoint = kDefaultQueryEndpoint;
   std::optional<std::uint64_t> vertex;  // mate and explain
-  std::uint32_t limit = 0;              // explain: alternatives at most; 0 the daemon's default
+  std::uint32_t alternatives = 0;       // explain: alternatives at most; 0 the daemon's default
   bool all_pools = false;               // snapshot
   bool text = false;                    // explain: in words (explanation_text.h), not JSON
   std::uint64_t timeout_ms = 5000;

@@ -28,8 +28,8 @@ namespace {
 
 constexpr const char* kScriptHelp =
     "Script: one event per line; blank lines and '#' comments are ignored.\n"
-    "  add U        vertex U arrives with no edges\n"
-    "  set U V W    insert edge {U,V} or change its weight (U and V arrive if new)\n"
+    "  add U        add vertex U, with no edges yet\n"
+    "  set U V W    insert edge {U,V} or change its weight (adds U and V if new)\n"
     "  unset U V    remove edge {U,V}; U and V stay\n"
     "  remove U     remove vertex U and all its edges\n"
     "  hold U V     match U with V from now on, whatever the weights (edge {U,V} must exist;\n"
@@ -41,8 +41,8 @@ constexpr const char* kScriptHelp =
     "is applied.\n"
     "Output, per commit I (from 1):\n"
     "  commit I weight W pairs K repair_us T\n"
-    "  (from a journal directory the line ends in `seq S`, the daemon's sequence number)\n"
-    "  note commit I: no perfect matching (K pairs for N vertices)    [perfect mode]\n"
+    "  (from a journal directory the line ends in `seq S`, the pool's sequence number)\n"
+    "  note: commit I: no perfect matching (K pairs for N vertices)    [perfect mode]\n"
     "  - A B / + A B    pairs removed, then added (A < B, sorted)     [--diffs]\n"
     "and after the last commit with --stats:\n"
     "  stats commits N events E\n"
@@ -249,7 +249,7 @@ class ReplayRun {
 
   // Commits one batch (already checked) and prints its lines. Returns kExitCertificateRejected
   // when --verify finds the certificate failing (the message is on stderr), else nothing.
-  // `seq`: the daemon's sequence number after this commit, printed for journal replays.
+  // `seq`: the pool's sequence number after this commit, printed for journal replays.
   std::optional<int> commit(Pool& pool, std::span<const Event> events,
                             std::optional<std::uint64_t> seq = std::nullopt) {
     ++index_;
@@ -265,7 +265,7 @@ class ReplayRun {
     if (seq) out_ << " seq " << *seq;
     out_ << '\n';
     if (result.status == SolveStatus::no_perfect_matching) {
-      out_ << "note commit " << index_ << ": no perfect matching (" << result.pairs
+      out_ << "note: commit " << index_ << ": no perfect matching (" << result.pairs
            << " pairs for " << pool.vertex_count() << " vertices)\n";
     }
     if (options_.diffs) print_diff(out_, result.diff);
@@ -327,14 +327,14 @@ int run_journal_replay(const ReplayOptions& options) {
   std::unique_ptr<Pool> pool = journal.start(options.from);
   ReplayRun run(options, std::cout);
   if (const auto snapshot = journal.snapshot_seq()) {
-    std::cout << "note starting from the snapshot at seq " << *snapshot << "\n";
+    std::cout << "note: starting from the snapshot at seq " << *snapshot << "\n";
     run.start_from(*pool);
   }
   run.show_progress(journal.remaining());
   while (const daemon::CommitGroup* group = journal.next()) {
     if (options.until != 0 && group->records.back().seq() > options.until) {
       if (group->records.front().seq() <= options.until) {
-        std::cout << "note seq " << options.until << " was committed together with seqs up to "
+        std::cout << "note: seq " << options.until << " was committed together with seqs up to "
                   << group->records.back().seq() << ": stopping before that commit\n";
       }
       break;

@@ -3,7 +3,7 @@
 //
 //     commit I weight W pairs K repair_us T
 //
-// with, in this order after it: `note commit I: no perfect matching (K pairs for N vertices)`
+// with, in this order after it: `note: commit I: no perfect matching (K pairs for N vertices)`
 // (perfect mode only), and with --diffs one `- A B` per removed pair then one `+ A B` per added
 // pair (A < B, sorted). With --stats, summary lines follow the last commit:
 //
@@ -42,7 +42,7 @@ struct ReplayOptions {
   std::uint64_t from = 0;
   // --report FILE.html: a self-contained page of charts about the replay (replay_report.h).
   std::string report;
-  // Postmortem questions (replay_why.h): --vertex V histories, --explain V explanations with
+  // Postmortem questions (replay_why.h): --history V histories, --explain V explanations with
   // at most `alternatives` alternatives, --json answers.
   std::vector<std::uint64_t> history_vertices;
   std::vector<std::uint64_t> explain_vertices;

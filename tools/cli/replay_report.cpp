@@ -201,11 +201,11 @@ constexpr const char* kPageScript = R"js(
     type: "line",
     data: { datasets: [line("vertices touched" + maxNote, data.touched, colours.blue, "y"),
                        line("searches" + maxNote, data.searches, colours.orange, "y1"),
-                       line("roots" + maxNote, data.roots, colours.grey, "y1")] },
+                       line("search roots" + maxNote, data.roots, colours.grey, "y1")] },
     options: { interaction: hover, scales: {
       x: xAxis,
       y: { position: "left", beginAtZero: true, title: title("vertices touched") },
-      y1: { position: "right", beginAtZero: true, title: title("searches, roots"),
+      y1: { position: "right", beginAtZero: true, title: title("searches, search roots"),
             grid: { drawOnChartArea: false }, ticks: { precision: 0 } } } }
   });
   make("chart-busiest", {
@@ -499,7 +499,7 @@ std::string ReplayReport::header_rows() const {
 std::string ReplayReport::html(std::string_view chart_js) const {
   const std::size_t group =
       std::max<std::size_t>(1, (commits_.size() + kMaxPoints - 1) / kMaxPoints);
-  const std::string x_name = !commits_.empty() && commits_.front().seq ? "journal seq" : "commit";
+  const std::string x_name = !commits_.empty() && commits_.front().seq ? "seq" : "commit";
   const std::string grouped =
       group > 1 ? " Each point stands for " + std::to_string(group) + " consecutive commits." : "";
 

@@ -22,28 +22,27 @@ namespace {
 
 constexpr const char* kWhyHelp =
     "Postmortem questions (instead of the commit lines):\n"
-    "  --vertex V    the history of V: when it arrived and departed, every pair it gained and\n"
-    "                lost, each with its root event (the event of the batch the engine traced\n"
-    "                the change to, in script words, with its seq, client and batch number, or\n"
-    "                its script line), and its partners 'from A to B' (gained at A, lost at B)\n"
+    "  --history V   the history of V: when it was added and removed, every pair it gained and\n"
+    "                lost, each with its cause (the event of the batch the engine traced the\n"
+    "                change to, in script words, with its seq, client and batch number, or its\n"
+    "                script line), and its partners 'from A to B' (gained at A, lost at B)\n"
     "  --explain V   V in the state where the replay stops (--until SEQ picks it): its pair and\n"
     "                the pair's weight, its price, and its closest alternatives (--alternatives\n"
     "                N, default 5) with their slack: how much more weight each would need\n"
-    "Points are the daemon's seq numbers for a journal, commit numbers for a script; both\n"
+    "Points are the pool's seq numbers for a journal, commit numbers for a script; both\n"
     "options may be repeated. With --json, one object per line:\n"
     "  {\"kind\":\"history\",\"vertex\",\"pool\" (null: script),\"unit\":\"seq\"|\"commit\",\n"
-    "   \"start\":STATE,\"changes\":[{\"first\",\"at\",\"change\":\"arrives\"|\"departs\"|\n"
+    "   \"start\":STATE,\"changes\":[{\"first\",\"at\",\"change\":\"added\"|\"removed\"|\n"
     "   \"pair_gained\"|\"pair_lost\",\"other\",\"weight\",\"cause\":CAUSE},...],\n"
     "   \"partners\":[{\"other\",\"weight\",\"from\",\"from_start\",\"to\" (null: still)},...],\n"
     "   \"end\":STATE}\n"
     "  STATE: {\"at\" (0: before the first commit),\"present\",\"mate\",\"pair_weight\"}\n"
     "  CAUSE: {\"kind\":\"event\",\"index\",\"event\":\"set 2 3 9\",\"seq\",\"client_id\",\n"
     "   \"client_batch\"} (a script: \"line\" instead of the last three) | {\"kind\":\n"
-    "   \"first_solve\"} | {\"kind\":\"batch\",\"events\"} (no root event reported)\n"
-    "  {\"kind\":\"explanation\",\"pool\",\"unit\",\"at\",\"vertex\",\"present\",\"mate\",\n"
-    "   \"pair_weight\",\"pair_bonus\",\"price\",\"price2\",\"alternatives\":[{\"other\",\n"
-    "   \"weight\",\"slack\",\"slack2\",\"other_mate\"},...]} (price2, slack2: exact doubled\n"
-    "   values; an absent vertex has only the keys up to \"present\")";
+    "   \"first_solve\"} | {\"kind\":\"batch\",\"events\"} (no cause reported)\n"
+    "  {\"kind\":\"explanation\",\"pool\",\"unit\",\"at\"} and the explanation keys, as\n"
+    "  `yoke query explain` prints them (an absent vertex has only \"vertex\" and\n"
+    "  \"present\":false):\n";
 
 // Where the replay stands: what the questions are asked about.
 struct WhySource {
@@ -98,8 +97,8 @@ void print_answers(const ReplayOptions& options, const WhySource& source,
   if (!out) throw CliError("cannot write the result to stdout");
 }
 
-// Notes on the way (a snapshot start, a seq inside a commit): on stdout with the text answers,
-// on stderr with --json so that stdout stays one object per line.
+// Notes on the way (a start from a snapshot, a seq inside a commit): on stdout with the text
+// answers, on stderr with --json so that stdout stays one object per line.
 std::ostream& note_stream(const ReplayOptions& options) {
   return options.json ? std::cerr : std::cout;
 }
@@ -137,7 +136,7 @@ int run_journal(const ReplayOptions& options) {
   const WhySource source{HistoryUnit::seq, options.pool, "pool " + options.pool};
   const std::uint64_t start_at = journal.snapshot_seq().value_or(0);
   if (journal.snapshot_seq()) {
-    note_stream(options) << "note starting from the snapshot at seq " << start_at << "\n";
+    note_stream(options) << "note: starting from the snapshot at seq " << start_at << "\n";
   }
   HistoryBuilder histories(options.history_vertices, HistoryUnit::seq);
   histories.start(*pool, start_at);
@@ -147,7 +146,7 @@ int run_journal(const ReplayOptions& options) {
     const std::uint64_t last_seq = group->records.back().seq();
     if (options.until != 0 && last_seq > options.until) {
       if (first_seq <= options.until) {
-        note_stream(options) << "note seq " << options.until
+        note_stream(options) << "note: seq " << options.until
                              << " was committed together with seqs up to " << last_seq
                              << ": stopping before that commit\n";
       }
@@ -186,7 +185,7 @@ int run_journal(const ReplayOptions& options) {
 
 void add_why_options(CLI::App& command, ReplayOptions& options) {
   command
-      .add_option("--vertex", options.history_vertices,
+      .add_option("--history", options.history_vertices,
                   "Print the history of vertex V over the replay (repeatable)")
       ->check(kNotNegative);
   command
@@ -199,8 +198,8 @@ void add_why_options(CLI::App& command, ReplayOptions& options) {
       ->check(kAtLeastOne)
       ->capture_default_str();
   command.add_flag("--json", options.json,
-                   "With --vertex or --explain: one JSON object per answer and line");
-  command.footer(command.get_footer() + "\n" + kWhyHelp);
+                   "With --history or --explain: one JSON object per answer and line");
+  command.footer(command.get_footer() + "\n" + kWhyHelp + kExplanationJsonHelp);
 }
 
 bool wants_why(const ReplayOptions& options) {
@@ -209,10 +208,10 @@ bool wants_why(const ReplayOptions& options) {
 
 int run_why_replay(const ReplayOptions& options) {
   if (options.history_vertices.empty() && options.explain_vertices.empty()) {
-    throw CliError("--json goes with --vertex or --explain");
+    throw CliError("--json goes with --history or --explain");
   }
   if (options.diffs || options.stats || options.verify || !options.report.empty()) {
-    throw CliError("--vertex and --explain print their answers instead of the commit lines: "
+    throw CliError("--history and --explain print their answers instead of the commit lines: "
                    "--diffs, --stats, --verify and --report do not go with them");
   }
   if (std::filesystem::is_directory(options.script_path)) return run_journal(options);

@@ -31,15 +31,15 @@ std::string origin_text(const EventOrigin& origin) {
   return text + "]";
 }
 
-std::string cause_text(const RootCause& cause) {
+std::string cause_text(const ChangeCause& cause) {
   switch (cause.kind) {
-    case RootCause::Kind::event:
-      return "root event " + event_text(cause.event) + " " + origin_text(cause.origin);
-    case RootCause::Kind::first_solve:
+    case ChangeCause::Kind::event:
+      return "cause " + event_text(cause.event) + " " + origin_text(cause.origin);
+    case ChangeCause::Kind::first_solve:
       return "first solve of the pool (it was empty before this commit)";
-    case RootCause::Kind::batch:
+    case ChangeCause::Kind::batch:
       return "one of the commit's " + std::to_string(cause.batch_events) +
-             " events (no root event reported)";
+             " events (no cause reported)";
   }
   return {};
 }
@@ -54,8 +54,8 @@ std::string state_text(VertexKey vertex, const VertexState& state) {
 
 const char* change_name(HistoryChange change) {
   switch (change) {
-    case HistoryChange::arrives: return "arrives";
-    case HistoryChange::departs: return "departs";
+    case HistoryChange::vertex_added: return "added";
+    case HistoryChange::vertex_removed: return "removed";
     case HistoryChange::pair_gained: return "pair_gained";
     case HistoryChange::pair_lost: return "pair_lost";
   }
@@ -72,15 +72,15 @@ void add_origin_json(const EventOrigin& origin, Json& out) {
   }
 }
 
-Json cause_json(const RootCause& cause) {
+Json cause_json(const ChangeCause& cause) {
   switch (cause.kind) {
-    case RootCause::Kind::event: {
+    case ChangeCause::Kind::event: {
       Json out{{"kind", "event"}, {"index", cause.index}, {"event", event_text(cause.event)}};
       add_origin_json(cause.origin, out);
       return out;
     }
-    case RootCause::Kind::first_solve: return Json{{"kind", "first_solve"}};
-    case RootCause::Kind::batch:
+    case ChangeCause::Kind::first_solve: return Json{{"kind", "first_solve"}};
+    case ChangeCause::Kind::batch:
       return Json{{"kind", "batch"}, {"events", cause.batch_events}};
   }
   return Json(nullptr);
@@ -93,9 +93,9 @@ Json state_json(const VertexState& state) {
               {"pair_weight", state.mate ? Json(state.pair_weight) : Json(nullptr)}};
 }
 
-RootCause event_cause(const ReplayedCommit& commit, std::size_t index) {
-  RootCause cause;
-  cause.kind = RootCause::Kind::event;
+ChangeCause event_cause(const ReplayedCommit& commit, std::size_t index) {
+  ChangeCause cause;
+  cause.kind = ChangeCause::Kind::event;
   cause.index = index;
   cause.event = commit.events[index];
   if (commit.origin) cause.origin = commit.origin(index);
@@ -161,34 +161,34 @@ void HistoryBuilder::start(const Pool& pool, std::uint64_t at) {
   }
 }
 
-RootCause HistoryBuilder::cause_of(const ReplayedCommit& commit, const CommitResult& result,
+ChangeCause HistoryBuilder::cause_of(const ReplayedCommit& commit, const CommitResult& result,
                                    const std::vector<EventCause>& causes, std::size_t changes,
                                    std::size_t i) const {
   if (causes.size() == changes) {
     const EventCause cause = causes[i];
     if (cause == kNoCause) {
-      RootCause out;
-      out.kind = RootCause::Kind::first_solve;
+      ChangeCause out;
+      out.kind = ChangeCause::Kind::first_solve;
       return out;
     }
     if (cause < commit.events.size()) return event_cause(commit, cause);
   }
   // No usable cause reported: the batch as a whole.
   if (result.stats.initial_solve) {
-    RootCause out;
-    out.kind = RootCause::Kind::first_solve;
+    ChangeCause out;
+    out.kind = ChangeCause::Kind::first_solve;
     return out;
   }
   if (commit.events.size() == 1) return event_cause(commit, 0);
-  RootCause out;
-  out.kind = RootCause::Kind::batch;
+  ChangeCause out;
+  out.kind = ChangeCause::Kind::batch;
   out.batch_events = commit.events.size();
   return out;
 }
 
 void HistoryBuilder::record(const ReplayedCommit& commit, const CommitResult& result) {
   if (histories_.empty()) return;
-  const auto entry = [&](HistoryChange change, VertexKey other, Weight w, RootCause cause) {
+  const auto entry = [&](HistoryChange change, VertexKey other, Weight w, ChangeCause cause) {
     HistoryEntry out;
     out.first = commit.first;
     out.at = commit.at;
@@ -199,21 +199,21 @@ void HistoryBuilder::record(const ReplayedCommit& commit, const CommitResult& re
     return out;
   };
 
-  // Arrivals and departures, in event order.
+  // Vertices added and removed, in event order.
   for (std::size_t i = 0; i < commit.events.size(); ++i) {
     const Event& event = commit.events[i];
-    const auto arrives = [&](VertexKey key) {
+    const auto added = [&](VertexKey key) {
       const auto it = index_.find(key);
       if (it == index_.end() || alive_[it->second]) return;
       alive_[it->second] = true;
       histories_[it->second].entries.push_back(
-          entry(HistoryChange::arrives, 0, 0, event_cause(commit, i)));
+          entry(HistoryChange::vertex_added, 0, 0, event_cause(commit, i)));
     };
     switch (event.kind) {
-      case EventKind::add_vertex: arrives(event.u); break;
+      case EventKind::add_vertex: added(event.u); break;
       case EventKind::set_edge:
-        arrives(event.u);
-        arrives(event.v);
+        added(event.u);
+        added(event.v);
         break;
       case EventKind::unset_edge:
       case EventKind::hold_pair:  // holds name vertices that are alive already
@@ -223,7 +223,7 @@ void HistoryBuilder::record(const ReplayedCommit& commit, const CommitResult& re
         if (it == index_.end() || !alive_[it->second]) break;
         alive_[it->second] = false;
         histories_[it->second].entries.push_back(
-            entry(HistoryChange::departs, 0, 0, event_cause(commit, i)));
+            entry(HistoryChange::vertex_removed, 0, 0, event_cause(commit, i)));
         break;
       }
     }
@@ -274,8 +274,8 @@ std::string history_text(const VertexHistory& history, const std::string& where)
   for (const HistoryEntry& entry : history.entries) {
     out += "  " + span_text(unit, entry.first, entry.at) + ": ";
     switch (entry.change) {
-      case HistoryChange::arrives:
-      case HistoryChange::departs:
+      case HistoryChange::vertex_added:
+      case HistoryChange::vertex_removed:
         out += std::string(change_name(entry.change)) + ": " + event_text(entry.cause.event) +
                " " + origin_text(entry.cause.origin);
         break;

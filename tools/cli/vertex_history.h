@@ -1,6 +1,6 @@
-// `yoke replay --vertex V`: the history of a vertex over a replay. Every partner it had, from
-// which point to which, with the pair's weight; when it arrived and departed; and for each pair
-// gained or lost the root event the engine names for it (MatchingDiff::removed_cause and
+// `yoke replay --history V`: the history of a vertex over a replay. Every partner it had, from
+// which point to which, with the pair's weight; when it was added and removed; and for each pair
+// gained or lost the cause the engine names for it (MatchingDiff::removed_cause and
 // added_cause: the index of the event in the committed batch), mapped back to where the event
 // came from (a journal record's seq, client id and batch number, or a script's line) and
 // printed in event-script words (`set 12 40 -3`, `remove 12`).
@@ -49,8 +49,8 @@ struct ReplayedCommit {
   std::function<EventOrigin(std::size_t)> origin;  // where events[i] came from
 };
 
-// The root event of a change.
-struct RootCause {
+// The cause of a change: the event behind it.
+struct ChangeCause {
   enum class Kind {
     event,        // events[index] of the commit
     first_solve,  // the pool was empty before the commit and was solved from scratch
@@ -63,15 +63,15 @@ struct RootCause {
   std::size_t batch_events = 0;
 };
 
-enum class HistoryChange { arrives, departs, pair_gained, pair_lost };
+enum class HistoryChange { vertex_added, vertex_removed, pair_gained, pair_lost };
 
 struct HistoryEntry {
   std::uint64_t first = 0;  // the commit's points (ReplayedCommit::first and at)
   std::uint64_t at = 0;
-  HistoryChange change = HistoryChange::arrives;
+  HistoryChange change = HistoryChange::vertex_added;
   VertexKey other = 0;  // pair_gained, pair_lost: the partner
   Weight w = 0;         // pair_gained: the weight after the commit; pair_lost: before it
-  RootCause cause;      // arrives, departs: the event itself
+  ChangeCause cause;    // added, removed: the event itself
 };
 
 struct Partnership {
@@ -94,8 +94,8 @@ struct VertexHistory {
   VertexKey vertex = 0;
   HistoryUnit unit = HistoryUnit::seq;
   VertexState start;
-  std::vector<HistoryEntry> entries;  // commit by commit; within a commit: arrivals and
-                                      // departures in event order, then pairs lost, then gained
+  std::vector<HistoryEntry> entries;  // commit by commit; within a commit: the vertex added or
+                                      // removed in event order, then pairs lost, then gained
   std::vector<Partnership> partners;  // in the order they were gained
   VertexState end;
 };
@@ -116,7 +116,7 @@ class HistoryBuilder {
 
  private:
   VertexHistory* find(VertexKey key);
-  RootCause cause_of(const ReplayedCommit& commit, const CommitResult& result,
+  ChangeCause cause_of(const ReplayedCommit& commit, const CommitResult& result,
                      const std::vector<EventCause>& causes, std::size_t changes,
                      std::size_t i) const;
   static VertexState state_of(const Pool& pool, VertexKey key, std::uint64_t at);
@@ -132,10 +132,10 @@ std::string event_text(const Event& event);
 // The history as text: a header line, one line per change, then the partners and the end:
 //
 //   history of 1 (pool default), seq 1 to seq 9:
-//     seq 1: arrives: set 1 2 5 [seq 1, client alice, batch 1]
+//     seq 1: added: set 1 2 5 [seq 1, client alice, batch 1]
 //     seq 1: pair with 2 gained (weight 5): first solve of the pool
-//     seq 4: pair with 2 lost (weight 5): root event set 2 3 9 [seq 4, client alice, batch 4]
-//     seqs 6-7: pair with 7 gained (weight 3): root event add 7 [seq 6]
+//     seq 4: pair with 2 lost (weight 5): cause set 2 3 9 [seq 4, client alice, batch 4]
+//     seqs 6-7: pair with 7 gained (weight 3): cause add 7 [seq 6]
 //   partners of 1:
 //     2 (weight 5) from seq 1 to seq 4
 //     7 (weight 3) from seq 7, still paired at seq 9

@@ -23,9 +23,9 @@ constexpr const char* kWatchHelp =
     "  {\"pool\",\"seq\",\"prev_seq\",\"weight\",\"pairs\",\"no_perfect_matching\",\n"
     "   \"removed\":[[A,B,W],...],\"added\":[[A,B,W],...],\"repair_us\",\n"
     "   \"commit_to_publish_us\",\"publish_unix_us\",\"stats\":{...}}\n"
-    "With --catch-up, first the whole matching with \"snapshot\":true (as `yoke query\n"
-    "matching` prints it), then the diffs after it; a missed diff is reported on stderr and\n"
-    "the matching fetched again.\n"
+    "With --catch-up, first the pool's whole matching with \"catch_up\":true (as `yoke query\n"
+    "matching` prints it), then the diffs after its seq; a missed diff is noted on stderr\n"
+    "(note: ...) and the matching fetched again, printed the same way.\n"
     "Exit codes: 0 after --count diffs, or on SIGINT/SIGTERM; 2 an unreadable publication or\n"
     "query error; 4 nothing within --timeout-ms.";
 
@@ -104,7 +104,7 @@ class Watcher {
     if (held_seq_) {
       if (diff.seq() <= *held_seq_) return false;
       if (diff.prev_seq() != *held_seq_) {
-        std::cerr << "error: pool " << options_.pool << ": diff " << diff.seq()
+        std::cerr << "note: pool " << options_.pool << ": diff " << diff.seq()
                   << " follows seq " << diff.prev_seq() << ", but the last seq held is "
                   << *held_seq_ << "; catching up again\n";
         catch_up();
@@ -134,9 +134,9 @@ class Watcher {
       throw CliError(query_error_text(reply.error()));
     }
     // else: a pool not created yet is the empty matching at seq 0; its first diff follows 0.
-    Json snapshot = matching_json(options_.pool, matching);
-    snapshot["snapshot"] = true;
-    print_line(snapshot);
+    Json start = matching_json(options_.pool, matching);
+    start["catch_up"] = true;
+    print_line(start);
     held_seq_ = matching.seq();
   }
 

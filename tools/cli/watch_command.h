@@ -9,10 +9,10 @@
 // the pool arrives within T ms (exit 4; T = 0, the default, waits for ever).
 //
 // --catch-up follows publish.proto's recipe for a late subscriber: subscribe, then fetch the
-// whole matching from the query socket and print it as one line with "snapshot": true (layout
+// whole matching from the query socket and print it as one line with "catch_up": true (layout
 // of Matching; a pool that does not exist yet is the empty matching at seq 0), then print only
 // the diffs after its seq, each checked to start where the last one ended (prev_seq). On a gap
-// it says so on stderr and catches up again.
+// it prints a note on stderr ("note: pool P: diff S follows seq ...") and catches up again.
 #pragma once
 
 #include <cstdint>

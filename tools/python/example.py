@@ -45,12 +45,12 @@ def main():
     print("couriers' parcels now:",
           {c: watcher.matching.get(c) for c in (101, 102, 103, 104)})
 
-    why = query.explain(POOL, 103, limit=3)
+    why = query.explain(POOL, 103, alternatives=3)
     print(f"courier 103 carries {why['mate']} (earning {why['pair_weight']}); "
-          f"price 2u = {why['dual2']}")
+          f"price {why['price']}")
     for alt in why["alternatives"]:
         print(f"  parcel {alt['other']} (weight {alt['weight']}) would need "
-              f"{alt['slack2'] / 2} more to be worth taking; its courier: {alt['other_mate']}")
+              f"{alt['slack']} more to be worth taking; its courier: {alt['other_mate']}")
 
 
 if __name__ == "__main__":

@@ -24,6 +24,11 @@ def _optional(message, field):
     return getattr(message, field) if message.HasField(field) else None
 
 
+def _half(doubled):
+    """A doubled value in plain units, as `yoke query explain` prints it: 87 -> 43.5, 8 -> 4."""
+    return doubled // 2 if doubled % 2 == 0 else doubled / 2
+
+
 def _repair(stats):
     return {k: getattr(stats, k) for k in ("events", "roots", "searches", "augmentations",
                                            "blossoms_dissolved", "vertices_touched",
@@ -54,16 +59,22 @@ def reply(r):
                 "no_perfect_matching": m.no_perfect_matching}
     if kind == "mate":
         return {"pool": pool, "seq": m.seq, "vertex": m.vertex, "mate": _optional(m, "mate"),
-                "weight": m.weight}
+                "pair_weight": _optional(m, "pair_weight")}
     if kind == "matching":
-        return {"pool": pool, "seq": m.seq, "weight": m.weight, "pairs": _pairs(m.pairs),
-                "mode": _MODES.get(m.mode), "no_perfect_matching": m.no_perfect_matching}
+        return {"pool": pool, "seq": m.seq, "weight": m.weight, "pairs": len(m.matching),
+                "matching": _pairs(m.matching), "mode": _MODES.get(m.mode),
+                "no_perfect_matching": m.no_perfect_matching}
     if kind == "explain":
-        alternatives = [{"other": a.other, "weight": a.weight, "slack2": a.slack2,
-                         "other_mate": _optional(a, "other_mate")} for a in m.alternatives]
-        return {"pool": pool, "seq": m.seq, "vertex": m.vertex, "mate": _optional(m, "mate"),
-                "pair_weight": m.pair_weight, "pair_bonus": m.pair_bonus, "dual2": m.dual2,
-                "weight_offset": m.weight_offset, "alternatives": alternatives}
+        # The shape of tools/cli/explanation_text.h (which states the units): price and slack in
+        # plain weights, the _x2 values doubled as the wire has them.
+        alternatives = [{"other": a.other, "weight": a.weight, "slack": _half(a.slack_x2),
+                         "slack_x2": a.slack_x2, "other_mate": _optional(a, "other_mate")}
+                        for a in m.alternatives]
+        return {"pool": pool, "seq": m.seq, "vertex": m.vertex, "present": True,
+                "mate": _optional(m, "mate"), "pair_weight": _optional(m, "pair_weight"),
+                "pair_bonus": m.pair_bonus, "weight_offset": m.weight_offset,
+                "dual_x2": m.dual_x2, "price": _half(m.dual_x2 - m.weight_offset),
+                "alternatives": alternatives}
     if kind == "stats":
         limits = m.config.limits
         return {"pool": pool, "seq": m.seq, "weight": m.weight, "pairs": m.pairs,

@@ -52,19 +52,22 @@ class Query(DealerConnection):
         return dicts.reply(self.ask("summary", pool))
 
     def mate(self, pool, v):
-        """{"pool","seq","vertex","mate" (None: exposed),"weight"}; UNKNOWN_VERTEX if v is not
-        alive."""
+        """{"pool","seq","vertex","mate" (None: exposed),"pair_weight" (None: exposed)};
+        UNKNOWN_VERTEX if v is not alive."""
         return dicts.reply(self.ask("mate", pool, vertex=v))
 
     def matching(self, pool="default"):
-        """{"pool","seq","weight","pairs": [[a, b, w], ...],"mode","no_perfect_matching"}"""
+        """{"pool","seq","weight","pairs" (the count),"matching": [[a, b, w], ...],"mode",
+        "no_perfect_matching"}"""
         return dicts.reply(self.ask("matching", pool))
 
-    def explain(self, pool, v, limit=0):
-        """{"pool","seq","vertex","mate","pair_weight","dual2","weight_offset",
-        "alternatives": [{"other","weight","slack2","other_mate"}, ...]}; duals and slacks are
-        doubled. limit 0: the daemon's default number of alternatives."""
-        return dicts.reply(self.ask("explain", pool, vertex=v, max_alternatives=limit))
+    def explain(self, pool, v, alternatives=0):
+        """{"pool","seq","vertex","present","mate","pair_weight" (None: unpaired),"pair_bonus",
+        "weight_offset","dual_x2","price","alternatives": [{"other","weight","slack","slack_x2",
+        "other_mate"}, ...]}, as `yoke query explain` prints it: the _x2 values are doubled;
+        price = (dual_x2 - weight_offset) / 2, slack = slack_x2 / 2. alternatives: how many
+        to list at most (0: the daemon's default)."""
+        return dicts.reply(self.ask("explain", pool, vertex=v, max_alternatives=alternatives))
 
     def stats(self, pool="default"):
         """The pool's counters, limits, last repair and timings."""

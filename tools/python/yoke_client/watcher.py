@@ -78,9 +78,9 @@ class Watcher:
         except QueryError as error:
             if error.code_name != "UNKNOWN_POOL":
                 raise
-            whole = {"seq": 0, "weight": 0, "pairs": []}  # created by its first batch
+            whole = {"seq": 0, "weight": 0, "matching": []}  # created by its first batch
         self.matching = {}
-        for a, b, _ in whole["pairs"]:
+        for a, b, _ in whole["matching"]:
             self.matching[a], self.matching[b] = b, a
         self.weight = whole["weight"]
         self.seq = whole["seq"]
