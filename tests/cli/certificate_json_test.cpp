@@ -90,6 +90,37 @@ TEST(CertificateJson, RoundTripsThroughExternalIds) {
   EXPECT_EQ(read.blossoms[1].children, (std::vector<NodeId>{5 + 0, dense(3), dense(4)}));
 }
 
+// Format 1 is format 2 with each doubled dual under "dual2": such files still verify, and a
+// document that mixes the two names is refused.
+json renamed_duals(json document, const char* key) {
+  for (json& vertex : document["vertices"]) {
+    vertex[key] = vertex["dual_x2"];
+    vertex.erase("dual_x2");
+  }
+  for (json& blossom : document["blossoms"]) {
+    blossom[key] = blossom["dual_x2"];
+    blossom.erase("dual_x2");
+  }
+  return document;
+}
+
+TEST(CertificateJson, ReadsFormatOne) {
+  json v1 = renamed_duals(json::parse(written(sample_certificate())), "dual2");
+  v1["format"] = "yoke-certificate/1";
+  const Certificate read = parse_certificate_json(v1.dump(), IdMap(kIds));
+  EXPECT_EQ(read.vertex_dual2, sample_certificate().vertex_dual2);
+  EXPECT_EQ(read.blossoms[0].dual2, 8);
+  EXPECT_EQ(read.blossoms[1].dual2, 2);
+
+  json v1_with_new_key = json::parse(written(sample_certificate()));
+  v1_with_new_key["format"] = "yoke-certificate/1";
+  EXPECT_EQ(error_of(v1_with_new_key.dump()),
+            "format: format 1 names the doubled duals \"dual2\", not \"dual_x2\"");
+  json v2_with_old_key = renamed_duals(json::parse(written(sample_certificate())), "dual2");
+  EXPECT_EQ(error_of(v2_with_old_key.dump()),
+            "format: format 2 names the doubled duals \"dual_x2\", not \"dual2\"");
+}
+
 TEST(CertificateJson, IgnoresUnknownKeys) {
   const std::string text = edited([](json& d) {
     d["produced_by"] = "a later yoke";
@@ -102,7 +133,8 @@ TEST(CertificateJson, RejectsWhatIsNotACertificate) {
   EXPECT_NE(error_of("{\"format\": ").find("not valid JSON"), std::string::npos);
   EXPECT_EQ(error_of("[1, 2]"), "expected a JSON object");
   EXPECT_EQ(error_of(edited([](json& d) { d["format"] = "yoke-certificate/9"; })),
-            "format: expected \"yoke-certificate/2\", found \"yoke-certificate/9\"");
+            "format: expected \"yoke-certificate/2\" (or \"yoke-certificate/1\"), found "
+            "\"yoke-certificate/9\"");
   EXPECT_EQ(error_of(edited([](json& d) { d.erase("mode"); })), "mode: missing");
   EXPECT_NE(error_of(edited([](json& d) { d["mode"] = "fastest"; })).find("mode: unknown mode"),
             std::string::npos);

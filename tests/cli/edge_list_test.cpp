@@ -12,7 +12,7 @@ namespace yoke::cli {
 namespace {
 
 // The error the loader reports for `text`; fails the test if it accepts it.
-EdgeListError error_of(const std::string& text) {
+EdgeListError edge_list_error(const std::string& text) {
   try {
     parse_edge_list(text);
   } catch (const EdgeListError& error) {
@@ -83,81 +83,81 @@ TEST(EdgeList, AcceptsTheFullSignedWeightRange) {
 }
 
 TEST(EdgeList, RejectsWrongFieldCounts) {
-  const EdgeListError two = error_of("1 2 3\n# fine\n1 3\n");
+  const EdgeListError two = edge_list_error("1 2 3\n# fine\n1 3\n");
   EXPECT_EQ(two.line(), 3u);
   EXPECT_EQ(two.problem(), "expected 3 fields 'U V W', found 2");
 
-  const EdgeListError four = error_of("1 2 3 4\n");
+  const EdgeListError four = edge_list_error("1 2 3 4\n");
   EXPECT_EQ(four.line(), 1u);
   EXPECT_EQ(four.problem(), "expected 3 fields 'U V W', found 4");
 
   // A comment after the data is not a comment line: it adds fields.
-  EXPECT_EQ(error_of("\n1 2 3 # note\n").line(), 2u);
+  EXPECT_EQ(edge_list_error("\n1 2 3 # note\n").line(), 2u);
 }
 
 TEST(EdgeList, RejectsNonNumericIds) {
-  const EdgeListError letters = error_of("1 2 3\nabc 2 3\n");
+  const EdgeListError letters = edge_list_error("1 2 3\nabc 2 3\n");
   EXPECT_EQ(letters.line(), 2u);
   EXPECT_EQ(letters.problem(), "vertex id 'abc' is not a non-negative integer");
 
-  const EdgeListError decimal = error_of("1 1.5 3\n");
+  const EdgeListError decimal = edge_list_error("1 1.5 3\n");
   EXPECT_EQ(decimal.line(), 1u);
   EXPECT_EQ(decimal.problem(), "vertex id '1.5' is not a non-negative integer");
 
-  EXPECT_EQ(error_of("-4 2 3\n").problem(), "vertex id '-4' is not a non-negative integer");
-  EXPECT_EQ(error_of("0x10 2 3\n").problem(), "vertex id '0x10' is not a non-negative integer");
+  EXPECT_EQ(edge_list_error("-4 2 3\n").problem(), "vertex id '-4' is not a non-negative integer");
+  EXPECT_EQ(edge_list_error("0x10 2 3\n").problem(), "vertex id '0x10' is not a non-negative integer");
 }
 
 TEST(EdgeList, RejectsIdsBeyondSixtyFourBits) {
-  const EdgeListError huge = error_of("\n\n99999999999999999999 1 3\n");
+  const EdgeListError huge = edge_list_error("\n\n99999999999999999999 1 3\n");
   EXPECT_EQ(huge.line(), 3u);
   EXPECT_EQ(huge.problem(),
             "vertex id '99999999999999999999' is out of range (0 .. 18446744073709551615)");
-  EXPECT_EQ(error_of("1 18446744073709551616 3\n").line(), 1u);
+  EXPECT_EQ(edge_list_error("1 18446744073709551616 3\n").line(), 1u);
 }
 
 TEST(EdgeList, RejectsBadWeights) {
-  const EdgeListError decimal = error_of("1 2 3\n3 4 1.5\n");
+  const EdgeListError decimal = edge_list_error("1 2 3\n3 4 1.5\n");
   EXPECT_EQ(decimal.line(), 2u);
   EXPECT_EQ(decimal.problem(), "weight '1.5' is not an integer");
 
-  EXPECT_EQ(error_of("1 2 abc\n").problem(), "weight 'abc' is not an integer");
-  EXPECT_EQ(error_of("1 2 5e3\n").problem(), "weight '5e3' is not an integer");
+  EXPECT_EQ(edge_list_error("1 2 abc\n").problem(), "weight 'abc' is not an integer");
+  EXPECT_EQ(edge_list_error("1 2 5e3\n").problem(), "weight '5e3' is not an integer");
 
-  const EdgeListError huge = error_of("1 2 99999999999999999999\n");
+  const EdgeListError huge = edge_list_error("1 2 99999999999999999999\n");
   EXPECT_EQ(huge.line(), 1u);
   EXPECT_EQ(huge.problem(), "weight '99999999999999999999' is out of range "
                             "(-9223372036854775808 .. 9223372036854775807)");
-  EXPECT_EQ(error_of("1 2 9223372036854775808\n").line(), 1u);
-  EXPECT_EQ(error_of("1 2 -9223372036854775809\n").line(), 1u);
+  EXPECT_EQ(edge_list_error("1 2 9223372036854775808\n").line(), 1u);
+  EXPECT_EQ(edge_list_error("1 2 -9223372036854775809\n").line(), 1u);
 }
 
 TEST(EdgeList, ShowsUnprintableAndLongTokensSafely) {
-  EXPECT_EQ(error_of(std::string("1 2 \x01x\n")).problem(), "weight '\\x01x' is not an integer");
+  EXPECT_EQ(edge_list_error(std::string("1 2 \x01x\n")).problem(), "weight '\\x01x' is not an integer");
   const std::string long_token(100, '7');
-  const std::string problem = error_of("1 2 " + long_token + "\n").problem();
+  const std::string problem = edge_list_error("1 2 " + long_token + "\n").problem();
   EXPECT_NE(problem.find("...'"), std::string::npos) << problem;
   EXPECT_LT(problem.size(), 120u);
 }
 
 TEST(EdgeList, RejectsSelfLoops) {
-  const EdgeListError loop = error_of("1 2 3\n\n7 7 10\n");
+  const EdgeListError loop = edge_list_error("1 2 3\n\n7 7 10\n");
   EXPECT_EQ(loop.line(), 3u);
   EXPECT_EQ(loop.problem(), "self loop on vertex 7");
 }
 
 TEST(EdgeList, RejectsDuplicateEdgesNamingTheFirstLine) {
-  const EdgeListError same = error_of("1 2 3\n2 3 4\n# again\n1 2 5\n");
+  const EdgeListError same = edge_list_error("1 2 3\n2 3 4\n# again\n1 2 5\n");
   EXPECT_EQ(same.line(), 4u);
   EXPECT_EQ(same.problem(), "duplicate edge between 1 and 2 (first given on line 1)");
 
-  const EdgeListError reversed = error_of("5 6 1\n\n6 5 1\n");
+  const EdgeListError reversed = edge_list_error("5 6 1\n\n6 5 1\n");
   EXPECT_EQ(reversed.line(), 3u);
   EXPECT_EQ(reversed.problem(), "duplicate edge between 6 and 5 (first given on line 1)");
 }
 
 TEST(EdgeList, ReportsTheEarliestDuplicate) {
-  const EdgeListError error = error_of(
+  const EdgeListError error = edge_list_error(
       "1 2 1\n"
       "3 4 1\n"
       "5 6 1\n"
@@ -170,9 +170,9 @@ TEST(EdgeList, ReportsTheEarliestDuplicate) {
 
 TEST(EdgeList, ReportsTheEarliestErrorOfAnyKind) {
   // A duplicate before a malformed line wins, and a malformed line before a duplicate wins.
-  EXPECT_EQ(error_of("1 2 3\n2 1 3\nbad line here now\n").line(), 2u);
-  EXPECT_EQ(error_of("1 2 3\nbad\n2 1 3\n").line(), 2u);
-  EXPECT_EQ(error_of("1 2 3\n4 4 1\n2 1 3\n").problem(), "self loop on vertex 4");
+  EXPECT_EQ(edge_list_error("1 2 3\n2 1 3\nbad line here now\n").line(), 2u);
+  EXPECT_EQ(edge_list_error("1 2 3\nbad\n2 1 3\n").line(), 2u);
+  EXPECT_EQ(edge_list_error("1 2 3\n4 4 1\n2 1 3\n").problem(), "self loop on vertex 4");
 }
 
 TEST(EdgeList, ArbitraryTextIsParsedOrRejectedWithALine) {
@@ -200,7 +200,7 @@ TEST(EdgeList, ArbitraryTextIsParsedOrRejectedWithALine) {
 }
 
 TEST(EdgeList, ErrorTextNamesTheLine) {
-  EXPECT_STREQ(error_of("1 2\n").what(), "line 1: expected 3 fields 'U V W', found 2");
+  EXPECT_STREQ(edge_list_error("1 2\n").what(), "line 1: expected 3 fields 'U V W', found 2");
 }
 
 }  // namespace

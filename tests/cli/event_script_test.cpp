@@ -15,7 +15,7 @@ namespace yoke::cli {
 namespace {
 
 // The error the parser reports for `text`; fails the test if it accepts it.
-EventScriptError error_of(const std::string& text) {
+EventScriptError script_error(const std::string& text) {
   try {
     parse_event_script(text);
   } catch (const EventScriptError& error) {
@@ -98,7 +98,7 @@ TEST(EventScript, IgnoresBlankLinesCommentsAndTrailingComments) {
 
 TEST(EventScript, AHashInsideAFieldIsNotAComment) {
   // Only a '#' that starts a token starts a comment: '3#x' is a malformed weight.
-  EXPECT_EQ(error_of("set 1 2 3#x\n").problem(), "weight '3#x' is not an integer");
+  EXPECT_EQ(script_error("set 1 2 3#x\n").problem(), "weight '3#x' is not an integer");
 }
 
 TEST(EventScript, AcceptsCrlfTabsRunsOfBlanksAndNoFinalNewline) {
@@ -171,100 +171,100 @@ TEST(EventScript, PreScanCountsDistinctIdsOfEveryVerbAndTheLargestMagnitude) {
 }
 
 TEST(EventScript, RejectsUnknownVerbs) {
-  const EventScriptError error = error_of("add 1\n\nmove 1 2\n");
+  const EventScriptError error = script_error("add 1\n\nmove 1 2\n");
   EXPECT_EQ(error.line(), 3u);
   EXPECT_EQ(error.problem(),
             "unknown verb 'move' (expected add, set, unset, remove, hold, release or commit)");
-  EXPECT_EQ(error_of("SET 1 2 3\n").problem(),
+  EXPECT_EQ(script_error("SET 1 2 3\n").problem(),
             "unknown verb 'SET' (expected add, set, unset, remove, hold, release or commit)");
-  EXPECT_EQ(error_of("1 2 3\n").line(), 1u) << "an edge-list line is not an event";
+  EXPECT_EQ(script_error("1 2 3\n").line(), 1u) << "an edge-list line is not an event";
 }
 
 TEST(EventScript, RejectsWrongFieldCountsForEachVerb) {
-  EXPECT_EQ(error_of("add\n").problem(), "'add U' takes 1 field after the verb, found 0");
-  EXPECT_EQ(error_of("add 1 2\n").problem(), "'add U' takes 1 field after the verb, found 2");
-  EXPECT_EQ(error_of("set 1 2\n").problem(), "'set U V W' takes 3 fields after the verb, found 2");
-  EXPECT_EQ(error_of("set 1 2 3 4\n").problem(),
+  EXPECT_EQ(script_error("add\n").problem(), "'add U' takes 1 field after the verb, found 0");
+  EXPECT_EQ(script_error("add 1 2\n").problem(), "'add U' takes 1 field after the verb, found 2");
+  EXPECT_EQ(script_error("set 1 2\n").problem(), "'set U V W' takes 3 fields after the verb, found 2");
+  EXPECT_EQ(script_error("set 1 2 3 4\n").problem(),
             "'set U V W' takes 3 fields after the verb, found 4");
-  EXPECT_EQ(error_of("unset 1\n").problem(), "'unset U V' takes 2 fields after the verb, found 1");
-  EXPECT_EQ(error_of("unset 1 2 3\n").problem(),
+  EXPECT_EQ(script_error("unset 1\n").problem(), "'unset U V' takes 2 fields after the verb, found 1");
+  EXPECT_EQ(script_error("unset 1 2 3\n").problem(),
             "'unset U V' takes 2 fields after the verb, found 3");
-  EXPECT_EQ(error_of("remove\n").problem(), "'remove U' takes 1 field after the verb, found 0");
-  EXPECT_EQ(error_of("hold 1\n").problem(), "'hold U V' takes 2 fields after the verb, found 1");
-  EXPECT_EQ(error_of("hold 1 2 3\n").problem(),
+  EXPECT_EQ(script_error("remove\n").problem(), "'remove U' takes 1 field after the verb, found 0");
+  EXPECT_EQ(script_error("hold 1\n").problem(), "'hold U V' takes 2 fields after the verb, found 1");
+  EXPECT_EQ(script_error("hold 1 2 3\n").problem(),
             "'hold U V' takes 2 fields after the verb, found 3");
-  EXPECT_EQ(error_of("release\n").problem(),
+  EXPECT_EQ(script_error("release\n").problem(),
             "'release U V' takes 2 fields after the verb, found 0");
-  EXPECT_EQ(error_of("release 1 2 3\n").problem(),
+  EXPECT_EQ(script_error("release 1 2 3\n").problem(),
             "'release U V' takes 2 fields after the verb, found 3");
-  EXPECT_EQ(error_of("commit now\n").problem(),
+  EXPECT_EQ(script_error("commit now\n").problem(),
             "'commit' takes 0 fields after the verb, found 1");
   // The trailing comment does not count as fields.
-  EXPECT_EQ(error_of("set 1 2 # 3\n").problem(),
+  EXPECT_EQ(script_error("set 1 2 # 3\n").problem(),
             "'set U V W' takes 3 fields after the verb, found 2");
 
-  const EventScriptError late = error_of("set 1 2 3\ncommit\n# next wave\nremove 1 2\n");
+  const EventScriptError late = script_error("set 1 2 3\ncommit\n# next wave\nremove 1 2\n");
   EXPECT_EQ(late.line(), 4u);
 }
 
 TEST(EventScript, RejectsNonNumericIds) {
-  const EventScriptError letters = error_of("set 1 2 3\nadd abc\n");
+  const EventScriptError letters = script_error("set 1 2 3\nadd abc\n");
   EXPECT_EQ(letters.line(), 2u);
   EXPECT_EQ(letters.problem(), "vertex id 'abc' is not a non-negative integer");
-  EXPECT_EQ(error_of("set 1 two 3\n").problem(), "vertex id 'two' is not a non-negative integer");
-  EXPECT_EQ(error_of("remove -4\n").problem(), "vertex id '-4' is not a non-negative integer");
-  EXPECT_EQ(error_of("unset 1.5 2\n").problem(), "vertex id '1.5' is not a non-negative integer");
-  EXPECT_EQ(error_of("add 0x10\n").problem(), "vertex id '0x10' is not a non-negative integer");
-  EXPECT_EQ(error_of("add +3\n").problem(), "vertex id '+3' is not a non-negative integer");
-  EXPECT_EQ(error_of("hold 1 x\n").problem(), "vertex id 'x' is not a non-negative integer");
-  EXPECT_EQ(error_of("release -1 2\n").problem(), "vertex id '-1' is not a non-negative integer");
-  EXPECT_EQ(error_of("hold 18446744073709551616 1\n").problem(),
+  EXPECT_EQ(script_error("set 1 two 3\n").problem(), "vertex id 'two' is not a non-negative integer");
+  EXPECT_EQ(script_error("remove -4\n").problem(), "vertex id '-4' is not a non-negative integer");
+  EXPECT_EQ(script_error("unset 1.5 2\n").problem(), "vertex id '1.5' is not a non-negative integer");
+  EXPECT_EQ(script_error("add 0x10\n").problem(), "vertex id '0x10' is not a non-negative integer");
+  EXPECT_EQ(script_error("add +3\n").problem(), "vertex id '+3' is not a non-negative integer");
+  EXPECT_EQ(script_error("hold 1 x\n").problem(), "vertex id 'x' is not a non-negative integer");
+  EXPECT_EQ(script_error("release -1 2\n").problem(), "vertex id '-1' is not a non-negative integer");
+  EXPECT_EQ(script_error("hold 18446744073709551616 1\n").problem(),
             "vertex id '18446744073709551616' is out of range (0 .. 18446744073709551615)");
 }
 
 TEST(EventScript, RejectsIdsBeyondSixtyFourBits) {
-  const EventScriptError huge = error_of("\n\nadd 18446744073709551616\n");
+  const EventScriptError huge = script_error("\n\nadd 18446744073709551616\n");
   EXPECT_EQ(huge.line(), 3u);
   EXPECT_EQ(huge.problem(),
             "vertex id '18446744073709551616' is out of range (0 .. 18446744073709551615)");
-  EXPECT_EQ(error_of("set 1 99999999999999999999 3\n").line(), 1u);
+  EXPECT_EQ(script_error("set 1 99999999999999999999 3\n").line(), 1u);
 }
 
 TEST(EventScript, RejectsBadWeights) {
-  const EventScriptError decimal = error_of("set 1 2 3\nset 3 4 1.5\n");
+  const EventScriptError decimal = script_error("set 1 2 3\nset 3 4 1.5\n");
   EXPECT_EQ(decimal.line(), 2u);
   EXPECT_EQ(decimal.problem(), "weight '1.5' is not an integer");
-  EXPECT_EQ(error_of("set 1 2 abc\n").problem(), "weight 'abc' is not an integer");
-  EXPECT_EQ(error_of("set 1 2 5e3\n").problem(), "weight '5e3' is not an integer");
+  EXPECT_EQ(script_error("set 1 2 abc\n").problem(), "weight 'abc' is not an integer");
+  EXPECT_EQ(script_error("set 1 2 5e3\n").problem(), "weight '5e3' is not an integer");
 
-  const EventScriptError high = error_of("set 1 2 9223372036854775808\n");
+  const EventScriptError high = script_error("set 1 2 9223372036854775808\n");
   EXPECT_EQ(high.problem(), "weight '9223372036854775808' is out of range "
                             "(-9223372036854775808 .. 9223372036854775807)");
-  EXPECT_EQ(error_of("commit\nset 1 2 -9223372036854775809\n").line(), 2u);
+  EXPECT_EQ(script_error("commit\nset 1 2 -9223372036854775809\n").line(), 2u);
 }
 
 TEST(EventScript, RejectsSelfLoops) {
-  const EventScriptError loop = error_of("set 1 2 3\n\nset 5 5 1\n");
+  const EventScriptError loop = script_error("set 1 2 3\n\nset 5 5 1\n");
   EXPECT_EQ(loop.line(), 3u);
   EXPECT_EQ(loop.problem(), "self loop on vertex 5");
   // No edge {5,5} can ever exist, so unsetting one is as malformed.
-  EXPECT_EQ(error_of("unset 5 5\n").problem(), "self loop on vertex 5");
+  EXPECT_EQ(script_error("unset 5 5\n").problem(), "self loop on vertex 5");
   // Nor can a vertex be held with itself.
-  const EventScriptError hold = error_of("set 1 2 3\nhold 6 6\n");
+  const EventScriptError hold = script_error("set 1 2 3\nhold 6 6\n");
   EXPECT_EQ(hold.line(), 2u);
   EXPECT_EQ(hold.problem(), "self loop on vertex 6");
-  EXPECT_EQ(error_of("release 6 6\n").problem(), "self loop on vertex 6");
+  EXPECT_EQ(script_error("release 6 6\n").problem(), "self loop on vertex 6");
 }
 
 TEST(EventScript, ReportsTheFirstBadLine) {
-  EXPECT_EQ(error_of("set 1 2 3\nset 4 4 1\nfrobnicate\n").line(), 2u);
-  EXPECT_EQ(error_of("set 1 2 3\nfrobnicate\nset 4 4 1\n").line(), 2u);
+  EXPECT_EQ(script_error("set 1 2 3\nset 4 4 1\nfrobnicate\n").line(), 2u);
+  EXPECT_EQ(script_error("set 1 2 3\nfrobnicate\nset 4 4 1\n").line(), 2u);
 }
 
 TEST(EventScript, ShowsUnprintableAndLongTokensSafely) {
-  EXPECT_EQ(error_of(std::string("set 1 2 \x01x\n")).problem(),
+  EXPECT_EQ(script_error(std::string("set 1 2 \x01x\n")).problem(),
             "weight '\\x01x' is not an integer");
-  const std::string problem = error_of("add " + std::string(100, '7') + "\n").problem();
+  const std::string problem = script_error("add " + std::string(100, '7') + "\n").problem();
   EXPECT_NE(problem.find("...'"), std::string::npos) << problem;
   EXPECT_LT(problem.size(), 120u);
 }

@@ -11,19 +11,19 @@
 namespace yoke::cli {
 namespace {
 
-using namespace yoke::v1;
+namespace v1 = yoke::v1;
 
 constexpr std::uint64_t kMaxKey = std::numeric_limits<std::uint64_t>::max();
 constexpr std::int64_t kMinWeight = std::numeric_limits<std::int64_t>::min();
 
-void set_pair(Pair& pair, std::uint64_t a, std::uint64_t b, std::int64_t weight) {
+void set_pair(v1::Pair& pair, std::uint64_t a, std::uint64_t b, std::int64_t weight) {
   pair.set_a(a);
   pair.set_b(b);
   pair.set_weight(weight);
 }
 
 TEST(ProtoJson, Diff) {
-  Diff diff;
+  v1::Diff diff;
   diff.set_pool("harbour");
   diff.set_seq(12);
   diff.set_prev_seq(10);
@@ -36,7 +36,7 @@ TEST(ProtoJson, Diff) {
   diff.mutable_timings()->set_repair_us(31);
   diff.mutable_timings()->set_commit_to_publish_us(250);
   diff.mutable_timings()->set_publish_unix_us(1700000000123456);
-  RepairStats& stats = *diff.mutable_stats();
+  v1::RepairStats& stats = *diff.mutable_stats();
   stats.set_events(3);
   stats.set_roots(2);
   stats.set_searches(2);
@@ -54,13 +54,13 @@ TEST(ProtoJson, Diff) {
 }
 
 TEST(ProtoJson, Summary) {
-  Summary summary;
+  v1::Summary summary;
   summary.set_seq(7);
   summary.set_weight(-2);
   summary.set_pairs(1);
   summary.set_vertices(3);
   summary.set_edges(2);
-  summary.set_mode(MODE_PERFECT);
+  summary.set_mode(v1::MODE_PERFECT);
   summary.set_no_perfect_matching(true);
   EXPECT_EQ(json_line(summary_json("default", summary)),
             "{\"pool\":\"default\",\"seq\":7,\"weight\":-2,\"pairs\":1,\"vertices\":3,"
@@ -68,7 +68,7 @@ TEST(ProtoJson, Summary) {
 }
 
 TEST(ProtoJson, MateMatchedAndExposed) {
-  Mate mate;
+  v1::Mate mate;
   mate.set_seq(4);
   mate.set_vertex(kMaxKey);
   EXPECT_EQ(json_line(mate_json("p", mate)),
@@ -86,10 +86,10 @@ TEST(ProtoJson, MateMatchedAndExposed) {
 }
 
 TEST(ProtoJson, Matching) {
-  Matching matching;
+  v1::Matching matching;
   matching.set_seq(9);
   matching.set_weight(12);
-  matching.set_mode(MODE_MAX_WEIGHT);
+  matching.set_mode(v1::MODE_MAX_WEIGHT);
   set_pair(*matching.add_matching(), 1, 2, 5);
   set_pair(*matching.add_matching(), 3, 4, 7);
   EXPECT_EQ(json_line(matching_json("quillory", matching)),
@@ -99,19 +99,19 @@ TEST(ProtoJson, Matching) {
 }
 
 TEST(ProtoJson, Explanation) {
-  Explanation explanation;
+  v1::Explanation explanation;
   explanation.set_seq(3);
   explanation.set_vertex(5);
   explanation.set_mate(6);
   explanation.set_pair_weight(10);
   explanation.set_dual_x2(-4);
   explanation.set_weight_offset(21);
-  Alternative& near = *explanation.add_alternatives();
+  v1::Alternative& near = *explanation.add_alternatives();
   near.set_other(8);
   near.set_weight(9);
   near.set_slack_x2(0);
   near.set_other_mate(2);
-  Alternative& far = *explanation.add_alternatives();
+  v1::Alternative& far = *explanation.add_alternatives();
   far.set_other(1);
   far.set_weight(-1);
   far.set_slack_x2(40);
@@ -122,7 +122,7 @@ TEST(ProtoJson, Explanation) {
             "\"slack_x2\":0,\"other_mate\":2},{\"other\":1,\"weight\":-1,\"slack\":20,"
             "\"slack_x2\":40,\"other_mate\":null}]}");
   // Unpaired: no mate and no pair weight on the wire, null in the JSON.
-  Explanation alone;
+  v1::Explanation alone;
   alone.set_seq(3);
   alone.set_vertex(7);
   EXPECT_EQ(json_line(explanation_json("x", alone)),
@@ -132,13 +132,13 @@ TEST(ProtoJson, Explanation) {
 }
 
 TEST(ProtoJson, Stats) {
-  Stats stats;
+  v1::Stats stats;
   stats.set_seq(100);
   stats.set_weight(55);
   stats.set_pairs(4);
   stats.set_vertices(9);
   stats.set_edges(14);
-  stats.mutable_config()->set_mode(MODE_MAX_CARDINALITY);
+  stats.mutable_config()->set_mode(v1::MODE_MAX_CARDINALITY);
   stats.mutable_config()->mutable_limits()->set_max_vertices(1000);
   stats.mutable_config()->mutable_limits()->set_max_edges(5000);
   stats.set_batches_accepted(98);
@@ -161,11 +161,11 @@ TEST(ProtoJson, Stats) {
 }
 
 TEST(ProtoJson, SnapshotTaken) {
-  SnapshotTaken snapshot;
-  SnapshotTaken::Entry& a = *snapshot.add_pools();
+  v1::SnapshotTaken snapshot;
+  v1::SnapshotTaken::Entry& a = *snapshot.add_pools();
   a.set_pool("a");
   a.set_seq(3);
-  SnapshotTaken::Entry& b = *snapshot.add_pools();
+  v1::SnapshotTaken::Entry& b = *snapshot.add_pools();
   b.set_pool("b");
   b.set_seq(0);
   snapshot.set_path("/data/snapshots/000012");
@@ -175,7 +175,7 @@ TEST(ProtoJson, SnapshotTaken) {
 }
 
 TEST(ProtoJson, Health) {
-  Health health;
+  v1::Health health;
   health.set_ok(false);
   health.set_status("journal \"disk\" full");
   health.set_uptime_s(3600);
@@ -187,8 +187,8 @@ TEST(ProtoJson, Health) {
 }
 
 TEST(ProtoJson, ErrorWithAndWithoutEventIndex) {
-  Error error;
-  error.set_code(Error::WEIGHT_OUT_OF_RANGE);
+  v1::Error error;
+  error.set_code(v1::Error::WEIGHT_OUT_OF_RANGE);
   error.set_message("weight 9 exceeds the pool's bound 8");
   EXPECT_EQ(json_line(error_json(error)),
             "{\"code\":\"WEIGHT_OUT_OF_RANGE\",\"message\":\"weight 9 exceeds the pool's bound "
@@ -200,19 +200,19 @@ TEST(ProtoJson, ErrorWithAndWithoutEventIndex) {
 }
 
 TEST(ProtoJson, UnknownEnumValuesAndBadUtf8StillPrint) {
-  EXPECT_EQ(error_code_name(Error::OUT_OF_ORDER), "OUT_OF_ORDER");
+  EXPECT_EQ(error_code_name(v1::Error::OUT_OF_ORDER), "OUT_OF_ORDER");
   EXPECT_EQ(error_code_name(99), "CODE_99");
-  EXPECT_EQ(mode_text(MODE_UNSPECIFIED), nullptr);
-  EXPECT_EQ(mode_text(static_cast<Mode>(42)), nullptr);
+  EXPECT_EQ(mode_text(v1::MODE_UNSPECIFIED), nullptr);
+  EXPECT_EQ(mode_text(static_cast<v1::Mode>(42)), nullptr);
 
-  Summary summary;  // mode unset: null
+  v1::Summary summary;  // mode unset: null
   EXPECT_EQ(json_line(summary_json("bad\xff", summary)),
             "{\"pool\":\"bad\xef\xbf\xbd\",\"seq\":0,\"weight\":0,\"pairs\":0,\"vertices\":0,"
             "\"edges\":0,\"mode\":null,\"no_perfect_matching\":false}");
 }
 
 TEST(ProtoJson, QueryReplyPicksItsKind) {
-  QueryReply reply;
+  v1::QueryReply reply;
   reply.set_pool("q");
   EXPECT_TRUE(query_reply_json(reply).is_null());
   reply.mutable_summary()->set_seq(2);
@@ -220,7 +220,7 @@ TEST(ProtoJson, QueryReplyPicksItsKind) {
   EXPECT_EQ(query_reply_json(reply)["seq"], 2);
   reply.mutable_health()->set_ok(true);
   EXPECT_EQ(query_reply_json(reply)["ok"], true);
-  reply.mutable_error()->set_code(Error::UNKNOWN_VERTEX);
+  reply.mutable_error()->set_code(v1::Error::UNKNOWN_VERTEX);
   EXPECT_EQ(query_reply_json(reply)["code"], "UNKNOWN_VERTEX");
 }
 

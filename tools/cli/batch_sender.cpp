@@ -7,12 +7,12 @@
 namespace yoke::cli {
 namespace {
 
-using namespace yoke::v1;
+namespace v1 = yoke::v1;
 using Outcome = SendReport::Outcome;
 
 // The daemon's ways of saying "nothing was applied, send it again".
 bool asks_for_resend(int code) {
-  return code == Error::OUT_OF_ORDER || code == Error::UNAVAILABLE;
+  return code == v1::Error::OUT_OF_ORDER || code == v1::Error::UNAVAILABLE;
 }
 
 class BatchSender {
@@ -60,7 +60,7 @@ class BatchSender {
   // Sends every batch from the oldest unacknowledged one again, in order, keeping their numbers
   // (each must follow its predecessor: after_batch). `cause` is the refusal that asked for it,
   // or null for silence. Gives up when a batch has used its retries.
-  void resend_unacknowledged(const Error* cause, std::size_t cause_index) {
+  void resend_unacknowledged(const v1::Error* cause, std::size_t cause_index) {
     const std::size_t stop = std::min(next_, end_);
     for (std::size_t i = oldest_; i < stop; ++i) {
       if (!slots_[i].done && slots_[i].resends >= settings_.retries) {
@@ -85,21 +85,21 @@ class BatchSender {
     if (frames.size() != 1) {
       return bad_reply("a reply of " + std::to_string(frames.size()) + " frames (expected 1)");
     }
-    IngestReply reply;
+    v1::IngestReply reply;
     if (!reply.ParseFromString(frames[0])) {
       return bad_reply("a reply that is not a yoke.v1.IngestReply");
     }
-    if (reply.version() != PROTOCOL_VERSION_1) {
+    if (reply.version() != v1::PROTOCOL_VERSION_1) {
       return bad_reply("a reply in protocol version " + std::to_string(reply.version()) +
                        " (this yoke speaks version 1)");
     }
     if (!reply.has_ack()) return bad_reply("a reply of a kind this yoke does not know");
-    const Ack& ack = reply.ack();
+    const v1::Ack& ack = reply.ack();
     if (ack.client_id().empty() && ack.client_batch() == 0 && ack.has_rejected()) {
       // Not about any one batch: a request the daemon could not read, or one it refused unread
       // (UNAVAILABLE while shutting down). The latter is left to the timeout, which resends
       // whatever is still unacknowledged.
-      const Error error = first_error(ack.rejected());
+      const v1::Error error = first_error(ack.rejected());
       report_.error = error;
       if (!asks_for_resend(error.code())) fail(Outcome::unreadable);
       return;
@@ -119,7 +119,7 @@ class BatchSender {
     bad_reply("an acknowledgement that neither accepts nor rejects its batch");
   }
 
-  void accept(Slot& slot, const Accepted& accepted) {
+  void accept(Slot& slot, const v1::Accepted& accepted) {
     slot.done = true;
     const std::uint64_t seq = accepted.seq();
     report_.first_seq = report_.accepted == 0 ? seq : std::min(report_.first_seq, seq);
@@ -128,7 +128,7 @@ class BatchSender {
     if (accepted.duplicate()) ++report_.duplicates;
   }
 
-  void reject(std::size_t index, const Error& error) {
+  void reject(std::size_t index, const v1::Error& error) {
     // Batches after a refused one are refused for its sake (OUT_OF_ORDER): not news.
     if (index >= end_) return;
     if (asks_for_resend(error.code())) {
@@ -144,10 +144,10 @@ class BatchSender {
     report_.error = error;
   }
 
-  static Error first_error(const Rejected& rejected) {
+  static v1::Error first_error(const v1::Rejected& rejected) {
     if (rejected.errors_size() > 0) return rejected.errors(0);
-    Error error;
-    error.set_code(Error::INTERNAL);
+    v1::Error error;
+    error.set_code(v1::Error::INTERNAL);
     error.set_message("the daemon rejected the batch without saying why");
     return error;
   }

@@ -18,6 +18,8 @@
 namespace yoke::cli {
 
 inline constexpr std::string_view kCertificateFormat = "yoke-certificate/2";
+// Still read: the same document with each doubled dual under "dual2" instead of "dual_x2".
+inline constexpr std::string_view kCertificateFormatV1 = "yoke-certificate/1";
 
 // Writes `cert` with external_ids[v] in place of each dense vertex v, one vertex or blossom
 // per line. Preconditions: cert.mate and cert.vertex_dual2 have external_ids.size() entries.

@@ -146,6 +146,9 @@ class CertificateSax {
   void finish_vertex();
   void finish_blossom();
   void finish_child();
+  // A doubled dual's key: "dual_x2", or "dual2" in format 1.
+  bool is_dual_key() const { return key_ == "dual_x2" || key_ == "dual2"; }
+  void note_dual_key() { (key_ == "dual2" ? saw_dual2_key_ : saw_dual_x2_key_) = true; }
 
   const IdMap& graph_ids_;
   Certificate cert_;
@@ -155,6 +158,9 @@ class CertificateSax {
   std::string key_;
 
   bool has_format_ = false, has_mode_ = false, has_offset_ = false;
+  bool format_v1_ = false;  // "yoke-certificate/1": duals under "dual2"
+  // The dual keys met, checked against the format at the end (the format may come last).
+  bool saw_dual2_key_ = false, saw_dual_x2_key_ = false;
   bool has_vertices_ = false, has_blossoms_ = false;
   std::size_t vertex_index_ = 0;  // entries seen so far in "vertices"
   std::size_t child_index_ = 0;   // entries seen so far in the current "children"
@@ -279,8 +285,8 @@ bool CertificateSax::start(bool is_object) {
   // A container under a key of a vertex, blossom or child: scalars are expected for the
   // known keys, anything goes under unknown ones.
   const bool known =
-      (scope() == Scope::vertex && (key_ == "id" || key_ == "dual_x2" || key_ == "mate")) ||
-      (scope() == Scope::blossom && (key_ == "dual_x2" || key_ == "base")) ||
+      (scope() == Scope::vertex && (key_ == "id" || is_dual_key() || key_ == "mate")) ||
+      (scope() == Scope::blossom && (is_dual_key() || key_ == "base")) ||
       (scope() == Scope::child && (key_ == "vertex" || key_ == "blossom"));
   if (known) fail(where(key_.c_str()), "expected a scalar value");
   skip_depth_ = 1;
@@ -305,11 +311,12 @@ bool CertificateSax::end() {
 void CertificateSax::top_field(const Scalar& value) {
   if (key_ == "format") {
     has_format_ = true;
-    if (value.kind != Scalar::Kind::text || *value.text != kCertificateFormat) {
-      const std::string found =
-          value.kind == Scalar::Kind::text ? json(*value.text).dump() : "a non-string";
-      fail(where("format"),
-           "expected \"" + std::string(kCertificateFormat) + "\", found " + found);
+    const bool text = value.kind == Scalar::Kind::text;
+    format_v1_ = text && *value.text == kCertificateFormatV1;
+    if (!format_v1_ && (!text || *value.text != kCertificateFormat)) {
+      const std::string found = text ? json(*value.text).dump() : "a non-string";
+      fail(where("format"), "expected \"" + std::string(kCertificateFormat) + "\" (or \"" +
+                                std::string(kCertificateFormatV1) + "\"), found " + found);
     }
   } else if (key_ == "mode") {
     has_mode_ = true;
@@ -334,9 +341,10 @@ void CertificateSax::vertex_field(const Scalar& value) {
                             " is listed twice");
     }
     listed_[vertex_.vertex] = true;
-  } else if (key_ == "dual_x2") {
+  } else if (is_dual_key()) {
+    note_dual_key();
     vertex_.has_dual2 = true;
-    vertex_.dual2 = value.as_int64(where("dual_x2"));
+    vertex_.dual2 = value.as_int64(where(key_.c_str()));
   } else if (key_ == "mate") {
     vertex_.has_mate = true;
     vertex_.mate =
@@ -354,9 +362,10 @@ void CertificateSax::finish_vertex() {
 
 void CertificateSax::blossom_field(const Scalar& value) {
   CertificateBlossom& blossom = cert_.blossoms.back();
-  if (key_ == "dual_x2") {
+  if (is_dual_key()) {
+    note_dual_key();
     blossom_.has_dual2 = true;
-    blossom.dual2 = value.as_int64(where("dual_x2"));
+    blossom.dual2 = value.as_int64(where(key_.c_str()));
   } else if (key_ == "base") {
     blossom_.has_base = true;
     blossom.base = graph_vertex(value, where("base"));
@@ -392,6 +401,11 @@ void CertificateSax::finish_child() {
 
 Certificate CertificateSax::finish() {
   if (!has_format_) fail(where("format"), "missing");
+  if (format_v1_ ? saw_dual_x2_key_ : saw_dual2_key_) {
+    fail(where("format"), format_v1_
+                              ? "format 1 names the doubled duals \"dual2\", not \"dual_x2\""
+                              : "format 2 names the doubled duals \"dual_x2\", not \"dual2\"");
+  }
   if (!has_mode_) fail(where("mode"), "missing");
   if (!has_offset_) fail(where("weight_offset"), "missing");
   if (!has_vertices_) fail(where("vertices"), "missing");

@@ -3,16 +3,18 @@
 namespace yoke::cli {
 namespace {
 
-using namespace yoke::v1;
+namespace v1 = yoke::v1;
 
 // Pairs as [a, b, weight]: compact, and the same form in diffs and whole matchings.
-Json pairs_json(const google::protobuf::RepeatedPtrField<Pair>& pairs) {
+Json pairs_json(const google::protobuf::RepeatedPtrField<v1::Pair>& pairs) {
   Json out = Json::array();
-  for (const Pair& pair : pairs) out.push_back(Json::array({pair.a(), pair.b(), pair.weight()}));
+  for (const v1::Pair& pair : pairs) {
+    out.push_back(Json::array({pair.a(), pair.b(), pair.weight()}));
+  }
   return out;
 }
 
-Json mode_json(Mode mode) {
+Json mode_json(v1::Mode mode) {
   const char* text = mode_text(mode);
   return text == nullptr ? Json(nullptr) : Json(text);
 }
@@ -23,7 +25,7 @@ Json optional_key(bool present, const Value& value) {
   return present ? Json(value) : Json(nullptr);
 }
 
-Json repair_stats_json(const RepairStats& stats) {
+Json repair_stats_json(const v1::RepairStats& stats) {
   return Json{{"events", stats.events()},
               {"roots", stats.roots()},
               {"searches", stats.searches()},
@@ -33,7 +35,7 @@ Json repair_stats_json(const RepairStats& stats) {
               {"initial_solve", stats.initial_solve()}};
 }
 
-Json timings_json(const Timings& timings) {
+Json timings_json(const v1::Timings& timings) {
   return Json{{"repair_us", timings.repair_us()},
               {"commit_to_publish_us", timings.commit_to_publish_us()},
               {"publish_unix_us", timings.publish_unix_us()}};
@@ -41,21 +43,21 @@ Json timings_json(const Timings& timings) {
 
 }  // namespace
 
-const char* mode_text(Mode mode) {
+const char* mode_text(v1::Mode mode) {
   switch (mode) {
-    case MODE_MAX_WEIGHT: return "max-weight";
-    case MODE_MAX_CARDINALITY: return "max-cardinality";
-    case MODE_PERFECT: return "perfect";
+    case v1::MODE_MAX_WEIGHT: return "max-weight";
+    case v1::MODE_MAX_CARDINALITY: return "max-cardinality";
+    case v1::MODE_PERFECT: return "perfect";
     default: return nullptr;
   }
 }
 
 std::string error_code_name(int code) {
-  if (Error_Code_IsValid(code)) return Error_Code_Name(static_cast<Error_Code>(code));
+  if (v1::Error_Code_IsValid(code)) return v1::Error_Code_Name(static_cast<v1::Error_Code>(code));
   return "CODE_" + std::to_string(code);
 }
 
-Json diff_json(const Diff& diff) {
+Json diff_json(const v1::Diff& diff) {
   Json out{{"pool", diff.pool()},
            {"seq", diff.seq()},
            {"prev_seq", diff.prev_seq()},
@@ -70,7 +72,7 @@ Json diff_json(const Diff& diff) {
   return out;
 }
 
-Json summary_json(const std::string& pool, const Summary& summary) {
+Json summary_json(const std::string& pool, const v1::Summary& summary) {
   return Json{{"pool", pool},
               {"seq", summary.seq()},
               {"weight", summary.weight()},
@@ -81,7 +83,7 @@ Json summary_json(const std::string& pool, const Summary& summary) {
               {"no_perfect_matching", summary.no_perfect_matching()}};
 }
 
-Json mate_json(const std::string& pool, const Mate& mate) {
+Json mate_json(const std::string& pool, const v1::Mate& mate) {
   return Json{{"pool", pool},
               {"seq", mate.seq()},
               {"vertex", mate.vertex()},
@@ -89,7 +91,7 @@ Json mate_json(const std::string& pool, const Mate& mate) {
               {"pair_weight", optional_key(mate.has_pair_weight(), mate.pair_weight())}};
 }
 
-Json matching_json(const std::string& pool, const Matching& matching) {
+Json matching_json(const std::string& pool, const v1::Matching& matching) {
   return Json{{"pool", pool},
               {"seq", matching.seq()},
               {"weight", matching.weight()},
@@ -101,8 +103,8 @@ Json matching_json(const std::string& pool, const Matching& matching) {
 
 // explanation_json is in explanation_text.cpp, beside the writer it shares.
 
-Json stats_json(const std::string& pool, const Stats& stats) {
-  const PoolLimits& limits = stats.config().limits();
+Json stats_json(const std::string& pool, const v1::Stats& stats) {
+  const v1::PoolLimits& limits = stats.config().limits();
   return Json{{"pool", pool},
               {"seq", stats.seq()},
               {"weight", stats.weight()},
@@ -125,15 +127,15 @@ Json stats_json(const std::string& pool, const Stats& stats) {
               {"last_snapshot_seq", stats.last_snapshot_seq()}};
 }
 
-Json snapshot_taken_json(const SnapshotTaken& snapshot) {
+Json snapshot_taken_json(const v1::SnapshotTaken& snapshot) {
   Json pools = Json::array();
-  for (const SnapshotTaken::Entry& entry : snapshot.pools()) {
+  for (const v1::SnapshotTaken::Entry& entry : snapshot.pools()) {
     pools.push_back(Json{{"pool", entry.pool()}, {"seq", entry.seq()}});
   }
   return Json{{"pools", std::move(pools)}, {"path", snapshot.path()}};
 }
 
-Json health_json(const Health& health) {
+Json health_json(const v1::Health& health) {
   return Json{{"ok", health.ok()},
               {"status", health.status()},
               {"uptime_s", health.uptime_s()},
@@ -141,24 +143,24 @@ Json health_json(const Health& health) {
               {"daemon_version", health.daemon_version()}};
 }
 
-Json error_json(const Error& error) {
+Json error_json(const v1::Error& error) {
   Json out{{"code", error_code_name(error.code())}, {"message", error.message()}};
   if (error.has_event_index()) out["event_index"] = error.event_index();
   return out;
 }
 
-Json query_reply_json(const QueryReply& reply) {
+Json query_reply_json(const v1::QueryReply& reply) {
   const std::string& pool = reply.pool();
   switch (reply.kind_case()) {
-    case QueryReply::kError: return error_json(reply.error());
-    case QueryReply::kSummary: return summary_json(pool, reply.summary());
-    case QueryReply::kMate: return mate_json(pool, reply.mate());
-    case QueryReply::kMatching: return matching_json(pool, reply.matching());
-    case QueryReply::kExplain: return explanation_json(pool, reply.explain());
-    case QueryReply::kStats: return stats_json(pool, reply.stats());
-    case QueryReply::kSnapshot: return snapshot_taken_json(reply.snapshot());
-    case QueryReply::kHealth: return health_json(reply.health());
-    case QueryReply::KIND_NOT_SET: break;
+    case v1::QueryReply::kError: return error_json(reply.error());
+    case v1::QueryReply::kSummary: return summary_json(pool, reply.summary());
+    case v1::QueryReply::kMate: return mate_json(pool, reply.mate());
+    case v1::QueryReply::kMatching: return matching_json(pool, reply.matching());
+    case v1::QueryReply::kExplain: return explanation_json(pool, reply.explain());
+    case v1::QueryReply::kStats: return stats_json(pool, reply.stats());
+    case v1::QueryReply::kSnapshot: return snapshot_taken_json(reply.snapshot());
+    case v1::QueryReply::kHealth: return health_json(reply.health());
+    case v1::QueryReply::KIND_NOT_SET: break;
   }
   return Json(nullptr);
 }
