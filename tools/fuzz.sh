@@ -9,16 +9,22 @@
 # (tests/fuzz/regressions/TARGET/*.bin) are replayed first.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+source tools/phase.sh
 
 seconds="${1:-60}"
 build_dir=build-fuzz
 
-tools/setup.sh
-# -O2 as the other builds; line tables are enough for the sanitizers' stack traces.
-CC=clang CXX=clang++ cmake -S . -B "$build_dir" -G Ninja \
-  -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_FLAGS_RELWITHDEBINFO="-O2 -gline-tables-only" \
-  -DYOKE_FUZZ=ON -DYOKE_BUILD_TESTS=OFF -DYOKE_BUILD_BENCH=OFF
-cmake --build "$build_dir" -j 2 --target ingest_fuzz snapshot_fuzz
+build() {
+  # -O2 for speed of the fuzzed code; line tables are enough for the sanitizers' stack traces.
+  # snapshot_seeds is built only to keep it compiling (it is run by hand).
+  CC=clang CXX=clang++ cmake -S . -B "$build_dir" -G Ninja \
+    -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_FLAGS_RELWITHDEBINFO="-O2 -gline-tables-only" \
+    -DYOKE_FUZZ=ON -DYOKE_BUILD_TESTS=OFF -DYOKE_BUILD_BENCH=OFF -DCMAKE_UNITY_BUILD=ON
+  cmake --build "$build_dir" -j 2 --target ingest_fuzz snapshot_fuzz snapshot_seeds
+}
+
+phase "setup" tools/setup.sh
+phase "fuzz build" build
 
 artifacts="$build_dir/artifacts"
 mkdir -p "$artifacts"
@@ -48,5 +54,5 @@ fuzz() {
 }
 
 snapshot_seconds=$((seconds / 3))
-fuzz ingest $((seconds - snapshot_seconds))
-fuzz snapshot "$snapshot_seconds"
+phase "fuzz run" fuzz ingest $((seconds - snapshot_seconds))
+phase "fuzz run" fuzz snapshot "$snapshot_seconds"

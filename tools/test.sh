@@ -2,20 +2,32 @@
 # Sets up the machine, builds yoke (Release) and runs every test suite under CTest.
 #   tools/test.sh            # build in build/ and test
 #   tools/test.sh --sanitize # the same with AddressSanitizer + UBSan, in build-sanitize/
+# Both build each target as a few large units (CMAKE_UNITY_BUILD: about 3x faster from clean);
+# a build configured by hand compiles file by file, which also catches a missing #include.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+source tools/phase.sh
 
 build_dir=build
-cmake_args=(-G Ninja -DCMAKE_BUILD_TYPE=Release)
+label=release
+cmake_args=(-G Ninja -DCMAKE_BUILD_TYPE=Release -DCMAKE_UNITY_BUILD=ON)
 if [[ "${1:-}" == "--sanitize" ]]; then
   build_dir=build-sanitize
-  cmake_args=(-G Ninja -DCMAKE_BUILD_TYPE=RelWithDebInfo -DYOKE_SANITIZE=ON -DYOKE_BUILD_BENCH=OFF)
+  label=sanitize
+  # -O1: the sanitizers' own checks dominate the run time; line tables (-g1) are enough for
+  # their stack traces. No benchmarks: they measure nothing under a sanitizer.
+  cmake_args=(-G Ninja -DCMAKE_BUILD_TYPE=RelWithDebInfo "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=-O1 -g1"
+              -DYOKE_SANITIZE=ON -DYOKE_BUILD_BENCH=OFF -DCMAKE_UNITY_BUILD=ON)
   export ASAN_OPTIONS=detect_leaks=1:abort_on_error=1
   export UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
   export YOKE_TEST_SCALE=small   # sanitizers are ~5x slower: oracle sweeps run fewer seeds
 fi
 
-tools/setup.sh
-cmake -S . -B "$build_dir" "${cmake_args[@]}"
-cmake --build "$build_dir" -j 2
-ctest --test-dir "$build_dir" --output-on-failure -j 2
+phase "setup" tools/setup.sh
+build() {
+  cmake -S . -B "$build_dir" "${cmake_args[@]}"
+  cmake --build "$build_dir" -j 2
+}
+
+phase "${label} build" build
+phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 2

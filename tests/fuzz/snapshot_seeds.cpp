@@ -57,7 +57,7 @@ int main(int argc, char** argv) {
     yoke::v1::SnapshotRecord& record = records.emplace_back();
     record.set_pool(name);
     record.set_seq(2);
-    *record.mutable_config() = daemon::to_wire(pool.mode(), pool.limits());
+    *record.mutable_config() = daemon::pool_config(pool);
     record.set_weight(pool.weight());
     record.set_pairs(pool.pairs());
     record.set_vertices(pool.vertex_count());
