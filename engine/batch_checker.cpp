@@ -65,6 +65,16 @@ class BatchChecker::Overlay {
     Key key;
     std::optional<Value> before;
   };
+  // The undo entry of a write at `it`: the overlay's value before, or nothing if the write
+  // `inserted` the key. Spelled out because for an optional Value (a hold's partner) the
+  // shorter `inserted ? std::nullopt : std::optional(it->second)` has the Value's own type, so
+  // "no entry before" became "an entry saying: not held", and undoing a refused release hid
+  // the pool's committed hold from the batches after it.
+  template <typename Key, typename Value, typename Iterator>
+  static Undo<Key, Value> undo_entry(const Key& key, bool inserted, Iterator it) {
+    if (inserted) return {key, std::nullopt};
+    return {key, std::optional<Value>(std::in_place, it->second)};
+  }
   struct Mark {
     std::ptrdiff_t alive_change;
     std::size_t edges_added;
@@ -162,7 +172,7 @@ class BatchChecker::Overlay {
   }
   void write_partner(VertexKey key, std::optional<VertexKey> partner) {
     const auto [it, inserted] = partner_.try_emplace(key, partner);
-    partner_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    partner_undo_.push_back(undo_entry<VertexKey, std::optional<VertexKey>>(key, inserted, it));
     it->second = partner;
   }
 
@@ -228,12 +238,12 @@ class BatchChecker::Overlay {
 
   void write_vertex(VertexKey key, VertexState state) {
     const auto [it, inserted] = vertex_.try_emplace(key, state);
-    vertex_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    vertex_undo_.push_back(undo_entry<VertexKey, VertexState>(key, inserted, it));
     it->second = state;
   }
   void write_edge(const EdgeKey& key, bool present) {
     const auto [it, inserted] = edge_override_.try_emplace(key, present);
-    edge_undo_.push_back({key, inserted ? std::nullopt : std::optional(it->second)});
+    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, it));
     it->second = present;
   }
 

@@ -43,6 +43,23 @@ TEST(BatchChecker, RefusedBatchLeavesNoTrace) {
   EXPECT_EQ(checker.accepted_events(), 3u);
 }
 
+// Found by ingest_fuzz (tests/fuzz/regressions/ingest): a refused batch that released a pair
+// the pool holds must leave it held for the batches after it. Reference: events.proto (a hold
+// lasts until its release, the unset of its edge or a departure).
+TEST(BatchChecker, RefusedReleaseLeavesThePoolsHold) {
+  Pool pool(Mode::max_weight);
+  pool.commit(std::vector{set(1, 2, 6), set(3, 4, 5), set(4, 5, 6), hold(3, 4)});
+  BatchChecker checker(pool);
+  EXPECT_FALSE(checker.accept(std::vector{set(3, 4, 1)}));
+  const auto refused = checker.accept(std::vector{release(4, 3), hold(5, 3)});
+  ASSERT_TRUE(refused);
+  EXPECT_EQ(refused->code, EventErrorCode::unknown_edge);
+  const auto held = checker.accept(std::vector{hold(4, 5)});
+  ASSERT_TRUE(held);
+  EXPECT_EQ(held->code, EventErrorCode::already_held);
+  EXPECT_FALSE(checker.accept(std::vector{release(4, 3)}));
+}
+
 // Differential: the checker's verdict on each batch equals Pool::check on a pool that has
 // committed exactly the batches accepted before it (the pool's own check is the reference).
 TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
@@ -59,7 +76,7 @@ TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
     base.commit(start);
     reference.commit(start);
     BatchChecker checker(base);
-    std::uniform_int_distribution<int> kind(0, 3);
+    std::uniform_int_distribution<int> kind(0, 5);
     std::uniform_int_distribution<VertexKey> key(0, 8);
     std::uniform_int_distribution<Weight> weight(-60, 60);
     for (int batch_index = 0; batch_index < 12; ++batch_index) {
@@ -69,7 +86,9 @@ TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
           case 0: event = add(key(random)); break;
           case 1: event = set(key(random), key(random), weight(random)); break;
           case 2: event = unset(key(random), key(random)); break;
-          default: event = remove(key(random)); break;
+          case 3: event = remove(key(random)); break;
+          case 4: event = hold(key(random), key(random)); break;
+          default: event = release(key(random), key(random)); break;
         }
       }
       const std::optional<EventError> expected = reference.check(batch);

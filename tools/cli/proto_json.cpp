@@ -19,7 +19,7 @@ Json mode_json(v1::Mode mode) {
   return text == nullptr ? Json(nullptr) : Json(text);
 }
 
-// A key that may be absent (an exposed vertex has no mate): the key, or null.
+// A key that may be absent (an unpaired vertex has no mate): the key, or null.
 template <typename Value>
 Json optional_key(bool present, const Value& value) {
   return present ? Json(value) : Json(nullptr);

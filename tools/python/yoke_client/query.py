@@ -52,7 +52,7 @@ class Query(DealerConnection):
         return dicts.reply(self.ask("summary", pool))
 
     def mate(self, pool, v):
-        """{"pool","seq","vertex","mate" (None: exposed),"pair_weight" (None: exposed)};
+        """{"pool","seq","vertex","mate" (None: unpaired),"pair_weight" (None: unpaired)};
         UNKNOWN_VERTEX if v is not alive."""
         return dicts.reply(self.ask("mate", pool, vertex=v))
 
