@@ -36,7 +36,7 @@ while (($#)); do
 done
 
 tools/setup.sh
-cmake -S . -B "$build_dir" -G Ninja -DCMAKE_BUILD_TYPE=Release
+cmake -S . -B "$build_dir" -G Ninja -DCMAKE_BUILD_TYPE=Release -DCMAKE_UNITY_BUILD=ON  # as tools/test.sh
 cmake --build "$build_dir" -j 2 --target yoke yoked yoke_proto_python
 
 python=/usr/bin/python3  # Debian's, with python3-zmq and python3-protobuf
