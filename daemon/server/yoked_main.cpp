@@ -3,6 +3,7 @@
 // SIGINT (DESIGN.md sections 5 and 6).
 #include <exception>
 #include <iostream>
+#include <memory>
 
 #include <google/protobuf/stubs/logging.h>
 #include <spdlog/spdlog.h>
@@ -10,9 +11,11 @@
 #include "daemon/config/command_line.h"
 #include "daemon/config/config_error.h"
 #include "daemon/config/config_overrides.h"
+#include "daemon/journal/journal_commit_log.h"
 #include "daemon/logging/log_event.h"
 #include "daemon/logging/logger_setup.h"
 #include "daemon/service/recovery.h"
+#include "daemon/snapshots/snapshot_directory.h"
 #include "yoked_server.h"
 
 namespace {
@@ -49,14 +52,17 @@ void log_recovery(const RecoveryReport& report, const yoke::journal::Recovery& j
              {"commits", report.commits}});
 }
 
+// The storage backend: the local one, DATA_DIR/journal (segment files) and DATA_DIR/snapshots.
+// The service, recovery and the server see only the interfaces.
 int serve(const yoke::daemon::DaemonConfig& config) {
-  yoke::journal::Journal journal = yoke::journal::Journal::open(config.data_dir / "journal",
-                                                                config.journal);
-  SnapshotStore snapshots(config.data_dir / "snapshots", config.snapshots.keep);
+  const std::unique_ptr<yoke::journal::JournalCommitLog> journal =
+      yoke::journal::JournalCommitLog::open(config.data_dir / "journal", config.journal);
+  SnapshotDirectory snapshots(config.data_dir / "snapshots", config.snapshots.keep);
+  yoke::storage::CommitLog& log = *journal;
   RecoveryReport report;
-  ServiceState state = recover(config, journal, snapshots, report);
-  log_recovery(report, journal.recovery());
-  PoolService service(config, std::move(state), std::move(journal));
+  ServiceState state = recover(config, log, snapshots, report);
+  log_recovery(report, journal->recovery());
+  PoolService service(config, std::move(state), log);
   YokedServer server(config, service, snapshots);
   return server.run();
 }

@@ -36,7 +36,7 @@ std::int64_t hard_message_cap(std::uint64_t max_message_bytes) {
 }  // namespace
 
 YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
-                         SnapshotStore& snapshots)
+                         storage::SnapshotStore& snapshots)
     : config_(config),
       service_(service),
       snapshots_(snapshots),
@@ -259,22 +259,22 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   const Clock::time_point start = Clock::now();
   events_since_snapshot_ = 0;
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
-  const std::filesystem::path path = snapshots_.write(service_.next_journal_position(), records);
+  const std::string path = snapshots_.write(service_.next_journal_position(), records);
   last_snapshot_position_ = service_.next_journal_position();
   v1::SnapshotTaken taken;
-  taken.set_path(path.string());
+  taken.set_path(path);
   for (const v1::SnapshotRecord& record : records) {
     service_.progress_of(record.pool()).last_snapshot_seq = record.seq();
     v1::SnapshotTaken::Entry& entry = *taken.add_pools();
     entry.set_pool(record.pool());
     entry.set_seq(record.seq());
   }
-  // Journal records older than the oldest kept snapshot are no longer needed by any fallback.
+  // Log entries older than the oldest kept snapshot are no longer needed by any fallback.
   std::size_t dropped = 0;
-  if (const auto oldest = snapshots_.oldest_kept()) dropped = service_.journal().drop_before(*oldest);
+  if (const auto oldest = snapshots_.oldest_needed()) dropped = service_.log().drop_before(*oldest);
   metrics_->snapshot_written(Clock::now() - start);
   log_event(LogLevel::info, "snapshot_written",
-            {{"path", path.string()},
+            {{"path", path},
              {"pools", records.size()},
              {"journal_position", service_.next_journal_position()},
              {"segments_dropped", dropped},

@@ -1,7 +1,9 @@
 // yoked's transport and loop: one Boost.Asio io_context owns the ZeroMQ sockets (ingest
 // ROUTER, publish PUB, query ROUTER), the batching-window and snapshot timers, the signals and
 // the metrics HTTP endpoint. Everything runs on the one thread that calls run(); the
-// PoolService holds the state and never sees a socket.
+// PoolService holds the state and never sees a socket. Snapshots go to a snapshot store and
+// the commit log is trimmed below the oldest one kept, both through their interfaces
+// (daemon/storage/), whichever backend holds them.
 #pragma once
 
 #include <chrono>
@@ -19,7 +21,7 @@
 #include "daemon/config/daemon_config.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
-#include "daemon/snapshots/snapshot_store.h"
+#include "daemon/storage/snapshot_store.h"
 #include "zmq_socket_watcher.h"
 
 namespace yoke::daemon {
@@ -39,7 +41,8 @@ enum YokedExit : int {
 class YokedServer {
  public:
   // Binds every endpoint; throws zmq::error_t or std::system_error naming what failed.
-  YokedServer(const DaemonConfig& config, PoolService& service, SnapshotStore& snapshots);
+  YokedServer(const DaemonConfig& config, PoolService& service,
+              storage::SnapshotStore& snapshots);
   ~YokedServer();
   YokedServer(const YokedServer&) = delete;
   YokedServer& operator=(const YokedServer&) = delete;
@@ -64,7 +67,7 @@ class YokedServer {
 
   const DaemonConfig& config_;
   PoolService& service_;
-  SnapshotStore& snapshots_;
+  storage::SnapshotStore& snapshots_;
   boost::asio::io_context io_;
   zmq::context_t zmq_context_;
   zmq::socket_t ingest_;
@@ -81,7 +84,7 @@ class YokedServer {
 
   bool window_timer_armed_ = false;
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
-  std::uint64_t last_snapshot_position_ = 0;  // journal position of the newest snapshot file
+  std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot
   Ticket next_ticket_ = 1;
   std::map<Ticket, Envelope> waiting_;  // peers whose acknowledgement waits for the window
   std::chrono::steady_clock::time_point started_;

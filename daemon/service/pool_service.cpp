@@ -19,8 +19,8 @@ v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
 
 }  // namespace
 
-PoolService::PoolService(const DaemonConfig& config, ServiceState state, journal::Journal journal)
-    : limits_(config.limits), state_(std::move(state)), journal_(std::move(journal)) {}
+PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log)
+    : limits_(config.limits), state_(std::move(state)), log_(log) {}
 
 const PoolProgress* PoolService::progress(const std::string& pool) const {
   const auto it = state_.progress.find(pool);
@@ -117,12 +117,12 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
   replies.reserve(window_.size() + waiting_duplicates_.size());
-  const std::uint64_t window_start = state_.next_journal_position;
   const std::uint64_t wall_time = unix_time_us();
-  std::string bytes;
+  std::vector<v1::JournalRecord> records;
+  records.reserve(window_.size());
   for (PendingBatch& pending : window_) {
     DecodedBatch& batch = pending.batch;
-    v1::JournalRecord record;
+    v1::JournalRecord& record = records.emplace_back();
     record.set_pool(batch.pool);
     record.set_seq(pending.seq);
     record.set_client_id(batch.client_id);
@@ -133,13 +133,8 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
       const Pool& pool = *state_.registry.find(batch.pool);
       *record.mutable_created() = pool_config(pool);
     }
-    record.set_window_start(window_start);
-    bytes.clear();
-    record.SerializeToString(&bytes);
-    journal_.append(state_.next_journal_position, bytes);
-    ++state_.next_journal_position;
   }
-  if (!window_.empty()) journal_.sync();
+  log_.commit(std::move(records));  // durable on return: only then are the acks sent
 
   for (const PendingBatch& pending : window_) {
     replies.emplace_back(pending.ticket, accepted(ack_for(pending.batch), pending.seq, false));

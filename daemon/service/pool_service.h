@@ -1,10 +1,11 @@
 // The daemon's state machine, free of sockets and timers: pools, their progress, the retry
 // ledger, the journal and the batching window. The server (daemon/server) feeds it messages
-// and closes windows; tests drive it directly.
+// and closes windows; tests drive it directly. The commit log is an interface
+// (daemon/storage/commit_log.h): the service never knows which backend stores its windows.
 //
 // A batch goes through: decode (batch_decoder.h) -> pool name and retry rules -> the pool's
 // checks against its state plus the batches already in the window -> the window. Closing the
-// window is two steps: seal() journals every batch of the window and syncs once (group commit),
+// window is two steps: seal() commits every batch of the window to the log at once (group commit),
 // and returns their acknowledgements; apply() then repairs each pool once for all of its
 // batches and returns one diff per pool. Refusals are answered at once and change nothing.
 #pragma once
@@ -20,9 +21,9 @@
 
 #include "batch_decoder.h"
 #include "daemon/config/daemon_config.h"
-#include "daemon/journal/journal.h"
 #include "daemon/pools/pool_registry.h"
 #include "daemon/pools/retry_ledger.h"
+#include "daemon/storage/commit_log.h"
 #include "pool_progress.h"
 #include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/publish.pb.h"
@@ -37,12 +38,13 @@ struct ServiceState {
   PoolRegistry registry;
   std::map<std::string, PoolProgress> progress;
   RetryLedger ledger;
-  std::uint64_t next_journal_position = 1;
 };
 
 class PoolService {
  public:
-  PoolService(const DaemonConfig& config, ServiceState state, journal::Journal journal);
+  // `log` (its end position already past every stored window: recovery sees to it) must
+  // outlive the service; the service is its only writer.
+  PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log);
 
   // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
   // batch already durable; nothing when the reply comes with the window (see seal()).
@@ -51,9 +53,10 @@ class PoolService {
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
   std::size_t window_events() const { return window_events_; }
 
-  // Journals the window's batches (window_start = the first record's number), syncs once,
-  // and returns every waiting reply. Throws journal::Error when the journal cannot be written:
-  // nothing is acknowledged then, and the daemon must stop (recovery keeps what is on disk).
+  // Commits the window's batches to the log (one JournalRecord per batch, in the order they
+  // were accepted; the log stamps window_start) and returns every waiting reply once they are
+  // durable. Throws storage::LogError when the log cannot store them: nothing is acknowledged
+  // then, and the daemon must stop (recovery keeps what was stored).
   std::vector<std::pair<Ticket, v1::Ack>> seal();
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order.
@@ -64,8 +67,9 @@ class PoolService {
   const PoolProgress* progress(const std::string& pool) const;
   PoolProgress& progress_of(const std::string& pool) { return state_.progress[pool]; }
   const RetryLedger& ledger() const { return state_.ledger; }
-  journal::Journal& journal() { return journal_; }
-  std::uint64_t next_journal_position() const { return state_.next_journal_position; }
+  storage::CommitLog& log() { return log_; }
+  // The log position after every window committed: a snapshot now is named by it.
+  std::uint64_t next_journal_position() const { return log_.end_position(); }
 
   // Refusals by error code over the daemon's life: of batches and of messages not read as one
   // (refuses_unread_message tells them apart).
@@ -89,7 +93,7 @@ class PoolService {
 
   InputLimits limits_;
   ServiceState state_;
-  journal::Journal journal_;
+  storage::CommitLog& log_;
   std::vector<PendingBatch> window_;
   std::map<std::string, WindowPool> window_pools_;
   std::vector<std::pair<Ticket, v1::Ack>> waiting_duplicates_;  // retries of batches in the window

@@ -1,5 +1,7 @@
 #include "recovery.h"
 
+#include <algorithm>
+#include <memory>
 #include <utility>
 
 #include "commit_groups.h"
@@ -19,7 +21,7 @@ std::unique_ptr<Pool> pool_from_record(const v1::JournalRecord& first) {
 }
 
 // Loads one snapshot into `state`, or throws SnapshotDamage (state untouched then).
-void load_snapshot(const SnapshotContents& contents, ServiceState& state) {
+void load_snapshot(const storage::SnapshotContents& contents, ServiceState& state) {
   std::vector<std::pair<std::string, std::unique_ptr<Pool>>> pools;
   for (const v1::SnapshotRecord& record : contents.pools) {
     pools.emplace_back(record.pool(), restore_checked(record));
@@ -41,7 +43,7 @@ void load_snapshot(const SnapshotContents& contents, ServiceState& state) {
 void apply_commit_group(const CommitGroup& group, ServiceState& state) {
   PoolProgress& progress = state.progress[group.pool];
   const auto fail = [&group](const std::string& why) {
-    return RecoveryError("journal window " + std::to_string(group.window_start) + ", pool " +
+    return RecoveryError("journal window " + std::to_string(group.position) + ", pool " +
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
@@ -71,61 +73,44 @@ void apply_commit_group(const CommitGroup& group, ServiceState& state) {
   }
 }
 
-ServiceState recover(const DaemonConfig& config, journal::Journal& journal,
-                     const SnapshotStore& snapshots, RecoveryReport& report) {
-  ServiceState state{PoolRegistry(config.pool_defaults, config.pools), {}, {}, 1};
+ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,
+                     const storage::SnapshotStore& snapshots, RecoveryReport& report) {
+  ServiceState state{PoolRegistry(config.pool_defaults, config.pools), {}, {}};
 
-  std::uint64_t position = 0;  // journal records below this one are in the snapshot
-  for (const std::uint64_t candidate : snapshots.positions()) {
-    try {
-      if (journal.first_position() > candidate) {
-        throw SnapshotDamage("the journal no longer holds the records after it");
+  storage::Position position = 0;  // log groups below this one are in the snapshot
+  try {
+    for (const storage::Position candidate : snapshots.positions()) {
+      try {
+        if (log.first_position() > candidate) {
+          throw SnapshotDamage("the journal no longer holds the records after it");
+        }
+        load_snapshot(snapshots.read(candidate), state);
+        position = candidate;
+        report.snapshot_position = candidate;
+        break;
+      } catch (const SnapshotDamage& damage) {
+        report.skipped.push_back(damage.what());
+      } catch (const storage::LogError& error) {
+        report.skipped.push_back(error.what());
       }
-      const std::filesystem::path path = snapshots.path_for(candidate);
-      const SnapshotContents contents = read_snapshot_file(path);
-      // The journal is replayed from the name's position: a header that says otherwise (a
-      // file copied under another name) would skip or repeat records.
-      if (contents.journal_position != candidate) {
-        throw SnapshotDamage("snapshot " + path.string() + " holds journal position " +
-                             std::to_string(contents.journal_position) +
-                             ", not the one its name says");
-      }
-      load_snapshot(contents, state);
-      position = candidate;
-      report.snapshot_position = candidate;
-      break;
-    } catch (const SnapshotDamage& damage) {
-      report.skipped.push_back(damage.what());
-    } catch (const journal::Error& error) {
-      report.skipped.push_back(error.what());
     }
-  }
 
-  std::vector<CommitGroup> groups;
-  CommitGrouper grouper;
-  const auto apply_groups = [&] {
-    for (const CommitGroup& group : groups) {
-      apply_commit_group(group, state);
+    // From position 1 without a snapshot: a log whose first groups were dropped cannot stand
+    // for the whole history, and read_from says which are missing.
+    const std::unique_ptr<storage::GroupReader> reader =
+        log.read_from(std::max<storage::Position>(position, 1));
+    while (auto group = reader->next()) {
+      report.records += group->records.size();
+      apply_commit_group(to_commit_group(std::move(*group)), state);
       ++report.commits;
     }
-    groups.clear();
-  };
-  try {
-    journal::Reader reader = journal.read_after(position == 0 ? 0 : position - 1);
-    while (auto record = reader.next()) {
-      grouper.add(record->payload, groups);
-      ++report.records;
-      apply_groups();
-    }
-    grouper.finish(groups);
-    apply_groups();
   } catch (const InputError& error) {
     throw RecoveryError(error.what());
-  } catch (const journal::Error& error) {
+  } catch (const storage::LogError& error) {
     throw RecoveryError(error.what());
   }
 
-  state.next_journal_position = std::max<std::uint64_t>({journal.next_position(), position, 1});
+  log.continue_from(std::max<storage::Position>(position, 1));
   report.pools = state.registry.size();
   return state;
 }

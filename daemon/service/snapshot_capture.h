@@ -7,12 +7,14 @@
 #include <string>
 #include <vector>
 
-#include "daemon/snapshots/snapshot_file.h"
+#include "daemon/storage/storage_error.h"
 #include "engine/pool.h"
 #include "pool_progress.h"
 #include "pool_service.h"
 
 namespace yoke::daemon {
+
+using SnapshotDamage = storage::SnapshotDamage;
 
 // The engine_state encoding this daemon writes and reads (Pool::save).
 inline constexpr std::uint32_t kEngineStateFormat = 1;

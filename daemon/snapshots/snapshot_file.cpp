@@ -99,7 +99,7 @@ SnapshotContents read_snapshot_file(const std::filesystem::path& path) {
   if (take(kMagic.size()) != kMagic) throw damaged("it does not start with a snapshot header");
   const auto version = number(std::uint32_t{});
   SnapshotContents contents;
-  contents.journal_position = number(std::uint64_t{});
+  contents.position = number(std::uint64_t{});
   const auto pools = number(std::uint32_t{});
   if (number(std::uint32_t{}) != journal::crc32c(std::string_view(bytes).substr(0, kHeaderBytes))) {
     throw damaged("the header checksum does not match");

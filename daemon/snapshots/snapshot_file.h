@@ -4,24 +4,18 @@
 
 #include <cstdint>
 #include <filesystem>
-#include <stdexcept>
-#include <string>
 #include <vector>
 
+#include "daemon/storage/snapshot_store.h"
+#include "daemon/storage/storage_error.h"
 #include "yoke/v1/records.pb.h"
 
 namespace yoke::daemon {
 
 // A snapshot file that cannot be trusted: short, a wrong checksum, a bad magic or record.
-class SnapshotDamage : public std::runtime_error {
- public:
-  using std::runtime_error::runtime_error;
-};
-
-struct SnapshotContents {
-  std::uint64_t journal_position = 0;
-  std::vector<v1::SnapshotRecord> pools;
-};
+using SnapshotDamage = storage::SnapshotDamage;
+// A snapshot file's journal position and pools.
+using SnapshotContents = storage::SnapshotContents;
 
 // Writes `path` atomically (a temporary file, fsync, rename, fsync of the directory). Throws
 // journal::Error (naming the file and the system call) when a write fails.

@@ -4,6 +4,7 @@
 // Sources of the expected values: the protocol's comments (codes, seq rules, retry rules);
 // common knowledge for the hand-computable matchings (named at each); the certificate checker
 // and the engine's static solve for every pool state (pool_certified).
+#include <filesystem>
 #include <map>
 #include <random>
 #include <set>
@@ -51,9 +52,10 @@ DaemonConfig tiny_config() {
   return config;
 }
 
-std::vector<v1::JournalRecord> journal_records(PoolService& service) {
+// The records in the journal's files, in their order there.
+std::vector<v1::JournalRecord> journal_records(const std::filesystem::path& journal_dir) {
   std::vector<v1::JournalRecord> records;
-  journal::Reader reader = service.journal().read_after(0);
+  journal::Reader reader = journal::Reader::from_start(journal_dir);
   while (auto record = reader.next()) {
     v1::JournalRecord& parsed = records.emplace_back();
     EXPECT_TRUE(parsed.ParseFromArray(record->payload.data(),
@@ -234,7 +236,7 @@ TEST_F(PoolServiceTest, RefusedBatchInTheMiddleOfAWindowLeavesTheOthers) {
   ASSERT_EQ(acks.size(), 2u);
   EXPECT_EQ(accepted_seq(acks.at(a)), 1u);
   EXPECT_EQ(accepted_seq(acks.at(c)), 2u);
-  EXPECT_EQ(journal_records(service()).size(), 2u);
+  EXPECT_EQ(journal_records(harness_.journal_dir()).size(), 2u);
   // Common knowledge: path 10-11-20 with weights 3 and 5 takes {11,20}.
   EXPECT_EQ(view_of(service(), "default").matching, (std::vector<MatchedPair>{{11, 20, 5}}));
   EXPECT_EQ(service().progress("default")->batches_rejected, 1u);
@@ -257,7 +259,7 @@ TEST_F(PoolServiceTest, DuplicateWithinTheWindowIsAnsweredBySeal) {
   EXPECT_EQ(acks.at(retry).client_id(), "dock-9");
   EXPECT_EQ(acks.at(retry).client_batch(), 4u);
   EXPECT_EQ(acks.at(retry).pool(), "default");
-  EXPECT_EQ(journal_records(service()).size(), 1u);
+  EXPECT_EQ(journal_records(harness_.journal_dir()).size(), 1u);
   EXPECT_EQ(service().progress("default")->batches_duplicate, 1u);
   EXPECT_EQ(service().progress("default")->batches_accepted, 1u);
 }
@@ -289,7 +291,7 @@ TEST_F(PoolServiceTest, DuplicateAndOlderBatchesAfterTheWindowAreAnsweredAtOnce)
   EXPECT_EQ(acks.size(), 1u);
   EXPECT_EQ(view_of(service(), "default"), before);
   EXPECT_EQ(service().progress("default")->batches_duplicate, 4u);
-  EXPECT_EQ(journal_records(service()).size(), 4u);
+  EXPECT_EQ(journal_records(harness_.journal_dir()).size(), 4u);
 }
 
 TEST_F(PoolServiceTest, OlderBatchWithinTheWindowWaitsForSeal) {
@@ -311,7 +313,7 @@ TEST_F(PoolServiceTest, EmptyClientIdIsNeverDeduplicated) {
   acks = by_ticket(close_window(service()));
   EXPECT_EQ(accepted_seq(acks.at(third)), 3u);
   EXPECT_EQ(service().ledger().size(), 0u);
-  EXPECT_EQ(journal_records(service()).size(), 3u);
+  EXPECT_EQ(journal_records(harness_.journal_dir()).size(), 3u);
 }
 
 TEST_F(PoolServiceTest, AfterBatchMustNameTheLastAppliedBatch) {
@@ -431,7 +433,7 @@ TEST_F(PoolServiceTest, JournalHoldsOneRecordPerAcceptedBatch) {
   close_window(service());
   EXPECT_EQ(service().next_journal_position(), 6u);
 
-  const std::vector<v1::JournalRecord> records = journal_records(service());
+  const std::vector<v1::JournalRecord> records = journal_records(harness_.journal_dir());
   ASSERT_EQ(records.size(), 5u);
   const struct {
     const char* pool;

@@ -16,11 +16,13 @@
 
 #include <gtest/gtest.h>
 
+#include "daemon/journal/journal_commit_log.h"
+#include "daemon/journal/window_regrouper.h"
 #include "daemon/service/commit_groups.h"
 #include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
+#include "daemon/snapshots/snapshot_directory.h"
 #include "daemon/snapshots/snapshot_file.h"
-#include "daemon/snapshots/snapshot_store.h"
 #include "service_test_util.h"
 #include "yoke/v1/records.pb.h"
 
@@ -252,7 +254,7 @@ void damage_file(const std::filesystem::path& file, Damage damage) {
       // Checksums intact, contents wrong: only the checked restore can tell.
       SnapshotContents contents = read_snapshot_file(file);
       contents.pools.at(0).set_weight(contents.pools.at(0).weight() + 1);
-      write_snapshot_file(file, contents.journal_position, contents.pools);
+      write_snapshot_file(file, contents.position, contents.pools);
       break;
     }
   }
@@ -272,7 +274,8 @@ TEST(Recovery, DamagedNewestSnapshotFallsBackToTheOlderOne) {
     ASSERT_LT(older, newer);
     const ServiceRecord before = record_of(harness.service());
     const std::uint64_t next_record = harness.service().next_journal_position();
-    const std::filesystem::path newest = SnapshotStore(harness.snapshot_dir(), 2).path_for(newer);
+    const std::filesystem::path newest =
+        SnapshotDirectory(harness.snapshot_dir(), 2).path_for(newer);
     damage_file(newest, damage);
 
     const RecoveryReport report = harness.restart();
@@ -307,7 +310,7 @@ TEST(Recovery, SnapshotUnderAnotherPositionsNameIsSkipped) {
   }
   const std::uint64_t newer = harness.snapshot();
   const ServiceRecord before = record_of(harness.service());
-  const SnapshotStore store(harness.snapshot_dir(), 2);
+  const SnapshotDirectory store(harness.snapshot_dir(), 2);
   std::filesystem::copy_file(store.path_for(older), store.path_for(newer),
                              std::filesystem::copy_options::overwrite_existing);
 
@@ -328,7 +331,7 @@ TEST(Recovery, EverySnapshotDamagedFallsBackToTheWholeJournal) {
   const std::uint64_t newer = harness.snapshot();
   ASSERT_TRUE(testing::run_script(harness, slice(script, 20, 30)));
   const ServiceRecord before = record_of(harness.service());
-  const SnapshotStore store(harness.snapshot_dir(), 2);
+  const SnapshotDirectory store(harness.snapshot_dir(), 2);
   damage_file(store.path_for(newer), Damage::garbage);
   damage_file(store.path_for(older), Damage::flipped_byte);
 
@@ -450,11 +453,15 @@ class ForgedJournal {
     write(payloads);
   }
 
+  // Recovers from the journal (and snapshots); end_position() is the log's after it.
   ServiceState recover_it(RecoveryReport& report) {
-    journal::Journal journal = journal::Journal::open(journal_dir(), config_.journal);
-    const SnapshotStore store(dir_.path() / "snapshots", 2);
-    return recover(config_, journal, store, report);
+    const auto log = journal::JournalCommitLog::open(journal_dir(), config_.journal);
+    const SnapshotDirectory store(dir_.path() / "snapshots", 2);
+    ServiceState state = recover(config_, *log, store, report);
+    end_position_ = log->end_position();
+    return state;
   }
+  std::uint64_t end_position() const { return end_position_; }
 
   std::string recovery_error() {
     RecoveryReport report;
@@ -470,6 +477,7 @@ class ForgedJournal {
   std::filesystem::path journal_dir() const { return dir_.path() / "journal"; }
   TempDir dir_;
   DaemonConfig config_;
+  std::uint64_t end_position_ = 0;
 };
 
 TEST(Recovery, ForgedJournalThatIsRightRecovers) {
@@ -482,7 +490,7 @@ TEST(Recovery, ForgedJournalThatIsRightRecovers) {
   EXPECT_EQ(report.records, 3u);
   EXPECT_EQ(report.commits, 2u);
   EXPECT_EQ(state.progress.at("quay").seq, 3u);
-  EXPECT_EQ(state.next_journal_position, 4u);
+  EXPECT_EQ(forged.end_position(), 4u);
   const Pool& pool = *state.registry.find("quay");
   EXPECT_TRUE(testing::pool_certified(pool));
   // Common knowledge: vertices 1, 2 and 9 are left with no edge at all.
@@ -559,8 +567,8 @@ class DroppedSegments : public ::testing::Test {
 TEST_F(DroppedSegments, PoolWhoseEarlyRecordsAreGoneIsAnError) {
   windows("harbour", 20, 1);
   const std::uint64_t cut = harness_.service().next_journal_position() - 3;
-  EXPECT_GT(harness_.service().journal().drop_before(cut), 0u);
-  EXPECT_GT(harness_.service().journal().first_position(), 1u);
+  EXPECT_GT(harness_.service().log().drop_before(cut), 0u);
+  EXPECT_GT(harness_.service().log().first_position(), 1u);
   EXPECT_THROW(harness_.restart(), RecoveryError);
 }
 
@@ -580,8 +588,8 @@ TEST_F(DroppedSegments, PoolWhollyInTheDroppedRecordsIsAnError) {
   windows("airport", 15, 1);
   const std::uint64_t harbour_starts = harness_.service().next_journal_position();
   windows("harbour", 15, 1);
-  EXPECT_GT(harness_.service().journal().drop_before(harbour_starts), 0u);
-  const std::uint64_t first = harness_.service().journal().first_position();
+  EXPECT_GT(harness_.service().log().drop_before(harbour_starts), 0u);
+  const std::uint64_t first = harness_.service().log().first_position();
   ASSERT_GT(first, 1u);
   ASSERT_LE(first, harbour_starts);  // every harbour record is still there
   const std::string error = restart_error(harness_);
@@ -593,7 +601,7 @@ TEST_F(DroppedSegments, SnapshotCoversTheDroppedRecords) {
   const ServiceRecord at_snapshot = record_of(harness_.service());
   const std::uint64_t position = harness_.snapshot();
   windows("harbour", 15, 1);
-  EXPECT_GT(harness_.service().journal().drop_before(position), 0u);
+  EXPECT_GT(harness_.service().log().drop_before(position), 0u);
   const ServiceRecord before = record_of(harness_.service());
   const RecoveryReport report = harness_.restart();
   EXPECT_EQ(report.snapshot_position, position);
@@ -606,8 +614,8 @@ TEST_F(DroppedSegments, SnapshotOlderThanTheJournalIsSkipped) {
   windows("airport", 10, 101);
   const std::uint64_t newer = harness_.snapshot();
   windows("airport", 5, 201);
-  EXPECT_GT(harness_.service().journal().drop_before(newer), 0u);
-  ASSERT_GT(harness_.service().journal().first_position(), older);
+  EXPECT_GT(harness_.service().log().drop_before(newer), 0u);
+  ASSERT_GT(harness_.service().log().first_position(), older);
   const ServiceRecord before = record_of(harness_.service());
   // The newer snapshot is fine: the older one is never needed.
   RecoveryReport report = harness_.restart();
@@ -615,25 +623,49 @@ TEST_F(DroppedSegments, SnapshotOlderThanTheJournalIsSkipped) {
   expect_rebuilt(before, harness_.service(), false);
   // Without it, the older one cannot be used (the records after it are gone): no way back.
   harness_.stop();
-  damage_file(SnapshotStore(harness_.snapshot_dir(), 2).path_for(newer), Damage::garbage);
+  damage_file(SnapshotDirectory(harness_.snapshot_dir(), 2).path_for(newer), Damage::garbage);
   EXPECT_THROW(harness_.restart(), RecoveryError);
 }
+
+// The journal's regrouping (journal::WindowRegrouper) then the events decoded
+// (to_commit_group), as recovery and `yoke replay` read a journal.
+class Regrouped {
+ public:
+  // Adds a record; the groups it completes are converted and kept.
+  void add(const std::string& payload) {
+    std::vector<storage::LoggedGroup> completed;
+    regrouper_.add(payload, completed);
+    keep(completed);
+  }
+  void finish() {
+    std::vector<storage::LoggedGroup> completed;
+    regrouper_.finish(completed);
+    keep(completed);
+  }
+  std::vector<CommitGroup> done;
+
+ private:
+  void keep(std::vector<storage::LoggedGroup>& completed) {
+    for (storage::LoggedGroup& group : completed) done.push_back(to_commit_group(std::move(group)));
+  }
+  journal::WindowRegrouper regrouper_;
+};
 
 TEST(CommitGroups, RecordsOfOneWindowAndPoolFormOneGroup) {
   const auto payload = [](const std::string& pool, std::uint64_t seq, std::uint64_t window,
                           std::vector<v1::Event> events) {
     return ForgedJournal::record(pool, seq, window, events).SerializeAsString();
   };
-  CommitGrouper grouper;
-  std::vector<CommitGroup> done;
-  grouper.add(payload("quay", 1, 1, {wire_add(1)}), done);
-  grouper.add(payload("dock", 1, 1, {wire_add(5)}), done);
-  grouper.add(payload("quay", 2, 1, {wire_add(2), wire_add(3)}), done);
+  Regrouped grouper;
+  std::vector<CommitGroup>& done = grouper.done;
+  grouper.add(payload("quay", 1, 1, {wire_add(1)}));
+  grouper.add(payload("dock", 1, 1, {wire_add(5)}));
+  grouper.add(payload("quay", 2, 1, {wire_add(2), wire_add(3)}));
   EXPECT_TRUE(done.empty());  // the window may go on
-  grouper.add(payload("quay", 3, 4, {wire_remove(1)}), done);
+  grouper.add(payload("quay", 3, 4, {wire_remove(1)}));
   ASSERT_EQ(done.size(), 2u);  // order of first appearance in the window
   EXPECT_EQ(done[0].pool, "quay");
-  EXPECT_EQ(done[0].window_start, 1u);
+  EXPECT_EQ(done[0].position, 1u);
   ASSERT_EQ(done[0].records.size(), 2u);
   EXPECT_EQ(done[0].records[0].seq(), 1u);
   EXPECT_EQ(done[0].records[1].seq(), 2u);
@@ -641,26 +673,27 @@ TEST(CommitGroups, RecordsOfOneWindowAndPoolFormOneGroup) {
   EXPECT_EQ(done[0].events[2].u, 3u);
   EXPECT_EQ(done[1].pool, "dock");
   EXPECT_EQ(done[1].events.size(), 1u);
-  grouper.finish(done);
+  grouper.finish();
   ASSERT_EQ(done.size(), 3u);
-  EXPECT_EQ(done[2].window_start, 4u);
+  EXPECT_EQ(done[2].position, 4u);
   EXPECT_EQ(done[2].events.at(0).kind, EventKind::remove_vertex);
 
-  EXPECT_THROW(grouper.add("\xff\xff", done), InputError);
+  EXPECT_THROW(grouper.add("\xff\xff"), storage::LogDamage);
   v1::Event bad = wire_remove(1);
   bad.set_v(3);
-  EXPECT_THROW(grouper.add(payload("quay", 4, 5, {bad}), done), InputError);
+  grouper.add(payload("quay", 4, 5, {bad}));
+  EXPECT_THROW(grouper.finish(), InputError);
 }
 
 TEST(CommitGroups, ApplySkipsWhatTheStateHoldsAndRefusesGaps) {
   const DaemonConfig config = testing::test_config({});
   ServiceState state = testing::fresh_state(config);
-  CommitGrouper grouper;
-  std::vector<CommitGroup> groups;
-  grouper.add(ForgedJournal::record("quay", 1, 1, {wire_set(1, 2, 3)}).SerializeAsString(), groups);
-  grouper.add(ForgedJournal::record("quay", 2, 2, {wire_set(2, 3, 5)}).SerializeAsString(), groups);
-  grouper.add(ForgedJournal::record("quay", 4, 3, {wire_add(7)}).SerializeAsString(), groups);
-  grouper.finish(groups);
+  Regrouped grouper;
+  std::vector<CommitGroup>& groups = grouper.done;
+  grouper.add(ForgedJournal::record("quay", 1, 1, {wire_set(1, 2, 3)}).SerializeAsString());
+  grouper.add(ForgedJournal::record("quay", 2, 2, {wire_set(2, 3, 5)}).SerializeAsString());
+  grouper.add(ForgedJournal::record("quay", 4, 3, {wire_add(7)}).SerializeAsString());
+  grouper.finish();
   ASSERT_EQ(groups.size(), 3u);
   apply_commit_group(groups[0], state);
   apply_commit_group(groups[1], state);

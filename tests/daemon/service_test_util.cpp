@@ -110,7 +110,7 @@ DaemonConfig test_config(const std::filesystem::path& data_dir) {
 }
 
 ServiceState fresh_state(const DaemonConfig& config) {
-  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}, 1};
+  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}};
 }
 
 WindowResult close_window(PoolService& service) {
@@ -122,8 +122,8 @@ WindowResult close_window(PoolService& service) {
 
 ServiceHarness::ServiceHarness(DaemonConfig config) : config_(std::move(config)) {
   config_.data_dir = dir_.path();
-  service_ = std::make_unique<PoolService>(config_, fresh_state(config_),
-                                           journal::Journal::open(journal_dir(), config_.journal));
+  log_ = journal::JournalCommitLog::open(journal_dir(), config_.journal);
+  service_ = std::make_unique<PoolService>(config_, fresh_state(config_), *log_);
 }
 
 std::optional<v1::Ack> ServiceHarness::offer(const std::vector<v1::Event>& events,
@@ -136,7 +136,7 @@ std::optional<v1::Ack> ServiceHarness::offer_bytes(std::string_view message) {
 }
 
 std::uint64_t ServiceHarness::snapshot(std::size_t keep) {
-  SnapshotStore store(snapshot_dir(), keep);
+  SnapshotDirectory store(snapshot_dir(), keep);
   const std::uint64_t position = service_->next_journal_position();
   store.write(position, capture_snapshot(*service_));
   return position;
@@ -144,11 +144,11 @@ std::uint64_t ServiceHarness::snapshot(std::size_t keep) {
 
 RecoveryReport ServiceHarness::restart(std::size_t keep) {
   stop();
-  journal::Journal journal = journal::Journal::open(journal_dir(), config_.journal);
-  SnapshotStore store(snapshot_dir(), keep);
+  log_ = journal::JournalCommitLog::open(journal_dir(), config_.journal);
+  const SnapshotDirectory store(snapshot_dir(), keep);
   RecoveryReport report;
-  ServiceState state = recover(config_, journal, store, report);
-  service_ = std::make_unique<PoolService>(config_, std::move(state), std::move(journal));
+  ServiceState state = recover(config_, *log_, store, report);
+  service_ = std::make_unique<PoolService>(config_, std::move(state), *log_);
   return report;
 }
 

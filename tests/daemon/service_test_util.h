@@ -1,6 +1,6 @@
 // Shared helpers of the daemon service tests: wire events and ingest messages, a PoolService
-// over a real journal in a temporary directory (the journal tests' TempDir), closing a window,
-// and the certificate check of a pool.
+// over the local storage backend (a real journal and snapshot directory) in a temporary
+// directory (the journal tests' TempDir), closing a window, and the certificate check of a pool.
 #pragma once
 
 #include <cstdint>
@@ -14,9 +14,10 @@
 #include <gtest/gtest.h>
 
 #include "daemon/config/daemon_config.h"
+#include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/recovery.h"
-#include "daemon/snapshots/snapshot_store.h"
+#include "daemon/snapshots/snapshot_directory.h"
 #include "engine/pool.h"
 #include "tests/journal/journal_test_util.h"
 #include "yoke/v1/events.pb.h"
@@ -94,15 +95,19 @@ class ServiceHarness {
   // the daemon's timer would. Returns the position.
   std::uint64_t snapshot(std::size_t keep = 2);
 
-  // Destroys the service (the journal closes and unlocks).
-  void stop() { service_.reset(); }
+  // Destroys the service and closes the journal (which unlocks).
+  void stop() {
+    service_.reset();
+    log_.reset();
+  }
   // Stops, reopens the journal and recovers into a new service. Throws what recover() throws.
   RecoveryReport restart(std::size_t keep = 2);
 
  private:
   TempDir dir_;
   DaemonConfig config_;
-  std::unique_ptr<PoolService> service_;
+  std::unique_ptr<journal::JournalCommitLog> log_;
+  std::unique_ptr<PoolService> service_;  // writes to *log_
   Ticket next_ticket_ = 1;
 };
 

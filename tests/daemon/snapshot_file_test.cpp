@@ -10,7 +10,7 @@
 #include "daemon/journal/crc32c.h"
 #include "daemon/journal/journal_error.h"
 #include "daemon/snapshots/snapshot_file.h"
-#include "daemon/snapshots/snapshot_store.h"
+#include "daemon/snapshots/snapshot_directory.h"
 #include "service_test_util.h"
 
 namespace yoke::daemon {
@@ -96,7 +96,7 @@ TEST_F(SnapshotFileTest, RoundTripOfSeveralRecords) {
   write_sample();
   EXPECT_FALSE(std::filesystem::exists(dir_ / "snapshot-00000000000000001234.yks.tmp"));
   const SnapshotContents contents = read_snapshot_file(path_);
-  EXPECT_EQ(contents.journal_position, 1234u);
+  EXPECT_EQ(contents.position, 1234u);
   const std::vector<v1::SnapshotRecord> expected = sample_records();
   ASSERT_EQ(contents.pools.size(), expected.size());
   for (std::size_t i = 0; i < expected.size(); ++i) {
@@ -119,7 +119,7 @@ TEST_F(SnapshotFileTest, RoundTripOfSeveralRecords) {
 TEST_F(SnapshotFileTest, RoundTripOfNoRecordsAndRewrite) {
   write_snapshot_file(path_, 9, {});
   SnapshotContents contents = read_snapshot_file(path_);
-  EXPECT_EQ(contents.journal_position, 9u);
+  EXPECT_EQ(contents.position, 9u);
   EXPECT_TRUE(contents.pools.empty());
   // Writing again replaces the file whole.
   write_sample();
@@ -236,21 +236,21 @@ TEST_F(SnapshotFileTest, MissingFileIsNotDamage) {
   }
 }
 
-TEST(SnapshotStore, NamesFilesByJournalPosition) {
+TEST(SnapshotDirectory, NamesFilesByJournalPosition) {
   TempDir dir;
-  const SnapshotStore store(dir / "a" / "b", 2);  // created, parents too
+  const SnapshotDirectory store(dir / "a" / "b", 2);  // created, parents too
   EXPECT_TRUE(std::filesystem::is_directory(dir / "a" / "b"));
   EXPECT_EQ(store.path_for(42).filename(), "snapshot-00000000000000000042.yks");
   EXPECT_EQ(store.path_for(~std::uint64_t{0}).filename(), "snapshot-18446744073709551615.yks");
   EXPECT_TRUE(store.positions().empty());
-  EXPECT_FALSE(store.oldest_kept().has_value());
+  EXPECT_FALSE(store.oldest_needed().has_value());
 }
 
-TEST(SnapshotStore, KeepsTheNewestAndRemovesTemporaryFiles) {
+TEST(SnapshotDirectory, KeepsTheNewestAndRemovesTemporaryFiles) {
   TempDir dir;
-  SnapshotStore store(dir.path(), 2);
+  SnapshotDirectory store(dir.path(), 2);
   const std::vector<v1::SnapshotRecord> records = {sample_record("quay", 1)};
-  EXPECT_EQ(store.write(10, records), store.path_for(10));
+  EXPECT_EQ(store.write(10, records), store.path_for(10).string());
   store.write(300, records);
   EXPECT_EQ(store.positions(), (std::vector<std::uint64_t>{300, 10}));
   // Leftovers of a crash mid-write, and files that are not snapshots.
@@ -270,13 +270,13 @@ TEST(SnapshotStore, KeepsTheNewestAndRemovesTemporaryFiles) {
   EXPECT_TRUE(std::filesystem::exists(dir / "snapshot-0000000000000000000x.yks"));
   store.write(4000, records);
   EXPECT_EQ(store.positions(), (std::vector<std::uint64_t>{4000, 300}));
-  EXPECT_EQ(store.oldest_kept(), 300u);
-  EXPECT_EQ(read_snapshot_file(store.path_for(4000)).journal_position, 4000u);
+  EXPECT_EQ(store.oldest_needed(), 300u);
+  EXPECT_EQ(read_snapshot_file(store.path_for(4000)).position, 4000u);
 }
 
-TEST(SnapshotStore, KeepZeroMeansOne) {
+TEST(SnapshotDirectory, KeepZeroMeansOne) {
   TempDir dir;
-  SnapshotStore store(dir.path(), 0);
+  SnapshotDirectory store(dir.path(), 0);
   store.write(1, {});
   store.write(2, {});
   EXPECT_EQ(store.positions(), (std::vector<std::uint64_t>{2}));

@@ -24,6 +24,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <map>
+#include <memory>
 #include <optional>
 #include <set>
 #include <string>
@@ -34,6 +35,7 @@
 
 #include <google/protobuf/stubs/logging.h>
 
+#include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/batch_decoder.h"
 #include "daemon/service/pool_names.h"
 #include "daemon/service/pool_service.h"
@@ -82,7 +84,7 @@ std::filesystem::path g_temp_dir;  // removed at exit
 
 struct Fixture {
   DaemonConfig config = make_config();
-  std::optional<journal::Journal> journal;  // lent to each input's PoolService
+  std::unique_ptr<journal::JournalCommitLog> log;  // lent to each input's PoolService
 };
 
 Fixture& fixture() {
@@ -100,8 +102,7 @@ Fixture& fixture() {
     // protobuf logs every string field that is not UTF-8 to stderr: noise here, and slow.
     google::protobuf::SetLogHandler(nullptr);
     auto* fixture = new Fixture;  // never freed: lives as long as the fuzzer
-    fixture->journal.emplace(
-        journal::Journal::open(g_temp_dir / "journal", fixture->config.journal));
+    fixture->log = journal::JournalCommitLog::open(g_temp_dir / "journal", fixture->config.journal);
     return fixture;
   }();
   return *instance;
@@ -150,7 +151,7 @@ class Run {
  public:
   explicit Run(Fixture& fixture)
       : fixture_(fixture),
-        service_(fixture.config, initial_state(fixture), std::move(*fixture.journal)),
+        service_(fixture.config, initial_state(fixture), *fixture.log),
         queries_(
             service_, fixture.config.limits.max_message_bytes,
             [](bool, const std::string&) { return v1::SnapshotTaken(); },
@@ -161,11 +162,8 @@ class Run {
               return health;
             }) {}
 
-  // Hands the journal back for the next input, without the segments this one filled.
-  ~Run() {
-    fixture_.journal.emplace(std::move(service_.journal()));
-    fixture_.journal->drop_before(fixture_.journal->next_position());
-  }
+  // Leaves the journal to the next input without the segments this one filled.
+  ~Run() { fixture_.log->drop_before(fixture_.log->end_position()); }
 
   void ingest(std::string_view message);
   void close_window();
@@ -174,9 +172,7 @@ class Run {
 
  private:
   static ServiceState initial_state(const Fixture& fixture) {
-    const std::uint64_t next = fixture.journal->next_position();
-    return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {},
-                        next == 0 ? 1 : next};
+    return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {}};
   }
   PoolModel& model_of(const std::string& name);
   Fingerprint fingerprint();

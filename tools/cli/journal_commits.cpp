@@ -5,54 +5,62 @@
 #include <optional>
 
 #include "cli_error.h"
-#include "daemon/journal/journal_reader.h"
+#include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/wire_types.h"
-#include "daemon/snapshots/snapshot_store.h"
+#include "daemon/snapshots/snapshot_directory.h"
 
 namespace yoke::cli {
 
 JournalCommits::JournalCommits(const std::filesystem::path& path, const std::string& pool,
                                bool count_events)
     : pool_(pool) {
+  std::filesystem::path journal_dir = path;
+  std::filesystem::path snapshot_dir = path.parent_path() / "snapshots";
   if (std::filesystem::is_directory(path / "journal")) {
-    journal_dir_ = path / "journal";
-    snapshot_dir_ = path / "snapshots";
-  } else {
-    journal_dir_ = path;
-    snapshot_dir_ = path.parent_path() / "snapshots";
+    journal_dir = path / "journal";
+    snapshot_dir = path / "snapshots";
   }
+  log_name_ = journal_dir.string();
+  snapshots_name_ = snapshot_dir.string();
+  // Only a directory that is there: opening the store would create it.
+  if (std::filesystem::is_directory(snapshot_dir)) {
+    owned_snapshots_ = std::make_unique<daemon::SnapshotDirectory>(snapshot_dir, 1 << 30);
+    snapshots_ = owned_snapshots_.get();
+  }
+  journal::JournalView log(journal_dir);
+  read_groups(log, count_events);
+}
+
+JournalCommits::JournalCommits(storage::CommitLogView& log,
+                               const storage::SnapshotStore* snapshots, const std::string& pool,
+                               bool count_events)
+    : log_name_(log.describe()),
+      snapshots_name_(snapshots != nullptr ? snapshots->describe() : "the snapshot store"),
+      snapshots_(snapshots),
+      pool_(pool) {
+  read_groups(log, count_events);
+}
+
+void JournalCommits::read_groups(storage::CommitLogView& log, bool count_events) {
   try {
-    journal::Reader reader = journal::Reader::from_start(journal_dir_);
-    daemon::CommitGrouper grouper;
-    std::vector<daemon::CommitGroup> done;
-    const auto keep_ours = [&] {
-      for (daemon::CommitGroup& group : done) {
-        if (group.pool == pool_) groups_.push_back(std::move(group));
+    const std::unique_ptr<storage::GroupReader> reader = log.read_from(0, pool_);
+    while (auto group = reader->next()) {
+      if (count_events) {
+        for (const v1::JournalRecord& record : group->records) {
+          event_counts_[record.seq()] = static_cast<std::size_t>(record.events_size());
+        }
       }
-      done.clear();
-    };
-    while (auto record = reader.next()) {
-      v1::JournalRecord counted;
-      if (count_events && counted.ParseFromArray(record->payload.data(),
-                                                 static_cast<int>(record->payload.size())) &&
-          counted.pool() == pool_) {
-        event_counts_[counted.seq()] = static_cast<std::size_t>(counted.events_size());
-      }
-      grouper.add(record->payload, done);
-      keep_ours();
+      groups_.push_back(daemon::to_commit_group(std::move(*group)));
     }
-    grouper.finish(done);
-    keep_ours();
-    if (const auto& tail = reader.tail()) {
-      std::cerr << "note: " << tail->segment.string() << " ends in a damaged tail at byte "
-                << tail->offset << " (" << tail->reason << "): not replayed\n";
+    if (const auto early = reader->stopped_early()) {
+      std::cerr << "note: " << *early << ": not replayed\n";
     }
   } catch (const std::exception& error) {
-    throw CliError(journal_dir_.string() + ": " + error.what());
+    throw CliError(log_name_ + ": " + error.what());
   }
   if (groups_.empty()) {
-    throw CliError(journal_dir_.string() + ": the journal holds no record of pool " + pool_);
+    throw CliError(log_name_ + ": the journal holds no record of pool " + pool_);
   }
 }
 
@@ -66,26 +74,24 @@ std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
   if (first.seq() == 1) {
     std::unique_ptr<Pool> pool = daemon::make_pool(first.created());
     if (!pool) {
-      throw CliError(journal_dir_.string() + ": the first record of pool " + pool_ +
+      throw CliError(log_name_ + ": the first record of pool " + pool_ +
                      " does not say how the pool was created");
     }
     return pool;
   }
   if (auto pool = restore_snapshot(UINT64_MAX, false)) return pool;
-  throw CliError(journal_dir_.string() + ": the journal starts at seq " +
-                 std::to_string(first.seq()) + " of pool " + pool_ +
-                 " and no snapshot in " + snapshot_dir_.string() + " leads up to it");
+  throw CliError(log_name_ + ": the journal starts at seq " + std::to_string(first.seq()) +
+                 " of pool " + pool_ + " and no snapshot in " + snapshots_name_ +
+                 " leads up to it");
 }
 
 std::unique_ptr<Pool> JournalCommits::restore_snapshot(std::uint64_t most, bool newest) {
-  if (!std::filesystem::is_directory(snapshot_dir_)) return nullptr;
+  if (snapshots_ == nullptr) return nullptr;
   const std::uint64_t journal_first = groups_.front().records.front().seq();
-  const daemon::SnapshotStore store(snapshot_dir_, 1 << 30);
   std::optional<v1::SnapshotRecord> best;
-  for (const std::uint64_t position : store.positions()) {
+  for (const storage::Position position : snapshots_->positions()) {
     try {
-      const daemon::SnapshotContents contents =
-          daemon::read_snapshot_file(store.path_for(position));
+      const storage::SnapshotContents contents = snapshots_->read(position);
       for (const v1::SnapshotRecord& record : contents.pools) {
         if (record.pool() != pool_ || record.seq() + 1 < journal_first || record.seq() > most) {
           continue;
@@ -103,7 +109,7 @@ std::unique_ptr<Pool> JournalCommits::restore_snapshot(std::uint64_t most, bool 
   try {
     pool = daemon::restore_checked(*best);
   } catch (const daemon::SnapshotDamage& damage) {
-    throw CliError(snapshot_dir_.string() + ": " + damage.what());
+    throw CliError(snapshots_name_ + ": " + damage.what());
   }
   while (next_ < groups_.size() && groups_[next_].records.back().seq() <= best->seq()) ++next_;
   snapshot_seq_ = best->seq();

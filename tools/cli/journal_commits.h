@@ -1,7 +1,8 @@
-// A yoked journal read back as one pool's commits, for `yoke replay DIR`: the records grouped
-// as the daemon committed them (daemon/service/commit_groups.h), starting from an empty pool
-// made with the settings of the pool's first record, or from a snapshot when the journal no
-// longer holds the pool's first records.
+// A yoked commit log read back as one pool's commits, for `yoke replay DIR`: the groups the
+// daemon committed (daemon/storage/commit_log.h, daemon/service/commit_groups.h), starting
+// from an empty pool made with the settings of the pool's first record, or from a snapshot
+// when the log no longer holds the pool's first records. Reads through the storage interfaces;
+// a data directory opens the local backend (journal/ and snapshots/) read only.
 #pragma once
 
 #include <cstdint>
@@ -13,6 +14,8 @@
 #include <vector>
 
 #include "daemon/service/commit_groups.h"
+#include "daemon/storage/commit_log.h"
+#include "daemon/storage/snapshot_store.h"
 #include "engine/pool.h"
 
 namespace yoke::cli {
@@ -22,10 +25,14 @@ class JournalCommits {
   // `path` is a yoked data directory (holding journal/ and snapshots/) or its journal/
   // directory. Reads the whole journal; throws CliError when it cannot be read, holds no record
   // of `pool`, or starts after the pool's first record with no snapshot to start from.
-  // With `count_events`, also keeps how many events each record of the pool holds (events_in):
-  // a second parse of every record, for answers that name the record an event came from.
+  // With `count_events`, also keeps how many events each record of the pool holds (events_in),
+  // for answers that name the record an event came from.
   JournalCommits(const std::filesystem::path& path, const std::string& pool,
                  bool count_events = false);
+  // The same from any backend: `log` is read once here; `snapshots` (may be null) must outlive
+  // this. Messages name them by their describe().
+  JournalCommits(storage::CommitLogView& log, const storage::SnapshotStore* snapshots,
+                 const std::string& pool, bool count_events = false);
 
   // The pool before the first commit next() returns: with from_seq > 0, restored from the
   // newest snapshot of the pool at or before from_seq that the journal continues (else the
@@ -50,8 +57,13 @@ class JournalCommits {
   // [the pool's first seq in the journal - 1, most], restored; nullptr when there is none.
   std::unique_ptr<Pool> restore_snapshot(std::uint64_t most, bool newest);
 
-  std::filesystem::path journal_dir_;
-  std::filesystem::path snapshot_dir_;
+  // Reads every group of the pool from `log` (the constructors' common part).
+  void read_groups(storage::CommitLogView& log, bool count_events);
+
+  std::string log_name_;        // in messages: the journal directory, or the log's describe()
+  std::string snapshots_name_;  // the same for the snapshot store
+  std::unique_ptr<storage::SnapshotStore> owned_snapshots_;  // the local backend's
+  const storage::SnapshotStore* snapshots_ = nullptr;        // null: none to start from
   std::string pool_;
   std::vector<daemon::CommitGroup> groups_;
   std::size_t next_ = 0;

@@ -1,0 +1,157 @@
+#include "journal_commit_log.h"
+
+#include <algorithm>
+#include <deque>
+#include <utility>
+
+#include "daemon/storage/storage_error.h"
+#include "segment_names.h"
+#include "window_regrouper.h"
+
+namespace yoke::journal {
+namespace {
+
+// Runs a journal step, rethrowing the journal's errors as the storage interface's.
+template <typename Step>
+auto as_storage_errors(Step step) -> decltype(step()) {
+  try {
+    return step();
+  } catch (const Corruption& damage) {
+    throw storage::LogDamage(damage.what());
+  } catch (const Error& error) {
+    throw storage::LogError(error.what());
+  }
+}
+
+// The Reader position to read after, for groups at positions >= from (0: all the journal
+// holds, from its oldest segment on).
+std::uint64_t after_position(storage::Position from, storage::Position first_segment) {
+  if (from == 0) return first_segment == 0 ? 0 : first_segment - 1;
+  return from - 1;
+}
+
+// Records back into groups (WindowRegrouper), optionally of one pool only.
+class JournalGroupReader : public storage::GroupReader {
+ public:
+  JournalGroupReader(Reader reader, std::string pool)
+      : reader_(std::move(reader)), pool_(std::move(pool)) {}
+
+  std::optional<storage::LoggedGroup> next() override {
+    return as_storage_errors([this]() -> std::optional<storage::LoggedGroup> {
+      while (ready_.empty() && !ended_) {
+        std::vector<storage::LoggedGroup> done;
+        if (auto record = reader_.next()) {
+          regrouper_.add(record->payload, done);
+        } else {
+          regrouper_.finish(done);
+          ended_ = true;
+        }
+        for (storage::LoggedGroup& group : done) {
+          if (pool_.empty() || group.pool == pool_) ready_.push_back(std::move(group));
+        }
+      }
+      if (ready_.empty()) return std::nullopt;
+      storage::LoggedGroup group = std::move(ready_.front());
+      ready_.pop_front();
+      return group;
+    });
+  }
+
+  std::optional<std::string> stopped_early() const override {
+    const std::optional<TailCut>& tail = reader_.tail();
+    if (!tail) return std::nullopt;
+    return tail->segment.string() + " ends in a damaged tail at byte " +
+           std::to_string(tail->offset) + " (" + tail->reason + ")";
+  }
+
+ private:
+  Reader reader_;
+  std::string pool_;
+  WindowRegrouper regrouper_;
+  std::deque<storage::LoggedGroup> ready_;
+  bool ended_ = false;
+};
+
+}  // namespace
+
+JournalView::JournalView(std::filesystem::path dir) : dir_(std::move(dir)) {}
+
+std::string JournalView::describe() const { return "journal " + dir_.string(); }
+
+storage::Position JournalView::first_position(std::string_view) const {
+  return as_storage_errors([this]() -> storage::Position {
+    const std::vector<std::uint64_t> segments = list_segments(dir_);
+    return segments.empty() ? 0 : segments.front();
+  });
+}
+
+std::unique_ptr<storage::GroupReader> JournalView::read_from(storage::Position from,
+                                                             std::string_view pool) {
+  return as_storage_errors([&]() -> std::unique_ptr<storage::GroupReader> {
+    const std::uint64_t after = after_position(from, from == 0 ? first_position() : 0);
+    return std::make_unique<JournalGroupReader>(Reader(dir_, after), std::string(pool));
+  });
+}
+
+std::unique_ptr<JournalCommitLog> JournalCommitLog::open(const std::filesystem::path& dir,
+                                                         const Options& options) {
+  return as_storage_errors(
+      [&] { return std::make_unique<JournalCommitLog>(Journal::open(dir, options)); });
+}
+
+JournalCommitLog::JournalCommitLog(Journal journal) : journal_(std::move(journal)) {}
+
+std::string JournalCommitLog::describe() const {
+  return "journal " + journal_.directory().string();
+}
+
+storage::Position JournalCommitLog::first_position(std::string_view) const {
+  return journal_.first_position();
+}
+
+std::unique_ptr<storage::GroupReader> JournalCommitLog::read_from(storage::Position from,
+                                                                  std::string_view pool) {
+  return as_storage_errors([&]() -> std::unique_ptr<storage::GroupReader> {
+    const std::uint64_t after = after_position(from, journal_.first_position());
+    return std::make_unique<JournalGroupReader>(journal_.read_after(after), std::string(pool));
+  });
+}
+
+storage::Position JournalCommitLog::end_position() const {
+  return std::max(journal_.next_position(), resume_);
+}
+
+void JournalCommitLog::continue_from(storage::Position position) {
+  resume_ = std::max(resume_, position);
+}
+
+storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord> window) {
+  const storage::Position start = end_position();
+  if (window.empty()) return {0, start};
+  if (failed_) {
+    throw storage::LogError(describe() + " refuses commits after a failed one; reopen it");
+  }
+  try {
+    as_storage_errors([&] {
+      storage::Position position = start;
+      std::string bytes;
+      for (v1::JournalRecord& record : window) {
+        record.set_window_start(start);
+        bytes.clear();
+        record.SerializeToString(&bytes);
+        journal_.append(position++, bytes);
+      }
+      journal_.sync();
+    });
+  } catch (...) {
+    failed_ = true;
+    throw;
+  }
+  return {start, end_position()};
+}
+
+std::size_t JournalCommitLog::drop_before(storage::Position position) {
+  return as_storage_errors([&] { return journal_.drop_before(position); });
+}
+
+}  // namespace yoke::journal
