@@ -99,6 +99,14 @@ TEST(LeaderFailover, AcknowledgedMessagesSurviveALeaderKillOnEveryNode) {
         publish_until_acknowledged(connection, entry, failed, std::chrono::seconds(10)));
   }
   ASSERT_EQ(failed, 0) << "publishes failed on a healthy cluster";
+  // A reader that follows the log across the kill (as a standby will).
+  LogReader follower(connection, {failover_stream, failover_subject, 1});
+  std::vector<LogMessage> followed;
+  while (followed.size() < acknowledged.size()) {
+    auto message = follower.next(milliseconds(5000));
+    ASSERT_TRUE(message.has_value()) << "the reader stalled on a healthy cluster";
+    followed.push_back(std::move(*message));
+  }
 
   const int leader = cluster.stream_leader(failover_stream, milliseconds(10000));
   const auto killed_at = Clock::now();
@@ -154,6 +162,19 @@ TEST(LeaderFailover, AcknowledgedMessagesSurviveALeaderKillOnEveryNode) {
   for (const Acknowledged& ack : acknowledged) EXPECT_EQ(copies[ack.data], 1) << ack.data;
   ASSERT_FALSE(log.empty());
   EXPECT_EQ(log.back().sequence, last);
+
+  // The reader that was open across the kill: the rest of the log, once, in order (libnats
+  // recreates its consumer when the server holding it died).
+  const auto follow_deadline = Clock::now() + std::chrono::seconds(60);
+  while (followed.empty() || followed.back().sequence < last) {
+    ASSERT_LT(Clock::now(), follow_deadline) << "the reader never caught up";
+    if (auto message = follower.next(milliseconds(1000))) followed.push_back(std::move(*message));
+  }
+  ASSERT_EQ(followed.size(), log.size());
+  for (std::size_t k = 0; k < log.size(); ++k) {
+    EXPECT_EQ(followed[k].sequence, log[k].sequence);
+    EXPECT_EQ(followed[k].data, log[k].data);
+  }
 
   // Every node's own copy, read while that node leads, equals the log.
   for (int node = 0; node < cluster.size(); ++node) {
