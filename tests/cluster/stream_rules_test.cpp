@@ -4,6 +4,7 @@
 
 #include <functional>
 #include <memory>
+#include <thread>
 
 #include "daemon/cluster/cluster_error.h"
 #include "daemon/cluster/log_publisher.h"
@@ -123,6 +124,29 @@ TEST_F(StreamRules, APublishNoStreamTakesHasNoResponders) {
     FAIL() << "a publish without a stream was acknowledged";
   } catch (const ClusterError& error) {
     EXPECT_EQ(error.kind(), ClusterErrorKind::no_responders) << error.what();
+  }
+}
+
+TEST_F(StreamRules, APausedFollowerDoesNotStopPublishesAndCatchesUpWhenResumed) {
+  NatsConnection& connection = *connection_;
+  ensure_stream(connection, log_stream("PAUSED", {"paused.>"}));
+  const int leader = cluster_->stream_leader("PAUSED", milliseconds(10000));
+  // The connection is on node 0: pause a follower that is not node 0, so it keeps its server.
+  int follower = 0;
+  while (follower == leader || follower == 0) ++follower;
+  cluster_->pause(follower);
+  std::uint64_t last = 0;
+  for (int k = 0; k < 10; ++k) {
+    last = publish_and_wait(connection, "paused.a", {}, "while paused", milliseconds(5000));
+  }
+  EXPECT_EQ(last, 10u);
+  cluster_->resume(follower);
+  const auto deadline = std::chrono::steady_clock::now() + std::chrono::seconds(20);
+  for (;;) {
+    const auto view = cluster_->stream_view(follower, "PAUSED");
+    if (view && view->last_sequence == last) break;
+    ASSERT_LT(std::chrono::steady_clock::now(), deadline) << "the resumed follower lags";
+    std::this_thread::sleep_for(milliseconds(50));
   }
 }
 

@@ -89,7 +89,10 @@ std::string LocalNatsCluster::client_url(int node) const {
 }
 
 std::string LocalNatsCluster::server_name(int node) const {
-  return "n" + std::to_string(node + 1);
+  // Appended, not "n" + to_string(...): GCC 12 warns falsely (-Wrestrict) on that once inlined.
+  std::string name = "n";
+  name += std::to_string(node + 1);
+  return name;
 }
 
 int LocalNatsCluster::node_named(const std::string& name) const {
