@@ -14,6 +14,7 @@ import atexit
 import ctypes
 import json
 import os
+import random
 import shutil
 import signal
 import socket
@@ -28,17 +29,33 @@ _LIVE = set()  # clusters not yet stopped, stopped at interpreter exit
 
 
 def free_ports(count):
-    """`count` distinct loopback ports the kernel handed out (held until all are picked)."""
-    sockets = []
+    """`count` distinct loopback ports that could be bound just now, drawn at random from
+    20000-32767: below Linux's ephemeral range, so outgoing connections of running servers
+    cannot take one before the server binds it (held until all are picked)."""
+    sockets, ports = [], []
     try:
-        for _ in range(count):
+        for _ in range(10000):
+            if len(ports) == count:
+                return ports
+            port = random.randint(20000, 32767)
+            if port in ports:
+                continue
             s = socket.socket()
-            s.bind(("127.0.0.1", 0))
+            try:
+                s.bind(("127.0.0.1", port))
+            except OSError:
+                s.close()
+                continue
             sockets.append(s)
-        return [s.getsockname()[1] for s in sockets]
+            ports.append(port)
+        raise RuntimeError(f"cannot find {count} free loopback ports")
     finally:
         for s in sockets:
             s.close()
+
+
+class PortTaken(RuntimeError):
+    """A node lost a port to another process: the cluster starts again on fresh ports."""
 
 
 def _die_with_parent():
@@ -64,23 +81,36 @@ class NatsCluster:
         if not 1 <= nodes <= 9:
             raise ValueError("a local NATS cluster has 1 to 9 nodes")
         self.server = server
+        self.cluster_name = name
+        self.nodes = nodes
         self.directory = tempfile.mkdtemp(prefix="yoke-nats-")
-        free = free_ports(3 * nodes)
-        self.ports = [tuple(free[3 * k:3 * k + 3]) for k in range(nodes)]
-        for k in range(nodes):
-            with open(self._config(k), "w") as f:
-                f.write(node_config(name, self.ports, k,
-                                    os.path.join(self.directory, f"data-n{k + 1}")))
         self.processes = [None] * nodes
         self.paused = [False] * nodes
         _LIVE.add(self)
-        try:
-            for k in range(nodes):
-                self._start(k)
-            self._wait_ready(start_limit)
-        except BaseException:
-            self.stop()
-            raise
+        for attempt in range(3):
+            try:
+                self._start_on_fresh_ports()
+                self._wait_ready(start_limit)
+                return
+            except PortTaken:
+                self._stop_processes()
+                if attempt == 2:
+                    self.stop()
+                    raise
+            except BaseException:
+                self.stop()
+                raise
+
+    def _start_on_fresh_ports(self):
+        free = free_ports(3 * self.nodes)
+        self.ports = [tuple(free[3 * k:3 * k + 3]) for k in range(self.nodes)]
+        for k in range(self.nodes):
+            data = os.path.join(self.directory, f"data-n{k + 1}")
+            shutil.rmtree(data, ignore_errors=True)
+            with open(self._config(k), "w") as f:
+                f.write(node_config(self.cluster_name, self.ports, k, data))
+        for k in range(self.nodes):
+            self._start(k)
 
     # --- names and addresses
     def __enter__(self):
@@ -91,7 +121,7 @@ class NatsCluster:
 
     @property
     def size(self):
-        return len(self.ports)
+        return self.nodes
 
     def client_url(self, node):
         return f"nats://127.0.0.1:{self.ports[node][0]}"
@@ -155,9 +185,7 @@ class NatsCluster:
             raise RuntimeError(f"{self.server_name(node)} did not become healthy:\n"
                                + self.log_tail(node))
 
-    def stop(self, keep_directory=None):
-        """SIGTERM every node still running, SIGKILL after 3 s; removes the directory unless
-        keep_directory (default: YOKE_KEEP_NATS_DIR=1)."""
+    def _stop_processes(self):
         for p in self.processes:
             if p is not None and p.poll() is None:
                 os.kill(p.pid, signal.SIGCONT)
@@ -170,7 +198,12 @@ class NatsCluster:
             except subprocess.TimeoutExpired:
                 os.kill(p.pid, signal.SIGKILL)
                 p.wait()
-        self.paused = [False] * self.size
+        self.paused = [False] * self.nodes
+
+    def stop(self, keep_directory=None):
+        """SIGTERM every node still running, SIGKILL after 3 s; removes the directory unless
+        keep_directory (default: YOKE_KEEP_NATS_DIR=1)."""
+        self._stop_processes()
         _LIVE.discard(self)
         if keep_directory is None:
             keep_directory = os.environ.get("YOKE_KEEP_NATS_DIR") == "1"
@@ -267,9 +300,19 @@ class NatsCluster:
     def _wait_ready(self, limit):
         deadline = time.monotonic() + limit
         for k in range(self.size):
-            if self.processes[k].poll() is not None or \
-                    not self.wait_healthy(k, max(0.001, deadline - time.monotonic())):
-                raise RuntimeError(self._failure("did not answer /healthz in time"))
+            while self.monitor(k, "/healthz")[0] != 200:
+                if self.processes[k].poll() is not None:
+                    raise PortTaken(f"n{k + 1} exited at start:\n" + self.log_tail(k))
+                if time.monotonic() > deadline:
+                    raise RuntimeError(self._failure("did not answer /healthz in time"))
+                time.sleep(0.05)
+            status, body = self.monitor(k, "/varz")
+            try:
+                port = json.loads(body).get("port") if status == 200 else None
+            except ValueError:
+                port = None
+            if port != self.ports[k][0]:
+                raise PortTaken(f"another server answers on the monitoring port of n{k + 1}")
         probe = {"name": "yoke_cluster_probe", "subjects": ["yoke.cluster.probe"],
                  "num_replicas": self.size, "storage": "file", "max_bytes": 1 << 20}
         last = ""

@@ -32,6 +32,11 @@ std::filesystem::path make_temp_directory() {
   return pattern;
 }
 
+// A node could not have its ports: the cluster starts again on fresh ones.
+struct PortTaken : std::runtime_error {
+  using std::runtime_error::runtime_error;
+};
+
 bool before(std::chrono::steady_clock::time_point deadline) {
   return std::chrono::steady_clock::now() < deadline;
 }
@@ -44,28 +49,47 @@ LocalNatsCluster::LocalNatsCluster(LocalClusterSettings settings)
     throw std::runtime_error("a local NATS cluster has 1 to 9 nodes");
   }
   directory_ = make_temp_directory();
+  // A port another process took between the pick and the bind makes a node exit (or another
+  // server answer on its monitoring port): start again on fresh ports, a few times.
+  constexpr int attempts = 3;
+  for (int attempt = 1;; ++attempt) {
+    try {
+      start_on_fresh_ports();
+      wait_ready(settings_.start_limit);
+      return;
+    } catch (const PortTaken&) {
+      stop_all();
+      if (attempt < attempts) continue;
+      std::error_code ignored;
+      std::filesystem::remove_all(directory_, ignored);
+      throw;
+    } catch (...) {
+      stop_all();
+      std::error_code ignored;
+      std::filesystem::remove_all(directory_, ignored);
+      throw;
+    }
+  }
+}
+
+void LocalNatsCluster::start_on_fresh_ports() {
   const std::vector<int> free = free_loopback_ports(3 * settings_.nodes);
+  ports_.clear();
   for (int node = 0; node < settings_.nodes; ++node) {
     const auto base = static_cast<std::size_t>(3 * node);
     ports_.push_back({free[base], free[base + 1], free[base + 2]});
   }
   for (int node = 0; node < settings_.nodes; ++node) {
-    const auto index = static_cast<std::size_t>(node);
+    const std::filesystem::path data = directory_ / ("data-" + server_name(node));
+    std::filesystem::remove_all(data);  // a previous attempt's
     std::ofstream(config_file(node))
-        << node_config_text(settings_.cluster_name, ports_, index,
-                            directory_ / ("data-" + server_name(node)));
+        << node_config_text(settings_.cluster_name, ports_, static_cast<std::size_t>(node),
+                            data);
   }
+  nodes_.clear();
   nodes_.resize(ports_.size());
   paused_.assign(ports_.size(), false);
-  try {
-    for (int node = 0; node < settings_.nodes; ++node) start_node(node);
-    wait_ready(settings_.start_limit);
-  } catch (...) {
-    stop_all();
-    std::error_code ignored;
-    std::filesystem::remove_all(directory_, ignored);
-    throw;
-  }
+  for (int node = 0; node < settings_.nodes; ++node) start_node(node);
 }
 
 LocalNatsCluster::~LocalNatsCluster() {
@@ -174,11 +198,20 @@ void LocalNatsCluster::wait_ready(std::chrono::milliseconds limit) {
     throw std::runtime_error(text);
   };
   for (int node = 0; node < size(); ++node) {
-    const auto left = std::chrono::duration_cast<std::chrono::milliseconds>(
-        deadline - std::chrono::steady_clock::now());
-    if (nodes_[static_cast<std::size_t>(node)].exited()) give_up("lost a node at start");
-    if (!wait_healthy(node, std::max(left, std::chrono::milliseconds(1)))) {
-      give_up("did not answer /healthz in time");
+    for (;;) {
+      if (nodes_[static_cast<std::size_t>(node)].exited()) {
+        throw PortTaken(server_name(node) + " exited at start:\n" + log_tail(node));
+      }
+      const HttpReply health = monitor_get(ports(node).http, "/healthz", http_limit);
+      if (health.status == 200) break;
+      if (!before(deadline)) give_up("did not answer /healthz in time");
+      std::this_thread::sleep_for(poll_interval);
+    }
+    // The answer must come from this node, not from a server that took its port.
+    const HttpReply vars = monitor_get(ports(node).http, "/varz", http_limit);
+    const nlohmann::json varz = nlohmann::json::parse(vars.body, nullptr, false);
+    if (varz.is_discarded() || varz.value("port", 0) != ports(node).client) {
+      throw PortTaken("another server answers on the monitoring port of " + server_name(node));
     }
   }
   // Healthy nodes can still lack a JetStream meta leader or peers: a replicated stream that

@@ -42,7 +42,8 @@ struct NodeStreamView {
 
 class LocalNatsCluster {
  public:
-  // Starts the nodes and waits until the cluster is ready (see above), at most start_limit.
+  // Starts the nodes and waits until the cluster is ready (see above), at most start_limit;
+  // starts again on fresh ports (up to 3 times) when a node loses a port to another process.
   // Throws std::runtime_error with the tail of the node logs when it does not become ready.
   explicit LocalNatsCluster(LocalClusterSettings settings = {});
   ~LocalNatsCluster();
@@ -86,6 +87,7 @@ class LocalNatsCluster {
   std::string log_tail(int node, std::size_t bytes = 2000) const;
 
  private:
+  void start_on_fresh_ports();
   void start_node(int node);
   void wait_ready(std::chrono::milliseconds limit);
   std::filesystem::path log_file(int node) const;
