@@ -1,7 +1,10 @@
 // Shared helpers of the cluster tests: connections, stream settings, reading a log to its end.
 #pragma once
 
+#include <gtest/gtest.h>
+
 #include <chrono>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -9,6 +12,7 @@
 #include "daemon/cluster/log_reader.h"
 #include "daemon/cluster/nats_connection.h"
 #include "daemon/cluster/stream_setup.h"
+#include "tools/nats_cluster/local_nats_cluster.h"
 
 namespace yoke::cluster::testing {
 
@@ -28,6 +32,23 @@ inline StreamSettings log_stream(const std::string& name, std::vector<std::strin
   settings.max_bytes = 64 << 20;
   return settings;
 }
+
+// A test suite sharing one local cluster and one connection to it: started before the suite's
+// first test, stopped after its last. `Suite` is the derived fixture, so each suite has its own.
+template <typename Suite>
+class OneClusterPerSuite : public ::testing::Test {
+ protected:
+  static void SetUpTestSuite() {
+    cluster_ = std::make_unique<nats_cluster::LocalNatsCluster>();
+    connection_ = std::make_unique<NatsConnection>(connection_to(cluster_->client_urls()));
+  }
+  static void TearDownTestSuite() {
+    connection_.reset();
+    cluster_.reset();
+  }
+  static inline std::unique_ptr<nats_cluster::LocalNatsCluster> cluster_;
+  static inline std::unique_ptr<NatsConnection> connection_;
+};
 
 // Every message of `filter` from `start` until the reader reports none pending (or nothing
 // arrives for `quiet`).

@@ -22,22 +22,7 @@ using testing::connection_to;
 using testing::log_stream;
 using testing::read_to_end;
 
-class LogRoundTrip : public ::testing::Test {
- protected:
-  static void SetUpTestSuite() {
-    cluster_ = std::make_unique<nats_cluster::LocalNatsCluster>();
-    connection_ = std::make_unique<NatsConnection>(connection_to(cluster_->client_urls()));
-  }
-  static void TearDownTestSuite() {
-    connection_.reset();
-    cluster_.reset();
-  }
-  static std::unique_ptr<nats_cluster::LocalNatsCluster> cluster_;
-  static std::unique_ptr<NatsConnection> connection_;
-};
-
-std::unique_ptr<nats_cluster::LocalNatsCluster> LogRoundTrip::cluster_;
-std::unique_ptr<NatsConnection> LogRoundTrip::connection_;
+class LogRoundTrip : public testing::OneClusterPerSuite<LogRoundTrip> {};
 
 Headers headers_for(int k) {
   return {{"yoke-entry", std::to_string(k)}, {"yoke-kind", k % 2 == 0 ? "window" : "claim"},

@@ -19,22 +19,7 @@ using std::chrono::milliseconds;
 using testing::connection_to;
 using testing::log_stream;
 
-class StreamRules : public ::testing::Test {
- protected:
-  static void SetUpTestSuite() {
-    cluster_ = std::make_unique<nats_cluster::LocalNatsCluster>();
-    connection_ = std::make_unique<NatsConnection>(connection_to(cluster_->client_urls()));
-  }
-  static void TearDownTestSuite() {
-    connection_.reset();
-    cluster_.reset();
-  }
-  static std::unique_ptr<nats_cluster::LocalNatsCluster> cluster_;
-  static std::unique_ptr<NatsConnection> connection_;
-};
-
-std::unique_ptr<nats_cluster::LocalNatsCluster> StreamRules::cluster_;
-std::unique_ptr<NatsConnection> StreamRules::connection_;
+class StreamRules : public testing::OneClusterPerSuite<StreamRules> {};
 
 ClusterErrorKind kind_of(const std::function<void()>& action) {
   try {
