@@ -19,4 +19,17 @@ void purge_subject_below(NatsConnection& connection, const std::string& stream,
                    code);
 }
 
+void purge_stream_below(NatsConnection& connection, const std::string& stream,
+                        std::uint64_t below_sequence) {
+  if (below_sequence <= 1) return;
+  jsOptions options;
+  jsOptions_Init(&options);
+  options.Wait = connection.settings().api_timeout.count();
+  options.Stream.Purge.Sequence = below_sequence;
+  jsErrCode code = jsErrCode(0);
+  throw_on_failure(js_PurgeStream(connection.jetstream(), stream.c_str(), &options, &code),
+                   "purge of stream '" + stream + "' below " + std::to_string(below_sequence),
+                   code);
+}
+
 }  // namespace yoke::cluster
