@@ -1,0 +1,116 @@
+// The JetStream backend of the commit log (daemon/storage/commit_log.h): one stream per
+// installation, a subject per pool (`<prefix>.ev.<token>`, pool_subjects.h), one message per
+// pool per window (group_message.h). Positions are stream sequences: every group has its own,
+// and a window's groups are consecutive messages of the writer (other writers of the stream,
+// such as a snapshot store, may take sequences between windows; positions need not be
+// consecutive).
+//
+// Durable means acknowledged by the stream: on an R3 stream a quorum holds the message (on
+// nats-server 2.9.10 in memory and in files, fsynced within a minute; SCALE-OUT.md). There are
+// no conditional publishes and no message ids (unsafe on 2.9.10): which process may write is
+// decided elsewhere (later); this class assumes it is the only writer of its pools' subjects.
+//
+// Dropped groups are found by links, not by a stored mark: each group names the sequence of
+// its pool's previous group, so a reader from P that meets a pool's first group linking to a
+// sequence >= P knows the groups between were dropped and throws LogError ("missing").
+// Errors of daemon/cluster are rethrown as storage::LogError naming the stream.
+#pragma once
+
+#include <chrono>
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "daemon/cluster/nats_connection.h"
+#include "daemon/jetstream/pool_subjects.h"
+#include "daemon/storage/commit_log.h"
+
+namespace yoke::jetstream {
+
+struct JetStreamLogSettings {
+  std::string stream;                     // the installation's stream: letters, digits, - and _
+  std::string subject_prefix = "yoke";    // the stream holds "<prefix>.>"
+  int replicas = 3;                       // used when open() creates the stream
+  std::int64_t max_bytes = 1LL << 30;     // the stream's cap; publishes are refused beyond it
+  std::chrono::milliseconds publish_timeout{5000};  // per message of a window
+  // How long a reader waits for a message it knows is stored before giving up (LogError).
+  std::chrono::milliseconds read_timeout{5000};
+};
+
+// The read side on a stream that exists: what `yoke replay` needs; never writes. Every call
+// asks the stream leader through `connection`, which must outlive the view.
+class JetStreamView : public storage::CommitLogView {
+ public:
+  // Sends nothing. Throws std::invalid_argument for a bad subject prefix.
+  JetStreamView(cluster::NatsConnection& connection, JetStreamLogSettings settings);
+
+  std::string describe() const override;
+  // The sequence of the first stored group (of `pool`, or of any pool), 0 when none is stored.
+  // One API round trip.
+  storage::Position first_position(std::string_view pool = {}) const override;
+  // An ordered consumer over the pool's subject (all pools' when empty) from `from`; it stops
+  // at the last message stored when read_from was called. A few API round trips, then
+  // O(bytes read). Groups dropped at or above `from` (from > 0) are a LogError from next().
+  std::unique_ptr<storage::GroupReader> read_from(storage::Position from,
+                                                  std::string_view pool = {}) override;
+
+  cluster::NatsConnection& connection() const { return connection_; }
+  const JetStreamLogSettings& settings() const { return settings_; }
+  const PoolSubjects& subjects() const { return subjects_; }
+
+ private:
+  cluster::NatsConnection& connection_;
+  JetStreamLogSettings settings_;
+  PoolSubjects subjects_;
+};
+
+// The writer. One per stream and pool set at a time (not enforced here yet).
+class JetStreamCommitLog : public storage::CommitLog {
+ public:
+  // Makes sure the stream exists (cluster::ensure_stream: R`replicas`, file storage, DiscardNew
+  // at max_bytes, DenyDelete) and reads where it ends. A few API round trips. Throws LogError
+  // (unreachable, a stream of that name with other settings, too few servers) and
+  // std::invalid_argument for a bad prefix.
+  static std::unique_ptr<JetStreamCommitLog> open(cluster::NatsConnection& connection,
+                                                  JetStreamLogSettings settings);
+
+  std::string describe() const override { return view_.describe(); }
+  storage::Position first_position(std::string_view pool = {}) const override {
+    return view_.first_position(pool);
+  }
+  std::unique_ptr<storage::GroupReader> read_from(storage::Position from,
+                                                  std::string_view pool = {}) override {
+    return view_.read_from(from, pool);
+  }
+  // The stream's last sequence + 1 as of open() and this writer's acknowledgements. O(1).
+  storage::Position end_position() const override { return end_; }
+  // Beyond end_position() this works only on a stream that holds no messages: it moves the
+  // stream's sequence forward (purge below `position`) and stores a start marker on
+  // "<prefix>.start", so the next window comes after it. Throws LogError on a stream that
+  // holds messages (moving it would delete them). A few round trips.
+  void continue_from(storage::Position position) override;
+  // Publishes one message per pool (in the order of the pools' first records) and waits for
+  // each acknowledgement in turn: one round trip per pool of the window, plus, for a pool this
+  // writer has not written since open(), one lookup of its last group. Any failure (a timeout
+  // leaves the message's fate unknown) is a LogError, and every later commit is refused.
+  storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override;
+  // Purges every pool's subject below `position` (one request) and returns how many messages
+  // went (the stream's count before and after: two more round trips).
+  std::size_t drop_before(storage::Position position) override;
+
+ private:
+  JetStreamCommitLog(cluster::NatsConnection& connection, JetStreamLogSettings settings,
+                     storage::Position end);
+  storage::Position previous_of_pool(const std::string& pool);
+
+  JetStreamView view_;
+  storage::Position end_;
+  bool failed_ = false;
+  // The sequence of each pool's last group this writer knows of (links of the next groups).
+  std::map<std::string, storage::Position, std::less<>> last_of_pool_;
+};
+
+}  // namespace yoke::jetstream

@@ -1,0 +1,55 @@
+#include "jetstream_group_reader.h"
+
+#include "daemon/cluster/cluster_error.h"
+#include "daemon/cluster/subject_scan.h"
+#include "daemon/jetstream/group_message.h"
+#include "daemon/storage/storage_error.h"
+
+namespace yoke::jetstream {
+
+JetStreamGroupReader::JetStreamGroupReader(cluster::NatsConnection& connection,
+                                           const std::string& stream,
+                                           const PoolSubjects& subjects,
+                                           const std::string& filter, storage::Position from,
+                                           std::chrono::milliseconds read_timeout,
+                                           std::string where)
+    : subjects_(subjects), from_(from), read_timeout_(read_timeout), where_(std::move(where)) {
+  const std::optional<std::uint64_t> first =
+      cluster::first_sequence_from(connection, stream, filter, from == 0 ? 1 : from);
+  if (first) {
+    reader_ = std::make_unique<cluster::LogReader>(
+        connection, cluster::ReaderSettings{stream, filter, *first});
+  }
+}
+
+std::optional<storage::LoggedGroup> JetStreamGroupReader::next() {
+  if (!reader_) return std::nullopt;
+  std::optional<cluster::LogMessage> message;
+  try {
+    message = reader_->next(read_timeout_);
+  } catch (const cluster::ClusterError& error) {
+    throw storage::LogError(where_ + ": reading failed: " + error.what());
+  }
+  if (!message) {
+    throw storage::LogError(where_ + ": no message arrived within " +
+                            std::to_string(read_timeout_.count()) + " ms after sequence " +
+                            std::to_string(reader_->last_sequence()) + " though more are stored");
+  }
+  if (message->pending == 0) reader_.reset();  // the last one stored when the reading began
+  const std::optional<std::string> pool = subjects_.pool_of_subject(message->subject);
+  if (!pool) {
+    throw storage::LogDamage(where_ + ": message " + std::to_string(message->sequence) + " on '" +
+                             message->subject + "' is on no pool's subject");
+  }
+  DecodedGroup decoded = decode_group(std::move(*message), *pool, where_);
+  if (from_ > 0 && pools_seen_.insert(*pool).second && decoded.previous_of_pool >= from_) {
+    throw storage::LogError(where_ + ": groups of pool '" + *pool + "' from position " +
+                            std::to_string(from_) + " are missing (dropped): its first stored " +
+                            "group at or above it is " + std::to_string(decoded.group.position) +
+                            ", which follows one at " +
+                            std::to_string(decoded.previous_of_pool));
+  }
+  return std::move(decoded.group);
+}
+
+}  // namespace yoke::jetstream

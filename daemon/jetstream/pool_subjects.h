@@ -1,0 +1,46 @@
+// Where a pool's commit groups live in the installation's stream: `<prefix>.ev.<token>`, one
+// subject per pool. A pool name may hold '.', which separates subject tokens, so the token is
+// an escaped form of the name: ASCII letters, digits, '-' and ':' stay as they are; every other
+// byte (the daemon's pool names add only '.' and '_') becomes '_' and two lowercase hex digits:
+// "berth.7_a" -> "berth_2e7_5fa". The mapping is one to one (an '_' always starts an escape),
+// so names that differ only by escaped characters get different subjects, and a token that no
+// name maps to (an '_' not followed by two lowercase hex digits, an escape of a byte that needs
+// none) is refused when read back.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+
+namespace yoke::jetstream {
+
+// The subject token of a pool name (non-empty). Throws std::invalid_argument for "". O(length).
+std::string pool_token(std::string_view pool);
+
+// The pool name a token stands for, or nullopt when no name maps to it. O(length).
+std::optional<std::string> pool_of_token(std::string_view token);
+
+// The subjects of one installation under a prefix of one or more dot-separated tokens of ASCII
+// letters, digits, '-' and '_' ("yoke", "site-4.yoke").
+class PoolSubjects {
+ public:
+  // Throws std::invalid_argument for a prefix that is not of that form.
+  explicit PoolSubjects(std::string prefix);
+
+  const std::string& prefix() const { return prefix_; }
+  // "<prefix>.>": everything the installation's stream holds.
+  std::string stream_filter() const { return prefix_ + ".>"; }
+  // "<prefix>.ev.>": every pool's commit groups.
+  std::string all_pools() const { return prefix_ + ".ev.>"; }
+  // "<prefix>.ev.<token>". Throws std::invalid_argument for "".
+  std::string of_pool(std::string_view pool) const;
+  // The pool whose subject this is, or nullopt for a subject that is not a pool's.
+  std::optional<std::string> pool_of_subject(std::string_view subject) const;
+  // "<prefix>.start": markers that move the stream's sequence forward (continue_from).
+  std::string start_marker() const { return prefix_ + ".start"; }
+
+ private:
+  std::string prefix_;
+};
+
+}  // namespace yoke::jetstream
