@@ -126,6 +126,9 @@ std::vector<Window> sample_windows() {
 template <typename Backend>
 class CommitLogContract : public ::testing::Test {
  protected:
+  static void SetUpTestSuite() { Backend::set_up_suite(); }
+  static void TearDownTestSuite() { Backend::tear_down_suite(); }
+
   // Commits each window, checking what commit() says; returns what each returned.
   std::vector<CommittedWindow> commit_all(CommitLog& log, const std::vector<Window>& windows) {
     std::vector<CommittedWindow> committed;

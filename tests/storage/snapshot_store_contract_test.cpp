@@ -1,5 +1,5 @@
 // The snapshot store's contract (daemon/storage/snapshot_store.h), written once and run against
-// every backend in StorageBackends: snapshots written, listed newest first, read back whole,
+// every backend in SnapshotBackends: snapshots written, listed newest first, read back whole,
 // pruned to the newest kept, kept across a reopen; a damaged newest one falls back to the older
 // one; a missing one; one larger than a replicated log's message.
 //
@@ -60,7 +60,7 @@ class SnapshotStoreContract : public ::testing::Test {
   Backend backend_;
 };
 
-TYPED_TEST_SUITE(SnapshotStoreContract, StorageBackends, BackendName);
+TYPED_TEST_SUITE(SnapshotStoreContract, SnapshotBackends, BackendName);
 
 TYPED_TEST(SnapshotStoreContract, EmptyStoreHoldsNothing) {
   const auto store = this->backend_.open_snapshots(2);

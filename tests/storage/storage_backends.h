@@ -1,9 +1,15 @@
 // The storage backends the contract tests run against (commit_log_contract_test.cpp,
 // snapshot_store_contract_test.cpp): each one a class with the members below, listed in
-// StorageBackends. A new backend (a replicated log) adds its class here, and the same tests
-// run against it.
+// StorageBackends (the commit log's tests) and SnapshotBackends. A new backend adds its class
+// here, and the same tests run against it.
+//
+// The JetStream backend (jetstream_backend.h) needs a cluster of nats-server processes: the
+// executable built with YOKE_STORAGE_ON_JETSTREAM (storage_jetstream_tests, CTest label `nats`,
+// one process so that a suite shares one cluster) lists it alone; the ordinary one lists the
+// local backend.
 //
 //   static constexpr const char* kName;
+//   set_up_suite(), tear_down_suite()  before a suite's first test and after its last
 //   open_log()              the writer, over what earlier writers stored in this fixture; at
 //                           most one open at a time; small storage units, so that a few
 //                           windows fill several and drop_before has units to delete
@@ -24,6 +30,9 @@
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/snapshots/snapshot_directory.h"
 #include "tests/journal/journal_test_util.h"
+#ifdef YOKE_STORAGE_ON_JETSTREAM
+#include "jetstream_backend.h"
+#endif
 
 namespace yoke::storage::testing {
 
@@ -31,6 +40,9 @@ namespace yoke::storage::testing {
 class LocalBackend {
  public:
   static constexpr const char* kName = "local";
+
+  static void set_up_suite() {}
+  static void tear_down_suite() {}
 
   std::unique_ptr<CommitLog> open_log() {
     return journal::JournalCommitLog::open(journal_dir(), journal::testing::small_segments(512));
@@ -64,7 +76,13 @@ class LocalBackend {
   journal::testing::TempDir dir_;
 };
 
+#ifdef YOKE_STORAGE_ON_JETSTREAM
+using StorageBackends = ::testing::Types<JetStreamBackend>;
+#else
 using StorageBackends = ::testing::Types<LocalBackend>;
+#endif
+// The snapshot store has the local backend only, so far.
+using SnapshotBackends = ::testing::Types<LocalBackend>;
 
 // gtest names the typed tests' instances by backend.
 struct BackendName {
