@@ -1,5 +1,6 @@
 #include "pool_subjects.h"
 
+#include <charconv>
 #include <stdexcept>
 
 namespace yoke::jetstream {
@@ -86,6 +87,19 @@ std::optional<std::string> PoolSubjects::pool_of_subject(std::string_view subjec
   const std::string_view token = subject.substr(head.size());
   if (token.find('.') != std::string_view::npos) return std::nullopt;
   return pool_of_token(token);
+}
+
+std::optional<std::uint64_t> PoolSubjects::snapshot_of_subject(std::string_view subject) const {
+  const std::string head = prefix_ + ".snap.";
+  if (subject.substr(0, head.size()) != head) return std::nullopt;
+  const std::string_view digits = subject.substr(head.size());
+  std::uint64_t position = 0;
+  const auto [end, error] = std::from_chars(digits.data(), digits.data() + digits.size(), position);
+  if (error != std::errc() || end != digits.data() + digits.size() || digits.empty() ||
+      (digits.size() > 1 && digits.front() == '0')) {
+    return std::nullopt;
+  }
+  return position;
 }
 
 }  // namespace yoke::jetstream

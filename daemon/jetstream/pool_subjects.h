@@ -8,6 +8,7 @@
 // none) is refused when read back.
 #pragma once
 
+#include <cstdint>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -36,6 +37,14 @@ class PoolSubjects {
   std::string of_pool(std::string_view pool) const;
   // The pool whose subject this is, or nullopt for a subject that is not a pool's.
   std::optional<std::string> pool_of_subject(std::string_view subject) const;
+  // "<prefix>.snap.<position>": the chunks and the manifest of the snapshot at a position.
+  std::string of_snapshot(std::uint64_t position) const {
+    return prefix_ + ".snap." + std::to_string(position);
+  }
+  // "<prefix>.snap.*": every snapshot's subject.
+  std::string all_snapshots() const { return prefix_ + ".snap.*"; }
+  // The position a snapshot subject names, or nullopt for another subject.
+  std::optional<std::uint64_t> snapshot_of_subject(std::string_view subject) const;
   // "<prefix>.start": markers that move the stream's sequence forward (continue_from).
   std::string start_marker() const { return prefix_ + ".start"; }
 
