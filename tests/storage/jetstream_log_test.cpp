@@ -2,6 +2,7 @@
 // names that differ only by escaped characters stay apart on the stream, the subjects hold the
 // escaped tokens, a pool's reading says "missing" after a drop, continue_from refuses a stream
 // with messages, a failed commit refuses the next ones, a view of a stream that is not there.
+#include <chrono>
 #include <functional>
 #include <memory>
 #include <string>
@@ -9,6 +10,9 @@
 
 #include <gtest/gtest.h>
 
+#include "daemon/cluster/log_publisher.h"
+#include "daemon/cluster/subject_list.h"
+#include "daemon/jetstream/jetstream_snapshot_store.h"
 #include "daemon/storage/storage_error.h"
 #include "jetstream_backend.h"
 
@@ -104,6 +108,30 @@ TEST_F(JetStreamLog, AViewOfAStreamThatIsNotThereIsALogError) {
   const auto view = backend_.open_view();  // nothing opened the log: no stream
   EXPECT_NE(what_of([&] { view->read_from(0); }).find("contract-"), std::string::npos);
   EXPECT_NE(what_of([&] { view->first_position(); }).find("contract-"), std::string::npos);
+}
+
+TEST_F(JetStreamLog, ASnapshotIsChunksOfAtMostHalfAMebibyteThenAManifest) {
+  const auto store = backend_.open_snapshots(2);
+  v1::SnapshotRecord pool;
+  pool.set_pool("berth.7");
+  pool.set_seq(3);
+  pool.set_engine_state(std::string(1200 * 1024, 'w'));  // 2.3 chunks
+  store->write(30, {pool});
+  const std::string prefix = backend_.settings().subject_prefix;
+  const auto subjects = cluster::subjects_with_messages(
+      JetStreamBackend::connection(), backend_.settings().stream, prefix + ".snap.*");
+  ASSERT_EQ(subjects.size(), 1u);
+  EXPECT_EQ(subjects[0].first, prefix + ".snap.30");
+  EXPECT_EQ(subjects[0].second, 3u + 1u);  // three chunks and the manifest
+  // A write cut short: a chunk and no manifest. Listed (reading tells), damaged, and the older
+  // snapshot still reads.
+  cluster::publish_and_wait(JetStreamBackend::connection(), prefix + ".snap.40",
+                            {{"Yoke-Snapshot-Chunk", "0"}}, "part", std::chrono::seconds(5));
+  EXPECT_EQ(store->positions(), (std::vector<Position>{40, 30}));
+  EXPECT_THROW(store->read(40), SnapshotDamage);
+  const SnapshotContents back = store->read(30);
+  ASSERT_EQ(back.pools.size(), 1u);
+  EXPECT_EQ(back.pools[0].SerializeAsString(), pool.SerializeAsString());
 }
 
 }  // namespace

@@ -57,6 +57,9 @@ std::optional<Position> newest_readable(const SnapshotStore& store) {
 template <typename Backend>
 class SnapshotStoreContract : public ::testing::Test {
  protected:
+  static void SetUpTestSuite() { Backend::set_up_suite(); }
+  static void TearDownTestSuite() { Backend::tear_down_suite(); }
+
   Backend backend_;
 };
 

@@ -1,6 +1,6 @@
 // The storage backends the contract tests run against (commit_log_contract_test.cpp,
 // snapshot_store_contract_test.cpp): each one a class with the members below, listed in
-// StorageBackends (the commit log's tests) and SnapshotBackends. A new backend adds its class
+// StorageBackends (SnapshotBackends names the same list for the snapshot tests). A new backend adds its class
 // here, and the same tests run against it.
 //
 // The JetStream backend (jetstream_backend.h) needs a cluster of nats-server processes: the
@@ -81,8 +81,7 @@ using StorageBackends = ::testing::Types<JetStreamBackend>;
 #else
 using StorageBackends = ::testing::Types<LocalBackend>;
 #endif
-// The snapshot store has the local backend only, so far.
-using SnapshotBackends = ::testing::Types<LocalBackend>;
+using SnapshotBackends = StorageBackends;
 
 // gtest names the typed tests' instances by backend.
 struct BackendName {
