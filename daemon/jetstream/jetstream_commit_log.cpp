@@ -6,12 +6,12 @@
 #include "daemon/cluster/cluster_error.h"
 #include "daemon/cluster/log_publisher.h"
 #include "daemon/cluster/message_lookup.h"
-#include "daemon/cluster/stream_setup.h"
 #include "daemon/cluster/stream_status.h"
 #include "daemon/cluster/subject_purge.h"
 #include "daemon/cluster/subject_scan.h"
 #include "daemon/jetstream/group_message.h"
 #include "daemon/jetstream/jetstream_group_reader.h"
+#include "daemon/jetstream/log_stream.h"
 #include "daemon/storage/storage_error.h"
 
 namespace yoke::jetstream {
@@ -19,16 +19,6 @@ namespace {
 
 constexpr int kSequenceResync = 10077;  // "expected sequence does not match store"
 constexpr int kStartMarkerAttempts = 3;
-
-// Runs `operation`, turning daemon/cluster's errors into the storage interface's.
-template <typename Operation>
-auto as_log_error(const std::string& where, const std::string& what, Operation&& operation) {
-  try {
-    return operation();
-  } catch (const cluster::ClusterError& error) {
-    throw storage::LogError(where + ": " + what + ": " + error.what());
-  }
-}
 
 // The window's records by pool, pools in the order of their first records.
 std::vector<std::pair<std::string, std::vector<v1::JournalRecord>>> groups_by_pool(
@@ -57,7 +47,7 @@ std::string JetStreamView::describe() const {
 
 storage::Position JetStreamView::first_position(std::string_view pool) const {
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
-  return as_log_error(describe(), "finding the first group of '" + filter + "'", [&] {
+  return as_log_error(describe() + ": finding the first group of '" + filter + "'", [&] {
     return cluster::first_sequence_from(connection_, settings_.stream, filter, 1).value_or(0);
   });
 }
@@ -65,7 +55,7 @@ storage::Position JetStreamView::first_position(std::string_view pool) const {
 std::unique_ptr<storage::GroupReader> JetStreamView::read_from(storage::Position from,
                                                                std::string_view pool) {
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
-  return as_log_error(describe(), "reading '" + filter + "' from " + std::to_string(from), [&] {
+  return as_log_error(describe() + ": reading '" + filter + "' from " + std::to_string(from), [&] {
     return std::make_unique<JetStreamGroupReader>(connection_, settings_.stream, subjects_,
                                                   filter, from, settings_.read_timeout,
                                                   describe());
@@ -74,15 +64,7 @@ std::unique_ptr<storage::GroupReader> JetStreamView::read_from(storage::Position
 
 std::unique_ptr<JetStreamCommitLog> JetStreamCommitLog::open(cluster::NatsConnection& connection,
                                                              JetStreamLogSettings settings) {
-  const PoolSubjects subjects(settings.subject_prefix);
-  cluster::StreamSettings stream;
-  stream.name = settings.stream;
-  stream.subjects = {subjects.stream_filter()};
-  stream.replicas = settings.replicas;
-  stream.max_bytes = settings.max_bytes;
-  const cluster::StreamStatus status =
-      as_log_error("JetStream stream '" + settings.stream + "'", "opening it",
-                   [&] { return cluster::ensure_stream(connection, stream); });
+  const cluster::StreamStatus status = ensure_log_stream(connection, settings);
   return std::unique_ptr<JetStreamCommitLog>(
       new JetStreamCommitLog(connection, std::move(settings), status.last_sequence + 1));
 }
@@ -96,7 +78,7 @@ void JetStreamCommitLog::continue_from(storage::Position position) {
   cluster::NatsConnection& connection = view_.connection();
   const std::string& stream = view_.settings().stream;
   const std::string marker = std::to_string(position);
-  as_log_error(describe(), "moving the next position to " + marker, [&] {
+  as_log_error(describe() + ": moving the next position to " + marker, [&] {
     const cluster::StreamStatus status = cluster::stream_status(connection, stream);
     if (status.messages != 0) {
       throw storage::LogError(describe() + ": cannot move the next position to " + marker +
@@ -146,7 +128,7 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
       throw storage::LogError(describe() + ": a record cannot be stored: " + error.what());
     }
     const storage::Position sequence =
-        as_log_error(describe(), "storing a group of pool '" + pool + "'", [&] {
+        as_log_error(describe() + ": storing a group of pool '" + pool + "'", [&] {
           const GroupMessage message = encode_group(records, previous_of_pool(pool));
           return cluster::publish_and_wait(view_.connection(), subject, message.headers,
                                            message.data, view_.settings().publish_timeout);
@@ -163,7 +145,7 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
 std::size_t JetStreamCommitLog::drop_before(storage::Position position) {
   cluster::NatsConnection& connection = view_.connection();
   const std::string& stream = view_.settings().stream;
-  return as_log_error(describe(), "dropping groups below " + std::to_string(position), [&] {
+  return as_log_error(describe() + ": dropping groups below " + std::to_string(position), [&] {
     const std::uint64_t before = cluster::stream_status(connection, stream).messages;
     cluster::purge_subject_below(connection, stream, view_.subjects().all_pools(), position);
     const std::uint64_t after = cluster::stream_status(connection, stream).messages;

@@ -1,8 +1,8 @@
 #include "jetstream_group_reader.h"
 
-#include "daemon/cluster/cluster_error.h"
 #include "daemon/cluster/subject_scan.h"
 #include "daemon/jetstream/group_message.h"
+#include "daemon/jetstream/log_stream.h"
 #include "daemon/storage/storage_error.h"
 
 namespace yoke::jetstream {
@@ -24,12 +24,8 @@ JetStreamGroupReader::JetStreamGroupReader(cluster::NatsConnection& connection,
 
 std::optional<storage::LoggedGroup> JetStreamGroupReader::next() {
   if (!reader_) return std::nullopt;
-  std::optional<cluster::LogMessage> message;
-  try {
-    message = reader_->next(read_timeout_);
-  } catch (const cluster::ClusterError& error) {
-    throw storage::LogError(where_ + ": reading failed: " + error.what());
-  }
+  std::optional<cluster::LogMessage> message =
+      as_log_error(where_ + ": reading failed", [&] { return reader_->next(read_timeout_); });
   if (!message) {
     throw storage::LogError(where_ + ": no message arrived within " +
                             std::to_string(read_timeout_.count()) + " ms after sequence " +

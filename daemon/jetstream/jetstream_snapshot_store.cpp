@@ -9,13 +9,12 @@
 #include <google/protobuf/io/coded_stream.h>
 #include <google/protobuf/io/zero_copy_stream_impl_lite.h>
 
-#include "daemon/cluster/cluster_error.h"
 #include "daemon/cluster/log_publisher.h"
 #include "daemon/cluster/log_reader.h"
 #include "daemon/cluster/message_lookup.h"
-#include "daemon/cluster/stream_setup.h"
 #include "daemon/cluster/subject_list.h"
 #include "daemon/cluster/subject_purge.h"
+#include "daemon/jetstream/log_stream.h"
 #include "daemon/journal/crc32c.h"
 #include "daemon/storage/storage_error.h"
 
@@ -83,28 +82,12 @@ std::string snapshot_bytes(const std::vector<v1::SnapshotRecord>& pools) {
   return bytes;
 }
 
-template <typename Operation>
-auto with_store_errors(const std::string& where, Operation&& operation) {
-  try {
-    return operation();
-  } catch (const cluster::ClusterError& error) {
-    throw storage::LogError(where + ": " + error.what());
-  }
-}
-
 }  // namespace
 
 std::unique_ptr<JetStreamSnapshotStore> JetStreamSnapshotStore::open(
     cluster::NatsConnection& connection, JetStreamLogSettings settings, std::size_t keep) {
   if (keep == 0) throw std::invalid_argument("a snapshot store keeps at least one snapshot");
-  const PoolSubjects subjects(settings.subject_prefix);
-  cluster::StreamSettings stream;
-  stream.name = settings.stream;
-  stream.subjects = {subjects.stream_filter()};
-  stream.replicas = settings.replicas;
-  stream.max_bytes = settings.max_bytes;
-  with_store_errors("JetStream stream '" + settings.stream + "': opening it",
-                    [&] { return cluster::ensure_stream(connection, stream); });
+  ensure_log_stream(connection, settings);
   return std::unique_ptr<JetStreamSnapshotStore>(
       new JetStreamSnapshotStore(connection, std::move(settings), keep));
 }
@@ -130,7 +113,7 @@ std::string JetStreamSnapshotStore::write(storage::Position position,
   manifest.bytes = bytes.size();
   manifest.crc = journal::crc32c(bytes);
   for (const v1::SnapshotRecord& pool : pools) manifest.pools.push_back(pool.pool());
-  return with_store_errors(describe() + ": writing the snapshot at " + std::to_string(position),
+  return as_log_error(describe() + ": writing the snapshot at " + std::to_string(position),
                            [&] {
     for (std::size_t offset = 0; offset < bytes.size(); offset += kSnapshotChunkBytes) {
       const std::string_view chunk =
@@ -154,7 +137,7 @@ std::string JetStreamSnapshotStore::write(storage::Position position,
 
 std::vector<storage::Position> JetStreamSnapshotStore::positions() const {
   std::vector<storage::Position> stored;
-  with_store_errors(describe() + ": listing snapshots", [&] {
+  as_log_error(describe() + ": listing snapshots", [&] {
     for (const auto& [subject, messages] : cluster::subjects_with_messages(
              connection_, settings_.stream, subjects_.all_snapshots())) {
       const std::optional<std::uint64_t> position = subjects_.snapshot_of_subject(subject);
@@ -177,7 +160,7 @@ storage::SnapshotContents JetStreamSnapshotStore::read(storage::Position positio
   const auto damaged = [&where](const std::string& why) {
     return storage::SnapshotDamage(where + " " + why);
   };
-  const std::optional<cluster::LogMessage> last = with_store_errors(
+  const std::optional<cluster::LogMessage> last = as_log_error(
       where, [&] { return cluster::last_message(connection_, settings_.stream, subject); });
   if (!last) throw storage::LogError(where + " is not stored");
   const auto format = cluster::header_value(last->headers, kSnapshotHeader);
@@ -191,7 +174,7 @@ storage::SnapshotContents JetStreamSnapshotStore::read(storage::Position positio
   }
   std::string bytes;
   if (manifest->chunks > 0) {
-    with_store_errors(where, [&] {
+    as_log_error(where, [&] {
       cluster::LogReader reader(connection_, {settings_.stream, subject, manifest->first_chunk});
       for (std::uint64_t index = 0; index < manifest->chunks; ++index) {
         const std::optional<cluster::LogMessage> chunk = reader.next(settings_.read_timeout);
