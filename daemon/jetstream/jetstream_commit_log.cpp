@@ -134,6 +134,7 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
                                            message.data, view_.settings().publish_timeout);
         });
     last_of_pool_[pool] = sequence;
+    committed.groups.push_back({pool, sequence, true});
     if (committed.position == 0) committed.position = sequence;
     end_ = sequence + 1;
   }

@@ -1,7 +1,8 @@
 #include "journal_commit_log.h"
 
-#include <algorithm>
 #include <deque>
+#include <set>
+#include <string_view>
 #include <utility>
 
 #include "daemon/storage/storage_error.h"
@@ -147,7 +148,12 @@ storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord>
     failed_ = true;
     throw;
   }
-  return {start, end_position()};
+  storage::CommittedWindow committed{start, end_position(), {}};
+  std::set<std::string_view> pools_seen;
+  for (const v1::JournalRecord& record : window) {
+    if (pools_seen.insert(record.pool()).second) committed.groups.push_back({record.pool(), start, true});
+  }
+  return committed;
 }
 
 std::size_t JournalCommitLog::drop_before(storage::Position position) {

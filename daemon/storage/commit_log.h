@@ -81,10 +81,22 @@ class CommitLogView {
   virtual std::unique_ptr<GroupReader> read_from(Position from, std::string_view pool = {}) = 0;
 };
 
+// Where one pool's group of a window went.
+struct CommittedGroup {
+  std::string pool;
+  Position position = 0;
+  // Whether the log counts the group. A log that several writers share decides by a rule
+  // every reader applies (a replicated log: the pool's owner at that place in the log,
+  // daemon/jetstream); a group it does not count is stored but skipped by every reader, and
+  // must be neither acknowledged nor applied. The local journal counts every group.
+  bool accepted = true;
+};
+
 // What one commit() stored.
 struct CommittedWindow {
   Position position = 0;  // the window's first group's position (0 for an empty window)
   Position end = 0;       // end_position() after it
+  std::vector<CommittedGroup> groups;  // one per pool, in the order of their first records
 };
 
 // The writer's side. One CommitLog per log per process (the local journal holds a lock).
