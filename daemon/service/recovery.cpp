@@ -79,8 +79,7 @@ void apply_groups_from(storage::CommitLogView& log, storage::Position from,
       log.read_from(std::max<storage::Position>(from, 1), pool);
   while (auto group = reader->next()) {
     report.records += group->records.size();
-    apply_commit_group(to_commit_group(std::move(*group)), state);
-    ++report.commits;
+    if (apply_commit_group(to_commit_group(std::move(*group)), state)) ++report.commits;
   }
 }
 
@@ -98,14 +97,14 @@ void as_recovery(Step&& step) {
 
 }  // namespace
 
-void apply_commit_group(const CommitGroup& group, ServiceState& state) {
+bool apply_commit_group(const CommitGroup& group, ServiceState& state) {
   PoolProgress& progress = state.progress[group.pool];
   const auto fail = [&group](const std::string& why) {
     return RecoveryError("journal window " + std::to_string(group.position) + ", pool " +
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
-  if (group.records.back().seq() <= progress.seq) return;  // the snapshot holds it already
+  if (group.records.back().seq() <= progress.seq) return false;  // the state holds it already
   if (first_seq != progress.seq + 1) {
     throw fail("record seq " + std::to_string(first_seq) + " does not follow seq " +
                std::to_string(progress.seq));
@@ -130,6 +129,7 @@ void apply_commit_group(const CommitGroup& group, ServiceState& state) {
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});
     }
   }
+  return true;
 }
 
 ServiceState empty_service_state(const DaemonConfig& config) {

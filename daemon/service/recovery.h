@@ -29,7 +29,7 @@ struct RecoveryReport {
   std::vector<std::string> skipped;  // why newer snapshots were passed over
   std::size_t pools = 0;
   std::uint64_t records = 0;  // journal records replayed (in the commit groups read)
-  std::uint64_t commits = 0;
+  std::uint64_t commits = 0;  // groups applied (not those the state held already)
 };
 
 // Loads the newest snapshot whose pools restore and pass restore_checked, and whose position
@@ -54,7 +54,9 @@ void recover_pool(storage::CommitLogView& log, const storage::SnapshotStore& sna
                   const std::string& pool, ServiceState& state, RecoveryReport& report);
 
 // Following a pool: applies the groups of `pool` that the log holds above its last_position
-// in `state` (from position 1 for a pool the state holds nothing of), adding to `report`.
+// in `state` (from position 1 for a pool the state holds nothing of), adding to `report`. (The
+// local journal gives a window's groups one position, so reading from last_position + 1 may
+// return the rest of the last window's group: it is skipped by its seqs.)
 // Returns how many groups it applied. Call it again later for the groups written since; a
 // reader of one's own (CommitLogView::read_from) may instead hand each group to
 // apply_commit_group. Throws RecoveryError as recover(). O(the groups read).
@@ -64,8 +66,9 @@ std::uint64_t catch_up_pool(storage::CommitLogView& log, const std::string& pool
 // Applies one commit group to the state (recovery, and tools that replay a journal): creates
 // the pool from its first record, checks the sequence numbers and the events, commits, and
 // records the client marks; the pool's last_position becomes the group's position. Records
-// already in the state (seq <= the pool's) are skipped. Throws RecoveryError when the group
-// does not continue the pool's history.
-void apply_commit_group(const CommitGroup& group, ServiceState& state);
+// already in the state (seq <= the pool's) are skipped: returns false for a group skipped so,
+// true for one applied. Throws RecoveryError when the group does not continue the pool's
+// history.
+bool apply_commit_group(const CommitGroup& group, ServiceState& state);
 
 }  // namespace yoke::daemon
