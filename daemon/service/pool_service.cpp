@@ -32,7 +32,8 @@ bool PoolService::sealed_holds(const std::string& pool) const {
 
 void PoolService::adopt_pool(const std::string& pool, PoolState state) {
   if (window_pools_.contains(pool) || sealed_holds(pool)) {
-    throw std::logic_error("pool " + pool + " cannot be adopted while the window holds its batches");
+    throw std::logic_error("pool " + pool +
+                           " cannot be adopted while the window holds its batches");
   }
   if (!routing_.serves_every_pool()) routing_.serve_here(pool);
   put_pool_state(state_, pool, std::move(state));
@@ -69,8 +70,8 @@ void PoolService::drop_pool(const std::string& pool,
   std::erase_if(waiting_duplicates_, [&](std::pair<Ticket, v1::Ack>& waiting) {
     const v1::Ack& ack = waiting.second;
     if (ack.pool() != pool) return false;
-    replies.emplace_back(waiting.first,
-                         refuse(refused(batch_ack(ack.client_id(), ack.client_batch(), pool), error)));
+    v1::Ack refusal = refused(batch_ack(ack.client_id(), ack.client_batch(), pool), error);
+    replies.emplace_back(waiting.first, refuse(std::move(refusal)));
     return true;
   });
   window_pools_.erase(pool);  // before the pool: its checker reads it
@@ -172,7 +173,8 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
   return it->second;
 }
 
-std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(std::vector<std::string>* lost_pools) {
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
+    std::vector<std::string>* lost_pools) {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
   replies.reserve(window_.size() + waiting_duplicates_.size());
   const std::uint64_t wall_time = unix_time_us();
@@ -198,8 +200,8 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(std::vector<std::strin
   for (const storage::CommittedGroup& group : committed.groups) {
     if (!group.accepted) {
       lost.insert(group.pool);
-    } else if (auto progress = state_.progress.find(group.pool); progress != state_.progress.end()) {
-      progress->second.last_position = group.position;
+    } else if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
+      it->second.last_position = group.position;
     }
   }
   for (const std::string& pool : lost) {

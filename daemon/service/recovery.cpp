@@ -162,7 +162,8 @@ void recover_pool(storage::CommitLogView& log, const storage::SnapshotStore& sna
 std::uint64_t catch_up_pool(storage::CommitLogView& log, const std::string& pool,
                             ServiceState& state, RecoveryReport& report) {
   const auto progress = state.progress.find(pool);
-  const storage::Position from = progress == state.progress.end() ? 1 : progress->second.last_position + 1;
+  const storage::Position from =
+      progress == state.progress.end() ? 1 : progress->second.last_position + 1;
   const std::uint64_t commits_before = report.commits;
   as_recovery([&] { apply_groups_from(log, from, pool, state, report); });
   return report.commits - commits_before;

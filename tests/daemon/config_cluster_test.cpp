@@ -29,7 +29,7 @@ std::string two_instances(const std::string& extra = "") {
 }
 
 // The ConfigError validate_config throws for the config (with a data dir), "" when none.
-std::string validate_error(DaemonConfig config) {
+std::string whole_config_error(DaemonConfig config) {
   config.data_dir = "/tmp/yoke-data";
   try {
     validate_config(config);
@@ -39,7 +39,9 @@ std::string validate_error(DaemonConfig config) {
   return "";
 }
 
-std::string validate_error(const std::string& text) { return validate_error(read_text(text)); }
+std::string whole_config_error(const std::string& text) {
+  return whole_config_error(read_text(text));
+}
 
 TEST(ConfigCluster, ReadsEveryKeyAndTheInstances) {
   const DaemonConfig config = read_text(two_instances(
@@ -63,7 +65,7 @@ TEST(ConfigCluster, ReadsEveryKeyAndTheInstances) {
   EXPECT_EQ(west.publish, "ipc:///run/yoke/west-diffs");
   EXPECT_EQ(west.owns, (std::vector<std::string>{"quillory-plain", "harbour"}));
   EXPECT_EQ(west.stands_by, std::vector<std::string>{"quillory"});
-  EXPECT_EQ(validate_error(config), "");
+  EXPECT_EQ(whole_config_error(config), "");
   // Lists may be empty or left out.
   EXPECT_TRUE(read_text("[cluster]\nservers = []\n").cluster.servers.empty());
 }
@@ -167,78 +169,78 @@ TEST(ConfigCluster, InstanceTablesAdvertiseReachableEndpointsAndPlainPoolNames) 
 }
 
 TEST(ConfigCluster, JetstreamNeedsServersAndThisInstancesTable) {
+  const std::string jetstream = "[cluster]\nbackend = \"jetstream\"\n";
+  const std::string servers = "servers = [\"nats://a:4222\"]\n";
   const std::string instances =
       "[cluster.instances.east]\ningest = \"tcp://10.0.0.1:7410\"\n"
       "query = \"tcp://10.0.0.1:7412\"\npublish = \"tcp://10.0.0.1:7411\"\n";
-  EXPECT_EQ(validate_error("[cluster]\nbackend = \"jetstream\"\ninstance = \"east\"\n" + instances),
+  EXPECT_EQ(whole_config_error(jetstream + "instance = \"east\"\n" + instances),
             "cluster.servers is empty: backend \"jetstream\" needs the NATS servers to connect "
             "to");
-  EXPECT_EQ(validate_error("[cluster]\nbackend = \"jetstream\"\nservers = [\"nats://a:4222\"]\n" +
-                           instances),
+  EXPECT_EQ(whole_config_error(jetstream + servers + instances),
             "cluster.instance is not set: backend \"jetstream\" needs this daemon's name (one of "
             "the [cluster.instances.NAME] tables)");
-  EXPECT_EQ(validate_error("[cluster]\nbackend = \"jetstream\"\nservers = [\"nats://a:4222\"]\n"
-                           "instance = \"west\"\n" + instances),
+  EXPECT_EQ(whole_config_error(jetstream + servers + "instance = \"west\"\n" + instances),
             "cluster.instance is 'west', but there is no [cluster.instances.west] table");
-  EXPECT_EQ(validate_error("[cluster]\nbackend = \"jetstream\"\nservers = [\"nats://a:4222\"]\n"
-                           "instance = \"east\"\n" + instances),
+  EXPECT_EQ(whole_config_error(jetstream + servers + "instance = \"east\"\n" + instances),
             "");  // an instance that owns nothing is a standby-only one
 }
 
 TEST(ConfigCluster, EveryPoolHasOneOwnerAndStandbysForOwnedPoolsOnly) {
   DaemonConfig config = read_text(two_instances());
   config.cluster.instances.at("west").owns.push_back("quillory");
-  EXPECT_EQ(validate_error(config), "pool quillory is owned by both east and west");
+  EXPECT_EQ(whole_config_error(config), "pool quillory is owned by both east and west");
 
   config = read_text(two_instances());
   config.cluster.instances.at("west").owns.push_back("harbour");
-  EXPECT_EQ(validate_error(config), "pool harbour is listed twice in cluster.instances.west.owns");
+  EXPECT_EQ(whole_config_error(config),
+            "pool harbour is listed twice in cluster.instances.west.owns");
 
   config = read_text(two_instances());
   config.cluster.instances.at("west").stands_by.push_back("lagoon");
-  EXPECT_EQ(validate_error(config),
+  EXPECT_EQ(whole_config_error(config),
             "unknown pool lagoon in cluster.instances.west.stands_by: no instance owns it");
 
   config = read_text(two_instances());
   config.cluster.instances.at("west").stands_by.push_back("harbour");
-  EXPECT_EQ(validate_error(config),
+  EXPECT_EQ(whole_config_error(config),
             "cluster.instances.west stands by for pool harbour, which it owns itself");
 
   config = read_text(two_instances());
   config.cluster.instances.at("east").stands_by.push_back("quillory-plain");
-  EXPECT_EQ(validate_error(config),
+  EXPECT_EQ(whole_config_error(config),
             "pool quillory-plain is listed twice in cluster.instances.east.stands_by");
 }
 
 TEST(ConfigCluster, DeclaredPoolsMustBeOwnedInJetstreamOnly) {
-  EXPECT_EQ(validate_error(two_instances() + "[pools.lagoon]\nmode = \"perfect\"\n"),
+  EXPECT_EQ(whole_config_error(two_instances() + "[pools.lagoon]\nmode = \"perfect\"\n"),
             "pools.lagoon is declared, but no instance in cluster.instances owns it");
-  EXPECT_EQ(validate_error(two_instances() + "[pools.harbour]\nmode = \"perfect\"\n"), "");
-  EXPECT_EQ(validate_error("[pools.lagoon]\nmode = \"perfect\"\n"), "");  // local: any pool
+  EXPECT_EQ(whole_config_error(two_instances() + "[pools.harbour]\nmode = \"perfect\"\n"), "");
+  EXPECT_EQ(whole_config_error("[pools.lagoon]\nmode = \"perfect\"\n"), "");  // local: any pool
 }
 
 TEST(ConfigCluster, InstancesNeedBackendJetstream) {
   std::string local = two_instances();
   local.replace(local.find("jetstream"), 9, "local");
-  EXPECT_EQ(validate_error(local),
+  EXPECT_EQ(whole_config_error(local),
             "cluster.instances is given but cluster.backend is \"local\": instances share a log "
             "only with backend \"jetstream\"");
 }
 
 TEST(ConfigCluster, TakeoverMustExceedTwoHeartbeats) {
-  EXPECT_EQ(validate_error("[cluster]\nheartbeat_ms = 500\ntakeover_ms = 1000\n"),
+  EXPECT_EQ(whole_config_error("[cluster]\nheartbeat_ms = 500\ntakeover_ms = 1000\n"),
             "cluster.takeover_ms (1000) must exceed 2 x cluster.heartbeat_ms (500): a standby "
             "must not claim a pool whose owner missed one beat");
-  EXPECT_EQ(validate_error("[cluster]\nheartbeat_ms = 2000\n"),  // the default takeover, 3000
+  EXPECT_EQ(whole_config_error("[cluster]\nheartbeat_ms = 2000\n"),  // the default takeover, 3000
             "cluster.takeover_ms (3000) must exceed 2 x cluster.heartbeat_ms (2000): a standby "
             "must not claim a pool whose owner missed one beat");
-  EXPECT_EQ(validate_error("[cluster]\nheartbeat_ms = 500\ntakeover_ms = 1001\n"), "");
+  EXPECT_EQ(whole_config_error("[cluster]\nheartbeat_ms = 500\ntakeover_ms = 1001\n"), "");
 }
 
 TEST(ConfigCluster, AdvertisedEndpointsSetInCodeAreCheckedToo) {
   DaemonConfig config = read_text(two_instances());
   config.cluster.instances.at("west").publish = "tcp://*:7411";
-  EXPECT_EQ(validate_error(config),
+  EXPECT_EQ(whole_config_error(config),
             "cluster.instances.west.publish is 'tcp://*:7411': an advertised endpoint names a "
             "host clients can reach, not every interface");
 }
@@ -260,7 +262,7 @@ TEST(ConfigCluster, TheSampleFilesInstanceExampleIsAValidCluster) {
   }
   ASSERT_TRUE(inside) << "no instance example in the sample file";
   const DaemonConfig config = read_text(example.str());
-  EXPECT_EQ(validate_error(config), "");
+  EXPECT_EQ(whole_config_error(config), "");
   EXPECT_EQ(config.cluster.owner_of("quillory"), "east");
   EXPECT_EQ(config.cluster.standbys_of("quillory"), std::vector<std::string>{"west"});
   EXPECT_EQ(config.cluster.owner_of("quillory-plain"), "west");

@@ -39,7 +39,7 @@ PoolView view_in(ServiceState& state, const std::string& name) {
 }
 
 // Client id, last batch and seq of each mark, for comparisons.
-std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> marks(
+std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> pool_marks(
     const RetryLedger& ledger, const std::string& pool) {
   std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> out;
   for (const auto& [client, applied] : ledger.clients_of(pool)) {
@@ -48,7 +48,7 @@ std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> marks(
   return out;
 }
 
-std::vector<ScriptWindow> script(std::size_t windows, std::uint64_t seed) {
+std::vector<ScriptWindow> two_pool_script(std::size_t windows, std::uint64_t seed) {
   testing::ScriptSpec spec;
   spec.pools = {"default", "harbour"};
   spec.windows = windows;
@@ -56,10 +56,12 @@ std::vector<ScriptWindow> script(std::size_t windows, std::uint64_t seed) {
 }
 
 // The windows of a script from `first` to the end.
-std::vector<ScriptWindow> tail(const std::vector<ScriptWindow>& windows, std::size_t first) {
+std::vector<ScriptWindow> windows_from(const std::vector<ScriptWindow>& windows,
+                                       std::size_t first) {
   return {windows.begin() + static_cast<std::ptrdiff_t>(first), windows.end()};
 }
-std::vector<ScriptWindow> head(const std::vector<ScriptWindow>& windows, std::size_t count) {
+std::vector<ScriptWindow> first_windows(const std::vector<ScriptWindow>& windows,
+                                        std::size_t count) {
   return {windows.begin(), windows.begin() + static_cast<std::ptrdiff_t>(count)};
 }
 
@@ -112,7 +114,7 @@ TEST(PoolState, TakeAndPutMoveOnePoolsWholeState) {
 TEST(PoolProgressPosition, IsTheLastGroupsPositionLiveAndAfterRecovery) {
   ServiceHarness harness;
   std::map<std::string, std::uint64_t> expected;
-  for (const ScriptWindow& window : script(12, 7)) {
+  for (const ScriptWindow& window : two_pool_script(12, 7)) {
     const std::uint64_t position = harness.service().next_journal_position();
     for (const auto& batch : window) {
       ASSERT_FALSE(harness.offer(batch.events, batch.header).has_value());
@@ -138,7 +140,7 @@ TEST(PoolProgressPosition, IsTheLastGroupsPositionLiveAndAfterRecovery) {
 
 TEST(PoolSnapshot, OnePoolsRecordIsNamedByItsLastPositionPlusOne) {
   ServiceHarness harness;
-  ASSERT_TRUE(testing::run_script(harness, script(10, 11)));
+  ASSERT_TRUE(testing::run_script(harness, two_pool_script(10, 11)));
   std::optional<v1::SnapshotRecord> harbour = capture_pool_snapshot(harness.service(), "harbour");
   ASSERT_TRUE(harbour.has_value());
   EXPECT_EQ(harbour->journal_position(),
@@ -158,10 +160,10 @@ TEST(PoolSnapshot, OnePoolsRecordIsNamedByItsLastPositionPlusOne) {
 
 TEST(PoolRecovery, RecoversOnePoolFromTheNewestSnapshotHoldingItAndItsGroupsAfter) {
   ServiceHarness harness;
-  const std::vector<ScriptWindow> windows = script(24, 3);
-  ASSERT_TRUE(testing::run_script(harness, head(windows, 12)));
+  const std::vector<ScriptWindow> windows = two_pool_script(24, 3);
+  ASSERT_TRUE(testing::run_script(harness, first_windows(windows, 12)));
   const std::uint64_t snapshot = harness.snapshot();
-  ASSERT_TRUE(testing::run_script(harness, tail(windows, 12)));
+  ASSERT_TRUE(testing::run_script(harness, windows_from(windows, 12)));
   // lagoon starts after the snapshot: no snapshot holds it.
   ASSERT_FALSE(harness.offer({wire_set(1, 2, 3)}, from_client("skiff", 1, "lagoon")));
   harness.close();
@@ -179,7 +181,8 @@ TEST(PoolRecovery, RecoversOnePoolFromTheNewestSnapshotHoldingItAndItsGroupsAfte
   EXPECT_EQ(view_in(state, "harbour"), view_of(harness.service(), "harbour"));
   EXPECT_EQ(state.progress.at("harbour").last_position,
             harness.service().progress("harbour")->last_position);
-  EXPECT_EQ(marks(state.ledger, "harbour"), marks(harness.service().ledger(), "harbour"));
+  EXPECT_EQ(pool_marks(state.ledger, "harbour"),
+            pool_marks(harness.service().ledger(), "harbour"));
   EXPECT_EQ(state.registry.find("default"), nullptr);  // only the pool asked for
   EXPECT_NE(state.registry.find("elsewhere"), nullptr);
 
@@ -201,8 +204,8 @@ TEST(PoolRecovery, RecoversOnePoolFromTheNewestSnapshotHoldingItAndItsGroupsAfte
 
 TEST(PoolRecovery, AFollowerCatchesUpAndServesOnWhereTheOwnerStopped) {
   ServiceHarness harness;
-  const std::vector<ScriptWindow> windows = script(30, 5);
-  ASSERT_TRUE(testing::run_script(harness, head(windows, 10)));
+  const std::vector<ScriptWindow> windows = two_pool_script(30, 5);
+  ASSERT_TRUE(testing::run_script(harness, first_windows(windows, 10)));
   journal::JournalView view(harness.journal_dir());
   const SnapshotDirectory store(harness.snapshot_dir(), 2);  // empty: the log alone
   ServiceState follower = testing::fresh_state(harness.config());
@@ -210,7 +213,7 @@ TEST(PoolRecovery, AFollowerCatchesUpAndServesOnWhereTheOwnerStopped) {
   recover_pool(view, store, "harbour", follower, report);
   EXPECT_EQ(view_in(follower, "harbour"), view_of(harness.service(), "harbour"));
 
-  ASSERT_TRUE(testing::run_script(harness, tail(windows, 10)));
+  ASSERT_TRUE(testing::run_script(harness, windows_from(windows, 10)));
   const std::uint64_t commits_before = report.commits;
   const std::uint64_t applied = catch_up_pool(view, "harbour", follower, report);
   EXPECT_GT(applied, 0u);
@@ -221,7 +224,7 @@ TEST(PoolRecovery, AFollowerCatchesUpAndServesOnWhereTheOwnerStopped) {
 
   // The follower takes the pool over in a service of its own: seqs and retries continue.
   const std::uint64_t seq = harness.service().progress("harbour")->seq;
-  const auto last_marks = marks(harness.service().ledger(), "harbour");
+  const auto last_marks = pool_marks(harness.service().ledger(), "harbour");
   ASSERT_FALSE(last_marks.empty());
   harness.stop();
   DaemonConfig config = harness.config();
@@ -236,7 +239,8 @@ TEST(PoolRecovery, AFollowerCatchesUpAndServesOnWhereTheOwnerStopped) {
   successor.service().adopt_pool("harbour", *take_pool_state(follower, "harbour"));
   EXPECT_EQ(view_of(successor.service(), "harbour").seq, seq);
   const auto& [client, batch_number, client_seq] = last_marks.front();
-  const auto retry = successor.offer({wire_set(1, 2, 1)}, from_client(client, batch_number, "harbour"));
+  const auto retry =
+      successor.offer({wire_set(1, 2, 1)}, from_client(client, batch_number, "harbour"));
   ASSERT_TRUE(retry.has_value());
   ASSERT_TRUE(retry->has_accepted()) << retry->ShortDebugString();
   EXPECT_TRUE(retry->accepted().duplicate());
