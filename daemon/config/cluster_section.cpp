@@ -196,6 +196,15 @@ void validate_cluster(const DaemonConfig& config) {
         fail(table + "." + key + " " + *problem);
       }
     }
+    for (const auto& [list, pools] : {std::pair{"owns", &instance.owns},
+                                      std::pair{"stands_by", &instance.stands_by}}) {
+      for (const std::string& pool : *pools) {
+        if (auto problem = pool.empty() ? std::optional<std::string>("a pool name is not empty")
+                                        : pool_name_problem(pool)) {
+          fail(table + "." + list + " holds '" + pool + "', not a pool name: " + *problem);
+        }
+      }
+    }
     for (const std::string& pool : instance.owns) {
       const auto [it, added] = owners.emplace(pool, name);
       if (!added) {

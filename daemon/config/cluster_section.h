@@ -18,7 +18,8 @@ void read_cluster(TomlTableReader& table, ClusterSettings& out);
 // Throws ConfigError for: instances given with backend local; with backend jetstream no
 // servers, no instance or no table for it; a pool owned twice; a standby for a pool no
 // instance owns or that the instance owns itself; a pool under [pools] that no instance owns;
-// takeover not above 2 x heartbeat; a malformed or "*" advertised endpoint.
+// takeover not above 2 x heartbeat; a malformed or "*" advertised endpoint; an invalid pool
+// name in owns or stands_by.
 // O(instances x pools).
 void validate_cluster(const DaemonConfig& config);
 

@@ -97,8 +97,10 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  if (auto not_here = routing_.refusal(batch.pool, Asked::ingest)) {
-    return refuse(rejected(batch, std::move(*not_here)));
+  if (!routing_.serves_every_pool()) {  // the local backend: one test, nothing looked up
+    if (auto not_here = routing_.refusal(batch.pool, Asked::ingest)) {
+      return refuse(rejected(batch, std::move(*not_here)));
+    }
   }
 
   // A pool named for the first time is made aside and kept only if the batch is accepted: a

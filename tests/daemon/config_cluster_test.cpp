@@ -237,12 +237,17 @@ TEST(ConfigCluster, TakeoverMustExceedTwoHeartbeats) {
   EXPECT_EQ(whole_config_error("[cluster]\nheartbeat_ms = 500\ntakeover_ms = 1001\n"), "");
 }
 
-TEST(ConfigCluster, AdvertisedEndpointsSetInCodeAreCheckedToo) {
+TEST(ConfigCluster, EndpointsAndPoolNamesSetInCodeAreCheckedToo) {
   DaemonConfig config = read_text(two_instances());
   config.cluster.instances.at("west").publish = "tcp://*:7411";
   EXPECT_EQ(whole_config_error(config),
             "cluster.instances.west.publish is 'tcp://*:7411': an advertised endpoint names a "
             "host clients can reach, not every interface");
+  config = read_text(two_instances());
+  config.cluster.instances.at("east").stands_by.push_back("quay/4");
+  EXPECT_EQ(whole_config_error(config),
+            "cluster.instances.east.stands_by holds 'quay/4', not a pool name: a pool name may "
+            "hold only ASCII letters, digits and . _ - : (byte 47 is not allowed)");
 }
 
 // The sample file's instance tables are comments (a cluster is not the default); uncommented
