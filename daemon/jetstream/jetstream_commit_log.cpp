@@ -190,6 +190,9 @@ std::size_t JetStreamCommitLog::purge_below(const std::string& filter,
 
 void JetStreamCommitLog::set_epoch(std::string_view pool, std::uint64_t epoch) {
   epoch_of_pool_.insert_or_assign(std::string(pool), epoch);
+  if (const auto known = last_of_pool_.find(pool); known != last_of_pool_.end()) {
+    last_of_pool_.erase(known);
+  }
   // Epoch 0 needs no fold: it is in force from the start, so the cheap check is exact.
   if (epoch != 0) {
     unverified_epochs_.emplace(pool);

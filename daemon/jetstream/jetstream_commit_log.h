@@ -1,9 +1,9 @@
 // The JetStream backend of the commit log (daemon/storage/commit_log.h): one stream per
 // installation, a subject per pool (`<prefix>.ev.<token>`, pool_subjects.h), one message per
 // pool per window (group_message.h). Positions are stream sequences: every group has its own,
-// and a window's groups are consecutive messages of the writer (other writers of the stream,
-// such as a snapshot store, may take sequences between windows; positions need not be
-// consecutive).
+// and a window's groups are the writer's messages in order (other writers of the stream, such
+// as a snapshot store or another daemon, may take sequences between them; positions need not
+// be consecutive).
 //
 // Durable means acknowledged by the stream: on an R3 stream a quorum holds the message (on
 // nats-server 2.9.10 in memory and in files, fsynced within a minute; SCALE-OUT.md). There are
@@ -71,7 +71,8 @@ class JetStreamView : public storage::CommitLogView {
   PoolSubjects subjects_;
 };
 
-// The writer. One per stream and pool set at a time (not enforced here yet).
+// A writer. Several (one per daemon) may share the stream and write the same pool's subject;
+// whose groups count is the log's rule, through the epoch each writes a pool under.
 class JetStreamCommitLog : public storage::CommitLog {
  public:
   // Makes sure the stream exists (cluster::ensure_stream: R`replicas`, file storage, DiscardNew
@@ -108,7 +109,8 @@ class JetStreamCommitLog : public storage::CommitLog {
   // (a refused claim's sequence) is reported not accepted rather than trusted.
   // A pool whose group was not accepted is lost to this writer: its groups in later windows
   // are not published at all and are reported {pool, position 0, accepted false}, until
-  // set_epoch() gives it a new epoch. The other pools of the window are unaffected.
+  // set_epoch() gives it a new epoch. The other pools of the window are unaffected; a window
+  // that stores nothing this way has position 0 and leaves end_position() where it was.
   // Any failure (a timeout leaves the message's fate unknown) is a LogError, and every later
   // commit is refused.
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override;
@@ -119,7 +121,9 @@ class JetStreamCommitLog : public storage::CommitLog {
   // The epoch this writer writes `pool` under from the next window on: the sequence of its
   // accepted claim (claim_pool in pool_claims.h), or 0 (no claim: a single writer). Makes a
   // lost pool writable again. The caller must have read the pool's windows below the claim
-  // first (the old owner's last windows count until the claim). O(log pools), sends nothing.
+  // first (the old owner's last windows count until the claim). The pool's next group links to
+  // the subject's last message, looked up again (another writer may have written since).
+  // O(log pools), sends nothing.
   void set_epoch(std::string_view pool, std::uint64_t epoch);
   // The epoch `pool` is written under (0 when never set). O(log pools).
   std::uint64_t epoch_of(std::string_view pool) const;

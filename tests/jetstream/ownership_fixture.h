@@ -84,10 +84,13 @@ class OwnershipOnCluster : public cluster::testing::OneClusterPerSuite<Ownership
     settings_.replicas = 3;
     settings_.max_bytes = 32 << 20;
   }
-  // A second daemon's own connection to the cluster.
-  static std::unique_ptr<cluster::NatsConnection> another_connection() {
-    return std::make_unique<cluster::NatsConnection>(
-        cluster::testing::connection_to(cluster_->client_urls()));
+  // A second daemon's own connection to the cluster, its API requests answered within
+  // `api_timeout` or failed.
+  static std::unique_ptr<cluster::NatsConnection> another_connection(
+      std::chrono::milliseconds api_timeout = std::chrono::milliseconds(5000)) {
+    cluster::ConnectionSettings settings = cluster::testing::connection_to(cluster_->client_urls());
+    settings.api_timeout = api_timeout;
+    return std::make_unique<cluster::NatsConnection>(std::move(settings));
   }
 
   static inline int next_test_ = 1;
