@@ -8,6 +8,7 @@
 #include <map>
 #include <optional>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include <nlohmann/json.hpp>
@@ -248,12 +249,19 @@ TEST(OwnerFollowing, WatchPrintsEachDiffOfSeveralPublishersOnceInSeqOrder) {
   // East served seqs 1..3 and went; west took over and published 2..3 again (the diffs its
   // watchers may have missed), then 4 and 5. West's 5 comes before its 4, as if from an
   // east that still had it queued: printed in seq order all the same.
+  // West starts once east has published: a watcher's first diff is where it starts.
   FakePublisher east_publisher(east, {diff_message(1, 0), diff_message(2, 1), diff_message(3, 2)});
-  FakePublisher west_publisher(west, {diff_message(2, 1), diff_message(3, 2), diff_message(5, 4),
-                                      diff_message(4, 3)});
+  std::optional<FakePublisher> west_publisher;
+  std::thread later([&] {
+    if (!east_publisher.wait_for_subscriber(std::chrono::seconds(5))) return;
+    std::this_thread::sleep_for(std::chrono::milliseconds(100));
+    west_publisher.emplace(west, std::vector<Message>{diff_message(2, 1), diff_message(3, 2),
+                                                      diff_message(5, 4), diff_message(4, 3)});
+  });
   const RunResult result = run_yoke(
       dir, {"watch", "--pool", "quillory", "--publish", east + "," + west, "--count", "5",
             "--timeout-ms", "5000"});
+  later.join();
   ASSERT_EQ(result.exit_code, 0) << result.err;
   EXPECT_EQ(printed_seqs(result.out), (std::vector<std::uint64_t>{1, 2, 3, 4, 5}));
 }
