@@ -244,6 +244,21 @@ TEST_F(ReplayFromCluster, EveryCommitAsFromTheDataDirectory) {
       << cluster.out;
 }
 
+TEST_F(ReplayFromCluster, EveryPoolOfTheLog) {
+  const auto [cluster, dir] = replay_both("unused", {"--all-pools", "--stats", "--verify"});
+  ASSERT_EQ(cluster.exit_code, 0) << cluster.err;
+  ASSERT_EQ(dir.exit_code, 0) << dir.err;
+  EXPECT_EQ(without_timings(cluster.out), without_timings(dir.out));
+  const auto first = cluster.out.find("pool quillory\n");
+  const auto second = cluster.out.find("pool quillory-plain\n");
+  ASSERT_EQ(first, 0u) << cluster.out;
+  ASSERT_NE(second, std::string::npos) << cluster.out;
+  // Each pool's replay is the one of --pool P.
+  const auto [alone, unused] = replay_both("quillory", {"--stats", "--verify"});
+  EXPECT_EQ(without_timings(cluster.out.substr(first + 14, second - first - 14)),
+            without_timings(alone.out));
+}
+
 TEST_F(ReplayFromCluster, FromTheSnapshotAndUntilASeq) {
   expect_same("quillory", {"--from", std::to_string(snapshot_seq_ + 1), "--diffs"});
   const auto [cluster, dir] =

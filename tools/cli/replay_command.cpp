@@ -57,7 +57,9 @@ constexpr const char* kScriptHelp =
     "A cluster's log (yoked with [cluster] backend = \"jetstream\"): instead of SCRIPT,\n"
     "  --cluster nats://HOST:PORT[,...] [--stream NAME] [--subject-prefix P] --pool P\n"
     "replays pool P from the installation's JetStream stream (the windows the log counts, from\n"
-    "its snapshots as a data directory's), with the same output and options.";
+    "its snapshots as a data directory's), with the same output and options.\n"
+    "--all-pools (a data directory or a cluster) replays every pool of the log in name order,\n"
+    "each after a line `pool P` (with --stats, each pool's own stats lines).";
 
 using KeyPair = std::pair<VertexKey, VertexKey>;
 
@@ -223,6 +225,9 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
   command->add_option("--pool", options.pool,
                       "Which pool of a journal directory to replay (--mode is then the pool's own)")
       ->capture_default_str();
+  command->add_flag("--all-pools", options.all_pools,
+                    "A daemon's log: replay every pool it holds, in name order, each after a "
+                    "line 'pool P'");
   command
       ->add_option("--cluster", options.cluster.servers,
                    "Replay --pool from a cluster's JetStream stream instead of SCRIPT: its NATS "
@@ -342,9 +347,8 @@ int run_script_replay(const ReplayOptions& options) {
   return run.finish();
 }
 
-int run_journal_replay(const ReplayOptions& options) {
-  ReplayLog log(options, false);
-  JournalCommits& journal = log.commits();
+int run_pool_replay(const ReplayOptions& options, ReplayLog& log) {
+  JournalCommits& journal = log.read(options.pool, false);
   std::unique_ptr<Pool> pool = journal.start(options.from);
   ReplayRun run(options, std::cout, ReportSource{log.name(), true, options.pool, log.kind()});
   if (const auto snapshot = journal.snapshot_seq()) {
@@ -373,6 +377,23 @@ int run_journal_replay(const ReplayOptions& options) {
   return run.finish();
 }
 
+int run_journal_replay(const ReplayOptions& options) {
+  ReplayLog log(options);
+  if (!options.all_pools) return run_pool_replay(options, log);
+  if (!options.report.empty()) {
+    throw CliError("--report draws one pool: name it with --pool P instead of --all-pools");
+  }
+  const std::vector<std::string> pools = log.pools();
+  if (pools.empty()) throw CliError(log.name() + ": the log holds no pool");
+  ReplayOptions one = options;
+  for (const std::string& pool : pools) {
+    one.pool = pool;
+    std::cout << "pool " << pool << '\n';
+    if (const int code = run_pool_replay(one, log); code != kExitOk) return code;
+  }
+  return kExitOk;
+}
+
 }  // namespace
 
 Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path) {
@@ -393,6 +414,7 @@ int run_replay(const ReplayOptions& options) {
   check_source(options);
   if (wants_why(options)) return run_why_replay(options);
   if (replays_a_log(options)) return run_journal_replay(options);
+  if (options.all_pools) throw CliError("--all-pools applies to a daemon's log, not a script");
   if (options.from != 0) {
     throw CliError("--from applies to a daemon's log (a data directory or --cluster), not a "
                    "script");

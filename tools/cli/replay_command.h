@@ -52,6 +52,8 @@ struct ReplayOptions {
   // --cluster URL[,URL...] --stream NAME --subject-prefix P: read the pool's log from a
   // cluster's JetStream stream instead of SCRIPT (cluster_log.h).
   ClusterLogOptions cluster;
+  // A daemon's log only: every pool it holds, in name order, each after a line "pool P".
+  bool all_pools = false;
 };
 
 // Whether the replay reads a daemon's log (a data directory, or a cluster's with --cluster)

@@ -4,18 +4,31 @@
 
 namespace yoke::cli {
 
-ReplayLog::ReplayLog(const ReplayOptions& options, bool count_events) {
+ReplayLog::ReplayLog(const ReplayOptions& options) {
   if (options.cluster.servers.empty()) {
+    path_ = options.script_path;
     name_ = options.script_path;
     kind_ = "yoked data directory";
-    commits_ = std::make_unique<JournalCommits>(options.script_path, options.pool, count_events);
     return;
   }
   cluster_ = std::make_unique<ClusterLog>(options.cluster);
   name_ = cluster_->describe();
   kind_ = "JetStream stream";
-  commits_ = std::make_unique<JournalCommits>(cluster_->view(), &cluster_->snapshots(),
-                                              options.pool, count_events);
+}
+
+JournalCommits& ReplayLog::read(const std::string& pool, bool count_events) {
+  commits_.reset();
+  if (cluster_) {
+    commits_ = std::make_unique<JournalCommits>(cluster_->view(), &cluster_->snapshots(), pool,
+                                                count_events);
+  } else {
+    commits_ = std::make_unique<JournalCommits>(path_, pool, count_events);
+  }
+  return *commits_;
+}
+
+std::vector<std::string> ReplayLog::pools() {
+  return cluster_ ? JournalCommits::pools_in(cluster_->view()) : JournalCommits::pools_in(path_);
 }
 
 bool replays_a_log(const ReplayOptions& options) {

@@ -132,8 +132,8 @@ int run_script(const ReplayOptions& options) {
 }
 
 int run_journal(const ReplayOptions& options) {
-  ReplayLog log(options, true);
-  JournalCommits& journal = log.commits();
+  ReplayLog log(options);
+  JournalCommits& journal = log.read(options.pool, true);
   std::unique_ptr<Pool> pool = journal.start(options.from);
   const WhySource source{HistoryUnit::seq, options.pool, "pool " + options.pool};
   const std::uint64_t start_at = journal.snapshot_seq().value_or(0);
@@ -211,6 +211,10 @@ bool wants_why(const ReplayOptions& options) {
 int run_why_replay(const ReplayOptions& options) {
   if (options.history_vertices.empty() && options.explain_vertices.empty()) {
     throw CliError("--json goes with --history or --explain");
+  }
+  if (options.all_pools) {
+    throw CliError("--all-pools replays the commit lines of every pool: --history and --explain "
+                   "are about one pool (--pool P)");
   }
   if (options.diffs || options.stats || options.verify || !options.report.empty()) {
     throw CliError("--history and --explain print their answers instead of the commit lines: "
