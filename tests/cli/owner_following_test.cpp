@@ -55,6 +55,10 @@ class Ledger {
   std::uint64_t seq_ = 0;
 };
 
+FakeRouter::Answer ledger_answer(Ledger& ledger) {
+  return [&ledger](const std::string& bytes) { return ledger.answer(bytes); };
+}
+
 std::vector<EventBatch> batches_of(const FakeRouter& peer) {
   std::vector<EventBatch> batches;
   for (const std::string& bytes : peer.requests()) {
@@ -78,7 +82,7 @@ TEST(OwnerFollowing, SendResendsTheSameBatchesToTheOwnerNamed) {
   Ledger ledger;
   FakeRouter east(cluster.east_ingest,
                   ingest_not_owner(owner_at("west", cluster.west_ingest, cluster.west_query)));
-  FakeRouter west(cluster.west_ingest, [&ledger](const std::string& b) { return ledger.answer(b); });
+  FakeRouter west(cluster.west_ingest, ledger_answer(ledger));
   const RunResult result =
       run_yoke(cluster.dir, {"send", cluster.dir.write("s.events", kTwoBatches), "--pool",
                              "quillory", "--ingest", cluster.east_ingest, "--client-id", "c1"});
@@ -105,7 +109,7 @@ TEST(OwnerFollowing, SendWithoutAnOwnerNamedTriesTheNextEndpoint) {
   Cluster cluster;
   Ledger ledger;
   FakeRouter east(cluster.east_ingest, ingest_not_owner(std::nullopt));
-  FakeRouter west(cluster.west_ingest, [&ledger](const std::string& b) { return ledger.answer(b); });
+  FakeRouter west(cluster.west_ingest, ledger_answer(ledger));
   // A comma list and a repeated option name the same endpoints.
   for (const std::vector<std::string>& endpoints :
        {std::vector<std::string>{"--ingest", cluster.east_ingest + "," + cluster.west_ingest},
@@ -126,7 +130,7 @@ TEST(OwnerFollowing, SendLeavesASilentEndpointForTheNext) {
   Ledger ledger;
   // East is bound but never answers.
   FakeRouter east(cluster.east_ingest, [](const std::string&) { return std::nullopt; });
-  FakeRouter west(cluster.west_ingest, [&ledger](const std::string& b) { return ledger.answer(b); });
+  FakeRouter west(cluster.west_ingest, ledger_answer(ledger));
   const RunResult result = run_yoke(
       cluster.dir, {"send", cluster.dir.write("s.events", kTwoBatches), "--ingest",
                     cluster.east_ingest + "," + cluster.west_ingest, "--timeout-ms", "200"});
@@ -291,8 +295,9 @@ TEST(OwnerFollowing, WatchOfSeveralPublishersStillReportsARealGap) {
   ASSERT_EQ(result.exit_code, 0) << result.err;
   // catch-up, 1, 2, (gap) catch-up at 3, 4, 5.
   EXPECT_EQ(printed_seqs(result.out), (std::vector<std::uint64_t>{0, 1, 2, 0, 4, 5}));
-  EXPECT_NE(result.err.find("note: pool quillory: diff 4 follows seq 3, but the last seq held is 2"),
-            std::string::npos)
+  EXPECT_NE(
+      result.err.find("note: pool quillory: diff 4 follows seq 3, but the last seq held is 2"),
+      std::string::npos)
       << result.err;
 }
 

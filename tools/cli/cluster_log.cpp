@@ -45,7 +45,9 @@ ClusterLog::ClusterLog(const ClusterLogOptions& options) {
     if (std::find(status.subjects.begin(), status.subjects.end(), filter) ==
         status.subjects.end()) {
       std::string held;
-      for (const std::string& subject : status.subjects) held += (held.empty() ? "" : ", ") + subject;
+      for (const std::string& subject : status.subjects) {
+        held += (held.empty() ? "" : ", ") + subject;
+      }
       throw CliError("JetStream stream '" + options.stream + "' holds " + held + ", not " +
                      filter + " (is --subject-prefix right?)");
     }

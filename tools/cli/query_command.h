@@ -1,6 +1,6 @@
 // `yoke query KIND [--pool P] [--query ENDPOINT[,ENDPOINT...]] [--vertex V] [--alternatives N]
-// [--all-pools] [--text] [--timeout-ms T] [--owner-wait-ms T]`: asks yoked's query socket one question and prints the answer as one JSON
-// object (layouts in proto_json.h). KIND is one of
+// [--all-pools] [--text] [--timeout-ms T] [--owner-wait-ms T]`: asks yoked's query socket one
+// question and prints the answer as one JSON object (layouts in proto_json.h). KIND is one of
 //
 //     summary    seq, weight, pairs, vertices, edges, mode, no_perfect_matching
 //     mate       --vertex V: its mate and the pair's weight (both null when exposed)

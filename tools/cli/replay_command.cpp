@@ -366,8 +366,8 @@ int run_pool_replay(const ReplayOptions& options, ReplayLog& log) {
     }
     if (const auto rejected = pool->check(group->events)) {
       throw CliError(log.name() + ": pool " + options.pool + " seq " +
-                     std::to_string(group->records.front().seq()) + ": the journal holds an event " +
-                     "that does not apply: " + rejected->message);
+                     std::to_string(group->records.front().seq()) +
+                     ": the journal holds an event that does not apply: " + rejected->message);
     }
     run.note_wall_time(group->records.back().wall_time_unix_us());
     if (const auto failed = run.commit(*pool, group->events, group->records.back().seq())) {

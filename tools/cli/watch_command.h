@@ -1,6 +1,7 @@
 // `yoke watch [--pool P] [--publish ENDPOINT[,ENDPOINT...]] [--count N] [--catch-up]
-// [--query ENDPOINT[,ENDPOINT...]] [--timeout-ms T] [--owner-wait-ms T]`: subscribes to a pool's diffs on yoked's publication socket and prints one
-// JSON object per diff, one per line, flushed at once (layout in proto_json.h):
+// [--query ENDPOINT[,ENDPOINT...]] [--timeout-ms T] [--owner-wait-ms T]`: subscribes to a
+// pool's diffs on yoked's publication socket and prints one JSON object per diff, one per line,
+// flushed at once (layout in proto_json.h):
 //
 //     {"pool","seq","prev_seq","weight","pairs","no_perfect_matching","removed":[[a,b,w],...],
 //      "added":[[a,b,w],...],"repair_us","commit_to_publish_us","publish_unix_us","stats":{...}}
