@@ -13,6 +13,17 @@ CLI::Option* add_pool_option(CLI::App& command, std::string& pool) {
       ->capture_default_str();
 }
 
+namespace {
+
+// "a,b": how the help shows a list default, in the form the option takes.
+std::string joined(const std::vector<std::string>& endpoints) {
+  std::string text;
+  for (const std::string& endpoint : endpoints) text += (text.empty() ? "" : ",") + endpoint;
+  return text;
+}
+
+}  // namespace
+
 const char* const kEndpointsHelp =
     "Several daemons (a cluster): give each endpoint option a comma-separated list, or repeat\n"
     "it. Each pool is served by one daemon at a time; the others refuse its batches and\n"
@@ -31,7 +42,7 @@ CLI::Option* add_endpoints_option(CLI::App& command, const std::string& flag,
       ->delimiter(',')
       ->type_name("ENDPOINT")
       ->check(kNotEmpty)
-      ->capture_default_str();
+      ->default_str(joined(endpoints));
 }
 
 CLI::Option* add_owner_wait_option(CLI::App& command, std::uint64_t& owner_wait_ms) {
