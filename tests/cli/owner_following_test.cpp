@@ -105,6 +105,35 @@ TEST(OwnerFollowing, SendResendsTheSameBatchesToTheOwnerNamed) {
   EXPECT_EQ(taken[1].after_batch(), taken[0].client_batch());
 }
 
+TEST(OwnerFollowing, SendKeepsEachBatchOnceAcrossAHandover) {
+  Cluster cluster;
+  // One ledger for both: the shared log. East applies the first batch, then hands the pool
+  // over to west and refuses the rest.
+  Ledger ledger;
+  int east_answers = 0;
+  const auto handover =
+      ingest_not_owner(owner_at("west", cluster.west_ingest, cluster.west_query));
+  FakeRouter east(cluster.east_ingest, [&](const std::string& bytes) {
+    return east_answers++ == 0 ? ledger.answer(bytes) : handover(bytes);
+  });
+  FakeRouter west(cluster.west_ingest, ledger_answer(ledger));
+  const RunResult result =
+      run_yoke(cluster.dir, {"send", cluster.dir.write("s.events", "add 1\ncommit\nadd 2\n"
+                                                                   "commit\nadd 3\n"),
+                             "--pool", "quillory", "--ingest", cluster.east_ingest});
+  ASSERT_EQ(result.exit_code, 0) << result.err;
+  const auto out = nlohmann::json::parse(result.out);
+  EXPECT_EQ(out["first_seq"], 1);
+  EXPECT_EQ(out["last_seq"], 3);
+  EXPECT_EQ(out["duplicates"], 0);
+  const auto sent_east = batches_of(east);
+  const auto sent_west = batches_of(west);
+  ASSERT_EQ(sent_west.size(), 2u);
+  // West continues the chain east started.
+  EXPECT_EQ(sent_west[0].after_batch(), sent_east[0].client_batch());
+  EXPECT_EQ(sent_west[1].after_batch(), sent_west[0].client_batch());
+}
+
 TEST(OwnerFollowing, SendWithoutAnOwnerNamedTriesTheNextEndpoint) {
   Cluster cluster;
   Ledger ledger;
