@@ -2,6 +2,9 @@
 
 #include <zmq_addon.hpp>
 
+#include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/query.pb.h"
+
 namespace yoke::cli::testing {
 namespace {
 
@@ -17,6 +20,19 @@ std::optional<std::vector<std::string>> poll_message(zmq::socket_t& socket) {
   std::vector<std::string> frames;
   for (const zmq::message_t& part : parts) frames.push_back(part.to_string());
   return frames;
+}
+
+yoke::v1::Error not_owner_error(const std::optional<yoke::v1::Owner>& owner,
+                                const std::string& pool) {
+  yoke::v1::Error error;
+  error.set_code(yoke::v1::Error::NOT_OWNER);
+  if (owner) {
+    error.set_message("pool " + pool + " is served by instance " + owner->instance());
+    *error.mutable_owner() = *owner;
+  } else {
+    error.set_message("no instance serves pool " + pool + " now");
+  }
+  return error;
 }
 
 void send_frames(zmq::socket_t& socket, const std::vector<std::string>& frames) {
@@ -99,6 +115,44 @@ void FakePublisher::serve() {
     for (const Message& message : messages_) send_frames(socket_, {message.first, message.second});
     subscribed_ = true;
   }
+}
+
+FakeRouter::Answer ingest_not_owner(std::optional<yoke::v1::Owner> owner) {
+  return [owner](const std::string& bytes) -> std::optional<std::string> {
+    yoke::v1::IngestRequest request;
+    if (!request.ParseFromString(bytes)) return std::nullopt;
+    yoke::v1::IngestReply reply;
+    reply.set_version(yoke::v1::PROTOCOL_VERSION_1);
+    yoke::v1::Ack& ack = *reply.mutable_ack();
+    ack.set_client_id(request.batch().client_id());
+    ack.set_client_batch(request.batch().client_batch());
+    ack.set_pool(request.batch().pool());
+    *ack.mutable_rejected()->add_errors() = not_owner_error(owner, request.batch().pool());
+    return reply.SerializeAsString();
+  };
+}
+
+FakeRouter::Answer query_not_owner(std::optional<yoke::v1::Owner> owner) {
+  return [owner](const std::string& bytes) -> std::optional<std::string> {
+    yoke::v1::QueryRequest request;
+    if (!request.ParseFromString(bytes)) return std::nullopt;
+    yoke::v1::QueryReply reply;
+    reply.set_version(yoke::v1::PROTOCOL_VERSION_1);
+    reply.set_request_id(request.request_id());
+    reply.set_pool(request.pool());
+    *reply.mutable_error() = not_owner_error(owner, request.pool());
+    return reply.SerializeAsString();
+  };
+}
+
+yoke::v1::Owner owner_at(const std::string& instance, const std::string& ingest,
+                         const std::string& query, const std::string& publish) {
+  yoke::v1::Owner owner;
+  owner.set_instance(instance);
+  owner.set_ingest(ingest);
+  owner.set_query(query);
+  owner.set_publish(publish);
+  return owner;
 }
 
 }  // namespace yoke::cli::testing

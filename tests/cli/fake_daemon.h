@@ -15,6 +15,8 @@
 
 #include <zmq.hpp>
 
+#include "yoke/v1/protocol.pb.h"
+
 namespace yoke::cli::testing {
 
 // The ingest or query socket: a ROUTER that hands each one-frame request to `answer` and sends
@@ -71,5 +73,15 @@ class FakePublisher {
   std::atomic<bool> stop_{false};
   std::thread thread_;
 };
+
+// A daemon of a cluster that does not serve the pool: answers for FakeRouter that refuse every
+// batch (ingest) or query with NOT_OWNER, naming `owner` as the daemon that serves it, or no
+// daemon when `owner` is empty (a takeover under way).
+FakeRouter::Answer ingest_not_owner(std::optional<yoke::v1::Owner> owner);
+FakeRouter::Answer query_not_owner(std::optional<yoke::v1::Owner> owner);
+
+// An Owner with the three endpoints.
+yoke::v1::Owner owner_at(const std::string& instance, const std::string& ingest,
+                         const std::string& query, const std::string& publish = "");
 
 }  // namespace yoke::cli::testing

@@ -100,7 +100,7 @@ TEST(ReplayReport, DoublingHistogramBins) {
 }
 
 TEST(ReplayReport, DataJsonOfTwoCommits) {
-  const ReplayReport report = two_commit_report({"path.events", false, ""}, false);
+  const ReplayReport report = two_commit_report({"path.events", false, "", ""}, false);
   const auto data = nlohmann::json::parse(report.data_json());
   EXPECT_EQ(data["x_label"], "commit");
   EXPECT_EQ(data["group"], 1);
@@ -122,7 +122,8 @@ TEST(ReplayReport, DataJsonOfTwoCommits) {
 }
 
 TEST(ReplayReport, JournalReplaysUseSeqsAndShowTheTimeRange) {
-  const ReplayReport report = two_commit_report({"/data/yoked", true, "harbour"}, true);
+  const ReplayReport report =
+      two_commit_report({"/data/yoked", true, "harbour", "yoked data directory"}, true);
   const auto data = nlohmann::json::parse(report.data_json());
   EXPECT_EQ(data["x_label"], "seq");
   EXPECT_EQ(data["x"], nlohmann::json({43, 46}));
@@ -136,7 +137,7 @@ TEST(ReplayReport, JournalReplaysUseSeqsAndShowTheTimeRange) {
 }
 
 TEST(ReplayReport, LongReplaysAreDrawnInGroups) {
-  ReplayReport report({"long.events", false, ""});
+  ReplayReport report({"long.events", false, "", ""});
   Pool pool(Mode::max_weight);
   const std::size_t commits = ReplayReport::kMaxPoints * 2 + 1;
   for (std::size_t i = 1; i <= commits; ++i) {
@@ -158,7 +159,7 @@ TEST(ReplayReport, LongReplaysAreDrawnInGroups) {
 }
 
 TEST(ReplayReport, PageHoldsHeaderDataAndLibraryAndNoExternalReference) {
-  const ReplayReport report = two_commit_report({"odd <&> name.events", false, ""}, false);
+  const ReplayReport report = two_commit_report({"odd <&> name.events", false, "", ""}, false);
   const std::string page = report.html("var fake = '</script>';");
   EXPECT_EQ(page.rfind("<!DOCTYPE html>", 0), 0u);
   EXPECT_NE(page.find("<title>yoke replay: odd &lt;&amp;&gt; name.events</title>"),
@@ -186,7 +187,7 @@ TEST(ReplayReport, PageHoldsHeaderDataAndLibraryAndNoExternalReference) {
 
 TEST(ReplayReport, MissingChartJsIsAnErrorNamingThePackage) {
   ::setenv("YOKE_CHART_JS", "/nonexistent/chart.min.js", 1);
-  const ReplayReport report = two_commit_report({"x.events", false, ""}, false);
+  const ReplayReport report = two_commit_report({"x.events", false, "", ""}, false);
   try {
     report.write("/nonexistent-dir/out.html");
     ADD_FAILURE() << "no error";

@@ -1,6 +1,7 @@
 #include "batch_sender.h"
 
 #include <algorithm>
+#include <memory>
 
 #include "yoke/v1/ingest.pb.h"
 
@@ -17,9 +18,10 @@ bool asks_for_resend(int code) {
 
 class BatchSender {
  public:
-  BatchSender(EndpointClient& ingest, const std::vector<std::string>& requests,
+  BatchSender(EndpointRoute& route, const std::vector<std::string>& requests,
               const SenderSettings& settings)
-      : ingest_(ingest),
+      : route_(route),
+        ingest_(std::make_unique<EndpointClient>(zmq::socket_type::dealer, route.current())),
         requests_(requests),
         settings_(settings),
         slots_(requests.size()),
@@ -32,13 +34,20 @@ class BatchSender {
       while (next_ < end_ && next_ - oldest_ < settings_.in_flight) send(next_++);
       // The oldest unacknowledged batch was sent (or resent) first, so its silence is the one
       // that runs out first.
-      const auto frames = ingest_.receive(slots_[oldest_].sent_at + settings_.timeout);
+      const auto frames = ingest_->receive(slots_[oldest_].sent_at + settings_.timeout);
       if (frames) {
         handle(*frames);
+      } else if (route_.several()) {
+        // Counted as a resend, like silence from the only endpoint, then tried elsewhere.
+        if (out_of_retries(nullptr, oldest_)) break;
+        for (std::size_t i = oldest_; i < std::min(next_, end_); ++i) ++slots_[i].resends;
+        route_.skip_silent();
+        reconnect();
       } else {
         resend_unacknowledged(nullptr, oldest_);
       }
     }
+    report_.endpoint = route_.current();
     return report_;
   }
 
@@ -54,13 +63,22 @@ class BatchSender {
     Slot& slot = slots_[index];
     slot.sent_at = Clock::now();
     // A copy the full queue refused is as good as lost: the timeout resends it.
-    if (ingest_.send(requests_[index])) ++slot.awaiting;
+    if (ingest_->send(requests_[index])) ++slot.awaiting;
   }
 
-  // Sends every batch from the oldest unacknowledged one again, in order, keeping their numbers
-  // (each must follow its predecessor: after_batch). `cause` is the refusal that asked for it,
-  // or null for silence. Gives up when a batch has used its retries.
-  void resend_unacknowledged(const v1::Error* cause, std::size_t cause_index) {
+  // A fresh socket to route_.current(), and every batch sent and not acknowledged sent there
+  // again in order (replies still due on the old socket are lost with it).
+  void reconnect() {
+    ingest_ = std::make_unique<EndpointClient>(zmq::socket_type::dealer, route_.current());
+    for (std::size_t i = oldest_; i < std::min(next_, end_); ++i) {
+      slots_[i].awaiting = 0;
+      if (!slots_[i].done) send(i);
+    }
+  }
+
+  // Whether a batch from the oldest unacknowledged on has used its retries; if so the run
+  // fails (refused_on_retry with `cause`, or no_acknowledgement without).
+  bool out_of_retries(const v1::Error* cause, std::size_t cause_index) {
     const std::size_t stop = std::min(next_, end_);
     for (std::size_t i = oldest_; i < stop; ++i) {
       if (!slots_[i].done && slots_[i].resends >= settings_.retries) {
@@ -71,9 +89,18 @@ class BatchSender {
         } else {
           fail(Outcome::no_acknowledgement);
         }
-        return;
+        return true;
       }
     }
+    return false;
+  }
+
+  // Sends every batch from the oldest unacknowledged one again, in order, keeping their numbers
+  // (each must follow its predecessor: after_batch). `cause` is the refusal that asked for it,
+  // or null for silence. Gives up when a batch has used its retries.
+  void resend_unacknowledged(const v1::Error* cause, std::size_t cause_index) {
+    if (out_of_retries(cause, cause_index)) return;
+    const std::size_t stop = std::min(next_, end_);
     for (std::size_t i = oldest_; i < stop; ++i) {
       if (slots_[i].done) continue;
       ++slots_[i].resends;
@@ -100,6 +127,7 @@ class BatchSender {
       // (UNAVAILABLE while shutting down). The latter is left to the timeout, which resends
       // whatever is still unacknowledged.
       const v1::Error error = first_error(ack.rejected());
+      if (error.code() == v1::Error::NOT_OWNER) return move(error);
       report_.error = error;
       if (!asks_for_resend(error.code())) fail(Outcome::unreadable);
       return;
@@ -115,11 +143,24 @@ class BatchSender {
     if (slot.awaiting > 0) --slot.awaiting;
     if (slot.done) return;  // a later copy's answer to a batch already acknowledged
     if (ack.has_accepted()) return accept(slot, ack.accepted());
-    if (ack.has_rejected()) return reject(index, first_error(ack.rejected()));
+    if (ack.has_rejected()) {
+      const v1::Error error = first_error(ack.rejected());
+      if (error.code() == v1::Error::NOT_OWNER) return move(error);
+      route_.answered();
+      return reject(index, error);
+    }
     bad_reply("an acknowledgement that neither accepts nor rejects its batch");
   }
 
+  // Another daemon serves the pool (or none does, for now): nothing of this batch was
+  // applied; every unacknowledged batch goes where the route leads.
+  void move(const v1::Error& refusal) {
+    route_.follow(refusal);
+    reconnect();
+  }
+
   void accept(Slot& slot, const v1::Accepted& accepted) {
+    route_.answered();
     slot.done = true;
     const std::uint64_t seq = accepted.seq();
     report_.first_seq = report_.accepted == 0 ? seq : std::min(report_.first_seq, seq);
@@ -162,7 +203,8 @@ class BatchSender {
     finished_ = true;
   }
 
-  EndpointClient& ingest_;
+  EndpointRoute& route_;
+  std::unique_ptr<EndpointClient> ingest_;
   const std::vector<std::string>& requests_;
   const SenderSettings& settings_;
   std::vector<Slot> slots_;
@@ -175,9 +217,9 @@ class BatchSender {
 
 }  // namespace
 
-SendReport send_batches(EndpointClient& ingest, const std::vector<std::string>& requests,
+SendReport send_batches(EndpointRoute& route, const std::vector<std::string>& requests,
                         const SenderSettings& settings) {
-  return BatchSender(ingest, requests, settings).run();
+  return BatchSender(route, requests, settings).run();
 }
 
 }  // namespace yoke::cli

@@ -2,7 +2,10 @@
 // each acknowledgement to its batch (client id + batch number), and resends from the oldest
 // unacknowledged batch, with the same numbers, when the daemon asks for it (OUT_OF_ORDER,
 // UNAVAILABLE) or stays silent. The daemon applies a resent batch once (EventBatch in
-// proto/yoke/v1/events.proto), so resending is always safe.
+// proto/yoke/v1/events.proto), so resending is always safe. A NOT_OWNER refusal (a cluster:
+// another daemon serves the pool) moves the sender along its EndpointRoute and resends every
+// unacknowledged batch there, with the same numbers; so does silence when the route knows
+// several endpoints.
 #pragma once
 
 #include <chrono>
@@ -10,6 +13,7 @@
 #include <string>
 #include <vector>
 
+#include "endpoint_route.h"
 #include "yoke/v1/protocol.pb.h"
 #include "zmq_endpoint_client.h"
 
@@ -20,7 +24,8 @@ struct SenderSettings {
   std::uint64_t first_batch_number = 1;  // batch i carries first_batch_number + i
   std::size_t in_flight = 32;            // batches sent and not yet acknowledged, at most
   std::chrono::milliseconds timeout{5000};  // silence after which the unacknowledged are resent
-  unsigned retries = 5;                  // resends per batch before giving up
+  unsigned retries = 5;                  // resends per batch before giving up (silence,
+                                         // OUT_OF_ORDER, UNAVAILABLE; not NOT_OWNER moves)
 };
 
 struct SendReport {
@@ -39,6 +44,7 @@ struct SendReport {
   // last refusal that named no batch (UNAVAILABLE while shutting down), if any.
   yoke::v1::Error error;
   std::string problem;           // bad_reply
+  std::string endpoint;          // the ingest endpoint last used (for messages)
 
   std::size_t accepted = 0;    // batches acknowledged as accepted
   std::size_t duplicates = 0;  // of those, acknowledged as already applied
@@ -51,9 +57,11 @@ struct SendReport {
 
 // Sends `requests` (serialized IngestRequests, batch i numbered first_batch_number + i and
 // chained by after_batch) and waits for their acknowledgements. Stops sending at a rejected
-// batch and returns once every batch before it is acknowledged. Cost: one message per batch
-// and per resend; memory O(number of batches).
-SendReport send_batches(EndpointClient& ingest, const std::vector<std::string>& requests,
+// batch and returns once every batch before it is acknowledged. Connects to route.current()
+// and follows the route. Cost: one message per batch and per resend; memory O(number of
+// batches). Throws UnavailableError when the route gives up (EndpointRoute), CliError when
+// ZeroMQ cannot use an endpoint.
+SendReport send_batches(EndpointRoute& route, const std::vector<std::string>& requests,
                         const SenderSettings& settings);
 
 }  // namespace yoke::cli

@@ -4,6 +4,7 @@
 
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
 
@@ -21,9 +22,19 @@ extern const CLI::Validator kNotEmpty;
 // --pool P.
 CLI::Option* add_pool_option(CLI::App& command, std::string& pool);
 
-// `flag` ENDPOINT; `socket` says which of the daemon's sockets it reaches, for the help.
-CLI::Option* add_endpoint_option(CLI::App& command, const std::string& flag,
-                                 std::string& endpoint, const std::string& socket);
+// `flag` ENDPOINT[,ENDPOINT...], repeatable: the socket of each daemon of a cluster that the
+// command may try (one daemon: one endpoint, as before). `socket` says which of the daemons'
+// sockets it reaches, for the help. The default stays in `endpoints` unless the flag is given.
+CLI::Option* add_endpoints_option(CLI::App& command, const std::string& flag,
+                                  std::vector<std::string>& endpoints, const std::string& socket);
+
+// --owner-wait-ms T: how long send and query follow NOT_OWNER refusals and silent endpoints
+// (endpoint_route.h) before giving up.
+inline constexpr std::uint64_t kDefaultOwnerWaitMs = 20000;
+CLI::Option* add_owner_wait_option(CLI::App& command, std::uint64_t& owner_wait_ms);
+
+// The text for --help footers of the commands that take several endpoints.
+extern const char* const kEndpointsHelp;
 
 // --timeout-ms T, a whole number of milliseconds; `allow_zero` when 0 means "no timeout".
 CLI::Option* add_timeout_option(CLI::App& command, std::uint64_t& timeout_ms,

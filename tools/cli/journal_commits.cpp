@@ -3,6 +3,7 @@
 #include <cstdint>
 #include <iostream>
 #include <optional>
+#include <set>
 
 #include "cli_error.h"
 #include "daemon/journal/journal_commit_log.h"
@@ -11,16 +12,44 @@
 #include "daemon/snapshots/snapshot_directory.h"
 
 namespace yoke::cli {
+namespace {
+
+struct DataDirectory {
+  std::filesystem::path journal;
+  std::filesystem::path snapshots;
+};
+
+// A data directory holds journal/ and snapshots/; given its journal/, the snapshots are next
+// to it.
+DataDirectory data_directory(const std::filesystem::path& path) {
+  if (std::filesystem::is_directory(path / "journal")) {
+    return {path / "journal", path / "snapshots"};
+  }
+  return {path, path.parent_path() / "snapshots"};
+}
+
+}  // namespace
+
+std::vector<std::string> JournalCommits::pools_in(storage::CommitLogView& log) {
+  std::set<std::string> pools;
+  try {
+    const std::unique_ptr<storage::GroupReader> reader = log.read_from(0);
+    while (auto group = reader->next()) pools.insert(group->pool);
+  } catch (const std::exception& error) {
+    throw CliError(log.describe() + ": " + error.what());
+  }
+  return {pools.begin(), pools.end()};
+}
+
+std::vector<std::string> JournalCommits::pools_in(const std::filesystem::path& path) {
+  journal::JournalView log(data_directory(path).journal);
+  return pools_in(log);
+}
 
 JournalCommits::JournalCommits(const std::filesystem::path& path, const std::string& pool,
                                bool count_events)
     : pool_(pool) {
-  std::filesystem::path journal_dir = path;
-  std::filesystem::path snapshot_dir = path.parent_path() / "snapshots";
-  if (std::filesystem::is_directory(path / "journal")) {
-    journal_dir = path / "journal";
-    snapshot_dir = path / "snapshots";
-  }
+  const auto [journal_dir, snapshot_dir] = data_directory(path);
   log_name_ = journal_dir.string();
   snapshots_name_ = snapshot_dir.string();
   // Only a directory that is there: opening the store would create it.

@@ -34,6 +34,12 @@ class JournalCommits {
   JournalCommits(storage::CommitLogView& log, const storage::SnapshotStore* snapshots,
                  const std::string& pool, bool count_events = false);
 
+  // The names of the pools `log` holds groups of, sorted. Reads the whole log (every pool's
+  // subjects): O(bytes stored). Throws CliError naming the log when it cannot be read.
+  static std::vector<std::string> pools_in(storage::CommitLogView& log);
+  // The same for a data directory (or its journal/), as the first constructor finds it.
+  static std::vector<std::string> pools_in(const std::filesystem::path& path);
+
   // The pool before the first commit next() returns: with from_seq > 0, restored from the
   // newest snapshot of the pool at or before from_seq that the journal continues (else the
   // start below); else empty, made with the settings of the pool's first record, or when the

@@ -1,5 +1,7 @@
 #include "query_client.h"
 
+#include <optional>
+
 #include "cli_error.h"
 #include "proto_json.h"
 #include "zmq_endpoint_client.h"
@@ -15,11 +17,10 @@ std::uint64_t next_request_id() {
   return ++next;
 }
 
-}  // namespace
-
-yoke::v1::QueryReply ask_query(const std::string& endpoint, yoke::v1::QueryRequest request,
-                               std::chrono::milliseconds timeout) {
-  request.set_version(yoke::v1::PROTOCOL_VERSION_1);
+// One try at `endpoint`: its reply, or nothing when none comes within `timeout`.
+std::optional<yoke::v1::QueryReply> ask_once(const std::string& endpoint,
+                                             yoke::v1::QueryRequest& request,
+                                             std::chrono::milliseconds timeout) {
   request.set_request_id(next_request_id());
   EndpointClient socket(zmq::socket_type::dealer, endpoint);
   // The daemon is reached over a fresh connection whose queue cannot be full.
@@ -39,8 +40,31 @@ yoke::v1::QueryReply ask_query(const std::string& endpoint, yoke::v1::QueryReque
     // request the daemon could not read is answered with id 0.
     if (reply.request_id() == request.request_id() || reply.request_id() == 0) return reply;
   }
-  throw UnavailableError("no reply from " + endpoint + " within " +
-                         std::to_string(timeout.count()) + " ms");
+  return std::nullopt;
+}
+
+}  // namespace
+
+yoke::v1::QueryReply ask_query(EndpointRoute& route, yoke::v1::QueryRequest request,
+                               std::chrono::milliseconds timeout) {
+  request.set_version(yoke::v1::PROTOCOL_VERSION_1);
+  while (true) {
+    auto reply = ask_once(route.current(), request, timeout);
+    if (!reply) {
+      if (!route.several()) {
+        throw UnavailableError("no reply from " + route.current() + " within " +
+                               std::to_string(timeout.count()) + " ms");
+      }
+      route.skip_silent();
+      continue;
+    }
+    if (reply->has_error() && reply->error().code() == yoke::v1::Error::NOT_OWNER) {
+      route.follow(reply->error());
+      continue;
+    }
+    route.answered();
+    return *reply;
+  }
 }
 
 std::string query_error_text(const yoke::v1::Error& error) {

@@ -5,15 +5,19 @@
 #include <chrono>
 #include <string>
 
+#include "endpoint_route.h"
 #include "yoke/v1/query.pb.h"
 
 namespace yoke::cli {
 
 // Sends `request` (its version and request_id are filled in here) from a fresh DEALER socket
-// and returns the daemon's reply, which may be of kind `error`. Throws UnavailableError when no
-// reply comes within `timeout`, CliError for a reply this client cannot read or of another
-// protocol version.
-yoke::v1::QueryReply ask_query(const std::string& endpoint, yoke::v1::QueryRequest request,
+// to route.current() and returns the daemon's reply, which may be of kind `error`. A NOT_OWNER
+// reply is followed (EndpointRoute::follow: the request goes to the owner named, or after a
+// backoff to the next endpoint), and so is silence when the route knows several endpoints;
+// the reply returned is never NOT_OWNER. Throws UnavailableError when no reply comes within
+// `timeout` from the only endpoint, or the route gives up; CliError for a reply this client
+// cannot read or of another protocol version.
+yoke::v1::QueryReply ask_query(EndpointRoute& route, yoke::v1::QueryRequest request,
                                std::chrono::milliseconds timeout);
 
 // What a reply of kind `error` says, as "CODE_NAME: message".

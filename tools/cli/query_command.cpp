@@ -31,7 +31,10 @@ constexpr const char* kQueryHelp =
     "  snapshot   write a snapshot now [--all-pools]: {\"pools\":[{\"pool\",\"seq\"}],\"path\"}\n"
     "  health     {\"ok\",\"status\",\"uptime_s\",\"pools\",\"daemon_version\"}\n"
     "Exit codes: 0 answered; 2 the daemon answered with an error (printed as\n"
-    "'error: CODE: message') or the options do not fit KIND; 4 no reply within --timeout-ms.\n"
+    "'error: CODE: message') or the options do not fit KIND; 4 no reply within --timeout-ms,\n"
+    "or no daemon served the pool within --owner-wait-ms.\n";
+
+constexpr const char* kExplanationKeysHead =
     "Explanation keys (the same as `yoke replay --explain V --json`):\n";
 
 // Options that only some kinds take: naming one for another kind is a mistake worth reporting.
@@ -87,7 +90,7 @@ CLI::App* add_query_command(CLI::App& app, QueryOptions& options) {
       ->check(CLI::IsMember(
           {"summary", "mate", "matching", "explain", "stats", "snapshot", "health"}));
   add_pool_option(*command, options.pool);
-  add_endpoint_option(*command, "--query", options.endpoint, "The daemon's query socket");
+  add_endpoints_option(*command, "--query", options.endpoints, "The daemon's query socket");
   command
       ->add_option_function<std::uint64_t>(
           "--vertex", [&options](const std::uint64_t& vertex) { options.vertex = vertex; },
@@ -100,19 +103,22 @@ CLI::App* add_query_command(CLI::App& app, QueryOptions& options) {
   command->add_flag("--all-pools", options.all_pools, "Snapshot every pool (snapshot)");
   command->add_flag("--text", options.text, "Explain in sentences instead of JSON (explain)");
   add_timeout_option(*command, options.timeout_ms, "How long to wait for the reply", false);
-  command->footer(std::string(kQueryHelp) + kExplanationJsonHelp);
+  add_owner_wait_option(*command, options.owner_wait_ms);
+  command->footer(std::string(kQueryHelp) + kEndpointsHelp + "\n" + kExplanationKeysHead +
+                  kExplanationJsonHelp);
   return command;
 }
 
 int run_query(const QueryOptions& options) {
   check_options_fit(options);
   const QueryRequest request = build_request(options);
-  const QueryReply reply =
-      ask_query(options.endpoint, request, timeout_from_option(options.timeout_ms));
+  EndpointRoute route(options.endpoints, SocketKind::query, options.pool,
+                      timeout_from_option(options.owner_wait_ms));
+  const QueryReply reply = ask_query(route, request, timeout_from_option(options.timeout_ms));
   if (reply.has_error()) throw CliError(query_error_text(reply.error()));
   // The schema numbers each reply kind as its request kind (query.proto, fields 10 to 16).
   if (static_cast<int>(reply.kind_case()) != static_cast<int>(request.kind_case())) {
-    throw CliError(options.endpoint + ": the daemon answered a " + options.kind +
+    throw CliError(route.current() + ": the daemon answered a " + options.kind +
                    " query with a reply of another kind");
   }
   if (options.text) {

@@ -1,7 +1,6 @@
-// `yoke query KIND [--pool P] [--query ENDPOINT] [--vertex V] [--alternatives N]
-// [--all-pools] [--text]
-// [--timeout-ms T]`: asks yoked's query socket one question and prints the answer as one JSON
-// object (layouts in proto_json.h). KIND is one of
+// `yoke query KIND [--pool P] [--query ENDPOINT[,ENDPOINT...]] [--vertex V] [--alternatives N]
+// [--all-pools] [--text] [--timeout-ms T] [--owner-wait-ms T]`: asks yoked's query socket one
+// question and prints the answer as one JSON object (layouts in proto_json.h). KIND is one of
 //
 //     summary    seq, weight, pairs, vertices, edges, mode, no_perfect_matching
 //     mate       --vertex V: its mate and the pair's weight (both null when exposed)
@@ -15,12 +14,14 @@
 //     health     whether the daemon serves
 //
 // A reply of kind error is printed as "error: CODE_NAME: message" (exit 2); no reply within
-// the timeout is exit 4.
+// the timeout is exit 4. With several query endpoints (a cluster), a NOT_OWNER refusal is
+// followed to the daemon that serves the pool (endpoint_route.h).
 #pragma once
 
 #include <cstdint>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
 
@@ -31,12 +32,13 @@ namespace yoke::cli {
 struct QueryOptions {
   std::string kind;
   std::string pool = kDefaultPool;
-  std::string endpoint = kDefaultQueryEndpoint;
+  std::vector<std::string> endpoints{kDefaultQueryEndpoint};
   std::optional<std::uint64_t> vertex;  // mate and explain
   std::uint32_t alternatives = 0;       // explain: alternatives at most; 0 the daemon's default
   bool all_pools = false;               // snapshot
   bool text = false;                    // explain: in words (explanation_text.h), not JSON
   std::uint64_t timeout_ms = 5000;
+  std::uint64_t owner_wait_ms = kDefaultOwnerWaitMs;
 };
 
 CLI::App* add_query_command(CLI::App& app, QueryOptions& options);

@@ -14,12 +14,14 @@
 
 #include "certified_matching.h"
 #include "cli_error.h"
+#include "client_options.h"
 #include "engine/certificate.h"
 #include "engine/pool.h"
 #include "event_script.h"
 #include "file_io.h"
 #include "journal_commits.h"
 #include "progress_bar.h"
+#include "replay_log.h"
 #include "replay_report.h"
 #include "replay_why.h"
 
@@ -41,7 +43,8 @@ constexpr const char* kScriptHelp =
     "is applied.\n"
     "Output, per commit I (from 1):\n"
     "  commit I weight W pairs K repair_us T\n"
-    "  (from a journal directory the line ends in `seq S`, the pool's sequence number)\n"
+    "  (from a journal directory or a cluster the line ends in `seq S`, the pool's sequence\n"
+    "  number)\n"
     "  note: commit I: no perfect matching (K pairs for N vertices)    [perfect mode]\n"
     "  - A B / + A B    pairs removed, then added (A < B, sorted)     [--diffs]\n"
     "and after the last commit with --stats:\n"
@@ -50,7 +53,13 @@ constexpr const char* kScriptHelp =
     "  stats searches_per_commit mean X max Y\n"
     "  stats touched_per_commit mean X p99 Y max Z\n"
     "  stats events_per_second X\n"
-    "Only the timings differ between runs.";
+    "Only the timings differ between runs.\n"
+    "A cluster's log (yoked with [cluster] backend = \"jetstream\"): instead of SCRIPT,\n"
+    "  --cluster nats://HOST:PORT[,...] [--stream NAME] [--subject-prefix P] --pool P\n"
+    "replays pool P from the installation's JetStream stream (the windows the log counts, from\n"
+    "its snapshots as a data directory's), with the same output and options.\n"
+    "--all-pools (a data directory or a cluster) replays every pool of the log in name order,\n"
+    "each after a line `pool P` (with --stats, each pool's own stats lines).";
 
 using KeyPair = std::pair<VertexKey, VertexKey>;
 
@@ -199,8 +208,8 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
   CLI::App* command = app.add_subcommand(
       "replay", "Replay an event script through an incremental pool, one line per commit");
   command->add_option("SCRIPT", options.script_path,
-                      "Event-script file, - for stdin, or a yoked data or journal directory")
-      ->required();
+                      "Event-script file, - for stdin, or a yoked data or journal directory "
+                      "(none with --cluster)");
   command->add_option("--mode", options.mode, "What to optimise")
       ->check(CLI::IsMember({"max-weight", "max-cardinality", "perfect"}))
       ->capture_default_str();
@@ -216,6 +225,24 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options) {
   command->add_option("--pool", options.pool,
                       "Which pool of a journal directory to replay (--mode is then the pool's own)")
       ->capture_default_str();
+  command->add_flag("--all-pools", options.all_pools,
+                    "A daemon's log: replay every pool it holds, in name order, each after a "
+                    "line 'pool P'");
+  command
+      ->add_option("--cluster", options.cluster.servers,
+                   "Replay --pool from a cluster's JetStream stream instead of SCRIPT: its NATS "
+                   "servers, a comma-separated list or the option repeated")
+      ->delimiter(',')
+      ->type_name("URL")
+      ->check(kNotEmpty);
+  command
+      ->add_option("--stream", options.cluster.stream,
+                   "With --cluster: the installation's stream ([cluster] stream)")
+      ->capture_default_str();
+  command
+      ->add_option("--subject-prefix", options.cluster.subject_prefix,
+                   "With --cluster: the stream's subject prefix ([cluster] subject_prefix)")
+      ->capture_default_str();
   command->add_option("--report", options.report,
                       "Also write a self-contained HTML page of charts about the replay to FILE "
                       "(needs Debian's libjs-chart.js)")
@@ -230,12 +257,9 @@ namespace {
 // The commit loop both sources share: repair, print, and optionally verify and count.
 class ReplayRun {
  public:
-  ReplayRun(const ReplayOptions& options, std::ostream& out) : options_(options), out_(out) {
-    if (!options.report.empty()) {
-      report_.emplace(ReportSource{options.script_path,
-                                   std::filesystem::is_directory(options.script_path),
-                                   options.pool});
-    }
+  ReplayRun(const ReplayOptions& options, std::ostream& out, ReportSource source)
+      : options_(options), out_(out) {
+    if (!options.report.empty()) report_.emplace(std::move(source));
   }
 
   // A progress bar on stderr over `total` commits, when stderr is a terminal (progress_bar.h).
@@ -310,7 +334,8 @@ int run_script_replay(const ReplayOptions& options) {
   const Mode mode = parse_mode(options.mode);
   const EventScript script = load_event_script(options.script_path);
   Pool pool = make_pool(mode, script, options.script_path);
-  ReplayRun run(options, std::cout);
+  ReplayRun run(options, std::cout,
+                ReportSource{options.script_path, false, options.pool, "event script"});
   run.show_progress(batches_until(script, options.until).size());
   for (const ScriptBatch& batch : batches_until(script, options.until)) {
     if (const auto rejected = pool.check(batch.events)) {
@@ -322,10 +347,10 @@ int run_script_replay(const ReplayOptions& options) {
   return run.finish();
 }
 
-int run_journal_replay(const ReplayOptions& options) {
-  JournalCommits journal(options.script_path, options.pool);
+int run_pool_replay(const ReplayOptions& options, ReplayLog& log) {
+  JournalCommits& journal = log.read(options.pool, false);
   std::unique_ptr<Pool> pool = journal.start(options.from);
-  ReplayRun run(options, std::cout);
+  ReplayRun run(options, std::cout, ReportSource{log.name(), true, options.pool, log.kind()});
   if (const auto snapshot = journal.snapshot_seq()) {
     std::cout << "note: starting from the snapshot at seq " << *snapshot << "\n";
     run.start_from(*pool);
@@ -340,9 +365,9 @@ int run_journal_replay(const ReplayOptions& options) {
       break;
     }
     if (const auto rejected = pool->check(group->events)) {
-      throw CliError(options.script_path + ": pool " + options.pool + " seq " +
-                     std::to_string(group->records.front().seq()) + ": the journal holds an event " +
-                     "that does not apply: " + rejected->message);
+      throw CliError(log.name() + ": pool " + options.pool + " seq " +
+                     std::to_string(group->records.front().seq()) +
+                     ": the journal holds an event that does not apply: " + rejected->message);
     }
     run.note_wall_time(group->records.back().wall_time_unix_us());
     if (const auto failed = run.commit(*pool, group->events, group->records.back().seq())) {
@@ -352,17 +377,47 @@ int run_journal_replay(const ReplayOptions& options) {
   return run.finish();
 }
 
+int run_journal_replay(const ReplayOptions& options) {
+  ReplayLog log(options);
+  if (!options.all_pools) return run_pool_replay(options, log);
+  if (!options.report.empty()) {
+    throw CliError("--report draws one pool: name it with --pool P instead of --all-pools");
+  }
+  const std::vector<std::string> pools = log.pools();
+  if (pools.empty()) throw CliError(log.name() + ": the log holds no pool");
+  ReplayOptions one = options;
+  for (const std::string& pool : pools) {
+    one.pool = pool;
+    std::cout << "pool " << pool << '\n';
+    if (const int code = run_pool_replay(one, log); code != kExitOk) return code;
+  }
+  return kExitOk;
+}
+
 }  // namespace
 
 Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path) {
   return make_pool(mode, script, path);
 }
 
+void check_source(const ReplayOptions& options) {
+  if (options.cluster.servers.empty() && options.script_path.empty()) {
+    throw CliError("replay needs SCRIPT (a script or a data directory) or --cluster URL");
+  }
+  if (!options.cluster.servers.empty() && !options.script_path.empty()) {
+    throw CliError("--cluster replays a cluster's log: it takes no SCRIPT ('" +
+                   options.script_path + "')");
+  }
+}
+
 int run_replay(const ReplayOptions& options) {
+  check_source(options);
   if (wants_why(options)) return run_why_replay(options);
-  if (std::filesystem::is_directory(options.script_path)) return run_journal_replay(options);
+  if (replays_a_log(options)) return run_journal_replay(options);
+  if (options.all_pools) throw CliError("--all-pools applies to a daemon's log, not a script");
   if (options.from != 0) {
-    throw CliError("--from applies to a daemon's journal directory, not a script");
+    throw CliError("--from applies to a daemon's log (a data directory or --cluster), not a "
+                   "script");
   }
   return run_script_replay(options);
 }

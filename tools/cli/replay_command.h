@@ -24,6 +24,7 @@
 
 #include <CLI/CLI.hpp>
 
+#include "cluster_log.h"
 #include "engine/pool.h"
 #include "event_script.h"
 
@@ -48,7 +49,16 @@ struct ReplayOptions {
   std::vector<std::uint64_t> explain_vertices;
   std::size_t alternatives = 5;
   bool json = false;
+  // --cluster URL[,URL...] --stream NAME --subject-prefix P: read the pool's log from a
+  // cluster's JetStream stream instead of SCRIPT (cluster_log.h).
+  ClusterLogOptions cluster;
+  // A daemon's log only: every pool it holds, in name order, each after a line "pool P".
+  bool all_pools = false;
 };
+
+// Whether the replay reads a daemon's log (a data directory, or a cluster's with --cluster)
+// rather than an event script.
+bool replays_a_log(const ReplayOptions& options);
 
 CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
 

@@ -454,8 +454,8 @@ std::string ReplayReport::header_rows() const {
   std::string rows;
   if (source_.journal) {
     rows += row("Source", "summary-source",
-                "yoked data directory <code>" + html_escape(source_.path) + "</code>, pool <code>" +
-                    html_escape(source_.pool) + "</code>");
+                html_escape(source_.log_kind) + " <code>" + html_escape(source_.path) +
+                    "</code>, pool <code>" + html_escape(source_.pool) + "</code>");
   } else {
     rows += row("Source", "summary-source",
                 "event script <code>" + html_escape(source_.path) + "</code>");

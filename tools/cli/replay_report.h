@@ -69,9 +69,10 @@ std::string chart_js_path();
 
 // Where the replay came from, for the header.
 struct ReportSource {
-  std::string path;  // the script file or the data directory
+  std::string path;  // the script file or the data directory (or the cluster's log, described)
   bool journal = false;
   std::string pool;  // journal only
+  std::string log_kind = "yoked data directory";  // journal: what `path` names
 };
 
 class ReplayReport {

@@ -15,6 +15,7 @@
 #include "journal_commits.h"
 #include "number_options.h"
 #include "proto_json.h"
+#include "replay_log.h"
 #include "vertex_history.h"
 
 namespace yoke::cli {
@@ -131,7 +132,8 @@ int run_script(const ReplayOptions& options) {
 }
 
 int run_journal(const ReplayOptions& options) {
-  JournalCommits journal(options.script_path, options.pool, true);
+  ReplayLog log(options);
+  JournalCommits& journal = log.read(options.pool, true);
   std::unique_ptr<Pool> pool = journal.start(options.from);
   const WhySource source{HistoryUnit::seq, options.pool, "pool " + options.pool};
   const std::uint64_t start_at = journal.snapshot_seq().value_or(0);
@@ -153,7 +155,7 @@ int run_journal(const ReplayOptions& options) {
       break;
     }
     if (const auto rejected = pool->check(group->events)) {
-      throw CliError(options.script_path + ": pool " + options.pool + " seq " +
+      throw CliError(log.name() + ": pool " + options.pool + " seq " +
                      std::to_string(first_seq) + ": the journal holds an event " +
                      "that does not apply: " + rejected->message);
     }
@@ -210,13 +212,18 @@ int run_why_replay(const ReplayOptions& options) {
   if (options.history_vertices.empty() && options.explain_vertices.empty()) {
     throw CliError("--json goes with --history or --explain");
   }
+  if (options.all_pools) {
+    throw CliError("--all-pools replays the commit lines of every pool: --history and --explain "
+                   "are about one pool (--pool P)");
+  }
   if (options.diffs || options.stats || options.verify || !options.report.empty()) {
     throw CliError("--history and --explain print their answers instead of the commit lines: "
                    "--diffs, --stats, --verify and --report do not go with them");
   }
-  if (std::filesystem::is_directory(options.script_path)) return run_journal(options);
+  if (replays_a_log(options)) return run_journal(options);
   if (options.from != 0) {
-    throw CliError("--from applies to a daemon's journal directory, not a script");
+    throw CliError("--from applies to a daemon's log (a data directory or --cluster), not a "
+                   "script");
   }
   return run_script(options);
 }

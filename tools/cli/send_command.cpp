@@ -24,10 +24,12 @@ constexpr const char* kSendHelp =
     "wait for their acknowledgement at once. A batch the daemon refuses with OUT_OF_ORDER or\n"
     "UNAVAILABLE, or does not acknowledge within --timeout-ms, is sent again with every\n"
     "unacknowledged batch after it, under the same numbers (the daemon applies each once), at\n"
-    "most --retries times. Output once every batch is acknowledged:\n"
+    "most --retries times (with several endpoints, a silent one is left for the next).\n"
+    "Output once every batch is acknowledged:\n"
     "  {\"pool\":P,\"batches\":N,\"events\":E,\"first_seq\":S1,\"last_seq\":S2,\"duplicates\":D}\n"
     "Exit codes: 0 all acknowledged; 2 a malformed script, or a batch the daemon rejects\n"
-    "(FILE:LINE names its event); 4 no acknowledgement after the retries.";
+    "(FILE:LINE names its event); 4 no acknowledgement after the retries, or no daemon\n"
+    "served the pool within --owner-wait-ms.\n";
 
 // One batch as the ingest socket takes it.
 std::string ingest_request(const ScriptBatch& batch, const SendOptions& options,
@@ -85,7 +87,7 @@ void throw_failure(const SendOptions& options, const EventScript& script,
       throw CliError(message);
     }
     case Outcome::no_acknowledgement: {
-      std::string message = "no acknowledgement from " + options.ingest + " after " + retries;
+      std::string message = "no acknowledgement from " + report.endpoint + " after " + retries;
       if (report.error.code() != yoke::v1::Error::CODE_UNSPECIFIED) {
         message += " (last answer: " + error_code_name(report.error.code()) + ": " +
                    report.error.message() + ")";
@@ -93,11 +95,11 @@ void throw_failure(const SendOptions& options, const EventScript& script,
       throw UnavailableError(message);
     }
     case Outcome::unreadable:
-      throw CliError(display_name(options.script_path) + ": the daemon at " + options.ingest +
+      throw CliError(display_name(options.script_path) + ": the daemon at " + report.endpoint +
                      " could not read a batch: " + error_code_name(report.error.code()) + ": " +
                      report.error.message());
     case Outcome::bad_reply:
-      throw CliError(options.ingest + ": " + report.problem);
+      throw CliError(report.endpoint + ": " + report.problem);
   }
 }
 
@@ -109,7 +111,7 @@ CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
   command->add_option("SCRIPT", options.script_path, "Event-script file, or - for stdin")
       ->required();
   add_pool_option(*command, options.pool);
-  add_endpoint_option(*command, "--ingest", options.ingest, "The daemon's ingest socket");
+  add_endpoints_option(*command, "--ingest", options.ingest, "The daemon's ingest socket");
   command
       ->add_option("--client-id", options.client_id,
                    "The sender's name for exactly-once retries [default: yoke-send-HOST-PID]")
@@ -122,7 +124,8 @@ CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
   command->add_option("--retries", options.retries, "Resends of one batch before giving up")
       ->check(kNotNegative)
       ->capture_default_str();
-  command->footer(kSendHelp);
+  add_owner_wait_option(*command, options.owner_wait_ms);
+  command->footer(std::string(kSendHelp) + kEndpointsHelp);
   return command;
 }
 
@@ -148,8 +151,9 @@ int run_send(const SendOptions& options) {
 
   SendReport report;
   if (!requests.empty()) {  // nothing to send: no need for a daemon either
-    EndpointClient ingest(zmq::socket_type::dealer, options.ingest);
-    report = send_batches(ingest, requests, settings);
+    EndpointRoute route(options.ingest, SocketKind::ingest, options.pool,
+                        timeout_from_option(options.owner_wait_ms));
+    report = send_batches(route, requests, settings);
   }
   throw_failure(options, script, report);
 

@@ -4,11 +4,13 @@
 
 #include <atomic>
 #include <iostream>
+#include <map>
 #include <optional>
 
 #include "cli_error.h"
 #include "number_options.h"
 #include "proto_json.h"
+#include "endpoint_route.h"
 #include "query_client.h"
 #include "yoke/v1/publish.pb.h"
 #include "zmq_endpoint_client.h"
@@ -26,6 +28,10 @@ constexpr const char* kWatchHelp =
     "With --catch-up, first the pool's whole matching with \"catch_up\":true (as `yoke query\n"
     "matching` prints it), then the diffs after its seq; a missed diff is noted on stderr\n"
     "(note: ...) and the matching fetched again, printed the same way.\n"
+    "Several --publish endpoints (a cluster): every one is subscribed to, and each diff\n"
+    "(pool, seq) is printed once, in seq order; a diff that skips seqs waits a moment for the\n"
+    "ones between from another daemon. The --catch-up query follows NOT_OWNER refusals among\n"
+    "the --query endpoints (for at most --owner-wait-ms).\n"
     "Exit codes: 0 after --count diffs, or on SIGINT/SIGTERM; 2 an unreadable publication or\n"
     "query error; 4 nothing within --timeout-ms.";
 
@@ -56,53 +62,123 @@ class Watcher {
   explicit Watcher(const WatchOptions& options)
       : options_(options),
         timeout_(timeout_from_option(options.timeout_ms)),
-        subscriber_(zmq::socket_type::sub, options.publish) {
+        subscriber_(zmq::socket_type::sub, options.publish.front()),
+        several_(options.publish.size() > 1),
+        query_route_(options.query, SocketKind::query, options.pool,
+                     timeout_from_option(options.owner_wait_ms)) {
+    for (std::size_t i = 1; i < options.publish.size(); ++i) {
+      subscriber_.connect(options.publish[i]);
+    }
     subscriber_.subscribe(options.pool);
   }
 
   int run() {
     // Subscribed before the matching is fetched, so no diff after it can slip past.
     if (options_.catch_up) catch_up();
-    std::uint64_t printed = 0;
     Deadline deadline = deadline_after(timeout_);
-    while (options_.count == 0 || printed < options_.count) {
-      const auto frames = subscriber_.receive(deadline, &stop_requested);
+    while (!done()) {
+      Deadline wait = deadline;
+      if (!held_back_.empty()) {
+        const auto release = held_since_ + kReorderWait;
+        if (!wait || release < *wait) wait = release;
+      }
+      const auto frames = subscriber_.receive(wait, &stop_requested);
       if (!frames) {
         if (stop_requested.load()) return kExitOk;
+        if (!held_back_.empty() && Clock::now() >= held_since_ + kReorderWait) {
+          release_held_back();
+          continue;
+        }
         throw UnavailableError("no publication for pool " + options_.pool + " from " +
-                               options_.publish + " within " + std::to_string(timeout_.count()) +
+                               endpoints_text() + " within " + std::to_string(timeout_.count()) +
                                " ms");
       }
       // Subscriptions match prefixes: pool "city" also receives "city-east".
       if (frames->empty() || frames->front() != options_.pool) continue;
       deadline = deadline_after(timeout_);
-      if (const auto diff = read_diff(*frames)) {
-        if (take(*diff)) ++printed;
-      }
+      if (const auto diff = read_diff(*frames)) offer(*diff);
     }
     return kExitOk;
   }
 
  private:
+  bool done() const { return options_.count != 0 && printed_ >= options_.count; }
+
+  std::string endpoints_text() const {
+    std::string text;
+    for (const std::string& endpoint : options_.publish) {
+      text += (text.empty() ? "" : ", ") + endpoint;
+    }
+    return text;
+  }
+
   // The diff a message carries; nothing for a kind this client does not know.
   std::optional<Diff> read_diff(const std::vector<std::string>& frames) const {
     yoke::v1::Publication publication;
     if (frames.size() != 2 || !publication.ParseFromString(frames[1])) {
-      throw CliError(options_.publish + ": a publication that is not a topic frame and a " +
+      throw CliError(endpoints_text() + ": a publication that is not a topic frame and a " +
                      "yoke.v1.Publication");
     }
     if (publication.version() != yoke::v1::PROTOCOL_VERSION_1) {
-      throw CliError(options_.publish + ": a publication in protocol version " +
+      throw CliError(endpoints_text() + ": a publication in protocol version " +
                      std::to_string(publication.version()) + " (this yoke speaks version 1)");
     }
     if (!publication.has_diff()) return std::nullopt;
     return publication.diff();
   }
 
-  // Prints `diff` unless the state held already covers it; true if printed.
-  bool take(const Diff& diff) {
+  // The seq the next diff should follow: the caught-up state's, else the last printed.
+  std::optional<std::uint64_t> reference() const {
+    return options_.catch_up ? held_seq_ : last_printed_;
+  }
+
+  // One daemon publishes in order, so its diffs go straight to take(). From several, a diff
+  // already printed (or held back) is dropped, and one that skips seqs is held back.
+  void offer(const Diff& diff) {
+    if (!several_) {
+      take(diff);
+      return;
+    }
+    const auto last = reference();
+    if ((last && diff.seq() <= *last) || held_back_.count(diff.seq()) != 0) return;
+    if (last && diff.prev_seq() != *last) {
+      if (held_back_.empty()) held_since_ = Clock::now();
+      held_back_.emplace(diff.seq(), diff);
+      return;
+    }
+    take(diff);
+    take_followers();
+  }
+
+  // Held-back diffs that now follow on, in seq order.
+  void take_followers() {
+    while (!done() && !held_back_.empty()) {
+      const auto last = reference();
+      const auto first = held_back_.begin();
+      if (last && first->first <= *last) {
+        held_back_.erase(first);
+        continue;
+      }
+      if (last && first->second.prev_seq() != *last) break;
+      const Diff diff = first->second;
+      held_back_.erase(first);
+      take(diff);
+    }
+    held_since_ = Clock::now();  // what is still held back waits afresh
+  }
+
+  // The diffs between never came: the gap is real. take() deals with it as for one daemon.
+  void release_held_back() {
+    const Diff diff = held_back_.begin()->second;
+    held_back_.erase(held_back_.begin());
+    take(diff);
+    take_followers();
+  }
+
+  // Prints `diff` unless the state held already covers it.
+  void take(const Diff& diff) {
     if (held_seq_) {
-      if (diff.seq() <= *held_seq_) return false;
+      if (diff.seq() <= *held_seq_) return;
       if (diff.prev_seq() != *held_seq_) {
         std::cerr << "note: pool " << options_.pool << ": diff " << diff.seq()
                   << " follows seq " << diff.prev_seq() << ", but the last seq held is "
@@ -110,26 +186,27 @@ class Watcher {
         catch_up();
         // Checked once more against the fresh matching; a diff that still does not fit is left
         // to the next one to report.
-        if (diff.seq() <= *held_seq_ || diff.prev_seq() != *held_seq_) return false;
+        if (diff.seq() <= *held_seq_ || diff.prev_seq() != *held_seq_) return;
       }
       held_seq_ = diff.seq();
     }
     print_line(diff_json(diff));
-    return true;
+    last_printed_ = diff.seq();
+    ++printed_;
   }
 
   void catch_up() {
     yoke::v1::QueryRequest request;
     request.set_pool(options_.pool);
     request.mutable_matching();
-    const auto reply = ask_query(options_.query, request,
-                                 timeout_.count() == 0 ? kCatchUpTimeout : timeout_);
+    const auto reply =
+        ask_query(query_route_, request, timeout_.count() == 0 ? kCatchUpTimeout : timeout_);
     yoke::v1::Matching matching;
     if (reply.has_matching()) {
       matching = reply.matching();
     } else if (!reply.has_error()) {
-      throw CliError(options_.query + ": the daemon answered a matching query with a reply " +
-                     "of another kind");
+      throw CliError(query_route_.current() + ": the daemon answered a matching query with a " +
+                     "reply of another kind");
     } else if (reply.error().code() != yoke::v1::Error::UNKNOWN_POOL) {
       throw CliError(query_error_text(reply.error()));
     }
@@ -143,7 +220,13 @@ class Watcher {
   const WatchOptions& options_;
   const std::chrono::milliseconds timeout_;
   EndpointClient subscriber_;
-  std::optional<std::uint64_t> held_seq_;  // --catch-up: the seq the printed lines add up to
+  const bool several_;
+  EndpointRoute query_route_;
+  std::optional<std::uint64_t> held_seq_;      // --catch-up: the seq the printed lines add up to
+  std::optional<std::uint64_t> last_printed_;  // the seq of the last diff printed
+  std::uint64_t printed_ = 0;
+  std::map<std::uint64_t, Diff> held_back_;    // several publishers: diffs after a gap, by seq
+  Clock::time_point held_since_;
 };
 
 }  // namespace
@@ -152,16 +235,17 @@ CLI::App* add_watch_command(CLI::App& app, WatchOptions& options) {
   CLI::App* command =
       app.add_subcommand("watch", "Print a pool's published diffs as JSON lines");
   add_pool_option(*command, options.pool);
-  add_endpoint_option(*command, "--publish", options.publish,
-                      "The daemon's publication socket");
+  add_endpoints_option(*command, "--publish", options.publish,
+                       "The daemon's publication socket");
   command->add_option("--count", options.count, "Exit after this many diffs [default: no limit]")
       ->check(kAtLeastOne);
   command->add_flag("--catch-up", options.catch_up,
                     "Start from the whole matching (fetched from the query socket)");
-  add_endpoint_option(*command, "--query", options.query,
-                      "The daemon's query socket (for --catch-up)");
+  add_endpoints_option(*command, "--query", options.query,
+                       "The daemon's query socket (for --catch-up)");
   add_timeout_option(*command, options.timeout_ms,
                      "Exit 4 when nothing arrives for this long (0: wait for ever)", true);
+  add_owner_wait_option(*command, options.owner_wait_ms);
   command->footer(kWatchHelp);
   return command;
 }

@@ -1,6 +1,7 @@
-// `yoke watch [--pool P] [--publish ENDPOINT] [--count N] [--catch-up] [--query ENDPOINT]
-// [--timeout-ms T]`: subscribes to a pool's diffs on yoked's publication socket and prints one
-// JSON object per diff, one per line, flushed at once (layout in proto_json.h):
+// `yoke watch [--pool P] [--publish ENDPOINT[,ENDPOINT...]] [--count N] [--catch-up]
+// [--query ENDPOINT[,ENDPOINT...]] [--timeout-ms T] [--owner-wait-ms T]`: subscribes to a
+// pool's diffs on yoked's publication socket and prints one JSON object per diff, one per line,
+// flushed at once (layout in proto_json.h):
 //
 //     {"pool","seq","prev_seq","weight","pairs","no_perfect_matching","removed":[[a,b,w],...],
 //      "added":[[a,b,w],...],"repair_us","commit_to_publish_us","publish_unix_us","stats":{...}}
@@ -13,10 +14,18 @@
 // of Matching; a pool that does not exist yet is the empty matching at seq 0), then print only
 // the diffs after its seq, each checked to start where the last one ended (prev_seq). On a gap
 // it prints a note on stderr ("note: pool P: diff S follows seq ...") and catches up again.
+//
+// Several publish endpoints (a cluster): it subscribes to all of them, since a pool's diffs
+// come from whichever daemon serves it, and a new server may publish again diffs its
+// predecessor had published. A diff is known by (pool, seq): each is printed once, in seq
+// order; one that does not follow the last printed waits up to kReorderWait for the diffs
+// between (from another daemon) before the gap counts as one.
 #pragma once
 
+#include <chrono>
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
 
@@ -26,12 +35,17 @@ namespace yoke::cli {
 
 struct WatchOptions {
   std::string pool = kDefaultPool;
-  std::string publish = kDefaultPublishEndpoint;
-  std::string query = kDefaultQueryEndpoint;  // --catch-up only
+  std::vector<std::string> publish{kDefaultPublishEndpoint};
+  std::vector<std::string> query{kDefaultQueryEndpoint};  // --catch-up only
   std::uint64_t count = 0;                    // 0: until a signal
   bool catch_up = false;
   std::uint64_t timeout_ms = 0;  // 0: no timeout
+  std::uint64_t owner_wait_ms = kDefaultOwnerWaitMs;  // --catch-up's queries
 };
+
+// With several publish endpoints: how long a diff that does not follow the last one printed
+// waits for the diffs between.
+inline constexpr std::chrono::milliseconds kReorderWait{300};
 
 CLI::App* add_watch_command(CLI::App& app, WatchOptions& options);
 

@@ -36,6 +36,10 @@ EndpointClient::EndpointClient(zmq::socket_type type, const std::string& endpoin
   // still queued at close (a resent copy, a request to a dead daemon) is not worth waiting
   // for: closing must never hang.
   socket_.set(zmq::sockopt::linger, 0);
+  connect(endpoint);
+}
+
+void EndpointClient::connect(const std::string& endpoint) {
   try {
     socket_.connect(endpoint);
   } catch (const zmq::error_t& error) {

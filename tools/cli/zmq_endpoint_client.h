@@ -36,6 +36,10 @@ class EndpointClient {
 
   const std::string& endpoint() const { return endpoint_; }
 
+  // Connects the socket to one more endpoint as well (a SUB receives from every endpoint it is
+  // connected to). Throws CliError as the constructor does.
+  void connect(const std::string& endpoint);
+
   // SUB only: receive the messages whose first frame starts with `prefix`.
   void subscribe(std::string_view prefix);
 

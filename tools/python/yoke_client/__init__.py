@@ -6,6 +6,10 @@
     add_vertex, set_edge, unset_edge,       events as tuples                (events.py)
     remove_vertex, hold_pair, release_pair
 
+Each endpoint argument takes one endpoint or several daemons of a cluster (a list, or one
+comma-separated string): a pool's batches and queries follow the daemons' NOT_OWNER refusals to
+the daemon that serves it (route.py), and a watcher subscribes to every publisher.
+
 Needs the generated modules (`from yoke.v1 import ...`, build/proto/python) and pyzmq on the
 path. Errors: Rejected, Unavailable, QueryError, all YokeError (errors.py).
 """

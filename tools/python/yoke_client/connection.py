@@ -31,6 +31,12 @@ class DealerConnection:
             self._sock.close()
             self._sock = None
 
+    def _move_to(self, endpoint):
+        """Drops the socket (and whatever it still queues or receives) and uses `endpoint` from
+        the next `_socket()` on."""
+        self.close()
+        self.endpoint = endpoint
+
     def __del__(self):
         self.close()
 

@@ -8,6 +8,11 @@ after_batch (0 for the sender's very first batch), so the daemon never applies a
 predecessor was lost. On silence (timeout_s) or an OUT_OF_ORDER / UNAVAILABLE refusal the sender
 resends from the oldest unacknowledged batch with the same numbers: the daemon acknowledges an
 already-applied batch again without applying it.
+
+A cluster (several ingest endpoints): a NOT_OWNER refusal sends every unacknowledged batch, with
+the same numbers, to the daemon it names, or (none named, or an endpoint silent for timeout_s)
+to the next endpoint after a short backoff, for at most owner_wait_s (route.py). The daemon that
+takes over a pool has its retry ledger from the shared log, so exactly-once holds across moves.
 """
 
 import collections
@@ -22,6 +27,7 @@ from yoke.v1 import ingest_pb2, protocol_pb2
 from . import dicts, events as event_codec
 from .connection import DealerConnection
 from .errors import Rejected, Unavailable
+from .route import NOT_OWNER, Route
 
 VERSION = protocol_pb2.PROTOCOL_VERSION_1
 _RESEND_CODES = (protocol_pb2.Error.OUT_OF_ORDER, protocol_pb2.Error.UNAVAILABLE)
@@ -38,13 +44,17 @@ class Sender(DealerConnection):
     in_flight: batches sent and not yet acknowledged, at most. timeout_s: silence after which the
     unacknowledged batches are resent. retries: resends of one batch before Unavailable.
     client_id: stable across reconnects; a fresh random one by default.
+    ingest_endpoint: one endpoint, or several (a list, or one comma-separated string) of the
+    daemons of a cluster; owner_wait_s bounds following NOT_OWNER refusals and silent endpoints
+    (route.py); `moves` lists the owners followed as (pool, instance, endpoint).
     """
 
     fast_reconnect = True  # a restarting daemon is found again within half a second
 
     def __init__(self, ingest_endpoint, pool="default", client_id=None, in_flight=32,
-                 timeout_s=5.0, retries=5, context=None):
-        super().__init__(ingest_endpoint, context)
+                 timeout_s=5.0, retries=5, context=None, owner_wait_s=20.0):
+        self.route = Route(ingest_endpoint, "ingest", pool, owner_wait_s)
+        super().__init__(self.route.current, context)
         self.pool = pool
         self.client_id = client_id or f"py-{os.getpid()}-{secrets.token_hex(6)}"
         self.in_flight = max(1, in_flight)
@@ -52,6 +62,10 @@ class Sender(DealerConnection):
         self.retries = retries
         self._last_used = 0     # the largest batch number sent so far
         self._last_applied = 0  # the after_batch of the next batch (0: no condition)
+
+    @property
+    def moves(self):
+        return self.route.moves
 
     def send(self, events):
         """Sends one batch (an iterable of events, see yoke_client.events) and returns its Ack
@@ -140,18 +154,39 @@ class _Run:
             now = time.monotonic()
             wake = self.deadline if self.resend_at is None else min(self.deadline, self.resend_at)
             if now >= wake:
+                if now >= self.deadline and self.s.route.several:
+                    self.count_resend()
+                    self.s.route.skip_silent()
+                    self.move()
+                    continue
                 self.resend(timed_out=now >= self.deadline)
                 continue
             if self.sock.poll(max(1, int((wake - now) * 1000)), zmq.POLLIN):
                 self.receive(self.sock.recv())
         return self.acks
 
-    def resend(self, timed_out):
-        """Sends again every unacknowledged batch from the oldest, with the same numbers."""
+    def count_resend(self):
         if self.resends[self.oldest] >= self.s.retries:
             raise Unavailable(f"batch {self.oldest} not accepted after {self.s.retries} resends "
                               f"to {self.s.endpoint}")
         self.resends[self.oldest] += 1
+
+    def move(self):
+        """Every unacknowledged batch, from the oldest, to the route's current endpoint over a
+        fresh socket (answers still due on the old one are dropped with it)."""
+        self.s._move_to(self.s.route.current)
+        self.sock = self.s._socket()
+        self.round += 1
+        for i in range(self.oldest, min(self.next, self.limit())):
+            self.pending[i] = 0
+            if self.acks[i] is None:
+                self.transmit(i)
+        self.resend_at = None
+        self.deadline = time.monotonic() + self.s.timeout_s
+
+    def resend(self, timed_out):
+        """Sends again every unacknowledged batch from the oldest, with the same numbers."""
+        self.count_resend()
         self.round += 1
         for i in range(self.oldest, min(self.next, self.limit())):
             if self.acks[i] is None:
@@ -169,12 +204,17 @@ class _Run:
         ack = reply.ack
         if ack.client_id == "" and ack.HasField("rejected"):
             error = ack.rejected.errors[0]  # the daemon could not read one of our messages
+            if error.code == NOT_OWNER:
+                self.s.route.follow(error)
+                self.move()
+                return
             raise Rejected(dicts.code_name(error.code), error.message, None, None)
         i = self.index.get(ack.client_batch)
         if ack.client_id != self.s.client_id or i is None:
             return  # a late answer from an earlier call
         self.pending[i] = max(0, self.pending[i] - 1)
         if ack.HasField("accepted"):
+            self.s.route.answered()
             if self.acks[i] is None:
                 self.acks[i] = Ack(ack.accepted.seq, ack.accepted.duplicate, ack.client_batch,
                                    ack.pool)
@@ -183,6 +223,12 @@ class _Run:
                 self.deadline = time.monotonic() + self.s.timeout_s
             return
         error = ack.rejected.errors[0]
+        if error.code == NOT_OWNER:
+            if self.acks[i] is None:
+                self.s.route.follow(error)
+                self.move()
+            return
+        self.s.route.answered()
         if error.code not in _RESEND_CODES:
             if self.failure is None or i < self.failure[0]:
                 self.failure = (i, error)

@@ -5,6 +5,11 @@ watcher keeps only the messages whose topic frame equals the pool's name exactly
 mode (proto/yoke/v1/publish.proto) it holds the whole matching: it fetches it from the query
 socket at some seq s, drops diffs with seq <= s, applies the rest in order, and fetches the
 matching again when a diff's prev_seq is not the seq it holds (a message was missed).
+
+A cluster: a pool's diffs come from whichever daemon serves it, and a daemon that takes a pool
+over may publish again diffs its predecessor published. Given several publish endpoints, the
+watcher subscribes to all of them and yields each diff (pool, seq) once, in seq order: a diff
+that skips seqs waits up to REORDER_WAIT_S for the ones between before the gap counts.
 """
 
 import time
@@ -16,8 +21,10 @@ from yoke.v1 import protocol_pb2, publish_pb2
 from . import dicts
 from .errors import QueryError
 from .query import Query
+from .route import endpoint_list
 
 VERSION = protocol_pb2.PROTOCOL_VERSION_1
+REORDER_WAIT_S = 0.3
 
 
 class Watcher:
@@ -27,11 +34,19 @@ class Watcher:
 
     `.matching` maps every matched vertex to its mate (both ends of each pair: {a: b, b: a}).
     Pair weights are not kept per pair: a diff does not report a matched pair whose weight
-    changed, so only the total (`.weight`, from each diff) stays exact."""
+    changed, so only the total (`.weight`, from each diff) stays exact.
+
+    publish_endpoint (and query_endpoint): one endpoint, or several (a list, or a comma-separated
+    string) of the daemons of a cluster; catch-up queries follow NOT_OWNER (query.py)."""
 
     def __init__(self, publish_endpoint, pool="default", query_endpoint=None, context=None):
         self.pool = pool
         self.query_endpoint = query_endpoint
+        self.publish_endpoints = endpoint_list(publish_endpoint)
+        self._several = len(self.publish_endpoints) > 1
+        self._last = None        # several publishers: the seq of the last diff yielded
+        self._held = {}          # several publishers: seq -> a diff after a gap, held back
+        self._held_since = None
         self.matching = None  # {vertex: mate}, in catch-up mode
         self.weight = None    # the matching's total weight, in catch-up mode
         self.seq = None       # the seq `matching` describes, in catch-up mode
@@ -44,7 +59,8 @@ class Watcher:
         self._sock.setsockopt(zmq.RCVHWM, 0)
         self._sock.setsockopt(zmq.RECONNECT_IVL, 50)
         self._sock.setsockopt(zmq.SUBSCRIBE, self._topic)
-        self._sock.connect(publish_endpoint)
+        for endpoint in self.publish_endpoints:
+            self._sock.connect(endpoint)
 
     def close(self):
         """Closes the sockets; idempotent (also run when the watcher is collected)."""
@@ -96,9 +112,26 @@ class Watcher:
         ever). In catch-up mode, applies it first."""
         deadline = None if timeout_s is None else time.monotonic() + timeout_s
         while True:
-            wait_ms = -1 if deadline is None else max(0, int((deadline - time.monotonic()) * 1000))
+            ready = self._take_held()
+            if ready is not None:
+                return ready
+            wake = deadline
+            if self._held:
+                release = self._held_since + REORDER_WAIT_S
+                wake = release if wake is None else min(wake, release)
+            wait_ms = -1 if wake is None else max(0, int((wake - time.monotonic()) * 1000))
             if not self._sock.poll(wait_ms, zmq.POLLIN):
-                return None
+                if self._held and time.monotonic() >= self._held_since + REORDER_WAIT_S:
+                    # The diffs between never came: the gap is real.
+                    diff = self._held.pop(min(self._held))
+                    self._held_since = time.monotonic()
+                    out = self._deliver(diff)
+                    if out is not None:
+                        return out
+                    continue
+                if deadline is not None and time.monotonic() >= deadline:
+                    return None
+                continue
             frames = self._sock.recv_multipart()
             if len(frames) != 2 or frames[0] != self._topic:
                 continue
@@ -107,9 +140,45 @@ class Watcher:
             if publication.version != VERSION or not publication.HasField("diff"):
                 continue
             diff = publication.diff
-            if self.matching is not None and not self._apply(diff):
+            if self._several:
+                last = self._reference()
+                if (last is not None and diff.seq <= last) or diff.seq in self._held:
+                    continue  # published again by a daemon that took the pool over
+                if last is not None and diff.prev_seq != last:
+                    if not self._held:
+                        self._held_since = time.monotonic()
+                    self._held[diff.seq] = diff
+                    continue
+            out = self._deliver(diff)
+            if out is not None:
+                return out
+
+    def _reference(self):
+        """The seq the next diff should follow: the held state's, else the last yielded."""
+        return self.seq if self.matching is not None else self._last
+
+    def _deliver(self, diff):
+        """The diff's dict, once applied in catch-up mode; None when it does not apply."""
+        if self.matching is not None and not self._apply(diff):
+            return None
+        self._last = diff.seq
+        return dicts.diff(diff)
+
+    def _take_held(self):
+        """A held-back diff that now follows on, delivered; None when there is none."""
+        while self._held:
+            last = self._reference()
+            first = min(self._held)
+            if last is not None and first <= last:
+                del self._held[first]
                 continue
-            return dicts.diff(diff)
+            if last is not None and self._held[first].prev_seq != last:
+                return None
+            out = self._deliver(self._held.pop(first))
+            self._held_since = time.monotonic()
+            if out is not None:
+                return out
+        return None
 
     def wait_for_seq(self, seq, timeout_s):
         """Catch-up mode: reads diffs until the held state is at seq or later. True if it got

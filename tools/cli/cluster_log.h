@@ -1,0 +1,51 @@
+// A cluster's log opened read only for `yoke replay --cluster` (issue 12): the installation's
+// JetStream stream holds every pool's windows (`<prefix>.ev.<pool>`) and snapshots; the
+// commits are read through jetstream::JetStreamView (which applies the log's ownership rule:
+// windows of a deposed owner are skipped) and the snapshots through JetStreamSnapshotStore,
+// the same interfaces (daemon/storage/) a data directory is read through.
+//
+// Read only: the stream must exist (a replay never creates one), with the subjects
+// "<prefix>.>"; nothing is written or purged.
+#pragma once
+
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "daemon/cluster/nats_connection.h"
+#include "daemon/jetstream/jetstream_commit_log.h"
+#include "daemon/jetstream/jetstream_snapshot_store.h"
+
+namespace yoke::cli {
+
+inline constexpr const char* kDefaultStream = "yoke";
+inline constexpr const char* kDefaultSubjectPrefix = "yoke";
+
+struct ClusterLogOptions {
+  std::vector<std::string> servers;  // nats://HOST:PORT, at least one
+  std::string stream = kDefaultStream;
+  std::string subject_prefix = kDefaultSubjectPrefix;
+};
+
+class ClusterLog {
+ public:
+  // Connects (trying the servers in order), checks that the stream exists and holds
+  // "<prefix>.>" (one stream-info request). Throws CliError naming the servers or the stream
+  // when it cannot. Cost: a connect and a few API round trips.
+  explicit ClusterLog(const ClusterLogOptions& options);
+  ~ClusterLog();
+  ClusterLog(const ClusterLog&) = delete;
+  ClusterLog& operator=(const ClusterLog&) = delete;
+
+  storage::CommitLogView& view() { return *view_; }
+  const storage::SnapshotStore& snapshots() const { return *snapshots_; }
+  // "JetStream stream 'yoke' (yoke.ev.> on nats://...)": names the log in messages.
+  std::string describe() const { return view_->describe(); }
+
+ private:
+  std::unique_ptr<cluster::NatsConnection> connection_;
+  std::unique_ptr<jetstream::JetStreamView> view_;
+  std::unique_ptr<jetstream::JetStreamSnapshotStore> snapshots_;
+};
+
+}  // namespace yoke::cli
