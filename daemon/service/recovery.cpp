@@ -40,14 +40,14 @@ void load_snapshot(const storage::SnapshotContents& contents, ServiceState& stat
 
 }  // namespace
 
-void apply_commit_group(const CommitGroup& group, ServiceState& state) {
+std::optional<CommitResult> apply_commit_group(const CommitGroup& group, ServiceState& state) {
   PoolProgress& progress = state.progress[group.pool];
   const auto fail = [&group](const std::string& why) {
     return RecoveryError("journal window " + std::to_string(group.position) + ", pool " +
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
-  if (group.records.back().seq() <= progress.seq) return;  // the snapshot holds it already
+  if (group.records.back().seq() <= progress.seq) return std::nullopt;  // the snapshot holds it
   if (first_seq != progress.seq + 1) {
     throw fail("record seq " + std::to_string(first_seq) + " does not follow seq " +
                std::to_string(progress.seq));
@@ -71,6 +71,7 @@ void apply_commit_group(const CommitGroup& group, ServiceState& state) {
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});
     }
   }
+  return result;
 }
 
 ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,

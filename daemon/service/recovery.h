@@ -43,7 +43,8 @@ ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,
 // Applies one commit group to the state (recovery, and tools that replay a journal): creates
 // the pool from its first record, checks the sequence numbers and the events, commits, and
 // records the client marks. Records already in the state (seq <= the pool's) are skipped.
+// Returns the commit's result (what its diff says), or nullopt for a group the state held.
 // Throws RecoveryError when the group does not continue the pool's history.
-void apply_commit_group(const CommitGroup& group, ServiceState& state);
+std::optional<CommitResult> apply_commit_group(const CommitGroup& group, ServiceState& state);
 
 }  // namespace yoke::daemon

@@ -1,0 +1,274 @@
+#include "cluster_node.h"
+
+#include <algorithm>
+#include <utility>
+
+#include "daemon/jetstream/pool_claims.h"
+#include "daemon/jetstream/pool_subjects.h"
+#include "daemon/logging/log_event.h"
+#include "daemon/service/recovery.h"
+#include "daemon/service/snapshot_capture.h"
+#include "daemon/service/unix_time.h"
+#include "takeover_rule.h"
+#include "yoke/v1/cluster.pb.h"
+
+namespace yoke::failover {
+namespace {
+
+using daemon::LogLevel;
+using daemon::log_event;
+
+// How often a follower reads the windows stored since its last read.
+constexpr std::chrono::milliseconds kFollowInterval{200};
+
+std::uint64_t milliseconds_of(Clock::duration duration) {
+  return static_cast<std::uint64_t>(
+      std::chrono::duration_cast<std::chrono::milliseconds>(duration).count());
+}
+
+std::string beat_subject(const jetstream::PoolSubjects& subjects, const std::string& instance) {
+  return subjects.prefix() + ".beat." + jetstream::pool_token(instance);
+}
+
+}  // namespace
+
+jetstream::JetStreamLogSettings log_settings_of(const daemon::ClusterSettings& cluster) {
+  jetstream::JetStreamLogSettings settings;
+  settings.stream = cluster.stream;
+  settings.subject_prefix = cluster.subject_prefix;
+  settings.replicas = cluster.replicas;
+  settings.max_bytes = cluster.max_bytes;
+  settings.publish_timeout = cluster.publish_timeout;
+  settings.read_timeout = cluster.publish_timeout;
+  return settings;
+}
+
+ClusterNode::ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnection& connection,
+                         jetstream::JetStreamCommitLog& log)
+    : config_(config), cluster_(config.cluster), connection_(connection), log_(log) {
+  const daemon::InstanceSettings& me = cluster_.instances.at(cluster_.instance);
+  self_.set_instance(cluster_.instance);
+  self_.set_ingest(me.ingest);
+  self_.set_query(me.query);
+  self_.set_publish(me.publish);
+}
+
+ClusterNode::~ClusterNode() = default;
+
+std::chrono::milliseconds ClusterNode::tick_interval() const {
+  return std::min<std::chrono::milliseconds>(cluster_.heartbeat / 2, std::chrono::milliseconds(100));
+}
+
+std::vector<std::string> ClusterNode::served() const {
+  std::vector<std::string> pools;
+  for (const auto& [pool, role] : roles_) {
+    if (role.served_here) pools.push_back(pool);
+  }
+  return pools;
+}
+
+void ClusterNode::start(daemon::PoolService& service, Clock::time_point now) {
+  const jetstream::PoolSubjects& subjects = log_.subjects();
+  heartbeats_ = std::make_unique<cluster::PlainSubscription>(connection_, subjects.prefix() + ".beat.*");
+  board_ = std::make_unique<HeartbeatBoard>(now);
+
+  const daemon::InstanceSettings& me = cluster_.instances.at(cluster_.instance);
+  std::vector<std::string> role_pools = me.owns;
+  role_pools.insert(role_pools.end(), me.stands_by.begin(), me.stands_by.end());
+  for (const std::string& pool : role_pools) {
+    PoolRole& role = roles_[pool];
+    role.snapshots = jetstream::JetStreamSnapshotStore::open_for_pool(
+        connection_, log_settings_of(cluster_), pool, config_.snapshots.keep);
+    refresh_ownership(pool, role);
+    follow(pool, role);
+  }
+  // Every pool of the cluster, so that refusals name who serves it.
+  for (const auto& [name, instance] : cluster_.instances) {
+    for (const std::string& pool : instance.owns) {
+      const auto role = roles_.find(pool);
+      if (role != roles_.end()) {
+        route(service, pool, role->second);
+        continue;
+      }
+      v1::Owner owner;
+      owner.set_instance(name);
+      owner.set_ingest(instance.ingest);
+      owner.set_query(instance.query);
+      owner.set_publish(instance.publish);
+      service.routing().served_elsewhere(pool, owner);
+    }
+  }
+  next_beat_ = now;
+  next_follow_ = now + kFollowInterval;
+}
+
+void ClusterNode::follow(const std::string& pool, PoolRole& role) {
+  role.follower = std::make_unique<PoolFollower>(config_, pool, log_, *role.snapshots);
+  log_event(LogLevel::info, "pool_followed",
+            {{"pool", pool}, {"seq", role.follower->seq()}, {"position", role.follower->read_after()}});
+}
+
+void ClusterNode::refresh_ownership(const std::string& pool, PoolRole& role) {
+  for (const jetstream::LoggedClaim& logged :
+       jetstream::read_claims(log_.view(), pool, role.ownership.last_sequence())) {
+    const bool accepted = role.ownership.apply(logged.sequence, logged.claim);
+    if (accepted && logged.claim.owner().instance() != cluster_.instance) {
+      log_event(LogLevel::info, "pool_claimed_elsewhere",
+                {{"pool", pool},
+                 {"instance", logged.claim.owner().instance()},
+                 {"epoch", logged.sequence},
+                 {"reason", logged.claim.reason()}});
+    }
+  }
+}
+
+void ClusterNode::route(daemon::PoolService& service, const std::string& pool, const PoolRole& role) {
+  if (role.served_here) {
+    service.routing().served_here(pool);
+  } else if (const std::optional<v1::Owner> owner = role.ownership.owner();
+             owner && owner->instance() != cluster_.instance) {
+    service.routing().served_elsewhere(pool, *owner);
+  } else {
+    service.routing().served_by_nobody(pool);
+  }
+}
+
+void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
+  if (now < next_beat_) return;
+  next_beat_ = now + cluster_.heartbeat;
+  v1::Heartbeat heartbeat;
+  *heartbeat.mutable_owner() = self_;
+  for (const auto& [pool, role] : roles_) {
+    if (!role.served_here) continue;
+    v1::OwnedPool& owned = *heartbeat.add_pools();
+    owned.set_pool(pool);
+    owned.set_epoch(role.ownership.epoch());
+    const daemon::PoolProgress* progress = service.progress(pool);
+    owned.set_seq(progress == nullptr ? 0 : progress->seq);
+  }
+  heartbeat.set_sent_unix_us(daemon::unix_time_us());
+  heartbeat.set_beat(++beats_sent_);
+  try {
+    cluster::publish_plain(connection_, beat_subject(log_.subjects(), cluster_.instance),
+                           heartbeat.SerializeAsString());
+  } catch (const std::exception& error) {
+    log_event(LogLevel::warn, "heartbeat_not_sent", {{"reason", error.what()}});
+  }
+}
+
+std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::time_point now) {
+  while (auto message = heartbeats_->poll()) {
+    v1::Heartbeat heartbeat;
+    if (heartbeat.ParseFromString(message->data) && heartbeat.owner().instance() != cluster_.instance) {
+      board_->heard(heartbeat, now);
+    }
+  }
+  beat(service, now);
+
+  std::vector<v1::Diff> to_publish;
+  if (now < next_follow_) return to_publish;
+  next_follow_ = now + kFollowInterval;
+  const TakeoverTimes times{cluster_.heartbeat, cluster_.takeover};
+  for (auto& [pool, role] : roles_) {
+    if (role.served_here) continue;
+    try {
+      refresh_ownership(pool, role);
+      if (!role.follower) follow(pool, role);
+      role.follower->catch_up(log_);
+    } catch (const std::exception& error) {
+      // The follower is rebuilt from the newest snapshot on the next tick.
+      log_event(LogLevel::warn, "pool_follow_failed", {{"pool", pool}, {"reason", error.what()}});
+      role.follower.reset();
+      continue;
+    }
+    const std::optional<v1::Owner> owner = role.ownership.owner();
+    const PoolStanding standing{pool,
+                                cluster_.owner_of(pool).value_or(""),
+                                cluster_.standbys_of(pool),
+                                owner ? std::optional<std::string>(owner->instance()) : std::nullopt,
+                                false};
+    if (const auto reason = claim_reason(standing, cluster_.instance, *board_, times, now)) {
+      if (auto diffs = take(service, pool, role, *reason, now)) {
+        to_publish.insert(to_publish.end(), diffs->begin(), diffs->end());
+      }
+    }
+    route(service, pool, role);
+  }
+  return to_publish;
+}
+
+std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& service,
+                                                       const std::string& pool, PoolRole& role,
+                                                       const std::string& reason,
+                                                       Clock::time_point now) {
+  const std::optional<v1::Owner> before = role.ownership.owner();
+  const std::string silent = before ? before->instance() : cluster_.owner_of(pool).value_or("");
+  const std::uint64_t silent_ms = milliseconds_of(board_->silent_for(silent, now));
+  const jetstream::ClaimResult result = jetstream::claim_pool(
+      log_.view(), pool, self_, role.ownership.epoch(), reason);
+  refresh_ownership(pool, role);
+  if (!result.accepted) {
+    log_event(LogLevel::info, "pool_claim_lost",
+              {{"pool", pool}, {"reason", reason}, {"claim", result.sequence}});
+    return std::nullopt;
+  }
+  // The windows the old owner stored before the claim count; none after it does.
+  role.follower->catch_up(log_);
+  const std::uint64_t seq = role.follower->seq();
+  std::vector<v1::Diff> republish(role.follower->recent_diffs().begin(),
+                                  role.follower->recent_diffs().end());
+  log_.set_epoch(pool, result.sequence);
+  service.adopt_pool(pool, role.follower->release());
+  role.follower.reset();
+  role.served_here = true;
+  route(service, pool, role);
+  log_event(LogLevel::info, "pool_taken",
+            {{"pool", pool},
+             {"reason", reason},
+             {"epoch", result.sequence},
+             {"seq", seq},
+             {"previous", silent},
+             {"silent_ms", silent_ms},
+             {"republished", republish.size()}});
+  return republish;
+}
+
+void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::string>& pools,
+                       Clock::time_point) {
+  for (const std::string& pool : pools) {
+    const auto it = roles_.find(pool);
+    if (it == roles_.end()) continue;
+    PoolRole& role = it->second;
+    role.served_here = false;
+    log_event(LogLevel::warn, "pool_lost", {{"pool", pool}});
+    try {
+      refresh_ownership(pool, role);
+      follow(pool, role);
+    } catch (const std::exception& error) {
+      log_event(LogLevel::warn, "pool_follow_failed", {{"pool", pool}, {"reason", error.what()}});
+      role.follower.reset();
+    }
+    route(service, pool, role);
+  }
+}
+
+v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {
+  v1::SnapshotTaken taken;
+  for (auto& [pool, role] : roles_) {
+    if (!role.served_here) continue;
+    const daemon::PoolProgress* progress = service.progress(pool);
+    if (progress == nullptr || progress->seq == 0) continue;
+    const std::vector<v1::SnapshotRecord> records = daemon::capture_pool_snapshot(service, pool);
+    const storage::Position position = progress->last_position + 1;
+    const std::string where = role.snapshots->write(position, records);
+    service.progress_of(pool).last_snapshot_seq = progress->seq;
+    if (taken.path().empty()) taken.set_path(where);
+    v1::SnapshotTaken::Entry& entry = *taken.add_pools();
+    entry.set_pool(pool);
+    entry.set_seq(progress->seq);
+    if (const auto oldest = role.snapshots->oldest_needed()) log_.drop_pool_before(pool, *oldest);
+  }
+  return taken;
+}
+
+}  // namespace yoke::failover
