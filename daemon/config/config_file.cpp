@@ -3,6 +3,7 @@
 #include <fstream>
 #include <sstream>
 
+#include "cluster_section.h"
 #include "config_error.h"
 #include "config_names.h"
 #include "engine/types.h"
@@ -107,6 +108,7 @@ void read_root(TomlTableReader& root, DaemonConfig& config) {
     table->finish();
   }
   if (auto table = root.read_table("logging")) read_logging(*table, config.logging);
+  if (auto table = root.read_table("cluster")) read_cluster(*table, config.cluster);
   root.finish();
 }
 

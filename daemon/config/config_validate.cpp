@@ -3,6 +3,7 @@
 #include <utility>
 #include <vector>
 
+#include "cluster_section.h"
 #include "config_error.h"
 #include "endpoint_address.h"
 
@@ -59,6 +60,7 @@ void validate_config(const DaemonConfig& config) {
                       "): an accepted batch must fit one journal record");
   }
   check_pools(config);
+  validate_cluster(config);
 }
 
 }  // namespace yoke::daemon

@@ -2,10 +2,14 @@
 // daemon/yoked.example.toml documents each one; a test keeps the two in step.
 #pragma once
 
+#include <chrono>
 #include <cstdint>
 #include <filesystem>
 #include <map>
+#include <optional>
 #include <string>
+#include <string_view>
+#include <vector>
 
 #include "daemon/journal/journal.h"
 #include "daemon/logging/log_settings.h"
@@ -43,6 +47,42 @@ struct InputLimits {
   std::uint64_t max_pools = 10000;  // a batch naming a new pool past this is refused
 };
 
+// Where the daemon keeps its commit log and snapshots: in DATA_DIR (one daemon), or in a
+// NATS JetStream stream that several daemons of one installation share (cluster mode).
+enum class StorageBackend { local, jetstream };
+
+// One daemon of a cluster, as every daemon's config file describes it (the same
+// [cluster.instances.NAME] tables in each file).
+struct InstanceSettings {
+  // The endpoints its clients use to reach it (advertised in NOT_OWNER refusals; never "*").
+  std::string ingest;
+  std::string query;
+  std::string publish;
+  std::vector<std::string> owns;       // pools it owns when it runs
+  std::vector<std::string> stands_by;  // pools it takes over when their owner is silent
+};
+
+// The [cluster] section. With backend local nothing else in it applies.
+struct ClusterSettings {
+  StorageBackend backend = StorageBackend::local;
+  std::vector<std::string> servers;  // NATS URLs; required for jetstream
+  std::string stream = "yoke";       // the installation's stream
+  std::string subject_prefix = "yoke";  // the stream holds "<prefix>.>"
+  int replicas = 3;                     // used when the stream is created
+  std::int64_t max_bytes = std::int64_t{1} << 30;  // the stream's cap
+  std::string instance;                 // this daemon: a key of `instances`
+  std::chrono::milliseconds heartbeat{500};
+  std::chrono::milliseconds takeover{3000};
+  std::chrono::milliseconds publish_timeout{5000};
+  std::map<std::string, InstanceSettings> instances;  // by instance name
+
+  // The instance configured to own `pool`, or nothing when none does. O(instances x owns).
+  std::optional<std::string> owner_of(std::string_view pool) const;
+  // The instances standing by for `pool`, in instance name order (their takeover rank).
+  // O(instances x stands_by).
+  std::vector<std::string> standbys_of(std::string_view pool) const;
+};
+
 struct DaemonConfig {
   std::filesystem::path data_dir;  // no default: the command line must give it
   Endpoints endpoints;
@@ -53,6 +93,7 @@ struct DaemonConfig {
   PoolSettings pool_defaults;                 // pools created on first use
   std::map<std::string, PoolSettings> pools;  // declared by name, with their own settings
   LogSettings logging;
+  ClusterSettings cluster;
 };
 
 }  // namespace yoke::daemon

@@ -91,6 +91,25 @@ std::optional<std::string> TomlTableReader::read_string(std::string_view key) {
   return value->get();
 }
 
+std::optional<std::vector<std::string>> TomlTableReader::read_string_list(std::string_view key) {
+  const toml::node* node = find(key);
+  if (node == nullptr) return std::nullopt;
+  const auto* array = node->as_array();
+  if (array == nullptr) {
+    fail(key, std::string("must be an array of strings, not ") + type_name(node->type()));
+  }
+  std::vector<std::string> items;
+  for (const toml::node& item : *array) {
+    const auto* value = item.as_string();
+    if (value == nullptr) {
+      fail(key, "must be an array of strings, but item " + std::to_string(items.size() + 1) +
+                    " is " + type_name(item.type()));
+    }
+    items.push_back(value->get());
+  }
+  return items;
+}
+
 std::optional<TomlTableReader> TomlTableReader::read_table(std::string_view key) {
   const toml::node* node = find(key);
   if (node == nullptr) return std::nullopt;

@@ -24,6 +24,8 @@ class TomlTableReader {
   void read(std::string_view key, std::int64_t min, std::int64_t max, std::int64_t& out);
   void read(std::string_view key, std::uint32_t min, std::uint32_t max, std::uint32_t& out);
   std::optional<std::string> read_string(std::string_view key);
+  // An array whose items are all strings (an empty array is fine).
+  std::optional<std::vector<std::string>> read_string_list(std::string_view key);
   // A sub-table; nothing when absent.
   std::optional<TomlTableReader> read_table(std::string_view key);
   // Every entry of a table whose keys are names chosen by the user (must all be tables).

@@ -45,7 +45,11 @@ jetstream::JetStreamLogSettings log_settings_of(const daemon::ClusterSettings& c
 
 ClusterNode::ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnection& connection,
                          jetstream::JetStreamCommitLog& log)
-    : config_(config), cluster_(config.cluster), connection_(connection), log_(log) {
+    : config_(config),
+      cluster_(config.cluster),
+      connection_(connection),
+      log_(log),
+      view_(connection, log_settings_of(config.cluster)) {
   const daemon::InstanceSettings& me = cluster_.instances.at(cluster_.instance);
   self_.set_instance(cluster_.instance);
   self_.set_ingest(me.ingest);
@@ -68,7 +72,7 @@ std::vector<std::string> ClusterNode::served() const {
 }
 
 void ClusterNode::start(daemon::PoolService& service, Clock::time_point now) {
-  const jetstream::PoolSubjects& subjects = log_.subjects();
+  const jetstream::PoolSubjects& subjects = view_.subjects();
   heartbeats_ = std::make_unique<cluster::PlainSubscription>(connection_, subjects.prefix() + ".beat.*");
   board_ = std::make_unique<HeartbeatBoard>(now);
 
@@ -77,27 +81,19 @@ void ClusterNode::start(daemon::PoolService& service, Clock::time_point now) {
   role_pools.insert(role_pools.end(), me.stands_by.begin(), me.stands_by.end());
   for (const std::string& pool : role_pools) {
     PoolRole& role = roles_[pool];
-    role.snapshots = jetstream::JetStreamSnapshotStore::open_for_pool(
-        connection_, log_settings_of(cluster_), pool, config_.snapshots.keep);
+    role.snapshots = jetstream::JetStreamSnapshotStore::open(
+        connection_, log_settings_of(cluster_), config_.snapshots.keep, pool);
     refresh_ownership(pool, role);
     follow(pool, role);
   }
-  // Every pool of the cluster, so that refusals name who serves it.
+  // Pools without a role here: refusals name their configured owner until told otherwise.
   for (const auto& [name, instance] : cluster_.instances) {
+    if (name == cluster_.instance) continue;
     for (const std::string& pool : instance.owns) {
-      const auto role = roles_.find(pool);
-      if (role != roles_.end()) {
-        route(service, pool, role->second);
-        continue;
-      }
-      v1::Owner owner;
-      owner.set_instance(name);
-      owner.set_ingest(instance.ingest);
-      owner.set_query(instance.query);
-      owner.set_publish(instance.publish);
-      service.routing().served_elsewhere(pool, owner);
+      if (roles_.count(pool) == 0) service.serve_elsewhere(pool, name);
     }
   }
+  for (const auto& [pool, role] : roles_) route(service, pool, role);
   next_beat_ = now;
   next_follow_ = now + kFollowInterval;
 }
@@ -109,28 +105,29 @@ void ClusterNode::follow(const std::string& pool, PoolRole& role) {
 }
 
 void ClusterNode::refresh_ownership(const std::string& pool, PoolRole& role) {
-  for (const jetstream::LoggedClaim& logged :
-       jetstream::read_claims(log_.view(), pool, role.ownership.last_sequence())) {
-    const bool accepted = role.ownership.apply(logged.sequence, logged.claim);
-    if (accepted && logged.claim.owner().instance() != cluster_.instance) {
-      log_event(LogLevel::info, "pool_claimed_elsewhere",
-                {{"pool", pool},
-                 {"instance", logged.claim.owner().instance()},
-                 {"epoch", logged.sequence},
-                 {"reason", logged.claim.reason()}});
-    }
+  jetstream::PoolOwnership now = jetstream::pool_ownership(view_, pool);
+  if (now.epoch() != role.ownership.epoch()) {
+    const std::optional<v1::Owner> owner = now.owner();
+    log_event(LogLevel::info, "pool_owner_changed",
+              {{"pool", pool},
+               {"instance", owner ? owner->instance() : std::string()},
+               {"epoch", now.epoch()}});
   }
+  role.ownership = std::move(now);
 }
 
 void ClusterNode::route(daemon::PoolService& service, const std::string& pool, const PoolRole& role) {
-  if (role.served_here) {
-    service.routing().served_here(pool);
-  } else if (const std::optional<v1::Owner> owner = role.ownership.owner();
-             owner && owner->instance() != cluster_.instance) {
-    service.routing().served_elsewhere(pool, *owner);
-  } else {
-    service.routing().served_by_nobody(pool);
+  if (role.served_here) return;  // adopt_pool() made it so
+  const std::optional<v1::Owner> owner = role.ownership.owner();
+  const bool elsewhere = owner && owner->instance() != cluster_.instance &&
+                         cluster_.instances.count(owner->instance()) != 0;
+  const std::string serving = elsewhere ? owner->instance() : std::string();
+  const daemon::PoolRouting& routing = service.routing();
+  if (routing.serving_instance(pool).value_or("") == serving &&
+      routing.serving(pool) != daemon::Serving::here) {
+    return;
   }
+  service.serve_elsewhere(pool, serving);
 }
 
 void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
@@ -149,7 +146,7 @@ void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
   heartbeat.set_sent_unix_us(daemon::unix_time_us());
   heartbeat.set_beat(++beats_sent_);
   try {
-    cluster::publish_plain(connection_, beat_subject(log_.subjects(), cluster_.instance),
+    cluster::publish_plain(connection_, beat_subject(view_.subjects(), cluster_.instance),
                            heartbeat.SerializeAsString());
   } catch (const std::exception& error) {
     log_event(LogLevel::warn, "heartbeat_not_sent", {{"reason", error.what()}});
@@ -205,11 +202,11 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   const std::string silent = before ? before->instance() : cluster_.owner_of(pool).value_or("");
   const std::uint64_t silent_ms = milliseconds_of(board_->silent_for(silent, now));
   const jetstream::ClaimResult result = jetstream::claim_pool(
-      log_.view(), pool, self_, role.ownership.epoch(), reason);
+      connection_, log_settings_of(cluster_), pool, self_, role.ownership.epoch(), reason);
   refresh_ownership(pool, role);
   if (!result.accepted) {
     log_event(LogLevel::info, "pool_claim_lost",
-              {{"pool", pool}, {"reason", reason}, {"claim", result.sequence}});
+              {{"pool", pool}, {"reason", reason}, {"claim", result.claim_sequence}});
     return std::nullopt;
   }
   // The windows the old owner stored before the claim count; none after it does.
@@ -217,7 +214,7 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   const std::uint64_t seq = role.follower->seq();
   std::vector<v1::Diff> republish(role.follower->recent_diffs().begin(),
                                   role.follower->recent_diffs().end());
-  log_.set_epoch(pool, result.sequence);
+  log_.set_epoch(pool, result.claim_sequence);
   service.adopt_pool(pool, role.follower->release());
   role.follower.reset();
   role.served_here = true;
@@ -225,7 +222,7 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   log_event(LogLevel::info, "pool_taken",
             {{"pool", pool},
              {"reason", reason},
-             {"epoch", result.sequence},
+             {"epoch", result.claim_sequence},
              {"seq", seq},
              {"previous", silent},
              {"silent_ms", silent_ms},
@@ -256,16 +253,14 @@ v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {
   v1::SnapshotTaken taken;
   for (auto& [pool, role] : roles_) {
     if (!role.served_here) continue;
-    const daemon::PoolProgress* progress = service.progress(pool);
-    if (progress == nullptr || progress->seq == 0) continue;
-    const std::vector<v1::SnapshotRecord> records = daemon::capture_pool_snapshot(service, pool);
-    const storage::Position position = progress->last_position + 1;
-    const std::string where = role.snapshots->write(position, records);
-    service.progress_of(pool).last_snapshot_seq = progress->seq;
+    const std::optional<v1::SnapshotRecord> record = daemon::capture_pool_snapshot(service, pool);
+    if (!record) continue;  // nothing applied yet
+    const std::string where = role.snapshots->write(record->journal_position(), {*record});
+    service.progress_of(pool).last_snapshot_seq = record->seq();
     if (taken.path().empty()) taken.set_path(where);
     v1::SnapshotTaken::Entry& entry = *taken.add_pools();
     entry.set_pool(pool);
-    entry.set_seq(progress->seq);
+    entry.set_seq(record->seq());
     if (const auto oldest = role.snapshots->oldest_needed()) log_.drop_pool_before(pool, *oldest);
   }
   return taken;

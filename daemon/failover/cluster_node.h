@@ -92,6 +92,7 @@ class ClusterNode : public daemon::ClusterHooks {
   const daemon::ClusterSettings& cluster_;
   cluster::NatsConnection& connection_;
   jetstream::JetStreamCommitLog& log_;
+  jetstream::JetStreamView view_;  // claims and windows, read
   v1::Owner self_;
   std::map<std::string, PoolRole> roles_;  // pools owned or stood by for here
   std::unique_ptr<cluster::PlainSubscription> heartbeats_;

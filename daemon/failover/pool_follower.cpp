@@ -11,10 +11,9 @@ namespace yoke::failover {
 
 PoolFollower::PoolFollower(const daemon::DaemonConfig& config, std::string pool,
                            storage::CommitLogView& log, const storage::SnapshotStore& snapshots)
-    : pool_(std::move(pool)),
-      state_{daemon::PoolRegistry(config.pool_defaults, config.pools), {}, {}} {
+    : pool_(std::move(pool)), state_(daemon::empty_service_state(config)) {
   daemon::RecoveryReport report;
-  daemon::recover_pool(config, log, snapshots, pool_, state_, report);
+  daemon::recover_pool(log, snapshots, pool_, state_, report);
   const auto progress = state_.progress.find(pool_);
   if (progress != state_.progress.end()) read_after_ = progress->second.last_position;
 }
@@ -54,12 +53,11 @@ std::size_t PoolFollower::catch_up(storage::CommitLogView& log) {
   return applied;
 }
 
-daemon::ServiceState PoolFollower::release() {
-  daemon::ServiceState released = std::move(state_);
-  state_.progress.clear();
+daemon::PoolState PoolFollower::release() {
+  std::optional<daemon::PoolState> released = daemon::take_pool_state(state_, pool_);
   read_after_ = 0;
   recent_diffs_.clear();
-  return released;
+  return released ? std::move(*released) : daemon::PoolState{};
 }
 
 }  // namespace yoke::failover

@@ -44,8 +44,8 @@ class PoolFollower {
   // The diffs of the last windows applied, oldest first.
   const std::deque<v1::Diff>& recent_diffs() const { return recent_diffs_; }
 
-  // Hands the pool's state over (a takeover): the follower is empty afterwards.
-  daemon::ServiceState release();
+  // Hands the pool's state over (a takeover): the follower is spent afterwards.
+  daemon::PoolState release();
 
  private:
   std::string pool_;

@@ -115,7 +115,7 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
   if (failed_) {
     throw storage::LogError(describe() + " refuses commits after a failed one; reopen it");
   }
-  if (window.empty()) return {0, end_};
+  if (window.empty()) return {0, end_, {}};
   failed_ = true;  // until every message of the window is acknowledged
   storage::CommittedWindow committed;
   for (auto& group : groups_by_pool(std::move(window))) {

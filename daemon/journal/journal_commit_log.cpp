@@ -128,7 +128,7 @@ void JournalCommitLog::continue_from(storage::Position position) {
 
 storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord> window) {
   const storage::Position start = end_position();
-  if (window.empty()) return {0, start};
+  if (window.empty()) return {0, start, {}};
   if (failed_) {
     throw storage::LogError(describe() + " refuses commits after a failed one; reopen it");
   }

@@ -32,6 +32,14 @@ void PoolRegistry::put(const std::string& name, std::unique_ptr<Pool> pool) {
   pools_[name] = std::move(pool);
 }
 
+std::unique_ptr<Pool> PoolRegistry::erase(const std::string& name) {
+  const auto it = pools_.find(name);
+  if (it == pools_.end()) return nullptr;
+  std::unique_ptr<Pool> pool = std::move(it->second);
+  pools_.erase(it);
+  return pool;
+}
+
 std::vector<std::string> PoolRegistry::names() const {
   std::vector<std::string> names;
   for (const auto& entry : pools_) names.push_back(entry.first);

@@ -28,6 +28,9 @@ class PoolRegistry {
   Pool* find(const std::string& name);
   // Replaces (or creates) a pool, as recovery does with a restored snapshot.
   void put(const std::string& name, std::unique_ptr<Pool> pool);
+  // Removes the pool called `name` and returns it (nullptr when there is none), for a daemon
+  // that stops serving it. O(log pools).
+  std::unique_ptr<Pool> erase(const std::string& name);
   // Names of the existing pools, sorted.
   std::vector<std::string> names() const;
   std::size_t size() const { return pools_.size(); }

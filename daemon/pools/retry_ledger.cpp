@@ -31,4 +31,13 @@ std::vector<std::pair<std::string, AppliedBatch>> RetryLedger::clients_of(
   return clients;
 }
 
+std::size_t RetryLedger::erase_pool(const std::string& pool) {
+  const auto first = last_.lower_bound({pool, std::string()});
+  auto end = first;
+  std::size_t removed = 0;
+  for (; end != last_.end() && end->first.first == pool; ++end) ++removed;
+  last_.erase(first, end);
+  return removed;
+}
+
 }  // namespace yoke::daemon

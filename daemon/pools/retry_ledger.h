@@ -36,6 +36,9 @@ class RetryLedger {
   std::size_t size() const { return last_.size(); }
   // Every client's last batch in one pool, by client id (what a snapshot of the pool keeps).
   std::vector<std::pair<std::string, AppliedBatch>> clients_of(const std::string& pool) const;
+  // Forgets every client's mark in one pool (a daemon that stops serving it). Returns how many
+  // it removed. O(log marks + the pool's marks).
+  std::size_t erase_pool(const std::string& pool);
 
  private:
   std::map<std::pair<std::string, std::string>, AppliedBatch> last_;  // (pool, client)

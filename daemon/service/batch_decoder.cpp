@@ -3,7 +3,7 @@
 #include <optional>
 #include <utility>
 
-#include "pool_names.h"
+#include "daemon/pools/pool_names.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {

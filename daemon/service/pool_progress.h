@@ -20,6 +20,11 @@ struct PoolProgress {
   RepairStats last_repair;
   v1::Timings last_timings;
   std::uint64_t last_snapshot_seq = 0;
+  // The commit log position through which this state is complete: the position of the last
+  // group applied to the pool (apply_commit_group, PoolService::seal), or a loaded snapshot's
+  // position - 1. A snapshot of this pool alone is named last_position + 1 (in cluster mode,
+  // its snapshot subject), and following the pool reads the log from there.
+  std::uint64_t last_position = 0;
 
   // One commit of `batches` batches ending at `last_seq`, as the daemon and recovery both
   // count it.

@@ -1,6 +1,9 @@
 #include "pool_service.h"
 
+#include <algorithm>
 #include <chrono>
+#include <set>
+#include <stdexcept>
 
 #include "diff_message.h"
 #include "unix_time.h"
@@ -21,7 +24,60 @@ v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
 }  // namespace
 
 PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log)
-    : limits_(config.limits), state_(std::move(state)), log_(log) {}
+    : limits_(config.limits), state_(std::move(state)), routing_(config.cluster), log_(log) {}
+
+bool PoolService::sealed_holds(const std::string& pool) const {
+  return std::any_of(sealed_.begin(), sealed_.end(),
+                     [&pool](const PendingBatch& pending) { return pending.batch.pool == pool; });
+}
+
+void PoolService::adopt_pool(const std::string& pool, PoolState state) {
+  if (window_pools_.contains(pool) || sealed_holds(pool)) {
+    throw std::logic_error("pool " + pool +
+                           " cannot be adopted while the window holds its batches");
+  }
+  if (!routing_.serves_every_pool()) routing_.serve_here(pool);
+  put_pool_state(state_, pool, std::move(state));
+}
+
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::serve_elsewhere(const std::string& pool,
+                                                                     const std::string& instance) {
+  if (sealed_holds(pool)) {
+    throw std::logic_error("pool " + pool + " cannot be given up between seal() and apply()");
+  }
+  const bool was_here = routing_.serving(pool) == Serving::here;
+  if (instance.empty()) {
+    routing_.serve_nobody(pool);
+  } else {
+    routing_.serve_elsewhere(pool, instance);
+  }
+  std::vector<std::pair<Ticket, v1::Ack>> replies;
+  if (was_here) drop_pool(pool, replies);
+  return replies;
+}
+
+void PoolService::drop_pool(const std::string& pool,
+                            std::vector<std::pair<Ticket, v1::Ack>>& replies) {
+  const v1::Error error = routing_.refusal(pool, Asked::ingest)
+                              .value_or(make_error(v1::Error::NOT_OWNER,
+                                                   "the commit log did not accept the batches of "
+                                                   "pool " + pool + ": nothing was applied"));
+  std::erase_if(window_, [&](PendingBatch& pending) {
+    if (pending.batch.pool != pool) return false;
+    window_events_ -= pending.batch.events.size();
+    replies.emplace_back(pending.ticket, refuse(rejected(pending.batch, error)));
+    return true;
+  });
+  std::erase_if(waiting_duplicates_, [&](std::pair<Ticket, v1::Ack>& waiting) {
+    const v1::Ack& ack = waiting.second;
+    if (ack.pool() != pool) return false;
+    v1::Ack refusal = refused(batch_ack(ack.client_id(), ack.client_batch(), pool), error);
+    replies.emplace_back(waiting.first, refuse(std::move(refusal)));
+    return true;
+  });
+  window_pools_.erase(pool);  // before the pool: its checker reads it
+  take_pool_state(state_, pool);
+}
 
 const PoolProgress* PoolService::progress(const std::string& pool) const {
   const auto it = state_.progress.find(pool);
@@ -42,6 +98,11 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
+  if (!routing_.serves_every_pool()) {  // the local backend: one test, nothing looked up
+    if (auto not_here = routing_.refusal(batch.pool, Asked::ingest)) {
+      return refuse(rejected(batch, std::move(*not_here)));
+    }
+  }
 
   // A pool named for the first time is made aside and kept only if the batch is accepted: a
   // refusal changes nothing, not even the pools there are (nor their count, for max_pools).
@@ -115,7 +176,8 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
   return it->second;
 }
 
-std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
+    std::vector<std::string>* lost_pools) {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
   replies.reserve(window_.size() + waiting_duplicates_.size());
   const std::uint64_t wall_time = unix_time_us();
@@ -135,7 +197,24 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal() {
       *record.mutable_created() = pool_config(pool);
     }
   }
-  log_.commit(std::move(records));  // durable on return: only then are the acks sent
+  // Durable on return: only then are the acks sent.
+  const storage::CommittedWindow committed = log_.commit(std::move(records));
+  std::set<std::string> lost;
+  for (const storage::CommittedGroup& group : committed.groups) {
+    if (!group.accepted) {
+      lost.insert(group.pool);
+    } else if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
+      it->second.last_position = group.position;
+    }
+  }
+  for (const std::string& pool : lost) {
+    // Another instance's claim came first in the log: the pool is no longer ours.
+    if (routing_.serving(pool) == Serving::here && !routing_.serves_every_pool()) {
+      routing_.serve_nobody(pool);
+    }
+    drop_pool(pool, replies);
+    if (lost_pools != nullptr) lost_pools->push_back(pool);
+  }
 
   for (const PendingBatch& pending : window_) {
     replies.emplace_back(pending.ticket, accepted(ack_for(pending.batch), pending.seq, false));

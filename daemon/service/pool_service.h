@@ -8,6 +8,11 @@
 // window is two steps: seal() commits every batch of the window to the log at once (group commit),
 // and returns their acknowledgements; apply() then repairs each pool once for all of its
 // batches and returns one diff per pool. Refusals are answered at once and change nothing.
+//
+// In a cluster (backend jetstream) the service serves only the pools its PoolRouting says are
+// served here: a batch for another pool is refused (NOT_OWNER, UNKNOWN_POOL) before anything
+// else. It gains a pool with adopt_pool(), loses one with serve_elsewhere() or when the log
+// does not accept the pool's group of a window (seal()).
 #pragma once
 
 #include <chrono>
@@ -25,6 +30,8 @@
 #include "daemon/pools/retry_ledger.h"
 #include "daemon/storage/commit_log.h"
 #include "pool_progress.h"
+#include "pool_routing.h"
+#include "service_state.h"
 #include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/publish.pb.h"
 
@@ -33,18 +40,33 @@ namespace yoke::daemon {
 // Identifies a request whose reply waits for the window (the server maps it to a socket peer).
 using Ticket = std::uint64_t;
 
-// Everything recovery rebuilds, handed to the service.
-struct ServiceState {
-  PoolRegistry registry;
-  std::map<std::string, PoolProgress> progress;
-  RetryLedger ledger;
-};
-
 class PoolService {
  public:
   // `log` (its end position already past every stored window: recovery sees to it) must
-  // outlive the service; the service is its only writer.
+  // outlive the service; the service is its only writer. The routing is PoolRouting(
+  // config.cluster): every pool served here with backend local; in a cluster, none until
+  // adopt_pool() (or set_routing()).
   PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log);
+
+  // Replaces the routing. The pools it serves here must be those whose state the service
+  // holds (or pools with no history yet). O(routing size).
+  void set_routing(PoolRouting routing) { routing_ = std::move(routing); }
+  const PoolRouting& routing() const { return routing_; }
+
+  // Starts serving `pool` here with `state` (recover_pool(), or a follower's ServiceState via
+  // take_pool_state()), replacing whatever the service held of it. Throws std::logic_error when
+  // the open or sealed window holds batches of the pool, std::invalid_argument for a pool no
+  // instance of the cluster owns. O(log pools + the pool's client marks).
+  void adopt_pool(const std::string& pool, PoolState state);
+
+  // Stops serving `pool` here (when it was) and routes it to `instance` ("" = nobody serves it
+  // now): its batches in the open window are refused with NOT_OWNER (the replies are
+  // returned), and its state is dropped (pool, progress, retry marks). For a pool not served
+  // here it only changes where refusals send clients. Not between seal() and apply() (throws
+  // std::logic_error then); std::invalid_argument for the local routing, for a pool no
+  // instance owns, or an instance not in the cluster. O(window + log pools + marks).
+  std::vector<std::pair<Ticket, v1::Ack>> serve_elsewhere(const std::string& pool,
+                                                          const std::string& instance);
 
   // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
   // batch already durable; nothing when the reply comes with the window (see seal()).
@@ -57,7 +79,12 @@ class PoolService {
   // were accepted; the log stamps window_start) and returns every waiting reply once they are
   // durable. Throws storage::LogError when the log cannot store them: nothing is acknowledged
   // then, and the daemon must stop (recovery keeps what was stored).
-  std::vector<std::pair<Ticket, v1::Ack>> seal();
+  // A pool whose group the log did not accept (CommittedWindow: another instance's claim came
+  // first) is lost: its batches are refused with NOT_OWNER (nothing applied), its state is
+  // dropped, the routing says nobody serves it, and its name is appended to `lost_pools`
+  // when given (the server follows it from the log). Each accepted pool's last_position
+  // becomes its group's position.
+  std::vector<std::pair<Ticket, v1::Ack>> seal(std::vector<std::string>* lost_pools = nullptr);
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order.
   // Timings carry repair_us only; the publisher fills in the rest.
@@ -90,9 +117,14 @@ class PoolService {
   v1::Ack refuse(v1::Ack ack);
   std::optional<v1::Ack> answer_retry(Ticket ticket, const DecodedBatch& batch);
   WindowPool& window_pool(const std::string& name, Pool& pool);
+  // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
+  // routing says), and drops its state.
+  void drop_pool(const std::string& pool, std::vector<std::pair<Ticket, v1::Ack>>& replies);
+  bool sealed_holds(const std::string& pool) const;
 
   InputLimits limits_;
   ServiceState state_;
+  PoolRouting routing_;
   storage::CommitLog& log_;
   std::vector<PendingBatch> window_;
   std::map<std::string, WindowPool> window_pools_;

@@ -3,7 +3,7 @@
 #include <algorithm>
 #include <exception>
 
-#include "pool_names.h"
+#include "daemon/pools/pool_names.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -80,6 +80,16 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
                        "the request carries no kind this daemon knows");
   }
   const std::string name = resolve_pool_name(request.pool());
+  const bool about_one_pool =
+      request.kind_case() != v1::QueryRequest::kSnapshot || !request.snapshot().all_pools();
+  if (about_one_pool) {
+    if (auto not_here = service_.routing().refusal(name, Asked::query)) {
+      v1::QueryReply reply;
+      *reply.mutable_error() = std::move(*not_here);
+      reply.set_pool(name);
+      return reply;
+    }
+  }
   if (request.kind_case() == v1::QueryRequest::kSnapshot) {
     if (!request.snapshot().all_pools() && service_.progress(name) == nullptr) {
       return error_reply(v1::Error::UNKNOWN_POOL, "there is no pool " + name);

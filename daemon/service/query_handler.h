@@ -1,5 +1,7 @@
 // The query and control socket's requests (proto/yoke/v1/query.proto), answered from the
 // service's current state: every reply that describes a pool carries the seq it describes.
+// A request about a pool the service does not serve (its PoolRouting) is refused as a batch
+// would be (NOT_OWNER with the query endpoint of the instance serving it, UNKNOWN_POOL).
 #pragma once
 
 #include <cstdint>

@@ -29,7 +29,7 @@ struct RecoveryReport {
   std::vector<std::string> skipped;  // why newer snapshots were passed over
   std::size_t pools = 0;
   std::uint64_t records = 0;  // journal records replayed (in the commit groups read)
-  std::uint64_t commits = 0;
+  std::uint64_t commits = 0;  // groups applied (not those the state held already)
 };
 
 // Loads the newest snapshot whose pools restore and pass restore_checked, and whose position
@@ -39,6 +39,29 @@ struct RecoveryReport {
 // cannot be read or replayed. O(snapshot + log read).
 ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,
                      const storage::SnapshotStore& snapshots, RecoveryReport& report);
+
+// A state with no pool yet, with the config's pool settings. O(declared pools).
+ServiceState empty_service_state(const DaemonConfig& config);
+
+// One pool alone (an instance of a cluster that starts serving or following it): replaces
+// whatever `state` holds of `pool` with the newest snapshot in the store that holds the pool,
+// restores and whose position the log still holds the pool's groups from (fallbacks as in
+// recover()), then applies the pool's groups after it (read_from(position, pool)). Without
+// such a snapshot it reads the pool's groups from position 1. The log is only read.
+// report.pools is 1 when the pool has state afterwards. Throws RecoveryError as recover().
+// O(the pool's snapshot + its groups read).
+void recover_pool(storage::CommitLogView& log, const storage::SnapshotStore& snapshots,
+                  const std::string& pool, ServiceState& state, RecoveryReport& report);
+
+// Following a pool: applies the groups of `pool` that the log holds above its last_position
+// in `state` (from position 1 for a pool the state holds nothing of), adding to `report`. (The
+// local journal gives a window's groups one position, so reading from last_position + 1 may
+// return the rest of the last window's group: it is skipped by its seqs.)
+// Returns how many groups it applied. Call it again later for the groups written since; a
+// reader of one's own (CommitLogView::read_from) may instead hand each group to
+// apply_commit_group. Throws RecoveryError as recover(). O(the groups read).
+std::uint64_t catch_up_pool(storage::CommitLogView& log, const std::string& pool,
+                            ServiceState& state, RecoveryReport& report);
 
 // Applies one commit group to the state (recovery, and tools that replay a journal): creates
 // the pool from its first record, checks the sequence numbers and the events, commits, and

@@ -1,6 +1,7 @@
 #include "snapshot_capture.h"
 
 #include <chrono>
+#include <optional>
 
 #include "engine/certificate.h"
 #include "unix_time.h"
@@ -8,33 +9,54 @@
 
 namespace yoke::daemon {
 
+namespace {
+
+// The record of one pool, or nothing when it has applied nothing (nothing to keep).
+std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::string& name,
+                                              std::uint64_t position, std::uint64_t wall_time) {
+  const PoolProgress* progress = service.progress(name);
+  const Pool* pool = service.registry().find(name);
+  if (progress == nullptr || progress->seq == 0 || pool == nullptr) return std::nullopt;
+  v1::SnapshotRecord record;
+  record.set_pool(name);
+  record.set_seq(progress->seq);
+  *record.mutable_config() = pool_config(*pool);
+  for (const auto& [client, applied] : service.ledger().clients_of(name)) {
+    v1::ClientMark& mark = *record.add_clients();
+    mark.set_client_id(client);
+    mark.set_last_batch(applied.batch_number);
+    mark.set_seq(applied.seq);
+  }
+  record.set_weight(pool->weight());
+  record.set_pairs(pool->pairs());
+  record.set_vertices(pool->vertex_count());
+  record.set_edges(pool->edge_count());
+  record.set_wall_time_unix_us(wall_time);
+  record.set_engine_state_format(kEngineStateFormat);
+  record.set_engine_state(pool->save());
+  record.set_journal_position(position);
+  return record;
+}
+
+}  // namespace
+
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
   const std::uint64_t wall_time = unix_time_us();
+  const std::uint64_t position = service.next_journal_position();
   std::vector<v1::SnapshotRecord> records;
   for (const std::string& name : service.registry().names()) {
-    const PoolProgress* progress = service.progress(name);
-    if (progress == nullptr || progress->seq == 0) continue;  // nothing applied: nothing to keep
-    const Pool& pool = *service.registry().find(name);
-    v1::SnapshotRecord& record = records.emplace_back();
-    record.set_pool(name);
-    record.set_seq(progress->seq);
-    *record.mutable_config() = pool_config(pool);
-    for (const auto& [client, applied] : service.ledger().clients_of(name)) {
-      v1::ClientMark& mark = *record.add_clients();
-      mark.set_client_id(client);
-      mark.set_last_batch(applied.batch_number);
-      mark.set_seq(applied.seq);
+    if (auto record = pool_record(service, name, position, wall_time)) {
+      records.push_back(std::move(*record));
     }
-    record.set_weight(pool.weight());
-    record.set_pairs(pool.pairs());
-    record.set_vertices(pool.vertex_count());
-    record.set_edges(pool.edge_count());
-    record.set_wall_time_unix_us(wall_time);
-    record.set_engine_state_format(kEngineStateFormat);
-    record.set_engine_state(pool.save());
-    record.set_journal_position(service.next_journal_position());
   }
   return records;
+}
+
+std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
+                                                        const std::string& pool) {
+  const PoolProgress* progress = service.progress(pool);
+  if (progress == nullptr) return std::nullopt;
+  return pool_record(service, pool, progress->last_position + 1, unix_time_us());
 }
 
 std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record) {

@@ -4,6 +4,7 @@
 
 #include <cstdint>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -22,6 +23,13 @@ inline constexpr std::uint32_t kEngineStateFormat = 1;
 // One record per pool that has applied a batch, in name order, with its retry marks. Call
 // between windows (nothing pending). O(state size).
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
+
+// One pool's record, at the position that names a snapshot of that pool alone: its
+// last_position + 1 (in cluster mode the pool's snapshot subject; the record's
+// journal_position says the same). Nothing when the pool has applied nothing here. Call
+// between windows. O(the pool's state).
+std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
+                                                        const std::string& pool);
 
 // A pool rebuilt from a SnapshotRecord whose certificate holds and whose weight, pairs,
 // vertices and edges agree with the record. Throws SnapshotDamage saying what failed.

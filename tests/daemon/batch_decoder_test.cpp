@@ -10,7 +10,7 @@
 #include <gtest/gtest.h>
 
 #include "daemon/service/batch_decoder.h"
-#include "daemon/service/pool_names.h"
+#include "daemon/pools/pool_names.h"
 #include "daemon/service/wire_types.h"
 #include "service_test_util.h"
 

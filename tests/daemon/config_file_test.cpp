@@ -18,6 +18,29 @@ void expect_same_pool(const PoolSettings& a, const PoolSettings& b) {
   EXPECT_EQ(a.churn_bonus, b.churn_bonus);
 }
 
+void expect_same_cluster(const ClusterSettings& a, const ClusterSettings& b) {
+  EXPECT_EQ(a.backend, b.backend);
+  EXPECT_EQ(a.servers, b.servers);
+  EXPECT_EQ(a.stream, b.stream);
+  EXPECT_EQ(a.subject_prefix, b.subject_prefix);
+  EXPECT_EQ(a.replicas, b.replicas);
+  EXPECT_EQ(a.max_bytes, b.max_bytes);
+  EXPECT_EQ(a.instance, b.instance);
+  EXPECT_EQ(a.heartbeat, b.heartbeat);
+  EXPECT_EQ(a.takeover, b.takeover);
+  EXPECT_EQ(a.publish_timeout, b.publish_timeout);
+  ASSERT_EQ(a.instances.size(), b.instances.size());
+  for (const auto& [name, instance] : a.instances) {
+    ASSERT_TRUE(b.instances.contains(name)) << name;
+    const InstanceSettings& other = b.instances.at(name);
+    EXPECT_EQ(instance.ingest, other.ingest);
+    EXPECT_EQ(instance.query, other.query);
+    EXPECT_EQ(instance.publish, other.publish);
+    EXPECT_EQ(instance.owns, other.owns);
+    EXPECT_EQ(instance.stands_by, other.stands_by);
+  }
+}
+
 void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.data_dir, b.data_dir);
   EXPECT_EQ(a.endpoints.ingest, b.endpoints.ingest);
@@ -42,6 +65,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
     expect_same_pool(settings, b.pools.at(name));
   }
   EXPECT_TRUE(a.logging == b.logging);
+  expect_same_cluster(a.cluster, b.cluster);
 }
 
 TEST(ConfigDefaults, AreTheDocumentedOnesAndStartWithNoFile) {
@@ -56,6 +80,17 @@ TEST(ConfigDefaults, AreTheDocumentedOnesAndStartWithNoFile) {
   EXPECT_TRUE(config.pools.empty());
   EXPECT_EQ(config.logging.format, LogFormat::text);
   EXPECT_FALSE(config.logging.file.has_value());
+  EXPECT_EQ(config.cluster.backend, StorageBackend::local);
+  EXPECT_TRUE(config.cluster.servers.empty());
+  EXPECT_EQ(config.cluster.stream, "yoke");
+  EXPECT_EQ(config.cluster.subject_prefix, "yoke");
+  EXPECT_EQ(config.cluster.replicas, 3);
+  EXPECT_EQ(config.cluster.max_bytes, 1073741824);
+  EXPECT_EQ(config.cluster.instance, "");
+  EXPECT_EQ(config.cluster.heartbeat, std::chrono::milliseconds(500));
+  EXPECT_EQ(config.cluster.takeover, std::chrono::milliseconds(3000));
+  EXPECT_EQ(config.cluster.publish_timeout, std::chrono::milliseconds(5000));
+  EXPECT_TRUE(config.cluster.instances.empty());
 
   DaemonConfig with_dir;
   with_dir.data_dir = "/tmp/yoke-data";

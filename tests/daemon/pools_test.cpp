@@ -24,6 +24,35 @@ TEST(PoolRegistry, RefusesSettingsThatCannotStayExact) {
   EXPECT_THROW(PoolRegistry({}, {{"wide", too_wide}}), InputError);
 }
 
+TEST(PoolRegistry, EraseHandsThePoolOverAndForgetsIt) {
+  PoolRegistry registry({}, {});
+  Pool& riders = registry.pool("riders");
+  registry.pool("couriers");
+  const std::unique_ptr<Pool> taken = registry.erase("riders");
+  EXPECT_EQ(taken.get(), &riders);
+  EXPECT_EQ(registry.find("riders"), nullptr);
+  EXPECT_EQ(registry.names(), std::vector<std::string>{"couriers"});
+  EXPECT_EQ(registry.erase("riders"), nullptr);  // nothing left to take
+  EXPECT_EQ(registry.size(), 1u);
+}
+
+TEST(RetryLedger, ErasePoolForgetsThatPoolsMarksOnly) {
+  RetryLedger ledger;
+  ledger.record("a", "van-7", {1, 1});
+  ledger.record("b", "van-7", {3, 4});
+  ledger.record("b", "bike-2", {1, 5});
+  ledger.record("b.x", "van-7", {9, 2});  // a name sharing a prefix is another pool
+  ledger.record("c", "van-7", {2, 2});
+  EXPECT_EQ(ledger.erase_pool("b"), 2u);
+  EXPECT_TRUE(ledger.clients_of("b").empty());
+  EXPECT_EQ(ledger.classify("b", "van-7", 3), RetryVerdict::fresh);
+  EXPECT_EQ(ledger.last("a", "van-7")->seq, 1u);
+  EXPECT_EQ(ledger.last("b.x", "van-7")->seq, 2u);
+  EXPECT_EQ(ledger.last("c", "van-7")->seq, 2u);
+  EXPECT_EQ(ledger.size(), 3u);
+  EXPECT_EQ(ledger.erase_pool("b"), 0u);
+}
+
 TEST(RetryLedger, AppliesEachClientBatchOncePerPool) {
   RetryLedger ledger;
   EXPECT_EQ(ledger.classify("default", "van-7", 1), RetryVerdict::fresh);

@@ -695,12 +695,13 @@ TEST(CommitGroups, ApplySkipsWhatTheStateHoldsAndRefusesGaps) {
   grouper.add(ForgedJournal::record("quay", 4, 3, {wire_add(7)}).SerializeAsString());
   grouper.finish();
   ASSERT_EQ(groups.size(), 3u);
-  apply_commit_group(groups[0], state);
-  apply_commit_group(groups[1], state);
+  EXPECT_TRUE(apply_commit_group(groups[0], state));
+  EXPECT_TRUE(apply_commit_group(groups[1], state));
   EXPECT_EQ(state.progress.at("quay").seq, 2u);
+  EXPECT_EQ(state.progress.at("quay").last_position, groups[1].position);
   // Again: already held, skipped.
-  apply_commit_group(groups[0], state);
-  apply_commit_group(groups[1], state);
+  EXPECT_FALSE(apply_commit_group(groups[0], state));
+  EXPECT_FALSE(apply_commit_group(groups[1], state));
   EXPECT_EQ(state.progress.at("quay").seq, 2u);
   EXPECT_EQ(state.progress.at("quay").commits, 2u);
   // Common knowledge: path 1-2-3 weighted 3, 5 takes {2,3}.

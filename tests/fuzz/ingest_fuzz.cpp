@@ -37,7 +37,7 @@
 
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/batch_decoder.h"
-#include "daemon/service/pool_names.h"
+#include "daemon/pools/pool_names.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "engine/certificate.h"

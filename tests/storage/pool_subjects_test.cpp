@@ -1,5 +1,5 @@
 // Pool names as subject tokens (daemon/jetstream/pool_subjects.h): every name the daemon
-// accepts (daemon/service/pool_names.h) maps to one valid NATS subject token and back; names
+// accepts (daemon/pools/pool_names.h) maps to one valid NATS subject token and back; names
 // that differ only by escaped characters get different tokens; tokens no name maps to are
 // refused. Expected values come from the escape rule written in the header.
 #include <random>
@@ -10,7 +10,7 @@
 #include <gtest/gtest.h>
 
 #include "daemon/jetstream/pool_subjects.h"
-#include "daemon/service/pool_names.h"
+#include "daemon/pools/pool_names.h"
 
 namespace yoke::jetstream {
 namespace {
