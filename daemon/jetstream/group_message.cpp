@@ -8,12 +8,23 @@
 #include "daemon/storage/storage_error.h"
 
 namespace yoke::jetstream {
+namespace {
+
+// A header's whole value as a decimal number.
+bool read_number(std::string_view text, std::uint64_t& value) {
+  return !text.empty() &&
+         std::from_chars(text.data(), text.data() + text.size(), value).ptr ==
+             text.data() + text.size();
+}
+
+}  // namespace
 
 GroupMessage encode_group(const std::vector<v1::JournalRecord>& records,
-                          std::uint64_t previous_of_pool) {
+                          std::uint64_t previous_of_pool, std::uint64_t epoch) {
   GroupMessage message;
   message.headers = {{kFormatHeader, kFormat},
                      {kPreviousHeader, std::to_string(previous_of_pool)}};
+  if (epoch != 0) message.headers.emplace_back(kEpochHeader, std::to_string(epoch));
   {
     google::protobuf::io::StringOutputStream bytes(&message.data);
     google::protobuf::io::CodedOutputStream out(&bytes);
@@ -38,11 +49,12 @@ DecodedGroup decode_group(cluster::LogMessage message, const std::string& pool,
   }
   DecodedGroup decoded;
   const auto previous = cluster::header_value(message.headers, kPreviousHeader);
-  if (!previous ||
-      std::from_chars(previous->data(), previous->data() + previous->size(),
-                      decoded.previous_of_pool)
-              .ptr != previous->data() + previous->size()) {
+  if (!previous || !read_number(*previous, decoded.previous_of_pool)) {
     throw damaged("has no readable " + std::string(kPreviousHeader) + " header");
+  }
+  const auto epoch = cluster::header_value(message.headers, kEpochHeader);
+  if (epoch && !read_number(*epoch, decoded.epoch)) {
+    throw damaged("has an unreadable " + std::string(kEpochHeader) + " header");
   }
   decoded.group.pool = pool;
   decoded.group.position = message.sequence;

@@ -9,9 +9,11 @@
 #include "daemon/cluster/stream_status.h"
 #include "daemon/cluster/subject_purge.h"
 #include "daemon/cluster/subject_scan.h"
+#include "daemon/jetstream/claim_ledger.h"
 #include "daemon/jetstream/group_message.h"
 #include "daemon/jetstream/jetstream_group_reader.h"
 #include "daemon/jetstream/log_stream.h"
+#include "daemon/jetstream/window_acceptance.h"
 #include "daemon/storage/storage_error.h"
 
 namespace yoke::jetstream {
@@ -56,9 +58,8 @@ std::unique_ptr<storage::GroupReader> JetStreamView::read_from(storage::Position
                                                                std::string_view pool) {
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
   return as_log_error(describe() + ": reading '" + filter + "' from " + std::to_string(from), [&] {
-    return std::make_unique<JetStreamGroupReader>(connection_, settings_.stream, subjects_,
-                                                  filter, from, settings_.read_timeout,
-                                                  describe());
+    return std::make_unique<JetStreamGroupReader>(connection_, settings_.stream, subjects_, pool,
+                                                  from, settings_.read_timeout, describe());
   });
 }
 
@@ -121,20 +122,39 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
   for (auto& group : groups_by_pool(std::move(window))) {
     const std::string& pool = group.first;
     const std::vector<v1::JournalRecord>& records = group.second;
+    if (lost_pools_.count(pool) != 0) {
+      committed.groups.push_back({pool, 0, false});
+      continue;
+    }
     std::string subject;
+    std::string claims;
     try {
       subject = view_.subjects().of_pool(pool);
+      claims = view_.subjects().of_claims(pool);
     } catch (const std::invalid_argument& error) {
       throw storage::LogError(describe() + ": a record cannot be stored: " + error.what());
     }
+    const std::uint64_t epoch = epoch_of(pool);
     const storage::Position sequence =
         as_log_error(describe() + ": storing a group of pool '" + pool + "'", [&] {
-          const GroupMessage message = encode_group(records, previous_of_pool(pool));
+          const GroupMessage message = encode_group(records, previous_of_pool(pool), epoch);
           return cluster::publish_and_wait(view_.connection(), subject, message.headers,
                                            message.data, view_.settings().publish_timeout);
         });
     last_of_pool_[pool] = sequence;
-    committed.groups.push_back({pool, sequence, true});
+    bool accepted = false;
+    if (unverified_epochs_.count(pool) != 0) {
+      // A new epoch: the whole rule, so that an epoch the rule never gave is found too.
+      ClaimLedger ledger(view_.subjects(), claims, describe());
+      ledger.catch_up(view_.connection(), view_.settings().stream, view_.settings().read_timeout);
+      accepted = ledger.of(pool).accepts_window(sequence, epoch);
+      unverified_epochs_.erase(pool);
+    } else {
+      accepted = window_counted(view_.connection(), view_.settings().stream, claims, pool, epoch,
+                                sequence, describe());
+    }
+    if (!accepted) lost_pools_.insert(pool);
+    committed.groups.push_back({pool, sequence, accepted});
     if (committed.position == 0) committed.position = sequence;
     end_ = sequence + 1;
   }
@@ -144,14 +164,52 @@ storage::CommittedWindow JetStreamCommitLog::commit(std::vector<v1::JournalRecor
 }
 
 std::size_t JetStreamCommitLog::drop_before(storage::Position position) {
+  return purge_below(view_.subjects().all_pools(), position);
+}
+
+std::size_t JetStreamCommitLog::drop_pool_before(std::string_view pool,
+                                                 storage::Position position) {
+  return purge_below(view_.subjects().of_pool(pool), position);
+}
+
+std::size_t JetStreamCommitLog::purge_below(const std::string& filter,
+                                            storage::Position position) {
   cluster::NatsConnection& connection = view_.connection();
   const std::string& stream = view_.settings().stream;
-  return as_log_error(describe() + ": dropping groups below " + std::to_string(position), [&] {
-    const std::uint64_t before = cluster::stream_status(connection, stream).messages;
-    cluster::purge_subject_below(connection, stream, view_.subjects().all_pools(), position);
-    const std::uint64_t after = cluster::stream_status(connection, stream).messages;
-    return static_cast<std::size_t>(before > after ? before - after : 0);
-  });
+  return as_log_error(describe() + ": dropping groups of '" + filter + "' below " +
+                          std::to_string(position),
+                      [&] {
+                        const std::uint64_t before =
+                            cluster::stream_status(connection, stream).messages;
+                        cluster::purge_subject_below(connection, stream, filter, position);
+                        const std::uint64_t after =
+                            cluster::stream_status(connection, stream).messages;
+                        return static_cast<std::size_t>(before > after ? before - after : 0);
+                      });
+}
+
+void JetStreamCommitLog::set_epoch(std::string_view pool, std::uint64_t epoch) {
+  epoch_of_pool_.insert_or_assign(std::string(pool), epoch);
+  if (const auto known = last_of_pool_.find(pool); known != last_of_pool_.end()) {
+    last_of_pool_.erase(known);
+  }
+  // Epoch 0 needs no fold: it is in force from the start, so the cheap check is exact.
+  if (epoch != 0) {
+    unverified_epochs_.emplace(pool);
+  } else if (const auto it = unverified_epochs_.find(pool); it != unverified_epochs_.end()) {
+    unverified_epochs_.erase(it);
+  }
+  const auto lost = lost_pools_.find(pool);
+  if (lost != lost_pools_.end()) lost_pools_.erase(lost);
+}
+
+std::uint64_t JetStreamCommitLog::epoch_of(std::string_view pool) const {
+  const auto it = epoch_of_pool_.find(pool);
+  return it == epoch_of_pool_.end() ? 0 : it->second;
+}
+
+bool JetStreamCommitLog::lost(std::string_view pool) const {
+  return lost_pools_.find(pool) != lost_pools_.end();
 }
 
 }  // namespace yoke::jetstream

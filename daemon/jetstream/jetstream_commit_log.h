@@ -1,14 +1,17 @@
 // The JetStream backend of the commit log (daemon/storage/commit_log.h): one stream per
 // installation, a subject per pool (`<prefix>.ev.<token>`, pool_subjects.h), one message per
 // pool per window (group_message.h). Positions are stream sequences: every group has its own,
-// and a window's groups are consecutive messages of the writer (other writers of the stream,
-// such as a snapshot store, may take sequences between windows; positions need not be
-// consecutive).
+// and a window's groups are the writer's messages in order (other writers of the stream, such
+// as a snapshot store or another daemon, may take sequences between them; positions need not
+// be consecutive).
 //
 // Durable means acknowledged by the stream: on an R3 stream a quorum holds the message (on
 // nats-server 2.9.10 in memory and in files, fsynced within a minute; SCALE-OUT.md). There are
-// no conditional publishes and no message ids (unsafe on 2.9.10): which process may write is
-// decided elsewhere (later); this class assumes it is the only writer of its pools' subjects.
+// no conditional publishes and no message ids (unsafe on 2.9.10): which process may write a
+// pool is decided by the log's order (ownership_rule.h). Each group carries the epoch its
+// writer holds for the pool (set_epoch; 0 for a pool without one: a single writer that never
+// claims), and every reader counts only the groups written under the epoch in force at their
+// place in the log; commit() asks the pool's claims after each group, so it reports the same.
 //
 // Dropped groups are found by links, not by a stored mark: each group names the sequence of
 // its pool's previous group, so a reader from P that meets a pool's first group linking to a
@@ -20,6 +23,7 @@
 #include <cstdint>
 #include <map>
 #include <memory>
+#include <set>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -67,7 +71,8 @@ class JetStreamView : public storage::CommitLogView {
   PoolSubjects subjects_;
 };
 
-// The writer. One per stream and pool set at a time (not enforced here yet).
+// A writer. Several (one per daemon) may share the stream and write the same pool's subject;
+// whose groups count is the log's rule, through the epoch each writes a pool under.
 class JetStreamCommitLog : public storage::CommitLog {
  public:
   // Makes sure the stream exists (cluster::ensure_stream: R`replicas`, file storage, DiscardNew
@@ -92,25 +97,59 @@ class JetStreamCommitLog : public storage::CommitLog {
   // "<prefix>.start", so the next window comes after it. Throws LogError on a stream that
   // holds messages (moving it would delete them). A few round trips.
   void continue_from(storage::Position position) override;
-  // Publishes one message per pool (in the order of the pools' first records) and waits for
-  // each acknowledgement in turn: one round trip per pool of the window, plus, for a pool this
-  // writer has not written since open(), one lookup of its last group. Any failure (a timeout
-  // leaves the message's fate unknown) is a LogError, and every later commit is refused.
+  // Publishes one message per pool (in the order of the pools' first records) under the pool's
+  // epoch, waits for each acknowledgement in turn, then asks the pool's claim subject whether
+  // an accepted claim came between the epoch and the group (window_acceptance.h):
+  // groups[i].accepted says whether every reader counts the group. Cost per pool of the
+  // window: two round trips (the publish and the claim check; two more per claim of the pool
+  // between its epoch and the group, which is rare), plus, for a pool this writer has not
+  // written since open(), one lookup of its last group.
+  // The first group after set_epoch() is judged by folding all of the pool's claims instead
+  // (ClaimLedger: one lookup, an ordered consumer, O(claims)), so an epoch the rule never gave
+  // (a refused claim's sequence) is reported not accepted rather than trusted.
+  // A pool whose group was not accepted is lost to this writer: its groups in later windows
+  // are not published at all and are reported {pool, position 0, accepted false}, until
+  // set_epoch() gives it a new epoch. The other pools of the window are unaffected; a window
+  // that stores nothing this way has position 0 and leaves end_position() where it was.
+  // Any failure (a timeout leaves the message's fate unknown) is a LogError, and every later
+  // commit is refused.
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override;
   // Purges every pool's subject below `position` (one request) and returns how many messages
   // went (the stream's count before and after: two more round trips).
   std::size_t drop_before(storage::Position position) override;
 
+  // The epoch this writer writes `pool` under from the next window on: the sequence of its
+  // accepted claim (claim_pool in pool_claims.h), or 0 (no claim: a single writer). Makes a
+  // lost pool writable again. The caller must have read the pool's windows below the claim
+  // first (the old owner's last windows count until the claim). The pool's next group links to
+  // the subject's last message, looked up again (another writer may have written since).
+  // O(log pools), sends nothing.
+  void set_epoch(std::string_view pool, std::uint64_t epoch);
+  // The epoch `pool` is written under (0 when never set). O(log pools).
+  std::uint64_t epoch_of(std::string_view pool) const;
+  // Whether a group of `pool` was not accepted since its epoch was last set (commit() then
+  // refuses to write the pool). O(log pools).
+  bool lost(std::string_view pool) const;
+  // Purges `pool`'s commit groups below `position` (cluster mode: each pool has its own
+  // snapshots, so it is dropped on its own) and returns how many messages went. Its claims
+  // stay. Three round trips, as drop_before. Throws LogError, std::invalid_argument for "".
+  std::size_t drop_pool_before(std::string_view pool, storage::Position position);
+
  private:
   JetStreamCommitLog(cluster::NatsConnection& connection, JetStreamLogSettings settings,
                      storage::Position end);
   storage::Position previous_of_pool(const std::string& pool);
+  std::size_t purge_below(const std::string& filter, storage::Position position);
 
   JetStreamView view_;
   storage::Position end_;
   bool failed_ = false;
   // The sequence of each pool's last group this writer knows of (links of the next groups).
   std::map<std::string, storage::Position, std::less<>> last_of_pool_;
+  std::map<std::string, std::uint64_t, std::less<>> epoch_of_pool_;
+  std::set<std::string, std::less<>> lost_pools_;
+  // Pools whose epoch was set and not yet checked against the whole fold of their claims.
+  std::set<std::string, std::less<>> unverified_epochs_;
 };
 
 }  // namespace yoke::jetstream

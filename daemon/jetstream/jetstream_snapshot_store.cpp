@@ -85,28 +85,54 @@ std::string snapshot_bytes(const std::vector<v1::SnapshotRecord>& pools) {
 }  // namespace
 
 std::unique_ptr<JetStreamSnapshotStore> JetStreamSnapshotStore::open(
-    cluster::NatsConnection& connection, JetStreamLogSettings settings, std::size_t keep) {
+    cluster::NatsConnection& connection, JetStreamLogSettings settings, std::size_t keep,
+    std::string_view pool) {
   if (keep == 0) throw std::invalid_argument("a snapshot store keeps at least one snapshot");
   ensure_log_stream(connection, settings);
   return std::unique_ptr<JetStreamSnapshotStore>(
-      new JetStreamSnapshotStore(connection, std::move(settings), keep));
+      new JetStreamSnapshotStore(connection, std::move(settings), keep, std::string(pool)));
 }
 
 JetStreamSnapshotStore::JetStreamSnapshotStore(cluster::NatsConnection& connection,
-                                               JetStreamLogSettings settings, std::size_t keep)
+                                               JetStreamLogSettings settings, std::size_t keep,
+                                               std::string pool)
     : connection_(connection),
       settings_(std::move(settings)),
       subjects_(settings_.subject_prefix),
-      keep_(keep) {}
+      keep_(keep),
+      pool_(std::move(pool)) {}
 
 std::string JetStreamSnapshotStore::describe() const {
-  return "JetStream snapshots in stream '" + settings_.stream + "' (" +
-         subjects_.all_snapshots() + " on " + connection_.servers_text() + ")";
+  return "JetStream snapshots " + (pool_.empty() ? std::string() : "of pool '" + pool_ + "' ") +
+         "in stream '" + settings_.stream + "' (" + every_subject() + " on " +
+         connection_.servers_text() + ")";
+}
+
+std::string JetStreamSnapshotStore::subject_of(storage::Position position) const {
+  return pool_.empty() ? subjects_.of_snapshot(position)
+                       : subjects_.of_pool_snapshot(pool_, position);
+}
+
+std::string JetStreamSnapshotStore::every_subject() const {
+  return pool_.empty() ? subjects_.all_snapshots() : subjects_.pool_snapshots(pool_);
+}
+
+std::optional<storage::Position> JetStreamSnapshotStore::position_of(
+    const std::string& subject) const {
+  return pool_.empty() ? subjects_.snapshot_of_subject(subject)
+                       : subjects_.pool_snapshot_of_subject(pool_, subject);
 }
 
 std::string JetStreamSnapshotStore::write(storage::Position position,
                                           const std::vector<v1::SnapshotRecord>& pools) {
-  const std::string subject = subjects_.of_snapshot(position);
+  if (!pool_.empty()) {
+    for (const v1::SnapshotRecord& record : pools) {
+      if (record.pool() != pool_) {
+        throw std::invalid_argument(describe() + " cannot hold pool '" + record.pool() + "'");
+      }
+    }
+  }
+  const std::string subject = subject_of(position);
   const std::string bytes = snapshot_bytes(pools);
   Manifest manifest;
   manifest.position = position;
@@ -129,7 +155,7 @@ std::string JetStreamSnapshotStore::write(storage::Position position,
     const std::vector<storage::Position> stored = positions();
     for (std::size_t i = keep_; i < stored.size(); ++i) {
       cluster::purge_subject_below(connection_, settings_.stream,
-                                   subjects_.of_snapshot(stored[i]), manifest_sequence + 1);
+                                   subject_of(stored[i]), manifest_sequence + 1);
     }
     return settings_.stream + ":" + subject;
   });
@@ -139,8 +165,8 @@ std::vector<storage::Position> JetStreamSnapshotStore::positions() const {
   std::vector<storage::Position> stored;
   as_log_error(describe() + ": listing snapshots", [&] {
     for (const auto& [subject, messages] : cluster::subjects_with_messages(
-             connection_, settings_.stream, subjects_.all_snapshots())) {
-      const std::optional<std::uint64_t> position = subjects_.snapshot_of_subject(subject);
+             connection_, settings_.stream, every_subject())) {
+      const std::optional<std::uint64_t> position = position_of(subject);
       if (position && messages > 0) stored.push_back(*position);
     }
   });
@@ -155,7 +181,7 @@ std::optional<storage::Position> JetStreamSnapshotStore::oldest_needed() const {
 }
 
 storage::SnapshotContents JetStreamSnapshotStore::read(storage::Position position) const {
-  const std::string subject = subjects_.of_snapshot(position);
+  const std::string subject = subject_of(position);
   const std::string where = describe() + ": snapshot at " + std::to_string(position);
   const auto damaged = [&where](const std::string& why) {
     return storage::SnapshotDamage(where + " " + why);

@@ -19,6 +19,27 @@ int hex_value(char c) {
   return at == std::string_view::npos ? -1 : static_cast<int>(at);
 }
 
+// The decimal position after `head` in `subject` (no sign, no leading zero), if it is that.
+std::optional<std::uint64_t> position_after(std::string_view subject, std::string_view head) {
+  if (subject.substr(0, head.size()) != head) return std::nullopt;
+  const std::string_view digits = subject.substr(head.size());
+  std::uint64_t position = 0;
+  const auto [end, error] = std::from_chars(digits.data(), digits.data() + digits.size(), position);
+  if (error != std::errc() || end != digits.data() + digits.size() || digits.empty() ||
+      (digits.size() > 1 && digits.front() == '0')) {
+    return std::nullopt;
+  }
+  return position;
+}
+
+// The pool named by the one token after `head` in `subject`, if it is that.
+std::optional<std::string> pool_after(std::string_view subject, std::string_view head) {
+  if (subject.substr(0, head.size()) != head) return std::nullopt;
+  const std::string_view token = subject.substr(head.size());
+  if (token.find('.') != std::string_view::npos) return std::nullopt;
+  return pool_of_token(token);
+}
+
 bool valid_prefix(std::string_view prefix) {
   if (prefix.empty() || prefix.front() == '.' || prefix.back() == '.') return false;
   char previous = 0;
@@ -82,24 +103,36 @@ std::string PoolSubjects::of_pool(std::string_view pool) const {
 }
 
 std::optional<std::string> PoolSubjects::pool_of_subject(std::string_view subject) const {
-  const std::string head = prefix_ + ".ev.";
-  if (subject.substr(0, head.size()) != head) return std::nullopt;
-  const std::string_view token = subject.substr(head.size());
-  if (token.find('.') != std::string_view::npos) return std::nullopt;
-  return pool_of_token(token);
+  return pool_after(subject, prefix_ + ".ev.");
 }
 
 std::optional<std::uint64_t> PoolSubjects::snapshot_of_subject(std::string_view subject) const {
-  const std::string head = prefix_ + ".snap.";
-  if (subject.substr(0, head.size()) != head) return std::nullopt;
-  const std::string_view digits = subject.substr(head.size());
-  std::uint64_t position = 0;
-  const auto [end, error] = std::from_chars(digits.data(), digits.data() + digits.size(), position);
-  if (error != std::errc() || end != digits.data() + digits.size() || digits.empty() ||
-      (digits.size() > 1 && digits.front() == '0')) {
-    return std::nullopt;
-  }
-  return position;
+  return position_after(subject, prefix_ + ".snap.");
+}
+
+std::string PoolSubjects::of_claims(std::string_view pool) const {
+  return prefix_ + ".claim." + pool_token(pool);
+}
+
+std::optional<std::string> PoolSubjects::pool_of_claim_subject(std::string_view subject) const {
+  return pool_after(subject, prefix_ + ".claim.");
+}
+
+std::string PoolSubjects::of_pool_snapshot(std::string_view pool, std::uint64_t position) const {
+  return prefix_ + ".snap." + pool_token(pool) + "." + std::to_string(position);
+}
+
+std::string PoolSubjects::pool_snapshots(std::string_view pool) const {
+  return prefix_ + ".snap." + pool_token(pool) + ".*";
+}
+
+std::optional<std::uint64_t> PoolSubjects::pool_snapshot_of_subject(
+    std::string_view pool, std::string_view subject) const {
+  return position_after(subject, prefix_ + ".snap." + pool_token(pool) + ".");
+}
+
+std::string PoolSubjects::of_diffs(std::string_view pool) const {
+  return prefix_ + ".diff." + pool_token(pool);
 }
 
 }  // namespace yoke::jetstream

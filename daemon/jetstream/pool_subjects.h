@@ -1,5 +1,6 @@
-// Where a pool's commit groups live in the installation's stream: `<prefix>.ev.<token>`, one
-// subject per pool. A pool name may hold '.', which separates subject tokens, so the token is
+// Where a pool's entries live in the installation's stream: its commit groups on
+// `<prefix>.ev.<token>`, its claims on `<prefix>.claim.<token>`, its own snapshots (cluster
+// mode) on `<prefix>.snap.<token>.<P>`, its diffs on `<prefix>.diff.<token>`. A pool name may hold '.', which separates subject tokens, so the token is
 // an escaped form of the name: ASCII letters, digits, '-' and ':' stay as they are; every other
 // byte (the daemon's pool names add only '.' and '_') becomes '_' and two lowercase hex digits:
 // "berth.7_a" -> "berth_2e7_5fa". The mapping is one to one (an '_' always starts an escape),
@@ -45,6 +46,24 @@ class PoolSubjects {
   std::string all_snapshots() const { return prefix_ + ".snap.*"; }
   // The position a snapshot subject names, or nullopt for another subject.
   std::optional<std::uint64_t> snapshot_of_subject(std::string_view subject) const;
+  // "<prefix>.claim.<token>": the pool's claims (claim_message.h). Throws std::invalid_argument
+  // for "".
+  std::string of_claims(std::string_view pool) const;
+  // "<prefix>.claim.*": every pool's claims.
+  std::string all_claims() const { return prefix_ + ".claim.*"; }
+  // The pool whose claim subject this is, or nullopt for another subject.
+  std::optional<std::string> pool_of_claim_subject(std::string_view subject) const;
+  // "<prefix>.snap.<token>.<position>": one pool's snapshot at a position (cluster mode, one
+  // pool per snapshot). Throws std::invalid_argument for "".
+  std::string of_pool_snapshot(std::string_view pool, std::uint64_t position) const;
+  // "<prefix>.snap.<token>.*": every snapshot of one pool. Throws std::invalid_argument for "".
+  std::string pool_snapshots(std::string_view pool) const;
+  // The position a snapshot subject of `pool` names, or nullopt for another subject.
+  std::optional<std::uint64_t> pool_snapshot_of_subject(std::string_view pool,
+                                                        std::string_view subject) const;
+  // "<prefix>.diff.<token>": the pool's diffs (a later piece). Throws std::invalid_argument
+  // for "".
+  std::string of_diffs(std::string_view pool) const;
   // "<prefix>.start": markers that move the stream's sequence forward (continue_from).
   std::string start_marker() const { return prefix_ + ".start"; }
 

@@ -58,6 +58,12 @@ class GroupReader {
   // the log's writer would cut (a read-only reader sees it as it is). Not an error: the tail
   // was never acknowledged. Meaningful once next() has returned nullopt.
   virtual std::optional<std::string> stopped_early() const = 0;
+
+  // How many stored groups the reading passed over because the log's rule does not count them
+  // (a log shared by several writers: groups of a writer that had lost the pool; see
+  // CommittedGroup::accepted). Never returned, never applied; `yoke replay` shows the count.
+  // 0 for a log that counts every group (the local journal). Grows as next() reads.
+  virtual std::uint64_t skipped() const { return 0; }
 };
 
 // The read side of a commit log, alone: what `yoke replay` needs. A view never changes the

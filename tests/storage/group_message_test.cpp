@@ -43,6 +43,21 @@ TEST(GroupMessage, RecordsComeBackInOrderWithTheLink) {
   }
 }
 
+TEST(GroupMessage, TheEpochComesBackAndIsAbsentAtZero) {
+  const GroupMessage under_zero = encode_group({record("quay", 1, 1)}, 0);
+  EXPECT_FALSE(cluster::header_value(under_zero.headers, kEpochHeader).has_value());
+  EXPECT_EQ(decode_group(as_stored(under_zero, 3), "quay", "t").epoch, 0u);
+  const GroupMessage under_claim = encode_group({record("quay", 2, 1)}, 3, 41);
+  EXPECT_EQ(cluster::header_value(under_claim.headers, kEpochHeader), "41");
+  EXPECT_EQ(decode_group(as_stored(under_claim, 44), "quay", "t").epoch, 41u);
+  for (const std::string bad : {"", "x", "4 1", "-1", "41x"}) {
+    GroupMessage unreadable = under_zero;
+    unreadable.headers.emplace_back(kEpochHeader, bad);
+    EXPECT_THROW(decode_group(as_stored(unreadable, 9), "quay", "t"), storage::LogDamage)
+        << "'" << bad << "'";
+  }
+}
+
 TEST(GroupMessage, ForeignMessagesAreDamage) {
   const GroupMessage good = encode_group({record("quay", 1, 1)}, 0);
   GroupMessage no_format = good;

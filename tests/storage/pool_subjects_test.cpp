@@ -95,6 +95,27 @@ TEST(PoolSubjects, SubjectsUnderAPrefix) {
   EXPECT_EQ(subjects.pool_of_subject("site-4.yoke.ev."), std::nullopt);
 }
 
+TEST(PoolSubjects, ClaimSnapshotAndDiffSubjectsOfAPool) {
+  const PoolSubjects subjects("site-4.yoke");
+  EXPECT_EQ(subjects.of_claims("berth.7"), "site-4.yoke.claim.berth_2e7");
+  EXPECT_EQ(subjects.all_claims(), "site-4.yoke.claim.*");
+  EXPECT_EQ(subjects.pool_of_claim_subject("site-4.yoke.claim.berth_2e7"), "berth.7");
+  EXPECT_EQ(subjects.pool_of_claim_subject("site-4.yoke.ev.berth_2e7"), std::nullopt);
+  EXPECT_EQ(subjects.pool_of_claim_subject("site-4.yoke.claim.a.b"), std::nullopt);
+  EXPECT_EQ(subjects.pool_of_subject("site-4.yoke.claim.berth_2e7"), std::nullopt);
+  EXPECT_EQ(subjects.of_pool_snapshot("berth.7", 42), "site-4.yoke.snap.berth_2e7.42");
+  EXPECT_EQ(subjects.pool_snapshots("berth.7"), "site-4.yoke.snap.berth_2e7.*");
+  EXPECT_EQ(subjects.pool_snapshot_of_subject("berth.7", "site-4.yoke.snap.berth_2e7.42"), 42u);
+  EXPECT_EQ(subjects.pool_snapshot_of_subject("berth.7", "site-4.yoke.snap.berth_2e7.042"),
+            std::nullopt);
+  EXPECT_EQ(subjects.pool_snapshot_of_subject("berth", "site-4.yoke.snap.berth_2e7.42"),
+            std::nullopt);
+  // A pool's snapshots are not the whole installation's, even for a pool named by digits.
+  EXPECT_EQ(subjects.snapshot_of_subject("site-4.yoke.snap.7.42"), std::nullopt);
+  EXPECT_EQ(subjects.pool_snapshot_of_subject("7", "site-4.yoke.snap.7"), std::nullopt);
+  EXPECT_EQ(subjects.of_diffs("berth.7"), "site-4.yoke.diff.berth_2e7");
+}
+
 TEST(PoolSubjects, BadPrefixesAreRefused) {
   for (const std::string prefix : {"", ".yoke", "yoke.", "a..b", "yo ke", "yoke.*", "yoke.>",
                                    "a:b"}) {

@@ -56,6 +56,11 @@ void JournalCommits::read_groups(storage::CommitLogView& log, bool count_events)
     if (const auto early = reader->stopped_early()) {
       std::cerr << "note: " << *early << ": not replayed\n";
     }
+    if (const std::uint64_t skipped = reader->skipped(); skipped > 0) {
+      std::cerr << "note: " << skipped << " stored group(s) of pool " << pool_
+                << " written by a daemon that no longer owned it: not counted by the log, "
+                   "not replayed\n";
+    }
   } catch (const std::exception& error) {
     throw CliError(log_name_ + ": " + error.what());
   }
