@@ -6,6 +6,7 @@
 #include "daemon/service/commit_groups.h"
 #include "daemon/service/diff_message.h"
 #include "daemon/service/recovery.h"
+#include "daemon/storage/storage_error.h"
 
 namespace yoke::failover {
 

@@ -192,8 +192,9 @@ void YokedServer::close_window() {
   const Clock::time_point closed = Clock::now();
   events_since_snapshot_ += service_.window_events();
   std::vector<std::pair<Ticket, v1::Ack>> acks;
+  std::vector<std::string> lost;  // pools whose windows the shared log no longer counts
   try {
-    acks = service_.seal();
+    acks = service_.seal(&lost);
   } catch (const std::exception& error) {
     // Nothing of this window is acknowledged; what reached the disk is recovered at restart.
     log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
@@ -202,10 +203,7 @@ void YokedServer::close_window() {
     return;
   }
   metrics_->journal_synced(Clock::now() - closed, acks.size());
-  if (cluster_ != nullptr) {
-    const std::vector<std::string> lost = service_.take_lost_pools();
-    if (!lost.empty()) cluster_->lost(service_, lost, Clock::now());
-  }
+  if (cluster_ != nullptr && !lost.empty()) cluster_->lost(service_, lost, Clock::now());
   for (auto& [ticket, ack] : acks) {
     const auto peer = waiting_.find(ticket);
     if (peer == waiting_.end()) continue;

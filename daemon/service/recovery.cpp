@@ -104,7 +104,7 @@ std::optional<CommitResult> apply_commit_group(const CommitGroup& group, Service
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
-  if (group.records.back().seq() <= progress.seq) return std::nullopt;  // the snapshot holds it
+  if (group.records.back().seq() <= progress.seq) return std::nullopt;  // the state holds it already
   if (first_seq != progress.seq + 1) {
     throw fail("record seq " + std::to_string(first_seq) + " does not follow seq " +
                std::to_string(progress.seq));
@@ -130,6 +130,10 @@ std::optional<CommitResult> apply_commit_group(const CommitGroup& group, Service
     }
   }
   return result;
+}
+
+ServiceState empty_service_state(const DaemonConfig& config) {
+  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}};
 }
 
 ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,
