@@ -94,6 +94,9 @@ void ClusterNode::start(daemon::PoolService& service, Clock::time_point now) {
     }
   }
   for (const auto& [pool, role] : roles_) route(service, pool, role);
+  // A configured owner that nobody else serves claims its pools before it reports ready.
+  const TakeoverTimes times{cluster_.heartbeat, cluster_.takeover};
+  for (auto& [pool, role] : roles_) claim_if_due(service, pool, role, times, now);
   next_beat_ = now;
   next_follow_ = now + kFollowInterval;
 }
@@ -154,6 +157,13 @@ void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
 }
 
 std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::time_point now) {
+  // A tick far later than asked means this process was stalled: the others' beats of that
+  // time may not be read yet, so their silence cannot be judged from what was heard.
+  if (last_tick_ != Clock::time_point{} && now - last_tick_ > 2 * tick_interval() + cluster_.heartbeat) {
+    log_event(LogLevel::warn, "stalled", {{"ms", milliseconds_of(now - last_tick_)}});
+    board_->listen_again(now);
+  }
+  last_tick_ = now;
   while (auto message = heartbeats_->poll()) {
     v1::Heartbeat heartbeat;
     if (heartbeat.ParseFromString(message->data) && heartbeat.owner().instance() != cluster_.instance) {
@@ -178,20 +188,30 @@ std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::tim
       role.follower.reset();
       continue;
     }
-    const std::optional<v1::Owner> owner = role.ownership.owner();
-    const PoolStanding standing{pool,
-                                cluster_.owner_of(pool).value_or(""),
-                                cluster_.standbys_of(pool),
-                                owner ? std::optional<std::string>(owner->instance()) : std::nullopt,
-                                false};
-    if (const auto reason = claim_reason(standing, cluster_.instance, *board_, times, now)) {
-      if (auto diffs = take(service, pool, role, *reason, now)) {
-        to_publish.insert(to_publish.end(), diffs->begin(), diffs->end());
-      }
+    if (auto diffs = claim_if_due(service, pool, role, times, now)) {
+      to_publish.insert(to_publish.end(), diffs->begin(), diffs->end());
     }
     route(service, pool, role);
   }
   return to_publish;
+}
+
+std::optional<std::vector<v1::Diff>> ClusterNode::claim_if_due(daemon::PoolService& service,
+                                                               const std::string& pool,
+                                                               PoolRole& role,
+                                                               const TakeoverTimes& times,
+                                                               Clock::time_point now) {
+  if (role.served_here || !role.follower) return std::nullopt;
+  const std::optional<v1::Owner> owner = role.ownership.owner();
+  const PoolStanding standing{pool,
+                              cluster_.owner_of(pool).value_or(""),
+                              cluster_.standbys_of(pool),
+                              owner ? std::optional<std::string>(owner->instance()) : std::nullopt,
+                              false};
+  const std::optional<std::string> reason =
+      claim_reason(standing, cluster_.instance, *board_, times, now);
+  if (!reason) return std::nullopt;
+  return take(service, pool, role, *reason, now);
 }
 
 std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& service,
@@ -212,8 +232,19 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   // The windows the old owner stored before the claim count; none after it does.
   role.follower->catch_up(log_);
   const std::uint64_t seq = role.follower->seq();
-  std::vector<v1::Diff> republish(role.follower->recent_diffs().begin(),
-                                  role.follower->recent_diffs().end());
+  // The old server's last beat says up to which seq it had published; later diffs may never
+  // have gone out. Without a beat (it never beat, or this process just started) all are sent:
+  // a watcher drops a seq it has seen.
+  std::uint64_t published = 0;
+  if (const v1::Heartbeat* last = board_->last(silent)) {
+    for (const v1::OwnedPool& owned : last->pools()) {
+      if (owned.pool() == pool) published = owned.seq();
+    }
+  }
+  std::vector<v1::Diff> republish;
+  for (const v1::Diff& diff : role.follower->recent_diffs()) {
+    if (diff.seq() > published) republish.push_back(diff);
+  }
   log_.set_epoch(pool, result.claim_sequence);
   service.adopt_pool(pool, role.follower->release());
   role.follower.reset();

@@ -31,6 +31,7 @@
 #include "daemon/service/pool_service.h"
 #include "heartbeat_board.h"
 #include "pool_follower.h"
+#include "takeover_rule.h"
 #include "yoke/v1/publish.pb.h"
 #include "yoke/v1/query.pb.h"
 
@@ -87,6 +88,10 @@ class ClusterNode : public daemon::ClusterHooks {
                                             PoolRole& role, const std::string& reason,
                                             Clock::time_point now);
   void follow(const std::string& pool, PoolRole& role);
+  std::optional<std::vector<v1::Diff>> claim_if_due(daemon::PoolService& service,
+                                                    const std::string& pool, PoolRole& role,
+                                                    const TakeoverTimes& times,
+                                                    Clock::time_point now);
 
   const daemon::DaemonConfig& config_;
   const daemon::ClusterSettings& cluster_;
@@ -100,6 +105,7 @@ class ClusterNode : public daemon::ClusterHooks {
   std::uint64_t beats_sent_ = 0;
   Clock::time_point next_beat_{};
   Clock::time_point next_follow_{};
+  Clock::time_point last_tick_{};
 };
 
 }  // namespace yoke::failover

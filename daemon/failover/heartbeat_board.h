@@ -3,6 +3,7 @@
 // Fed from the heartbeat subscription by the loop; read by the takeover rule. One thread.
 #pragma once
 
+#include <algorithm>
 #include <chrono>
 #include <map>
 #include <string>
@@ -22,6 +23,11 @@ class HeartbeatBoard {
   // Records a heartbeat received at `at`. A beat older than the last one heard from the same
   // run of that daemon (beat numbers count up within a run) is ignored. O(log instances).
   void heard(const v1::Heartbeat& heartbeat, Clock::time_point at);
+
+  // This process was stalled (paused, or its loop blocked) until `now`: beats that arrived
+  // meanwhile may still sit unread in the connection, so silence is counted from `now` again
+  // for everyone. O(1).
+  void listen_again(Clock::time_point now) { listening_since_ = std::max(listening_since_, now); }
 
   // How long `instance` has been silent at `now`. O(log instances).
   Clock::duration silent_for(const std::string& instance, Clock::time_point now) const;

@@ -203,7 +203,16 @@ void YokedServer::close_window() {
     return;
   }
   metrics_->journal_synced(Clock::now() - closed, acks.size());
-  if (cluster_ != nullptr && !lost.empty()) cluster_->lost(service_, lost, Clock::now());
+  if (cluster_ != nullptr && !lost.empty()) {
+    cluster_->lost(service_, lost, Clock::now());
+    // The refusals were written before the cluster part learnt who serves those pools now.
+    for (auto& [ticket, ack] : acks) {
+      if (!ack.has_rejected() || ack.rejected().errors(0).code() != v1::Error::NOT_OWNER) continue;
+      if (auto refusal = service_.routing().refusal(ack.pool(), Asked::ingest)) {
+        *ack.mutable_rejected()->mutable_errors(0) = std::move(*refusal);
+      }
+    }
+  }
   for (auto& [ticket, ack] : acks) {
     const auto peer = waiting_.find(ticket);
     if (peer == waiting_.end()) continue;
