@@ -11,6 +11,11 @@
 #include "daemon/config/command_line.h"
 #include "daemon/config/config_error.h"
 #include "daemon/config/config_overrides.h"
+#include "daemon/cluster/cluster_error.h"
+#include "daemon/cluster/nats_connection.h"
+#include "daemon/cluster/nats_library.h"
+#include "daemon/failover/cluster_node.h"
+#include "daemon/jetstream/jetstream_commit_log.h"
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/logging/log_event.h"
 #include "daemon/logging/logger_setup.h"
@@ -67,6 +72,41 @@ int serve(const yoke::daemon::DaemonConfig& config) {
   return server.run();
 }
 
+// The cluster backend: a JetStream stream shared with the other daemons of the installation;
+// this daemon serves the pools the log says it serves, and follows those it may take over.
+int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
+  const yoke::cluster::NatsLibrary library;
+  yoke::cluster::ConnectionSettings settings;
+  settings.servers = config.cluster.servers;
+  settings.name = "yoked " + config.cluster.instance;
+  settings.api_timeout = config.cluster.publish_timeout;
+  settings.on_event = [](const yoke::cluster::ConnectionEvent& event) {
+    // libnats' callback thread: spdlog's loggers are thread-safe.
+    log_event(LogLevel::warn, "nats_connection", {{"event", static_cast<int>(event.kind)},
+                                                  {"detail", event.detail}});
+  };
+  std::unique_ptr<yoke::cluster::NatsConnection> connection;
+  try {
+    connection = std::make_unique<yoke::cluster::NatsConnection>(settings);
+  } catch (const yoke::cluster::ClusterError& error) {
+    log_event(LogLevel::critical, "nats_unreachable", {{"reason", error.what()}});
+    return kYokedFailure;
+  }
+  const std::unique_ptr<yoke::jetstream::JetStreamCommitLog> log =
+      yoke::jetstream::JetStreamCommitLog::open(*connection,
+                                                yoke::failover::log_settings_of(config.cluster));
+  PoolService service(config, ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}},
+                      *log);
+  yoke::failover::ClusterNode node(config, *connection, *log);
+  node.start(service, std::chrono::steady_clock::now());
+  log_event(LogLevel::info, "joined_cluster",
+            {{"instance", config.cluster.instance},
+             {"stream", config.cluster.stream},
+             {"nats", connection->connected_url()}});
+  YokedServer server(config, service, node);
+  return server.run();
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -90,7 +130,9 @@ int main(int argc, char** argv) {
   }
   route_protobuf_logs();
   try {
-    const int status = serve(config);
+    const int status = config.cluster.backend == StorageBackend::jetstream
+                           ? serve_in_cluster(config)
+                           : serve(config);
     log_event(status == kYokedOk ? LogLevel::info : LogLevel::error, "stopped",
               {{"status", status}});
     return status;

@@ -37,15 +37,24 @@ std::int64_t hard_message_cap(std::uint64_t max_message_bytes) {
 
 YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
                          storage::SnapshotStore& snapshots)
+    : YokedServer(config, service, &snapshots, nullptr) {}
+
+YokedServer::YokedServer(const DaemonConfig& config, PoolService& service, ClusterHooks& cluster)
+    : YokedServer(config, service, nullptr, &cluster) {}
+
+YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
+                         storage::SnapshotStore* snapshots, ClusterHooks* cluster)
     : config_(config),
       service_(service),
       snapshots_(snapshots),
+      cluster_(cluster),
       zmq_context_(1),
       ingest_(zmq_context_, zmq::socket_type::router),
       publisher_(zmq_context_, zmq::socket_type::pub),
       query_(zmq_context_, zmq::socket_type::router),
       window_timer_(io_),
       snapshot_timer_(io_),
+      cluster_timer_(io_),
       signals_(io_, SIGINT, SIGTERM),
       queries_(
           service, config.limits.max_message_bytes,
@@ -90,9 +99,12 @@ int YokedServer::run() {
   });
   ingest_watcher_->start();
   query_watcher_->start();
-  const std::vector<std::uint64_t> kept = snapshots_.positions();
-  if (!kept.empty()) last_snapshot_position_ = kept.front();
+  if (snapshots_ != nullptr) {
+    const std::vector<std::uint64_t> kept = snapshots_->positions();
+    if (!kept.empty()) last_snapshot_position_ = kept.front();
+  }
   arm_snapshot_timer();
+  if (cluster_ != nullptr) arm_cluster_timer();
   log_event(LogLevel::info, "serving",
             {{"ingest", config_.endpoints.ingest},
              {"publish", config_.endpoints.publish},
@@ -180,8 +192,9 @@ void YokedServer::close_window() {
   const Clock::time_point closed = Clock::now();
   events_since_snapshot_ += service_.window_events();
   std::vector<std::pair<Ticket, v1::Ack>> acks;
+  std::vector<std::string> lost;  // pools whose windows the shared log no longer counts
   try {
-    acks = service_.seal();
+    acks = service_.seal(&lost);
   } catch (const std::exception& error) {
     // Nothing of this window is acknowledged; what reached the disk is recovered at restart.
     log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
@@ -190,6 +203,16 @@ void YokedServer::close_window() {
     return;
   }
   metrics_->journal_synced(Clock::now() - closed, acks.size());
+  if (cluster_ != nullptr && !lost.empty()) {
+    cluster_->lost(service_, lost, Clock::now());
+    // The refusals were written before the cluster part learnt who serves those pools now.
+    for (auto& [ticket, ack] : acks) {
+      if (!ack.has_rejected() || ack.rejected().errors(0).code() != v1::Error::NOT_OWNER) continue;
+      if (auto refusal = service_.routing().refusal(ack.pool(), Asked::ingest)) {
+        *ack.mutable_rejected()->mutable_errors(0) = std::move(*refusal);
+      }
+    }
+  }
   for (auto& [ticket, ack] : acks) {
     const auto peer = waiting_.find(ticket);
     if (peer == waiting_.end()) continue;
@@ -258,8 +281,16 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   }
   const Clock::time_point start = Clock::now();
   events_since_snapshot_ = 0;
+  if (cluster_ != nullptr) {
+    v1::SnapshotTaken taken = cluster_->snapshot(service_);
+    last_snapshot_position_ = service_.next_journal_position();
+    metrics_->snapshot_written(Clock::now() - start);
+    log_event(LogLevel::info, "snapshot_written",
+              {{"pools", taken.pools_size()}, {"ms", micros(Clock::now() - start) / 1000}});
+    return taken;
+  }
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
-  const std::string path = snapshots_.write(service_.next_journal_position(), records);
+  const std::string path = snapshots_->write(service_.next_journal_position(), records);
   last_snapshot_position_ = service_.next_journal_position();
   v1::SnapshotTaken taken;
   taken.set_path(path);
@@ -271,7 +302,7 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   }
   // Log entries older than the oldest kept snapshot are no longer needed by any fallback.
   std::size_t dropped = 0;
-  if (const auto oldest = snapshots_.oldest_needed()) dropped = service_.log().drop_before(*oldest);
+  if (const auto oldest = snapshots_->oldest_needed()) dropped = service_.log().drop_before(*oldest);
   metrics_->snapshot_written(Clock::now() - start);
   log_event(LogLevel::info, "snapshot_written",
             {{"path", path},
@@ -296,6 +327,22 @@ void YokedServer::arm_snapshot_timer() {
       log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
     }
     arm_snapshot_timer();
+  });
+}
+
+void YokedServer::arm_cluster_timer() {
+  cluster_timer_.expires_after(cluster_->tick_interval());
+  cluster_timer_.async_wait([this](const boost::system::error_code& error) {
+    if (error || stopping_) return;
+    close_window();  // a claim or a lost pool changes what the window may hold
+    try {
+      std::vector<v1::Diff> diffs = cluster_->tick(service_, Clock::now());
+      const Clock::time_point now = Clock::now();
+      for (v1::Diff& diff : diffs) publish(diff, now);
+    } catch (const std::exception& failure) {
+      log_event(LogLevel::error, "cluster_tick_failed", {{"reason", failure.what()}});
+    }
+    arm_cluster_timer();
   });
 }
 
@@ -333,6 +380,7 @@ void YokedServer::shut_down(int status) {
   signals_.cancel();
   window_timer_.cancel();
   snapshot_timer_.cancel();
+  cluster_timer_.cancel();
   ingest_watcher_->stop();
   query_watcher_->stop();
   http_->stop();

@@ -19,6 +19,7 @@
 #include <zmq.hpp>
 
 #include "daemon/config/daemon_config.h"
+#include "cluster_hooks.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/storage/snapshot_store.h"
@@ -43,6 +44,9 @@ class YokedServer {
   // Binds every endpoint; throws zmq::error_t or std::system_error naming what failed.
   YokedServer(const DaemonConfig& config, PoolService& service,
               storage::SnapshotStore& snapshots);
+  // A daemon of a cluster: `cluster` serves, follows and claims pools and keeps their
+  // snapshots (each pool in its own store).
+  YokedServer(const DaemonConfig& config, PoolService& service, ClusterHooks& cluster);
   ~YokedServer();
   YokedServer(const YokedServer&) = delete;
   YokedServer& operator=(const YokedServer&) = delete;
@@ -62,12 +66,16 @@ class YokedServer {
   void publish(v1::Diff& diff, std::chrono::steady_clock::time_point closed);
   v1::SnapshotTaken take_snapshot();
   void arm_snapshot_timer();
+  void arm_cluster_timer();
+  YokedServer(const DaemonConfig& config, PoolService& service, storage::SnapshotStore* snapshots,
+              ClusterHooks* cluster);
   v1::Health health() const;
   void shut_down(int status);
 
   const DaemonConfig& config_;
   PoolService& service_;
-  storage::SnapshotStore& snapshots_;
+  storage::SnapshotStore* snapshots_;  // local backend
+  ClusterHooks* cluster_;               // cluster backend
   boost::asio::io_context io_;
   zmq::context_t zmq_context_;
   zmq::socket_t ingest_;
@@ -77,6 +85,7 @@ class YokedServer {
   std::unique_ptr<ZmqSocketWatcher> query_watcher_;
   boost::asio::steady_timer window_timer_;
   boost::asio::steady_timer snapshot_timer_;
+  boost::asio::steady_timer cluster_timer_;
   boost::asio::signal_set signals_;
   QueryHandler queries_;
   std::unique_ptr<DaemonMetrics> metrics_;

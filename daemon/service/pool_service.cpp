@@ -5,6 +5,7 @@
 #include <set>
 #include <stdexcept>
 
+#include "diff_message.h"
 #include "unix_time.h"
 #include "wire_types.h"
 #include "yoke/v1/records.pb.h"
@@ -259,17 +260,8 @@ std::vector<v1::Diff> PoolService::apply() {
     progress.record_commit(result, pool_work.last_seq, pool_work.batches);
     progress.last_timings.set_repair_us(repair_us);
 
-    v1::Diff& diff = diffs.emplace_back();
-    diff.set_pool(name);
-    diff.set_seq(pool_work.last_seq);
-    diff.set_prev_seq(sealed_seq_before_[name]);
-    for (const MatchedPair& pair : result.diff.removed) *diff.add_removed() = to_wire(pair);
-    for (const MatchedPair& pair : result.diff.added) *diff.add_added() = to_wire(pair);
-    diff.set_weight(result.weight);
-    diff.set_pairs(result.pairs);
-    diff.set_no_perfect_matching(progress.no_perfect_matching);
-    diff.mutable_timings()->set_repair_us(repair_us);
-    *diff.mutable_stats() = to_wire(result.stats);
+    diffs.push_back(diff_of_commit(name, result, pool_work.last_seq, sealed_seq_before_[name],
+                                   progress.no_perfect_matching, repair_us));
   }
   sealed_seq_before_.clear();
   return diffs;

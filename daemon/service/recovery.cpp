@@ -97,14 +97,14 @@ void as_recovery(Step&& step) {
 
 }  // namespace
 
-bool apply_commit_group(const CommitGroup& group, ServiceState& state) {
+std::optional<CommitResult> apply_commit_group(const CommitGroup& group, ServiceState& state) {
   PoolProgress& progress = state.progress[group.pool];
   const auto fail = [&group](const std::string& why) {
     return RecoveryError("journal window " + std::to_string(group.position) + ", pool " +
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
-  if (group.records.back().seq() <= progress.seq) return false;  // the state holds it already
+  if (group.records.back().seq() <= progress.seq) return std::nullopt;  // the state holds it already
   if (first_seq != progress.seq + 1) {
     throw fail("record seq " + std::to_string(first_seq) + " does not follow seq " +
                std::to_string(progress.seq));
@@ -129,7 +129,7 @@ bool apply_commit_group(const CommitGroup& group, ServiceState& state) {
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});
     }
   }
-  return true;
+  return result;
 }
 
 ServiceState empty_service_state(const DaemonConfig& config) {

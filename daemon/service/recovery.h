@@ -66,9 +66,9 @@ std::uint64_t catch_up_pool(storage::CommitLogView& log, const std::string& pool
 // Applies one commit group to the state (recovery, and tools that replay a journal): creates
 // the pool from its first record, checks the sequence numbers and the events, commits, and
 // records the client marks; the pool's last_position becomes the group's position. Records
-// already in the state (seq <= the pool's) are skipped: returns false for a group skipped so,
-// true for one applied. Throws RecoveryError when the group does not continue the pool's
-// history.
-bool apply_commit_group(const CommitGroup& group, ServiceState& state);
+// already in the state (seq <= the pool's) are skipped: returns nullopt for a group skipped so,
+// the commit's result (what its diff says) for one applied. Throws RecoveryError when the
+// group does not continue the pool's history.
+std::optional<CommitResult> apply_commit_group(const CommitGroup& group, ServiceState& state);
 
 }  // namespace yoke::daemon

@@ -5,10 +5,12 @@
 #include <algorithm>
 #include <map>
 #include <memory>
+#include <thread>
 
 #include "daemon/cluster/cluster_error.h"
 #include "daemon/cluster/log_publisher.h"
 #include "daemon/cluster/message_lookup.h"
+#include "daemon/cluster/plain_subject.h"
 #include "daemon/cluster/stream_status.h"
 #include "daemon/cluster/subject_purge.h"
 #include "tests/cluster/cluster_test_util.h"
@@ -181,6 +183,39 @@ TEST_F(LogRoundTrip, PurgeDropsOneSubjectBelowASequenceOnly) {
   purge_subject_below(connection, "PURGED", "purged.a", 1);
   purge_subject_below(connection, "PURGED", "purged.a", cut);
   EXPECT_EQ(stream_status(connection, "PURGED").messages, 15u);
+}
+
+// Core NATS, not stored: what one connection publishes, a subscription on another connection
+// (possibly to another node) polls, in order, without blocking when nothing is queued.
+TEST_F(LogRoundTrip, PlainMessagesReachAPolledSubscriptionOnAnotherConnection) {
+  // Another node than the publisher's (the first of the list).
+  NatsConnection listener(connection_to({cluster_->client_urls().at(2)}));
+  PlainSubscription subscription(listener, "plain.beat.*");
+  EXPECT_EQ(subscription.poll(), std::nullopt);
+  natsConnection_Flush(listener.native());  // the interest is known to the cluster
+
+  std::vector<std::string> received;
+  const auto deadline = std::chrono::steady_clock::now() + std::chrono::seconds(10);
+  int sent = 0;
+  // Interest travels between nodes asynchronously: publish until the first arrives.
+  while (received.empty() && std::chrono::steady_clock::now() < deadline) {
+    publish_plain(*connection_, "plain.beat.orrin", "beat " + std::to_string(sent++));
+    std::this_thread::sleep_for(milliseconds(20));
+    while (auto message = subscription.poll()) received.push_back(message->data);
+  }
+  ASSERT_FALSE(received.empty());
+  const int first = std::stoi(received.front().substr(5));
+  for (int k = 0; k < 20; ++k) publish_plain(*connection_, "plain.beat.orrin", "beat " + std::to_string(sent++));
+  publish_plain(*connection_, "plain.other", "not subscribed");
+  while (received.size() < static_cast<std::size_t>(sent - first) &&
+         std::chrono::steady_clock::now() < deadline) {
+    while (auto message = subscription.poll()) received.push_back(message->data);
+    std::this_thread::sleep_for(milliseconds(5));
+  }
+  ASSERT_EQ(received.size(), static_cast<std::size_t>(sent - first));
+  for (std::size_t k = 0; k < received.size(); ++k) {
+    EXPECT_EQ(received[k], "beat " + std::to_string(first + static_cast<int>(k)));
+  }
 }
 
 }  // namespace

@@ -1,0 +1,34 @@
+// What the server asks of its cluster part when several daemons share a replicated log
+// ([cluster] backend = "jetstream"; daemon/failover/cluster_node.h implements it). The server
+// stays ignorant of NATS: it calls these between windows, on its one thread.
+#pragma once
+
+#include <chrono>
+#include <string>
+#include <vector>
+
+#include "daemon/service/pool_service.h"
+#include "yoke/v1/publish.pb.h"
+#include "yoke/v1/query.pb.h"
+
+namespace yoke::daemon {
+
+class ClusterHooks {
+ public:
+  using Clock = std::chrono::steady_clock;
+  virtual ~ClusterHooks() = default;
+
+  // How often tick() wants to run.
+  virtual std::chrono::milliseconds tick_interval() const = 0;
+  // Heartbeats, following, claims. Returns diffs to publish (a takeover's republication).
+  virtual std::vector<v1::Diff> tick(PoolService& service, Clock::time_point now) = 0;
+  // The service dropped these pools: the log no longer counted this daemon's windows of them.
+  virtual void lost(PoolService& service, const std::vector<std::string>& pools,
+                    Clock::time_point now) = 0;
+  // Snapshots of the pools served here (each pool in its own store), and the log trimmed.
+  virtual v1::SnapshotTaken snapshot(PoolService& service) = 0;
+  // For health and logs: the pools this daemon serves now.
+  virtual std::vector<std::string> served() const = 0;
+};
+
+}  // namespace yoke::daemon

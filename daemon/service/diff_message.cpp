@@ -1,0 +1,24 @@
+#include "diff_message.h"
+
+#include "wire_types.h"
+
+namespace yoke::daemon {
+
+v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std::uint64_t seq,
+                        std::uint64_t prev_seq, bool no_perfect_matching,
+                        std::uint64_t repair_us) {
+  v1::Diff diff;
+  diff.set_pool(pool);
+  diff.set_seq(seq);
+  diff.set_prev_seq(prev_seq);
+  for (const MatchedPair& pair : result.diff.removed) *diff.add_removed() = to_wire(pair);
+  for (const MatchedPair& pair : result.diff.added) *diff.add_added() = to_wire(pair);
+  diff.set_weight(result.weight);
+  diff.set_pairs(result.pairs);
+  diff.set_no_perfect_matching(no_perfect_matching);
+  diff.mutable_timings()->set_repair_us(repair_us);
+  *diff.mutable_stats() = to_wire(result.stats);
+  return diff;
+}
+
+}  // namespace yoke::daemon

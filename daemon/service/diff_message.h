@@ -1,0 +1,20 @@
+// The published diff of one commit: what changed in a pool's matching, built the same way by
+// the serving daemon (PoolService::apply) and by a standby that replays the pool's log (whose
+// diffs a takeover republishes).
+#pragma once
+
+#include <cstdint>
+#include <string>
+
+#include "engine/pool.h"
+#include "yoke/v1/publish.pb.h"
+
+namespace yoke::daemon {
+
+// The diff of `result`, the commit of a pool's batches prev_seq+1 .. seq. Timings carry
+// repair_us only (the publisher adds the rest). O(pairs changed).
+v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std::uint64_t seq,
+                        std::uint64_t prev_seq, bool no_perfect_matching,
+                        std::uint64_t repair_us);
+
+}  // namespace yoke::daemon

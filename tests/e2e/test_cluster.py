@@ -1,0 +1,224 @@
+"""Two yoked daemons sharing a three-node NATS JetStream cluster ([cluster] backend =
+"jetstream"): each owns one pool and stands by for the other's. Checked here against real
+processes, killed and paused by PID:
+
+- a batch sent to the daemon that does not serve its pool is refused with NOT_OWNER naming the
+  one that does, and changes nothing;
+- the owner SIGKILLed mid-stream: the standby claims the pool and serves it; every batch of the
+  stream is acknowledged with the seq it would have had on one daemon (none lost, none applied
+  twice), and the final matching equals that of a single local-journal daemon fed the same
+  batches;
+- the owner SIGSTOPped until the standby claims, then SIGCONT: the paused owner acknowledges
+  nothing after the claim, drops the pool and follows it.
+"""
+
+import os
+import time
+import unittest
+
+from e2e_harness import Daemon, IngestClient, ErrorCode, make_batch_request, SLOWDOWN
+from nats_cluster import NatsCluster
+
+HEARTBEAT_MS = 200
+TAKEOVER_MS = 1500
+
+
+def cluster_config(nats, daemons, instance, owns):
+    """The [cluster] section shared by every daemon, naming `instance` as this one. `owns`
+    maps instance name -> (owned pools, stood-by pools)."""
+    servers = ", ".join(f'"{url}"' for url in nats.client_urls())
+    text = ("[cluster]\n"
+            'backend = "jetstream"\n'
+            f"servers = [{servers}]\n"
+            'stream = "yoke-e2e"\n'
+            f'instance = "{instance}"\n'
+            f"heartbeat_ms = {HEARTBEAT_MS}\n"
+            f"takeover_ms = {TAKEOVER_MS}\n")
+    for name, daemon in daemons.items():
+        owned, stood_by = owns[name]
+        text += (f"[cluster.instances.{name}]\n"
+                 f'ingest = "{daemon.ingest}"\n'
+                 f'query = "{daemon.query}"\n'
+                 f'publish = "{daemon.publish}"\n'
+                 "owns = [" + ", ".join(f'"{p}"' for p in owned) + "]\n"
+                 "stands_by = [" + ", ".join(f'"{p}"' for p in stood_by) + "]\n")
+    return text
+
+
+def batch_events(k):
+    """Batch k (1-based) of the stream: two new vertices, an edge between them and one back to
+    an earlier vertex. Valid whenever batches 1..k-1 were applied, in order."""
+    a, b = 2 * k, 2 * k + 1
+    events = [("add", a), ("add", b), ("set", a, b, 10 + (k * 37) % 90)]
+    if k > 1:
+        events.append(("set", b, 2 * ((k * 7) % (k - 1) + 1), 5 + (k * 53) % 120))
+    return events
+
+
+class FollowingSender:
+    """Sends numbered batches one at a time to whichever daemon serves the pool: follows
+    NOT_OWNER to the owner it names, and tries the other daemons when one is silent or names
+    nobody. Records every Ack."""
+
+    def __init__(self, endpoints, pool, client_id):
+        self.endpoints = list(endpoints)
+        self.current = 0
+        self.pool = pool
+        self.client_id = client_id
+        self.clients = {}
+        self.redirects = 0
+
+    def _client(self, endpoint):
+        if endpoint not in self.clients:
+            self.clients[endpoint] = IngestClient(endpoint)
+        return self.clients[endpoint]
+
+    def _drop(self, endpoint):
+        client = self.clients.pop(endpoint, None)
+        if client is not None:
+            client.close()
+
+    def send(self, k, limit_s=30):
+        request = make_batch_request(batch_events(k), pool=self.pool, client_id=self.client_id,
+                                     client_batch=k)
+        deadline = time.monotonic() + limit_s * SLOWDOWN
+        while time.monotonic() < deadline:
+            endpoint = self.endpoints[self.current]
+            reply = self._client(endpoint).send_bytes(request.SerializeToString(), 700)
+            if reply is None:  # silent (dead or paused): a fresh socket, the next daemon
+                self._drop(endpoint)
+                self.current = (self.current + 1) % len(self.endpoints)
+                continue
+            ack = reply.ack
+            if ack.HasField("accepted"):
+                return ack
+            error = ack.rejected.errors[0]
+            if error.code == ErrorCode.NOT_OWNER:
+                self.redirects += 1
+                if error.owner.ingest in self.endpoints:
+                    self.current = self.endpoints.index(error.owner.ingest)
+                else:
+                    self.current = (self.current + 1) % len(self.endpoints)
+                    time.sleep(0.1)
+                continue
+            raise AssertionError(f"batch {k} refused: {ack}")
+        raise AssertionError(f"batch {k} not acknowledged within {limit_s} s")
+
+    def close(self):
+        for client in self.clients.values():
+            client.close()
+
+
+class ClusterTest(unittest.TestCase):
+    def setUp(self):
+        self.nats = NatsCluster(nodes=3)
+        self.addCleanup(self.nats.stop)
+        self.east = Daemon(self, name="east")
+        self.west = Daemon(self, name="west")
+        self.daemons = {"east": self.east, "west": self.west}
+        roles = {"east": (["brissamar"], ["tazzaline"]), "west": (["tazzaline"], ["brissamar"])}
+        for name, daemon in self.daemons.items():
+            daemon.extra_config = cluster_config(self.nats, self.daemons, name, roles)
+            daemon._write_config()
+        self.east.start(timeout_s=60)
+        self.west.start(timeout_s=60)
+
+    def wait_serving(self, daemon, pool, limit_s=20):
+        """Until `daemon` acknowledges a summary query of `pool` (it serves it)."""
+        deadline = time.monotonic() + limit_s * SLOWDOWN
+        while time.monotonic() < deadline:
+            reply = daemon.ask("summary", pool)
+            if not reply.HasField("error") or reply.error.code == ErrorCode.UNKNOWN_POOL:
+                return
+            time.sleep(0.05)
+        raise AssertionError(f"{daemon.name} does not serve {pool}\n{daemon.diagnostics()}")
+
+    def reference_matching(self, batches):
+        """The matching one local-journal daemon reaches on batches 1..`batches`."""
+        alone = Daemon(self, name="alone").start()
+        client = IngestClient(alone.ingest)
+        for k in range(1, batches + 1):
+            ack = client.send(make_batch_request(batch_events(k), pool="brissamar",
+                                                 client_id="ref", client_batch=k))
+            self.assertEqual(ack.accepted.seq, k)
+        client.close()
+        return alone.matching("brissamar")
+
+    def test_a_batch_for_a_pool_served_elsewhere_names_its_owner(self):
+        self.wait_serving(self.east, "brissamar")
+        client = IngestClient(self.west.ingest)
+        request = make_batch_request(batch_events(1), pool="brissamar", client_id="c",
+                                     client_batch=1)
+        # west learns who serves the pool from the log (it started after east claimed it).
+        deadline = time.monotonic() + 10 * SLOWDOWN
+        while True:
+            ack = client.send(request)
+            self.assertTrue(ack.HasField("rejected"), ack)
+            error = ack.rejected.errors[0]
+            self.assertEqual(error.code, ErrorCode.NOT_OWNER, ack)
+            if error.owner.instance or time.monotonic() > deadline:
+                break
+            time.sleep(0.05)
+        client.close()
+        self.assertEqual(error.owner.instance, "east")
+        self.assertEqual(error.owner.ingest, self.east.ingest)
+        # Nothing was applied anywhere: the owner's first batch still gets seq 1.
+        client = IngestClient(self.east.ingest)
+        ack = client.send(make_batch_request(batch_events(1), pool="brissamar",
+                                             client_id="c", client_batch=1))
+        client.close()
+        self.assertEqual(ack.accepted.seq, 1)
+        self.assertFalse(ack.accepted.duplicate)
+
+    def run_stream(self, batches, disrupt_at, disrupt):
+        sender = FollowingSender([self.east.ingest, self.west.ingest], "brissamar", "quay-7")
+        self.addCleanup(sender.close)
+        for k in range(1, batches + 1):
+            if k == disrupt_at:
+                disrupt()
+            ack = sender.send(k)
+            # Exactly once, nothing lost: batch k is the pool's k-th batch, whichever daemon
+            # answered and whether or not this was a retry of one applied before a failure.
+            self.assertEqual(ack.accepted.seq, k, f"batch {k}: {ack}")
+        return sender
+
+    def test_the_owner_killed_mid_stream_is_replaced_and_nothing_is_lost_or_doubled(self):
+        self.wait_serving(self.east, "brissamar")
+        batches = 120
+        killed_at = []
+
+        def kill_east():
+            killed_at.append(time.monotonic())
+            self.east.kill()
+
+        self.run_stream(batches, 50, kill_east)
+        taken = self.west.log_lines("pool_taken")
+        self.assertTrue(any("brissamar" in line for line in taken), self.west.diagnostics())
+        self.assertEqual(self.west.summary("brissamar")["seq"], batches)
+        self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+
+    def test_a_paused_owner_acknowledges_nothing_after_the_claim(self):
+        self.wait_serving(self.east, "brissamar")
+        batches = 80
+
+        def pause_east():
+            self.east.proc.send_signal(19)  # SIGSTOP
+
+        sender = self.run_stream(batches, 30, pause_east)
+        # The stream finished on west; now wake east with a batch it may still answer.
+        stale = IngestClient(self.east.ingest)
+        self.east.proc.send_signal(18)  # SIGCONT
+        ack = stale.send(make_batch_request(batch_events(batches + 1), pool="brissamar",
+                                            client_id="quay-7", client_batch=batches + 1),
+                         timeout_ms=10000)
+        stale.close()
+        self.assertTrue(ack.HasField("rejected"), ack)
+        self.assertEqual(ack.rejected.errors[0].code, ErrorCode.NOT_OWNER)
+        self.assertEqual(ack.rejected.errors[0].owner.instance, "west")
+        self.assertGreater(sender.redirects + 1, 0)
+        self.assertEqual(self.west.summary("brissamar")["seq"], batches)
+        self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+
+
+if __name__ == "__main__":
+    unittest.main()
