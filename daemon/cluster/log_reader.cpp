@@ -1,6 +1,8 @@
 #include "log_reader.h"
 
 #include "daemon/cluster/cluster_error.h"
+#include "daemon/cluster/message_lookup.h"
+#include "daemon/cluster/subject_scan.h"
 
 namespace yoke::cluster {
 
@@ -8,6 +10,12 @@ LogReader::LogReader(NatsConnection& connection, const ReaderSettings& settings)
     : last_sequence_(settings.start_sequence == 0 ? 0 : settings.start_sequence - 1) {
   if (settings.subject_filter.empty()) {
     throw ClusterError(ClusterErrorKind::invalid, "a log reader needs a subject filter");
+  }
+  if (settings.by_lookup) {
+    connection_ = &connection;
+    stream_ = settings.stream;
+    filter_ = settings.subject_filter;
+    return;
   }
   jsSubOptions options;
   jsSubOptions_Init(&options);
@@ -36,7 +44,24 @@ LogReader::LogReader(NatsConnection& connection, const ReaderSettings& settings)
 
 LogReader::~LogReader() = default;
 
+std::optional<LogMessage> LogReader::next_by_lookup() {
+  for (;;) {
+    if (!next_sequence_) {
+      next_sequence_ = first_sequence_from(*connection_, stream_, filter_, last_sequence_ + 1);
+    }
+    if (!*next_sequence_) return std::nullopt;
+    const std::uint64_t sequence = **next_sequence_;
+    std::optional<LogMessage> message = message_at(*connection_, stream_, sequence);
+    last_sequence_ = sequence;
+    next_sequence_ = first_sequence_from(*connection_, stream_, filter_, sequence + 1);
+    if (!message) continue;  // purged between the two lookups
+    message->pending = *next_sequence_ ? 1 : 0;
+    return message;
+  }
+}
+
 std::optional<LogMessage> LogReader::next(std::chrono::milliseconds timeout) {
+  if (connection_ != nullptr) return next_by_lookup();
   natsMsg* raw = nullptr;
   const natsStatus status = natsSubscription_NextMsg(&raw, subscription_.get(), timeout.count());
   MessageHandle message(raw);

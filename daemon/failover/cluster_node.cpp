@@ -40,6 +40,7 @@ jetstream::JetStreamLogSettings log_settings_of(const daemon::ClusterSettings& c
   settings.max_bytes = cluster.max_bytes;
   settings.publish_timeout = cluster.publish_timeout;
   settings.read_timeout = cluster.publish_timeout;
+  settings.read_by_lookup = true;  // followers read a few groups at a time, also after a node died
   return settings;
 }
 
@@ -278,6 +279,22 @@ void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::stri
     }
     route(service, pool, role);
   }
+}
+
+std::vector<std::pair<daemon::Ticket, v1::Ack>> ClusterNode::commit_failed(
+    daemon::PoolService& service, Clock::time_point) {
+  log_.resume_after_failure();
+  std::vector<std::pair<daemon::Ticket, v1::Ack>> replies;
+  for (auto& [pool, role] : roles_) {
+    if (!role.served_here) continue;
+    role.served_here = false;
+    role.follower.reset();  // rebuilt from the log on a later tick
+    std::vector<std::pair<daemon::Ticket, v1::Ack>> refused = service.serve_elsewhere(pool, "");
+    replies.insert(replies.end(), std::make_move_iterator(refused.begin()),
+                   std::make_move_iterator(refused.end()));
+    log_event(LogLevel::warn, "pool_given_up", {{"pool", pool}, {"reason", "commit failed"}});
+  }
+  return replies;
 }
 
 v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {

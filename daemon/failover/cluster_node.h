@@ -65,6 +65,11 @@ class ClusterNode : public daemon::ClusterHooks {
   void lost(daemon::PoolService& service, const std::vector<std::string>& pools,
             Clock::time_point now) override;
 
+  // Gives up every pool served here after a failed commit (their followers are rebuilt from
+  // the log on the next ticks, then the takeover rule claims them again: "restart").
+  std::vector<std::pair<daemon::Ticket, v1::Ack>> commit_failed(daemon::PoolService& service,
+                                                                Clock::time_point now) override;
+
   // A snapshot of each pool served here, in that pool's own store (named by the position
   // after its last window), then each pool's log trimmed below its oldest snapshot kept.
   // Call between windows. O(state) plus round trips per pool.

@@ -20,9 +20,11 @@ void ClaimLedger::catch_up(cluster::NatsConnection& connection, const std::strin
     return cluster::first_sequence_from(connection, stream, filter_, last_read_ + 1);
   });
   if (!first) return;
-  cluster::LogReader reader = as_log_error(context, [&] {
-    return cluster::LogReader(connection, cluster::ReaderSettings{stream, filter_, *first});
-  });
+  // Claims are few: looked up one by one, which works as soon as the stream has a leader (a
+  // consumer created after a node died may wait for that node).
+  cluster::ReaderSettings reading{stream, filter_, *first};
+  reading.by_lookup = true;
+  cluster::LogReader reader = as_log_error(context, [&] { return cluster::LogReader(connection, reading); });
   for (;;) {
     const std::optional<cluster::LogMessage> message =
         as_log_error(context, [&] { return reader.next(timeout); });

@@ -59,7 +59,8 @@ std::unique_ptr<storage::GroupReader> JetStreamView::read_from(storage::Position
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
   return as_log_error(describe() + ": reading '" + filter + "' from " + std::to_string(from), [&] {
     return std::make_unique<JetStreamGroupReader>(connection_, settings_.stream, subjects_, pool,
-                                                  from, settings_.read_timeout, describe());
+                                                  from, settings_.read_timeout, describe(),
+                                                  settings_.read_by_lookup);
   });
 }
 
@@ -201,6 +202,13 @@ void JetStreamCommitLog::set_epoch(std::string_view pool, std::uint64_t epoch) {
   }
   const auto lost = lost_pools_.find(pool);
   if (lost != lost_pools_.end()) lost_pools_.erase(lost);
+}
+
+void JetStreamCommitLog::resume_after_failure() {
+  for (const auto& [pool, epoch] : epoch_of_pool_) lost_pools_.insert(pool);
+  for (const auto& [pool, last] : last_of_pool_) lost_pools_.insert(pool);
+  last_of_pool_.clear();
+  failed_ = false;
 }
 
 std::uint64_t JetStreamCommitLog::epoch_of(std::string_view pool) const {

@@ -42,6 +42,11 @@ struct JetStreamLogSettings {
   std::chrono::milliseconds publish_timeout{5000};  // per message of a window
   // How long a reader waits for a message it knows is stored before giving up (LogError).
   std::chrono::milliseconds read_timeout{5000};
+  // Readers look each group up at the stream leader instead of streaming it through a
+  // consumer (cluster::ReaderSettings::by_lookup): two round trips a group, but they work as
+  // soon as the stream has a leader again after a node died. The daemon's followers read this
+  // way; a replay of a long log is faster without.
+  bool read_by_lookup = false;
 };
 
 // The read side on a stream that exists: what `yoke replay` needs; never writes. Every call
@@ -125,6 +130,11 @@ class JetStreamCommitLog : public storage::CommitLog {
   // the subject's last message, looked up again (another writer may have written since).
   // O(log pools), sends nothing.
   void set_epoch(std::string_view pool, std::uint64_t epoch);
+  // After a failed commit (a publish whose fate is unknown, e.g. a timeout during a stream
+  // leader election): writes again, but every pool it had written counts as lost until
+  // set_epoch() (its last window may or may not be stored: the caller must read the pool
+  // from the log again and claim it anew before writing it). Sends nothing. O(pools).
+  void resume_after_failure();
   // The epoch `pool` is written under (0 when never set). O(log pools).
   std::uint64_t epoch_of(std::string_view pool) const;
   // Whether a group of `pool` was not accepted since its epoch was last set (commit() then

@@ -13,7 +13,7 @@ JetStreamGroupReader::JetStreamGroupReader(cluster::NatsConnection& connection,
                                            const PoolSubjects& subjects, std::string_view pool,
                                            storage::Position from,
                                            std::chrono::milliseconds read_timeout,
-                                           std::string where)
+                                           std::string where, bool by_lookup)
     : connection_(connection),
       stream_(stream),
       subjects_(subjects),
@@ -26,8 +26,9 @@ JetStreamGroupReader::JetStreamGroupReader(cluster::NatsConnection& connection,
   const std::optional<std::uint64_t> first =
       cluster::first_sequence_from(connection, stream, filter, from == 0 ? 1 : from);
   if (first) {
-    reader_ = std::make_unique<cluster::LogReader>(
-        connection, cluster::ReaderSettings{stream, filter, *first});
+    cluster::ReaderSettings reading{stream, filter, *first};
+    reading.by_lookup = by_lookup;
+    reader_ = std::make_unique<cluster::LogReader>(connection, reading);
   }
 }
 

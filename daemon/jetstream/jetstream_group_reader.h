@@ -26,12 +26,12 @@ class JetStreamGroupReader : public storage::GroupReader {
   // claims when there are any), then finds the first group at or after `from` (one API round
   // trip) and, when there is one, creates the consumer there (one more). `from` = 0 reads all
   // that is stored and checks nothing; from > 0 checks each pool's first stored message for a
-  // dropped predecessor at or above `from`. `where` names the log in messages. Throws
+  // dropped predecessor at or above `from`. `by_lookup`: no consumer (ReaderSettings). `where` names the log in messages. Throws
   // cluster::ClusterError, storage::LogError and LogDamage (a claim that cannot be read).
   JetStreamGroupReader(cluster::NatsConnection& connection, const std::string& stream,
                        const PoolSubjects& subjects, std::string_view pool,
                        storage::Position from, std::chrono::milliseconds read_timeout,
-                       std::string where);
+                       std::string where, bool by_lookup = false);
 
   // The next group the rule counts; groups it does not count are passed over and counted in
   // skipped(). A group stored after the claims were loaded makes the reader read the claims

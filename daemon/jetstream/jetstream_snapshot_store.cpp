@@ -201,7 +201,10 @@ storage::SnapshotContents JetStreamSnapshotStore::read(storage::Position positio
   std::string bytes;
   if (manifest->chunks > 0) {
     as_log_error(where, [&] {
-      cluster::LogReader reader(connection_, {settings_.stream, subject, manifest->first_chunk});
+      // Chunks are few and large: looked up one by one (as claims are), no consumer needed.
+      cluster::ReaderSettings reading{settings_.stream, subject, manifest->first_chunk};
+      reading.by_lookup = true;
+      cluster::LogReader reader(connection_, reading);
       for (std::uint64_t index = 0; index < manifest->chunks; ++index) {
         const std::optional<cluster::LogMessage> chunk = reader.next(settings_.read_timeout);
         if (!chunk) throw storage::LogError(where + ": chunk " + std::to_string(index) +

@@ -25,6 +25,11 @@ class ClusterHooks {
   // The service dropped these pools: the log no longer counted this daemon's windows of them.
   virtual void lost(PoolService& service, const std::vector<std::string>& pools,
                     Clock::time_point now) = 0;
+  // The log could not store the open window (a publish timed out: its fate is unknown). Every
+  // pool served here is given up (its open batches refused, returned here) and read from the
+  // log again before it is claimed anew; the daemon keeps running.
+  virtual std::vector<std::pair<Ticket, v1::Ack>> commit_failed(PoolService& service,
+                                                                Clock::time_point now) = 0;
   // Snapshots of the pools served here (each pool in its own store), and the log trimmed.
   virtual v1::SnapshotTaken snapshot(PoolService& service) = 0;
   // For health and logs: the pools this daemon serves now.

@@ -1,6 +1,8 @@
 // yoked: the streaming matching daemon. Reads its settings (flags over a config file over the
 // embedded defaults), recovers its pools from the data directory, and serves until SIGTERM or
 // SIGINT (DESIGN.md sections 5 and 6).
+#include <algorithm>
+#include <chrono>
 #include <exception>
 #include <iostream>
 #include <memory>
@@ -79,7 +81,9 @@ int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
   yoke::cluster::ConnectionSettings settings;
   settings.servers = config.cluster.servers;
   settings.name = "yoked " + config.cluster.instance;
-  settings.api_timeout = config.cluster.publish_timeout;
+  // Lookups fail fast during a stream leader election and are asked again on the next tick,
+  // rather than blocking the loop for a whole publish timeout each.
+  settings.api_timeout = std::min(config.cluster.publish_timeout, std::chrono::milliseconds(1000));
   settings.on_event = [](const yoke::cluster::ConnectionEvent& event) {
     // libnats' callback thread: spdlog's loggers are thread-safe.
     log_event(LogLevel::warn, "nats_connection", {{"event", static_cast<int>(event.kind)},

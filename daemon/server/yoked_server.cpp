@@ -196,6 +196,14 @@ void YokedServer::close_window() {
   try {
     acks = service_.seal(&lost);
   } catch (const std::exception& error) {
+    if (cluster_ != nullptr) {
+      // A replicated log that did not answer in time (a leader election): the window's fate
+      // is unknown, so its pools are read from the log again and claimed anew; the batches
+      // are refused (NOT_OWNER, retry) and their retries answered by the ledger later.
+      log_event(LogLevel::error, "log_commit_failed", {{"reason", error.what()}});
+      send_acks(cluster_->commit_failed(service_, Clock::now()));
+      return;
+    }
     // Nothing of this window is acknowledged; what reached the disk is recovered at restart.
     log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
     journal_failed_ = true;
@@ -213,17 +221,7 @@ void YokedServer::close_window() {
       }
     }
   }
-  for (auto& [ticket, ack] : acks) {
-    const auto peer = waiting_.find(ticket);
-    if (peer == waiting_.end()) continue;
-    metrics_->acknowledged(ack);
-    v1::IngestReply reply;
-    reply.set_version(v1::PROTOCOL_VERSION_1);
-    *reply.mutable_ack() = std::move(ack);
-    this->reply(ingest_, peer->second, reply.SerializeAsString());
-    waiting_.erase(peer);
-  }
-  ingest_watcher_->poke();
+  send_acks(std::move(acks));
 
   std::vector<v1::Diff> diffs = service_.apply();
   for (v1::Diff& diff : diffs) {
@@ -239,6 +237,20 @@ void YokedServer::close_window() {
       events_since_snapshot_ = 0;  // try again after as many events, not after every window
     }
   }
+}
+
+void YokedServer::send_acks(std::vector<std::pair<Ticket, v1::Ack>> acks) {
+  for (auto& [ticket, ack] : acks) {
+    const auto peer = waiting_.find(ticket);
+    if (peer == waiting_.end()) continue;
+    metrics_->acknowledged(ack);
+    v1::IngestReply reply;
+    reply.set_version(v1::PROTOCOL_VERSION_1);
+    *reply.mutable_ack() = std::move(ack);
+    this->reply(ingest_, peer->second, reply.SerializeAsString());
+    waiting_.erase(peer);
+  }
+  ingest_watcher_->poke();
 }
 
 void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {

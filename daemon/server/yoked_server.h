@@ -63,6 +63,7 @@ class YokedServer {
   void reply(zmq::socket_t& socket, Envelope& envelope, const std::string& payload);
   void arm_window_timer();
   void close_window();
+  void send_acks(std::vector<std::pair<Ticket, v1::Ack>> acks);
   void publish(v1::Diff& diff, std::chrono::steady_clock::time_point closed);
   v1::SnapshotTaken take_snapshot();
   void arm_snapshot_timer();

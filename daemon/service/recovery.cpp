@@ -81,6 +81,7 @@ void apply_groups_from(storage::CommitLogView& log, storage::Position from,
     report.records += group->records.size();
     if (apply_commit_group(to_commit_group(std::move(*group)), state)) ++report.commits;
   }
+  report.groups_not_counted += reader->skipped();
 }
 
 // Runs `step`, turning the errors of reading and replaying into RecoveryError.

@@ -30,6 +30,8 @@ struct RecoveryReport {
   std::size_t pools = 0;
   std::uint64_t records = 0;  // journal records replayed (in the commit groups read)
   std::uint64_t commits = 0;  // groups applied (not those the state held already)
+  // Groups the log holds but does not count (a shared log's windows of a deposed owner).
+  std::uint64_t groups_not_counted = 0;
 };
 
 // Loads the newest snapshot whose pools restore and pass restore_checked, and whose position

@@ -185,6 +185,17 @@ class NatsCluster:
             raise RuntimeError(f"{self.server_name(node)} did not become healthy:\n"
                                + self.log_tail(node))
 
+    def restart_all(self, limit=60.0):
+        """Starts every stopped node at once (a node alone cannot become healthy while its
+        streams have no quorum), then waits until each is healthy."""
+        stopped = [node for node in range(self.size) if self.pid(node) is None]
+        for node in stopped:
+            self._start(node)
+        for node in stopped:
+            if not self.wait_healthy(node, limit):
+                raise RuntimeError(f"{self.server_name(node)} did not become healthy:\n"
+                                   + self.log_tail(node))
+
     def _stop_processes(self):
         for p in self.processes:
             if p is not None and p.poll() is None:

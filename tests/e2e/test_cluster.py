@@ -9,18 +9,24 @@ processes, killed and paused by PID:
   twice), and the final matching equals that of a single local-journal daemon fed the same
   batches;
 - the owner SIGSTOPped until the standby claims, then SIGCONT: the paused owner acknowledges
-  nothing after the claim, drops the pool and follows it.
+  nothing after the claim, drops the pool and follows it;
+- the stream's leader (a NATS node) SIGKILLed mid-stream, and later everything (three nodes,
+  two daemons) stopped and started again: the stream goes on where it was;
+- after each: `yoke replay --cluster --verify` of the pool's log certifies every commit and ends
+  at the serving daemon's matching and seq, and every NATS node holds the same log.
 """
 
 import os
 import time
 import unittest
 
-from e2e_harness import Daemon, IngestClient, ErrorCode, make_batch_request, SLOWDOWN
+from e2e_harness import (Daemon, IngestClient, ErrorCode, make_batch_request,
+                         replay_final_matching, SLOWDOWN)
 from nats_cluster import NatsCluster
 
 HEARTBEAT_MS = 200
 TAKEOVER_MS = 1500
+STREAM = "yoke-e2e"
 
 
 def cluster_config(nats, daemons, instance, owns):
@@ -30,7 +36,7 @@ def cluster_config(nats, daemons, instance, owns):
     text = ("[cluster]\n"
             'backend = "jetstream"\n'
             f"servers = [{servers}]\n"
-            'stream = "yoke-e2e"\n'
+            f'stream = "{STREAM}"\n'
             f'instance = "{instance}"\n'
             f"heartbeat_ms = {HEARTBEAT_MS}\n"
             f"takeover_ms = {TAKEOVER_MS}\n")
@@ -144,6 +150,37 @@ class ClusterTest(unittest.TestCase):
         client.close()
         return alone.matching("brissamar")
 
+    def serving_daemon(self, pool):
+        for daemon in self.daemons.values():
+            if daemon.running():
+                reply = daemon.ask("summary", pool)
+                if not reply.HasField("error"):
+                    return daemon
+        raise AssertionError(f"no daemon serves {pool}")
+
+    def check_log_agrees(self, pool, batches):
+        """The pool's log replayed from the cluster, every commit certified, ends where the
+        serving daemon is; and every NATS node holds the same stream."""
+        urls = ",".join(self.nats.client_urls())
+        pairs, commits = replay_final_matching(f"--cluster={urls}", "--stream", STREAM,
+                                               "--pool", pool, "--verify")
+        daemon = self.serving_daemon(pool)
+        seq, weight, matching = daemon.matching(pool)
+        self.assertEqual(seq, batches)
+        self.assertEqual(commits[-1]["seq"], batches)
+        self.assertEqual(commits[-1]["weight"], weight)
+        self.assertEqual(pairs, matching)
+        deadline = time.monotonic() + 20 * SLOWDOWN
+        while True:
+            views = [self.nats.stream_view(node, STREAM) for node in range(self.nats.size)
+                     if self.nats.pid(node) is not None]
+            states = {(v["messages"], v["first_seq"], v["last_seq"]) for v in views if v}
+            if len(states) == 1 and len(views) == self.nats.size:
+                return
+            if time.monotonic() > deadline:
+                raise AssertionError(f"NATS nodes disagree on {STREAM}: {views}")
+            time.sleep(0.2)
+
     def test_a_batch_for_a_pool_served_elsewhere_names_its_owner(self):
         self.wait_serving(self.east, "brissamar")
         client = IngestClient(self.west.ingest)
@@ -196,6 +233,7 @@ class ClusterTest(unittest.TestCase):
         self.assertTrue(any("brissamar" in line for line in taken), self.west.diagnostics())
         self.assertEqual(self.west.summary("brissamar")["seq"], batches)
         self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+        self.check_log_agrees("brissamar", batches)
 
     def test_a_paused_owner_acknowledges_nothing_after_the_claim(self):
         self.wait_serving(self.east, "brissamar")
@@ -218,6 +256,42 @@ class ClusterTest(unittest.TestCase):
         self.assertGreater(sender.redirects + 1, 0)
         self.assertEqual(self.west.summary("brissamar")["seq"], batches)
         self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+        self.check_log_agrees("brissamar", batches)
+
+    def test_the_stream_leader_killed_mid_stream_then_everything_restarted(self):
+        self.wait_serving(self.east, "brissamar")
+        batches = 90
+        killed = []
+
+        def kill_leader():
+            leader = self.nats.stream_leader(STREAM)
+            killed.append(leader)
+            self.nats.kill(leader)
+
+        sender = FollowingSender([self.east.ingest, self.west.ingest], "brissamar", "quay-7")
+        self.addCleanup(sender.close)
+        for k in range(1, batches + 1):
+            if k == 40:
+                kill_leader()
+            if k == 60:
+                self.nats.restart(killed[0])
+            self.assertEqual(sender.send(k, limit_s=60).accepted.seq, k, f"batch {k}")
+        self.check_log_agrees("brissamar", batches)
+
+        # Everything down (daemons first, then every node), everything up again.
+        for daemon in self.daemons.values():
+            daemon.kill()
+        for node in range(self.nats.size):
+            self.nats.kill(node)
+        self.nats.restart_all()
+        self.east.start(timeout_s=60)
+        self.west.start(timeout_s=60)
+        more = 30
+        for k in range(batches + 1, batches + more + 1):
+            self.assertEqual(sender.send(k, limit_s=60).accepted.seq, k, f"batch {k}")
+        self.assertEqual(self.serving_daemon("brissamar").matching("brissamar"),
+                         self.reference_matching(batches + more))
+        self.check_log_agrees("brissamar", batches + more)
 
 
 if __name__ == "__main__":

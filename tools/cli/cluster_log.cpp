@@ -63,6 +63,7 @@ ClusterLog::ClusterLog(const ClusterLogOptions& options) {
   try {
     view_ = std::make_unique<jetstream::JetStreamView>(*connection_, log);
     snapshots_ = jetstream::JetStreamSnapshotStore::open(*connection_, log, kKeepAll);
+    settings_ = log;
   } catch (const storage::LogError& error) {
     throw CliError(error.what());
   } catch (const std::invalid_argument& error) {
@@ -71,5 +72,27 @@ ClusterLog::ClusterLog(const ClusterLogOptions& options) {
 }
 
 ClusterLog::~ClusterLog() = default;
+
+const storage::SnapshotStore& ClusterLog::snapshots_of(const std::string& pool) {
+  auto it = pool_snapshots_.find(pool);
+  if (it == pool_snapshots_.end()) {
+    try {
+      it = pool_snapshots_
+               .emplace(pool, jetstream::JetStreamSnapshotStore::open(*connection_, settings_,
+                                                                      kKeepAll, pool))
+               .first;
+    } catch (const storage::LogError& error) {
+      throw CliError(error.what());
+    } catch (const std::invalid_argument& error) {
+      throw CliError(error.what());
+    }
+  }
+  try {
+    if (!it->second->positions().empty()) return *it->second;
+  } catch (const storage::LogError& error) {
+    throw CliError(error.what());
+  }
+  return *snapshots_;
+}
 
 }  // namespace yoke::cli

@@ -8,6 +8,7 @@
 // "<prefix>.>"; nothing is written or purged.
 #pragma once
 
+#include <map>
 #include <memory>
 #include <string>
 #include <vector>
@@ -38,14 +39,19 @@ class ClusterLog {
   ClusterLog& operator=(const ClusterLog&) = delete;
 
   storage::CommitLogView& view() { return *view_; }
-  const storage::SnapshotStore& snapshots() const { return *snapshots_; }
+  // Where `pool`'s snapshots are: its own store ("<prefix>.snap.<token>.*", written by the
+  // daemons of a cluster) when that holds any, else the installation's ("<prefix>.snap.*",
+  // one snapshot of every pool: a single writer). One stream-info request per pool asked.
+  const storage::SnapshotStore& snapshots_of(const std::string& pool);
   // "JetStream stream 'yoke' (yoke.ev.> on nats://...)": names the log in messages.
   std::string describe() const { return view_->describe(); }
 
  private:
   std::unique_ptr<cluster::NatsConnection> connection_;
   std::unique_ptr<jetstream::JetStreamView> view_;
-  std::unique_ptr<jetstream::JetStreamSnapshotStore> snapshots_;
+  std::unique_ptr<jetstream::JetStreamSnapshotStore> snapshots_;  // the installation's
+  std::map<std::string, std::unique_ptr<jetstream::JetStreamSnapshotStore>> pool_snapshots_;
+  jetstream::JetStreamLogSettings settings_;
 };
 
 }  // namespace yoke::cli

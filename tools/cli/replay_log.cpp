@@ -19,8 +19,8 @@ ReplayLog::ReplayLog(const ReplayOptions& options) {
 JournalCommits& ReplayLog::read(const std::string& pool, bool count_events) {
   commits_.reset();
   if (cluster_) {
-    commits_ = std::make_unique<JournalCommits>(cluster_->view(), &cluster_->snapshots(), pool,
-                                                count_events);
+    commits_ = std::make_unique<JournalCommits>(cluster_->view(), &cluster_->snapshots_of(pool),
+                                                pool, count_events);
   } else {
     commits_ = std::make_unique<JournalCommits>(path_, pool, count_events);
   }
