@@ -11,6 +11,10 @@ void publish_plain(NatsConnection& connection, const std::string& subject, std::
                    "cannot publish on '" + subject + "'");
 }
 
+bool flush_plain(NatsConnection& connection, std::chrono::milliseconds timeout) {
+  return natsConnection_FlushTimeout(connection.native(), timeout.count()) == NATS_OK;
+}
+
 PlainSubscription::PlainSubscription(NatsConnection& connection, const std::string& subject) {
   natsSubscription* raw = nullptr;
   throw_on_failure(natsConnection_SubscribeSync(&raw, connection.native(), subject.c_str()),

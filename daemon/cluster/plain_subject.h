@@ -2,6 +2,7 @@
 // (heartbeats), where a lost message only matters until the next one.
 #pragma once
 
+#include <chrono>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -16,6 +17,10 @@ namespace yoke::cluster {
 // acknowledgement; it is lost while the connection is reconnecting). O(bytes). Throws
 // ClusterError when the connection is closed or the subject is invalid.
 void publish_plain(NatsConnection& connection, const std::string& subject, std::string_view data);
+
+// Waits until every message queued on the connection reached the server, at most `timeout`.
+// Returns false on a timeout or a closed connection. For a last word before closing.
+bool flush_plain(NatsConnection& connection, std::chrono::milliseconds timeout);
 
 // A subscription read by polling from the caller's thread: no callback runs in the caller's
 // code, so a single-threaded loop needs no locks. libnats' reader thread queues deliveries

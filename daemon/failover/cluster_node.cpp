@@ -134,8 +134,8 @@ void ClusterNode::route(daemon::PoolService& service, const std::string& pool, c
   service.serve_elsewhere(pool, serving);
 }
 
-void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
-  if (now < next_beat_) return;
+void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now, bool leaving) {
+  if (now < next_beat_ && !leaving) return;
   next_beat_ = now + cluster_.heartbeat;
   v1::Heartbeat heartbeat;
   *heartbeat.mutable_owner() = self_;
@@ -149,11 +149,19 @@ void ClusterNode::beat(daemon::PoolService& service, Clock::time_point now) {
   }
   heartbeat.set_sent_unix_us(daemon::unix_time_us());
   heartbeat.set_beat(++beats_sent_);
+  heartbeat.set_leaving(leaving);
   try {
     cluster::publish_plain(connection_, beat_subject(view_.subjects(), cluster_.instance),
                            heartbeat.SerializeAsString());
   } catch (const std::exception& error) {
     log_event(LogLevel::warn, "heartbeat_not_sent", {{"reason", error.what()}});
+  }
+}
+
+void ClusterNode::leave(daemon::PoolService& service) {
+  beat(service, Clock::now(), true);
+  if (!cluster::flush_plain(connection_, cluster_.heartbeat)) {
+    log_event(LogLevel::warn, "leaving_not_told", {{"reason", "the NATS connection did not flush"}});
   }
 }
 
@@ -182,7 +190,7 @@ std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::tim
     try {
       refresh_ownership(pool, role);
       if (!role.follower) follow(pool, role);
-      role.follower->catch_up(log_);
+      role.follower->catch_up(log_, *role.snapshots);
     } catch (const std::exception& error) {
       // The follower is rebuilt from the newest snapshot on the next tick.
       log_event(LogLevel::warn, "pool_follow_failed", {{"pool", pool}, {"reason", error.what()}});
@@ -221,7 +229,9 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
                                                        Clock::time_point now) {
   const std::optional<v1::Owner> before = role.ownership.owner();
   const std::string silent = before ? before->instance() : cluster_.owner_of(pool).value_or("");
-  const std::uint64_t silent_ms = milliseconds_of(board_->silent_for(silent, now));
+  const Clock::duration silence = board_->silent_for(silent, now);
+  const bool left = silence == Clock::duration::max();  // it said it was leaving
+  const std::uint64_t silent_ms = left ? 0 : milliseconds_of(silence);
   const jetstream::ClaimResult result = jetstream::claim_pool(
       connection_, log_settings_of(cluster_), pool, self_, role.ownership.epoch(), reason);
   refresh_ownership(pool, role);
@@ -231,7 +241,7 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
     return std::nullopt;
   }
   // The windows the old owner stored before the claim count; none after it does.
-  role.follower->catch_up(log_);
+  role.follower->catch_up(log_, *role.snapshots);
   const std::uint64_t seq = role.follower->seq();
   // The old server's last beat says up to which seq it had published; later diffs may never
   // have gone out. Without a beat (it never beat, or this process just started) all are sent:
@@ -258,6 +268,7 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
              {"seq", seq},
              {"previous", silent},
              {"silent_ms", silent_ms},
+             {"previous_left", left},
              {"republished", republish.size()}});
   return republish;
 }

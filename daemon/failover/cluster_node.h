@@ -75,6 +75,9 @@ class ClusterNode : public daemon::ClusterHooks {
   // Call between windows. O(state) plus round trips per pool.
   v1::SnapshotTaken snapshot(daemon::PoolService& service) override;
 
+  // Beats once more with `leaving` set, and waits (up to a heartbeat interval) until it left.
+  void leave(daemon::PoolService& service) override;
+
   // The pools served here now, sorted.
   std::vector<std::string> served() const override;
 
@@ -86,7 +89,7 @@ class ClusterNode : public daemon::ClusterHooks {
     bool served_here = false;
   };
 
-  void beat(daemon::PoolService& service, Clock::time_point now);
+  void beat(daemon::PoolService& service, Clock::time_point now, bool leaving = false);
   void refresh_ownership(const std::string& pool, PoolRole& role);
   void route(daemon::PoolService& service, const std::string& pool, const PoolRole& role);
   std::optional<std::vector<v1::Diff>> take(daemon::PoolService& service, const std::string& pool,

@@ -29,7 +29,8 @@ class HeartbeatBoard {
   // for everyone. O(1).
   void listen_again(Clock::time_point now) { listening_since_ = std::max(listening_since_, now); }
 
-  // How long `instance` has been silent at `now`. O(log instances).
+  // How long `instance` has been silent at `now`; duration::max() after it said it was leaving
+  // (until it beats again). O(log instances).
   Clock::duration silent_for(const std::string& instance, Clock::time_point now) const;
 
   // The last heartbeat of `instance`, or nullptr if none was heard.

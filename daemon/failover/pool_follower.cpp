@@ -24,9 +24,20 @@ std::uint64_t PoolFollower::seq() const {
   return progress == state_.progress.end() ? 0 : progress->second.seq;
 }
 
-std::size_t PoolFollower::catch_up(storage::CommitLogView& log) {
+std::size_t PoolFollower::catch_up(storage::CommitLogView& log,
+                                   const storage::SnapshotStore& snapshots) {
   std::size_t applied = 0;
   try {
+    // A reader finds dropped groups by the links of those still stored; when the owner trimmed
+    // every group of the pool (below its newest snapshot), only the snapshot tells.
+    if (log.first_position(pool_) == 0) {
+      const std::vector<storage::Position> kept = snapshots.positions();
+      if (!kept.empty() && kept.front() > read_after_ + 1) {
+        throw daemon::RecoveryError("pool " + pool_ + ": the log was trimmed below position " +
+                                    std::to_string(kept.front()) + ", past what was read (" +
+                                    std::to_string(read_after_) + "): load the snapshot");
+      }
+    }
     const auto reader = log.read_from(read_after_ + 1, pool_);
     while (auto logged = reader->next()) {
       const storage::Position position = logged->position;

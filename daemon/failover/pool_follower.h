@@ -31,10 +31,11 @@ class PoolFollower {
                storage::CommitLogView& log, const storage::SnapshotStore& snapshots);
 
   // Applies the pool's windows stored since the last read. Returns how many were applied.
-  // Throws daemon::RecoveryError when they do not continue the pool (then build the follower
-  // again: the log may have dropped what it had not read yet). O(windows read + their repair)
-  // plus a few round trips to the log.
-  std::size_t catch_up(storage::CommitLogView& log);
+  // Throws daemon::RecoveryError when they do not continue the pool, or when the log was
+  // trimmed past what this follower had read (a newer snapshot in `snapshots` covers groups no
+  // longer stored): then build the follower again. O(windows read + their repair) plus a few
+  // round trips to the log (one more to the store when the pool's subject holds nothing).
+  std::size_t catch_up(storage::CommitLogView& log, const storage::SnapshotStore& snapshots);
 
   const std::string& pool() const { return pool_; }
   // The pool's seq after the last window applied (0: none).

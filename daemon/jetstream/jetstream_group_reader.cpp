@@ -22,7 +22,9 @@ JetStreamGroupReader::JetStreamGroupReader(cluster::NatsConnection& connection,
       where_(std::move(where)),
       claims_(subjects, pool.empty() ? subjects.all_claims() : subjects.of_claims(pool), where_) {
   load_claims();
+  end_ = claims_cover_;
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
+  filter_ = filter;
   const std::optional<std::uint64_t> first =
       cluster::first_sequence_from(connection, stream, filter, from == 0 ? 1 : from);
   if (first) {
@@ -40,6 +42,16 @@ void JetStreamGroupReader::load_claims() {
   claims_.catch_up(connection_, stream_, read_timeout_);
 }
 
+bool JetStreamGroupReader::more_stored_after(std::uint64_t sequence) {
+  // A consumer's pending count can read 0 too early (a delivery made before the server counted
+  // what remains, seen on a loaded machine): the stream leader says whether more was stored.
+  if (sequence >= end_) return false;
+  const std::optional<std::uint64_t> next = as_log_error(where_ + ": reading failed", [&] {
+    return cluster::first_sequence_from(connection_, stream_, filter_, sequence + 1);
+  });
+  return next && *next <= end_;
+}
+
 std::optional<storage::LoggedGroup> JetStreamGroupReader::next() {
   while (reader_) {
     std::optional<cluster::LogMessage> message =
@@ -50,7 +62,9 @@ std::optional<storage::LoggedGroup> JetStreamGroupReader::next() {
                               std::to_string(reader_->last_sequence()) +
                               " though more are stored");
     }
-    if (message->pending == 0) reader_.reset();  // the last one stored when the reading began
+    if (message->pending == 0 && !more_stored_after(message->sequence)) {
+      reader_.reset();  // the last one stored when the reading began
+    }
     const std::optional<std::string> pool = subjects_.pool_of_subject(message->subject);
     if (!pool) {
       throw storage::LogDamage(where_ + ": message " + std::to_string(message->sequence) +

@@ -46,6 +46,9 @@ class JetStreamGroupReader : public storage::GroupReader {
  private:
   // Reads the claims stored since the last load; every claim below `claims_cover_` is folded.
   void load_claims();
+  // Whether the filter has a message after `sequence` up to where the stream ended when the
+  // reading began. One API round trip (none past that end).
+  bool more_stored_after(std::uint64_t sequence);
 
   cluster::NatsConnection& connection_;
   std::string stream_;
@@ -55,6 +58,8 @@ class JetStreamGroupReader : public storage::GroupReader {
   std::string where_;
   ClaimLedger claims_;
   std::uint64_t claims_cover_ = 0;  // the stream's last sequence before the last claim load
+  std::uint64_t end_ = 0;           // the stream's last sequence when the reading began
+  std::string filter_;
   std::unique_ptr<cluster::LogReader> reader_;  // null: nothing (more) to read
   std::set<std::string, std::less<>> pools_seen_;
   std::uint64_t skipped_ = 0;

@@ -32,6 +32,9 @@ class ClusterHooks {
                                                                 Clock::time_point now) = 0;
   // Snapshots of the pools served here (each pool in its own store), and the log trimmed.
   virtual v1::SnapshotTaken snapshot(PoolService& service) = 0;
+  // The daemon is stopping after its final snapshot: tell the others, so that standbys claim
+  // its pools at once instead of after the takeover time.
+  virtual void leave(PoolService& service) = 0;
   // For health and logs: the pools this daemon serves now.
   virtual std::vector<std::string> served() const = 0;
 };

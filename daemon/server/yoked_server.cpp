@@ -382,6 +382,7 @@ void YokedServer::shut_down(int status) {
       status = kYokedFailure;
     }
   }
+  if (cluster_ != nullptr) cluster_->leave(service_);
   stopping_ = true;
   exit_status_ = status;
   // The last window's acknowledgements and diffs may still sit in ZeroMQ's queues: give them a

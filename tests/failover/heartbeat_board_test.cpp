@@ -54,5 +54,19 @@ TEST(HeartbeatBoard, ARestartedInstanceCountingFromOneAgainIsHeard) {
   EXPECT_EQ(board.silent_for("orrin", start + milliseconds(800)), Clock::duration::zero());
 }
 
+TEST(HeartbeatBoard, AnInstanceThatSaidItIsLeavingIsSilentForEverUntilItBeatsAgain) {
+  const Clock::time_point start{milliseconds(0)};
+  HeartbeatBoard board(start);
+  board.heard(beat_of("orrin", 1, 1000), start + milliseconds(100));
+  v1::Heartbeat last = beat_of("orrin", 2, 2000);
+  last.set_leaving(true);
+  board.heard(last, start + milliseconds(200));
+  EXPECT_EQ(board.silent_for("orrin", start + milliseconds(201)), Clock::duration::max());
+  board.listen_again(start + milliseconds(300));  // a stall here changes nothing for it
+  EXPECT_EQ(board.silent_for("orrin", start + milliseconds(301)), Clock::duration::max());
+  board.heard(beat_of("orrin", 1, 9000), start + milliseconds(900));  // started again
+  EXPECT_EQ(board.silent_for("orrin", start + milliseconds(1000)), milliseconds(100));
+}
+
 }  // namespace
 }  // namespace yoke::failover
