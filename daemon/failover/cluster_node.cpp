@@ -84,8 +84,14 @@ void ClusterNode::start(daemon::PoolService& service, Clock::time_point now) {
     PoolRole& role = roles_[pool];
     role.snapshots = jetstream::JetStreamSnapshotStore::open(
         connection_, log_settings_of(cluster_), config_.snapshots.keep, pool);
-    refresh_ownership(pool, role);
-    follow(pool, role);
+    try {
+      refresh_ownership(pool, role);
+      follow(pool, role);
+    } catch (const std::exception& error) {
+      // The stream may still be electing its leader: the ticks try again.
+      log_event(LogLevel::warn, "pool_follow_failed", {{"pool", pool}, {"reason", error.what()}});
+      role.follower.reset();
+    }
   }
   // Pools without a role here: refusals name their configured owner until told otherwise.
   for (const auto& [name, instance] : cluster_.instances) {

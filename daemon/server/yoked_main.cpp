@@ -6,6 +6,7 @@
 #include <exception>
 #include <iostream>
 #include <memory>
+#include <thread>
 
 #include <google/protobuf/stubs/logging.h>
 #include <spdlog/spdlog.h>
@@ -23,6 +24,7 @@
 #include "daemon/logging/logger_setup.h"
 #include "daemon/service/recovery.h"
 #include "daemon/snapshots/snapshot_directory.h"
+#include "daemon/storage/storage_error.h"
 #include "yoked_server.h"
 
 namespace {
@@ -74,6 +76,9 @@ int serve(const yoke::daemon::DaemonConfig& config) {
   return server.run();
 }
 
+// How long a starting daemon waits for its cluster's stream to answer.
+constexpr std::chrono::seconds kStreamWait{30};
+
 // The cluster backend: a JetStream stream shared with the other daemons of the installation;
 // this daemon serves the pools the log says it serves, and follows those it may take over.
 int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
@@ -96,9 +101,21 @@ int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
     log_event(LogLevel::critical, "nats_unreachable", {{"reason", error.what()}});
     return kYokedFailure;
   }
-  const std::unique_ptr<yoke::jetstream::JetStreamCommitLog> log =
-      yoke::jetstream::JetStreamCommitLog::open(*connection,
-                                                yoke::failover::log_settings_of(config.cluster));
+  // Servers that answer but whose stream is not ready yet (a cluster restarting elects its
+  // leaders) are waited for, a bounded time.
+  std::unique_ptr<yoke::jetstream::JetStreamCommitLog> log;
+  const auto give_up = std::chrono::steady_clock::now() + kStreamWait;
+  for (;;) {
+    try {
+      log = yoke::jetstream::JetStreamCommitLog::open(
+          *connection, yoke::failover::log_settings_of(config.cluster));
+      break;
+    } catch (const yoke::storage::LogError& error) {
+      if (std::chrono::steady_clock::now() >= give_up) throw;
+      log_event(LogLevel::warn, "waiting_for_stream", {{"reason", error.what()}});
+      std::this_thread::sleep_for(std::chrono::milliseconds(500));
+    }
+  }
   PoolService service(config, ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}},
                       *log);
   yoke::failover::ClusterNode node(config, *connection, *log);

@@ -315,5 +315,45 @@ class ClusterTest(unittest.TestCase):
         self.check_log_agrees("brissamar", batches + more)
 
 
+class ClusterConfigTest(unittest.TestCase):
+    """Bad cluster setups stop yoked at once with a clear message."""
+
+    def config_for(self, daemon, servers, owners):
+        text = ("[cluster]\n"
+                'backend = "jetstream"\n'
+                "servers = [" + ", ".join(f'"{url}"' for url in servers) + "]\n"
+                'instance = "east"\n')
+        for name, owned in owners.items():
+            text += (f"[cluster.instances.{name}]\n"
+                     f'ingest = "{daemon.ingest}"\nquery = "{daemon.query}"\n'
+                     f'publish = "{daemon.publish}"\n'
+                     "owns = [" + ", ".join(f'"{p}"' for p in owned) + "]\n")
+        return text
+
+    def exit_of(self, daemon):
+        daemon.spawn()
+        return daemon.proc.wait(60 * SLOWDOWN)
+
+    def test_no_reachable_nats_server_is_a_clear_failure(self):
+        from e2e_harness import free_tcp_port
+        daemon = Daemon(self, name="east")
+        silent = [f"nats://127.0.0.1:{free_tcp_port()}", f"nats://127.0.0.1:{free_tcp_port()}"]
+        daemon.extra_config = self.config_for(daemon, silent, {"east": ["brissamar"]})
+        daemon._write_config()
+        self.assertEqual(self.exit_of(daemon), 1)
+        self.assertTrue(daemon.log_lines("nats_unreachable"), daemon.diagnostics())
+        self.assertIn(silent[0], daemon.log_text())
+
+    def test_two_owners_of_one_pool_is_a_config_error(self):
+        daemon = Daemon(self, name="east")
+        daemon.extra_config = self.config_for(daemon, ["nats://127.0.0.1:4222"],
+                                              {"east": ["brissamar"], "west": ["brissamar"]})
+        daemon._write_config()
+        self.assertEqual(self.exit_of(daemon), 2)
+        self.assertIn("brissamar", daemon.stderr_text())
+        self.assertIn("east", daemon.stderr_text())
+        self.assertIn("west", daemon.stderr_text())
+
+
 if __name__ == "__main__":
     unittest.main()
