@@ -101,12 +101,15 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   app.add_option("--latency-seconds", settings.latency_seconds, "1: length of the paced run")
       ->capture_default_str();
+  app.add_option("--ingest-snapshot-after-events", settings.ingest_snapshot_after_events,
+                 "1: [snapshots] after_events (0: timer only)")
+      ->capture_default_str();
   app.add_option("--takeover-vertices", settings.takeover_vertices, "2: the pool's size")
       ->capture_default_str();
   app.add_option("--takeover-events", settings.takeover_events, "2: events before the kill")
       ->capture_default_str();
   app.add_option("--snapshot-after-events", settings.snapshot_after_events,
-                 "2, 3: [snapshots] after_events (1: the daemon default)")
+                 "2, 3: [snapshots] after_events")
       ->capture_default_str();
   app.add_option("--heartbeat-ms", settings.heartbeat_ms, "[cluster] heartbeat_ms")
       ->capture_default_str();

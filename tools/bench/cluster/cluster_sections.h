@@ -24,6 +24,7 @@ struct ClusterBenchSettings {
   std::size_t ingest_events = 200000;
   double rate = 20000;  // offered events/s of the paced run
   double latency_seconds = 5;
+  std::uint64_t ingest_snapshot_after_events = 200000;  // the daemon's default
   // 2. takeover
   std::size_t takeover_vertices = 100000;
   std::size_t takeover_events = 200000;  // sent before the kill

@@ -7,6 +7,7 @@
 #include <cstdio>
 
 #include "cluster_sections.h"
+#include "tools/bench/cluster/daemon_log.h"
 #include "tools/bench/cluster/yoked_configs.h"
 #include "tools/bench/daemon/yoked_process.h"
 
@@ -15,6 +16,7 @@ namespace {
 
 struct BackendRun {
   LoadResult base, sustained, paced;
+  SnapshotPauses paced_snapshots;  // snapshots the daemon wrote during the paced run
 };
 
 // Starts the daemon, loads the base graph, runs the sustained part; the paced part is run by
@@ -29,8 +31,11 @@ BackendRun run_backend(BenchContext& run, const std::filesystem::path& dir,
   out.base = load_base(run.zmq, endpoints.ingest, pool);
   out.sustained = send_pipelined(run.zmq, endpoints.ingest, pool.batches, pool.base_count,
                                  sustained_end, run.settings.in_flight);
+  const WallClock::time_point paced_from = WallClock::now();
   out.paced = pace(out.sustained);
+  const WallClock::time_point paced_to = WallClock::now();
   daemon.stop(false);
+  out.paced_snapshots = snapshots_between(dir / "yoked.log", paced_from, paced_to);
   return out;
 }
 
@@ -45,7 +50,8 @@ void run_ingest_section(BenchContext& run) {
       static_cast<std::size_t>(settings.rate * settings.latency_seconds /
                                static_cast<double>(settings.batch)));
   const std::size_t sustained_end = pool.batches.size() - paced_batches;
-  const DaemonKnobs knobs;  // the daemon's defaults: snapshots every 200000 events
+  DaemonKnobs knobs;
+  knobs.snapshot_after_events = settings.ingest_snapshot_after_events;
 
   // JetStream first: the rate it sustains decides the paced run's rate for both.
   const std::filesystem::path js_dir = run.work / "ingest-jetstream";
@@ -105,8 +111,17 @@ void run_ingest_section(BenchContext& run) {
   }
   std::printf("   paced at %.0f events/s for %.1f s (%zu batches)\n", rate, jetstream.paced.seconds,
               jetstream.paced.batches);
-  std::printf("   local journal              %s\n", latency_ms_text(local.paced.latency_us).c_str());
-  std::printf("   jetstream R3, 3 nodes      %s\n", latency_ms_text(jetstream.paced.latency_us).c_str());
+  const auto snapshots_text = [](const SnapshotPauses& pauses) {
+    char text[96];
+    std::snprintf(text, sizeof text, "  (%d snapshots written, longest %llu ms)", pauses.count,
+                  static_cast<unsigned long long>(pauses.longest_ms));
+    return std::string(text);
+  };
+  std::printf("   local journal              %s%s\n", latency_ms_text(local.paced.latency_us).c_str(),
+              snapshots_text(local.paced_snapshots).c_str());
+  std::printf("   jetstream R3, 3 nodes      %s%s\n",
+              latency_ms_text(jetstream.paced.latency_us).c_str(),
+              snapshots_text(jetstream.paced_snapshots).c_str());
   const double p99_ms = percentile(jetstream.paced.latency_us, 99) / 1000;
   std::printf("   jetstream p99 / local p99: %.2f; target p99 < 10 ms at %.0f events/s: %s\n\n",
               p99_ms * 1000 / std::max(percentile(local.paced.latency_us, 99), 1.0), settings.rate,

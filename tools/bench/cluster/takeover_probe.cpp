@@ -1,31 +1,11 @@
 #include "takeover_probe.h"
 
-#include <ctime>
-#include <fstream>
 #include <stdexcept>
-
-#include <nlohmann/json.hpp>
 
 #include "daemon/cluster/plain_subject.h"
 #include "yoke/v1/ingest.pb.h"
 
 namespace yoke::bench {
-namespace {
-
-// "2026-12-03T11:30:12.123456Z" (the daemon's log time) as a wall-clock time point.
-WallClock::time_point parse_log_time(const std::string& text) {
-  std::tm parts{};
-  int micros = 0;
-  if (std::sscanf(text.c_str(), "%4d-%2d-%2dT%2d:%2d:%2d.%6dZ", &parts.tm_year, &parts.tm_mon,
-                  &parts.tm_mday, &parts.tm_hour, &parts.tm_min, &parts.tm_sec, &micros) != 7) {
-    throw std::runtime_error("unreadable log time: " + text);
-  }
-  parts.tm_year -= 1900;
-  parts.tm_mon -= 1;
-  return WallClock::from_time_t(timegm(&parts)) + std::chrono::microseconds(micros);
-}
-
-}  // namespace
 
 BeatWatch::BeatWatch(const std::vector<std::string>& servers, const std::string& subject) {
   cluster::ConnectionSettings settings;
@@ -105,27 +85,6 @@ ResendResult resend_until_acknowledged(zmq::context_t& context, const std::strin
   }
   throw std::runtime_error("batch " + std::to_string(batch.number) + " not acknowledged by " +
                            endpoint + " within " + std::to_string(limit.count()) + " s");
-}
-
-std::optional<TakeoverRecord> read_takeover(const std::filesystem::path& log,
-                                            const std::string& pool) {
-  std::ifstream in(log);
-  std::string line;
-  while (std::getline(in, line)) {
-    if (line.find("\"pool_taken\"") == std::string::npos) continue;
-    const nlohmann::json entry = nlohmann::json::parse(line, nullptr, false);
-    if (entry.is_discarded() || entry.value("event", "") != "pool_taken" ||
-        entry.value("pool", "") != pool) {
-      continue;
-    }
-    TakeoverRecord record;
-    record.logged = parse_log_time(entry.value("time", ""));
-    record.silent_ms = entry.value("silent_ms", std::uint64_t{0});
-    record.seq = entry.value("seq", std::uint64_t{0});
-    record.epoch = entry.value("epoch", std::uint64_t{0});
-    return record;
-  }
-  return std::nullopt;
 }
 
 }  // namespace yoke::bench

@@ -1,27 +1,25 @@
-// The pieces the takeover measurement is made of: when the owner last said it was alive (its
-// heartbeats, heard on core NATS like the standby hears them), a client that resends one batch
-// to the standby until it is acknowledged, and the standby's own account of the takeover (its
-// `pool_taken` log line).
+// Two pieces of the takeover measurement (the third is the standby's log, daemon_log.h): when
+// the owner last said it was alive (its heartbeats, heard on core NATS as the standby hears
+// them), and a client that resends one batch to the standby until it is acknowledged.
 #pragma once
 
 #include <atomic>
 #include <chrono>
 #include <cstdint>
-#include <filesystem>
 #include <memory>
 #include <mutex>
 #include <optional>
 #include <string>
 #include <thread>
+#include <vector>
 
 #include <zmq.hpp>
 
 #include "daemon/cluster/nats_connection.h"
+#include "tools/bench/cluster/daemon_log.h"
 #include "tools/bench/daemon/ingest_load.h"
 
 namespace yoke::bench {
-
-using WallClock = std::chrono::system_clock;
 
 // Listens to `<prefix>.beat.<instance>` on its own thread (polled every millisecond) and
 // remembers when the last beat arrived. Connects at construction (throws ClusterError).
@@ -59,16 +57,5 @@ struct ResendResult {
 ResendResult resend_until_acknowledged(zmq::context_t& context, const std::string& endpoint,
                                        const EncodedBatch& batch, std::chrono::milliseconds retry,
                                        std::chrono::seconds limit);
-
-struct TakeoverRecord {
-  WallClock::time_point logged;  // the line's time: the pool is served from then on
-  std::uint64_t silent_ms = 0;   // how long the standby had not heard the owner when it claimed
-  std::uint64_t seq = 0;         // the pool's seq the standby took over at
-  std::uint64_t epoch = 0;       // the claim's stream sequence
-};
-
-// The first `pool_taken` line for `pool` in a yoked JSON log; nullopt when there is none.
-std::optional<TakeoverRecord> read_takeover(const std::filesystem::path& log,
-                                            const std::string& pool);
 
 }  // namespace yoke::bench

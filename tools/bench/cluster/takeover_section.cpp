@@ -86,6 +86,7 @@ void run_takeover_section(BenchContext& run) {
   YokedProcess west(settings.yoked, dir / "west" / "data", dir / "west" / "yoked.toml");
   west.wait_ready(run.zmq, west_at.query, std::chrono::seconds(60));
 
+  const auto load_start = std::chrono::steady_clock::now();
   const LoadResult base = load_base(run.zmq, east_at.ingest, pool);
   const LoadResult fed =
       send_pipelined(run.zmq, east_at.ingest, pool.batches, pool.base_count, kill_at, settings.in_flight);
@@ -97,6 +98,8 @@ void run_takeover_section(BenchContext& run) {
   east.stop(true);
   const std::size_t resend_from = first_unacknowledged(burst, pool, kill_at, burst_end);
   const std::optional<WallClock::time_point> last_beat = east_beats.last_beat();
+  const std::uint64_t beats_heard = east_beats.beats();
+  const double owner_seconds = std::chrono::duration<double>(killed - load_start).count();
 
   const ResendResult resent =
       resend_until_acknowledged(run.zmq, west_at.ingest, pool.batches[resend_from],
@@ -139,11 +142,14 @@ void run_takeover_section(BenchContext& run) {
               "unanswered tries, resend every 20 ms)\n",
               kill_to_ack - kill_to_taken, resent.not_owner, resent.silent);
   std::printf("   resent batch %llu acknowledged at seq %llu%s; %zu more batches through the new owner at "
-              "%.0f events/s; %llu beats of the owner heard\n\n",
+              "%.0f events/s\n",
               static_cast<unsigned long long>(pool.batches[resend_from].number),
               static_cast<unsigned long long>(resent.seq), resent.duplicate ? " (duplicate)" : "",
-              rest.batches, rest.events_per_second(),
-              static_cast<unsigned long long>(east_beats.beats()));
+              rest.batches, rest.events_per_second());
+  std::printf("   owner's beats heard while it was loaded: %llu in %.1f s (%.0f expected at "
+              "heartbeat_ms)\n\n",
+              static_cast<unsigned long long>(beats_heard), owner_seconds,
+              owner_seconds * 1000 / settings.heartbeat_ms);
   std::fflush(stdout);
 }
 
