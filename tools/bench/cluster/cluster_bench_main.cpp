@@ -21,9 +21,8 @@
 #include "tools/bench/machine_facts.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
 
+namespace yoke::bench {
 namespace {
-
-using namespace yoke::bench;
 
 std::string server_version() {
   std::string text = "unknown";
@@ -54,7 +53,7 @@ int run(const ClusterBenchSettings& settings, const std::set<std::string>& secti
   const std::filesystem::path work = make_work_dir();
   int status = 0;
   {
-    yoke::nats_cluster::LocalNatsCluster nats;
+    nats_cluster::LocalNatsCluster nats;
     std::printf("nats cluster: %s; work directory %s\n\n", nats.directory().c_str(), work.c_str());
     std::fflush(stdout);
     BenchContext bench{context, work, nats.client_urls(), settings};
@@ -77,9 +76,10 @@ int run(const ClusterBenchSettings& settings, const std::set<std::string>& secti
 }
 
 }  // namespace
+}  // namespace yoke::bench
 
 int main(int argc, char** argv) {
-  ClusterBenchSettings settings;
+  yoke::bench::ClusterBenchSettings settings;
   settings.yoked = YOKE_YOKED_BINARY;
   std::vector<std::string> chosen = {"ingest", "takeover", "aggregate"};
   bool quick = false;
@@ -137,7 +137,7 @@ int main(int argc, char** argv) {
   }
   const yoke::cluster::NatsLibrary library;
   try {
-    return run(settings, std::set<std::string>(chosen.begin(), chosen.end()), keep);
+    return yoke::bench::run(settings, std::set<std::string>(chosen.begin(), chosen.end()), keep);
   } catch (const std::exception& error) {
     std::fprintf(stderr, "yoke_cluster_bench: %s\n", error.what());
     return 1;

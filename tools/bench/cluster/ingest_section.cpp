@@ -5,6 +5,7 @@
 // it sustains, and the local daemon at the same rate).
 #include <algorithm>
 #include <cstdio>
+#include <string>
 
 #include "cluster_sections.h"
 #include "tools/bench/cluster/daemon_log.h"
@@ -86,11 +87,15 @@ void run_ingest_section(BenchContext& run) {
   const BackendRun local = run_backend(run, local_dir, local_dir / "yoked.toml", local_endpoints,
                                        pool, sustained_end, paced_at(local_endpoints));
 
+  const std::string snapshots =
+      knobs.snapshot_after_events == 0
+          ? std::string("snapshots on the timer only")
+          : "snapshots every " + std::to_string(knobs.snapshot_after_events) + " events";
   std::printf("1. ingest: city pool of %zu vertices (base graph %zu events in %zu batches), then "
-              "%zu events in batches of %zu; snapshots every %llu events\n",
+              "%zu events in batches of %zu; %s\n",
               settings.ingest_vertices, pool.base_events, pool.base_count,
               (sustained_end - pool.base_count) * settings.batch, settings.batch,
-              static_cast<unsigned long long>(knobs.snapshot_after_events));
+              snapshots.c_str());
   std::printf("   sustained, %zu in flight        events/s  vs local   send to ack\n",
               settings.in_flight);
   const double local_rate = std::max(local.sustained.events_per_second(), 1.0);
