@@ -130,8 +130,8 @@ int main(int argc, char** argv) {
     settings.takeover_vertices = 2000;
     settings.takeover_events = 10000;
     settings.snapshot_after_events = 5000;
-    settings.heartbeat_ms = 200;
-    settings.takeover_ms = 1000;
+    // heartbeat_ms and takeover_ms stay the defaults: a busy owner on a loaded CI machine is
+    // not taken for dead.
     settings.pair_vertices = 1000;
     settings.pair_events = 5000;
   }
