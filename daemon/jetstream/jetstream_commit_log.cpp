@@ -1,5 +1,6 @@
 #include "jetstream_commit_log.h"
 
+#include <charconv>
 #include <stdexcept>
 #include <utility>
 
@@ -50,7 +51,22 @@ std::string JetStreamView::describe() const {
 storage::Position JetStreamView::first_position(std::string_view pool) const {
   const std::string filter = pool.empty() ? subjects_.all_pools() : subjects_.of_pool(pool);
   return as_log_error(describe() + ": finding the first group of '" + filter + "'", [&] {
-    return cluster::first_sequence_from(connection_, settings_.stream, filter, 1).value_or(0);
+    const storage::Position first =
+        cluster::first_sequence_from(connection_, settings_.stream, filter, 1).value_or(0);
+    if (pool.empty() || first == 0) return first;
+    // Other subjects take sequences between a pool's groups: its history is whole from just
+    // after the last dropped group (the first stored one's link), not only from that group. A
+    // snapshot at "last applied + 1" below the first stored group still counts.
+    const std::optional<cluster::LogMessage> message =
+        cluster::message_at(connection_, settings_.stream, first);
+    if (!message) return first;  // dropped meanwhile: the narrower answer stays true
+    const auto link = cluster::header_value(message->headers, kPreviousHeader);
+    std::uint64_t previous = 0;
+    if (!link || std::from_chars(link->data(), link->data() + link->size(), previous).ec != std::errc{} ||
+        previous == 0 || previous >= first) {
+      return first;
+    }
+    return previous + 1;
   });
 }
 

@@ -57,8 +57,10 @@ class JetStreamView : public storage::CommitLogView {
   JetStreamView(cluster::NatsConnection& connection, JetStreamLogSettings settings);
 
   std::string describe() const override;
-  // The sequence of the first stored group (of `pool`, or of any pool), 0 when none is stored.
-  // One API round trip.
+  // The sequence of the first stored group of any pool, 0 when none is stored. Of `pool`: just
+  // after the last dropped group of the pool (the first stored group's link + 1; other
+  // subjects' messages may lie between), or its first stored group when none was dropped.
+  // One API round trip, two for a pool.
   storage::Position first_position(std::string_view pool = {}) const override;
   // An ordered consumer over the pool's subject (all pools' when empty) from `from`; it stops
   // at the last message stored when read_from was called. A few API round trips, then
