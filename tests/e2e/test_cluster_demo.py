@@ -112,6 +112,12 @@ class ClusterDemoTest(unittest.TestCase):
         self.assertEqual(result["stopped_by"], "end of run")
         killed = [text for _, text in result["events"] if text.startswith("SIGKILL NATS")]
         self.assertEqual(len(killed), 1, result["events"])
+        # The stream went on across the election (the batches after the kill were acknowledged,
+        # by the same daemon), and the node came back with the whole log.
+        self.assertEqual(set(result["longest_ack_wait_after_nats_kill_s"]),
+                         {"quillory", "quillory-plain"})
+        self.assertIn(result["nats_restarted"]["node"], killed[0])
+        self.assertIn("restarted; its copy of the stream caught up", out)
 
     def test_ctrl_c_after_the_takeover_ends_early_and_still_checks_out(self):
         child = self.start("--seconds", 120, "--kill-yoked-at", 0.05, "--kill-nats-at", 0)
