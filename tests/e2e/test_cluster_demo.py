@@ -83,7 +83,7 @@ class ClusterDemoTest(unittest.TestCase):
         self.assertGreater(moves[0]["gap_s"], 1.0)
         self.assertLess(moves[0]["gap_s"], 30.0)
         self.assertNotIn("quillory-plain", result["takeovers"])
-        self.assertIn("quillory: west acknowledges", out)
+        self.assertIn("quillory: west acknowledges (was east)", out)
         self.assertRegex(out, r"takeover_gaps_s=quillory:\d+\.\d\d")
         for pool in ("quillory", "quillory-plain"):
             said = result["daemons_said"][pool]

@@ -243,8 +243,6 @@ class Disruptions:
         return (time.monotonic() if t is None else t) - self.started
 
     def before_tick(self, run):
-        if self.started is None:
-            self.started = run.started
         self.observe(run)
         wall = self.wall()
         seconds = self.args.seconds
@@ -267,6 +265,8 @@ class Disruptions:
 
     def observe(self, run):
         """After a tick: who acknowledged each pool's batch, and how long it took."""
+        if self.started is None:
+            self.started = run.started
         for track in run.pools.tracks:
             if track.acked_by is None:
                 continue
@@ -279,9 +279,10 @@ class Disruptions:
                 move = {"from": before, "to": now_serving, "at_s": self.wall(since),
                         "gap_s": track.acked_at - since}
                 self.moves.setdefault(track.name, []).append(move)
+                after = f"the kill of {before}" if since == killed_at else "the batch was sent"
                 self.events.append((self.wall(track.acked_at),
-                                    f"{track.name}: {now_serving} acknowledges, "
-                                    f"{move['gap_s']:.2f} s after the kill of {before}"))
+                                    f"{track.name}: {now_serving} acknowledges (was {before}), "
+                                    f"{move['gap_s']:.2f} s after {after}"))
             self.serving[track.name] = now_serving
             if self.nats_killed is not None and track.sent_at >= self.nats_killed[1]:
                 wait = track.acked_at - track.sent_at
