@@ -85,6 +85,7 @@ class ClusterDemoTest(unittest.TestCase):
         self.assertNotIn("quillory-plain", result["takeovers"])
         self.assertIn("quillory: west acknowledges (was east)", out)
         self.assertRegex(out, r"takeover_gaps_s=quillory:\d+\.\d\d")
+        self.assertIn("west's log: pool_taken pool=quillory reason=takeover", out)
         for pool in ("quillory", "quillory-plain"):
             said = result["daemons_said"][pool]
             self.assertEqual(said["served_by"], "west", pool)

@@ -131,6 +131,14 @@ class Daemon:
             self.exit_code = "killed after SIGTERM"
         return self.exit_code
 
+    def log_lines(self, event):
+        """The lines of the daemon's log about `event` (e.g. pool_taken)."""
+        try:
+            with open(self.log_path, errors="replace") as f:
+                return [line.rstrip("\n") for line in f if f" {event} " in line]
+        except OSError:
+            return []
+
     def tail(self, size=3000):
         text = ""
         for name in ("yoked.stderr", "yoked.log"):
@@ -506,6 +514,10 @@ def simulate(args, nats, daemons, stop, result):
     view.finish(final)
     for wall, text in disruptions.events:
         print(f"  {wall:6.2f} s  {text}")
+    for d in daemons.values():  # the daemons' own word on each takeover
+        for line in d.log_lines("pool_taken"):
+            if "reason=takeover" in line:
+                print(f"  {d.name}'s log: {line.split(' ', 3)[-1]}")
     for pool, wait in sorted(disruptions.waits_after_nats_kill.items()):
         print(f"  {pool}: the longest wait for an acknowledgement after the NATS kill: "
               f"{wait:.2f} s (a new stream leader is elected meanwhile)")

@@ -70,7 +70,10 @@ def node_config(cluster_name, ports, index, store_dir):
     routes = ", ".join(f"nats-route://127.0.0.1:{p[1]}" for p in ports)
     text = (f"server_name: n{index + 1}\nlisten: 127.0.0.1:{client}\nhttp: 127.0.0.1:{http}\n"
             f'jetstream {{\n  store_dir: "{store_dir}"\n  max_memory_store: 256MB\n'
-            f"  max_file_store: 1GB\n}}\n")
+            # 2GB: a stream of yoked's default cap (1 GiB) fits beside what the readiness probe
+            # may still reserve for a moment after its deletion (with 1GB, a stream made just
+            # after readiness was sometimes refused: "insufficient storage").
+            f"  max_file_store: 2GB\n}}\n")
     if len(ports) > 1:
         text += (f"cluster {{\n  name: {cluster_name}\n  listen: 127.0.0.1:{route}\n"
                  f"  routes: [ {routes} ]\n}}\n")
