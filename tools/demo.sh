@@ -14,8 +14,14 @@
 #   tools/demo.sh --churn-bonus 0    # no bonus on `quillory` (default 60)
 #   tools/demo.sh --crash            # also SIGKILL the daemon halfway and restart it
 #   YOKE_BUILD_DIR=build-x tools/demo.sh  # another build directory
+#   tools/demo.sh --cluster          # the cluster demo instead (tools/demo/cluster_demo.py): three
+#                                    # nats-server nodes and two yoked on loopback ports picked
+#                                    # free, the pools split between the daemons; one yoked
+#                                    # SIGKILLed halfway, the stream's leader node at 3/4; the
+#                                    # takeover live; each pool replayed from the cluster,
+#                                    # certified. Files in build/demo-cluster/.
 # The daemon listens on the default loopback endpoints (tcp://127.0.0.1:7410-7412, metrics on
-# 127.0.0.1:7413); they must be free.
+# 127.0.0.1:7413); they must be free (not so with --cluster).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -23,6 +29,7 @@ build_dir="${YOKE_BUILD_DIR:-build}"
 seconds=45
 churn_bonus=60
 crash=0
+cluster=0
 seed=20261203
 while (($#)); do
   case "$1" in
@@ -30,10 +37,15 @@ while (($#)); do
     --churn-bonus) churn_bonus="$2"; shift 2 ;;
     --seed) seed="$2"; shift 2 ;;
     --crash) crash=1; shift ;;
-    *) echo "usage: tools/demo.sh [--seconds N] [--churn-bonus N] [--seed S] [--crash]" >&2
+    --cluster) cluster=1; shift ;;
+    *) echo "usage: tools/demo.sh [--seconds N] [--churn-bonus N] [--seed S] [--crash | --cluster]" >&2
        exit 2 ;;
   esac
 done
+if ((crash && cluster)); then
+  echo "demo: --crash and --cluster do not go together (the cluster demo kills a daemon itself)" >&2
+  exit 2
+fi
 
 tools/setup.sh
 cmake -S . -B "$build_dir" -G Ninja -DCMAKE_BUILD_TYPE=Release -DCMAKE_UNITY_BUILD=ON  # as tools/test.sh
@@ -45,6 +57,18 @@ yoked="$build_dir/daemon/server/yoked"
 demo="$build_dir/demo"
 data="$demo/data"
 export PYTHONPATH="$build_dir/proto/python:tools/python${PYTHONPATH:+:$PYTHONPATH}"
+
+if ((cluster)); then
+  # The driver starts, kills and stops every process itself (by PID, on every way out).
+  command -v nats-server >/dev/null || { echo "demo: nats-server is missing (tools/setup.sh)" >&2; exit 1; }
+  if [[ -d "$build_dir/demo-cluster" ]]; then
+    rm -rf "$build_dir/demo-cluster.previous"
+    mv "$build_dir/demo-cluster" "$build_dir/demo-cluster.previous"
+  fi
+  PYTHONPATH="$PYTHONPATH:tools/nats_cluster" exec "$python" tools/demo/cluster_demo.py \
+    --yoke "$yoke" --yoked "$yoked" --dir "$build_dir/demo-cluster" --seconds "$seconds" \
+    --seed "$seed" --churn-bonus "$churn_bonus"
+fi
 if [[ -d "$demo" ]]; then
   rm -rf "$demo.previous"
   mv "$demo" "$demo.previous"

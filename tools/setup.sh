@@ -15,7 +15,7 @@ packages=(
   python3-protobuf python3-zmq      # the Python client and the daemon's tests
   clang                             # the libFuzzer target of the message decoder
   libjs-chart.js chromium fonts-liberation  # replay --report: charts; its browser test (fonts: only recommended)
-  nats-server libnats-dev           # the JetStream backend (daemon/cluster) and its test clusters
+  nats-server libnats-dev           # the JetStream backend (daemon/cluster), its test clusters, the cluster demo
 )
 
 missing=()

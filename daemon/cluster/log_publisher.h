@@ -18,8 +18,11 @@ namespace yoke::cluster {
 // safe on replicated streams (see SCALE-OUT.md), so any decision about the message is made by
 // whoever reads the log.
 // Blocks the calling thread for one round trip to the stream leader (0.2-2 ms on loopback), at
-// most `timeout`. Throws ClusterError:
-//   no_responders - no stream takes the subject now (none, or a leader election): not stored;
+// most `timeout`. While nobody takes the subject (the stream's leader is being elected after
+// the old one died) the message, certainly not stored, is sent again every 25 ms within
+// `timeout`. Throws ClusterError:
+//   no_responders - still no stream takes the subject at the end of `timeout` (none, or an
+//                   election longer than that): not stored;
 //   timeout       - no acknowledgement in time: the message MAY still be in the log;
 //   stream_full   - DiscardNew refused it at the cap: not stored;
 //   rejected, closed, other - see the message.

@@ -234,5 +234,34 @@ TEST(LeaderFailover, AConnectionMovesToAnotherServerWhenItsServerDies) {
   EXPECT_EQ(stream_status(connection, "MOVING").last_sequence, after.sequence);
 }
 
+// One publish while the stream has no leader (its leader SIGKILLed, the election under way):
+// nobody takes the subject, and publish_and_wait sends the message again until the new leader
+// stores it, within its timeout, instead of failing at once. A message nobody took was not
+// stored, so exactly one copy is in the log.
+TEST(LeaderFailover, APublishDuringTheElectionWaitsForTheNewLeader) {
+  nats_cluster::LocalNatsCluster cluster;
+  {
+    NatsConnection setup(connection_to(cluster.client_urls()));
+    ensure_stream(setup, log_stream("ELECTION", {"election.>"}));
+    publish_and_wait(setup, "election.a", {}, "before", milliseconds(5000));
+  }
+  const int leader = cluster.stream_leader("ELECTION", milliseconds(10000));
+  const int survivor = (leader + 1) % cluster.size();
+  // Connected to a node that lives on, so only the election is in the way.
+  NatsConnection connection(connection_to({cluster.client_url(survivor)}));
+  cluster.kill(leader);
+  std::this_thread::sleep_for(milliseconds(300));  // the dead leader's routes are gone
+  const auto started = Clock::now();
+  const std::uint64_t sequence =
+      publish_and_wait(connection, "election.a", {}, "during", milliseconds(30000));
+  std::printf("[ measure  ] one publish across the election of a new stream leader: %.2f s\n",
+              std::chrono::duration<double>(Clock::now() - started).count());
+  EXPECT_EQ(sequence, 2u);
+  EXPECT_NE(cluster.stream_leader("ELECTION", milliseconds(20000)), leader);
+  const StreamStatus status = stream_status(connection, "ELECTION");
+  EXPECT_EQ(status.messages, 2u);
+  EXPECT_EQ(status.last_sequence, 2u);
+}
+
 }  // namespace
 }  // namespace yoke::cluster

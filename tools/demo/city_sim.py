@@ -54,9 +54,8 @@ def pools_toml(lead, shadow, churn_bonus):
     return text
 
 
-def parse_args(argv):
-    p = argparse.ArgumentParser(
-        prog="city_sim.py", description="Stream a Quillory courier evening through yoked.")
+def add_evening_options(p):
+    """The options of the evening itself (shared with the cluster demo, cluster_demo.py)."""
     p.add_argument("--seconds", type=float, default=45.0,
                    help="wall-clock length of the run (default 45)")
     p.add_argument("--ticks", type=int, default=0, help="stop after this many ticks (0: no limit)")
@@ -78,16 +77,22 @@ def parse_args(argv):
                    help="the shadow pool (default quillory-plain)")
     p.add_argument("--churn-bonus", type=int, default=None,
                    help="the lead pool's churn bonus, for the labels and --write-config")
-    p.add_argument("--ingest", default=DEFAULT_INGEST)
-    p.add_argument("--publish", default=DEFAULT_PUBLISH)
-    p.add_argument("--query", default=DEFAULT_QUERY)
     p.add_argument("--client-id", default="quillory-sim")
     p.add_argument("--result", help="write the final numbers here as JSON")
-    p.add_argument("--write-config", metavar="FILE",
-                   help="write the yoked [pools] tables of the two pools to FILE ('-': stdout) and exit")
     view = p.add_mutually_exclusive_group()
     view.add_argument("--plain", action="store_true", help="one line per update, even on a tty")
     view.add_argument("--ansi", action="store_true", help="redraw in place, even when piped")
+
+
+def parse_args(argv):
+    p = argparse.ArgumentParser(
+        prog="city_sim.py", description="Stream a Quillory courier evening through yoked.")
+    add_evening_options(p)
+    p.add_argument("--ingest", default=DEFAULT_INGEST)
+    p.add_argument("--publish", default=DEFAULT_PUBLISH)
+    p.add_argument("--query", default=DEFAULT_QUERY)
+    p.add_argument("--write-config", metavar="FILE",
+                   help="write the yoked [pools] tables of the two pools to FILE ('-': stdout) and exit")
     return p.parse_args(argv)
 
 
@@ -184,6 +189,36 @@ class Run:
         }
 
 
+def stream(run, view, stop, before_tick=None, frame=None):
+    """Runs the evening's ticks, one every --tick-ms, until --seconds of wall time, --ticks
+    ticks, or stop["signal"] is set; the view is updated every second with frame(run) (default
+    run.frame()). before_tick(run), when given, runs before each tick (the cluster demo's
+    disruptions). Exceptions of the sends propagate."""
+    args = run.args
+    frame = frame or Run.frame
+    tick_s = args.tick_ms / 1000.0
+    next_tick = time.monotonic()
+    next_frame = next_tick + 1.0
+    while stop["signal"] is None:
+        now = time.monotonic()
+        if now - run.started >= args.seconds or (args.ticks and run.evening.tick >= args.ticks):
+            break
+        if before_tick is not None:
+            before_tick(run)
+        run.tick()
+        now = time.monotonic()
+        if now >= next_frame:
+            view.update(frame(run))
+            next_frame += 1.0
+            if next_frame < now:
+                next_frame = now + 1.0
+        next_tick += tick_s
+        if next_tick > now:
+            time.sleep(next_tick - now)
+        else:
+            next_tick = now
+
+
 def main(argv=None):
     args = parse_args(sys.argv[1:] if argv is None else argv)
     if args.write_config:
@@ -215,25 +250,7 @@ def main(argv=None):
     try:
         pools.start()
         run = Run(args, pools)
-        tick_s = args.tick_ms / 1000.0
-        next_tick = time.monotonic()
-        next_frame = next_tick + 1.0
-        while stop["signal"] is None:
-            now = time.monotonic()
-            if now - run.started >= args.seconds or (args.ticks and run.evening.tick >= args.ticks):
-                break
-            run.tick()
-            now = time.monotonic()
-            if now >= next_frame:
-                view.update(run.frame())
-                next_frame += 1.0
-                if next_frame < now:
-                    next_frame = now + 1.0
-            next_tick += tick_s
-            if next_tick > now:
-                time.sleep(next_tick - now)
-            else:
-                next_tick = now
+        stream(run, view, stop)
     except Rejected as error:
         print(f"demo: the daemon refused a batch (a bug in the simulation): {error}",
               file=sys.stderr)

@@ -71,8 +71,10 @@ class LiveView:
             f"couriers  {f['couriers']} in the pool, {f['away']} delivering"
             f"      orders  {f['orders']} waiting      edges {_num(f['edges'])}",
             "",
-            f"{'':24}{lead['label']:<28}{shadow['label']}",
         ]
+        if "cluster" in f:
+            lines += cluster_block(f["cluster"]) + [""]
+        lines += [f"{'':24}{lead['label']:<28}{shadow['label']}"]
         rows = [("pairs", "pairs"), ("objective w(M)", "weight"),
                 ("pairs changed / tick", "changed_rate"),
                 ("standing pairs broken", "broken_total"),
@@ -115,7 +117,33 @@ class LiveView:
                 f"changed_per_tick={lead['changed_rate']:.1f}/{shadow['changed_rate']:.1f} "
                 f"broken={lead['broken_total']}/{shadow['broken_total']} "
                 f"held={f['held_now']} held_total={f['held_total']} "
-                f"hold_violations={lead['hold_violations']}/{shadow['hold_violations']}")
+                f"hold_violations={lead['hold_violations']}/{shadow['hold_violations']}"
+                + (" " + cluster_line(f["cluster"]) if "cluster" in f else ""))
+
+
+def cluster_block(c):
+    """The cluster demo's lines: the NATS nodes and the daemons, then per pool who serves it,
+    its seq and weight, and its takeovers with their gaps."""
+    nats = "   ".join(f"{n['name']} {n['state']}" for n in c["nats"])
+    daemons = "   ".join(f"{d['name']} {d['state']}" for d in c["instances"])
+    lines = [f"NATS ({c['stream']})  {nats}", f"yoked             {daemons}",
+             f"{'pool':<24}{'served by':<12}{'seq':>7}{'weight':>14}   takeover (gap: kill to the "
+             "first acknowledgement)"]
+    for p in c["pools"]:
+        moves = "; ".join(f"{m['from']} -> {m['to']} at {m['at_s']:.1f} s, gap {m['gap_s']:.2f} s"
+                          for m in p["takeovers"]) or "-"
+        lines.append(f"{p['name']:<24}{p['served_by'] or '-':<12}{p['seq']:>7}"
+                     f"{_num(p['weight']):>14}   {moves}")
+    return lines
+
+
+def cluster_line(c):
+    """The cluster demo's part of a plain line: serving=POOL@INSTANCE,... and the gaps."""
+    serving = ",".join(f"{p['name']}@{p['served_by'] or '-'}" for p in c["pools"])
+    gaps = ",".join(f"{p['name']}:{m['gap_s']:.2f}" for p in c["pools"] for m in p["takeovers"])
+    down = ",".join([n["name"] for n in c["nats"] if n["state"] != "up"] +
+                    [d["name"] for d in c["instances"] if d["state"] != "up"])
+    return f"serving={serving} takeover_gaps_s={gaps or '-'} down={down or '-'}"
 
 
 def final_line(f):

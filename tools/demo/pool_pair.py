@@ -40,20 +40,34 @@ class PoolTrack:
         self.diff_ms = collections.deque(maxlen=4096)     # client send -> diff received
         self.resyncs = 0
         self.pairings = collections.Counter()  # vertex -> pairs formed
+        self.sent_at = self.acked_at = None  # the last batch: sent, acknowledged (monotonic)
+        self.acked_by = None  # the ingest endpoint that acknowledged it (a cluster: its server)
 
     def mate_pairs(self):
         return sorted(self.since)
 
 
+def _timed_send(sender, protos):
+    """(ack, when it came, the endpoint that sent it)."""
+    ack = sender.send(protos)
+    return ack, time.monotonic(), sender.endpoint
+
+
 class PoolPair:
     QUIET_S = 1.0  # no diff this long after the ack: fetch the matching instead
 
-    def __init__(self, ingest, publish, query, lead, shadow, client_id, timeout_s=5.0):
+    def __init__(self, ingest, publish, query, lead, shadow, client_id, timeout_s=5.0,
+                 ack_timeout_s=None, retries=3):
+        """Endpoints: one each, or lists (the daemons of a cluster: batches and queries follow
+        NOT_OWNER, diffs come from every publisher). timeout_s: the wait for a diff (and a
+        catch-up query); ack_timeout_s (default timeout_s): the silence after which a batch is
+        resent, or sent to the next daemon of a cluster; retries: such resends of one batch."""
         self.lead = PoolTrack(lead)
         self.shadow = PoolTrack(shadow)
         self.tracks = (self.lead, self.shadow)
+        ack_timeout_s = timeout_s if ack_timeout_s is None else ack_timeout_s
         self._senders = [Sender(ingest, pool=p.name, client_id=f"{client_id}-{p.name}",
-                                in_flight=1, timeout_s=timeout_s, retries=3)
+                                in_flight=1, timeout_s=ack_timeout_s, retries=retries)
                          for p in self.tracks]
         self._watchers = [Watcher(publish, p.name, query_endpoint=query) for p in self.tracks]
         self._timeout_s = timeout_s
@@ -83,11 +97,12 @@ class PoolPair:
         this tick's events. Raises yoke_client's Rejected / Unavailable."""
         protos = [event_codec.to_proto(e) for e in events]
         started = time.monotonic()
-        shadow_ack = self._pool.submit(self._senders[1].send, protos)
-        acks = [self._senders[0].send(protos), shadow_ack.result()]
-        acked = time.monotonic()
-        for track, ack in zip(self.tracks, acks):
+        shadow_ack = self._pool.submit(_timed_send, self._senders[1], protos)
+        answers = [_timed_send(self._senders[0], protos), shadow_ack.result()]
+        acks = [ack for ack, _, _ in answers]
+        for track, (_, acked, endpoint) in zip(self.tracks, answers):
             track.ack_ms.append((acked - started) * 1000.0)
+            track.sent_at, track.acked_at, track.acked_by = started, acked, endpoint
         for watcher, track, ack in zip(self._watchers, self.tracks, acks):
             self._follow(watcher, track, ack.seq, tick, alive, held, started)
         return acks

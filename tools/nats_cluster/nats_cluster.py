@@ -1,9 +1,10 @@
-"""A local NATS cluster for the Python end-to-end tests and the demo (the C++ twin is
+"""A local NATS cluster for the Python end-to-end tests and the cluster demo (the C++ twin is
 tools/nats_cluster/local_nats_cluster.h).
 
 `NatsCluster(nodes=3)` writes one config per node with client, route and monitoring ports picked
 free on 127.0.0.1, keeps JetStream data in a temporary directory, starts `nats-server` children
-and waits until the cluster is ready: every node's /healthz answers 200 and an R<nodes> stream
+(each in a session of its own: a Ctrl-C at the terminal does not reach them) and waits until
+the cluster is ready: every node's /healthz answers 200 and an R<nodes> stream
 can be created (over the NATS protocol itself: no Python NATS client is packaged in Debian).
 Nodes are killed, paused, resumed and restarted by PID; `stop()` (also on `with` exit, at
 interpreter exit, and through PR_SET_PDEATHSIG if the test process dies) ends every node by its
@@ -69,7 +70,10 @@ def node_config(cluster_name, ports, index, store_dir):
     routes = ", ".join(f"nats-route://127.0.0.1:{p[1]}" for p in ports)
     text = (f"server_name: n{index + 1}\nlisten: 127.0.0.1:{client}\nhttp: 127.0.0.1:{http}\n"
             f'jetstream {{\n  store_dir: "{store_dir}"\n  max_memory_store: 256MB\n'
-            f"  max_file_store: 1GB\n}}\n")
+            # 2GB: a stream of yoked's default cap (1 GiB) fits beside what the readiness probe
+            # may still reserve for a moment after its deletion (with 1GB, a stream made just
+            # after readiness was sometimes refused: "insufficient storage").
+            f"  max_file_store: 2GB\n}}\n")
     if len(ports) > 1:
         text += (f"cluster {{\n  name: {cluster_name}\n  listen: 127.0.0.1:{route}\n"
                  f"  routes: [ {routes} ]\n}}\n")
@@ -77,13 +81,20 @@ def node_config(cluster_name, ports, index, store_dir):
 
 
 class NatsCluster:
-    def __init__(self, nodes=3, server="nats-server", start_limit=30.0, name="yoke-test"):
+    def __init__(self, nodes=3, server="nats-server", start_limit=30.0, name="yoke-test",
+                 directory=None):
+        """directory: where configs, logs and JetStream data go (made if missing); default a
+        fresh temporary directory."""
         if not 1 <= nodes <= 9:
             raise ValueError("a local NATS cluster has 1 to 9 nodes")
         self.server = server
         self.cluster_name = name
         self.nodes = nodes
-        self.directory = tempfile.mkdtemp(prefix="yoke-nats-")
+        if directory is None:
+            self.directory = tempfile.mkdtemp(prefix="yoke-nats-")
+        else:
+            os.makedirs(directory, exist_ok=True)
+            self.directory = directory
         self.processes = [None] * nodes
         self.paused = [False] * nodes
         _LIVE.add(self)
@@ -157,7 +168,7 @@ class NatsCluster:
         with open(self.log_path(node), "ab") as log:
             self.processes[node] = subprocess.Popen(
                 [self.server, "-c", self._config(node)], stdout=log, stderr=log,
-                stdin=subprocess.DEVNULL, preexec_fn=_die_with_parent)
+                stdin=subprocess.DEVNULL, preexec_fn=_die_with_parent, start_new_session=True)
         self.paused[node] = False
 
     def kill(self, node):
