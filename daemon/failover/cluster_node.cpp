@@ -55,6 +55,12 @@ ClusterNode::ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnec
   self_.set_ingest(me.ingest);
   self_.set_query(me.query);
   self_.set_publish(me.publish);
+  DiffFeedSettings feed;
+  feed.stream = cluster_.stream;
+  feed.subject_prefix = cluster_.subject_prefix;
+  feed.publish_timeout = cluster_.publish_timeout;
+  feed.snapshots_kept = config_.snapshots.keep;
+  diff_feed_ = std::make_unique<DiffFeedPublisher>(connection_, feed);
 }
 
 ClusterNode::~ClusterNode() = default;
@@ -171,6 +177,7 @@ std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::tim
     }
   }
   beat(service, now);
+  diff_feed_->pump(now);
 
   std::vector<v1::Diff> to_publish;
   if (now < next_follow_) return to_publish;
@@ -232,18 +239,22 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   // The windows the old owner stored before the claim count; none after it does.
   role.follower->catch_up(log_);
   const std::uint64_t seq = role.follower->seq();
-  // The old server's last beat says up to which seq it had published; later diffs may never
-  // have gone out. Without a beat (it never beat, or this process just started) all are sent:
-  // a watcher drops a seq it has seen.
-  std::uint64_t published = 0;
-  if (const v1::Heartbeat* last = board_->last(silent)) {
-    for (const v1::OwnedPool& owned : last->pools()) {
-      if (owned.pool() == pool) published = owned.seq();
+  // The pool's diff subject ends where the old server's diffs stopped: exactly the later ones
+  // are published again, on NATS and ZeroMQ. When the subject cannot be read, the old
+  // server's last beat says up to which seq it had published (without a beat all are sent: a
+  // watcher drops a seq it has seen), and the diff feed reads the subject on a later tick.
+  std::optional<std::uint64_t> published = diff_feed_->resume(pool);
+  if (!published) {
+    published = 0;
+    if (const v1::Heartbeat* last = board_->last(silent)) {
+      for (const v1::OwnedPool& owned : last->pools()) {
+        if (owned.pool() == pool) published = owned.seq();
+      }
     }
   }
   std::vector<v1::Diff> republish;
   for (const v1::Diff& diff : role.follower->recent_diffs()) {
-    if (diff.seq() > published) republish.push_back(diff);
+    if (diff.seq() > *published) republish.push_back(diff);
   }
   log_.set_epoch(pool, result.claim_sequence);
   service.adopt_pool(pool, role.follower->release());
@@ -261,6 +272,10 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   return republish;
 }
 
+void ClusterNode::published(const v1::Diff& diff, const std::string& publication) {
+  diff_feed_->publish(diff.pool(), diff.seq(), diff.prev_seq(), publication);
+}
+
 void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::string>& pools,
                        Clock::time_point) {
   for (const std::string& pool : pools) {
@@ -269,6 +284,7 @@ void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::stri
     PoolRole& role = it->second;
     role.served_here = false;
     log_event(LogLevel::warn, "pool_lost", {{"pool", pool}});
+    diff_feed_->forget(pool);
     try {
       refresh_ownership(pool, role);
       follow(pool, role);
@@ -293,6 +309,7 @@ v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {
     entry.set_pool(pool);
     entry.set_seq(record->seq());
     if (const auto oldest = role.snapshots->oldest_needed()) log_.drop_pool_before(pool, *oldest);
+    diff_feed_->snapshot_written(pool, record->seq());
   }
   return taken;
 }

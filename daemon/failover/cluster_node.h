@@ -29,6 +29,7 @@
 #include "daemon/jetstream/ownership_rule.h"
 #include "daemon/server/cluster_hooks.h"
 #include "daemon/service/pool_service.h"
+#include "diff_feed_publisher.h"
 #include "heartbeat_board.h"
 #include "pool_follower.h"
 #include "takeover_rule.h"
@@ -60,6 +61,9 @@ class ClusterNode : public daemon::ClusterHooks {
   // publish (those a takeover republishes). A few round trips per followed pool when
   // following is due; a claim costs its catch-up and a few more.
   std::vector<v1::Diff> tick(daemon::PoolService& service, Clock::time_point now) override;
+
+  // Stores the diff on the pool's diff subject (DiffFeedPublisher): never waits for NATS.
+  void published(const v1::Diff& diff, const std::string& publication) override;
 
   // The service dropped these pools (the log did not count their last windows): follow them.
   void lost(daemon::PoolService& service, const std::vector<std::string>& pools,
@@ -102,6 +106,7 @@ class ClusterNode : public daemon::ClusterHooks {
   std::map<std::string, PoolRole> roles_;  // pools owned or stood by for here
   std::unique_ptr<cluster::PlainSubscription> heartbeats_;
   std::unique_ptr<HeartbeatBoard> board_;
+  std::unique_ptr<DiffFeedPublisher> diff_feed_;  // the served pools' diffs on NATS
   std::uint64_t beats_sent_ = 0;
   Clock::time_point next_beat_{};
   Clock::time_point next_follow_{};
