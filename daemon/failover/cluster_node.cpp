@@ -60,7 +60,14 @@ ClusterNode::ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnec
   feed.subject_prefix = cluster_.subject_prefix;
   feed.publish_timeout = cluster_.publish_timeout;
   feed.snapshots_kept = config_.snapshots.keep;
-  diff_feed_ = std::make_unique<DiffFeedPublisher>(connection_, feed);
+  feed.stale_after = cluster_.heartbeat;
+  feed.still_serving = [this](const std::string& pool) { return still_serving(pool); };
+  cluster::ConnectionSettings diff_settings = connection_.settings();
+  diff_settings.name += "-diffs";
+  diff_settings.on_event = nullptr;  // the main connection reports the cluster's state
+  diff_settings.send_at_once = true;
+  diff_connection_ = std::make_unique<cluster::NatsConnection>(std::move(diff_settings));
+  diff_feed_ = std::make_unique<DiffFeedPublisher>(*diff_connection_, feed);
 }
 
 ClusterNode::~ClusterNode() = default;
@@ -273,7 +280,17 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
 }
 
 void ClusterNode::published(const v1::Diff& diff, const std::string& publication) {
-  diff_feed_->publish(diff.pool(), diff.seq(), diff.prev_seq(), publication);
+  // When its window closed: a late diff (this process stalled after the acknowledgement) is
+  // checked against the claims before it is stored (DiffFeedPublisher::pump()).
+  const Clock::time_point closed =
+      Clock::now() - std::chrono::microseconds(diff.timings().commit_to_publish_us());
+  diff_feed_->publish(diff.pool(), diff.seq(), diff.prev_seq(), publication, closed);
+}
+
+bool ClusterNode::still_serving(const std::string& pool) {
+  const auto role = roles_.find(pool);
+  if (role == roles_.end() || !role->second.served_here) return false;
+  return jetstream::pool_ownership(view_, pool).epoch() == role->second.ownership.epoch();
 }
 
 void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::string>& pools,

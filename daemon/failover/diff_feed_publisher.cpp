@@ -67,6 +67,7 @@ std::optional<std::uint64_t> DiffFeedPublisher::resume(const std::string& pool) 
     lane.queue.clear();
     lane.in_flight = false;  // an acknowledgement still coming is ignored (no queue front)
     lane.failed = false;
+    lane.late = false;
     lane.resumed = false;
     lane.stored.clear();
     lane.snapshot_seqs.clear();
@@ -88,7 +89,8 @@ std::optional<std::uint64_t> DiffFeedPublisher::resume(const std::string& pool) 
 }
 
 void DiffFeedPublisher::publish(const std::string& pool, std::uint64_t seq,
-                                std::uint64_t prev_seq, std::string publication) {
+                                std::uint64_t prev_seq, std::string publication,
+                                Clock::time_point window_closed) {
   log_notes();
   const std::lock_guard<std::mutex> lock(mutex_);
   if (closing_) return;
@@ -104,7 +106,7 @@ void DiffFeedPublisher::publish(const std::string& pool, std::uint64_t seq,
                  {"reason", "this daemon does not hold these diffs"}});
     }
   }
-  lane.queue.push_back(Queued{seq, prev_seq, std::move(publication)});
+  lane.queue.push_back(Queued{seq, prev_seq, std::move(publication), window_closed});
   if (lane.queue.size() > settings_.max_queued) {
     const Queued dropped = std::move(lane.queue.front());
     lane.queue.pop_front();
@@ -113,12 +115,16 @@ void DiffFeedPublisher::publish(const std::string& pool, std::uint64_t seq,
                {"reason", "too many diffs waiting for the stream"}});
     if (lane.in_flight) lane.in_flight = false;  // its acknowledgement no longer matches
   }
-  if (lane.resumed && !lane.in_flight && !lane.failed) send_front(pool, lane);
+  if (lane.resumed && !lane.in_flight && !lane.failed && !lane.late) send_front(pool, lane);
 }
 
 void DiffFeedPublisher::send_front(const std::string& pool, Lane& lane) {
   if (closing_ || lane.queue.empty()) return;
   const Queued& front = lane.queue.front();
+  if (Clock::now() - front.checked_at > settings_.stale_after) {
+    lane.late = true;  // pump() checks the claims and the subject first
+    return;
+  }
   natsMsg* raw = nullptr;
   try {
     raw = cluster::make_nats_message(lane.subject, jetstream::diff_feed_headers(front.seq),
@@ -204,19 +210,32 @@ void DiffFeedPublisher::pump(Clock::time_point now) {
     const std::lock_guard<std::mutex> lock(mutex_);
     if (closing_) return;
     for (auto& [pool, lane] : lanes_) {
-      const bool unread = !lane.resumed && !lane.queue.empty();
-      if ((lane.failed || unread) && now >= lane.retry_at) to_check.emplace_back(pool, lane.subject);
+      if (lane.in_flight || lane.queue.empty()) continue;
+      const bool waiting = lane.failed || lane.late || !lane.resumed;
+      if (waiting && now >= lane.retry_at) to_check.emplace_back(pool, lane.subject);
     }
   }
   for (const auto& [pool, subject] : to_check) {
     std::optional<jetstream::StoredDiff> last;
     try {
+      if (settings_.still_serving && !settings_.still_serving(pool)) {
+        const std::lock_guard<std::mutex> lock(mutex_);
+        Lane& lane = lane_of(pool);
+        if (!lane.queue.empty()) {
+          log_event(LogLevel::info, "diff_not_stored",
+                    {{"pool", pool}, {"from_seq", lane.queue.front().seq},
+                     {"to_seq", lane.queue.back().seq},
+                     {"reason", "the pool is served elsewhere now"}});
+        }
+        lane.queue.clear();
+        lane.failed = false;
+        lane.late = false;
+        continue;
+      }
       last = jetstream::last_stored_diff(connection_, settings_.stream, subject);
     } catch (const std::exception& error) {
       const std::lock_guard<std::mutex> lock(mutex_);
-      Lane& lane = lane_of(pool);
-      lane.retry_at = now + settings_.retry_after;
-      lane.failed = lane.resumed;  // an unread subject is tried again on every pump
+      lane_of(pool).retry_at = now + settings_.retry_after;
       log_event(LogLevel::warn, "diff_feed_unread", {{"pool", pool}, {"reason", error.what()}});
       continue;
     }
@@ -226,6 +245,7 @@ void DiffFeedPublisher::pump(Clock::time_point now) {
     const bool was_resumed = lane.resumed;
     lane.resumed = true;
     lane.failed = false;
+    lane.late = false;
     if (last) {
       if (lane.stored.empty() || lane.stored.back().second < last->stream_sequence) {
         lane.stored.emplace_back(last->seq, last->stream_sequence);
@@ -238,6 +258,8 @@ void DiffFeedPublisher::pump(Clock::time_point now) {
                  {"to_seq", lane.queue.front().prev_seq},
                  {"reason", "this daemon does not hold these diffs"}});
     }
+    const Clock::time_point checked = Clock::now();
+    for (Queued& queued : lane.queue) queued.checked_at = checked;
     log_event(LogLevel::info, "diff_feed_resent",
               {{"pool", pool}, {"stored_seq", lane.stored_seq}, {"queued", lane.queue.size()}});
     send_front(pool, lane);
@@ -252,6 +274,7 @@ void DiffFeedPublisher::forget(const std::string& pool) {
   lane.queue.clear();
   lane.in_flight = false;
   lane.failed = false;
+  lane.late = false;
   lane.resumed = false;
   lane.stored.clear();
   lane.snapshot_seqs.clear();

@@ -27,9 +27,16 @@
 //   pool's log is; the newest stored diff always stays, so the subject says where it ends.
 //   Purging needs the stream sequences of the diffs, known for those stored by this daemon;
 //   older ones go when a later trim purges below one of them.
-// - Known limit: a deposed server (e.g. resumed after SIGSTOP) whose last accepted window
-//   was sealed before the claim may still store that window's diff after the new server
-//   stored it: a duplicate seq, which watchers drop (seq <= the last seen).
+// - A late diff is checked before it is sent: one whose window closed more than stale_after
+//   ago (this process stalled, e.g. SIGSTOP between an acknowledgement and its diff, or the
+//   stream lagged) is sent only by pump(), after `still_serving` (the claims: one round trip)
+//   says the pool is still served here and the subject's end was read again; otherwise a
+//   daemon that claimed the pool meanwhile has stored it already. On a connection with
+//   ConnectionSettings::send_at_once, a diff handed to libnats is in the kernel's socket
+//   before the call returns, so a stall cannot hold it back in libnats' buffer until after
+//   a claim. Remaining limit: a stall between the staleness check and that write (the same
+//   few microseconds of one thread) still lets that seq be stored twice; watchers drop a
+//   seq they have seen.
 //
 // Threads: the public calls are for the daemon's one thread; the acknowledgement callbacks
 // run on libnats' thread. One mutex guards the pools' queues.
@@ -38,6 +45,7 @@
 #include <chrono>
 #include <cstdint>
 #include <deque>
+#include <functional>
 #include <map>
 #include <mutex>
 #include <optional>
@@ -58,6 +66,12 @@ struct DiffFeedSettings {
   std::chrono::milliseconds retry_after{500};       // after a failure, before checking again
   std::size_t max_queued = 4096;                    // per pool
   std::size_t snapshots_kept = 2;                   // [snapshots] keep
+  // A diff whose window closed longer ago than this is checked before it is sent
+  // ([cluster] heartbeat_ms: no claim can follow a window of a daemon that kept beating).
+  std::chrono::milliseconds stale_after{500};
+  // Whether this daemon still serves the pool (as the log's claims say now); throws when it
+  // cannot tell. Called by pump() only. Unset: assumed.
+  std::function<bool(const std::string& pool)> still_serving;
 };
 
 // What the publisher knows of one pool (for logs, metrics and tests).
@@ -88,17 +102,19 @@ class DiffFeedPublisher {
   // pump() tries again, and diffs queue meanwhile).
   std::optional<std::uint64_t> resume(const std::string& pool);
 
-  // Queues the diff `seq` (covering prev_seq + 1 .. seq) of `pool`; `publication` is the
-  // serialized yoke.v1.Publication. A seq already stored or queued is skipped; a prev_seq past
-  // the last seq held is logged as a gap (this daemon does not hold those diffs). Sends at
-  // once when the pool has nothing in flight. Never waits for NATS. O(bytes).
+  // Queues the diff `seq` (covering prev_seq + 1 .. seq) of `pool`, whose window closed at
+  // `window_closed`; `publication` is the serialized yoke.v1.Publication. A seq already
+  // stored or queued is skipped; a prev_seq past the last seq held is logged as a gap (this
+  // daemon does not hold those diffs). Sends at once when the pool has nothing in flight and
+  // the diff is not late. Never waits for NATS. O(bytes).
   void publish(const std::string& pool, std::uint64_t seq, std::uint64_t prev_seq,
-               std::string publication);
+               std::string publication, Clock::time_point window_closed);
 
   // Logs what the callbacks recorded, then, for each pool whose last publish failed (after
-  // retry_after) or whose subject's end is not known yet: reads the subject's last stored
-  // diff (one round trip each), drops what is stored and sends the next. Call between
-  // windows, e.g. every cluster tick. No round trip when nothing failed.
+  // retry_after), whose subject's end is not known yet or whose next diff is late: asks
+  // still_serving (a pool no longer served here drops its queue), reads the subject's last
+  // stored diff (one round trip each), drops what is stored and sends the next. Call between
+  // windows, e.g. every cluster tick. No round trip when nothing failed or was late.
   void pump(Clock::time_point now);
 
   // This daemon no longer serves `pool`: drops its queue (a diff in flight may still land).
@@ -120,6 +136,7 @@ class DiffFeedPublisher {
     std::uint64_t seq = 0;
     std::uint64_t prev_seq = 0;
     std::string publication;
+    Clock::time_point checked_at{};  // the window's close, or the last check by pump()
   };
   struct Lane {
     std::string subject;
@@ -128,6 +145,7 @@ class DiffFeedPublisher {
     std::deque<Queued> queue;  // not known stored; the front is in flight when in_flight
     bool in_flight = false;
     bool failed = false;
+    bool late = false;  // the next diff waits for pump()'s checks
     Clock::time_point retry_at{};
     std::uint64_t failures = 0;
     // (seq, stream sequence) of the diffs this daemon stored, oldest first: for trimming.

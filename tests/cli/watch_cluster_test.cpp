@@ -100,7 +100,8 @@ class WatchFromCluster : public ::testing::Test {
   static void publish_range(failover::DiffFeedPublisher& feed, const std::string& pool,
                             std::uint64_t first, std::uint64_t last) {
     for (std::uint64_t seq = first; seq <= last; ++seq) {
-      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1));
+      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1),
+                   std::chrono::steady_clock::now());
     }
   }
 
@@ -207,7 +208,8 @@ TEST_F(WatchFromCluster, AGapIsNotedAndTheWatchGoesOn) {
   const auto publisher = feed();
   ASSERT_EQ(publisher->resume("tide"), 0u);
   publish_range(*publisher, "tide", 1, 2);
-  publisher->publish("tide", 5, 4, publication_of("tide", 5, 4));  // 3 and 4 never stored
+  publisher->publish("tide", 5, 4, publication_of("tide", 5, 4),  // 3 and 4 never stored
+                     std::chrono::steady_clock::now());
   ASSERT_TRUE(publisher->settle(milliseconds(10000)));
   TempDir dir;
   const RunResult result = run_yoke(dir, watch_args("tide", {"--from-seq", "1", "--count", "3"}));

@@ -82,10 +82,24 @@ class DiffFeedOnCluster : public cluster::testing::OneClusterPerSuite<DiffFeedOn
     return seqs;
   }
 
+  // stored_seqs() once it equals `expected` (a purge may reach the replica a new consumer
+  // reads from a moment after it was acknowledged), or as it is after 5 s.
+  std::vector<std::uint64_t> settled_seqs(const std::string& pool,
+                                          const std::vector<std::uint64_t>& expected) {
+    const auto deadline = std::chrono::steady_clock::now() + milliseconds(5000);
+    std::vector<std::uint64_t> seqs = stored_seqs(pool);
+    while (seqs != expected && std::chrono::steady_clock::now() < deadline) {
+      std::this_thread::sleep_for(milliseconds(100));
+      seqs = stored_seqs(pool);
+    }
+    return seqs;
+  }
+
   static void publish_range(DiffFeedPublisher& feed, const std::string& pool, std::uint64_t first,
                             std::uint64_t last) {
     for (std::uint64_t seq = first; seq <= last; ++seq) {
-      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1));
+      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1),
+                   std::chrono::steady_clock::now());
     }
   }
 
@@ -105,7 +119,8 @@ TEST_F(DiffFeedOnCluster, StoresOneDiffPerSeqInOrderWithoutWaitingAndTheLastIsRe
   const auto start = std::chrono::steady_clock::now();
   publish_range(feed, "berth.7", 1, 400);
   const auto queued = std::chrono::steady_clock::now() - start;
-  feed.publish("dock", 1, 0, publication_of("dock", 1, 0));  // another pool, its own lane
+  feed.publish("dock", 1, 0, publication_of("dock", 1, 0),  // another pool, its own lane
+               std::chrono::steady_clock::now());
   ASSERT_TRUE(feed.settle(milliseconds(30000)));
   const auto stored = std::chrono::steady_clock::now() - start;
   std::cout << "400 diffs: queued in "
@@ -177,6 +192,36 @@ TEST_F(DiffFeedOnCluster, DiffsBeforeUntilTheReadWorksAreQueuedThenSent) {
   EXPECT_EQ(stored_seqs("tide"), range(1, 3));
 }
 
+TEST_F(DiffFeedOnCluster, ALateDiffIsStoredOnlyWhileThePoolIsStillServedHere) {
+  make_stream();
+  bool served = true;
+  int asked = 0;
+  settings_.stale_after = milliseconds(200);
+  settings_.still_serving = [&](const std::string&) {
+    ++asked;
+    return served;
+  };
+  DiffFeedPublisher feed(*connection_, settings_);
+  ASSERT_EQ(feed.resume("lock"), 0u);
+  publish_range(feed, "lock", 1, 2);  // fresh: sent without asking
+  ASSERT_TRUE(feed.settle(milliseconds(10000)));
+  EXPECT_EQ(asked, 0);
+  // Its window closed a second ago (the process stalled): not sent until checked.
+  const auto long_ago = std::chrono::steady_clock::now() - milliseconds(1000);
+  feed.publish("lock", 3, 2, publication_of("lock", 3, 2), long_ago);
+  EXPECT_EQ(feed.status("lock").queued, 1u);
+  ASSERT_TRUE(feed.settle(milliseconds(10000)));  // settle() pumps: asks, then sends
+  EXPECT_EQ(asked, 1);
+  EXPECT_EQ(stored_seqs("lock"), range(1, 3));
+  // Claimed elsewhere meanwhile: the late diffs are dropped, not stored.
+  served = false;
+  feed.publish("lock", 4, 3, publication_of("lock", 4, 3), long_ago);
+  feed.publish("lock", 5, 4, publication_of("lock", 5, 4), long_ago);
+  ASSERT_TRUE(feed.settle(milliseconds(10000)));
+  EXPECT_EQ(asked, 2);
+  EXPECT_EQ(stored_seqs("lock"), range(1, 3));
+}
+
 TEST_F(DiffFeedOnCluster, TrimmingFollowsTheOldestSnapshotKeptAndKeepsTheNewestDiff) {
   make_stream();
   DiffFeedPublisher feed(*connection_, settings_);
@@ -186,11 +231,11 @@ TEST_F(DiffFeedOnCluster, TrimmingFollowsTheOldestSnapshotKeptAndKeepsTheNewestD
   feed.snapshot_written("wharf", 3);  // one snapshot kept of two: nothing covered for sure
   EXPECT_EQ(stored_seqs("wharf"), range(1, 10));
   feed.snapshot_written("wharf", 6);  // the oldest kept is at 3: diffs 1..3 go
-  EXPECT_EQ(stored_seqs("wharf"), range(4, 10));
+  EXPECT_EQ(settled_seqs("wharf", range(4, 10)), range(4, 10));
   feed.snapshot_written("wharf", 10);  // oldest kept at 6
-  EXPECT_EQ(stored_seqs("wharf"), range(7, 10));
+  EXPECT_EQ(settled_seqs("wharf", range(7, 10)), range(7, 10));
   feed.snapshot_written("wharf", 10);  // oldest kept at 10: the newest diff stays
-  EXPECT_EQ(stored_seqs("wharf"), range(10, 10));
+  EXPECT_EQ(settled_seqs("wharf", range(10, 10)), range(10, 10));
   const auto last = jetstream::last_stored_diff(*connection_, settings_.stream, subject("wharf"));
   ASSERT_TRUE(last.has_value());
   EXPECT_EQ(last->seq, 10u);
