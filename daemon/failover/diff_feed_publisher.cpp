@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cstdlib>
+#include <memory>
 #include <thread>
 
 #include "daemon/cluster/cluster_error.h"
@@ -16,6 +17,13 @@ namespace {
 using daemon::LogLevel;
 using daemon::log_event;
 
+// Where the callbacks' closures stay reachable until the process exits (see AckRelay).
+std::mutex parked_relays_mutex;
+std::vector<std::shared_ptr<void>>& parked_relays() {
+  static auto* relays = new std::vector<std::shared_ptr<void>>();  // reachable until exit
+  return *relays;
+}
+
 std::string failure_text(const jsPubAckErr& failure) {
   std::string text = natsStatus_GetText(failure.Err);
   if (failure.ErrText != nullptr && *failure.ErrText != '\0') text += std::string(": ") + failure.ErrText;
@@ -26,12 +34,22 @@ std::string failure_text(const jsPubAckErr& failure) {
 }  // namespace
 
 DiffFeedPublisher::DiffFeedPublisher(cluster::NatsConnection& connection, DiffFeedSettings settings)
-    : connection_(connection), settings_(std::move(settings)), subjects_(settings_.subject_prefix) {
+    : connection_(connection),
+      settings_(std::move(settings)),
+      subjects_(settings_.subject_prefix),
+      relay_(nullptr) {
+  auto relay = std::make_shared<AckRelay>();
+  relay->publisher = this;
+  relay_ = relay.get();
+  {
+    const std::lock_guard<std::mutex> lock(parked_relays_mutex);
+    parked_relays().push_back(std::move(relay));
+  }
   jsOptions options;
   jsOptions_Init(&options);
   options.Wait = settings_.publish_timeout.count();
   options.PublishAsync.AckHandler = &DiffFeedPublisher::on_ack;
-  options.PublishAsync.AckHandlerClosure = this;
+  options.PublishAsync.AckHandlerClosure = relay_;
   jsCtx* raw = nullptr;
   cluster::throw_on_failure(natsConnection_JetStream(&raw, connection_.native(), &options),
                             "open a JetStream context for the diff feed");
@@ -47,6 +65,10 @@ DiffFeedPublisher::~DiffFeedPublisher() {
   jsPubOptions_Init(&options);
   options.MaxWait = settings_.publish_timeout.count();
   js_PublishAsyncComplete(context_.get(), &options);
+  {
+    const std::lock_guard<std::mutex> lock(relay_->mutex);  // waits for a running callback
+    relay_->publisher = nullptr;
+  }
   context_.reset();
 }
 
@@ -156,7 +178,11 @@ void DiffFeedPublisher::fail_front(const std::string& pool, Lane& lane, std::str
 
 void DiffFeedPublisher::on_ack(jsCtx*, natsMsg* message, jsPubAck* ack, jsPubAckErr* failure,
                                void* closure) {
-  static_cast<DiffFeedPublisher*>(closure)->acknowledged(message, ack, failure);
+  auto* relay = static_cast<AckRelay*>(closure);
+  {
+    const std::lock_guard<std::mutex> lock(relay->mutex);
+    if (relay->publisher != nullptr) relay->publisher->acknowledged(message, ack, failure);
+  }
   natsMsg_Destroy(message);
 }
 

@@ -158,6 +158,14 @@ class DiffFeedPublisher {
     std::string reason;
   };
 
+  // The callback's closure: libnats may still run a callback (an ack timeout) after the
+  // context is destroyed, so the closure outlives the publisher (never freed, a few bytes per
+  // publisher made) and the destructor disarms it.
+  struct AckRelay {
+    std::mutex mutex;
+    DiffFeedPublisher* publisher = nullptr;
+  };
+
   static void on_ack(jsCtx* context, natsMsg* message, jsPubAck* ack, jsPubAckErr* failure,
                      void* closure);
   void acknowledged(natsMsg* message, const jsPubAck* ack, const jsPubAckErr* failure);
@@ -170,6 +178,7 @@ class DiffFeedPublisher {
   cluster::NatsConnection& connection_;
   DiffFeedSettings settings_;
   jetstream::PoolSubjects subjects_;
+  AckRelay* relay_;
   cluster::JetStreamHandle context_;
   mutable std::mutex mutex_;
   std::map<std::string, Lane> lanes_;                 // by pool
