@@ -11,7 +11,9 @@
 // - Cost: publish() never waits for NATS. It queues the diff and, when the pool has nothing in
 //   flight, hands it to js_PublishMsgAsync (a copy and a socket write by libnats' flusher). The
 //   acknowledgement path of batches has no round trip added; a diff reaches the stream about
-//   one round trip (0.2-2 ms on loopback) after the one before it of the same pool.
+//   one round trip after the one before it of the same pool (400 diffs of one pool stored in
+//   0.41-0.45 s on a loopback R3 cluster of this 2-core machine, nats.diff_feed prints it),
+//   which keeps up with the pool's windows: each costs at least a round trip to the log too.
 // - A failed publish (no acknowledgement within publish_timeout, no stream leader, a full
 //   stream) is logged ("diff_publish_failed") and the daemon keeps serving: the log is the
 //   truth. The pool's diffs stay queued; pump() (every cluster tick) waits retry_after, reads

@@ -19,7 +19,8 @@
 // come from whichever daemon serves it, and a new server may publish again diffs its
 // predecessor had published. A diff is known by (pool, seq): each is printed once, in seq
 // order; one that does not follow the last printed waits up to kReorderWait for the diffs
-// between (from another daemon) before the gap counts as one.
+// between (from another daemon) before the gap counts as one (without --catch-up: a note on
+// stderr, "note: pool P: diff S follows seq ..., but the last seq printed is ...").
 //
 // --cluster URL[,URL...] [--stream S] [--subject-prefix P] [--from-seq N] (issue 12): the
 // diffs come from the cluster's JetStream stream instead (cluster_diff_reader.h: the pool's
