@@ -81,6 +81,7 @@ NatsConnection::NatsConnection(ConnectionSettings settings)
   set(natsOptions_SetAllowReconnect(options.get(), true));
   set(natsOptions_SetMaxReconnect(options.get(), settings_.max_reconnect_rounds));
   set(natsOptions_SetReconnectWait(options.get(), settings_.reconnect_wait.count()));
+  set(natsOptions_SetSendAsap(options.get(), settings_.send_at_once));
   ConnectionEventRelay* relay = relay_.get();
   set(natsOptions_SetDisconnectedCB(
       options.get(), relay_connection_event<ConnectionEventKind::disconnected>, relay));

@@ -43,6 +43,11 @@ struct ConnectionSettings {
   int max_reconnect_rounds = -1;                    // -1: never give up
   // Default wait for JetStream API answers (stream setup, lookups, purges).
   std::chrono::milliseconds api_timeout{5000};
+  // Every publish is written to the socket by the calling thread before the call returns,
+  // instead of by libnats' flusher thread a moment later: a message handed over is then out of
+  // the process even if the process is stopped right after (SIGSTOP). Costs a write per
+  // message.
+  bool send_at_once = false;
   std::function<void(const ConnectionEvent&)> on_event;  // optional; see the header comment
 };
 

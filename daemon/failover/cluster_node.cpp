@@ -56,6 +56,19 @@ ClusterNode::ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnec
   self_.set_ingest(me.ingest);
   self_.set_query(me.query);
   self_.set_publish(me.publish);
+  DiffFeedSettings feed;
+  feed.stream = cluster_.stream;
+  feed.subject_prefix = cluster_.subject_prefix;
+  feed.publish_timeout = cluster_.publish_timeout;
+  feed.snapshots_kept = config_.snapshots.keep;
+  feed.stale_after = cluster_.heartbeat;
+  feed.still_serving = [this](const std::string& pool) { return still_serving(pool); };
+  cluster::ConnectionSettings diff_settings = connection_.settings();
+  diff_settings.name += "-diffs";
+  diff_settings.on_event = nullptr;  // the main connection reports the cluster's state
+  diff_settings.send_at_once = true;
+  diff_connection_ = std::make_unique<cluster::NatsConnection>(std::move(diff_settings));
+  diff_feed_ = std::make_unique<DiffFeedPublisher>(*diff_connection_, feed);
 }
 
 ClusterNode::~ClusterNode() = default;
@@ -186,6 +199,7 @@ std::vector<v1::Diff> ClusterNode::tick(daemon::PoolService& service, Clock::tim
     }
   }
   beat(service, now);
+  diff_feed_->pump(now);
 
   std::vector<v1::Diff> to_publish;
   if (now < next_follow_) return to_publish;
@@ -249,18 +263,22 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   // The windows the old owner stored before the claim count; none after it does.
   role.follower->catch_up(log_, *role.snapshots);
   const std::uint64_t seq = role.follower->seq();
-  // The old server's last beat says up to which seq it had published; later diffs may never
-  // have gone out. Without a beat (it never beat, or this process just started) all are sent:
-  // a watcher drops a seq it has seen.
-  std::uint64_t published = 0;
-  if (const v1::Heartbeat* last = board_->last(silent)) {
-    for (const v1::OwnedPool& owned : last->pools()) {
-      if (owned.pool() == pool) published = owned.seq();
+  // The pool's diff subject ends where the old server's diffs stopped: exactly the later ones
+  // are published again, on NATS and ZeroMQ. When the subject cannot be read, the old
+  // server's last beat says up to which seq it had published (without a beat all are sent: a
+  // watcher drops a seq it has seen), and the diff feed reads the subject on a later tick.
+  std::optional<std::uint64_t> published = diff_feed_->resume(pool);
+  if (!published) {
+    published = 0;
+    if (const v1::Heartbeat* last = board_->last(silent)) {
+      for (const v1::OwnedPool& owned : last->pools()) {
+        if (owned.pool() == pool) published = owned.seq();
+      }
     }
   }
   std::vector<v1::Diff> republish;
   for (const v1::Diff& diff : role.follower->recent_diffs()) {
-    if (diff.seq() > published) republish.push_back(diff);
+    if (diff.seq() > *published) republish.push_back(diff);
   }
   log_.set_epoch(pool, result.claim_sequence);
   service.adopt_pool(pool, role.follower->release());
@@ -279,6 +297,20 @@ std::optional<std::vector<v1::Diff>> ClusterNode::take(daemon::PoolService& serv
   return republish;
 }
 
+void ClusterNode::published(const v1::Diff& diff, const std::string& publication) {
+  // When its window closed: a late diff (this process stalled after the acknowledgement) is
+  // checked against the claims before it is stored (DiffFeedPublisher::pump()).
+  const Clock::time_point closed =
+      Clock::now() - std::chrono::microseconds(diff.timings().commit_to_publish_us());
+  diff_feed_->publish(diff.pool(), diff.seq(), diff.prev_seq(), publication, closed);
+}
+
+bool ClusterNode::still_serving(const std::string& pool) {
+  const auto role = roles_.find(pool);
+  if (role == roles_.end() || !role->second.served_here) return false;
+  return jetstream::pool_ownership(view_, pool).epoch() == role->second.ownership.epoch();
+}
+
 void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::string>& pools,
                        Clock::time_point) {
   for (const std::string& pool : pools) {
@@ -287,6 +319,7 @@ void ClusterNode::lost(daemon::PoolService& service, const std::vector<std::stri
     PoolRole& role = it->second;
     role.served_here = false;
     log_event(LogLevel::warn, "pool_lost", {{"pool", pool}});
+    diff_feed_->forget(pool);
     try {
       refresh_ownership(pool, role);
       follow(pool, role);
@@ -327,6 +360,7 @@ v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {
     entry.set_pool(pool);
     entry.set_seq(record->seq());
     if (const auto oldest = role.snapshots->oldest_needed()) log_.drop_pool_before(pool, *oldest);
+    diff_feed_->snapshot_written(pool, record->seq());
   }
   return taken;
 }

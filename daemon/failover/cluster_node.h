@@ -29,6 +29,7 @@
 #include "daemon/jetstream/ownership_rule.h"
 #include "daemon/server/cluster_hooks.h"
 #include "daemon/service/pool_service.h"
+#include "diff_feed_publisher.h"
 #include "heartbeat_board.h"
 #include "pool_follower.h"
 #include "takeover_rule.h"
@@ -42,7 +43,9 @@ jetstream::JetStreamLogSettings log_settings_of(const daemon::ClusterSettings& c
 
 class ClusterNode : public daemon::ClusterHooks {
  public:
-  // `connection` and `log` must outlive the node. Sends nothing yet.
+  // `connection` and `log` must outlive the node. Sends nothing yet; opens a second
+  // connection to the same servers for the diffs (throws cluster::ClusterError when it
+  // cannot).
   ClusterNode(const daemon::DaemonConfig& config, cluster::NatsConnection& connection,
               jetstream::JetStreamCommitLog& log);
   ~ClusterNode() override;
@@ -60,6 +63,9 @@ class ClusterNode : public daemon::ClusterHooks {
   // publish (those a takeover republishes). A few round trips per followed pool when
   // following is due; a claim costs its catch-up and a few more.
   std::vector<v1::Diff> tick(daemon::PoolService& service, Clock::time_point now) override;
+
+  // Stores the diff on the pool's diff subject (DiffFeedPublisher): never waits for NATS.
+  void published(const v1::Diff& diff, const std::string& publication) override;
 
   // The service dropped these pools (the log did not count their last windows): follow them.
   void lost(daemon::PoolService& service, const std::vector<std::string>& pools,
@@ -89,6 +95,9 @@ class ClusterNode : public daemon::ClusterHooks {
     bool served_here = false;
   };
 
+  // Whether the log's claims still say this daemon serves `pool` (one round trip; throws
+  // as jetstream::pool_ownership).
+  bool still_serving(const std::string& pool);
   void beat(daemon::PoolService& service, Clock::time_point now, bool leaving = false);
   void refresh_ownership(const std::string& pool, PoolRole& role);
   void route(daemon::PoolService& service, const std::string& pool, const PoolRole& role);
@@ -110,6 +119,11 @@ class ClusterNode : public daemon::ClusterHooks {
   std::map<std::string, PoolRole> roles_;  // pools owned or stood by for here
   std::unique_ptr<cluster::PlainSubscription> heartbeats_;
   std::unique_ptr<HeartbeatBoard> board_;
+  // The served pools' diffs on NATS, through a connection of their own that writes each
+  // publish at once (ConnectionSettings::send_at_once: a diff handed over before a stall
+  // leaves before it, not after the pool was claimed elsewhere).
+  std::unique_ptr<cluster::NatsConnection> diff_connection_;
+  std::unique_ptr<DiffFeedPublisher> diff_feed_;
   std::uint64_t beats_sent_ = 0;
   Clock::time_point next_beat_{};
   Clock::time_point next_follow_{};

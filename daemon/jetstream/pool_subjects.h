@@ -61,8 +61,8 @@ class PoolSubjects {
   // The position a snapshot subject of `pool` names, or nullopt for another subject.
   std::optional<std::uint64_t> pool_snapshot_of_subject(std::string_view pool,
                                                         std::string_view subject) const;
-  // "<prefix>.diff.<token>": the pool's diffs (a later piece). Throws std::invalid_argument
-  // for "".
+  // "<prefix>.diff.<token>": the pool's diffs (diff_feed_message.h). Throws
+  // std::invalid_argument for "".
   std::string of_diffs(std::string_view pool) const;
   // "<prefix>.start": markers that move the stream's sequence forward (continue_from).
   std::string start_marker() const { return prefix_ + ".start"; }

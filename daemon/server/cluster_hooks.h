@@ -22,6 +22,11 @@ class ClusterHooks {
   virtual std::chrono::milliseconds tick_interval() const = 0;
   // Heartbeats, following, claims. Returns diffs to publish (a takeover's republication).
   virtual std::vector<v1::Diff> tick(PoolService& service, Clock::time_point now) = 0;
+  // The server published `diff` on its PUB socket (`publication`: the serialized
+  // yoke.v1.Publication it sent): a window the log acknowledged, or a takeover's
+  // republication. The cluster part stores it on the pool's diff subject without waiting
+  // for NATS (daemon/failover/diff_feed_publisher.h).
+  virtual void published(const v1::Diff& diff, const std::string& publication) = 0;
   // The service dropped these pools: the log no longer counted this daemon's windows of them.
   virtual void lost(PoolService& service, const std::vector<std::string>& pools,
                     Clock::time_point now) = 0;

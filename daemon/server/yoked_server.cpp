@@ -268,6 +268,7 @@ void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {
   } catch (const zmq::error_t& error) {
     log_event(LogLevel::warn, "publish_failed", {{"pool", diff.pool()}, {"reason", error.what()}});
   }
+  if (cluster_ != nullptr) cluster_->published(diff, bytes);
   metrics_->published(Clock::now() - closed);
 }
 

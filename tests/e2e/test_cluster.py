@@ -7,23 +7,31 @@ processes, killed and paused by PID:
 - the owner SIGKILLed mid-stream: the standby claims the pool and serves it; every batch of the
   stream is acknowledged with the seq it would have had on one daemon (none lost, none applied
   twice), and the final matching equals that of a single local-journal daemon fed the same
-  batches;
+  batches; the pool's diff subject in the stream (yoke.diff.<pool>) then holds exactly one
+  diff per seq 1..N, in order (the new owner stored exactly those its predecessor had not),
+  which compose from the empty matching to the final one, and `yoke watch --cluster
+  --from-seq 1` prints that same chain;
 - the owner stopped with SIGTERM: it says it leaves, and the standby claims at once;
 - the owner SIGSTOPped until the standby claims, then SIGCONT: the paused owner acknowledges
-  nothing after the claim, drops the pool and follows it;
+  nothing after the claim, drops the pool and follows it; the diff subject is as above;
 - the stream's leader (a NATS node) SIGKILLed mid-stream, and later everything (three nodes,
   two daemons) stopped and started again: the stream goes on where it was;
 - after each: `yoke replay --cluster --verify` of the pool's log certifies every commit and ends
   at the serving daemon's matching and seq, and every NATS node holds the same log.
 """
 
+import base64
+import json
 import os
 import time
 import unittest
 
 from e2e_harness import (Daemon, IngestClient, ErrorCode, make_batch_request, replay_commits,
-                         SLOWDOWN)
+                         run_yoke, SLOWDOWN)
 from nats_cluster import NatsCluster
+from yoke.v1 import publish_pb2
+
+STREAM = "yoke-e2e"
 
 HEARTBEAT_MS = 200
 TAKEOVER_MS = 1500
@@ -38,6 +46,9 @@ def cluster_config(nats, daemons, instance, owns):
             'backend = "jetstream"\n'
             f"servers = [{servers}]\n"
             f'stream = "{STREAM}"\n'
+            # Well below the nodes' max_file_store (1GB): a 1 GiB stream (the default) did not
+            # always find room while the harness's probe stream was still being deleted.
+            "max_bytes = 268435456\n"
             f'instance = "{instance}"\n'
             f"heartbeat_ms = {HEARTBEAT_MS}\n"
             f"takeover_ms = {TAKEOVER_MS}\n")
@@ -60,6 +71,46 @@ def batch_events(k):
     if k > 1:
         events.append(("set", b, 2 * ((k * 7) % (k - 1) + 1), 5 + (k * 53) % 120))
     return events
+
+
+def stored_diffs(nats, subject):
+    """Every message of `subject` in the stream, in stream order, as (Yoke-Seq header, Diff),
+    read through the JetStream API (STREAM.MSG.GET with next_by_subj)."""
+    diffs = []
+    next_sequence = 1
+    while True:
+        reply = json.loads(nats.request(f"$JS.API.STREAM.MSG.GET.{STREAM}",
+                                        {"seq": next_sequence, "next_by_subj": subject}))
+        if "error" in reply:
+            if reply["error"].get("err_code") == 10037:  # no message found: the end
+                return diffs
+            raise AssertionError(f"reading {subject}: {reply['error']}")
+        message = reply["message"]
+        headers = base64.b64decode(message.get("hdrs", "")).decode()
+        seq_header = None
+        for line in headers.split("\r\n")[1:]:
+            if line.startswith("Yoke-Seq:"):
+                seq_header = int(line.split(":", 1)[1])
+        publication = publish_pb2.Publication()
+        publication.ParseFromString(base64.b64decode(message.get("data", "")))
+        diffs.append((seq_header, publication.diff))
+        next_sequence = message["seq"] + 1
+
+
+def compose(diffs):
+    """The pairs the diffs lead to from the empty matching; each removed pair must be there and
+    each added one must not."""
+    pairs = set()
+    for diff in diffs:
+        for pair in diff.removed:
+            key = (min(pair.a, pair.b), max(pair.a, pair.b))
+            assert key in pairs, f"diff {diff.seq} removes {key}, which is not matched"
+            pairs.remove(key)
+        for pair in diff.added:
+            key = (min(pair.a, pair.b), max(pair.a, pair.b))
+            assert key not in pairs, f"diff {diff.seq} adds {key}, which is matched already"
+            pairs.add(key)
+    return pairs
 
 
 class FollowingSender:
@@ -235,8 +286,10 @@ class ClusterTest(unittest.TestCase):
         taken = self.west.log_lines("pool_taken")
         self.assertTrue(any("brissamar" in line for line in taken), self.west.diagnostics())
         self.assertEqual(self.west.summary("brissamar")["seq"], batches)
-        self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+        final = self.west.matching("brissamar")
+        self.assertEqual(final, self.reference_matching(batches))
         self.check_log_agrees("brissamar", batches)
+        self.check_diff_subject("brissamar", batches, final)
 
     def test_an_owner_stopped_with_sigterm_hands_its_pool_over_without_the_takeover_wait(self):
         self.wait_serving(self.east, "brissamar")
@@ -255,6 +308,36 @@ class ClusterTest(unittest.TestCase):
         # Told, the standby claims on its next follow tick instead of after takeover_ms.
         self.assertLess(gap, TAKEOVER_MS / 1000 * SLOWDOWN, f"gap {gap:.2f} s")
         self.check_log_agrees("brissamar", 40)
+
+    def check_diff_subject(self, pool, batches, final):
+        """The pool's diff subject holds one diff per seq 1..batches in order (waiting a moment
+        for the last ones, which go out after their acknowledgements), composing to `final`."""
+        subject = f"yoke.diff.{pool}"
+        deadline = time.monotonic() + 15 * SLOWDOWN
+        while True:
+            stored = stored_diffs(self.nats, subject)
+            if (stored and stored[-1][0] == batches) or time.monotonic() > deadline:
+                break
+            time.sleep(0.1)
+        diffs = [diff for _, diff in stored]
+        self.assertEqual([header for header, _ in stored], [diff.seq for diff in diffs])
+        chain = [(diff.prev_seq, diff.seq) for diff in diffs]
+        # Each seq 1..batches covered by exactly one diff, in order: every diff starts where the
+        # one before it ended, from 0 to the last batch.
+        self.assertTrue(diffs, "no diff stored")
+        self.assertEqual(diffs[0].prev_seq, 0, chain)
+        for before, after in zip(diffs, diffs[1:]):
+            self.assertEqual(after.prev_seq, before.seq, chain)
+        self.assertEqual(diffs[-1].seq, batches, chain)
+        self.assertEqual(compose(diffs), final[2])
+        self.assertEqual(diffs[-1].weight, final[1])
+        # A watcher that starts now catches up from the stream: the same chain.
+        urls = ",".join(self.nats.client_urls())
+        watched = run_yoke("watch", "--cluster", urls, "--stream", STREAM, "--pool", pool,
+                           "--from-seq", "1", "--count", str(len(diffs)), "--timeout-ms", "10000")
+        lines = [json.loads(line) for line in watched.stdout.splitlines()]
+        self.assertEqual([(line["prev_seq"], line["seq"]) for line in lines], chain)
+        self.assertEqual(watched.stderr, "")
 
     def test_a_paused_owner_acknowledges_nothing_after_the_claim(self):
         self.wait_serving(self.east, "brissamar")
@@ -276,8 +359,10 @@ class ClusterTest(unittest.TestCase):
         self.assertEqual(ack.rejected.errors[0].owner.instance, "west")
         self.assertGreater(sender.redirects + 1, 0)
         self.assertEqual(self.west.summary("brissamar")["seq"], batches)
-        self.assertEqual(self.west.matching("brissamar"), self.reference_matching(batches))
+        final = self.west.matching("brissamar")
+        self.assertEqual(final, self.reference_matching(batches))
         self.check_log_agrees("brissamar", batches)
+        self.check_diff_subject("brissamar", batches, final)
 
     def test_the_stream_leader_killed_mid_stream_then_everything_restarted(self):
         self.wait_serving(self.east, "brissamar")

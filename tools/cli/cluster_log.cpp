@@ -18,20 +18,20 @@ constexpr std::size_t kKeepAll = 1000000;
 
 }  // namespace
 
-ClusterLog::ClusterLog(const ClusterLogOptions& options) {
+std::unique_ptr<cluster::NatsConnection> open_cluster_stream(const ClusterLogOptions& options,
+                                                             const std::string& client_name,
+                                                             cluster::StreamStatus* status_out) {
+  std::unique_ptr<cluster::NatsConnection> connection;
   cluster::ConnectionSettings settings;
   settings.servers = options.servers;
-  settings.name = "yoke-replay";
+  settings.name = client_name;
   settings.max_reconnect_rounds = 3;
   try {
-    connection_ = std::make_unique<cluster::NatsConnection>(std::move(settings));
+    connection = std::make_unique<cluster::NatsConnection>(std::move(settings));
   } catch (const cluster::ClusterError& error) {
     throw CliError(std::string("cannot reach the NATS cluster: ") + error.what());
   }
 
-  jetstream::JetStreamLogSettings log;
-  log.stream = options.stream;
-  log.subject_prefix = options.subject_prefix;
   std::string filter;
   try {
     filter = jetstream::PoolSubjects(options.subject_prefix).stream_filter();
@@ -41,7 +41,7 @@ ClusterLog::ClusterLog(const ClusterLogOptions& options) {
   // The store opens by making sure the stream exists as asked; asked with the stream's own
   // settings, that changes nothing, and a stream that is not there is an error here first.
   try {
-    const cluster::StreamStatus status = cluster::stream_status(*connection_, options.stream);
+    const cluster::StreamStatus status = cluster::stream_status(*connection, options.stream);
     if (std::find(status.subjects.begin(), status.subjects.end(), filter) ==
         status.subjects.end()) {
       std::string held;
@@ -51,15 +51,25 @@ ClusterLog::ClusterLog(const ClusterLogOptions& options) {
       throw CliError("JetStream stream '" + options.stream + "' holds " + held + ", not " +
                      filter + " (is --subject-prefix right?)");
     }
-    log.replicas = static_cast<int>(status.replicas);
-    log.max_bytes = status.max_bytes;
+    if (status_out != nullptr) *status_out = status;
   } catch (const cluster::ClusterError& error) {
     if (error.kind() == cluster::ClusterErrorKind::not_found) {
       throw CliError("no JetStream stream '" + options.stream + "' on " +
-                     connection_->servers_text() + " (is --stream right?)");
+                     connection->servers_text() + " (is --stream right?)");
     }
     throw CliError("JetStream stream '" + options.stream + "': " + error.what());
   }
+  return connection;
+}
+
+ClusterLog::ClusterLog(const ClusterLogOptions& options) {
+  cluster::StreamStatus status;
+  connection_ = open_cluster_stream(options, "yoke-replay", &status);
+  jetstream::JetStreamLogSettings log;
+  log.stream = options.stream;
+  log.subject_prefix = options.subject_prefix;
+  log.replicas = static_cast<int>(status.replicas);
+  log.max_bytes = status.max_bytes;
   try {
     view_ = std::make_unique<jetstream::JetStreamView>(*connection_, log);
     snapshots_ = jetstream::JetStreamSnapshotStore::open(*connection_, log, kKeepAll);

@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "daemon/cluster/nats_connection.h"
+#include "daemon/cluster/stream_status.h"
 #include "daemon/jetstream/jetstream_commit_log.h"
 #include "daemon/jetstream/jetstream_snapshot_store.h"
 
@@ -27,6 +28,14 @@ struct ClusterLogOptions {
   std::string stream = kDefaultStream;
   std::string subject_prefix = kDefaultSubjectPrefix;
 };
+
+// Connects to the servers (trying them in order) as client `client_name` and checks that the
+// stream exists and holds "<prefix>.>" (one stream-info request). Throws CliError naming the
+// servers or the stream when it cannot; `status`, when given, receives the stream's. Used by
+// ClusterLog and `yoke watch --cluster`.
+std::unique_ptr<cluster::NatsConnection> open_cluster_stream(
+    const ClusterLogOptions& options, const std::string& client_name,
+    cluster::StreamStatus* status = nullptr);
 
 class ClusterLog {
  public:

@@ -5,9 +5,11 @@
 #include <atomic>
 #include <iostream>
 #include <map>
+#include <memory>
 #include <optional>
 
 #include "cli_error.h"
+#include "cluster_diff_reader.h"
 #include "number_options.h"
 #include "proto_json.h"
 #include "endpoint_route.h"
@@ -32,6 +34,11 @@ constexpr const char* kWatchHelp =
     "(pool, seq) is printed once, in seq order; a diff that skips seqs waits a moment for the\n"
     "ones between from another daemon. The --catch-up query follows NOT_OWNER refusals among\n"
     "the --query endpoints (for at most --owner-wait-ms).\n"
+    "--cluster URL[,URL...] reads the diffs from the cluster's JetStream stream instead of\n"
+    "the publication sockets (subject <subject-prefix>.diff.<pool>, stored by whichever daemon\n"
+    "serves the pool), checked the same way: each seq printed once, in order. Without\n"
+    "--from-seq only diffs stored from now on; with --from-seq N every diff still stored from\n"
+    "seq N on (a watcher resumes where it stopped, across failovers).\n"
     "Exit codes: 0 after --count diffs, or on SIGINT/SIGTERM; 2 an unreadable publication or\n"
     "query error; 4 nothing within --timeout-ms.";
 
@@ -62,14 +69,20 @@ class Watcher {
   explicit Watcher(const WatchOptions& options)
       : options_(options),
         timeout_(timeout_from_option(options.timeout_ms)),
-        subscriber_(zmq::socket_type::sub, options.publish.front()),
-        several_(options.publish.size() > 1),
+        several_(options.publish.size() > 1 || !options.cluster.servers.empty()),
         query_route_(options.query, SocketKind::query, options.pool,
                      timeout_from_option(options.owner_wait_ms)) {
-    for (std::size_t i = 1; i < options.publish.size(); ++i) {
-      subscriber_.connect(options.publish[i]);
+    if (!options.cluster.servers.empty()) {
+      stored_ = std::make_unique<ClusterDiffReader>(options.cluster, options.pool, options.from_seq);
+      // Diffs from N on follow N - 1: one that does not is a gap, as after the last printed.
+      if (options.from_seq && *options.from_seq > 0) last_printed_ = *options.from_seq - 1;
+      return;
     }
-    subscriber_.subscribe(options.pool);
+    subscriber_ = std::make_unique<EndpointClient>(zmq::socket_type::sub, options.publish.front());
+    for (std::size_t i = 1; i < options.publish.size(); ++i) {
+      subscriber_->connect(options.publish[i]);
+    }
+    subscriber_->subscribe(options.pool);
   }
 
   int run() {
@@ -82,8 +95,8 @@ class Watcher {
         const auto release = held_since_ + kReorderWait;
         if (!wait || release < *wait) wait = release;
       }
-      const auto frames = subscriber_.receive(wait, &stop_requested);
-      if (!frames) {
+      const std::optional<std::string> publication = receive(wait);
+      if (!publication) {
         if (stop_requested.load()) return kExitOk;
         if (!held_back_.empty() && Clock::now() >= held_since_ + kReorderWait) {
           release_held_back();
@@ -93,10 +106,8 @@ class Watcher {
                                endpoints_text() + " within " + std::to_string(timeout_.count()) +
                                " ms");
       }
-      // Subscriptions match prefixes: pool "city" also receives "city-east".
-      if (frames->empty() || frames->front() != options_.pool) continue;
       deadline = deadline_after(timeout_);
-      if (const auto diff = read_diff(*frames)) offer(*diff);
+      if (const auto diff = read_diff(*publication)) offer(*diff);
     }
     return kExitOk;
   }
@@ -104,7 +115,27 @@ class Watcher {
  private:
   bool done() const { return options_.count != 0 && printed_ >= options_.count; }
 
+  // The next publication's bytes of the pool; nothing at the deadline or a stop.
+  std::optional<std::string> receive(Deadline wait) {
+    if (stored_) return stored_->next(wait, &stop_requested);
+    while (true) {
+      auto frames = subscriber_->receive(wait, &stop_requested);
+      if (!frames) return std::nullopt;
+      // Subscriptions match prefixes: pool "city" also receives "city-east".
+      if (frames->empty() || frames->front() != options_.pool) continue;
+      if (frames->size() != 2) throw CliError(unreadable_text());
+      return std::move((*frames)[1]);
+    }
+  }
+
+  std::string unreadable_text() const {
+    return endpoints_text() + (stored_ ? ": a message that is not a yoke.v1.Publication"
+                                       : ": a publication that is not a topic frame and a "
+                                         "yoke.v1.Publication");
+  }
+
   std::string endpoints_text() const {
+    if (stored_) return stored_->describe();
     std::string text;
     for (const std::string& endpoint : options_.publish) {
       text += (text.empty() ? "" : ", ") + endpoint;
@@ -113,12 +144,9 @@ class Watcher {
   }
 
   // The diff a message carries; nothing for a kind this client does not know.
-  std::optional<Diff> read_diff(const std::vector<std::string>& frames) const {
+  std::optional<Diff> read_diff(const std::string& bytes) const {
     yoke::v1::Publication publication;
-    if (frames.size() != 2 || !publication.ParseFromString(frames[1])) {
-      throw CliError(endpoints_text() + ": a publication that is not a topic frame and a " +
-                     "yoke.v1.Publication");
-    }
+    if (!publication.ParseFromString(bytes)) throw CliError(unreadable_text());
     if (publication.version() != yoke::v1::PROTOCOL_VERSION_1) {
       throw CliError(endpoints_text() + ": a publication in protocol version " +
                      std::to_string(publication.version()) + " (this yoke speaks version 1)");
@@ -167,9 +195,15 @@ class Watcher {
     held_since_ = Clock::now();  // what is still held back waits afresh
   }
 
-  // The diffs between never came: the gap is real. take() deals with it as for one daemon.
+  // The diffs between never came: the gap is real. take() deals with it as for one daemon
+  // (with --catch-up: a note and a new catch-up); without --catch-up it is noted here.
   void release_held_back() {
     const Diff diff = held_back_.begin()->second;
+    if (!options_.catch_up && last_printed_) {
+      std::cerr << "note: pool " << options_.pool << ": diff " << diff.seq() << " follows seq "
+                << diff.prev_seq() << ", but the last seq printed is " << *last_printed_
+                << "; the diffs between are missing\n";
+    }
     held_back_.erase(held_back_.begin());
     take(diff);
     take_followers();
@@ -219,7 +253,8 @@ class Watcher {
 
   const WatchOptions& options_;
   const std::chrono::milliseconds timeout_;
-  EndpointClient subscriber_;
+  std::unique_ptr<EndpointClient> subscriber_;  // the publication sockets, or
+  std::unique_ptr<ClusterDiffReader> stored_;   // --cluster: the pool's diffs in the stream
   const bool several_;
   EndpointRoute query_route_;
   std::optional<std::uint64_t> held_seq_;      // --catch-up: the seq the printed lines add up to
@@ -235,8 +270,8 @@ CLI::App* add_watch_command(CLI::App& app, WatchOptions& options) {
   CLI::App* command =
       app.add_subcommand("watch", "Print a pool's published diffs as JSON lines");
   add_pool_option(*command, options.pool);
-  add_endpoints_option(*command, "--publish", options.publish,
-                       "The daemon's publication socket");
+  CLI::Option* publish = add_endpoints_option(*command, "--publish", options.publish,
+                                              "The daemon's publication socket");
   command->add_option("--count", options.count, "Exit after this many diffs [default: no limit]")
       ->check(kAtLeastOne);
   command->add_flag("--catch-up", options.catch_up,
@@ -246,11 +281,39 @@ CLI::App* add_watch_command(CLI::App& app, WatchOptions& options) {
   add_timeout_option(*command, options.timeout_ms,
                      "Exit 4 when nothing arrives for this long (0: wait for ever)", true);
   add_owner_wait_option(*command, options.owner_wait_ms);
+  CLI::Option* cluster =
+      command->add_option("--cluster", options.cluster.servers,
+                   "Read the diffs from a cluster's JetStream stream instead of --publish: its "
+                   "NATS servers, a comma-separated list or the option repeated")
+      ->delimiter(',')
+      ->type_name("URL")
+      ->check(kNotEmpty)
+      ->excludes(publish);
+  command
+      ->add_option("--stream", options.cluster.stream,
+                   "With --cluster: the installation's stream ([cluster] stream)")
+      ->capture_default_str()
+      ->needs(cluster);
+  command
+      ->add_option("--subject-prefix", options.cluster.subject_prefix,
+                   "With --cluster: the stream's subject prefix ([cluster] subject_prefix)")
+      ->capture_default_str()
+      ->needs(cluster);
+  command
+      ->add_option("--from-seq", options.from_seq,
+                   "With --cluster: print every diff still stored from this seq on [default: "
+                   "only new diffs]")
+      ->type_name("N")
+      ->needs(cluster);
   command->footer(kWatchHelp);
   return command;
 }
 
 int run_watch(const WatchOptions& options) {
+  if (options.from_seq && options.catch_up) {
+    throw CliError("--from-seq and --catch-up do not go together: --catch-up starts from the "
+                   "whole matching, --from-seq from a stored diff");
+  }
   stop_on_signals();
   return Watcher(options).run();
 }

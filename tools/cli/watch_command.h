@@ -19,17 +19,30 @@
 // come from whichever daemon serves it, and a new server may publish again diffs its
 // predecessor had published. A diff is known by (pool, seq): each is printed once, in seq
 // order; one that does not follow the last printed waits up to kReorderWait for the diffs
-// between (from another daemon) before the gap counts as one.
+// between (from another daemon) before the gap counts as one (without --catch-up: a note on
+// stderr, "note: pool P: diff S follows seq ..., but the last seq printed is ...").
+//
+// --cluster URL[,URL...] [--stream S] [--subject-prefix P] [--from-seq N] (issue 12): the
+// diffs come from the cluster's JetStream stream instead (cluster_diff_reader.h: the pool's
+// subject "<P>.diff.<pool>", stored by whichever daemon serves the pool), printed the same
+// way and checked the same way as from several publish endpoints: a seq already printed is
+// dropped, one that skips seqs waits kReorderWait and then counts as a gap (a note on stderr,
+// or a new catch-up with --catch-up). Without --from-seq only diffs stored from now on are
+// printed; with it, every diff still stored from seq N on (the stream keeps a pool's diffs
+// from its oldest snapshot kept), so a watcher that stopped resumes where it left off, across
+// failovers of the daemons.
 #pragma once
 
 #include <chrono>
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include <CLI/CLI.hpp>
 
 #include "client_options.h"
+#include "cluster_log.h"
 
 namespace yoke::cli {
 
@@ -41,6 +54,9 @@ struct WatchOptions {
   bool catch_up = false;
   std::uint64_t timeout_ms = 0;  // 0: no timeout
   std::uint64_t owner_wait_ms = kDefaultOwnerWaitMs;  // --catch-up's queries
+  // --cluster: read the diffs from the cluster's stream instead of the PUB sockets.
+  ClusterLogOptions cluster;
+  std::optional<std::uint64_t> from_seq;  // --cluster: start at this seq (else: new diffs)
 };
 
 // With several publish endpoints: how long a diff that does not follow the last one printed
