@@ -339,6 +339,7 @@ std::vector<std::pair<daemon::Ticket, v1::Ack>> ClusterNode::commit_failed(
     if (!role.served_here) continue;
     role.served_here = false;
     role.follower.reset();  // rebuilt from the log on a later tick
+    diff_feed_->forget(pool);  // the next server stores what this one had not
     std::vector<std::pair<daemon::Ticket, v1::Ack>> refused = service.serve_elsewhere(pool, "");
     replies.insert(replies.end(), std::make_move_iterator(refused.begin()),
                    std::make_move_iterator(refused.end()));
