@@ -299,6 +299,12 @@ class ClusterTest(unittest.TestCase):
             self.assertEqual(sender.send(k).accepted.seq, k)
         stopped = time.monotonic()
         self.assertEqual(self.east.terminate(), 0)
+        # Its last snapshot holds the whole pool (its log trimmed below it): a replay starts
+        # there and has nothing after it.
+        urls = ",".join(self.nats.client_urls())
+        alone = run_yoke("replay", f"--cluster={urls}", "--stream", STREAM, "--pool",
+                         "brissamar", "--verify").stdout
+        self.assertIn("note: starting from the snapshot at seq 20", alone)
         for k in range(21, 41):
             self.assertEqual(sender.send(k).accepted.seq, k)
             if k == 21:

@@ -93,12 +93,15 @@ void JournalCommits::read_groups(storage::CommitLogView& log, bool count_events)
   } catch (const std::exception& error) {
     throw CliError(log_name_ + ": " + error.what());
   }
-  if (groups_.empty()) {
-    throw CliError(log_name_ + ": the journal holds no record of pool " + pool_);
-  }
 }
 
 std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
+  if (groups_.empty()) {
+    // A log trimmed below the pool's newest snapshot, with nothing written since (a daemon
+    // stopped right after its snapshot): the snapshot is the whole story.
+    if (auto pool = restore_snapshot(UINT64_MAX, true)) return pool;
+    throw CliError(log_name_ + ": the journal holds no record of pool " + pool_);
+  }
   const v1::JournalRecord& first = groups_.front().records.front();
   if (from_seq > 0) {
     if (auto pool = restore_snapshot(from_seq, true)) return pool;
@@ -121,7 +124,7 @@ std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
 
 std::unique_ptr<Pool> JournalCommits::restore_snapshot(std::uint64_t most, bool newest) {
   if (snapshots_ == nullptr) return nullptr;
-  const std::uint64_t journal_first = groups_.front().records.front().seq();
+  const std::uint64_t journal_first = groups_.empty() ? 0 : groups_.front().records.front().seq();
   std::optional<v1::SnapshotRecord> best;
   for (const storage::Position position : snapshots_->positions()) {
     try {

@@ -43,7 +43,9 @@ class JournalCommits {
   // The pool before the first commit next() returns: with from_seq > 0, restored from the
   // newest snapshot of the pool at or before from_seq that the journal continues (else the
   // start below); else empty, made with the settings of the pool's first record, or when the
-  // journal no longer holds that record, restored from the oldest snapshot it continues.
+  // journal no longer holds that record, restored from the oldest snapshot it continues; when
+  // the journal holds none of the pool's records any more, from its newest snapshot (then
+  // next() returns nothing). Throws CliError when neither holds the pool.
   std::unique_ptr<Pool> start(std::uint64_t from_seq = 0);
   // The pool's seq in the snapshot start() restored, if it restored one.
   std::optional<std::uint64_t> snapshot_seq() const { return snapshot_seq_; }
