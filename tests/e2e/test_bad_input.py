@@ -229,6 +229,21 @@ class BadInputTest(unittest.TestCase):
             pool="tiny"))
         self.assertTrue(ack.HasField("accepted"), ack)
 
+    def test_snapshot_of_one_pool(self):
+        # query.proto, SnapshotRequest: all_pools false snapshots the named pool only, and the
+        # reply lists it alone (the local file still holds every pool: recovery needs them at
+        # one journal position).
+        reply = self.daemon.ask("snapshot", pool="tiny", all_pools=False)
+        self.assertTrue(reply.HasField("snapshot"), reply)
+        self.assertEqual([entry.pool for entry in reply.snapshot.pools], ["tiny"])
+        self.assertEqual(reply.snapshot.pools[0].seq, self.daemon.summary("tiny")["seq"])
+        every = self.daemon.ask("snapshot", all_pools=True)
+        self.assertEqual(sorted(entry.pool for entry in every.snapshot.pools), sorted(POOLS))
+        # A pool that does not exist has no snapshot to take.
+        missing = self.daemon.ask("snapshot", pool="nowhere", all_pools=False)
+        self.assertTrue(missing.HasField("error"), missing)
+        self.assertEqual(missing.error.code, ErrorCode.UNKNOWN_POOL)
+
     def test_bad_pool_name(self):
         for name in ("no spaces", "dock/7", "x" * 300):
             request = make_batch_request([("set", 1, 2, 1)], pool=name)
