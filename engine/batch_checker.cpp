@@ -26,13 +26,23 @@ class BatchChecker::Overlay {
  public:
   explicit Overlay(const PoolState& pool) : pool_(pool) {}
 
+  // Limits are checked against the state at the end of the batch (a batch may pass above a
+  // limit on its way, as [set 5 1, unset 1 2] at max_edges does); a batch that ends above one is
+  // refused naming the event from which its count stayed above the limit to the end.
   std::optional<EventError> accept(std::span<const Event> batch) {
     const Mark mark = this->mark();
+    LimitWatch vertices_over, edges_over;
     for (std::size_t i = 0; i < batch.size(); ++i) {
       if (auto refusal = check(batch[i])) {
         undo_to(mark);
         return EventError{i, refusal->code, std::move(refusal->message)};
       }
+      vertices_over.see(i, vertex_count() > static_cast<std::ptrdiff_t>(pool_.limits.max_vertices));
+      edges_over.see(i, edge_count() > static_cast<std::ptrdiff_t>(pool_.limits.max_edges));
+    }
+    if (auto refusal = limit_refusal(vertices_over, edges_over)) {
+      undo_to(mark);
+      return refusal;
     }
     accepted_events_ += batch.size();
     vertex_undo_.clear();  // accepted for good: nothing left to undo
@@ -44,6 +54,44 @@ class BatchChecker::Overlay {
   std::size_t accepted_events() const { return accepted_events_; }
 
  private:
+  // Where a running count went above a limit and stayed there: the event that last crossed it.
+  struct LimitWatch {
+    bool above = false;
+    std::size_t crossed_at = 0;
+    void see(std::size_t index, bool now_above) {
+      if (now_above && !above) crossed_at = index;
+      above = now_above;
+    }
+  };
+  std::optional<EventError> limit_refusal(const LimitWatch& vertices_over,
+                                          const LimitWatch& edges_over) const {
+    if (!vertices_over.above && !edges_over.above) return std::nullopt;
+    // Both above: name the earlier crossing, the first event the batch cannot keep.
+    const bool vertices_first =
+        vertices_over.above && (!edges_over.above || vertices_over.crossed_at <= edges_over.crossed_at);
+    if (vertices_first) {
+      return EventError{vertices_over.crossed_at, EventErrorCode::limit_exceeded,
+                        "the batch would leave the pool with " + std::to_string(vertex_count()) +
+                            " vertices, above its limit of " +
+                            std::to_string(pool_.limits.max_vertices)};
+    }
+    return EventError{edges_over.crossed_at, EventErrorCode::limit_exceeded,
+                      "the batch would leave the pool with " + std::to_string(edge_count()) +
+                          " edges or more, above its limit of " +
+                          std::to_string(pool_.limits.max_edges)};
+  }
+  // Alive vertices after the events checked so far: O(1).
+  std::ptrdiff_t vertex_count() const {
+    return static_cast<std::ptrdiff_t>(pool_.graph.vertex_count()) + alive_change_;
+  }
+  // Edges after the events checked so far, an upper bound: a departure's edges are not
+  // enumerated (that would cost its degree), so they keep their places until the window is
+  // committed. O(1).
+  std::ptrdiff_t edge_count() const {
+    return static_cast<std::ptrdiff_t>(pool_.graph.edge_count() + pool_.holds.aside_count()) +
+           edge_change_;
+  }
+
   struct VertexState {
     bool alive;
     std::uint32_t generation;  // removals so far: edge overrides of older ones are void
@@ -77,7 +125,7 @@ class BatchChecker::Overlay {
   }
   struct Mark {
     std::ptrdiff_t alive_change;
-    std::size_t edges_added;
+    std::ptrdiff_t edge_change;
   };
 
   std::optional<Refusal> check(const Event& event) {
@@ -94,10 +142,13 @@ class BatchChecker::Overlay {
         if (event.u == event.v) {
           return Refusal{EventErrorCode::self_loop, "self loop at vertex " + text(event.u)};
         }
+        // protocol.proto: UNKNOWN_EDGE is "UNSET_EDGE ... of an edge that does not exist", and
+        // an edge with an end that is not alive does not exist; the message says which end.
         for (const VertexKey end : {event.u, event.v}) {
           if (!exists(end)) {
-            return Refusal{EventErrorCode::unknown_vertex,
-                           "unset names unknown vertex " + text(end)};
+            return Refusal{EventErrorCode::unknown_edge,
+                           "there is no edge {" + text(event.u) + ", " + text(event.v) +
+                               "} to unset: vertex " + text(end) + " is not alive"};
           }
         }
         if (!edge_exists(event.u, event.v)) {
@@ -105,6 +156,7 @@ class BatchChecker::Overlay {
                                                            ", " + text(event.v) + "} to unset"};
         }
         write_edge(edge_key(event.u, event.v), false);
+        --edge_change_;
         if (partner_of(event.u) == event.v) release(event.u, event.v);  // the hold ends with its edge
         return std::nullopt;
       case EventKind::hold_pair:
@@ -192,14 +244,7 @@ class BatchChecker::Overlay {
         if (auto refusal = arrive(end)) return refusal;
       }
     }
-    if (!edge_exists(event.u, event.v)) {
-      if (pool_.graph.edge_count() + pool_.holds.aside_count() + ++edges_added_ >
-          pool_.limits.max_edges) {
-        return Refusal{EventErrorCode::limit_exceeded,
-                       "the pool would exceed its limit of " +
-                           std::to_string(pool_.limits.max_edges) + " edges"};
-      }
-    }
+    if (!edge_exists(event.u, event.v)) ++edge_change_;  // the limit is checked after the batch
     write_edge(edge_key(event.u, event.v), true);
     return std::nullopt;
   }
@@ -212,13 +257,9 @@ class BatchChecker::Overlay {
     const auto it = vertex_.find(key);
     return it == vertex_.end() ? 0 : it->second.generation;
   }
+  // The vertex limit is checked after the batch (accept).
   std::optional<Refusal> arrive(VertexKey key) {
-    if (static_cast<std::ptrdiff_t>(pool_.graph.vertex_count()) + ++alive_change_ >
-        static_cast<std::ptrdiff_t>(pool_.limits.max_vertices)) {
-      return Refusal{EventErrorCode::limit_exceeded,
-                     "the pool would exceed its limit of " +
-                         std::to_string(pool_.limits.max_vertices) + " vertices"};
-    }
+    ++alive_change_;
     write_vertex(key, {true, generation(key)});
     return std::nullopt;
   }
@@ -247,7 +288,7 @@ class BatchChecker::Overlay {
     it->second = present;
   }
 
-  Mark mark() const { return {alive_change_, edges_added_}; }
+  Mark mark() const { return {alive_change_, edge_change_}; }
   void undo_to(const Mark& mark) {
     for (auto it = vertex_undo_.rbegin(); it != vertex_undo_.rend(); ++it) {
       if (it->before) {
@@ -274,7 +315,7 @@ class BatchChecker::Overlay {
     edge_undo_.clear();
     partner_undo_.clear();
     alive_change_ = mark.alive_change;
-    edges_added_ = mark.edges_added;
+    edge_change_ = mark.edge_change;
   }
 
   const PoolState& pool_;
@@ -286,9 +327,9 @@ class BatchChecker::Overlay {
   std::unordered_map<VertexKey, std::optional<VertexKey>> partner_;
   std::vector<Undo<VertexKey, std::optional<VertexKey>>> partner_undo_;
   std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
-  // Edges inserted so far; removals do not count (a departure's edges are not enumerated), so
-  // the edge limit is checked conservatively.
-  std::size_t edges_added_ = 0;
+  // Edges inserted minus edges unset so far; a departure's edges are not enumerated, so the
+  // edge limit is checked conservatively (edge_count()).
+  std::ptrdiff_t edge_change_ = 0;
   std::size_t accepted_events_ = 0;
 };
 

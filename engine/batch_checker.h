@@ -26,7 +26,11 @@ class BatchChecker {
 
   // The first event of `batch` that cannot be applied after the batches accepted so far, or
   // nothing, in which case the batch counts as accepted for the batches checked after it. A
-  // refused batch leaves the checker as it was. O(batch).
+  // refused batch leaves the checker as it was. The vertex and edge limits hold at the end of
+  // the batch, not after each event: a batch ending above one is refused (limit_exceeded) at
+  // the event from which that count stayed above it (the earlier of the two if both are). The
+  // edge count is an upper bound: a departure's edges keep their places until the window is
+  // committed (counting them would cost the vertex's degree). O(batch).
   std::optional<EventError> accept(std::span<const Event> batch);
 
   // Events accepted so far, over all batches.

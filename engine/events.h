@@ -41,9 +41,9 @@ enum class EventErrorCode : std::uint8_t {
   vertex_exists,        // add_vertex of a vertex that is alive
   self_loop,            // set_edge with u == v
   weight_out_of_range,  // |w| above the pool's bound
-  unknown_vertex,       // unset_edge or remove_vertex naming a vertex that is not alive
-  unknown_edge,         // unset_edge of an edge that does not exist
-  limit_exceeded,       // the pool would hold more vertices or edges than its limits allow
+  unknown_vertex,       // remove_vertex, hold_pair or release_pair naming a vertex not alive
+  unknown_edge,         // unset_edge of an edge that does not exist (an end not alive too)
+  limit_exceeded,       // the batch would leave the pool above its vertex or edge limit
   already_held,         // hold_pair naming a vertex that is held
   not_held,             // release_pair of a pair that is not held
 };

@@ -348,10 +348,11 @@ std::vector<std::pair<daemon::Ticket, v1::Ack>> ClusterNode::commit_failed(
   return replies;
 }
 
-v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service) {
+v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service,
+                                        const std::optional<std::string>& only_pool) {
   v1::SnapshotTaken taken;
   for (auto& [pool, role] : roles_) {
-    if (!role.served_here) continue;
+    if (!role.served_here || (only_pool && pool != *only_pool)) continue;
     const std::optional<v1::SnapshotRecord> record = daemon::capture_pool_snapshot(service, pool);
     if (!record) continue;  // nothing applied yet
     const std::string where = role.snapshots->write(record->journal_position(), {*record});

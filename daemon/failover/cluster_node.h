@@ -79,7 +79,8 @@ class ClusterNode : public daemon::ClusterHooks {
   // A snapshot of each pool served here, in that pool's own store (named by the position
   // after its last window), then each pool's log trimmed below its oldest snapshot kept.
   // Call between windows. O(state) plus round trips per pool.
-  v1::SnapshotTaken snapshot(daemon::PoolService& service) override;
+  v1::SnapshotTaken snapshot(daemon::PoolService& service,
+                             const std::optional<std::string>& only_pool) override;
 
   // Beats once more with `leaving` set, and waits (up to a heartbeat interval) until it left.
   void leave(daemon::PoolService& service) override;

@@ -4,6 +4,7 @@
 #pragma once
 
 #include <chrono>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -35,8 +36,10 @@ class ClusterHooks {
   // log again before it is claimed anew; the daemon keeps running.
   virtual std::vector<std::pair<Ticket, v1::Ack>> commit_failed(PoolService& service,
                                                                 Clock::time_point now) = 0;
-  // Snapshots of the pools served here (each pool in its own store), and the log trimmed.
-  virtual v1::SnapshotTaken snapshot(PoolService& service) = 0;
+  // Snapshots of the pools served here (each pool in its own store), or of `only_pool` alone
+  // when given, and the log trimmed below them.
+  virtual v1::SnapshotTaken snapshot(PoolService& service,
+                                     const std::optional<std::string>& only_pool) = 0;
   // The daemon is stopping after its final snapshot: tell the others, so that standbys claim
   // its pools at once instead of after the takeover time.
   virtual void leave(PoolService& service) = 0;

@@ -58,7 +58,9 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
       signals_(io_, SIGINT, SIGTERM),
       queries_(
           service, config.limits.max_message_bytes,
-          [this](bool, const std::string&) { return take_snapshot(); },
+          [this](bool all_pools, const std::string& pool) {
+            return take_snapshot(all_pools ? std::nullopt : std::optional<std::string>(pool));
+          },
           [this] { return health(); }),
       metrics_(std::make_unique<DaemonMetrics>()),
       started_(Clock::now()) {
@@ -285,7 +287,7 @@ void YokedServer::on_query_message() {
   query_watcher_->poke();
 }
 
-v1::SnapshotTaken YokedServer::take_snapshot() {
+v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& only_pool) {
   close_window();  // the ledger may hold batches of the open window: seal them first
   if (journal_failed_) {
     // The retry ledger holds batches that never became durable: a snapshot of it would
@@ -293,15 +295,19 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
     throw std::runtime_error("no snapshot after a journal failure");
   }
   const Clock::time_point start = Clock::now();
-  events_since_snapshot_ = 0;
   if (cluster_ != nullptr) {
-    v1::SnapshotTaken taken = cluster_->snapshot(service_);
-    last_snapshot_position_ = service_.next_journal_position();
+    v1::SnapshotTaken taken = cluster_->snapshot(service_, only_pool);
+    if (!only_pool) {
+      // One pool's snapshot leaves the others to the timer: it must not look idle.
+      events_since_snapshot_ = 0;
+      last_snapshot_position_ = service_.next_journal_position();
+    }
     metrics_->snapshot_written(Clock::now() - start);
     log_event(LogLevel::info, "snapshot_written",
               {{"pools", taken.pools_size()}, {"ms", micros(Clock::now() - start) / 1000}});
     return taken;
   }
+  events_since_snapshot_ = 0;
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(service_);
   const std::string path = snapshots_->write(service_.next_journal_position(), records);
   last_snapshot_position_ = service_.next_journal_position();
@@ -309,6 +315,7 @@ v1::SnapshotTaken YokedServer::take_snapshot() {
   taken.set_path(path);
   for (const v1::SnapshotRecord& record : records) {
     service_.progress_of(record.pool()).last_snapshot_seq = record.seq();
+    if (only_pool && record.pool() != *only_pool) continue;  // written, but not asked about
     v1::SnapshotTaken::Entry& entry = *taken.add_pools();
     entry.set_pool(record.pool());
     entry.set_seq(record.seq());

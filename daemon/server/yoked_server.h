@@ -10,6 +10,7 @@
 #include <cstdint>
 #include <map>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -65,7 +66,11 @@ class YokedServer {
   void close_window();
   void send_acks(std::vector<std::pair<Ticket, v1::Ack>> acks);
   void publish(v1::Diff& diff, std::chrono::steady_clock::time_point closed);
-  v1::SnapshotTaken take_snapshot();
+  // A snapshot now (query.proto, SnapshotRequest): of every pool, or with `only_pool` one pool.
+  // The local store keeps every pool at one journal position (recovery needs that), so there
+  // the file holds every pool and `only_pool` narrows the reply; the cluster backend stores
+  // each pool on its own and writes `only_pool` alone. O(bytes written) plus a durable write.
+  v1::SnapshotTaken take_snapshot(const std::optional<std::string>& only_pool = std::nullopt);
   void arm_snapshot_timer();
   void arm_cluster_timer();
   YokedServer(const DaemonConfig& config, PoolService& service, storage::SnapshotStore* snapshots,

@@ -206,7 +206,7 @@ TEST_F(PoolServiceTest, DecoderRefusalsAreCountedAndChangeNothing) {
 
 TEST_F(PoolServiceTest, BatchRelyingOnAnEarlierBatchOfTheWindowIsAccepted) {
   // Alone, these would be refused: the edge and the vertex do not exist yet.
-  expect_refused({wire_unset(1, 2)}, {}, v1::Error::UNKNOWN_VERTEX, 0);
+  expect_refused({wire_unset(1, 2)}, {}, v1::Error::UNKNOWN_EDGE, 0);
   expect_refused({wire_remove(3)}, {}, v1::Error::UNKNOWN_VERTEX, 0);
   const Ticket first = offer({wire_set(1, 2, 6), wire_add(3)});
   const Ticket second = offer({wire_unset(1, 2), wire_set(2, 3, 8)});

@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include <optional>
+#include <string>
 #include <random>
 #include <vector>
 
@@ -58,6 +59,41 @@ TEST(BatchChecker, RefusedReleaseLeavesThePoolsHold) {
   ASSERT_TRUE(held);
   EXPECT_EQ(held->code, EventErrorCode::already_held);
   EXPECT_FALSE(checker.accept(std::vector{release(4, 3)}));
+}
+
+// Limits hold at the end of each batch (batch_checker.h): a pool at max_edges takes a batch that
+// passes above the limit on its way and ends at it.
+TEST(BatchChecker, EdgeLimitIsCheckedAtTheEndOfTheBatch) {
+  PoolLimits limits;
+  limits.max_edges = 2;
+  Pool pool(Mode::max_weight, limits);
+  pool.commit(std::vector{set(1, 2, 4), set(3, 4, 6)});
+  BatchChecker checker(pool);
+  EXPECT_FALSE(checker.accept(std::vector{set(5, 1, 3), unset(1, 2)}));
+  // Now at the limit again: a batch that ends above it names the event from which it stayed
+  // above (event 2; event 0 went above, event 1 came back).
+  const auto error = checker.accept(std::vector{set(6, 7, 1), unset(5, 1), set(8, 9, 2)});
+  ASSERT_TRUE(error);
+  EXPECT_EQ(error->code, EventErrorCode::limit_exceeded);
+  EXPECT_EQ(error->index, 2u);
+  EXPECT_NE(error->message.find("limit of 2"), std::string::npos) << error->message;
+  // Refused without a trace: the window still holds {5, 1} and {3, 4}.
+  EXPECT_FALSE(checker.accept(std::vector{unset(5, 1), set(6, 7, 1)}));
+}
+
+TEST(BatchChecker, VertexLimitIsCheckedAtTheEndOfTheBatch) {
+  PoolLimits limits;
+  limits.max_vertices = 3;
+  Pool pool(Mode::max_weight, limits);
+  pool.commit(std::vector{set(1, 2, 4), add(3)});
+  EXPECT_FALSE(pool.check(std::vector{add(4), remove(3)}));
+  EXPECT_FALSE(pool.check(std::vector{set(4, 5, 1), remove(1), remove(2)}));
+  const auto error = pool.check(std::vector{add(4), remove(4), add(5)});
+  ASSERT_TRUE(error);
+  EXPECT_EQ(error->code, EventErrorCode::limit_exceeded);
+  EXPECT_EQ(error->index, 2u);
+  // An arrival and a departure do not cancel across a refused batch.
+  EXPECT_FALSE(pool.check(std::vector{remove(3), add(9)}));
 }
 
 // Differential: the checker's verdict on each batch equals Pool::check on a pool that has

@@ -298,11 +298,11 @@ TEST(PoolCheck, RejectsBadBatchesAndChangesNothing) {
     constexpr Weight kLowest = std::numeric_limits<Weight>::min();
     constexpr Weight kHighest = std::numeric_limits<Weight>::max();
     const std::vector<BadBatch> cases = {
-        {"unset at an unknown vertex", {set(a, c, 5), unset(x, a)}, 1, EventErrorCode::unknown_vertex},
-        {"unset at two unknown vertices", {unset(x, y)}, 0, EventErrorCode::unknown_vertex},
+        {"unset at an unknown vertex", {set(a, c, 5), unset(x, a)}, 1, EventErrorCode::unknown_edge},
+        {"unset at two unknown vertices", {unset(x, y)}, 0, EventErrorCode::unknown_edge},
         {"unset of a missing edge", {unset(a, c)}, 0, EventErrorCode::unknown_edge},
         {"unset of an edge twice", {unset(a, b), unset(b, a)}, 1, EventErrorCode::unknown_edge},
-        {"unset after its vertex left", {remove(a), unset(a, b)}, 1, EventErrorCode::unknown_vertex},
+        {"unset after its vertex left", {remove(a), unset(a, b)}, 1, EventErrorCode::unknown_edge},
         {"remove of an unknown vertex", {add(y), remove(x)}, 1, EventErrorCode::unknown_vertex},
         {"remove twice", {remove(a), remove(a)}, 1, EventErrorCode::unknown_vertex},
         {"add of a vertex that exists", {add(a)}, 0, EventErrorCode::vertex_exists},

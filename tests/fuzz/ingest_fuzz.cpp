@@ -297,18 +297,24 @@ void Run::ingest(std::string_view message) {
   if (!pool.open) {
     pool.open = true;
     pool.window = pool.committed;
-    pool.count = {pool.committed.edges.size(), 0};
+    pool.count = {pool.committed.edges.size(), 0, 0};
     pool.seq_before = pool.seq;
     pool.next_seq = pool.seq + 1;
   }
   fuzz::ModelGraph graph = pool.window;
   fuzz::WindowCount count = pool.count;
+  fuzz::BatchLimits limits(pool.limits);
   for (std::size_t i = 0; i < batch.events.size(); ++i) {
     const auto codes = fuzz::apply_event(graph, count, pool.limits, batch.events[i]);
     if (!codes.empty()) {
       expect_refusal(codes, static_cast<std::uint32_t>(i));
       return;
     }
+    limits.after_event(i, graph, count);
+  }
+  if (const auto at = limits.refused_at()) {
+    expect_refusal({v1::Error::POOL_LIMIT_EXCEEDED}, static_cast<std::uint32_t>(*at));
+    return;
   }
   if (got) {
     violated("the model accepts a batch the service refused", __LINE__, got->DebugString());

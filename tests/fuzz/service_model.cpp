@@ -8,12 +8,6 @@ namespace {
 
 using Code = v1::Error::Code;
 
-// A vertex arrives (add_vertex, or an end of set_edge that was not alive).
-bool arrive(ModelGraph& graph, const PoolLimits& limits, VertexKey key) {
-  if (graph.alive.size() + 1 > limits.max_vertices) return false;
-  graph.alive.insert(key);
-  return true;
-}
 
 // Ends the hold of `key`, if any, on both of its ends.
 void release(ModelGraph& graph, VertexKey key) {
@@ -31,7 +25,7 @@ std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolL
   switch (event.kind) {
     case EventKind::add_vertex:
       if (alive(event.u)) return {v1::Error::VERTEX_EXISTS};
-      if (!arrive(graph, limits, event.u)) return {v1::Error::POOL_LIMIT_EXCEEDED};
+      graph.alive.insert(event.u);  // the limits are checked after the batch (BatchLimits)
       return {};
     case EventKind::set_edge: {
       std::vector<Code> codes;
@@ -40,14 +34,10 @@ std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolL
         codes.push_back(v1::Error::WEIGHT_OUT_OF_RANGE);
       }
       if (!codes.empty()) return codes;
-      for (const VertexKey end : {event.u, event.v}) {
-        if (!alive(end) && !arrive(graph, limits, end)) return {v1::Error::POOL_LIMIT_EXCEEDED};
-      }
+      graph.alive.insert(event.u);
+      graph.alive.insert(event.v);
       const EdgeKey key = edge_key(event.u, event.v);
-      if (graph.edges.count(key) == 0 &&
-          count.base_edges + ++count.insertions > limits.max_edges) {
-        return {v1::Error::POOL_LIMIT_EXCEEDED};
-      }
+      if (graph.edges.count(key) == 0) ++count.insertions;
       graph.edges[key] = event.w;
       return {};
     }
@@ -55,8 +45,10 @@ std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolL
       // protocol.proto: SELF_LOOP is "a SET_EDGE, UNSET_EDGE, HOLD_PAIR or RELEASE_PAIR
       // with u == v".
       if (event.u == event.v) return {v1::Error::SELF_LOOP};
-      if (!alive(event.u) || !alive(event.v)) return {v1::Error::UNKNOWN_VERTEX};
+      // protocol.proto: UNKNOWN_EDGE is "UNSET_EDGE ... of an edge that does not exist", also
+      // when an end is not alive.
       if (graph.edges.erase(edge_key(event.u, event.v)) == 0) return {v1::Error::UNKNOWN_EDGE};
+      ++count.unsets;
       // events.proto: unsetting a held pair's edge ends the hold.
       const auto hold = graph.held.find(event.u);
       if (hold != graph.held.end() && hold->second == event.v) release(graph, event.u);
@@ -92,6 +84,24 @@ std::vector<Code> apply_event(ModelGraph& graph, WindowCount& count, const PoolL
     }
   }
   return {v1::Error::MALFORMED_MESSAGE};
+}
+
+void BatchLimits::after_event(std::size_t index, const ModelGraph& graph,
+                              const WindowCount& count) {
+  const bool vertices_above = graph.alive.size() > limits_.max_vertices;
+  if (vertices_above && !vertices_above_) vertices_crossed_ = index;
+  vertices_above_ = vertices_above;
+  const std::size_t edges = count.base_edges + count.insertions - count.unsets;
+  const bool edges_above = edges > limits_.max_edges;
+  if (edges_above && !edges_above_) edges_crossed_ = index;
+  edges_above_ = edges_above;
+}
+
+std::optional<std::size_t> BatchLimits::refused_at() const {
+  if (vertices_above_ && edges_above_) return std::min(vertices_crossed_, edges_crossed_);
+  if (vertices_above_) return vertices_crossed_;
+  if (edges_above_) return edges_crossed_;
+  return std::nullopt;
 }
 
 Weight largest_weight(Mode mode, std::size_t max_vertices) {

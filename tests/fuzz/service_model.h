@@ -29,18 +29,37 @@ struct ModelGraph {
   std::map<VertexKey, VertexKey> held;
 };
 
-// What a pool's checks count within one batching window. The edge limit counts insertions, not
-// edges alive (DEVELOPERS.md, "Limits"): an edge removed in the window does not free its place
-// until the window is committed.
+// What a pool's checks count within one batching window. The edge limit counts insertions minus
+// unsets, not edges alive (DEVELOPERS.md, "Limits"): the edges of a vertex removed in the window
+// do not free their places until the window is committed.
 struct WindowCount {
   std::size_t base_edges = 0;  // edges alive when the window opened
-  std::size_t insertions = 0;  // edges inserted by the window's accepted events so far
+  std::size_t insertions = 0;  // edges inserted by the window's events so far
+  std::size_t unsets = 0;      // edges unset by the window's events so far
 };
 
 // Applies `event` to `graph` and returns nothing, or returns (leaving `graph` half changed: use a
-// copy) every code that may refuse it; the daemon must name one of them.
+// copy) every code that may refuse it; the daemon must name one of them. The limits are not
+// checked here: BatchLimits does, at the end of the batch.
 std::vector<v1::Error::Code> apply_event(ModelGraph& graph, WindowCount& count,
                                          const PoolLimits& limits, const Event& event);
+
+// The limits hold at the end of a batch (protocol.proto, POOL_LIMIT_EXCEEDED): a batch that ends
+// above a limit is refused, naming the event from which that count stayed above it (the earlier
+// of the two when both are above).
+class BatchLimits {
+ public:
+  explicit BatchLimits(const PoolLimits& limits) : limits_(limits) {}
+  // After event `index` was applied to `graph` and `count`.
+  void after_event(std::size_t index, const ModelGraph& graph, const WindowCount& count);
+  // The event to name when the batch ends here, or nothing when it ends within the limits.
+  std::optional<std::size_t> refused_at() const;
+
+ private:
+  PoolLimits limits_;
+  bool vertices_above_ = false, edges_above_ = false;
+  std::size_t vertices_crossed_ = 0, edges_crossed_ = 0;
+};
 
 // The bound on |w| that a limit of 0 stands for (DEVELOPERS.md, "Inside the pool", Limits).
 Weight largest_weight(Mode mode, std::size_t max_vertices);
