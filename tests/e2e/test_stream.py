@@ -153,7 +153,8 @@ class SendRejectedBatchTest(unittest.TestCase):
         result = daemon.yoke("send", path, expect=2)
         # `yoke send --help`: a batch the daemon rejects exits 2 naming FILE:LINE of its event.
         self.assertIn(f"{path}:{bad_line}", result.stderr)
-        self.assertIn("UNKNOWN_VERTEX", result.stderr)  # 999999999 is no vertex of the pool
+        # 999999999 is no vertex of the pool: no such edge (protocol.proto, UNKNOWN_EDGE)
+        self.assertIn("UNKNOWN_EDGE", result.stderr)
 
         summary = daemon.summary()
         # The six batches before it are applied, and nothing after it: the later batches name
