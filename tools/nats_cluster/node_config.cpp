@@ -14,8 +14,11 @@ std::string node_config_text(const std::string& cluster_name, const std::vector<
   text += "server_name: n" + std::to_string(index + 1) + "\n";
   text += "listen: " + address(own.client) + "\n";
   text += "http: " + address(own.http) + "\n";
+  // 2GB: a stream of the default cap (1 GiB) fits beside what the readiness probe may still
+  // reserve for a moment after its deletion (with 1GB, a stream made just after readiness was
+  // sometimes refused: "insufficient storage"), as in the Python twin.
   text += "jetstream {\n  store_dir: \"" + store_dir.string() +
-          "\"\n  max_memory_store: 256MB\n  max_file_store: 1GB\n}\n";
+          "\"\n  max_memory_store: 256MB\n  max_file_store: 2GB\n}\n";
   if (ports.size() > 1) {
     text += "cluster {\n  name: " + cluster_name + "\n  listen: " + address(own.cluster) +
             "\n  routes: [ " + routes + " ]\n}\n";
