@@ -18,31 +18,15 @@
 #include "fake_daemon.h"
 #include "run_yoke.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
+#include "tests/cluster/synthetic_publication.h"
 #include "yoke/v1/protocol.pb.h"
 #include "yoke/v1/publish.pb.h"
 
 namespace yoke::cli::testing {
 namespace {
 
+using cluster::testing::synthetic_publication;
 using std::chrono::milliseconds;
-
-// A publication of a diff from prev_seq to seq that adds the pair {seq, seq + 1}.
-std::string publication_of(const std::string& pool, std::uint64_t seq, std::uint64_t prev_seq) {
-  v1::Publication publication;
-  publication.set_version(v1::PROTOCOL_VERSION_1);
-  v1::Diff& diff = *publication.mutable_diff();
-  diff.set_pool(pool);
-  diff.set_seq(seq);
-  diff.set_prev_seq(prev_seq);
-  diff.set_weight(static_cast<std::int64_t>(seq) * 10);
-  diff.set_pairs(seq);
-  v1::Pair& pair = *diff.add_added();
-  pair.set_a(seq);
-  pair.set_b(seq + 1);
-  pair.set_weight(static_cast<std::int64_t>(seq));
-  diff.mutable_timings()->set_repair_us(seq * 3);
-  return publication.SerializeAsString();
-}
 
 std::vector<std::string> lines_of(const std::string& text) {
   std::vector<std::string> lines;
@@ -100,7 +84,7 @@ class WatchFromCluster : public ::testing::Test {
   static void publish_range(failover::DiffFeedPublisher& feed, const std::string& pool,
                             std::uint64_t first, std::uint64_t last) {
     for (std::uint64_t seq = first; seq <= last; ++seq) {
-      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1),
+      feed.publish(pool, seq, seq - 1, synthetic_publication(pool, seq, seq - 1),
                    std::chrono::steady_clock::now());
     }
   }
@@ -140,7 +124,7 @@ TEST_F(WatchFromCluster, PrintsWhatThePublicationSocketPrints) {
 
   std::vector<FakePublisher::Message> messages;
   for (std::uint64_t seq = 1; seq <= 6; ++seq) {
-    messages.emplace_back("quay", publication_of("quay", seq, seq - 1));
+    messages.emplace_back("quay", synthetic_publication("quay", seq, seq - 1));
   }
   const std::string endpoint = "ipc://" + dir.file("publish");
   FakePublisher socket(endpoint, messages);
@@ -208,7 +192,7 @@ TEST_F(WatchFromCluster, AGapIsNotedAndTheWatchGoesOn) {
   const auto publisher = feed();
   ASSERT_EQ(publisher->resume("tide"), 0u);
   publish_range(*publisher, "tide", 1, 2);
-  publisher->publish("tide", 5, 4, publication_of("tide", 5, 4),  // 3 and 4 never stored
+  publisher->publish("tide", 5, 4, synthetic_publication("tide", 5, 4),  // 3 and 4 never stored
                      std::chrono::steady_clock::now());
   ASSERT_TRUE(publisher->settle(milliseconds(10000)));
   TempDir dir;

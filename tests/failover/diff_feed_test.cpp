@@ -19,6 +19,7 @@
 #include "daemon/jetstream/diff_feed_message.h"
 #include "daemon/jetstream/pool_subjects.h"
 #include "tests/cluster/cluster_test_util.h"
+#include "tests/cluster/synthetic_publication.h"
 #include "yoke/v1/protocol.pb.h"
 #include "yoke/v1/publish.pb.h"
 
@@ -27,18 +28,8 @@ namespace {
 
 using cluster::testing::log_stream;
 using cluster::testing::read_to_end;
+using cluster::testing::synthetic_publication;
 using std::chrono::milliseconds;
-
-std::string publication_of(const std::string& pool, std::uint64_t seq, std::uint64_t prev_seq) {
-  v1::Publication publication;
-  publication.set_version(v1::PROTOCOL_VERSION_1);
-  v1::Diff& diff = *publication.mutable_diff();
-  diff.set_pool(pool);
-  diff.set_seq(seq);
-  diff.set_prev_seq(prev_seq);
-  diff.set_weight(static_cast<std::int64_t>(seq * 10));
-  return publication.SerializeAsString();
-}
 
 class DiffFeedOnCluster : public cluster::testing::OneClusterPerSuite<DiffFeedOnCluster> {
  protected:
@@ -98,7 +89,7 @@ class DiffFeedOnCluster : public cluster::testing::OneClusterPerSuite<DiffFeedOn
   static void publish_range(DiffFeedPublisher& feed, const std::string& pool, std::uint64_t first,
                             std::uint64_t last) {
     for (std::uint64_t seq = first; seq <= last; ++seq) {
-      feed.publish(pool, seq, seq - 1, publication_of(pool, seq, seq - 1),
+      feed.publish(pool, seq, seq - 1, synthetic_publication(pool, seq, seq - 1),
                    std::chrono::steady_clock::now());
     }
   }
@@ -119,7 +110,7 @@ TEST_F(DiffFeedOnCluster, StoresOneDiffPerSeqInOrderWithoutWaitingAndTheLastIsRe
   const auto start = std::chrono::steady_clock::now();
   publish_range(feed, "berth.7", 1, 400);
   const auto queued = std::chrono::steady_clock::now() - start;
-  feed.publish("dock", 1, 0, publication_of("dock", 1, 0),  // another pool, its own lane
+  feed.publish("dock", 1, 0, synthetic_publication("dock", 1, 0),  // another pool, its own lane
                std::chrono::steady_clock::now());
   ASSERT_TRUE(feed.settle(milliseconds(30000)));
   const auto stored = std::chrono::steady_clock::now() - start;
@@ -208,15 +199,15 @@ TEST_F(DiffFeedOnCluster, ALateDiffIsStoredOnlyWhileThePoolIsStillServedHere) {
   EXPECT_EQ(asked, 0);
   // Its window closed a second ago (the process stalled): not sent until checked.
   const auto long_ago = std::chrono::steady_clock::now() - milliseconds(1000);
-  feed.publish("lock", 3, 2, publication_of("lock", 3, 2), long_ago);
+  feed.publish("lock", 3, 2, synthetic_publication("lock", 3, 2), long_ago);
   EXPECT_EQ(feed.status("lock").queued, 1u);
   ASSERT_TRUE(feed.settle(milliseconds(10000)));  // settle() pumps: asks, then sends
   EXPECT_EQ(asked, 1);
   EXPECT_EQ(stored_seqs("lock"), range(1, 3));
   // Claimed elsewhere meanwhile: the late diffs are dropped, not stored.
   served = false;
-  feed.publish("lock", 4, 3, publication_of("lock", 4, 3), long_ago);
-  feed.publish("lock", 5, 4, publication_of("lock", 5, 4), long_ago);
+  feed.publish("lock", 4, 3, synthetic_publication("lock", 4, 3), long_ago);
+  feed.publish("lock", 5, 4, synthetic_publication("lock", 5, 4), long_ago);
   ASSERT_TRUE(feed.settle(milliseconds(10000)));
   EXPECT_EQ(asked, 2);
   EXPECT_EQ(stored_seqs("lock"), range(1, 3));

@@ -20,22 +20,10 @@
 #include "daemon/cluster/nats_library.h"
 #include "tools/bench/machine_facts.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
+#include "tools/nats_cluster/server_version.h"
 
 namespace yoke::bench {
 namespace {
-
-std::string server_version() {
-  std::string text = "unknown";
-  if (FILE* pipe = ::popen("nats-server --version 2>&1", "r")) {
-    char buffer[128] = {};
-    if (std::fgets(buffer, sizeof buffer, pipe) != nullptr) {
-      text = buffer;
-      text.erase(text.find_last_not_of("\r\n") + 1);
-    }
-    ::pclose(pipe);
-  }
-  return text;
-}
 
 std::filesystem::path make_work_dir() {
   char pattern[] = "/tmp/yoke-cluster-bench-XXXXXX";
@@ -48,7 +36,7 @@ int run(const ClusterBenchSettings& settings, const std::set<std::string>& secti
               "against the local journal\n");
   std::printf("machine: %s, %ld usable CPUs, load %s; source %s; %s\n", cpu_model().c_str(),
               usable_cpus(), load_average().c_str(), source_commit().c_str(),
-              server_version().c_str());
+              nats_cluster::server_version().c_str());
   zmq::context_t context(1);
   const std::filesystem::path work = make_work_dir();
   int status = 0;

@@ -16,6 +16,7 @@
 #include "daemon/cluster/stream_setup.h"
 #include "tools/bench/machine_facts.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
+#include "tools/nats_cluster/server_version.h"
 
 namespace {
 
@@ -26,26 +27,13 @@ double percentile(std::vector<double> sorted_ms, double fraction) {
   return sorted_ms[index];
 }
 
-std::string server_version() {
-  std::string text = "unknown";
-  if (FILE* pipe = ::popen("nats-server --version 2>&1", "r")) {
-    char buffer[128] = {};
-    if (std::fgets(buffer, sizeof buffer, pipe) != nullptr) {
-      text = buffer;
-      text.erase(text.find_last_not_of("\r\n") + 1);
-    }
-    ::pclose(pipe);
-  }
-  return text;
-}
-
 int run(int messages, int payload_bytes, int replicas, int nodes) {
   using namespace yoke;
   std::printf("yoke_nats_bench --messages %d --payload-bytes %d --replicas %d --nodes %d\n",
               messages, payload_bytes, replicas, nodes);
   std::printf("machine: %s, %ld usable CPUs, load %s; source %s; %s, libnats %s\n",
               bench::cpu_model().c_str(), bench::usable_cpus(), bench::load_average().c_str(),
-              bench::source_commit().c_str(), server_version().c_str(), nats_GetVersion());
+              bench::source_commit().c_str(), nats_cluster::server_version().c_str(), nats_GetVersion());
 
   nats_cluster::LocalClusterSettings cluster_settings;
   cluster_settings.nodes = nodes;
