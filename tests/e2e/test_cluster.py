@@ -28,6 +28,7 @@ import unittest
 
 from e2e_harness import (Daemon, IngestClient, ErrorCode, make_batch_request, replay_commits,
                          run_yoke, SLOWDOWN)
+from cluster_toml import cluster_section
 from nats_cluster import NatsCluster
 from yoke.v1 import publish_pb2
 
@@ -41,26 +42,11 @@ STREAM = "yoke-e2e"
 def cluster_config(nats, daemons, instance, owns):
     """The [cluster] section shared by every daemon, naming `instance` as this one. `owns`
     maps instance name -> (owned pools, stood-by pools)."""
-    servers = ", ".join(f'"{url}"' for url in nats.client_urls())
-    text = ("[cluster]\n"
-            'backend = "jetstream"\n'
-            f"servers = [{servers}]\n"
-            f'stream = "{STREAM}"\n'
-            # Well below the nodes' max_file_store (1GB): a 1 GiB stream (the default) did not
-            # always find room while the harness's probe stream was still being deleted.
-            "max_bytes = 268435456\n"
-            f'instance = "{instance}"\n'
-            f"heartbeat_ms = {HEARTBEAT_MS}\n"
-            f"takeover_ms = {TAKEOVER_MS}\n")
-    for name, daemon in daemons.items():
-        owned, stood_by = owns[name]
-        text += (f"[cluster.instances.{name}]\n"
-                 f'ingest = "{daemon.ingest}"\n'
-                 f'query = "{daemon.query}"\n'
-                 f'publish = "{daemon.publish}"\n'
-                 "owns = [" + ", ".join(f'"{p}"' for p in owned) + "]\n"
-                 "stands_by = [" + ", ".join(f'"{p}"' for p in stood_by) + "]\n")
-    return text
+    # max_bytes well below the nodes' file store: a 1 GiB stream (the default) did not always
+    # find room while the harness's probe stream was still being deleted.
+    return cluster_section(instance, nats.client_urls(), daemons, owns, stream=STREAM,
+                           max_bytes=268435456, heartbeat_ms=HEARTBEAT_MS,
+                           takeover_ms=TAKEOVER_MS)
 
 
 def batch_events(k):
@@ -410,16 +396,8 @@ class ClusterConfigTest(unittest.TestCase):
     """Bad cluster setups stop yoked at once with a clear message."""
 
     def config_for(self, daemon, servers, owners):
-        text = ("[cluster]\n"
-                'backend = "jetstream"\n'
-                "servers = [" + ", ".join(f'"{url}"' for url in servers) + "]\n"
-                'instance = "east"\n')
-        for name, owned in owners.items():
-            text += (f"[cluster.instances.{name}]\n"
-                     f'ingest = "{daemon.ingest}"\nquery = "{daemon.query}"\n'
-                     f'publish = "{daemon.publish}"\n'
-                     "owns = [" + ", ".join(f'"{p}"' for p in owned) + "]\n")
-        return text
+        return cluster_section("east", servers, {name: daemon for name in owners},
+                               {name: (owned, None) for name, owned in owners.items()})
 
     def exit_of(self, daemon):
         daemon.spawn()

@@ -153,19 +153,13 @@ class Daemon:
 
 def cluster_toml(nats, daemons, me, roles, args):
     """The [cluster] section of daemon `me`; roles: name -> (owned pools, stood-by pools)."""
-    servers = ", ".join(f'"{url}"' for url in nats.client_urls())
-    text = (f'[cluster]\nbackend = "jetstream"\nservers = [{servers}]\nstream = "{STREAM}"\n'
-            f'subject_prefix = "quillory"\nreplicas = 3\ninstance = "{me}"\n'
-            f"heartbeat_ms = {args.heartbeat_ms}\ntakeover_ms = {args.takeover_ms}\n"
-            # A write waits out the election of a new stream leader after the old one's SIGKILL
-            # (about 5 s on a busy two-core machine).
-            f"publish_timeout_ms = {args.publish_timeout_ms}\n")
-    for name, d in daemons.items():
-        owns, stands_by = roles[name]
-        text += (f"\n[cluster.instances.{name}]\ningest = \"{d.ingest}\"\n"
-                 f"query = \"{d.query}\"\npublish = \"{d.publish}\"\n"
-                 f"owns = {json.dumps(owns)}\nstands_by = {json.dumps(stands_by)}\n")
-    return text
+    from cluster_toml import cluster_section
+    # publish_timeout_ms: a write waits out the election of a new stream leader after the old
+    # one's SIGKILL (about 5 s on a busy two-core machine).
+    return cluster_section(me, nats.client_urls(), daemons, roles, stream=STREAM,
+                           subject_prefix="quillory", replicas=3,
+                           heartbeat_ms=args.heartbeat_ms, takeover_ms=args.takeover_ms,
+                           publish_timeout_ms=args.publish_timeout_ms)
 
 
 def ask_one(endpoint, kind, pool, timeout_s=0.5):
