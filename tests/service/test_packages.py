@@ -4,7 +4,8 @@ the maintainer scripts. The library dependencies are checked against the binarie
 every shared library yoked or yoke needs (readelf's NEEDED) must come from a package named in
 Depends. The yoked package is then unpacked into a temporary root, its binary run with its own
 config file until it serves, and its unit checked by `systemd-analyze verify` and the offline
-`systemd-analyze security` review (both skipped when systemd-analyze is missing).
+`systemd-analyze security` review (both skipped when systemd-analyze is missing), and its
+sysusers file applied to the unpacked root by systemd-sysusers, as the postinst does.
 
 Needs the built yoked and yoke (cpack installs them as they are); ~10 s."""
 
@@ -215,6 +216,20 @@ class PackagesTest(unittest.TestCase):
             proc.stdout.close()
         yoke = self.unpacked("yoke")
         self.assertIn("yoke", run(os.path.join(yoke, "usr/bin/yoke"), "--help"))
+
+    def test_sysusers_file_makes_the_service_user(self):
+        """What the postinst runs, into the unpacked root instead of the host."""
+        if shutil.which("systemd-sysusers") is None:
+            self.skipTest("systemd-sysusers is not installed")
+        root = self.unpacked("yoked")
+        run("systemd-sysusers", f"--root={root}", "yoked.conf")
+        with open(os.path.join(root, "etc/passwd")) as passwd:
+            users = [line.strip().split(":") for line in passwd if line.strip()]
+        self.assertEqual([(user[0], user[5], user[6]) for user in users],
+                         [("_yoked", "/var/lib/yoke", "/usr/sbin/nologin")])
+        self.assertLess(int(users[0][2]), 1000)  # a system account
+        with open(os.path.join(root, "etc/group")) as group:
+            self.assertEqual([line.split(":")[0] for line in group if line.strip()], ["_yoked"])
 
     def unit_root(self):
         """The unpacked yoked package plus the host's targets the unit's dependencies name."""
