@@ -18,8 +18,10 @@ import socket
 import subprocess
 import tempfile
 import unittest
+import urllib.request
 
-from e2e_harness import SLOWDOWN, ask, check_binaries, free_tcp_port
+from e2e_harness import (SLOWDOWN, IngestClient, ask, check_binaries, free_tcp_port,
+                         make_batch_request)
 
 BUILD_DIR = os.environ.get("YOKE_BUILD_DIR", "")
 CPACK = os.environ.get("YOKE_CPACK", "cpack")
@@ -104,6 +106,40 @@ def satisfied_by(package, depends):
         return True
     provides = run("dpkg-query", "--show", "--showformat=${Provides}", package)
     return bool(depends_packages(provides) & depends) if provides.strip() else False
+
+
+def syscall_groups():
+    """systemd's system-call groups, {"@name": [syscall or "@group", ...]}."""
+    listing = run("systemd-analyze", "syscall-filter", "--no-pager")
+    groups, current = {}, None
+    for line in listing.splitlines():
+        if line.startswith("@"):
+            current = line.split()[0]
+            groups[current] = []
+        elif current and line.startswith("    ") and not line.strip().startswith("#"):
+            groups[current].append(line.split()[0])
+    return groups
+
+
+def expand_syscalls(names, groups):
+    found = set()
+    for name in names:
+        found |= expand_syscalls(groups.get(name, []), groups) if name.startswith("@") else {name}
+    return found
+
+
+def unit_syscall_filter(unit_text, groups):
+    """The system calls a unit's SystemCallFilter= lines let through: the first allow list, less
+    every `~` deny list (the unit uses no other form)."""
+    allowed, denied = None, set()
+    for line in unit_text.splitlines():
+        if line.startswith("SystemCallFilter="):
+            value = line.split("=", 1)[1]
+            if value.startswith("~"):
+                denied |= expand_syscalls(value[1:].split(), groups)
+            else:
+                allowed = (allowed or set()) | expand_syscalls(value.split(), groups)
+    return allowed - denied
 
 
 class PackagesTest(unittest.TestCase):
@@ -230,6 +266,71 @@ class PackagesTest(unittest.TestCase):
         self.assertLess(int(users[0][2]), 1000)  # a system account
         with open(os.path.join(root, "etc/group")) as group:
             self.assertEqual([line.split(":")[0] for line in group if line.strip()], ["_yoked"])
+
+    def test_a_traced_run_stays_inside_the_units_syscall_filter(self):
+        """The unpacked yoked under strace -f through start, batches (one refused), queries, a
+        snapshot, a metrics scrape and SIGTERM: every system call it made must pass the unit's
+        SystemCallFilter (a refused one would fail with EPERM, and ZeroMQ aborts on some), and
+        none may need what MemoryDenyWriteExecute forbids. The local backend only: a cluster
+        daemon's libnats calls are not traced here."""
+        for tool in ("strace", "systemd-analyze"):
+            if shutil.which(tool) is None:
+                self.skipTest(f"{tool} is not installed")
+        root = self.unpacked("yoked")
+        work = tempfile.mkdtemp(prefix="trace-", dir=self.work)
+        trace = os.path.join(work, "trace")
+        endpoint = {name: "ipc://" + os.path.join(work, name) for name in ("ingest", "publish", "query")}
+        port = free_tcp_port()
+        manager = socket.socket(socket.AF_UNIX, socket.SOCK_DGRAM)
+        self.addCleanup(manager.close)
+        manager.bind(os.path.join(work, "notify.sock"))
+        manager.settimeout(60 * SLOWDOWN)
+        tracer = subprocess.Popen(
+            ["strace", "-f", "-qq", "-o", trace, os.path.join(root, "usr/bin/yoked"),
+             "--config", os.path.join(root, "etc/yoke/yoked.toml"), "--data-dir",
+             os.path.join(work, "data"), "--ingest", endpoint["ingest"], "--publish",
+             endpoint["publish"], "--query", endpoint["query"], "--metrics", f"127.0.0.1:{port}"],
+            env={**os.environ, "NOTIFY_SOCKET": os.path.join(work, "notify.sock")},
+            stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        try:
+            while b"READY=1" not in manager.recv(4096):
+                pass
+            client = IngestClient(endpoint["ingest"])
+            for batch in range(1, 21):
+                client.send(make_batch_request([("set", batch, batch + 100, 3)], pool="trace",
+                                               client_id="trace", client_batch=batch))
+            self.assertTrue(client.send(make_batch_request([("unset", 1, 2)], pool="trace"))
+                            .HasField("rejected"))
+            client.close()
+            self.assertIsNotNone(ask(endpoint["query"], "summary", pool="trace"))
+            self.assertIsNotNone(ask(endpoint["query"], "snapshot", timeout_ms=10000 * SLOWDOWN))
+            with urllib.request.urlopen(f"http://127.0.0.1:{port}/metrics",
+                                        timeout=10 * SLOWDOWN) as page:
+                self.assertEqual(page.status, 200)
+            # strace does not pass SIGTERM on: the daemon is the first process in the trace.
+            with open(trace) as lines:
+                daemon_pid = int(lines.readline().split()[0])
+            os.kill(daemon_pid, signal.SIGTERM)
+            self.assertEqual(tracer.wait(60 * SLOWDOWN), 0)
+        finally:
+            if tracer.poll() is None:
+                tracer.kill()
+                tracer.wait()
+        with open(trace) as lines:
+            calls = lines.read().splitlines()
+        used = {match[1] for match in map(re.compile(r"^\d+ +([a-z_0-9]+)\(").match, calls)
+                if match}
+        # MemoryDenyWriteExecute=yes refuses memory both writable and executable, and making
+        # memory executable after the fact.
+        self.assertEqual([call for call in calls
+                          if re.search(r" mprotect\(.*PROT_EXEC", call)
+                          or re.search(r" mmap\(.*(PROT_WRITE\|PROT_EXEC|PROT_EXEC\|PROT_WRITE)",
+                                       call)], [])
+        used.discard("execve")  # strace's own exec of the daemon, before any filter would apply
+        self.assertIn("fdatasync", used)  # the trace saw the journal's syncs
+        with open(os.path.join(root, UNIT)) as unit:
+            allowed = unit_syscall_filter(unit.read(), syscall_groups())
+        self.assertEqual(used - allowed, set())
 
     def unit_root(self):
         """The unpacked yoked package plus the host's targets the unit's dependencies name."""
