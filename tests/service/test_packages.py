@@ -329,8 +329,13 @@ class PackagesTest(unittest.TestCase):
         used.discard("execve")  # strace's own exec of the daemon, before any filter would apply
         self.assertIn("fdatasync", used)  # the trace saw the journal's syncs
         with open(os.path.join(root, UNIT)) as unit:
-            allowed = unit_syscall_filter(unit.read(), syscall_groups())
-        self.assertEqual(used - allowed, set())
+            unit_text = unit.read()
+        self.assertEqual(used - unit_syscall_filter(unit_text, syscall_groups()), set())
+        # Every socket it opened is of a family RestrictAddressFamilies= lets through.
+        families = set(re.findall(r" socket\((AF_[A-Z0-9]+)", "\n".join(calls)))
+        permitted = set(re.search(r"^RestrictAddressFamilies=(.*)$", unit_text, re.M)[1].split())
+        self.assertIn("AF_UNIX", families)
+        self.assertLessEqual(families, permitted)
 
     def unit_root(self):
         """The unpacked yoked package plus the host's targets the unit's dependencies name."""
