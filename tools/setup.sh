@@ -13,6 +13,9 @@ packages=(
   libzmq3-dev cppzmq-dev libprotobuf-dev protobuf-compiler
   libboost-dev libspdlog-dev libtomlplusplus-dev
   python3-protobuf python3-zmq      # the Python client and the daemon's tests
+  python3-venv python3-pip python3-setuptools  # service.pip_client: the client pip-installed into a venv
+  dpkg-dev                          # cpack's dpkg-shlibdeps: the Debian packages' dependencies
+  strace                            # service.packages: a traced yoked against the unit's system-call filter
   clang                             # the libFuzzer target of the message decoder
   libjs-chart.js chromium fonts-liberation  # replay --report: charts; its browser test (fonts: only recommended)
   nats-server libnats-dev           # the JetStream backend (daemon/cluster), its test clusters, the cluster demo

@@ -25,6 +25,7 @@
 #include "daemon/service/recovery.h"
 #include "daemon/snapshots/snapshot_directory.h"
 #include "daemon/storage/storage_error.h"
+#include "service_notifier.h"
 #include "yoked_server.h"
 
 namespace {
@@ -68,6 +69,7 @@ int serve(const yoke::daemon::DaemonConfig& config) {
       yoke::journal::JournalCommitLog::open(config.data_dir / "journal", config.journal);
   SnapshotDirectory snapshots(config.data_dir / "snapshots", config.snapshots.keep);
   yoke::storage::CommitLog& log = *journal;
+  ServiceNotifier::from_environment().status("recovering from " + config.data_dir.string());
   RecoveryReport report;
   ServiceState state = recover(config, log, snapshots, report);
   log_recovery(report, journal->recovery());

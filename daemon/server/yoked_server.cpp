@@ -14,6 +14,7 @@
 #include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
 #include "daemon_metrics.h"
+#include "service_notifier.h"
 #include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/publish.pb.h"
 
@@ -94,9 +95,12 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
 YokedServer::~YokedServer() = default;
 
 int YokedServer::run() {
-  signals_.async_wait([this](const boost::system::error_code& error, int signal) {
+  // systemd (Type=notify) learns here when the daemon serves and when it begins to stop.
+  const ServiceNotifier manager = ServiceNotifier::from_environment();
+  signals_.async_wait([this, manager](const boost::system::error_code& error, int signal) {
     if (error) return;
     log_event(LogLevel::info, "stopping", {{"signal", signal}});
+    manager.stopping("stopping: closing the last window, writing a final snapshot");
     shut_down(kYokedOk);
   });
   ingest_watcher_->start();
@@ -112,6 +116,8 @@ int YokedServer::run() {
              {"publish", config_.endpoints.publish},
              {"query", config_.endpoints.query},
              {"metrics", config_.endpoints.metrics}});
+  // Every socket was bound by the constructor and recovery came before it.
+  manager.ready("serving on " + config_.endpoints.ingest);
   io_.run();
   return exit_status_;
 }
