@@ -211,7 +211,7 @@ TEST(SolveCommand, AgreesWithExhaustiveEnumerationOnSmallRandomGraphs) {
       }
       ASSERT_EQ(run.exit_code, 0) << run.err;
       EXPECT_EQ(output.at("weight"), optimum->weight);
-      // Under ties only the weight is unique in max-weight mode (DESIGN.md section 6).
+      // Under ties only the weight is unique in max-weight mode (docs/contracts.md §2).
       if (mode != Mode::max_weight) {
         EXPECT_EQ(output.at("pairs"), optimum->pairs);
       }

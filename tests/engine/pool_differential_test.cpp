@@ -86,7 +86,7 @@ struct StreamReplay {
   }
 };
 
-// Common knowledge (what "valid" means, DESIGN.md section 6): each event fits the state the
+// Common knowledge (what "valid" means, docs/contracts.md §2): each event fits the state the
 // events before it leave.
 TEST(EventStream, EveryEventFitsTheStateBeforeIt) {
   for (const StreamFamily family : oracle::kStreamFamilies) {

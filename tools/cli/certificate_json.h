@@ -1,5 +1,5 @@
 // The JSON form of a yoke::Certificate, with external vertex ids. The format is documented in
-// DEVELOPERS.md, "Certificate format":
+// docs/formats.md, "Certificate":
 //
 //   {"format":"yoke-certificate/2","mode":"max-weight","weight_offset":0,
 //    "vertices":[{"id":U,"dual_x2":D,"mate":V|null},...],

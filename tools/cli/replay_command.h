@@ -1,5 +1,5 @@
 // `yoke replay SCRIPT [--mode M] [--verify] [--stats] [--diffs]`: feeds an event script to a
-// pool batch by batch and prints one line per commit (DESIGN.md section 6):
+// pool batch by batch and prints one line per commit (docs/contracts.md §3):
 //
 //     commit I weight W pairs K repair_us T
 //

@@ -144,7 +144,8 @@ std::string event_text(const Event& event);
 // `where` names the source in the header ("pool default", a script's name).
 std::string history_text(const VertexHistory& history, const std::string& where);
 
-// The JSON form (one object, documented in `yoke replay --help`).
+// The JSON form: one object, documented in docs/formats.md ("Postmortem JSON") and, in short,
+// in `yoke replay --help`.
 Json history_json(const VertexHistory& history, const std::optional<std::string>& pool);
 
 }  // namespace yoke::cli

@@ -1,4 +1,4 @@
-// Seeded generators for the graph families yoke is tested and measured on (DESIGN.md section 7).
+// Seeded generators for the graph families yoke is tested and measured on (docs/contracts.md §6).
 // Every generator is deterministic in its arguments and returns edges with no self loops and no
 // duplicates. Scenarios are set in Vardolune, an invented harbour city
 // (vardolune.h).
