@@ -12,7 +12,7 @@
 
 #include "exhaustive_matching.h"
 #include "run_yoke.h"
-#include "tools/cli/edge_list.h"
+#include "tools/formats/edge_list_reader.h"
 
 namespace yoke::cli::testing {
 namespace {
@@ -30,7 +30,7 @@ const char* const kHarbourTriangle =
 
 // The exhaustive optimum of an edge-list text, read through the loader under test.
 std::optional<Optimum> exhaustive(const std::string& text, Mode mode) {
-  const EdgeList list = parse_edge_list(text);
+  const formats::EdgeList list = formats::parse_edge_list(text);
   return exhaustive_optimum(list.external_ids.size(), list.edges, mode);
 }
 

@@ -26,7 +26,7 @@
 
 #include "cluster_log.h"
 #include "engine/pool.h"
-#include "event_script.h"
+#include "input_files.h"
 
 namespace yoke::cli {
 
@@ -69,6 +69,6 @@ int run_replay(const ReplayOptions& options);
 
 // The pool `yoke replay` replays a script into: sized to the whole script (distinct ids,
 // largest |W|), or the mode's largest bounds when the script's weights exceed them.
-Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path);
+Pool make_script_pool(Mode mode, const formats::EventScript& script, const std::string& path);
 
 }  // namespace yoke::cli

@@ -126,9 +126,6 @@ class HistoryBuilder {
   std::vector<bool> alive_;                           // per history, as the events go
 };
 
-// An event in event-script words: "add 7", "set 12 40 -3", "unset 12 40", "remove 12".
-std::string event_text(const Event& event);
-
 // The history as text: a header line, one line per change, then the partners and the end:
 //
 //   history of 1 (pool default), seq 1 to seq 9:

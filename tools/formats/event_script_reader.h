@@ -1,21 +1,11 @@
-// The event script, input of `yoke replay` (DESIGN.md section 6): a plain-text event stream,
-// one event per line, cut into batches by `commit` lines.
+// The reader of the event script, the input of `yoke replay` and `yoke send`: text to batches
+// of engine events. The syntax is in event_script_syntax.h, its prose in docs/formats.md
+// ("Event script"); the writer is event_script_writer.h.
 //
-//     add U          vertex U arrives with no edges
-//     set U V W      insert edge {U,V} or change its weight (U and V arrive if new)
-//     unset U V      remove edge {U,V}; U and V stay
-//     remove U       remove vertex U and all its edges
-//     hold U V       match U with V from now on, whatever the weights (edge {U,V} must exist)
-//     release U V    the held pair {U,V} is optimised again
-//     commit         end of a batch
-//
-// U and V are unsigned 64-bit ids, W a signed 64-bit weight; tokens are separated by spaces or
-// tabs. Blank lines are ignored, and '#' at the start of a token begins a comment that runs to
-// the end of the line. Events after the last `commit` form one more batch, committed at the end
-// of the file; an empty batch (`commit` right after `commit`) is a commit with no events.
-//
-// The parser checks the form of each line only; whether an event fits the pool's state (an
-// unknown vertex, a missing edge, a weight beyond the pool's limits) is Pool::check's job.
+// Events after the last `commit` form one more batch, committed at the end of the input; a
+// `commit` right after `commit` is a batch with no events. The parser checks the form of each
+// line only; whether an event fits the pool's state (an unknown vertex, a missing edge, a weight
+// beyond the pool's limits) is Pool::check's job.
 #pragma once
 
 #include <cstdint>
@@ -26,7 +16,7 @@
 
 #include "engine/events.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 struct ScriptBatch {
   std::vector<Event> events;
@@ -60,7 +50,4 @@ class EventScriptError : public std::runtime_error {
 // `unset`, `hold` or `release` of a self loop. Cost O(size of text + number of events).
 EventScript parse_event_script(std::string_view text);
 
-// Reads `path` ("-" for stdin) whole and parses it. Throws CliError "FILE:LINE: problem".
-EventScript load_event_script(const std::string& path);
-
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -7,7 +7,7 @@
 #include <string>
 #include <string_view>
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 // The bytes between tokens: space, tab, '\r' (CRLF files), '\v', '\f'; never the newline,
 // which ends a line.
@@ -27,4 +27,4 @@ std::optional<std::string> parse_integer(std::string_view token, std::uint64_t& 
 std::optional<std::string> parse_integer(std::string_view token, std::int64_t& value,
                                          const char* what);
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -3,7 +3,7 @@
 #include <charconv>
 #include <limits>
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 template <typename T>
@@ -51,4 +51,4 @@ std::optional<std::string> parse_integer(std::string_view token, std::int64_t& v
   return parse_whole(token, value, what);
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats
