@@ -1,5 +1,6 @@
 // What a pool holds between commits, shared by the files that implement Pool (pool.cpp,
-// pool_check.cpp, pool_repair.cpp, pool_diff.cpp). Not part of the public interface.
+// batch_checker.cpp, pool_repair.cpp, pool_diff.cpp, pool_explain.cpp, pool_limits.cpp,
+// pool_snapshot.cpp). Not part of the public interface.
 #pragma once
 
 #include <cstdint>

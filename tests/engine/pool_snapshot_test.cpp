@@ -94,7 +94,7 @@ TEST(PoolSnapshot, TruncatedOrDamagedBytesAreRefusedOrStillSafe) {
 }
 
 // Bytes the certificate check after a restore cannot judge (found by tests/fuzz/snapshot_fuzz;
-// tests/fuzz/regressions/snapshot/README.md).
+// tests/fuzz/regressions/README.md, "snapshot/").
 TEST(PoolSnapshot, RestoreRefusesWhatTheCertificateCannotSee) {
   Pool pool(Mode::max_weight, PoolLimits{12, 30, 1000});
   pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 6}, {EventKind::set_edge, 2, 3, 5}});
