@@ -118,11 +118,6 @@ std::pair<std::size_t, std::size_t> lines_of_edges(std::string_view text, std::s
 
 }  // namespace
 
-EdgeListError::EdgeListError(std::size_t line, const std::string& problem)
-    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
-      line_(line),
-      problem_(problem) {}
-
 EdgeList parse_edge_list(std::string_view text) {
   const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
   // Ids up to twice the line count (ids 0..n-1 in practice) take the direct-indexed path.

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "engine/graph.h"
+#include "tokens.h"
 
 namespace yoke::formats {
 
@@ -19,15 +20,9 @@ struct EdgeList {
 };
 
 // A malformed edge list: the first offending line (1-based) and what is wrong with it.
-class EdgeListError : public std::runtime_error {
+class EdgeListError : public LineError {
  public:
-  EdgeListError(std::size_t line, const std::string& problem);
-  std::size_t line() const { return line_; }
-  const std::string& problem() const { return problem_; }
-
- private:
-  std::size_t line_;
-  std::string problem_;
+  using LineError::LineError;
 };
 
 // Parses an edge list. Vertices are numbered densely in order of first appearance (U before V

@@ -130,11 +130,6 @@ class ScriptBuilder {
 
 }  // namespace
 
-EventScriptError::EventScriptError(std::size_t line, const std::string& problem)
-    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
-      line_(line),
-      problem_(problem) {}
-
 EventScript parse_event_script(std::string_view text) {
   const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
   ScriptBuilder builder(line_count);

@@ -15,6 +15,7 @@
 #include <vector>
 
 #include "engine/events.h"
+#include "tokens.h"
 
 namespace yoke::formats {
 
@@ -34,15 +35,9 @@ struct EventScript {
 };
 
 // A malformed script: the first offending line (1-based) and what is wrong with it.
-class EventScriptError : public std::runtime_error {
+class EventScriptError : public LineError {
  public:
-  EventScriptError(std::size_t line, const std::string& problem);
-  std::size_t line() const { return line_; }
-  const std::string& problem() const { return problem_; }
-
- private:
-  std::size_t line_;
-  std::string problem_;
+  using LineError::LineError;
 };
 
 // Parses a whole script. Throws EventScriptError for the first bad line: an unknown verb, a

@@ -23,6 +23,11 @@ std::optional<std::string> parse_whole(std::string_view token, T& value, const c
 
 }  // namespace
 
+LineError::LineError(std::size_t line, const std::string& problem)
+    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
+      line_(line),
+      problem_(problem) {}
+
 std::string shown(std::string_view token) {
   constexpr std::size_t kMaxShown = 40;
   constexpr char kHex[] = "0123456789abcdef";
