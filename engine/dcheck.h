@@ -16,16 +16,16 @@
 
 namespace yoke::detail {
 
-[[noreturn]] inline void dcheck_failed(const char* condition, const char* message,
-                                       const char* file, int line) {
+[[noreturn]] inline void dcheck_failed(const char* condition, const char* message, const char* file,
+                                       int line) {
   std::fprintf(stderr, "%s:%d: YOKE_DCHECK(%s) failed: %s\n", file, line, condition, message);
   std::abort();
 }
 
 }  // namespace yoke::detail
 
-#define YOKE_DCHECK(condition, message)                                          \
-  ((condition) ? static_cast<void>(0)                                            \
+#define YOKE_DCHECK(condition, message) \
+  ((condition) ? static_cast<void>(0)   \
                : ::yoke::detail::dcheck_failed(#condition, message, __FILE__, __LINE__))
 
 #else

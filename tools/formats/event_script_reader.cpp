@@ -57,8 +57,8 @@ class ScriptBuilder {
     if (tokens.count == 0) return;  // blank or comment only
     const VerbForm* form = script_syntax::find_verb(tokens.values[0]);
     if (form == nullptr) {
-      throw EventScriptError(line, "unknown verb " + shown(tokens.values[0]) + " (expected " +
-                                       verb_list() + ")");
+      throw EventScriptError(
+          line, "unknown verb " + shown(tokens.values[0]) + " (expected " + verb_list() + ")");
     }
     if (tokens.count - 1 != form->field_count) {
       std::string usage = std::string(form->verb);
