@@ -5,7 +5,7 @@
 // The checker proves optimality without trusting the solver: primal feasibility, dual
 // feasibility (every edge has slack >= 0), complementary slackness (matched edges tight,
 // exposed vertices at u = 0 unless the mode is perfect, blossoms with z > 0 full) and
-// w(M) = dual objective. The JSON form is documented in DEVELOPERS.md ("Certificate format").
+// w(M) = dual objective. The JSON form is in docs/formats.md ("Certificate").
 #pragma once
 
 #include <cstdint>

@@ -1,10 +1,18 @@
 #include "graph.h"
 
+#include <algorithm>
 #include <string>
+
+#include "dcheck.h"
 
 namespace yoke {
 
 Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
+  YOKE_DCHECK(std::all_of(edges.begin(), edges.end(),
+                          [&](const Edge& e) {
+                            return e.a < vertex_count && e.b < vertex_count && e.a != e.b;
+                          }),
+              "Graph::from_edges: an endpoint is out of range or an edge is a self loop");
   Graph graph;
   std::vector<std::uint32_t> degree(vertex_count, 0);
   for (const Edge& e : edges) {
@@ -32,6 +40,8 @@ void Graph::grow_vertices(std::size_t vertex_count) {
 }
 
 EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
+  YOKE_DCHECK(a != b && a < incidence_.size() && b < incidence_.size(),
+              "Graph::add_edge: a self loop or a missing end");
   EdgeIndex index;
   if (free_edges_.empty()) {
     index = static_cast<EdgeIndex>(edges_.size());
@@ -64,6 +74,8 @@ void Graph::track_positions() {
 }
 
 void Graph::set_weight(EdgeIndex e, Weight w) {
+  YOKE_DCHECK(tracking_ && e < edges_.size() && is_live(e),
+              "Graph::set_weight: positions are not tracked or the edge is not live");
   Edge& edge = edges_[e];
   edge.w = w;
   incidence_[edge.a][positions_[e].in_a].w = w;
@@ -81,6 +93,8 @@ void Graph::remove_incidence(Vertex v, std::uint32_t at) {
 }
 
 void Graph::remove_edge(EdgeIndex e) {
+  YOKE_DCHECK(tracking_ && e < edges_.size() && is_live(e),
+              "Graph::remove_edge: positions are not tracked or the edge is not live");
   const Edge edge = edges_[e];
   remove_incidence(edge.a, positions_[e].in_a);
   remove_incidence(edge.b, positions_[e].in_b);

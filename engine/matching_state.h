@@ -1,6 +1,6 @@
 // What a solved pool keeps between searches: the matching, the doubled vertex duals and the
 // blossom forest with its doubled blossom duals. Together they satisfy the optimality
-// conditions of DESIGN.md section 2 except at the vertices a repair has queued.
+// conditions of docs/mathematics.md §2 except at the vertices a repair has queued.
 #pragma once
 
 #include <vector>

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 
+#include "dcheck.h"
 #include "pool_state.h"
 
 namespace yoke {
@@ -38,6 +39,7 @@ const PoolLimits& Pool::limits() const { return state_->limits; }
 Weight Pool::churn_bonus() const { return state_->churn_bonus; }
 
 CommitResult Pool::commit(std::span<const Event> batch) {
+  YOKE_DCHECK(!check(batch), "Pool::commit: the batch did not pass check()");
   State& pool = *state_;
   pool.stats = {};
   pool.root_candidates.clear();

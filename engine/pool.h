@@ -1,7 +1,7 @@
 // A pool: a graph that changes batch by batch, with its maximum-weight matching and the dual
 // solution that proves it optimal kept warm in memory.
 //
-// A commit applies a batch of events and repairs the optimum locally (DESIGN.md section 4):
+// A commit applies a batch of events and repairs the optimum locally (docs/mathematics.md §5):
 // each event restores dual feasibility at the edge or vertex it changes, dissolving only the
 // blossoms it breaks; then one primal-dual search from the vertices that break the optimality
 // conditions ends in augmentations or in dual changes. Cost: O(R log R) for the region R the

@@ -1,4 +1,4 @@
-// Event-level repair (DESIGN.md section 4). Every event leaves the duals feasible, matched and
+// Event-level repair (docs/mathematics.md §5). Every event leaves the duals feasible, matched and
 // blossom-cycle edges tight and blossoms full; the only condition it may break is "an exposed
 // vertex has dual 0", at vertices it queues as roots for the search that ends the commit.
 #include <algorithm>

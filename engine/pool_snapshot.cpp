@@ -1,16 +1,13 @@
-// Pool::save and Pool::restore: the pool's state as bytes. Everything that decides a later
-// result is kept as it lies (slot numbers, free lists, incidence and leaf order); what is only
-// a cache (each vertex's top-level node, the search's scratch) is rebuilt.
+// Pool::save and Pool::restore: the pool's state as bytes, engine/STATE_FORMAT.md. Everything
+// that decides a later result is kept as it lies (slot numbers, free lists, incidence and leaf
+// order); what is only a cache (each vertex's top-level node, the search's scratch) is rebuilt.
 #include <string>
 
 #include "pool_state.h"
+#include "state_format.h"
 
 namespace yoke {
 namespace {
-
-constexpr std::uint64_t kMagic = 0x4c4f4f50454b4f59;  // "YOKEPOOL"
-// 2 added the churn bonus, 3 the held pairs; older versions are read as none of either.
-constexpr std::uint32_t kVersion = 3;
 
 void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2) {
   for (Vertex v = 0; v < mate.size(); ++v) {
@@ -74,8 +71,8 @@ Pool::Pool(std::unique_ptr<State> state) : state_(std::move(state)) {}
 std::string Pool::save() const {
   const State& pool = *state_;
   ByteWriter out;
-  out.put(kMagic);
-  out.put(kVersion);
+  out.put(state_format::kStateMagic);
+  out.put(state_format::kStateVersion);
   out.put(static_cast<std::uint8_t>(pool.mode));
   out.put<std::uint64_t>(pool.limits.max_vertices);
   out.put<std::uint64_t>(pool.limits.max_edges);
@@ -94,9 +91,13 @@ std::string Pool::save() const {
 
 std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   ByteReader in(bytes);
-  if (in.get<std::uint64_t>() != kMagic) ByteReader::fail("it does not start with the pool magic");
+  if (in.get<std::uint64_t>() != state_format::kStateMagic) {
+    ByteReader::fail("it does not start with the pool magic");
+  }
   const auto version = in.get<std::uint32_t>();
-  if (version < 1 || version > kVersion) ByteReader::fail("unknown format version");
+  if (version < 1 || version > state_format::kStateVersion) {
+    ByteReader::fail("unknown format version");
+  }
   const auto mode_number = in.get<std::uint8_t>();
   if (mode_number > static_cast<std::uint8_t>(Mode::perfect)) ByteReader::fail("unknown mode");
   PoolLimits limits;

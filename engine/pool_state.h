@@ -1,5 +1,6 @@
 // What a pool holds between commits, shared by the files that implement Pool (pool.cpp,
-// pool_check.cpp, pool_repair.cpp, pool_diff.cpp). Not part of the public interface.
+// batch_checker.cpp, pool_repair.cpp, pool_diff.cpp, pool_explain.cpp, pool_limits.cpp,
+// pool_snapshot.cpp). Not part of the public interface.
 #pragma once
 
 #include <cstdint>
@@ -95,7 +96,7 @@ void apply_event(PoolState& pool, const Event& event);
 // Grows alternating trees from the queued roots until the matching is optimal again.
 void search_from_roots(PoolState& pool);
 // Moves the churn bonus from the pairs the commit broke to the pairs it formed, repairing after
-// each move, until the bonus sits on exactly the matching (DESIGN.md section 4, churn).
+// each move, until the bonus sits on exactly the matching (docs/mathematics.md §6).
 void settle_churn_bonus(PoolState& pool);
 // The diff of the commit, read from the mate journal; updates pool.weight and pool.pairs.
 MatchingDiff collect_diff(PoolState& pool);

@@ -4,6 +4,7 @@
 #include <string>
 
 #include "alternating_search.h"
+#include "dcheck.h"
 #include "greedy_start.h"
 #include "matching_state.h"
 
@@ -62,6 +63,14 @@ Weight mode_weight_offset(const Graph& graph, Mode mode) {
 
 SolveStats solve_from_scratch(const Graph& graph, Weight offset, MatchingState& state) {
   const std::size_t n = graph.vertex_count();
+  YOKE_DCHECK(state.mate.size() == n && state.dual2.size() == n &&
+                  std::all_of(state.mate.values().begin(), state.mate.values().end(),
+                              [](Vertex m) { return m == kNoVertex; }) &&
+                  std::all_of(state.dual2.begin(), state.dual2.end(),
+                              [](Weight d) { return d == 0; }) &&
+                  state.forest.live_blossoms().empty(),
+              "solve_from_scratch: the state is not fresh (a mate, a dual or a blossom is set) "
+              "or not sized for the graph");
   greedy_start(graph, offset, state);
 
   // Both phases start a tree at every exposed vertex with a positive dual. All roots share one

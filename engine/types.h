@@ -13,7 +13,7 @@ namespace yoke {
 using Weight = std::int64_t;
 
 // Dense internal vertex index, 0 .. vertex_count-1. External ids are mapped at the edge of the
-// system (see graph_loader.h in tools/).
+// system (the edge-list reader in tools/formats/, a pool's PoolGraph).
 using Vertex = std::uint32_t;
 using EdgeIndex = std::uint32_t;
 

@@ -1,6 +1,6 @@
 // yoked: the streaming matching daemon. Reads its settings (flags over a config file over the
 // embedded defaults), recovers its pools from the data directory, and serves until SIGTERM or
-// SIGINT (DESIGN.md sections 5 and 6).
+// SIGINT (docs/contracts.md §5).
 #include <algorithm>
 #include <chrono>
 #include <exception>

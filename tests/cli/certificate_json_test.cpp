@@ -39,7 +39,7 @@ std::string written(const Certificate& cert) {
 
 std::string error_of(const std::string& text) {
   try {
-    parse_certificate_json(text, IdMap(kIds));
+    parse_certificate_json(text, formats::IdMap(kIds));
   } catch (const CertificateFormatError& error) {
     return error.what();
   }
@@ -72,7 +72,7 @@ TEST(CertificateJson, RoundTripsThroughExternalIds) {
   const Certificate original = sample_certificate();
   // Read back against a graph that numbers the same ids in another order.
   const std::vector<std::uint64_t> other_order = {7, 0, 42, 900, 18446744073709551615ULL};
-  const IdMap graph_ids(other_order);
+  const formats::IdMap graph_ids(other_order);
   const Certificate read = parse_certificate_json(written(original), graph_ids);
 
   const auto dense = [&](Vertex original_vertex) { return graph_ids.find(kIds[original_vertex]); };
@@ -107,7 +107,7 @@ json renamed_duals(json document, const char* key) {
 TEST(CertificateJson, ReadsFormatOne) {
   json v1 = renamed_duals(json::parse(written(sample_certificate())), "dual2");
   v1["format"] = "yoke-certificate/1";
-  const Certificate read = parse_certificate_json(v1.dump(), IdMap(kIds));
+  const Certificate read = parse_certificate_json(v1.dump(), formats::IdMap(kIds));
   EXPECT_EQ(read.vertex_dual2, sample_certificate().vertex_dual2);
   EXPECT_EQ(read.blossoms[0].dual2, 8);
   EXPECT_EQ(read.blossoms[1].dual2, 2);
@@ -126,7 +126,7 @@ TEST(CertificateJson, IgnoresUnknownKeys) {
     d["produced_by"] = "a later yoke";
     d["vertices"][0]["note"] = 1;
   });
-  EXPECT_NO_THROW(parse_certificate_json(text, IdMap(kIds)));
+  EXPECT_NO_THROW(parse_certificate_json(text, formats::IdMap(kIds)));
 }
 
 TEST(CertificateJson, RejectsWhatIsNotACertificate) {
@@ -197,7 +197,7 @@ TEST(CertificateJson, DamagedTextIsReadOrRejectedCleanly) {
       }
     }
     try {
-      parse_certificate_json(text, IdMap(kIds));
+      parse_certificate_json(text, formats::IdMap(kIds));
     } catch (const CertificateFormatError&) {
     }
   }

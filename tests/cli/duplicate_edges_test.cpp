@@ -2,9 +2,9 @@
 
 #include <vector>
 
-#include "tools/cli/duplicate_edges.h"
+#include "tools/formats/duplicate_edges.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 TEST(DuplicateEdges, NoneInASimpleGraph) {
@@ -51,4 +51,4 @@ TEST(DuplicateEdges, SeparatesEdgesThatShareOnlyTheLargerEndpoint) {
 }
 
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -1,14 +1,19 @@
-// The edge-list loader: accepted forms, dense numbering, and every rejected form with its line.
+// The edge-list reader: accepted forms, dense numbering, and every rejected form with its line;
+// the writer's lines read back as the edges written.
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <limits>
 #include <random>
+#include <sstream>
 #include <string>
+#include <vector>
 
-#include "tools/cli/edge_list.h"
+#include "tools/cli/input_files.h"
+#include "tools/formats/edge_list_reader.h"
+#include "tools/formats/edge_list_writer.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 // The error the loader reports for `text`; fails the test if it accepts it.
@@ -203,5 +208,20 @@ TEST(EdgeList, ErrorTextNamesTheLine) {
   EXPECT_STREQ(edge_list_error("1 2\n").what(), "line 1: expected 3 fields 'U V W', found 2");
 }
 
+TEST(EdgeList, WrittenEdgesReadBackWithTheirIds) {
+  const std::vector<Edge> edges{{0, 1, 7}, {2, 1, std::numeric_limits<Weight>::min()}};
+  const std::vector<std::uint64_t> ids{100, std::numeric_limits<std::uint64_t>::max(), 5};
+  std::ostringstream text;
+  write_edge_list(text, edges, ids);
+  EXPECT_EQ(text.str(),
+            "100 18446744073709551615 7\n5 18446744073709551615 -9223372036854775808\n");
+  const EdgeList list = parse_edge_list(text.str());
+  EXPECT_EQ(list.external_ids, (std::vector<std::uint64_t>{100, ids[1], 5}));
+  ASSERT_EQ(list.edges.size(), 2u);
+  EXPECT_EQ(list.edges[1].w, edges[1].w);
+  EXPECT_THROW(write_edge_list(text, edges, std::vector<std::uint64_t>{1, 2}),
+               std::invalid_argument);
+}
+
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -1,17 +1,22 @@
 // The event-script parser: every verb, the accepted layouts, batching (also the implicit final
-// commit), the pre-scan that sizes a pool, and every rejected form with its line.
+// commit), the pre-scan that sizes a pool, and every rejected form with its line; the writer's
+// lines read back as the events written.
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <limits>
 #include <random>
+#include <sstream>
 #include <string>
+#include <vector>
 
 #include "run_yoke.h"
 #include "tools/cli/cli_error.h"
-#include "tools/cli/event_script.h"
+#include "tools/cli/input_files.h"
+#include "tools/formats/event_script_reader.h"
+#include "tools/formats/event_script_writer.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 // The error the parser reports for `text`; fails the test if it accepts it.
@@ -300,18 +305,46 @@ TEST(EventScript, ArbitraryTextIsParsedOrRejectedWithALine) {
 }
 
 TEST(EventScript, LoadNamesTheFileAndLine) {
-  const testing::TempDir dir;
+  const cli::testing::TempDir dir;
   const std::string path = dir.write("shift.events", "set 1 2 3\ncommit\nadd\n");
   try {
-    load_event_script(path);
+    cli::load_event_script(path);
     ADD_FAILURE() << "accepted";
-  } catch (const CliError& error) {
+  } catch (const cli::CliError& error) {
     EXPECT_EQ(std::string(error.what()),
               path + ":3: 'add U' takes 1 field after the verb, found 0");
   }
-  EXPECT_THROW(load_event_script(dir.file("missing.events")), CliError);
-  EXPECT_EQ(load_event_script(dir.write("ok.events", "add 1\n")).batches.size(), 1u);
+  EXPECT_THROW(cli::load_event_script(dir.file("missing.events")), cli::CliError);
+  EXPECT_EQ(cli::load_event_script(dir.write("ok.events", "add 1\n")).batches.size(), 1u);
+}
+
+TEST(EventScript, WrittenBatchesReadBackAsTheSameEvents) {
+  const std::uint64_t big = std::numeric_limits<std::uint64_t>::max();
+  const Weight low = std::numeric_limits<Weight>::min();
+  const std::vector<std::vector<Event>> batches{
+      {{EventKind::add_vertex, big, 0, 0},
+       {EventKind::set_edge, 3, big, low},
+       {EventKind::unset_edge, 3, big, 0},
+       {EventKind::hold_pair, 4, 3, 0}},
+      {},
+      {{EventKind::release_pair, 4, 3, 0}, {EventKind::remove_vertex, 4, 0, 0}}};
+  std::ostringstream text;
+  for (const auto& batch : batches) write_event_script(text, batch);
+  EXPECT_EQ(text.str(),
+            "add 18446744073709551615\nset 3 18446744073709551615 -9223372036854775808\n"
+            "unset 3 18446744073709551615\nhold 4 3\ncommit\ncommit\nrelease 4 3\nremove 4\n"
+            "commit\n");
+  const EventScript script = parse_event_script(text.str());
+  ASSERT_EQ(script.batches.size(), batches.size());
+  for (std::size_t b = 0; b < batches.size(); ++b) {
+    ASSERT_EQ(script.batches[b].events.size(), batches[b].size());
+    for (std::size_t i = 0; i < batches[b].size(); ++i) {
+      const Event& want = batches[b][i];
+      expect_event(script.batches[b].events[i], want.kind, want.u, want.v, want.w);
+      EXPECT_EQ(event_line(script.batches[b].events[i]), event_line(want));
+    }
+  }
 }
 
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::formats

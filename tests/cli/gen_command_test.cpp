@@ -6,7 +6,7 @@
 #include <vector>
 
 #include "run_yoke.h"
-#include "tools/cli/edge_list.h"
+#include "tools/formats/edge_list_reader.h"
 
 namespace yoke::cli::testing {
 namespace {
@@ -29,7 +29,7 @@ TEST(GenCommand, EveryFamilyWritesALoadableEdgeList) {
     ASSERT_EQ(run.exit_code, 0) << run.err;
     const std::string text = dir.read("g.txt");
     EXPECT_EQ(text.rfind("# yoke gen " + args[1], 0), 0u) << "starts with its recipe";
-    EXPECT_NO_THROW(parse_edge_list(text));
+    EXPECT_NO_THROW(formats::parse_edge_list(text));
     const RunResult solved = run_yoke(dir, {"solve", dir.file("g.txt")});
     EXPECT_EQ(solved.exit_code, 0) << solved.err;
   }
@@ -40,7 +40,7 @@ TEST(GenCommand, RandomHasTheRequestedSizeAndWeights) {
   const RunResult run = run_yoke(dir, {"gen", "random", "--vertices", "40", "--edges", "100",
                                        "--min-weight", "-3", "--max-weight", "3", "--seed", "9"});
   ASSERT_EQ(run.exit_code, 0) << run.err;
-  const EdgeList list = parse_edge_list(run.out);
+  const formats::EdgeList list = formats::parse_edge_list(run.out);
   EXPECT_EQ(list.edges.size(), 100u);
   EXPECT_LE(list.external_ids.size(), 40u);
   for (const std::uint64_t id : list.external_ids) EXPECT_LT(id, 40u);
@@ -55,7 +55,7 @@ TEST(GenCommand, CompleteGraphHasEveryPair) {
   TempDir dir;
   const RunResult run = run_yoke(dir, {"gen", "complete", "--vertices", "7"});
   ASSERT_EQ(run.exit_code, 0) << run.err;
-  EXPECT_EQ(parse_edge_list(run.out).edges.size(), 21u);
+  EXPECT_EQ(formats::parse_edge_list(run.out).edges.size(), 21u);
 }
 
 TEST(GenCommand, SameSeedSameGraph) {

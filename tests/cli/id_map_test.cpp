@@ -3,9 +3,9 @@
 #include <cstdint>
 #include <vector>
 
-#include "tools/cli/id_map.h"
+#include "tools/formats/id_map.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 TEST(IdMap, NumbersIdsInOrderOfFirstAppearance) {
@@ -63,4 +63,4 @@ TEST(IdMap, RebuildsFromAnExistingNumbering) {
 }
 
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::formats

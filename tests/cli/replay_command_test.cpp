@@ -506,7 +506,7 @@ TEST(ReplayCommand, RandomScriptsMatchExhaustiveEnumerationAfterEveryCommit) {
         if (!optimum) optimum = exhaustive(script.after_commit[i], Mode::max_cardinality);
         ASSERT_TRUE(optimum.has_value());
         EXPECT_EQ(commits[i].weight, optimum->weight);
-        // In max-weight mode ties leave the number of pairs open (DESIGN.md section 6).
+        // In max-weight mode ties leave the number of pairs open (docs/contracts.md §2).
         if (mode != Mode::max_weight) {
           EXPECT_EQ(commits[i].pairs, optimum->pairs);
         }

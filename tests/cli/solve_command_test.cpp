@@ -12,7 +12,7 @@
 
 #include "exhaustive_matching.h"
 #include "run_yoke.h"
-#include "tools/cli/edge_list.h"
+#include "tools/formats/edge_list_reader.h"
 
 namespace yoke::cli::testing {
 namespace {
@@ -30,7 +30,7 @@ const char* const kHarbourTriangle =
 
 // The exhaustive optimum of an edge-list text, read through the loader under test.
 std::optional<Optimum> exhaustive(const std::string& text, Mode mode) {
-  const EdgeList list = parse_edge_list(text);
+  const formats::EdgeList list = formats::parse_edge_list(text);
   return exhaustive_optimum(list.external_ids.size(), list.edges, mode);
 }
 
@@ -211,7 +211,7 @@ TEST(SolveCommand, AgreesWithExhaustiveEnumerationOnSmallRandomGraphs) {
       }
       ASSERT_EQ(run.exit_code, 0) << run.err;
       EXPECT_EQ(output.at("weight"), optimum->weight);
-      // Under ties only the weight is unique in max-weight mode (DESIGN.md section 6).
+      // Under ties only the weight is unique in max-weight mode (docs/contracts.md §2).
       if (mode != Mode::max_weight) {
         EXPECT_EQ(output.at("pairs"), optimum->pairs);
       }

@@ -8,9 +8,10 @@
 
 #include "engine/events.h"
 #include "engine/pool.h"
-#include "tools/cli/proto_json.h"
 #include "run_yoke.h"
+#include "tools/cli/proto_json.h"
 #include "tools/cli/vertex_history.h"
+#include "tools/formats/event_script_writer.h"
 
 namespace yoke::cli {
 namespace {
@@ -70,12 +71,12 @@ TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   EXPECT_EQ(lost.w, 5);
   ASSERT_EQ(lost.cause.kind, ChangeCause::Kind::event);
   EXPECT_EQ(lost.cause.index, 1u);
-  EXPECT_EQ(event_text(lost.cause.event), "set 2 3 9");
+  EXPECT_EQ(formats::event_line(lost.cause.event), "set 2 3 9");
   EXPECT_EQ(lost.cause.origin.line, 201u);
 
   EXPECT_EQ(one.entries[3].change, HistoryChange::vertex_removed);
   EXPECT_EQ(one.entries[3].at, 3u);
-  EXPECT_EQ(event_text(one.entries[3].cause.event), "remove 1");
+  EXPECT_EQ(formats::event_line(one.entries[3].cause.event), "remove 1");
 
   ASSERT_EQ(one.partners.size(), 1u);
   EXPECT_EQ(one.partners[0].other, 2u);
@@ -90,7 +91,7 @@ TEST(VertexHistory, StolenPartnerGoesBackToTheStealingEvent) {
   EXPECT_EQ(three.entries[0].change, HistoryChange::vertex_added);
   EXPECT_EQ(three.entries[1].change, HistoryChange::pair_gained);
   ASSERT_EQ(three.entries[1].cause.kind, ChangeCause::Kind::event);
-  EXPECT_EQ(event_text(three.entries[1].cause.event), "set 2 3 9");
+  EXPECT_EQ(formats::event_line(three.entries[1].cause.event), "set 2 3 9");
   ASSERT_EQ(three.partners.size(), 1u);
   EXPECT_FALSE(three.partners[0].to.has_value());
   EXPECT_TRUE(three.end.present);
@@ -121,7 +122,7 @@ TEST(VertexHistory, RemovedPartnerIsTheCause) {
   const HistoryEntry& lost = one.entries[2];
   EXPECT_EQ(lost.change, HistoryChange::pair_lost);
   ASSERT_EQ(lost.cause.kind, ChangeCause::Kind::event);
-  EXPECT_EQ(event_text(lost.cause.event), "remove 2");
+  EXPECT_EQ(formats::event_line(lost.cause.event), "remove 2");
   EXPECT_TRUE(one.end.present);
   EXPECT_FALSE(one.end.mate.has_value());
 }
@@ -186,12 +187,12 @@ TEST(VertexHistory, WithoutCausesTheBatchAnswers) {
 }
 
 TEST(VertexHistory, EventWords) {
-  EXPECT_EQ(event_text(Event{EventKind::add_vertex, 7, 0, 0}), "add 7");
-  EXPECT_EQ(event_text(set(12, 40, -3)), "set 12 40 -3");
-  EXPECT_EQ(event_text(Event{EventKind::unset_edge, 12, 40, 0}), "unset 12 40");
-  EXPECT_EQ(event_text(remove(12)), "remove 12");
-  EXPECT_EQ(event_text(Event{EventKind::hold_pair, 40, 12, 0}), "hold 40 12");
-  EXPECT_EQ(event_text(Event{EventKind::release_pair, 12, 40, 0}), "release 12 40");
+  EXPECT_EQ(formats::event_line(Event{EventKind::add_vertex, 7, 0, 0}), "add 7");
+  EXPECT_EQ(formats::event_line(set(12, 40, -3)), "set 12 40 -3");
+  EXPECT_EQ(formats::event_line(Event{EventKind::unset_edge, 12, 40, 0}), "unset 12 40");
+  EXPECT_EQ(formats::event_line(remove(12)), "remove 12");
+  EXPECT_EQ(formats::event_line(Event{EventKind::hold_pair, 40, 12, 0}), "hold 40 12");
+  EXPECT_EQ(formats::event_line(Event{EventKind::release_pair, 12, 40, 0}), "release 12 40");
 }
 
 // The built binary: `--history` and `--explain` on a script, with `--until` picking the commit.

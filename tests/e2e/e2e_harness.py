@@ -583,7 +583,7 @@ class Script:
 
     def graph(self, upto=None, into=None):
         """The graph after the first `upto` batches (all by default), rebuilt in Python from the
-        event semantics of DESIGN.md section 6."""
+        event semantics of docs/contracts.md §2."""
         graph = nx.Graph() if into is None else into
         for batch in self.batches[:upto]:
             for _, kind, u, v, w in batch:

@@ -1,4 +1,4 @@
-// A certificate whose blossoms nest 9000 deep (DESIGN.md section 8 reports depth ~9000 on real
+// A certificate whose blossoms nest 9000 deep (docs/mathematics.md §8 reports depth ~9000 on real
 // graphs): the checker must handle it without recursion and without per-vertex blossom lists
 // (the memberships here total about 8 x 10^7).
 #include <gtest/gtest.h>

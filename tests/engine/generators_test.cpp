@@ -9,10 +9,11 @@
 #include <utility>
 #include <vector>
 
+#include "tools/formats/edge_list_writer.h"
 #include "tools/graphgen/generators.h"
-#include "tools/graphgen/vardolune.h"
 #include "tools/graphgen/point_grid.h"
 #include "tools/graphgen/rng.h"
+#include "tools/graphgen/vardolune.h"
 
 namespace yoke::gen {
 namespace {
@@ -220,10 +221,11 @@ TEST(Vardolune, PointsAreOnLandInsideTheMap) {
 TEST(WriteEdgeList, WritesOneLinePerEdgeWithExternalIds) {
   GeneratedGraph g{"tiny", 3, {{0, 1, 7}, {2, 1, -4}}};
   std::ostringstream plain;
-  write_edge_list(plain, g);
+  formats::write_edge_list(plain, g.edges);
   EXPECT_EQ(plain.str(), "0 1 7\n2 1 -4\n");
   std::ostringstream mapped;
-  write_edge_list(mapped, g, {100, 18446744073709551615ULL, 5});
+  const std::vector<std::uint64_t> ids{100, 18446744073709551615ULL, 5};
+  formats::write_edge_list(mapped, g.edges, ids);
   EXPECT_EQ(mapped.str(), "100 18446744073709551615 7\n5 18446744073709551615 -4\n");
 }
 

@@ -198,7 +198,7 @@ void expect_same_result(const CommitResult& x, const CommitResult& y) {
   EXPECT_EQ(x.pairs, y.pairs);
   EXPECT_EQ(x.diff.removed, y.diff.removed);
   EXPECT_EQ(x.diff.added, y.diff.added);
-  // The work done is part of the determinism promise too (DESIGN.md section 3).
+  // The work done is part of the determinism promise too (docs/contracts.md §4).
   EXPECT_EQ(x.stats.events, y.stats.events);
   EXPECT_EQ(x.stats.roots, y.stats.roots);
   EXPECT_EQ(x.stats.searches, y.stats.searches);

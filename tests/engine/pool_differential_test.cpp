@@ -23,6 +23,7 @@
 #include "tests/oracles/checked_solve.h"
 #include "tests/oracles/stream_cases.h"
 #include "tests/oracles/test_scale.h"
+#include "tools/formats/event_script_writer.h"
 #include "tools/graphgen/event_stream.h"
 
 namespace yoke {
@@ -86,7 +87,7 @@ struct StreamReplay {
   }
 };
 
-// Common knowledge (what "valid" means, DESIGN.md section 6): each event fits the state the
+// Common knowledge (what "valid" means, docs/contracts.md §2): each event fits the state the
 // events before it leave.
 TEST(EventStream, EveryEventFitsTheStateBeforeIt) {
   for (const StreamFamily family : oracle::kStreamFamilies) {
@@ -319,7 +320,7 @@ std::string save_script(const std::string& label, Mode mode,
   const std::filesystem::path path = dir / (label + ".txt");
   std::ofstream out(path);
   out << "# " << label << "\n";
-  for (const auto& batch : batches) gen::write_event_script(out, batch);
+  for (const auto& batch : batches) formats::write_event_script(out, batch);
   return std::string("yoke replay --verify --mode ") + mode_name(mode) + " " + path.string();
 }
 

@@ -94,7 +94,7 @@ TEST(PoolSnapshot, TruncatedOrDamagedBytesAreRefusedOrStillSafe) {
 }
 
 // Bytes the certificate check after a restore cannot judge (found by tests/fuzz/snapshot_fuzz;
-// tests/fuzz/regressions/snapshot/README.md).
+// tests/fuzz/regressions/README.md, "snapshot/").
 TEST(PoolSnapshot, RestoreRefusesWhatTheCertificateCannotSee) {
   Pool pool(Mode::max_weight, PoolLimits{12, 30, 1000});
   pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 6}, {EventKind::set_edge, 2, 3, 5}});
@@ -195,6 +195,33 @@ TEST(PoolSnapshot, HeldPairsKeepTheirVersion3Bytes) {
   EXPECT_EQ(restored->mate_of(3), 4u);
   EXPECT_EQ(restored->weight(), 5 + 2);
   EXPECT_EQ(restored->save(), bytes);
+}
+
+// The fixed fields at the start, as engine/STATE_FORMAT.md lays them out.
+TEST(PoolSnapshot, HeaderFieldsSitWhereTheFormatSays) {
+  Pool pool(Mode::max_cardinality, PoolLimits{12, 30, 1000}, 7);
+  pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 5}});
+  const std::string bytes = pool.save();
+  ASSERT_GE(bytes.size(), 69u);
+  auto u64_at = [&](std::size_t at) {
+    std::uint64_t value = 0;
+    std::memcpy(&value, bytes.data() + at, sizeof value);
+    return value;
+  };
+  EXPECT_EQ(bytes.substr(0, 8), "YOKEPOOL");
+  std::uint32_t version = 0;
+  std::memcpy(&version, bytes.data() + 8, sizeof version);
+  EXPECT_EQ(version, 3u);
+  EXPECT_EQ(bytes[12], 1);       // mode: max-cardinality
+  EXPECT_EQ(u64_at(13), 12u);    // max_vertices
+  EXPECT_EQ(u64_at(21), 30u);    // max_edges
+  EXPECT_EQ(u64_at(29), 1000u);  // max_abs_weight
+  EXPECT_EQ(u64_at(37), 7u);     // churn_bonus
+  EXPECT_EQ(u64_at(45), 1u);     // commits
+  EXPECT_EQ(u64_at(53), 5u);     // weight
+  EXPECT_EQ(u64_at(61), 1u);     // pairs
+  EXPECT_GE(u64_at(69), 2u);     // the graph: slot capacity n
+  EXPECT_EQ(bytes[77], 1);       // positions tracked
 }
 
 }  // namespace

@@ -5,6 +5,7 @@
 #include <fstream>
 
 #include "engine/certificate.h"
+#include "tools/formats/edge_list_writer.h"
 
 namespace yoke::oracle {
 namespace {
@@ -170,7 +171,7 @@ std::string write_reproducer(const Graph& graph, Mode mode, const std::string& l
   std::ofstream out(path);
   out << "# " << label << "\n# mode " << mode_name(mode) << "\n# vertices "
       << graph.vertex_count() << " (dense ids; vertices absent below are isolated)\n";
-  for (const Edge& e : graph.edges()) out << e.a << ' ' << e.b << ' ' << e.w << '\n';
+  formats::write_edge_list(out, graph.edges());
   return path.string();
 }
 

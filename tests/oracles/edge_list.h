@@ -1,5 +1,5 @@
-// Reads the `yoke solve` edge-list format (DESIGN.md section 6) into a dense graph, for the
-// oracle programs that check a file. Independent of the CLI's own loader on purpose.
+// Reads the `yoke solve` edge-list format (docs/formats.md, "Edge list") into a dense graph, for
+// the oracle programs that check a file. Independent of the CLI's own loader on purpose.
 #pragma once
 
 #include <cstdint>

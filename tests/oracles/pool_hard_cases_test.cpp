@@ -1,5 +1,5 @@
-// The hard cases of incremental repair (DESIGN.md section 4), each built on purpose: the pool is
-// loaded with a graph whose optimum holds nested blossoms, the certificate is read to find the
+// The hard cases of incremental repair (docs/mathematics.md §5), each built on purpose: the pool
+// is loaded with a graph whose optimum holds nested blossoms, the certificate is read to find the
 // structure an event must break (a blossom's cycle edge, its base, a vertex deep inside nested
 // blossoms, an edge between two blossoms), and the event is aimed at it. After every commit:
 // the certificate holds (yoke's independent checker), and the weight equals LEMON 1.3.1's

@@ -1,5 +1,5 @@
 // The JSON form of a yoke::Certificate, with external vertex ids. The format is documented in
-// DEVELOPERS.md, "Certificate format":
+// docs/formats.md, "Certificate":
 //
 //   {"format":"yoke-certificate/2","mode":"max-weight","weight_offset":0,
 //    "vertices":[{"id":U,"dual_x2":D,"mate":V|null},...],
@@ -13,7 +13,7 @@
 #include <vector>
 
 #include "engine/certificate.h"
-#include "id_map.h"
+#include "tools/formats/id_map.h"
 
 namespace yoke::cli {
 
@@ -37,6 +37,6 @@ class CertificateFormatError : public std::runtime_error {
 // exactly one entry, and every id (vertex, mate, base, child) must be a graph vertex. Whether
 // the certificate proves anything is left to check_certificate(). Unknown keys are ignored,
 // so that later versions can add fields.
-Certificate parse_certificate_json(std::string_view text, const IdMap& graph_ids);
+Certificate parse_certificate_json(std::string_view text, const formats::IdMap& graph_ids);
 
 }  // namespace yoke::cli

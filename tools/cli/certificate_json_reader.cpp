@@ -73,7 +73,7 @@ std::string without_exception_tag(const std::string& message) {
 // are skipped whole. Field presence and cross references are checked in finish().
 class CertificateSax {
  public:
-  explicit CertificateSax(const IdMap& graph_ids) : graph_ids_(graph_ids) {
+  explicit CertificateSax(const formats::IdMap& graph_ids) : graph_ids_(graph_ids) {
     cert_.mate.assign(graph_ids.size(), kNoVertex);
     cert_.vertex_dual2.assign(graph_ids.size(), 0);
     listed_.assign(graph_ids.size(), false);
@@ -150,7 +150,7 @@ class CertificateSax {
   bool is_dual_key() const { return key_ == "dual_x2" || key_ == "dual2"; }
   void note_dual_key() { (key_ == "dual2" ? saw_dual2_key_ : saw_dual_x2_key_) = true; }
 
-  const IdMap& graph_ids_;
+  const formats::IdMap& graph_ids_;
   Certificate cert_;
   std::vector<bool> listed_;
   std::vector<Scope> scopes_;
@@ -437,7 +437,7 @@ Certificate CertificateSax::finish() {
 
 }  // namespace
 
-Certificate parse_certificate_json(std::string_view text, const IdMap& graph_ids) {
+Certificate parse_certificate_json(std::string_view text, const formats::IdMap& graph_ids) {
   CertificateSax reader(graph_ids);
   json::sax_parse(text.begin(), text.end(), &reader);
   return reader.finish();

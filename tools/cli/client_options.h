@@ -1,5 +1,5 @@
 // The options `yoke send`, `yoke query` and `yoke watch` share: the pool, the daemon's
-// endpoints (defaults of DESIGN.md section 6, the same as yoked's) and a timeout.
+// endpoints (defaults of docs/contracts.md §5, the same as yoked's) and a timeout.
 #pragma once
 
 #include <cstdint>

@@ -52,9 +52,9 @@ std::string explanation_text(VertexKey vertex, const VertexExplanation& explanat
 // The keys of the JSON form, for the help texts of both commands that print it.
 extern const char* const kExplanationJsonHelp;
 
-// The JSON form: {"vertex","present":true,"mate" (null: unpaired),"pair_weight" (null when
-// unpaired),"pair_bonus","weight_offset","dual_x2","price","alternatives":[{"other","weight",
-// "slack","slack_x2","other_mate"},...]}. price and slack are numbers with at most one decimal
+// The JSON form (docs/formats.md, "Postmortem JSON"): {"vertex","present":true,"mate" (null:
+// unpaired),"pair_weight" (null when unpaired),"pair_bonus","weight_offset","dual_x2","price",
+// "alternatives":[{"other","weight","slack","slack_x2","other_mate"},...]}. price and slack are numbers with at most one decimal
 // (.5); dual_x2 and slack_x2 are exact integers (see Units above). Throws CliError on a
 // negative slack, as above.
 Json vertex_explanation_json(VertexKey vertex, const VertexExplanation& explanation);

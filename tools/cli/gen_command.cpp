@@ -10,6 +10,8 @@
 #include "cli_error.h"
 #include "file_io.h"
 #include "number_options.h"
+#include "tools/formats/edge_list_writer.h"
+#include "tools/formats/event_script_writer.h"
 #include "tools/graphgen/event_stream.h"
 #include "tools/graphgen/generators.h"
 
@@ -118,7 +120,7 @@ void write_generated(std::ostream& out, const Generated& generated, std::uint64_
   if (isolated > 0) out << " (" << isolated << " without edges, so absent below)";
   out << ", " << generated.graph.edges.size() << " edges\n";
   if (!generated.note.empty()) out << "# " << generated.note << "\n";
-  gen::write_edge_list(out, generated.graph);
+  formats::write_edge_list(out, generated.graph.edges);
 }
 
 gen::StreamSpec stream_spec(const GenOptions& o) {
@@ -173,7 +175,7 @@ void write_stream(std::ostream& out, const gen::StreamSpec& spec) {
       << "# first batch: the base graph, " << stream->base_vertices() << " vertices and "
       << stream->base_edges() << " edges; then " << spec.events << " events\n";
   std::vector<yoke::Event> batch;
-  while (stream->next_batch(batch)) gen::write_event_script(out, batch);
+  while (stream->next_batch(batch)) formats::write_event_script(out, batch);
 }
 
 // Runs `write` on stdout or on the file, and reports a failed write of `what`.

@@ -1,7 +1,7 @@
 // `yoke gen FAMILY [options] [--seed S] [-o FILE]`: writes a seeded graph of one of the test and
 // benchmark families (tools/graphgen) as an edge list that `yoke solve` reads.
 // `yoke gen stream FAMILY [options]`: writes a seeded event stream on such a graph as an event
-// script (DESIGN.md section 6), one `commit` per batch.
+// script (docs/formats.md), one `commit` per batch.
 #pragma once
 
 #include <cstdint>

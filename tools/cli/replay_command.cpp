@@ -17,8 +17,8 @@
 #include "client_options.h"
 #include "engine/certificate.h"
 #include "engine/pool.h"
-#include "event_script.h"
 #include "file_io.h"
+#include "input_files.h"
 #include "journal_commits.h"
 #include "progress_bar.h"
 #include "replay_log.h"
@@ -65,7 +65,7 @@ using KeyPair = std::pair<VertexKey, VertexKey>;
 
 // Sized to the whole script: every id it mentions may be alive at once, and the largest |W|
 // it sets is the bound (the smallest bound keeps max-cardinality's offset exact the longest).
-PoolLimits limits_for(const EventScript& script) {
+PoolLimits limits_for(const formats::EventScript& script) {
   PoolLimits limits;
   limits.max_vertices = std::max<std::size_t>(2, script.distinct_vertices);
   const auto largest = std::min<std::uint64_t>(script.largest_abs_weight, kMaxAbsWeight);
@@ -75,7 +75,7 @@ PoolLimits limits_for(const EventScript& script) {
 
 // A pool for the script. When the script's weights are beyond what the mode keeps exact, the
 // pool takes the mode's largest bound instead, so that Pool::check names the offending line.
-Pool make_pool(Mode mode, const EventScript& script, const std::string& path) {
+Pool make_pool(Mode mode, const formats::EventScript& script, const std::string& path) {
   PoolLimits limits = limits_for(script);
   try {
     return Pool(mode, limits);
@@ -332,12 +332,12 @@ class ReplayRun {
 
 int run_script_replay(const ReplayOptions& options) {
   const Mode mode = parse_mode(options.mode);
-  const EventScript script = load_event_script(options.script_path);
+  const formats::EventScript script = load_event_script(options.script_path);
   Pool pool = make_pool(mode, script, options.script_path);
   ReplayRun run(options, std::cout,
                 ReportSource{options.script_path, false, options.pool, "event script"});
   run.show_progress(batches_until(script, options.until).size());
-  for (const ScriptBatch& batch : batches_until(script, options.until)) {
+  for (const formats::ScriptBatch& batch : batches_until(script, options.until)) {
     if (const auto rejected = pool.check(batch.events)) {
       throw CliError(display_name(options.script_path) + ":" +
                      std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
@@ -396,7 +396,7 @@ int run_journal_replay(const ReplayOptions& options) {
 
 }  // namespace
 
-Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path) {
+Pool make_script_pool(Mode mode, const formats::EventScript& script, const std::string& path) {
   return make_pool(mode, script, path);
 }
 

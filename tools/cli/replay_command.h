@@ -1,5 +1,5 @@
 // `yoke replay SCRIPT [--mode M] [--verify] [--stats] [--diffs]`: feeds an event script to a
-// pool batch by batch and prints one line per commit (DESIGN.md section 6):
+// pool batch by batch and prints one line per commit (docs/contracts.md §3):
 //
 //     commit I weight W pairs K repair_us T
 //
@@ -26,7 +26,7 @@
 
 #include "cluster_log.h"
 #include "engine/pool.h"
-#include "event_script.h"
+#include "input_files.h"
 
 namespace yoke::cli {
 
@@ -69,6 +69,6 @@ int run_replay(const ReplayOptions& options);
 
 // The pool `yoke replay` replays a script into: sized to the whole script (distinct ids,
 // largest |W|), or the mode's largest bounds when the script's weights exceed them.
-Pool make_script_pool(Mode mode, const EventScript& script, const std::string& path);
+Pool make_script_pool(Mode mode, const formats::EventScript& script, const std::string& path);
 
 }  // namespace yoke::cli

@@ -106,13 +106,13 @@ std::ostream& note_stream(const ReplayOptions& options) {
 
 int run_script(const ReplayOptions& options) {
   const Mode mode = parse_mode(options.mode);
-  const EventScript script = load_event_script(options.script_path);
+  const formats::EventScript script = load_event_script(options.script_path);
   Pool pool = make_script_pool(mode, script, options.script_path);
   const WhySource source{HistoryUnit::commit, std::nullopt, display_name(options.script_path)};
   HistoryBuilder histories(options.history_vertices, HistoryUnit::commit);
   histories.start(pool, 0);
   std::uint64_t at = 0;
-  for (const ScriptBatch& batch : batches_until(script, options.until)) {
+  for (const formats::ScriptBatch& batch : batches_until(script, options.until)) {
     if (const auto rejected = pool.check(batch.events)) {
       throw CliError(display_name(options.script_path) + ":" +
                      std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
@@ -228,8 +228,9 @@ int run_why_replay(const ReplayOptions& options) {
   return run_script(options);
 }
 
-std::span<const ScriptBatch> batches_until(const EventScript& script, std::uint64_t until) {
-  std::span<const ScriptBatch> batches(script.batches);
+std::span<const formats::ScriptBatch> batches_until(const formats::EventScript& script,
+                                                     std::uint64_t until) {
+  std::span<const formats::ScriptBatch> batches(script.batches);
   if (until != 0 && until < batches.size()) return batches.first(static_cast<std::size_t>(until));
   return batches;
 }

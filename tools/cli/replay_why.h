@@ -11,7 +11,7 @@
 
 #include <CLI/CLI.hpp>
 
-#include "event_script.h"
+#include "input_files.h"
 #include "replay_command.h"
 
 namespace yoke::cli {
@@ -28,6 +28,7 @@ bool wants_why(const ReplayOptions& options);
 int run_why_replay(const ReplayOptions& options);
 
 // The batches of a script a replay commits: all of them, or the first `until` (until > 0).
-std::span<const ScriptBatch> batches_until(const EventScript& script, std::uint64_t until);
+std::span<const formats::ScriptBatch> batches_until(const formats::EventScript& script,
+                                                     std::uint64_t until);
 
 }  // namespace yoke::cli

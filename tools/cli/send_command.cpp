@@ -7,11 +7,11 @@
 
 #include "batch_sender.h"
 #include "cli_error.h"
-#include "event_script.h"
-#include "file_io.h"
-#include "number_options.h"
 #include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
+#include "file_io.h"
+#include "input_files.h"
+#include "number_options.h"
 #include "proto_json.h"
 #include "yoke/v1/ingest.pb.h"
 
@@ -32,7 +32,7 @@ constexpr const char* kSendHelp =
     "served the pool within --owner-wait-ms.\n";
 
 // One batch as the ingest socket takes it.
-std::string ingest_request(const ScriptBatch& batch, const SendOptions& options,
+std::string ingest_request(const formats::ScriptBatch& batch, const SendOptions& options,
                            const std::string& client_id, std::uint64_t number,
                            std::uint64_t after) {
   yoke::v1::IngestRequest request;
@@ -55,7 +55,7 @@ std::string default_client_id() {
 
 // The line a refusal is about: its event's, or else the batch's `commit` (the last event's
 // line for the batch the end of the file closes).
-std::size_t refused_line(const ScriptBatch& batch, const yoke::v1::Error& error) {
+std::size_t refused_line(const formats::ScriptBatch& batch, const yoke::v1::Error& error) {
   if (error.has_event_index() && error.event_index() < batch.lines.size()) {
     return batch.lines[error.event_index()];
   }
@@ -63,9 +63,9 @@ std::size_t refused_line(const ScriptBatch& batch, const yoke::v1::Error& error)
   return batch.lines.back();
 }
 
-std::string refusal(const SendOptions& options, const EventScript& script,
+std::string refusal(const SendOptions& options, const formats::EventScript& script,
                     const SendReport& report) {
-  const ScriptBatch& batch = script.batches[report.failed_batch];
+  const formats::ScriptBatch& batch = script.batches[report.failed_batch];
   return display_name(options.script_path) + ":" +
          std::to_string(refused_line(batch, report.error)) + ": batch " +
          std::to_string(report.failed_batch + 1) + " rejected by the daemon: " +
@@ -73,7 +73,7 @@ std::string refusal(const SendOptions& options, const EventScript& script,
 }
 
 // Turns every way a send can fail into the exception main() reports.
-void throw_failure(const SendOptions& options, const EventScript& script,
+void throw_failure(const SendOptions& options, const formats::EventScript& script,
                    const SendReport& report) {
   using Outcome = SendReport::Outcome;
   const std::string retries = std::to_string(options.retries) + " retries";
@@ -130,7 +130,7 @@ CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
 }
 
 int run_send(const SendOptions& options) {
-  const EventScript script = load_event_script(options.script_path);
+  const formats::EventScript script = load_event_script(options.script_path);
   const std::string client_id =
       options.client_id.empty() ? default_client_id() : options.client_id;
 

@@ -1,8 +1,8 @@
 // `yoke send SCRIPT [--pool P] [--ingest ENDPOINT[,ENDPOINT...]] [--client-id ID]
 // [--in-flight N] [--timeout-ms T] [--retries R] [--owner-wait-ms T]`: streams an event script
 // to yoked's ingest socket, one EventBatch per commit (events after the last `commit` form one
-// more batch, as in replay), and exits 0 once every batch is acknowledged (DESIGN.md section
-// 6), printing one line:
+// more batch, as in replay), and exits 0 once every batch is acknowledged (docs/contracts.md
+// §5), printing one line:
 //
 //     {"pool":P,"batches":N,"events":E,"first_seq":S1,"last_seq":S2,"duplicates":D}
 //

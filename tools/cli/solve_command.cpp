@@ -8,9 +8,9 @@
 
 #include "certificate_json.h"
 #include "cli_error.h"
-#include "edge_list.h"
 #include "engine/solve.h"
 #include "file_io.h"
+#include "input_files.h"
 #include "json_writer.h"
 
 namespace yoke::cli {
@@ -88,7 +88,7 @@ int run_solve(const SolveOptions& options) {
     // Standard output carries the solution; a file named "-" would surprise everyone.
     throw CliError("--certificate needs a file path: standard output carries the solution");
   }
-  EdgeList input = load_edge_list(options.graph_path);
+  formats::EdgeList input = load_edge_list(options.graph_path);
   const std::vector<std::uint64_t> external_ids = std::move(input.external_ids);
   const Graph graph = Graph::from_edges(external_ids.size(), std::move(input.edges));
 

@@ -4,11 +4,11 @@
 
 #include "certificate_json.h"
 #include "cli_error.h"
-#include "edge_list.h"
 #include "engine/certificate.h"
 #include "file_io.h"
-#include "id_map.h"
+#include "input_files.h"
 #include "json_writer.h"
+#include "tools/formats/id_map.h"
 
 namespace yoke::cli {
 namespace {
@@ -31,7 +31,7 @@ MatchingTotals matching_totals(const Graph& graph, const Certificate& cert) {
   return totals;
 }
 
-Certificate load_certificate(const std::string& path, const IdMap& graph_ids) {
+Certificate load_certificate(const std::string& path, const formats::IdMap& graph_ids) {
   const std::string text = read_whole_input(path);
   try {
     return parse_certificate_json(text, graph_ids);
@@ -56,8 +56,8 @@ int run_verify(const VerifyOptions& options) {
   if (options.graph_path == "-" && options.certificate_path == "-") {
     throw CliError("the graph and the certificate cannot both come from stdin");
   }
-  EdgeList input = load_edge_list(options.graph_path);
-  const IdMap graph_ids(input.external_ids);
+  formats::EdgeList input = load_edge_list(options.graph_path);
+  const formats::IdMap graph_ids(input.external_ids);
   const Certificate cert = load_certificate(options.certificate_path, graph_ids);
   const Graph graph = Graph::from_edges(input.external_ids.size(), std::move(input.edges));
 

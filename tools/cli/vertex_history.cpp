@@ -3,6 +3,8 @@
 #include <string>
 #include <utility>
 
+#include "tools/formats/event_script_writer.h"
+
 namespace yoke::cli {
 namespace {
 
@@ -34,7 +36,7 @@ std::string origin_text(const EventOrigin& origin) {
 std::string cause_text(const ChangeCause& cause) {
   switch (cause.kind) {
     case ChangeCause::Kind::event:
-      return "cause " + event_text(cause.event) + " " + origin_text(cause.origin);
+      return "cause " + formats::event_line(cause.event) + " " + origin_text(cause.origin);
     case ChangeCause::Kind::first_solve:
       return "first solve of the pool (it was empty before this commit)";
     case ChangeCause::Kind::batch:
@@ -75,7 +77,7 @@ void add_origin_json(const EventOrigin& origin, Json& out) {
 Json cause_json(const ChangeCause& cause) {
   switch (cause.kind) {
     case ChangeCause::Kind::event: {
-      Json out{{"kind", "event"}, {"index", cause.index}, {"event", event_text(cause.event)}};
+      Json out{{"kind", "event"}, {"index", cause.index}, {"event", formats::event_line(cause.event)}};
       add_origin_json(cause.origin, out);
       return out;
     }
@@ -103,23 +105,6 @@ ChangeCause event_cause(const ReplayedCommit& commit, std::size_t index) {
 }
 
 }  // namespace
-
-std::string event_text(const Event& event) {
-  switch (event.kind) {
-    case EventKind::add_vertex: return "add " + std::to_string(event.u);
-    case EventKind::set_edge:
-      return "set " + std::to_string(event.u) + " " + std::to_string(event.v) + " " +
-             std::to_string(event.w);
-    case EventKind::unset_edge:
-      return "unset " + std::to_string(event.u) + " " + std::to_string(event.v);
-    case EventKind::remove_vertex: return "remove " + std::to_string(event.u);
-    case EventKind::hold_pair:
-      return "hold " + std::to_string(event.u) + " " + std::to_string(event.v);
-    case EventKind::release_pair:
-      return "release " + std::to_string(event.u) + " " + std::to_string(event.v);
-  }
-  return "?";
-}
 
 HistoryBuilder::HistoryBuilder(const std::vector<VertexKey>& vertices, HistoryUnit unit) {
   for (const VertexKey vertex : vertices) {
@@ -276,7 +261,7 @@ std::string history_text(const VertexHistory& history, const std::string& where)
     switch (entry.change) {
       case HistoryChange::vertex_added:
       case HistoryChange::vertex_removed:
-        out += std::string(change_name(entry.change)) + ": " + event_text(entry.cause.event) +
+        out += std::string(change_name(entry.change)) + ": " + formats::event_line(entry.cause.event) +
                " " + origin_text(entry.cause.origin);
         break;
       case HistoryChange::pair_gained:

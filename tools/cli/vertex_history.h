@@ -126,9 +126,6 @@ class HistoryBuilder {
   std::vector<bool> alive_;                           // per history, as the events go
 };
 
-// An event in event-script words: "add 7", "set 12 40 -3", "unset 12 40", "remove 12".
-std::string event_text(const Event& event);
-
 // The history as text: a header line, one line per change, then the partners and the end:
 //
 //   history of 1 (pool default), seq 1 to seq 9:
@@ -144,7 +141,8 @@ std::string event_text(const Event& event);
 // `where` names the source in the header ("pool default", a script's name).
 std::string history_text(const VertexHistory& history, const std::string& where);
 
-// The JSON form (one object, documented in `yoke replay --help`).
+// The JSON form: one object, documented in docs/formats.md ("Postmortem JSON") and, in short,
+// in `yoke replay --help`.
 Json history_json(const VertexHistory& history, const std::optional<std::string>& pool);
 
 }  // namespace yoke::cli

@@ -6,7 +6,6 @@
 #include <deque>
 #include <limits>
 #include <optional>
-#include <ostream>
 #include <stdexcept>
 #include <unordered_map>
 #include <unordered_set>
@@ -740,35 +739,6 @@ std::vector<std::vector<Event>> generate_stream(const StreamSpec& spec) {
   std::vector<Event> batch;
   while (stream.next_batch(batch)) batches.push_back(batch);
   return batches;
-}
-
-void write_event_script(std::ostream& out, std::span<const Event> batch) {
-  // to_chars into one buffer, as write_edge_list does: iostream number formatting is slow.
-  std::string buffer;
-  buffer.reserve(1 << 16);
-  char field[24];
-  auto put = [&](auto value) {
-    buffer.push_back(' ');
-    buffer.append(field, std::to_chars(field, field + sizeof field, value).ptr);
-  };
-  for (const Event& e : batch) {
-    switch (e.kind) {
-      case EventKind::add_vertex: buffer += "add"; put(e.u); break;
-      case EventKind::set_edge: buffer += "set"; put(e.u); put(e.v); put(e.w); break;
-      case EventKind::unset_edge: buffer += "unset"; put(e.u); put(e.v); break;
-      case EventKind::remove_vertex: buffer += "remove"; put(e.u); break;
-      // The generators draw no holds; written for streams that carry them all the same.
-      case EventKind::hold_pair: buffer += "hold"; put(e.u); put(e.v); break;
-      case EventKind::release_pair: buffer += "release"; put(e.u); put(e.v); break;
-    }
-    buffer.push_back('\n');
-    if (buffer.size() > (1 << 16) - 80) {
-      out.write(buffer.data(), static_cast<std::streamsize>(buffer.size()));
-      buffer.clear();
-    }
-  }
-  buffer += "commit\n";
-  out.write(buffer.data(), static_cast<std::streamsize>(buffer.size()));
 }
 
 }  // namespace yoke::gen

@@ -11,9 +11,7 @@
 #pragma once
 
 #include <cstdint>
-#include <iosfwd>
 #include <memory>
-#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -119,9 +117,5 @@ class EventStream {
 
 // All batches of a stream at once.
 std::vector<std::vector<Event>> generate_stream(const StreamSpec& spec);
-
-// One batch as event-script lines (DESIGN.md section 6: `add U`, `set U V W`, `unset U V`,
-// `remove U`), then `commit`.
-void write_event_script(std::ostream& out, std::span<const Event> batch);
 
 }  // namespace yoke::gen

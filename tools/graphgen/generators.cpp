@@ -1,8 +1,6 @@
 #include "tools/graphgen/generators.h"
 
 #include <algorithm>
-#include <charconv>
-#include <ostream>
 #include <stdexcept>
 #include <string>
 
@@ -176,34 +174,6 @@ GeneratedGraph complete(std::size_t vertex_count, Weight min_w, Weight max_w, st
     for (Vertex b = a + 1; b < n; ++b) graph.edges.push_back({a, b, weights.between(min_w, max_w)});
   }
   return graph;
-}
-
-void write_edge_list(std::ostream& out, const GeneratedGraph& graph,
-                     const std::vector<std::uint64_t>& ids) {
-  if (!ids.empty() && ids.size() < graph.vertex_count) {
-    throw std::invalid_argument("write_edge_list: ids has " + std::to_string(ids.size()) +
-                                " entries for " + std::to_string(graph.vertex_count) +
-                                " vertices");
-  }
-  // to_chars into one buffer: iostream formatting of millions of numbers is the slow part.
-  std::string buffer;
-  buffer.reserve(1 << 16);
-  char field[24];
-  auto put = [&](auto value, char after) {
-    const auto end = std::to_chars(field, field + sizeof field, value).ptr;
-    buffer.append(field, end);
-    buffer.push_back(after);
-  };
-  for (const Edge& e : graph.edges) {
-    put(ids.empty() ? std::uint64_t{e.a} : ids[e.a], ' ');
-    put(ids.empty() ? std::uint64_t{e.b} : ids[e.b], ' ');
-    put(e.w, '\n');
-    if (buffer.size() > (1 << 16) - 80) {
-      out.write(buffer.data(), static_cast<std::streamsize>(buffer.size()));
-      buffer.clear();
-    }
-  }
-  out.write(buffer.data(), static_cast<std::streamsize>(buffer.size()));
 }
 
 }  // namespace yoke::gen

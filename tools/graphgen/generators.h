@@ -1,11 +1,10 @@
-// Seeded generators for the graph families yoke is tested and measured on (DESIGN.md section 7).
+// Seeded generators for the graph families yoke is tested and measured on (docs/contracts.md §6).
 // Every generator is deterministic in its arguments and returns edges with no self loops and no
 // duplicates. Scenarios are set in Vardolune, an invented harbour city
 // (vardolune.h).
 #pragma once
 
 #include <cstdint>
-#include <iosfwd>
 #include <string>
 #include <vector>
 
@@ -40,10 +39,5 @@ GeneratedGraph complete(std::size_t vertex_count, Weight min_w, Weight max_w, st
 // Shapes that force blossoms inside blossoms, T-blossom expansion, ties, zero and negative
 // weights: chains of odd cycles, nested triangles, pendant paths on odd cycles.
 GeneratedGraph blossom_stress(std::size_t vertex_count, std::uint64_t seed);
-
-// "U V W" lines, the edge-list format of `yoke solve`; `ids` (if non-empty) maps dense
-// vertices to the external ids written.
-void write_edge_list(std::ostream& out, const GeneratedGraph& graph,
-                     const std::vector<std::uint64_t>& ids = {});
 
 }  // namespace yoke::gen

@@ -1,10 +1,10 @@
 """Events as plain tuples, and their encoding.
 
 An event is ("add", u), ("set", u, v, w), ("unset", u, v), ("remove", u), ("hold", u, v) or
-("release", u, v), the event script's words (DESIGN.md section 6); the helpers below build them,
-one per wire kind (ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, HOLD_PAIR, RELEASE_PAIR). A
-yoke.v1 Event message is accepted as is. Vertex keys are unsigned 64-bit integers; weights
-signed 64-bit.
+("release", u, v), the event script's words (docs/formats.md, "Event script"); the helpers below
+build them, one per wire kind (ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, HOLD_PAIR,
+RELEASE_PAIR). A yoke.v1 Event message is accepted as is. Vertex keys are unsigned 64-bit
+integers; weights signed 64-bit.
 """
 
 from yoke.v1 import events_pb2

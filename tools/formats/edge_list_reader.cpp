@@ -1,16 +1,15 @@
-#include "edge_list.h"
+#include "edge_list_reader.h"
 
 #include <algorithm>
 #include <array>
 #include <optional>
 
-#include "cli_error.h"
 #include "duplicate_edges.h"
-#include "file_io.h"
+#include "edge_list_syntax.h"
 #include "id_map.h"
 #include "tokens.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 struct DataLine {
@@ -30,7 +29,7 @@ class DataLines {
       rest_.remove_prefix(newline == std::string_view::npos ? rest_.size() : newline + 1);
       ++number_;
       while (!text.empty() && is_blank(text.front())) text.remove_prefix(1);
-      if (text.empty() || text.front() == '#') continue;
+      if (text.empty() || text.front() == edge_list_syntax::kComment) continue;
       line = {text, number_};
       return true;
     }
@@ -43,7 +42,7 @@ class DataLines {
 };
 
 struct Fields {
-  std::array<std::string_view, 3> values;
+  std::array<std::string_view, edge_list_syntax::kFields> values;
   std::size_t count = 0;  // all fields on the line, also beyond the three kept
 };
 
@@ -89,9 +88,10 @@ Vertex intern_vertex(IdMap& ids, std::uint64_t id, std::size_t line) {
 
 Edge parse_edge(const DataLine& line, IdMap& ids) {
   const Fields fields = split_fields(line.text);
-  if (fields.count != 3) {
-    throw EdgeListError(line.number, "expected 3 fields 'U V W', found " +
-                                         std::to_string(fields.count));
+  if (fields.count != edge_list_syntax::kFields) {
+    throw EdgeListError(line.number, "expected " + std::to_string(edge_list_syntax::kFields) +
+                                         " fields '" + std::string(edge_list_syntax::kFieldNames) +
+                                         "', found " + std::to_string(fields.count));
   }
   const std::uint64_t u = parse_vertex_id(fields.values[0], line.number);
   const std::uint64_t v = parse_vertex_id(fields.values[1], line.number);
@@ -117,11 +117,6 @@ std::pair<std::size_t, std::size_t> lines_of_edges(std::string_view text, std::s
 }
 
 }  // namespace
-
-EdgeListError::EdgeListError(std::size_t line, const std::string& problem)
-    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
-      line_(line),
-      problem_(problem) {}
 
 EdgeList parse_edge_list(std::string_view text) {
   const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
@@ -164,14 +159,4 @@ EdgeList parse_edge_list(std::string_view text) {
   return {ids.release_ids(), std::move(edges)};
 }
 
-EdgeList load_edge_list(const std::string& path) {
-  const std::string text = read_whole_input(path);
-  try {
-    return parse_edge_list(text);
-  } catch (const EdgeListError& error) {
-    throw CliError(display_name(path) + ":" + std::to_string(error.line()) + ": " +
-                   error.problem());
-  }
-}
-
-}  // namespace yoke::cli
+}  // namespace yoke::formats

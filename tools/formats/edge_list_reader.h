@@ -1,6 +1,6 @@
-// The edge-list input of `yoke solve` and `yoke verify` (DESIGN.md section 6): one edge per
-// line, "U V W", U and V unsigned 64-bit vertex ids, W a signed 64-bit weight. Blank lines and
-// lines whose first non-blank character is '#' are ignored.
+// The reader of the edge list, the input of `yoke solve` and `yoke verify`: text to a graph of
+// dense vertices. The syntax is in edge_list_syntax.h, its prose in docs/formats.md ("Edge
+// list"); the writer is edge_list_writer.h.
 #pragma once
 
 #include <cstdint>
@@ -10,8 +10,9 @@
 #include <vector>
 
 #include "engine/graph.h"
+#include "tokens.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 struct EdgeList {
   std::vector<std::uint64_t> external_ids;  // external_ids[v]: the id of dense vertex v
@@ -19,15 +20,9 @@ struct EdgeList {
 };
 
 // A malformed edge list: the first offending line (1-based) and what is wrong with it.
-class EdgeListError : public std::runtime_error {
+class EdgeListError : public LineError {
  public:
-  EdgeListError(std::size_t line, const std::string& problem);
-  std::size_t line() const { return line_; }
-  const std::string& problem() const { return problem_; }
-
- private:
-  std::size_t line_;
-  std::string problem_;
+  using LineError::LineError;
 };
 
 // Parses an edge list. Vertices are numbered densely in order of first appearance (U before V
@@ -38,7 +33,4 @@ class EdgeListError : public std::runtime_error {
 // Cost O(size of text + n + m); temporary memory for duplicate detection O(n + m).
 EdgeList parse_edge_list(std::string_view text);
 
-// Reads `path` ("-" for stdin) whole and parses it. Throws CliError "FILE:LINE: problem".
-EdgeList load_edge_list(const std::string& path);
-
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -2,7 +2,7 @@
 
 #include <algorithm>
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 // The finaliser of SplitMix64: spreads sequential and clustered ids over all bits, so that
@@ -89,4 +89,4 @@ void IdMap::grow_slots() {
   }
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -14,7 +14,7 @@
 
 #include "engine/types.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 class IdMap {
  public:
@@ -58,4 +58,4 @@ class IdMap {
   std::vector<std::uint64_t> ids_;
 };
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

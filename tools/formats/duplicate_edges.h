@@ -9,7 +9,7 @@
 
 #include "engine/graph.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 struct DuplicateEdge {
   std::size_t first;   // index of the edge's first occurrence
@@ -21,4 +21,4 @@ struct DuplicateEdge {
 std::optional<DuplicateEdge> find_first_duplicate(std::size_t vertex_count,
                                                   std::span<const Edge> edges);
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

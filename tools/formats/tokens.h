@@ -1,13 +1,29 @@
-// What the edge-list and event-script loaders share about the tokens of a line: which bytes
-// separate them, how an error message shows one, and how one is read as an integer.
+// What the edge-list and event-script readers share about the lines and tokens of a text:
+// which bytes separate tokens, how an error message shows one, how one is read as an integer,
+// and the error that names a bad line.
 #pragma once
 
+#include <cstddef>
 #include <cstdint>
 #include <optional>
+#include <stdexcept>
 #include <string>
 #include <string_view>
 
-namespace yoke::cli {
+namespace yoke::formats {
+
+// A malformed line of a text format: the first offending line (1-based) and what is wrong with
+// it. what() is "line N: problem".
+class LineError : public std::runtime_error {
+ public:
+  LineError(std::size_t line, const std::string& problem);
+  std::size_t line() const { return line_; }
+  const std::string& problem() const { return problem_; }
+
+ private:
+  std::size_t line_;
+  std::string problem_;
+};
 
 // The bytes between tokens: space, tab, '\r' (CRLF files), '\v', '\f'; never the newline,
 // which ends a line.
@@ -27,4 +43,4 @@ std::optional<std::string> parse_integer(std::string_view token, std::uint64_t& 
 std::optional<std::string> parse_integer(std::string_view token, std::int64_t& value,
                                          const char* what);
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

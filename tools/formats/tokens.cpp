@@ -3,7 +3,7 @@
 #include <charconv>
 #include <limits>
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 template <typename T>
@@ -22,6 +22,11 @@ std::optional<std::string> parse_whole(std::string_view token, T& value, const c
 }
 
 }  // namespace
+
+LineError::LineError(std::size_t line, const std::string& problem)
+    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
+      line_(line),
+      problem_(problem) {}
 
 std::string shown(std::string_view token) {
   constexpr std::size_t kMaxShown = 40;
@@ -51,4 +56,4 @@ std::optional<std::string> parse_integer(std::string_view token, std::int64_t& v
   return parse_whole(token, value, what);
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

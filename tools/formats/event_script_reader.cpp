@@ -1,14 +1,13 @@
-#include "event_script.h"
+#include "event_script_reader.h"
 
 #include <algorithm>
 #include <array>
 
-#include "cli_error.h"
-#include "file_io.h"
+#include "event_script_syntax.h"
 #include "id_map.h"
 #include "tokens.h"
 
-namespace yoke::cli {
+namespace yoke::formats {
 namespace {
 
 // The tokens of one line up to its comment: the verb and at most three fields are kept, the
@@ -23,7 +22,7 @@ Tokens split_tokens(std::string_view line) {
   std::size_t i = 0;
   while (i < line.size()) {
     while (i < line.size() && is_blank(line[i])) ++i;
-    if (i == line.size() || line[i] == '#') break;
+    if (i == line.size() || line[i] == script_syntax::kComment) break;
     const std::size_t start = i;
     while (i < line.size() && !is_blank(line[i])) ++i;
     if (tokens.count < tokens.values.size()) {
@@ -34,28 +33,16 @@ Tokens split_tokens(std::string_view line) {
   return tokens;
 }
 
-// The verbs with the fields each takes after it.
-struct VerbForm {
-  std::string_view verb;
-  const char* fields;  // as the usage message shows them
-  std::size_t field_count;
-};
+using script_syntax::VerbForm;
 
-constexpr std::array<VerbForm, 7> kVerbForms{{
-    {"add", "U", 1},
-    {"set", "U V W", 3},
-    {"unset", "U V", 2},
-    {"remove", "U", 1},
-    {"hold", "U V", 2},
-    {"release", "U V", 2},
-    {"commit", "", 0},
-}};
-
-const VerbForm* find_verb(std::string_view verb) {
-  for (const VerbForm& form : kVerbForms) {
-    if (form.verb == verb) return &form;
+// "add, set, unset, remove, hold, release or commit", for the unknown-verb message.
+std::string verb_list() {
+  std::string list;
+  for (std::size_t i = 0; i < script_syntax::kVerbForms.size(); ++i) {
+    if (i > 0) list += i + 1 == script_syntax::kVerbForms.size() ? " or " : ", ";
+    list += script_syntax::kVerbForms[i].verb;
   }
-  return nullptr;
+  return list;
 }
 
 // Builds the script batch by batch and keeps the pre-scan counts.
@@ -68,20 +55,20 @@ class ScriptBuilder {
   void parse_line(std::string_view text, std::size_t line) {
     const Tokens tokens = split_tokens(text);
     if (tokens.count == 0) return;  // blank or comment only
-    const VerbForm* form = find_verb(tokens.values[0]);
+    const VerbForm* form = script_syntax::find_verb(tokens.values[0]);
     if (form == nullptr) {
-      throw EventScriptError(line, "unknown verb " + shown(tokens.values[0]) +
-                                       " (expected add, set, unset, remove, hold, release or commit)");
+      throw EventScriptError(
+          line, "unknown verb " + shown(tokens.values[0]) + " (expected " + verb_list() + ")");
     }
     if (tokens.count - 1 != form->field_count) {
       std::string usage = std::string(form->verb);
-      if (form->field_count > 0) usage += std::string(" ") + form->fields;
+      if (form->field_count > 0) usage += " " + std::string(form->fields);
       throw EventScriptError(line, "'" + usage + "' takes " + std::to_string(form->field_count) +
                                        (form->field_count == 1 ? " field" : " fields") +
                                        " after the verb, found " +
                                        std::to_string(tokens.count - 1));
     }
-    if (form->verb == "commit") {
+    if (form->verb == script_syntax::kCommit) {
       current_.commit_line = line;
       script_.batches.push_back(std::move(current_));
       current_ = {};
@@ -101,21 +88,9 @@ class ScriptBuilder {
  private:
   Event parse_event(const VerbForm& form, const Tokens& tokens, std::size_t line) {
     Event event;
+    event.kind = script_syntax::kind_of(form);
     event.u = vertex_id(tokens.values[1], line);
-    if (form.verb == "add") {
-      event.kind = EventKind::add_vertex;
-    } else if (form.verb == "remove") {
-      event.kind = EventKind::remove_vertex;
-    } else {
-      if (form.verb == "set") {
-        event.kind = EventKind::set_edge;
-      } else if (form.verb == "unset") {
-        event.kind = EventKind::unset_edge;
-      } else if (form.verb == "hold") {
-        event.kind = EventKind::hold_pair;
-      } else {
-        event.kind = EventKind::release_pair;
-      }
+    if (form.field_count >= 2) {
       event.v = vertex_id(tokens.values[2], line);
       if (event.u == event.v) {
         throw EventScriptError(line, "self loop on vertex " + std::to_string(event.u));
@@ -155,11 +130,6 @@ class ScriptBuilder {
 
 }  // namespace
 
-EventScriptError::EventScriptError(std::size_t line, const std::string& problem)
-    : std::runtime_error("line " + std::to_string(line) + ": " + problem),
-      line_(line),
-      problem_(problem) {}
-
 EventScript parse_event_script(std::string_view text) {
   const auto line_count = static_cast<std::size_t>(std::count(text.begin(), text.end(), '\n')) + 1;
   ScriptBuilder builder(line_count);
@@ -172,14 +142,4 @@ EventScript parse_event_script(std::string_view text) {
   return std::move(builder).finish();
 }
 
-EventScript load_event_script(const std::string& path) {
-  const std::string text = read_whole_input(path);
-  try {
-    return parse_event_script(text);
-  } catch (const EventScriptError& error) {
-    throw CliError(display_name(path) + ":" + std::to_string(error.line()) + ": " +
-                   error.problem());
-  }
-}
-
-}  // namespace yoke::cli
+}  // namespace yoke::formats

@@ -4,7 +4,7 @@
 #include <cstdint>
 #include <vector>
 
-namespace yoke::cli {
+namespace yoke::formats {
 
 std::optional<DuplicateEdge> find_first_duplicate(std::size_t vertex_count,
                                                   std::span<const Edge> edges) {
@@ -44,4 +44,4 @@ std::optional<DuplicateEdge> find_first_duplicate(std::size_t vertex_count,
   return earliest;
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::formats

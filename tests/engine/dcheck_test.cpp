@@ -1,0 +1,29 @@
+// YOKE_DCHECK (engine/dcheck.h): checked in the sanitizer and Debug builds, where a broken
+// precondition aborts with its message, and never evaluated in Release.
+#include <gtest/gtest.h>
+
+#include "engine/dcheck.h"
+#include "engine/graph.h"
+
+namespace yoke {
+namespace {
+
+TEST(Dcheck, EvaluatesItsConditionOnlyWhenChecksAreOn) {
+  int evaluated = 0;
+  YOKE_DCHECK(++evaluated > 0, "counts its evaluations");
+#if defined(YOKE_DCHECKS) && YOKE_DCHECKS
+  EXPECT_EQ(evaluated, 1);
+#else
+  EXPECT_EQ(evaluated, 0);
+#endif
+}
+
+#if defined(YOKE_DCHECKS) && YOKE_DCHECKS
+TEST(DcheckDeathTest, ABrokenPreconditionAbortsWithItsMessage) {
+  Graph graph(2);
+  EXPECT_DEATH(graph.add_edge(1, 1, 5), "YOKE_DCHECK.*Graph::add_edge: a self loop");
+}
+#endif
+
+}  // namespace
+}  // namespace yoke
