@@ -142,6 +142,7 @@ gen::StreamSpec stream_spec(const GenOptions& o) {
   spec.events = s.events;
   spec.batch_min = s.batch;
   spec.batch_max = s.batch_max == 0 ? s.batch : s.batch_max;
+  spec.degree = s.degree;
   spec.action_batches = s.action_batches;
   spec.weight_grain = s.weight_grain;
   return spec;
@@ -164,6 +165,7 @@ std::string stream_recipe(const gen::StreamSpec& spec) {
   }
   recipe += " --mix " + mix_recipe(spec.mix);
   if (spec.scrambled_keys) recipe += " --scrambled-keys";
+  if (spec.degree != gen::StreamSpec{}.degree) recipe += " --degree " + str(spec.degree);
   if (spec.action_batches) recipe += " --action-batches";
   if (spec.weight_grain > 1) recipe += " --weight-grain " + str(spec.weight_grain);
   return recipe;
@@ -309,6 +311,8 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
       ->capture_default_str();
   stream->add_flag("--scrambled-keys", options.stream.scrambled_keys,
                    "Scattered 64-bit vertex keys (some near 2^64-1) instead of 0, 1, 2, ...");
+  add_positive(stream, "--degree", options.stream.degree,
+               "city: neighbours per point; dispatch: couriers per order; random: mean degree");
   stream->add_flag("--action-batches", options.stream.action_batches,
                    "Each batch holds one action's events; --events counts batches");
   stream->add_option("--weight-grain", options.stream.weight_grain,
