@@ -461,7 +461,8 @@ TEST_P(AimedPoolStreams, EveryCommitIsACertifiedOptimum) {
 INSTANTIATE_TEST_SUITE_P(Streams, AimedPoolStreams, oracle::all_stream_cases(),
                          oracle::stream_case_name);
 
-// Larger aimed streams: city and stress graphs of 600..1500 vertices, where blossoms nest.
+// Larger aimed streams: city and stress graphs of 600..1500 vertices, where blossoms nest, with
+// plain and with coarse weights.
 class LongAimedPoolStreams : public PoolAgainstStatic {};
 
 TEST_P(LongAimedPoolStreams, EveryCommitIsACertifiedOptimum) {
@@ -473,8 +474,12 @@ TEST_P(LongAimedPoolStreams, EveryCommitIsACertifiedOptimum) {
     spec.vertices = std::max<std::size_t>(spec.vertices, 600);
     spec.mix = gen::tail_mix();
     spec.action_batches = true;
-    spec.events = 600;
+    spec.events = 400;
     expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_long");
+    // Coarse weights: tight regions where one search forms and unwinds nests of blossoms
+    // hundreds deep at a single dual level (BlossomForest::dissolve_unpriced_nest).
+    spec.weight_grain = 100;
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_long_tied");
   }
 }
 
