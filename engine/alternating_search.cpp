@@ -335,17 +335,10 @@ void AlternatingSearch::end_tree(Vertex root) {
 
 void AlternatingSearch::dissolve_unpriced(NodeId node) {
   // A free blossom whose dual is 0 costs nothing to undo now, and would only be expanded (or
-  // carried as dead weight) by the next tree that reaches it.
+  // carried as dead weight) by the next tree that reaches it. A tree at one dual level nests
+  // such blossoms hundreds deep: they go in one pass over the vertices.
   if (forest_.is_vertex(node) || forest_.dual2(node) != 0) return;
-  dissolve_stack_.assign(1, node);
-  while (!dissolve_stack_.empty()) {
-    const NodeId b = dissolve_stack_.back();
-    dissolve_stack_.pop_back();
-    for (NodeId child : forest_.children(b)) {
-      if (!forest_.is_vertex(child) && forest_.dual2(child) == 0) dissolve_stack_.push_back(child);
-    }
-    forest_.dissolve(b);
-  }
+  forest_.dissolve_unpriced_nest(node);
 }
 
 NodeId AlternatingSearch::meeting_node(NodeId x, NodeId y) {

@@ -159,7 +159,6 @@ class AlternatingSearch {
   std::size_t compact_at_ = kFirstCompaction;
   static constexpr std::size_t kFirstCompaction = std::size_t{1} << 16;
 
-  std::vector<NodeId> dissolve_stack_;   // scratch for dissolve_unpriced
   std::vector<NodeId> cycle_nodes_;      // scratch for shrink
   std::vector<CycleEdge> cycle_edges_;   // scratch for shrink
   std::vector<NodeId> side_nodes_;       // scratch for shrink

@@ -54,11 +54,34 @@ void BlossomForest::dissolve(NodeId b) {
     parent_[child] = kNoNode;
     for_each_vertex(child, [&](Vertex v) { top_[v] = child; });
   }
+  free_slot(b);
+}
+
+void BlossomForest::free_slot(NodeId b) {
   children_[b - vertex_count_].clear();
   edges_[b - vertex_count_].clear();
   dual2_[b] = 0;
   base_[b] = kNoVertex;
   free_slots_.push_back(b);
+}
+
+void BlossomForest::dissolve_unpriced_nest(NodeId b) {
+  // Slots are freed in the order of dissolve() called top-down with a stack, so slot ids (and
+  // with them every later choice) are the same as that way gives.
+  nest_.assign(1, b);
+  while (!nest_.empty()) {
+    const NodeId x = nest_.back();
+    nest_.pop_back();
+    for (NodeId child : children_[x - vertex_count_]) {
+      parent_[child] = kNoNode;
+      if (!is_vertex(child) && dual2_[child] == 0) {
+        nest_.push_back(child);  // its vertices get their top when its kept descendants do
+      } else {
+        for_each_vertex(child, [&](Vertex v) { top_[v] = child; });
+      }
+    }
+    free_slot(x);
+  }
 }
 
 void BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,

@@ -67,6 +67,12 @@ class BlossomForest {
   // Dissolves top-level blossom `b` into its children, which become top-level. O(|b|).
   void dissolve(NodeId b);
 
+  // Dissolves top-level blossom `b` and, below it, every blossom with dual 0 whose parent is
+  // dissolved here; the other children become top-level. Each vertex's top() is set once, to
+  // its new top-level node, so a nest of D levels costs O(|b| + D), not O(|b| x D) as D calls
+  // of dissolve() would.
+  void dissolve_unpriced_nest(NodeId b);
+
   // Dissolves blossom `lowest` and all its ancestors, moving their duals
   // onto their vertices: each vertex gains z/2 of every dissolved blossom holding it (doubled:
   // `vertex_dual2` += z2/2). Edges inside a dissolved blossom keep their slack and edges leaving
@@ -126,6 +132,9 @@ class BlossomForest {
   };
   std::vector<BaseWork> base_work_;   // scratch for make_base
   std::vector<NodeId> path_;          // scratch for dissolve_path
+  std::vector<NodeId> nest_;          // scratch for dissolve_unpriced_nest
+
+  void free_slot(NodeId b);  // b's children are already detached
 
   void check_loaded() const;
 };

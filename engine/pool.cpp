@@ -90,6 +90,19 @@ std::size_t Pool::edge_count() const {
 std::uint64_t Pool::commits() const { return state_->commits; }
 bool Pool::has_vertex(VertexKey key) const { return state_->graph.find(key) != kNoVertex; }
 
+std::vector<std::pair<VertexKey, VertexKey>> Pool::blossom_cycle_at(VertexKey key) const {
+  std::vector<std::pair<VertexKey, VertexKey>> cycle;
+  const Vertex v = state_->graph.find(key);
+  if (v == kNoVertex) return cycle;
+  const BlossomForest& forest = state_->matching.forest;
+  const NodeId blossom = forest.parent(v);
+  if (blossom == kNoNode) return cycle;
+  for (const CycleEdge& edge : forest.cycle_edges(blossom)) {
+    cycle.emplace_back(state_->graph.key(edge.from), state_->graph.key(edge.to));
+  }
+  return cycle;
+}
+
 std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
   if (const auto partner = state_->holds.partner(key)) return partner;
   const Vertex v = state_->graph.find(key);

@@ -145,6 +145,10 @@ class Pool {
   std::uint64_t commits() const;
   bool has_vertex(VertexKey key) const;
   std::optional<VertexKey> mate_of(VertexKey key) const;
+  // The cycle edges of the smallest blossom holding `key`, by keys (empty when the vertex is in
+  // no blossom or does not exist): edges whose change dissolves blossoms, for benchmarks and
+  // tests that aim events at them. O(children of that blossom).
+  std::vector<std::pair<VertexKey, VertexKey>> blossom_cycle_at(VertexKey key) const;
   // Every pair, sorted. O(n).
   std::vector<MatchedPair> matching() const;
   // Nothing when the vertex does not exist. At most `limit` alternatives. O(degree x depth in

@@ -67,6 +67,36 @@ TEST(GenCommand, SameSeedSameGraph) {
   EXPECT_EQ(first.out, second.out);
 }
 
+// The tail mix, aimed at the pool `yoke gen` feeds, one action per batch, with coarse weights:
+// the recipe says so, every batch replays and its certificate holds, and the same seed gives the
+// same bytes.
+TEST(GenCommand, AimedTailStreamReplaysCertified) {
+  TempDir dir;
+  const std::vector<std::string> args = {
+      "gen", "stream", "city", "--vertices", "300", "--degree", "8", "--events", "60",
+      "--action-batches", "--mix", "tail", "--weight-grain", "50", "--seed", "3",
+      "-o", dir.file("s.txt")};
+  const RunResult run = run_yoke(dir, args);
+  ASSERT_EQ(run.exit_code, 0) << run.err;
+  const std::string text = dir.read("s.txt");
+  EXPECT_EQ(text.rfind("# yoke gen stream city --vertices 300 --events 60 --mix tail --degree 8 "
+                       "--action-batches --weight-grain 50 --seed 3\n",
+                       0),
+            0u)
+      << text.substr(0, 200);
+  EXPECT_NE(text.find("# aimed at a max-weight pool"), std::string::npos);
+  const RunResult replayed = run_yoke(dir, {"replay", "--verify", dir.file("s.txt")});
+  ASSERT_EQ(replayed.exit_code, 0) << replayed.err;
+  std::size_t commits = 0;
+  for (std::size_t at = 0; (at = replayed.out.find("commit ", at)) != std::string::npos; ++at) ++commits;
+  EXPECT_EQ(commits, 61u) << "the base graph, then one batch per action";
+  const std::string first = text;
+  ASSERT_EQ(run_yoke(dir, args).exit_code, 0);
+  EXPECT_EQ(dir.read("s.txt"), first);
+  EXPECT_EQ(run_yoke(dir, {"gen", "stream", "city", "--weight-grain", "0"}).exit_code, 2);
+  EXPECT_EQ(run_yoke(dir, {"gen", "stream", "city", "--mix", "rise-cycle=0"}).exit_code, 2);
+}
+
 TEST(GenCommand, ImpossibleRequestsAreErrors) {
   TempDir dir;
   // Common knowledge: 5 vertices hold at most 10 distinct pairs.

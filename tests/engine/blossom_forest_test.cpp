@@ -488,5 +488,55 @@ TEST(BlossomForest, DeepNestDissolveFromTheTop) {
   EXPECT_EQ(forest.make_blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}}), kDeepVertices);
 }
 
+// dissolve_unpriced_nest against dissolve() called level by level from a stack (the way it
+// replaces): the same top-level nodes, the same tops, the same free slots in the same order.
+// Some levels carry a dual, so the nest is cut into kept and dissolved parts.
+TEST(BlossomForest, DeepNestDissolveUnpricedNestMatchesLevelByLevel) {
+  NodeId outer = kNoNode;
+  Fixture fast_fx = deep_nest(&outer);
+  Fixture slow_fx = deep_nest(&outer);
+  BlossomForest& fast = fast_fx.forest;
+  BlossomForest& slow = slow_fx.forest;
+  for (std::size_t k = 7; k < kChainDepth; k += 700) {  // priced levels: they stay
+    const auto b = static_cast<NodeId>(kDeepVertices + k - 1);
+    fast.set_dual2(b, 4);
+    slow.set_dual2(b, 4);
+  }
+  EXPECT_EQ(fast.top(0), outer);
+  EXPECT_EQ(slow.top(0), outer);
+  fast.dissolve_unpriced_nest(outer);
+  std::vector<NodeId> stack{outer};
+  while (!stack.empty()) {
+    const NodeId b = stack.back();
+    stack.pop_back();
+    for (NodeId child : slow.children(b)) {
+      if (!slow.is_vertex(child) && slow.dual2(child) == 0) stack.push_back(child);
+    }
+    slow.dissolve(b);
+  }
+  EXPECT_EQ(fast.live_blossoms(), slow.live_blossoms());
+  EXPECT_FALSE(fast.live_blossoms().empty());
+  for (Vertex v = 0; v < kDeepVertices; ++v) {
+    ASSERT_EQ(fast.top(v), slow.top(v)) << v;
+    ASSERT_EQ(fast.parent(v), slow.parent(v)) << v;
+  }
+  for (NodeId b : fast.live_blossoms()) {
+    ASSERT_EQ(fast.parent(b), slow.parent(b)) << b;
+    ASSERT_EQ(sorted(vertices_of(fast, b)), sorted(vertices_of(slow, b))) << b;
+  }
+  // Slots come back in the same order: later blossom ids, and every choice after, agree.
+  std::vector<NodeId> tops;
+  for (Vertex v = 0; v < kDeepVertices && tops.size() < 15; ++v) {
+    if (std::find(tops.begin(), tops.end(), fast.top(v)) == tops.end()) tops.push_back(fast.top(v));
+  }
+  ASSERT_EQ(tops.size(), 15u);
+  for (std::size_t i = 0; i < 15; i += 3) {
+    const std::vector<NodeId> three(tops.begin() + static_cast<std::ptrdiff_t>(i),
+                                    tops.begin() + static_cast<std::ptrdiff_t>(i + 3));
+    const std::vector<CycleEdge> edges(3, CycleEdge{0, 0});  // not read by these checks
+    ASSERT_EQ(fast.make_blossom(three, edges), slow.make_blossom(three, edges)) << i;
+  }
+}
+
 }  // namespace
 }  // namespace yoke

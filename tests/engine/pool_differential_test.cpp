@@ -236,6 +236,15 @@ TEST(EventStream, MixTextRoundTripsAndBadMixesAreErrors) {
                               every.set_unset, every.tricky_weight, every.re_add}),
             std::vector<int>({1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11}));
   EXPECT_EQ(gen::parse_mix(gen::mix_text(every)), every);
+  const gen::EventMix large = gen::parse_mix(
+      "rise=1,rise-tight=2,rise-cycle=3,fall-matched=4,remove-matched=5");
+  EXPECT_EQ(std::vector<int>({large.rise, large.rise_tight, large.rise_cycle, large.fall_matched,
+                              large.remove_matched}),
+            std::vector<int>({1, 2, 3, 4, 5}));
+  EXPECT_EQ(gen::parse_mix("tail"), gen::tail_mix());
+  EXPECT_EQ(gen::parse_mix(gen::mix_text(gen::tail_mix())), gen::tail_mix());
+  EXPECT_TRUE(gen::mix_is_aimed(gen::tail_mix()));
+  EXPECT_FALSE(gen::mix_is_aimed(gen::test_mix()));
   for (const char* bad : {"", "drift=5", "arrive=1", "add", "add=-1", "add=x", "add=0",
                           "add=1,add=2", "add=1,"}) {
     EXPECT_THROW(gen::parse_mix(bad), std::invalid_argument) << bad;
@@ -330,6 +339,7 @@ void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string&
   // Every fifth stream also sets weights at the pool's bound.
   if (spec.seed % 5 == 0) spec.extreme_weight = pool.limits().max_abs_weight;
   gen::EventStream stream(spec);
+  if (gen::mix_is_aimed(spec.mix)) stream.aim_at(&pool);  // aimed at the pool under test
   std::vector<std::vector<Event>> batches;
   std::vector<Event> batch;
   while (stream.next_batch(batch)) {
@@ -427,6 +437,57 @@ TEST_P(LongPoolStreams, EveryCommitIsACertifiedOptimum) {
     expect_stream_certified(spec, mode, script_label(family, mode, s));
   }
 }
+
+// The repair's expensive cases (gen::tail_mix): large rises on tight and blossom-cycle edges,
+// matched edges that fall, matched departures, aimed at the pool under test as it stands, one
+// action per commit or a few actions' events per commit, with plain or coarse (tied) weights.
+class AimedPoolStreams : public PoolAgainstStatic {};
+
+TEST_P(AimedPoolStreams, EveryCommitIsACertifiedOptimum) {
+  const auto [family, mode] = GetParam();
+  const int seeds = oracle::scaled(mode == Mode::perfect ? 10 : 40);
+  for (int seed = 700; seed < 700 + seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(seed);
+    gen::StreamSpec spec = gen::test_stream_spec(family, s, 120, 1);
+    spec.mix = gen::tail_mix();
+    spec.action_batches = s % 2 == 0;
+    spec.events = spec.action_batches ? 80 : 400;
+    spec.batch_min = 1;
+    spec.batch_max = 12;
+    if (s % 3 == 0) spec.weight_grain = std::max<Weight>(1, (spec.max_weight - spec.min_weight) / 10);
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed");
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, AimedPoolStreams, oracle::all_stream_cases(),
+                         oracle::stream_case_name);
+
+// Larger aimed streams: city and stress graphs of 600..1500 vertices, where blossoms nest, with
+// plain and with coarse weights.
+class LongAimedPoolStreams : public PoolAgainstStatic {};
+
+TEST_P(LongAimedPoolStreams, EveryCommitIsACertifiedOptimum) {
+  const auto [family, mode] = GetParam();
+  const int seeds = oracle::small_scale() ? 1 : 2;
+  for (int seed = 900; seed < 900 + seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(seed);
+    gen::StreamSpec spec = gen::test_stream_spec(family, s, 1500, 1);
+    spec.vertices = std::max<std::size_t>(spec.vertices, 600);
+    spec.mix = gen::tail_mix();
+    spec.action_batches = true;
+    spec.events = 400;
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_long");
+    // Coarse weights: tight regions where one search forms and unwinds nests of blossoms
+    // hundreds deep at a single dual level (BlossomForest::dissolve_unpriced_nest).
+    spec.weight_grain = 100;
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_long_tied");
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, LongAimedPoolStreams,
+                         testing::Combine(testing::Values(StreamFamily::city, StreamFamily::stress),
+                                          testing::Values(Mode::max_weight, Mode::max_cardinality)),
+                         oracle::stream_case_name);
 
 INSTANTIATE_TEST_SUITE_P(Streams, LongPoolStreams,
                          testing::Combine(testing::ValuesIn(oracle::kStreamFamilies),

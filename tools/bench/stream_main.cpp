@@ -6,7 +6,10 @@
 //                     [--lemon-samples K] [--only SETTING]... [--list]
 //                     [--churn-bonus B[,B...] | none] [--churn-only]
 //
-// Then the churn section (churn_runner.h): the same stream through pools with a churn bonus.
+// Then the churn section (churn_runner.h): the same stream through pools with a churn bonus,
+// and the tail section (tail_runner.h): one action per commit from the tail mix, per kind.
+//
+//   [--tail-actions A | --tail-only]
 //
 // Exit codes: 0 done (a missed performance target is reported, not fatal); 1 yoke and LEMON
 // disagree on a weight, a certificate fails or a churn check fails; 2 bad options or an error
@@ -27,6 +30,8 @@
 #include "tools/bench/stream_report.h"
 #include "tools/bench/stream_runner.h"
 #include "tools/bench/stream_settings.h"
+#include "tools/bench/tail_report.h"
+#include "tools/bench/tail_runner.h"
 
 namespace {
 
@@ -42,7 +47,22 @@ struct Options {
   std::vector<std::string> only;
   std::vector<std::string> churn_bonus;  // empty: default_churn_bonuses(); "none": no section
   bool churn_only = false;
+  std::optional<std::size_t> tail_actions;  // 0: no tail section
+  bool tail_only = false;
 };
+
+constexpr std::size_t kDefaultTailActions = 2000;
+constexpr std::size_t kQuickTailActions = 200;
+
+// The tail section's settings: every selected graph size (the smallest only with --quick).
+std::vector<TailSetting> tail_selected(const Options& o) {
+  const std::size_t actions = o.tail_actions.value_or(o.quick ? kQuickTailActions : kDefaultTailActions);
+  if (actions == 0) return {};
+  std::vector<std::size_t> sizes =
+      !o.vertices.empty() ? o.vertices : (o.quick ? quick_sizes() : default_sizes());
+  if (o.quick) sizes.resize(1);
+  return tail_settings(sizes, actions);
+}
 
 constexpr std::size_t kDefaultLemonSamples = 5;
 constexpr std::size_t kQuickLemonSamples = 3;
@@ -91,7 +111,8 @@ std::vector<ChurnBonus> churn_bonuses(const Options& o) {
 }
 
 int run(const Options& o, const std::vector<StreamSetting>& settings,
-        const std::vector<ChurnBonus>& bonuses, const std::string& command) {
+        const std::vector<ChurnBonus>& bonuses, const std::vector<TailSetting>& tails,
+        const std::string& command) {
   if (!heap::counting_works()) {
     std::cerr << "yoke_stream_bench: the counting operator new is not in use; memory figures "
                  "would be wrong\n";
@@ -102,7 +123,7 @@ int run(const Options& o, const std::vector<StreamSetting>& settings,
   print_stream_preamble(std::cout, {command, o.seed, samples});
   std::vector<StreamResult> results;
   bool all_ok = true;
-  if (!o.churn_only) {
+  if (!o.churn_only && !o.tail_only) {
     for (const StreamSetting& setting : settings) {
       results.push_back(run_setting(setting, o.seed, samples));
       print_setting(std::cout, results.back());
@@ -110,12 +131,20 @@ int run(const Options& o, const std::vector<StreamSetting>& settings,
     }
     print_stream_tables(std::cout, results);
   }
-  if (!bonuses.empty()) {
+  if (!bonuses.empty() && !o.tail_only) {
     print_churn_preamble(std::cout, bonuses);
     for (const StreamSetting& setting : settings) {
       const ChurnResult churn = run_churn(setting, o.seed, bonuses);
       print_churn_rows(std::cout, churn);
       all_ok = all_ok && churn.ok();
+    }
+  }
+  if (!tails.empty() && !o.churn_only) {
+    print_tail_preamble(std::cout, samples);
+    for (const TailSetting& setting : tails) {
+      const TailResult tail = run_tail(setting, o.seed, samples);
+      print_tail(std::cout, tail);
+      all_ok = all_ok && tail.ok();
     }
   }
   if (!all_ok) {
@@ -158,11 +187,21 @@ int main(int argc, char** argv) {
                "Only the churn section (no LEMON comparison)");
 
   std::vector<StreamSetting> settings;
+  app.add_option("--tail-actions", o.tail_actions,
+                 "Tail section: single-action commits per setting (default 2000; 200 with "
+                 "--quick, on the smallest graph only); 0 skips the section")
+      ->check(CLI::Range(std::size_t{0}, std::size_t{1} << 24));
+  app.add_flag("--tail-only", o.tail_only, "Only the tail section");
+
   std::vector<ChurnBonus> bonuses;
+  std::vector<TailSetting> tails;
   try {
     app.parse(argc, argv);
     settings = selected(o);
     bonuses = churn_bonuses(o);
+    tails = tail_selected(o);
+    if (o.tail_only && tails.empty()) throw CLI::ValidationError("--tail-only", "needs --tail-actions above 0");
+    if (o.tail_only && o.churn_only) throw CLI::ValidationError("--tail-only", "excludes --churn-only");
   } catch (const CLI::ParseError& error) {
     const int code = app.exit(error);
     return code == 0 ? 0 : kUsageError;
@@ -176,7 +215,7 @@ int main(int argc, char** argv) {
     return 0;
   }
   try {
-    return run(o, settings, bonuses, command_line(argc, argv));
+    return run(o, settings, bonuses, tails, command_line(argc, argv));
   } catch (const std::exception& error) {
     std::cerr << "yoke_stream_bench: " << error.what() << "\n";
     return kUsageError;

@@ -16,18 +16,6 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-// Streamed-commit counts after which LEMON samples: ceil(i * commits / k) for i = 1..k, so the
-// last sample sees the final state.
-std::vector<std::size_t> sample_points(std::size_t commits, std::size_t k) {
-  std::vector<std::size_t> points;
-  for (std::size_t i = 1; i <= k && commits > 0; ++i) {
-    const std::size_t at = (i * commits + k - 1) / k;
-    if (points.empty() || points.back() != at) points.push_back(at);
-  }
-  return points;
-}
-
-
 }  // namespace
 
 gen::StreamSpec stream_spec(const StreamSetting& setting, std::uint64_t seed) {

@@ -9,6 +9,15 @@
 
 namespace yoke::bench {
 
+std::vector<std::size_t> sample_points(std::size_t commits, std::size_t k) {
+  std::vector<std::size_t> points;
+  for (std::size_t i = 1; i <= k && commits > 0; ++i) {
+    const std::size_t at = (i * commits + k - 1) / k;
+    if (points.empty() || points.back() != at) points.push_back(at);
+  }
+  return points;
+}
+
 LemonSample sample_against_lemon(const Pool& pool, std::uint64_t commit) {
   LemonSample sample;
   sample.commit = commit;

@@ -6,6 +6,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include "engine/pool.h"
 
@@ -30,6 +31,10 @@ struct LemonSample {
   }
   bool ok() const { return weights_equal() && certificate_holds; }
 };
+
+// Streamed-commit counts after which LEMON samples: ceil(i * commits / k) for i = 1..k, so the
+// last sample sees the final state. O(k).
+std::vector<std::size_t> sample_points(std::size_t commits, std::size_t k);
 
 // Exports the pool (Pool::export_certified), checks its certificate (yoke::check_certificate),
 // then times LEMON's MaxWeightedMatching on the exported graph, in its edge order. Opens its

@@ -10,6 +10,7 @@
 #include "cli_error.h"
 #include "file_io.h"
 #include "number_options.h"
+#include "engine/pool.h"
 #include "tools/formats/edge_list_writer.h"
 #include "tools/formats/event_script_writer.h"
 #include "tools/graphgen/event_stream.h"
@@ -143,6 +144,9 @@ gen::StreamSpec stream_spec(const GenOptions& o) {
   spec.events = s.events;
   spec.batch_min = s.batch;
   spec.batch_max = s.batch_max == 0 ? s.batch : s.batch_max;
+  spec.degree = s.degree;
+  spec.action_batches = s.action_batches;
+  spec.weight_grain = s.weight_grain;
   return spec;
 }
 
@@ -150,16 +154,22 @@ gen::StreamSpec stream_spec(const GenOptions& o) {
 std::string mix_recipe(const gen::EventMix& mix) {
   if (mix == gen::benchmark_mix()) return "bench";
   if (mix == gen::test_mix()) return "test";
+  if (mix == gen::tail_mix()) return "tail";
   return gen::mix_text(mix);
 }
 
 std::string stream_recipe(const gen::StreamSpec& spec) {
   std::string recipe = std::string("stream ") + gen::stream_family_name(spec.family) +
-                       " --vertices " + str(spec.vertices) + " --events " + str(spec.events) +
-                       " --batch " + str(spec.batch_min);
-  if (spec.batch_max != spec.batch_min) recipe += " --batch-max " + str(spec.batch_max);
+                       " --vertices " + str(spec.vertices) + " --events " + str(spec.events);
+  if (!spec.action_batches) recipe += " --batch " + str(spec.batch_min);
+  if (!spec.action_batches && spec.batch_max != spec.batch_min) {
+    recipe += " --batch-max " + str(spec.batch_max);
+  }
   recipe += " --mix " + mix_recipe(spec.mix);
   if (spec.scrambled_keys) recipe += " --scrambled-keys";
+  if (spec.degree != gen::StreamSpec{}.degree) recipe += " --degree " + str(spec.degree);
+  if (spec.action_batches) recipe += " --action-batches";
+  if (spec.weight_grain > 1) recipe += " --weight-grain " + str(spec.weight_grain);
   return recipe;
 }
 
@@ -173,9 +183,20 @@ void write_stream(std::ostream& out, const gen::StreamSpec& spec) {
   }
   out << "# yoke gen " << stream_recipe(spec) << " --seed " << spec.seed << "\n"
       << "# first batch: the base graph, " << stream->base_vertices() << " vertices and "
-      << stream->base_edges() << " edges; then " << spec.events << " events\n";
+      << stream->base_edges() << " edges; then " << spec.events
+      << (spec.action_batches ? " actions, one per batch\n" : " events\n");
+  // Aimed actions look at a max-weight pool fed every batch as it is drawn.
+  std::unique_ptr<Pool> aim;
+  if (gen::mix_is_aimed(spec.mix)) {
+    aim = std::make_unique<Pool>(Mode::max_weight);
+    stream->aim_at(aim.get());
+    out << "# aimed at a max-weight pool fed the same batches\n";
+  }
   std::vector<yoke::Event> batch;
-  while (stream->next_batch(batch)) formats::write_event_script(out, batch);
+  while (stream->next_batch(batch)) {
+    formats::write_event_script(out, batch);
+    if (aim) aim->commit(batch);
+  }
 }
 
 // Runs `write` on stdout or on the file, and reports a failed write of `what`.
@@ -280,10 +301,26 @@ CLI::App* add_gen_command(CLI::App& app, GenOptions& options) {
                      "  set-unset      an edge is set and unset at once\n"
                      "  tricky-weight  an edge gets 0, a negative weight, a tie, its own weight\n"
                      "  re-add         a removed vertex's key is added again\n"
-                     "bench = nudge-weight=35,random-weight=35,add=15,remove=15; test = all eleven")
+                     "  rise           an edge's weight rises by 25..100% of the range\n"
+                     "  rise-tight     * the same on a tight edge (unmatched at zero slack, or "
+                     "matched)\n"
+                     "  rise-cycle     * the same on an edge of a blossom's cycle\n"
+                     "  fall-matched   * a matched edge's weight falls by 25..100% of the range\n"
+                     "  remove-matched * a matched vertex leaves\n"
+                     "(*: aimed at a max-weight pool fed the stream as it is drawn)\n"
+                     "bench = nudge-weight=35,random-weight=35,add=15,remove=15; test = the first "
+                     "eleven; tail = the large changes and the everyday ones (see DEVELOPERS.md)")
       ->capture_default_str();
   stream->add_flag("--scrambled-keys", options.stream.scrambled_keys,
                    "Scattered 64-bit vertex keys (some near 2^64-1) instead of 0, 1, 2, ...");
+  add_positive(stream, "--degree", options.stream.degree,
+               "city: neighbours per point; dispatch: couriers per order; random: mean degree");
+  stream->add_flag("--action-batches", options.stream.action_batches,
+                   "Each batch holds one action's events; --events counts batches");
+  stream->add_option("--weight-grain", options.stream.weight_grain,
+                     "Round every weight towards zero to a multiple of this: ties everywhere")
+      ->check(kAtLeastOne)
+      ->capture_default_str();
   return command;
 }
 

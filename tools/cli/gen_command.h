@@ -45,6 +45,9 @@ struct GenOptions {
     std::size_t batch_max = 0;    // > 0: batch sizes uniform in [batch, batch_max]
     std::string mix = "bench";    // see gen::parse_mix
     bool scrambled_keys = false;
+    int degree = 6;               // city: neighbours; dispatch: couriers per order; random: mean
+    bool action_batches = false;  // one action per batch; --events counts batches
+    Weight weight_grain = 1;      // > 1: weights rounded to multiples of it (ties)
   };
 
   std::string family;  // the family subcommand that was given

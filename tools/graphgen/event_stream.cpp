@@ -10,6 +10,7 @@
 #include <unordered_map>
 #include <unordered_set>
 
+#include "engine/pool.h"
 #include "tools/graphgen/generators.h"
 #include "tools/graphgen/rng.h"
 
@@ -27,7 +28,7 @@ constexpr VertexKey kTopKey = std::numeric_limits<VertexKey>::max();
 // In the order of kMixEntries, which draw_action walks: the order fixes the streams' events.
 enum class Action {
   nudge_weight, random_weight, add, remove, unset, link, vertex_burst, add_remove, set_unset,
-  tricky_weight, re_add
+  tricky_weight, re_add, rise, rise_tight, rise_cycle, fall_matched, remove_matched
 };
 
 struct MixEntry {
@@ -36,7 +37,7 @@ struct MixEntry {
   Action action;
 };
 
-constexpr std::array<MixEntry, 11> kMixEntries = {{
+constexpr std::array<MixEntry, 16> kMixEntries = {{
     {"nudge-weight", &EventMix::nudge_weight, Action::nudge_weight},
     {"random-weight", &EventMix::random_weight, Action::random_weight},
     {"add", &EventMix::add, Action::add},
@@ -48,7 +49,14 @@ constexpr std::array<MixEntry, 11> kMixEntries = {{
     {"set-unset", &EventMix::set_unset, Action::set_unset},
     {"tricky-weight", &EventMix::tricky_weight, Action::tricky_weight},
     {"re-add", &EventMix::re_add, Action::re_add},
+    {"rise", &EventMix::rise, Action::rise},
+    {"rise-tight", &EventMix::rise_tight, Action::rise_tight},
+    {"rise-cycle", &EventMix::rise_cycle, Action::rise_cycle},
+    {"fall-matched", &EventMix::fall_matched, Action::fall_matched},
+    {"remove-matched", &EventMix::remove_matched, Action::remove_matched},
 }};
+
+const char* action_name(Action action) { return kMixEntries[static_cast<std::size_t>(action)].name; }
 
 constexpr const char* kFamilyNames[] = {"city", "random", "dispatch", "complete", "stress"};
 
@@ -135,6 +143,7 @@ void check_spec(const StreamSpec& spec) {
     fail("explicit_add_percent must lie in 0..100");
   }
   if (spec.extreme_weight < 0) fail("extreme_weight must not be negative");
+  if (spec.weight_grain < 1) fail("weight_grain must be at least 1");
   std::int64_t total = 0;
   for (const MixEntry& entry : kMixEntries) {
     if (spec.mix.*entry.share < 0) fail(std::string("mix share ") + entry.name + " is negative");
@@ -160,6 +169,15 @@ class EventStream::Builder {
   std::size_t base_edges() const { return base_edges_; }
 
   void take_base(std::vector<Event>& batch) { take(base_events_, batch); }
+
+  // The events of one action (the pending ones first, if an earlier cut left any).
+  void take_action(std::vector<Event>& batch) {
+    if (pending_.empty()) draw_action();
+    take(pending_.size(), batch);
+  }
+
+  void aim_at(const Pool* pool) { aim_ = pool; }
+  const char* last_action() const { return action_name(ran_); }
 
   std::size_t draw_batch_size() {
     return static_cast<std::size_t>(sizes_.between(static_cast<std::int64_t>(spec_.batch_min),
@@ -190,6 +208,7 @@ class EventStream::Builder {
   Weight low_ = 1;
   Weight high_ = 1000;
   Weight small_step_ = 1;  // largest nudge-weight step: 5% of the range
+  Weight big_step_ = 1;    // smallest large rise or fall: 25% of the range
   bool local_ = false;     // city and dispatch: partners come from the graph neighbourhood
   bool bipartite_ = false;  // dispatch: couriers (side 0) link only to orders (side 1)
   std::size_t base_couriers_ = 0;
@@ -208,6 +227,10 @@ class EventStream::Builder {
   std::vector<EdgeId> free_edges_;
   IdSet live_edges_;
   std::unordered_map<std::uint64_t, EdgeId> edge_at_;  // by pair_key; never iterated
+
+  const Pool* aim_ = nullptr;       // the pool aimed actions look at
+  Action ran_ = Action::add;        // the action that drew the last event
+  std::unordered_map<VertexKey, Slot> slot_of_;  // by key; looked up, never iterated
 
   std::vector<Slot> found_;  // scratch of the neighbourhood searches
   std::vector<Slot> queue_;
@@ -232,6 +255,7 @@ class EventStream::Builder {
     }
     if (high_ == low_) ++high_;
     small_step_ = std::max<Weight>(1, (high_ - low_) / 20);
+    big_step_ = std::max<Weight>(1, (high_ - low_) / 4);
 
     std::vector<bool> has_edge(graph.vertex_count, false);
     for (const Edge& e : graph.edges) has_edge[e.a] = has_edge[e.b] = true;
@@ -248,6 +272,7 @@ class EventStream::Builder {
   Slot new_slot(std::uint8_t side) {
     const auto slot = static_cast<Slot>(keys_.size());
     keys_.push_back(fresh_key(slot));
+    slot_of_.emplace(keys_.back(), slot);
     side_.push_back(side);
     incident_.emplace_back();
     seen_.push_back(0);
@@ -378,7 +403,11 @@ class EventStream::Builder {
     pending_.push_back({EventKind::add_vertex, keys_[v], 0, 0});
   }
 
+  // Coarse weights (weight_grain): rounded towards zero, so |w| never grows.
+  Weight snapped(Weight w) const { return spec_.weight_grain > 1 ? w / spec_.weight_grain * spec_.weight_grain : w; }
+
   EdgeId emit_new_edge(Slot a, Slot b, Weight w) {
+    w = snapped(w);
     make_alive(a);
     make_alive(b);
     EdgeId e;
@@ -400,6 +429,7 @@ class EventStream::Builder {
   }
 
   void emit_weight(EdgeId e, Weight w) {
+    w = snapped(w);
     edges_[e].w = w;
     pending_.push_back(edge_event(EventKind::set_edge, edges_[e], w));
   }
@@ -448,6 +478,7 @@ class EventStream::Builder {
   }
 
   void run(Action action) {
+    ran_ = action;
     switch (action) {
       case Action::nudge_weight: return nudge_weight();
       case Action::random_weight: return random_weight();
@@ -460,6 +491,11 @@ class EventStream::Builder {
       case Action::set_unset: return set_unset();
       case Action::tricky_weight: return tricky_weight();
       case Action::re_add: return re_add();
+      case Action::rise: return rise();
+      case Action::rise_tight: return rise_tight();
+      case Action::rise_cycle: return rise_cycle();
+      case Action::fall_matched: return fall_matched();
+      case Action::remove_matched: return remove_matched();
     }
   }
 
@@ -574,6 +610,96 @@ class EventStream::Builder {
     }
   }
 
+  // ---- large changes, aimed at the pool when there is one --------------------------------
+
+  // Rises stop at the top of the range plus the range again, so repeated rises stay bounded.
+  Weight risen(Weight w) {
+    return std::min(w + actions_.between(big_step_, 4 * big_step_), high_ + (high_ - low_));
+  }
+  Weight fallen(Weight w) { return w - actions_.between(big_step_, 4 * big_step_); }
+
+  void rise() {
+    if (live_edges_.empty()) return run(Action::add);
+    const EdgeId e = live_edges_.draw(actions_);
+    emit_weight(e, risen(edges_[e].w));
+  }
+
+  // The slot of a pool vertex the stream also has alive, or nothing.
+  std::optional<Slot> alive_slot(VertexKey key) const {
+    const auto it = slot_of_.find(key);
+    if (it == slot_of_.end() || !alive_.contains(it->second)) return std::nullopt;
+    return it->second;
+  }
+
+  // The stream's edge between two pool vertices, or nothing (the pool may lag the stream within
+  // a batch, so its answers are checked against the stream's own picture).
+  std::optional<EdgeId> edge_between(VertexKey u, VertexKey v) const {
+    const auto a = alive_slot(u);
+    const auto b = alive_slot(v);
+    if (!a || !b) return std::nullopt;
+    const auto it = edge_at_.find(pair_key(*a, *b));
+    if (it == edge_at_.end()) return std::nullopt;
+    return it->second;
+  }
+
+  static constexpr int kAimTries = 32;  // vertices looked at before an aimed action gives up
+
+  std::optional<EdgeId> matched_edge() {
+    if (aim_ == nullptr || alive_.empty()) return std::nullopt;
+    for (int tries = 0; tries < kAimTries; ++tries) {
+      const VertexKey u = keys_[alive_.draw(actions_)];
+      if (const auto m = aim_->mate_of(u)) {
+        if (const auto e = edge_between(u, *m)) return e;
+      }
+    }
+    return std::nullopt;
+  }
+
+  void rise_tight() {
+    if (aim_ == nullptr || alive_.empty()) return run(Action::rise);
+    for (int tries = 0; tries < kAimTries; ++tries) {
+      const VertexKey u = keys_[alive_.draw(actions_)];
+      const auto why = aim_->explain(u, 4);
+      if (!why) continue;
+      for (const Alternative& other : why->alternatives) {
+        if (other.slack2 != 0) break;  // least slack first
+        if (const auto e = edge_between(u, other.other)) return emit_weight(*e, risen(edges_[*e].w));
+      }
+      if (why->mate) {
+        if (const auto e = edge_between(u, *why->mate)) return emit_weight(*e, risen(edges_[*e].w));
+      }
+    }
+    run(Action::rise);
+  }
+
+  void rise_cycle() {
+    if (aim_ == nullptr || alive_.empty()) return run(Action::rise);
+    for (int tries = 0; tries < kAimTries; ++tries) {
+      const auto cycle = aim_->blossom_cycle_at(keys_[alive_.draw(actions_)]);
+      if (cycle.empty()) continue;
+      const auto& [u, v] = cycle[actions_.below(cycle.size())];
+      if (const auto e = edge_between(u, v)) return emit_weight(*e, risen(edges_[*e].w));
+    }
+    run(Action::rise_tight);
+  }
+
+  void fall_matched() {
+    const auto e = matched_edge();
+    if (!e) {
+      if (live_edges_.empty()) return run(Action::add);
+      ran_ = Action::random_weight;
+      const EdgeId any = live_edges_.draw(actions_);
+      return emit_weight(any, fallen(edges_[any].w));
+    }
+    emit_weight(*e, fallen(edges_[*e].w));
+  }
+
+  void remove_matched() {
+    if (alive_.size() <= 2) return run(Action::add);
+    if (const auto e = matched_edge()) return emit_remove(actions_.chance(0.5) ? edges_[*e].a : edges_[*e].b);
+    run(Action::remove);
+  }
+
   // A key comes back: one removed long ago, or one removed and added back right away with
   // edges to some of its old partners.
   void re_add() {
@@ -631,9 +757,29 @@ EventMix test_mix() {
   return mix;
 }
 
+EventMix tail_mix() {
+  EventMix mix;
+  mix.nudge_weight = 15;
+  mix.rise = 8;
+  mix.rise_tight = 12;
+  mix.rise_cycle = 12;
+  mix.fall_matched = 8;
+  mix.link = 10;
+  mix.unset = 10;
+  mix.add = 8;
+  mix.remove_matched = 10;
+  mix.remove = 7;
+  return mix;
+}
+
+bool mix_is_aimed(const EventMix& mix) {
+  return mix.rise_tight > 0 || mix.rise_cycle > 0 || mix.fall_matched > 0 || mix.remove_matched > 0;
+}
+
 EventMix parse_mix(std::string_view text) {
   if (text == "bench") return benchmark_mix();
   if (text == "test") return test_mix();
+  if (text == "tail") return tail_mix();
   EventMix mix;
   std::array<bool, kMixEntries.size()> named{};
   for (bool more = true; more;) {
@@ -648,8 +794,9 @@ EventMix parse_mix(std::string_view text) {
     if (entry == kMixEntries.end()) {
       throw std::invalid_argument("mix: unknown action '" + std::string(name) +
                                   "' (nudge-weight, random-weight, add, remove, unset, link, "
-                                  "vertex-burst, add-remove, set-unset, tricky-weight, re-add; "
-                                  "or bench, test)");
+                                  "vertex-burst, add-remove, set-unset, tricky-weight, re-add, "
+                                  "rise, rise-tight, rise-cycle, fall-matched, remove-matched; "
+                                  "or bench, test, tail)");
     }
     auto& seen = named[static_cast<std::size_t>(entry - kMixEntries.begin())];
     if (seen) throw std::invalid_argument("mix: '" + std::string(name) + "' given twice");
@@ -709,7 +856,8 @@ StreamSpec test_stream_spec(StreamFamily family, std::uint64_t seed, std::size_t
   return spec;
 }
 
-EventStream::EventStream(const StreamSpec& spec) : events_left_(spec.events) {
+EventStream::EventStream(const StreamSpec& spec)
+    : events_left_(spec.events), action_batches_(spec.action_batches) {
   check_spec(spec);
   builder_ = std::make_unique<Builder>(spec);
 }
@@ -722,9 +870,14 @@ bool EventStream::next_batch(std::vector<Event>& batch) {
     builder_->take_base(batch);
   } else {
     if (events_left_ == 0) return false;
-    const std::size_t size = std::min(events_left_, builder_->draw_batch_size());
-    builder_->take(size, batch);
-    events_left_ -= size;
+    if (action_batches_) {
+      builder_->take_action(batch);
+      --events_left_;
+    } else {
+      const std::size_t size = std::min(events_left_, builder_->draw_batch_size());
+      builder_->take(size, batch);
+      events_left_ -= size;
+    }
   }
   ++batches_;
   return true;
@@ -732,6 +885,8 @@ bool EventStream::next_batch(std::vector<Event>& batch) {
 
 std::size_t EventStream::base_vertices() const { return builder_->base_vertices(); }
 std::size_t EventStream::base_edges() const { return builder_->base_edges(); }
+void EventStream::aim_at(const Pool* pool) { builder_->aim_at(pool); }
+const char* EventStream::last_action() const { return builder_->last_action(); }
 
 std::vector<std::vector<Event>> generate_stream(const StreamSpec& spec) {
   EventStream stream(spec);

@@ -19,6 +19,10 @@
 #include "engine/events.h"
 #include "engine/types.h"
 
+namespace yoke {
+class Pool;
+}
+
 namespace yoke::gen {
 
 // The base graph families of generators.h, by their `yoke gen` names.
@@ -46,6 +50,14 @@ struct EventMix {
                           // tie with a neighbouring edge, its own weight, or +-extreme_weight
   int re_add = 0;         // a removed vertex's key is added again: one removed long ago, or
                           // one removed and added back right away
+  // Large changes, the repair's expensive cases. The aimed ones (*) look at the pool the
+  // stream is fed to (EventStream::aim_at); without one they act on a random edge or vertex.
+  int rise = 0;            // an edge's weight rises by 25..100% of the weight range
+  int rise_tight = 0;      // * the same on a tight edge: an unmatched one at zero slack, else a
+                           //   matched one
+  int rise_cycle = 0;      // * the same on an edge of a blossom's cycle
+  int fall_matched = 0;    // * a matched edge's weight falls by 25..100% of the range
+  int remove_matched = 0;  // * a matched vertex leaves
 
   friend bool operator==(const EventMix&, const EventMix&) = default;
 };
@@ -54,10 +66,18 @@ struct EventMix {
 EventMix benchmark_mix();
 // Every action, each often enough to show up in a few hundred events: the test load.
 EventMix test_mix();
+// The expensive cases and the everyday ones side by side, for the repair's tail (one action
+// per commit, aimed at the pool): drifts, large rises on random, tight and blossom-cycle
+// edges, matched edges that fall, new edges between existing vertices, removed edges,
+// arrivals, and departures of matched and random vertices.
+EventMix tail_mix();
+// True when the mix holds an aimed action (*): the stream is then best fed to a pool as drawn.
+bool mix_is_aimed(const EventMix& mix);
 
-// "bench", "test", or "NAME=SHARE,..." with NAME one of nudge-weight, random-weight, add,
-// remove, unset, link, vertex-burst, add-remove, set-unset, tricky-weight, re-add (the field
-// names of EventMix with '-' for '_'; unnamed shares are 0).
+// "bench", "test", "tail", or "NAME=SHARE,..." with NAME one of nudge-weight, random-weight,
+// add, remove, unset, link, vertex-burst, add-remove, set-unset, tricky-weight, re-add, rise,
+// rise-tight, rise-cycle, fall-matched, remove-matched (the field names of EventMix with '-'
+// for '_'; unnamed shares are 0).
 // Throws std::invalid_argument naming what is wrong.
 EventMix parse_mix(std::string_view text);
 // The "NAME=SHARE,..." form of the non-zero shares; parse_mix reads it back.
@@ -80,6 +100,12 @@ struct StreamSpec {
   int arrival_edges = 10;
   int explicit_add_percent = 25;  // arrivals that start with `add` rather than their first `set`
   Weight extreme_weight = 0;      // > 0: some `tricky-weight` actions set +-extreme_weight
+  // > 1: every weight the stream sets (the base graph's too) is rounded towards zero to a
+  // multiple of it: coarse weights, so ties and near-ties everywhere.
+  Weight weight_grain = 1;
+  // Each batch after the first holds the events of exactly one action, and `events` counts
+  // those batches (batch_min and batch_max are not used).
+  bool action_batches = false;
 };
 
 // A small stream for the differential tests, with every knob varied by the seed: base size in
@@ -108,11 +134,20 @@ class EventStream {
   std::size_t base_vertices() const;
   std::size_t base_edges() const;
 
+  // Aimed actions look at `pool` (nullptr: none), which the caller keeps fed: every batch
+  // committed before the next is drawn. Their events then depend on the pool's state, and so
+  // on the batch cuts; every event stays valid for the stream's own picture of the graph.
+  void aim_at(const Pool* pool);
+  // The name of the action that drew the last batch's last event (an aimed action that found
+  // no target is named as the action it fell back to): with action_batches, the batch's kind.
+  const char* last_action() const;
+
  private:
   class Builder;
   std::unique_ptr<Builder> builder_;
   std::size_t batches_ = 0;
   std::size_t events_left_ = 0;
+  bool action_batches_ = false;
 };
 
 // All batches of a stream at once.
