@@ -16,6 +16,8 @@
 //   ninja -C build yoke_memory_soak yoked
 //   build/tests/soak/yoke_memory_soak                          # 10^6 batches, 10^5 client ids
 //   build/tests/soak/yoke_memory_soak --batches 10000000 --samples 100
+// --no-retire is the control: the same stream into fresh pools that are never retired (the
+// daemon before retirement existed), whose memory grows generation after generation.
 // CTest runs a short one (memory_soak_smoke). Output: one line per sample, then
 //   memory soak: B batches (R retirements of P pools) in S s, X batches/s; rss KiB early E late L
 //   ratio Q: flat within T%
@@ -61,6 +63,7 @@ struct SoakOptions {
   std::string yoked = YOKE_YOKED_BINARY;
   std::uint64_t seed = 1;
   bool keep = false;
+  bool no_retire = false;  // the control: fresh pools every generation, none retired
 };
 
 // The daemon's ingest socket with a bounded number of requests in flight; every reply must be
@@ -143,7 +146,7 @@ void write_config(const std::filesystem::path& path, const yoke::bench::YokedEnd
       << "[logging]\nlevel = \"warn\"\n"
       << "[journal]\ndurability = \"" << options.durability << "\"\nsegment_bytes = 8388608\n"
       << "[snapshots]\nafter_events = 200000\n"
-      << "[limits]\nmax_pools = " << options.pools << "\n";
+      << "[limits]\nmax_pools = " << (options.no_retire ? 1000000 : options.pools) << "\n";
   if (!out) throw std::runtime_error("cannot write " + path.string());
 }
 
@@ -204,6 +207,7 @@ int run(const SoakOptions& options) {
       }
     }
     pipe.drain();
+    if (options.no_retire) continue;
     for (std::uint32_t k = 0; k < options.pools; ++k) {
       yoke::v1::IngestRequest request;
       request.set_version(yoke::v1::PROTOCOL_VERSION_1);
@@ -235,7 +239,7 @@ int run(const SoakOptions& options) {
               static_cast<unsigned long long>(trend.early_kib),
               static_cast<unsigned long long>(trend.late_kib), trend.ratio,
               trend.flat ? "flat" : "GREW, not", options.tolerance * 100);
-  if (left != 0) {
+  if (left != 0 && !options.no_retire) {
     std::cout << "the daemon still holds " << left << " pools after every retirement\n";
     return 1;
   }
@@ -282,6 +286,8 @@ int main(int argc, char** argv) {
   app.add_option("--yoked", options.yoked, "The yoked binary")->capture_default_str();
   app.add_option("--seed", options.seed, "Random seed")->capture_default_str();
   app.add_flag("--keep", options.keep, "Keep the work directory (data, log)");
+  app.add_flag("--no-retire", options.no_retire,
+               "The control: never retire (max_pools 10^6); memory should grow");
   CLI11_PARSE(app, argc, argv);
   if (options.generation_batches < options.pools) {
     std::cerr << "memory soak: --generation-batches must be at least --pools\n";
