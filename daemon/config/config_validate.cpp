@@ -1,5 +1,6 @@
 #include "config_validate.h"
 
+#include <string>
 #include <utility>
 #include <vector>
 
@@ -33,6 +34,13 @@ void check_endpoints(const Endpoints& endpoints) {
 }
 
 void check_pools(const DaemonConfig& config) {
+  // Declared pools are reserved against the cap (PoolRegistry::may_create): they must fit.
+  if (config.pools.size() > config.limits.max_pools) {
+    throw ConfigError("the config declares " + std::to_string(config.pools.size()) +
+                      " pools but limits.max_pools is " +
+                      std::to_string(config.limits.max_pools) +
+                      ": every declared pool has a slot reserved");
+  }
   try {
     PoolRegistry(config.pool_defaults, {});
   } catch (const InputError& error) {

@@ -175,4 +175,15 @@ std::string Registry::render() const {
   return out;
 }
 
+std::size_t Registry::forget_series(std::string_view label, std::string_view value) {
+  std::size_t removed = 0;
+  for (const std::unique_ptr<Family>& family : families_) {
+    removed += std::erase_if(family->series, [&](const auto& entry) {
+      const auto found = entry.first.find(std::string(label));
+      return found != entry.first.end() && found->second == value;
+    });
+  }
+  return removed;
+}
+
 }  // namespace yoke::daemon::metrics

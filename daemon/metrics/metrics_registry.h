@@ -46,6 +46,12 @@ class Registry {
   Histogram& histogram(std::string_view name, std::string_view help,
                        const std::vector<double>& bounds, const Labels& labels = {});
 
+  // Removes every series (of any family) that has label `label` with value `value`, e.g. the
+  // series of a retired pool, so that names that come and go do not grow the page for ever.
+  // References to the removed series become invalid. Families stay, even when empty (their
+  // HELP and TYPE lines still render). Returns how many series went. O(total series).
+  std::size_t forget_series(std::string_view label, std::string_view value);
+
   // The whole page; O(total series + buckets).
   std::string render() const;
 

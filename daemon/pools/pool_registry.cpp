@@ -14,9 +14,15 @@ const PoolSettings& PoolRegistry::settings_for(const std::string& name) const {
   return it == declared_.end() ? defaults_ : it->second;
 }
 
+bool PoolRegistry::may_create(const std::string& name, std::size_t max_pools) const {
+  if (is_declared(name)) return true;
+  return declared_.size() < max_pools && undeclared_ < max_pools - declared_.size();
+}
+
 Pool& PoolRegistry::pool(const std::string& name) {
   auto& slot = pools_[name];
   if (!slot) {
+    if (!is_declared(name)) ++undeclared_;
     const PoolSettings& settings = settings_for(name);
     slot = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
   }
@@ -29,7 +35,10 @@ Pool* PoolRegistry::find(const std::string& name) {
 }
 
 void PoolRegistry::put(const std::string& name, std::unique_ptr<Pool> pool) {
-  pools_[name] = std::move(pool);
+  auto& slot = pools_[name];
+  if (!slot && !is_declared(name)) ++undeclared_;
+  slot = std::move(pool);
+  if (!slot) erase(name);  // a null pool is no pool: the slot stays free
 }
 
 std::unique_ptr<Pool> PoolRegistry::erase(const std::string& name) {
@@ -37,6 +46,7 @@ std::unique_ptr<Pool> PoolRegistry::erase(const std::string& name) {
   if (it == pools_.end()) return nullptr;
   std::unique_ptr<Pool> pool = std::move(it->second);
   pools_.erase(it);
+  if (!is_declared(name)) --undeclared_;
   return pool;
 }
 

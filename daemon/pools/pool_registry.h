@@ -1,5 +1,7 @@
 // The daemon's pools by name. A pool is created on first use, with the mode and limits the
-// config declares for that name or else the default ones.
+// config declares for that name or else the default ones. Declared pools are reserved against
+// the daemon's cap on pools: pools the config does not name share the slots left over
+// (may_create), so a flood of throwaway names cannot take a declared pool's place.
 #pragma once
 
 #include <map>
@@ -36,10 +38,20 @@ class PoolRegistry {
   std::size_t size() const { return pools_.size(); }
   const PoolSettings& settings_for(const std::string& name) const;
 
+  bool is_declared(const std::string& name) const { return declared_.contains(name); }
+  std::size_t declared_count() const { return declared_.size(); }
+  // Existing pools that the config does not declare. O(1).
+  std::size_t undeclared_size() const { return undeclared_; }
+  // Whether a pool called `name` may be created under a cap of `max_pools`: a declared pool
+  // always (its slot is reserved; the config holds at most max_pools of them), another one
+  // while fewer than max_pools - declared_count() undeclared pools exist. O(log declared).
+  bool may_create(const std::string& name, std::size_t max_pools) const;
+
  private:
   PoolSettings defaults_;
   std::map<std::string, PoolSettings> declared_;
   std::map<std::string, std::unique_ptr<Pool>> pools_;  // ordered: names() is deterministic
+  std::size_t undeclared_ = 0;  // pools_ entries whose names declared_ does not hold
 };
 
 }  // namespace yoke::daemon

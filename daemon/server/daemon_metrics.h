@@ -22,6 +22,9 @@ class DaemonMetrics {
   void committed(const v1::Diff& diff);
   void published(std::chrono::nanoseconds commit_to_publish);
   void snapshot_written(std::chrono::nanoseconds took);
+  // Drops every series labelled with the retired pool: names that come and go must not grow
+  // the page (or the daemon) for ever. O(total series).
+  void pool_retired(const std::string& pool) { registry_.forget_series("pool", pool); }
 
   // The page, with the pools' gauges refreshed from `service` first.
   std::string render(PoolService& service, std::chrono::steady_clock::duration uptime);

@@ -164,7 +164,8 @@ void YokedServer::on_ingest_message() {
     return;
   }
   waiting_.emplace(ticket, std::move(frames));
-  if (service_.window_events() >= config_.batching.max_events) {
+  // A retirement ends its window: the pool's next batch must find it gone.
+  if (service_.window_events() >= config_.batching.max_events || service_.retire_waiting()) {
     close_window();
   } else {
     arm_window_timer();
@@ -235,6 +236,10 @@ void YokedServer::close_window() {
   for (v1::Diff& diff : diffs) {
     metrics_->committed(diff);
     publish(diff, closed);
+    if (diff.retired()) {
+      metrics_->pool_retired(diff.pool());
+      log_event(LogLevel::info, "pool_retired", {{"pool", diff.pool()}, {"seq", diff.seq()}});
+    }
   }
   if (config_.snapshots.after_events > 0 &&
       events_since_snapshot_ >= config_.snapshots.after_events) {
@@ -265,7 +270,8 @@ void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {
   const Clock::time_point now = Clock::now();
   diff.mutable_timings()->set_commit_to_publish_us(micros(now - closed));
   diff.mutable_timings()->set_publish_unix_us(unix_time_us());
-  service_.progress_of(diff.pool()).last_timings = diff.timings();
+  // A retired pool's progress is gone with it: progress_of would make it again.
+  if (!diff.retired()) service_.progress_of(diff.pool()).last_timings = diff.timings();
   v1::Publication publication;
   publication.set_version(v1::PROTOCOL_VERSION_1);
   *publication.mutable_diff() = diff;

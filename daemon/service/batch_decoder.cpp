@@ -15,6 +15,24 @@ v1::Ack refusal_for(const v1::EventBatch& batch, const std::string& pool, v1::Er
   return refused(batch_ack(batch.client_id(), batch.client_batch(), pool), std::move(error));
 }
 
+DecodeResult decode_retire(const v1::RetirePool& retire) {
+  const std::string pool = resolve_pool_name(retire.pool());
+  if (auto problem = pool_name_problem(pool)) {
+    return refused(batch_ack(retire.client_id(), retire.client_batch(), ""),
+                   make_error(v1::Error::UNKNOWN_POOL, *problem));
+  }
+  DecodedBatch decoded;
+  decoded.pool = pool;
+  decoded.client_id = retire.client_id();
+  decoded.client_batch = retire.client_batch();
+  decoded.retire = true;
+  decoded.at_seq = retire.at_seq();
+  decoded.wire.set_client_id(retire.client_id());
+  decoded.wire.set_client_batch(retire.client_batch());
+  decoded.wire.set_pool(pool);
+  return decoded;
+}
+
 }  // namespace
 
 std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t index) {
@@ -68,9 +86,11 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
                               "protocol version " + std::to_string(request.version()) +
                                   " is not spoken here; this daemon speaks version 1"));
   }
+  if (request.kind_case() == v1::IngestRequest::kRetire) return decode_retire(request.retire());
   if (request.kind_case() != v1::IngestRequest::kBatch) {
     return refusal(make_error(v1::Error::UNKNOWN_MESSAGE_KIND,
-                              "the request carries no kind this daemon knows (expected batch)"));
+                              "the request carries no kind this daemon knows (expected batch "
+                              "or retire)"));
   }
   v1::EventBatch& batch = *request.mutable_batch();
   const std::string pool = resolve_pool_name(batch.pool());

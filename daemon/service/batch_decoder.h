@@ -1,5 +1,6 @@
 // The first half of ingest: the bytes of one client message turned into a batch of engine
-// events, or into the Ack that refuses it. Checks everything that needs no pool state: size,
+// events (or a pool's retirement, a batch of none marked `retire`), or into the Ack that
+// refuses it. Checks everything that needs no pool state: size,
 // Protobuf syntax, version, message kind, events per batch, each event's fields, the pool's
 // name. The pool-dependent checks (unknown vertices, weights, limits) come after, in the
 // PoolService. This is the fuzz target's path: it must never throw or crash on any input.
@@ -25,6 +26,9 @@ struct DecodedBatch {
   std::uint64_t after_batch = 0;
   std::vector<Event> events;
   v1::EventBatch wire;  // as received: becomes the journal record
+  // A RetirePool read as a batch of no events: client id, batch and pool come from it.
+  bool retire = false;
+  std::uint64_t at_seq = 0;  // RetirePool.at_seq (retire only)
 };
 
 // A refusal: the Ack to send back (client id, batch and pool filled in when readable).

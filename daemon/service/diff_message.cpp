@@ -21,4 +21,17 @@ v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std
   return diff;
 }
 
+v1::Diff diff_of_retirement(const std::string& name, const Pool& pool, std::uint64_t seq,
+                            std::uint64_t prev_seq) {
+  v1::Diff diff;
+  diff.set_pool(name);
+  diff.set_seq(seq);
+  diff.set_prev_seq(prev_seq);
+  for (const MatchedPair& pair : pool.matching()) *diff.add_removed() = to_wire(pair);
+  diff.set_retired(true);
+  diff.mutable_timings();  // present, all zero: nothing was repaired
+  diff.mutable_stats();
+  return diff;
+}
+
 }  // namespace yoke::daemon

@@ -17,4 +17,9 @@ v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std
                         std::uint64_t prev_seq, bool no_perfect_matching,
                         std::uint64_t repair_us);
 
+// The last diff of a pool retired at `seq` (Diff.retired): every pair `pool` holds (its state
+// at prev_seq) removed, weight and pairs 0. O(vertices).
+v1::Diff diff_of_retirement(const std::string& name, const Pool& pool, std::uint64_t seq,
+                            std::uint64_t prev_seq);
+
 }  // namespace yoke::daemon

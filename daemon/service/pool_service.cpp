@@ -98,6 +98,14 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
+  if (batch.retire) return offer_retire(ticket, std::move(batch));
+  if (retiring_.contains(batch.pool)) {
+    return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
+                                             "pool " + batch.pool +
+                                                 " is being retired in the open batching window: "
+                                                 "send again once that is acknowledged (the "
+                                                 "batch then creates the pool afresh)")));
+  }
   if (!routing_.serves_every_pool()) {  // the local backend: one test, nothing looked up
     if (auto not_here = routing_.refusal(batch.pool, Asked::ingest)) {
       return refuse(rejected(batch, std::move(*not_here)));
@@ -109,11 +117,16 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   Pool* pool = state_.registry.find(batch.pool);
   std::unique_ptr<Pool> created;
   if (pool == nullptr) {
-    if (state_.registry.size() >= limits_.max_pools) {
-      return refuse(rejected(batch, make_error(v1::Error::UNKNOWN_POOL,
-                                               "pool " + batch.pool + " may not be created: the " +
-                                                   "daemon holds its limit of " +
-                                                   std::to_string(limits_.max_pools) + " pools")));
+    if (!state_.registry.may_create(batch.pool, limits_.max_pools)) {
+      return refuse(rejected(
+          batch, make_error(v1::Error::UNKNOWN_POOL,
+                            "pool " + batch.pool + " may not be created: the daemon holds " +
+                                std::to_string(state_.registry.undeclared_size()) +
+                                " pools not declared in its config, all the slots of its "
+                                "limit of " + std::to_string(limits_.max_pools) +
+                                " pools that its " +
+                                std::to_string(state_.registry.declared_count()) +
+                                " declared pools leave (retire one to free a slot)")));
     }
     const PoolSettings& settings = state_.registry.settings_for(batch.pool);
     created = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
@@ -155,6 +168,44 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   return std::nullopt;
 }
 
+std::optional<v1::Ack> PoolService::offer_retire(Ticket ticket, DecodedBatch batch) {
+  if (!routing_.serves_every_pool()) {
+    return refuse(rejected(batch, make_error(v1::Error::RETIRE_NOT_SUPPORTED,
+                                             "pools are not retired by a daemon of a cluster "
+                                             "(backend jetstream): pool " + batch.pool +
+                                                 " is unchanged")));
+  }
+  const auto unavailable = [&](const std::string& why) {
+    return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE, why)));
+  };
+  if (retiring_.contains(batch.pool)) {
+    return unavailable("pool " + batch.pool +
+                       " is being retired in the open batching window: send again once that "
+                       "is acknowledged");
+  }
+  Pool* pool = state_.registry.find(batch.pool);
+  if (pool == nullptr) {
+    return refuse(rejected(batch, make_error(v1::Error::UNKNOWN_POOL,
+                                             "there is no pool " + batch.pool +
+                                                 " to retire (never created, or retired "
+                                                 "already)")));
+  }
+  WindowPool& in_window = window_pool(batch.pool, *pool);
+  const std::uint64_t last_seq = in_window.next_seq - 1;
+  if (batch.at_seq != 0 && batch.at_seq != last_seq) {
+    if (in_window.next_seq == in_window.seq_before + 1) window_pools_.erase(batch.pool);
+    return refuse(rejected(batch, make_error(v1::Error::SEQ_MISMATCH,
+                                             "pool " + batch.pool + " is at seq " +
+                                                 std::to_string(last_seq) + ", not at seq " +
+                                                 std::to_string(batch.at_seq) +
+                                                 ": not retired")));
+  }
+  const std::uint64_t seq = in_window.next_seq++;
+  retiring_.insert(batch.pool);
+  window_.push_back({ticket, seq, std::move(batch)});
+  return std::nullopt;
+}
+
 std::optional<v1::Ack> PoolService::answer_retry(Ticket ticket, const DecodedBatch& batch) {
   const AppliedBatch last = *state_.ledger.last(batch.pool, batch.client_id);
   ++state_.progress[batch.pool].batches_duplicate;
@@ -192,7 +243,8 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
     record.set_client_batch(batch.client_batch);
     record.mutable_events()->Swap(batch.wire.mutable_events());
     record.set_wall_time_unix_us(wall_time);
-    if (pending.seq == 1) {
+    record.set_retired(batch.retire);
+    if (pending.seq == 1 && !batch.retire) {
       const Pool& pool = *state_.registry.find(batch.pool);
       *record.mutable_created() = pool_config(pool);
     }
@@ -234,6 +286,7 @@ std::vector<v1::Diff> PoolService::apply() {
     std::vector<Event> events;
     std::uint64_t last_seq = 0;
     std::uint64_t batches = 0;
+    bool retired = false;  // its last entry retires it (always the last: seal() closes there)
   };
   std::map<std::string, PoolWork> work;  // name order: diffs go out in a fixed order
   for (PendingBatch& pending : sealed_) {
@@ -242,13 +295,22 @@ std::vector<v1::Diff> PoolService::apply() {
                             pending.batch.events.end());
     pool_work.last_seq = pending.seq;
     ++pool_work.batches;
+    pool_work.retired = pool_work.retired || pending.batch.retire;
   }
   sealed_.clear();
+  retiring_.clear();
 
   std::vector<v1::Diff> diffs;
   diffs.reserve(work.size());
   for (auto& [name, pool_work] : work) {
     Pool& pool = *state_.registry.find(name);
+    if (pool_work.retired) {
+      // Nothing to repair: the pool ends here (the window's batches before the retirement are
+      // in the journal, and replay drops them with the pool as this does).
+      diffs.push_back(diff_of_retirement(name, pool, pool_work.last_seq, sealed_seq_before_[name]));
+      take_pool_state(state_, name);
+      continue;
+    }
     const auto start = std::chrono::steady_clock::now();
     const CommitResult result = pool.commit(pool_work.events);
     const auto repair_us = static_cast<std::uint64_t>(

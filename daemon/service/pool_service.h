@@ -19,6 +19,7 @@
 #include <cstdint>
 #include <map>
 #include <optional>
+#include <set>
 #include <string>
 #include <string_view>
 #include <utility>
@@ -73,6 +74,10 @@ class PoolService {
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
+  // The open window holds a pool's retirement (RetirePool, ingest.proto): the caller should
+  // close it now, so that the pool's next batches find it gone. Until apply(), batches and
+  // retirements of that pool are refused with UNAVAILABLE (send again).
+  bool retire_waiting() const { return !retiring_.empty() && !window_.empty(); }
   std::size_t window_events() const { return window_events_; }
 
   // Commits the window's batches to the log (one JournalRecord per batch, in the order they
@@ -87,7 +92,9 @@ class PoolService {
   std::vector<std::pair<Ticket, v1::Ack>> seal(std::vector<std::string>* lost_pools = nullptr);
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order.
-  // Timings carry repair_us only; the publisher fills in the rest.
+  // Timings carry repair_us only; the publisher fills in the rest. A pool retired in the window
+  // is not repaired: its diff says so (Diff.retired, every pair removed) and its whole state
+  // goes (pool, progress, retry marks), which frees its slot under max_pools.
   std::vector<v1::Diff> apply();
 
   PoolRegistry& registry() { return state_.registry; }
@@ -116,6 +123,7 @@ class PoolService {
 
   v1::Ack refuse(v1::Ack ack);
   std::optional<v1::Ack> answer_retry(Ticket ticket, const DecodedBatch& batch);
+  std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
   WindowPool& window_pool(const std::string& name, Pool& pool);
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.
@@ -131,6 +139,7 @@ class PoolService {
   std::vector<std::pair<Ticket, v1::Ack>> waiting_duplicates_;  // retries of batches in the window
   std::vector<PendingBatch> sealed_;
   std::map<std::string, std::uint64_t> sealed_seq_before_;
+  std::set<std::string> retiring_;  // pools retired by the open or sealed window
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
 };

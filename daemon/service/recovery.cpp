@@ -112,8 +112,19 @@ std::optional<CommitResult> apply_commit_group(const CommitGroup& group, Service
   }
   for (std::size_t i = 0; i < group.records.size(); ++i) {
     if (group.records[i].seq() != first_seq + i) throw fail("sequence numbers have a gap");
+    if (group.records[i].retired() && i + 1 != group.records.size()) {
+      throw fail("the retirement at seq " + std::to_string(group.records[i].seq()) +
+                 " does not end its window");
+    }
   }
   Pool* pool = state.registry.find(group.pool);
+  if (group.records.back().retired()) {
+    // The pool ends here, as PoolService::apply() ended it: the window's earlier batches
+    // (checked when they were accepted) change nothing that stays.
+    if (pool == nullptr && first_seq != 1) throw fail("the pool's earlier records are missing");
+    take_pool_state(state, group.pool);
+    return CommitResult{};
+  }
   if (pool == nullptr) {
     if (first_seq != 1) throw fail("the pool's earlier records are missing");
     state.registry.put(group.pool, pool_from_record(group.records.front()));

@@ -67,7 +67,9 @@ std::uint64_t catch_up_pool(storage::CommitLogView& log, const std::string& pool
 
 // Applies one commit group to the state (recovery, and tools that replay a journal): creates
 // the pool from its first record, checks the sequence numbers and the events, commits, and
-// records the client marks; the pool's last_position becomes the group's position. Records
+// records the client marks; the pool's last_position becomes the group's position. A group
+// that ends with a retirement (JournalRecord.retired) drops the pool whole instead (its next
+// group, if any, starts again at seq 1) and returns an empty CommitResult. Records
 // already in the state (seq <= the pool's) are skipped: returns nullopt for a group skipped so,
 // the commit's result (what its diff says) for one applied. Throws RecoveryError when the
 // group does not continue the pool's history.

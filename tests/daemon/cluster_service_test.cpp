@@ -164,6 +164,25 @@ TEST_F(ClusterServiceTest, BatchesForPoolsNotServedHereAreRefusedAndChangeNothin
   EXPECT_EQ(service().refusals().at(v1::Error::UNKNOWN_POOL), 2u);
 }
 
+// Retiring a pool is a local-backend operation: a shared log keeps a pool's claims and
+// subjects for good, so a daemon of a cluster refuses it clearly, even for a pool it serves.
+TEST_F(ClusterServiceTest, RetirementIsRefusedAndChangesNothing) {
+  service().adopt_pool("quillory", PoolState{});
+  EXPECT_FALSE(offer(1, {wire_set(1, 2, 5)}, from_client("van-7", 1, "quillory")).has_value());
+  harness_.close();
+  const PoolView before = view_of(service(), "quillory");
+  const std::uint64_t position = service().next_journal_position();
+  for (const std::string pool : {"quillory", "harbour", "lagoon"}) {
+    const auto ack = service().offer(2, testing::retire_message(pool, 0, "desk", 1));
+    ASSERT_TRUE(ack.has_value());
+    EXPECT_EQ(first_error(*ack).code(), v1::Error::RETIRE_NOT_SUPPORTED) << pool;
+  }
+  EXPECT_TRUE(service().window_empty());
+  harness_.close();
+  EXPECT_EQ(service().next_journal_position(), position);
+  EXPECT_EQ(view_of(service(), "quillory"), before);
+}
+
 TEST_F(ClusterServiceTest, AnAdoptedPoolIsServedAndAGivenUpOneRefusesItsOpenWindow) {
   service().adopt_pool("quillory", PoolState{});  // no history: created by its first batch
   EXPECT_EQ(service().routing().served_here(), std::vector<std::string>{"quillory"});

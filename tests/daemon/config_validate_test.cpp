@@ -73,6 +73,16 @@ TEST(ConfigValidate, PoolSettingsMustStayExact) {
             "");
 }
 
+// Declared pools have their slots reserved under max_pools: they must all fit.
+TEST(ConfigValidate, DeclaredPoolsMustFitUnderMaxPools) {
+  const std::string pools = "[pools.vardolune]\nmode = \"max-weight\"\n"
+                            "[pools.quillory]\nmode = \"max-weight\"\n";
+  EXPECT_EQ(validate_error("[limits]\nmax_pools = 1\n" + pools),
+            "the config declares 2 pools but limits.max_pools is 1: every declared pool has a "
+            "slot reserved");
+  EXPECT_EQ(validate_error("[limits]\nmax_pools = 2\n" + pools), "");
+}
+
 TEST(ConfigValidate, AMessageMustFitAJournalRecord) {
   EXPECT_EQ(validate_error("[limits]\nmax_message_bytes = 33554432\n"),
             "limits.max_message_bytes (33554432) exceeds journal.max_record_bytes (16777216): "

@@ -90,6 +90,18 @@ std::string ingest_message(const std::vector<v1::Event>& events, const BatchHead
   return ingest_message(make_batch(events, header));
 }
 
+std::string retire_message(const std::string& pool, std::uint64_t at_seq,
+                           const std::string& client_id, std::uint64_t client_batch) {
+  v1::IngestRequest request;
+  request.set_version(1);
+  v1::RetirePool& retire = *request.mutable_retire();
+  retire.set_pool(pool);
+  retire.set_at_seq(at_seq);
+  retire.set_client_id(client_id);
+  retire.set_client_batch(client_batch);
+  return request.SerializeAsString();
+}
+
 std::vector<Event> engine_events(const std::vector<v1::Event>& events) {
   std::vector<Event> out;
   for (std::size_t i = 0; i < events.size(); ++i) {

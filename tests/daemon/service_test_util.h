@@ -58,6 +58,9 @@ v1::EventBatch make_batch(const std::vector<v1::Event>& events, const BatchHeade
 // A serialized IngestRequest holding the batch, version 1 unless told.
 std::string ingest_message(const v1::EventBatch& batch, std::uint32_t version = 1);
 std::string ingest_message(const std::vector<v1::Event>& events, const BatchHeader& header = {});
+// A serialized IngestRequest holding RetirePool{client id, batch, pool, at_seq}.
+std::string retire_message(const std::string& pool, std::uint64_t at_seq = 0,
+                           const std::string& client_id = "", std::uint64_t client_batch = 0);
 
 // The engine events of wire events (every one valid).
 std::vector<Event> engine_events(const std::vector<v1::Event>& events);

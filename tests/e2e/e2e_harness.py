@@ -407,6 +407,7 @@ class Daemon:
         """`yoke` with this daemon's endpoints filled in for the commands that take them."""
         args = list(args)
         endpoint_flags = {"send": ["--ingest", self.ingest],
+                          "retire": ["--ingest", self.ingest],
                           "watch": ["--publish", self.publish, "--query", self.query],
                           "query": ["--query", self.query]}
         return run_yoke(*(args + endpoint_flags.get(args[0], [])), **kwargs)

@@ -72,7 +72,7 @@ DaemonConfig make_config() {
   config.journal.segment_bytes = std::uint64_t{1} << 20;
   config.limits.max_message_bytes = 200;  // below the 255 a frame can carry: OVERSIZED is reachable
   config.limits.max_events_per_batch = 24;
-  config.limits.max_pools = 4;  // the three declared, the default, and then refusals
+  config.limits.max_pools = 4;  // the three declared (reserved), one other, then refusals
   config.pool_defaults = {Mode::max_weight, {16, 40, 0}};
   config.pools["c"] = {Mode::max_cardinality, {12, 30, 0}};
   config.pools["p"] = {Mode::perfect, {10, 20, 1000}};
@@ -142,6 +142,7 @@ struct PoolModel {
   std::uint64_t seq_before = 0;
   std::uint64_t next_seq = 0;
   std::size_t batches = 0;  // accepted in this window
+  bool retiring = false;    // retired in this window (RetirePool): gone at its commit
 };
 
 // The pools' sizes, to show that a refusal changed none of them.
@@ -175,6 +176,8 @@ class Run {
     return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {}};
   }
   PoolModel& model_of(const std::string& name);
+  static void open_window(PoolModel& pool);
+  bool declared(const std::string& name) const { return fixture_.config.pools.contains(name); }
   Fingerprint fingerprint();
   void check_unchanged(const Fingerprint& before, std::size_t window_events_before);
   void check_pool(const std::string& name);
@@ -184,10 +187,19 @@ class Run {
   QueryHandler queries_;
   Ticket next_ticket_ = 1;
   std::map<std::string, PoolModel> pools_;  // every pool a decoded batch named
-  std::size_t existing_pools_ = 0;
+  std::size_t existing_undeclared_ = 0;  // pools held that the config does not declare
   std::map<std::pair<std::string, std::string>, AppliedBatch> ledger_;  // (pool, client)
   std::map<Ticket, v1::Ack> waiting_;  // replies due at seal()
 };
+
+void Run::open_window(PoolModel& pool) {
+  if (pool.open) return;
+  pool.open = true;
+  pool.window = pool.committed;
+  pool.count = {pool.committed.edges.size(), 0, 0};
+  pool.seq_before = pool.seq;
+  pool.next_seq = pool.seq + 1;
+}
 
 PoolModel& Run::model_of(const std::string& name) {
   auto [it, inserted] = pools_.try_emplace(name);
@@ -261,9 +273,38 @@ void Run::ingest(std::string_view message) {
     check_unchanged(before, window_events_before);
   };
 
-  // The cap on pools (InputLimits::max_pools). The service applies it before the retry rules; a
-  // batch refused by both may name either.
-  if (!pool.exists && existing_pools_ >= fixture_.config.limits.max_pools) {
+  // A pool retired in the open window takes nothing more until the window is applied.
+  if (pool.retiring) {
+    expect_refusal({v1::Error::UNAVAILABLE}, std::nullopt);
+    return;
+  }
+  // Retiring a pool (ingest.proto, RetirePool): one that exists, at at_seq when given.
+  if (batch.retire) {
+    if (!pool.exists) {
+      expect_refusal({v1::Error::UNKNOWN_POOL}, std::nullopt);
+      return;
+    }
+    const std::uint64_t last = pool.open ? pool.next_seq - 1 : pool.seq;
+    if (batch.at_seq != 0 && batch.at_seq != last) {
+      expect_refusal({v1::Error::SEQ_MISMATCH}, std::nullopt);
+      return;
+    }
+    if (got) violated("the model retires a pool the service did not", __LINE__, got->DebugString());
+    open_window(pool);
+    ++pool.batches;
+    pool.retiring = true;
+    waiting_.emplace(ticket, accepted_ack(batch, pool.next_seq++, false));
+    REQUIRE(service_.retire_waiting());
+    REQUIRE(service_.window_events() == window_events_before);
+    return;
+  }
+
+  // The cap on pools (InputLimits::max_pools): declared pools have their slots reserved, the
+  // others share the rest. The service applies it before the retry rules; a batch refused by
+  // both may name either.
+  const std::size_t undeclared_slots =
+      fixture_.config.limits.max_pools - fixture_.config.pools.size();
+  if (!pool.exists && !declared(batch.pool) && existing_undeclared_ >= undeclared_slots) {
     std::vector<v1::Error::Code> codes = {v1::Error::UNKNOWN_POOL};
     if (!batch.client_id.empty() && batch.after_batch != 0) {
       codes.push_back(v1::Error::OUT_OF_ORDER);
@@ -294,13 +335,7 @@ void Run::ingest(std::string_view message) {
   }
 
   // The pool's checks, against the pool plus the window's accepted batches.
-  if (!pool.open) {
-    pool.open = true;
-    pool.window = pool.committed;
-    pool.count = {pool.committed.edges.size(), 0, 0};
-    pool.seq_before = pool.seq;
-    pool.next_seq = pool.seq + 1;
-  }
+  open_window(pool);
   fuzz::ModelGraph graph = pool.window;
   fuzz::WindowCount count = pool.count;
   fuzz::BatchLimits limits(pool.limits);
@@ -321,7 +356,7 @@ void Run::ingest(std::string_view message) {
   }
   if (!pool.exists) {
     pool.exists = true;
-    ++existing_pools_;
+    if (!declared(batch.pool)) ++existing_undeclared_;
   }
   const Pool* held = service_.registry().find(batch.pool);
   REQUIRE(held != nullptr && held->limits().max_abs_weight == pool.limits.max_abs_weight);
@@ -350,13 +385,33 @@ void Run::close_window() {
 
   const std::vector<v1::Diff> diffs = service_.apply();
   auto diff = diffs.begin();
-  for (auto& [name, pool] : pools_) {  // the service's diffs come in name order too
+  for (auto entry = pools_.begin(); entry != pools_.end();) {  // the diffs come in name order too
+    const std::string& name = entry->first;
+    PoolModel& pool = entry->second;
     const bool committed = pool.batches > 0;
     pool.open = false;
     pool.batches = 0;
-    if (!committed) continue;
+    if (!committed) {
+      ++entry;
+      continue;
+    }
     REQUIRE(diff != diffs.end() && diff->pool() == name);
     REQUIRE(diff->prev_seq() == pool.seq_before && diff->seq() == pool.next_seq - 1);
+    REQUIRE(diff->retired() == pool.retiring);
+    if (pool.retiring) {
+      // Its last diff removes every pair it held; then nothing of it is left.
+      std::map<EdgeKey, Weight> removed;
+      for (const v1::Pair& pair : diff->removed()) removed.emplace(EdgeKey{pair.a(), pair.b()}, pair.weight());
+      REQUIRE(removed == pool.matching && diff->added_size() == 0);
+      REQUIRE(diff->weight() == 0 && diff->pairs() == 0);
+      REQUIRE(service_.registry().find(name) == nullptr && service_.progress(name) == nullptr);
+      REQUIRE(service_.ledger().clients_of(name).empty());
+      std::erase_if(ledger_, [&name](const auto& mark) { return mark.first.first == name; });
+      if (!declared(name)) --existing_undeclared_;
+      entry = pools_.erase(entry);
+      ++diff;
+      continue;
+    }
     // The matching as the diffs tell it: removed pairs carry their weight before the commit.
     for (const v1::Pair& pair : diff->removed()) {
       const auto it = pool.matching.find({pair.a(), pair.b()});
@@ -382,6 +437,7 @@ void Run::close_window() {
     REQUIRE(diff->weight() == total && diff->pairs() == pool.matching.size());
     check_pool(name);
     ++diff;
+    ++entry;
   }
   REQUIRE(diff == diffs.end());
 }

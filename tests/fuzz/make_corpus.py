@@ -37,6 +37,15 @@ def batch(events, pool="", client="", number=0, after=0, version=V1):
     return frame(INGEST, request.SerializeToString())
 
 
+def retire(pool="", at_seq=0, client="", number=0):
+    request = ingest_pb2.IngestRequest(version=V1)
+    request.retire.pool = pool
+    request.retire.at_seq = at_seq
+    request.retire.client_id = client
+    request.retire.client_batch = number
+    return frame(INGEST, request.SerializeToString())
+
+
 def add(u):
     return {"kind": E.ADD_VERTEX, "u": u}
 
@@ -138,7 +147,7 @@ def seeds():
         batch([add(7), add(8)], pool="w"),  # refused: vertex 8 would be the seventh
         all_queries("w", vertex=1),
     ])
-    yield "pool_cap", b"".join([  # the target allows 4 pools
+    yield "pool_cap", b"".join([  # 4 pools: c, p and w declared (reserved), one other
         batch([add(1)], pool="p"),
         batch([remove(1)], pool="y"),  # refused: pool y is not created
         query("y", summary=query_pb2.SummaryRequest()),
@@ -146,6 +155,25 @@ def seeds():
         batch([add(1)], pool="x"),  # a fifth pool: refused
         frame(COMMIT),
         query("x", summary=query_pb2.SummaryRequest()),
+    ])
+    yield "retire", b"".join([  # retirements free the one undeclared slot and reset a pool
+        batch(CYCLES, pool="c", client="a", number=1),
+        batch([add(1)], pool="x"),  # the one slot for pools not declared
+        batch([add(1)], pool="y"),  # refused: no slot left
+        frame(COMMIT),
+        retire("x", at_seq=2),  # refused: x is at seq 1
+        retire("z"),  # refused: no pool z
+        batch([set_edge(3, 4, 40)], pool="c", client="a", number=2, after=1),
+        retire("c", at_seq=2, client="r", number=1),
+        batch([add(9)], pool="c"),  # refused: c is retired in the open window
+        retire("x"),
+        frame(COMMIT),
+        query("c", summary=query_pb2.SummaryRequest()),
+        batch([add(1)], pool="y"),  # x's slot is free again
+        batch([add(1)], pool="c", client="a", number=3, after=2),  # out of order: marks gone
+        batch([add(1)], pool="c", client="a", number=3),  # c afresh, at seq 1
+        frame(COMMIT),
+        all_queries("c", vertex=1),
     ])
     yield "refusals", b"".join([
         batch([set_edge(1, 1, 2)]),  # self loop

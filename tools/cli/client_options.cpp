@@ -1,8 +1,18 @@
 #include "client_options.h"
 
+#include <unistd.h>
+
+#include <array>
+
 #include "number_options.h"
 
 namespace yoke::cli {
+
+std::string default_client_id(const std::string& command) {
+  std::array<char, 256> host{};
+  if (gethostname(host.data(), host.size() - 1) != 0) host[0] = '\0';
+  return "yoke-" + command + "-" + std::string(host.data()) + "-" + std::to_string(getpid());
+}
 
 const CLI::Validator kNotEmpty(
     [](std::string& text) { return text.empty() ? std::string("must not be empty") : ""; }, "");

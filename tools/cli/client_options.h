@@ -36,6 +36,10 @@ CLI::Option* add_owner_wait_option(CLI::App& command, std::uint64_t& owner_wait_
 // The text for --help footers of the commands that take several endpoints.
 extern const char* const kEndpointsHelp;
 
+// "yoke-COMMAND-HOST-PID": the client id a command that sends to the ingest socket uses when
+// none is given.
+std::string default_client_id(const std::string& command);
+
 // --timeout-ms T, a whole number of milliseconds; `allow_zero` when 0 means "no timeout".
 CLI::Option* add_timeout_option(CLI::App& command, std::uint64_t& timeout_ms,
                                 const std::string& description, bool allow_zero);

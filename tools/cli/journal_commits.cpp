@@ -34,7 +34,13 @@ std::vector<std::string> JournalCommits::pools_in(storage::CommitLogView& log) {
   std::set<std::string> pools;
   try {
     const std::unique_ptr<storage::GroupReader> reader = log.read_from(0);
-    while (auto group = reader->next()) pools.insert(group->pool);
+    while (auto group = reader->next()) {
+      if (!group->records.empty() && group->records.back().retired()) {
+        pools.erase(group->pool);  // until a later group creates it again
+      } else {
+        pools.insert(group->pool);
+      }
+    }
   } catch (const std::exception& error) {
     throw CliError(log.describe() + ": " + error.what());
   }
@@ -75,12 +81,24 @@ void JournalCommits::read_groups(storage::CommitLogView& log, bool count_events)
   try {
     const std::unique_ptr<storage::GroupReader> reader = log.read_from(0, pool_);
     while (auto group = reader->next()) {
+      if (!group->records.empty() && group->records.back().retired()) {
+        // The pool's life so far ends here; a later group starts a new one at seq 1.
+        retired_at_ = {group->position, group->records.back().seq()};
+        groups_.clear();
+        event_counts_.clear();
+        continue;
+      }
       if (count_events) {
         for (const v1::JournalRecord& record : group->records) {
           event_counts_[record.seq()] = static_cast<std::size_t>(record.events_size());
         }
       }
       groups_.push_back(daemon::to_commit_group(std::move(*group)));
+    }
+    if (retired_at_ && !groups_.empty()) {
+      std::cerr << "note: pool " << pool_ << " was retired at seq " << retired_at_->second
+                << " (log position " << retired_at_->first
+                << ") and created again: replaying its life since\n";
     }
     if (const auto early = reader->stopped_early()) {
       std::cerr << "note: " << *early << ": not replayed\n";
@@ -96,6 +114,12 @@ void JournalCommits::read_groups(storage::CommitLogView& log, bool count_events)
 }
 
 std::unique_ptr<Pool> JournalCommits::start(std::uint64_t from_seq) {
+  if (groups_.empty() && retired_at_) {
+    throw CliError(log_name_ + ": pool " + pool_ + " was retired at seq " +
+                   std::to_string(retired_at_->second) + " (log position " +
+                   std::to_string(retired_at_->first) +
+                   ") and not created again: it holds nothing to replay");
+  }
   if (groups_.empty()) {
     // A log trimmed below the pool's newest snapshot, with nothing written since (a daemon
     // stopped right after its snapshot): the snapshot is the whole story.
@@ -127,6 +151,8 @@ std::unique_ptr<Pool> JournalCommits::restore_snapshot(std::uint64_t most, bool 
   const std::uint64_t journal_first = groups_.empty() ? 0 : groups_.front().records.front().seq();
   std::optional<v1::SnapshotRecord> best;
   for (const storage::Position position : snapshots_->positions()) {
+    // A snapshot from before the pool's last retirement holds an earlier life.
+    if (retired_at_ && position <= retired_at_->first) continue;
     try {
       const storage::SnapshotContents contents = snapshots_->read(position);
       for (const v1::SnapshotRecord& record : contents.pools) {

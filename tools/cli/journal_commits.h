@@ -3,6 +3,10 @@
 // from an empty pool made with the settings of the pool's first record, or from a snapshot
 // when the log no longer holds the pool's first records. Reads through the storage interfaces;
 // a data directory opens the local backend (journal/ and snapshots/) read only.
+//
+// A pool retired and created again has several lives in the log (JournalRecord.retired): the
+// commits are those of its current life, the groups after its last retirement (whose seqs
+// start at 1 again); snapshots from before that retirement are not used.
 #pragma once
 
 #include <cstdint>
@@ -11,6 +15,7 @@
 #include <optional>
 #include <string>
 #include <unordered_map>
+#include <utility>
 #include <vector>
 
 #include "daemon/service/commit_groups.h"
@@ -34,8 +39,8 @@ class JournalCommits {
   JournalCommits(storage::CommitLogView& log, const storage::SnapshotStore* snapshots,
                  const std::string& pool, bool count_events = false);
 
-  // The names of the pools `log` holds groups of, sorted. Reads the whole log (every pool's
-  // subjects): O(bytes stored). Throws CliError naming the log when it cannot be read.
+  // The names of the pools `log` holds groups of and that are not retired at its end, sorted.
+  // Reads the whole log (every pool's subjects): O(bytes stored). Throws CliError naming the log when it cannot be read.
   static std::vector<std::string> pools_in(storage::CommitLogView& log);
   // The same for a data directory (or its journal/), as the first constructor finds it.
   static std::vector<std::string> pools_in(const std::filesystem::path& path);
@@ -77,6 +82,8 @@ class JournalCommits {
   std::size_t next_ = 0;
   std::optional<std::uint64_t> snapshot_seq_;
   std::unordered_map<std::uint64_t, std::size_t> event_counts_;  // seq -> events (count_events)
+  // The pool's last retirement in the log, if any: the group's position and seq.
+  std::optional<std::pair<std::uint64_t, std::uint64_t>> retired_at_;
 };
 
 }  // namespace yoke::cli

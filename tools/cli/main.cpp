@@ -10,6 +10,7 @@
 #include "gen_command.h"
 #include "query_command.h"
 #include "replay_command.h"
+#include "retire_command.h"
 #include "send_command.h"
 #include "solve_command.h"
 #include "verify_command.h"
@@ -56,6 +57,7 @@ int main(int argc, char** argv) {
   SendOptions send_options;
   WatchOptions watch_options;
   QueryOptions query_options;
+  RetireOptions retire_options;
   const CLI::App* solve = add_solve_command(app, solve_options);
   const CLI::App* verify = add_verify_command(app, verify_options);
   const CLI::App* gen = add_gen_command(app, gen_options);
@@ -63,6 +65,7 @@ int main(int argc, char** argv) {
   const CLI::App* send = add_send_command(app, send_options);
   const CLI::App* watch = add_watch_command(app, watch_options);
   const CLI::App* query = add_query_command(app, query_options);
+  const CLI::App* retire = add_retire_command(app, retire_options);
 
   try {
     app.parse(argc, argv);
@@ -78,6 +81,7 @@ int main(int argc, char** argv) {
     if (send->parsed()) return run_send(send_options);
     if (watch->parsed()) return run_watch(watch_options);
     if (query->parsed()) return run_query(query_options);
+    if (retire->parsed()) return run_retire(retire_options);
     return report_error("", "no command given");
   } catch (const UnavailableError& error) {
     return report_error("", error.what(), kExitUnavailable);

@@ -69,6 +69,7 @@ Json diff_json(const v1::Diff& diff) {
   // The timings sit at the top level: they are what a watcher graphs most often.
   out.update(timings_json(diff.timings()));
   out["stats"] = repair_stats_json(diff.stats());
+  if (diff.retired()) out["retired"] = true;  // only then: older readers' lines stay as they were
   return out;
 }
 

@@ -1,8 +1,5 @@
 #include "send_command.h"
 
-#include <unistd.h>
-
-#include <array>
 #include <iostream>
 
 #include "batch_sender.h"
@@ -45,12 +42,6 @@ std::string ingest_request(const formats::ScriptBatch& batch, const SendOptions&
   out.mutable_events()->Reserve(static_cast<int>(batch.events.size()));
   for (const Event& event : batch.events) *out.add_events() = daemon::to_wire(event);
   return request.SerializeAsString();
-}
-
-std::string default_client_id() {
-  std::array<char, 256> host{};
-  if (gethostname(host.data(), host.size() - 1) != 0) host[0] = '\0';
-  return "yoke-send-" + std::string(host.data()) + "-" + std::to_string(getpid());
 }
 
 // The line a refusal is about: its event's, or else the batch's `commit` (the last event's
@@ -132,7 +123,7 @@ CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
 int run_send(const SendOptions& options) {
   const formats::EventScript script = load_event_script(options.script_path);
   const std::string client_id =
-      options.client_id.empty() ? default_client_id() : options.client_id;
+      options.client_id.empty() ? default_client_id("send") : options.client_id;
 
   SenderSettings settings;
   settings.client_id = client_id;

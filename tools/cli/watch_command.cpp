@@ -27,6 +27,8 @@ constexpr const char* kWatchHelp =
     "  {\"pool\",\"seq\",\"prev_seq\",\"weight\",\"pairs\",\"no_perfect_matching\",\n"
     "   \"removed\":[[A,B,W],...],\"added\":[[A,B,W],...],\"repair_us\",\n"
     "   \"commit_to_publish_us\",\"publish_unix_us\",\"stats\":{...}}\n"
+    "and \"retired\":true on a pool's last diff (`yoke retire`: every pair removed); the pool\n"
+    "made again later under that name starts over at seq 1.\n"
     "With --catch-up, first the pool's whole matching with \"catch_up\":true (as `yoke query\n"
     "matching` prints it), then the diffs after its seq; a missed diff is noted on stderr\n"
     "(note: ...) and the matching fetched again, printed the same way.\n"
@@ -227,6 +229,11 @@ class Watcher {
     print_line(diff_json(diff));
     last_printed_ = diff.seq();
     ++printed_;
+    if (diff.retired()) {
+      // The pool's last diff: a pool of the same name made later starts again from seq 0.
+      last_printed_ = 0;
+      if (held_seq_) held_seq_ = 0;
+    }
   }
 
   void catch_up() {

@@ -34,6 +34,8 @@ class YokedProcess {
                                            std::chrono::seconds limit);
   // SIGTERM (clean: final snapshot) or SIGKILL; waits for the exit and returns its status.
   int stop(bool kill);
+  // The child's process id (-1 once stopped), e.g. to read /proc/PID/status.
+  pid_t pid() const { return pid_; }
 
  private:
   pid_t pid_ = -1;

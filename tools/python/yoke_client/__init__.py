@@ -1,6 +1,7 @@
 """yoke_client: a small Python client of yoked (proto/yoke/v1/*.proto is the wire spec).
 
-    Sender(ingest_endpoint, pool, ...)      batches in, exactly once        (sender.py)
+    Sender(ingest_endpoint, pool, ...)      batches in, exactly once;       (sender.py)
+                                            .retire() deletes the pool
     Query(query_endpoint)                   questions, as plain dicts       (query.py)
     Watcher(publish_endpoint, pool, ...)    diffs out, optional catch-up    (watcher.py)
     add_vertex, set_edge, unset_edge,       events as tuples                (events.py)

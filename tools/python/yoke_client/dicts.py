@@ -46,6 +46,8 @@ def diff(d):
            "removed": _pairs(d.removed), "added": _pairs(d.added)}
     out.update(_timings(d.timings))
     out["stats"] = _repair(d.stats)
+    if d.retired:
+        out["retired"] = True  # the pool's last diff: every pair removed
     return out
 
 

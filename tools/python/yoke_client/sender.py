@@ -1,5 +1,6 @@
 """Sender: batches of events into one pool through the ingest socket (default
-tcp://127.0.0.1:7410), pipelined, resent until acknowledged, each applied exactly once.
+tcp://127.0.0.1:7410), pipelined, resent until acknowledged, each applied exactly once; and the
+pool's retirement (Sender.retire).
 
 How (proto/yoke/v1/events.proto, EventBatch): every batch carries this sender's client id and a
 batch number; numbers increase (the first of a call is the current Unix time in microseconds, or
@@ -79,6 +80,29 @@ class Sender(DealerConnection):
         acknowledged may or may not be applied; the next call sends without a predecessor
         condition)."""
         return [ack.seq for ack in self._pipeline(list(batches))]
+
+    def retire(self, at_seq=0):
+        """Retires (deletes) this sender's pool (RetirePool, proto/yoke/v1/ingest.proto) and
+        returns its Ack once durable: seq is the retirement's own seq (the pool's last + 1).
+        With at_seq, only if the pool's last seq is at_seq. The pool's state and its clients'
+        retry marks go; the next send() creates it afresh at seq 1 (without a predecessor
+        condition). Raises Rejected (UNKNOWN_POOL: no such pool, also when an earlier attempt
+        retired it; SEQ_MISMATCH; RETIRE_NOT_SUPPORTED in a cluster) or Unavailable."""
+        number = max(time.time_ns() // 1000, self._last_used + 1)
+        self._last_used = number
+        request = ingest_pb2.IngestRequest(version=VERSION)
+        retire = request.retire
+        retire.client_id, retire.client_batch = self.client_id, number
+        retire.pool, retire.at_seq = self.pool, at_seq
+        run = _Run(self, [request.SerializeToString()], [number])
+        try:
+            ack = run.wait()[0]
+        except Unavailable:
+            self._last_applied = 0
+            self.close()
+            raise
+        self._last_applied = 0  # the pool's marks went with it
+        return ack
 
     # --- the pipeline ---
 

@@ -162,6 +162,12 @@ class Watcher:
         if self.matching is not None and not self._apply(diff):
             return None
         self._last = diff.seq
+        if diff.retired:
+            # The pool's last diff (Sender.retire): one made again under its name starts at
+            # seq 1, following seq 0.
+            self._last = 0
+            if self.matching is not None:
+                self.seq = 0
         return dicts.diff(diff)
 
     def _take_held(self):
