@@ -7,7 +7,10 @@ one more than the last number used), and each batch names the previous batch's n
 after_batch (0 for the sender's very first batch), so the daemon never applies a batch whose
 predecessor was lost. On silence (timeout_s) or an OUT_OF_ORDER / UNAVAILABLE refusal the sender
 resends from the oldest unacknowledged batch with the same numbers: the daemon acknowledges an
-already-applied batch again without applying it.
+already-applied batch again, with its own seq, without applying it (it remembers a client's latest
+64 batches by default, `[ledger] batches_per_client`: keep in_flight at or below it). A lower
+number it does not hold is refused (BATCH_SKIPPED, BATCH_FORGOTTEN): raised as Rejected, since
+a sender never reuses a number.
 
 A cluster (several ingest endpoints): a NOT_OWNER refusal sends every unacknowledged batch, with
 the same numbers, to the daemon it names, or (none named, or an endpoint silent for timeout_s)
@@ -33,9 +36,9 @@ VERSION = protocol_pb2.PROTOCOL_VERSION_1
 _RESEND_CODES = (protocol_pb2.Error.OUT_OF_ORDER, protocol_pb2.Error.UNAVAILABLE)
 
 Ack = collections.namedtuple("Ack", "seq duplicate client_batch pool")
-Ack.__doc__ = """An accepted batch: the pool's seq for it (for a duplicate, the seq of this
-client's latest applied batch), whether it was a retry of an applied batch, its number, and the
-pool as the daemon resolved it."""
+Ack.__doc__ = """An accepted batch: the pool's seq for it (for a duplicate too: the seq the batch
+got when it was applied), whether it was a retry of an applied batch, its number, and the pool as
+the daemon resolved it."""
 
 
 class Sender(DealerConnection):
