@@ -66,6 +66,7 @@ void RetryLedger::record(const std::string& pool, const std::string& client,
     // A new mark: nothing is known of the numbers below its first batch.
     mark.recent.clear();
     mark.known_from = batch.batch_number;
+    mark.wall_time_us = 0;
   }
   mark.recent.push_back(batch);
   if (mark.recent.size() > settings_.batches_per_client) {
@@ -73,7 +74,6 @@ void RetryLedger::record(const std::string& pool, const std::string& client,
     mark.known_from = mark.recent.front().batch_number + 1;
     mark.recent.erase(mark.recent.begin());
   }
-  mark.wall_time_us = 0;
   entry->second.active = marks.activity.emplace(batch.seq, &entry->first);
 }
 

@@ -55,8 +55,9 @@ struct RetryMark {
   // Every number from here to the highest was accepted iff it is in `recent`; below it the
   // ledger does not know.
   std::uint64_t known_from = 0;
-  // The wall time written in the journal record of the highest batch (microseconds since the
-  // Unix epoch); 0 while that batch's window is open.
+  // The wall time written in the journal records of the client's latest closed window
+  // (microseconds since the Unix epoch): its batch in an open window is stamped when the
+  // window closes. 0 for a new mark until then.
   std::uint64_t wall_time_us = 0;
 
   const AppliedBatch& highest() const { return recent.back(); }
@@ -97,7 +98,7 @@ class RetryLedger {
   // Records an accepted batch, visible to classify() at once (the service records a batch
   // when it enters the window; recovery for every journal record it replays). A number at or
   // below the client's highest starts a new mark (the old one had expired when it was
-  // accepted). The wall time is set by close_group(). O(log marks + batches_per_client).
+  // accepted). close_group() stamps the wall time. O(log marks + batches_per_client).
   void record(const std::string& pool, const std::string& client, const AppliedBatch& batch);
 
   // The pool's batches with seq >= first_seq (one window's group) are in the log with

@@ -23,7 +23,7 @@ std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::s
   record.set_seq(progress->seq);
   *record.mutable_config() = pool_config(*pool);
   for (const auto& [client, mark] : service.ledger().clients_of(name)) {
-    *record.add_clients() = snapshot_mark(client, mark);
+    if (auto kept = snapshot_mark(client, mark, progress->seq)) *record.add_clients() = *kept;
   }
   record.set_weight(pool->weight());
   record.set_pairs(pool->pairs());
@@ -57,14 +57,20 @@ std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
   return pool_record(service, pool, progress->last_position + 1, unix_time_us());
 }
 
-v1::ClientMark snapshot_mark(const std::string& client, const RetryMark& mark) {
+std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,
+                                            std::uint64_t durable_seq) {
+  // The open window's batches are not in the log yet (they follow the snapshot's position, and
+  // replay records them again), and may never be: they stay out.
+  std::size_t kept = mark.recent.size();
+  while (kept > 0 && mark.recent[kept - 1].seq > durable_seq) --kept;
+  if (kept == 0) return std::nullopt;
   v1::ClientMark out;
   out.set_client_id(client);
-  out.set_last_batch(mark.highest().batch_number);
-  out.set_seq(mark.highest().seq);
-  out.set_wall_time_unix_us(mark.wall_time_us);
+  out.set_last_batch(mark.recent[kept - 1].batch_number);
+  out.set_seq(mark.recent[kept - 1].seq);
+  out.set_wall_time_unix_us(mark.wall_time_us);  // of its last closed window
   out.set_known_from(mark.known_from);
-  for (std::size_t i = 0; i + 1 < mark.recent.size(); ++i) {
+  for (std::size_t i = 0; i + 1 < kept; ++i) {
     out.add_earlier_batches(mark.recent[i].batch_number);
     out.add_earlier_seqs(mark.recent[i].seq);
   }

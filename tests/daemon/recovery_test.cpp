@@ -259,7 +259,13 @@ TEST(Recovery, SnapshotMarksFromBeforeTheHorizonKnowTheirLastBatchAlone) {
   whole.recent = {{3, 1}, {5, 4}, {9, 6}};
   whole.known_from = 2;
   whole.wall_time_us = 77;
-  EXPECT_EQ(retry_mark_from_snapshot(snapshot_mark("tram", whole), 123), whole);
+  EXPECT_EQ(retry_mark_from_snapshot(*snapshot_mark("tram", whole, 6), 123), whole);
+  // Batches of the open window (seq above the pool's) stay out; so does a mark of nothing else.
+  const RetryMark durable = retry_mark_from_snapshot(*snapshot_mark("tram", whole, 5), 123);
+  EXPECT_EQ(durable.recent, (std::vector<AppliedBatch>{{3, 1}, {5, 4}}));
+  EXPECT_EQ(durable.known_from, 2u);
+  EXPECT_EQ(durable.wall_time_us, 77u);
+  EXPECT_FALSE(snapshot_mark("tram", whole, 0).has_value());
 }
 
 TEST(Recovery, SnapshotPlusJournalTail) {
@@ -802,6 +808,9 @@ TEST(SnapshotCapture, OneRecordPerPoolWithItsMarks) {
   EXPECT_TRUE(harness.offer({wire_remove(5)}, in_pool("empty")).has_value());
   harness.close();
 
+  // Batches in the open window are not in a snapshot's marks: the log does not hold them.
+  EXPECT_FALSE(harness.offer({wire_add(8)}, from_client("a", 10, "quay")).has_value());
+  EXPECT_FALSE(harness.offer({wire_add(9)}, from_client("c", 1, "quay")).has_value());
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(harness.service());
   ASSERT_EQ(records.size(), 2u);
   EXPECT_EQ(records[0].pool(), "dock");

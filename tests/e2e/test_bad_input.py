@@ -196,6 +196,16 @@ class BadInputTest(unittest.TestCase):
         request = make_batch_request([("set", 5, 6, (1 << 52) + 1)])
         self.expect_refusal(request, ErrorCode.WEIGHT_OUT_OF_RANGE, event_index=0)
 
+    def test_default_weight_bound(self):
+        # docs/protocol.md: max_abs_weight 0 resolves to the mode's exact bound, 2^40 for
+        # max-weight with the default 4194304 vertices (engine/pool_limits.cpp), reported
+        # resolved in Stats.config.
+        stats = self.daemon.ask("stats").stats
+        self.assertEqual(stats.config.limits.max_abs_weight, 1 << 40)
+        ack = self.expect_refusal(make_batch_request([("set", 5, 6, (1 << 40) + 1)]),
+                                  ErrorCode.WEIGHT_OUT_OF_RANGE, event_index=0)
+        self.assertIn(str(1 << 40), ack.rejected.errors[0].message)
+
     def test_unknown_vertex(self):
         self.expect_refusal(make_batch_request([("set", 5, 6, 1), ("remove", 424242)]),
                             ErrorCode.UNKNOWN_VERTEX, event_index=1)

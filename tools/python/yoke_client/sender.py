@@ -10,7 +10,10 @@ resends from the oldest unacknowledged batch with the same numbers: the daemon a
 already-applied batch again, with its own seq, without applying it (it remembers a client's latest
 64 batches by default, `[ledger] batches_per_client`: keep in_flight at or below it). A lower
 number it does not hold is refused (BATCH_SKIPPED, BATCH_FORGOTTEN): raised as Rejected, since
-a sender never reuses a number.
+a sender never reuses a number. A sender idle past the daemon's horizon (`[ledger]
+idle_seconds`) finds its first batch refused OUT_OF_ORDER with no last_batch: the daemon forgot
+it, so that batch is sent again without its after_batch condition (its predecessor was
+acknowledged).
 
 A cluster (several ingest endpoints): a NOT_OWNER refusal sends every unacknowledged batch, with
 the same numbers, to the daemon it names, or (none named, or an endpoint silent for timeout_s)
@@ -136,6 +139,15 @@ class _Run:
         self.resend_at = None      # a refusal asked for a resend at this time
         self.deadline = time.monotonic() + sender.timeout_s
 
+    def forgotten(self, error):
+        """Whether an OUT_OF_ORDER refusal of the first batch of the call says the daemon holds
+        no batch of this client (no Error.last_batch) although the batch names one."""
+        if error.code != protocol_pb2.Error.OUT_OF_ORDER or error.HasField("last_batch"):
+            return False
+        request = ingest_pb2.IngestRequest()
+        request.ParseFromString(self.requests[0])
+        return request.batch.after_batch != 0
+
     def limit(self):
         return len(self.requests) if self.failure is None else self.failure[0]
 
@@ -232,6 +244,14 @@ class _Run:
                 self.move()
             return
         self.s.route.answered()
+        if i == 0 and self.forgotten(error):
+            # The daemon holds no batch of this client in the pool: it was idle past the
+            # exactly-once horizon (docs/protocol.md). The predecessor named was acknowledged,
+            # so the condition is dropped and the batch sent again.
+            request = ingest_pb2.IngestRequest()
+            request.ParseFromString(self.requests[0])
+            request.batch.after_batch = 0
+            self.requests[0] = request.SerializeToString()
         if error.code not in _RESEND_CODES:
             if self.failure is None or i < self.failure[0]:
                 self.failure = (i, error)
