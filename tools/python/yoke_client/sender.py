@@ -162,7 +162,7 @@ class _Run:
                 index, error = self.failure
                 raise Rejected(dicts.code_name(error.code), error.message,
                                error.event_index if error.HasField("event_index") else None,
-                               index)
+                               index, error.last_batch if error.HasField("last_batch") else None)
             while self.next < self.limit() and self.next - self.oldest < self.s.in_flight:
                 self.transmit(self.next)
                 self.next += 1
