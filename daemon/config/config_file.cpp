@@ -55,6 +55,15 @@ void read_limits(TomlTableReader& table, InputLimits& out) {
   table.finish();
 }
 
+void read_ledger(TomlTableReader& table, LedgerSettings& out) {
+  table.read("batches_per_client", std::uint64_t{1}, std::uint64_t{4096}, out.batches_per_client);
+  table.read("idle_seconds", std::uint64_t{0}, std::uint64_t{10} * 366 * 24 * 3600,
+             out.idle_seconds);
+  table.read("max_clients_per_pool", std::uint64_t{1}, std::uint64_t{10'000'000},
+             out.max_clients_per_pool);
+  table.finish();
+}
+
 void read_pool(TomlTableReader& table, PoolSettings& out) {
   if (auto value = table.read_string("mode")) {
     const auto mode = parse_mode_name(*value);
@@ -96,6 +105,7 @@ void read_root(TomlTableReader& root, DaemonConfig& config) {
   if (auto table = root.read_table("journal")) read_journal(*table, config.journal);
   if (auto table = root.read_table("snapshots")) read_snapshots(*table, config.snapshots);
   if (auto table = root.read_table("limits")) read_limits(*table, config.limits);
+  if (auto table = root.read_table("ledger")) read_ledger(*table, config.ledger);
   // Before the declared pools: they start from the defaults and change what they name.
   if (auto table = root.read_table("pool_defaults")) read_pool(*table, config.pool_defaults);
   if (auto table = root.read_table("pools")) {

@@ -14,6 +14,7 @@
 #include "daemon/journal/journal.h"
 #include "daemon/logging/log_settings.h"
 #include "daemon/pools/pool_registry.h"
+#include "daemon/pools/retry_ledger.h"
 
 namespace yoke::daemon {
 
@@ -90,6 +91,7 @@ struct DaemonConfig {
   journal::Options journal;
   SnapshotSettings snapshots;
   InputLimits limits;
+  LedgerSettings ledger;  // the retry ledger's exactly-once horizon
   PoolSettings pool_defaults;                 // pools created on first use
   std::map<std::string, PoolSettings> pools;  // declared by name, with their own settings
   LogSettings logging;

@@ -118,8 +118,7 @@ int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
       std::this_thread::sleep_for(std::chrono::milliseconds(500));
     }
   }
-  PoolService service(config, ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}},
-                      *log);
+  PoolService service(config, empty_service_state(config), *log);
   yoke::failover::ClusterNode node(config, *connection, *log);
   node.start(service, std::chrono::steady_clock::now());
   log_event(LogLevel::info, "joined_cluster",

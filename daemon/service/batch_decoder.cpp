@@ -4,6 +4,7 @@
 #include <utility>
 
 #include "daemon/pools/pool_names.h"
+#include "daemon/pools/retry_ledger.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -96,6 +97,14 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
   const std::string pool = resolve_pool_name(batch.pool());
   if (auto problem = pool_name_problem(pool)) {
     return refusal_for(batch, "", make_error(v1::Error::UNKNOWN_POOL, *problem));
+  }
+  if (batch.client_id().size() > kMaxClientIdBytes) {
+    // The retry ledger keeps ids: they are bounded. Echoed for matching, but counted and logged
+    // as a message not read (refuses_unread_message), so the id reaches no log line.
+    return refusal_for(batch, pool,
+                       make_error(v1::Error::MALFORMED_MESSAGE,
+                                  "a client id has at most " + std::to_string(kMaxClientIdBytes) +
+                                      " bytes, not " + std::to_string(batch.client_id().size())));
   }
   if (static_cast<std::uint64_t>(batch.events_size()) > limits.max_events_per_batch) {
     return refusal_for(batch, pool,

@@ -2,8 +2,8 @@
 // events (or a pool's retirement, a batch of none marked `retire`), or into the Ack that
 // refuses it. Checks everything that needs no pool state: size,
 // Protobuf syntax, version, message kind, events per batch, each event's fields, the pool's
-// name. The pool-dependent checks (unknown vertices, weights, limits) come after, in the
-// PoolService. This is the fuzz target's path: it must never throw or crash on any input.
+// name, the client id's length (kMaxClientIdBytes). The pool-dependent checks (unknown
+// vertices, weights, limits) come after, in the PoolService. This is the fuzz target's path: it must never throw or crash on any input.
 #pragma once
 
 #include <cstdint>
@@ -37,7 +37,8 @@ using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
 
 // Whether a refusal is of a message that was not read as a batch: too large to read
-// (OVERSIZED_MESSAGE), not a yoke.v1.IngestRequest (MALFORMED_MESSAGE without an event index),
+// (OVERSIZED_MESSAGE), not a yoke.v1.IngestRequest (MALFORMED_MESSAGE without an event index:
+// also a client id past kMaxClientIdBytes),
 // another protocol version or kind (UNSUPPORTED_VERSION, UNKNOWN_MESSAGE_KIND), or not read at
 // all (UNAVAILABLE: the daemon is shutting down). Every other refusal is of a batch. False for
 // an accepted Ack.

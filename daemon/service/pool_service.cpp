@@ -133,20 +133,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
     pool = created.get();
   }
   if (!batch.client_id.empty()) {
-    const RetryVerdict verdict =
-        state_.ledger.classify(batch.pool, batch.client_id, batch.client_batch);
-    if (verdict != RetryVerdict::fresh) return answer_retry(ticket, batch);
-    if (batch.after_batch != 0) {
-      const auto last = state_.ledger.last(batch.pool, batch.client_id);
-      if (!last || last->batch_number != batch.after_batch) {
-        return refuse(rejected(
-            batch, make_error(v1::Error::OUT_OF_ORDER,
-                              "batch " + std::to_string(batch.client_batch) + " must follow batch " +
-                                  std::to_string(batch.after_batch) + ", but the last applied is " +
-                                  (last ? std::to_string(last->batch_number) : "none") +
-                                  ": resend from the first batch not acknowledged")));
-      }
-    }
+    if (auto answer = apply_retry_rule(ticket, batch)) return std::move(*answer);
   }
 
   WindowPool& in_window = window_pool(batch.pool, *pool);
@@ -206,15 +193,55 @@ std::optional<v1::Ack> PoolService::offer_retire(Ticket ticket, DecodedBatch bat
   return std::nullopt;
 }
 
-std::optional<v1::Ack> PoolService::answer_retry(Ticket ticket, const DecodedBatch& batch) {
-  const AppliedBatch last = *state_.ledger.last(batch.pool, batch.client_id);
-  ++state_.progress[batch.pool].batches_duplicate;
-  v1::Ack ack = accepted(ack_for(batch), last.seq, true);
-  if (last.seq > state_.progress[batch.pool].seq) {  // in this window: answer once it is durable
-    waiting_duplicates_.emplace_back(ticket, std::move(ack));
-    return std::nullopt;
+std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticket,
+                                                                    const DecodedBatch& batch) {
+  const RetryAnswer answer =
+      state_.ledger.classify(batch.pool, batch.client_id, batch.client_batch);
+  const auto with_last = [&answer](v1::Error error) {
+    if (answer.highest) error.set_last_batch(answer.highest->batch_number);
+    return error;
+  };
+  const std::string number = std::to_string(batch.client_batch);
+  const std::string highest =
+      answer.highest ? std::to_string(answer.highest->batch_number) : std::string("none");
+  switch (answer.verdict) {
+    case RetryVerdict::duplicate: {
+      ++state_.progress[batch.pool].batches_duplicate;
+      v1::Ack ack = accepted(ack_for(batch), answer.seq, true);
+      if (answer.seq > state_.progress[batch.pool].seq) {  // in this window: answer once durable
+        waiting_duplicates_.emplace_back(ticket, std::move(ack));
+        return std::optional<v1::Ack>();
+      }
+      return std::optional<v1::Ack>(std::move(ack));
+    }
+    case RetryVerdict::skipped:
+      return refuse(rejected(
+          batch, with_last(make_error(v1::Error::BATCH_SKIPPED,
+                                      "batch " + number + " of client " + batch.client_id +
+                                          " was never applied and the client's highest applied "
+                                          "batch is " + highest +
+                                          ": nothing applied; send its events under a number "
+                                          "above " + highest))));
+    case RetryVerdict::forgotten:
+      return refuse(rejected(
+          batch, with_last(make_error(v1::Error::BATCH_FORGOTTEN,
+                                      "batch " + number + " of client " + batch.client_id +
+                                          " is older than the batches the daemon remembers (the "
+                                          "client's highest applied batch is " + highest +
+                                          "): whether it was applied is not known; nothing "
+                                          "applied now"))));
+    case RetryVerdict::fresh: break;
   }
-  return ack;
+  if (batch.after_batch != 0 &&
+      (!answer.highest || answer.highest->batch_number != batch.after_batch)) {
+    return refuse(rejected(
+        batch, with_last(make_error(v1::Error::OUT_OF_ORDER,
+                                    "batch " + number + " must follow batch " +
+                                        std::to_string(batch.after_batch) +
+                                        ", but the last applied is " + highest +
+                                        ": resend from the first batch not acknowledged"))));
+  }
+  return std::nullopt;
 }
 
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
@@ -255,8 +282,14 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
   for (const storage::CommittedGroup& group : committed.groups) {
     if (!group.accepted) {
       lost.insert(group.pool);
-    } else if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
-      it->second.last_position = group.position;
+    } else {
+      if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
+        it->second.last_position = group.position;
+      }
+      // The ledger's horizon moves with the log, as recovery's replay of this group will move it.
+      if (const auto in_window = window_pools_.find(group.pool); in_window != window_pools_.end()) {
+        state_.ledger.close_group(group.pool, in_window->second.seq_before + 1, wall_time);
+      }
     }
   }
   for (const std::string& pool : lost) {

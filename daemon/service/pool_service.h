@@ -122,8 +122,11 @@ class PoolService {
   };
 
   v1::Ack refuse(v1::Ack ack);
-  std::optional<v1::Ack> answer_retry(Ticket ticket, const DecodedBatch& batch);
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
+  // The retry and after_batch rules (events.proto, EventBatch) for a batch naming its client:
+  // nothing when the batch is new and may enter the window; otherwise offer()'s answer (a
+  // refusal, a duplicate's Ack, or no Ack yet for a retry of a batch in the open window).
+  std::optional<std::optional<v1::Ack>> apply_retry_rule(Ticket ticket, const DecodedBatch& batch);
   WindowPool& window_pool(const std::string& name, Pool& pool);
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.

@@ -41,7 +41,8 @@ void load_snapshot(const storage::SnapshotContents& contents, const std::string&
     // The snapshot covers the log below its position.
     progress.last_position = contents.position > 0 ? contents.position - 1 : 0;
     for (const v1::ClientMark& mark : record->clients()) {
-      state.ledger.record(record->pool(), mark.client_id(), {mark.last_batch(), mark.seq()});
+      state.ledger.restore(record->pool(), mark.client_id(),
+                           retry_mark_from_snapshot(mark, record->wall_time_unix_us()));
     }
   }
 }
@@ -141,11 +142,14 @@ std::optional<CommitResult> apply_commit_group(const CommitGroup& group, Service
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});
     }
   }
+  // As the service did when it sealed this window: the same seqs, the same wall time.
+  state.ledger.close_group(group.pool, first_seq, group.records.back().wall_time_unix_us());
   return result;
 }
 
 ServiceState empty_service_state(const DaemonConfig& config) {
-  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}};
+  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {},
+                      RetryLedger(config.ledger)};
 }
 
 ServiceState recover(const DaemonConfig& config, storage::CommitLog& log,

@@ -21,9 +21,7 @@ void put_pool_state(ServiceState& state, const std::string& pool, PoolState pool
   take_pool_state(state, pool);  // nothing of an older state stays beside the new one
   if (pool_state.pool) state.registry.put(pool, std::move(pool_state.pool));
   state.progress[pool] = pool_state.progress;
-  for (const auto& [client, applied] : pool_state.clients) {
-    state.ledger.record(pool, client, applied);
-  }
+  for (auto& [client, mark] : pool_state.clients) state.ledger.restore(pool, client, std::move(mark));
 }
 
 }  // namespace yoke::daemon

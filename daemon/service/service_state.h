@@ -26,7 +26,7 @@ struct ServiceState {
 struct PoolState {
   std::unique_ptr<Pool> pool;
   PoolProgress progress;
-  std::vector<std::pair<std::string, AppliedBatch>> clients;
+  std::vector<std::pair<std::string, RetryMark>> clients;
 };
 
 // Removes everything `state` holds of `pool` and returns it; nothing when it holds nothing

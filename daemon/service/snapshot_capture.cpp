@@ -1,5 +1,6 @@
 #include "snapshot_capture.h"
 
+#include <algorithm>
 #include <chrono>
 #include <optional>
 
@@ -21,11 +22,8 @@ std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::s
   record.set_pool(name);
   record.set_seq(progress->seq);
   *record.mutable_config() = pool_config(*pool);
-  for (const auto& [client, applied] : service.ledger().clients_of(name)) {
-    v1::ClientMark& mark = *record.add_clients();
-    mark.set_client_id(client);
-    mark.set_last_batch(applied.batch_number);
-    mark.set_seq(applied.seq);
+  for (const auto& [client, mark] : service.ledger().clients_of(name)) {
+    if (auto kept = snapshot_mark(client, mark, progress->seq)) *record.add_clients() = *kept;
   }
   record.set_weight(pool->weight());
   record.set_pairs(pool->pairs());
@@ -57,6 +55,46 @@ std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
   const PoolProgress* progress = service.progress(pool);
   if (progress == nullptr) return std::nullopt;
   return pool_record(service, pool, progress->last_position + 1, unix_time_us());
+}
+
+std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,
+                                            std::uint64_t durable_seq) {
+  // The open window's batches are not in the log yet (they follow the snapshot's position, and
+  // replay records them again), and may never be: they stay out.
+  std::size_t kept = mark.recent.size();
+  while (kept > 0 && mark.recent[kept - 1].seq > durable_seq) --kept;
+  if (kept == 0) return std::nullopt;
+  v1::ClientMark out;
+  out.set_client_id(client);
+  out.set_last_batch(mark.recent[kept - 1].batch_number);
+  out.set_seq(mark.recent[kept - 1].seq);
+  out.set_wall_time_unix_us(mark.wall_time_us);  // of its last closed window
+  out.set_known_from(mark.known_from);
+  for (std::size_t i = 0; i + 1 < kept; ++i) {
+    out.add_earlier_batches(mark.recent[i].batch_number);
+    out.add_earlier_seqs(mark.recent[i].seq);
+  }
+  return out;
+}
+
+RetryMark retry_mark_from_snapshot(const v1::ClientMark& mark, std::uint64_t snapshot_wall_time) {
+  RetryMark out;
+  const int earlier = std::min(mark.earlier_batches_size(), mark.earlier_seqs_size());
+  for (int i = 0; i < earlier; ++i) {
+    // Only increasing numbers below last_batch: anything else is not a ledger's and is left out.
+    const std::uint64_t number = mark.earlier_batches(i);
+    if (number >= mark.last_batch() || (!out.recent.empty() && number <= out.recent.back().batch_number)) {
+      continue;
+    }
+    out.recent.push_back({number, mark.earlier_seqs(i)});
+  }
+  out.recent.push_back({mark.last_batch(), mark.seq()});
+  // Older snapshots knew the last batch alone.
+  out.known_from = mark.has_known_from()
+                       ? std::min(mark.known_from(), out.recent.front().batch_number)
+                       : out.recent.front().batch_number;
+  out.wall_time_us = mark.wall_time_unix_us() != 0 ? mark.wall_time_unix_us() : snapshot_wall_time;
+  return out;
 }
 
 std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record) {

@@ -31,6 +31,15 @@ std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
 std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
                                                         const std::string& pool);
 
+// A client's retry mark as a snapshot keeps it (records.proto, ClientMark), without the
+// batches above `durable_seq` (the open window's: the log does not hold them yet); nothing
+// when no batch is left. And back: a mark from a snapshot written before ClientMark had wall
+// times and earlier batches knows its last batch alone; a mark without a wall time counts its
+// idle time from the snapshot's.
+std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,
+                                            std::uint64_t durable_seq);
+RetryMark retry_mark_from_snapshot(const v1::ClientMark& mark, std::uint64_t snapshot_wall_time);
+
 // A pool rebuilt from a SnapshotRecord whose certificate holds and whose weight, pairs,
 // vertices and edges agree with the record. Throws SnapshotDamage saying what failed.
 std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record);

@@ -197,6 +197,12 @@ TEST(ProtoJson, ErrorWithAndWithoutEventIndex) {
   EXPECT_EQ(json_line(error_json(error)),
             "{\"code\":\"WEIGHT_OUT_OF_RANGE\",\"message\":\"weight 9 exceeds the pool's bound "
             "8\",\"event_index\":0}");
+  v1::Error skipped;
+  skipped.set_code(v1::Error::BATCH_SKIPPED);
+  skipped.set_message("never applied");
+  skipped.set_last_batch(7);
+  EXPECT_EQ(json_line(error_json(skipped)),
+            "{\"code\":\"BATCH_SKIPPED\",\"message\":\"never applied\",\"last_batch\":7}");
 }
 
 TEST(ProtoJson, UnknownEnumValuesAndBadUtf8StillPrint) {

@@ -1,6 +1,7 @@
 // `yoke send` end to end against a scripted ingest peer (fake_daemon.h) on ipc:// in a temp
-// dir. The peer keeps the daemon's retry ledger in small (EventBatch in events.proto: a number
-// not above the last applied is a duplicate, after_batch must name the last applied) and can be
+// dir. The peer keeps the daemon's retry ledger in small (EventBatch in events.proto: an applied
+// number is a duplicate with its own seq, a lower one never applied is BATCH_SKIPPED,
+// after_batch must name the last applied) and can be
 // told to lose a request, lose a reply, or refuse a batch.
 #include <gtest/gtest.h>
 
@@ -81,15 +82,19 @@ class IngestModel {
     ack.set_pool(batch.pool());
     if (fault.kind == Fault::refuse) {
       *ack.mutable_rejected()->add_errors() = fault.error;
-    } else if (batch.client_batch() <= last_batch_) {
-      ack.mutable_accepted()->set_seq(seq_);
+    } else if (const auto applied = seqs_.find(batch.client_batch()); applied != seqs_.end()) {
+      ack.mutable_accepted()->set_seq(applied->second);
       ack.mutable_accepted()->set_duplicate(true);
+    } else if (batch.client_batch() <= last_batch_) {
+      *ack.mutable_rejected()->add_errors() =
+          refusal(Error::BATCH_SKIPPED, "the client went past this batch").error;
     } else if (batch.after_batch() != 0 && batch.after_batch() != last_batch_) {
       *ack.mutable_rejected()->add_errors() =
           refusal(Error::OUT_OF_ORDER, "batch does not follow the last applied").error;
     } else {
       last_batch_ = batch.client_batch();
       ack.mutable_accepted()->set_seq(++seq_);
+      seqs_[last_batch_] = seq_;
     }
     if (fault.kind == Fault::lose_reply) return std::nullopt;
     return reply.SerializeAsString();
@@ -101,6 +106,7 @@ class IngestModel {
   std::map<std::uint64_t, int> copies_;
   std::uint64_t last_batch_ = 0;
   std::uint64_t seq_ = 0;
+  std::map<std::uint64_t, std::uint64_t> seqs_;  // every batch applied -> its seq
 };
 
 struct SendRun {

@@ -58,6 +58,9 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.limits.max_message_bytes, b.limits.max_message_bytes);
   EXPECT_EQ(a.limits.max_events_per_batch, b.limits.max_events_per_batch);
   EXPECT_EQ(a.limits.max_pools, b.limits.max_pools);
+  EXPECT_EQ(a.ledger.batches_per_client, b.ledger.batches_per_client);
+  EXPECT_EQ(a.ledger.idle_seconds, b.ledger.idle_seconds);
+  EXPECT_EQ(a.ledger.max_clients_per_pool, b.ledger.max_clients_per_pool);
   expect_same_pool(a.pool_defaults, b.pool_defaults);
   ASSERT_EQ(a.pools.size(), b.pools.size());
   for (const auto& [name, settings] : a.pools) {
@@ -91,6 +94,9 @@ TEST(ConfigDefaults, AreTheDocumentedOnesAndStartWithNoFile) {
   EXPECT_EQ(config.cluster.takeover, std::chrono::milliseconds(3000));
   EXPECT_EQ(config.cluster.publish_timeout, std::chrono::milliseconds(5000));
   EXPECT_TRUE(config.cluster.instances.empty());
+  EXPECT_EQ(config.ledger.batches_per_client, 64u);
+  EXPECT_EQ(config.ledger.idle_seconds, 86400u);
+  EXPECT_EQ(config.ledger.max_clients_per_pool, 4096u);
 
   DaemonConfig with_dir;
   with_dir.data_dir = "/tmp/yoke-data";
@@ -132,6 +138,10 @@ after_events = 0
 max_message_bytes = 65536
 max_events_per_batch = 500
 max_pools = 3
+[ledger]
+batches_per_client = 8
+idle_seconds = 0
+max_clients_per_pool = 100
 [pool_defaults]
 mode = "perfect"
 max_vertices = 1000
@@ -159,6 +169,9 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.limits.max_message_bytes, 65536u);
   EXPECT_EQ(config.limits.max_events_per_batch, 500u);
   EXPECT_EQ(config.limits.max_pools, 3u);
+  EXPECT_EQ(config.ledger.batches_per_client, 8u);
+  EXPECT_EQ(config.ledger.idle_seconds, 0u);
+  EXPECT_EQ(config.ledger.max_clients_per_pool, 100u);
   EXPECT_EQ(config.pool_defaults.mode, Mode::perfect);
   // A declared pool starts from [pool_defaults], wherever the tables sit in the file.
   const PoolSettings& night = config.pools.at("night-shift");
@@ -215,6 +228,14 @@ TEST(ConfigFile, ValuesOutOfRangeAreErrors) {
             "t.toml:2: 'pool_defaults.max_abs_weight' is -3, out of range 0..4503599627370496");
   EXPECT_EQ(read_error("[pools.a]\nchurn_bonus = -1\n"),
             "t.toml:2: 'pools.a.churn_bonus' is -1, out of range 0..4503599627370496");
+  EXPECT_EQ(read_error("[ledger]\nbatches_per_client = 0\n"),
+            "t.toml:2: 'ledger.batches_per_client' is 0, out of range 1..4096");
+  EXPECT_EQ(read_error("[ledger]\nmax_clients_per_pool = 0\n"),
+            "t.toml:2: 'ledger.max_clients_per_pool' is 0, out of range 1..10000000");
+  EXPECT_EQ(read_error("[ledger]\nidle_seconds = -5\n"),
+            "t.toml:2: 'ledger.idle_seconds' is -5, out of range 0..316224000");
+  EXPECT_EQ(read_error("[ledger]\nforget_after = 3\n"),
+            "t.toml:2: unknown key 'ledger.forget_after'");
 }
 
 TEST(ConfigFile, UnknownNamesOfModesPoliciesAndLevelsAreErrors) {

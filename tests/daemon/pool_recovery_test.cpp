@@ -42,8 +42,8 @@ PoolView view_in(ServiceState& state, const std::string& name) {
 std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> pool_marks(
     const RetryLedger& ledger, const std::string& pool) {
   std::vector<std::tuple<std::string, std::uint64_t, std::uint64_t>> out;
-  for (const auto& [client, applied] : ledger.clients_of(pool)) {
-    out.emplace_back(client, applied.batch_number, applied.seq);
+  for (const auto& [client, mark] : ledger.clients_of(pool)) {
+    out.emplace_back(client, mark.highest().batch_number, mark.highest().seq);
   }
   return out;
 }
@@ -85,7 +85,7 @@ TEST(PoolState, TakeAndPutMoveOnePoolsWholeState) {
   EXPECT_EQ(taken->progress.last_position, 41u);
   ASSERT_EQ(taken->clients.size(), 2u);
   EXPECT_EQ(taken->clients[0].first, "tug-1");
-  EXPECT_EQ(taken->clients[0].second.batch_number, 5u);
+  EXPECT_EQ(taken->clients[0].second.highest().batch_number, 5u);
   EXPECT_EQ(state.registry.find("harbour"), nullptr);
   EXPECT_FALSE(state.progress.contains("harbour"));
   EXPECT_TRUE(state.ledger.clients_of("harbour").empty());

@@ -5,10 +5,12 @@
 // common knowledge for the hand-computable matchings (named at each); the certificate checker
 // and the engine's static solve for every pool state (pool_certified).
 #include <filesystem>
+#include <limits>
 #include <map>
 #include <random>
 #include <set>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <gtest/gtest.h>
@@ -264,43 +266,106 @@ TEST_F(PoolServiceTest, DuplicateWithinTheWindowIsAnsweredBySeal) {
   EXPECT_EQ(service().progress("default")->batches_accepted, 1u);
 }
 
-TEST_F(PoolServiceTest, DuplicateAndOlderBatchesAfterTheWindowAreAnsweredAtOnce) {
+TEST_F(PoolServiceTest, RetriesGetTheirOwnSeqAndLowerNumbersAreRefusedTruly) {
   offer({wire_set(1, 2, 5)}, from_client("dock-9", 4));
   offer({wire_set(3, 4, 1)}, from_client("other", 1));
   offer({wire_set(2, 3, 7)}, from_client("dock-9", 6));
   close_window(service());
   const PoolView before = view_of(service(), "default");
-  // The last batch again: its own seq (3).
-  v1::Ack ack = offer_now({wire_set(2, 3, 7)}, from_client("dock-9", 6));
-  ASSERT_TRUE(ack.has_accepted());
-  EXPECT_TRUE(ack.accepted().duplicate());
-  EXPECT_EQ(ack.accepted().seq(), 3u);
-  // Older numbers (applied, and a gap never sent): the client's latest seq, nothing applied,
-  // whatever the events say.
-  for (const std::uint64_t number : {4u, 5u, 1u}) {
-    ack = offer_now({wire_remove(77)}, from_client("dock-9", number));
+  // Each applied batch again: its own seq (events.proto, EventBatch.client_batch).
+  for (const auto& [number, seq] :
+       std::vector<std::pair<std::uint64_t, std::uint64_t>>{{6, 3}, {4, 1}}) {
+    const v1::Ack ack = offer_now({wire_remove(77)}, from_client("dock-9", number));
     ASSERT_TRUE(ack.has_accepted()) << number;
     EXPECT_TRUE(ack.accepted().duplicate());
-    EXPECT_EQ(ack.accepted().seq(), 3u);
+    EXPECT_EQ(ack.accepted().seq(), seq) << number;
   }
+  // 5 was never sent, so never applied: BATCH_SKIPPED naming the highest, 6.
+  expect_refused({wire_add(9)}, from_client("dock-9", 5), v1::Error::BATCH_SKIPPED,
+                 std::nullopt);
+  // 1 is below the first batch the ledger holds of dock-9: not known, BATCH_FORGOTTEN.
+  expect_refused({wire_add(9)}, from_client("dock-9", 1), v1::Error::BATCH_FORGOTTEN,
+                 std::nullopt);
+  const v1::Ack skipped = offer_now({wire_add(9)}, from_client("dock-9", 5));
+  ASSERT_TRUE(skipped.rejected().errors(0).has_last_batch());
+  EXPECT_EQ(skipped.rejected().errors(0).last_batch(), 6u);
   // The same number in another pool is another batch.
-  const Ticket elsewhere =
-      offer({wire_add(1)}, from_client("dock-9", 6, "harbour"));
+  const Ticket elsewhere = offer({wire_add(1)}, from_client("dock-9", 6, "harbour"));
   const auto acks = by_ticket(close_window(service()));
   EXPECT_EQ(accepted_seq(acks.at(elsewhere)), 1u);
   EXPECT_EQ(acks.size(), 1u);
   EXPECT_EQ(view_of(service(), "default"), before);
-  EXPECT_EQ(service().progress("default")->batches_duplicate, 4u);
+  EXPECT_EQ(service().progress("default")->batches_duplicate, 2u);
+  EXPECT_EQ(service().refusals().at(v1::Error::BATCH_SKIPPED), 2u);
+  EXPECT_EQ(service().refusals().at(v1::Error::BATCH_FORGOTTEN), 1u);
   EXPECT_EQ(journal_records(harness_.journal_dir()).size(), 4u);
 }
 
-TEST_F(PoolServiceTest, OlderBatchWithinTheWindowWaitsForSeal) {
+TEST_F(PoolServiceTest, AClientCountingFromOneAgainIsToldItsHighestBatch) {
+  for (std::uint64_t number = 1; number <= 70; ++number) {
+    offer({wire_set(number, number + 100, 1)}, from_client("tram", number));
+  }
+  close_window(service());
+  const PoolView before = view_of(service(), "default");
+  // A restarted client that counts from 1 under the same id: never silently dropped.
+  for (std::uint64_t number = 1; number <= 6; ++number) {
+    const v1::Ack ack = offer_now({wire_add(500 + number)}, from_client("tram", number));
+    ASSERT_TRUE(ack.has_rejected()) << number;
+    EXPECT_EQ(ack.rejected().errors(0).code(), v1::Error::BATCH_FORGOTTEN) << number;
+    EXPECT_EQ(ack.rejected().errors(0).last_batch(), 70u);
+  }
+  // The remembered 64 batches (7..70) are exact retries with their own seqs.
+  const v1::Ack retry = offer_now({wire_add(600)}, from_client("tram", 7));
+  EXPECT_TRUE(retry.accepted().duplicate());
+  EXPECT_EQ(retry.accepted().seq(), 7u);
+  EXPECT_EQ(view_of(service(), "default"), before);
+  // Continuing above the highest applies.
+  const Ticket next = offer({wire_add(700)}, from_client("tram", 71, "", 70));
+  EXPECT_EQ(accepted_seq(by_ticket(close_window(service())).at(next)), 71u);
+}
+
+TEST_F(PoolServiceTest, TheTopBatchNumberIsAnsweredTruly) {
+  const std::uint64_t top = std::numeric_limits<std::uint64_t>::max();
+  const Ticket first = offer({wire_add(1)}, from_client("ferry", top));
+  EXPECT_EQ(accepted_seq(by_ticket(close_window(service())).at(first)), 1u);
+  EXPECT_EQ(offer_now({wire_add(1)}, from_client("ferry", top)).accepted().seq(), 1u);
+  // No number is above it: every other is refused and names it; another id works.
+  expect_refused({wire_add(2)}, from_client("ferry", 1), v1::Error::BATCH_FORGOTTEN,
+                 std::nullopt);
+  EXPECT_EQ(offer_now({wire_add(2)}, from_client("ferry", 1)).rejected().errors(0).last_batch(),
+            top);
+  const Ticket renamed = offer({wire_add(2)}, from_client("ferry-2", 1));
+  EXPECT_EQ(accepted_seq(by_ticket(close_window(service())).at(renamed)), 2u);
+}
+
+TEST_F(PoolServiceTest, LowerNumbersWithinTheWindowAreAnsweredTruly) {
   offer({wire_set(1, 2, 5)}, from_client("dock-9", 8));
-  const Ticket older = offer({wire_set(1, 2, 5)}, from_client("dock-9", 2));
+  offer({wire_set(3, 4, 5)}, from_client("dock-9", 9));
+  const Ticket retry = offer({wire_set(1, 2, 5)}, from_client("dock-9", 8));  // waits for seal
+  // 2 was never applied, and nothing below the mark's first batch (8) is known.
+  expect_refused({wire_add(7)}, from_client("dock-9", 2), v1::Error::BATCH_FORGOTTEN,
+                 std::nullopt);
   const auto acks = by_ticket(close_window(service()));
-  ASSERT_TRUE(acks.at(older).has_accepted());
-  EXPECT_TRUE(acks.at(older).accepted().duplicate());
-  EXPECT_EQ(acks.at(older).accepted().seq(), 1u);
+  ASSERT_TRUE(acks.at(retry).has_accepted());
+  EXPECT_TRUE(acks.at(retry).accepted().duplicate());
+  EXPECT_EQ(acks.at(retry).accepted().seq(), 1u);
+}
+
+TEST_F(PoolServiceTest, ClientIdsPastTheirLimitAreRefusedAndNotKept) {
+  const std::string longest(kMaxClientIdBytes, 'q');
+  const Ticket fits = offer({wire_add(1)}, from_client(longest, 1));
+  EXPECT_EQ(accepted_seq(by_ticket(close_window(service())).at(fits)), 1u);
+  const std::string too_long(std::size_t{1} << 20, 'q');
+  const v1::Ack ack = offer_now({wire_add(2)}, from_client(too_long, 1));
+  ASSERT_TRUE(ack.has_rejected());
+  EXPECT_EQ(ack.rejected().errors(0).code(), v1::Error::MALFORMED_MESSAGE);
+  EXPECT_EQ(ack.rejected().errors(0).message(),
+            "a client id has at most 128 bytes, not 1048576");
+  EXPECT_EQ(ack.client_id(), too_long);  // echoed: the client matches replies by id and batch
+  EXPECT_EQ(ack.client_batch(), 1u);
+  EXPECT_EQ(service().ledger().size(), 1u);
+  EXPECT_TRUE(service().window_empty());
+  EXPECT_EQ(view_of(service(), "default").vertices, 1u);
 }
 
 TEST_F(PoolServiceTest, EmptyClientIdIsNeverDeduplicated) {
@@ -331,13 +396,17 @@ TEST_F(PoolServiceTest, AfterBatchMustNameTheLastAppliedBatch) {
   // The retry rule comes first: an old batch with a wrong predecessor is a duplicate.
   const v1::Ack retry = offer_now({wire_add(2)}, {"bus-2", 3, "", 1});
   EXPECT_TRUE(retry.accepted().duplicate());
+  EXPECT_EQ(retry.accepted().seq(), 2u);
+  // OUT_OF_ORDER names the client's last applied batch.
+  const v1::Ack wrong = offer_now({wire_add(5)}, {"bus-2", 5, "", 4});
+  EXPECT_EQ(wrong.rejected().errors(0).last_batch(), 3u);
   // A refused batch does not count as applied: its successor is out of order.
   expect_refused({wire_remove(99)}, {"bus-2", 4, "", 3}, v1::Error::UNKNOWN_VERTEX, 0);
   expect_refused({wire_add(5)}, {"bus-2", 5, "", 4}, v1::Error::OUT_OF_ORDER, std::nullopt);
   const Ticket right = offer({wire_add(5)}, {"bus-2", 5, "", 3});
   acks = by_ticket(close_window(service()));
   EXPECT_EQ(accepted_seq(acks.at(right)), 3u);
-  EXPECT_EQ(service().refusals().at(v1::Error::OUT_OF_ORDER), 3u);
+  EXPECT_EQ(service().refusals().at(v1::Error::OUT_OF_ORDER), 4u);
   EXPECT_EQ(view_of(service(), "default").vertices, 3u);
 }
 

@@ -7,16 +7,20 @@
 // engine's static solve for every recovered pool (pool_certified); the engine's incremental
 // pool for the tie cases (each found with the engine, see WindowReplaysAsOneCommit).
 #include <algorithm>
+#include <chrono>
 #include <filesystem>
 #include <map>
 #include <set>
 #include <string>
+#include <thread>
 #include <tuple>
+#include <utility>
 #include <vector>
 
 #include <gtest/gtest.h>
 
 #include "daemon/journal/journal_commit_log.h"
+#include "daemon/journal/journal_reader.h"
 #include "daemon/journal/window_regrouper.h"
 #include "daemon/service/commit_groups.h"
 #include "daemon/service/recovery.h"
@@ -56,10 +60,20 @@ using ServiceRecord = std::map<std::string, PoolRecord>;
 
 Marks marks_of(PoolService& service, const std::string& pool) {
   Marks marks;
-  for (const auto& [client, applied] : service.ledger().clients_of(pool)) {
-    marks.emplace_back(client, applied.batch_number, applied.seq);
+  for (const auto& [client, mark] : service.ledger().clients_of(pool)) {
+    marks.emplace_back(client, mark.highest().batch_number, mark.highest().seq);
   }
   return marks;
+}
+
+// The wall time written in the journal's first record (every record of a window has it).
+std::uint64_t journal_wall_time(const std::filesystem::path& journal_dir) {
+  journal::Reader reader = journal::Reader::from_start(journal_dir);
+  const auto first = reader.next();
+  v1::JournalRecord record;
+  EXPECT_TRUE(first && record.ParseFromArray(first->payload.data(),
+                                              static_cast<int>(first->payload.size())));
+  return record.wall_time_unix_us();
 }
 
 ServiceRecord record_of(PoolService& service) {
@@ -178,6 +192,80 @@ TEST(Recovery, JournalAloneRebuildsTheSameState) {
   const ServiceRecord after_more = record_of(harness.service());
   harness.restart();
   expect_rebuilt(after_more, harness.service(), false);
+}
+
+TEST(Recovery, TheLedgersHorizonIsRebuiltAlike) {
+  DaemonConfig config = testing::test_config({});
+  config.ledger = LedgerSettings{2, 1, 3};  // 2 batches per client, 1 s idle, 3 clients
+  ServiceHarness harness(config);
+  const auto window = [&harness](const std::vector<std::pair<std::string, std::uint64_t>>& batches) {
+    for (const auto& [client, number] : batches) {
+      const VertexKey key = 1000 * number + static_cast<VertexKey>(client[0]);
+      EXPECT_FALSE(harness.offer({wire_add(key)}, from_client(client, number)).has_value());
+    }
+    harness.close();
+  };
+  const auto marks = [&harness] { return harness.service().ledger().clients_of("default"); };
+  const auto clients = [&marks] {
+    std::vector<std::string> names;
+    for (const auto& [client, mark] : marks()) names.push_back(client);
+    return names;
+  };
+  // Four clients, room for three: the least recently active (a) goes when the window closes.
+  window({{"a", 1}, {"b", 1}, {"c", 1}, {"d", 1}});
+  EXPECT_EQ(clients(), (std::vector<std::string>{"b", "c", "d"}));
+  harness.snapshot();
+  // b's third batch pushes its first out of what the ledger remembers.
+  window({{"b", 2}, {"b", 3}, {"b", 4}});
+  EXPECT_EQ(harness.service().ledger().find("default", "b")->known_from, 3u);
+  // Past the idle horizon (journal wall times 1 s apart at least): c and d go, b stays active.
+  std::this_thread::sleep_for(std::chrono::milliseconds(1100));
+  window({{"b", 5}, {"e", 1}});
+  EXPECT_EQ(clients(), (std::vector<std::string>{"b", "e"}));
+  // A forgotten client's retry is a new batch (events.proto: the horizon).
+  const auto retried = harness.offer({wire_add(5001)}, from_client("c", 1));
+  EXPECT_FALSE(retried.has_value());
+  harness.close();
+  const auto live = marks();
+  ASSERT_EQ(live.size(), 3u);
+
+  // From the snapshot (taken before b's batches 2-4 and the expiry) plus the journal after it.
+  RecoveryReport report = harness.restart();
+  ASSERT_TRUE(report.snapshot_position.has_value());
+  EXPECT_EQ(marks(), live);
+  // From the journal alone.
+  std::filesystem::remove_all(harness.snapshot_dir());
+  report = harness.restart();
+  EXPECT_FALSE(report.snapshot_position.has_value());
+  EXPECT_EQ(marks(), live);
+  // And the answers are the same: b's 4 and 5 exact, its 2 forgotten, a is new again.
+  EXPECT_EQ(harness.offer({wire_add(1)}, from_client("b", 4))->accepted().seq(), 7u);
+  EXPECT_EQ(harness.offer({wire_add(1)}, from_client("b", 2))->rejected().errors(0).code(),
+            v1::Error::BATCH_FORGOTTEN);
+  EXPECT_FALSE(harness.offer({wire_add(7001)}, from_client("a", 1)).has_value());
+}
+
+TEST(Recovery, SnapshotMarksFromBeforeTheHorizonKnowTheirLastBatchAlone) {
+  v1::ClientMark old_mark;
+  old_mark.set_client_id("tram");
+  old_mark.set_last_batch(40);
+  old_mark.set_seq(7);
+  const RetryMark mark = retry_mark_from_snapshot(old_mark, 123);
+  EXPECT_EQ(mark.recent, (std::vector<AppliedBatch>{{40, 7}}));
+  EXPECT_EQ(mark.known_from, 40u);
+  EXPECT_EQ(mark.wall_time_us, 123u);  // the snapshot's wall time: idle from there
+  // A whole mark goes through a snapshot and back unchanged.
+  RetryMark whole;
+  whole.recent = {{3, 1}, {5, 4}, {9, 6}};
+  whole.known_from = 2;
+  whole.wall_time_us = 77;
+  EXPECT_EQ(retry_mark_from_snapshot(*snapshot_mark("tram", whole, 6), 123), whole);
+  // Batches of the open window (seq above the pool's) stay out; so does a mark of nothing else.
+  const RetryMark durable = retry_mark_from_snapshot(*snapshot_mark("tram", whole, 5), 123);
+  EXPECT_EQ(durable.recent, (std::vector<AppliedBatch>{{3, 1}, {5, 4}}));
+  EXPECT_EQ(durable.known_from, 2u);
+  EXPECT_EQ(durable.wall_time_us, 77u);
+  EXPECT_FALSE(snapshot_mark("tram", whole, 0).has_value());
 }
 
 TEST(Recovery, SnapshotPlusJournalTail) {
@@ -720,6 +808,9 @@ TEST(SnapshotCapture, OneRecordPerPoolWithItsMarks) {
   EXPECT_TRUE(harness.offer({wire_remove(5)}, in_pool("empty")).has_value());
   harness.close();
 
+  // Batches in the open window are not in a snapshot's marks: the log does not hold them.
+  EXPECT_FALSE(harness.offer({wire_add(8)}, from_client("a", 10, "quay")).has_value());
+  EXPECT_FALSE(harness.offer({wire_add(9)}, from_client("c", 1, "quay")).has_value());
   const std::vector<v1::SnapshotRecord> records = capture_snapshot(harness.service());
   ASSERT_EQ(records.size(), 2u);
   EXPECT_EQ(records[0].pool(), "dock");
@@ -730,8 +821,14 @@ TEST(SnapshotCapture, OneRecordPerPoolWithItsMarks) {
   EXPECT_EQ(quay.config().mode(), v1::MODE_MAX_WEIGHT);
   EXPECT_EQ(quay.engine_state_format(), kEngineStateFormat);
   ASSERT_EQ(quay.clients_size(), 2);
-  EXPECT_EQ(quay.clients(0).ShortDebugString(), "client_id: \"a\" last_batch: 9 seq: 2");
-  EXPECT_EQ(quay.clients(1).ShortDebugString(), "client_id: \"b\" last_batch: 4 seq: 1");
+  // The marks' wall time is their window's, as written in its journal records.
+  const std::uint64_t written = journal_wall_time(harness.journal_dir());
+  EXPECT_EQ(quay.clients(0).ShortDebugString(),
+            "client_id: \"a\" last_batch: 9 seq: 2 wall_time_unix_us: " +
+                std::to_string(written) + " known_from: 9");
+  EXPECT_EQ(quay.clients(1).ShortDebugString(),
+            "client_id: \"b\" last_batch: 4 seq: 1 wall_time_unix_us: " +
+                std::to_string(written) + " known_from: 4");
   const Pool& live = *harness.service().registry().find("quay");
   EXPECT_EQ(quay.weight(), live.weight());
   EXPECT_EQ(quay.pairs(), live.pairs());

@@ -7,6 +7,7 @@
 #include <set>
 
 #include "daemon/service/batch_decoder.h"
+#include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
 #include "engine/certificate.h"
 #include "engine/solve.h"
@@ -122,7 +123,7 @@ DaemonConfig test_config(const std::filesystem::path& data_dir) {
 }
 
 ServiceState fresh_state(const DaemonConfig& config) {
-  return ServiceState{PoolRegistry(config.pool_defaults, config.pools), {}, {}};
+  return empty_service_state(config);
 }
 
 WindowResult close_window(PoolService& service) {

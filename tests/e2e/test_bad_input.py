@@ -196,6 +196,16 @@ class BadInputTest(unittest.TestCase):
         request = make_batch_request([("set", 5, 6, (1 << 52) + 1)])
         self.expect_refusal(request, ErrorCode.WEIGHT_OUT_OF_RANGE, event_index=0)
 
+    def test_default_weight_bound(self):
+        # docs/protocol.md: max_abs_weight 0 resolves to the mode's exact bound, 2^40 for
+        # max-weight with the default 4194304 vertices (engine/pool_limits.cpp), reported
+        # resolved in Stats.config.
+        stats = self.daemon.ask("stats").stats
+        self.assertEqual(stats.config.limits.max_abs_weight, 1 << 40)
+        ack = self.expect_refusal(make_batch_request([("set", 5, 6, (1 << 40) + 1)]),
+                                  ErrorCode.WEIGHT_OUT_OF_RANGE, event_index=0)
+        self.assertIn(str(1 << 40), ack.rejected.errors[0].message)
+
     def test_unknown_vertex(self):
         self.expect_refusal(make_batch_request([("set", 5, 6, 1), ("remove", 424242)]),
                             ErrorCode.UNKNOWN_VERTEX, event_index=1)
@@ -280,19 +290,62 @@ class BadInputTest(unittest.TestCase):
         self.assertTrue(again.accepted.duplicate)
         self.assertEqual(again.accepted.seq, first.accepted.seq)
         self.assertEqual(self.pools_state(), middle)
-        # An older number is a retry too.
-        older = self.client.send(make_batch_request([("set", 1, 3, 1)], client_id="retry",
-                                                    client_batch=4))
-        self.assertTrue(older.accepted.duplicate)
-        self.assertEqual(self.pools_state(), middle)
         self.assertEqual(metric_value(self.daemon.metrics_text(), "yoke_batches_total",
-                                      pool="default", outcome="duplicate"), dup_before + 2)
+                                      pool="default", outcome="duplicate"), dup_before + 1)
         # The next number, after the last one, applies.
         nxt = self.client.send(make_batch_request([("set", 50, 51, 9), ("unset", 50, 51)],
                                                   client_id="retry", client_batch=6,
                                                   after_batch=5))
         self.assertFalse(nxt.accepted.duplicate)
         self.assertEqual(nxt.accepted.seq, first.accepted.seq + 1)
+
+    def test_batch_numbers_below_the_highest(self):
+        # events.proto, EventBatch.client_batch: a remembered batch gets its own seq back; a
+        # lower number never applied is BATCH_SKIPPED, one below what the daemon remembers of
+        # the client BATCH_FORGOTTEN, both naming the client's highest batch (Error.last_batch).
+        seq = self.daemon.summary()["seq"]
+        first = self.client.send(make_batch_request([("set", 60, 61, 3)], client_id="rule",
+                                                    client_batch=5))
+        third = self.client.send(make_batch_request([("set", 62, 63, 4)], client_id="rule",
+                                                    client_batch=7))
+        self.assertEqual((first.accepted.seq, third.accepted.seq), (seq + 1, seq + 2))
+        state = self.pools_state()
+        again = self.client.send(make_batch_request([("set", 60, 61, 3)], client_id="rule",
+                                                    client_batch=5))
+        self.assertTrue(again.accepted.duplicate)
+        self.assertEqual(again.accepted.seq, first.accepted.seq)
+        self.assertEqual(self.pools_state(), state)
+        skipped = self.expect_refusal(
+            make_batch_request([("set", 64, 65, 1)], client_id="rule", client_batch=6),
+            ErrorCode.BATCH_SKIPPED, pool="default")
+        self.assertEqual(skipped.rejected.errors[0].last_batch, 7)
+        # A client counting from 1 again under the same id is told, not silently dropped.
+        restarted = self.expect_refusal(
+            make_batch_request([("set", 64, 65, 1)], client_id="rule", client_batch=1),
+            ErrorCode.BATCH_FORGOTTEN, pool="default")
+        self.assertEqual(restarted.rejected.errors[0].last_batch, 7)
+        self.assertEqual((restarted.client_id, restarted.client_batch), ("rule", 1))
+        # The top of the range: 2^64-1 is a batch like any other, and nothing is above it.
+        top = 2**64 - 1
+        last = self.client.send(make_batch_request([("set", 64, 65, 1), ("unset", 64, 65)],
+                                                   client_id="rule", client_batch=top))
+        self.assertFalse(last.accepted.duplicate)
+        after_top = self.expect_refusal(
+            make_batch_request([("add", 66)], client_id="rule", client_batch=8),
+            ErrorCode.BATCH_SKIPPED, pool="default")
+        self.assertEqual(after_top.rejected.errors[0].last_batch, top)
+
+    def test_client_id_length(self):
+        longest = "c" * 128
+        ack = self.client.send(make_batch_request([("set", 70, 71, 1), ("unset", 70, 71)],
+                                                  client_id=longest, client_batch=1))
+        self.assertTrue(ack.HasField("accepted"), ack)
+        too_long = "c" * 129
+        ack = self.expect_refusal(make_batch_request([("add", 72)], client_id=too_long,
+                                                     client_batch=1),
+                                  ErrorCode.MALFORMED_MESSAGE, pool="default")
+        self.assertEqual(ack.client_id, too_long)  # echoed, so the client can match it
+        self.assertIn("at most 128 bytes", ack.rejected.errors[0].message)
 
     # --- queries ---
 

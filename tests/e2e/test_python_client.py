@@ -148,6 +148,23 @@ class PythonClientTest(unittest.TestCase):
         self.assertEqual(summary["weight"], networkx_weight(script.graph()))
         self.assertEqual(summary["weight"], replay_commits(script.path)[-1]["weight"])
 
+    def test_a_sender_idle_past_the_horizon_goes_on(self):
+        # events.proto, the exactly-once horizon, against a real yoked: a client silent for
+        # idle_seconds is forgotten at the pool's next window; its next batch names an
+        # after_batch the daemon no longer holds (OUT_OF_ORDER without last_batch), and the
+        # Sender sends it again without the condition: applied once.
+        daemon = Daemon(self, config="[ledger]\nidle_seconds = 1\n").start()
+        idle = Sender(daemon.ingest, pool="quay", client_id="idle-tug", timeout_s=2 * SLOWDOWN)
+        self.assertEqual(idle.send([set_edge(1, 2, 5)]).seq, 1)
+        time.sleep(1.2)
+        other = Sender(daemon.ingest, pool="quay", client_id="busy-tug")
+        self.assertEqual(other.send([set_edge(3, 4, 5)]).seq, 2)  # this window forgets idle-tug
+        ack = idle.send([set_edge(5, 6, 5)])
+        self.assertEqual((ack.seq, ack.duplicate), (3, False))
+        self.assertEqual(Query(daemon.query).summary("quay")["seq"], 3)
+        stats = Query(daemon.query).stats("quay")
+        self.assertEqual(stats["batches_accepted"], 3)
+
     def test_query_errors(self):
         daemon = Daemon(self).start()
         query = Query(daemon.query)

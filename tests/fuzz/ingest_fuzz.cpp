@@ -40,6 +40,7 @@
 #include "daemon/pools/pool_names.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
+#include "daemon/service/recovery.h"
 #include "engine/certificate.h"
 #include "service_model.h"
 
@@ -173,7 +174,7 @@ class Run {
 
  private:
   static ServiceState initial_state(const Fixture& fixture) {
-    return ServiceState{PoolRegistry(fixture.config.pool_defaults, fixture.config.pools), {}, {}};
+    return empty_service_state(fixture.config);
   }
   PoolModel& model_of(const std::string& name);
   static void open_window(PoolModel& pool);
@@ -188,7 +189,8 @@ class Run {
   Ticket next_ticket_ = 1;
   std::map<std::string, PoolModel> pools_;  // every pool a decoded batch named
   std::size_t existing_undeclared_ = 0;  // pools held that the config does not declare
-  std::map<std::pair<std::string, std::string>, AppliedBatch> ledger_;  // (pool, client)
+  // (pool, client) -> every batch number applied -> its seq.
+  std::map<std::pair<std::string, std::string>, std::map<std::uint64_t, std::uint64_t>> ledger_;
   std::map<Ticket, v1::Ack> waiting_;  // replies due at seal()
 };
 
@@ -313,12 +315,25 @@ void Run::ingest(std::string_view message) {
     return;
   }
 
-  // The retry rules (events.proto, EventBatch): only batches that name their client.
+  // The retry rules (events.proto, EventBatch): only batches that name their client. An input
+  // holds at most kMostMessages batches, no more than the ledger remembers per client by
+  // default, and no window closes past the idle horizon: every applied batch is remembered.
   if (!batch.client_id.empty()) {
-    const auto last = ledger_.find({batch.pool, batch.client_id});
-    if (last != ledger_.end() && batch.client_batch <= last->second.batch_number) {
-      const v1::Ack ack = accepted_ack(batch, last->second.seq, true);
-      if (last->second.seq > pool.seq) {  // still in the window: answered once durable
+    const auto found = ledger_.find({batch.pool, batch.client_id});
+    const std::map<std::uint64_t, std::uint64_t>* applied =
+        found == ledger_.end() ? nullptr : &found->second;
+    if (applied != nullptr && batch.client_batch <= applied->rbegin()->first) {
+      const auto same = applied->find(batch.client_batch);
+      if (same == applied->end()) {
+        // Never applied: known so from the client's first batch in the pool on.
+        expect_refusal({batch.client_batch > applied->begin()->first ? v1::Error::BATCH_SKIPPED
+                                                                     : v1::Error::BATCH_FORGOTTEN},
+                       std::nullopt);
+        REQUIRE(got->rejected().errors(0).last_batch() == applied->rbegin()->first);
+        return;
+      }
+      const v1::Ack ack = accepted_ack(batch, same->second, true);
+      if (same->second > pool.seq) {  // still in the window: answered once durable
         REQUIRE(!got);
         waiting_.emplace(ticket, ack);
       } else {
@@ -328,7 +343,7 @@ void Run::ingest(std::string_view message) {
       return;
     }
     if (batch.after_batch != 0 &&
-        (last == ledger_.end() || last->second.batch_number != batch.after_batch)) {
+        (applied == nullptr || applied->rbegin()->first != batch.after_batch)) {
       expect_refusal({v1::Error::OUT_OF_ORDER}, std::nullopt);
       return;
     }
@@ -364,7 +379,7 @@ void Run::ingest(std::string_view message) {
   pool.count = count;
   const std::uint64_t seq = pool.next_seq++;
   ++pool.batches;
-  if (!batch.client_id.empty()) ledger_[{batch.pool, batch.client_id}] = {batch.client_batch, seq};
+  if (!batch.client_id.empty()) ledger_[{batch.pool, batch.client_id}][batch.client_batch] = seq;
   waiting_.emplace(ticket, accepted_ack(batch, seq, false));
   REQUIRE(service_.window_events() == window_events_before + batch.events.size());
 }

@@ -48,9 +48,8 @@ struct SendReport {
 
   std::size_t accepted = 0;    // batches acknowledged as accepted
   std::size_t duplicates = 0;  // of those, acknowledged as already applied
-  // The smallest and largest seq of the acknowledgements (when accepted > 0). The last batch's
-  // seq is the largest; a duplicate's ack names the client's latest applied seq, so first_seq
-  // is the first batch's own seq unless that batch's first acknowledgement was lost.
+  // The smallest and largest seq of the acknowledgements (when accepted > 0): the first and the
+  // last batch's own seqs (a duplicate's ack names the seq its batch got).
   std::uint64_t first_seq = 0;
   std::uint64_t last_seq = 0;
 };

@@ -147,6 +147,7 @@ Json health_json(const v1::Health& health) {
 Json error_json(const v1::Error& error) {
   Json out{{"code", error_code_name(error.code())}, {"message", error.message()}};
   if (error.has_event_index()) out["event_index"] = error.event_index();
+  if (error.has_last_batch()) out["last_batch"] = error.last_batch();
   return out;
 }
 

@@ -8,7 +8,13 @@ one more than the last number used), and each batch names the previous batch's n
 after_batch (0 for the sender's very first batch), so the daemon never applies a batch whose
 predecessor was lost. On silence (timeout_s) or an OUT_OF_ORDER / UNAVAILABLE refusal the sender
 resends from the oldest unacknowledged batch with the same numbers: the daemon acknowledges an
-already-applied batch again without applying it.
+already-applied batch again, with its own seq, without applying it (it remembers a client's latest
+64 batches by default, `[ledger] batches_per_client`: keep in_flight at or below it). A lower
+number it does not hold is refused (BATCH_SKIPPED, BATCH_FORGOTTEN): raised as Rejected, since
+a sender never reuses a number. A sender idle past the daemon's horizon (`[ledger]
+idle_seconds`) finds its first batch refused OUT_OF_ORDER with no last_batch: the daemon forgot
+it, so that batch is sent again without its after_batch condition (its predecessor was
+acknowledged).
 
 A cluster (several ingest endpoints): a NOT_OWNER refusal sends every unacknowledged batch, with
 the same numbers, to the daemon it names, or (none named, or an endpoint silent for timeout_s)
@@ -34,9 +40,9 @@ VERSION = protocol_pb2.PROTOCOL_VERSION_1
 _RESEND_CODES = (protocol_pb2.Error.OUT_OF_ORDER, protocol_pb2.Error.UNAVAILABLE)
 
 Ack = collections.namedtuple("Ack", "seq duplicate client_batch pool")
-Ack.__doc__ = """An accepted batch: the pool's seq for it (for a duplicate, the seq of this
-client's latest applied batch), whether it was a retry of an applied batch, its number, and the
-pool as the daemon resolved it."""
+Ack.__doc__ = """An accepted batch: the pool's seq for it (for a duplicate too: the seq the batch
+got when it was applied), whether it was a retry of an applied batch, its number, and the pool as
+the daemon resolved it."""
 
 
 class Sender(DealerConnection):
@@ -157,6 +163,15 @@ class _Run:
         self.resend_at = None      # a refusal asked for a resend at this time
         self.deadline = time.monotonic() + sender.timeout_s
 
+    def forgotten(self, error):
+        """Whether an OUT_OF_ORDER refusal of the first batch of the call says the daemon holds
+        no batch of this client (no Error.last_batch) although the batch names one."""
+        if error.code != protocol_pb2.Error.OUT_OF_ORDER or error.HasField("last_batch"):
+            return False
+        request = ingest_pb2.IngestRequest()
+        request.ParseFromString(self.requests[0])
+        return request.batch.after_batch != 0
+
     def limit(self):
         return len(self.requests) if self.failure is None else self.failure[0]
 
@@ -171,7 +186,7 @@ class _Run:
                 index, error = self.failure
                 raise Rejected(dicts.code_name(error.code), error.message,
                                error.event_index if error.HasField("event_index") else None,
-                               index)
+                               index, error.last_batch if error.HasField("last_batch") else None)
             while self.next < self.limit() and self.next - self.oldest < self.s.in_flight:
                 self.transmit(self.next)
                 self.next += 1
@@ -253,6 +268,14 @@ class _Run:
                 self.move()
             return
         self.s.route.answered()
+        if i == 0 and self.forgotten(error):
+            # The daemon holds no batch of this client in the pool: it was idle past the
+            # exactly-once horizon (docs/protocol.md). The predecessor named was acknowledged,
+            # so the condition is dropped and the batch sent again.
+            request = ingest_pb2.IngestRequest()
+            request.ParseFromString(self.requests[0])
+            request.batch.after_batch = 0
+            self.requests[0] = request.SerializeToString()
         if error.code not in _RESEND_CODES:
             if self.failure is None or i < self.failure[0]:
                 self.failure = (i, error)
