@@ -77,6 +77,13 @@ class YokedServer {
               ClusterHooks* cluster);
   v1::Health health() const;
   void shut_down(int status);
+  // At a stop: every batch that will get no other answer gets UNAVAILABLE rather than silence:
+  // those of a window that failed, then those still queued on the ingest socket (read until it
+  // stays empty kDrainQuiet, kDrainLimit at most; later ones find the socket closed).
+  void refuse_in_flight(const std::string& reason);
+  // The answer to an ingest message that will not be served: UNAVAILABLE naming its batch, or
+  // the refusal decoding alone gives it.
+  v1::Ack unavailable(std::string_view message, const std::string& reason) const;
 
   const DaemonConfig& config_;
   PoolService& service_;
