@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <exception>
 #include <stdexcept>
-#include <variant>
 
 #include <boost/asio/post.hpp>
 #include <zmq_addon.hpp>
@@ -134,7 +133,7 @@ void YokedServer::on_ingest_message() {
   if (stopping_) {
     v1::IngestReply reply;
     reply.set_version(v1::PROTOCOL_VERSION_1);
-    *reply.mutable_ack() = unavailable(payload.to_string_view(), "the daemon is shutting down");
+    *reply.mutable_ack() = unread_refusal("the daemon is shutting down");
     metrics_->acknowledged(reply.ack());
     this->reply(ingest_, frames, reply.SerializeAsString());
     return;
@@ -430,6 +429,16 @@ void YokedServer::refuse_in_flight(const std::string& reason) {
   std::size_t drained = 0;
   const Clock::time_point give_up = Clock::now() + kDrainLimit;
   Clock::time_point quiet_until = Clock::now() + kDrainQuiet;
+  try {
+    drain_ingest(reason, give_up, quiet_until, drained);
+  } catch (const zmq::error_t& error) {
+    log_event(LogLevel::warn, "drain_failed", {{"reason", error.what()}});
+  }
+  if (drained > 0) log_event(LogLevel::warn, "unread_refused", {{"messages", drained}});
+}
+
+void YokedServer::drain_ingest(const std::string& reason, Clock::time_point give_up,
+                               Clock::time_point quiet_until, std::size_t& drained) {
   for (;;) {
     const Clock::time_point now = Clock::now();
     const Clock::time_point until = std::min(give_up, quiet_until);
@@ -440,11 +449,10 @@ void YokedServer::refuse_in_flight(const std::string& reason) {
     while (zmq::recv_multipart(ingest_, std::back_inserter(frames), zmq::recv_flags::dontwait)) {
       if (frames.size() >= 2) {
         metrics_->ingest_message();
-        const zmq::message_t payload = std::move(frames.back());
-        frames.pop_back();
+        frames.pop_back();  // the message, unread
         v1::IngestReply answer;
         answer.set_version(v1::PROTOCOL_VERSION_1);
-        *answer.mutable_ack() = unavailable(payload.to_string_view(), reason);
+        *answer.mutable_ack() = unread_refusal(reason);
         metrics_->acknowledged(answer.ack());
         reply(ingest_, frames, answer.SerializeAsString());
         ++drained;
@@ -453,15 +461,12 @@ void YokedServer::refuse_in_flight(const std::string& reason) {
       quiet_until = Clock::now() + kDrainQuiet;
     }
   }
-  if (drained > 0) log_event(LogLevel::warn, "unread_refused", {{"messages", drained}});
 }
 
-v1::Ack YokedServer::unavailable(std::string_view message, const std::string& reason) const {
-  DecodeResult decoded = decode_ingest(message, config_.limits);
-  if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return std::move(*refusal);
-  const DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  return refused(batch_ack(batch.client_id, batch.client_batch, batch.pool),
-                 make_error(v1::Error::UNAVAILABLE, reason));
+v1::Ack YokedServer::unread_refusal(const std::string& reason) {
+  v1::Ack ack;
+  *ack.mutable_rejected()->add_errors() = make_error(v1::Error::UNAVAILABLE, reason);
+  return ack;
 }
 
 }  // namespace yoke::daemon

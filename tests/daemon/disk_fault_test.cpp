@@ -7,7 +7,8 @@
 // from the N-th call, with or without a power loss.
 //
 // What must hold (DEVELOPERS.md, "A failing disk"): a failed commit acknowledges nothing of its
-// window and the log refuses every later commit (the daemon stops); a failed snapshot changes
+// window (refuse_window answers it UNAVAILABLE) and the log refuses every later commit (the
+// daemon stops); a failed snapshot changes
 // nothing else. After recovery the state is exactly the one after the acknowledged windows:
 // nothing acknowledged lost, nothing unacknowledged applied; only when the disk refuses even
 // the cut of the failed window may part of it come back (as the outcome UNAVAILABLE warns).
@@ -27,6 +28,7 @@
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
+#include "daemon/service/wire_types.h"
 #include "daemon/snapshots/snapshot_directory.h"
 #include "daemon/storage/storage_error.h"
 #include "service_test_util.h"
@@ -124,6 +126,18 @@ Outcome serve_windows(const DaemonConfig& config, const std::vector<ScriptWindow
     } catch (const storage::LogError& error) {
       outcome.stopped = true;
       outcome.failure = error.what();
+      // The server answers the window's batches UNAVAILABLE, each naming its batch.
+      const auto refusals =
+          service->refuse_window(make_error(v1::Error::UNAVAILABLE, "the journal failed"));
+      EXPECT_EQ(refusals.size(), script[w].size());
+      for (std::size_t i = 0; i < refusals.size() && i < script[w].size(); ++i) {
+        const v1::Ack& ack = refusals[i].second;
+        EXPECT_TRUE(ack.has_rejected() && ack.rejected().errors(0).code() == v1::Error::UNAVAILABLE)
+            << ack.ShortDebugString();
+        EXPECT_EQ(ack.client_id(), script[w][i].header.client_id);
+        EXPECT_EQ(ack.client_batch(), script[w][i].header.client_batch);
+      }
+      EXPECT_TRUE(service->window_empty());
       // The log refuses every later commit: nothing more can be acknowledged.
       EXPECT_FALSE(service->offer(ticket++, testing::ingest_message({testing::wire_add(100000)},
                                                                      testing::in_pool("default"))));
@@ -175,6 +189,8 @@ struct FaultMode {
   bool persistent;  // the disk fails from the N-th call on
   bool power_loss;  // everything not synced is forgotten before the restart
 };
+
+void PrintTo(const FaultMode& mode, std::ostream* out) { *out << mode.name; }
 
 class DiskFaults : public ::testing::TestWithParam<FaultMode> {};
 

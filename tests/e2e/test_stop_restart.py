@@ -1,6 +1,6 @@
 """End to end: the edges of stopping and starting. SIGTERM answers every batch it will not
-apply with UNAVAILABLE naming the batch, rather than leaving it unanswered; those batches are
-not applied, and a resend after the restart is. A start waits (bounded, `[journal]
+apply with UNAVAILABLE (refused unread: naming no batch) rather than leaving it unanswered;
+those batches are not applied, and a resend after the restart is. A start waits (bounded, `[journal]
 lock_wait_ms`) for the journal's lock instead of exiting at once: a daemon restarted right
 after a SIGKILL finds the lock held while the kernel tears the killed process down."""
 
@@ -51,28 +51,36 @@ class SigtermInFlightTest(unittest.TestCase):
         answers = {}
 
         def receive(timeout_s):
+            """The next Ack, or None on silence."""
             if not client.sock.poll(int(timeout_s * 1000), zmq.POLLIN):
-                return False
+                return None
             reply = ingest_pb2.IngestReply()
             reply.ParseFromString(client.sock.recv())
-            ack = reply.ack
-            self.assertEqual(ack.client_id, CLIENT)  # UNAVAILABLE names its batch too
-            self.assertNotIn(ack.client_batch, answers)
-            answers[ack.client_batch] = ack_outcome(ack)
-            return True
+            return reply.ack
 
         while len(answers) < waiting:
-            self.assertTrue(receive(5 * SLOWDOWN), f"{answers}\n{daemon.diagnostics()}")
+            ack = receive(5 * SLOWDOWN)
+            self.assertIsNotNone(ack, f"{answers}\n{daemon.diagnostics()}")
+            self.assertEqual(ack.client_id, CLIENT)
+            self.assertNotIn(ack.client_batch, answers)
+            answers[ack.client_batch] = ack_outcome(ack)
         number = waiting
+        sent_unanswered = None  # the batch that met the closed socket, if any
         while True:
             number += 1
             client.sock.send(batch(number).SerializeToString())
-            if not receive(2 * SLOWDOWN):
-                sent_unanswered = number  # the socket closed: never read, never applied
+            ack = receive(2 * SLOWDOWN)
+            if ack is None:
+                sent_unanswered = number  # never read, never applied
                 break
-            if answers[number] == "UNAVAILABLE" and number > waiting + 3:
-                sent_unanswered = None
-                break
+            answers[number] = ack_outcome(ack)
+            if ack.HasField("accepted"):
+                self.assertEqual((ack.client_id, ack.client_batch), (CLIENT, number))
+            else:
+                # Refused unread: names no batch, so clients resend after their timeout.
+                self.assertEqual((ack.client_id, ack.client_batch), ("", 0))
+                if number > waiting + 3:
+                    break
         self.assertEqual(daemon.proc.wait(30 * SLOWDOWN), 0, daemon.diagnostics())
 
         # The window's batches were applied and acknowledged; after them, only UNAVAILABLE.
