@@ -35,6 +35,7 @@ void read_journal(TomlTableReader& table, journal::Options& out) {
   table.read("segment_bytes", std::uint64_t{1} << 20, std::uint64_t{1} << 40, out.segment_bytes);
   table.read("max_record_bytes", std::uint32_t{1} << 10, journal::format::kMaxPayloadBytes,
              out.max_record_bytes);
+  table.read("lock_wait_ms", std::uint64_t{0}, std::uint64_t{3'600'000}, out.lock_wait_ms);
   table.finish();
 }
 

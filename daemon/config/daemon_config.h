@@ -88,7 +88,9 @@ struct DaemonConfig {
   std::filesystem::path data_dir;  // no default: the command line must give it
   Endpoints endpoints;
   BatchingSettings batching;
-  journal::Options journal;
+  // yoked waits up to 10 s for the journal's lock: a daemon restarted right after a SIGKILL finds
+  // it held until the kernel has torn the killed process down (about 0.5 s for a large one).
+  journal::Options journal{.lock_wait_ms = 10'000};
   SnapshotSettings snapshots;
   InputLimits limits;
   LedgerSettings ledger;  // the retry ledger's exactly-once horizon

@@ -1,7 +1,8 @@
 #include "journal.h"
 
+#include <fcntl.h>
+
 #include <limits>
-#include <system_error>
 
 #include "journal_state.h"
 #include "segment_names.h"
@@ -21,6 +22,35 @@ void Journal::State::check_usable() const {
   if (failed) {
     throw Error("journal: " + dir.string() +
                 " is unusable after a failed write or sync; reopen it to recover");
+  }
+}
+
+void Journal::State::mark_durable_end() {
+  durable_segments = segments.size();
+  durable_bytes = writer.is_open() ? writer.size() : 0;
+  durable_next_position = next_position;
+}
+
+void Journal::State::cut_back_to_durable_end() noexcept {
+  try {
+    writer = SegmentWriter();  // closes the file; the buffered bytes are dropped
+    const bool removing = segments.size() > durable_segments;
+    while (segments.size() > durable_segments) {
+      remove_file(segment_path(dir, segments.back()));
+      segments.pop_back();
+    }
+    if (!segments.empty()) {
+      const std::filesystem::path last = segment_path(dir, segments.back());
+      const FileDescriptor file = open_file(last, O_WRONLY);
+      if (file_size(file, last) > durable_bytes) {
+        truncate_file(file, durable_bytes, last);
+        sync_data(file, last);
+      }
+    }
+    if (removing) sync_directory(dir_fd, dir);
+    next_position = durable_next_position;
+  } catch (...) {
+    // The disk refuses even this: recovery keeps what of the records reached it.
   }
 }
 
@@ -80,14 +110,20 @@ void Journal::append(std::uint64_t position, std::string_view payload) {
     }
     s.writer.add(position, payload);
     s.next_position = position + 1;
-    if (s.options.durability == Durability::every_batch) s.sync();
+    if (s.options.durability == Durability::every_batch) {
+      s.sync();
+      s.mark_durable_end();
+    }
   });
 }
 
 void Journal::sync() {
   State& s = *state_;
   s.check_usable();
-  s.guarded([&] { s.sync(); });
+  s.guarded([&] {
+    s.sync();
+    s.mark_durable_end();
+  });
 }
 
 Reader Journal::read_after(std::uint64_t after_position) {
@@ -101,11 +137,9 @@ std::size_t Journal::drop_before(std::uint64_t position) {
   std::size_t dropped = 0;
   // Segment i holds segments[i] .. segments[i+1] - 1; the last one is never dropped.
   while (s.segments.size() >= 2 && s.segments[1] <= position) {
-    const std::filesystem::path file = segment_path(s.dir, s.segments.front());
-    std::error_code error;
-    std::filesystem::remove(file, error);
-    if (error) throw Error("journal: cannot remove " + file.string() + ": " + error.message());
+    remove_file(segment_path(s.dir, s.segments.front()));
     s.segments.erase(s.segments.begin());
+    if (s.durable_segments > 0) --s.durable_segments;
     ++dropped;
   }
   if (dropped > 0) sync_directory(s.dir_fd, s.dir);

@@ -5,8 +5,10 @@
 //
 // One Journal owns its directory (an exclusive lock, held until it is destroyed). Not
 // thread-safe: one thread appends and syncs. After a failed write or sync it refuses further
-// appends and syncs (the kernel may have dropped the unsynced bytes): reopen it, and recovery
-// keeps what reached the disk.
+// appends and syncs (the kernel may have dropped the unsynced bytes), and first cuts what was
+// appended since the last point it reported durable (the last sync(), or under every_batch the
+// last append()), so that a reopen finds exactly what was reported durable; when that cut fails
+// too, recovery keeps whatever of those records reached the disk.
 #pragma once
 
 #include <cstdint>
@@ -35,6 +37,9 @@ struct Options {
   std::uint64_t segment_bytes = std::uint64_t{64} << 20;
   // Longest payload append() accepts; at most format::kMaxPayloadBytes.
   std::uint32_t max_record_bytes = std::uint32_t{16} << 20;
+  // How long open() waits for the directory's lock while another holder has it (a process
+  // killed a moment ago keeps it until the kernel has torn the process down). 0: fail at once.
+  std::uint64_t lock_wait_ms = 0;
 };
 
 // What open() found.
@@ -42,6 +47,7 @@ struct Recovery {
   std::size_t segments = 0;       // segment files kept
   std::uint64_t records = 0;      // records checked and kept
   std::optional<TailCut> cut;     // the damaged tail removed from the last segment, if any
+  std::uint64_t lock_waited_ms = 0;  // how long open() waited for the directory's lock
 };
 
 class Journal {
@@ -50,7 +56,8 @@ class Journal {
   // once (O(journal size)); cuts a damaged tail of the last segment (truncating the file, or
   // removing it if its header was torn) and reports it in recovery(). Throws Corruption for
   // damage anywhere else (the caller must not start: records after it would be lost), and
-  // Error when the directory is already open or a system call fails.
+  // Error when the directory is still locked after Options::lock_wait_ms or a system call
+  // fails.
   static Journal open(const std::filesystem::path& dir, const Options& options = {});
 
   Journal(Journal&&) noexcept;

@@ -25,11 +25,7 @@ void create_directory_durably(const std::filesystem::path& dir) {
 
 void Journal::State::cut_tail(const TailCut& cut) {
   if (cut.offset == 0) {
-    std::error_code error;
-    std::filesystem::remove(cut.segment, error);
-    if (error) {
-      throw Error("journal: cannot remove " + cut.segment.string() + ": " + error.message());
-    }
+    remove_file(cut.segment);
     segments.pop_back();
     sync_directory(dir_fd, dir);
     return;
@@ -51,7 +47,8 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
   state->options = options;
   create_directory_durably(dir);
   state->dir_fd = open_directory(dir);
-  lock_directory(state->dir_fd, dir);
+  const std::chrono::milliseconds waited =
+      lock_directory(state->dir_fd, dir, std::chrono::milliseconds(options.lock_wait_ms));
 
   Reader scan = Reader::from_start(dir);
   std::uint64_t records = 0;
@@ -63,7 +60,9 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
   if (!state->segments.empty()) {
     state->writer = SegmentWriter::reopen(segment_path(dir, state->segments.back()));
   }
-  state->recovery = Recovery{state->segments.size(), records, scan.tail()};
+  state->recovery = Recovery{state->segments.size(), records, scan.tail(),
+                             static_cast<std::uint64_t>(waited.count())};
+  state->mark_durable_end();
   return Journal(std::move(state));
 }
 

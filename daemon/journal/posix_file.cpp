@@ -7,9 +7,12 @@
 
 #include <algorithm>
 #include <cerrno>
+#include <chrono>
 #include <cstring>
+#include <thread>
 #include <utility>
 
+#include "file_system.h"
 #include "journal_error.h"
 
 namespace yoke::journal {
@@ -42,7 +45,7 @@ int FileDescriptor::release() { return std::exchange(fd_, -1); }
 FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode) {
   int fd;
   do {
-    fd = ::open(path.c_str(), flags | O_CLOEXEC, static_cast<mode_t>(mode));
+    fd = file_system().open(path, flags | O_CLOEXEC, mode);
   } while (fd < 0 && errno == EINTR);
   if (fd < 0) fail("open of", path);
   return FileDescriptor(fd);
@@ -52,12 +55,27 @@ FileDescriptor open_directory(const std::filesystem::path& dir) {
   return open_file(dir, O_RDONLY | O_DIRECTORY);
 }
 
-void lock_directory(const FileDescriptor& dir, const std::filesystem::path& path) {
-  if (::flock(dir.get(), LOCK_EX | LOCK_NB) == 0) return;
-  if (errno == EWOULDBLOCK) {
-    throw Error("journal: " + path.string() + " is already open (in this or another process)");
+std::chrono::milliseconds lock_directory(const FileDescriptor& dir,
+                                         const std::filesystem::path& path,
+                                         std::chrono::milliseconds wait) {
+  // A process killed a moment ago still holds the lock until the kernel has torn it down.
+  constexpr std::chrono::milliseconds kPoll{20};
+  const auto start = std::chrono::steady_clock::now();
+  for (;;) {
+    if (::flock(dir.get(), LOCK_EX | LOCK_NB) == 0) {
+      return std::chrono::duration_cast<std::chrono::milliseconds>(
+          std::chrono::steady_clock::now() - start);
+    }
+    if (errno == EINTR) continue;
+    if (errno != EWOULDBLOCK) fail("lock of", path);
+    if (std::chrono::steady_clock::now() - start >= wait) {
+      throw Error("journal: " + path.string() +
+                  " is already open (in this or another process)" +
+                  (wait.count() > 0 ? " after waiting " + std::to_string(wait.count()) + " ms"
+                                    : std::string()));
+    }
+    std::this_thread::sleep_for(kPoll);
   }
-  fail("lock of", path);
 }
 
 std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path& path) {
@@ -69,7 +87,7 @@ std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path&
 void write_all(const FileDescriptor& file, std::string_view bytes,
                const std::filesystem::path& path) {
   while (!bytes.empty()) {
-    const ssize_t written = ::write(file.get(), bytes.data(), bytes.size());
+    const ssize_t written = file_system().write(file.get(), bytes.data(), bytes.size());
     if (written < 0) {
       if (errno == EINTR) continue;
       fail("write to", path);
@@ -79,16 +97,29 @@ void write_all(const FileDescriptor& file, std::string_view bytes,
 }
 
 void sync_data(const FileDescriptor& file, const std::filesystem::path& path) {
-  if (::fdatasync(file.get()) != 0) fail("fdatasync of", path);
+  if (file_system().sync_data(file.get()) != 0) fail("fdatasync of", path);
 }
 
 void sync_directory(const FileDescriptor& dir, const std::filesystem::path& path) {
-  if (::fsync(dir.get()) != 0) fail("fsync of directory", path);
+  if (file_system().sync_directory(dir.get()) != 0) fail("fsync of directory", path);
 }
 
 void truncate_file(const FileDescriptor& file, std::uint64_t size,
                    const std::filesystem::path& path) {
-  if (::ftruncate(file.get(), static_cast<off_t>(size)) != 0) fail("truncate of", path);
+  if (file_system().truncate(file.get(), static_cast<off_t>(size)) != 0) {
+    fail("truncate of", path);
+  }
+}
+
+void rename_file(const std::filesystem::path& from, const std::filesystem::path& to) {
+  if (file_system().rename(from, to) == 0) return;
+  const int error = errno;
+  throw Error("journal: rename of " + from.string() + " to " + to.string() +
+              " failed: " + std::strerror(error));
+}
+
+void remove_file(const std::filesystem::path& path) {
+  if (file_system().remove(path) != 0) fail("removal of", path);
 }
 
 BufferedReader::BufferedReader(FileDescriptor file, std::filesystem::path path)

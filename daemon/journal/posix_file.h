@@ -1,7 +1,9 @@
 // The few POSIX file calls the journal needs (fdatasync and directory fsync have no standard
-// C++ form), wrapped so that every failure becomes an Error naming the file and the cause.
+// C++ form), wrapped so that every failure becomes an Error naming the file and the cause. The
+// calls that change files go through file_system() (file_system.h), where tests inject faults.
 #pragma once
 
+#include <chrono>
 #include <cstddef>
 #include <cstdint>
 #include <filesystem>
@@ -33,9 +35,12 @@ class FileDescriptor {
 FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode = 0644);
 // The directory, opened for fsync and locking.
 FileDescriptor open_directory(const std::filesystem::path& dir);
-// Takes an exclusive lock on the open directory for the life of the descriptor; throws Error
-// if another process (or another open Journal) holds it.
-void lock_directory(const FileDescriptor& dir, const std::filesystem::path& path);
+// Takes an exclusive lock on the open directory for the life of the descriptor, waiting up to
+// `wait` (polling every 20 ms) while another process or open Journal holds it; throws Error
+// (saying "already open") when it is still held then. Returns how long it waited.
+std::chrono::milliseconds lock_directory(const FileDescriptor& dir,
+                                         const std::filesystem::path& path,
+                                         std::chrono::milliseconds wait = {});
 
 std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path& path);
 // Writes every byte (retrying short writes and EINTR) or throws.
@@ -47,6 +52,10 @@ void sync_data(const FileDescriptor& file, const std::filesystem::path& path);
 void sync_directory(const FileDescriptor& dir, const std::filesystem::path& path);
 void truncate_file(const FileDescriptor& file, std::uint64_t size,
                    const std::filesystem::path& path);
+// rename(2): replaces `to` if it exists. Durable after sync_directory of the directory.
+void rename_file(const std::filesystem::path& from, const std::filesystem::path& to);
+// unlink(2) of a file. Durable after sync_directory of its directory.
+void remove_file(const std::filesystem::path& path);
 
 // Reads a file front to back through a buffer: few system calls for many small records.
 class BufferedReader {

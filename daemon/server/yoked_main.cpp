@@ -47,6 +47,9 @@ void log_recovery(const RecoveryReport& report, const yoke::journal::Recovery& j
   for (const std::string& reason : report.skipped) {
     log_event(LogLevel::warn, "snapshot_skipped", {{"reason", reason}});
   }
+  if (journal.lock_waited_ms > 0) {
+    log_event(LogLevel::warn, "journal_lock_waited", {{"ms", journal.lock_waited_ms}});
+  }
   if (journal.cut) {
     log_event(LogLevel::warn, "journal_tail_cut",
               {{"segment", journal.cut->segment.string()},

@@ -1,5 +1,6 @@
 #include "yoked_server.h"
 
+#include <algorithm>
 #include <exception>
 #include <stdexcept>
 
@@ -27,6 +28,11 @@ std::uint64_t micros(Clock::duration duration) {
   return static_cast<std::uint64_t>(
       std::chrono::duration_cast<std::chrono::microseconds>(duration).count());
 }
+
+// At a stop, the ingest socket is read for batches to refuse until it has been empty this long,
+// and no longer than the limit in all.
+constexpr std::chrono::milliseconds kDrainQuiet{50};
+constexpr std::chrono::milliseconds kDrainLimit{500};
 
 // Messages past this many bytes are dropped by ZeroMQ itself (the peer is disconnected): up to
 // it, an oversized message is read and answered with OVERSIZED_MESSAGE.
@@ -133,8 +139,7 @@ void YokedServer::on_ingest_message() {
   if (stopping_) {
     v1::IngestReply reply;
     reply.set_version(v1::PROTOCOL_VERSION_1);
-    *reply.mutable_ack()->mutable_rejected()->add_errors() =
-        make_error(v1::Error::UNAVAILABLE, "the daemon is shutting down");
+    *reply.mutable_ack() = unread_refusal("the daemon is shutting down");
     metrics_->acknowledged(reply.ack());
     this->reply(ingest_, frames, reply.SerializeAsString());
     return;
@@ -213,7 +218,8 @@ void YokedServer::close_window() {
       send_acks(cluster_->commit_failed(service_, Clock::now()));
       return;
     }
-    // Nothing of this window is acknowledged; what reached the disk is recovered at restart.
+    // Nothing of this window is acknowledged: its batches get UNAVAILABLE (shut_down), and
+    // the journal has cut them (journal.h); recovery keeps the acknowledged windows.
     log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
     journal_failed_ = true;
     shut_down(kYokedFailure);
@@ -401,10 +407,15 @@ void YokedServer::shut_down(int status) {
       log_event(LogLevel::error, "final_snapshot_failed", {{"reason", error.what()}});
       status = kYokedFailure;
     }
+    if (stopping_) return;  // the last window's commit failed: that stop has been made
   }
   if (cluster_ != nullptr) cluster_->leave(service_);
   stopping_ = true;
   exit_status_ = status;
+  refuse_in_flight(journal_failed_ ? "the journal cannot be written: the batch was not applied "
+                                     "(resend it once the daemon is back)"
+                                   : "the daemon is shutting down: the batch was not applied "
+                                     "(resend it once the daemon is back)");
   // The last window's acknowledgements and diffs may still sit in ZeroMQ's queues: give them a
   // moment to leave when the sockets close (a lost ack only costs the client a retry).
   for (zmq::socket_t* socket : {&ingest_, &publisher_, &query_}) {
@@ -418,6 +429,56 @@ void YokedServer::shut_down(int status) {
   query_watcher_->stop();
   http_->stop();
   io_.stop();
+}
+
+void YokedServer::refuse_in_flight(const std::string& reason) {
+  std::vector<std::pair<Ticket, v1::Ack>> refusals =
+      service_.refuse_window(make_error(v1::Error::UNAVAILABLE, reason));
+  if (!refusals.empty()) {
+    log_event(LogLevel::warn, "window_refused", {{"batches", refusals.size()}, {"reason", reason}});
+  }
+  send_acks(std::move(refusals));
+  std::size_t drained = 0;
+  const Clock::time_point give_up = Clock::now() + kDrainLimit;
+  Clock::time_point quiet_until = Clock::now() + kDrainQuiet;
+  try {
+    drain_ingest(reason, give_up, quiet_until, drained);
+  } catch (const zmq::error_t& error) {
+    log_event(LogLevel::warn, "drain_failed", {{"reason", error.what()}});
+  }
+  if (drained > 0) log_event(LogLevel::warn, "unread_refused", {{"messages", drained}});
+}
+
+void YokedServer::drain_ingest(const std::string& reason, Clock::time_point give_up,
+                               Clock::time_point quiet_until, std::size_t& drained) {
+  for (;;) {
+    const Clock::time_point now = Clock::now();
+    const Clock::time_point until = std::min(give_up, quiet_until);
+    if (now >= until) break;
+    zmq::pollitem_t item{ingest_.handle(), 0, ZMQ_POLLIN, 0};
+    zmq::poll(&item, 1, std::chrono::duration_cast<std::chrono::milliseconds>(until - now));
+    Envelope frames;
+    while (zmq::recv_multipart(ingest_, std::back_inserter(frames), zmq::recv_flags::dontwait)) {
+      if (frames.size() >= 2) {
+        metrics_->ingest_message();
+        frames.pop_back();  // the message, unread
+        v1::IngestReply answer;
+        answer.set_version(v1::PROTOCOL_VERSION_1);
+        *answer.mutable_ack() = unread_refusal(reason);
+        metrics_->acknowledged(answer.ack());
+        reply(ingest_, frames, answer.SerializeAsString());
+        ++drained;
+      }
+      frames.clear();
+      quiet_until = Clock::now() + kDrainQuiet;
+    }
+  }
+}
+
+v1::Ack YokedServer::unread_refusal(const std::string& reason) {
+  v1::Ack ack;
+  *ack.mutable_rejected()->add_errors() = make_error(v1::Error::UNAVAILABLE, reason);
+  return ack;
 }
 
 }  // namespace yoke::daemon

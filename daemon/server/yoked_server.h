@@ -77,6 +77,18 @@ class YokedServer {
               ClusterHooks* cluster);
   v1::Health health() const;
   void shut_down(int status);
+  // At a stop: every batch that will get no other answer gets UNAVAILABLE rather than silence:
+  // those of a window that failed (naming their batch), then the messages still queued on the
+  // ingest socket, refused unread (read until it stays empty kDrainQuiet, kDrainLimit at most;
+  // later ones find the socket closed).
+  void refuse_in_flight(const std::string& reason);
+  // Answers ingest messages UNAVAILABLE until quiet_until (pushed on by each message) or
+  // give_up; counts them in `drained`. Throws zmq::error_t.
+  void drain_ingest(const std::string& reason, std::chrono::steady_clock::time_point give_up,
+                    std::chrono::steady_clock::time_point quiet_until, std::size_t& drained);
+  // The answer to an ingest message refused unread: UNAVAILABLE naming no batch (clients leave
+  // the resend to their timeout: an immediate one would meet the same stop).
+  static v1::Ack unread_refusal(const std::string& reason);
 
   const DaemonConfig& config_;
   PoolService& service_;

@@ -314,6 +314,22 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
   return replies;
 }
 
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Error& error) {
+  std::vector<std::pair<Ticket, v1::Ack>> replies;
+  for (const PendingBatch& pending : window_) {
+    replies.emplace_back(pending.ticket, refuse(refused(ack_for(pending.batch), error)));
+  }
+  for (const auto& [ticket, ack] : waiting_duplicates_) {
+    replies.emplace_back(
+        ticket, refuse(refused(batch_ack(ack.client_id(), ack.client_batch(), ack.pool()), error)));
+  }
+  window_.clear();
+  waiting_duplicates_.clear();
+  window_pools_.clear();
+  window_events_ = 0;
+  return replies;
+}
+
 std::vector<v1::Diff> PoolService::apply() {
   struct PoolWork {
     std::vector<Event> events;

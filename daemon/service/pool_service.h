@@ -91,6 +91,12 @@ class PoolService {
   // becomes its group's position.
   std::vector<std::pair<Ticket, v1::Ack>> seal(std::vector<std::string>* lost_pools = nullptr);
 
+  // When the window will never be sealed (seal() threw: the log failed, or the daemon stops
+  // without closing it): refuses every batch of the open window and every waiting retry with
+  // `error` (UNAVAILABLE) and empties the window. Nothing is applied. The retry ledger still
+  // names those batches, so the service must take no more batches after it. O(window).
+  std::vector<std::pair<Ticket, v1::Ack>> refuse_window(const v1::Error& error);
+
   // Repairs each pool of the sealed window once and returns its diff, pools in name order.
   // Timings carry repair_us only; the publisher fills in the rest. A pool retired in the window
   // is not repaired: its diff says so (Diff.retired, every pair removed) and its whole state

@@ -6,6 +6,7 @@
 #include <string>
 
 #include "daemon/journal/journal_error.h"
+#include "daemon/journal/posix_file.h"
 
 namespace yoke::daemon {
 namespace {
@@ -100,9 +101,9 @@ std::optional<storage::Position> SnapshotDirectory::oldest_needed() const {
 
 void SnapshotDirectory::prune() {
   const std::vector<storage::Position> kept = positions();
-  for (std::size_t i = keep_; i < kept.size(); ++i) std::filesystem::remove(path_for(kept[i]));
+  for (std::size_t i = keep_; i < kept.size(); ++i) journal::remove_file(path_for(kept[i]));
   for (const auto& entry : std::filesystem::directory_iterator(directory_)) {
-    if (entry.path().extension() == ".tmp") std::filesystem::remove(entry.path());
+    if (entry.path().extension() == ".tmp") journal::remove_file(entry.path());
   }
 }
 

@@ -67,12 +67,7 @@ void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journa
     journal::write_all(file, kEndMarker, temporary);
     journal::sync_data(file, temporary);
   }
-  std::error_code error;
-  std::filesystem::rename(temporary, path, error);
-  if (error) {
-    throw journal::Error("cannot rename " + temporary.string() + " to " + path.string() + ": " +
-                         error.message());
-  }
+  journal::rename_file(temporary, path);
   const std::filesystem::path directory = path.parent_path();
   journal::sync_directory(journal::open_directory(directory), directory);
 }

@@ -52,6 +52,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.journal.durability, b.journal.durability);
   EXPECT_EQ(a.journal.segment_bytes, b.journal.segment_bytes);
   EXPECT_EQ(a.journal.max_record_bytes, b.journal.max_record_bytes);
+  EXPECT_EQ(a.journal.lock_wait_ms, b.journal.lock_wait_ms);
   EXPECT_EQ(a.snapshots.interval_seconds, b.snapshots.interval_seconds);
   EXPECT_EQ(a.snapshots.keep, b.snapshots.keep);
   EXPECT_EQ(a.snapshots.after_events, b.snapshots.after_events);
@@ -78,6 +79,7 @@ TEST(ConfigDefaults, AreTheDocumentedOnesAndStartWithNoFile) {
   EXPECT_EQ(config.endpoints.query, "tcp://127.0.0.1:7412");
   EXPECT_EQ(config.endpoints.metrics, "127.0.0.1:7413");
   EXPECT_EQ(config.journal.durability, journal::Durability::group);
+  EXPECT_EQ(config.journal.lock_wait_ms, 10000u);
   EXPECT_EQ(config.pool_defaults.mode, Mode::max_weight);
   EXPECT_EQ(config.pool_defaults.limits.max_abs_weight, 0);
   EXPECT_TRUE(config.pools.empty());
@@ -130,6 +132,7 @@ max_events = 7
 durability = "every-batch"
 segment_bytes = 2097152
 max_record_bytes = 8388608
+lock_wait_ms = 250
 [snapshots]
 interval_seconds = 60
 keep = 5
@@ -163,6 +166,7 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.journal.durability, journal::Durability::every_batch);
   EXPECT_EQ(config.journal.segment_bytes, 2097152u);
   EXPECT_EQ(config.journal.max_record_bytes, 8388608u);
+  EXPECT_EQ(config.journal.lock_wait_ms, 250u);
   EXPECT_EQ(config.snapshots.interval_seconds, 60u);
   EXPECT_EQ(config.snapshots.keep, 5u);
   EXPECT_EQ(config.snapshots.after_events, 0u);
