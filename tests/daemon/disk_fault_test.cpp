@@ -61,7 +61,7 @@ ServiceView view_of_service(PoolService& service) {
     ObservedPool& pool = view[name];
     pool.view = testing::view_of(service, name);
     for (const auto& [client, applied] : service.ledger().clients_of(name)) {
-      pool.marks.emplace_back(client, applied.batch_number);
+      pool.marks.emplace_back(client, applied.highest().batch_number);
     }
   }
   return view;
