@@ -40,8 +40,7 @@ void Graph::grow_vertices(std::size_t vertex_count) {
 }
 
 EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
-  YOKE_DCHECK(a != b && a < incidence_.size() && b < incidence_.size(),
-              "Graph::add_edge: a self loop or a missing end");
+  YOKE_DCHECK(a < incidence_.size() && b < incidence_.size(), "Graph::add_edge: a missing end");
   EdgeIndex index;
   if (free_edges_.empty()) {
     index = static_cast<EdgeIndex>(edges_.size());

@@ -42,7 +42,9 @@ class Graph {
   Vertex add_vertex();
   // Adds isolated vertices up to `vertex_count` (a pool grows its capacity this way).
   void grow_vertices(std::size_t vertex_count);
-  // Preconditions: a != b, both exist, {a, b} is not an edge yet. Reuses the slot of a removed
+  // Preconditions: both ends exist, {a, b} is not an edge yet. A self loop (a == b) is stored as
+  // given: the loaders refuse them before the solvers see a graph, and the certificate checker
+  // rejects a graph that holds one (its tests build such graphs). Reuses the slot of a removed
   // edge when there is one.
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
 
