@@ -21,7 +21,7 @@ TEST(Dcheck, EvaluatesItsConditionOnlyWhenChecksAreOn) {
 #if defined(YOKE_DCHECKS) && YOKE_DCHECKS
 TEST(DcheckDeathTest, ABrokenPreconditionAbortsWithItsMessage) {
   Graph graph(2);
-  EXPECT_DEATH(graph.add_edge(1, 1, 5), "YOKE_DCHECK.*Graph::add_edge: a self loop");
+  EXPECT_DEATH(graph.add_edge(1, 2, 5), "YOKE_DCHECK.*Graph::add_edge: a missing end");
 }
 #endif
 
