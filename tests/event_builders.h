@@ -2,7 +2,7 @@
 // build batches by hand.
 #pragma once
 
-#include "engine/events.h"
+#include "yoke/events.h"
 
 namespace yoke {
 

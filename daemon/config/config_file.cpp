@@ -6,7 +6,7 @@
 #include "cluster_section.h"
 #include "config_error.h"
 #include "config_names.h"
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "toml_table_reader.h"
 
 namespace yoke::daemon {

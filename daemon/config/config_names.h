@@ -5,7 +5,7 @@
 #include <string_view>
 
 #include "daemon/journal/journal.h"
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::daemon {
 

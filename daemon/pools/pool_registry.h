@@ -9,7 +9,7 @@
 #include <string>
 #include <vector>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 
 namespace yoke::daemon {
 

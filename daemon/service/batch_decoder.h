@@ -13,7 +13,7 @@
 #include <vector>
 
 #include "daemon/config/daemon_config.h"
-#include "engine/events.h"
+#include "yoke/events.h"
 #include "yoke/v1/events.pb.h"
 #include "yoke/v1/ingest.pb.h"
 

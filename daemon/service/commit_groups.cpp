@@ -3,7 +3,7 @@
 #include <variant>
 
 #include "batch_decoder.h"
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::daemon {
 

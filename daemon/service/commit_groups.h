@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "daemon/storage/commit_log.h"
-#include "engine/events.h"
+#include "yoke/events.h"
 #include "yoke/v1/records.pb.h"
 
 namespace yoke::daemon {

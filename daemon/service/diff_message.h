@@ -6,7 +6,7 @@
 #include <cstdint>
 #include <string>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "yoke/v1/publish.pb.h"
 
 namespace yoke::daemon {

@@ -4,7 +4,7 @@
 
 #include <cstdint>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "yoke/v1/publish.pb.h"
 
 namespace yoke::daemon {

@@ -4,7 +4,7 @@
 #include <chrono>
 #include <optional>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "unix_time.h"
 #include "wire_types.h"
 

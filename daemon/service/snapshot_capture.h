@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "daemon/storage/storage_error.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "pool_progress.h"
 #include "pool_service.h"
 

@@ -7,7 +7,7 @@
 #include <optional>
 #include <string>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "yoke/v1/events.pb.h"
 #include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/pool.pb.h"

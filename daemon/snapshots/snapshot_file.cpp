@@ -8,7 +8,7 @@
 #include "daemon/journal/crc32c.h"
 #include "daemon/journal/journal_error.h"
 #include "daemon/journal/posix_file.h"
-#include "engine/byte_io.h"
+#include "yoke/util/byte_io.h"
 
 namespace yoke::daemon {
 namespace {

@@ -23,7 +23,7 @@
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/wire_types.h"
 #include "daemon/snapshots/snapshot_directory.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "run_yoke.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
 

@@ -14,7 +14,7 @@
 #include <string>
 #include <vector>
 
-#include "engine/events.h"
+#include "yoke/events.h"
 #include "exhaustive_matching.h"
 #include "run_yoke.h"
 

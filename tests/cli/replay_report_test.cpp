@@ -10,8 +10,8 @@
 
 #include <nlohmann/json.hpp>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 #include "run_yoke.h"
 #include "tools/cli/cli_error.h"
 #include "tools/cli/replay_report.h"

@@ -6,8 +6,8 @@
 #include <string>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 #include "run_yoke.h"
 #include "tools/cli/proto_json.h"
 #include "tools/cli/vertex_history.h"

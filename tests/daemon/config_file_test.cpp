@@ -2,7 +2,7 @@
 
 #include "config_test_util.h"
 #include "daemon/config/config_validate.h"
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::daemon {
 namespace {

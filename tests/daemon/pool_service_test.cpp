@@ -46,7 +46,7 @@ DaemonConfig tiny_config() {
   config.pools["tiny"] = tiny;
   PoolSettings small;
   small.limits.max_vertices = 12;
-  // Edges within a window are limited conservatively (engine/batch_checker.cpp: removals are
+  // Edges within a window are limited conservatively (engine/pool/batch_checker.cpp: removals are
   // not credited until the commit), so the sequential comparison below keeps this one far.
   small.limits.max_edges = 1000;
   small.limits.max_abs_weight = 1000;

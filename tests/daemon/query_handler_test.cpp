@@ -12,7 +12,7 @@
 #include <gtest/gtest.h>
 
 #include "daemon/service/query_handler.h"
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "service_test_util.h"
 #include "yoke/v1/query.pb.h"
 

@@ -9,8 +9,8 @@
 #include "daemon/service/batch_decoder.h"
 #include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
-#include "engine/certificate.h"
-#include "engine/solve.h"
+#include "yoke/certificate.h"
+#include "yoke/solve.h"
 #include "tests/oracles/checked_solve.h"
 
 namespace yoke {

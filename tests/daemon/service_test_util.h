@@ -18,7 +18,7 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/recovery.h"
 #include "daemon/snapshots/snapshot_directory.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tests/journal/journal_test_util.h"
 #include "yoke/v1/events.pb.h"
 #include "yoke/v1/ingest.pb.h"

@@ -198,7 +198,7 @@ class BadInputTest(unittest.TestCase):
 
     def test_default_weight_bound(self):
         # docs/protocol.md: max_abs_weight 0 resolves to the mode's exact bound, 2^40 for
-        # max-weight with the default 4194304 vertices (engine/pool_limits.cpp), reported
+        # max-weight with the default 4194304 vertices (engine/pool/pool_limits.cpp), reported
         # resolved in Stats.config.
         stats = self.daemon.ask("stats").stats
         self.assertEqual(stats.config.limits.max_abs_weight, 1 << 40)

@@ -7,8 +7,8 @@
 #include <random>
 #include <vector>
 
-#include "engine/batch_checker.h"
-#include "engine/pool.h"
+#include "yoke/batch_checker.h"
+#include "yoke/pool.h"
 #include "tests/event_builders.h"
 
 namespace yoke {

@@ -1,6 +1,6 @@
-// Unit tests for the laminar blossom family (engine/blossom_forest.h): structure, top(),
+// Unit tests for the laminar blossom family (engine/solver/blossom_forest.h): structure, top(),
 // vertex lists, make_base (rotation and matching flips, also 3000 levels deep), dissolve.
-#include "engine/blossom_forest.h"
+#include "solver/blossom_forest.h"
 
 #include <gtest/gtest.h>
 

@@ -9,7 +9,7 @@
 #include <unordered_set>
 #include <vector>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 
 namespace yoke {
 namespace {

@@ -13,7 +13,7 @@
 #include <random>
 #include <vector>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "tests/engine/certificate_test_util.h"
 
 namespace yoke {

@@ -4,7 +4,7 @@
 // Duals are written doubled, as the engine stores them: vd2 = 2u, dual2 = 2z. A slack below is
 // 2u(i) + 2u(j) + (2z over blossoms holding both ends) - 2w. Every optimum claimed in a comment
 // is also confirmed by exhaustive enumeration (certificate_test_util.h).
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 
 #include <gtest/gtest.h>
 

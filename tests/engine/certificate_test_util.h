@@ -8,8 +8,8 @@
 #include <optional>
 #include <vector>
 
-#include "engine/graph.h"
-#include "engine/types.h"
+#include "yoke/graph.h"
+#include "yoke/types.h"
 
 namespace yoke::certtest {
 

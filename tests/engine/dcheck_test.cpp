@@ -1,9 +1,9 @@
-// YOKE_DCHECK (engine/dcheck.h): checked in the sanitizer and Debug builds, where a broken
+// YOKE_DCHECK (engine/include/yoke/util/dcheck.h): checked in the sanitizer and Debug builds, where a broken
 // precondition aborts with its message, and never evaluated in Release.
 #include <gtest/gtest.h>
 
-#include "engine/dcheck.h"
-#include "engine/graph.h"
+#include "yoke/util/dcheck.h"
+#include "yoke/graph.h"
 
 namespace yoke {
 namespace {

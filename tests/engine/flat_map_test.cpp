@@ -1,4 +1,4 @@
-#include "engine/flat_map.h"
+#include "yoke/util/flat_map.h"
 
 #include <gtest/gtest.h>
 

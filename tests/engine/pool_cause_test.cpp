@@ -5,8 +5,8 @@
 
 #include <vector>
 
-#include "engine/certificate.h"
-#include "engine/pool.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 #include "tests/event_builders.h"
 
 namespace yoke {

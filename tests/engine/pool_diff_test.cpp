@@ -14,7 +14,7 @@
 #include <utility>
 #include <vector>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tests/event_builders.h"
 #include "tests/oracles/stream_cases.h"
 #include "tests/oracles/test_scale.h"

@@ -18,8 +18,8 @@
 #include <utility>
 #include <vector>
 
-#include "engine/pool.h"
-#include "engine/solve.h"
+#include "yoke/pool.h"
+#include "yoke/solve.h"
 #include "tests/oracles/checked_solve.h"
 #include "tests/oracles/stream_cases.h"
 #include "tests/oracles/test_scale.h"
@@ -296,7 +296,7 @@ testing::AssertionResult commit_is_certified_optimum(const Pool& pool, const Com
   // Common knowledge: result.weight and result.pairs are those of the certificate's matching,
   // and that matching is a matching of the pool's graph.
   if (auto sound = oracle::result_is_sound(graph, pool.mode(), r); !sound) return sound;
-  // yoke::check_certificate (engine/certificate.h), the engine's independent referee.
+  // yoke::check_certificate (engine/include/yoke/certificate.h), the engine's independent referee.
   if (auto holds = oracle::certificate_holds(graph, r); !holds) return holds;
   // yoke's static engine (independent from-scratch solve): the same optimum weight; in
   // max-cardinality and perfect mode the same number of pairs, and the same feasibility.

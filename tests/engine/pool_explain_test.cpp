@@ -5,7 +5,7 @@
 #include <map>
 #include <vector>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tools/graphgen/event_stream.h"
 
 namespace yoke {

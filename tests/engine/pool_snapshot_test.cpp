@@ -8,8 +8,8 @@
 #include <tuple>
 #include <vector>
 
-#include "engine/certificate.h"
-#include "engine/pool.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 #include "tests/oracles/all_modes.h"
 #include "tools/graphgen/event_stream.h"
 #include "tools/graphgen/rng.h"
@@ -197,7 +197,7 @@ TEST(PoolSnapshot, HeldPairsKeepTheirVersion3Bytes) {
   EXPECT_EQ(restored->save(), bytes);
 }
 
-// The fixed fields at the start, as engine/STATE_FORMAT.md lays them out.
+// The fixed fields at the start, as engine/pool/STATE_FORMAT.md lays them out.
 TEST(PoolSnapshot, HeaderFieldsSitWhereTheFormatSays) {
   Pool pool(Mode::max_cardinality, PoolLimits{12, 30, 1000}, 7);
   pool.commit(std::vector<Event>{{EventKind::set_edge, 1, 2, 5}});

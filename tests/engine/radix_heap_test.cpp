@@ -1,5 +1,5 @@
-// Unit tests for the monotone radix heap of bound events (engine/radix_heap.h).
-#include "engine/radix_heap.h"
+// Unit tests for the monotone radix heap of bound events (engine/solver/radix_heap.h).
+#include "solver/radix_heap.h"
 
 #include <gtest/gtest.h>
 

@@ -6,8 +6,8 @@
 #include <string>
 #include <vector>
 
-#include "engine/certificate.h"
-#include "engine/solve.h"
+#include "yoke/certificate.h"
+#include "yoke/solve.h"
 #include "tools/graphgen/generators.h"
 
 namespace yoke {

@@ -41,7 +41,7 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/service/recovery.h"
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "service_model.h"
 
 namespace {
@@ -475,7 +475,7 @@ void Run::check_pool(const std::string& name) {
   }
   REQUIRE(listed == model.matching);
   REQUIRE(pool.pairs() == listed.size() && pool.weight() == total);
-  // Every held pair is matched (engine/events.h, hold_pair).
+  // Every held pair is matched (engine/include/yoke/events.h, hold_pair).
   for (const auto& [a, b] : model.committed.held) {
     if (a < b) REQUIRE(listed.count(EdgeKey{a, b}) == 1);
   }

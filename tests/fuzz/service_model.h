@@ -1,5 +1,5 @@
 // A plain model of what the ingest path promises (proto/yoke/v1/events.proto, protocol.proto,
-// engine/pool.h), written apart from the daemon and the engine so the fuzz target can hold the
+// engine/include/yoke/pool.h), written apart from the daemon and the engine so the fuzz target can hold the
 // real code to it: which events a pool takes, the weight bound each mode keeps exact, and the
 // optimum of a tiny graph by brute force.
 #pragma once
@@ -11,8 +11,8 @@
 #include <utility>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 #include "yoke/v1/protocol.pb.h"
 
 namespace yoke::fuzz {
@@ -24,7 +24,7 @@ inline EdgeKey edge_key(VertexKey a, VertexKey b) { return a < b ? EdgeKey{a, b}
 struct ModelGraph {
   std::set<VertexKey> alive;
   std::map<EdgeKey, Weight> edges;
-  // Held pairs (engine/events.h, hold_pair), both ways: held[u] == v and held[v] == u. A
+  // Held pairs (engine/include/yoke/events.h, hold_pair), both ways: held[u] == v and held[v] == u. A
   // hold ends with release_pair, unset_edge of its edge or remove_vertex of either end.
   std::map<VertexKey, VertexKey> held;
 };

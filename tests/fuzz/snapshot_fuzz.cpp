@@ -28,8 +28,8 @@
 #include "daemon/journal/journal_error.h"
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/snapshots/snapshot_file.h"
-#include "engine/certificate.h"
-#include "engine/pool.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 
 namespace {
 

@@ -13,7 +13,7 @@
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/wire_types.h"
 #include "daemon/snapshots/snapshot_file.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 
 namespace {
 

@@ -3,7 +3,7 @@
 
 #include <string>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::oracle {
 

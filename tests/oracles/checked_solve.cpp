@@ -4,7 +4,7 @@
 #include <filesystem>
 #include <fstream>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "tools/formats/edge_list_writer.h"
 
 namespace yoke::oracle {
@@ -81,7 +81,7 @@ testing::AssertionResult certificate_holds(const Graph& graph, const SolveResult
                          : "certificate";
   const Certificate& cert = r.certificate;
   if (cert.mate != r.mate) return testing::AssertionFailure() << what << ": mate differs";
-  // yoke::check_certificate (engine/certificate.h): the engine's own referee.
+  // yoke::check_certificate (engine/include/yoke/certificate.h): the engine's own referee.
   const CheckResult check = check_certificate(graph, cert);
   if (!check.ok) return testing::AssertionFailure() << what << " rejected: " << check.failure;
   // The checker proves w(M) = dual objective; recompute the primal side here as well.

@@ -11,8 +11,8 @@
 
 #include <gtest/gtest.h>
 
-#include "engine/graph.h"
-#include "engine/solve.h"
+#include "yoke/graph.h"
+#include "yoke/solve.h"
 #include "oracle_answer.h"
 
 namespace yoke::oracle {

@@ -6,7 +6,7 @@
 #include <istream>
 #include <vector>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 
 namespace yoke::oracle {
 

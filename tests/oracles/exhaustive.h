@@ -5,7 +5,7 @@
 #include <cstddef>
 #include <cstdint>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 #include "oracle_answer.h"
 
 namespace yoke::oracle {

@@ -4,7 +4,7 @@
 
 #include <cstddef>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 #include "oracle_answer.h"
 
 namespace yoke::oracle {

@@ -65,7 +65,7 @@ def check_data_set(report, args, name, graph, source):
                                f"LEMON {lemon['weight']}/{lemon['pairs']}", path)
         if mode in networkx or not lemon["feasible"]:
             # Without a perfect matching the evidence is a maximum-cardinality matching of
-            # maximum weight (engine/solve.h).
+            # maximum weight (engine/include/yoke/solve.h).
             weight, pairs = networkx[mode if mode in networkx else "max-cardinality"]
             same = result["weight"] == weight and (mode == "max-weight" or
                                                    result["pairs"] == pairs)

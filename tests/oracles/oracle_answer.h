@@ -3,7 +3,7 @@
 
 #include <cstddef>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::oracle {
 

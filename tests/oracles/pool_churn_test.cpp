@@ -15,8 +15,8 @@
 #include <vector>
 
 #include "checked_solve.h"
-#include "engine/certificate.h"
-#include "engine/pool.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 #include "exhaustive.h"
 #include "lemon_oracle.h"
 #include "stream_cases.h"

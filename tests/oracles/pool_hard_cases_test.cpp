@@ -14,9 +14,9 @@
 #include <string>
 #include <vector>
 
-#include "engine/certificate.h"
-#include "engine/pool.h"
-#include "engine/solve.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
+#include "yoke/solve.h"
 #include "lemon_oracle.h"
 #include "test_scale.h"
 #include "tools/graphgen/generators.h"

@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "checked_solve.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "lemon_oracle.h"
 #include "stream_cases.h"
 #include "test_scale.h"

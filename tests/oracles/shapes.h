@@ -5,7 +5,7 @@
 #include <cstdint>
 #include <vector>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 
 namespace yoke::oracle {
 

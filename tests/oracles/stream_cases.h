@@ -7,7 +7,7 @@
 #include <string>
 #include <tuple>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "tests/oracles/all_modes.h"
 #include "tools/graphgen/event_stream.h"
 

@@ -26,9 +26,9 @@
 
 #include <CLI/CLI.hpp>
 
-#include "engine/certificate.h"
-#include "engine/pool.h"
-#include "engine/solve.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
+#include "yoke/solve.h"
 #include "tools/cli/certified_matching.h"
 #include "tools/cli/number_options.h"
 #include "tools/graphgen/event_stream.h"

@@ -11,8 +11,8 @@
 #include <utility>
 #include <vector>
 
-#include "engine/certificate.h"
-#include "engine/pool.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 #include "tools/bench/number_format.h"
 #include "tools/bench/stored_stream.h"
 #include "tools/bench/stream_runner.h"

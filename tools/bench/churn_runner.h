@@ -13,7 +13,7 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "tools/bench/spread.h"
 #include "tools/bench/stream_settings.h"
 

@@ -8,8 +8,8 @@
 #include <unordered_map>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 
 namespace yoke::bench {
 

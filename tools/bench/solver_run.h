@@ -4,7 +4,7 @@
 #include <cstddef>
 #include <string>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::bench {
 

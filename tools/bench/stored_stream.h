@@ -6,8 +6,8 @@
 #include <span>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 #include "tools/bench/event_tally.h"
 #include "tools/graphgen/event_stream.h"
 

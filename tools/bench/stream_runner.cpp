@@ -6,7 +6,7 @@
 #include <stdexcept>
 #include <string>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tools/bench/heap_counter.h"
 #include "tools/bench/stopwatch.h"
 #include "tools/bench/stored_stream.h"

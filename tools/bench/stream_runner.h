@@ -7,7 +7,7 @@
 #include <cstdint>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "tools/bench/event_tally.h"
 #include "tools/bench/spread.h"
 #include "tools/bench/stream_sample.h"

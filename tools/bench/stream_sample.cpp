@@ -2,7 +2,7 @@
 
 #include <vector>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "tools/bench/lemon_matching.h"
 #include "tools/bench/lemon_runner.h"
 #include "tools/bench/stopwatch.h"

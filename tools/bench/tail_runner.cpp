@@ -4,7 +4,7 @@
 #include <map>
 #include <memory>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tools/bench/stopwatch.h"
 #include "tools/bench/stored_stream.h"
 #include "tools/bench/stream_runner.h"

@@ -9,7 +9,7 @@
 #include <string>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "tools/bench/spread.h"
 #include "tools/bench/stream_sample.h"
 

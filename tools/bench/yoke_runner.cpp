@@ -2,8 +2,8 @@
 
 #include <string>
 
-#include "engine/certificate.h"
-#include "engine/solve.h"
+#include "yoke/certificate.h"
+#include "yoke/solve.h"
 #include "tools/bench/heap_counter.h"
 #include "tools/bench/stopwatch.h"
 

@@ -12,7 +12,7 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "tools/formats/id_map.h"
 
 namespace yoke::cli {

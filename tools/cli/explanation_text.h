@@ -19,7 +19,7 @@
 #include <optional>
 #include <string>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "proto_json.h"
 
 namespace yoke::cli {

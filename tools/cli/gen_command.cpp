@@ -10,7 +10,7 @@
 #include "cli_error.h"
 #include "file_io.h"
 #include "number_options.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tools/formats/edge_list_writer.h"
 #include "tools/formats/event_script_writer.h"
 #include "tools/graphgen/event_stream.h"

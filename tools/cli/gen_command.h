@@ -9,7 +9,7 @@
 
 #include <CLI/CLI.hpp>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::cli {
 

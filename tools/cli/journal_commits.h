@@ -21,7 +21,7 @@
 #include "daemon/service/commit_groups.h"
 #include "daemon/storage/commit_log.h"
 #include "daemon/storage/snapshot_store.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 
 namespace yoke::cli {
 

@@ -10,7 +10,7 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::cli {
 

@@ -6,7 +6,7 @@
 #include <CLI/CLI.hpp>
 
 #include "cli_error.h"
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "gen_command.h"
 #include "query_command.h"
 #include "replay_command.h"

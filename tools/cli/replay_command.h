@@ -25,7 +25,7 @@
 #include <CLI/CLI.hpp>
 
 #include "cluster_log.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "input_files.h"
 
 namespace yoke::cli {

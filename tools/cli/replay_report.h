@@ -19,7 +19,7 @@
 #include <utility>
 #include <vector>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 
 namespace yoke::cli {
 

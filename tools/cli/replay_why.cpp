@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "cli_error.h"
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "explanation_text.h"
 #include "file_io.h"
 #include "journal_commits.h"

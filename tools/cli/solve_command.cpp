@@ -8,7 +8,7 @@
 
 #include "certificate_json.h"
 #include "cli_error.h"
-#include "engine/solve.h"
+#include "yoke/solve.h"
 #include "file_io.h"
 #include "input_files.h"
 #include "json_writer.h"

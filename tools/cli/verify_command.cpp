@@ -4,7 +4,7 @@
 
 #include "certificate_json.h"
 #include "cli_error.h"
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 #include "file_io.h"
 #include "input_files.h"
 #include "json_writer.h"

@@ -24,8 +24,8 @@
 #include <unordered_map>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/pool.h"
+#include "yoke/events.h"
+#include "yoke/pool.h"
 #include "proto_json.h"
 
 namespace yoke::cli {

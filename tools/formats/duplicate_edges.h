@@ -7,7 +7,7 @@
 #include <optional>
 #include <span>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 
 namespace yoke::formats {
 

@@ -9,7 +9,7 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 #include "tokens.h"
 
 namespace yoke::formats {

@@ -8,7 +8,7 @@
 #include <span>
 #include <vector>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 
 namespace yoke::formats {
 

@@ -14,7 +14,7 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/events.h"
+#include "yoke/events.h"
 #include "tokens.h"
 
 namespace yoke::formats {

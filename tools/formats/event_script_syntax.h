@@ -19,7 +19,7 @@
 #include <cstddef>
 #include <string_view>
 
-#include "engine/events.h"
+#include "yoke/events.h"
 
 namespace yoke::formats::script_syntax {
 

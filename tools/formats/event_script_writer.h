@@ -8,7 +8,7 @@
 #include <span>
 #include <string>
 
-#include "engine/events.h"
+#include "yoke/events.h"
 
 namespace yoke::formats {
 

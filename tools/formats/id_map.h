@@ -12,7 +12,7 @@
 #include <cstdint>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::formats {
 

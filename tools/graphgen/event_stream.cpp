@@ -10,7 +10,7 @@
 #include <unordered_map>
 #include <unordered_set>
 
-#include "engine/pool.h"
+#include "yoke/pool.h"
 #include "tools/graphgen/generators.h"
 #include "tools/graphgen/rng.h"
 

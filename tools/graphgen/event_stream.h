@@ -1,4 +1,4 @@
-// Seeded streams of pool events (engine/events.h) for the differential tests, the soak run and
+// Seeded streams of pool events (engine/include/yoke/events.h) for the differential tests, the soak run and
 // the benchmarks. The first batch sets the whole base graph of one family; after it, weights
 // change, vertices are added with edges to vertices near them and removed, edges appear and
 // vanish.
@@ -16,8 +16,8 @@
 #include <string_view>
 #include <vector>
 
-#include "engine/events.h"
-#include "engine/types.h"
+#include "yoke/events.h"
+#include "yoke/types.h"
 
 namespace yoke {
 class Pool;

@@ -8,7 +8,7 @@
 #include <string>
 #include <vector>
 
-#include "engine/graph.h"
+#include "yoke/graph.h"
 
 namespace yoke::gen {
 

@@ -7,7 +7,7 @@
 #include <utility>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 
 namespace yoke::gen {
 

@@ -8,7 +8,7 @@
 #include <span>
 #include <vector>
 
-#include "engine/types.h"
+#include "yoke/types.h"
 #include "tools/graphgen/vardolune.h"
 
 namespace yoke::gen {

@@ -9,7 +9,7 @@
 
 #include <zmq.hpp>
 
-#include "engine/events.h"
+#include "yoke/events.h"
 
 namespace yoke::bench {
 

@@ -1,0 +1,153 @@
+#include "yoke/graph.h"
+
+#include <algorithm>
+#include <string>
+
+#include "yoke/util/dcheck.h"
+
+namespace yoke {
+
+Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
+  YOKE_DCHECK(std::all_of(edges.begin(), edges.end(),
+                          [&](const Edge& e) {
+                            return e.a < vertex_count && e.b < vertex_count && e.a != e.b;
+                          }),
+              "Graph::from_edges: an endpoint is out of range or an edge is a self loop");
+  Graph graph;
+  std::vector<std::uint32_t> degree(vertex_count, 0);
+  for (const Edge& e : edges) {
+    ++degree[e.a];
+    ++degree[e.b];
+  }
+  graph.incidence_.resize(vertex_count);
+  for (std::size_t v = 0; v < vertex_count; ++v) graph.incidence_[v].reserve(degree[v]);
+  for (std::size_t i = 0; i < edges.size(); ++i) {
+    const auto index = static_cast<EdgeIndex>(i);
+    graph.incidence_[edges[i].a].push_back({edges[i].b, index, edges[i].w});
+    graph.incidence_[edges[i].b].push_back({edges[i].a, index, edges[i].w});
+  }
+  graph.edges_ = std::move(edges);
+  return graph;
+}
+
+Vertex Graph::add_vertex() {
+  incidence_.emplace_back();
+  return static_cast<Vertex>(incidence_.size() - 1);
+}
+
+void Graph::grow_vertices(std::size_t vertex_count) {
+  if (vertex_count > incidence_.size()) incidence_.resize(vertex_count);
+}
+
+EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
+  YOKE_DCHECK(a < incidence_.size() && b < incidence_.size(), "Graph::add_edge: a missing end");
+  EdgeIndex index;
+  if (free_edges_.empty()) {
+    index = static_cast<EdgeIndex>(edges_.size());
+    edges_.push_back({a, b, w});
+    if (tracking_) positions_.emplace_back();
+  } else {
+    index = free_edges_.back();
+    free_edges_.pop_back();
+    edges_[index] = {a, b, w};
+  }
+  if (tracking_) {
+    positions_[index] = {static_cast<std::uint32_t>(incidence_[a].size()),
+                         static_cast<std::uint32_t>(incidence_[b].size())};
+  }
+  incidence_[a].push_back({b, index, w});
+  incidence_[b].push_back({a, index, w});
+  return index;
+}
+
+void Graph::track_positions() {
+  if (tracking_) return;
+  tracking_ = true;
+  positions_.assign(edges_.size(), {0, 0});
+  for (Vertex v = 0; v < incidence_.size(); ++v) {
+    for (std::uint32_t i = 0; i < incidence_[v].size(); ++i) {
+      const EdgeIndex e = incidence_[v][i].edge;
+      (edges_[e].a == v ? positions_[e].in_a : positions_[e].in_b) = i;
+    }
+  }
+}
+
+void Graph::set_weight(EdgeIndex e, Weight w) {
+  YOKE_DCHECK(tracking_ && e < edges_.size() && is_live(e),
+              "Graph::set_weight: positions are not tracked or the edge is not live");
+  Edge& edge = edges_[e];
+  edge.w = w;
+  incidence_[edge.a][positions_[e].in_a].w = w;
+  incidence_[edge.b][positions_[e].in_b].w = w;
+}
+
+void Graph::remove_incidence(Vertex v, std::uint32_t at) {
+  // Swap-remove: the last entry moves into the hole, and its edge learns its new position.
+  std::vector<Incidence>& list = incidence_[v];
+  const Incidence moved = list.back();
+  list[at] = moved;
+  list.pop_back();
+  if (at == list.size()) return;
+  (edges_[moved.edge].a == v ? positions_[moved.edge].in_a : positions_[moved.edge].in_b) = at;
+}
+
+void Graph::remove_edge(EdgeIndex e) {
+  YOKE_DCHECK(tracking_ && e < edges_.size() && is_live(e),
+              "Graph::remove_edge: positions are not tracked or the edge is not live");
+  const Edge edge = edges_[e];
+  remove_incidence(edge.a, positions_[e].in_a);
+  remove_incidence(edge.b, positions_[e].in_b);
+  edges_[e] = {kNoVertex, kNoVertex, 0};
+  free_edges_.push_back(e);
+}
+
+void Graph::save(ByteWriter& out) const {
+  out.put<std::uint64_t>(incidence_.size());
+  out.put<std::uint8_t>(tracking_ ? 1 : 0);
+  out.put_vector(edges_);
+  out.put_vector(free_edges_);
+  std::vector<EdgeIndex> order;
+  for (const auto& list : incidence_) {
+    order.clear();
+    for (const Incidence& inc : list) order.push_back(inc.edge);
+    out.put_vector(order);
+  }
+}
+
+Graph Graph::load(ByteReader& in) {
+  const auto n = in.get<std::uint64_t>();
+  if (n >= kMaxVertices) ByteReader::fail("too many vertices");
+  const bool tracking = in.get<std::uint8_t>() != 0;
+  Graph graph;
+  graph.edges_ = in.get_vector<Edge>(kMaxEdges);
+  graph.free_edges_ = in.get_vector<EdgeIndex>(graph.edges_.size());
+  const std::size_t m = graph.edges_.size();
+  std::vector<std::uint8_t> seen(m, 0);  // live edges must sit once in each end's list
+  for (EdgeIndex e : graph.free_edges_) {
+    if (e >= m || graph.edges_[e].a != kNoVertex || seen[e] != 0) ByteReader::fail("a free edge slot is in use");
+    seen[e] = 3;
+  }
+  // Each incidence list takes at least its 8-byte count: a vertex count the bytes cannot hold
+  // is damage, and must not first allocate n lists (a few bytes asked for 25 GB; fuzzing found it).
+  if (n > in.remaining() / sizeof(std::uint64_t)) ByteReader::fail("too many vertices for its size");
+  graph.incidence_.resize(n);
+  for (Vertex v = 0; v < n; ++v) {
+    for (EdgeIndex e : in.get_vector<EdgeIndex>(m)) {
+      if (e >= m) ByteReader::fail("an incidence names a missing edge");
+      const Edge& edge = graph.edges_[e];
+      const int end = edge.a == v ? 1 : edge.b == v ? 2 : 0;
+      if (end == 0 || (seen[e] & end) != 0 || edge.a >= n || edge.b >= n || edge.a == edge.b) {
+        ByteReader::fail("edge " + std::to_string(e) + " is listed at the wrong vertex");
+      }
+      seen[e] |= static_cast<std::uint8_t>(end);
+      graph.incidence_[v].push_back({edge.other(v), e, edge.w});
+    }
+  }
+  for (EdgeIndex e = 0; e < m; ++e) {
+    if (seen[e] != 3) ByteReader::fail("edge " + std::to_string(e) + " is missing from a list");
+  }
+  if (tracking) graph.track_positions();
+  return graph;
+}
+
+}  // namespace yoke

@@ -1,0 +1,87 @@
+// The graph store: dense vertices, edges in a flat array, per-vertex incidence lists.
+//
+// Cost: add_vertex and add_edge are amortised O(1); incident(v) is O(1); with positions
+// tracked (track_positions), set_weight and remove_edge are O(1) too. The store never hands out
+// pointers that a later mutation could invalidate except the spans of incident(), which stay
+// valid until the next mutation of that vertex.
+#pragma once
+
+#include <span>
+#include <vector>
+
+#include "yoke/util/byte_io.h"
+#include "yoke/types.h"
+
+namespace yoke {
+
+struct Edge {
+  Vertex a;
+  Vertex b;
+  Weight w;
+
+  Vertex other(Vertex v) const { return v == a ? b : a; }
+};
+
+// One end of an edge as seen from a vertex: the vertex at the far end, the edge's index and a
+// copy of its weight (the search reads it for every edge it scans).
+struct Incidence {
+  Vertex other;
+  EdgeIndex edge;
+  Weight w;
+};
+
+class Graph {
+ public:
+  Graph() = default;
+  explicit Graph(std::size_t vertex_count) : incidence_(vertex_count) {}
+
+  // Builds a graph in one pass with exactly sized incidence lists. Preconditions (checked by
+  // the loaders, not here): endpoints < vertex_count, no self loops, no duplicate edges.
+  static Graph from_edges(std::size_t vertex_count, std::vector<Edge> edges);
+
+  Vertex add_vertex();
+  // Adds isolated vertices up to `vertex_count` (a pool grows its capacity this way).
+  void grow_vertices(std::size_t vertex_count);
+  // Preconditions: both ends exist, {a, b} is not an edge yet. A self loop (a == b) is stored as
+  // given: the loaders refuse them before the solvers see a graph, and the certificate checker
+  // rejects a graph that holds one (its tests build such graphs). Reuses the slot of a removed
+  // edge when there is one.
+  EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
+
+  // From now on, remember where each edge sits in its ends' incidence lists, so that weight
+  // changes and removals cost O(1). O(m) once.
+  void track_positions();
+  // Preconditions: positions are tracked, e is live.
+  void set_weight(EdgeIndex e, Weight w);
+  void remove_edge(EdgeIndex e);
+
+  std::size_t vertex_count() const { return incidence_.size(); }
+  std::size_t edge_count() const { return edges_.size() - free_edges_.size(); }
+  // Edge slots in use or freed: edges() holds removed slots (a == kNoVertex) once an edge was
+  // removed; is_live tells them apart.
+  std::size_t edge_slots() const { return edges_.size(); }
+  bool is_live(EdgeIndex e) const { return edges_[e].a != kNoVertex; }
+  const Edge& edge(EdgeIndex e) const { return edges_[e]; }
+  const std::vector<Edge>& edges() const { return edges_; }
+  std::span<const Incidence> incident(Vertex v) const { return incidence_[v]; }
+
+  // The whole store, incidence order included (the search's order follows it), and back.
+  // load() checks that the bytes describe a consistent graph and throws InputError otherwise.
+  void save(ByteWriter& out) const;
+  static Graph load(ByteReader& in);
+
+ private:
+  struct Positions {
+    std::uint32_t in_a;  // index of the edge's entry in incidence_[a]
+    std::uint32_t in_b;
+  };
+  void remove_incidence(Vertex v, std::uint32_t at);
+
+  std::vector<Edge> edges_;
+  std::vector<std::vector<Incidence>> incidence_;
+  bool tracking_ = false;
+  std::vector<Positions> positions_;  // per edge slot, while tracking
+  std::vector<EdgeIndex> free_edges_;  // removed slots, reused last-in first-out
+};
+
+}  // namespace yoke

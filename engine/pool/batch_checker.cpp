@@ -1,0 +1,351 @@
+// BatchChecker and Pool::check: the first event of a batch that cannot be applied, found
+// without touching the pool. What earlier events (and earlier accepted batches) changed is kept
+// on the side in an overlay, with an undo log so that a refused batch leaves no trace.
+#include "yoke/batch_checker.h"
+
+#include <string>
+#include <unordered_map>
+#include <utility>
+#include <vector>
+
+#include "pool/pool_state.h"
+
+namespace yoke {
+namespace {
+
+std::string text(VertexKey key) { return std::to_string(key); }
+
+struct Refusal {
+  EventErrorCode code;
+  std::string message;
+};
+
+}  // namespace
+
+class BatchChecker::Overlay {
+ public:
+  explicit Overlay(const PoolState& pool) : pool_(pool) {}
+
+  // Limits are checked against the state at the end of the batch (a batch may pass above a
+  // limit on its way, as [set 5 1, unset 1 2] at max_edges does); a batch that ends above one is
+  // refused naming the event from which its count stayed above the limit to the end.
+  std::optional<EventError> accept(std::span<const Event> batch) {
+    const Mark mark = this->mark();
+    LimitWatch vertices_over, edges_over;
+    for (std::size_t i = 0; i < batch.size(); ++i) {
+      if (auto refusal = check(batch[i])) {
+        undo_to(mark);
+        return EventError{i, refusal->code, std::move(refusal->message)};
+      }
+      vertices_over.see(i, vertex_count() > static_cast<std::ptrdiff_t>(pool_.limits.max_vertices));
+      edges_over.see(i, edge_count() > static_cast<std::ptrdiff_t>(pool_.limits.max_edges));
+    }
+    if (auto refusal = limit_refusal(vertices_over, edges_over)) {
+      undo_to(mark);
+      return refusal;
+    }
+    accepted_events_ += batch.size();
+    vertex_undo_.clear();  // accepted for good: nothing left to undo
+    edge_undo_.clear();
+    partner_undo_.clear();
+    return std::nullopt;
+  }
+
+  std::size_t accepted_events() const { return accepted_events_; }
+
+ private:
+  // Where a running count went above a limit and stayed there: the event that last crossed it.
+  struct LimitWatch {
+    bool above = false;
+    std::size_t crossed_at = 0;
+    void see(std::size_t index, bool now_above) {
+      if (now_above && !above) crossed_at = index;
+      above = now_above;
+    }
+  };
+  std::optional<EventError> limit_refusal(const LimitWatch& vertices_over,
+                                          const LimitWatch& edges_over) const {
+    if (!vertices_over.above && !edges_over.above) return std::nullopt;
+    // Both above: name the earlier crossing, the first event the batch cannot keep.
+    const bool vertices_first =
+        vertices_over.above && (!edges_over.above || vertices_over.crossed_at <= edges_over.crossed_at);
+    if (vertices_first) {
+      return EventError{vertices_over.crossed_at, EventErrorCode::limit_exceeded,
+                        "the batch would leave the pool with " + std::to_string(vertex_count()) +
+                            " vertices, above its limit of " +
+                            std::to_string(pool_.limits.max_vertices)};
+    }
+    return EventError{edges_over.crossed_at, EventErrorCode::limit_exceeded,
+                      "the batch would leave the pool with " + std::to_string(edge_count()) +
+                          " edges or more, above its limit of " +
+                          std::to_string(pool_.limits.max_edges)};
+  }
+  // Alive vertices after the events checked so far: O(1).
+  std::ptrdiff_t vertex_count() const {
+    return static_cast<std::ptrdiff_t>(pool_.graph.vertex_count()) + alive_change_;
+  }
+  // Edges after the events checked so far, an upper bound: a departure's edges are not
+  // enumerated (that would cost its degree), so they keep their places until the window is
+  // committed. O(1).
+  std::ptrdiff_t edge_count() const {
+    return static_cast<std::ptrdiff_t>(pool_.graph.edge_count() + pool_.holds.aside_count()) +
+           edge_change_;
+  }
+
+  struct VertexState {
+    bool alive;
+    std::uint32_t generation;  // removals so far: edge overrides of older ones are void
+  };
+  struct EdgeKey {
+    VertexKey low, high;
+    std::uint32_t low_generation, high_generation;
+    bool operator==(const EdgeKey&) const = default;
+  };
+  struct EdgeKeyHash {
+    std::size_t operator()(const EdgeKey& k) const {
+      return std::hash<VertexKey>()(k.low * 0x9e3779b97f4a7c15ULL ^ k.high) ^
+             (std::size_t{k.low_generation} << 7) ^ k.high_generation;
+    }
+  };
+  // What a key held in the overlay before a change: nothing, or its earlier value.
+  template <typename Key, typename Value>
+  struct Undo {
+    Key key;
+    std::optional<Value> before;
+  };
+  // The undo entry of a write at `it`: the overlay's value before, or nothing if the write
+  // `inserted` the key. Spelled out because for an optional Value (a hold's partner) the
+  // shorter `inserted ? std::nullopt : std::optional(it->second)` has the Value's own type, so
+  // "no entry before" became "an entry saying: not held", and undoing a refused release hid
+  // the pool's committed hold from the batches after it.
+  template <typename Key, typename Value, typename Iterator>
+  static Undo<Key, Value> undo_entry(const Key& key, bool inserted, Iterator it) {
+    if (inserted) return {key, std::nullopt};
+    return {key, std::optional<Value>(std::in_place, it->second)};
+  }
+  struct Mark {
+    std::ptrdiff_t alive_change;
+    std::ptrdiff_t edge_change;
+  };
+
+  std::optional<Refusal> check(const Event& event) {
+    switch (event.kind) {
+      case EventKind::add_vertex:
+        if (exists(event.u)) {
+          return Refusal{EventErrorCode::vertex_exists,
+                         "vertex " + text(event.u) + " already exists"};
+        }
+        return arrive(event.u);
+      case EventKind::set_edge:
+        return check_set(event);
+      case EventKind::unset_edge:
+        if (event.u == event.v) {
+          return Refusal{EventErrorCode::self_loop, "self loop at vertex " + text(event.u)};
+        }
+        // protocol.proto: UNKNOWN_EDGE is "UNSET_EDGE ... of an edge that does not exist", and
+        // an edge with an end that is not alive does not exist; the message says which end.
+        for (const VertexKey end : {event.u, event.v}) {
+          if (!exists(end)) {
+            return Refusal{EventErrorCode::unknown_edge,
+                           "there is no edge {" + text(event.u) + ", " + text(event.v) +
+                               "} to unset: vertex " + text(end) + " is not alive"};
+          }
+        }
+        if (!edge_exists(event.u, event.v)) {
+          return Refusal{EventErrorCode::unknown_edge, "there is no edge {" + text(event.u) +
+                                                           ", " + text(event.v) + "} to unset"};
+        }
+        write_edge(edge_key(event.u, event.v), false);
+        --edge_change_;
+        if (partner_of(event.u) == event.v) release(event.u, event.v);  // the hold ends with its edge
+        return std::nullopt;
+      case EventKind::hold_pair:
+      case EventKind::release_pair:
+        return check_hold(event);
+      case EventKind::remove_vertex: {
+        if (!exists(event.u)) {
+          return Refusal{EventErrorCode::unknown_vertex,
+                         "remove names unknown vertex " + text(event.u)};
+        }
+        if (const auto partner = partner_of(event.u)) release(event.u, *partner);
+        const std::uint32_t generation = this->generation(event.u);
+        write_vertex(event.u, {false, generation + 1});  // its edges go with it
+        --alive_change_;
+        return std::nullopt;
+      }
+    }
+    return Refusal{EventErrorCode::unknown_vertex, "unknown event kind"};
+  }
+
+  std::optional<Refusal> check_hold(const Event& event) {
+    const bool hold = event.kind == EventKind::hold_pair;
+    const char* verb = hold ? "hold" : "release";
+    if (event.u == event.v) {
+      return Refusal{EventErrorCode::self_loop, std::string(verb) + " names vertex " +
+                                                    text(event.u) + " twice"};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (!exists(end)) {
+        return Refusal{EventErrorCode::unknown_vertex,
+                       std::string(verb) + " names unknown vertex " + text(end)};
+      }
+    }
+    std::string pair = text(event.u);  // appended, not '"{" + ...': GCC 12 warns on that
+    pair.insert(0, 1, '{');
+    pair += ", " + text(event.v) + "}";
+    if (!hold) {
+      if (partner_of(event.u) != event.v) {
+        return Refusal{EventErrorCode::not_held, "the pair " + pair + " is not held"};
+      }
+      release(event.u, event.v);
+      return std::nullopt;
+    }
+    if (!edge_exists(event.u, event.v)) {
+      return Refusal{EventErrorCode::unknown_edge, "there is no edge " + pair + " to hold"};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (const auto partner = partner_of(end)) {
+        return Refusal{EventErrorCode::already_held, "vertex " + text(end) +
+                                                           " is held with " + text(*partner)};
+      }
+    }
+    write_partner(event.u, event.v);
+    write_partner(event.v, event.u);
+    return std::nullopt;
+  }
+
+  std::optional<VertexKey> partner_of(VertexKey key) const {
+    const auto it = partner_.find(key);
+    return it != partner_.end() ? it->second : pool_.holds.partner(key);
+  }
+  void release(VertexKey a, VertexKey b) {
+    write_partner(a, std::nullopt);
+    write_partner(b, std::nullopt);
+  }
+  void write_partner(VertexKey key, std::optional<VertexKey> partner) {
+    const auto [it, inserted] = partner_.try_emplace(key, partner);
+    partner_undo_.push_back(undo_entry<VertexKey, std::optional<VertexKey>>(key, inserted, it));
+    it->second = partner;
+  }
+
+  std::optional<Refusal> check_set(const Event& event) {
+    if (event.u == event.v) {
+      return Refusal{EventErrorCode::self_loop, "self loop at vertex " + text(event.u)};
+    }
+    const Weight bound = pool_.limits.max_abs_weight;
+    if (event.w > bound || event.w < -bound) {
+      return Refusal{EventErrorCode::weight_out_of_range,
+                     "weight " + std::to_string(event.w) + " of edge {" + text(event.u) + ", " +
+                         text(event.v) + "} is out of range: |w| must be at most " +
+                         std::to_string(bound)};
+    }
+    for (const VertexKey end : {event.u, event.v}) {
+      if (!exists(end)) {
+        if (auto refusal = arrive(end)) return refusal;
+      }
+    }
+    if (!edge_exists(event.u, event.v)) ++edge_change_;  // the limit is checked after the batch
+    write_edge(edge_key(event.u, event.v), true);
+    return std::nullopt;
+  }
+
+  bool exists(VertexKey key) const {
+    const auto it = vertex_.find(key);
+    return it != vertex_.end() ? it->second.alive : pool_.graph.find(key) != kNoVertex;
+  }
+  std::uint32_t generation(VertexKey key) const {
+    const auto it = vertex_.find(key);
+    return it == vertex_.end() ? 0 : it->second.generation;
+  }
+  // The vertex limit is checked after the batch (accept).
+  std::optional<Refusal> arrive(VertexKey key) {
+    ++alive_change_;
+    write_vertex(key, {true, generation(key)});
+    return std::nullopt;
+  }
+  EdgeKey edge_key(VertexKey a, VertexKey b) const {
+    if (a > b) std::swap(a, b);
+    return {a, b, generation(a), generation(b)};
+  }
+  bool edge_exists(VertexKey a, VertexKey b) const {
+    const auto it = edge_override_.find(edge_key(a, b));
+    if (it != edge_override_.end()) return it->second;
+    if (generation(a) != 0 || generation(b) != 0) return false;  // an end left earlier
+    if (pool_.holds.aside_weight(a, b)) return true;
+    const Vertex va = pool_.graph.find(a);
+    const Vertex vb = pool_.graph.find(b);
+    return va != kNoVertex && vb != kNoVertex && pool_.graph.find_edge(va, vb) != kNoEdge;
+  }
+
+  void write_vertex(VertexKey key, VertexState state) {
+    const auto [it, inserted] = vertex_.try_emplace(key, state);
+    vertex_undo_.push_back(undo_entry<VertexKey, VertexState>(key, inserted, it));
+    it->second = state;
+  }
+  void write_edge(const EdgeKey& key, bool present) {
+    const auto [it, inserted] = edge_override_.try_emplace(key, present);
+    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, it));
+    it->second = present;
+  }
+
+  Mark mark() const { return {alive_change_, edge_change_}; }
+  void undo_to(const Mark& mark) {
+    for (auto it = vertex_undo_.rbegin(); it != vertex_undo_.rend(); ++it) {
+      if (it->before) {
+        vertex_[it->key] = *it->before;
+      } else {
+        vertex_.erase(it->key);
+      }
+    }
+    for (auto it = edge_undo_.rbegin(); it != edge_undo_.rend(); ++it) {
+      if (it->before) {
+        edge_override_[it->key] = *it->before;
+      } else {
+        edge_override_.erase(it->key);
+      }
+    }
+    for (auto it = partner_undo_.rbegin(); it != partner_undo_.rend(); ++it) {
+      if (it->before) {
+        partner_[it->key] = *it->before;
+      } else {
+        partner_.erase(it->key);
+      }
+    }
+    vertex_undo_.clear();
+    edge_undo_.clear();
+    partner_undo_.clear();
+    alive_change_ = mark.alive_change;
+    edge_change_ = mark.edge_change;
+  }
+
+  const PoolState& pool_;
+  std::unordered_map<VertexKey, VertexState> vertex_;
+  std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
+  std::vector<Undo<VertexKey, VertexState>> vertex_undo_;  // this batch's writes, in order
+  std::vector<Undo<EdgeKey, bool>> edge_undo_;
+  // The holds the batches changed: the partner, or nothing for a vertex no longer held.
+  std::unordered_map<VertexKey, std::optional<VertexKey>> partner_;
+  std::vector<Undo<VertexKey, std::optional<VertexKey>>> partner_undo_;
+  std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
+  // Edges inserted minus edges unset so far; a departure's edges are not enumerated, so the
+  // edge limit is checked conservatively (edge_count()).
+  std::ptrdiff_t edge_change_ = 0;
+  std::size_t accepted_events_ = 0;
+};
+
+BatchChecker::BatchChecker(const Pool& pool) : overlay_(std::make_unique<Overlay>(*pool.state_)) {}
+BatchChecker::~BatchChecker() = default;
+BatchChecker::BatchChecker(BatchChecker&&) noexcept = default;
+BatchChecker& BatchChecker::operator=(BatchChecker&&) noexcept = default;
+
+std::optional<EventError> BatchChecker::accept(std::span<const Event> batch) {
+  return overlay_->accept(batch);
+}
+
+std::size_t BatchChecker::accepted_events() const { return overlay_->accepted_events(); }
+
+std::optional<EventError> Pool::check(std::span<const Event> batch) const {
+  return BatchChecker(*this).accept(batch);
+}
+
+}  // namespace yoke

@@ -1,0 +1,181 @@
+#include "yoke/pool.h"
+
+#include <algorithm>
+
+#include "yoke/util/dcheck.h"
+#include "pool/pool_state.h"
+
+namespace yoke {
+
+PoolState::PoolState(Mode pool_mode, PoolLimits pool_limits, Weight bonus)
+    : mode(pool_mode),
+      limits(pool_limits),
+      churn_bonus(bonus),
+      weight_offset(resolve_limits(pool_mode, limits, bonus)),
+      matching(graph.capacity()),
+      search(std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching)),
+      node_mark(2 * graph.capacity(), 0) {
+  if (churn_bonus != 0) bonus_mate.assign(graph.capacity(), kNoVertex);
+}
+
+void PoolState::fit_capacity() {
+  const std::size_t n = graph.capacity();
+  matching.mate.resize(n);
+  matching.dual2.resize(n, 0);
+  matching.forest.grow(n);
+  node_mark.assign(2 * n, 0);
+  node_stamp = 0;
+  if (churn_bonus != 0) bonus_mate.resize(n, kNoVertex);
+  // The search's per-node arrays follow the capacity; it keeps no state between runs.
+  search = std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching);
+}
+
+Pool::Pool(Mode mode, PoolLimits limits, Weight churn_bonus)
+    : state_(std::make_unique<State>(mode, limits, churn_bonus)) {}
+Pool::~Pool() = default;
+
+Mode Pool::mode() const { return state_->mode; }
+const PoolLimits& Pool::limits() const { return state_->limits; }
+Weight Pool::churn_bonus() const { return state_->churn_bonus; }
+
+CommitResult Pool::commit(std::span<const Event> batch) {
+  YOKE_DCHECK(!check(batch), "Pool::commit: the batch did not pass check()");
+  State& pool = *state_;
+  pool.stats = {};
+  pool.root_candidates.clear();
+  pool.weight_before.clear();
+  pool.holds_touched.clear();
+  pool.matching.mate.open_journal();
+  const bool holds_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
+    return e.kind == EventKind::hold_pair || e.kind == EventKind::release_pair;
+  });
+  if (pool.graph.vertex_count() == 0 && !holds_in_batch) {
+    // Nothing to repair: the first batch (or one after the pool emptied) is solved from scratch.
+    for (const Event& event : batch) load_event(pool, event);
+    const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
+    pool.stats.initial_solve = true;
+    pool.stats.searches = solved.searches;
+    pool.stats.augmentations = solved.augmentations;
+    pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
+  } else {
+    for (std::size_t i = 0; i < batch.size(); ++i) {
+      pool.current_cause = static_cast<EventCause>(std::min<std::size_t>(i, kNoCause));
+      pool.matching.mate.set_cause(pool.current_cause);
+      apply_event(pool, batch[i]);
+    }
+    search_from_roots(pool);
+  }
+  settle_churn_bonus(pool);
+
+  CommitResult result;
+  result.diff = collect_diff(pool);
+  pool.matching.mate.close_journal();
+  pool.graph.release_slots();
+  result.commit = ++pool.commits;
+  result.weight = pool.weight + pool.holds.weight();
+  result.pairs = pool.pairs + pool.holds.size();
+  result.stats = pool.stats;
+  if (pool.mode == Mode::perfect && 2 * result.pairs != pool.graph.vertex_count()) {
+    result.status = SolveStatus::no_perfect_matching;
+  }
+  return result;
+}
+
+Weight Pool::weight() const { return state_->weight + state_->holds.weight(); }
+std::size_t Pool::pairs() const { return state_->pairs + state_->holds.size(); }
+std::size_t Pool::vertex_count() const { return state_->graph.vertex_count(); }
+std::size_t Pool::edge_count() const {
+  return state_->graph.edge_count() + state_->holds.aside_count();
+}
+std::uint64_t Pool::commits() const { return state_->commits; }
+bool Pool::has_vertex(VertexKey key) const { return state_->graph.find(key) != kNoVertex; }
+
+std::vector<std::pair<VertexKey, VertexKey>> Pool::blossom_cycle_at(VertexKey key) const {
+  std::vector<std::pair<VertexKey, VertexKey>> cycle;
+  const Vertex v = state_->graph.find(key);
+  if (v == kNoVertex) return cycle;
+  const BlossomForest& forest = state_->matching.forest;
+  const NodeId blossom = forest.parent(v);
+  if (blossom == kNoNode) return cycle;
+  for (const CycleEdge& edge : forest.cycle_edges(blossom)) {
+    cycle.emplace_back(state_->graph.key(edge.from), state_->graph.key(edge.to));
+  }
+  return cycle;
+}
+
+std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
+  if (const auto partner = state_->holds.partner(key)) return partner;
+  const Vertex v = state_->graph.find(key);
+  if (v == kNoVertex) return std::nullopt;
+  const Vertex m = state_->matching.mate[v];
+  if (m == kNoVertex) return std::nullopt;
+  return state_->graph.key(m);
+}
+
+std::vector<MatchedPair> Pool::matching() const {
+  const State& pool = *state_;
+  std::vector<MatchedPair> pairs;
+  pairs.reserve(pool.pairs);
+  for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
+    const Vertex m = pool.matching.mate[v];
+    if (m == kNoVertex || m < v) continue;
+    const VertexKey a = pool.graph.key(v);
+    const VertexKey b = pool.graph.key(m);
+    const Weight w = pool.own_weight(v, m, pool.graph.find_edge(v, m));
+    pairs.push_back({std::min(a, b), std::max(a, b), w});
+  }
+  for (const auto& [pair, w] : pool.holds.pairs()) pairs.push_back({pair.first, pair.second, w});
+  std::sort(pairs.begin(), pairs.end(), [](const MatchedPair& x, const MatchedPair& y) {
+    return x.a != y.a ? x.a < y.a : x.b < y.b;
+  });
+  return pairs;
+}
+
+PoolExport Pool::export_certified() const {
+  const State& pool = *state_;
+  const std::size_t capacity = pool.graph.capacity();
+  PoolExport out;
+  std::vector<Vertex> dense(capacity, kNoVertex);
+  for (Vertex v = 0; v < capacity; ++v) {
+    if (!pool.graph.alive(v) || pool.holds.held(pool.graph.key(v))) continue;
+    dense[v] = static_cast<Vertex>(out.keys.size());
+    out.keys.push_back(pool.graph.key(v));
+  }
+  const std::size_t n = out.keys.size();
+  std::vector<Edge> edges;
+  edges.reserve(pool.graph.edge_count());
+  for (Vertex v = 0; v < capacity; ++v) {
+    for (const Incidence& inc : pool.graph.graph().incident(v)) {
+      if (v < inc.other) edges.push_back({dense[v], dense[inc.other], inc.w});
+    }
+  }
+  out.graph = Graph::from_edges(n, std::move(edges));
+
+  out.matched_bonus = pool.churn_bonus;
+  for (const auto& [pair, w] : pool.holds.pairs()) out.held.push_back({pair.first, pair.second, w});
+
+  Certificate& cert = out.certificate;
+  cert.mode = pool.mode;
+  cert.weight_offset = pool.weight_offset;
+  cert.mate.assign(n, kNoVertex);
+  cert.vertex_dual2.assign(n, 0);
+  for (Vertex v = 0; v < capacity; ++v) {
+    if (dense[v] == kNoVertex) continue;
+    const Vertex m = pool.matching.mate[v];
+    cert.mate[dense[v]] = m == kNoVertex ? kNoVertex : dense[m];
+    cert.vertex_dual2[dense[v]] = pool.matching.dual2[v];
+  }
+  cert.blossoms = pool.matching.forest.certificate_blossoms(dense, n);
+  if (pool.mode == Mode::perfect) {
+    if (2 * pool.pairs == n) {
+      // Perfect-matching duals for the original weights: shift each u by offset/2.
+      for (Weight& d : cert.vertex_dual2) d -= pool.weight_offset;
+      cert.weight_offset = 0;
+    } else {
+      cert.mode = Mode::max_cardinality;  // evidence of the shortfall
+    }
+  }
+  return out;
+}
+
+}  // namespace yoke

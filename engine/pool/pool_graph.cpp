@@ -1,0 +1,113 @@
+#include "pool/pool_graph.h"
+
+namespace yoke {
+
+namespace {
+constexpr std::size_t kInitialCapacity = 64;
+}
+
+PoolGraph::PoolGraph()
+    : graph_(kInitialCapacity), slot_key_(kInitialCapacity, 0), slot_alive_(kInitialCapacity, 0) {
+  graph_.track_positions();
+}
+
+Vertex PoolGraph::find(VertexKey key) const {
+  const std::uint32_t v = key_to_slot_.find(key);
+  return v == FlatMap::kAbsent ? kNoVertex : v;
+}
+
+Vertex PoolGraph::add_vertex(VertexKey key) {
+  Vertex v;
+  if (!free_slots_.empty()) {
+    v = free_slots_.top();
+    free_slots_.pop();
+  } else {
+    if (next_unused_ == capacity()) {
+      const std::size_t grown = 2 * capacity();
+      graph_.grow_vertices(grown);
+      slot_key_.resize(grown, 0);
+      slot_alive_.resize(grown, 0);
+    }
+    v = static_cast<Vertex>(next_unused_++);
+  }
+  key_to_slot_.insert(key, v);
+  slot_key_[v] = key;
+  slot_alive_[v] = 1;
+  return v;
+}
+
+void PoolGraph::remove_vertex(Vertex v) {
+  key_to_slot_.erase(slot_key_[v]);
+  slot_alive_[v] = 0;
+  freed_slots_.push_back(v);
+}
+
+void PoolGraph::release_slots() {
+  for (Vertex v : freed_slots_) free_slots_.push(v);
+  freed_slots_.clear();
+}
+
+EdgeIndex PoolGraph::find_edge(Vertex a, Vertex b) const {
+  const std::uint32_t e = edge_of_pair_.find(pair_key(a, b));
+  return e == FlatMap::kAbsent ? kNoEdge : e;
+}
+
+EdgeIndex PoolGraph::add_edge(Vertex a, Vertex b, Weight w) {
+  const EdgeIndex e = graph_.add_edge(a, b, w);
+  edge_of_pair_.insert(pair_key(a, b), e);
+  return e;
+}
+
+void PoolGraph::remove_edge(EdgeIndex e) {
+  const Edge& edge = graph_.edge(e);
+  edge_of_pair_.erase(pair_key(edge.a, edge.b));
+  graph_.remove_edge(e);
+}
+
+void PoolGraph::save(ByteWriter& out) const {
+  graph_.save(out);
+  out.put_vector(slot_key_);
+  out.put_vector(slot_alive_);
+  auto free_slots = free_slots_;
+  std::vector<Vertex> free_list;
+  while (!free_slots.empty()) {
+    free_list.push_back(free_slots.top());
+    free_slots.pop();
+  }
+  free_list.insert(free_list.end(), freed_slots_.begin(), freed_slots_.end());
+  out.put_vector(free_list);
+  out.put<std::uint64_t>(next_unused_);
+}
+
+PoolGraph PoolGraph::load(ByteReader& in) {
+  PoolGraph pool;
+  pool.graph_ = Graph::load(in);
+  const std::size_t n = pool.graph_.vertex_count();
+  pool.slot_key_ = in.get_vector<VertexKey>(n);
+  pool.slot_alive_ = in.get_vector<std::uint8_t>(n);
+  if (pool.slot_key_.size() != n || pool.slot_alive_.size() != n) ByteReader::fail("slot arrays have the wrong length");
+  for (Vertex v : in.get_vector<Vertex>(n)) {
+    if (v >= n || pool.slot_alive_[v] != 0) ByteReader::fail("a free slot is alive");
+    pool.free_slots_.push(v);
+  }
+  pool.next_unused_ = in.get<std::uint64_t>();
+  if (pool.next_unused_ > n) ByteReader::fail("the first unused slot is past the capacity");
+  for (Vertex v = 0; v < n; ++v) {
+    if (pool.slot_alive_[v] == 0) {
+      if (!pool.graph_.incident(v).empty()) ByteReader::fail("a dead slot has edges");
+      continue;
+    }
+    if (v >= pool.next_unused_) ByteReader::fail("an alive slot lies past the used ones");
+    if (pool.key_to_slot_.find(pool.slot_key_[v]) != FlatMap::kAbsent) ByteReader::fail("two slots share a key");
+    pool.key_to_slot_.insert(pool.slot_key_[v], v);
+  }
+  for (EdgeIndex e = 0; e < pool.graph_.edge_slots(); ++e) {
+    if (!pool.graph_.is_live(e)) continue;
+    const Edge& edge = pool.graph_.edge(e);
+    if (pool.edge_of_pair_.find(pair_key(edge.a, edge.b)) != FlatMap::kAbsent) ByteReader::fail("an edge is there twice");
+    pool.edge_of_pair_.insert(pair_key(edge.a, edge.b), e);
+  }
+  return pool;
+}
+
+}  // namespace yoke

@@ -1,0 +1,104 @@
+// What a pool holds between commits, shared by the files that implement Pool (pool.cpp,
+// batch_checker.cpp, pool_repair.cpp, pool_diff.cpp, pool_explain.cpp, pool_limits.cpp,
+// pool_snapshot.cpp). Not part of the public interface.
+#pragma once
+
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <unordered_map>
+#include <vector>
+
+#include "solver/alternating_search.h"
+#include "solver/matching_state.h"
+#include "pool/held_pairs.h"
+#include "yoke/pool.h"
+#include "pool/pool_graph.h"
+
+namespace yoke {
+
+// Fills in the limits the caller left open and checks that the mode keeps them exact with the
+// churn bonus on top of every weight; returns the weight offset of the mode. Throws InputError
+// naming the bound that fails.
+Weight resolve_limits(Mode mode, PoolLimits& limits, Weight churn_bonus);
+
+struct PoolState {
+  PoolState(Mode mode, PoolLimits limits, Weight churn_bonus);
+
+  // Grows every per-vertex array to graph.capacity() after the graph gained slots. Blossom ids
+  // change, so no node id may be held across this call.
+  void fit_capacity();
+
+  Weight weight2(EdgeIndex e) const { return 2 * (graph.graph().edge(e).w + weight_offset); }
+
+  // The bonus edge {a, b} carries in the graph: churn_bonus when it is a pair of bonus_mate.
+  Weight bonus_on(Vertex a, Vertex b) const {
+    return churn_bonus != 0 && bonus_mate[a] == b ? churn_bonus : 0;
+  }
+  // The weight the outside world gave edge e = {a, b}: the graph's, less its bonus.
+  Weight own_weight(Vertex a, Vertex b, EdgeIndex e) const {
+    return graph.graph().edge(e).w - bonus_on(a, b);
+  }
+
+  const Mode mode;
+  PoolLimits limits;
+  const Weight churn_bonus;    // 0: no churn control
+  const Weight weight_offset;  // added to every weight (max-cardinality and perfect modes)
+
+  PoolGraph graph;
+  MatchingState matching;                    // mate, doubled duals, blossom forest by slot
+  // The pairs whose edges carry the churn bonus in the graph: the matching before the batch
+  // during a commit, the matching itself between commits. Empty when churn_bonus is 0.
+  std::vector<Vertex> bonus_mate;
+  HeldPairs holds;  // pairs fixed by hold_pair, outside the optimisation
+  std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
+  std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
+  std::uint32_t node_stamp = 0;
+
+  Weight weight = 0;  // sum of the matched edges' weights
+  std::size_t pairs = 0;
+  std::uint64_t commits = 0;
+
+  // Per commit.
+  struct RootCandidate {
+    Vertex vertex;
+    EventCause cause;  // the event that queued it
+  };
+  std::vector<RootCandidate> root_candidates;  // may break "exposed => dual 0"; checked first
+  EventCause current_cause = kNoCause;         // the event being applied
+  // Edges matched before the batch whose weight the batch changed or that it removed: their
+  // weight before the batch, by pair of slots (the diff reports it, the objective needs it).
+  std::unordered_map<std::uint64_t, Weight> weight_before;
+  // Held pairs the batch held, released or re-weighed: how they were before it.
+  struct HoldTouch {
+    bool was_held;
+    Weight weight_before;
+    EventCause cause;  // the last event that touched the pair
+  };
+  std::map<HeldPairs::KeyPair, HoldTouch> holds_touched;
+  RepairStats stats;
+};
+
+struct Pool::State : PoolState {
+  using PoolState::PoolState;
+};
+
+inline std::uint64_t slot_pair(Vertex a, Vertex b) {
+  return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
+}
+
+// Applies one event to the graph alone. Precondition: the pool was empty when the batch began
+// (every slot exposed with dual 0, no blossoms), so the batch is then solved from scratch.
+void load_event(PoolState& pool, const Event& event);
+// Applies one event and restores every optimality condition except "an exposed vertex has
+// dual 0" at the vertices it queues in root_candidates. Precondition: the event passed check.
+void apply_event(PoolState& pool, const Event& event);
+// Grows alternating trees from the queued roots until the matching is optimal again.
+void search_from_roots(PoolState& pool);
+// Moves the churn bonus from the pairs the commit broke to the pairs it formed, repairing after
+// each move, until the bonus sits on exactly the matching (docs/mathematics.md §6).
+void settle_churn_bonus(PoolState& pool);
+// The diff of the commit, read from the mate journal; updates pool.weight and pool.pairs.
+MatchingDiff collect_diff(PoolState& pool);
+
+}  // namespace yoke

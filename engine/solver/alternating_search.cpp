@@ -1,0 +1,493 @@
+#include "solver/alternating_search.h"
+
+#include <algorithm>
+
+namespace yoke {
+
+AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state,
+                                     bool half_cycles)
+    : graph_(graph),
+      weight_offset_(weight_offset),
+      half_cycles_mode_(half_cycles),
+      cycle_next_(half_cycles ? graph.vertex_count() : 0, kNoVertex),
+      forest_(state.forest),
+      mate_(state.mate),
+      dual2_(state.dual2),
+      vertex_mark_(graph.vertex_count()),
+      node_mark_(2 * graph.vertex_count()),
+      node_since_(2 * graph.vertex_count(), 0),
+      tree_outer_(2 * graph.vertex_count(), kNoVertex),
+      tree_inner_(2 * graph.vertex_count(), kNoVertex),
+      tree_of_(2 * graph.vertex_count(), kNoVertex),
+      tree_nodes_(graph.vertex_count()),
+      mark_(2 * graph.vertex_count(), 0) {}
+
+Weight AlternatingSearch::vertex_dual(Vertex v) const {
+  const VertexMark& mark = vertex_mark_[v];
+  if (mark.stamp != stamp_) return dual2_[v];
+  return dual2_[v] + mark.sign * (delta_ - mark.since);
+}
+
+Weight AlternatingSearch::blossom_dual(NodeId b) const {
+  const Label label = label_of(b);
+  if (label == kFree || forest_.parent(b) != kNoNode) return forest_.dual2(b);
+  const Weight steps = delta_ - node_since_[b];
+  return forest_.dual2(b) + (label == kEven ? 2 * steps : -2 * steps);
+}
+
+void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
+  dual2_[v] = vertex_dual(v);
+  vertex_mark_[v] = {delta_, stamp_, static_cast<std::int8_t>(sign)};
+}
+
+void AlternatingSearch::settle_blossom_dual(NodeId b) {
+  if (forest_.is_vertex(b)) return;
+  forest_.set_dual2(b, blossom_dual(b));
+  node_since_[b] = delta_;
+}
+
+void AlternatingSearch::label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree) {
+  settle_blossom_dual(node);
+  node_mark_[node] = {stamp_, label};
+  node_since_[node] = delta_;
+  tree_outer_[node] = outer;
+  tree_inner_[node] = inner;
+  tree_of_[node] = tree;
+  if (tree != kNoVertex) tree_nodes_[tree].push_back(node);
+}
+
+void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree) {
+  label_node(node, kEven, via_odd, base, tree);
+  forest_.for_each_vertex(node, [&](Vertex v) { make_even(v); });
+}
+
+void AlternatingSearch::make_even(Vertex v) {
+  set_vertex_sign(v, -1);
+  bounds_.push(delta_ + dual2_[v], v, kEvenVertexDual);
+  if (lone_tree_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
+  scan_queue_.push_back(v);
+}
+
+void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree,
+                                  bool vertices_already_odd) {
+  label_node(node, kOdd, via_even, entry, tree);
+  // A child of an expanding odd blossom that stays odd keeps its vertices' lazy duals as they
+  // are (same sign, same start): skipping the pass saves O(|child|) per expanded level.
+  if (!vertices_already_odd) forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
+  if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
+}
+
+void AlternatingSearch::scan(Vertex v) {
+  ++stats_.scans;
+  const Weight dual_v = vertex_dual(v);
+  const NodeId top_v = forest_.top(v);
+  for (const Incidence& inc : graph_.incident(v)) {
+    const Weight w = inc.w + weight_offset_;
+    if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
+    // The far end's sign says its top node's label, so most edges need no look at the forest.
+    const VertexMark& mark = vertex_mark_[inc.other];
+    const int sign = mark.stamp == stamp_ ? mark.sign : 0;
+    if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
+    const Weight dual_x = sign == 0 ? dual2_[inc.other] : dual2_[inc.other] - (delta_ - mark.since);
+    if (sign == 0) {
+      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v, /*both_even=*/false);
+    } else if (forest_.top(inc.other) != top_v) {
+      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v + dual_x, /*both_even=*/true);
+    }
+  }
+}
+
+void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even) {
+  // An even end stays even for at most its dual's worth of steps (then its tree ends), and an
+  // end that turns even again is rescanned. So an edge whose slack exceeds what its even ends
+  // can still take away (`reach`) never becomes due in this episode: skip it.
+  if (slack > reach) return;
+  // A lone tree ends, at the latest, when the smallest dual among its even vertices reaches 0:
+  // a bound due later can never be taken.
+  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  if (due > latest_end_) return;
+  bounds_.push(due, e, both_even ? kEvenEdge : kFreeEdge);
+}
+
+void AlternatingSearch::push_edges_to_even(NodeId node) {
+  forest_.for_each_vertex(node, [&](Vertex u) {
+    const Weight dual_u = vertex_dual(u);
+    for (const Incidence& inc : graph_.incident(u)) {
+      const Weight w = inc.w + weight_offset_;
+      if (w <= 0 || !is_even_vertex(inc.other)) continue;
+      const Weight dual_x = vertex_dual(inc.other);
+      queue_edge(inc.edge, dual_u + dual_x - 2 * w, dual_x, /*both_even=*/false);
+    }
+  });
+}
+
+bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
+  if (!may_matter(entry)) return false;
+  if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return true;
+  // Either end of the edge may have spent time in another state since the push (free after
+  // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
+  // exact key when the entry came early or under the other kind.
+  const Edge& e = graph_.edge(entry.id);
+  const bool a_even = is_even_vertex(e.a);
+  const bool b_even = is_even_vertex(e.b);
+  const Weight dual_a = vertex_dual(e.a);
+  const Weight dual_b = vertex_dual(e.b);
+  const Weight slack = dual_a + dual_b - 2 * weight(entry.id);
+  const bool both_even = a_even && b_even;
+  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  const auto kind = both_even ? kEvenEdge : kFreeEdge;
+  if (due == entry.key && kind == entry.kind) return true;
+  queue_edge(entry.id, slack, (a_even ? dual_a : 0) + (b_even ? dual_b : 0), both_even);
+  return false;
+}
+
+bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
+  switch (entry.kind) {
+    case kEvenVertexDual: {
+      // Stale when the vertex's tree ended since (it may even have joined another tree).
+      const Vertex v = entry.id;
+      const VertexMark& mark = vertex_mark_[v];
+      return mark.stamp == stamp_ && mark.sign == -1 && entry.key == mark.since + dual2_[v];
+    }
+    case kOddBlossomDual: {
+      const NodeId b = entry.id;
+      return forest_.is_live_blossom(b) && forest_.parent(b) == kNoNode && label_of(b) == kOdd &&
+             entry.key == node_since_[b] + forest_.dual2(b) / 2;
+    }
+    default:
+      break;
+  }
+  // Every transition into an even-free or even-even state queues a fresh entry, except an even
+  // end turning free, which relies on the even-even entry: keep exactly those two states.
+  const Edge& e = graph_.edge(entry.id);
+  const int sign_a = vertex_sign(e.a);
+  const int sign_b = vertex_sign(e.b);
+  if (sign_a > 0 || sign_b > 0) return false;       // an odd end
+  if (sign_a == 0 && sign_b == 0) return false;     // no even end
+  if (sign_a < 0 && sign_b < 0) return forest_.top(e.a) != forest_.top(e.b);
+  return true;
+}
+
+void AlternatingSearch::compact_bounds_if_bloated() {
+  // Stale entries only leave the heap when they surface; when the heap has doubled since the
+  // last sweep, drop the dead ones. Amortised O(1) per push, and memory stays in proportion
+  // to the live bounds.
+  if (bounds_.size() < compact_at_) return;
+  bounds_.compact([&](const RadixHeap::Entry& entry) { return may_matter(entry); });
+  compact_at_ = std::max(kFirstCompaction, 2 * bounds_.size());
+}
+
+void AlternatingSearch::start_run() {
+  if (++stamp_ == 0) {  // wrapped: old stamps could collide, so clear them once
+    for (VertexMark& mark : vertex_mark_) mark.stamp = 0;
+    for (NodeMark& mark : node_mark_) mark.stamp = 0;
+    stamp_ = 1;
+  }
+  delta_ = 0;
+  bounds_.reset(0);
+  compact_at_ = kFirstCompaction;
+  scan_queue_.clear();
+  running_ = true;
+}
+
+void AlternatingSearch::add_root(Vertex root) {
+  if (!running_) start_run();
+  const NodeId node = forest_.top(root);
+  label_even(node, kNoVertex, forest_.base(node), root);
+  ++live_trees_;
+  ++stats_.searches;
+}
+
+std::size_t AlternatingSearch::run() {
+  const std::uint64_t augmentations_before = stats_.augmentations;
+  if (live_trees_ == 1 && !half_cycles_mode_) {
+    // The root was labelled before the run knew it would be alone: take its bound now.
+    lone_tree_ = true;
+    for (Vertex v : scan_queue_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
+  }
+  while (live_trees_ > 0) {
+    while (!scan_queue_.empty()) {
+      const Vertex v = scan_queue_.back();
+      scan_queue_.pop_back();
+      scan(v);
+    }
+    compact_bounds_if_bloated();
+    // Every live tree has an even root, so a valid bound always exists.
+    const RadixHeap::Entry entry = bounds_.top();
+    bounds_.pop();
+    if (!still_due(entry)) continue;
+    if (entry.key != delta_) ++stats_.dual_steps;
+    delta_ = entry.key;
+
+    switch (entry.kind) {
+      case kFreeEdge:
+        grow_along(entry.id);
+        break;
+      case kEvenEdge:
+        join_even_ends(entry.id);
+        break;
+      case kOddBlossomDual:
+        expand_odd(entry.id);
+        break;
+      default: {
+        // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
+        // the even path from its root to it, and its tree is done.
+        const Vertex root = tree_of_[forest_.top(entry.id)];
+        flip_path_to_root(entry.id, kNoVertex);
+        end_tree(root);
+      }
+    }
+  }
+  running_ = false;
+  lone_tree_ = false;
+  latest_end_ = kNever;
+  stats_.heap_pushes = bounds_.pushes();
+  return stats_.augmentations - augmentations_before;
+}
+
+void AlternatingSearch::grow_along(EdgeIndex e) {
+  const Edge& edge = graph_.edge(e);
+  const bool a_even = is_even_vertex(edge.a);
+  const Vertex even_end = a_even ? edge.a : edge.b;
+  const Vertex free_end = a_even ? edge.b : edge.a;
+  const NodeId node = forest_.top(free_end);
+  const Vertex base = forest_.base(node);
+  const Vertex tree = tree_of_[forest_.top(even_end)];
+  if (mate_[base] == kNoVertex) {
+    if (half_cycles_mode_ && cycle_next_[free_end] != kNoVertex) open_half_cycle(free_end);
+    forest_.make_base(node, free_end, mate_);
+    mate_.set(free_end, even_end);
+    flip_path_to_root(even_end, free_end);
+    ++stats_.augmentations;
+    end_tree(tree);
+    return;
+  }
+  label_odd(node, even_end, free_end, tree);
+  const Vertex partner = mate_[base];
+  label_even(forest_.top(partner), base, partner, tree);
+}
+
+void AlternatingSearch::join_even_ends(EdgeIndex e) {
+  const Edge& edge = graph_.edge(e);
+  const Vertex tree_a = tree_of_[forest_.top(edge.a)];
+  const Vertex tree_b = tree_of_[forest_.top(edge.b)];
+  if (tree_a == tree_b) {
+    if (half_cycles_mode_) {
+      form_half_cycle(edge.a, edge.b);
+    } else {
+      shrink(edge.a, edge.b);
+    }
+    return;
+  }
+  flip_path_to_root(edge.a, edge.b);
+  flip_path_to_root(edge.b, edge.a);
+  ++stats_.augmentations;
+  end_tree(tree_a);
+  end_tree(tree_b);
+}
+
+void AlternatingSearch::flip_path_to_root(Vertex v, Vertex partner) {
+  for (;;) {
+    const NodeId even_node = forest_.top(v);
+    const Vertex odd_vertex = tree_outer_[even_node];
+    forest_.make_base(even_node, v, mate_);
+    mate_.set(v, partner);
+    if (odd_vertex == kNoVertex) return;
+    const NodeId odd_node = forest_.top(odd_vertex);
+    const Vertex next_even = tree_outer_[odd_node];
+    const Vertex entry = tree_inner_[odd_node];
+    forest_.make_base(odd_node, entry, mate_);
+    mate_.set(entry, next_even);
+    v = next_even;
+    partner = entry;
+  }
+}
+
+void AlternatingSearch::end_tree(Vertex root) {
+  std::vector<NodeId>& nodes = tree_nodes_[root];
+  // Only the nodes still at top level and still in this tree carry labels; the others were
+  // absorbed into blossoms or dissolved (their successors are in the list too).
+  auto in_tree = [&](NodeId node) {
+    return (forest_.is_vertex(node) || forest_.is_live_blossom(node)) &&
+           forest_.parent(node) == kNoNode && label_of(node) != kFree && tree_of_[node] == root;
+  };
+  std::size_t kept = 0;
+  for (NodeId node : nodes) {
+    if (!in_tree(node)) continue;
+    // Edges from formerly even vertices to other trees already sit in the queue as even-even
+    // bounds and are requeued as even-free ones when they surface; odd ones were never queued.
+    const bool odd = label_of(node) == kOdd;
+    if (odd) nodes[kept++] = node;
+    settle_blossom_dual(node);
+    node_mark_[node].label = kFree;
+    tree_of_[node] = kNoVertex;
+    forest_.for_each_vertex(node, [&](Vertex u) { set_vertex_sign(u, 0); });
+    if (!odd) dissolve_unpriced(node);
+  }
+  // The freed odd vertices may border even vertices of other trees, if any are left.
+  if (live_trees_ > 1) {
+    for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
+  }
+  nodes.clear();
+  nodes.shrink_to_fit();
+  --live_trees_;
+}
+
+void AlternatingSearch::dissolve_unpriced(NodeId node) {
+  // A free blossom whose dual is 0 costs nothing to undo now, and would only be expanded (or
+  // carried as dead weight) by the next tree that reaches it. A tree at one dual level nests
+  // such blossoms hundreds deep: they go in one pass over the vertices.
+  if (forest_.is_vertex(node) || forest_.dual2(node) != 0) return;
+  forest_.dissolve_unpriced_nest(node);
+}
+
+NodeId AlternatingSearch::meeting_node(NodeId x, NodeId y) {
+  auto even_parent = [&](NodeId node) {
+    return forest_.top(tree_outer_[forest_.top(tree_outer_[node])]);
+  };
+  // Climb from both ends in turn; the first even node reached twice is where the paths meet.
+  if (++mark_stamp_ == 0) {
+    std::fill(mark_.begin(), mark_.end(), 0);
+    mark_stamp_ = 1;
+  }
+  mark_[x] = mark_[y] = mark_stamp_;
+  for (;;) {
+    if (tree_outer_[x] != kNoVertex) {
+      x = even_parent(x);
+      if (mark_[x] == mark_stamp_) return x;
+      mark_[x] = mark_stamp_;
+    }
+    if (tree_outer_[y] != kNoVertex) {
+      y = even_parent(y);
+      if (mark_[y] == mark_stamp_) return y;
+      mark_[y] = mark_stamp_;
+    }
+  }
+}
+
+void AlternatingSearch::collect_cycle(Vertex v, Vertex w, NodeId meet) {
+  // Cycle order: the meeting node, down the tree path to v's node, across {v, w}, up to the
+  // meeting node again. Each tree step is the edge (tree_inner_, tree_outer_) of the lower node.
+  side_nodes_.clear();
+  side_edges_.clear();
+  for (NodeId node = forest_.top(v); node != meet; node = forest_.top(tree_outer_[node])) {
+    side_nodes_.push_back(node);
+    side_edges_.push_back({tree_inner_[node], tree_outer_[node]});
+  }
+  cycle_nodes_.assign(1, meet);
+  cycle_edges_.clear();
+  for (std::size_t i = side_nodes_.size(); i-- > 0;) {
+    cycle_edges_.push_back({side_edges_[i].to, side_edges_[i].from});
+    cycle_nodes_.push_back(side_nodes_[i]);
+  }
+  cycle_edges_.push_back({v, w});
+  for (NodeId node = forest_.top(w); node != meet; node = forest_.top(tree_outer_[node])) {
+    cycle_nodes_.push_back(node);
+    cycle_edges_.push_back({tree_inner_[node], tree_outer_[node]});
+  }
+}
+
+void AlternatingSearch::shrink(Vertex v, Vertex w) {
+  const Vertex tree = tree_of_[forest_.top(v)];
+  const NodeId meet = meeting_node(forest_.top(v), forest_.top(w));
+  collect_cycle(v, w, meet);
+  const Vertex outer = tree_outer_[meet];
+  const Vertex inner = tree_inner_[meet];
+  for (NodeId node : cycle_nodes_) {
+    const Label was = label_of(node);
+    settle_blossom_dual(node);  // frozen from now on: the node is no longer top level
+    node_mark_[node].label = kFree;
+    if (was == kOdd) forest_.for_each_vertex(node, [&](Vertex u) { make_even(u); });
+  }
+  const NodeId b = forest_.make_blossom(cycle_nodes_, cycle_edges_);
+  label_node(b, kEven, outer, inner, tree);
+  ++stats_.blossoms_formed;
+}
+
+void AlternatingSearch::form_half_cycle(Vertex v, Vertex w) {
+  const Vertex tree = tree_of_[v];
+  const NodeId meet = meeting_node(v, w);
+  collect_cycle(v, w, meet);
+  // The stem from the root to the cycle flips, so the root is covered; every cycle vertex is
+  // covered by two half edges, and every cycle edge is tight.
+  flip_path_to_root(meet, kNoVertex);
+  const std::size_t k = cycle_nodes_.size();
+  for (std::size_t i = 0; i < k; ++i) {
+    mate_.set(cycle_nodes_[i], kNoVertex);
+    cycle_next_[cycle_nodes_[i]] = cycle_nodes_[(i + 1) % k];
+  }
+  half_cycles_.push_back(meet);
+  ++stats_.augmentations;
+  end_tree(tree);
+}
+
+void AlternatingSearch::open_half_cycle(Vertex x) {
+  Vertex y = cycle_next_[x];
+  cycle_next_[x] = kNoVertex;
+  while (y != x) {
+    const Vertex z = cycle_next_[y];
+    const Vertex after = cycle_next_[z];
+    mate_.set(y, z);
+    mate_.set(z, y);
+    cycle_next_[y] = cycle_next_[z] = kNoVertex;
+    y = after;
+  }
+}
+
+std::size_t AlternatingSearch::settle_half_cycles() {
+  std::size_t open = 0;
+  for (Vertex v : half_cycles_) {
+    if (cycle_next_[v] == kNoVertex) continue;  // a later tree already augmented into it
+    open_half_cycle(v);
+    ++open;
+  }
+  half_cycles_.clear();
+  return open;
+}
+
+void AlternatingSearch::expand_odd(NodeId b) {
+  ++stats_.blossoms_expanded;
+  const Vertex reached_from = tree_outer_[b];
+  const Vertex reached_at = tree_inner_[b];
+  const Vertex tree = tree_of_[b];
+  cycle_nodes_ = forest_.children(b);
+  cycle_edges_ = forest_.cycle_edges(b);
+  node_mark_[b].label = kFree;
+  forest_.dissolve(b);
+
+  const std::size_t k = cycle_nodes_.size();
+  const NodeId entry = forest_.top(reached_at);
+  const std::size_t i = static_cast<std::size_t>(
+      std::find(cycle_nodes_.begin(), cycle_nodes_.end(), entry) - cycle_nodes_.begin());
+  // Relabel the even-length side of the cycle from the entry child to the base child as a
+  // piece of the tree (odd, even, ..., odd); the children on the other side leave the tree.
+  label_odd(entry, reached_from, reached_at, tree, /*vertices_already_odd=*/true);
+  std::size_t free_first, free_last;  // the children leaving the tree, [first, last)
+  if (i % 2 == 1) {
+    for (std::size_t j = i; j != k; j += 2) {
+      const CycleEdge matched = cycle_edges_[j];
+      const CycleEdge next = cycle_edges_[j + 1];
+      label_even(cycle_nodes_[j + 1], matched.from, matched.to, tree);
+      label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree, true);
+    }
+    free_first = 1;
+    free_last = i;
+  } else {
+    for (std::size_t j = i; j != 0; j -= 2) {
+      const CycleEdge matched = cycle_edges_[j - 1];
+      const CycleEdge next = cycle_edges_[j - 2];
+      label_even(cycle_nodes_[j - 1], matched.to, matched.from, tree);
+      label_odd(cycle_nodes_[j - 2], next.to, next.from, tree, true);
+    }
+    free_first = i + 1;
+    free_last = k;
+  }
+  for (std::size_t j = free_first; j < free_last; ++j) {
+    const NodeId child = cycle_nodes_[j];
+    label_node(child, kFree, kNoVertex, kNoVertex, kNoVertex);
+    forest_.for_each_vertex(child, [&](Vertex u) { set_vertex_sign(u, 0); });
+  }
+  for (std::size_t j = free_first; j < free_last; ++j) push_edges_to_even(cycle_nodes_[j]);
+}
+
+}  // namespace yoke

@@ -1,0 +1,168 @@
+// The primal-dual search: grows alternating trees from every root that breaks the optimality
+// conditions (an exposed vertex with positive dual) at once, with one shared dual step, until
+// every tree has ended: by augmenting (into a free exposed vertex or into another tree) or
+// because one of its S-vertex duals reached zero, where the matching shifts along the even path
+// so that vertex becomes the exposed one. Trees that an augmentation does not touch live on.
+//
+// Locality: labels carry a run stamp (no clearing), vertex and blossom duals change lazily
+// (value at labelling + the running total of dual steps, settled when a tree ends), and the
+// four bounds on each dual step sit in min-heaps keyed so that a key stays exact while its
+// bound is valid; stale entries are recognised when they surface. A run costs
+// O(R log R) for a region of R touched vertices and edges.
+#pragma once
+
+#include <cstdint>
+#include <limits>
+#include <vector>
+
+#include "yoke/graph.h"
+#include "solver/matching_state.h"
+#include "solver/radix_heap.h"
+#include "yoke/solve.h"
+
+namespace yoke {
+
+class AlternatingSearch {
+ public:
+  // `weight_offset` is added to every edge weight (the mode's transformation).
+  //
+  // With `half_cycles`, the search solves the fractional relaxation instead (no odd-set
+  // constraints; precondition: no blossoms yet): a tree that closes an odd cycle turns it into
+  // a half-matched cycle instead of a blossom, and a later tree may augment into any vertex of
+  // such a cycle. Its optimum is a cheap, near-integral warm start: settle_half_cycles() then
+  // matches every remaining cycle but one vertex, which becomes a root of the exact search.
+  AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state,
+                    bool half_cycles = false);
+  AlternatingSearch(const AlternatingSearch&) = delete;
+  AlternatingSearch& operator=(const AlternatingSearch&) = delete;
+
+  // Starts a tree at `root`. Preconditions: root is exposed, its doubled dual is positive and
+  // has the same parity as every other root of this run (so every dual step is integral).
+  void add_root(Vertex root);
+  // Grows all trees until each has ended. Returns the number of augmentations.
+  std::size_t run();
+
+  // Fractional mode only: matches each half-matched cycle along its cycle, leaving one vertex
+  // exposed. Returns the number of cycles.
+  std::size_t settle_half_cycles();
+
+  const SolveStats& stats() const { return stats_; }
+
+ private:
+  enum Label : std::uint8_t { kFree = 0, kEven = 1, kOdd = 2 };  // S = even, T = odd
+
+  Weight weight(EdgeIndex e) const { return graph_.edge(e).w + weight_offset_; }
+
+  // Lazy duals.
+  Weight vertex_dual(Vertex v) const;
+  Weight blossom_dual(NodeId b) const;
+  Label label_of(NodeId node) const {
+    const NodeMark& mark = node_mark_[node];
+    return mark.stamp == stamp_ ? static_cast<Label>(mark.label) : kFree;
+  }
+  void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
+  // -1 even, +1 odd, 0 free: a vertex's sign always follows the label of its top-level node
+  // (every relabelling sets its vertices' signs), so this avoids a climb in the forest.
+  int vertex_sign(Vertex v) const {
+    const VertexMark& mark = vertex_mark_[v];
+    return mark.stamp == stamp_ ? mark.sign : 0;
+  }
+  bool is_even_vertex(Vertex v) const { return vertex_sign(v) < 0; }
+  void settle_blossom_dual(NodeId b);
+
+  // Tree growth.
+  void label_node(NodeId node, Label label, Vertex outer, Vertex inner, Vertex tree);
+  void label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree);
+  void make_even(Vertex v);
+  void label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree,
+                 bool vertices_already_odd = false);
+  void scan(Vertex v);
+  void push_edges_to_even(NodeId node);
+  void queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even);
+  void grow_along(EdgeIndex e);
+  void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
+  NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
+  void collect_cycle(Vertex v, Vertex w, NodeId meet);  // into cycle_nodes_ / cycle_edges_
+  void shrink(Vertex v, Vertex w);
+  void form_half_cycle(Vertex v, Vertex w);
+  void open_half_cycle(Vertex x);             // matches the cycle around x; x stays exposed
+  void expand_odd(NodeId b);
+  void flip_path_to_root(Vertex v, Vertex partner);
+  void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
+  void dissolve_unpriced(NodeId node);        // dissolves a free blossom with dual 0, and nested ones
+  void start_run();
+
+  // The four bounds on a dual step. An entry's key is never later than the moment its bound is
+  // reached; entries that went stale are dropped or requeued with their exact key when they
+  // surface (still_due).
+  // At equal keys the lower kind goes first: closing cycles and joining trees before growing
+  // keeps trees small, so fewer vertices are rescanned when a tree ends.
+  enum BoundKind : std::uint32_t {
+    kEvenEdge = 0,         // an even-to-even edge becomes tight
+    kFreeEdge = 1,         // an even-to-free edge becomes tight
+    kOddBlossomDual = 2,   // an odd blossom's dual reaches 0
+    kEvenVertexDual = 3,   // an even vertex's dual reaches 0
+  };
+  bool still_due(const RadixHeap::Entry& entry);
+  // False for entries that can never become due again in the current state's future (still_due
+  // would drop them without requeueing). No side effects.
+  bool may_matter(const RadixHeap::Entry& entry) const;
+  void compact_bounds_if_bloated();
+
+  const Graph& graph_;
+  const Weight weight_offset_;
+  const bool half_cycles_mode_;
+  std::vector<Vertex> cycle_next_;   // fractional mode: successor on a half-matched cycle
+  std::vector<Vertex> half_cycles_;  // fractional mode: one vertex of each cycle formed
+  BlossomForest& forest_;
+  Mates& mate_;
+  std::vector<Weight>& dual2_;
+  SolveStats stats_;
+
+  std::uint32_t stamp_ = 0;
+  Weight delta_ = 0;  // sum of the dual steps taken in this run
+
+  // Per vertex.
+  // Kept together so that reading a lazy dual touches one cache line of search state.
+  struct VertexMark {
+    Weight since = 0;         // delta_ when the sign was last set
+    std::uint32_t stamp = 0;  // the run that set it
+    std::int8_t sign = 0;     // -1 even (dual falls), +1 odd (dual rises), 0 free
+  };
+  std::vector<VertexMark> vertex_mark_;
+  // Per node (vertex or blossom slot).
+  struct NodeMark {
+    std::uint32_t stamp = 0;  // the run that set the label
+    std::uint8_t label = kFree;
+  };
+  std::vector<NodeMark> node_mark_;
+  std::vector<Weight> node_since_;         // delta_ when the label was set
+  // The tree edge above a labelled node: for an odd node, the even vertex that reached it and
+  // the vertex inside it; for an even node, its mate outside (kNoVertex at the root) and its base.
+  std::vector<Vertex> tree_outer_;
+  std::vector<Vertex> tree_inner_;
+  std::vector<Vertex> tree_of_;            // per node: the root vertex of its tree
+  std::vector<std::vector<NodeId>> tree_nodes_;  // per root vertex: nodes labelled in its tree
+  std::size_t live_trees_ = 0;
+  // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
+  // key of its even vertices' dual bounds), and queues no bound due after it.
+  static constexpr Weight kNever = std::numeric_limits<Weight>::max();
+  bool lone_tree_ = false;
+  Weight latest_end_ = kNever;
+  bool running_ = false;
+  std::vector<std::uint32_t> mark_;        // scratch stamps for finding the tree's meeting point
+  std::uint32_t mark_stamp_ = 0;
+
+  std::vector<Vertex> scan_queue_;
+
+  RadixHeap bounds_;  // key: the value of delta_ at which the bound is reached
+  std::size_t compact_at_ = kFirstCompaction;
+  static constexpr std::size_t kFirstCompaction = std::size_t{1} << 16;
+
+  std::vector<NodeId> cycle_nodes_;      // scratch for shrink
+  std::vector<CycleEdge> cycle_edges_;   // scratch for shrink
+  std::vector<NodeId> side_nodes_;       // scratch for shrink
+  std::vector<CycleEdge> side_edges_;    // scratch for shrink
+};
+
+}  // namespace yoke
