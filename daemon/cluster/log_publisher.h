@@ -15,7 +15,7 @@ namespace yoke::cluster {
 // on an R3 stream, the message is then stored by a quorum of servers (on nats-server 2.9, in
 // their memory and files, fsynced within a minute: not necessarily on disk yet). Returns the
 // message's stream sequence. No conditions, no message id: on nats-server 2.9 those are not
-// safe on replicated streams (see SCALE-OUT.md), so any decision about the message is made by
+// safe on replicated streams (docs/jetstream.md), so any decision about the message is made by
 // whoever reads the log.
 // Blocks the calling thread for one round trip to the stream leader (0.2-2 ms on loopback), at
 // most `timeout`. While nobody takes the subject (the stream's leader is being elected after

@@ -6,7 +6,7 @@
 // be consecutive).
 //
 // Durable means acknowledged by the stream: on an R3 stream a quorum holds the message (on
-// nats-server 2.9.10 in memory and in files, fsynced within a minute; SCALE-OUT.md). There are
+// nats-server 2.9.10 in memory and in files, fsynced within a minute; docs/jetstream.md). There are
 // no conditional publishes and no message ids (unsafe on 2.9.10): which process may write a
 // pool is decided by the log's order (ownership_rule.h). Each group carries the epoch its
 // writer holds for the pool (set_epoch; 0 for a pool without one: a single writer that never

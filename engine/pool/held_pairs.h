@@ -14,9 +14,9 @@
 #include <utility>
 #include <vector>
 
-#include "yoke/util/byte_io.h"
 #include "yoke/events.h"
 #include "yoke/types.h"
+#include "yoke/util/byte_io.h"
 
 namespace yoke {
 

@@ -2,8 +2,8 @@
 
 #include <algorithm>
 
-#include "yoke/util/dcheck.h"
 #include "pool/pool_state.h"
+#include "yoke/util/dcheck.h"
 
 namespace yoke {
 

@@ -9,8 +9,8 @@
 #include <vector>
 
 #include "yoke/events.h"
-#include "yoke/util/flat_map.h"
 #include "yoke/graph.h"
+#include "yoke/util/flat_map.h"
 
 namespace yoke {
 

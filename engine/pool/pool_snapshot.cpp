@@ -1,4 +1,4 @@
-// Pool::save and Pool::restore: the pool's state as bytes, engine/STATE_FORMAT.md. Everything
+// Pool::save and Pool::restore: the pool's state as bytes, engine/pool/STATE_FORMAT.md. Everything
 // that decides a later result is kept as it lies (slot numbers, free lists, incidence and leaf
 // order); what is only a cache (each vertex's top-level node, the search's scratch) is rebuilt.
 #include <string>

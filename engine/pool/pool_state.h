@@ -9,11 +9,11 @@
 #include <unordered_map>
 #include <vector>
 
+#include "pool/held_pairs.h"
+#include "pool/pool_graph.h"
 #include "solver/alternating_search.h"
 #include "solver/matching_state.h"
-#include "pool/held_pairs.h"
 #include "yoke/pool.h"
-#include "pool/pool_graph.h"
 
 namespace yoke {
 

@@ -15,9 +15,9 @@
 #include <limits>
 #include <vector>
 
-#include "yoke/graph.h"
 #include "solver/matching_state.h"
 #include "solver/radix_heap.h"
+#include "yoke/graph.h"
 #include "yoke/solve.h"
 
 namespace yoke {

@@ -10,10 +10,10 @@
 #include <cstdint>
 #include <vector>
 
-#include "yoke/util/byte_io.h"
-#include "yoke/certificate.h"
 #include "solver/mates.h"
+#include "yoke/certificate.h"
 #include "yoke/types.h"
+#include "yoke/util/byte_io.h"
 
 namespace yoke {
 

@@ -1,8 +1,8 @@
 // The warm start of a static solve: feasible doubled duals and a greedy matching on tight edges.
 #pragma once
 
-#include "yoke/graph.h"
 #include "solver/matching_state.h"
+#include "yoke/graph.h"
 
 namespace yoke {
 

@@ -4,9 +4,9 @@
 #include <string>
 
 #include "solver/alternating_search.h"
-#include "yoke/util/dcheck.h"
 #include "solver/greedy_start.h"
 #include "solver/matching_state.h"
+#include "yoke/util/dcheck.h"
 
 namespace yoke {
 namespace {

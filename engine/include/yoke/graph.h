@@ -9,8 +9,8 @@
 #include <span>
 #include <vector>
 
-#include "yoke/util/byte_io.h"
 #include "yoke/types.h"
+#include "yoke/util/byte_io.h"
 
 namespace yoke {
 
