@@ -2,10 +2,25 @@
 
 #include <algorithm>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "yoke/util/dcheck.h"
 
 namespace yoke {
+
+namespace {
+
+// For the precondition check only (O(m log m), never evaluated in Release).
+bool has_no_duplicate_edge(const std::vector<Edge>& edges) {
+  std::vector<std::pair<Vertex, Vertex>> ends;
+  ends.reserve(edges.size());
+  for (const Edge& e : edges) ends.emplace_back(std::min(e.a, e.b), std::max(e.a, e.b));
+  std::sort(ends.begin(), ends.end());
+  return std::adjacent_find(ends.begin(), ends.end()) == ends.end();
+}
+
+}  // namespace
 
 Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
   YOKE_DCHECK(std::all_of(edges.begin(), edges.end(),
@@ -13,6 +28,7 @@ Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
                             return e.a < vertex_count && e.b < vertex_count && e.a != e.b;
                           }),
               "Graph::from_edges: an endpoint is out of range or an edge is a self loop");
+  YOKE_DCHECK(has_no_duplicate_edge(edges), "Graph::from_edges: two edges join the same ends");
   Graph graph;
   std::vector<std::uint32_t> degree(vertex_count, 0);
   for (const Edge& e : edges) {

@@ -1,9 +1,9 @@
-// YOKE_DCHECK (engine/include/yoke/util/dcheck.h): checked in the sanitizer and Debug builds, where a broken
-// precondition aborts with its message, and never evaluated in Release.
+// YOKE_DCHECK (engine/include/yoke/util/dcheck.h): checked in the sanitizer and Debug builds,
+// where a broken precondition aborts with its message, and never evaluated in Release.
 #include <gtest/gtest.h>
 
-#include "yoke/util/dcheck.h"
 #include "yoke/graph.h"
+#include "yoke/util/dcheck.h"
 
 namespace yoke {
 namespace {
@@ -22,6 +22,11 @@ TEST(Dcheck, EvaluatesItsConditionOnlyWhenChecksAreOn) {
 TEST(DcheckDeathTest, ABrokenPreconditionAbortsWithItsMessage) {
   Graph graph(2);
   EXPECT_DEATH(graph.add_edge(1, 2, 5), "YOKE_DCHECK.*Graph::add_edge: a missing end");
+}
+
+TEST(DcheckDeathTest, FromEdgesRefusesTwoEdgesWithTheSameEnds) {
+  EXPECT_DEATH(Graph::from_edges(3, {{0, 1, 4}, {2, 0, 1}, {1, 0, 7}}),
+               "YOKE_DCHECK.*Graph::from_edges: two edges join the same ends");
 }
 #endif
 
