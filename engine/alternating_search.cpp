@@ -465,6 +465,8 @@ void AlternatingSearch::expand_odd(NodeId b) {
   cycle_nodes_ = forest_.children(b);
   cycle_edges_ = forest_.cycle_edges(b);
   node_mark_[b].label = kFree;
+  // O(children): the vertices of the children that stay odd are not visited (their top() is
+  // repaired when first asked); the others are visited below anyway.
   forest_.dissolve(b);
 
   const std::size_t k = cycle_nodes_.size();
@@ -479,6 +481,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
     for (std::size_t j = i; j != k; j += 2) {
       const CycleEdge matched = cycle_edges_[j];
       const CycleEdge next = cycle_edges_[j + 1];
+      forest_.settle_top(cycle_nodes_[j + 1]);
       label_even(cycle_nodes_[j + 1], matched.from, matched.to, tree);
       label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree, true);
     }
@@ -488,6 +491,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
     for (std::size_t j = i; j != 0; j -= 2) {
       const CycleEdge matched = cycle_edges_[j - 1];
       const CycleEdge next = cycle_edges_[j - 2];
+      forest_.settle_top(cycle_nodes_[j - 1]);
       label_even(cycle_nodes_[j - 1], matched.to, matched.from, tree);
       label_odd(cycle_nodes_[j - 2], next.to, next.from, tree, true);
     }
@@ -497,6 +501,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
   for (std::size_t j = free_first; j < free_last; ++j) {
     const NodeId child = cycle_nodes_[j];
     label_node(child, kFree, kNoVertex, kNoVertex, kNoVertex);
+    forest_.settle_top(child);
     forest_.for_each_vertex(child, [&](Vertex u) { set_vertex_sign(u, 0); });
   }
   for (std::size_t j = free_first; j < free_last; ++j) push_edges_to_even(cycle_nodes_[j]);
