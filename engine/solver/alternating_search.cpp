@@ -90,23 +90,35 @@ void AlternatingSearch::scan(Vertex v) {
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
     const Weight dual_x = sign == 0 ? dual2_[inc.other] : dual2_[inc.other] - (delta_ - mark.since);
     if (sign == 0) {
-      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v, /*both_even=*/false);
+      queue_free_edge(inc.edge, inc.other, dual_v + dual_x - 2 * w, dual_v);
     } else if (forest_.top(inc.other) != top_v) {
-      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v + dual_x, /*both_even=*/true);
+      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v + dual_x, kEvenEdge);
     }
   }
 }
 
-void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even) {
+AlternatingSearch::BoundKind AlternatingSearch::edge_kind(EdgeIndex e, bool a_even, bool b_even) const {
+  if (a_even && b_even) return kEvenEdge;
+  const Edge& edge = graph_.edge(e);
+  return free_edge_kind(a_even ? edge.b : edge.a);
+}
+
+void AlternatingSearch::queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach) {
+  // The same tests as queue_edge's, before the kind is looked up: most scanned edges fail them.
+  if (slack > reach || delta_ + slack > latest_end_) return;
+  bounds_.push(delta_ + slack, e, free_edge_kind(free_end));
+}
+
+void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind) {
   // An even end stays even for at most its dual's worth of steps (then its tree ends), and an
   // end that turns even again is rescanned. So an edge whose slack exceeds what its even ends
   // can still take away (`reach`) never becomes due in this episode: skip it.
   if (slack > reach) return;
   // A lone tree ends, at the latest, when the smallest dual among its even vertices reaches 0:
   // a bound due later can never be taken.
-  const Weight due = delta_ + (both_even ? slack / 2 : slack);
+  const Weight due = delta_ + (kind == kEvenEdge ? slack / 2 : slack);
   if (due > latest_end_) return;
-  bounds_.push(due, e, both_even ? kEvenEdge : kFreeEdge);
+  bounds_.push(due, e, kind);
 }
 
 void AlternatingSearch::push_edges_to_even(NodeId node) {
@@ -116,7 +128,7 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
       const Weight w = inc.w + weight_offset_;
       if (w <= 0 || !is_even_vertex(inc.other)) continue;
       const Weight dual_x = vertex_dual(inc.other);
-      queue_edge(inc.edge, dual_u + dual_x - 2 * w, dual_x, /*both_even=*/false);
+      queue_free_edge(inc.edge, u, dual_u + dual_x - 2 * w, dual_x);
     }
   });
 }
@@ -133,11 +145,10 @@ bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
   const Weight dual_a = vertex_dual(e.a);
   const Weight dual_b = vertex_dual(e.b);
   const Weight slack = dual_a + dual_b - 2 * weight(entry.id);
-  const bool both_even = a_even && b_even;
-  const Weight due = delta_ + (both_even ? slack / 2 : slack);
-  const auto kind = both_even ? kEvenEdge : kFreeEdge;
+  const BoundKind kind = edge_kind(entry.id, a_even, b_even);
+  const Weight due = delta_ + (kind == kEvenEdge ? slack / 2 : slack);
   if (due == entry.key && kind == entry.kind) return true;
-  queue_edge(entry.id, slack, (a_even ? dual_a : 0) + (b_even ? dual_b : 0), both_even);
+  queue_edge(entry.id, slack, (a_even ? dual_a : 0) + (b_even ? dual_b : 0), kind);
   return false;
 }
 
@@ -220,6 +231,7 @@ std::size_t AlternatingSearch::run() {
     delta_ = entry.key;
 
     switch (entry.kind) {
+      case kExposedEdge:
       case kFreeEdge:
         grow_along(entry.id);
         break;
@@ -453,6 +465,8 @@ void AlternatingSearch::expand_odd(NodeId b) {
   cycle_nodes_ = forest_.children(b);
   cycle_edges_ = forest_.cycle_edges(b);
   node_mark_[b].label = kFree;
+  // O(children): the vertices of the children that stay odd are not visited (their top() is
+  // repaired when first asked); the others are visited below anyway.
   forest_.dissolve(b);
 
   const std::size_t k = cycle_nodes_.size();
@@ -467,6 +481,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
     for (std::size_t j = i; j != k; j += 2) {
       const CycleEdge matched = cycle_edges_[j];
       const CycleEdge next = cycle_edges_[j + 1];
+      forest_.settle_top(cycle_nodes_[j + 1]);
       label_even(cycle_nodes_[j + 1], matched.from, matched.to, tree);
       label_odd(cycle_nodes_[(j + 2) % k], next.from, next.to, tree, true);
     }
@@ -476,6 +491,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
     for (std::size_t j = i; j != 0; j -= 2) {
       const CycleEdge matched = cycle_edges_[j - 1];
       const CycleEdge next = cycle_edges_[j - 2];
+      forest_.settle_top(cycle_nodes_[j - 1]);
       label_even(cycle_nodes_[j - 1], matched.to, matched.from, tree);
       label_odd(cycle_nodes_[j - 2], next.to, next.from, tree, true);
     }
@@ -485,6 +501,7 @@ void AlternatingSearch::expand_odd(NodeId b) {
   for (std::size_t j = free_first; j < free_last; ++j) {
     const NodeId child = cycle_nodes_[j];
     label_node(child, kFree, kNoVertex, kNoVertex, kNoVertex);
+    forest_.settle_top(child);
     forest_.for_each_vertex(child, [&](Vertex u) { set_vertex_sign(u, 0); });
   }
   for (std::size_t j = free_first; j < free_last; ++j) push_edges_to_even(cycle_nodes_[j]);

@@ -51,6 +51,28 @@ class AlternatingSearch {
  private:
   enum Label : std::uint8_t { kFree = 0, kEven = 1, kOdd = 2 };  // S = even, T = odd
 
+  // At equal keys the lower kind goes first. A tree ends as soon as it can: augmenting into an
+  // exposed vertex or stopping at an even vertex whose dual reached 0 goes before anything
+  // else that became tight at the same dual level (a search on tied weights would otherwise
+  // flood that whole level first). Then closing cycles and joining trees before growing keeps
+  // trees small, so fewer vertices are rescanned when a tree ends.
+  enum BoundKind : std::uint32_t {
+    kExposedEdge = 0,      // an even-to-free edge that ends the tree becomes tight (free_edge_kind)
+    kEvenVertexDual = 1,   // an even vertex's dual reaches 0
+    kEvenEdge = 2,         // an even-to-even edge becomes tight
+    kFreeEdge = 3,         // an even-to-free edge becomes tight
+    kOddBlossomDual = 4,   // an odd blossom's dual reaches 0
+  };
+  // The kind of edge e's bound, given which ends are even (at least one is).
+  BoundKind edge_kind(EdgeIndex e, bool a_even, bool b_even) const;
+  // The kind of a bound on an edge into free vertex x: kExposedEdge when taking it ends the
+  // tree at once (x is exposed, or its mate has dual 0 and would stop the tree as soon as it
+  // turns even). A heuristic of order only, read from settled duals (x and its mate are free).
+  BoundKind free_edge_kind(Vertex x) const {
+    const Vertex m = mate_[x];
+    return m == kNoVertex || dual2_[m] == 0 ? kExposedEdge : kFreeEdge;
+  }
+
   Weight weight(EdgeIndex e) const { return graph_.edge(e).w + weight_offset_; }
 
   // Lazy duals.
@@ -78,7 +100,8 @@ class AlternatingSearch {
                  bool vertices_already_odd = false);
   void scan(Vertex v);
   void push_edges_to_even(NodeId node);
-  void queue_edge(EdgeIndex e, Weight slack, Weight reach, bool both_even);
+  void queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind);
+  void queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach);
   void grow_along(EdgeIndex e);
   void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
   NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
@@ -92,17 +115,9 @@ class AlternatingSearch {
   void dissolve_unpriced(NodeId node);        // dissolves a free blossom with dual 0, and nested ones
   void start_run();
 
-  // The four bounds on a dual step. An entry's key is never later than the moment its bound is
+  // The bounds on a dual step (BoundKind). An entry's key is never later than the moment its bound is
   // reached; entries that went stale are dropped or requeued with their exact key when they
   // surface (still_due).
-  // At equal keys the lower kind goes first: closing cycles and joining trees before growing
-  // keeps trees small, so fewer vertices are rescanned when a tree ends.
-  enum BoundKind : std::uint32_t {
-    kEvenEdge = 0,         // an even-to-even edge becomes tight
-    kFreeEdge = 1,         // an even-to-free edge becomes tight
-    kOddBlossomDual = 2,   // an odd blossom's dual reaches 0
-    kEvenVertexDual = 3,   // an even vertex's dual reaches 0
-  };
   bool still_due(const RadixHeap::Entry& entry);
   // False for entries that can never become due again in the current state's future (still_due
   // would drop them without requeueing). No side effects.

@@ -10,6 +10,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
     : vertex_count_(vertex_count),
       parent_(2 * vertex_count, kNoNode),
       top_(vertex_count),
+      version_(2 * vertex_count, 0),
       base_(2 * vertex_count, kNoVertex),
       dual2_(2 * vertex_count, 0),
       first_leaf_(2 * vertex_count, kNoVertex),
@@ -19,7 +20,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
       children_(vertex_count),
       edges_(vertex_count) {
   for (Vertex v = 0; v < vertex_count; ++v) {
-    top_[v] = v;
+    top_[v] = {v, 0};
     base_[v] = v;
     first_leaf_[v] = last_leaf_[v] = v;
   }
@@ -50,10 +51,7 @@ NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
 }
 
 void BlossomForest::dissolve(NodeId b) {
-  for (NodeId child : children_[b - vertex_count_]) {
-    parent_[child] = kNoNode;
-    for_each_vertex(child, [&](Vertex v) { top_[v] = child; });
-  }
+  for (NodeId child : children_[b - vertex_count_]) parent_[child] = kNoNode;
   free_slot(b);
 }
 
@@ -63,6 +61,13 @@ void BlossomForest::free_slot(NodeId b) {
   dual2_[b] = 0;
   base_[b] = kNoVertex;
   free_slots_.push_back(b);
+  // Caches naming b are stale from now on. After 2^32 frees of one slot a stale version could
+  // match again: start every cache afresh then (a vertex's own version never moves).
+  if (++version_[b] == 0) reset_top_caches();
+}
+
+void BlossomForest::reset_top_caches() {
+  for (Vertex v = 0; v < vertex_count_; ++v) top_[v] = {v, 0};
 }
 
 void BlossomForest::dissolve_unpriced_nest(NodeId b) {
@@ -77,7 +82,7 @@ void BlossomForest::dissolve_unpriced_nest(NodeId b) {
       if (!is_vertex(child) && dual2_[child] == 0) {
         nest_.push_back(child);  // its vertices get their top when its kept descendants do
       } else {
-        for_each_vertex(child, [&](Vertex v) { top_[v] = child; });
+        settle_top(child);
       }
     }
     free_slot(x);
@@ -99,16 +104,13 @@ void BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dua
     for (NodeId child : children_[b - vertex_count_]) {
       parent_[child] = kNoNode;
       if (child == next) continue;
+      const std::uint32_t version = version_[child];
       for_each_vertex(child, [&](Vertex x) {
         vertex_dual2[x] += pushed;
-        top_[x] = child;
+        top_[x] = {child, version};
       });
     }
-    children_[b - vertex_count_].clear();
-    edges_[b - vertex_count_].clear();
-    dual2_[b] = 0;
-    base_[b] = kNoVertex;
-    free_slots_.push_back(b);
+    free_slot(b);
   }
 }
 
@@ -136,11 +138,13 @@ void BlossomForest::grow(std::size_t vertex_count) {
   remap_nodes(first_leaf_, kNoVertex, false);
   remap_nodes(last_leaf_, kNoVertex, false);
   remap_nodes(size_, std::uint32_t{1}, false);
-  for (NodeId& t : top_) t = moved(t);
+  remap_nodes(version_, std::uint32_t{0}, false);
+  for (TopCache& t : top_) t.node = moved(t.node);
   top_.resize(vertex_count);
   next_leaf_.resize(vertex_count, kNoVertex);
   for (std::size_t v = old_n; v < vertex_count; ++v) {
-    top_[v] = base_[v] = first_leaf_[v] = last_leaf_[v] = static_cast<Vertex>(v);
+    top_[v] = {static_cast<Vertex>(v), 0};
+    base_[v] = first_leaf_[v] = last_leaf_[v] = static_cast<Vertex>(v);
   }
   for (auto& kids : children_) {
     for (NodeId& child : kids) child = moved(child);
@@ -280,7 +284,8 @@ BlossomForest BlossomForest::load(ByteReader& in) {
   }
   forest.free_slots_ = in.get_vector<NodeId>(n);
   forest.top_.resize(n);
-  for (Vertex v = 0; v < n; ++v) forest.top_[v] = v;  // a cache: any ancestor-or-self will do
+  forest.version_.assign(2 * n, 0);
+  forest.reset_top_caches();  // a cache: any ancestor-or-self will do
   forest.check_loaded();
   return forest;
 }

@@ -36,13 +36,17 @@ class BlossomForest {
   }
 
   NodeId parent(NodeId node) const { return parent_[node]; }
-  // The top-level node containing v. top_[v] caches an ancestor-or-self of v; forming a blossom
-  // does not touch its vertices, the next lookup climbs the new levels and remembers the result.
+  // The top-level node containing v. top_[v] caches an ancestor-or-self of v with the version
+  // its slot had then; forming a blossom does not touch its vertices, and neither does
+  // dissolve(): a cached blossom dissolved since (its slot's version moved on) sends the lookup
+  // back to v itself. The next lookup climbs the levels above and remembers the result.
   NodeId top(Vertex v) const {
-    NodeId node = top_[v];
-    if (parent_[node] == kNoNode) return node;
+    TopCache& cache = top_[v];
+    NodeId node = cache.node;
+    if (version_[node] != cache.version) node = v;
+    if (parent_[node] == kNoNode && node == cache.node) return node;
     while (parent_[node] != kNoNode) node = parent_[node];
-    top_[v] = node;
+    cache = {node, version_[node]};
     return node;
   }
   Vertex base(NodeId node) const { return base_[node]; }
@@ -64,8 +68,15 @@ class BlossomForest {
   // edges joining them. O(number of children).
   NodeId make_blossom(const std::vector<NodeId>& children, const std::vector<CycleEdge>& edges);
 
-  // Dissolves top-level blossom `b` into its children, which become top-level. O(|b|).
+  // Dissolves top-level blossom `b` into its children, which become top-level. O(number of
+  // children): its vertices' top() is repaired lazily, or at once by settle_top().
   void dissolve(NodeId b);
+
+  // Sets the top() cache of every vertex of top-level node `node` to it, for a caller that
+  // passes over those vertices anyway (a lookup then costs no climb). O(|node|).
+  void settle_top(NodeId node) {
+    for_each_vertex(node, [&](Vertex v) { top_[v] = {node, version_[node]}; });
+  }
 
   // Dissolves top-level blossom `b` and, below it, every blossom with dual 0 whose parent is
   // dissolved here; the other children become top-level. Each vertex's top() is set once, to
@@ -114,7 +125,12 @@ class BlossomForest {
  private:
   std::size_t vertex_count_;
   std::vector<NodeId> parent_;        // per node; kNoNode at top level
-  mutable std::vector<NodeId> top_;   // per vertex: an ancestor-or-self of it (see top())
+  struct TopCache {
+    NodeId node;            // an ancestor-or-self of the vertex when cached
+    std::uint32_t version;  // version_[node] then
+  };
+  mutable std::vector<TopCache> top_;  // per vertex (see top())
+  std::vector<std::uint32_t> version_;  // per node: bumped whenever a blossom slot is freed
   std::vector<Vertex> base_;          // per node
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
   std::vector<Vertex> first_leaf_;    // per node
@@ -135,6 +151,7 @@ class BlossomForest {
   std::vector<NodeId> nest_;          // scratch for dissolve_unpriced_nest
 
   void free_slot(NodeId b);  // b's children are already detached
+  void reset_top_caches();  // every vertex's cache back to itself
 
   void check_loaded() const;
 };

@@ -2,12 +2,12 @@
 // key pushed is >= the last minimum taken, which holds for the dual-step bounds because the
 // running dual total only grows. Push is O(1); finding the minimum is amortised O(log K) for a
 // key range K, with sequential memory access instead of a binary heap's scattered swaps.
-// Among equal keys, lower kinds come first (kinds 0..3); an entry pushed late at the current key
+// Among equal keys, lower kinds come first (kinds 0..7); an entry pushed late at the current key
 // with a kind lower than the one just taken is due next (newest first). Entries of equal key and
 // kind come out first in, first out, so a search at one dual level grows breadth first and finds
 // short augmenting paths before long ones: a repair stays near its change. The order is a
 // heuristic for speed, not a guarantee the caller may rely on; it is fixed, so runs are
-// deterministic. Keys are >= 0.
+// deterministic. Keys are in [0, 2^57).
 #pragma once
 
 #include <algorithm>
@@ -25,7 +25,7 @@ class RadixHeap {
   struct Entry {
     Weight key;
     std::uint32_t id;
-    std::uint32_t kind;  // 0..3
+    std::uint32_t kind;  // 0..7
   };
 
   // Forgets every entry; the next keys must be >= floor >= 0.
@@ -33,17 +33,17 @@ class RadixHeap {
     for (auto& bucket : buckets_) bucket.clear();
     head_ = 0;
     late_.clear();
-    last_ = floor * 4;
+    last_ = floor * kKinds;
     size_ = 0;
   }
 
   bool empty() const { return size_ == 0; }
   std::uint64_t pushes() const { return pushes_; }
 
-  // Preconditions: key >= the key of the last top(); id < 2^30; kind < 4.
+  // Preconditions: key >= the key of the last top(); key < 2^57; kind < 8.
   void push(Weight key, std::uint32_t id, std::uint32_t kind) {
     // A kind that ranks before the one just taken, at the same key, is simply due next.
-    const Weight order = key * 4 + static_cast<Weight>(kind);
+    const Weight order = key * kKinds + static_cast<Weight>(kind);
     if (order < last_) {
       late_.push_back(Slot::make(last_, id, kind));
     } else {
@@ -116,21 +116,25 @@ class RadixHeap {
     }
   }
 
-  // 12 bytes an entry: the ordering key 4 * key + kind (raised to the floor when pushed late)
-  // in two halves, and the id with the kind in its low two bits.
+  static constexpr Weight kKinds = 8;
+
+  // 12 bytes an entry: the ordering key 8 * key + kind (raised to the floor when pushed late,
+  // so the kind is kept apart too) in two halves, the kind in the top three bits of the high
+  // half (an order is below 2^60), and the id.
   struct Slot {
     std::uint32_t order_low;
-    std::uint32_t order_high;
-    std::uint32_t tagged_id;
+    std::uint32_t order_high;  // bits 0..28: the order's bits 32..60; bits 29..31: the kind
+    std::uint32_t id;
 
     static Slot make(Weight order, std::uint32_t id, std::uint32_t kind) {
       const auto bits = static_cast<std::uint64_t>(order);
-      return {static_cast<std::uint32_t>(bits), static_cast<std::uint32_t>(bits >> 32), id << 2 | kind};
+      return {static_cast<std::uint32_t>(bits), static_cast<std::uint32_t>(bits >> 32) | kind << 29, id};
     }
     Weight order() const {
-      return static_cast<Weight>(std::uint64_t{order_high} << 32 | order_low);
+      return static_cast<Weight>(std::uint64_t{order_high & kHighMask} << 32 | order_low);
     }
-    Entry entry() const { return {order() / 4, tagged_id >> 2, tagged_id & 3}; }
+    Entry entry() const { return {order() / kKinds, id, order_high >> 29}; }
+    static constexpr std::uint32_t kHighMask = (std::uint32_t{1} << 29) - 1;
   };
   static constexpr std::size_t kKeptCapacity = 4096;
   std::array<std::vector<Slot>, 65> buckets_;

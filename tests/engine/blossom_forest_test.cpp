@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cstdint>
 #include <map>
+#include <random>
 #include <set>
 #include <utility>
 #include <vector>
@@ -535,6 +536,82 @@ TEST(BlossomForest, DeepNestDissolveUnpricedNestMatchesLevelByLevel) {
                                     tops.begin() + static_cast<std::ptrdiff_t>(i + 3));
     const std::vector<CycleEdge> edges(3, CycleEdge{0, 0});  // not read by these checks
     ASSERT_EQ(fast.make_blossom(three, edges), slow.make_blossom(three, edges)) << i;
+  }
+}
+
+}  // namespace
+}  // namespace yoke
+
+namespace yoke {
+namespace {
+
+// top() after dissolve() is repaired lazily (a cache names a slot and its version). Random
+// forms, dissolves (plain, along a path, and unpriced nests), settles and slot reuse, each
+// followed by lookups compared with a climb along parent(); slots are reused at once (the free
+// list is a stack), so stale caches naming a reused slot are exercised all the time.
+TEST(BlossomForest, LazyTopMatchesAClimbUnderRandomDissolves) {
+  constexpr std::size_t kVertices = 301;
+  for (std::uint64_t seed = 1; seed <= 6; ++seed) {
+    SCOPED_TRACE(seed);
+    std::mt19937_64 rng(seed);
+    BlossomForest forest(kVertices);
+    std::vector<Weight> dual2(kVertices, 0);
+    std::vector<Vertex> bases;
+    std::vector<NodeId> tops(kVertices);
+    for (Vertex v = 0; v < kVertices; ++v) tops[v] = v;
+    auto climb = [&](Vertex v) {
+      NodeId node = v;
+      while (forest.parent(node) != kNoNode) node = forest.parent(node);
+      return node;
+    };
+    auto refresh_tops = [&]() {
+      tops.clear();
+      for (Vertex v = 0; v < kVertices; ++v) {
+        if (climb(v) == v || forest.is_live_blossom(climb(v))) {
+          if (std::find(tops.begin(), tops.end(), climb(v)) == tops.end()) tops.push_back(climb(v));
+        }
+      }
+    };
+    for (int step = 0; step < 3000; ++step) {
+      const std::uint64_t roll = rng() % 10;
+      std::vector<NodeId> blossoms;
+      for (NodeId t : tops) {
+        if (!forest.is_vertex(t)) blossoms.push_back(t);
+      }
+      if (roll < 5 && tops.size() >= 5) {
+        const std::size_t k = rng() % 2 == 0 ? 3 : 5;
+        std::shuffle(tops.begin(), tops.end(), rng);
+        std::vector<NodeId> children(tops.end() - static_cast<std::ptrdiff_t>(k), tops.end());
+        std::vector<CycleEdge> edges;
+        for (std::size_t i = 0; i < k; ++i) {
+          edges.push_back({forest.base(children[i]), forest.base(children[(i + 1) % k])});
+        }
+        const NodeId b = forest.make_blossom(children, edges);
+        forest.set_dual2(b, rng() % 3 == 0 ? 0 : 2);
+      } else if (roll < 8 && !blossoms.empty()) {
+        forest.dissolve(blossoms[rng() % blossoms.size()]);
+      } else if (roll < 9 && !blossoms.empty()) {
+        const NodeId b = blossoms[rng() % blossoms.size()];
+        // the lowest blossom above a random vertex of b, dissolved with everything above it
+        Vertex v = kNoVertex;
+        std::size_t pick = rng() % forest.size(b);
+        forest.for_each_vertex(b, [&](Vertex x) {
+          if (pick-- == 0) v = x;
+        });
+        bases.clear();
+        forest.dissolve_path(forest.parent(v), dual2, bases);
+      } else if (!blossoms.empty()) {
+        const NodeId b = blossoms[rng() % blossoms.size()];
+        forest.set_dual2(b, 0);
+        forest.dissolve_unpriced_nest(b);
+      }
+      refresh_tops();
+      if (rng() % 4 == 0 && !tops.empty()) forest.settle_top(tops[rng() % tops.size()]);
+      for (int probe = 0; probe < 20; ++probe) {
+        const auto v = static_cast<Vertex>(rng() % kVertices);
+        ASSERT_EQ(forest.top(v), climb(v)) << "step " << step << ", vertex " << v;
+      }
+    }
   }
 }
 

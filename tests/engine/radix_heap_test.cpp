@@ -17,6 +17,8 @@ using Triple = std::tuple<Weight, std::uint32_t, std::uint32_t>;  // key, kind, 
 
 constexpr Weight kMaxKey = Weight{1} << 54;  // every dual, hence every key, stays below 2^54
 constexpr std::uint32_t kMaxId = (std::uint32_t{1} << 30) - 1;
+constexpr std::uint32_t kKinds = 8;
+constexpr Weight kLargestKey = (Weight{1} << 57) - 1;  // the precondition's bound
 
 Triple take(RadixHeap& heap) {
   const RadixHeap::Entry e = heap.top();
@@ -244,6 +246,30 @@ TEST(RadixHeap, CompactDropsExactlyTheRejected) {
   EXPECT_EQ(drain(heap), std::vector<Triple>{Triple(6002, 1, 3)});
 }
 
+// All eight kinds keep their rank at the largest keys allowed: the kind shares a word with the
+// key's high bits, so neither may spill into the other.
+TEST(RadixHeap, EightKindsAtTheLargestKeys) {
+  RadixHeap heap;
+  for (std::uint32_t kind = kKinds; kind-- > 0;) {
+    heap.push(kLargestKey, kMaxId - kind, kind);
+    heap.push(kLargestKey - 1, kind, kind);
+  }
+  std::vector<Triple> expected;
+  for (std::uint32_t kind = 0; kind < kKinds; ++kind) expected.emplace_back(kLargestKey - 1, kind, kind);
+  for (std::uint32_t kind = 0; kind < kKinds; ++kind) expected.emplace_back(kLargestKey, kind, kMaxId - kind);
+  EXPECT_EQ(drain(heap), expected);
+
+  // Pushed late at the current key, a low kind keeps its own kind (not the floor's).
+  heap.reset(kLargestKey);
+  heap.push(kLargestKey, 1, 6);
+  EXPECT_EQ(take(heap), Triple(kLargestKey, 6, 1));
+  heap.push(kLargestKey, 2, 0);
+  heap.push(kLargestKey, 3, 7);
+  EXPECT_EQ(take(heap), Triple(kLargestKey, 0, 2));
+  EXPECT_EQ(take(heap), Triple(kLargestKey, 7, 3));
+  EXPECT_TRUE(heap.empty());
+}
+
 // Keeps equal keys in a fixed order: two identical workloads give identical id sequences.
 std::vector<Triple> equal_key_run() {
   RadixHeap heap;
@@ -261,18 +287,18 @@ TEST(RadixHeap, EqualKeysInFixedOrder) {
   EXPECT_EQ(first.size(), 96u);
 }
 
-// Reference: an entry is due at rank max(4 key + kind, rank of the last entry taken) (ranks
+// Reference: an entry is due at rank max(8 key + kind, rank of the last entry taken) (ranks
 // order by key, then kind, with the clamp); the heap must return an entry of least rank. Ids
 // are unique, so each taken entry is checked against exactly what was pushed with that id.
 class ReferenceHeap {
  public:
   void reset(Weight floor) {
     by_rank_.clear();
-    floor_rank_ = 4 * floor;
+    floor_rank_ = kKinds * floor;
   }
-  Weight floor_key() const { return floor_rank_ / 4; }
+  Weight floor_key() const { return floor_rank_ / kKinds; }
   void push(Weight key, std::uint32_t id, std::uint32_t kind) {
-    const Weight rank = std::max(4 * key + static_cast<Weight>(kind), floor_rank_);
+    const Weight rank = std::max(kKinds * key + static_cast<Weight>(kind), floor_rank_);
     by_rank_[rank].emplace(id, Triple(key, kind, id));
   }
   // Checks that `got` is a pushed entry of least rank, and removes it.
@@ -331,7 +357,7 @@ void differential(std::uint64_t seed) {
     const std::uint64_t roll = rng() % 100;
     if (roll < 52) {
       const Weight key = random_key();
-      const auto kind = static_cast<std::uint32_t>(rng() % 4);
+      const auto kind = static_cast<std::uint32_t>(rng() % kKinds);
       const std::uint32_t id = next_id++ & kMaxId;
       heap.push(key, id, kind);
       ref.push(key, id, kind);
@@ -377,7 +403,7 @@ TEST(RadixHeap, MatchesReferenceWithHeavyTies) {
   for (int op = 0; op < 8000; ++op) {
     if (rng() % 2 == 0) {
       const Weight key = ref.floor_key() + static_cast<Weight>(rng() % 3 == 0 ? 1 : 0);
-      const auto kind = static_cast<std::uint32_t>(rng() % 4);
+      const auto kind = static_cast<std::uint32_t>(rng() % kKinds);
       heap.push(key, next_id, kind);
       ref.push(key, next_id, kind);
       ++next_id;

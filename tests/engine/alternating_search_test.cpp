@@ -1,0 +1,130 @@
+// The search's order at one dual level (engine/alternating_search.h): a tree that can end at the
+// level it has reached ends there, before it floods the rest of that level. Hand-built states
+// where the old order (every edge made tight at the level first) scanned every branch; counts,
+// not times, and every result certified.
+#include "engine/alternating_search.h"
+
+#include <gtest/gtest.h>
+
+#include <vector>
+
+#include "engine/certificate.h"
+
+namespace yoke {
+namespace {
+
+// A root r = 0 with doubled dual `root_dual2`, and `branches` branches hanging off it: r - x
+// (unmatched, slack2 `branch_slack2`), x = z matched, then z - c1 = c2 - c3 = c4 ... a chain of
+// `chain_pairs` matched pairs joined by tight unmatched edges. Every vertex but r has doubled
+// dual 20, so every edge past r - x is tight: once a branch is entered, the whole chain is at
+// the same dual level.
+struct Star {
+  std::vector<Edge> edges;
+  std::vector<Vertex> mate;
+  std::vector<Weight> dual2;
+};
+
+Star star(std::size_t branches, std::size_t chain_pairs, Weight root_dual2, Weight branch_slack2) {
+  Star s;
+  s.mate.push_back(kNoVertex);
+  s.dual2.push_back(root_dual2);
+  auto add_vertex = [&]() {
+    s.mate.push_back(kNoVertex);
+    s.dual2.push_back(20);
+    return static_cast<Vertex>(s.mate.size() - 1);
+  };
+  auto match = [&](Vertex a, Vertex b) {
+    s.mate[a] = b;
+    s.mate[b] = a;
+    s.edges.push_back({a, b, 20});
+  };
+  // slack2 of r - x = root_dual2 + 20 - 2 w
+  const Weight branch_weight = (root_dual2 + 20 - branch_slack2) / 2;
+  for (std::size_t i = 0; i < branches; ++i) {
+    const Vertex x = add_vertex();
+    const Vertex z = add_vertex();
+    s.edges.push_back({0, x, branch_weight});
+    match(x, z);
+    Vertex end = z;
+    for (std::size_t j = 0; j < chain_pairs; ++j) {
+      const Vertex c1 = add_vertex();
+      const Vertex c2 = add_vertex();
+      s.edges.push_back({end, c1, 20});
+      match(c1, c2);
+      end = c2;
+    }
+  }
+  return s;
+}
+
+struct Solved {
+  SolveStats stats;
+  std::vector<Vertex> mate;
+  CheckResult check;
+};
+
+Solved search_from_root(const Star& s) {
+  const Graph graph = Graph::from_edges(s.mate.size(), s.edges);
+  MatchingState state(s.mate.size());
+  for (Vertex v = 0; v < s.mate.size(); ++v) {
+    state.mate.set(v, s.mate[v]);
+    state.dual2[v] = s.dual2[v];
+  }
+  AlternatingSearch search(graph, 0, state);
+  search.add_root(0);
+  search.run();
+  Certificate cert;
+  cert.mate = state.mate.values();
+  cert.vertex_dual2 = state.dual2;
+  cert.blossoms = state.forest.certificate_blossoms({}, s.mate.size());
+  return {search.stats(), state.mate.values(), check_certificate(graph, cert)};
+}
+
+// r's dual reaches 0 at delta 2, when every r - x edge turns tight too: the tree ends with r
+// exposed at dual 0 and never enters a branch.
+TEST(AlternatingSearchOrder, DualReachingZeroEndsTheTreeBeforeTheLevelFloods) {
+  const Star s = star(/*branches=*/40, /*chain_pairs=*/25, /*root_dual2=*/2, /*branch_slack2=*/2);
+  const Solved solved = search_from_root(s);
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], kNoVertex);
+  EXPECT_EQ(solved.stats.augmentations, 0u);
+  EXPECT_EQ(solved.stats.scans, 1u);  // r alone; flooding the level scanned all 40 x 26 evens
+}
+
+// The same star plus an exposed vertex e at dual 0, whose edge to r turns tight at the same
+// level as the branches (r's dual reaches 0 only later): the tree augments into e before it
+// grows into any branch.
+TEST(AlternatingSearchOrder, ExposedVertexAtTheLevelIsTakenBeforeTheBranches) {
+  Star s = star(/*branches=*/40, /*chain_pairs=*/25, /*root_dual2=*/4, /*branch_slack2=*/2);
+  const auto e = static_cast<Vertex>(s.mate.size());
+  s.mate.push_back(kNoVertex);
+  s.dual2.push_back(0);
+  s.edges.push_back({0, e, 1});  // slack2 = 4 + 0 - 2 = 2, listed after every branch
+  const Solved solved = search_from_root(s);
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], e);
+  EXPECT_EQ(solved.stats.augmentations, 1u);
+  EXPECT_EQ(solved.stats.scans, 1u);
+}
+
+// A matched vertex at dual 0 behind a branch ends the tree as soon as it turns even: the edge
+// into its mate goes before the other branches' edges at the same level.
+TEST(AlternatingSearchOrder, ZeroDualMateAtTheLevelIsTakenBeforeTheBranches) {
+  Star s = star(/*branches=*/40, /*chain_pairs=*/25, /*root_dual2=*/4, /*branch_slack2=*/2);
+  const auto x = static_cast<Vertex>(s.mate.size());
+  const auto z = x + 1;
+  s.mate.push_back(z);
+  s.mate.push_back(x);
+  s.dual2.push_back(20);
+  s.dual2.push_back(0);
+  s.edges.push_back({x, z, 10});  // tight: 20 + 0 = 2 x 10
+  s.edges.push_back({0, x, 11});  // slack2 = 4 + 20 - 22 = 2, listed after every branch
+  const Solved solved = search_from_root(s);
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], x);
+  EXPECT_EQ(solved.mate[z], kNoVertex);
+  EXPECT_EQ(solved.stats.scans, 2u);  // r, then z (even at dual 0: the tree ends)
+}
+
+}  // namespace
+}  // namespace yoke
