@@ -1,14 +1,14 @@
-// The search's order at one dual level (engine/alternating_search.h): a tree that can end at the
+// The search's order at one dual level (engine/solver/alternating_search.h): a tree that can end at the
 // level it has reached ends there, before it floods the rest of that level. Hand-built states
 // where the old order (every edge made tight at the level first) scanned every branch; counts,
 // not times, and every result certified.
-#include "engine/alternating_search.h"
+#include "solver/alternating_search.h"
 
 #include <gtest/gtest.h>
 
 #include <vector>
 
-#include "engine/certificate.h"
+#include "yoke/certificate.h"
 
 namespace yoke {
 namespace {
