@@ -22,7 +22,7 @@
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/journal/journal_reader.h"
 #include "daemon/journal/window_regrouper.h"
-#include "daemon/service/commit_groups.h"
+#include "daemon/recovery/commit_groups.h"
 #include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/snapshots/snapshot_directory.h"

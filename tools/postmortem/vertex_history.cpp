@@ -5,7 +5,7 @@
 
 #include "tools/formats/event_script_writer.h"
 
-namespace yoke::cli {
+namespace yoke::postmortem {
 namespace {
 
 std::string point_text(HistoryUnit unit, std::uint64_t at) {
@@ -321,4 +321,4 @@ Json history_json(const VertexHistory& history, const std::optional<std::string>
               {"end", state_json(history.end)}};
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::postmortem
