@@ -34,7 +34,7 @@ struct RestoredPool {
 };
 
 struct ChosenSnapshot {
-  storage::Position position = 0;  // the store's name for it: it covers the groups below
+  storage::Position position = 0;   // the store's name for it: it covers the groups below
   std::vector<RestoredPool> pools;  // in the snapshot's order
 };
 

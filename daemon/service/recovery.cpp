@@ -30,7 +30,8 @@ storage::Position load_newest_snapshot(const storage::CommitLogView& log,
                                        const std::string& pool, ServiceState& state,
                                        RecoveryReport& report) {
   std::vector<SkippedSnapshot> skipped;
-  std::optional<ChosenSnapshot> chosen = choose_snapshot(log, snapshots, {pool, {}, false}, skipped);
+  std::optional<ChosenSnapshot> chosen =
+      choose_snapshot(log, snapshots, {pool, {}, false}, skipped);
   for (SkippedSnapshot& skip : skipped) report.skipped.push_back(std::move(skip.why));
   if (!chosen) return 0;
   for (RestoredPool& restored : chosen->pools) {

@@ -10,8 +10,8 @@
 #include "engine/pool.h"
 #include "run_yoke.h"
 #include "tools/cli/proto_json.h"
-#include "tools/postmortem/vertex_history.h"
 #include "tools/formats/event_script_writer.h"
+#include "tools/postmortem/vertex_history.h"
 
 namespace yoke::cli {
 namespace {

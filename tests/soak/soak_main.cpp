@@ -29,9 +29,9 @@
 #include "engine/certificate.h"
 #include "engine/pool.h"
 #include "engine/solve.h"
-#include "tools/postmortem/certified_matching.h"
 #include "tools/cli/number_options.h"
 #include "tools/graphgen/event_stream.h"
+#include "tools/postmortem/certified_matching.h"
 
 namespace {
 

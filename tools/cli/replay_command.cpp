@@ -116,8 +116,7 @@ class ReportObserver : public postmortem::CommitObserver {
       : report_(std::move(source)), path_(std::move(path)) {}
   bool committed(const Pool& pool, const postmortem::CommitStep& step) override {
     if (step.commit.wall_time_us) report_.note_wall_time(*step.commit.wall_time_us);
-    report_.record(pool, step.result, step.commit.events.size(), step.repair_ns,
-                   step.commit.seq);
+    report_.record(pool, step.result, step.commit.events.size(), step.repair_ns, step.commit.seq);
     return true;
   }
   void finished(const Pool&, std::uint64_t) override { report_.write(path_); }
@@ -176,8 +175,7 @@ int print_commits(const ReplayOptions& options, postmortem::CommitSource& source
 int run_script_replay(const ReplayOptions& options) {
   const Mode mode = parse_mode(options.mode);
   const formats::EventScript script = load_event_script(options.script_path);
-  postmortem::ScriptSource source(script, display_name(options.script_path), mode,
-                                  options.until);
+  postmortem::ScriptSource source(script, display_name(options.script_path), mode, options.until);
   Pool& pool = source.start();
   return print_commits(options, source, pool,
                        ReportSource{options.script_path, false, options.pool, "event script"});
@@ -215,8 +213,9 @@ int run_checked_replay(const ReplayOptions& options) {
   if (replays_a_log(options)) return run_journal_replay(options);
   if (options.all_pools) throw CliError("--all-pools applies to a daemon's log, not a script");
   if (options.from != 0) {
-    throw CliError("--from applies to a daemon's log (a data directory or --cluster), not a "
-                   "script");
+    throw CliError(
+        "--from applies to a daemon's log (a data directory or --cluster), not a "
+        "script");
   }
   return run_script_replay(options);
 }

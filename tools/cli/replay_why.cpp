@@ -17,6 +17,7 @@
 #include "replay_log.h"
 #include "tools/postmortem/replay_driver.h"
 #include "tools/postmortem/script_source.h"
+#include "tools/postmortem/vertex_explanations.h"
 #include "tools/postmortem/vertex_history.h"
 
 namespace yoke::cli {
@@ -55,12 +56,13 @@ struct WhySource {
 
 // Prints the answers once the replay has stopped at `at`.
 void print_answers(const ReplayOptions& options, const WhySource& source,
-                   const postmortem::HistoryBuilder& histories, const Pool& pool,
-                   std::uint64_t at) {
+                   const postmortem::HistoryBuilder& histories,
+                   const postmortem::VertexExplanations& explanations, std::uint64_t at) {
   std::ostream& out = std::cout;
   const std::string point =
-      at == 0 ? std::string("the start")
-              : (source.unit == postmortem::HistoryUnit::seq ? "seq " : "commit ") + std::to_string(at);
+      at == 0
+          ? std::string("the start")
+          : (source.unit == postmortem::HistoryUnit::seq ? "seq " : "commit ") + std::to_string(at);
   bool first = true;
   for (const postmortem::VertexHistory& history : histories.histories()) {
     if (options.json) {
@@ -71,8 +73,9 @@ void print_answers(const ReplayOptions& options, const WhySource& source,
     }
     first = false;
   }
-  for (const VertexKey vertex : options.explain_vertices) {
-    const auto explanation = pool.explain(vertex, options.alternatives);
+  for (const postmortem::VertexAnswer& answer : explanations.answers()) {
+    const VertexKey vertex = answer.vertex;
+    const std::optional<VertexExplanation>& explanation = answer.explanation;
     if (options.json) {
       Json head{{"kind", "explanation"},
                 {"pool", source.pool ? Json(*source.pool) : Json(nullptr)},
@@ -106,13 +109,15 @@ std::ostream& note_stream(const ReplayOptions& options) {
   return options.json ? std::cerr : std::cout;
 }
 
-// Replays `source` from its start with the histories asked for, then prints the answers.
-int answer(const ReplayOptions& options, const WhySource& where,
-           postmortem::CommitSource& source, Pool& pool) {
+// Replays `source` from its start with the histories and explanations asked for as its
+// observers, then prints the answers.
+int answer_questions(const ReplayOptions& options, const WhySource& where,
+                     postmortem::CommitSource& source, Pool& pool) {
   postmortem::HistoryBuilder histories(options.history_vertices, source.unit());
-  std::vector<postmortem::CommitObserver*> observers{&histories};
+  postmortem::VertexExplanations explanations(options.explain_vertices, options.alternatives);
+  std::vector<postmortem::CommitObserver*> observers{&histories, &explanations};
   const postmortem::ReplayOutcome outcome = postmortem::replay(source, pool, observers);
-  print_answers(options, where, histories, pool, outcome.at);
+  print_answers(options, where, histories, explanations, outcome.at);
   return kExitOk;
 }
 
@@ -122,8 +127,8 @@ int run_script(const ReplayOptions& options) {
   const std::string name = display_name(options.script_path);
   postmortem::ScriptSource source(script, name, mode, options.until);
   Pool& pool = source.start();
-  return answer(options, WhySource{postmortem::HistoryUnit::commit, std::nullopt, name}, source,
-                pool);
+  return answer_questions(options, WhySource{postmortem::HistoryUnit::commit, std::nullopt, name},
+                          source, pool);
 }
 
 int run_journal(const ReplayOptions& options) {
@@ -134,9 +139,9 @@ int run_journal(const ReplayOptions& options) {
     note_stream(options) << "note: starting from the snapshot at seq " << source->start_point()
                          << "\n";
   }
-  return answer(options,
-                WhySource{postmortem::HistoryUnit::seq, options.pool, "pool " + options.pool},
-                *source, pool);
+  return answer_questions(
+      options, WhySource{postmortem::HistoryUnit::seq, options.pool, "pool " + options.pool},
+      *source, pool);
 }
 
 }  // namespace

@@ -34,7 +34,7 @@ struct ReplayedCommit {
   std::uint64_t first = 0;  // journal: seq of the commit's first record; script: the commit
   std::uint64_t at = 0;     // journal: seq of its last record; script: the commit number
   std::span<const Event> events;
-  std::function<EventOrigin(std::size_t)> origin;  // where events[i] came from
+  std::function<EventOrigin(std::size_t)> origin;   // where events[i] came from
   std::optional<std::uint64_t> seq = std::nullopt;  // journal: the pool's seq after it (printed)
   // journal: when the daemon wrote its last record
   std::optional<std::uint64_t> wall_time_us = std::nullopt;

@@ -186,8 +186,8 @@ const ReplayedCommit* LogSource::next() {
     }
     return out;
   };
-  current_ = ReplayedCommit{first_seq,    last_seq, group.events, origin,
-                            last_seq,     group.records.back().wall_time_unix_us()};
+  current_ = ReplayedCommit{first_seq, last_seq, group.events,
+                            origin,    last_seq, group.records.back().wall_time_unix_us()};
   return &current_;
 }
 

@@ -55,9 +55,8 @@ class LogSource : public CommitSource {
   // retired and created again, a damaged tail not replayed, groups the log does not count,
   // snapshots passed over) go to `warnings`; the note of a stop inside a commit to `notes`.
   // Throws ReplayError when the log cannot be read.
-  LogSource(storage::CommitLogView& log, const storage::SnapshotStore* snapshots,
-            LogNames names, LogReplayOptions options, std::ostream& notes,
-            std::ostream& warnings);
+  LogSource(storage::CommitLogView& log, const storage::SnapshotStore* snapshots, LogNames names,
+            LogReplayOptions options, std::ostream& notes, std::ostream& warnings);
 
   HistoryUnit unit() const override { return HistoryUnit::seq; }
   // With options.from > 0, the newest snapshot of the pool at or before it that the log

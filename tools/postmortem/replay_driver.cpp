@@ -6,8 +6,7 @@
 
 namespace yoke::postmortem {
 
-ReplayOutcome replay(CommitSource& source, Pool& pool,
-                     std::span<CommitObserver* const> observers) {
+ReplayOutcome replay(CommitSource& source, Pool& pool, std::span<CommitObserver* const> observers) {
   ReplayOutcome outcome;
   outcome.at = source.start_point();
   for (CommitObserver* observer : observers) {
@@ -19,10 +18,10 @@ ReplayOutcome replay(CommitSource& source, Pool& pool,
     }
     const auto start = std::chrono::steady_clock::now();
     const CommitResult result = pool.commit(commit->events);
-    const auto repair_ns = static_cast<std::uint64_t>(
-        std::chrono::duration_cast<std::chrono::nanoseconds>(std::chrono::steady_clock::now() -
-                                                             start)
-            .count());
+    const auto repair_ns =
+        static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::nanoseconds>(
+                                       std::chrono::steady_clock::now() - start)
+                                       .count());
     ++outcome.commits;
     outcome.at = commit->at;
     const CommitStep step{outcome.commits, *commit, result, repair_ns};

@@ -14,9 +14,9 @@
 namespace yoke::postmortem {
 
 struct ReplayOutcome {
-  bool completed = true;    // false: an observer stopped the replay
+  bool completed = true;  // false: an observer stopped the replay
   std::uint64_t commits = 0;
-  std::uint64_t at = 0;     // the point of the last commit replayed (the start's when none)
+  std::uint64_t at = 0;  // the point of the last commit replayed (the start's when none)
 };
 
 // Replays `source` into `pool` (the pool its start() returned; call that first), telling

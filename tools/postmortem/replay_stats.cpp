@@ -46,12 +46,12 @@ void ReplayStats::finished(const Pool&, std::uint64_t) {
        << percentile(repair_us_, 100) << '\n';
   out_ << "stats searches_per_commit mean " << mean(searches_) << " max "
        << percentile(searches_, 100) << '\n';
-  out_ << "stats touched_per_commit mean " << mean(touched_) << " p99 "
-       << percentile(touched_, 99) << " max " << percentile(touched_, 100) << '\n';
-  const double per_second =
-      events_ == 0 ? 0.0
-                   : static_cast<double>(events_) * 1e9 /
-                         static_cast<double>(std::max<std::uint64_t>(repair_ns_, 1));
+  out_ << "stats touched_per_commit mean " << mean(touched_) << " p99 " << percentile(touched_, 99)
+       << " max " << percentile(touched_, 100) << '\n';
+  const double per_second = events_ == 0
+                                ? 0.0
+                                : static_cast<double>(events_) * 1e9 /
+                                      static_cast<double>(std::max<std::uint64_t>(repair_ns_, 1));
   out_ << "stats events_per_second " << std::llround(per_second) << '\n';
 }
 

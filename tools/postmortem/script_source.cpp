@@ -20,7 +20,7 @@ PoolLimits limits_for(const formats::EventScript& script) {
 
 // The batches a replay commits: all of them, or the first `until` (until > 0).
 std::span<const formats::ScriptBatch> batches_until(const formats::EventScript& script,
-                                                     std::uint64_t until) {
+                                                    std::uint64_t until) {
   std::span<const formats::ScriptBatch> batches(script.batches);
   if (until != 0 && until < batches.size()) return batches.first(static_cast<std::size_t>(until));
   return batches;

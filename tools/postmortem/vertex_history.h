@@ -112,8 +112,8 @@ class HistoryBuilder : public CommitObserver {
  private:
   VertexHistory* find(VertexKey key);
   ChangeCause cause_of(const ReplayedCommit& commit, const CommitResult& result,
-                     const std::vector<EventCause>& causes, std::size_t changes,
-                     std::size_t i) const;
+                       const std::vector<EventCause>& causes, std::size_t changes,
+                       std::size_t i) const;
   static VertexState state_of(const Pool& pool, VertexKey key, std::uint64_t at);
 
   std::vector<VertexHistory> histories_;
