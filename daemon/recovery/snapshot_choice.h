@@ -2,7 +2,8 @@
 // alike: the first of the store's snapshots (newest first, or oldest first) whose position the
 // log still holds the groups from, that reads back whole, whose wanted records restore and
 // pass restore_checked, and that the caller's wish accepts. The others are passed over, each
-// with its reason.
+// with its reason. Recovery asks for the newest holding every pool (or one pool); a replay
+// adds its own bounds (a seq at most --from, the pool's current life).
 #pragma once
 
 #include <functional>
@@ -26,6 +27,12 @@ struct SnapshotWish {
   // life of the pool). Empty: any record.
   std::function<bool(storage::Position, const v1::SnapshotRecord&)> accepts;
   bool oldest_first = false;  // else newest first
+  // With a pool, when the caller has read the pool's groups: the seq of the first one the log
+  // holds (0: none). A snapshot whose record reaches it (record seq + 1 >= it) is continued by
+  // the log even when first_position(pool) is above the snapshot's position: a log that stores
+  // each pool apart (a stream's subject) starts a pool's part at its first group, which may
+  // come after other pools' groups. Without it, first_position alone decides.
+  std::optional<std::uint64_t> first_logged_seq = std::nullopt;
 };
 
 struct RestoredPool {

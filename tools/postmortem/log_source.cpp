@@ -118,6 +118,7 @@ std::unique_ptr<Pool> LogSource::restore_snapshot(std::uint64_t most, bool newes
   daemon::SnapshotWish wish;
   wish.pool = options_.pool;
   wish.oldest_first = !newest;
+  wish.first_logged_seq = log_first;
   wish.accepts = [&](storage::Position position, const v1::SnapshotRecord& record) {
     // A snapshot from before the pool's last retirement holds an earlier life.
     if (retired_at && position <= retired_at->first) return false;
