@@ -16,7 +16,7 @@
 #include "engine/pool.h"
 #include "run_yoke.h"
 
-namespace yoke::cli::testing {
+namespace yoke::cli::testing::journal_gap {
 namespace {
 
 // A record of pool "default" at `seq` setting edge {seq, seq + 1} to weight seq + 1 (the
@@ -105,4 +105,4 @@ TEST(ReplayGap, AJournalWithoutTheFirstRecordAndNoSnapshotIsRefused) {
 }
 
 }  // namespace
-}  // namespace yoke::cli::testing
+}  // namespace yoke::cli::testing::journal_gap

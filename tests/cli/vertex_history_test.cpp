@@ -13,7 +13,7 @@
 #include "tools/formats/event_script_writer.h"
 #include "tools/postmortem/vertex_history.h"
 
-namespace yoke::cli {
+namespace yoke::cli::history_tests {
 namespace {
 
 // The history builder is the postmortem library's (tools/postmortem).
@@ -265,4 +265,4 @@ TEST(ReplayWhy, ScriptHistoryAndExplanation) {
 }
 
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::cli::history_tests
