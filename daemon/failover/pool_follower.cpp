@@ -3,7 +3,7 @@
 #include <chrono>
 #include <utility>
 
-#include "daemon/service/commit_groups.h"
+#include "daemon/recovery/commit_groups.h"
 #include "daemon/service/diff_message.h"
 #include "daemon/service/recovery.h"
 #include "daemon/storage/storage_error.h"

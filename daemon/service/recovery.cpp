@@ -4,7 +4,8 @@
 #include <memory>
 #include <utility>
 
-#include "commit_groups.h"
+#include "daemon/recovery/group_sequence.h"
+#include "daemon/recovery/snapshot_choice.h"
 #include "snapshot_capture.h"
 #include "wire_types.h"
 
@@ -20,55 +21,34 @@ std::unique_ptr<Pool> pool_from_record(const v1::JournalRecord& first) {
   return pool;
 }
 
-// Loads one snapshot into `state` (only the record of `only_pool` when it is not empty), or
-// throws SnapshotDamage (state untouched then): also when it holds no record of `only_pool`.
-void load_snapshot(const storage::SnapshotContents& contents, const std::string& only_pool,
-                   ServiceState& state) {
-  std::vector<std::pair<const v1::SnapshotRecord*, std::unique_ptr<Pool>>> pools;
-  for (const v1::SnapshotRecord& record : contents.pools) {
-    if (!only_pool.empty() && record.pool() != only_pool) continue;
-    pools.emplace_back(&record, restore_checked(record));
-  }
-  if (!only_pool.empty() && pools.empty()) {
-    throw SnapshotDamage("the snapshot at " + std::to_string(contents.position) +
-                         " holds no pool " + only_pool);
-  }
-  for (auto& [record, pool] : pools) {
-    state.registry.put(record->pool(), std::move(pool));
-    PoolProgress& progress = state.progress[record->pool()];
-    progress.seq = record->seq();
-    progress.last_snapshot_seq = record->seq();
-    // The snapshot covers the log below its position.
-    progress.last_position = contents.position > 0 ? contents.position - 1 : 0;
-    for (const v1::ClientMark& mark : record->clients()) {
-      state.ledger.restore(record->pool(), mark.client_id(),
-                           retry_mark_from_snapshot(mark, record->wall_time_unix_us()));
-    }
-  }
-}
-
 // Loads the newest snapshot of the store that restores, whose position the log still holds
-// groups from, and (when `pool` is not empty) that holds `pool`. Returns its position, 0 when
-// none qualifies; why newer ones were passed over goes to report.skipped.
+// groups from, and (when `pool` is not empty) that holds `pool` (choose_snapshot, the choice
+// `yoke replay` makes too). Returns its position, 0 when none qualifies; why newer ones were
+// passed over goes to report.skipped.
 storage::Position load_newest_snapshot(const storage::CommitLogView& log,
                                        const storage::SnapshotStore& snapshots,
                                        const std::string& pool, ServiceState& state,
                                        RecoveryReport& report) {
-  for (const storage::Position candidate : snapshots.positions()) {
-    try {
-      if (log.first_position(pool) > candidate) {
-        throw SnapshotDamage("the journal no longer holds the records after it");
-      }
-      load_snapshot(snapshots.read(candidate), pool, state);
-      report.snapshot_position = candidate;
-      return candidate;
-    } catch (const SnapshotDamage& damage) {
-      report.skipped.push_back(damage.what());
-    } catch (const storage::LogError& error) {
-      report.skipped.push_back(error.what());
+  std::vector<SkippedSnapshot> skipped;
+  std::optional<ChosenSnapshot> chosen =
+      choose_snapshot(log, snapshots, {pool, {}, false}, skipped);
+  for (SkippedSnapshot& skip : skipped) report.skipped.push_back(std::move(skip.why));
+  if (!chosen) return 0;
+  for (RestoredPool& restored : chosen->pools) {
+    const v1::SnapshotRecord& record = restored.record;
+    state.registry.put(record.pool(), std::move(restored.pool));
+    PoolProgress& progress = state.progress[record.pool()];
+    progress.seq = record.seq();
+    progress.last_snapshot_seq = record.seq();
+    // The snapshot covers the log below its position.
+    progress.last_position = chosen->position > 0 ? chosen->position - 1 : 0;
+    for (const v1::ClientMark& mark : record.clients()) {
+      state.ledger.restore(record.pool(), mark.client_id(),
+                           retry_mark_from_snapshot(mark, record.wall_time_unix_us()));
     }
   }
-  return 0;
+  report.snapshot_position = chosen->position;
+  return chosen->position;
 }
 
 // Applies every group the log holds from `from` on (of `pool` only when it is not empty).
@@ -101,36 +81,24 @@ void as_recovery(Step&& step) {
 
 std::optional<CommitResult> apply_commit_group(const CommitGroup& group, ServiceState& state) {
   PoolProgress& progress = state.progress[group.pool];
+  Pool* pool = state.registry.find(group.pool);
+  const GroupStep step = place_group(group, progress.seq, pool != nullptr);
+  if (step == GroupStep::held) return std::nullopt;  // the state holds it already
+  if (step == GroupStep::retire) {
+    // The pool ends here, as PoolService::apply() ended it: the window's earlier batches
+    // (checked when they were accepted) change nothing that stays.
+    take_pool_state(state, group.pool);
+    return CommitResult{};
+  }
+  if (pool == nullptr) {
+    state.registry.put(group.pool, pool_from_record(group.records.front()));
+    pool = state.registry.find(group.pool);
+  }
   const auto fail = [&group](const std::string& why) {
     return RecoveryError("journal window " + std::to_string(group.position) + ", pool " +
                          group.pool + ": " + why);
   };
   const std::uint64_t first_seq = group.records.front().seq();
-  if (group.records.back().seq() <= progress.seq) return std::nullopt;  // the state holds it already
-  if (first_seq != progress.seq + 1) {
-    throw fail("record seq " + std::to_string(first_seq) + " does not follow seq " +
-               std::to_string(progress.seq));
-  }
-  for (std::size_t i = 0; i < group.records.size(); ++i) {
-    if (group.records[i].seq() != first_seq + i) throw fail("sequence numbers have a gap");
-    if (group.records[i].retired() && i + 1 != group.records.size()) {
-      throw fail("the retirement at seq " + std::to_string(group.records[i].seq()) +
-                 " does not end its window");
-    }
-  }
-  Pool* pool = state.registry.find(group.pool);
-  if (group.records.back().retired()) {
-    // The pool ends here, as PoolService::apply() ended it: the window's earlier batches
-    // (checked when they were accepted) change nothing that stays.
-    if (pool == nullptr && first_seq != 1) throw fail("the pool's earlier records are missing");
-    take_pool_state(state, group.pool);
-    return CommitResult{};
-  }
-  if (pool == nullptr) {
-    if (first_seq != 1) throw fail("the pool's earlier records are missing");
-    state.registry.put(group.pool, pool_from_record(group.records.front()));
-    pool = state.registry.find(group.pool);
-  }
   if (auto error = pool->check(group.events)) {
     throw fail("event " + std::to_string(error->index) + " does not apply: " + error->message);
   }

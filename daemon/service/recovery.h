@@ -1,28 +1,23 @@
 // Rebuilding the service after a start or a crash: the newest snapshot in the store that can
 // be trusted, then every commit group of the log after it, committed as the daemon committed
-// it (commit_groups.h). Talks only to the storage interfaces (daemon/storage/).
+// it. Talks only to the storage interfaces (daemon/storage/). The rules it reads the log by
+// (commit groups, the seq rule, the choice of snapshot, the restored pool's check) are in
+// daemon/recovery/, shared with `yoke replay`.
 #pragma once
 
 #include <cstdint>
 #include <optional>
-#include <stdexcept>
 #include <string>
 #include <vector>
 
-#include "commit_groups.h"
 #include "daemon/config/daemon_config.h"
+#include "daemon/recovery/commit_groups.h"
+#include "daemon/recovery/recovery_error.h"
 #include "daemon/storage/commit_log.h"
 #include "daemon/storage/snapshot_store.h"
 #include "pool_service.h"
 
 namespace yoke::daemon {
-
-// The journal cannot be replayed: a record does not apply, a sequence number is missing, or
-// no usable snapshot covers the records the journal has dropped. The daemon must not start.
-class RecoveryError : public std::runtime_error {
- public:
-  using std::runtime_error::runtime_error;
-};
 
 struct RecoveryReport {
   std::optional<std::uint64_t> snapshot_position;  // journal position of the snapshot loaded

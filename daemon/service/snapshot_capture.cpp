@@ -4,7 +4,6 @@
 #include <chrono>
 #include <optional>
 
-#include "yoke/certificate.h"
 #include "unix_time.h"
 #include "wire_types.h"
 
@@ -95,30 +94,6 @@ RetryMark retry_mark_from_snapshot(const v1::ClientMark& mark, std::uint64_t sna
                        : out.recent.front().batch_number;
   out.wall_time_us = mark.wall_time_unix_us() != 0 ? mark.wall_time_unix_us() : snapshot_wall_time;
   return out;
-}
-
-std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record) {
-  const auto damaged = [&record](const std::string& why) {
-    return SnapshotDamage("pool " + record.pool() + " at seq " + std::to_string(record.seq()) +
-                          ": " + why);
-  };
-  if (record.engine_state_format() != kEngineStateFormat) {
-    throw damaged("unknown engine state format " + std::to_string(record.engine_state_format()));
-  }
-  std::unique_ptr<Pool> pool;
-  try {
-    pool = Pool::restore(record.engine_state());
-  } catch (const InputError& error) {
-    throw damaged(std::string("the engine state does not restore: ") + error.what());
-  }
-  const PoolExport exported = pool->export_certified();
-  const CheckResult check = check_certificate(exported.graph, exported.certificate);
-  if (!check.ok) throw damaged("the restored certificate fails: " + check.failure);
-  if (pool->weight() != record.weight() || pool->pairs() != record.pairs() ||
-      pool->vertex_count() != record.vertices() || pool->edge_count() != record.edges()) {
-    throw damaged("the restored pool's weight, pairs or size disagree with the record");
-  }
-  return pool;
 }
 
 }  // namespace yoke::daemon

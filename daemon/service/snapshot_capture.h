@@ -1,5 +1,5 @@
-// A snapshot's contents taken from the running service, and the check that a snapshot's
-// contents can be trusted when they are read back.
+// A snapshot's contents taken from the running service. The check that a snapshot's contents
+// can be trusted when they are read back (restore_checked) is in daemon/recovery/.
 #pragma once
 
 #include <cstdint>
@@ -8,17 +8,13 @@
 #include <string>
 #include <vector>
 
+#include "daemon/recovery/snapshot_restore.h"
 #include "daemon/storage/storage_error.h"
 #include "yoke/pool.h"
 #include "pool_progress.h"
 #include "pool_service.h"
 
 namespace yoke::daemon {
-
-using SnapshotDamage = storage::SnapshotDamage;
-
-// The engine_state encoding this daemon writes and reads (Pool::save).
-inline constexpr std::uint32_t kEngineStateFormat = 1;
 
 // One record per pool that has applied a batch, in name order, with its retry marks. Call
 // between windows (nothing pending). O(state size).
@@ -39,9 +35,5 @@ std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
 std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,
                                             std::uint64_t durable_seq);
 RetryMark retry_mark_from_snapshot(const v1::ClientMark& mark, std::uint64_t snapshot_wall_time);
-
-// A pool rebuilt from a SnapshotRecord whose certificate holds and whose weight, pairs,
-// vertices and edges agree with the record. Throws SnapshotDamage saying what failed.
-std::unique_ptr<Pool> restore_checked(const v1::SnapshotRecord& record);
 
 }  // namespace yoke::daemon

@@ -10,11 +10,23 @@
 #include "yoke/pool.h"
 #include "run_yoke.h"
 #include "tools/cli/proto_json.h"
-#include "tools/cli/vertex_history.h"
 #include "tools/formats/event_script_writer.h"
+#include "tools/postmortem/vertex_history.h"
 
-namespace yoke::cli {
+namespace yoke::cli::history_tests {
 namespace {
+
+// The history builder is the postmortem library's (tools/postmortem).
+using postmortem::ChangeCause;
+using postmortem::EventOrigin;
+using postmortem::history_json;
+using postmortem::history_text;
+using postmortem::HistoryBuilder;
+using postmortem::HistoryChange;
+using postmortem::HistoryEntry;
+using postmortem::HistoryUnit;
+using postmortem::ReplayedCommit;
+using postmortem::VertexHistory;
 
 Event set(VertexKey u, VertexKey v, Weight w) { return Event{EventKind::set_edge, u, v, w}; }
 Event remove(VertexKey u) { return Event{EventKind::remove_vertex, u, 0, 0}; }
@@ -253,4 +265,4 @@ TEST(ReplayWhy, ScriptHistoryAndExplanation) {
 }
 
 }  // namespace
-}  // namespace yoke::cli
+}  // namespace yoke::cli::history_tests

@@ -29,9 +29,9 @@
 #include "yoke/certificate.h"
 #include "yoke/pool.h"
 #include "yoke/solve.h"
-#include "tools/cli/certified_matching.h"
 #include "tools/cli/number_options.h"
 #include "tools/graphgen/event_stream.h"
+#include "tools/postmortem/certified_matching.h"
 
 namespace {
 
@@ -62,7 +62,7 @@ std::optional<std::string> check_pool(const Pool& pool, const CommitResult& resu
   const CheckResult verdict = check_certificate(exported.graph, exported.certificate);
   if (!verdict.ok) return "certificate rejected: " + verdict.failure;
 
-  const cli::CertifiedMatching certified = cli::certified_matching(exported);
+  const postmortem::CertifiedMatching certified = postmortem::certified_matching(exported);
   if (certified.weight != result.weight || certified.pairs.size() != result.pairs) {
     return "the commit reports weight " + std::to_string(result.weight) + " pairs " +
            std::to_string(result.pairs) + ", its certificate's matching " +

@@ -1,5 +1,7 @@
 // `yoke replay SCRIPT [--mode M] [--verify] [--stats] [--diffs]`: feeds an event script to a
-// pool batch by batch and prints one line per commit (docs/contracts.md §3):
+// pool batch by batch and prints one line per commit (docs/contracts.md §3). The options and
+// the choice of source and observers are here; the replay itself is the postmortem library's
+// (tools/postmortem/replay_driver.h: one loop, sources, observers):
 //
 //     commit I weight W pairs K repair_us T
 //
@@ -66,9 +68,5 @@ CLI::App* add_replay_command(CLI::App& app, ReplayOptions& options);
 // fails (the message is on stderr). Throws CliError for an unreadable or malformed script and
 // for a batch the pool rejects ("FILE:LINE: why", nothing of that batch applied).
 int run_replay(const ReplayOptions& options);
-
-// The pool `yoke replay` replays a script into: sized to the whole script (distinct ids,
-// largest |W|), or the mode's largest bounds when the script's weights exceed them.
-Pool make_script_pool(Mode mode, const formats::EventScript& script, const std::string& path);
 
 }  // namespace yoke::cli

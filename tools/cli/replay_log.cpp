@@ -1,12 +1,13 @@
 #include "replay_log.h"
 
 #include <filesystem>
+#include <iostream>
 
 namespace yoke::cli {
 
 ReplayLog::ReplayLog(const ReplayOptions& options) {
   if (options.cluster.servers.empty()) {
-    path_ = options.script_path;
+    directory_ = std::make_unique<postmortem::DataDirectory>(options.script_path);
     name_ = options.script_path;
     kind_ = "yoked data directory";
     return;
@@ -16,19 +17,23 @@ ReplayLog::ReplayLog(const ReplayOptions& options) {
   kind_ = "JetStream stream";
 }
 
-JournalCommits& ReplayLog::read(const std::string& pool, bool count_events) {
-  commits_.reset();
+std::unique_ptr<postmortem::LogSource> ReplayLog::read(const ReplayOptions& options,
+                                                       std::ostream& notes) {
+  const postmortem::LogReplayOptions wanted{options.pool, options.from, options.until};
   if (cluster_) {
-    commits_ = std::make_unique<JournalCommits>(cluster_->view(), &cluster_->snapshots_of(pool),
-                                                pool, count_events);
-  } else {
-    commits_ = std::make_unique<JournalCommits>(path_, pool, count_events);
+    const storage::SnapshotStore& snapshots = cluster_->snapshots_of(options.pool);
+    return std::make_unique<postmortem::LogSource>(
+        cluster_->view(), &snapshots,
+        postmortem::LogNames{name_, cluster_->view().describe(), snapshots.describe()}, wanted,
+        notes, std::cerr);
   }
-  return *commits_;
+  return std::make_unique<postmortem::LogSource>(directory_->log(), directory_->snapshots(),
+                                                 directory_->names(name_), wanted, notes,
+                                                 std::cerr);
 }
 
 std::vector<std::string> ReplayLog::pools() {
-  return cluster_ ? JournalCommits::pools_in(cluster_->view()) : JournalCommits::pools_in(path_);
+  return postmortem::log_pools(cluster_ ? cluster_->view() : directory_->log());
 }
 
 bool replays_a_log(const ReplayOptions& options) {

@@ -1,15 +1,19 @@
 // The daemon's log a `yoke replay` reads: a data directory (or its journal/), or with
 // --cluster a cluster's JetStream stream (cluster_log.h). Either way a pool's commits come
-// through JournalCommits, so both replay the same way.
+// through the postmortem library's LogSource (tools/postmortem/log_source.h), so both replay
+// the same way.
 #pragma once
 
+#include <cstdint>
 #include <memory>
+#include <ostream>
 #include <string>
 #include <vector>
 
 #include "cluster_log.h"
-#include "journal_commits.h"
 #include "replay_command.h"
+#include "tools/postmortem/data_directory.h"
+#include "tools/postmortem/log_source.h"
 
 namespace yoke::cli {
 
@@ -19,10 +23,11 @@ class ReplayLog {
   // nothing yet. Throws CliError as ClusterLog does.
   explicit ReplayLog(const ReplayOptions& options);
 
-  // Reads `pool`'s commits (JournalCommits; with `count_events`, the events of each record),
-  // replacing the ones read before. Throws CliError as JournalCommits does.
-  JournalCommits& read(const std::string& pool, bool count_events);
-  // The pools the log holds groups of, sorted (JournalCommits::pools_in: reads the whole log).
+  // Reads `options.pool`'s commits (with options.from and options.until); the note of a stop
+  // inside a commit goes to `notes`, other notes to stderr. The source must not outlive this.
+  // Throws postmortem::ReplayError as LogSource does.
+  std::unique_ptr<postmortem::LogSource> read(const ReplayOptions& options, std::ostream& notes);
+  // The pools the log holds groups of, sorted (postmortem::log_pools: reads the whole log).
   std::vector<std::string> pools();
 
   // Names the log in messages: the directory as given, or the stream as described.
@@ -31,9 +36,8 @@ class ReplayLog {
   const std::string& kind() const { return kind_; }
 
  private:
-  std::string path_;                     // a data directory (no cluster)
-  std::unique_ptr<ClusterLog> cluster_;  // before commits_: it must outlive them
-  std::unique_ptr<JournalCommits> commits_;
+  std::unique_ptr<postmortem::DataDirectory> directory_;  // no cluster
+  std::unique_ptr<ClusterLog> cluster_;
   std::string name_;
   std::string kind_;
 };

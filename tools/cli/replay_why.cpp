@@ -12,11 +12,13 @@
 #include "yoke/pool.h"
 #include "explanation_text.h"
 #include "file_io.h"
-#include "journal_commits.h"
 #include "number_options.h"
 #include "proto_json.h"
 #include "replay_log.h"
-#include "vertex_history.h"
+#include "tools/postmortem/replay_driver.h"
+#include "tools/postmortem/script_source.h"
+#include "tools/postmortem/vertex_explanations.h"
+#include "tools/postmortem/vertex_history.h"
 
 namespace yoke::cli {
 namespace {
@@ -47,34 +49,37 @@ constexpr const char* kWhyHelp =
 
 // Where the replay stands: what the questions are asked about.
 struct WhySource {
-  HistoryUnit unit = HistoryUnit::seq;
+  postmortem::HistoryUnit unit = postmortem::HistoryUnit::seq;
   std::optional<std::string> pool;  // journal replays
   std::string where;                // "pool P" or the script's name, for the text headers
 };
 
 // Prints the answers once the replay has stopped at `at`.
 void print_answers(const ReplayOptions& options, const WhySource& source,
-                   const HistoryBuilder& histories, const Pool& pool, std::uint64_t at) {
+                   const postmortem::HistoryBuilder& histories,
+                   const postmortem::VertexExplanations& explanations, std::uint64_t at) {
   std::ostream& out = std::cout;
   const std::string point =
-      at == 0 ? std::string("the start")
-              : (source.unit == HistoryUnit::seq ? "seq " : "commit ") + std::to_string(at);
+      at == 0
+          ? std::string("the start")
+          : (source.unit == postmortem::HistoryUnit::seq ? "seq " : "commit ") + std::to_string(at);
   bool first = true;
-  for (const VertexHistory& history : histories.histories()) {
+  for (const postmortem::VertexHistory& history : histories.histories()) {
     if (options.json) {
-      out << json_line(history_json(history, source.pool)) << '\n';
+      out << json_line(postmortem::history_json(history, source.pool)) << '\n';
     } else {
       if (!first) out << '\n';
-      out << history_text(history, source.where);
+      out << postmortem::history_text(history, source.where);
     }
     first = false;
   }
-  for (const VertexKey vertex : options.explain_vertices) {
-    const auto explanation = pool.explain(vertex, options.alternatives);
+  for (const postmortem::VertexAnswer& answer : explanations.answers()) {
+    const VertexKey vertex = answer.vertex;
+    const std::optional<VertexExplanation>& explanation = answer.explanation;
     if (options.json) {
       Json head{{"kind", "explanation"},
                 {"pool", source.pool ? Json(*source.pool) : Json(nullptr)},
-                {"unit", source.unit == HistoryUnit::seq ? "seq" : "commit"},
+                {"unit", source.unit == postmortem::HistoryUnit::seq ? "seq" : "commit"},
                 {"at", at}};
       if (explanation) {
         head.update(vertex_explanation_json(vertex, *explanation));
@@ -104,83 +109,39 @@ std::ostream& note_stream(const ReplayOptions& options) {
   return options.json ? std::cerr : std::cout;
 }
 
+// Replays `source` from its start with the histories and explanations asked for as its
+// observers, then prints the answers.
+int answer_questions(const ReplayOptions& options, const WhySource& where,
+                     postmortem::CommitSource& source, Pool& pool) {
+  postmortem::HistoryBuilder histories(options.history_vertices, source.unit());
+  postmortem::VertexExplanations explanations(options.explain_vertices, options.alternatives);
+  std::vector<postmortem::CommitObserver*> observers{&histories, &explanations};
+  const postmortem::ReplayOutcome outcome = postmortem::replay(source, pool, observers);
+  print_answers(options, where, histories, explanations, outcome.at);
+  return kExitOk;
+}
+
 int run_script(const ReplayOptions& options) {
   const Mode mode = parse_mode(options.mode);
   const formats::EventScript script = load_event_script(options.script_path);
-  Pool pool = make_script_pool(mode, script, options.script_path);
-  const WhySource source{HistoryUnit::commit, std::nullopt, display_name(options.script_path)};
-  HistoryBuilder histories(options.history_vertices, HistoryUnit::commit);
-  histories.start(pool, 0);
-  std::uint64_t at = 0;
-  for (const formats::ScriptBatch& batch : batches_until(script, options.until)) {
-    if (const auto rejected = pool.check(batch.events)) {
-      throw CliError(display_name(options.script_path) + ":" +
-                     std::to_string(batch.lines[rejected->index]) + ": " + rejected->message);
-    }
-    ++at;
-    const CommitResult result = pool.commit(batch.events);
-    ReplayedCommit commit{at, at, batch.events, [&batch](std::size_t i) {
-                            EventOrigin origin;
-                            origin.line = batch.lines[i];
-                            return origin;
-                          }};
-    histories.record(commit, result);
-  }
-  histories.finish(pool, at);
-  print_answers(options, source, histories, pool, at);
-  return kExitOk;
+  const std::string name = display_name(options.script_path);
+  postmortem::ScriptSource source(script, name, mode, options.until);
+  Pool& pool = source.start();
+  return answer_questions(options, WhySource{postmortem::HistoryUnit::commit, std::nullopt, name},
+                          source, pool);
 }
 
 int run_journal(const ReplayOptions& options) {
   ReplayLog log(options);
-  JournalCommits& journal = log.read(options.pool, true);
-  std::unique_ptr<Pool> pool = journal.start(options.from);
-  const WhySource source{HistoryUnit::seq, options.pool, "pool " + options.pool};
-  const std::uint64_t start_at = journal.snapshot_seq().value_or(0);
-  if (journal.snapshot_seq()) {
-    note_stream(options) << "note: starting from the snapshot at seq " << start_at << "\n";
+  const std::unique_ptr<postmortem::LogSource> source = log.read(options, note_stream(options));
+  Pool& pool = source->start();
+  if (source->from_snapshot()) {
+    note_stream(options) << "note: starting from the snapshot at seq " << source->start_point()
+                         << "\n";
   }
-  HistoryBuilder histories(options.history_vertices, HistoryUnit::seq);
-  histories.start(*pool, start_at);
-  std::uint64_t at = start_at;
-  while (const daemon::CommitGroup* group = journal.next()) {
-    const std::uint64_t first_seq = group->records.front().seq();
-    const std::uint64_t last_seq = group->records.back().seq();
-    if (options.until != 0 && last_seq > options.until) {
-      if (first_seq <= options.until) {
-        note_stream(options) << "note: seq " << options.until
-                             << " was committed together with seqs up to " << last_seq
-                             << ": stopping before that commit\n";
-      }
-      break;
-    }
-    if (const auto rejected = pool->check(group->events)) {
-      throw CliError(log.name() + ": pool " + options.pool + " seq " +
-                     std::to_string(first_seq) + ": the journal holds an event " +
-                     "that does not apply: " + rejected->message);
-    }
-    const CommitResult result = pool->commit(group->events);
-    // Event i of the commit belongs to the record whose events cover position i.
-    const auto origin = [group, &journal](std::size_t i) {
-      EventOrigin out;
-      for (const v1::JournalRecord& record : group->records) {
-        const std::size_t count = journal.events_in(record.seq());
-        if (i < count) {
-          out.seq = record.seq();
-          out.client_id = record.client_id();
-          out.client_batch = record.client_batch();
-          return out;
-        }
-        i -= count;
-      }
-      return out;
-    };
-    histories.record(ReplayedCommit{first_seq, last_seq, group->events, origin}, result);
-    at = last_seq;
-  }
-  histories.finish(*pool, at);
-  print_answers(options, source, histories, *pool, at);
-  return kExitOk;
+  return answer_questions(
+      options, WhySource{postmortem::HistoryUnit::seq, options.pool, "pool " + options.pool},
+      *source, pool);
 }
 
 }  // namespace
@@ -226,13 +187,6 @@ int run_why_replay(const ReplayOptions& options) {
                    "script");
   }
   return run_script(options);
-}
-
-std::span<const formats::ScriptBatch> batches_until(const formats::EventScript& script,
-                                                     std::uint64_t until) {
-  std::span<const formats::ScriptBatch> batches(script.batches);
-  if (until != 0 && until < batches.size()) return batches.first(static_cast<std::size_t>(until));
-  return batches;
 }
 
 }  // namespace yoke::cli

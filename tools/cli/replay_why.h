@@ -1,17 +1,14 @@
 // The postmortem questions of `yoke replay`: `--history V` (the history of V over the replay,
-// vertex_history.h) and `--explain V` (why V has the pair it has in the state where the replay
-// stops, explanation_text.h; `--until SEQ` picks that state). With either, the replay prints
+// tools/postmortem/vertex_history.h) and `--explain V` (why V has the pair it has in the state
+// where the replay stops, explanation_text.h; `--until SEQ` picks that state). Either runs the
+// postmortem library's replay loop with a history observer. With either, the replay prints
 // these answers instead of its commit lines, as text or, with --json, one JSON object per
 // answer and line. Works on an event script (points are commit numbers) and on a yoked data or
 // journal directory (points are the pool's seq numbers; --from starts at a snapshot).
 #pragma once
 
-#include <cstdint>
-#include <span>
-
 #include <CLI/CLI.hpp>
 
-#include "input_files.h"
 #include "replay_command.h"
 
 namespace yoke::cli {
@@ -26,9 +23,5 @@ bool wants_why(const ReplayOptions& options);
 // Runs the replay for the questions and prints the answers. Throws CliError as run_replay does,
 // and for --diffs, --stats, --verify or --report together with a question (or --json alone).
 int run_why_replay(const ReplayOptions& options);
-
-// The batches of a script a replay commits: all of them, or the first `until` (until > 0).
-std::span<const formats::ScriptBatch> batches_until(const formats::EventScript& script,
-                                                     std::uint64_t until);
 
 }  // namespace yoke::cli

@@ -24,30 +24,16 @@
 #include <unordered_map>
 #include <vector>
 
+#include <nlohmann/json.hpp>
+
+#include "commit_observer.h"
+#include "commit_source.h"
 #include "yoke/events.h"
 #include "yoke/pool.h"
-#include "proto_json.h"
 
-namespace yoke::cli {
+namespace yoke::postmortem {
 
-// How points of the replay are numbered.
-enum class HistoryUnit { seq, commit };
-
-// Where an event of a replayed commit came from.
-struct EventOrigin {
-  std::uint64_t seq = 0;           // journal: the record's seq (0 for a script)
-  std::string client_id;           // journal: the batch's client id (empty: none)
-  std::uint64_t client_batch = 0;  // journal: the client's batch number (0: none)
-  std::size_t line = 0;            // script: the event's line (0 for a journal)
-};
-
-// One commit of the replay as the history reads it.
-struct ReplayedCommit {
-  std::uint64_t first = 0;  // journal: seq of the commit's first record; script: the commit
-  std::uint64_t at = 0;     // journal: seq of its last record; script: the commit number
-  std::span<const Event> events;
-  std::function<EventOrigin(std::size_t)> origin;  // where events[i] came from
-};
+using Json = nlohmann::ordered_json;  // the same type as the CLI's (proto_json.h)
 
 // The cause of a change: the event behind it.
 struct ChangeCause {
@@ -100,8 +86,9 @@ struct VertexHistory {
   VertexState end;
 };
 
-// Builds the histories of some vertices while a replay commits.
-class HistoryBuilder {
+// Builds the histories of some vertices while a replay commits: an observer of the replay
+// (replay_driver.h), or fed by hand (start, record, finish).
+class HistoryBuilder : public CommitObserver {
  public:
   HistoryBuilder(const std::vector<VertexKey>& vertices, HistoryUnit unit);
 
@@ -114,11 +101,19 @@ class HistoryBuilder {
 
   const std::vector<VertexHistory>& histories() const { return histories_; }
 
+  // As an observer: start(), record() and finish() at the replay's points.
+  void started(const Pool& pool, std::uint64_t at, bool) override { start(pool, at); }
+  bool committed(const Pool&, const CommitStep& step) override {
+    record(step.commit, step.result);
+    return true;
+  }
+  void finished(const Pool& pool, std::uint64_t at) override { finish(pool, at); }
+
  private:
   VertexHistory* find(VertexKey key);
   ChangeCause cause_of(const ReplayedCommit& commit, const CommitResult& result,
-                     const std::vector<EventCause>& causes, std::size_t changes,
-                     std::size_t i) const;
+                       const std::vector<EventCause>& causes, std::size_t changes,
+                       std::size_t i) const;
   static VertexState state_of(const Pool& pool, VertexKey key, std::uint64_t at);
 
   std::vector<VertexHistory> histories_;
@@ -145,4 +140,4 @@ std::string history_text(const VertexHistory& history, const std::string& where)
 // in `yoke replay --help`.
 Json history_json(const VertexHistory& history, const std::optional<std::string>& pool);
 
-}  // namespace yoke::cli
+}  // namespace yoke::postmortem

@@ -2,7 +2,7 @@
 
 #include <variant>
 
-#include "batch_decoder.h"
+#include "daemon/service/batch_decoder.h"
 #include "yoke/types.h"
 
 namespace yoke::daemon {

@@ -2,7 +2,7 @@
 
 #include <algorithm>
 
-namespace yoke::cli {
+namespace yoke::postmortem {
 
 CertifiedMatching certified_matching(const PoolExport& exported) {
   CertifiedMatching matching;
@@ -21,4 +21,4 @@ CertifiedMatching certified_matching(const PoolExport& exported) {
   return matching;
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::postmortem

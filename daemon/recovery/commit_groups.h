@@ -1,7 +1,7 @@
 // Commit groups as the engine takes them: a storage::LoggedGroup (the records of one pool
 // that the daemon repaired together, as the commit log returns them: commit_log.h) with its
-// events decoded and checked once. Recovery and `yoke replay` both commit what this gives, so
-// they commit at the daemon's points and break ties the same way.
+// events decoded and checked once. Recovery and `yoke replay` (tools/postmortem) both commit
+// what this gives, so they commit at the daemon's points and break ties the same way.
 #pragma once
 
 #include <cstdint>

@@ -7,7 +7,7 @@
 
 #include "yoke/pool.h"
 
-namespace yoke::cli {
+namespace yoke::postmortem {
 
 struct CertifiedMatching {
   std::vector<std::pair<VertexKey, VertexKey>> pairs;  // (a, b) with a < b, sorted
@@ -17,4 +17,4 @@ struct CertifiedMatching {
 // The edges of `exported.graph` whose ends are mates in its certificate. Cost O(m log m).
 CertifiedMatching certified_matching(const PoolExport& exported);
 
-}  // namespace yoke::cli
+}  // namespace yoke::postmortem

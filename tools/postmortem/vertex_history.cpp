@@ -5,7 +5,7 @@
 
 #include "tools/formats/event_script_writer.h"
 
-namespace yoke::cli {
+namespace yoke::postmortem {
 namespace {
 
 std::string point_text(HistoryUnit unit, std::uint64_t at) {
@@ -77,13 +77,13 @@ void add_origin_json(const EventOrigin& origin, Json& out) {
 Json cause_json(const ChangeCause& cause) {
   switch (cause.kind) {
     case ChangeCause::Kind::event: {
-      Json out{{"kind", "event"}, {"index", cause.index}, {"event", formats::event_line(cause.event)}};
+      Json out{
+          {"kind", "event"}, {"index", cause.index}, {"event", formats::event_line(cause.event)}};
       add_origin_json(cause.origin, out);
       return out;
     }
     case ChangeCause::Kind::first_solve: return Json{{"kind", "first_solve"}};
-    case ChangeCause::Kind::batch:
-      return Json{{"kind", "batch"}, {"events", cause.batch_events}};
+    case ChangeCause::Kind::batch: return Json{{"kind", "batch"}, {"events", cause.batch_events}};
   }
   return Json(nullptr);
 }
@@ -147,8 +147,8 @@ void HistoryBuilder::start(const Pool& pool, std::uint64_t at) {
 }
 
 ChangeCause HistoryBuilder::cause_of(const ReplayedCommit& commit, const CommitResult& result,
-                                   const std::vector<EventCause>& causes, std::size_t changes,
-                                   std::size_t i) const {
+                                     const std::vector<EventCause>& causes, std::size_t changes,
+                                     std::size_t i) const {
   if (causes.size() == changes) {
     const EventCause cause = causes[i];
     if (cause == kNoCause) {
@@ -249,26 +249,25 @@ void HistoryBuilder::finish(const Pool& pool, std::uint64_t at) {
 std::string history_text(const VertexHistory& history, const std::string& where) {
   const HistoryUnit unit = history.unit;
   const std::string name = std::to_string(history.vertex);
-  std::string out = "history of " + name + " (" + where + "), " +
-                    start_text(unit, history.start) + " to " +
-                    point_text(unit, history.end.at) + ":\n";
+  std::string out = "history of " + name + " (" + where + "), " + start_text(unit, history.start) +
+                    " to " + point_text(unit, history.end.at) + ":\n";
   if (history.start.at != 0) {
-    out += "  at " + start_text(unit, history.start) + " (the snapshot): " +
-           state_text(history.vertex, history.start) + "\n";
+    out += "  at " + start_text(unit, history.start) +
+           " (the snapshot): " + state_text(history.vertex, history.start) + "\n";
   }
   for (const HistoryEntry& entry : history.entries) {
     out += "  " + span_text(unit, entry.first, entry.at) + ": ";
     switch (entry.change) {
       case HistoryChange::vertex_added:
       case HistoryChange::vertex_removed:
-        out += std::string(change_name(entry.change)) + ": " + formats::event_line(entry.cause.event) +
-               " " + origin_text(entry.cause.origin);
+        out += std::string(change_name(entry.change)) + ": " +
+               formats::event_line(entry.cause.event) + " " + origin_text(entry.cause.origin);
         break;
       case HistoryChange::pair_gained:
       case HistoryChange::pair_lost:
         out += "pair with " + std::to_string(entry.other) +
-               (entry.change == HistoryChange::pair_gained ? " gained" : " lost") +
-               " (weight " + std::to_string(entry.w) + "): " + cause_text(entry.cause);
+               (entry.change == HistoryChange::pair_gained ? " gained" : " lost") + " (weight " +
+               std::to_string(entry.w) + "): " + cause_text(entry.cause);
         break;
     }
     out += '\n';
@@ -321,4 +320,4 @@ Json history_json(const VertexHistory& history, const std::optional<std::string>
               {"end", state_json(history.end)}};
 }
 
-}  // namespace yoke::cli
+}  // namespace yoke::postmortem
