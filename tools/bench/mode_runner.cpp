@@ -49,7 +49,7 @@ ModeStream draw_mode_stream(const ModeSetting& setting, std::uint64_t seed) {
   return stored;
 }
 
-ModeFigures replay(const ModeStream& stream, Mode mode) {
+ModeFigures replay_in_mode(const ModeStream& stream, Mode mode) {
   ModeFigures figures;
   figures.mode = mode;
   Pool pool(mode);
@@ -77,13 +77,13 @@ ModeFigures replay(const ModeStream& stream, Mode mode) {
   return figures;
 }
 
-std::string figure(double value) {
+std::string mode_figure(double value) {
   if (value < 10) return format("%.2f", value);
   if (value < 1000) return format("%.1f", value);
   return format("%.0f", value);
 }
 
-std::string times(double value, double reference) {
+std::string over_reference(double value, double reference) {
   if (reference <= 0) return "n/a";
   return format("%.1fx", value / reference);
 }
@@ -112,7 +112,7 @@ ModeResult run_modes(const ModeSetting& setting, std::uint64_t seed) {
   result.base_vertices = stream.base_vertices;
   result.base_edges = stream.base_edges;
   for (const Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {
-    result.modes.push_back(replay(stream, mode));
+    result.modes.push_back(replay_in_mode(stream, mode));
   }
   return result;
 }
@@ -122,7 +122,7 @@ void print_modes_preamble(std::ostream& out) {
       << "stream:   --mix tail (" << gen::mix_text(gen::tail_mix())
       << "), aimed at a max-weight pool fed the stream\n"
       << "timed:    Pool::commit alone (wall clock; \"cpu\": this thread's CPU time); \"x mw\": "
-         "the figure over max-weight's\n"
+         "the CPU-time figure over max-weight's\n"
       << "target:   max-cardinality repair p50 within 3x of max-weight (issue 13)\n";
 }
 
@@ -135,12 +135,12 @@ void print_modes(std::ostream& out, const ModeResult& result) {
       << "|---|---|---|---|---|---|---|---|---|---|---|---|---|\n";
   const ModeFigures& reference = result.modes.front();
   for (const ModeFigures& m : result.modes) {
-    out << "| " << mode_name(m.mode) << " | " << figure(m.load_ms) << " | "
-        << figure(m.repair_us.p50) << " | " << figure(m.repair_us.p99) << " | "
-        << figure(m.repair_us.max) << " | " << figure(m.repair_cpu_us.p50) << " | "
-        << times(m.repair_cpu_us.p50, reference.repair_cpu_us.p50) << " | "
-        << times(m.repair_cpu_us.p99, reference.repair_cpu_us.p99) << " | "
-        << figure(m.touched.p50) << " | " << figure(m.touched.p99) << " | " << m.changed_commits
+    out << "| " << mode_name(m.mode) << " | " << mode_figure(m.load_ms) << " | "
+        << mode_figure(m.repair_us.p50) << " | " << mode_figure(m.repair_us.p99) << " | "
+        << mode_figure(m.repair_us.max) << " | " << mode_figure(m.repair_cpu_us.p50) << " | "
+        << over_reference(m.repair_cpu_us.p50, reference.repair_cpu_us.p50) << " | "
+        << over_reference(m.repair_cpu_us.p99, reference.repair_cpu_us.p99) << " | "
+        << mode_figure(m.touched.p50) << " | " << mode_figure(m.touched.p99) << " | " << m.changed_commits
         << " | " << m.pairs_at_end << " | " << (m.certified ? "holds" : "FAILS") << " |\n";
   }
 }
