@@ -11,6 +11,11 @@
 //
 //   [--tail-actions A | --tail-only]
 //
+// And the modes section (mode_runner.h): one single-action stream replayed in every mode, each
+// mode's repair p50/p99 against max-weight's (off unless --mode-actions or --quick asks).
+//
+//   [--mode-actions A] [--modes-only]
+//
 // Exit codes: 0 done (a missed performance target is reported, not fatal); 1 yoke and LEMON
 // disagree on a weight, a certificate fails or a churn check fails; 2 bad options or an error
 // the engine threw.
@@ -26,6 +31,7 @@
 
 #include "tools/bench/churn_report.h"
 #include "tools/bench/heap_counter.h"
+#include "tools/bench/mode_runner.h"
 #include "tools/bench/report.h"
 #include "tools/bench/stream_report.h"
 #include "tools/bench/stream_runner.h"
@@ -49,6 +55,8 @@ struct Options {
   bool churn_only = false;
   std::optional<std::size_t> tail_actions;  // 0: no tail section
   bool tail_only = false;
+  std::optional<std::size_t> mode_actions;  // 0: no modes section
+  bool modes_only = false;
 };
 
 constexpr std::size_t kDefaultTailActions = 2000;
@@ -62,6 +70,19 @@ std::vector<TailSetting> tail_selected(const Options& o) {
       !o.vertices.empty() ? o.vertices : (o.quick ? quick_sizes() : default_sizes());
   if (o.quick) sizes.resize(1);
   return tail_settings(sizes, actions);
+}
+
+// The modes section: off by default (a max-cardinality repair can cost a full solve today);
+// --quick runs it on its smallest graph.
+constexpr std::size_t kQuickModeActions = 100;
+
+std::vector<ModeSetting> modes_selected(const Options& o) {
+  const std::size_t actions = o.mode_actions.value_or(o.quick ? kQuickModeActions : 0);
+  if (actions == 0) return {};
+  std::vector<std::size_t> sizes =
+      !o.vertices.empty() ? o.vertices : (o.quick ? quick_sizes() : default_sizes());
+  if (o.quick) sizes.resize(1);
+  return mode_settings(sizes, actions);
 }
 
 constexpr std::size_t kDefaultLemonSamples = 5;
@@ -112,7 +133,7 @@ std::vector<ChurnBonus> churn_bonuses(const Options& o) {
 
 int run(const Options& o, const std::vector<StreamSetting>& settings,
         const std::vector<ChurnBonus>& bonuses, const std::vector<TailSetting>& tails,
-        const std::string& command) {
+        const std::vector<ModeSetting>& modes, const std::string& command) {
   if (!heap::counting_works()) {
     std::cerr << "yoke_stream_bench: the counting operator new is not in use; memory figures "
                  "would be wrong\n";
@@ -123,7 +144,8 @@ int run(const Options& o, const std::vector<StreamSetting>& settings,
   print_stream_preamble(std::cout, {command, o.seed, samples});
   std::vector<StreamResult> results;
   bool all_ok = true;
-  if (!o.churn_only && !o.tail_only) {
+  const bool one_section = o.churn_only || o.tail_only || o.modes_only;
+  if (!one_section) {
     for (const StreamSetting& setting : settings) {
       results.push_back(run_setting(setting, o.seed, samples));
       print_setting(std::cout, results.back());
@@ -131,7 +153,7 @@ int run(const Options& o, const std::vector<StreamSetting>& settings,
     }
     print_stream_tables(std::cout, results);
   }
-  if (!bonuses.empty() && !o.tail_only) {
+  if (!bonuses.empty() && (!one_section || o.churn_only)) {
     print_churn_preamble(std::cout, bonuses);
     for (const StreamSetting& setting : settings) {
       const ChurnResult churn = run_churn(setting, o.seed, bonuses);
@@ -139,12 +161,20 @@ int run(const Options& o, const std::vector<StreamSetting>& settings,
       all_ok = all_ok && churn.ok();
     }
   }
-  if (!tails.empty() && !o.churn_only) {
+  if (!tails.empty() && (!one_section || o.tail_only)) {
     print_tail_preamble(std::cout, samples);
     for (const TailSetting& setting : tails) {
       const TailResult tail = run_tail(setting, o.seed, samples);
       print_tail(std::cout, tail);
       all_ok = all_ok && tail.ok();
+    }
+  }
+  if (!modes.empty() && (!one_section || o.modes_only)) {
+    print_modes_preamble(std::cout);
+    for (const ModeSetting& setting : modes) {
+      const ModeResult result = run_modes(setting, o.seed);
+      print_modes(std::cout, result);
+      all_ok = all_ok && result.ok();
     }
   }
   if (!all_ok) {
@@ -192,16 +222,26 @@ int main(int argc, char** argv) {
                  "--quick, on the smallest graph only); 0 skips the section")
       ->check(CLI::Range(std::size_t{0}, std::size_t{1} << 24));
   app.add_flag("--tail-only", o.tail_only, "Only the tail section");
+  app.add_option("--mode-actions", o.mode_actions,
+                 "Modes section: single-action commits replayed in each mode (default 0: no "
+                 "section; 100 with --quick, on the smallest graph only)")
+      ->check(CLI::Range(std::size_t{0}, std::size_t{1} << 24));
+  app.add_flag("--modes-only", o.modes_only, "Only the modes section");
 
   std::vector<ChurnBonus> bonuses;
   std::vector<TailSetting> tails;
+  std::vector<ModeSetting> modes;
   try {
     app.parse(argc, argv);
     settings = selected(o);
     bonuses = churn_bonuses(o);
     tails = tail_selected(o);
+    modes = modes_selected(o);
     if (o.tail_only && tails.empty()) throw CLI::ValidationError("--tail-only", "needs --tail-actions above 0");
-    if (o.tail_only && o.churn_only) throw CLI::ValidationError("--tail-only", "excludes --churn-only");
+    if (o.modes_only && modes.empty()) throw CLI::ValidationError("--modes-only", "needs --mode-actions above 0");
+    if (int{o.tail_only} + int{o.churn_only} + int{o.modes_only} > 1) {
+      throw CLI::ValidationError("--tail-only", "--tail-only, --churn-only and --modes-only exclude each other");
+    }
   } catch (const CLI::ParseError& error) {
     const int code = app.exit(error);
     return code == 0 ? 0 : kUsageError;
@@ -215,7 +255,7 @@ int main(int argc, char** argv) {
     return 0;
   }
   try {
-    return run(o, settings, bonuses, tails, command_line(argc, argv));
+    return run(o, settings, bonuses, tails, modes, command_line(argc, argv));
   } catch (const std::exception& error) {
     std::cerr << "yoke_stream_bench: " << error.what() << "\n";
     return kUsageError;
