@@ -259,16 +259,6 @@ oracle::Answer static_optimum(const Graph& graph, Mode mode) {
   return {fresh.status == SolveStatus::optimal, fresh.weight, fresh.pairs};
 }
 
-// The commit's answer with the pool's certificate, in the form checked_solve's checks take.
-SolveResult as_solve_result(const CommitResult& result, const PoolExport& exported) {
-  SolveResult r;
-  r.status = result.status;
-  r.weight = result.weight;
-  r.pairs = result.pairs;
-  r.mate = exported.certificate.mate;
-  r.certificate = exported.certificate;
-  return r;
-}
 
 std::vector<KeyPair> certified_pairs(const PoolExport& exported) {
   std::vector<KeyPair> pairs;
@@ -292,7 +282,7 @@ std::vector<KeyPair> listed_pairs(const Pool& pool) {
 testing::AssertionResult commit_is_certified_optimum(const Pool& pool, const CommitResult& result) {
   const PoolExport exported = pool.export_certified();
   const Graph& graph = exported.graph;
-  const SolveResult r = as_solve_result(result, exported);
+  const SolveResult r = oracle::as_solve_result(result, exported);
   // Common knowledge: result.weight and result.pairs are those of the certificate's matching,
   // and that matching is a matching of the pool's graph.
   if (auto sound = oracle::result_is_sound(graph, pool.mode(), r); !sound) return sound;

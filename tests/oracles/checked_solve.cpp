@@ -161,6 +161,16 @@ SolveResult expect_optimal(const Graph& graph, Mode mode, const Oracle& oracle,
   return result;
 }
 
+SolveResult as_solve_result(const CommitResult& result, const PoolExport& exported) {
+  SolveResult r;
+  r.status = result.status;
+  r.weight = result.weight;
+  r.pairs = result.pairs;
+  r.mate = exported.certificate.mate;
+  r.certificate = exported.certificate;
+  return r;
+}
+
 std::string write_reproducer(const Graph& graph, Mode mode, const std::string& label) {
   std::string name;
   for (char c : label) name += std::isalnum(static_cast<unsigned char>(c)) ? c : '_';

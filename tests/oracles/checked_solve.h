@@ -12,6 +12,7 @@
 #include <gtest/gtest.h>
 
 #include "yoke/graph.h"
+#include "yoke/pool.h"
 #include "yoke/solve.h"
 #include "oracle_answer.h"
 
@@ -30,6 +31,9 @@ testing::AssertionResult solve_checked(const Graph& graph, Mode mode, SolveResul
 // of maximum weight, solve.h) is compared with the oracle's max-cardinality answer.
 testing::AssertionResult same_optimum(const Graph& graph, Mode mode, const SolveResult& result,
                                       const Oracle& oracle);
+
+// A pool's commit with its exported certificate, in the form the checks above take.
+SolveResult as_solve_result(const CommitResult& result, const PoolExport& exported);
 
 // `label` names the case (oracle, family, size, seed); it becomes the reproducer's file name.
 // Returns yoke's result for further checks.

@@ -32,21 +32,10 @@ namespace {
 
 constexpr std::size_t kMostVertices = 12;  // keeps enumeration to a few thousand matchings
 
-// The pool's commit with its certificate, as checked_solve's checks take it.
-SolveResult as_solve_result(const CommitResult& result, const PoolExport& exported) {
-  SolveResult r;
-  r.status = result.status;
-  r.weight = result.weight;
-  r.pairs = result.pairs;
-  r.mate = exported.certificate.mate;
-  r.certificate = exported.certificate;
-  return r;
-}
-
 testing::AssertionResult certified_and_exhaustively_optimal(const Pool& pool,
                                                             const CommitResult& result) {
   const PoolExport exported = pool.export_certified();
-  const SolveResult r = as_solve_result(result, exported);
+  const SolveResult r = oracle::as_solve_result(result, exported);
   if (auto sound = oracle::result_is_sound(exported.graph, pool.mode(), r); !sound) return sound;
   // yoke::check_certificate (engine/include/yoke/certificate.h).
   if (auto holds = oracle::certificate_holds(exported.graph, r); !holds) return holds;

@@ -5,6 +5,7 @@
 
 #include "yoke/certificate.h"
 #include "yoke/pool.h"
+#include "tools/bench/aimed_stream.h"
 #include "tools/bench/number_format.h"
 #include "tools/bench/stopwatch.h"
 #include "tools/bench/stored_stream.h"
@@ -14,42 +15,9 @@
 namespace yoke::bench {
 namespace {
 
-struct ModeStream {
-  std::vector<Event> base;
-  std::vector<std::vector<Event>> batches;
-  std::size_t base_vertices = 0;
-  std::size_t base_edges = 0;
-};
-
-// The aimed actions aim at a max-weight pool fed the stream, so every mode replays the very
-// same events (what `yoke gen stream --mix tail` writes).
-ModeStream draw_mode_stream(const ModeSetting& setting, std::uint64_t seed) {
-  gen::StreamSpec spec;
-  spec.family = gen::StreamFamily::city;
-  spec.vertices = setting.vertices;
-  spec.degree = kStreamCityNeighbours;
-  spec.seed = seed;
-  spec.events = setting.actions;
-  spec.action_batches = true;
-  spec.mix = gen::tail_mix();
-  spec.arrival_edges = kArrivalEdges;
-  ModeStream stored;
-  gen::EventStream stream(spec);
-  Pool aim(Mode::max_weight);
-  stream.aim_at(&aim);
-  stored.base_vertices = stream.base_vertices();
-  stored.base_edges = stream.base_edges();
-  stream.next_batch(stored.base);
-  aim.commit(stored.base);
-  std::vector<Event> batch;
-  while (stream.next_batch(batch)) {
-    aim.commit(batch);
-    stored.batches.push_back(batch);
-  }
-  return stored;
-}
-
-ModeFigures replay_in_mode(const ModeStream& stream, Mode mode) {
+// Every mode replays the very same events, aimed at a max-weight pool fed the stream (what
+// `yoke gen stream --mix tail` writes).
+ModeFigures replay_in_mode(const AimedStream& stream, Mode mode) {
   ModeFigures figures;
   figures.mode = mode;
   Pool pool(mode);
@@ -108,7 +76,7 @@ ModeResult run_modes(const ModeSetting& setting, std::uint64_t seed) {
   ModeResult result;
   result.setting = setting;
   result.seed = seed;
-  const ModeStream stream = draw_mode_stream(setting, seed);
+  const AimedStream stream = draw_aimed_stream(aimed_tail_spec(setting.vertices, setting.actions, seed));
   result.base_vertices = stream.base_vertices;
   result.base_edges = stream.base_edges;
   for (const Mode mode : {Mode::max_weight, Mode::max_cardinality, Mode::perfect}) {

@@ -5,6 +5,7 @@
 #include <memory>
 
 #include "yoke/pool.h"
+#include "tools/bench/aimed_stream.h"
 #include "tools/bench/stopwatch.h"
 #include "tools/bench/stored_stream.h"
 #include "tools/bench/stream_runner.h"
@@ -14,48 +15,6 @@ namespace yoke::bench {
 namespace {
 
 constexpr Weight kTiesGrain = 100;
-
-struct TailStream {
-  std::vector<Event> base;
-  std::vector<std::vector<Event>> batches;
-  std::vector<std::string> kinds;  // per batch: the action that drew it
-  std::size_t base_vertices = 0;
-  std::size_t base_edges = 0;
-};
-
-gen::StreamSpec tail_spec(const TailSetting& setting, std::uint64_t seed) {
-  gen::StreamSpec spec;
-  spec.family = gen::StreamFamily::city;
-  spec.vertices = setting.vertices;
-  spec.degree = kStreamCityNeighbours;
-  spec.seed = seed;
-  spec.events = setting.actions;
-  spec.action_batches = true;
-  spec.mix = gen::tail_mix();
-  spec.arrival_edges = kArrivalEdges;
-  spec.weight_grain = setting.weight_grain;
-  return spec;
-}
-
-// Drawn with a pool of its own that commits every batch, so the aimed actions see the state
-// the measured pool will have (both pools are deterministic and get the same batches).
-TailStream draw_tail_stream(const gen::StreamSpec& spec) {
-  TailStream stored;
-  gen::EventStream stream(spec);
-  Pool aim(Mode::max_weight);
-  stream.aim_at(&aim);
-  stored.base_vertices = stream.base_vertices();
-  stored.base_edges = stream.base_edges();
-  stream.next_batch(stored.base);
-  aim.commit(stored.base);
-  std::vector<Event> batch;
-  while (stream.next_batch(batch)) {
-    aim.commit(batch);
-    stored.batches.push_back(batch);
-    stored.kinds.emplace_back(stream.last_action());
-  }
-  return stored;
-}
 
 struct KindSamples {
   std::vector<double> repair_us;
@@ -126,7 +85,8 @@ TailResult run_tail(const TailSetting& setting, std::uint64_t seed, std::size_t 
   result.setting = setting;
   result.seed = seed;
   const Stopwatch drawing;
-  const TailStream stream = draw_tail_stream(tail_spec(setting, seed));
+  const AimedStream stream =
+      draw_aimed_stream(aimed_tail_spec(setting.vertices, setting.actions, seed, setting.weight_grain));
   result.generate_ms = drawing.elapsed_ms();
   result.base_vertices = stream.base_vertices;
   result.base_edges = stream.base_edges;
