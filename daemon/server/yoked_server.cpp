@@ -102,6 +102,13 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
   service_.set_repair_listener(
       [this] { boost::asio::post(io_, [this] { on_repairs_finished(); }); });
   service_.set_repair_executor(repairs_.get());
+  if (snapshots_ != nullptr) {
+    background_ = std::make_unique<BackgroundSnapshot>(
+        service_, *snapshots_,
+        [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); });
+    service_.set_collect_listener(
+        [this](const std::string& pool) { background_->pool_collected(pool); });
+  }
 }
 
 YokedServer::~YokedServer() {
@@ -113,6 +120,8 @@ YokedServer::~YokedServer() {
   }
   service_.set_repair_executor(nullptr);
   service_.set_repair_listener(nullptr);
+  service_.set_collect_listener(nullptr);
+  background_.reset();  // waits for a write in progress
 }
 
 int YokedServer::run() {
@@ -261,10 +270,11 @@ void YokedServer::close_window() {
 
   service_.start_apply(closed);
   handle_repairs(service_.finish_repairs());  // retirements, and repairs already done
-  if (config_.snapshots.after_events > 0 &&
+  // Not while a snapshot settles the windows (it is about to be written).
+  if (!snapshotting_ && config_.snapshots.after_events > 0 &&
       events_since_snapshot_ >= config_.snapshots.after_events) {
     try {
-      take_snapshot();
+      snapshot_in_background();
     } catch (const std::exception& failure) {
       log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
       events_since_snapshot_ = 0;  // try again after as many events, not after every window
@@ -324,7 +334,7 @@ void YokedServer::answer_held_queries() {
 
 void YokedServer::settle() {
   service_.wait_repairs();
-  handle_repairs(service_.finish_repairs());
+  on_repairs_finished();  // a failed repair stops the daemon here too
 }
 
 void YokedServer::settle_all() {
@@ -392,10 +402,65 @@ void YokedServer::answer_query(Envelope& envelope, const zmq::message_t& payload
   reply(query_, envelope, answer);
 }
 
+void YokedServer::snapshot_in_background() {
+  if (background_ == nullptr) {
+    take_snapshot();
+    return;
+  }
+  if (background_->busy() || journal_failed_ || stopping_) return;  // the next trigger takes it
+  events_since_snapshot_ = 0;
+  // The ledger may hold batches of the open window: sealed first, so that every mark it
+  // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
+  snapshotting_ = true;
+  close_window();
+  snapshotting_ = false;
+  if (journal_failed_ || stopping_) return;
+  background_->start();
+}
+
+void YokedServer::on_snapshot_written() {
+  if (background_ == nullptr) return;
+  std::optional<BackgroundSnapshot::Written> written = background_->take_result();
+  if (!written) return;
+  if (written->failure) {
+    try {
+      std::rethrow_exception(written->failure);
+    } catch (const std::exception& failure) {
+      // The journal still holds everything: a failed snapshot costs restart time, not data.
+      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+    }
+    return;
+  }
+  for (const auto& [pool, seq] : written->pool_seqs) {
+    if (service_.progress(pool) != nullptr) service_.progress_of(pool).last_snapshot_seq = seq;
+  }
+  last_snapshot_position_ = written->position;
+  std::size_t dropped = 0;
+  if (const auto oldest = snapshots_->oldest_needed()) dropped = service_.log().drop_before(*oldest);
+  metrics_->snapshot_written(written->took);
+  log_event(LogLevel::info, "snapshot_written",
+            {{"path", written->path},
+             {"pools", written->pool_seqs.size()},
+             {"journal_position", written->position},
+             {"segments_dropped", dropped},
+             {"ms", micros(written->took) / 1000}});
+}
+
+void YokedServer::finish_background_snapshot() {
+  if (background_ == nullptr || !background_->busy()) return;
+  while (background_->capturing() && !stopping_) settle();
+  if (background_->capturing()) return;  // stopped: a repair failed; the snapshot is dropped
+  background_->wait_written();
+  on_snapshot_written();
+}
+
 v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& only_pool) {
+  finish_background_snapshot();  // one snapshot at a time, in position order
   // The ledger may hold batches of the open window, and workers the pools: seal and apply
   // everything first.
+  snapshotting_ = true;
   settle_all();
+  snapshotting_ = false;
   if (journal_failed_) {
     // The retry ledger holds batches that never became durable: a snapshot of it would
     // answer their retries as duplicates. Only the journal on disk may be trusted now.
@@ -447,7 +512,7 @@ void YokedServer::arm_snapshot_timer() {
     try {
       // Idle since the last snapshot: the newest file already holds this state.
       if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_position()) {
-        take_snapshot();
+        snapshot_in_background();
       }
     } catch (const std::exception& failure) {
       // The journal still holds everything: a failed snapshot costs restart time, not data.

@@ -26,6 +26,7 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/storage/snapshot_store.h"
+#include "background_snapshot.h"
 #include "repair_threads.h"
 #include "zmq_socket_watcher.h"
 
@@ -98,6 +99,14 @@ class YokedServer {
   // each pool on its own and writes `only_pool` alone. O(bytes written) plus a durable write.
   v1::SnapshotTaken take_snapshot(const std::optional<std::string>& only_pool = std::nullopt);
   void arm_snapshot_timer();
+  // The timer's and after_events' snapshot: off the loop with the local backend
+  // (BackgroundSnapshot; skipped while one is still in progress), take_snapshot() in a cluster.
+  void snapshot_in_background();
+  // A background snapshot's write ended: the log is trimmed below the oldest kept, as after
+  // take_snapshot(). On the loop.
+  void on_snapshot_written();
+  // Completes a background snapshot in progress (waits for its pools' repairs, then its write).
+  void finish_background_snapshot();
   void arm_cluster_timer();
   YokedServer(const DaemonConfig& config, PoolService& service, storage::SnapshotStore* snapshots,
               ClusterHooks* cluster);
@@ -124,6 +133,7 @@ class YokedServer {
   // After io_: its workers post to io_, and it is joined (and destroyed) first.
   std::unique_ptr<RepairThreads> repairs_;
   std::map<std::string, std::vector<HeldQuery>> held_queries_;  // by the pool being repaired
+  std::unique_ptr<BackgroundSnapshot> background_;  // local backend only; posts to io_
   zmq::context_t zmq_context_;
   zmq::socket_t ingest_;
   zmq::socket_t publisher_;
@@ -139,6 +149,7 @@ class YokedServer {
   std::unique_ptr<metrics::HttpEndpoint> http_;
 
   bool window_timer_armed_ = false;
+  bool snapshotting_ = false;  // take_snapshot() is settling the windows
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot
   Ticket next_ticket_ = 1;

@@ -89,6 +89,12 @@ class PoolService {
   // Called on the executor's thread each time a repair has finished (the server wakes its
   // loop with it, which then calls finish_repairs()). Set it before repairs start.
   void set_repair_listener(std::function<void()> listener) { repair_listener_ = std::move(listener); }
+  // Called by finish_repairs() for each pool whose repair it collects, once its progress is
+  // recorded and before the batches that waited for it are checked (a snapshot in progress
+  // captures the pool there).
+  void set_collect_listener(std::function<void(const std::string&)> listener) {
+    collect_listener_ = std::move(listener);
+  }
   // A repair of `pool` is in flight: its engine state belongs to the executor until
   // finish_repairs() collects it. O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
@@ -226,6 +232,7 @@ class PoolService {
   InlineRepairs inline_repairs_;
   RepairExecutor* executor_ = &inline_repairs_;
   std::function<void()> repair_listener_;
+  std::function<void(const std::string&)> collect_listener_;
   std::set<std::string> repairing_;                     // pools handed to the executor
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
   std::size_t held_count_ = 0;

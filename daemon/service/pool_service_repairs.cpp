@@ -116,6 +116,7 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     done.diffs.push_back(diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
                                         progress.no_perfect_matching, job.repair_us));
     done.window_closed.push_back(job.window_closed);
+    if (collect_listener_) collect_listener_(job.pool);
   }
   if (failure) std::rethrow_exception(failure);
 

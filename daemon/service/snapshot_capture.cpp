@@ -10,11 +10,8 @@
 
 namespace yoke::daemon {
 
-namespace {
-
-// The record of one pool, or nothing when it has applied nothing (nothing to keep).
-std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::string& name,
-                                              std::uint64_t position, std::uint64_t wall_time) {
+std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& name,
+                                                 std::uint64_t position, std::uint64_t wall_time) {
   const PoolProgress* progress = service.progress(name);
   const Pool* pool = service.registry().find(name);
   if (progress == nullptr || progress->seq == 0 || pool == nullptr) return std::nullopt;
@@ -36,14 +33,12 @@ std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::s
   return record;
 }
 
-}  // namespace
-
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
   const std::uint64_t wall_time = unix_time_us();
   const std::uint64_t position = service.next_journal_position();
   std::vector<v1::SnapshotRecord> records;
   for (const std::string& name : service.registry().names()) {
-    if (auto record = pool_record(service, name, position, wall_time)) {
+    if (auto record = capture_pool_at(service, name, position, wall_time)) {
       records.push_back(std::move(*record));
     }
   }
@@ -54,7 +49,7 @@ std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
                                                         const std::string& pool) {
   const PoolProgress* progress = service.progress(pool);
   if (progress == nullptr) return std::nullopt;
-  return pool_record(service, pool, progress->last_position + 1, unix_time_us());
+  return capture_pool_at(service, pool, progress->last_position + 1, unix_time_us());
 }
 
 std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,

@@ -24,6 +24,13 @@ inline constexpr std::uint32_t kEngineStateFormat = 1;
 // between windows (nothing pending). O(state size).
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
 
+// One pool's record in a snapshot named `position` taken at `wall_time`, or nothing when the
+// pool has applied nothing: call it when the pool's state is the one at `position` (between
+// its windows; a pool repairing then is captured once its repair is collected, before any
+// later window of it is sealed). O(the pool's state).
+std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& pool,
+                                                 std::uint64_t position, std::uint64_t wall_time);
+
 // One pool's record, at the position that names a snapshot of that pool alone: its
 // last_position + 1 (in cluster mode the pool's snapshot subject; the record's
 // journal_position says the same). Nothing when the pool has applied nothing here. Call

@@ -88,16 +88,22 @@ void send_batch(zmq::socket_t& socket, const std::vector<v1::Event>& events,
   socket.send(zmq::buffer(testing::ingest_message(events, header)), zmq::send_flags::none);
 }
 
-TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
-  testing::TempDir dir;
-  DaemonConfig config = testing::test_config(dir.path());
-  const std::string ipc = "ipc://" + (dir.path() / "").string();
+// A daemon in `dir` on ipc endpoints there, with two repair threads (one for the latch).
+DaemonConfig server_config(const std::filesystem::path& dir) {
+  DaemonConfig config = testing::test_config(dir);
+  const std::string ipc = "ipc://" + (dir / "").string();
   config.endpoints.ingest = ipc + "ingest";
   config.endpoints.publish = ipc + "publish";
   config.endpoints.query = ipc + "query";
   config.endpoints.metrics = "127.0.0.1:" + std::to_string(free_port());
   config.service.repair_threads = 2;
   config.snapshots.after_events = 0;
+  return config;
+}
+
+TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
+  testing::TempDir dir;
+  const DaemonConfig config = server_config(dir.path());
 
   auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
   SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
@@ -153,6 +159,57 @@ TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
   EXPECT_EQ(service.registry().find("A")->weight(), 7);
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+}
+
+// A snapshot after every window, written off the loop: the one started while A's repair is
+// held waits for A alone (B's batch and query are answered meanwhile), holds A at its
+// position, and not B, whose first batch came after that position.
+TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+
+  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  RecoveryReport report;
+  PoolService service(config, recover(config, *log, snapshots, report), *log);
+  YokedServer server(config, service, snapshots);
+  std::promise<void> latch;
+  std::shared_future<void> opened = latch.get_future().share();
+  server.repair_threads().run("A", [opened] { opened.wait(); });
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  ASSERT_TRUE(next_ack(ingest).has_accepted());  // A repairs (held); a snapshot starts
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  const v1::Ack b1 = next_ack(ingest);
+  ASSERT_TRUE(b1.has_accepted()) << b1.DebugString();
+  ask_summary(query, "B", 1);
+  const v1::QueryReply on_b = next_answer(query);
+  ASSERT_TRUE(on_b.has_summary()) << on_b.DebugString();
+  EXPECT_EQ(on_b.summary().seq(), 1u);
+
+  latch.set_value();
+  ask_summary(query, "A", 2);  // answered once A's repair is collected (and A captured)
+  ASSERT_TRUE(next_answer(query).has_summary());
+  ::kill(::getpid(), SIGTERM);
+  ASSERT_EQ(status.get(), kYokedOk);
+
+  // The oldest snapshot is the one started with A held: A at seq 1 alone.
+  const std::vector<std::uint64_t> positions = snapshots.positions();
+  ASSERT_GE(positions.size(), 2u);
+  const storage::SnapshotContents first = snapshots.read(positions.back());
+  ASSERT_EQ(first.pools.size(), 1u);
+  EXPECT_EQ(first.pools[0].pool(), "A");
+  EXPECT_EQ(first.pools[0].seq(), 1u);
+  EXPECT_EQ(first.pools[0].weight(), 5);
+  // The final one holds both, and a restart from it finds them as they were.
+  const storage::SnapshotContents last = snapshots.read(positions.front());
+  EXPECT_EQ(last.pools.size(), 2u);
 }
 
 }  // namespace
