@@ -57,6 +57,7 @@ struct Settings {
   std::size_t slow_vertices = 100000;
   double pool_rate = 5000;
   bool only_pools = false;
+  bool pools_without_snapshots = false;
 };
 
 std::filesystem::path make_work_dir() {
@@ -180,6 +181,7 @@ int run(const Settings& settings) {
   pools.slow_vertices = settings.slow_vertices;
   pools.rate = settings.pool_rate;
   pools.seconds = settings.quick ? 1 : 4;
+  pools.snapshots = !settings.pools_without_snapshots;
   if (settings.only_pools) {
     run_pool_scaling(context, pools);
     run_long_repair(context, pools);
@@ -324,6 +326,8 @@ int main(int argc, char** argv) {
                  "Offered events per second of the paced pool in the long-repair run")
       ->capture_default_str();
   app.add_flag("--only-pools", settings.only_pools, "Run the multi-pool sections alone");
+  app.add_flag("--pools-without-snapshots", settings.pools_without_snapshots,
+               "No after_events snapshot in the long repair section");
   app.add_flag("--quick", settings.quick, "Small sizes: a smoke run of every phase");
   CLI11_PARSE(app, argc, argv);
   if (settings.quick) {

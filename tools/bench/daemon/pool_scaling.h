@@ -29,6 +29,8 @@ struct PoolScalingSettings {
   std::size_t slow_vertices = 100000;
   double rate = 5000;
   double seconds = 4;
+  // Snapshots after_events at its default in the long repair section (false: none).
+  bool snapshots = true;
 };
 
 // Prints one line per pool count with events/s and the ratio to one pool.
