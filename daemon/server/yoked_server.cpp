@@ -113,6 +113,7 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
 
 YokedServer::~YokedServer() {
   repairs_->join();  // the repairs in flight end on the service's state, which outlives us
+  service_.set_collect_listener(nullptr);  // no snapshot starts its write from here
   try {
     service_.finish_repairs();  // nothing is published any more: only the state is kept
   } catch (const std::exception& error) {
@@ -120,7 +121,6 @@ YokedServer::~YokedServer() {
   }
   service_.set_repair_executor(nullptr);
   service_.set_repair_listener(nullptr);
-  service_.set_collect_listener(nullptr);
   background_.reset();  // waits for a write in progress
 }
 
