@@ -24,7 +24,7 @@ void BackgroundSnapshot::start() {
   records_.clear();
   waiting_for_.clear();
   for (const std::string& name : service_.registry().names()) {
-    if (service_.repairing(name)) {
+    if (service_.capture_after_repair(name)) {
       waiting_for_.insert(name);
     } else if (auto record = capture_pool_at(service_, name, position_, wall_time_)) {
       records_.push_back(std::move(*record));
@@ -33,9 +33,10 @@ void BackgroundSnapshot::start() {
   if (waiting_for_.empty()) start_write();
 }
 
-void BackgroundSnapshot::pool_collected(const std::string& pool) {
+void BackgroundSnapshot::pool_collected(const std::string& pool,
+                                        const PoolService::EngineCapture* engine) {
   if (!started_ || writing_ || waiting_for_.erase(pool) == 0) return;
-  if (auto record = capture_pool_at(service_, pool, position_, wall_time_)) {
+  if (auto record = capture_pool_at(service_, pool, position_, wall_time_, engine)) {
     records_.push_back(std::move(*record));
   }
   if (waiting_for_.empty()) start_write();

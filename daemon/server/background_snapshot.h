@@ -1,6 +1,7 @@
 // A snapshot of every pool at one log position that does not hold the loop: each pool is
 // captured between its windows as soon as it is free (at once, or when its repair in flight is
-// collected: PoolService's collect listener), and the file is written on a thread of its own.
+// collected: PoolService's collect listener; that repair saves the engine state on its worker,
+// PoolService::capture_after_repair), and the file is written on a thread of its own.
 // The loop learns "snapshot P written" (or failed) by `wake`. The local backend's timer and
 // after_events snapshots use it; requested and final snapshots stay synchronous.
 #pragma once
@@ -48,7 +49,7 @@ class BackgroundSnapshot {
   void start();
   // `pool`'s repair was collected (PoolService's collect listener): captured now when the
   // snapshot waits for it; then, once every pool is captured, the write starts.
-  void pool_collected(const std::string& pool);
+  void pool_collected(const std::string& pool, const PoolService::EngineCapture* engine);
   // The finished write's result, once (nothing while capturing or writing).
   std::optional<Written> take_result();
   // Blocks until the write has ended; every pool must have been captured (the caller settles

@@ -107,7 +107,9 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
         service_, *snapshots_,
         [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); });
     service_.set_collect_listener(
-        [this](const std::string& pool) { background_->pool_collected(pool); });
+        [this](const std::string& pool, const PoolService::EngineCapture* engine) {
+          background_->pool_collected(pool, engine);
+        });
   }
 }
 

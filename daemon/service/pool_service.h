@@ -15,6 +15,7 @@
 // does not accept the pool's group of a window (seal()).
 #pragma once
 
+#include <atomic>
 #include <chrono>
 #include <condition_variable>
 #include <cstdint>
@@ -41,6 +42,7 @@
 #include "repair_executor.h"
 #include "service_state.h"
 #include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/pool.pb.h"
 #include "yoke/v1/publish.pb.h"
 
 namespace yoke::daemon {
@@ -89,12 +91,25 @@ class PoolService {
   // Called on the executor's thread each time a repair has finished (the server wakes its
   // loop with it, which then calls finish_repairs()). Set it before repairs start.
   void set_repair_listener(std::function<void()> listener) { repair_listener_ = std::move(listener); }
+  // A pool's engine state as a snapshot keeps it, taken on the worker right after a repair.
+  struct EngineCapture {
+    v1::PoolConfig config;
+    Weight weight = 0;
+    std::size_t pairs = 0;
+    std::size_t vertices = 0;
+    std::size_t edges = 0;
+    std::string state;  // Pool::save()
+  };
+  // Asks the repair of `pool` in flight to capture the engine state it leaves, on the worker
+  // (the collect listener then receives it): a snapshot started while the pool repairs saves
+  // it off the loop. False when no repair of it is in flight; the capture may still be missed
+  // when the repair is already past that point (the listener then receives nullptr). O(log pools).
+  bool capture_after_repair(const std::string& pool);
   // Called by finish_repairs() for each pool whose repair it collects, once its progress is
   // recorded and before the batches that waited for it are checked (a snapshot in progress
-  // captures the pool there).
-  void set_collect_listener(std::function<void(const std::string&)> listener) {
-    collect_listener_ = std::move(listener);
-  }
+  // captures the pool there), with the engine capture asked for, if it was made.
+  using CollectListener = std::function<void(const std::string&, const EngineCapture*)>;
+  void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
   // A repair of `pool` is in flight: its engine state belongs to the executor until
   // finish_repairs() collects it. O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
@@ -194,6 +209,8 @@ class PoolService {
     CommitResult result;
     std::uint64_t repair_us = 0;
     std::exception_ptr failure;
+    std::atomic<bool> capture_wanted{false};  // set by the loop, read by the worker
+    std::optional<EngineCapture> captured;    // the worker's, read by the loop once collected
   };
   struct HeldBatch {
     Ticket ticket;
@@ -232,14 +249,14 @@ class PoolService {
   InlineRepairs inline_repairs_;
   RepairExecutor* executor_ = &inline_repairs_;
   std::function<void()> repair_listener_;
-  std::function<void(const std::string&)> collect_listener_;
-  std::set<std::string> repairing_;                     // pools handed to the executor
+  CollectListener collect_listener_;
+  std::map<std::string, std::shared_ptr<RepairJob>> repairing_;  // handed to the executor
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
   std::size_t held_count_ = 0;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;            // guards finished_ (written by the executor's threads)
   std::condition_variable finished_signal_;
-  std::vector<RepairJob> finished_;
+  std::vector<std::shared_ptr<RepairJob>> finished_;
 };
 
 }  // namespace yoke::daemon

@@ -5,6 +5,7 @@
 #include <stdexcept>
 
 #include "diff_message.h"
+#include "wire_types.h"
 #include "pool_service.h"
 
 namespace yoke::daemon {
@@ -57,7 +58,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       take_pool_state(state_, name);
       continue;
     }
-    if (!repairing_.insert(name).second) {
+    if (!repairing_.emplace(name, job).second) {
       throw std::logic_error("pool " + name + " was handed a second repair while in one");
     }
     job->engine = &pool;
@@ -81,12 +82,24 @@ void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
                                                             start)
           .count());
   job->events.clear();
+  if (!job->failure && job->capture_wanted.load(std::memory_order_acquire)) {
+    const Pool& pool = *job->engine;
+    job->captured = EngineCapture{pool_config(pool), pool.weight(), pool.pairs(),
+                                  pool.vertex_count(), pool.edge_count(), pool.save()};
+  }
   {
     const std::lock_guard lock(finished_mutex_);
-    finished_.push_back(std::move(*job));
+    finished_.push_back(job);
   }
   finished_signal_.notify_all();
   if (repair_listener_) repair_listener_();
+}
+
+bool PoolService::capture_after_repair(const std::string& pool) {
+  const auto it = repairing_.find(pool);
+  if (it == repairing_.end()) return false;
+  it->second->capture_wanted.store(true, std::memory_order_release);
+  return true;
 }
 
 void PoolService::wait_repairs() {
@@ -96,7 +109,7 @@ void PoolService::wait_repairs() {
 }
 
 PoolService::RepairsDone PoolService::finish_repairs() {
-  std::vector<RepairJob> collected;
+  std::vector<std::shared_ptr<RepairJob>> collected;
   {
     const std::lock_guard lock(finished_mutex_);
     collected.swap(finished_);
@@ -104,7 +117,8 @@ PoolService::RepairsDone PoolService::finish_repairs() {
   RepairsDone done = std::move(retired_);
   retired_ = RepairsDone();
   std::exception_ptr failure;
-  for (RepairJob& job : collected) {
+  for (const std::shared_ptr<RepairJob>& done_job : collected) {
+    RepairJob& job = *done_job;
     repairing_.erase(job.pool);
     if (job.failure) {
       if (!failure) failure = job.failure;
@@ -116,7 +130,7 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     done.diffs.push_back(diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
                                         progress.no_perfect_matching, job.repair_us));
     done.window_closed.push_back(job.window_closed);
-    if (collect_listener_) collect_listener_(job.pool);
+    if (collect_listener_) collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
   }
   if (failure) std::rethrow_exception(failure);
 

@@ -11,24 +11,35 @@
 namespace yoke::daemon {
 
 std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& name,
-                                                 std::uint64_t position, std::uint64_t wall_time) {
+                                                 std::uint64_t position, std::uint64_t wall_time,
+                                                 const PoolService::EngineCapture* engine) {
   const PoolProgress* progress = service.progress(name);
   const Pool* pool = service.registry().find(name);
   if (progress == nullptr || progress->seq == 0 || pool == nullptr) return std::nullopt;
   v1::SnapshotRecord record;
   record.set_pool(name);
   record.set_seq(progress->seq);
-  *record.mutable_config() = pool_config(*pool);
+  PoolService::EngineCapture here;
+  if (engine == nullptr) {
+    here = {pool_config(*pool), pool->weight(), pool->pairs(), pool->vertex_count(),
+            pool->edge_count(), pool->save()};
+    engine = &here;
+  }
+  *record.mutable_config() = engine->config;
   for (const auto& [client, mark] : service.ledger().clients_of(name)) {
     if (auto kept = snapshot_mark(client, mark, progress->seq)) *record.add_clients() = *kept;
   }
-  record.set_weight(pool->weight());
-  record.set_pairs(pool->pairs());
-  record.set_vertices(pool->vertex_count());
-  record.set_edges(pool->edge_count());
+  record.set_weight(engine->weight);
+  record.set_pairs(engine->pairs);
+  record.set_vertices(engine->vertices);
+  record.set_edges(engine->edges);
   record.set_wall_time_unix_us(wall_time);
   record.set_engine_state_format(kEngineStateFormat);
-  record.set_engine_state(pool->save());
+  if (engine == &here) {
+    record.set_engine_state(std::move(here.state));
+  } else {
+    record.set_engine_state(engine->state);
+  }
   record.set_journal_position(position);
   return record;
 }

@@ -28,8 +28,11 @@ std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
 // pool has applied nothing: call it when the pool's state is the one at `position` (between
 // its windows; a pool repairing then is captured once its repair is collected, before any
 // later window of it is sealed). O(the pool's state).
-std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& pool,
-                                                 std::uint64_t position, std::uint64_t wall_time);
+// With `engine` (PoolService::capture_after_repair), the engine's part comes from there and
+// only the service's part (seq, retry marks) is read here: O(the pool's client marks).
+std::optional<v1::SnapshotRecord> capture_pool_at(
+    PoolService& service, const std::string& pool, std::uint64_t position,
+    std::uint64_t wall_time, const PoolService::EngineCapture* engine = nullptr);
 
 // One pool's record, at the position that names a snapshot of that pool alone: its
 // last_position + 1 (in cluster mode the pool's snapshot subject; the record's

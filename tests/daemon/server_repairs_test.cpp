@@ -16,6 +16,7 @@
 
 #include "daemon/server/yoked_server.h"
 #include "daemon/service/recovery.h"
+#include "daemon/service/snapshot_capture.h"
 #include "daemon/snapshots/snapshot_directory.h"
 #include "service_test_util.h"
 #include "yoke/v1/ingest.pb.h"
@@ -207,6 +208,9 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   EXPECT_EQ(first.pools[0].pool(), "A");
   EXPECT_EQ(first.pools[0].seq(), 1u);
   EXPECT_EQ(first.pools[0].weight(), 5);
+  // A was saved by its worker right after its repair (capture_after_repair): it restores.
+  const std::unique_ptr<Pool> restored = restore_checked(first.pools[0]);
+  EXPECT_TRUE(testing::pool_certified(*restored));
   // The final one holds both, and a restart from it finds them as they were.
   const storage::SnapshotContents last = snapshots.read(positions.front());
   EXPECT_EQ(last.pools.size(), 2u);
