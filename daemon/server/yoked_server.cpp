@@ -409,7 +409,8 @@ void YokedServer::snapshot_in_background() {
     take_snapshot();
     return;
   }
-  if (background_->busy() || journal_failed_ || stopping_) return;  // the next trigger takes it
+  // One at a time: a trigger meanwhile is taken when this one is written (on_snapshot_written).
+  if (background_->busy() || journal_failed_ || stopping_) return;
   events_since_snapshot_ = 0;
   // The ledger may hold batches of the open window: sealed first, so that every mark it
   // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
@@ -446,6 +447,11 @@ void YokedServer::on_snapshot_written() {
              {"journal_position", written->position},
              {"segments_dropped", dropped},
              {"ms", micros(written->took) / 1000}});
+  // A trigger skipped while this one was in progress is taken now.
+  if (!snapshotting_ && config_.snapshots.after_events > 0 &&
+      events_since_snapshot_ >= config_.snapshots.after_events) {
+    snapshot_in_background();
+  }
 }
 
 void YokedServer::finish_background_snapshot() {
