@@ -463,10 +463,11 @@ void YokedServer::finish_background_snapshot() {
 }
 
 v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& only_pool) {
-  finish_background_snapshot();  // one snapshot at a time, in position order
-  // The ledger may hold batches of the open window, and workers the pools: seal and apply
-  // everything first.
+  // One snapshot at a time, in position order: a background one in progress is finished
+  // first (and starts no other: snapshotting_). The ledger may hold batches of the open
+  // window, and workers the pools: seal and apply everything first.
   snapshotting_ = true;
+  finish_background_snapshot();
   settle_all();
   snapshotting_ = false;
   if (journal_failed_) {
