@@ -26,6 +26,11 @@ void read_batching(TomlTableReader& table, BatchingSettings& out) {
   table.finish();
 }
 
+void read_service(TomlTableReader& table, ServiceSettings& out) {
+  table.read("repair_threads", std::uint64_t{0}, std::uint64_t{256}, out.repair_threads);
+  table.finish();
+}
+
 void read_journal(TomlTableReader& table, journal::Options& out) {
   if (auto value = table.read_string("durability")) {
     const auto durability = parse_durability(*value);
@@ -103,6 +108,7 @@ void read_logging(TomlTableReader& table, LogSettings& out) {
 void read_root(TomlTableReader& root, DaemonConfig& config) {
   if (auto table = root.read_table("endpoints")) read_endpoints(*table, config.endpoints);
   if (auto table = root.read_table("batching")) read_batching(*table, config.batching);
+  if (auto table = root.read_table("service")) read_service(*table, config.service);
   if (auto table = root.read_table("journal")) read_journal(*table, config.journal);
   if (auto table = root.read_table("snapshots")) read_snapshots(*table, config.snapshots);
   if (auto table = root.read_table("limits")) read_limits(*table, config.limits);

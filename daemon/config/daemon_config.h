@@ -33,6 +33,13 @@ struct BatchingSettings {
   std::uint64_t max_events = 10000;   // the window closes early once it holds this many events
 };
 
+// How the daemon uses the machine's cores.
+struct ServiceSettings {
+  // Worker threads that repair pools (each pool's windows in order, different pools at once);
+  // the loop thread answers the sockets beside them. 0: one per CPU this process may use.
+  std::uint64_t repair_threads = 0;
+};
+
 struct SnapshotSettings {
   std::uint64_t interval_seconds = 300;
   std::uint64_t keep = 2;  // newest snapshots kept; older ones are the fallback for a bad one
@@ -88,6 +95,7 @@ struct DaemonConfig {
   std::filesystem::path data_dir;  // no default: the command line must give it
   Endpoints endpoints;
   BatchingSettings batching;
+  ServiceSettings service;
   // yoked waits up to 10 s for the journal's lock: a daemon restarted right after a SIGKILL finds
   // it held until the kernel has torn the killed process down (about 0.5 s for a large one).
   journal::Options journal{.lock_wait_ms = 10'000};

@@ -104,11 +104,13 @@ std::string DaemonMetrics::render(PoolService& service,
                                   std::chrono::steady_clock::duration uptime) {
   uptime_seconds_->set(std::chrono::duration<double>(uptime).count());
   for (const std::string& name : service.registry().names()) {
-    const Pool& pool = *service.registry().find(name);
     const PoolProgress* progress = service.progress(name);
     const metrics::Labels labels = {{"pool", name}};
     registry_.gauge("yoke_pool_seq", "The pool's last applied batch.", labels)
         .set(progress ? progress->seq : 0);
+    // A worker is repairing it: its gauges keep the values of its last repair.
+    if (service.repairing(name)) continue;
+    const Pool& pool = *service.registry().find(name);
     registry_.gauge("yoke_pool_vertices", "Vertices alive in the pool.", labels)
         .set(pool.vertex_count());
     registry_.gauge("yoke_pool_edges", "Edges alive in the pool.", labels).set(pool.edge_count());

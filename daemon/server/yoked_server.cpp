@@ -96,9 +96,35 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
 
   ingest_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, ingest_, [this] { on_ingest_message(); });
   query_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, query_, [this] { on_query_message(); });
+
+  repairs_ = std::make_unique<RepairThreads>(
+      RepairThreads::for_setting(config.service.repair_threads));
+  service_.set_repair_listener(
+      [this] { boost::asio::post(io_, [this] { on_repairs_finished(); }); });
+  service_.set_repair_executor(repairs_.get());
+  if (snapshots_ != nullptr) {
+    background_ = std::make_unique<BackgroundSnapshot>(
+        service_, *snapshots_,
+        [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); });
+    service_.set_collect_listener(
+        [this](const std::string& pool, const PoolService::EngineCapture* engine) {
+          background_->pool_collected(pool, engine);
+        });
+  }
 }
 
-YokedServer::~YokedServer() = default;
+YokedServer::~YokedServer() {
+  repairs_->join();  // the repairs in flight end on the service's state, which outlives us
+  service_.set_collect_listener(nullptr);  // no snapshot starts its write from here
+  try {
+    service_.finish_repairs();  // nothing is published any more: only the state is kept
+  } catch (const std::exception& error) {
+    log_event(LogLevel::error, "repair_failed", {{"reason", error.what()}});
+  }
+  service_.set_repair_executor(nullptr);
+  service_.set_repair_listener(nullptr);
+  background_.reset();  // waits for a write in progress
+}
 
 int YokedServer::run() {
   // systemd (Type=notify) learns here when the daemon serves and when it begins to stop.
@@ -118,7 +144,8 @@ int YokedServer::run() {
   arm_snapshot_timer();
   if (cluster_ != nullptr) arm_cluster_timer();
   log_event(LogLevel::info, "serving",
-            {{"ingest", config_.endpoints.ingest},
+            {{"repair_threads", repairs_->threads()},
+             {"ingest", config_.endpoints.ingest},
              {"publish", config_.endpoints.publish},
              {"query", config_.endpoints.query},
              {"metrics", config_.endpoints.metrics}});
@@ -147,20 +174,7 @@ void YokedServer::on_ingest_message() {
   const Ticket ticket = next_ticket_++;
   std::optional<v1::Ack> ack = service_.offer(ticket, payload.to_string_view());
   if (ack) {
-    if (ack->has_rejected()) {
-      const v1::Error& first = ack->rejected().errors(0);
-      if (refuses_unread_message(*ack)) {
-        log_event(LogLevel::warn, "message_rejected",
-                  {{"code", error_code_name(first.code())}, {"reason", first.message()}});
-      } else {
-        log_event(LogLevel::warn, "batch_rejected",
-                  {{"pool", ack->pool()},
-                   {"client_id", ack->client_id()},
-                   {"client_batch", ack->client_batch()},
-                   {"code", error_code_name(first.code())},
-                   {"reason", first.message()}});
-      }
-    }
+    log_refusal(*ack);
     metrics_->acknowledged(*ack);
     v1::IngestReply reply;
     reply.set_version(v1::PROTOCOL_VERSION_1);
@@ -174,6 +188,22 @@ void YokedServer::on_ingest_message() {
     close_window();
   } else {
     arm_window_timer();
+  }
+}
+
+void YokedServer::log_refusal(const v1::Ack& ack) {
+  if (!ack.has_rejected()) return;
+  const v1::Error& first = ack.rejected().errors(0);
+  if (refuses_unread_message(ack)) {
+    log_event(LogLevel::warn, "message_rejected",
+              {{"code", error_code_name(first.code())}, {"reason", first.message()}});
+  } else {
+    log_event(LogLevel::warn, "batch_rejected",
+              {{"pool", ack.pool()},
+               {"client_id", ack.client_id()},
+               {"client_batch", ack.client_batch()},
+               {"code", error_code_name(first.code())},
+               {"reason", first.message()}});
   }
 }
 
@@ -215,6 +245,7 @@ void YokedServer::close_window() {
       // is unknown, so its pools are read from the log again and claimed anew; the batches
       // are refused (NOT_OWNER, retry) and their retries answered by the ledger later.
       log_event(LogLevel::error, "log_commit_failed", {{"reason", error.what()}});
+      settle();  // the cluster part gives up every pool: no worker may hold one
       send_acks(cluster_->commit_failed(service_, Clock::now()));
       return;
     }
@@ -227,6 +258,7 @@ void YokedServer::close_window() {
   }
   metrics_->journal_synced(Clock::now() - closed, acks.size());
   if (cluster_ != nullptr && !lost.empty()) {
+    settle();
     cluster_->lost(service_, lost, Clock::now());
     // The refusals were written before the cluster part learnt who serves those pools now.
     for (auto& [ticket, ack] : acks) {
@@ -238,23 +270,80 @@ void YokedServer::close_window() {
   }
   send_acks(std::move(acks));
 
-  std::vector<v1::Diff> diffs = service_.apply();
-  for (v1::Diff& diff : diffs) {
+  service_.start_apply(closed);
+  handle_repairs(service_.finish_repairs());  // retirements, and repairs already done
+  // Not while a snapshot settles the windows (it is about to be written).
+  if (!snapshotting_ && config_.snapshots.after_events > 0 &&
+      events_since_snapshot_ >= config_.snapshots.after_events) {
+    try {
+      snapshot_in_background();
+    } catch (const std::exception& failure) {
+      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+      events_since_snapshot_ = 0;  // try again after as many events, not after every window
+    }
+  }
+}
+
+void YokedServer::on_repairs_finished() {
+  if (stopping_) return;
+  try {
+    handle_repairs(service_.finish_repairs());
+  } catch (const std::exception& error) {
+    // As when the loop repaired: a pool the engine could not repair stops the daemon; the
+    // journal holds its batches, and recovery replays them.
+    log_event(LogLevel::critical, "repair_failed", {{"reason", error.what()}});
+    shut_down(kYokedFailure);
+  }
+}
+
+void YokedServer::handle_repairs(PoolService::RepairsDone done) {
+  for (std::size_t i = 0; i < done.diffs.size(); ++i) {
+    v1::Diff& diff = done.diffs[i];
     metrics_->committed(diff);
-    publish(diff, closed);
+    publish(diff, done.window_closed[i]);
     if (diff.retired()) {
       metrics_->pool_retired(diff.pool());
       log_event(LogLevel::info, "pool_retired", {{"pool", diff.pool()}, {"seq", diff.seq()}});
     }
   }
-  if (config_.snapshots.after_events > 0 &&
-      events_since_snapshot_ >= config_.snapshots.after_events) {
-    try {
-      take_snapshot();
-    } catch (const std::exception& failure) {
-      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
-      events_since_snapshot_ = 0;  // try again after as many events, not after every window
+  for (const auto& [ticket, ack] : done.replies) log_refusal(ack);
+  send_acks(std::move(done.replies));
+  answer_held_queries();
+  if (service_.window_empty() || stopping_) return;
+  if (service_.window_events() >= config_.batching.max_events || service_.retire_waiting()) {
+    // Not from here: close_window() itself hands repairs over and collects.
+    boost::asio::post(io_, [this] {
+      if (!stopping_) close_window();
+    });
+  } else {
+    arm_window_timer();
+  }
+}
+
+void YokedServer::answer_held_queries() {
+  bool answered = false;
+  for (auto it = held_queries_.begin(); it != held_queries_.end();) {
+    if (service_.repairing(it->first)) {
+      ++it;
+      continue;
     }
+    for (HeldQuery& held : it->second) answer_query(held.envelope, held.payload);
+    answered = true;
+    it = held_queries_.erase(it);
+  }
+  if (answered) query_watcher_->poke();
+}
+
+void YokedServer::settle() {
+  service_.wait_repairs();
+  on_repairs_finished();  // a failed repair stops the daemon here too
+}
+
+void YokedServer::settle_all() {
+  for (;;) {
+    settle();
+    if (stopping_ || (service_.window_empty() && !service_.repairs_in_flight())) return;
+    close_window();
   }
 }
 
@@ -298,15 +387,89 @@ void YokedServer::on_query_message() {
   if (frames.size() < 2) return;
   zmq::message_t payload = std::move(frames.back());
   frames.pop_back();
-  std::string kind;
-  const std::string answer = queries_.handle(payload.to_string_view(), &kind);
-  metrics_->query(kind);
-  reply(query_, frames, answer);
+  if (const auto pool = QueryHandler::pool_read_by(payload.to_string_view());
+      pool && service_.repairing(*pool)) {
+    // A worker holds that pool's state: answered once its repair is collected.
+    held_queries_[*pool].push_back({std::move(frames), std::move(payload)});
+    return;
+  }
+  answer_query(frames, payload);
   query_watcher_->poke();
 }
 
+void YokedServer::answer_query(Envelope& envelope, const zmq::message_t& payload) {
+  std::string kind;
+  const std::string answer = queries_.handle(payload.to_string_view(), &kind);
+  metrics_->query(kind);
+  reply(query_, envelope, answer);
+}
+
+void YokedServer::snapshot_in_background() {
+  if (background_ == nullptr) {
+    take_snapshot();
+    return;
+  }
+  // One at a time: a trigger meanwhile is taken when this one is written (on_snapshot_written).
+  if (background_->busy() || journal_failed_ || stopping_) return;
+  events_since_snapshot_ = 0;
+  // The ledger may hold batches of the open window: sealed first, so that every mark it
+  // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
+  snapshotting_ = true;
+  close_window();
+  snapshotting_ = false;
+  if (journal_failed_ || stopping_) return;
+  background_->start();
+}
+
+void YokedServer::on_snapshot_written() {
+  if (background_ == nullptr) return;
+  std::optional<BackgroundSnapshot::Written> written = background_->take_result();
+  if (!written) return;
+  if (written->failure) {
+    try {
+      std::rethrow_exception(written->failure);
+    } catch (const std::exception& failure) {
+      // The journal still holds everything: a failed snapshot costs restart time, not data.
+      log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+    }
+    return;
+  }
+  for (const auto& [pool, seq] : written->pool_seqs) {
+    if (service_.progress(pool) != nullptr) service_.progress_of(pool).last_snapshot_seq = seq;
+  }
+  last_snapshot_position_ = written->position;
+  std::size_t dropped = 0;
+  if (const auto oldest = snapshots_->oldest_needed()) dropped = service_.log().drop_before(*oldest);
+  metrics_->snapshot_written(written->took);
+  log_event(LogLevel::info, "snapshot_written",
+            {{"path", written->path},
+             {"pools", written->pool_seqs.size()},
+             {"journal_position", written->position},
+             {"segments_dropped", dropped},
+             {"ms", micros(written->took) / 1000}});
+  // A trigger skipped while this one was in progress is taken now.
+  if (!snapshotting_ && config_.snapshots.after_events > 0 &&
+      events_since_snapshot_ >= config_.snapshots.after_events) {
+    snapshot_in_background();
+  }
+}
+
+void YokedServer::finish_background_snapshot() {
+  if (background_ == nullptr || !background_->busy()) return;
+  while (background_->capturing() && !stopping_) settle();
+  if (background_->capturing()) return;  // stopped: a repair failed; the snapshot is dropped
+  background_->wait_written();
+  on_snapshot_written();
+}
+
 v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& only_pool) {
-  close_window();  // the ledger may hold batches of the open window: seal them first
+  // One snapshot at a time, in position order: a background one in progress is finished
+  // first (and starts no other: snapshotting_). The ledger may hold batches of the open
+  // window, and workers the pools: seal and apply everything first.
+  snapshotting_ = true;
+  finish_background_snapshot();
+  settle_all();
+  snapshotting_ = false;
   if (journal_failed_) {
     // The retry ledger holds batches that never became durable: a snapshot of it would
     // answer their retries as duplicates. Only the journal on disk may be trusted now.
@@ -358,7 +521,7 @@ void YokedServer::arm_snapshot_timer() {
     try {
       // Idle since the last snapshot: the newest file already holds this state.
       if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_position()) {
-        take_snapshot();
+        snapshot_in_background();
       }
     } catch (const std::exception& failure) {
       // The journal still holds everything: a failed snapshot costs restart time, not data.
@@ -372,7 +535,8 @@ void YokedServer::arm_cluster_timer() {
   cluster_timer_.expires_after(cluster_->tick_interval());
   cluster_timer_.async_wait([this](const boost::system::error_code& error) {
     if (error || stopping_) return;
-    close_window();  // a claim or a lost pool changes what the window may hold
+    // A claim or a lost pool changes what the window may hold, and which pools there are.
+    settle_all();
     try {
       std::vector<v1::Diff> diffs = cluster_->tick(service_, Clock::now());
       const Clock::time_point now = Clock::now();
@@ -399,6 +563,16 @@ v1::Health YokedServer::health() const {
 
 void YokedServer::shut_down(int status) {
   if (stopping_) return;
+  if (status != kYokedOk) {
+    // The repairs in flight are of durable windows: their diffs and held work are collected
+    // (the held batches are then refused below) before the cluster part is told.
+    try {
+      settle();
+    } catch (const std::exception& error) {
+      log_event(LogLevel::error, "repair_failed", {{"reason", error.what()}});
+    }
+    if (stopping_) return;
+  }
   if (status == kYokedOk) {
     try {
       close_window();

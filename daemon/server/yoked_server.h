@@ -1,7 +1,9 @@
 // yoked's transport and loop: one Boost.Asio io_context owns the ZeroMQ sockets (ingest
 // ROUTER, publish PUB, query ROUTER), the batching-window and snapshot timers, the signals and
-// the metrics HTTP endpoint. Everything runs on the one thread that calls run(); the
-// PoolService holds the state and never sees a socket. Snapshots go to a snapshot store and
+// the metrics HTTP endpoint. All of that runs on the one thread that calls run(); the pools'
+// repairs run on worker threads (RepairThreads: a strand per pool), which wake the loop when
+// one is done. The PoolService holds the state and never sees a socket; a query about a pool
+// whose repair is in flight waits for it, the others are answered at once. Snapshots go to a snapshot store and
 // the commit log is trimmed below the oldest one kept, both through their interfaces
 // (daemon/storage/), whichever backend holds them.
 #pragma once
@@ -24,6 +26,8 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/storage/snapshot_store.h"
+#include "background_snapshot.h"
+#include "repair_threads.h"
 #include "zmq_socket_watcher.h"
 
 namespace yoke::daemon {
@@ -56,8 +60,31 @@ class YokedServer {
   // failure that makes serving unsafe (returns kYokedFailure).
   int run();
 
+  // The worker threads that repair the pools (tests queue their own tasks on a pool's strand).
+  RepairThreads& repair_threads() { return *repairs_; }
+
  private:
   using Envelope = std::vector<zmq::message_t>;
+  struct HeldQuery {
+    Envelope envelope;
+    zmq::message_t payload;
+  };
+
+  // A worker finished a repair: collects what is done (handle_repairs). On the loop.
+  void on_repairs_finished();
+  // Publishes the diffs collected, answers the batches that waited for their pool's repair and
+  // the queries held for pools no longer repairing; closes or arms the window for the batches
+  // that joined it.
+  void handle_repairs(PoolService::RepairsDone done);
+  void answer_held_queries();
+  // Waits for every repair in flight and handles it: no worker then touches a pool until the
+  // next window closes. Blocks the loop for the longest repair in flight.
+  void settle();
+  // settle() until no repair is in flight and the window is empty (every batch that waited
+  // for a repair sealed and applied): the state a snapshot or the cluster part reads.
+  void settle_all();
+  void log_refusal(const v1::Ack& ack);
+  void answer_query(Envelope& envelope, const zmq::message_t& payload);
 
   void on_ingest_message();
   void on_query_message();
@@ -72,6 +99,14 @@ class YokedServer {
   // each pool on its own and writes `only_pool` alone. O(bytes written) plus a durable write.
   v1::SnapshotTaken take_snapshot(const std::optional<std::string>& only_pool = std::nullopt);
   void arm_snapshot_timer();
+  // The timer's and after_events' snapshot: off the loop with the local backend
+  // (BackgroundSnapshot; skipped while one is still in progress), take_snapshot() in a cluster.
+  void snapshot_in_background();
+  // A background snapshot's write ended: the log is trimmed below the oldest kept, as after
+  // take_snapshot(). On the loop.
+  void on_snapshot_written();
+  // Completes a background snapshot in progress (waits for its pools' repairs, then its write).
+  void finish_background_snapshot();
   void arm_cluster_timer();
   YokedServer(const DaemonConfig& config, PoolService& service, storage::SnapshotStore* snapshots,
               ClusterHooks* cluster);
@@ -95,6 +130,10 @@ class YokedServer {
   storage::SnapshotStore* snapshots_;  // local backend
   ClusterHooks* cluster_;               // cluster backend
   boost::asio::io_context io_;
+  // After io_: its workers post to io_, and it is joined (and destroyed) first.
+  std::unique_ptr<RepairThreads> repairs_;
+  std::map<std::string, std::vector<HeldQuery>> held_queries_;  // by the pool being repaired
+  std::unique_ptr<BackgroundSnapshot> background_;  // local backend only; posts to io_
   zmq::context_t zmq_context_;
   zmq::socket_t ingest_;
   zmq::socket_t publisher_;
@@ -110,6 +149,7 @@ class YokedServer {
   std::unique_ptr<metrics::HttpEndpoint> http_;
 
   bool window_timer_armed_ = false;
+  bool snapshotting_ = false;  // take_snapshot() is settling the windows
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot
   Ticket next_ticket_ = 1;

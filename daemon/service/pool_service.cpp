@@ -32,7 +32,7 @@ bool PoolService::sealed_holds(const std::string& pool) const {
 }
 
 void PoolService::adopt_pool(const std::string& pool, PoolState state) {
-  if (window_pools_.contains(pool) || sealed_holds(pool)) {
+  if (window_pools_.contains(pool) || sealed_holds(pool) || repairing(pool)) {
     throw std::logic_error("pool " + pool +
                            " cannot be adopted while the window holds its batches");
   }
@@ -42,8 +42,9 @@ void PoolService::adopt_pool(const std::string& pool, PoolState state) {
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::serve_elsewhere(const std::string& pool,
                                                                      const std::string& instance) {
-  if (sealed_holds(pool)) {
-    throw std::logic_error("pool " + pool + " cannot be given up between seal() and apply()");
+  if (sealed_holds(pool) || repairing(pool)) {
+    throw std::logic_error("pool " + pool +
+                           " cannot be given up between seal() and the end of its repair");
   }
   const bool was_here = routing_.serving(pool) == Serving::here;
   if (instance.empty()) {
@@ -98,6 +99,16 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
+  if (repairing(batch.pool)) {
+    // Its engine state belongs to a worker now: checked once the repair is collected.
+    held_[batch.pool].push_back({ticket, std::move(batch)});
+    ++held_count_;
+    return std::nullopt;
+  }
+  return offer_decoded(ticket, std::move(batch));
+}
+
+std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch) {
   if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (retiring_.contains(batch.pool)) {
     return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
@@ -323,59 +334,18 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     replies.emplace_back(
         ticket, refuse(refused(batch_ack(ack.client_id(), ack.client_batch(), ack.pool()), error)));
   }
+  for (auto& [pool, waiting] : held_) {
+    for (const HeldBatch& held : waiting) {
+      replies.emplace_back(held.ticket, refuse(refused(ack_for(held.batch), error)));
+    }
+  }
+  held_.clear();
+  held_count_ = 0;
   window_.clear();
   waiting_duplicates_.clear();
   window_pools_.clear();
   window_events_ = 0;
   return replies;
-}
-
-std::vector<v1::Diff> PoolService::apply() {
-  struct PoolWork {
-    std::vector<Event> events;
-    std::uint64_t last_seq = 0;
-    std::uint64_t batches = 0;
-    bool retired = false;  // its last entry retires it (always the last: seal() closes there)
-  };
-  std::map<std::string, PoolWork> work;  // name order: diffs go out in a fixed order
-  for (PendingBatch& pending : sealed_) {
-    PoolWork& pool_work = work[pending.batch.pool];
-    pool_work.events.insert(pool_work.events.end(), pending.batch.events.begin(),
-                            pending.batch.events.end());
-    pool_work.last_seq = pending.seq;
-    ++pool_work.batches;
-    pool_work.retired = pool_work.retired || pending.batch.retire;
-  }
-  sealed_.clear();
-  retiring_.clear();
-
-  std::vector<v1::Diff> diffs;
-  diffs.reserve(work.size());
-  for (auto& [name, pool_work] : work) {
-    Pool& pool = *state_.registry.find(name);
-    if (pool_work.retired) {
-      // Nothing to repair: the pool ends here (the window's batches before the retirement are
-      // in the journal, and replay drops them with the pool as this does).
-      diffs.push_back(diff_of_retirement(name, pool, pool_work.last_seq, sealed_seq_before_[name]));
-      take_pool_state(state_, name);
-      continue;
-    }
-    const auto start = std::chrono::steady_clock::now();
-    const CommitResult result = pool.commit(pool_work.events);
-    const auto repair_us = static_cast<std::uint64_t>(
-        std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
-                                                              start)
-            .count());
-
-    PoolProgress& progress = state_.progress[name];
-    progress.record_commit(result, pool_work.last_seq, pool_work.batches);
-    progress.last_timings.set_repair_us(repair_us);
-
-    diffs.push_back(diff_of_commit(name, result, pool_work.last_seq, sealed_seq_before_[name],
-                                   progress.no_perfect_matching, repair_us));
-  }
-  sealed_seq_before_.clear();
-  return diffs;
 }
 
 }  // namespace yoke::daemon

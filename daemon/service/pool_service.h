@@ -15,9 +15,16 @@
 // does not accept the pool's group of a window (seal()).
 #pragma once
 
+#include <atomic>
 #include <chrono>
+#include <condition_variable>
 #include <cstdint>
+#include <deque>
+#include <exception>
+#include <functional>
 #include <map>
+#include <memory>
+#include <mutex>
 #include <optional>
 #include <set>
 #include <string>
@@ -32,8 +39,10 @@
 #include "daemon/storage/commit_log.h"
 #include "pool_progress.h"
 #include "pool_routing.h"
+#include "repair_executor.h"
 #include "service_state.h"
 #include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/pool.pb.h"
 #include "yoke/v1/publish.pb.h"
 
 namespace yoke::daemon {
@@ -56,22 +65,57 @@ class PoolService {
 
   // Starts serving `pool` here with `state` (recover_pool(), or a follower's ServiceState via
   // take_pool_state()), replacing whatever the service held of it. Throws std::logic_error when
-  // the open or sealed window holds batches of the pool, std::invalid_argument for a pool no
-  // instance of the cluster owns. O(log pools + the pool's client marks).
+  // the open or sealed window holds batches of the pool or its repair is in flight,
+  // std::invalid_argument for a pool no instance of the cluster owns. O(log pools + the pool's
+  // client marks).
   void adopt_pool(const std::string& pool, PoolState state);
 
   // Stops serving `pool` here (when it was) and routes it to `instance` ("" = nobody serves it
   // now): its batches in the open window are refused with NOT_OWNER (the replies are
   // returned), and its state is dropped (pool, progress, retry marks). For a pool not served
-  // here it only changes where refusals send clients. Not between seal() and apply() (throws
-  // std::logic_error then); std::invalid_argument for the local routing, for a pool no
+  // here it only changes where refusals send clients. Not between seal() and apply(), nor
+  // while its repair is in flight (throws std::logic_error then); std::invalid_argument for the local routing, for a pool no
   // instance owns, or an instance not in the cluster. O(window + log pools + marks).
   std::vector<std::pair<Ticket, v1::Ack>> serve_elsewhere(const std::string& pool,
                                                           const std::string& instance);
 
   // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
-  // batch already durable; nothing when the reply comes with the window (see seal()).
+  // batch already durable; nothing when the reply comes with the window (see seal()), or when
+  // the batch's pool is being repaired: the batch then waits and its answer comes from
+  // finish_repairs() (a refusal, a duplicate) or with a later window.
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
+
+  // Repairs go to `executor` from now on (nullptr: the inline default). Only while no repair
+  // is in flight (throws std::logic_error otherwise); the executor must outlive its use.
+  void set_repair_executor(RepairExecutor* executor);
+  // Called on the executor's thread each time a repair has finished (the server wakes its
+  // loop with it, which then calls finish_repairs()). Set it before repairs start.
+  void set_repair_listener(std::function<void()> listener) { repair_listener_ = std::move(listener); }
+  // A pool's engine state as a snapshot keeps it, taken on the worker right after a repair.
+  struct EngineCapture {
+    v1::PoolConfig config;
+    Weight weight = 0;
+    std::size_t pairs = 0;
+    std::size_t vertices = 0;
+    std::size_t edges = 0;
+    std::string state;  // Pool::save()
+  };
+  // Asks the repair of `pool` in flight to capture the engine state it leaves, on the worker
+  // (the collect listener then receives it): a snapshot started while the pool repairs saves
+  // it off the loop. False when no repair of it is in flight; the capture may still be missed
+  // when the repair is already past that point (the listener then receives nullptr). O(log pools).
+  bool capture_after_repair(const std::string& pool);
+  // Called by finish_repairs() for each pool whose repair it collects, once its progress is
+  // recorded and before the batches that waited for it are checked (a snapshot in progress
+  // captures the pool there), with the engine capture asked for, if it was made.
+  using CollectListener = std::function<void(const std::string&, const EngineCapture*)>;
+  void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
+  // A repair of `pool` is in flight: its engine state belongs to the executor until
+  // finish_repairs() collects it. O(log pools).
+  bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
+  bool repairs_in_flight() const { return !repairing_.empty(); }
+  // Batches waiting for their pool's repair (not yet checked nor in the window).
+  std::size_t held_batches() const { return held_count_; }
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
   // The open window holds a pool's retirement (RetirePool, ingest.proto): the caller should
@@ -93,15 +137,41 @@ class PoolService {
 
   // When the window will never be sealed (seal() threw: the log failed, or the daemon stops
   // without closing it): refuses every batch of the open window and every waiting retry with
-  // `error` (UNAVAILABLE) and empties the window. Nothing is applied. The retry ledger still
+  // `error` (UNAVAILABLE) and empties the window, and so every batch waiting for its pool's
+  // repair. Nothing is applied. The retry ledger still
   // names those batches, so the service must take no more batches after it. O(window).
   std::vector<std::pair<Ticket, v1::Ack>> refuse_window(const v1::Error& error);
 
-  // Repairs each pool of the sealed window once and returns its diff, pools in name order.
-  // Timings carry repair_us only; the publisher fills in the rest. A pool retired in the window
-  // is not repaired: its diff says so (Diff.retired, every pair removed) and its whole state
-  // goes (pool, progress, retry marks), which frees its slot under max_pools.
+  // Repairs each pool of the sealed window once and returns its diff, pools in name order:
+  // start_apply(), wait_repairs(), finish_repairs() in one call (its replies are empty when no
+  // batch waited for a repair, as always with the inline executor; a caller with worker
+  // threads uses the three steps). Timings carry repair_us only; the publisher fills in the
+  // rest. A pool retired in the window is not repaired: its diff says so (Diff.retired, every
+  // pair removed) and its whole state goes (pool, progress, retry marks), which frees its slot
+  // under max_pools.
   std::vector<v1::Diff> apply();
+
+  // Hands each pool of the sealed window to the executor for one repair of all its batches
+  // (a retirement is done here, on the caller's thread). `window_closed` comes back with each
+  // diff (RepairsDone). O(window events) here; the repairs' cost on the executor.
+  void start_apply(std::chrono::steady_clock::time_point window_closed =
+                       std::chrono::steady_clock::now());
+
+  struct RepairsDone {
+    std::vector<v1::Diff> diffs;  // one per repair collected (and retirement), in that order
+    // window_closed[i]: start_apply()'s argument for the window of diffs[i].
+    std::vector<std::chrono::steady_clock::time_point> window_closed;
+    // Answers to batches that waited for their pool's repair and were refused or found to be
+    // duplicates when checked now; the others joined the open window.
+    std::vector<std::pair<Ticket, v1::Ack>> replies;
+  };
+  // Collects every repair finished since the last call (progress, diffs), then checks the
+  // batches waiting for pools no longer repairing, in arrival order. Rethrows a repair's
+  // failure (the daemon must stop, as before worker threads). O(collected diffs + batches).
+  RepairsDone finish_repairs();
+
+  // Blocks until every repair in flight has finished (finish_repairs() then collects them).
+  void wait_repairs();
 
   PoolRegistry& registry() { return state_.registry; }
   const PoolProgress* progress(const std::string& pool) const;
@@ -127,7 +197,31 @@ class PoolService {
     BatchChecker checker;
   };
 
+  // One pool's repair as the executor runs it, and its result.
+  struct RepairJob {
+    std::string pool;
+    Pool* engine = nullptr;
+    std::vector<Event> events;
+    std::uint64_t last_seq = 0;
+    std::uint64_t seq_before = 0;
+    std::uint64_t batches = 0;
+    std::chrono::steady_clock::time_point window_closed;
+    CommitResult result;
+    std::uint64_t repair_us = 0;
+    std::exception_ptr failure;
+    std::atomic<bool> capture_wanted{false};  // set by the loop, read by the worker
+    std::optional<EngineCapture> captured;    // the worker's, read by the loop once collected
+  };
+  struct HeldBatch {
+    Ticket ticket;
+    DecodedBatch batch;
+  };
+
   v1::Ack refuse(v1::Ack ack);
+  // offer() once the batch is decoded and its pool is not repairing.
+  std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch);
+  // Runs on the executor: the repair, then the hand back.
+  void run_repair(const std::shared_ptr<RepairJob>& job);
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
   // The retry and after_batch rules (events.proto, EventBatch) for a batch naming its client:
   // nothing when the batch is new and may enter the window; otherwise offer()'s answer (a
@@ -151,6 +245,18 @@ class PoolService {
   std::set<std::string> retiring_;  // pools retired by the open or sealed window
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
+
+  InlineRepairs inline_repairs_;
+  RepairExecutor* executor_ = &inline_repairs_;
+  std::function<void()> repair_listener_;
+  CollectListener collect_listener_;
+  std::map<std::string, std::shared_ptr<RepairJob>> repairing_;  // handed to the executor
+  std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
+  std::size_t held_count_ = 0;
+  RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
+  std::mutex finished_mutex_;            // guards finished_ (written by the executor's threads)
+  std::condition_variable finished_signal_;
+  std::vector<std::shared_ptr<RepairJob>> finished_;
 };
 
 }  // namespace yoke::daemon

@@ -69,6 +69,22 @@ std::string QueryHandler::handle(std::string_view message, std::string* kind) {
   return reply.SerializeAsString();
 }
 
+std::optional<std::string> QueryHandler::pool_read_by(std::string_view message) {
+  v1::QueryRequest request;
+  if (!request.ParseFromArray(message.data(), static_cast<int>(message.size())) ||
+      request.version() != v1::PROTOCOL_VERSION_1) {
+    return std::nullopt;
+  }
+  switch (request.kind_case()) {
+    case v1::QueryRequest::kSummary:
+    case v1::QueryRequest::kMate:
+    case v1::QueryRequest::kMatching:
+    case v1::QueryRequest::kExplain:
+    case v1::QueryRequest::kStats: return resolve_pool_name(request.pool());
+    default: return std::nullopt;
+  }
+}
+
 v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
   if (request.kind_case() == v1::QueryRequest::kHealth) {
     v1::QueryReply reply;

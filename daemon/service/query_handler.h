@@ -6,6 +6,7 @@
 
 #include <cstdint>
 #include <functional>
+#include <optional>
 #include <string>
 #include <string_view>
 
@@ -28,6 +29,12 @@ class QueryHandler {
   // `kind` is given it receives what was asked, for metrics: "summary", ..., "health", or
   // "unknown" (no kind this daemon knows), "malformed" (unreadable), "oversized".
   std::string handle(std::string_view message, std::string* kind = nullptr);
+
+  // The pool whose engine state answering `message` reads (a well-formed request of version 1
+  // about one pool, snapshots aside: they wait for every pool themselves); nothing otherwise.
+  // A server whose repairs run on worker threads holds such a request while that pool's repair
+  // is in flight (PoolService::repairing). O(message).
+  static std::optional<std::string> pool_read_by(std::string_view message);
 
   // Alternatives listed when a request asks for 0, and the most it may ask for.
   static constexpr std::uint32_t kDefaultAlternatives = 5;

@@ -9,40 +9,46 @@
 
 namespace yoke::daemon {
 
-namespace {
-
-// The record of one pool, or nothing when it has applied nothing (nothing to keep).
-std::optional<v1::SnapshotRecord> pool_record(PoolService& service, const std::string& name,
-                                              std::uint64_t position, std::uint64_t wall_time) {
+std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& name,
+                                                 std::uint64_t position, std::uint64_t wall_time,
+                                                 const PoolService::EngineCapture* engine) {
   const PoolProgress* progress = service.progress(name);
   const Pool* pool = service.registry().find(name);
   if (progress == nullptr || progress->seq == 0 || pool == nullptr) return std::nullopt;
   v1::SnapshotRecord record;
   record.set_pool(name);
   record.set_seq(progress->seq);
-  *record.mutable_config() = pool_config(*pool);
+  PoolService::EngineCapture here;
+  if (engine == nullptr) {
+    here = {pool_config(*pool), pool->weight(), pool->pairs(), pool->vertex_count(),
+            pool->edge_count(), pool->save()};
+    engine = &here;
+  }
+  *record.mutable_config() = engine->config;
   for (const auto& [client, mark] : service.ledger().clients_of(name)) {
     if (auto kept = snapshot_mark(client, mark, progress->seq)) *record.add_clients() = *kept;
   }
-  record.set_weight(pool->weight());
-  record.set_pairs(pool->pairs());
-  record.set_vertices(pool->vertex_count());
-  record.set_edges(pool->edge_count());
+  record.set_weight(engine->weight);
+  record.set_pairs(engine->pairs);
+  record.set_vertices(engine->vertices);
+  record.set_edges(engine->edges);
   record.set_wall_time_unix_us(wall_time);
   record.set_engine_state_format(kEngineStateFormat);
-  record.set_engine_state(pool->save());
+  if (engine == &here) {
+    record.set_engine_state(std::move(here.state));
+  } else {
+    record.set_engine_state(engine->state);
+  }
   record.set_journal_position(position);
   return record;
 }
-
-}  // namespace
 
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service) {
   const std::uint64_t wall_time = unix_time_us();
   const std::uint64_t position = service.next_journal_position();
   std::vector<v1::SnapshotRecord> records;
   for (const std::string& name : service.registry().names()) {
-    if (auto record = pool_record(service, name, position, wall_time)) {
+    if (auto record = capture_pool_at(service, name, position, wall_time)) {
       records.push_back(std::move(*record));
     }
   }
@@ -53,7 +59,7 @@ std::optional<v1::SnapshotRecord> capture_pool_snapshot(PoolService& service,
                                                         const std::string& pool) {
   const PoolProgress* progress = service.progress(pool);
   if (progress == nullptr) return std::nullopt;
-  return pool_record(service, pool, progress->last_position + 1, unix_time_us());
+  return capture_pool_at(service, pool, progress->last_position + 1, unix_time_us());
 }
 
 std::optional<v1::ClientMark> snapshot_mark(const std::string& client, const RetryMark& mark,

@@ -20,6 +20,16 @@ namespace yoke::daemon {
 // between windows (nothing pending). O(state size).
 std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
 
+// One pool's record in a snapshot named `position` taken at `wall_time`, or nothing when the
+// pool has applied nothing: call it when the pool's state is the one at `position` (between
+// its windows; a pool repairing then is captured once its repair is collected, before any
+// later window of it is sealed). O(the pool's state).
+// With `engine` (PoolService::capture_after_repair), the engine's part comes from there and
+// only the service's part (seq, retry marks) is read here: O(the pool's client marks).
+std::optional<v1::SnapshotRecord> capture_pool_at(
+    PoolService& service, const std::string& pool, std::uint64_t position,
+    std::uint64_t wall_time, const PoolService::EngineCapture* engine = nullptr);
+
 // One pool's record, at the position that names a snapshot of that pool alone: its
 // last_position + 1 (in cluster mode the pool's snapshot subject; the record's
 // journal_position says the same). Nothing when the pool has applied nothing here. Call

@@ -49,6 +49,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.endpoints.metrics, b.endpoints.metrics);
   EXPECT_EQ(a.batching.max_delay_us, b.batching.max_delay_us);
   EXPECT_EQ(a.batching.max_events, b.batching.max_events);
+  EXPECT_EQ(a.service.repair_threads, b.service.repair_threads);
   EXPECT_EQ(a.journal.durability, b.journal.durability);
   EXPECT_EQ(a.journal.segment_bytes, b.journal.segment_bytes);
   EXPECT_EQ(a.journal.max_record_bytes, b.journal.max_record_bytes);
@@ -128,6 +129,8 @@ metrics = "[::1]:9100"
 [batching]
 max_delay_us = 0
 max_events = 7
+[service]
+repair_threads = 3
 [journal]
 durability = "every-batch"
 segment_bytes = 2097152
@@ -163,6 +166,7 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.endpoints.metrics, "[::1]:9100");
   EXPECT_EQ(config.batching.max_delay_us, 0u);
   EXPECT_EQ(config.batching.max_events, 7u);
+  EXPECT_EQ(config.service.repair_threads, 3u);
   EXPECT_EQ(config.journal.durability, journal::Durability::every_batch);
   EXPECT_EQ(config.journal.segment_bytes, 2097152u);
   EXPECT_EQ(config.journal.max_record_bytes, 8388608u);

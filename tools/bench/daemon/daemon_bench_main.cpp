@@ -7,7 +7,11 @@
 //   3. latency: batches sent on a fixed schedule at --rate events per second, send-to-ack
 //      percentiles, and commit-to-publish percentiles from the published diffs;
 //   4. restart: a pool of --restart-edges edges, stopped cleanly (snapshot) and by SIGKILL
-//      after more batches (snapshot + journal), timed from exec to the first health answer.
+//      after more batches (snapshot + journal), timed from exec to the first health answer;
+//   5. multi-pool ingest: 1, 2, 4 and 8 pools of --pool-vertices fed at once (pool_scaling.h),
+//      events/s and the ratio to one pool;
+//   6. long repair: a base graph of --slow-vertices loaded into one pool while another pool is
+//      paced at --pool-rate: that pool's send-to-ack percentiles alone and beside the repair.
 #include <fcntl.h>
 #include <sys/stat.h>
 #include <unistd.h>
@@ -25,6 +29,7 @@
 #include <zmq.hpp>
 
 #include "ingest_load.h"
+#include "pool_scaling.h"
 #include "tools/bench/machine_facts.h"
 #include "tools/graphgen/event_stream.h"
 #include "yoke/v1/publish.pb.h"
@@ -47,6 +52,12 @@ struct Settings {
   std::string mix = "bench";
   std::string durability = "group";
   bool quick = false;
+  std::size_t pool_vertices = 20000;
+  std::size_t pool_events = 200000;
+  std::size_t slow_vertices = 100000;
+  double pool_rate = 5000;
+  bool only_pools = false;
+  bool pools_without_snapshots = false;
 };
 
 std::filesystem::path make_work_dir() {
@@ -155,6 +166,30 @@ int run(const Settings& settings) {
   zmq::context_t context(1);
   const std::filesystem::path work = make_work_dir();
 
+  PoolScalingSettings pools;
+  pools.yoked = settings.yoked;
+  pools.work = work;
+  pools.write_config = [&settings](const std::filesystem::path& file,
+                                   const YokedEndpoints& endpoints) {
+    write_config(file, endpoints, settings.durability);
+  };
+  pools.vertices = settings.pool_vertices;
+  pools.events = settings.pool_events;
+  pools.batch = settings.batch;
+  pools.in_flight = settings.in_flight;
+  pools.mix = settings.mix;
+  pools.slow_vertices = settings.slow_vertices;
+  pools.rate = settings.pool_rate;
+  pools.seconds = settings.quick ? 1 : 4;
+  pools.snapshots = !settings.pools_without_snapshots;
+  if (settings.only_pools) {
+    run_pool_scaling(context, pools);
+    run_long_repair(context, pools);
+    std::error_code ignored;
+    std::filesystem::remove_all(work, ignored);
+    return 0;
+  }
+
   gen::StreamSpec spec;
   spec.family = gen::StreamFamily::city;
   spec.vertices = settings.vertices;
@@ -246,6 +281,9 @@ int run(const Settings& settings) {
   std::printf("%-34s %8.2f s (snapshot + %zu journalled batches)\n", "  restart after SIGKILL",
               crash_ready, big_batches.size() - 1);
 
+  run_pool_scaling(context, pools);
+  run_long_repair(context, pools);
+
   std::error_code ignored;
   std::filesystem::remove_all(work, ignored);
   return 0;
@@ -275,6 +313,21 @@ int main(int argc, char** argv) {
                  "The journal's durability: group (fsync per window), every-batch or none")
       ->check(CLI::IsMember({"group", "every-batch", "none"}))
       ->capture_default_str();
+  app.add_option("--pool-vertices", settings.pool_vertices,
+                 "Each pool's size in the multi-pool and long-repair runs")
+      ->capture_default_str();
+  app.add_option("--pool-events", settings.pool_events,
+                 "Events shared among the pools in the multi-pool run")
+      ->capture_default_str();
+  app.add_option("--slow-vertices", settings.slow_vertices,
+                 "Base graph loaded into the slow pool in the long-repair run")
+      ->capture_default_str();
+  app.add_option("--pool-rate", settings.pool_rate,
+                 "Offered events per second of the paced pool in the long-repair run")
+      ->capture_default_str();
+  app.add_flag("--only-pools", settings.only_pools, "Run the multi-pool sections alone");
+  app.add_flag("--pools-without-snapshots", settings.pools_without_snapshots,
+               "No after_events snapshot in the long repair section");
   app.add_flag("--quick", settings.quick, "Small sizes: a smoke run of every phase");
   CLI11_PARSE(app, argc, argv);
   if (settings.quick) {
@@ -283,6 +336,10 @@ int main(int argc, char** argv) {
     settings.rate = 5000;
     settings.latency_seconds = 1;
     settings.restart_edges = 30000;
+    settings.pool_vertices = 2000;
+    settings.pool_events = 8000;
+    settings.slow_vertices = 20000;
+    settings.pool_rate = 2000;
   }
   try {
     return run(settings);

@@ -1,0 +1,29 @@
+// Where the PoolService runs its pools' repairs. The service hands over one task per pool at a
+// time (a pool whose repair is in flight takes no other work until the service has collected
+// it: PoolService::finish_repairs), so an executor only has to run tasks; it may run those of
+// different pools at once. The service's own default runs each task at once, on the caller's
+// thread: tests and the fuzzer that drive the service without sockets stay deterministic. The
+// daemon gives worker threads (daemon/server/repair_threads.h).
+#pragma once
+
+#include <functional>
+#include <string>
+
+namespace yoke::daemon {
+
+class RepairExecutor {
+ public:
+  virtual ~RepairExecutor() = default;
+  // Runs `task` (which touches only `pool`'s engine state) now or later, on any thread; the
+  // tasks of one pool in the order given. Never throws from a task: the service's tasks catch
+  // their own failures.
+  virtual void run(const std::string& pool, std::function<void()> task) = 0;
+};
+
+// Runs every task at once, on the thread that gives it. O(1) beyond the task.
+class InlineRepairs final : public RepairExecutor {
+ public:
+  void run(const std::string& /*pool*/, std::function<void()> task) override { task(); }
+};
+
+}  // namespace yoke::daemon

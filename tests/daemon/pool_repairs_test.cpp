@@ -1,0 +1,265 @@
+// The PoolService with repairs handed to an executor: a pool whose repair is in flight holds
+// neither another pool's acknowledgements nor its queries, its own batches wait in order, and
+// each pool's windows apply in seq order with many pools in flight on worker threads.
+//
+// Sources of the expected values: the seq rules of the protocol (events.proto: per pool, from
+// 1, in the order accepted); the certificate checker for every pool state (pool_certified);
+// and the inline executor's run of the same batches for the weights (an optimum is unique in
+// weight whatever order the windows were grouped in).
+#include <deque>
+#include <functional>
+#include <map>
+#include <set>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include <gtest/gtest.h>
+
+#include "daemon/server/repair_threads.h"
+#include "daemon/service/pool_service.h"
+#include "daemon/service/query_handler.h"
+#include "daemon/service/wire_types.h"
+#include "service_test_util.h"
+#include "yoke/v1/query.pb.h"
+
+namespace yoke::daemon {
+namespace {
+
+using testing::from_client;
+using testing::in_pool;
+using testing::ServiceHarness;
+using testing::wire_add;
+using testing::wire_set;
+
+// Keeps every task until the test runs a pool's: the latch of a pool whose repair is held.
+class ManualRepairs final : public RepairExecutor {
+ public:
+  void run(const std::string& pool, std::function<void()> task) override {
+    queued_[pool].push_back(std::move(task));
+  }
+  // Runs the tasks queued for `pool` so far; how many.
+  std::size_t release(const std::string& pool) {
+    std::deque<std::function<void()>> tasks = std::move(queued_[pool]);
+    queued_.erase(pool);
+    for (auto& task : tasks) task();
+    return tasks.size();
+  }
+  std::size_t queued(const std::string& pool) const {
+    const auto it = queued_.find(pool);
+    return it == queued_.end() ? 0 : it->second.size();
+  }
+
+ private:
+  std::map<std::string, std::deque<std::function<void()>>> queued_;
+};
+
+std::string summary_request(const std::string& pool) {
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_pool(pool);
+  request.mutable_summary();
+  return request.SerializeAsString();
+}
+
+std::uint64_t accepted_seq(const std::pair<Ticket, v1::Ack>& reply) {
+  return reply.second.has_accepted() ? reply.second.accepted().seq() : 0;
+}
+
+TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  QueryHandler queries(service, 1 << 20, nullptr, nullptr);
+
+  // Window 1: a pair in each pool; both acknowledged once durable, both repairs handed over.
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B")));
+  const auto first_acks = service.seal();
+  ASSERT_EQ(first_acks.size(), 2u);
+  service.start_apply();
+  EXPECT_TRUE(service.repairing("A"));
+  EXPECT_TRUE(service.repairing("B"));
+
+  // B's repair ends; A's stays held.
+  EXPECT_EQ(repairs.release("B"), 1u);
+  PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(done.diffs[0].pool(), "B");
+  EXPECT_FALSE(service.repairing("B"));
+  EXPECT_TRUE(service.repairing("A"));
+
+  // A's next batch waits, unchecked; B's next batch is acknowledged by the next window.
+  EXPECT_FALSE(harness.offer({wire_add(3), wire_add(4), wire_set(3, 4, 2)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_FALSE(harness.offer({wire_add(3), wire_set(2, 3, 9)}, from_client("b", 2, "B")));
+  const auto second_acks = service.seal();
+  ASSERT_EQ(second_acks.size(), 1u);
+  EXPECT_EQ(second_acks[0].second.pool(), "B");
+  EXPECT_EQ(accepted_seq(second_acks[0]), 2u);
+  service.start_apply();
+  EXPECT_EQ(repairs.release("B"), 1u);
+  done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(done.diffs[0].seq(), 2u);
+
+  // A query on B reads B now; one on A is what a server holds (A's state is the worker's).
+  EXPECT_EQ(QueryHandler::pool_read_by(summary_request("A")), "A");
+  v1::QueryReply reply;
+  ASSERT_TRUE(reply.ParseFromString(queries.handle(summary_request("B"))));
+  ASSERT_TRUE(reply.has_summary()) << reply.DebugString();
+  EXPECT_EQ(reply.summary().seq(), 2u);
+  EXPECT_EQ(reply.summary().weight(), 9);
+
+  // A's repair ends: its waiting batch is checked and joins the window, then gets seq 2.
+  EXPECT_EQ(repairs.release("A"), 1u);
+  done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(done.diffs[0].pool(), "A");
+  EXPECT_EQ(done.diffs[0].seq(), 1u);
+  EXPECT_TRUE(done.replies.empty());
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto third_acks = service.seal();
+  ASSERT_EQ(third_acks.size(), 1u);
+  EXPECT_EQ(third_acks[0].second.pool(), "A");
+  EXPECT_EQ(accepted_seq(third_acks[0]), 2u);
+  service.start_apply();
+  repairs.release("A");
+  done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+  EXPECT_EQ(service.progress("A")->seq, 2u);
+}
+
+TEST(PoolRepairs, HeldBatchesAreCheckedInArrivalOrderWithRetriesAndRefusals) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  service.seal();
+  service.start_apply();
+  // While A repairs: a retry of batch 1, a batch naming an unknown vertex, and batch 2.
+  EXPECT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  EXPECT_FALSE(harness.offer({testing::wire_remove(99)}, from_client("a", 2, "A")));
+  EXPECT_FALSE(harness.offer({wire_set(1, 2, 8)}, from_client("a", 3, "A", 1)));
+  EXPECT_EQ(service.held_batches(), 3u);
+  repairs.release("A");
+  const PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.replies.size(), 2u);
+  EXPECT_TRUE(done.replies[0].second.accepted().duplicate());  // batch 1 is durable: seq 1
+  EXPECT_EQ(done.replies[0].second.accepted().seq(), 1u);
+  ASSERT_TRUE(done.replies[1].second.has_rejected());
+  EXPECT_EQ(done.replies[1].second.rejected().errors(0).code(), v1::Error::UNKNOWN_VERTEX);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(acks[0].second.client_batch(), 3u);
+  EXPECT_EQ(accepted_seq(acks[0]), 2u);
+  service.start_apply();
+  repairs.release("A");
+  service.finish_repairs();
+  EXPECT_EQ(service.progress("A")->seq, 2u);
+  EXPECT_EQ(service.registry().find("A")->weight(), 8);
+}
+
+TEST(PoolRepairs, RefusingTheWindowRefusesTheBatchesWaitingForARepair) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1)}, from_client("a", 1, "A")));
+  service.seal();
+  service.start_apply();
+  EXPECT_FALSE(harness.offer({wire_add(2)}, from_client("a", 2, "A")));
+  const auto refusals =
+      service.refuse_window(make_error(v1::Error::UNAVAILABLE, "stopping"));
+  ASSERT_EQ(refusals.size(), 1u);
+  EXPECT_EQ(refusals[0].second.rejected().errors(0).code(), v1::Error::UNAVAILABLE);
+  EXPECT_EQ(service.held_batches(), 0u);
+  repairs.release("A");
+  service.finish_repairs();
+}
+
+// Many pools on worker threads: windows closed without waiting for the repairs, so that
+// batches wait for their pool's repair and pools repair at once. Every batch is acknowledged
+// once with its pool's next seq, every pool's diffs come in seq order without a gap, and the
+// pools end as the inline run of the same batches ends them (weight and seq), certified.
+TEST(PoolRepairs, WindowsOfOnePoolApplyInOrderWithManyPoolsInFlight) {
+  testing::ScriptSpec spec;
+  spec.pools = {"p0", "p1", "p2", "p3", "p4", "p5", "p6", "p7"};
+  spec.windows = 150;
+  spec.max_batches_per_window = 10;
+  spec.max_events_per_batch = 8;
+  spec.keys = 40;
+  const std::vector<testing::ScriptWindow> script = testing::random_script(spec, 14);
+
+  ServiceHarness reference;
+  ASSERT_TRUE(testing::run_script(reference, script));
+
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  RepairThreads threads(4);
+  service.set_repair_executor(&threads);
+
+  std::map<std::string, std::uint64_t> next_seq;     // per pool, the seq the next ack must carry
+  std::map<std::string, std::uint64_t> last_diff;   // per pool, the seq of its last diff
+  std::size_t acknowledged = 0;
+  std::size_t offered = 0;
+  std::map<Ticket, std::string> pool_of_ticket;
+  const auto take_acks = [&](const std::vector<std::pair<Ticket, v1::Ack>>& acks) {
+    for (const auto& [ticket, ack] : acks) {
+      ASSERT_TRUE(ack.has_accepted()) << ack.DebugString();
+      ASSERT_FALSE(ack.accepted().duplicate());
+      EXPECT_EQ(ack.accepted().seq(), ++next_seq[ack.pool()]) << ack.pool();
+      ASSERT_EQ(pool_of_ticket.erase(ticket), 1u);
+      ++acknowledged;
+    }
+  };
+  const auto take_done = [&](PoolService::RepairsDone done) {
+    ASSERT_TRUE(done.replies.empty());
+    for (const v1::Diff& diff : done.diffs) {
+      EXPECT_EQ(diff.prev_seq(), last_diff[diff.pool()]) << diff.pool();
+      EXPECT_GT(diff.seq(), diff.prev_seq());
+      last_diff[diff.pool()] = diff.seq();
+    }
+  };
+  Ticket ticket = 1;
+  for (const testing::ScriptWindow& window : script) {
+    for (const testing::ScriptBatch& batch : window) {
+      pool_of_ticket[ticket] = batch.header.pool;
+      ASSERT_FALSE(service.offer(ticket++, testing::ingest_message(batch.events, batch.header)));
+      ++offered;
+    }
+    take_acks(service.seal());
+    service.start_apply();
+    take_done(service.finish_repairs());
+  }
+  while (service.repairs_in_flight() || !service.window_empty()) {
+    service.wait_repairs();
+    take_done(service.finish_repairs());
+    take_acks(service.seal());
+    service.start_apply();
+  }
+  EXPECT_EQ(acknowledged, offered);
+  EXPECT_TRUE(pool_of_ticket.empty());
+  for (const std::string& pool : spec.pools) {
+    const Pool* ours = service.registry().find(pool);
+    const Pool* theirs = reference.service().registry().find(pool);
+    if (theirs == nullptr) {
+      EXPECT_EQ(ours, nullptr);
+      continue;
+    }
+    ASSERT_NE(ours, nullptr) << pool;
+    EXPECT_EQ(service.progress(pool)->seq, reference.service().progress(pool)->seq) << pool;
+    EXPECT_EQ(last_diff[pool], service.progress(pool)->seq) << pool;
+    EXPECT_EQ(ours->weight(), theirs->weight()) << pool;
+    EXPECT_TRUE(testing::pool_certified(*ours)) << pool;
+  }
+  threads.join();
+  service.set_repair_executor(nullptr);
+}
+
+}  // namespace
+}  // namespace yoke::daemon

@@ -1,0 +1,220 @@
+// yoked's loop with its repair threads, in process over real ZeroMQ sockets: while pool A's
+// strand is blocked on a latch (so A's repair cannot run), pool B's acknowledgement and a query
+// on B are answered, and A's own batch and query wait for A. No timing: the order of replies on
+// one socket says what waited.
+#include <netinet/in.h>
+#include <signal.h>
+#include <sys/socket.h>
+#include <unistd.h>
+
+#include <future>
+#include <string>
+#include <thread>
+
+#include <gtest/gtest.h>
+#include <zmq.hpp>
+
+#include "daemon/server/yoked_server.h"
+#include "daemon/service/recovery.h"
+#include "daemon/service/snapshot_capture.h"
+#include "daemon/snapshots/snapshot_directory.h"
+#include "service_test_util.h"
+#include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/query.pb.h"
+
+namespace yoke::daemon {
+namespace {
+
+using testing::from_client;
+using testing::wire_add;
+using testing::wire_set;
+
+// A bound on each wait for a reply: a design that holds B's answer fails instead of hanging.
+constexpr int kReplyBoundMs = 30000;
+
+// A loopback port free now (the metrics endpoint needs a number).
+int free_port() {
+  const int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+  sockaddr_in address{};
+  address.sin_family = AF_INET;
+  address.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+  socklen_t length = sizeof(address);
+  if (fd < 0 || ::bind(fd, reinterpret_cast<sockaddr*>(&address), sizeof(address)) != 0 ||
+      ::getsockname(fd, reinterpret_cast<sockaddr*>(&address), &length) != 0) {
+    throw std::runtime_error("no free loopback port");
+  }
+  ::close(fd);
+  return ntohs(address.sin_port);
+}
+
+zmq::socket_t dealer(zmq::context_t& context, const std::string& endpoint) {
+  zmq::socket_t socket(context, zmq::socket_type::dealer);
+  socket.set(zmq::sockopt::linger, 0);
+  socket.set(zmq::sockopt::rcvtimeo, kReplyBoundMs);
+  socket.connect(endpoint);
+  return socket;
+}
+
+v1::Ack next_ack(zmq::socket_t& socket) {
+  zmq::message_t message;
+  if (!socket.recv(message)) throw std::runtime_error("no acknowledgement came");
+  v1::IngestReply reply;
+  if (!reply.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+    throw std::runtime_error("not an IngestReply");
+  }
+  return reply.ack();
+}
+
+v1::QueryReply next_answer(zmq::socket_t& socket) {
+  zmq::message_t message;
+  if (!socket.recv(message)) throw std::runtime_error("no query answer came");
+  v1::QueryReply reply;
+  if (!reply.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+    throw std::runtime_error("not a QueryReply");
+  }
+  return reply;
+}
+
+void ask_summary(zmq::socket_t& socket, const std::string& pool, std::uint64_t id) {
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_request_id(id);
+  request.set_pool(pool);
+  request.mutable_summary();
+  socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
+}
+
+void send_batch(zmq::socket_t& socket, const std::vector<v1::Event>& events,
+                const testing::BatchHeader& header) {
+  socket.send(zmq::buffer(testing::ingest_message(events, header)), zmq::send_flags::none);
+}
+
+// A daemon in `dir` on ipc endpoints there, with two repair threads (one for the latch).
+DaemonConfig server_config(const std::filesystem::path& dir) {
+  DaemonConfig config = testing::test_config(dir);
+  const std::string ipc = "ipc://" + (dir / "").string();
+  config.endpoints.ingest = ipc + "ingest";
+  config.endpoints.publish = ipc + "publish";
+  config.endpoints.query = ipc + "query";
+  config.endpoints.metrics = "127.0.0.1:" + std::to_string(free_port());
+  config.service.repair_threads = 2;
+  config.snapshots.after_events = 0;
+  return config;
+}
+
+TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
+  testing::TempDir dir;
+  const DaemonConfig config = server_config(dir.path());
+
+  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  RecoveryReport report;
+  PoolService service(config, recover(config, *log, snapshots, report), *log);
+  YokedServer server(config, service, snapshots);
+
+  // The hook: A's strand runs this first, so A's repairs wait behind it.
+  std::promise<void> latch;
+  std::shared_future<void> opened = latch.get_future().share();
+  server.repair_threads().run("A", [opened] { opened.wait(); });
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  const v1::Ack a1 = next_ack(ingest);  // durable: its repair now waits behind the latch
+  ASSERT_TRUE(a1.has_accepted()) << a1.DebugString();
+  EXPECT_EQ(a1.accepted().seq(), 1u);
+
+  // Sent first, answered last: A's second batch and a query on A.
+  send_batch(ingest, {wire_add(3), wire_add(4), wire_set(3, 4, 2)}, from_client("a", 2, "A"));
+  ask_summary(query, "A", 1);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  const v1::Ack b1 = next_ack(ingest);
+  EXPECT_EQ(b1.pool(), "B");
+  ASSERT_TRUE(b1.has_accepted()) << b1.DebugString();
+  EXPECT_EQ(b1.accepted().seq(), 1u);
+  ask_summary(query, "B", 2);
+  const v1::QueryReply on_b = next_answer(query);
+  EXPECT_EQ(on_b.request_id(), 2u);
+  ASSERT_TRUE(on_b.has_summary()) << on_b.DebugString();
+  EXPECT_EQ(on_b.summary().seq(), 1u);
+  EXPECT_EQ(on_b.summary().weight(), 7);
+
+  latch.set_value();  // A's repair runs; what waited for it is answered
+  const v1::Ack a2 = next_ack(ingest);
+  EXPECT_EQ(a2.pool(), "A");
+  EXPECT_EQ(a2.client_batch(), 2u);
+  ASSERT_TRUE(a2.has_accepted()) << a2.DebugString();
+  EXPECT_EQ(a2.accepted().seq(), 2u);
+  const v1::QueryReply on_a = next_answer(query);
+  EXPECT_EQ(on_a.request_id(), 1u);
+  ASSERT_TRUE(on_a.has_summary()) << on_a.DebugString();
+  EXPECT_EQ(on_a.summary().seq(), 1u);  // answered once A's first repair was collected
+  EXPECT_EQ(on_a.summary().weight(), 5);
+
+  ::kill(::getpid(), SIGTERM);
+  EXPECT_EQ(status.get(), kYokedOk);
+  EXPECT_EQ(service.progress("A")->seq, 2u);
+  EXPECT_EQ(service.registry().find("A")->weight(), 7);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+}
+
+// A snapshot after every window, written off the loop: the one started while A's repair is
+// held waits for A alone (B's batch and query are answered meanwhile), holds A at its
+// position, and not B, whose first batch came after that position.
+TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+
+  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  RecoveryReport report;
+  PoolService service(config, recover(config, *log, snapshots, report), *log);
+  YokedServer server(config, service, snapshots);
+  std::promise<void> latch;
+  std::shared_future<void> opened = latch.get_future().share();
+  server.repair_threads().run("A", [opened] { opened.wait(); });
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  ASSERT_TRUE(next_ack(ingest).has_accepted());  // A repairs (held); a snapshot starts
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  const v1::Ack b1 = next_ack(ingest);
+  ASSERT_TRUE(b1.has_accepted()) << b1.DebugString();
+  ask_summary(query, "B", 1);
+  const v1::QueryReply on_b = next_answer(query);
+  ASSERT_TRUE(on_b.has_summary()) << on_b.DebugString();
+  EXPECT_EQ(on_b.summary().seq(), 1u);
+
+  latch.set_value();
+  ask_summary(query, "A", 2);  // answered once A's repair is collected (and A captured)
+  ASSERT_TRUE(next_answer(query).has_summary());
+  ::kill(::getpid(), SIGTERM);
+  ASSERT_EQ(status.get(), kYokedOk);
+
+  // The oldest snapshot is the one started with A held: A at seq 1 alone.
+  const std::vector<std::uint64_t> positions = snapshots.positions();
+  ASSERT_GE(positions.size(), 2u);
+  const storage::SnapshotContents first = snapshots.read(positions.back());
+  ASSERT_EQ(first.pools.size(), 1u);
+  EXPECT_EQ(first.pools[0].pool(), "A");
+  EXPECT_EQ(first.pools[0].seq(), 1u);
+  EXPECT_EQ(first.pools[0].weight(), 5);
+  // A was saved by its worker right after its repair (capture_after_repair): it restores.
+  const std::unique_ptr<Pool> restored = restore_checked(first.pools[0]);
+  EXPECT_TRUE(testing::pool_certified(*restored));
+  // The final one holds both, and a restart from it finds them as they were.
+  const storage::SnapshotContents last = snapshots.read(positions.front());
+  EXPECT_EQ(last.pools.size(), 2u);
+}
+
+}  // namespace
+}  // namespace yoke::daemon

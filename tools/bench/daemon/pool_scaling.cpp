@@ -1,0 +1,151 @@
+#include "pool_scaling.h"
+
+#include <algorithm>
+#include <chrono>
+#include <cstdio>
+#include <fstream>
+#include <future>
+#include <stdexcept>
+#include <thread>
+#include <vector>
+
+#include "ingest_load.h"
+#include "tools/graphgen/event_stream.h"
+#include "yoke/v1/query.pb.h"
+
+namespace yoke::bench {
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::size_t vertices,
+                                      std::size_t events, std::uint64_t seed,
+                                      const std::string& pool) {
+  gen::StreamSpec spec;
+  spec.family = gen::StreamFamily::city;
+  spec.vertices = vertices;
+  spec.events = events;
+  spec.batch_min = spec.batch_max = settings.batch;
+  spec.mix = gen::parse_mix(settings.mix);
+  spec.seed = seed;
+  gen::EventStream stream(spec);
+  std::vector<std::vector<Event>> batches;
+  std::vector<Event> batch;
+  while (stream.next_batch(batch)) batches.push_back(batch);
+  return encode_batches(batches, "scaling-" + pool, pool, 1);
+}
+
+// Events per second of `pools` pools fed at once by one pipelined client each.
+double pools_at_once(zmq::context_t& context, const PoolScalingSettings& settings,
+                     std::size_t pools) {
+  const YokedEndpoints endpoints = free_loopback_endpoints();
+  const std::filesystem::path config = settings.work / "scaling.toml";
+  settings.write_config(config, endpoints);
+  std::vector<std::vector<EncodedBatch>> streams;
+  for (std::size_t i = 0; i < pools; ++i) {
+    streams.push_back(pool_stream(settings, settings.vertices, settings.events / pools, 7 + i,
+                                  "pool-" + std::to_string(i)));
+  }
+  YokedProcess daemon(settings.yoked, settings.work / ("scaling-" + std::to_string(pools)), config);
+  daemon.wait_ready(context, endpoints.query, std::chrono::seconds(60));
+  for (const auto& stream : streams) send_pipelined(context, endpoints.ingest, stream, 0, 1, 1);
+
+  const std::size_t in_flight = std::max<std::size_t>(1, settings.in_flight / pools);
+  const Clock::time_point start = Clock::now();
+  std::vector<std::future<LoadResult>> clients;
+  for (const auto& stream : streams) {
+    clients.push_back(std::async(std::launch::async, [&context, &endpoints, &stream, in_flight] {
+      return send_pipelined(context, endpoints.ingest, stream, 1, stream.size(), in_flight);
+    }));
+  }
+  std::size_t events = 0;
+  for (auto& client : clients) events += client.get().events;
+  const double seconds = std::chrono::duration<double>(Clock::now() - start).count();
+  daemon.stop(false);
+  return static_cast<double>(events) / seconds;
+}
+
+// Asks `pool`'s summary and waits for the answer (held by the daemon while the pool repairs).
+void await_summary(zmq::context_t& context, const std::string& endpoint, const std::string& pool) {
+  zmq::socket_t socket(context, zmq::socket_type::dealer);
+  socket.set(zmq::sockopt::linger, 0);
+  socket.set(zmq::sockopt::rcvtimeo, 120000);
+  socket.connect(endpoint);
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_pool(pool);
+  request.mutable_summary();
+  socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
+  zmq::message_t answer;
+  if (!socket.recv(answer)) throw std::runtime_error("no answer about pool " + pool);
+}
+
+void print_percentiles(const char* what, const std::vector<double>& us) {
+  std::printf("  %-40s p50 %8.0f us  p99 %8.0f us  max %8.0f us  (%zu)\n", what,
+              percentile(us, 50), percentile(us, 99), percentile(us, 100), us.size());
+}
+
+}  // namespace
+
+void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settings) {
+  std::printf("\nmulti-pool ingest: %zu events in all after each pool's base graph of %zu "
+              "vertices, %zu in flight shared by one client per pool\n",
+              settings.events, settings.vertices, settings.in_flight);
+  std::printf("  %-8s %14s %12s\n", "pools", "events/s", "vs 1 pool");
+  double one = 0;
+  for (const std::size_t pools : {1, 2, 4, 8}) {
+    const double rate = pools_at_once(context, settings, pools);
+    if (pools == 1) one = rate;
+    std::printf("  %-8zu %14.0f %12.2f\n", pools, rate, rate / std::max(one, 1.0));
+  }
+}
+
+void run_long_repair(zmq::context_t& context, const PoolScalingSettings& settings) {
+  const YokedEndpoints endpoints = free_loopback_endpoints();
+  const std::filesystem::path config = settings.work / "long-repair.toml";
+  settings.write_config(config, endpoints);
+  if (!settings.snapshots) std::ofstream(config, std::ios::app) << "[snapshots]\nafter_events = 0\n";
+  const std::size_t paced_events = static_cast<std::size_t>(settings.rate * settings.seconds);
+  const std::vector<EncodedBatch> quick =
+      pool_stream(settings, settings.vertices, 2 * paced_events, 11, "quick");
+  // Paced from the slow pool's acknowledgement on: it overlaps the repair alone.
+  const std::vector<EncodedBatch> during =
+      pool_stream(settings, settings.vertices, paced_events / 4, 13, "during");
+  const std::vector<EncodedBatch> slow = pool_stream(settings, settings.slow_vertices, 0, 12, "slow");
+  YokedProcess daemon(settings.yoked, settings.work / "long-repair", config);
+  daemon.wait_ready(context, endpoints.query, std::chrono::seconds(60));
+  send_pipelined(context, endpoints.ingest, quick, 0, 1, 1);
+  send_pipelined(context, endpoints.ingest, during, 0, 1, 1);
+  const double per_second = settings.rate / static_cast<double>(settings.batch);
+  const std::size_t half = 1 + (quick.size() - 1) / 2;
+
+  // Alone, then with the slow pool's base graph sent a quarter of the way in.
+  const LoadResult alone = send_paced(context, endpoints.ingest, quick, 1, half, per_second);
+  std::future<LoadResult> paced = std::async(std::launch::async, [&] {
+    return send_paced(context, endpoints.ingest, quick, half, quick.size(), per_second);
+  });
+  std::this_thread::sleep_for(std::chrono::duration<double>(settings.seconds / 4));
+  const LoadResult slow_ack = send_pipelined(context, endpoints.ingest, slow, 0, 1, 1);
+  const Clock::time_point acked = Clock::now();
+  std::future<LoadResult> in_repair = std::async(std::launch::async, [&] {
+    return send_paced(context, endpoints.ingest, during, 1, during.size(), per_second);
+  });
+  await_summary(context, endpoints.query, "slow");
+  const double held = std::chrono::duration<double>(Clock::now() - acked).count();
+  const LoadResult beside = paced.get();
+  const LoadResult repair_only = in_repair.get();
+  daemon.stop(false);
+
+  std::printf("\none pool's long repair vs other pools' acknowledgements (pools of %zu vertices "
+              "paced at %.0f events/s each; snapshots %s):\n",
+              settings.vertices, settings.rate,
+              settings.snapshots ? "after 2x10^5 events, as by default" : "off");
+  print_percentiles("quick send to ack, alone", alone.latency_us);
+  print_percentiles("quick, beside slow's ingest and repair", beside.latency_us);
+  print_percentiles("during, sent from slow's ack on", repair_only.latency_us);
+  std::printf("  pool \"slow\": base graph of %zu events acknowledged in %.2f s, then repairing "
+              "for %.2f s (ack to its query's answer); \"during\" paced for %.2f s of it\n",
+              slow_ack.events, slow_ack.seconds, held, repair_only.seconds);
+}
+
+}  // namespace yoke::bench
