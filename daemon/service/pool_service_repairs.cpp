@@ -64,8 +64,10 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
     job->engine = &pool;
   }
   sealed_seq_before_.clear();
-  for (auto& [name, job] : jobs) {
-    if (job->engine == nullptr) continue;
+  for (auto& [name, pool_job] : jobs) {
+    if (pool_job->engine == nullptr) continue;
+    // A copy of the binding to capture (clang 14 cannot capture a structured binding).
+    std::shared_ptr<RepairJob> job = pool_job;
     executor_->run(name, [this, job] { run_repair(job); });
   }
 }

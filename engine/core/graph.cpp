@@ -11,8 +11,8 @@ namespace yoke {
 
 namespace {
 
-// For the precondition check only (O(m log m), never evaluated in Release).
-bool has_no_duplicate_edge(const std::vector<Edge>& edges) {
+// For the precondition check only (O(m log m), never evaluated in Release, where it is unused).
+[[maybe_unused]] bool has_no_duplicate_edge(const std::vector<Edge>& edges) {
   std::vector<std::pair<Vertex, Vertex>> ends;
   ends.reserve(edges.size());
   for (const Edge& e : edges) ends.emplace_back(std::min(e.a, e.b), std::max(e.a, e.b));
