@@ -7,7 +7,9 @@
 #include <sys/socket.h>
 #include <unistd.h>
 
+#include <filesystem>
 #include <future>
+#include <memory>
 #include <string>
 #include <thread>
 
@@ -102,21 +104,34 @@ DaemonConfig server_config(const std::filesystem::path& dir) {
   return config;
 }
 
+// A yoked server on its own thread, recovered from `dir`, whose pool A's strand first runs a
+// latch: A's repairs wait behind it until `latch.set_value()`.
+struct HeldRepairDaemon {
+  HeldRepairDaemon(const DaemonConfig& config, const std::filesystem::path& dir)
+      : log(journal::JournalCommitLog::open(dir / "journal", config.journal)),
+        snapshots(dir / "snapshots", config.snapshots.keep),
+        service(config, recover(config, *log, snapshots, report), *log),
+        server(config, service, snapshots),
+        opened(latch.get_future().share()) {
+    server.repair_threads().run("A", [held = opened] { held.wait(); });
+    status = std::async(std::launch::async, [this] { return server.run(); });
+  }
+
+  std::unique_ptr<journal::JournalCommitLog> log;
+  SnapshotDirectory snapshots;
+  RecoveryReport report;
+  PoolService service;
+  YokedServer server;
+  std::promise<void> latch;
+  std::shared_future<void> opened;
+  std::future<int> status;  // server.run()'s exit status
+};
+
 TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
   testing::TempDir dir;
   const DaemonConfig config = server_config(dir.path());
 
-  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
-  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
-  RecoveryReport report;
-  PoolService service(config, recover(config, *log, snapshots, report), *log);
-  YokedServer server(config, service, snapshots);
-
-  // The hook: A's strand runs this first, so A's repairs wait behind it.
-  std::promise<void> latch;
-  std::shared_future<void> opened = latch.get_future().share();
-  server.repair_threads().run("A", [opened] { opened.wait(); });
-  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+  HeldRepairDaemon yoked(config, dir.path());
 
   zmq::context_t context(1);
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
@@ -142,7 +157,7 @@ TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
   EXPECT_EQ(on_b.summary().seq(), 1u);
   EXPECT_EQ(on_b.summary().weight(), 7);
 
-  latch.set_value();  // A's repair runs; what waited for it is answered
+  yoked.latch.set_value();  // A's repair runs; what waited for it is answered
   const v1::Ack a2 = next_ack(ingest);
   EXPECT_EQ(a2.pool(), "A");
   EXPECT_EQ(a2.client_batch(), 2u);
@@ -155,11 +170,11 @@ TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
   EXPECT_EQ(on_a.summary().weight(), 5);
 
   ::kill(::getpid(), SIGTERM);
-  EXPECT_EQ(status.get(), kYokedOk);
-  EXPECT_EQ(service.progress("A")->seq, 2u);
-  EXPECT_EQ(service.registry().find("A")->weight(), 7);
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+  EXPECT_EQ(yoked.status.get(), kYokedOk);
+  EXPECT_EQ(yoked.service.progress("A")->seq, 2u);
+  EXPECT_EQ(yoked.service.registry().find("A")->weight(), 7);
+  EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("A")));
+  EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("B")));
 }
 
 // A snapshot after every window, written off the loop: the one started while A's repair is
@@ -171,15 +186,7 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   config.snapshots.after_events = 1;
   config.snapshots.keep = 10;
 
-  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
-  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
-  RecoveryReport report;
-  PoolService service(config, recover(config, *log, snapshots, report), *log);
-  YokedServer server(config, service, snapshots);
-  std::promise<void> latch;
-  std::shared_future<void> opened = latch.get_future().share();
-  server.repair_threads().run("A", [opened] { opened.wait(); });
-  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+  HeldRepairDaemon yoked(config, dir.path());
 
   zmq::context_t context(1);
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
@@ -194,16 +201,16 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   ASSERT_TRUE(on_b.has_summary()) << on_b.DebugString();
   EXPECT_EQ(on_b.summary().seq(), 1u);
 
-  latch.set_value();
+  yoked.latch.set_value();
   ask_summary(query, "A", 2);  // answered once A's repair is collected (and A captured)
   ASSERT_TRUE(next_answer(query).has_summary());
   ::kill(::getpid(), SIGTERM);
-  ASSERT_EQ(status.get(), kYokedOk);
+  ASSERT_EQ(yoked.status.get(), kYokedOk);
 
   // The oldest snapshot is the one started with A held: A at seq 1 alone.
-  const std::vector<std::uint64_t> positions = snapshots.positions();
+  const std::vector<std::uint64_t> positions = yoked.snapshots.positions();
   ASSERT_GE(positions.size(), 2u);
-  const storage::SnapshotContents first = snapshots.read(positions.back());
+  const storage::SnapshotContents first = yoked.snapshots.read(positions.back());
   ASSERT_EQ(first.pools.size(), 1u);
   EXPECT_EQ(first.pools[0].pool(), "A");
   EXPECT_EQ(first.pools[0].seq(), 1u);
@@ -212,7 +219,7 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   const std::unique_ptr<Pool> restored = restore_checked(first.pools[0]);
   EXPECT_TRUE(testing::pool_certified(*restored));
   // The final one holds both, and a restart from it finds them as they were.
-  const storage::SnapshotContents last = snapshots.read(positions.front());
+  const storage::SnapshotContents last = yoked.snapshots.read(positions.front());
   EXPECT_EQ(last.pools.size(), 2u);
 }
 
