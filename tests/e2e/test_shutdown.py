@@ -25,12 +25,17 @@ class ShutdownTest(unittest.TestCase):
         path = os.path.join(daemon.dir, "harbour.txt")
         gen_stream(path, "city", 100, 2000, 20, seed=17)
         daemon.yoke("send", path)
-        # Written off the loop, one at a time: the last may land just after the last ack (well
-        # within the 1 s timer, which would write one more only later).
-        give_up = time.monotonic() + 0.5
-        while len(daemon.log_lines("snapshot_written")) < 2 and time.monotonic() < give_up:
+        # Written off the loop, one at a time: the last ones may land after the last ack, so
+        # wait until the count has stood still for 0.2 s (at most 2 s in all).
+        give_up = time.monotonic() + 2.0
+        by_events, still_since = len(daemon.log_lines("snapshot_written")), time.monotonic()
+        while time.monotonic() < give_up:
             time.sleep(0.02)
-        by_events = len(daemon.log_lines("snapshot_written"))
+            count = len(daemon.log_lines("snapshot_written"))
+            if count != by_events:
+                by_events, still_since = count, time.monotonic()
+            elif by_events >= 2 and time.monotonic() - still_since >= 0.2:
+                break
         self.assertGreaterEqual(by_events, 2, daemon.log_text())  # > 2000 events, 500 a time
         time.sleep(1.5)  # the timer fires at least once: one snapshot of the last state at most
         settled = len(daemon.log_lines("snapshot_written"))
