@@ -26,30 +26,6 @@ std::string shell_quoted(const std::string& text) {
 
 }  // namespace
 
-TempDir::TempDir() {
-  std::string pattern = (std::filesystem::temp_directory_path() / "yoke-cli-test-XXXXXX").string();
-  if (mkdtemp(pattern.data()) == nullptr) throw std::runtime_error("mkdtemp failed");
-  path_ = pattern;
-}
-
-TempDir::~TempDir() {
-  std::error_code ignored;
-  std::filesystem::remove_all(path_, ignored);
-}
-
-std::string TempDir::write(const std::string& name, const std::string& content) const {
-  const std::string full = file(name);
-  std::ofstream(full, std::ios::binary) << content;
-  return full;
-}
-
-std::string TempDir::read(const std::string& name) const {
-  std::ifstream in(file(name), std::ios::binary);
-  std::ostringstream text;
-  text << in.rdbuf();
-  return text.str();
-}
-
 RunResult run_yoke(const TempDir& dir, const std::vector<std::string>& args,
                    const std::string& stdin_text) {
   std::string command = shell_quoted(YOKE_BINARY);

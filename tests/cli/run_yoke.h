@@ -5,25 +5,11 @@
 #include <string>
 #include <vector>
 
+#include "tests/support/temp_dir.h"
+
 namespace yoke::cli::testing {
 
-// A fresh directory under the system temp dir, removed with everything in it on destruction.
-class TempDir {
- public:
-  TempDir();
-  ~TempDir();
-  TempDir(const TempDir&) = delete;
-  TempDir& operator=(const TempDir&) = delete;
-
-  const std::filesystem::path& path() const { return path_; }
-  // Writes `content` to path()/name and returns the full path.
-  std::string write(const std::string& name, const std::string& content) const;
-  std::string read(const std::string& name) const;
-  std::string file(const std::string& name) const { return (path_ / name).string(); }
-
- private:
-  std::filesystem::path path_;
-};
+using TempDir = test_support::TempDir;
 
 struct RunResult {
   int exit_code = -1;  // -1 if yoke did not exit normally

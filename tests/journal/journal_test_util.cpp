@@ -1,7 +1,5 @@
 #include "journal_test_util.h"
 
-#include <stdlib.h>
-
 #include <fstream>
 #include <iterator>
 #include <stdexcept>
@@ -9,17 +7,6 @@
 #include "daemon/journal/segment_names.h"
 
 namespace yoke::journal::testing {
-
-TempDir::TempDir() {
-  std::string pattern = (std::filesystem::temp_directory_path() / "yoke-journal-XXXXXX").string();
-  if (::mkdtemp(pattern.data()) == nullptr) throw std::runtime_error("mkdtemp failed");
-  path_ = pattern;
-}
-
-TempDir::~TempDir() {
-  std::error_code ignored;
-  std::filesystem::remove_all(path_, ignored);
-}
 
 std::string payload_for(std::uint64_t position, std::size_t max_bytes) {
   const std::size_t length = max_bytes == 0 ? 0 : (position * 2654435761u) % (max_bytes + 1);

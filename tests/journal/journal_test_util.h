@@ -10,23 +10,11 @@
 #include <vector>
 
 #include "daemon/journal/journal.h"
+#include "tests/support/temp_dir.h"
 
 namespace yoke::journal::testing {
 
-// A fresh directory under the system temp directory, removed with its contents at the end.
-class TempDir {
- public:
-  TempDir();
-  ~TempDir();
-  TempDir(const TempDir&) = delete;
-  TempDir& operator=(const TempDir&) = delete;
-
-  const std::filesystem::path& path() const { return path_; }
-  std::filesystem::path operator/(const std::string& name) const { return path_ / name; }
-
- private:
-  std::filesystem::path path_;
-};
+using TempDir = test_support::TempDir;
 
 // The payload the tests write at a position: lengths from 0 to max_bytes, bytes depending on
 // the position.
