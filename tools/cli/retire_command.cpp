@@ -2,11 +2,10 @@
 
 #include <iostream>
 
-#include "batch_sender.h"
 #include "cli_error.h"
-#include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
 #include "proto_json.h"
+#include "resend_options.h"
 #include "number_options.h"
 #include "yoke/v1/ingest.pb.h"
 
@@ -49,7 +48,7 @@ void throw_retire_failure(const RetireOptions& options, const SendReport& report
       throw CliError(refused);
     case Outcome::no_acknowledgement:
       throw UnavailableError("no answer from " + report.endpoint + " after " +
-                             std::to_string(options.retries) + " retries: pool " + options.pool +
+                             std::to_string(options.resend.retries) + " retries: pool " + options.pool +
                              " may or may not be retired");
     case Outcome::bad_reply: throw CliError(report.endpoint + ": " + report.problem);
   }
@@ -65,29 +64,17 @@ CLI::App* add_retire_command(CLI::App& app, RetireOptions& options) {
       ->check(kNotNegative)
       ->capture_default_str();
   add_endpoints_option(*command, "--ingest", options.ingest, "The daemon's ingest socket");
-  command
-      ->add_option("--client-id", options.client_id,
-                   "Names the request for its reply [default: yoke-retire-HOST-PID]")
-      ->check(kNotEmpty);
-  add_timeout_option(*command, options.timeout_ms, "Silence after which the request is sent again",
-                     false);
-  command->add_option("--retries", options.retries, "Resends before giving up")
-      ->check(kNotNegative)
-      ->capture_default_str();
-  add_owner_wait_option(*command, options.owner_wait_ms);
+  add_resend_options(*command, options.resend,
+                     {"Names the request for its reply [default: yoke-retire-HOST-PID]",
+                      "Silence after which the request is sent again", "Resends before giving up"});
   command->footer(std::string(kRetireHelp) + kEndpointsHelp);
   return command;
 }
 
 int run_retire(const RetireOptions& options) {
-  SenderSettings settings;
-  settings.client_id = options.client_id.empty() ? default_client_id("retire") : options.client_id;
-  settings.first_batch_number = daemon::unix_time_us();
-  settings.in_flight = 1;
-  settings.timeout = timeout_from_option(options.timeout_ms);
-  settings.retries = options.retries;
+  const SenderSettings settings = sender_settings(options.resend, "retire");
   EndpointRoute route(options.ingest, SocketKind::ingest, options.pool,
-                      timeout_from_option(options.owner_wait_ms));
+                      timeout_from_option(options.resend.owner_wait_ms));
   const SendReport report = send_batches(
       route, {retire_request(options, settings.client_id, settings.first_batch_number)}, settings);
   throw_retire_failure(options, report);

@@ -20,6 +20,7 @@
 #include <CLI/CLI.hpp>
 
 #include "client_options.h"
+#include "resend_options.h"
 
 namespace yoke::cli {
 
@@ -27,10 +28,7 @@ struct RetireOptions {
   std::string pool;
   std::uint64_t at_seq = 0;
   std::vector<std::string> ingest{kDefaultIngestEndpoint};
-  std::string client_id;  // empty: yoke-retire-HOST-PID
-  std::uint64_t timeout_ms = 5000;
-  unsigned retries = 5;
-  std::uint64_t owner_wait_ms = kDefaultOwnerWaitMs;
+  ResendOptions resend;
 };
 
 CLI::App* add_retire_command(CLI::App& app, RetireOptions& options);

@@ -2,14 +2,13 @@
 
 #include <iostream>
 
-#include "batch_sender.h"
 #include "cli_error.h"
-#include "daemon/service/unix_time.h"
 #include "daemon/service/wire_types.h"
 #include "file_io.h"
 #include "input_files.h"
 #include "number_options.h"
 #include "proto_json.h"
+#include "resend_options.h"
 #include "yoke/v1/ingest.pb.h"
 
 namespace yoke::cli {
@@ -67,7 +66,7 @@ std::string refusal(const SendOptions& options, const formats::EventScript& scri
 void throw_failure(const SendOptions& options, const formats::EventScript& script,
                    const SendReport& report) {
   using Outcome = SendReport::Outcome;
-  const std::string retries = std::to_string(options.retries) + " retries";
+  const std::string retries = std::to_string(options.resend.retries) + " retries";
   switch (report.outcome) {
     case Outcome::acknowledged: return;
     case Outcome::rejected: throw CliError(refusal(options, script, report));
@@ -103,34 +102,22 @@ CLI::App* add_send_command(CLI::App& app, SendOptions& options) {
       ->required();
   add_pool_option(*command, options.pool);
   add_endpoints_option(*command, "--ingest", options.ingest, "The daemon's ingest socket");
-  command
-      ->add_option("--client-id", options.client_id,
-                   "The sender's name for exactly-once retries [default: yoke-send-HOST-PID]")
-      ->check(kNotEmpty);
   command->add_option("--in-flight", options.in_flight, "Batches awaiting acknowledgement, at most")
       ->check(kAtLeastOne)
       ->capture_default_str();
-  add_timeout_option(*command, options.timeout_ms,
-                     "Silence after which unacknowledged batches are sent again", false);
-  command->add_option("--retries", options.retries, "Resends of one batch before giving up")
-      ->check(kNotNegative)
-      ->capture_default_str();
-  add_owner_wait_option(*command, options.owner_wait_ms);
+  add_resend_options(*command, options.resend,
+                     {"The sender's name for exactly-once retries [default: yoke-send-HOST-PID]",
+                      "Silence after which unacknowledged batches are sent again",
+                      "Resends of one batch before giving up"});
   command->footer(std::string(kSendHelp) + kEndpointsHelp);
   return command;
 }
 
 int run_send(const SendOptions& options) {
   const formats::EventScript script = load_event_script(options.script_path);
-  const std::string client_id =
-      options.client_id.empty() ? default_client_id("send") : options.client_id;
-
-  SenderSettings settings;
-  settings.client_id = client_id;
-  settings.first_batch_number = daemon::unix_time_us();
+  SenderSettings settings = sender_settings(options.resend, "send");
   settings.in_flight = static_cast<std::size_t>(options.in_flight);
-  settings.timeout = timeout_from_option(options.timeout_ms);
-  settings.retries = options.retries;
+  const std::string& client_id = settings.client_id;
 
   std::vector<std::string> requests;
   requests.reserve(script.batches.size());
@@ -143,7 +130,7 @@ int run_send(const SendOptions& options) {
   SendReport report;
   if (!requests.empty()) {  // nothing to send: no need for a daemon either
     EndpointRoute route(options.ingest, SocketKind::ingest, options.pool,
-                        timeout_from_option(options.owner_wait_ms));
+                        timeout_from_option(options.resend.owner_wait_ms));
     report = send_batches(route, requests, settings);
   }
   throw_failure(options, script, report);

@@ -24,6 +24,7 @@
 #include <CLI/CLI.hpp>
 
 #include "client_options.h"
+#include "resend_options.h"
 
 namespace yoke::cli {
 
@@ -31,11 +32,8 @@ struct SendOptions {
   std::string script_path;
   std::string pool = kDefaultPool;
   std::vector<std::string> ingest{kDefaultIngestEndpoint};
-  std::string client_id;  // empty: yoke-send-HOST-PID
   std::uint64_t in_flight = 32;
-  std::uint64_t timeout_ms = 5000;
-  unsigned retries = 5;
-  std::uint64_t owner_wait_ms = kDefaultOwnerWaitMs;
+  ResendOptions resend;
 };
 
 CLI::App* add_send_command(CLI::App& app, SendOptions& options);
