@@ -40,6 +40,9 @@ class PoolGraph {
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
   void set_weight(EdgeIndex e, Weight w) { graph_.set_weight(e, w); }
   void remove_edge(EdgeIndex e);
+  // Before a repair: lays the incidence lists out in order again when growth has scattered
+  // them (Graph::tidy_incidence). Amortised O(1) per edge added.
+  void tidy_layout() { graph_.tidy_incidence(); }
 
   // Everything, between commits (no slot freed in a batch still pending), and back; the maps
   // are rebuilt from the slots and edges. load() throws InputError on inconsistent bytes.
