@@ -110,6 +110,24 @@ void Graph::remove_edge(EdgeIndex e) {
   free_edges_.push_back(e);
 }
 
+void Graph::renumber(std::span<const Vertex> new_of_old) {
+  const std::size_t n = vertex_count();
+  YOKE_DCHECK(new_of_old.size() == n, "Graph::renumber: not one number per vertex");
+  std::vector<std::uint32_t> degree(n, 0);
+  for (Vertex v = 0; v < n; ++v) degree[new_of_old[v]] = static_cast<std::uint32_t>(incident(v).size());
+  IncidenceLists lists = IncidenceLists::with_room(degree);
+  for (Vertex v = 0; v < n; ++v) {
+    for (const Incidence& inc : incident(v)) lists.push(new_of_old[v], {new_of_old[inc.other], inc.edge, inc.w});
+  }
+  lists.compact();  // slack for the edges to come
+  lists_ = std::move(lists);
+  for (Edge& edge : edges_) {
+    if (edge.a == kNoVertex) continue;
+    edge.a = new_of_old[edge.a];
+    edge.b = new_of_old[edge.b];
+  }
+}
+
 void Graph::save(ByteWriter& out) const {
   out.put<std::uint64_t>(vertex_count());
   out.put<std::uint8_t>(tracking_ ? 1 : 0);

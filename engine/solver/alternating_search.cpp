@@ -81,7 +81,14 @@ void AlternatingSearch::scan(Vertex v) {
   ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
-  for (const Incidence& inc : graph_.incident(v)) {
+  const std::span<const Incidence> incident = graph_.incident(v);
+  // The far ends' search state and duals are scattered reads: ask for all of them before the
+  // first is needed, so their misses overlap instead of following one another.
+  for (const Incidence& inc : incident) {
+    __builtin_prefetch(&vertex_mark_[inc.other]);
+    __builtin_prefetch(&dual2_[inc.other]);
+  }
+  for (const Incidence& inc : incident) {
     const Weight w = inc.w + weight_offset_;
     if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     // The far end's sign says its top node's label, so most edges need no look at the forest.

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "tools/graphgen/rng.h"
+#include "pool/pool_graph.h"
 #include "yoke/graph.h"
 #include "yoke/util/byte_io.h"
 
@@ -228,6 +229,73 @@ TEST(GraphOnFlatLists, RandomEditsAgreeWithAMapOfEdges) {
       }
     }
   }
+}
+
+}  // namespace
+}  // namespace yoke
+
+namespace yoke {
+namespace {
+
+// The pool's slots renumbered for locality: every key keeps its edges and weights (read back by
+// keys), live slots come first in breadth-first order, and a slot freed in the batch stays
+// pending until release_slots().
+TEST(PoolGraphSlotOrder, KeepsKeysEdgesAndPendingSlots) {
+  PoolGraph graph;
+  gen::Rng rng(11);
+  std::map<std::pair<VertexKey, VertexKey>, Weight> edges;
+  for (VertexKey key = 100; key < 180; ++key) graph.add_vertex(key);
+  for (int i = 0; i < 300; ++i) {
+    const VertexKey a = 100 + rng.below(80);
+    const VertexKey b = 100 + rng.below(80);
+    if (a == b || edges.count({std::min(a, b), std::max(a, b)}) != 0) continue;
+    const auto w = static_cast<Weight>(rng.below(1000));
+    graph.add_edge(graph.find(a), graph.find(b), w);
+    edges[{std::min(a, b), std::max(a, b)}] = w;
+  }
+  // A vertex leaves in this batch: its slot must not be reused before the batch ends.
+  const VertexKey gone = 140;
+  const Vertex gone_slot = graph.find(gone);
+  while (!graph.graph().incident(gone_slot).empty()) {
+    const Incidence inc = graph.graph().incident(gone_slot).back();
+    const VertexKey other = graph.key(inc.other);
+    edges.erase({std::min(gone, other), std::max(gone, other)});
+    graph.remove_edge(inc.edge);
+  }
+  graph.remove_vertex(gone_slot);
+
+  graph.order_slots_by_locality();
+
+  EXPECT_EQ(graph.vertex_count(), 79u);
+  EXPECT_EQ(graph.find(gone), kNoVertex);
+  for (VertexKey key = 100; key < 180; ++key) {
+    if (key == gone) continue;
+    const Vertex v = graph.find(key);
+    ASSERT_NE(v, kNoVertex);
+    EXPECT_LT(v, 79u) << "live slots come first";
+    EXPECT_EQ(graph.key(v), key);
+    EXPECT_TRUE(graph.alive(v));
+  }
+  std::size_t listed = 0;
+  for (Vertex v = 0; v < graph.capacity(); ++v) {
+    for (const Incidence& inc : graph.graph().incident(v)) {
+      const VertexKey a = graph.key(v), b = graph.key(inc.other);
+      const auto it = edges.find({std::min(a, b), std::max(a, b)});
+      ASSERT_NE(it, edges.end());
+      EXPECT_EQ(inc.w, it->second);
+      EXPECT_EQ(graph.find_edge(v, inc.other), inc.edge);
+      ++listed;
+    }
+  }
+  EXPECT_EQ(listed, 2 * edges.size());
+  EXPECT_EQ(graph.edge_count(), edges.size());
+  // The pending slot is not handed out in this batch, and is after release_slots().
+  const Vertex fresh = graph.add_vertex(500);
+  EXPECT_FALSE(graph.find(500) == kNoVertex);
+  graph.release_slots();
+  const Vertex reused = graph.add_vertex(501);
+  EXPECT_NE(fresh, reused);
+  EXPECT_EQ(reused, 79u) << "the slot freed in the batch, now the lowest free one";
 }
 
 }  // namespace

@@ -53,6 +53,9 @@ class Graph {
   // O(1), or O(n + m) paid for by the Omega(n + m) moves since the last time. A caller calls
   // it between mutations and searches (PoolGraph::tidy_layout, before a repair).
   void tidy_incidence() { lists_.tidy(); }
+  // Gives vertex v the number new_of_old[v] (a permutation of 0..n-1); edge indices, weights
+  // and the order of each incidence list stay. O(n + m).
+  void renumber(std::span<const Vertex> new_of_old);
 
   std::size_t vertex_count() const { return lists_.vertex_count(); }
   std::size_t edge_count() const { return edges_.size() - free_edges_.size(); }
