@@ -227,6 +227,7 @@ std::size_t AlternatingSearch::run() {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
       scan_queue_.pop_back();
+      if (!scan_queue_.empty()) __builtin_prefetch(graph_.incident(scan_queue_.back()).data());
       scan(v);
     }
     compact_bounds_if_bloated();
@@ -281,8 +282,10 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
     end_tree(tree);
     return;
   }
-  label_odd(node, even_end, free_end, tree);
   const Vertex partner = mate_[base];
+  // The partner's list is scanned next: start fetching it while the odd side is labelled.
+  __builtin_prefetch(graph_.incident(partner).data());
+  label_odd(node, even_end, free_end, tree);
   label_even(forest_.top(partner), base, partner, tree);
 }
 
