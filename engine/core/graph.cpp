@@ -35,28 +35,26 @@ Graph Graph::from_edges(std::size_t vertex_count, std::vector<Edge> edges) {
     ++degree[e.a];
     ++degree[e.b];
   }
-  graph.incidence_.resize(vertex_count);
-  for (std::size_t v = 0; v < vertex_count; ++v) graph.incidence_[v].reserve(degree[v]);
+  graph.lists_ = IncidenceLists::with_room(degree);
   for (std::size_t i = 0; i < edges.size(); ++i) {
     const auto index = static_cast<EdgeIndex>(i);
-    graph.incidence_[edges[i].a].push_back({edges[i].b, index, edges[i].w});
-    graph.incidence_[edges[i].b].push_back({edges[i].a, index, edges[i].w});
+    graph.lists_.push(edges[i].a, {edges[i].b, index, edges[i].w});
+    graph.lists_.push(edges[i].b, {edges[i].a, index, edges[i].w});
   }
   graph.edges_ = std::move(edges);
   return graph;
 }
 
 Vertex Graph::add_vertex() {
-  incidence_.emplace_back();
-  return static_cast<Vertex>(incidence_.size() - 1);
+  const auto v = static_cast<Vertex>(lists_.vertex_count());
+  lists_.grow_vertices(lists_.vertex_count() + 1);
+  return v;
 }
 
-void Graph::grow_vertices(std::size_t vertex_count) {
-  if (vertex_count > incidence_.size()) incidence_.resize(vertex_count);
-}
+void Graph::grow_vertices(std::size_t vertex_count) { lists_.grow_vertices(vertex_count); }
 
 EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
-  YOKE_DCHECK(a < incidence_.size() && b < incidence_.size(), "Graph::add_edge: a missing end");
+  YOKE_DCHECK(a < vertex_count() && b < vertex_count(), "Graph::add_edge: a missing end");
   EdgeIndex index;
   if (free_edges_.empty()) {
     index = static_cast<EdgeIndex>(edges_.size());
@@ -67,12 +65,9 @@ EdgeIndex Graph::add_edge(Vertex a, Vertex b, Weight w) {
     free_edges_.pop_back();
     edges_[index] = {a, b, w};
   }
-  if (tracking_) {
-    positions_[index] = {static_cast<std::uint32_t>(incidence_[a].size()),
-                         static_cast<std::uint32_t>(incidence_[b].size())};
-  }
-  incidence_[a].push_back({b, index, w});
-  incidence_[b].push_back({a, index, w});
+  const std::uint32_t in_a = lists_.push(a, {b, index, w});
+  const std::uint32_t in_b = lists_.push(b, {a, index, w});
+  if (tracking_) positions_[index] = {in_a, in_b};
   return index;
 }
 
@@ -80,9 +75,10 @@ void Graph::track_positions() {
   if (tracking_) return;
   tracking_ = true;
   positions_.assign(edges_.size(), {0, 0});
-  for (Vertex v = 0; v < incidence_.size(); ++v) {
-    for (std::uint32_t i = 0; i < incidence_[v].size(); ++i) {
-      const EdgeIndex e = incidence_[v][i].edge;
+  for (Vertex v = 0; v < vertex_count(); ++v) {
+    const std::span<const Incidence> list = lists_.of(v);
+    for (std::uint32_t i = 0; i < list.size(); ++i) {
+      const EdgeIndex e = list[i].edge;
       (edges_[e].a == v ? positions_[e].in_a : positions_[e].in_b) = i;
     }
   }
@@ -93,18 +89,15 @@ void Graph::set_weight(EdgeIndex e, Weight w) {
               "Graph::set_weight: positions are not tracked or the edge is not live");
   Edge& edge = edges_[e];
   edge.w = w;
-  incidence_[edge.a][positions_[e].in_a].w = w;
-  incidence_[edge.b][positions_[e].in_b].w = w;
+  lists_.at(edge.a, positions_[e].in_a).w = w;
+  lists_.at(edge.b, positions_[e].in_b).w = w;
 }
 
 void Graph::remove_incidence(Vertex v, std::uint32_t at) {
   // Swap-remove: the last entry moves into the hole, and its edge learns its new position.
-  std::vector<Incidence>& list = incidence_[v];
-  const Incidence moved = list.back();
-  list[at] = moved;
-  list.pop_back();
-  if (at == list.size()) return;
-  (edges_[moved.edge].a == v ? positions_[moved.edge].in_a : positions_[moved.edge].in_b) = at;
+  const Incidence* moved = lists_.remove(v, at);
+  if (moved == nullptr) return;
+  (edges_[moved->edge].a == v ? positions_[moved->edge].in_a : positions_[moved->edge].in_b) = at;
 }
 
 void Graph::remove_edge(EdgeIndex e) {
@@ -117,15 +110,33 @@ void Graph::remove_edge(EdgeIndex e) {
   free_edges_.push_back(e);
 }
 
+void Graph::renumber(std::span<const Vertex> new_of_old) {
+  const std::size_t n = vertex_count();
+  YOKE_DCHECK(new_of_old.size() == n, "Graph::renumber: not one number per vertex");
+  std::vector<std::uint32_t> degree(n, 0);
+  for (Vertex v = 0; v < n; ++v) degree[new_of_old[v]] = static_cast<std::uint32_t>(incident(v).size());
+  IncidenceLists lists = IncidenceLists::with_room(degree);
+  for (Vertex v = 0; v < n; ++v) {
+    for (const Incidence& inc : incident(v)) lists.push(new_of_old[v], {new_of_old[inc.other], inc.edge, inc.w});
+  }
+  lists.compact();  // slack for the edges to come
+  lists_ = std::move(lists);
+  for (Edge& edge : edges_) {
+    if (edge.a == kNoVertex) continue;
+    edge.a = new_of_old[edge.a];
+    edge.b = new_of_old[edge.b];
+  }
+}
+
 void Graph::save(ByteWriter& out) const {
-  out.put<std::uint64_t>(incidence_.size());
+  out.put<std::uint64_t>(vertex_count());
   out.put<std::uint8_t>(tracking_ ? 1 : 0);
   out.put_vector(edges_);
   out.put_vector(free_edges_);
   std::vector<EdgeIndex> order;
-  for (const auto& list : incidence_) {
+  for (Vertex v = 0; v < vertex_count(); ++v) {
     order.clear();
-    for (const Incidence& inc : list) order.push_back(inc.edge);
+    for (const Incidence& inc : lists_.of(v)) order.push_back(inc.edge);
     out.put_vector(order);
   }
 }
@@ -146,7 +157,7 @@ Graph Graph::load(ByteReader& in) {
   // Each incidence list takes at least its 8-byte count: a vertex count the bytes cannot hold
   // is damage, and must not first allocate n lists (a few bytes asked for 25 GB; fuzzing found it).
   if (n > in.remaining() / sizeof(std::uint64_t)) ByteReader::fail("too many vertices for its size");
-  graph.incidence_.resize(n);
+  graph.lists_ = IncidenceLists(n);
   for (Vertex v = 0; v < n; ++v) {
     for (EdgeIndex e : in.get_vector<EdgeIndex>(m)) {
       if (e >= m) ByteReader::fail("an incidence names a missing edge");
@@ -156,9 +167,10 @@ Graph Graph::load(ByteReader& in) {
         ByteReader::fail("edge " + std::to_string(e) + " is listed at the wrong vertex");
       }
       seen[e] |= static_cast<std::uint8_t>(end);
-      graph.incidence_[v].push_back({edge.other(v), e, edge.w});
+      graph.lists_.push(v, {edge.other(v), e, edge.w});
     }
   }
+  graph.lists_.compact();  // the lists grew one entry at a time: lay them out in order
   for (EdgeIndex e = 0; e < m; ++e) {
     if (seen[e] != 3) ByteReader::fail("edge " + std::to_string(e) + " is missing from a list");
   }

@@ -52,6 +52,13 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   if (pool.graph.vertex_count() == 0 && !holds_in_batch) {
     // Nothing to repair: the first batch (or one after the pool emptied) is solved from scratch.
     for (const Event& event : batch) load_event(pool, event);
+    // Nothing refers to a slot yet in a new pool: number them for locality (the whole run's
+    // searches read per-vertex arrays by slot). Otherwise lay the lists out in order.
+    if (pool.commits == 0) {
+      pool.graph.order_slots_by_locality();
+    } else {
+      pool.graph.tidy_layout();
+    }
     const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
     pool.stats.initial_solve = true;
     pool.stats.searches = solved.searches;
@@ -63,6 +70,7 @@ CommitResult Pool::commit(std::span<const Event> batch) {
       pool.matching.mate.set_cause(pool.current_cause);
       apply_event(pool, batch[i]);
     }
+    pool.graph.tidy_layout();
     search_from_roots(pool);
   }
   settle_churn_bonus(pool);

@@ -47,6 +47,56 @@ void PoolGraph::release_slots() {
   freed_slots_.clear();
 }
 
+void PoolGraph::order_slots_by_locality() {
+  const std::size_t n = capacity();
+  constexpr Vertex kUnnumbered = kNoVertex;
+  std::vector<Vertex> new_of_old(n, kUnnumbered);
+  std::vector<Vertex> queue;  // the live slots in their new order
+  queue.reserve(key_to_slot_.size());
+  for (Vertex start = 0; start < n; ++start) {
+    if (!alive(start) || new_of_old[start] != kUnnumbered) continue;
+    new_of_old[start] = static_cast<Vertex>(queue.size());
+    queue.push_back(start);
+    for (std::size_t head = queue.size() - 1; head < queue.size(); ++head) {
+      for (const Incidence& inc : graph_.incident(queue[head])) {
+        if (new_of_old[inc.other] != kUnnumbered) continue;
+        new_of_old[inc.other] = static_cast<Vertex>(queue.size());
+        queue.push_back(inc.other);
+      }
+    }
+  }
+  // Dead slots keep their order after the live ones: the used ones first, then those never
+  // used, so next_unused_ still splits them.
+  Vertex next = static_cast<Vertex>(queue.size());
+  std::size_t used_dead = 0;
+  for (Vertex v = 0; v < n; ++v) {
+    if (new_of_old[v] != kUnnumbered) continue;
+    new_of_old[v] = next++;
+    if (v < next_unused_) ++used_dead;
+  }
+  next_unused_ = queue.size() + used_dead;
+
+  graph_.renumber(new_of_old);
+  std::vector<VertexKey> slot_key(n, 0);
+  std::vector<std::uint8_t> slot_alive(n, 0);
+  key_to_slot_ = FlatMap();
+  for (Vertex v = 0; v < n; ++v) {
+    slot_key[new_of_old[v]] = slot_key_[v];
+    slot_alive[new_of_old[v]] = slot_alive_[v];
+    if (slot_alive_[v] != 0) key_to_slot_.insert(slot_key_[v], new_of_old[v]);
+  }
+  slot_key_ = std::move(slot_key);
+  slot_alive_ = std::move(slot_alive);
+  decltype(free_slots_) free_slots;
+  for (; !free_slots_.empty(); free_slots_.pop()) free_slots.push(new_of_old[free_slots_.top()]);
+  free_slots_ = std::move(free_slots);
+  for (Vertex& v : freed_slots_) v = new_of_old[v];
+  edge_of_pair_ = FlatMap();
+  for (EdgeIndex e = 0; e < graph_.edge_slots(); ++e) {
+    if (graph_.is_live(e)) edge_of_pair_.insert(pair_key(graph_.edge(e).a, graph_.edge(e).b), e);
+  }
+}
+
 EdgeIndex PoolGraph::find_edge(Vertex a, Vertex b) const {
   const std::uint32_t e = edge_of_pair_.find(pair_key(a, b));
   return e == FlatMap::kAbsent ? kNoEdge : e;

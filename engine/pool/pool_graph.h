@@ -40,6 +40,15 @@ class PoolGraph {
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
   void set_weight(EdgeIndex e, Weight w) { graph_.set_weight(e, w); }
   void remove_edge(EdgeIndex e);
+  // Before a repair: lays the incidence lists out in order again when growth has scattered
+  // them (Graph::tidy_incidence). Amortised O(1) per edge added.
+  void tidy_layout() { graph_.tidy_incidence(); }
+  // Renumbers the slots so that neighbours get nearby numbers (breadth first over the graph,
+  // component by component from the lowest slot; dead slots after the live ones), so that a
+  // search reading every per-vertex array touches few cache lines and pages. Keys, edges and
+  // weights stay; slots freed in this batch stay pending. O(capacity + m). Precondition: no
+  // state outside this graph refers to a slot (the pool's first batch, before its solve).
+  void order_slots_by_locality();
 
   // Everything, between commits (no slot freed in a batch still pending), and back; the maps
   // are rebuilt from the slots and edges. load() throws InputError on inconsistent bytes.

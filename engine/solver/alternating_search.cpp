@@ -81,7 +81,14 @@ void AlternatingSearch::scan(Vertex v) {
   ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
-  for (const Incidence& inc : graph_.incident(v)) {
+  const std::span<const Incidence> incident = graph_.incident(v);
+  // The far ends' search state and duals are scattered reads: ask for all of them before the
+  // first is needed, so their misses overlap instead of following one another.
+  for (const Incidence& inc : incident) {
+    __builtin_prefetch(&vertex_mark_[inc.other]);
+    __builtin_prefetch(&dual2_[inc.other]);
+  }
+  for (const Incidence& inc : incident) {
     const Weight w = inc.w + weight_offset_;
     if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     // The far end's sign says its top node's label, so most edges need no look at the forest.
@@ -220,6 +227,7 @@ std::size_t AlternatingSearch::run() {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
       scan_queue_.pop_back();
+      if (!scan_queue_.empty()) __builtin_prefetch(graph_.incident(scan_queue_.back()).data());
       scan(v);
     }
     compact_bounds_if_bloated();
@@ -274,8 +282,10 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
     end_tree(tree);
     return;
   }
-  label_odd(node, even_end, free_end, tree);
   const Vertex partner = mate_[base];
+  // The partner's list is scanned next: start fetching it while the odd side is labelled.
+  __builtin_prefetch(graph_.incident(partner).data());
+  label_odd(node, even_end, free_end, tree);
   label_even(forest_.top(partner), base, partner, tree);
 }
 

@@ -1,14 +1,16 @@
-// The graph store: dense vertices, edges in a flat array, per-vertex incidence lists.
+// The graph store: dense vertices, edges in a flat array, per-vertex incidence lists in one
+// flat arena (IncidenceLists: a vertex's entries are contiguous, lists lie in vertex order).
 //
 // Cost: add_vertex and add_edge are amortised O(1); incident(v) is O(1); with positions
 // tracked (track_positions), set_weight and remove_edge are O(1) too. The store never hands out
 // pointers that a later mutation could invalidate except the spans of incident(), which stay
-// valid until the next mutation of that vertex.
+// valid until the next mutation of the graph (a new edge may move lists in the arena).
 #pragma once
 
 #include <span>
 #include <vector>
 
+#include "yoke/incidence_lists.h"
 #include "yoke/types.h"
 #include "yoke/util/byte_io.h"
 
@@ -22,18 +24,10 @@ struct Edge {
   Vertex other(Vertex v) const { return v == a ? b : a; }
 };
 
-// One end of an edge as seen from a vertex: the vertex at the far end, the edge's index and a
-// copy of its weight (the search reads it for every edge it scans).
-struct Incidence {
-  Vertex other;
-  EdgeIndex edge;
-  Weight w;
-};
-
 class Graph {
  public:
   Graph() = default;
-  explicit Graph(std::size_t vertex_count) : incidence_(vertex_count) {}
+  explicit Graph(std::size_t vertex_count) : lists_(vertex_count) {}
 
   // Builds a graph in one pass with exactly sized incidence lists. Preconditions (checked by
   // the loaders, not here): endpoints < vertex_count, no self loops, no duplicate edges.
@@ -54,8 +48,16 @@ class Graph {
   // Preconditions: positions are tracked, e is live.
   void set_weight(EdgeIndex e, Weight w);
   void remove_edge(EdgeIndex e);
+  // Lays the incidence lists out in vertex order again once enough of them have moved to the
+  // arena's end by growing (IncidenceLists::tidy); incidence order within each list is kept.
+  // O(1), or O(n + m) paid for by the Omega(n + m) moves since the last time. A caller calls
+  // it between mutations and searches (PoolGraph::tidy_layout, before a repair).
+  void tidy_incidence() { lists_.tidy(); }
+  // Gives vertex v the number new_of_old[v] (a permutation of 0..n-1); edge indices, weights
+  // and the order of each incidence list stay. O(n + m).
+  void renumber(std::span<const Vertex> new_of_old);
 
-  std::size_t vertex_count() const { return incidence_.size(); }
+  std::size_t vertex_count() const { return lists_.vertex_count(); }
   std::size_t edge_count() const { return edges_.size() - free_edges_.size(); }
   // Edge slots in use or freed: edges() holds removed slots (a == kNoVertex) once an edge was
   // removed; is_live tells them apart.
@@ -63,7 +65,7 @@ class Graph {
   bool is_live(EdgeIndex e) const { return edges_[e].a != kNoVertex; }
   const Edge& edge(EdgeIndex e) const { return edges_[e]; }
   const std::vector<Edge>& edges() const { return edges_; }
-  std::span<const Incidence> incident(Vertex v) const { return incidence_[v]; }
+  std::span<const Incidence> incident(Vertex v) const { return lists_.of(v); }
 
   // The whole store, incidence order included (the search's order follows it), and back.
   // load() checks that the bytes describe a consistent graph and throws InputError otherwise.
@@ -72,13 +74,13 @@ class Graph {
 
  private:
   struct Positions {
-    std::uint32_t in_a;  // index of the edge's entry in incidence_[a]
+    std::uint32_t in_a;  // position of the edge's entry in a's list
     std::uint32_t in_b;
   };
   void remove_incidence(Vertex v, std::uint32_t at);
 
   std::vector<Edge> edges_;
-  std::vector<std::vector<Incidence>> incidence_;
+  IncidenceLists lists_;
   bool tracking_ = false;
   std::vector<Positions> positions_;  // per edge slot, while tracking
   std::vector<EdgeIndex> free_edges_;  // removed slots, reused last-in first-out
