@@ -277,12 +277,11 @@ class EventRepair {
     return forest_.is_vertex(top) ? (mate_[v] == kNoVertex ? 0 : 1) : 1 + forest_.size(top);
   }
 
+  // Counts the vertices whose dual moved as touched (RepairStats counts vertex visits; an
+  // unpriced blossom's vertices are not visited).
   void dissolve_from(NodeId lowest) {
-    NodeId top = lowest;
-    while (forest_.parent(top) != kNoNode) top = forest_.parent(top);
-    pool_.stats.vertices_touched += forest_.size(top);
     bases_.clear();
-    forest_.dissolve_path(lowest, dual2_, bases_);
+    pool_.stats.vertices_touched += forest_.dissolve_path(lowest, dual2_, bases_);
     pool_.stats.blossoms_dissolved += bases_.size();
     for (Vertex base : bases_) recheck_matched_edge(base);
   }

@@ -89,13 +89,16 @@ void BlossomForest::dissolve_unpriced_nest(NodeId b) {
   }
 }
 
-void BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
-                                  std::vector<Vertex>& bases) {
+std::size_t BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
+                                         std::vector<Vertex>& bases) {
   path_.clear();
   for (NodeId node = lowest; node != kNoNode; node = parent_[node]) path_.push_back(node);
   // Walk down from the top. A vertex receives the pushes of all dissolved blossoms holding it at
-  // once, when its child leaves the path: every vertex of the top blossom is visited once.
+  // once, when its child leaves the path: every vertex of the top blossom that gains is visited
+  // once. The levels above the first priced blossom push nothing: their children are left to
+  // the lazy top() repair (a freed slot's caches are stale by version), as dissolve() leaves them.
   Weight pushed = 0;
+  std::size_t moved = 0;
   for (std::size_t level = path_.size(); level-- > 0;) {
     const NodeId b = path_[level];
     const NodeId next = level > 0 ? path_[level - 1] : kNoNode;
@@ -103,15 +106,17 @@ void BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dua
     bases.push_back(base_[b]);
     for (NodeId child : children_[b - vertex_count_]) {
       parent_[child] = kNoNode;
-      if (child == next) continue;
+      if (child == next || pushed == 0) continue;
       const std::uint32_t version = version_[child];
       for_each_vertex(child, [&](Vertex x) {
         vertex_dual2[x] += pushed;
         top_[x] = {child, version};
       });
+      moved += size_[child];
     }
     free_slot(b);
   }
+  return moved;
 }
 
 void BlossomForest::grow(std::size_t vertex_count) {

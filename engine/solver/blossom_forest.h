@@ -89,9 +89,11 @@ class BlossomForest {
   // `vertex_dual2` += z2/2). Edges inside a dissolved blossom keep their slack and edges leaving
   // it gain, so feasibility holds; only the matched edges at the dissolved blossoms' bases can
   // lose tightness, and those bases are appended to `bases` for the caller to check.
-  // O(size of the top blossom), however deep the path.
-  void dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
-                     std::vector<Vertex>& bases);
+  // Returns the number of vertices whose dual moved. Only those are visited: a child that
+  // receives nothing (every dissolved blossom above it is unpriced) costs O(1), its vertices'
+  // top() being repaired lazily as after dissolve(). O(that count + path length + children).
+  std::size_t dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
+                            std::vector<Vertex>& bases);
 
   // Number of vertices in `node`. O(1).
   std::uint32_t size(NodeId node) const { return size_[node]; }

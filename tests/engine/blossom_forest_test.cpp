@@ -617,3 +617,68 @@ TEST(BlossomForest, LazyTopMatchesAClimbUnderRandomDissolves) {
 
 }  // namespace
 }  // namespace yoke
+
+namespace yoke {
+namespace {
+
+// dissolve_path against the definition: every vertex gains half the dual of each dissolved
+// blossom holding it, the count is the number of vertices that gained, the bases of the
+// dissolved blossoms are reported, and top() agrees with a climb. Nests are random, with many
+// unpriced levels above and between priced ones (the levels dissolve_path does not visit).
+TEST(BlossomForest, DissolvePathPushesExactlyTheDissolvedDuals) {
+  constexpr std::size_t kVertices = 243;
+  for (std::uint64_t seed = 1; seed <= 40; ++seed) {
+    SCOPED_TRACE(seed);
+    std::mt19937_64 rng(seed);
+    BlossomForest forest(kVertices);
+    std::vector<NodeId> tops(kVertices);
+    for (Vertex v = 0; v < kVertices; ++v) tops[v] = v;
+    // Nest: merge random odd groups of top-level nodes until few are left.
+    while (tops.size() >= 3) {
+      const std::size_t k = tops.size() >= 5 && rng() % 2 == 0 ? 5 : 3;
+      std::shuffle(tops.begin(), tops.end(), rng);
+      std::vector<NodeId> children(tops.end() - static_cast<std::ptrdiff_t>(k), tops.end());
+      tops.resize(tops.size() - k);
+      std::vector<CycleEdge> edges;
+      for (std::size_t i = 0; i < k; ++i) {
+        edges.push_back({forest.base(children[i]), forest.base(children[(i + 1) % k])});
+      }
+      const NodeId b = forest.make_blossom(children, edges);
+      const std::uint64_t roll = rng() % 4;
+      forest.set_dual2(b, roll < 2 ? 0 : static_cast<Weight>(2 * roll));
+      tops.push_back(b);
+    }
+    std::vector<Weight> dual2(kVertices);
+    for (Vertex v = 0; v < kVertices; ++v) dual2[v] = static_cast<Weight>(2 * (rng() % 5));
+    for (Vertex v = 0; v < kVertices; ++v) forest.top(v);  // warm caches, so stale ones are tested
+
+    const auto v = static_cast<Vertex>(rng() % kVertices);
+    if (forest.parent(v) == kNoNode) continue;
+    // The lowest blossom: some ancestor of v, dissolved with everything above it.
+    std::vector<NodeId> path;
+    for (NodeId node = forest.parent(v); node != kNoNode; node = forest.parent(node)) path.push_back(node);
+    path.erase(path.begin(), path.begin() + static_cast<std::ptrdiff_t>(rng() % path.size()));
+    std::vector<Weight> expected = dual2;
+    std::set<Vertex> expected_bases;
+    for (NodeId b : path) {
+      expected_bases.insert(forest.base(b));
+      forest.for_each_vertex(b, [&](Vertex x) { expected[x] += forest.dual2(b) / 2; });
+    }
+    std::size_t gained = 0;
+    for (Vertex x = 0; x < kVertices; ++x) gained += expected[x] != dual2[x] ? 1 : 0;
+
+    std::vector<Vertex> bases;
+    const std::size_t moved = forest.dissolve_path(path.front(), dual2, bases);
+    EXPECT_EQ(dual2, expected);
+    EXPECT_EQ(moved, gained);
+    EXPECT_EQ(std::set<Vertex>(bases.begin(), bases.end()), expected_bases);
+    for (Vertex x = 0; x < kVertices; ++x) {
+      NodeId node = x;
+      while (forest.parent(node) != kNoNode) node = forest.parent(node);
+      ASSERT_EQ(forest.top(x), node) << "vertex " << x;
+    }
+  }
+}
+
+}  // namespace
+}  // namespace yoke
