@@ -10,7 +10,9 @@
 // pool is exported (not timed) and the classes are found from its matching (timed, CPU);
 // vertices are compared with the previous commit's classes by key. Prints, per action kind:
 // commits, commits that changed some vertex's class, vertices changed (p50 / max over those
-// commits), and the class search's and the commit's CPU time (p50).
+// commits), the class search's CPU time, the same commit's in a max-weight pool (replayed
+// first) and in the max-cardinality pool (p50), and the latter's p50 apart for
+// commits that start from a perfectly matchable graph (D empty) and from one with D.
 #include <algorithm>
 #include <cstdio>
 #include <map>
@@ -40,6 +42,9 @@ struct KindFigures {
   std::vector<double> vertices_changed;  // over the commits that changed some class
   std::vector<double> classes_us;
   std::vector<double> commit_us;
+  std::vector<double> commit_us_perfect;  // the graph before the commit had a perfect matching
+  std::vector<double> commit_us_odd;      // it had a missable vertex
+  std::vector<double> max_weight_us;      // the same commit in a max-weight pool
 };
 
 using ClassByKey = std::unordered_map<VertexKey, MatchClass>;
@@ -92,6 +97,17 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
               static_cast<unsigned long long>(seed));
   std::printf("stream: the modes section's (--mix tail, aimed at max-weight), %zu vertices, %zu edges, %zu commits\n",
               stream.base_vertices, stream.base_edges, stream.batches.size());
+  // The reference: the same commits in a max-weight pool, CPU time of each.
+  std::vector<double> reference_us;
+  {
+    Pool reference(Mode::max_weight);
+    reference.commit(stream.base);
+    for (const auto& batch : stream.batches) {
+      const Stopwatch watch;
+      reference.commit(batch);
+      reference_us.push_back(watch.cpu_ms() * 1000);
+    }
+  }
   Pool pool(Mode::max_cardinality);
   pool.commit(stream.base);
   Snapshot last = classes_of(pool);
@@ -108,6 +124,8 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
       ++k->commits;
       k->classes_us.push_back(next.search_us);
       k->commit_us.push_back(commit_us);
+      k->max_weight_us.push_back(reference_us[c]);
+      (last.missable == 0 ? k->commit_us_perfect : k->commit_us_odd).push_back(commit_us);
       if (changed > 0) {
         ++k->changed;
         k->vertices_changed.push_back(static_cast<double>(changed));
@@ -116,12 +134,13 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
     last = std::move(next);
   }
   print_snapshot("after the last commit", last);
-  std::printf("\n| action | commits | commits changing classes | vertices changed p50 | max | class search us p50 | max-cardinality commit us p50 |\n"
-              "|---|---|---|---|---|---|---|\n");
+  std::printf("\n| action | commits | commits changing classes | vertices changed p50 | max | class search us p50 | max-weight commit us p50 | max-cardinality commit us p50 | after a perfect state: commits, p50 | after a state with D: commits, p50 |\n"
+              "|---|---|---|---|---|---|---|---|---|---|---|---|\n");
   auto row = [](const std::string& name, const KindFigures& k) {
-    std::printf("| %s | %zu | %zu | %.0f | %.0f | %.0f | %.0f |\n", name.c_str(), k.commits, k.changed,
-                percentile(k.vertices_changed, 0.5), percentile(k.vertices_changed, 1.0),
-                percentile(k.classes_us, 0.5), percentile(k.commit_us, 0.5));
+    std::printf("| %s | %zu | %zu | %.0f | %.0f | %.0f | %.0f | %.0f | %zu | %.0f | %zu | %.0f |\n", name.c_str(),
+                k.commits, k.changed, percentile(k.vertices_changed, 0.5), percentile(k.vertices_changed, 1.0),
+                percentile(k.classes_us, 0.5), percentile(k.max_weight_us, 0.5), percentile(k.commit_us, 0.5), k.commit_us_perfect.size(),
+                percentile(k.commit_us_perfect, 0.5), k.commit_us_odd.size(), percentile(k.commit_us_odd, 0.5));
   };
   for (const auto& [name, k] : kinds) row(name, k);
   row("all", all);
