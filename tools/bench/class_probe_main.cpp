@@ -12,7 +12,8 @@
 // commits, commits that changed some vertex's class, vertices changed (p50 / max over those
 // commits), the class search's CPU time, the same commit's in a max-weight pool (replayed
 // first) and in the max-cardinality pool (p50), and the latter's p50 apart for
-// commits that start from a perfectly matchable graph (D empty) and from one with D.
+// commits that start from a perfectly matchable graph (D empty) and from one with D, with the
+// vertices each touched (RepairStats::vertices_touched).
 #include <algorithm>
 #include <cstdio>
 #include <map>
@@ -45,6 +46,8 @@ struct KindFigures {
   std::vector<double> commit_us_perfect;  // the graph before the commit had a perfect matching
   std::vector<double> commit_us_odd;      // it had a missable vertex
   std::vector<double> max_weight_us;      // the same commit in a max-weight pool
+  std::vector<double> touched_perfect;    // vertices the commit touched, by state before it
+  std::vector<double> touched_odd;
 };
 
 using ClassByKey = std::unordered_map<VertexKey, MatchClass>;
@@ -116,8 +119,9 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
   KindFigures all;
   for (std::size_t c = 0; c < stream.batches.size(); ++c) {
     const Stopwatch watch;
-    pool.commit(stream.batches[c]);
+    const CommitResult committed = pool.commit(stream.batches[c]);
     const double commit_us = watch.cpu_ms() * 1000;
+    const auto touched = static_cast<double>(committed.stats.vertices_touched);
     Snapshot next = classes_of(pool);
     const std::size_t changed = changed_vertices(last.classes, next.classes);
     for (KindFigures* k : {&kinds[stream.kinds[c]], &all}) {
@@ -126,6 +130,7 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
       k->commit_us.push_back(commit_us);
       k->max_weight_us.push_back(reference_us[c]);
       (last.missable == 0 ? k->commit_us_perfect : k->commit_us_odd).push_back(commit_us);
+      (last.missable == 0 ? k->touched_perfect : k->touched_odd).push_back(touched);
       if (changed > 0) {
         ++k->changed;
         k->vertices_changed.push_back(static_cast<double>(changed));
@@ -134,13 +139,14 @@ int run(std::size_t vertices, std::size_t actions, std::uint64_t seed) {
     last = std::move(next);
   }
   print_snapshot("after the last commit", last);
-  std::printf("\n| action | commits | commits changing classes | vertices changed p50 | max | class search us p50 | max-weight commit us p50 | max-cardinality commit us p50 | after a perfect state: commits, p50 | after a state with D: commits, p50 |\n"
-              "|---|---|---|---|---|---|---|---|---|---|---|---|\n");
+  std::printf("\n| action | commits | commits changing classes | vertices changed p50 | max | class search us p50 | max-weight commit us p50 | max-cardinality commit us p50 | after a perfect state: commits, p50, touched p50 | after a state with D: commits, p50, touched p50 |\n"
+              "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|\n");
   auto row = [](const std::string& name, const KindFigures& k) {
-    std::printf("| %s | %zu | %zu | %.0f | %.0f | %.0f | %.0f | %.0f | %zu | %.0f | %zu | %.0f |\n", name.c_str(),
+    std::printf("| %s | %zu | %zu | %.0f | %.0f | %.0f | %.0f | %.0f | %zu | %.0f | %.0f | %zu | %.0f | %.0f |\n", name.c_str(),
                 k.commits, k.changed, percentile(k.vertices_changed, 0.5), percentile(k.vertices_changed, 1.0),
                 percentile(k.classes_us, 0.5), percentile(k.max_weight_us, 0.5), percentile(k.commit_us, 0.5), k.commit_us_perfect.size(),
-                percentile(k.commit_us_perfect, 0.5), k.commit_us_odd.size(), percentile(k.commit_us_odd, 0.5));
+                percentile(k.commit_us_perfect, 0.5), percentile(k.touched_perfect, 0.5), k.commit_us_odd.size(),
+                percentile(k.commit_us_odd, 0.5), percentile(k.touched_odd, 0.5));
   };
   for (const auto& [name, k] : kinds) row(name, k);
   row("all", all);
