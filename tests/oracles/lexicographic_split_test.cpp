@@ -1,9 +1,8 @@
 // The split certificate of docs/mathematics.md §9 (yoke::check_lexicographic_certificate):
 // every max-cardinality and perfect pool result splits into class prices and weight prices that
 // the checker accepts; the same prices with any other matching are accepted only when that
-// matching is as good (exhaustive enumeration); every nudged price is refused; hand-built
-// prices refused for the rule each breaks (the first one passes every other rule and certifies
-// a worse matching: without the sign rule a wrong answer would pass).
+// matching is as good (exhaustive enumeration); every nudged price is refused. The rules one by
+// one, on hand-built certificates, are in tests/engine/lexicographic_certificate_test.cpp.
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -143,99 +142,6 @@ std::string mode_label(const testing::TestParamInfo<Mode>& param) {
 }
 
 INSTANTIATE_TEST_SUITE_P(Modes, SplitCertificate, testing::Values(Mode::max_cardinality, Mode::perfect), mode_label);
-
-// Path 0 - 1 - 2 with w(0,1) = 5, w(1,2) = 1. Classes: D = {0, 2}, A = {1}. The optimum is
-// {0-1}. The forged prices below certify {1-2} (weight 1) under every rule but one: vertex 2 is
-// missable (class price 0) and has weight price -4. Without the sign rule a worse matching passes.
-TEST(SplitCertificateRules, NegativePriceOnAMissableVertexIsRefused) {
-  const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
-  LexicographicCertificate good;
-  good.mate = {1, 0, kNoVertex};
-  good.class_dual2 = {0, 2, 0};
-  good.weight_dual2 = {0, 10, 0};
-  const CheckResult ok = check_lexicographic_certificate(graph, good);
-  ASSERT_TRUE(ok.ok) << ok.failure;
-  EXPECT_EQ(ok.dual_objective2, 10);
-
-  LexicographicCertificate forged = good;
-  forged.mate = {kNoVertex, 2, 1};
-  forged.weight_dual2 = {0, 10, -8};  // edge 0-1: 0 + 10 - 10 = 0; matched 1-2: 10 - 8 - 2 = 0;
-                                      // objective 2 = 2 w({1-2}); exposed 0 at 0
-  const CheckResult verdict = check_lexicographic_certificate(graph, forged);
-  ASSERT_FALSE(verdict.ok);
-  EXPECT_NE(verdict.failure.find("vertex 2 has weight dual 2u = -8 < 0 but class dual 2u = 0"), std::string::npos)
-      << verdict.failure;
-}
-
-// Triangle 0, 1, 2 with weights -5 and a pendant 3 at 0 (w 1). {0-3, 1-2} is perfect, so
-// every vertex is C (class price 1/2) and weight prices of any sign are allowed, as in perfect
-// mode.
-TEST(SplitCertificateRules, FreeSignWhereTheClassPriceIsPositive) {
-  const Graph graph = Graph::from_edges(4, {{0, 1, -5}, {1, 2, -5}, {0, 2, -5}, {0, 3, 1}});
-  LexicographicCertificate cert;
-  cert.mode = Mode::perfect;
-  cert.mate = {3, 2, 1, 0};
-  cert.class_dual2 = {1, 1, 1, 1};
-  // 2u: 0-3: 2 + 0 = 2; 1-2: -5 - 5 = -10; 0-1: 2 - 5 = -3 >= -10; 0-2 likewise.
-  cert.weight_dual2 = {2, -5, -5, 0};
-  const CheckResult ok = check_lexicographic_certificate(graph, cert);
-  ASSERT_TRUE(ok.ok) << ok.failure;
-  EXPECT_EQ(ok.dual_objective2, 2 * (1 - 5));
-}
-
-// An odd part of negative weights: triangle 0, 1, 2 (w -5), vertex 2 exposed. Every maximum
-// matching takes one edge of it, so its price may be negative: 2z_w = -10 with a class price.
-// Without the class price the class part fails (the triangle's edges are not covered).
-TEST(SplitCertificateRules, NegativeBlossomPriceNeedsAClassPrice) {
-  const Graph graph = Graph::from_edges(3, {{0, 1, -5}, {1, 2, -5}, {0, 2, -5}});
-  LexicographicCertificate cert;
-  cert.mate = {1, 0, kNoVertex};
-  cert.class_dual2 = {0, 0, 0};
-  cert.weight_dual2 = {0, 0, 0};
-  cert.blossoms.push_back({{0, 1, 2}, 2, -10, 2});
-  const CheckResult ok = check_lexicographic_certificate(graph, cert);
-  ASSERT_TRUE(ok.ok) << ok.failure;
-  EXPECT_EQ(ok.dual_objective2, -10);
-
-  LexicographicCertificate forged = cert;
-  forged.blossoms[0].class_dual2 = 0;  // no class price: the class part now fails the triangle
-  const CheckResult verdict = check_lexicographic_certificate(graph, forged);
-  ASSERT_FALSE(verdict.ok);
-  EXPECT_EQ(verdict.failure.rfind("class part: ", 0), 0u) << verdict.failure;
-}
-
-// A 5-vertex bowtie 0-1-2-0, 0-3-4-0: one odd part, class price on the whole. A sub-blossom
-// {0, 1, 2} without class price may not take a negative weight price.
-TEST(SplitCertificateRules, NegativePriceOnAClassFreeBlossomIsRefused) {
-  const Graph graph = Graph::from_edges(5, {{0, 1, 1}, {1, 2, 1}, {0, 2, 1}, {0, 3, 1}, {3, 4, 1}, {0, 4, 1}});
-  LexicographicCertificate cert;
-  cert.mate = {kNoVertex, 2, 1, 4, 3};
-  cert.class_dual2 = {0, 0, 0, 0, 0};
-  cert.weight_dual2 = {0, 0, 0, 0, 0};
-  cert.blossoms.push_back({{0, 1, 2}, 0, 0, 0});
-  cert.blossoms.push_back({{5, 3, 4}, 2, 2, 0});
-  const CheckResult ok = check_lexicographic_certificate(graph, cert);
-  ASSERT_TRUE(ok.ok) << ok.failure;
-  cert.blossoms[0].weight_dual2 = -2;
-  cert.weight_dual2 = {0, 1, 1, 0, 0};  // keeps 1-2 tight: 1 + 1 - 2 + 2 = 2
-  const CheckResult verdict = check_lexicographic_certificate(graph, cert);
-  ASSERT_FALSE(verdict.ok);
-  EXPECT_NE(verdict.failure.find("blossom 0 (node 5) has weight dual 2z = -2 < 0 but class dual 2z = 0"),
-            std::string::npos)
-      << verdict.failure;
-}
-
-// An exposed vertex with a weight price is refused even when everything else holds.
-TEST(SplitCertificateRules, ExposedVertexWithAPriceIsRefused) {
-  const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
-  LexicographicCertificate cert;
-  cert.mate = {1, 0, kNoVertex};
-  cert.class_dual2 = {0, 2, 0};
-  cert.weight_dual2 = {0, 10, 2};
-  const CheckResult verdict = check_lexicographic_certificate(graph, cert);
-  ASSERT_FALSE(verdict.ok);
-  EXPECT_NE(verdict.failure.find("vertex 2 is exposed"), std::string::npos) << verdict.failure;
-}
 
 }  // namespace
 }  // namespace yoke
