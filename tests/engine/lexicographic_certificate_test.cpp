@@ -15,7 +15,7 @@
 namespace yoke {
 namespace {
 
-constexpr Vertex X = kNoVertex;
+constexpr Vertex kNone = kNoVertex;  // an exposed vertex's mate
 
 // Large enough that one more pair outweighs any weight difference on these graphs.
 constexpr Weight kPairWorth = 1000;
@@ -26,7 +26,7 @@ constexpr Weight kPairWorth = 1000;
 TEST(SplitCertificateRules, NegativePriceOnAMissableVertexIsRefused) {
   const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
   LexicographicCertificate good;
-  good.mate = {1, 0, X};
+  good.mate = {1, 0, kNone};
   good.class_dual2 = {0, 2, 0};
   good.weight_dual2 = {0, 10, 0};
   const CheckResult ok = check_lexicographic_certificate(graph, good);
@@ -34,7 +34,7 @@ TEST(SplitCertificateRules, NegativePriceOnAMissableVertexIsRefused) {
   EXPECT_EQ(ok.dual_objective2, 10);
 
   LexicographicCertificate forged = good;
-  forged.mate = {X, 2, 1};
+  forged.mate = {kNone, 2, 1};
   forged.weight_dual2 = {0, 10, -8};  // edge 0-1: 0 + 10 - 10 = 0; matched 1-2: 10 - 8 - 2 = 0;
                                       // objective 2 = 2 w({1-2}); exposed 0 at 0
   const CheckResult verdict = check_lexicographic_certificate(graph, forged);
@@ -68,7 +68,7 @@ TEST(SplitCertificateRules, FreeSignWhereTheClassPriceIsPositive) {
 TEST(SplitCertificateRules, NegativeBlossomPriceNeedsAClassPrice) {
   const Graph graph = Graph::from_edges(3, {{0, 1, -5}, {1, 2, -5}, {0, 2, -5}});
   LexicographicCertificate cert;
-  cert.mate = {1, 0, X};
+  cert.mate = {1, 0, kNone};
   cert.class_dual2 = {0, 0, 0};
   cert.weight_dual2 = {0, 0, 0};
   cert.blossoms.push_back({{0, 1, 2}, 2, -10, 2});
@@ -88,7 +88,7 @@ TEST(SplitCertificateRules, NegativeBlossomPriceNeedsAClassPrice) {
 TEST(SplitCertificateRules, NegativePriceOnAClassFreeBlossomIsRefused) {
   const Graph graph = Graph::from_edges(5, {{0, 1, 1}, {1, 2, 1}, {0, 2, 1}, {0, 3, 1}, {3, 4, 1}, {0, 4, 1}});
   LexicographicCertificate cert;
-  cert.mate = {X, 2, 1, 4, 3};
+  cert.mate = {kNone, 2, 1, 4, 3};
   cert.class_dual2 = {0, 0, 0, 0, 0};
   cert.weight_dual2 = {0, 0, 0, 0, 0};
   cert.blossoms.push_back({{0, 1, 2}, 0, 0, 0});
@@ -108,7 +108,7 @@ TEST(SplitCertificateRules, NegativePriceOnAClassFreeBlossomIsRefused) {
 TEST(SplitCertificateRules, ExposedVertexWithAPriceIsRefused) {
   const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
   LexicographicCertificate cert;
-  cert.mate = {1, 0, X};
+  cert.mate = {1, 0, kNone};
   cert.class_dual2 = {0, 2, 0};
   cert.weight_dual2 = {0, 10, 2};
   const CheckResult verdict = check_lexicographic_certificate(graph, cert);
@@ -122,7 +122,7 @@ TEST(SplitCertificateRules, ExposedVertexWithAPriceIsRefused) {
 TEST(SplitCertificateRules, EdgesThatAreNotClassTightAreFree) {
   const Graph graph = Graph::from_edges(6, {{0, 1, 1}, {1, 2, 1}, {3, 4, 1}, {3, 5, 1}, {1, 3, 50}});
   LexicographicCertificate cert;
-  cert.mate = {1, 0, X, 4, 3, X};
+  cert.mate = {1, 0, kNone, 4, 3, kNone};
   cert.class_dual2 = {0, 2, 0, 2, 0, 0};
   cert.weight_dual2 = {0, 2, 0, 2, 0, 0};
   const CheckResult ok = check_lexicographic_certificate(graph, cert);
@@ -130,7 +130,7 @@ TEST(SplitCertificateRules, EdgesThatAreNotClassTightAreFree) {
   EXPECT_EQ(ok.dual_objective2, 4);
   // Matching 1-3 alone weighs 50 but has one pair: the class part refuses it.
   LexicographicCertificate fewer = cert;
-  fewer.mate = {X, 3, X, 1, X, X};
+  fewer.mate = {kNone, 3, kNone, 1, kNone, kNone};
   const CheckResult verdict = check_lexicographic_certificate(graph, fewer);
   ASSERT_FALSE(verdict.ok);
   EXPECT_EQ(verdict.failure.rfind("class part: ", 0), 0u) << verdict.failure;
@@ -139,7 +139,7 @@ TEST(SplitCertificateRules, EdgesThatAreNotClassTightAreFree) {
 TEST(SplitCertificateRules, MatchedEdgeMustBeWeightTight) {
   const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
   LexicographicCertificate cert;
-  cert.mate = {1, 0, X};
+  cert.mate = {1, 0, kNone};
   cert.class_dual2 = {0, 2, 0};
   cert.weight_dual2 = {2, 10, 0};  // 0-1: 2 + 10 - 10 = 2
   const CheckResult verdict = check_lexicographic_certificate(graph, cert);
@@ -162,7 +162,7 @@ TEST(SplitCertificateRules, WeightPricedBlossomMustBeFull) {
   const CheckResult ok = check_lexicographic_certificate(graph, cert);
   ASSERT_TRUE(ok.ok) << ok.failure;
   cert.weight_dual2 = {0, 0, 0, 2, 2, 2};
-  cert.blossoms.push_back({{0, 1, 2}, 0, 2, X});  // triangle edges: 0 + 0 + 2 - 2 = 0
+  cert.blossoms.push_back({{0, 1, 2}, 0, 2, kNone});  // triangle edges: 0 + 0 + 2 - 2 = 0
   const CheckResult verdict = check_lexicographic_certificate(graph, cert);
   ASSERT_FALSE(verdict.ok);
   EXPECT_NE(verdict.failure.find("has weight dual 2z = 2 but is not full"), std::string::npos) << verdict.failure;
@@ -171,7 +171,7 @@ TEST(SplitCertificateRules, WeightPricedBlossomMustBeFull) {
 TEST(SplitCertificateRules, ShapeAndModeAreChecked) {
   const Graph graph = Graph::from_edges(3, {{0, 1, 5}, {1, 2, 1}});
   LexicographicCertificate cert;
-  cert.mate = {1, 0, X};
+  cert.mate = {1, 0, kNone};
   cert.class_dual2 = {0, 2, 0};
   cert.weight_dual2 = {0, 10, 0};
   ASSERT_TRUE(check_lexicographic_certificate(graph, cert).ok);
@@ -191,7 +191,7 @@ TEST(SplitCertificateRules, ShapeAndModeAreChecked) {
   EXPECT_NE(exposed.failure.find("perfect mode, but vertex 2 is exposed"), std::string::npos) << exposed.failure;
 
   LexicographicCertificate odd_family = cert;
-  odd_family.blossoms.push_back({{0, 1}, 0, 0, X});  // two vertices: no odd set
+  odd_family.blossoms.push_back({{0, 1}, 0, 0, kNone});  // two vertices: no odd set
   EXPECT_FALSE(check_lexicographic_certificate(graph, odd_family).ok);
 }
 
