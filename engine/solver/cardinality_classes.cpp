@@ -20,6 +20,7 @@ class ClassSearch {
         reached_from_(n_, kNoVertex),
         root_(n_, kNoVertex),
         set_(n_),
+        set_size_(n_, 1),
         base_(n_),
         mark_(n_, 0) {
     std::iota(set_.begin(), set_.end(), Vertex{0});
@@ -74,7 +75,7 @@ class ClassSearch {
   }
 
   // The even base above even base b in its tree, kNoVertex at the root.
-  Vertex base_above(Vertex b) const {
+  Vertex base_above(Vertex b) {
     const Vertex m = mate_[b];
     return m == kNoVertex ? kNoVertex : base_of(reached_from_[m]);
   }
@@ -109,6 +110,7 @@ class ClassSearch {
     }
   }
 
+  // Union-find with path halving and union by size: O(α(n)) amortised per call.
   Vertex find(Vertex v) {
     while (set_[v] != v) {
       set_[v] = set_[set_[v]];
@@ -116,20 +118,17 @@ class ClassSearch {
     }
     return v;
   }
-  Vertex find(Vertex v) const {
-    while (set_[v] != v) v = set_[v];
-    return v;
-  }
-  Vertex base_of(Vertex v) const { return base_[find(v)]; }
+  Vertex base_of(Vertex v) { return base_[find(v)]; }
 
   // Merges v's set into the set of base `meet`, whose base stays `meet`.
   void join(Vertex v, Vertex meet) {
-    const Vertex a = find(v);
-    const Vertex b = find(meet);
+    Vertex a = find(v);
+    Vertex b = find(meet);
     if (a == b) return;
-    const Vertex keep = a < b ? a : b;  // any union works; the base is carried over
-    set_[a == keep ? b : a] = keep;
-    base_[keep] = meet;
+    if (set_size_[a] > set_size_[b]) std::swap(a, b);
+    set_[a] = b;
+    set_size_[b] += set_size_[a];
+    base_[b] = meet;
   }
 
   void find_parts(CardinalityClasses& out) const {
@@ -162,6 +161,7 @@ class ClassSearch {
   std::vector<Vertex> reached_from_;  // per odd vertex: the even vertex that reached it
   std::vector<Vertex> root_;          // per labelled vertex: its tree's exposed root
   std::vector<Vertex> set_;           // union-find over the vertices of contracted blossoms
+  std::vector<std::uint32_t> set_size_;  // per set representative: its number of vertices
   std::vector<Vertex> base_;          // per set representative: the blossom's base
   std::vector<std::uint32_t> mark_;   // per base: stamp of the contraction that walked it
   std::uint32_t stamp_ = 0;
