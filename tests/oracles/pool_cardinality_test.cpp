@@ -24,6 +24,7 @@
 #include "all_modes.h"
 #include "checked_solve.h"
 #include "exhaustive.h"
+#include "split_certificate.h"
 #include "test_scale.h"
 #include "tools/graphgen/rng.h"
 
@@ -39,6 +40,12 @@ testing::AssertionResult certified_and_exhaustively_optimal(const Pool& pool,
   if (auto sound = oracle::result_is_sound(exported.graph, pool.mode(), r); !sound) return sound;
   // yoke::check_certificate (engine/include/yoke/certificate.h).
   if (auto holds = oracle::certificate_holds(exported.graph, r); !holds) return holds;
+  // The split form of docs/mathematics.md §9 (class prices and weight prices) holds too.
+  const oracle::SplitOutcome split = oracle::split_certificate(exported.graph, exported.certificate);
+  if (!split.ok) return testing::AssertionFailure() << "no split certificate: " << split.failure;
+  if (const CheckResult c = check_lexicographic_certificate(exported.graph, split.certificate); !c.ok) {
+    return testing::AssertionFailure() << "split certificate refused: " << c.failure;
+  }
   // Exhaustive enumeration of every matching (tests/oracles/exhaustive.h).
   return oracle::same_optimum(exported.graph, pool.mode(), r, [](const Graph& g, Mode m) {
     return oracle::exhaustive_optimum(g, m);

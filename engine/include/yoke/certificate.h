@@ -47,4 +47,34 @@ struct CheckResult {
 // (128-bit arithmetic), no recursion.
 CheckResult check_certificate(const Graph& graph, const Certificate& cert);
 
+// The lexicographic certificate of max-cardinality and perfect modes, without a weight offset
+// (docs/mathematics.md §9): one laminar family with two prices per vertex and per blossom.
+// The class prices (unit weights) prove that the matching has the most pairs; the weight prices
+// prove that no matching with as many pairs weighs more. Rules: class prices >= 0; a weight
+// price may be negative only where the class price is positive; every edge whose class slack
+// is 0 has weight slack >= 0 (the others are not judged); matched edges have both slacks 0;
+// exposed vertices have both prices 0; a blossom with a positive class price or a non-zero
+// weight price is full.
+struct LexicographicBlossom {
+  std::vector<NodeId> children;  // vertices and blossoms, any order
+  Weight class_dual2 = 0;        // 2 z_c(B), >= 0
+  Weight weight_dual2 = 0;       // 2 z_w(B)
+  Vertex base = kNoVertex;       // optional: the one vertex of B not matched inside B
+};
+
+struct LexicographicCertificate {
+  Mode mode = Mode::max_cardinality;  // max_cardinality or perfect
+  std::vector<Vertex> mate;
+  std::vector<Weight> class_dual2;   // 2 u_c(v): 0, 1 or 2 for the classes of §9, >= 0 in general
+  std::vector<Weight> weight_dual2;  // 2 u_w(v)
+  std::vector<LexicographicBlossom> blossoms;
+};
+
+// Checks `cert` against `graph`: the class part through check_certificate on unit weights
+// (its failures start with "class part: "), then the weight part ("weight part: ").
+// dual_objective2 is the weight part's. Cost O(m log n + n + total blossom children), plus a
+// unit-weight copy of the graph's edges; exact, no recursion.
+CheckResult check_lexicographic_certificate(const Graph& graph,
+                                            const LexicographicCertificate& cert);
+
 }  // namespace yoke
