@@ -99,16 +99,17 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  if (repairing(batch.pool)) {
-    // Its engine state belongs to a worker now: checked once the repair is collected.
-    held_[batch.pool].push_back({ticket, std::move(batch)});
-    ++held_count_;
+  if (const auto job = repairing_.find(batch.pool); job != repairing_.end()) {
+    // Its engine state belongs to a worker now: checked there after the repair, answered
+    // once the repair is collected.
+    hold(ticket, std::move(batch), job->second);
     return std::nullopt;
   }
   return offer_decoded(ticket, std::move(batch));
 }
 
-std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch) {
+std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
+                                                  Prechecked* prechecked) {
   if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (retiring_.contains(batch.pool)) {
     return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
@@ -148,7 +149,14 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   }
 
   WindowPool& in_window = window_pool(batch.pool, *pool);
-  if (auto error = in_window.checker.accept(batch.events)) {
+  std::optional<EventError> error;
+  if (prechecked != nullptr) {
+    prechecked->used = true;  // the strand's checker already holds the batch if it accepted it
+    error = *prechecked->verdict;
+  } else {
+    error = in_window.checker.accept(batch.events);
+  }
+  if (error) {
     if (created) window_pools_.erase(batch.pool);  // its checker reads the pool dropped here
     return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
                                              static_cast<std::uint32_t>(error->index))));
