@@ -325,8 +325,13 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
   }
   for (auto& waiting : waiting_duplicates_) replies.push_back(std::move(waiting));
   waiting_duplicates_.clear();
-  for (const auto& [name, in_window] : window_pools_) sealed_seq_before_[name] = in_window.seq_before;
-  window_pools_.clear();  // the checkers read the pools, which apply() is about to change
+  for (auto& [name, in_window] : window_pools_) {
+    sealed_seq_before_[name] = in_window.seq_before;
+    // The checkers read the pools, which apply() is about to change: each goes to its pool's
+    // repair, whose worker clears it for the batches that arrive meanwhile.
+    sealed_checkers_.insert_or_assign(name, std::move(in_window.checker));
+  }
+  window_pools_.clear();
   for (PendingBatch& pending : window_) sealed_.push_back(std::move(pending));
   window_.clear();
   window_events_ = 0;

@@ -238,7 +238,8 @@ class PoolService {
     bool prechecks_stopped = false;  // the loop's: a retirement waits, later batches are its
     // The strand's checker over the pool after the repair plus the waiting batches it
     // accepted; the loop's once collected (the next window's checker when the retry rules
-    // agreed with every verdict). Empty after a check failed.
+    // agreed with every verdict). Empty after a check failed. Before the repair: the sealed
+    // window's checker, handed over so that the worker, not the loop, clears its tables.
     std::optional<BatchChecker> precheck;
     bool precheck_failed = false;
   };
@@ -287,6 +288,7 @@ class PoolService {
   std::vector<std::pair<Ticket, v1::Ack>> waiting_duplicates_;  // retries of batches in the window
   std::vector<PendingBatch> sealed_;
   std::map<std::string, std::uint64_t> sealed_seq_before_;
+  std::map<std::string, BatchChecker> sealed_checkers_;  // the sealed window's, for its repairs
   std::set<std::string> retiring_;  // pools retired by the open or sealed window
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;

@@ -64,8 +64,12 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       throw std::logic_error("pool " + name + " was handed a second repair while in one");
     }
     job->engine = &pool;
+    if (auto checker = sealed_checkers_.find(name); checker != sealed_checkers_.end()) {
+      job->precheck.emplace(std::move(checker->second));
+    }
   }
   sealed_seq_before_.clear();
+  sealed_checkers_.clear();  // a retired pool's, and none else
   for (auto& [name, pool_job] : jobs) {
     if (pool_job->engine == nullptr) continue;
     // A copy of the binding to capture (clang 14 cannot capture a structured binding).
@@ -131,6 +135,9 @@ void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
                                                             start)
           .count());
   job->events.clear();
+  // The sealed window's checker, now that its batches are in the pool: emptied here, off the
+  // loop, it checks the batches that waited (precheck()).
+  if (job->precheck) job->precheck->clear();
   if (!job->failure && job->capture_wanted.load(std::memory_order_acquire)) {
     const Pool& pool = *job->engine;
     job->captured = EngineCapture{pool_config(pool), pool.weight(), pool.pairs(),

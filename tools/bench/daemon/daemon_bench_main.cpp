@@ -59,6 +59,7 @@ struct Settings {
   std::vector<std::size_t> pool_counts{1, 2, 4, 8};
   bool only_pools = false;
   bool skip_scaling = false;
+  bool in_flight_per_pool = false;
   bool pools_without_snapshots = false;
 };
 
@@ -178,6 +179,7 @@ int run(const Settings& settings) {
   pools.vertices = settings.pool_vertices;
   pools.events = settings.pool_events;
   pools.pool_counts = settings.pool_counts;
+  pools.in_flight_per_pool = settings.in_flight_per_pool;
   pools.batch = settings.batch;
   pools.in_flight = settings.in_flight;
   pools.mix = settings.mix;
@@ -333,6 +335,8 @@ int main(int argc, char** argv) {
       ->delimiter(',')
       ->capture_default_str();
   app.add_flag("--only-pools", settings.only_pools, "Run the multi-pool sections alone");
+  app.add_flag("--in-flight-per-pool", settings.in_flight_per_pool,
+               "Multi-pool run: --in-flight for each pool's client, not shared among them");
   app.add_flag("--skip-scaling", settings.skip_scaling,
                "With --only-pools: the long repair section alone");
   app.add_flag("--pools-without-snapshots", settings.pools_without_snapshots,

@@ -25,6 +25,9 @@ struct PoolScalingSettings {
   std::size_t batch = 100;
   std::vector<std::size_t> pool_counts{1, 2, 4, 8};  // the runs, the first the reference
   std::size_t in_flight = 256;   // shared among the pools' clients
+  // Each pool's client keeps `in_flight` batches unacknowledged (the same load per pool as
+  // the one-pool run, so the same commit sizes), instead of sharing them.
+  bool in_flight_per_pool = false;
   std::string mix = "bench";
   // The long repair section: a paced pool of `vertices` at `rate` events/s for `seconds`, and
   // a base graph of `slow_vertices` loaded into another pool in the middle of it.
