@@ -221,7 +221,9 @@ class PoolService {
   struct RepairJob {
     std::string pool;
     Pool* engine = nullptr;
-    std::vector<Event> events;
+    // The window's batches of the pool, moved here by the loop; the worker joins them into
+    // one commit (the copy and the frees are its, not the loop's).
+    std::vector<std::vector<Event>> batches_events;
     std::uint64_t last_seq = 0;
     std::uint64_t seq_before = 0;
     std::uint64_t batches = 0;

@@ -39,8 +39,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       job->pool = pending.batch.pool;
       job->window_closed = window_closed;
     }
-    job->events.insert(job->events.end(), pending.batch.events.begin(),
-                       pending.batch.events.end());
+    job->batches_events.push_back(std::move(pending.batch.events));
     job->last_seq = pending.seq;
     ++job->batches;
     // Its last entry retires it (always the last: seal() closes the window there).
@@ -126,7 +125,15 @@ void PoolService::precheck(RepairJob& job, HeldCheck& check) {
 void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
   const auto start = std::chrono::steady_clock::now();
   try {
-    job->result = job->engine->commit(job->events);
+    std::size_t total = 0;
+    for (const std::vector<Event>& events : job->batches_events) total += events.size();
+    std::vector<Event> joined;
+    joined.reserve(total);
+    for (const std::vector<Event>& events : job->batches_events) {
+      joined.insert(joined.end(), events.begin(), events.end());
+    }
+    job->batches_events.clear();
+    job->result = job->engine->commit(joined);
   } catch (...) {
     job->failure = std::current_exception();
   }
@@ -134,7 +141,6 @@ void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
       std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
                                                             start)
           .count());
-  job->events.clear();
   // The sealed window's checker, now that its batches are in the pool: emptied here, off the
   // loop, it checks the batches that waited (precheck()).
   if (job->precheck) job->precheck->clear();
