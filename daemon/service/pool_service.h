@@ -228,7 +228,8 @@ class PoolService {
     std::uint64_t seq_before = 0;
     std::uint64_t batches = 0;
     std::chrono::steady_clock::time_point window_closed;
-    CommitResult result;
+    CommitResult result;  // its MatchingDiff emptied once `diff` is built
+    v1::Diff diff;        // the worker's, from `result`
     std::uint64_t repair_us = 0;
     std::exception_ptr failure;
     std::atomic<bool> capture_wanted{false};  // set by the loop, read by the worker

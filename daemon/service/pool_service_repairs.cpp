@@ -141,6 +141,14 @@ void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
       std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
                                                             start)
           .count());
+  if (!job->failure) {
+    // The published diff is built here, off the loop; the loop's progress says the same
+    // no_perfect_matching (PoolProgress::record_commit).
+    job->diff = diff_of_commit(job->pool, job->result, job->last_seq, job->seq_before,
+                               job->result.status == SolveStatus::no_perfect_matching,
+                               job->repair_us);
+    job->result.diff = MatchingDiff();  // its pairs are in the message now: freed here too
+  }
   // The sealed window's checker, now that its batches are in the pool: emptied here, off the
   // loop, it checks the batches that waited (precheck()).
   if (job->precheck) job->precheck->clear();
@@ -189,8 +197,7 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     PoolProgress& progress = state_.progress[job.pool];
     progress.record_commit(job.result, job.last_seq, job.batches);
     progress.last_timings.set_repair_us(job.repair_us);
-    done.diffs.push_back(diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
-                                        progress.no_perfect_matching, job.repair_us));
+    done.diffs.push_back(std::move(job.diff));
     done.window_closed.push_back(job.window_closed);
     if (collect_listener_) collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
   }
