@@ -369,8 +369,9 @@ void YokedServer::publish(v1::Diff& diff, Clock::time_point closed) {
   if (!diff.retired()) service_.progress_of(diff.pool()).last_timings = diff.timings();
   v1::Publication publication;
   publication.set_version(v1::PROTOCOL_VERSION_1);
-  *publication.mutable_diff() = diff;
+  publication.mutable_diff()->Swap(&diff);  // not copied: lent for the serialization
   const std::string bytes = publication.SerializeAsString();
+  diff.Swap(publication.mutable_diff());
   try {
     publisher_.send(zmq::buffer(diff.pool()), zmq::send_flags::sndmore);
     publisher_.send(zmq::buffer(bytes), zmq::send_flags::dontwait);

@@ -99,16 +99,17 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  if (repairing(batch.pool)) {
-    // Its engine state belongs to a worker now: checked once the repair is collected.
-    held_[batch.pool].push_back({ticket, std::move(batch)});
-    ++held_count_;
+  if (const auto job = repairing_.find(batch.pool); job != repairing_.end()) {
+    // Its engine state belongs to a worker now: checked there after the repair, answered
+    // once the repair is collected.
+    hold(ticket, std::move(batch), job->second);
     return std::nullopt;
   }
   return offer_decoded(ticket, std::move(batch));
 }
 
-std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch) {
+std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
+                                                  Prechecked* prechecked) {
   if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (retiring_.contains(batch.pool)) {
     return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
@@ -148,7 +149,14 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   }
 
   WindowPool& in_window = window_pool(batch.pool, *pool);
-  if (auto error = in_window.checker.accept(batch.events)) {
+  std::optional<EventError> error;
+  if (prechecked != nullptr) {
+    prechecked->used = true;  // the strand's checker already holds the batch if it accepted it
+    error = *prechecked->verdict;
+  } else {
+    error = in_window.checker.accept(batch.events);
+  }
+  if (error) {
     if (created) window_pools_.erase(batch.pool);  // its checker reads the pool dropped here
     return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
                                              static_cast<std::uint32_t>(error->index))));
@@ -317,8 +325,13 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
   }
   for (auto& waiting : waiting_duplicates_) replies.push_back(std::move(waiting));
   waiting_duplicates_.clear();
-  for (const auto& [name, in_window] : window_pools_) sealed_seq_before_[name] = in_window.seq_before;
-  window_pools_.clear();  // the checkers read the pools, which apply() is about to change
+  for (auto& [name, in_window] : window_pools_) {
+    sealed_seq_before_[name] = in_window.seq_before;
+    // The checkers read the pools, which apply() is about to change: each goes to its pool's
+    // repair, whose worker clears it for the batches that arrive meanwhile.
+    sealed_checkers_.insert_or_assign(name, std::move(in_window.checker));
+  }
+  window_pools_.clear();
   for (PendingBatch& pending : window_) sealed_.push_back(std::move(pending));
   window_.clear();
   window_events_ = 0;

@@ -41,6 +41,7 @@
 #include "pool_routing.h"
 #include "repair_executor.h"
 #include "service_state.h"
+#include "yoke/batch_checker.h"
 #include "yoke/v1/ingest.pb.h"
 #include "yoke/v1/pool.pb.h"
 #include "yoke/v1/publish.pb.h"
@@ -111,10 +112,12 @@ class PoolService {
   using CollectListener = std::function<void(const std::string&, const EngineCapture*)>;
   void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
   // A repair of `pool` is in flight: its engine state belongs to the executor until
-  // finish_repairs() collects it. O(log pools).
+  // finish_repairs() collects it (after the repair, and after the checks of the batches that
+  // arrived meanwhile, which run on the pool's strand too). O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
   bool repairs_in_flight() const { return !repairing_.empty(); }
-  // Batches waiting for their pool's repair (not yet checked nor in the window).
+  // Batches waiting for their pool's repair (not yet in the window; checked on the strand
+  // after the repair, that verdict used when the retry rules let every batch before it in).
   std::size_t held_batches() const { return held_count_; }
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
@@ -165,9 +168,12 @@ class PoolService {
     // duplicates when checked now; the others joined the open window.
     std::vector<std::pair<Ticket, v1::Ack>> replies;
   };
-  // Collects every repair finished since the last call (progress, diffs), then checks the
-  // batches waiting for pools no longer repairing, in arrival order. Rethrows a repair's
-  // failure (the daemon must stop, as before worker threads). O(collected diffs + batches).
+  // Collects every repair finished since the last call (progress, diffs), then takes the
+  // batches waiting for pools no longer repairing, in arrival order: retry rules here, and the
+  // strand's check of the batch (made as if every waiting batch before it had passed its retry
+  // rules; when one did not, the batches after it are checked here again, as before worker
+  // threads). Rethrows a repair's failure (the daemon must stop, as before worker threads).
+  // O(collected diffs + batches' retry marks), the checks' cost on the strands.
   RepairsDone finish_repairs();
 
   // Blocks until every repair in flight has finished (finish_repairs() then collects them).
@@ -186,6 +192,20 @@ class PoolService {
   const std::map<v1::Error::Code, std::uint64_t>& refusals() const { return refusals_; }
 
  private:
+  // A waiting batch's events lent to its pool's strand, which checks them after the repair
+  // against the pool plus the waiting batches it accepted before (RepairJob::precheck).
+  struct HeldCheck {
+    std::vector<Event> events;
+    std::optional<EventError> verdict;
+    bool checked = false;
+  };
+  // The strand's verdict on a waiting batch, handed to offer_decoded(), which says whether the
+  // batch got as far as its check (`used`): if not, the strand's checker holds a batch the
+  // window does not.
+  struct Prechecked {
+    const std::optional<EventError>* verdict;
+    bool used = false;
+  };
   struct PendingBatch {
     Ticket ticket;
     std::uint64_t seq;
@@ -201,27 +221,56 @@ class PoolService {
   struct RepairJob {
     std::string pool;
     Pool* engine = nullptr;
-    std::vector<Event> events;
+    // The window's batches of the pool, moved here by the loop; the worker joins them into
+    // one commit (the copy and the frees are its, not the loop's).
+    std::vector<std::vector<Event>> batches_events;
     std::uint64_t last_seq = 0;
     std::uint64_t seq_before = 0;
     std::uint64_t batches = 0;
     std::chrono::steady_clock::time_point window_closed;
-    CommitResult result;
+    CommitResult result;  // its MatchingDiff emptied once `diff` is built
+    v1::Diff diff;        // the worker's, from `result`
     std::uint64_t repair_us = 0;
     std::exception_ptr failure;
     std::atomic<bool> capture_wanted{false};  // set by the loop, read by the worker
     std::optional<EngineCapture> captured;    // the worker's, read by the loop once collected
+    // Tasks given to the strand for this pool (the repair, then checks), and those ended:
+    // collected when equal. Both guarded by finished_mutex_.
+    std::size_t tasks_posted = 0;
+    std::size_t tasks_ended = 0;
+    bool prechecks_stopped = false;  // the loop's: a retirement waits, later batches are its
+    // The strand's checker over the pool after the repair plus the waiting batches it
+    // accepted; the loop's once collected (the next window's checker when the retry rules
+    // agreed with every verdict). Empty after a check failed. Before the repair: the sealed
+    // window's checker, handed over so that the worker, not the loop, clears its tables.
+    std::optional<BatchChecker> precheck;
+    bool precheck_failed = false;
   };
   struct HeldBatch {
     Ticket ticket;
-    DecodedBatch batch;
+    DecodedBatch batch;  // its events lent to `check` while the strand has them
+    std::shared_ptr<HeldCheck> check;  // null: checked on the loop once collected
   };
 
   v1::Ack refuse(v1::Ack ack);
-  // offer() once the batch is decoded and its pool is not repairing.
-  std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch);
+  // offer() once the batch is decoded and its pool is not repairing; with `prechecked`, the
+  // strand's verdict stands for the check.
+  std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch,
+                                       Prechecked* prechecked = nullptr);
+  // A batch for a pool whose repair is in flight: kept, and its check queued on the strand.
+  void hold(Ticket ticket, DecodedBatch batch, const std::shared_ptr<RepairJob>& job);
+  // The batches that waited for `pool`'s repair, in arrival order, with the strand's checker.
+  void offer_held(const std::string& pool, std::deque<HeldBatch> waiting,
+                  std::optional<BatchChecker> prechecked,
+                  std::vector<std::pair<Ticket, v1::Ack>>& replies);
+  // Gives `task` to `job`'s strand, counted so that the job is collected after it.
+  void post_task(const std::shared_ptr<RepairJob>& job, std::function<void()> task);
   // Runs on the executor: the repair, then the hand back.
   void run_repair(const std::shared_ptr<RepairJob>& job);
+  // Runs on the executor after the repair: one waiting batch checked.
+  static void precheck(RepairJob& job, HeldCheck& check);
+  // A job whose every task ended (under finished_mutex_).
+  static bool tasks_ended(const RepairJob& job) { return job.tasks_ended == job.tasks_posted; }
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
   // The retry and after_batch rules (events.proto, EventBatch) for a batch naming its client:
   // nothing when the batch is new and may enter the window; otherwise offer()'s answer (a
@@ -242,6 +291,7 @@ class PoolService {
   std::vector<std::pair<Ticket, v1::Ack>> waiting_duplicates_;  // retries of batches in the window
   std::vector<PendingBatch> sealed_;
   std::map<std::string, std::uint64_t> sealed_seq_before_;
+  std::map<std::string, BatchChecker> sealed_checkers_;  // the sealed window's, for its repairs
   std::set<std::string> retiring_;  // pools retired by the open or sealed window
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
@@ -254,9 +304,8 @@ class PoolService {
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
   std::size_t held_count_ = 0;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
-  std::mutex finished_mutex_;            // guards finished_ (written by the executor's threads)
+  std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;
-  std::vector<std::shared_ptr<RepairJob>> finished_;
 };
 
 }  // namespace yoke::daemon

@@ -53,6 +53,19 @@ class BatchChecker::Overlay {
 
   std::size_t accepted_events() const { return accepted_events_; }
 
+  // unordered_map::clear keeps the bucket arrays: the next window does not grow them again.
+  void clear() {
+    vertex_.clear();
+    edge_override_.clear();
+    partner_.clear();
+    vertex_undo_.clear();
+    edge_undo_.clear();
+    partner_undo_.clear();
+    alive_change_ = 0;
+    edge_change_ = 0;
+    accepted_events_ = 0;
+  }
+
  private:
   // Where a running count went above a limit and stayed there: the event that last crossed it.
   struct LimitWatch {
@@ -341,6 +354,8 @@ BatchChecker& BatchChecker::operator=(BatchChecker&&) noexcept = default;
 std::optional<EventError> BatchChecker::accept(std::span<const Event> batch) {
   return overlay_->accept(batch);
 }
+
+void BatchChecker::clear() { overlay_->clear(); }
 
 std::size_t BatchChecker::accepted_events() const { return overlay_->accepted_events(); }
 

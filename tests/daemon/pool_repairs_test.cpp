@@ -9,6 +9,8 @@
 #include <deque>
 #include <functional>
 #include <map>
+#include <random>
+#include <tuple>
 #include <set>
 #include <string>
 #include <utility>
@@ -112,8 +114,9 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_EQ(reply.summary().seq(), 2u);
   EXPECT_EQ(reply.summary().weight(), 9);
 
-  // A's repair ends: its waiting batch is checked and joins the window, then gets seq 2.
-  EXPECT_EQ(repairs.release("A"), 1u);
+  // A's repair ends, then its waiting batch is checked on A's strand (a second task), joins
+  // the window once collected, and gets seq 2.
+  EXPECT_EQ(repairs.release("A"), 2u);
   done = service.finish_repairs();
   ASSERT_EQ(done.diffs.size(), 1u);
   EXPECT_EQ(done.diffs[0].pool(), "A");
@@ -162,6 +165,148 @@ TEST(PoolRepairs, HeldBatchesAreCheckedInArrivalOrderWithRetriesAndRefusals) {
   service.finish_repairs();
   EXPECT_EQ(service.progress("A")->seq, 2u);
   EXPECT_EQ(service.registry().find("A")->weight(), 8);
+}
+
+// The strand checks a waiting batch against the pool after its repair plus the waiting
+// batches before it: a refusal that exists only because of an earlier waiting batch, the
+// seqs in arrival order, and a retry of a batch the strand had accepted as new (the window's
+// checker is then rebuilt without it: the batch after it is judged on the pool as it is).
+TEST(PoolRepairs, WaitingBatchesAreCheckedOnTheStrandAgainstTheOnesBeforeThem) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  service.seal();
+  service.start_apply();
+  // Vertex 3 arrives in batch 2; batch 3 adds it again: refused only because of batch 2.
+  EXPECT_FALSE(harness.offer({wire_add(3), wire_set(2, 3, 6)}, from_client("a", 2, "A")));
+  EXPECT_FALSE(harness.offer({wire_add(3)}, from_client("b", 1, "A")));
+  // A retry of batch 1 (set {1, 2} alone, which the strand accepts as new; its retry rule
+  // answers it as batch 1's duplicate, so the window's checker is rebuilt without it).
+  EXPECT_FALSE(harness.offer({wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  // Batch 4 of b removes vertex 3: valid after batch 2, whatever the retry above did.
+  EXPECT_FALSE(harness.offer({testing::wire_remove(3)}, from_client("b", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 4u);
+  EXPECT_EQ(repairs.release("A"), 5u);  // the repair, then four checks
+  const PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.replies.size(), 2u);
+  ASSERT_TRUE(done.replies[0].second.has_rejected());
+  EXPECT_EQ(done.replies[0].second.client_id(), "b");
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::VERTEX_EXISTS);
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).message(), "vertex 3 already exists");
+  EXPECT_TRUE(done.replies[1].second.accepted().duplicate());
+  EXPECT_EQ(done.replies[1].second.accepted().seq(), 1u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 2u);
+  EXPECT_EQ(acks[0].second.client_id(), "a");
+  EXPECT_EQ(accepted_seq(acks[0]), 2u);
+  EXPECT_EQ(acks[1].second.client_id(), "b");
+  EXPECT_EQ(accepted_seq(acks[1]), 3u);
+  service.start_apply();
+  repairs.release("A");
+  service.finish_repairs();
+  EXPECT_EQ(service.progress("A")->seq, 3u);
+  EXPECT_EQ(service.registry().find("A")->weight(), 5);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+}
+
+// Random batches (many refused: vertex keys reused, edges unset twice, releases of pairs not
+// held), retries of earlier batches and after_batch chains, offered while repairs are held and
+// released at random: every answer is the one the inline service gives for the same offers in
+// the same order, and the pools end equal and certified. The strand's check, its rebuild after
+// a retry it had accepted as new, and the loop's own check all meet here.
+TEST(PoolRepairs, HeldRepairsAnswerEveryBatchAsTheInlineServiceDoes) {
+  for (std::uint64_t seed = 1; seed <= 12; ++seed) {
+    std::mt19937_64 random(seed);
+    const auto below = [&random](std::uint64_t n) { return random() % n; };
+    ServiceHarness reference;
+    ServiceHarness held;
+    PoolService& service = held.service();
+    ManualRepairs repairs;
+    service.set_repair_executor(&repairs);
+    const std::vector<std::string> pools = {"A", "B"};
+    const std::vector<std::string> clients = {"c1", "c2", ""};
+    std::map<std::pair<std::string, std::string>, std::uint64_t> last_batch;
+    std::vector<std::pair<std::vector<v1::Event>, testing::BatchHeader>> sent;
+    std::map<Ticket, v1::Ack> expected, answered;
+    const auto take = [&answered](const std::vector<std::pair<Ticket, v1::Ack>>& replies) {
+      for (const auto& [ticket, ack] : replies) {
+        ASSERT_TRUE(answered.emplace(ticket, ack).second) << "answered twice: " << ticket;
+      }
+    };
+    Ticket ticket = 0;
+    for (int step = 0; step < 300; ++step) {
+      std::vector<v1::Event> events;
+      testing::BatchHeader header;
+      if (!sent.empty() && below(6) == 0) {
+        std::tie(events, header) = sent[below(sent.size())];  // a retry, as it was sent
+      } else {
+        header.pool = pools[below(pools.size())];
+        header.client_id = clients[below(clients.size())];
+        if (!header.client_id.empty()) {
+          std::uint64_t& last = last_batch[{header.pool, header.client_id}];
+          if (last != 0 && below(3) == 0) header.after_batch = last - below(2);
+          last += 1 + below(2);
+          header.client_batch = last;
+        }
+        for (std::uint64_t e = 0, n = 1 + below(4); e < n; ++e) {
+          const VertexKey u = 1 + below(8);
+          const VertexKey v = 1 + below(8);
+          switch (below(6)) {
+            case 0: events.push_back(wire_add(u)); break;
+            case 1: events.push_back(testing::wire_remove(u)); break;
+            case 2: events.push_back(testing::wire_unset(u, v)); break;
+            // Releases of pairs never held (no holds: pool_certified reads unheld pools).
+            case 3: events.push_back(testing::wire_release(u, v)); break;
+            default: events.push_back(wire_set(u, v, static_cast<Weight>(below(9)) - 1)); break;
+          }
+        }
+        sent.emplace_back(events, header);
+      }
+      ++ticket;
+      const std::string message = testing::ingest_message(events, header);
+      // The reference: every batch alone, in a window closed at once.
+      if (auto now = reference.service().offer(ticket, message)) {
+        expected.emplace(ticket, *now);
+      } else {
+        for (const auto& [t, ack] : testing::close_window(reference.service()).acks) {
+          expected.emplace(t, ack);
+        }
+      }
+      if (auto now = service.offer(ticket, message)) take({{ticket, *now}});
+      // Held: windows closed and repairs released at random, so that batches wait.
+      if (below(4) == 0) {
+        take(service.seal());
+        service.start_apply();
+      }
+      if (below(3) == 0) {
+        repairs.release(pools[below(pools.size())]);
+        take(service.finish_repairs().replies);
+      }
+    }
+    while (service.repairs_in_flight() || !service.window_empty()) {
+      for (const std::string& pool : pools) repairs.release(pool);
+      take(service.finish_repairs().replies);
+      take(service.seal());
+      service.start_apply();
+    }
+    ASSERT_EQ(answered.size(), expected.size()) << "seed " << seed;
+    for (const auto& [t, ack] : expected) {
+      ASSERT_TRUE(answered.contains(t)) << "seed " << seed << " ticket " << t;
+      EXPECT_EQ(answered[t].DebugString(), ack.DebugString()) << "seed " << seed << " ticket " << t;
+    }
+    for (const std::string& pool : pools) {
+      const Pool* ours = service.registry().find(pool);
+      const Pool* theirs = reference.service().registry().find(pool);
+      ASSERT_EQ(ours == nullptr, theirs == nullptr) << pool;
+      if (ours == nullptr) continue;
+      EXPECT_EQ(service.progress(pool)->seq, reference.service().progress(pool)->seq);
+      EXPECT_EQ(ours->weight(), theirs->weight()) << pool;
+      EXPECT_TRUE(testing::pool_certified(*ours)) << pool;
+      EXPECT_TRUE(testing::pool_certified(*theirs)) << pool;
+    }
+  }
 }
 
 TEST(PoolRepairs, RefusingTheWindowRefusesTheBatchesWaitingForARepair) {

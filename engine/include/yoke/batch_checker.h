@@ -14,7 +14,8 @@ namespace yoke {
 class Pool;
 
 // Checks consecutive batches against one pool plus the batches it accepted so far. The pool
-// must not change while a checker lives: commit the accepted batches, then start a new one.
+// must not change while the checker holds batches: commit the accepted batches, then clear()
+// it (or start a new one).
 class BatchChecker {
  public:
   explicit BatchChecker(const Pool& pool);
@@ -32,6 +33,11 @@ class BatchChecker {
   // edge count is an upper bound: a departure's edges keep their places until the window is
   // committed (counting them would cost the vertex's degree). O(batch).
   std::optional<EventError> accept(std::span<const Event> batch);
+
+  // Forgets every batch accepted, keeping the memory it took: the checker then checks against
+  // the pool as it is now (call it once the accepted batches are committed to the pool, to
+  // check the next ones without building the tables again). O(entries held).
+  void clear();
 
   // Events accepted so far, over all batches.
   std::size_t accepted_events() const;

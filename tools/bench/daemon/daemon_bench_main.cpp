@@ -56,7 +56,10 @@ struct Settings {
   std::size_t pool_events = 200000;
   std::size_t slow_vertices = 100000;
   double pool_rate = 5000;
+  std::vector<std::size_t> pool_counts{1, 2, 4, 8};
   bool only_pools = false;
+  bool skip_scaling = false;
+  bool in_flight_per_pool = false;
   bool pools_without_snapshots = false;
 };
 
@@ -175,6 +178,8 @@ int run(const Settings& settings) {
   };
   pools.vertices = settings.pool_vertices;
   pools.events = settings.pool_events;
+  pools.pool_counts = settings.pool_counts;
+  pools.in_flight_per_pool = settings.in_flight_per_pool;
   pools.batch = settings.batch;
   pools.in_flight = settings.in_flight;
   pools.mix = settings.mix;
@@ -183,7 +188,7 @@ int run(const Settings& settings) {
   pools.seconds = settings.quick ? 1 : 4;
   pools.snapshots = !settings.pools_without_snapshots;
   if (settings.only_pools) {
-    run_pool_scaling(context, pools);
+    if (!settings.skip_scaling) run_pool_scaling(context, pools);
     run_long_repair(context, pools);
     std::error_code ignored;
     std::filesystem::remove_all(work, ignored);
@@ -325,7 +330,15 @@ int main(int argc, char** argv) {
   app.add_option("--pool-rate", settings.pool_rate,
                  "Offered events per second of the paced pool in the long-repair run")
       ->capture_default_str();
+  app.add_option("--pool-counts", settings.pool_counts,
+                 "Pool counts of the multi-pool run, the first the reference")
+      ->delimiter(',')
+      ->capture_default_str();
   app.add_flag("--only-pools", settings.only_pools, "Run the multi-pool sections alone");
+  app.add_flag("--in-flight-per-pool", settings.in_flight_per_pool,
+               "Multi-pool run: --in-flight for each pool's client, not shared among them");
+  app.add_flag("--skip-scaling", settings.skip_scaling,
+               "With --only-pools: the long repair section alone");
   app.add_flag("--pools-without-snapshots", settings.pools_without_snapshots,
                "No after_events snapshot in the long repair section");
   app.add_flag("--quick", settings.quick, "Small sizes: a smoke run of every phase");

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cstdio>
+#include <ctime>
 #include <fstream>
 #include <future>
 #include <stdexcept>
@@ -35,6 +36,27 @@ std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::
   return encode_batches(batches, "scaling-" + pool, pool, 1);
 }
 
+// Asks `pool`'s stats and waits for the answer (held by the daemon while the pool repairs).
+v1::Stats pool_stats(zmq::context_t& context, const std::string& endpoint,
+                     const std::string& pool) {
+  zmq::socket_t socket(context, zmq::socket_type::dealer);
+  socket.set(zmq::sockopt::linger, 0);
+  socket.set(zmq::sockopt::rcvtimeo, 120000);
+  socket.connect(endpoint);
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_pool(pool);
+  request.mutable_stats();
+  socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
+  zmq::message_t answer;
+  v1::QueryReply reply;
+  if (!socket.recv(answer) || !reply.ParseFromArray(answer.data(), static_cast<int>(answer.size())) ||
+      !reply.has_stats()) {
+    throw std::runtime_error("no stats about pool " + pool);
+  }
+  return reply.stats();
+}
+
 // Asks `pool`'s summary and waits for the answer (held by the daemon while the pool repairs).
 void await_summary(zmq::context_t& context, const std::string& endpoint, const std::string& pool) {
   zmq::socket_t socket(context, zmq::socket_type::dealer);
@@ -50,8 +72,42 @@ void await_summary(zmq::context_t& context, const std::string& endpoint, const s
   if (!socket.recv(answer)) throw std::runtime_error("no answer about pool " + pool);
 }
 
+// CPU time (seconds) a process's threads have run: its main thread (yoked's loop) apart.
+struct ProcessCpu {
+  double main_thread = 0;
+  double other_threads = 0;
+};
+
+ProcessCpu process_cpu(pid_t pid) {
+  ProcessCpu cpu;
+  const std::filesystem::path tasks = "/proc/" + std::to_string(pid) + "/task";
+  std::error_code error;
+  for (const auto& task : std::filesystem::directory_iterator(tasks, error)) {
+    std::ifstream schedstat(task.path() / "schedstat");
+    double ns = 0;  // first field: time on a CPU, in nanoseconds
+    if (!(schedstat >> ns)) continue;
+    (task.path().filename() == std::to_string(pid) ? cpu.main_thread : cpu.other_threads) +=
+        ns * 1e-9;
+  }
+  return cpu;
+}
+
+double own_cpu_seconds() {
+  timespec now{};
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &now);
+  return static_cast<double>(now.tv_sec) + static_cast<double>(now.tv_nsec) * 1e-9;
+}
+
+struct ScalingRun {
+  double events_per_second = 0;
+  // CPU microseconds per event over the timed part: yoked's loop thread, its other threads
+  // (repair workers, ZeroMQ, snapshots), and this process (the clients).
+  double loop_us = 0, workers_us = 0, clients_us = 0;
+  double events_per_commit = 0;  // the repairs' size: the engine's cost per event falls with it
+};
+
 // Events per second of `pools` pools fed at once by one pipelined client each.
-double pools_at_once(zmq::context_t& context, const PoolScalingSettings& settings,
+ScalingRun pools_at_once(zmq::context_t& context, const PoolScalingSettings& settings,
                      std::size_t pools) {
   const YokedEndpoints endpoints = free_loopback_endpoints();
   const std::filesystem::path config = settings.work / "scaling.toml";
@@ -67,11 +123,16 @@ double pools_at_once(zmq::context_t& context, const PoolScalingSettings& setting
   // An ack comes once a window is durable, before its repair: the clock starts when every
   // base graph is repaired (a summary query waits for its pool's repair), so that the timed
   // part is the stream's repairs alone and not N base graphs sharing the cores.
+  std::uint64_t commits_before = 0;
   for (std::size_t i = 0; i < pools; ++i) {
-    await_summary(context, endpoints.query, "pool-" + std::to_string(i));
+    commits_before += pool_stats(context, endpoints.query, "pool-" + std::to_string(i)).commits();
   }
 
-  const std::size_t in_flight = std::max<std::size_t>(1, settings.in_flight / pools);
+  const std::size_t in_flight = settings.in_flight_per_pool
+                                    ? settings.in_flight
+                                    : std::max<std::size_t>(1, settings.in_flight / pools);
+  const ProcessCpu daemon_before = process_cpu(daemon.pid());
+  const double clients_before = own_cpu_seconds();
   const Clock::time_point start = Clock::now();
   std::vector<std::future<LoadResult>> clients;
   for (const auto& stream : streams) {
@@ -82,8 +143,22 @@ double pools_at_once(zmq::context_t& context, const PoolScalingSettings& setting
   std::size_t events = 0;
   for (auto& client : clients) events += client.get().events;
   const double seconds = std::chrono::duration<double>(Clock::now() - start).count();
+  const ProcessCpu daemon_after = process_cpu(daemon.pid());
+  const double clients_after = own_cpu_seconds();
+  std::uint64_t commits = 0;
+  for (std::size_t i = 0; i < pools; ++i) {
+    commits += pool_stats(context, endpoints.query, "pool-" + std::to_string(i)).commits();
+  }
   daemon.stop(false);
-  return static_cast<double>(events) / seconds;
+  const double per_event = 1e6 / static_cast<double>(std::max<std::size_t>(events, 1));
+  ScalingRun run;
+  run.events_per_second = static_cast<double>(events) / seconds;
+  run.loop_us = (daemon_after.main_thread - daemon_before.main_thread) * per_event;
+  run.workers_us = (daemon_after.other_threads - daemon_before.other_threads) * per_event;
+  run.clients_us = (clients_after - clients_before) * per_event;
+  run.events_per_commit = static_cast<double>(events) /
+                          static_cast<double>(std::max<std::uint64_t>(commits - commits_before, 1));
+  return run;
 }
 
 void print_percentiles(const char* what, const std::vector<double>& us) {
@@ -95,14 +170,21 @@ void print_percentiles(const char* what, const std::vector<double>& us) {
 
 void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settings) {
   std::printf("\nmulti-pool ingest: %zu events in all after each pool's base graph of %zu "
-              "vertices, %zu in flight shared by one client per pool\n",
-              settings.events, settings.vertices, settings.in_flight);
-  std::printf("  %-8s %14s %12s\n", "pools", "events/s", "vs 1 pool");
-  double one = 0;
-  for (const std::size_t pools : {1, 2, 4, 8}) {
-    const double rate = pools_at_once(context, settings, pools);
-    if (pools == 1) one = rate;
-    std::printf("  %-8zu %14.0f %12.2f\n", pools, rate, rate / std::max(one, 1.0));
+              "vertices, %zu in flight %s\n",
+              settings.events, settings.vertices, settings.in_flight,
+              settings.in_flight_per_pool ? "for each pool's client"
+                                          : "shared by one client per pool");
+  std::printf("  CPU us per event: yoked's loop thread, its other threads (repairs, ZeroMQ), "
+              "the clients (this process); events per commit (repair) of a pool\n");
+  std::printf("  %-8s %14s %12s %10s %10s %10s %12s\n", "pools", "events/s", "vs first", "loop",
+              "workers", "clients", "per commit");
+  double first = 0;
+  for (const std::size_t pools : settings.pool_counts) {
+    const ScalingRun run = pools_at_once(context, settings, pools);
+    if (first == 0) first = run.events_per_second;
+    std::printf("  %-8zu %14.0f %12.2f %10.2f %10.2f %10.2f %12.0f\n", pools,
+                run.events_per_second, run.events_per_second / std::max(first, 1.0), run.loop_us,
+                run.workers_us, run.clients_us, run.events_per_commit);
   }
 }
 

@@ -7,6 +7,7 @@
 #include <filesystem>
 #include <functional>
 #include <string>
+#include <vector>
 
 #include <zmq.hpp>
 
@@ -22,7 +23,11 @@ struct PoolScalingSettings {
   std::size_t vertices = 20000;  // each pool's city base graph
   std::size_t events = 200000;   // after the base graphs, shared among the pools
   std::size_t batch = 100;
+  std::vector<std::size_t> pool_counts{1, 2, 4, 8};  // the runs, the first the reference
   std::size_t in_flight = 256;   // shared among the pools' clients
+  // Each pool's client keeps `in_flight` batches unacknowledged (the same load per pool as
+  // the one-pool run, so the same commit sizes), instead of sharing them.
+  bool in_flight_per_pool = false;
   std::string mix = "bench";
   // The long repair section: a paced pool of `vertices` at `rate` events/s for `seconds`, and
   // a base graph of `slow_vertices` loaded into another pool in the middle of it.
@@ -33,7 +38,8 @@ struct PoolScalingSettings {
   bool snapshots = true;
 };
 
-// Prints one line per pool count with events/s and the ratio to one pool.
+// Prints one line per pool count with events/s, the ratio to the first count's, and the CPU
+// time per event of yoked's loop, its other threads and the clients.
 void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settings);
 
 // Prints the paced pool's send-to-ack percentiles alone and with the other pool's repair, and
