@@ -208,10 +208,7 @@ class Checker {
       const NodeId lca = lca_[matched_edge_[v]];
       if (lca != kNoNode) ++inside[lca];
     }
-    for (std::size_t i = forest_.node_count(); i-- > 0;) {
-      const NodeId node = forest_.preorder[i];
-      if (forest_.parent[node] != kNoNode) inside[forest_.parent[node]] += inside[node];
-    }
+    forest_.sum_into_ancestors(inside);
     for (std::size_t k = 0; k < cert_.blossoms.size(); ++k) {
       if (cert_.blossoms[k].dual2 == 0) continue;
       const auto node = static_cast<NodeId>(n_ + k);

@@ -34,6 +34,14 @@ struct ForestLayout {
     return position[node] >= position[ancestor] &&
            position[node] - position[ancestor] < subtree_nodes[ancestor];
   }
+  // Turns a count per node into a count per subtree: each node's count is added to its
+  // parent's, children first (reverse preorder). O(nodes).
+  void sum_into_ancestors(std::vector<std::uint32_t>& per_node) const {
+    for (std::size_t i = node_count(); i-- > 0;) {
+      const NodeId node = preorder[i];
+      if (parent[node] != kNoNode) per_node[parent[node]] += per_node[node];
+    }
+  }
 };
 
 // Names a node for a failure message: "vertex 4" or "blossom 2 (node 9)".

@@ -113,10 +113,7 @@ class WeightPartChecker {
       const Edge& e = edges_[i];
       if (cert_.mate[e.a] == e.b && lca_[i] != kNoNode) ++inside_[lca_[i]];
     }
-    for (std::size_t i = weight_forest_.node_count(); i-- > 0;) {
-      const NodeId node = weight_forest_.preorder[i];
-      if (weight_forest_.parent[node] != kNoNode) inside_[weight_forest_.parent[node]] += inside_[node];
-    }
+    weight_forest_.sum_into_ancestors(inside_);
     for (std::size_t k = 0; k < cert_.blossoms.size(); ++k) {
       if (cert_.blossoms[k].weight_dual2 == 0) continue;
       const auto node = static_cast<NodeId>(n_ + k);
