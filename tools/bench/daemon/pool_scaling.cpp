@@ -8,6 +8,7 @@
 #include <future>
 #include <stdexcept>
 #include <thread>
+#include <utility>
 #include <vector>
 
 #include "ingest_load.h"
@@ -36,40 +37,40 @@ std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::
   return encode_batches(batches, "scaling-" + pool, pool, 1);
 }
 
-// Asks `pool`'s stats and waits for the answer (held by the daemon while the pool repairs).
-v1::Stats pool_stats(zmq::context_t& context, const std::string& endpoint,
-                     const std::string& pool) {
+// Sends `request` about `pool` on a query socket and waits for the reply (the daemon holds a
+// query about a pool while that pool repairs). Throws when none comes or it does not parse.
+v1::QueryReply ask_and_wait(zmq::context_t& context, const std::string& endpoint,
+                            v1::QueryRequest request, const std::string& pool) {
   zmq::socket_t socket(context, zmq::socket_type::dealer);
   socket.set(zmq::sockopt::linger, 0);
   socket.set(zmq::sockopt::rcvtimeo, 120000);
   socket.connect(endpoint);
-  v1::QueryRequest request;
   request.set_version(1);
   request.set_pool(pool);
-  request.mutable_stats();
   socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
   zmq::message_t answer;
   v1::QueryReply reply;
-  if (!socket.recv(answer) || !reply.ParseFromArray(answer.data(), static_cast<int>(answer.size())) ||
-      !reply.has_stats()) {
-    throw std::runtime_error("no stats about pool " + pool);
+  if (!socket.recv(answer) || !reply.ParseFromArray(answer.data(), static_cast<int>(answer.size()))) {
+    throw std::runtime_error("no answer about pool " + pool);
   }
+  return reply;
+}
+
+// `pool`'s stats, once its repairs in flight are done.
+v1::Stats pool_stats(zmq::context_t& context, const std::string& endpoint,
+                     const std::string& pool) {
+  v1::QueryRequest request;
+  request.mutable_stats();
+  const v1::QueryReply reply = ask_and_wait(context, endpoint, std::move(request), pool);
+  if (!reply.has_stats()) throw std::runtime_error("no stats about pool " + pool);
   return reply.stats();
 }
 
-// Asks `pool`'s summary and waits for the answer (held by the daemon while the pool repairs).
+// Returns once `pool`'s repairs in flight are done (its summary answered).
 void await_summary(zmq::context_t& context, const std::string& endpoint, const std::string& pool) {
-  zmq::socket_t socket(context, zmq::socket_type::dealer);
-  socket.set(zmq::sockopt::linger, 0);
-  socket.set(zmq::sockopt::rcvtimeo, 120000);
-  socket.connect(endpoint);
   v1::QueryRequest request;
-  request.set_version(1);
-  request.set_pool(pool);
   request.mutable_summary();
-  socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
-  zmq::message_t answer;
-  if (!socket.recv(answer)) throw std::runtime_error("no answer about pool " + pool);
+  ask_and_wait(context, endpoint, std::move(request), pool);
 }
 
 // CPU time (seconds) a process's threads have run: its main thread (yoked's loop) apart.
