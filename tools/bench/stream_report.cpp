@@ -184,7 +184,10 @@ void print_setting(std::ostream& out, const StreamResult& r) {
       << amount(r.commit_us.p90) << " us, p99 " << amount(r.commit_us.p99) << " us, max "
       << amount(r.commit_us.max) << " us, mean " << amount(r.commit_us.mean) << " us; "
       << format("%.0f", r.events_per_second()) << " events/s (" << r.events << " events in "
-      << format("%.3f", r.commit_seconds) << " s of commits)\n"
+      << format("%.3f", r.commit_seconds) << " s of commits; CPU "
+      << format("%.3f", r.commit_cpu_seconds) << " s, "
+      << format("%.0f", r.commit_cpu_seconds > 0 ? static_cast<double>(r.events) / r.commit_cpu_seconds : 0)
+      << " events per CPU second)\n"
       << "  work    per commit: roots " << format("%.2f", r.mean_roots) << ", searches "
       << format("%.2f", r.mean_searches) << ", augmentations "
       << format("%.2f", r.mean_augmentations) << ", vertices touched mean "

@@ -90,9 +90,11 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
     reject_if_invalid(*pool, batch, c + 1);
     count_matched(*pool, batch, result.tally);
 
+    const Stopwatch cpu;
     const Clock::time_point start = Clock::now();
     const CommitResult committed = pool->commit(batch);
     const Clock::duration took = Clock::now() - start;
+    result.commit_cpu_seconds += cpu.cpu_ms() / 1e3;
 
     in_commits += took;
     commit_us[c] = std::chrono::duration<double, std::micro>(took).count();

@@ -42,6 +42,7 @@ struct StreamResult {
   std::size_t events = 0;
   Spread commit_us;  // repair time per commit, microseconds
   double commit_seconds = 0;  // sum over the streamed commits
+  double commit_cpu_seconds = 0;  // the same, this thread's CPU time (steadier on a busy machine)
   double events_per_second() const {
     return commit_seconds > 0 ? static_cast<double>(events) / commit_seconds : 0;
   }
