@@ -428,6 +428,9 @@ void search_from_roots(PoolState& pool) {
   pool.stats.searches += after.searches - before.searches;
   pool.stats.augmentations += after.augmentations - before.augmentations;
   pool.stats.vertices_touched += after.scans - before.scans;
+  pool.stats.dual_levels += after.dual_steps - before.dual_steps;
+  pool.stats.last_level_scans += after.last_level_scans - before.last_level_scans;
+  pool.stats.stale_bounds += after.stale_bounds - before.stale_bounds;
 }
 
 void settle_churn_bonus(PoolState& pool) {

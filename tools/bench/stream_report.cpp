@@ -192,7 +192,12 @@ void print_setting(std::ostream& out, const StreamResult& r) {
       << format("%.2f", r.mean_searches) << ", augmentations "
       << format("%.2f", r.mean_augmentations) << ", vertices touched mean "
       << amount(r.touched.mean) << ", p99 " << amount(r.touched.p99) << ", max "
-      << amount(r.touched.max) << "\n";
+      << amount(r.touched.max) << "\n"
+      << "          searches ending without augmenting " << percent(r.searches - std::min(r.searches, r.augmentations), r.searches)
+      << ", dual levels per search " << format("%.2f", r.searches ? static_cast<double>(r.dual_levels) / static_cast<double>(r.searches) : 0.0)
+      << ", touched at a search's last level " << percent(r.last_level_scans, r.scans)
+      << ", stale bounds per commit " << format("%.0f", static_cast<double>(r.stale_bounds) / std::max<double>(1, static_cast<double>(r.commits)))
+      << "\n";
   if (has_lemon(r)) {
     out << "  LEMON   median run " << amount(r.lemon_median_ms()) << " ms, build+run "
         << amount(r.lemon_median_build_run_ms()) << " ms, over " << r.samples.size()

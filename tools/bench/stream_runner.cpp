@@ -100,6 +100,10 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
     commit_us[c] = std::chrono::duration<double, std::micro>(took).count();
     touched[c] = static_cast<double>(committed.stats.vertices_touched);
     roots += committed.stats.roots;
+    result.scans += committed.stats.vertices_touched;
+    result.last_level_scans += committed.stats.last_level_scans;
+    result.dual_levels += committed.stats.dual_levels;
+    result.stale_bounds += committed.stats.stale_bounds;
     searches += committed.stats.searches;
     augmentations += committed.stats.augmentations;
 
@@ -123,6 +127,8 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
   result.mean_roots = static_cast<double>(roots) / commits;
   result.mean_searches = static_cast<double>(searches) / commits;
   result.mean_augmentations = static_cast<double>(augmentations) / commits;
+  result.searches = searches;
+  result.augmentations = augmentations;
   return result;
 }
 

@@ -51,6 +51,13 @@ struct StreamResult {
   double mean_roots = 0;
   double mean_searches = 0;
   double mean_augmentations = 0;
+  // Where the searches' work went, summed over the streamed commits (RepairStats).
+  std::uint64_t searches = 0;
+  std::uint64_t augmentations = 0;
+  std::uint64_t scans = 0;             // vertices touched
+  std::uint64_t last_level_scans = 0;  // of those, scanned at a search's last dual level
+  std::uint64_t dual_levels = 0;
+  std::uint64_t stale_bounds = 0;
   Spread touched;  // vertices touched per commit
 
   EventTally tally;

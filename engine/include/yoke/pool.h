@@ -64,6 +64,9 @@ struct RepairStats {
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_dissolved = 0;  // by events (the search forms and expands its own)
   std::uint64_t vertices_touched = 0;    // vertex visits: scans and dual pushes
+  std::uint64_t dual_levels = 0;         // dual steps taken by the searches
+  std::uint64_t last_level_scans = 0;    // scans at the dual level where each search ended
+  std::uint64_t stale_bounds = 0;        // queued bounds the searches found out of date
   bool initial_solve = false;  // the pool was empty before the batch: solved from scratch
 };
 
