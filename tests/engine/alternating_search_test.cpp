@@ -64,26 +64,9 @@ struct Solved {
   CheckResult check;
 };
 
-Solved search_from_root(const Star& s) {
-  const Graph graph = Graph::from_edges(s.mate.size(), s.edges);
-  MatchingState state(s.mate.size());
-  for (Vertex v = 0; v < s.mate.size(); ++v) {
-    state.mate.set(v, s.mate[v]);
-    state.dual2[v] = s.dual2[v];
-  }
-  AlternatingSearch search(graph, 0, state);
-  search.add_root(0);
-  search.run();
-  Certificate cert;
-  cert.mate = state.mate.values();
-  cert.vertex_dual2 = state.dual2;
-  cert.blossoms = state.forest.certificate_blossoms({}, s.mate.size());
-  return {search.stats(), state.mate.values(), check_certificate(graph, cert)};
-}
-
 // Any hand-built state with one root, r = 0; `shape` may form blossoms first.
-Solved search_from_state(std::size_t n, const std::vector<Edge>& edges, const std::vector<Vertex>& mate,
-                         const std::vector<Weight>& dual2,
+Solved search_from_state(std::size_t n, const std::vector<Edge>& edges,
+                         const std::vector<Vertex>& mate, const std::vector<Weight>& dual2,
                          const std::function<void(BlossomForest&)>& shape = {}) {
   const Graph graph = Graph::from_edges(n, edges);
   MatchingState state(n);
@@ -100,6 +83,10 @@ Solved search_from_state(std::size_t n, const std::vector<Edge>& edges, const st
   cert.vertex_dual2 = state.dual2;
   cert.blossoms = state.forest.certificate_blossoms({}, n);
   return {search.stats(), state.mate.values(), check_certificate(graph, cert)};
+}
+
+Solved search_from_root(const Star& s) {
+  return search_from_state(s.mate.size(), s.edges, s.mate, s.dual2);
 }
 
 // r's dual reaches 0 at delta 2, when every r - x edge turns tight too: the tree ends with r
@@ -181,8 +168,8 @@ TEST(AlternatingSearchFreeBounds, AVertexFreedByAnExpansionIsQueuedAfresh) {
   ASSERT_TRUE(solved.check.ok) << solved.check.failure;
   EXPECT_EQ(solved.stats.blossoms_expanded, 1u);
   EXPECT_EQ(solved.mate[0], 4u);
-  EXPECT_EQ(solved.mate[1], 5u);  // the path r - b3 = b4 - b0 = m flipped
-  EXPECT_EQ(solved.mate[2], 3u);  // b1 = b2 stay, b1 odd off the path
+  EXPECT_EQ(solved.mate[1], 5u);         // the path r - b3 = b4 - b0 = m flipped
+  EXPECT_EQ(solved.mate[2], 3u);         // b1 = b2 stay, b1 odd off the path
   EXPECT_EQ(solved.mate[6], kNoVertex);  // m's dual reached 0 first: it is the one left exposed
 }
 
