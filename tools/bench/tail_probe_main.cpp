@@ -10,8 +10,9 @@
 //                   [--repeat C --times K] [--script FILE]
 //
 // --script replays an event script (yoke gen stream ... --action-batches) instead, all its
-// commits under one kind. --repeat C commits batch C again K times from the pool's saved state before it (for a
-// profiler: the saving and restoring are outside the commit) and prints its CPU time p50.
+// commits under one kind. --repeat C commits batch C again K times from the pool's saved state
+// before it (for a profiler: the saving and restoring are outside the commit) and prints its CPU
+// time p50.
 #include <algorithm>
 #include <cstdio>
 #include <fstream>
@@ -51,20 +52,25 @@ void print_kind(const std::string& kind, std::vector<Row> rows) {
   const std::size_t top = std::max<std::size_t>(1, (rows.size() + 49) / 50);
   std::vector<Row> shown(rows.begin(), rows.begin() + static_cast<std::ptrdiff_t>(top));
   std::vector<Row> by_cpu = rows;
-  std::sort(by_cpu.begin(), by_cpu.end(), [](const Row& x, const Row& y) { return x.cpu_us > y.cpu_us; });
+  std::sort(by_cpu.begin(), by_cpu.end(),
+            [](const Row& x, const Row& y) { return x.cpu_us > y.cpu_us; });
   auto shown_already = [&](const Row& r) {
-    return std::any_of(shown.begin(), shown.end(), [&](const Row& s) { return s.commit == r.commit; });
+    return std::any_of(shown.begin(), shown.end(),
+                       [&](const Row& s) { return s.commit == r.commit; });
   };
   for (std::size_t i = 0; i < top; ++i) {
     if (!shown_already(by_cpu[i])) shown.push_back(by_cpu[i]);
   }
   for (std::size_t i = top; i < rows.size(); ++i) {
-    if (rows[i].changed == 0 && rows[i].stats.vertices_touched > kIdleLimit && !shown_already(rows[i])) {
+    if (rows[i].changed == 0 && rows[i].stats.vertices_touched > kIdleLimit &&
+        !shown_already(rows[i])) {
       shown.push_back(rows[i]);
     }
   }
-  std::printf("%s: %zu commits, the %zu heaviest by vertices touched, by CPU, and the idle ones above %llu touched\n",
-              kind.c_str(), rows.size(), top, static_cast<unsigned long long>(kIdleLimit));
+  std::printf(
+      "%s: %zu commits, the %zu heaviest by vertices touched, by CPU, and the idle ones above %llu "
+      "touched\n",
+      kind.c_str(), rows.size(), top, static_cast<unsigned long long>(kIdleLimit));
   std::printf("  %7s %8s %9s %5s %5s %5s %9s %7s %8s %6s %7s %9s\n", "commit", "touched",
               "dissolved", "roots", "trees", "augm", "dissolves", "formed", "expanded", "steps",
               "changed", "cpu_us");
@@ -73,7 +79,8 @@ void print_kind(const std::string& kind, std::vector<Row> rows) {
     std::printf("  %7zu %8llu %9llu %5llu %5llu %5llu %9llu %7llu %8llu %6llu %7zu %9.0f\n",
                 r.commit, static_cast<unsigned long long>(s.vertices_touched),
                 static_cast<unsigned long long>(s.vertices_dissolved),
-                static_cast<unsigned long long>(s.roots), static_cast<unsigned long long>(s.searches),
+                static_cast<unsigned long long>(s.roots),
+                static_cast<unsigned long long>(s.searches),
                 static_cast<unsigned long long>(s.augmentations),
                 static_cast<unsigned long long>(s.blossoms_dissolved),
                 static_cast<unsigned long long>(s.blossoms_formed),
@@ -107,23 +114,28 @@ int main(int argc, char** argv) {
   std::uint64_t seed = 1;
   Weight grain = 100;
   std::vector<std::string> kinds;
-  app.add_option("--vertices", vertices, "Vertices of the city graph")->check(CLI::Range(100, 1000000));
-  app.add_option("--actions", actions, "Commits after the base graph, one action each")->check(CLI::Range(1, 100000));
+  app.add_option("--vertices", vertices, "Vertices of the city graph")
+      ->check(CLI::Range(100, 1000000));
+  app.add_option("--actions", actions, "Commits after the base graph, one action each")
+      ->check(CLI::Range(1, 100000));
   app.add_option("--seed", seed, "Seed of the stream");
-  app.add_option("--weight-grain", grain, "Weights rounded to multiples of it (1: as drawn)")->check(CLI::Range(1, 100000));
+  app.add_option("--weight-grain", grain, "Weights rounded to multiples of it (1: as drawn)")
+      ->check(CLI::Range(1, 100000));
   app.add_option("--kind", kinds, "Only these action kinds (default: all)");
   std::size_t repeat = 0;
   std::size_t times = 100;
   app.add_option("--repeat", repeat, "Commit this batch (1-based) again from the state before it");
   app.add_option("--times", times, "How often --repeat commits it")->check(CLI::Range(1, 100000));
   std::string script;
-  app.add_option("--script", script, "An event script instead (yoke gen stream): its first batch is the base, every later one a commit of kind 'script'")
+  app.add_option("--script", script,
+                 "An event script instead (yoke gen stream): its first batch is the base, every "
+                 "later one a commit of kind 'script'")
       ->check(CLI::ExistingFile);
   CLI11_PARSE(app, argc, argv);
 
-  const AimedStream stream = script.empty()
-                                 ? draw_aimed_stream(aimed_tail_spec(vertices, actions, seed, grain))
-                                 : read_script(script);
+  const AimedStream stream =
+      script.empty() ? draw_aimed_stream(aimed_tail_spec(vertices, actions, seed, grain))
+                     : read_script(script);
   Pool pool(Mode::max_weight);
   pool.commit(stream.base);
   std::map<std::string, std::vector<Row>> by_kind;
@@ -133,8 +145,9 @@ int main(int argc, char** argv) {
     const Stopwatch watch;
     const CommitResult committed = pool.commit(stream.batches[c]);
     const double cpu_us = watch.cpu_ms() * 1000;
-    by_kind[stream.kinds[c]].push_back(
-        {c + 1, committed.stats, committed.diff.removed.size() + committed.diff.added.size(), cpu_us});
+    by_kind[stream.kinds[c]].push_back({c + 1, committed.stats,
+                                        committed.diff.removed.size() + committed.diff.added.size(),
+                                        cpu_us});
   }
   if (script.empty()) {
     std::printf("city graph of %zu vertices, grain %lld, %zu actions, seed %llu\n", vertices,
