@@ -64,6 +64,12 @@ struct RepairStats {
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_dissolved = 0;  // by events (the search forms and expands its own)
   std::uint64_t vertices_touched = 0;    // vertex visits: scans and dual pushes
+  // Where the visits went, for benchmarks and probes (not on the wire; the search's three are
+  // the repair's, 0 for a batch solved from scratch):
+  std::uint64_t vertices_dissolved = 0;  // dual pushes by the events' dissolving (in vertices_touched)
+  std::uint64_t blossoms_formed = 0;     // by the search
+  std::uint64_t blossoms_expanded = 0;   // odd blossoms the search expanded
+  std::uint64_t dual_steps = 0;          // the search's dual steps
   bool initial_solve = false;  // the pool was empty before the batch: solved from scratch
 };
 
