@@ -58,14 +58,22 @@ __attribute__((target("sse4.2"))) std::uint32_t extend_by_instruction(std::uint3
   return ~narrow;
 }
 
-const bool kHasInstruction = __builtin_cpu_supports("sse4.2");
+// Asked once, on first use: not from a static initializer, which could run before the
+// compiler's own CPU detection (hence __builtin_cpu_init).
+bool has_instruction() {
+  static const bool has = [] {
+    __builtin_cpu_init();
+    return __builtin_cpu_supports("sse4.2") != 0;
+  }();
+  return has;
+}
 #endif
 
 }  // namespace
 
 std::uint32_t crc32c_extend(std::uint32_t crc, std::string_view b) {
 #if defined(__x86_64__)
-  if (kHasInstruction) return extend_by_instruction(crc, b);
+  if (has_instruction()) return extend_by_instruction(crc, b);
 #endif
   return crc32c_extend_by_tables(crc, b);
 }
