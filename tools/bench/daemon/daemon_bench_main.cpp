@@ -159,8 +159,9 @@ class DiffListener {
   std::vector<double> commit_to_publish_us_;
 };
 
-// Before the multi-pool sections: how this machine's cores slow each other down on loads that
-// miss their own cache, the bound on what two pools' repairs at once can give.
+// Before the multi-pool sections: how much this machine's cores slow each other down on loads
+// that miss their own cache, which two pools' repairs at once pay in part (README, "The daemon
+// under load": a second worker added 0-20% to a pool's CPU per event, this probe 25-72%).
 void print_memory_contention(bool quick) {
   const std::uint64_t loads = quick ? 200000 : 2000000;
   std::printf("memory: dependent loads, CPU per load of one thread alone and of each of two at "
