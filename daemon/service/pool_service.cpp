@@ -99,17 +99,30 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  if (const auto job = repairing_.find(batch.pool); job != repairing_.end()) {
-    // Its engine state belongs to a worker now: checked there after the repair, answered
-    // once the repair is collected.
-    hold(ticket, std::move(batch), job->second);
+  if (held_.contains(batch.pool) || waits_for_engine(batch)) {
+    // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
+    held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
+    ++held_count_;
     return std::nullopt;
   }
   return offer_decoded(ticket, std::move(batch));
 }
 
-std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
-                                                  Prechecked* prechecked) {
+bool PoolService::waits_for_engine(const DecodedBatch& batch) {
+  const auto jobs = repairing_.find(batch.pool);
+  if (jobs == repairing_.end()) return false;
+  // A retirement drops the engine, and a cluster may drop a pool at seal() (lost): neither
+  // while a worker holds it.
+  if (batch.retire || !routing_.serves_every_pool() || draining_.contains(batch.pool)) {
+    return true;
+  }
+  RepairJob& last = *jobs->second.back();  // staged: so are the jobs before it (one strand)
+  if (last.staged.load(std::memory_order_acquire)) return false;
+  last.wake_when_staged.store(true);
+  return !last.staged.load();
+}
+
+std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch) {
   if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (retiring_.contains(batch.pool)) {
     return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
@@ -149,13 +162,9 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   }
 
   WindowPool& in_window = window_pool(batch.pool, *pool);
-  std::optional<EventError> error;
-  if (prechecked != nullptr) {
-    prechecked->used = true;  // the strand's checker already holds the batch if it accepted it
-    error = *prechecked->verdict;
-  } else {
-    error = in_window.checker.accept(batch.events);
-  }
+  // While the pool's repair is in flight the checker reads the topology its window left
+  // (Pool::stage), which the repair does not change.
+  std::optional<EventError> error = in_window.checker.accept(batch.events);
   if (error) {
     if (created) window_pools_.erase(batch.pool);  // its checker reads the pool dropped here
     return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
@@ -227,7 +236,7 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
     case RetryVerdict::duplicate: {
       ++state_.progress[batch.pool].batches_duplicate;
       v1::Ack ack = accepted(ack_for(batch), answer.seq, true);
-      if (answer.seq > state_.progress[batch.pool].seq) {  // in this window: answer once durable
+      if (answer.seq > journalled_seq(batch.pool)) {  // in this window: answer once durable
         waiting_duplicates_.emplace_back(ticket, std::move(ack));
         return std::optional<v1::Ack>();
       }
@@ -263,12 +272,33 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
   return std::nullopt;
 }
 
+std::uint64_t PoolService::journalled_seq(const std::string& pool) const {
+  // Between seal() and start_apply(): the sealed window's batches are the latest.
+  for (auto it = sealed_.rbegin(); it != sealed_.rend(); ++it) {
+    if (it->batch.pool == pool) return it->seq;
+  }
+  if (const auto jobs = repairing_.find(pool); jobs != repairing_.end()) {
+    return jobs->second.back()->last_seq;
+  }
+  const auto progress = state_.progress.find(pool);
+  return progress == state_.progress.end() ? 0 : progress->second.seq;
+}
+
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
   auto it = window_pools_.find(name);
   if (it == window_pools_.end()) {
-    const auto progress = state_.progress.find(name);
-    const std::uint64_t seq = progress == state_.progress.end() ? 0 : progress->second.seq;
-    it = window_pools_.emplace(name, WindowPool{seq, seq + 1, BatchChecker(pool)}).first;
+    const std::uint64_t seq = journalled_seq(name);
+    std::optional<BatchChecker> checker;
+    if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
+      // The last window in flight's checker, emptied by its worker once staged, is this one's.
+      RepairJob& last = *jobs->second.back();
+      if (last.staged.load(std::memory_order_acquire) && last.checker) {
+        checker.emplace(std::move(*last.checker));
+        last.checker.reset();
+      }
+    }
+    if (!checker) checker.emplace(pool);
+    it = window_pools_.emplace(name, WindowPool{seq, seq + 1, std::move(*checker)}).first;
   }
   return it->second;
 }
