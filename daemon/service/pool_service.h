@@ -119,7 +119,7 @@ class PoolService {
   // state belongs to the executor until finish_repairs() collects the last, but for the
   // topology the batch checks read once the last is staged (offer()). O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
-  bool repairs_in_flight() const { return !repairing_.empty(); }
+  bool repairs_in_flight() const { return !repairing_.empty() || !first_checks_.empty(); }
   // Someone waits for the engine of `pool` (a query held until its repairs are collected):
   // until they are, its batches wait as in a cluster instead of joining windows, so that no
   // repair of it is handed over after those in flight. Nothing when it is not repairing.
@@ -252,10 +252,32 @@ class PoolService {
     Ticket ticket;
     DecodedBatch batch;
   };
+  // A new pool's first batch of kFirstCheckOffLoop events or more, checked on a worker (on the
+  // loop its check would hold every other pool's batches): the pool made aside and the
+  // checker holding the batch come back with the verdict, and the loop offers the batch with
+  // them (offer_decoded); the pool's next batches wait behind it. The worker reads only
+  // batch.events, engine and checker until `ended` (guarded by finished_mutex_).
+  struct FirstCheck {
+    Ticket ticket = 0;
+    DecodedBatch batch;
+    std::unique_ptr<Pool> engine;
+    std::optional<BatchChecker> checker;
+    std::optional<EventError> verdict;
+    std::exception_ptr failure;
+    bool ended = false;
+  };
+  static constexpr std::size_t kFirstCheckOffLoop = 4096;
 
   v1::Ack refuse(v1::Ack ack);
-  // offer() once the batch is decoded and its pool's topology may be read here.
-  std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch);
+  // offer() once the batch is decoded and its pool's topology may be read here; with `first`,
+  // its pool, checker and verdict stand for the new pool and the check.
+  std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch,
+                                       FirstCheck* first = nullptr);
+  // Hands a new pool's big first batch to a worker for its check (FirstCheck); false (the
+  // batch untouched) when it is not one, or with the inline executor.
+  bool check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch);
+  // The first checks ended since the last call, offered (finish_repairs()).
+  void offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   // A batch that must wait for its pool's engine: a job of the pool is still staging its
   // window (or, for a retirement and in a cluster, any job is in flight). Asks that job to wake
   // the loop once staged.
@@ -305,6 +327,7 @@ class PoolService {
   std::map<std::string, std::deque<std::shared_ptr<RepairJob>>> repairing_;
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
   std::set<std::string> draining_;  // pools whose batches wait until their repairs are over
+  std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)

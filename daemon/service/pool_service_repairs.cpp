@@ -185,10 +185,13 @@ bool PoolService::capture_after_repair(const std::string& pool) {
 void PoolService::wait_repairs() {
   std::unique_lock lock(finished_mutex_);
   finished_signal_.wait(lock, [this] {
-    return std::all_of(repairing_.begin(), repairing_.end(), [](const auto& entry) {
-      return std::all_of(entry.second.begin(), entry.second.end(),
-                         [](const auto& job) { return tasks_ended(*job); });
-    });
+    return std::all_of(repairing_.begin(), repairing_.end(),
+                       [](const auto& entry) {
+                         return std::all_of(entry.second.begin(), entry.second.end(),
+                                            [](const auto& job) { return tasks_ended(*job); });
+                       }) &&
+           std::all_of(first_checks_.begin(), first_checks_.end(),
+                       [](const auto& entry) { return entry.second->ended; });
   });
 }
 
@@ -227,8 +230,31 @@ PoolService::RepairsDone PoolService::finish_repairs() {
   }
   if (failure) std::rethrow_exception(failure);
   std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });
+  offer_first_checks(done.replies);
   offer_held(done.replies);
   return done;
+}
+
+void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
+  std::vector<std::shared_ptr<FirstCheck>> ended;
+  {
+    const std::lock_guard lock(finished_mutex_);
+    for (auto it = first_checks_.begin(); it != first_checks_.end();) {
+      if (!it->second->ended) {
+        ++it;
+        continue;
+      }
+      ended.push_back(std::move(it->second));
+      it = first_checks_.erase(it);
+    }
+  }
+  for (const std::shared_ptr<FirstCheck>& check : ended) {
+    --held_count_;
+    if (check->failure) std::rethrow_exception(check->failure);  // as a repair's (the daemon stops)
+    if (auto ack = offer_decoded(check->ticket, std::move(check->batch), check.get())) {
+      replies.emplace_back(check->ticket, std::move(*ack));
+    }
+  }
 }
 
 void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {

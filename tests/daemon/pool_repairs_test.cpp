@@ -242,6 +242,52 @@ TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolRepairs) {
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
+// A new pool's big first batch is checked on a worker (PoolService::FirstCheck): other pools'
+// batches are acknowledged meanwhile, the pool's next batches wait behind it and get the
+// following seqs; a refused first batch leaves no pool behind. Seqs: events.proto.
+TEST(PoolRepairs, ANewPoolsBigFirstBatchIsCheckedOnAWorker) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  std::vector<v1::Event> big;
+  for (VertexKey key = 1; key <= 5000; ++key) big.push_back(wire_add(key));
+  for (VertexKey key = 1; key < 5000; key += 2) big.push_back(wire_set(key, key + 1, 3));
+  std::vector<v1::Event> bad = big;
+  bad.push_back(wire_set(7, 7, 1));  // a self loop, last
+  EXPECT_FALSE(harness.offer(big, from_client("a", 1, "big")));
+  EXPECT_FALSE(harness.offer(bad, from_client("a", 1, "bad")));
+  EXPECT_EQ(service.held_batches(), 2u);
+  EXPECT_TRUE(service.repairs_in_flight());
+  EXPECT_FALSE(harness.offer({wire_add(1)}, from_client("b", 1, "B")));
+  EXPECT_FALSE(harness.offer({wire_set(1, 5000, 9)}, from_client("a", 2, "big", 1)));
+  EXPECT_EQ(service.held_batches(), 3u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(acks[0].second.pool(), "B");
+  service.start_apply();
+  repairs.release("B");
+  EXPECT_EQ(repairs.release("big"), 1u);
+  EXPECT_EQ(repairs.release("bad"), 1u);
+  const PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.replies.size(), 1u);
+  EXPECT_EQ(done.replies[0].second.pool(), "bad");
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::SELF_LOOP);
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).event_index(), bad.size() - 1);
+  EXPECT_EQ(service.registry().find("bad"), nullptr);
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto big_acks = service.seal();
+  ASSERT_EQ(big_acks.size(), 2u);
+  EXPECT_EQ(accepted_seq(big_acks[0]), 1u);
+  EXPECT_EQ(accepted_seq(big_acks[1]), 2u);
+  service.start_apply();
+  repairs.release("big");
+  service.finish_repairs();
+  EXPECT_EQ(service.progress("big")->seq, 2u);
+  EXPECT_EQ(service.registry().find("big")->weight(), 2498 * 3 + 9);  // 1-5000 for 1-2 and 4999-5000
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("big")));
+}
+
 // A retirement waits until its pool's repairs are over (it drops the engine a worker holds),
 // and the pool's batches after it wait behind it; drain() (a query held) makes the pool's
 // batches wait too, so that its repairs end.
