@@ -244,8 +244,8 @@ class PoolService {
     // equal. Guarded by finished_mutex_, as the capture's three fields.
     std::size_t tasks_posted = 0;
     std::size_t tasks_ended = 0;
-    bool capture_wanted = false;  // set by the loop before capture_passed
-    bool capture_passed = false;  // the worker touches the engine no more
+    bool capture_wanted = false;            // set by the loop before capture_passed
+    bool capture_passed = false;            // the worker touches the engine no more
     std::optional<EngineCapture> captured;  // read by the loop once collected
   };
   struct HeldBatch {
@@ -299,7 +299,7 @@ class PoolService {
   std::optional<std::optional<v1::Ack>> apply_retry_rule(Ticket ticket, const DecodedBatch& batch);
   // The pool's last seq in the log: its progress's, or its last repair's in flight.
   std::uint64_t journalled_seq(const std::string& pool) const;
-    WindowPool& window_pool(const std::string& name, Pool& pool);
+  WindowPool& window_pool(const std::string& name, Pool& pool);
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.
   void drop_pool(const std::string& pool, std::vector<std::pair<Ticket, v1::Ack>>& replies);

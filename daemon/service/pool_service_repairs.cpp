@@ -11,6 +11,15 @@
 #include "pool_service.h"
 
 namespace yoke::daemon {
+namespace {
+
+std::uint64_t micros_since(std::chrono::steady_clock::time_point start) {
+  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
+                                        std::chrono::steady_clock::now() - start)
+                                        .count());
+}
+
+}  // namespace
 
 void PoolService::set_repair_executor(RepairExecutor* executor) {
   if (repairs_in_flight()) {
@@ -119,10 +128,7 @@ void PoolService::stage_window(RepairJob& job) {
   } catch (...) {
     job.failure = std::current_exception();
   }
-  job.repair_us = static_cast<std::uint64_t>(
-      std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
-                                                            start)
-          .count());
+  job.repair_us = micros_since(start);
   if (job.failure) return;  // the loop waits for the end of the job, and then stops
   // The sealed window's checker, now that its batches are in the pool's topology: emptied
   // here, off the loop, it is the next window's (window_pool()).
@@ -140,16 +146,12 @@ void PoolService::repair_window(RepairJob& job) {
       job.failure = std::current_exception();
     }
   }
-  job.repair_us += static_cast<std::uint64_t>(
-      std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
-                                                            start)
-          .count());
+  job.repair_us += micros_since(start);
   if (!job.failure) {
     // The published diff is built here, off the loop; the loop's progress says the same
     // no_perfect_matching (PoolProgress::record_commit).
     job.diff = diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
-                              job.result.status == SolveStatus::no_perfect_matching,
-                              job.repair_us);
+                              job.result.status == SolveStatus::no_perfect_matching, job.repair_us);
     job.result.diff = MatchingDiff();  // its pairs are in the message now: freed here too
   }
   bool capture = false;
@@ -162,8 +164,8 @@ void PoolService::repair_window(RepairJob& job) {
 }
 
 PoolService::EngineCapture PoolService::capture_engine(const Pool& pool) {
-  return EngineCapture{pool_config(pool), pool.weight(), pool.pairs(), pool.vertex_count(),
-                       pool.edge_count(), pool.save()};
+  return EngineCapture{pool_config(pool),   pool.weight(),     pool.pairs(),
+                       pool.vertex_count(), pool.edge_count(), pool.save()};
 }
 
 bool PoolService::capture_after_repair(const std::string& pool) {

@@ -83,7 +83,8 @@ CommitResult Pool::repair() {
   // From here on nothing writes what a BatchChecker reads (the key and edge maps, the counts,
   // the holds): the weights, duals, mates and blossoms change, the topology does not.
   if (pool.staged_solve) {
-    const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
+    const SolveStats solved =
+        solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
     pool.stats.initial_solve = true;
     pool.stats.searches = solved.searches;
     pool.stats.augmentations = solved.augmentations;

@@ -78,6 +78,18 @@ std::uint64_t accepted_seq(const std::pair<Ticket, v1::Ack>& reply) {
   return reply.second.has_accepted() ? reply.second.accepted().seq() : 0;
 }
 
+// Hands the sealed window over, runs every task of `pool` and collects them; the pool then
+// is at `seq` with `weight`, certified.
+void apply_and_expect(PoolService& service, ManualRepairs& repairs, const std::string& pool,
+                      std::uint64_t seq, Weight weight) {
+  service.start_apply();
+  repairs.release(pool);
+  service.finish_repairs();
+  EXPECT_EQ(service.progress(pool)->seq, seq);
+  EXPECT_EQ(service.registry().find(pool)->weight(), weight);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find(pool)));
+}
+
 TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   ServiceHarness harness;
   PoolService& service = harness.service();
@@ -234,12 +246,7 @@ TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolRepairs) {
   const auto last_acks = service.seal();
   ASSERT_EQ(last_acks.size(), 1u);
   EXPECT_EQ(accepted_seq(last_acks[0]), 4u);
-  service.start_apply();
-  repairs.release("A");
-  service.finish_repairs();
-  EXPECT_EQ(service.progress("A")->seq, 4u);
-  EXPECT_EQ(service.registry().find("A")->weight(), 9);
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+  apply_and_expect(service, repairs, "A", 4, 9);
 }
 
 // A new pool's big first batch is checked on a worker (PoolService::FirstCheck): other pools'
@@ -280,12 +287,7 @@ TEST(PoolRepairs, ANewPoolsBigFirstBatchIsCheckedOnAWorker) {
   ASSERT_EQ(big_acks.size(), 2u);
   EXPECT_EQ(accepted_seq(big_acks[0]), 1u);
   EXPECT_EQ(accepted_seq(big_acks[1]), 2u);
-  service.start_apply();
-  repairs.release("big");
-  service.finish_repairs();
-  EXPECT_EQ(service.progress("big")->seq, 2u);
-  EXPECT_EQ(service.registry().find("big")->weight(), 2498 * 3 + 9);  // 1-5000 for 1-2 and 4999-5000
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("big")));
+  apply_and_expect(service, repairs, "big", 2, 2498 * 3 + 9);  // 1-5000 for 1-2 and 4999-5000
 }
 
 // A retirement waits until its pool's repairs are over (it drops the engine a worker holds),
@@ -296,7 +298,8 @@ TEST(PoolRepairs, RetirementsAndDrainedPoolsWaitForTheRepairsInFlight) {
   PoolService& service = harness.service();
   ManualRepairs repairs;
   service.set_repair_executor(&repairs);
-  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  ASSERT_FALSE(
+      harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
   ASSERT_FALSE(harness.offer({wire_add(1)}, from_client("b", 1, "B")));
   service.seal();
   service.start_apply();
@@ -456,7 +459,7 @@ TEST(PoolRepairs, RefusingTheWindowRefusesTheBatchesWaitingForARepair) {
 // the same batches ends them (weight and seq), certified. Run under ThreadSanitizer too
 // (DEVELOPERS.md, "Inside the daemon").
 void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& spec,
-                                                   std::uint64_t seed, std::size_t threads_count) {
+                                                    std::uint64_t seed, std::size_t threads_count) {
   const std::vector<testing::ScriptWindow> script = testing::random_script(spec, seed);
   ServiceHarness reference;
   ASSERT_TRUE(testing::run_script(reference, script));

@@ -7,10 +7,10 @@
 #include <random>
 #include <vector>
 
+#include "tests/event_builders.h"
 #include "yoke/batch_checker.h"
 #include "yoke/certificate.h"
 #include "yoke/pool.h"
-#include "tests/event_builders.h"
 
 namespace yoke {
 namespace {
@@ -157,7 +157,8 @@ TEST(BatchChecker, AStagedPoolIsCheckedAsTheCommittedOne) {
     for (Event& event : batch) {
       switch (kind(random)) {
         case 0: event = add(key(random)); break;
-        case 1: case 2: event = set(key(random), key(random), weight(random)); break;
+        case 1:
+        case 2: event = set(key(random), key(random), weight(random)); break;
         case 3: event = unset(key(random), key(random)); break;
         case 4: event = remove(key(random)); break;
         default: event = hold(key(random), key(random)); break;
