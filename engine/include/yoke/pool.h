@@ -142,7 +142,18 @@ class Pool {
   std::optional<EventError> check(std::span<const Event> batch) const;
 
   // Applies a batch and repairs the optimum. Precondition: check(batch) found nothing.
+  // The same as stage(batch) then repair().
   CommitResult commit(std::span<const Event> batch);
+
+  // commit() in two steps, so that the next batches can be checked while the repair runs:
+  // stage() applies the batch's changes of vertices, edges and holds (what BatchChecker and
+  // has_vertex() read, and the counts); repair() restores the optimum and returns the commit's
+  // result. From stage()'s return until the next stage() those do not change, so a
+  // BatchChecker may read the pool on another thread during repair(), given a happens-before
+  // from stage()'s return (the daemon checks waiting batches so, daemon/service). No other
+  // call between them. Precondition of stage(): check(batch) found nothing, and no batch staged.
+  void stage(std::span<const Event> batch);
+  CommitResult repair();
 
   Weight weight() const;
   std::size_t pairs() const;
