@@ -53,11 +53,13 @@ class BatchChecker::Overlay {
 
   std::size_t accepted_events() const { return accepted_events_; }
 
-  // unordered_map::clear keeps the bucket arrays: the next window does not grow them again.
+  // unordered_map::clear keeps the bucket arrays, so the next window does not grow them again;
+  // but it also walks them, so tables grown by one big window (a new pool's base graph) are
+  // swapped for small ones, or every later clear would pay for that window.
   void clear() {
-    vertex_.clear();
-    edge_override_.clear();
-    partner_.clear();
+    empty(vertex_);
+    empty(edge_override_);
+    empty(partner_);
     vertex_undo_.clear();
     edge_undo_.clear();
     partner_undo_.clear();
@@ -67,6 +69,17 @@ class BatchChecker::Overlay {
   }
 
  private:
+  template <class Map>
+  static void empty(Map& map) {
+    if (map.bucket_count() > 4 * map.size() + 64) {
+      Map fresh;
+      fresh.reserve(map.size());
+      map.swap(fresh);
+    } else {
+      map.clear();
+    }
+  }
+
   // Where a running count went above a limit and stayed there: the event that last crossed it.
   struct LimitWatch {
     bool above = false;
