@@ -390,8 +390,10 @@ void YokedServer::on_query_message() {
   frames.pop_back();
   if (const auto pool = QueryHandler::pool_read_by(payload.to_string_view());
       pool && service_.repairing(*pool)) {
-    // A worker holds that pool's state: answered once its repair is collected.
+    // A worker holds that pool's state: answered once its repairs are collected, and its
+    // batches wait meanwhile, so that no further repair of it is handed over.
     held_queries_[*pool].push_back({std::move(frames), std::move(payload)});
+    service_.drain(*pool);
     return;
   }
   answer_query(frames, payload);

@@ -99,17 +99,64 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
   DecodedBatch& batch = std::get<DecodedBatch>(decoded);
-  if (const auto job = repairing_.find(batch.pool); job != repairing_.end()) {
-    // Its engine state belongs to a worker now: checked there after the repair, answered
-    // once the repair is collected.
-    hold(ticket, std::move(batch), job->second);
+  if (held_.contains(batch.pool) || waits_for_engine(batch)) {
+    // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
+    held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
+    ++held_count_;
     return std::nullopt;
   }
+  if (check_first_batch_off_loop(ticket, batch)) return std::nullopt;
   return offer_decoded(ticket, std::move(batch));
 }
 
+bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch) {
+  if (executor_ == &inline_repairs_ || batch.retire || batch.events.size() < kFirstCheckOffLoop ||
+      !routing_.serves_every_pool() || retiring_.contains(batch.pool) ||
+      state_.registry.find(batch.pool) != nullptr ||
+      !state_.registry.may_create(batch.pool, limits_.max_pools)) {
+    return false;
+  }
+  auto check = std::make_shared<FirstCheck>();
+  check->ticket = ticket;
+  const PoolSettings& settings = state_.registry.settings_for(batch.pool);
+  check->engine = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
+  check->batch = std::move(batch);
+  first_checks_.emplace(check->batch.pool, check);
+  ++held_count_;
+  executor_->run(check->batch.pool, [this, check] {
+    try {
+      check->checker.emplace(*check->engine);
+      check->verdict = check->checker->accept(check->batch.events);
+    } catch (...) {
+      check->failure = std::current_exception();
+    }
+    {
+      const std::lock_guard lock(finished_mutex_);
+      check->ended = true;
+    }
+    finished_signal_.notify_all();
+    if (repair_listener_) repair_listener_();
+  });
+  return true;
+}
+
+bool PoolService::waits_for_engine(const DecodedBatch& batch) {
+  if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
+  const auto jobs = repairing_.find(batch.pool);
+  if (jobs == repairing_.end()) return false;
+  // A retirement drops the engine, and a cluster may drop a pool at seal() (lost): neither
+  // while a worker holds it.
+  if (batch.retire || !routing_.serves_every_pool() || draining_.contains(batch.pool)) {
+    return true;
+  }
+  RepairJob& last = *jobs->second.back();  // staged: so are the jobs before it (one strand)
+  if (last.staged.load(std::memory_order_acquire)) return false;
+  last.wake_when_staged.store(true);
+  return !last.staged.load();
+}
+
 std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
-                                                  Prechecked* prechecked) {
+                                                  FirstCheck* first) {
   if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (retiring_.contains(batch.pool)) {
     return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
@@ -127,6 +174,8 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   // A pool named for the first time is made aside and kept only if the batch is accepted: a
   // refusal changes nothing, not even the pools there are (nor their count, for max_pools).
   Pool* pool = state_.registry.find(batch.pool);
+  // The pool's batches waited behind its first one: nothing made it meanwhile.
+  if (pool != nullptr || window_pools_.contains(batch.pool)) first = nullptr;
   std::unique_ptr<Pool> created;
   if (pool == nullptr) {
     if (!state_.registry.may_create(batch.pool, limits_.max_pools)) {
@@ -140,22 +189,32 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
                                 std::to_string(state_.registry.declared_count()) +
                                 " declared pools leave (retire one to free a slot)")));
     }
-    const PoolSettings& settings = state_.registry.settings_for(batch.pool);
-    created = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
+    if (first != nullptr) {
+      created = std::move(first->engine);
+    } else {
+      const PoolSettings& settings = state_.registry.settings_for(batch.pool);
+      created = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
+    }
     pool = created.get();
   }
   if (!batch.client_id.empty()) {
     if (auto answer = apply_retry_rule(ticket, batch)) return std::move(*answer);
   }
 
-  WindowPool& in_window = window_pool(batch.pool, *pool);
   std::optional<EventError> error;
-  if (prechecked != nullptr) {
-    prechecked->used = true;  // the strand's checker already holds the batch if it accepted it
-    error = *prechecked->verdict;
+  WindowPool* window_entry = nullptr;
+  if (first != nullptr) {
+    // The worker's checker holds the batch when it accepted it: the window's.
+    window_entry = &window_pools_.emplace(batch.pool, WindowPool{0, 1, std::move(*first->checker)})
+                        .first->second;
+    error = std::move(first->verdict);
   } else {
-    error = in_window.checker.accept(batch.events);
+    window_entry = &window_pool(batch.pool, *pool);
+    // While the pool's repair is in flight the checker reads the topology its window left
+    // (Pool::stage), which the repair does not change.
+    error = window_entry->checker.accept(batch.events);
   }
+  WindowPool& in_window = *window_entry;
   if (error) {
     if (created) window_pools_.erase(batch.pool);  // its checker reads the pool dropped here
     return refuse(rejected(batch, make_error(to_wire(error->code), std::move(error->message),
@@ -227,7 +286,7 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
     case RetryVerdict::duplicate: {
       ++state_.progress[batch.pool].batches_duplicate;
       v1::Ack ack = accepted(ack_for(batch), answer.seq, true);
-      if (answer.seq > state_.progress[batch.pool].seq) {  // in this window: answer once durable
+      if (answer.seq > journalled_seq(batch.pool)) {  // in this window: answer once durable
         waiting_duplicates_.emplace_back(ticket, std::move(ack));
         return std::optional<v1::Ack>();
       }
@@ -263,12 +322,33 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
   return std::nullopt;
 }
 
+std::uint64_t PoolService::journalled_seq(const std::string& pool) const {
+  // Between seal() and start_apply(): the sealed window's batches are the latest.
+  for (auto it = sealed_.rbegin(); it != sealed_.rend(); ++it) {
+    if (it->batch.pool == pool) return it->seq;
+  }
+  if (const auto jobs = repairing_.find(pool); jobs != repairing_.end()) {
+    return jobs->second.back()->last_seq;
+  }
+  const auto progress = state_.progress.find(pool);
+  return progress == state_.progress.end() ? 0 : progress->second.seq;
+}
+
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
   auto it = window_pools_.find(name);
   if (it == window_pools_.end()) {
-    const auto progress = state_.progress.find(name);
-    const std::uint64_t seq = progress == state_.progress.end() ? 0 : progress->second.seq;
-    it = window_pools_.emplace(name, WindowPool{seq, seq + 1, BatchChecker(pool)}).first;
+    const std::uint64_t seq = journalled_seq(name);
+    std::optional<BatchChecker> checker;
+    if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
+      // The last window in flight's checker, emptied by its worker once staged, is this one's.
+      RepairJob& last = *jobs->second.back();
+      if (last.staged.load(std::memory_order_acquire) && last.checker) {
+        checker.emplace(std::move(*last.checker));
+        last.checker.reset();
+      }
+    }
+    if (!checker) checker.emplace(pool);
+    it = window_pools_.emplace(name, WindowPool{seq, seq + 1, std::move(*checker)}).first;
   }
   return it->second;
 }
@@ -353,6 +433,11 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     }
   }
   held_.clear();
+  // A worker may still be checking: it reads the batch's events, not its names.
+  for (const auto& [pool, check] : first_checks_) {
+    replies.emplace_back(check->ticket, refuse(refused(ack_for(check->batch), error)));
+  }
+  first_checks_.clear();
   held_count_ = 0;
   window_.clear();
   waiting_duplicates_.clear();

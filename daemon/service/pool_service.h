@@ -81,9 +81,12 @@ class PoolService {
                                                           const std::string& instance);
 
   // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
-  // batch already durable; nothing when the reply comes with the window (see seal()), or when
-  // the batch's pool is being repaired: the batch then waits and its answer comes from
-  // finish_repairs() (a refusal, a duplicate) or with a later window.
+  // batch already durable; nothing when the reply comes with the window (see seal()). A batch
+  // for a pool whose repair is in flight is checked here too, against the pool as staged
+  // (Pool::stage) plus the window, and joins the window, unless the pool's latest window is
+  // still being staged (or it is a retirement, or the daemon is in a cluster: then any repair
+  // in flight): the batch then waits and its answer comes from finish_repairs() (a refusal, a
+  // duplicate) or with a later window.
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
 
   // Repairs go to `executor` from now on (nullptr: the inline default). Only while no repair
@@ -101,23 +104,29 @@ class PoolService {
     std::size_t edges = 0;
     std::string state;  // Pool::save()
   };
-  // Asks the repair of `pool` in flight to capture the engine state it leaves, on the worker
-  // (the collect listener then receives it): a snapshot started while the pool repairs saves
-  // it off the loop. False when no repair of it is in flight; the capture may still be missed
-  // when the repair is already past that point (the listener then receives nullptr). O(log pools).
+  // Asks the last repair of `pool` in flight to capture the engine state it leaves, on the
+  // worker (the collect listener then receives it): a snapshot started while the pool repairs
+  // saves it off the loop. When that repair is already past the point, the capture is made
+  // here, now (the worker no longer touches the engine). False when no repair of it is in
+  // flight. O(log pools), or Pool::save() in that late case.
   bool capture_after_repair(const std::string& pool);
-  // Called by finish_repairs() for each pool whose repair it collects, once its progress is
-  // recorded and before the batches that waited for it are checked (a snapshot in progress
-  // captures the pool there), with the engine capture asked for, if it was made.
+  // Called by finish_repairs() for each repair it collects that was asked for a capture (with
+  // it), or after which the pool has no repair in flight (nullptr unless asked), once its
+  // progress is recorded and before the batches that waited for it are checked.
   using CollectListener = std::function<void(const std::string&, const EngineCapture*)>;
   void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
-  // A repair of `pool` is in flight: its engine state belongs to the executor until
-  // finish_repairs() collects it (after the repair, and after the checks of the batches that
-  // arrived meanwhile, which run on the pool's strand too). O(log pools).
+  // A repair of `pool` is in flight (one per sealed window of it, in seq order): its engine
+  // state belongs to the executor until finish_repairs() collects the last, but for the
+  // topology the batch checks read once the last is staged (offer()). O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
-  bool repairs_in_flight() const { return !repairing_.empty(); }
-  // Batches waiting for their pool's repair (not yet in the window; checked on the strand
-  // after the repair, that verdict used when the retry rules let every batch before it in).
+  bool repairs_in_flight() const { return !repairing_.empty() || !first_checks_.empty(); }
+  // Someone waits for the engine of `pool` (a query held until its repairs are collected):
+  // until they are, its batches wait as in a cluster instead of joining windows, so that no
+  // repair of it is handed over after those in flight. Nothing when it is not repairing.
+  void drain(const std::string& pool) {
+    if (repairing(pool)) draining_.insert(pool);
+  }
+  // Batches waiting for their pool's engine (offer()), not yet checked nor in the window.
   std::size_t held_batches() const { return held_count_; }
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
@@ -154,9 +163,10 @@ class PoolService {
   // under max_pools.
   std::vector<v1::Diff> apply();
 
-  // Hands each pool of the sealed window to the executor for one repair of all its batches
-  // (a retirement is done here, on the caller's thread). `window_closed` comes back with each
-  // diff (RepairsDone). O(window events) here; the repairs' cost on the executor.
+  // Hands each pool of the sealed window to the executor for one repair of all its batches,
+  // behind the pool's repairs already in flight (a retirement is done here, on the caller's
+  // thread; its pool has none). `window_closed` comes back with each diff (RepairsDone).
+  // O(window events) here; the repairs' cost on the executor.
   void start_apply(std::chrono::steady_clock::time_point window_closed =
                        std::chrono::steady_clock::now());
 
@@ -168,12 +178,10 @@ class PoolService {
     // duplicates when checked now; the others joined the open window.
     std::vector<std::pair<Ticket, v1::Ack>> replies;
   };
-  // Collects every repair finished since the last call (progress, diffs), then takes the
-  // batches waiting for pools no longer repairing, in arrival order: retry rules here, and the
-  // strand's check of the batch (made as if every waiting batch before it had passed its retry
-  // rules; when one did not, the batches after it are checked here again, as before worker
-  // threads). Rethrows a repair's failure (the daemon must stop, as before worker threads).
-  // O(collected diffs + batches' retry marks), the checks' cost on the strands.
+  // Collects every repair finished since the last call (progress, diffs), then offers the
+  // batches that need not wait any more (their pool's window staged, or its repairs over), in
+  // arrival order, as offer() would. Rethrows a repair's failure (the daemon must stop, as
+  // before worker threads). O(collected diffs + the offered batches' checks).
   RepairsDone finish_repairs();
 
   // Blocks until every repair in flight has finished (finish_repairs() then collects them).
@@ -192,20 +200,6 @@ class PoolService {
   const std::map<v1::Error::Code, std::uint64_t>& refusals() const { return refusals_; }
 
  private:
-  // A waiting batch's events lent to its pool's strand, which checks them after the repair
-  // against the pool plus the waiting batches it accepted before (RepairJob::precheck).
-  struct HeldCheck {
-    std::vector<Event> events;
-    std::optional<EventError> verdict;
-    bool checked = false;
-  };
-  // The strand's verdict on a waiting batch, handed to offer_decoded(), which says whether the
-  // batch got as far as its check (`used`): if not, the strand's checker holds a batch the
-  // window does not.
-  struct Prechecked {
-    const std::optional<EventError>* verdict;
-    bool used = false;
-  };
   struct PendingBatch {
     Ticket ticket;
     std::uint64_t seq;
@@ -217,7 +211,8 @@ class PoolService {
     BatchChecker checker;
   };
 
-  // One pool's repair as the executor runs it, and its result.
+  // One pool's commit of one sealed window as the executor runs it, in two tasks on the pool's
+  // strand: stage (the batches' changes of vertices, edges and holds; Pool::stage) and repair.
   struct RepairJob {
     std::string pool;
     Pool* engine = nullptr;
@@ -228,47 +223,73 @@ class PoolService {
     std::uint64_t seq_before = 0;
     std::uint64_t batches = 0;
     std::chrono::steady_clock::time_point window_closed;
+    // The pool's job handed over before this one, until this one starts: a failed repair
+    // leaves the engine broken, so the jobs after it fail too (the daemon stops).
+    std::shared_ptr<RepairJob> after;
     CommitResult result;  // its MatchingDiff emptied once `diff` is built
     v1::Diff diff;        // the worker's, from `result`
     std::uint64_t repair_us = 0;
     std::exception_ptr failure;
-    std::atomic<bool> capture_wanted{false};  // set by the loop, read by the worker
-    std::optional<EngineCapture> captured;    // the worker's, read by the loop once collected
-    // Tasks given to the strand for this pool (the repair, then checks), and those ended:
-    // collected when equal. Both guarded by finished_mutex_.
+    // The sealed window's checker, handed over so that the worker, not the loop, clears its
+    // tables: emptied once the window is staged, then the loop's (window_pool()).
+    std::optional<BatchChecker> checker;
+    // Stored by the worker once the window is staged, after its last write of the pool's
+    // topology and of `checker`: from then on the loop may check batches against the pool
+    // (Pool::stage's promise) and take `checker`. The loop sets wake_when_staged before it
+    // holds a batch for that, and looks at staged again after (both seq_cst: one of the two
+    // threads sees the other's store).
+    std::atomic<bool> staged{false};
+    std::atomic<bool> wake_when_staged{false};
+    // Tasks given to the strand for this job (stage, repair), and those ended: collected when
+    // equal. Guarded by finished_mutex_, as the capture's three fields.
     std::size_t tasks_posted = 0;
     std::size_t tasks_ended = 0;
-    bool prechecks_stopped = false;  // the loop's: a retirement waits, later batches are its
-    // The strand's checker over the pool after the repair plus the waiting batches it
-    // accepted; the loop's once collected (the next window's checker when the retry rules
-    // agreed with every verdict). Empty after a check failed. Before the repair: the sealed
-    // window's checker, handed over so that the worker, not the loop, clears its tables.
-    std::optional<BatchChecker> precheck;
-    bool precheck_failed = false;
+    bool capture_wanted = false;            // set by the loop before capture_passed
+    bool capture_passed = false;            // the worker touches the engine no more
+    std::optional<EngineCapture> captured;  // read by the loop once collected
   };
   struct HeldBatch {
     Ticket ticket;
-    DecodedBatch batch;  // its events lent to `check` while the strand has them
-    std::shared_ptr<HeldCheck> check;  // null: checked on the loop once collected
+    DecodedBatch batch;
   };
+  // A new pool's first batch of kFirstCheckOffLoop events or more, checked on a worker (on the
+  // loop its check would hold every other pool's batches): the pool made aside and the
+  // checker holding the batch come back with the verdict, and the loop offers the batch with
+  // them (offer_decoded); the pool's next batches wait behind it. The worker reads only
+  // batch.events, engine and checker until `ended` (guarded by finished_mutex_).
+  struct FirstCheck {
+    Ticket ticket = 0;
+    DecodedBatch batch;
+    std::unique_ptr<Pool> engine;
+    std::optional<BatchChecker> checker;
+    std::optional<EventError> verdict;
+    std::exception_ptr failure;
+    bool ended = false;
+  };
+  static constexpr std::size_t kFirstCheckOffLoop = 4096;
 
   v1::Ack refuse(v1::Ack ack);
-  // offer() once the batch is decoded and its pool is not repairing; with `prechecked`, the
-  // strand's verdict stands for the check.
+  // offer() once the batch is decoded and its pool's topology may be read here; with `first`,
+  // its pool, checker and verdict stand for the new pool and the check.
   std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch,
-                                       Prechecked* prechecked = nullptr);
-  // A batch for a pool whose repair is in flight: kept, and its check queued on the strand.
-  void hold(Ticket ticket, DecodedBatch batch, const std::shared_ptr<RepairJob>& job);
-  // The batches that waited for `pool`'s repair, in arrival order, with the strand's checker.
-  void offer_held(const std::string& pool, std::deque<HeldBatch> waiting,
-                  std::optional<BatchChecker> prechecked,
-                  std::vector<std::pair<Ticket, v1::Ack>>& replies);
+                                       FirstCheck* first = nullptr);
+  // Hands a new pool's big first batch to a worker for its check (FirstCheck); false (the
+  // batch untouched) when it is not one, or with the inline executor.
+  bool check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch);
+  // The first checks ended since the last call, offered (finish_repairs()).
+  void offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies);
+  // A batch that must wait for its pool's engine: a job of the pool is still staging its
+  // window (or, for a retirement and in a cluster, any job is in flight). Asks that job to wake
+  // the loop once staged.
+  bool waits_for_engine(const DecodedBatch& batch);
+  // Offers the held batches of every pool that no longer has to wait, in arrival order.
+  void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   // Gives `task` to `job`'s strand, counted so that the job is collected after it.
   void post_task(const std::shared_ptr<RepairJob>& job, std::function<void()> task);
-  // Runs on the executor: the repair, then the hand back.
-  void run_repair(const std::shared_ptr<RepairJob>& job);
-  // Runs on the executor after the repair: one waiting batch checked.
-  static void precheck(RepairJob& job, HeldCheck& check);
+  // Run on the executor: the window's batches staged in the engine, then the repair.
+  void stage_window(RepairJob& job);
+  void repair_window(RepairJob& job);
+  static EngineCapture capture_engine(const Pool& pool);
   // A job whose every task ended (under finished_mutex_).
   static bool tasks_ended(const RepairJob& job) { return job.tasks_ended == job.tasks_posted; }
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
@@ -276,6 +297,8 @@ class PoolService {
   // nothing when the batch is new and may enter the window; otherwise offer()'s answer (a
   // refusal, a duplicate's Ack, or no Ack yet for a retry of a batch in the open window).
   std::optional<std::optional<v1::Ack>> apply_retry_rule(Ticket ticket, const DecodedBatch& batch);
+  // The pool's last seq in the log: its progress's, or its last repair's in flight.
+  std::uint64_t journalled_seq(const std::string& pool) const;
   WindowPool& window_pool(const std::string& name, Pool& pool);
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.
@@ -300,8 +323,11 @@ class PoolService {
   RepairExecutor* executor_ = &inline_repairs_;
   std::function<void()> repair_listener_;
   CollectListener collect_listener_;
-  std::map<std::string, std::shared_ptr<RepairJob>> repairing_;  // handed to the executor
+  // Handed to the executor, per pool in the order handed (the strand's).
+  std::map<std::string, std::deque<std::shared_ptr<RepairJob>>> repairing_;
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
+  std::set<std::string> draining_;  // pools whose batches wait until their repairs are over
+  std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)

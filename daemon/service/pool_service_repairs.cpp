@@ -11,6 +11,15 @@
 #include "pool_service.h"
 
 namespace yoke::daemon {
+namespace {
+
+std::uint64_t micros_since(std::chrono::steady_clock::time_point start) {
+  return static_cast<std::uint64_t>(std::chrono::duration_cast<std::chrono::microseconds>(
+                                        std::chrono::steady_clock::now() - start)
+                                        .count());
+}
+
+}  // namespace
 
 void PoolService::set_repair_executor(RepairExecutor* executor) {
   if (repairs_in_flight()) {
@@ -52,6 +61,9 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
     job->seq_before = sealed_seq_before_[name];
     Pool& pool = *state_.registry.find(name);
     if (retired.contains(name)) {
+      if (repairing(name)) {  // offer() holds a retirement until the pool's repairs are over
+        throw std::logic_error("pool " + name + " was retired while its repair is in flight");
+      }
       // Nothing to repair: the pool ends here (the window's batches before the retirement are
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
@@ -59,12 +71,12 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       take_pool_state(state_, name);
       continue;
     }
-    if (!repairing_.emplace(name, job).second) {
-      throw std::logic_error("pool " + name + " was handed a second repair while in one");
-    }
+    std::deque<std::shared_ptr<RepairJob>>& in_flight = repairing_[name];
+    if (!in_flight.empty()) job->after = in_flight.back();
+    in_flight.push_back(job);
     job->engine = &pool;
     if (auto checker = sealed_checkers_.find(name); checker != sealed_checkers_.end()) {
-      job->precheck.emplace(std::move(checker->second));
+      job->checker.emplace(std::move(checker->second));
     }
   }
   sealed_seq_before_.clear();
@@ -73,7 +85,8 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
     if (pool_job->engine == nullptr) continue;
     // A copy of the binding to capture (clang 14 cannot capture a structured binding).
     std::shared_ptr<RepairJob> job = pool_job;
-    post_task(job, [this, job] { run_repair(job); });
+    post_task(job, [this, job] { stage_window(*job); });
+    post_task(job, [this, job] { repair_window(*job); });
   }
 }
 
@@ -96,73 +109,78 @@ void PoolService::post_task(const std::shared_ptr<RepairJob>& job, std::function
   });
 }
 
-void PoolService::hold(Ticket ticket, DecodedBatch batch, const std::shared_ptr<RepairJob>& job) {
-  HeldBatch& held = held_[batch.pool].emplace_back(HeldBatch{ticket, std::move(batch), nullptr});
-  ++held_count_;
-  // After a retirement the pool's batches are refused, not checked (offer_decoded).
-  if (held.batch.retire) job->prechecks_stopped = true;
-  if (job->prechecks_stopped) return;
-  auto check = std::make_shared<HeldCheck>();
-  check->events = std::move(held.batch.events);
-  held.check = check;
-  RepairJob* repair = job.get();  // the task's job outlives it: post_task holds it
-  post_task(job, [repair, check] { precheck(*repair, *check); });
-}
-
-void PoolService::precheck(RepairJob& job, HeldCheck& check) {
-  if (job.failure || job.precheck_failed) return;  // left to the loop (or the daemon stops)
-  try {
-    if (!job.precheck) job.precheck.emplace(*job.engine);
-    check.verdict = job.precheck->accept(check.events);
-    check.checked = true;
-  } catch (...) {
-    // A checker cut short may hold part of a batch: the loop checks every waiting batch.
-    job.precheck.reset();
-    job.precheck_failed = true;
-  }
-}
-
-void PoolService::run_repair(const std::shared_ptr<RepairJob>& job) {
+void PoolService::stage_window(RepairJob& job) {
   const auto start = std::chrono::steady_clock::now();
   try {
+    if (job.after && job.after->failure) {
+      throw std::runtime_error("pool " + job.pool + ": an earlier repair failed");
+    }
+    job.after.reset();  // ended before this task began (one strand): no chain of jobs is kept
     std::size_t total = 0;
-    for (const std::vector<Event>& events : job->batches_events) total += events.size();
+    for (const std::vector<Event>& events : job.batches_events) total += events.size();
     std::vector<Event> joined;
     joined.reserve(total);
-    for (const std::vector<Event>& events : job->batches_events) {
+    for (const std::vector<Event>& events : job.batches_events) {
       joined.insert(joined.end(), events.begin(), events.end());
     }
-    job->batches_events.clear();
-    job->result = job->engine->commit(joined);
+    job.batches_events.clear();
+    job.engine->stage(joined);
   } catch (...) {
-    job->failure = std::current_exception();
+    job.failure = std::current_exception();
   }
-  job->repair_us = static_cast<std::uint64_t>(
-      std::chrono::duration_cast<std::chrono::microseconds>(std::chrono::steady_clock::now() -
-                                                            start)
-          .count());
-  if (!job->failure) {
+  job.repair_us = micros_since(start);
+  if (job.failure) return;  // the loop waits for the end of the job, and then stops
+  // The sealed window's checker, now that its batches are in the pool's topology: emptied
+  // here, off the loop, it is the next window's (window_pool()).
+  if (job.checker) job.checker->clear();
+  job.staged.store(true);  // seq_cst, against the loop's wake_when_staged (waits_for_engine)
+  if (job.wake_when_staged.load() && repair_listener_) repair_listener_();
+}
+
+void PoolService::repair_window(RepairJob& job) {
+  const auto start = std::chrono::steady_clock::now();
+  if (!job.failure) {
+    try {
+      job.result = job.engine->repair();
+    } catch (...) {
+      job.failure = std::current_exception();
+    }
+  }
+  job.repair_us += micros_since(start);
+  if (!job.failure) {
     // The published diff is built here, off the loop; the loop's progress says the same
     // no_perfect_matching (PoolProgress::record_commit).
-    job->diff = diff_of_commit(job->pool, job->result, job->last_seq, job->seq_before,
-                               job->result.status == SolveStatus::no_perfect_matching,
-                               job->repair_us);
-    job->result.diff = MatchingDiff();  // its pairs are in the message now: freed here too
+    job.diff = diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
+                              job.result.status == SolveStatus::no_perfect_matching, job.repair_us);
+    job.result.diff = MatchingDiff();  // its pairs are in the message now: freed here too
   }
-  // The sealed window's checker, now that its batches are in the pool: emptied here, off the
-  // loop, it checks the batches that waited (precheck()).
-  if (job->precheck) job->precheck->clear();
-  if (!job->failure && job->capture_wanted.load(std::memory_order_acquire)) {
-    const Pool& pool = *job->engine;
-    job->captured = EngineCapture{pool_config(pool), pool.weight(), pool.pairs(),
-                                  pool.vertex_count(), pool.edge_count(), pool.save()};
+  bool capture = false;
+  {
+    const std::lock_guard lock(finished_mutex_);
+    job.capture_passed = true;
+    capture = job.capture_wanted && !job.failure;
   }
+  if (capture) job.captured = capture_engine(*job.engine);
+}
+
+PoolService::EngineCapture PoolService::capture_engine(const Pool& pool) {
+  return EngineCapture{pool_config(pool),   pool.weight(),     pool.pairs(),
+                       pool.vertex_count(), pool.edge_count(), pool.save()};
 }
 
 bool PoolService::capture_after_repair(const std::string& pool) {
-  const auto it = repairing_.find(pool);
-  if (it == repairing_.end()) return false;
-  it->second->capture_wanted.store(true, std::memory_order_release);
+  const auto jobs = repairing_.find(pool);
+  if (jobs == repairing_.end()) return false;
+  RepairJob& job = *jobs->second.back();
+  {
+    const std::lock_guard lock(finished_mutex_);
+    if (job.capture_wanted) return true;  // asked already: the worker or this call makes it
+    job.capture_wanted = true;
+    if (!job.capture_passed) return true;
+  }
+  // The worker is past the point: it touches the engine no more, and no later repair of the
+  // pool is handed over before the loop's next start_apply().
+  if (!job.failure) job.captured = capture_engine(*job.engine);
   return true;
 }
 
@@ -170,26 +188,33 @@ void PoolService::wait_repairs() {
   std::unique_lock lock(finished_mutex_);
   finished_signal_.wait(lock, [this] {
     return std::all_of(repairing_.begin(), repairing_.end(),
-                       [](const auto& entry) { return tasks_ended(*entry.second); });
+                       [](const auto& entry) {
+                         return std::all_of(entry.second.begin(), entry.second.end(),
+                                            [](const auto& job) { return tasks_ended(*job); });
+                       }) &&
+           std::all_of(first_checks_.begin(), first_checks_.end(),
+                       [](const auto& entry) { return entry.second->ended; });
   });
 }
 
 PoolService::RepairsDone PoolService::finish_repairs() {
-  std::vector<std::shared_ptr<RepairJob>> collected;
+  std::vector<std::shared_ptr<RepairJob>> collected;  // each pool's in seq order
   {
     const std::lock_guard lock(finished_mutex_);
-    for (const auto& [name, job] : repairing_) {
-      if (tasks_ended(*job)) collected.push_back(job);
+    for (auto it = repairing_.begin(); it != repairing_.end();) {
+      std::deque<std::shared_ptr<RepairJob>>& jobs = it->second;
+      while (!jobs.empty() && tasks_ended(*jobs.front())) {
+        collected.push_back(std::move(jobs.front()));
+        jobs.pop_front();
+      }
+      it = jobs.empty() ? repairing_.erase(it) : std::next(it);
     }
   }
-  std::map<std::string, std::optional<BatchChecker>> prechecked;
   RepairsDone done = std::move(retired_);
   retired_ = RepairsDone();
   std::exception_ptr failure;
   for (const std::shared_ptr<RepairJob>& done_job : collected) {
     RepairJob& job = *done_job;
-    repairing_.erase(job.pool);
-    prechecked.emplace(job.pool, std::move(job.precheck));
     if (job.failure) {
       if (!failure) failure = job.failure;
       continue;
@@ -199,70 +224,53 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     progress.last_timings.set_repair_us(job.repair_us);
     done.diffs.push_back(std::move(job.diff));
     done.window_closed.push_back(job.window_closed);
-    if (collect_listener_) collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
+    // A snapshot waiting for the pool takes it at the repair it asked, or once the pool is
+    // free: never while a later repair may be changing the engine.
+    if (collect_listener_ && (job.captured || !repairing(job.pool))) {
+      collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
+    }
   }
   if (failure) std::rethrow_exception(failure);
-
-  // The batches that waited, in arrival order, now that their pools are the loop's again.
-  for (auto it = held_.begin(); it != held_.end();) {
-    if (repairing(it->first)) {
-      ++it;
-      continue;
-    }
-    const std::string pool = it->first;
-    std::deque<HeldBatch> waiting = std::move(it->second);
-    it = held_.erase(it);
-    held_count_ -= waiting.size();
-    std::optional<BatchChecker> checker;
-    if (auto found = prechecked.find(pool); found != prechecked.end()) {
-      checker = std::move(found->second);
-    }
-    offer_held(pool, std::move(waiting), std::move(checker), done.replies);
-  }
+  std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });
+  offer_first_checks(done.replies);
+  offer_held(done.replies);
   return done;
 }
 
-void PoolService::offer_held(const std::string& pool, std::deque<HeldBatch> waiting,
-                             std::optional<BatchChecker> prechecked,
-                             std::vector<std::pair<Ticket, v1::Ack>>& replies) {
-  // The strand checked the waiting batches against the pool after its repair, as if each
-  // passed its retry rules; the window holds none of the pool's batches yet (they waited), so
-  // its checker becomes the window's. Unless a batch it accepted is stopped here by its retry
-  // rules: from then on the window's checker is rebuilt and the loop checks as before.
-  bool speculating = prechecked.has_value() && !window_pools_.contains(pool);
-  if (speculating) {
-    Pool& engine = *state_.registry.find(pool);
-    window_pool(pool, engine).checker = std::move(*prechecked);
+void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
+  std::vector<std::shared_ptr<FirstCheck>> ended;
+  {
+    const std::lock_guard lock(finished_mutex_);
+    for (auto it = first_checks_.begin(); it != first_checks_.end();) {
+      if (!it->second->ended) {
+        ++it;
+        continue;
+      }
+      ended.push_back(std::move(it->second));
+      it = first_checks_.erase(it);
+    }
   }
-  for (HeldBatch& held : waiting) {
-    const bool checked = held.check != nullptr && held.check->checked;
-    if (held.check != nullptr) held.batch.events = std::move(held.check->events);
-    if (!speculating || !checked) {
-      speculating = false;  // a batch not checked there: none after it was (hold())
+  for (const std::shared_ptr<FirstCheck>& check : ended) {
+    --held_count_;
+    if (check->failure) std::rethrow_exception(check->failure);  // as a repair's (the daemon stops)
+    if (auto ack = offer_decoded(check->ticket, std::move(check->batch), check.get())) {
+      replies.emplace_back(check->ticket, std::move(*ack));
+    }
+  }
+}
+
+void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
+  for (auto it = held_.begin(); it != held_.end();) {
+    std::deque<HeldBatch>& waiting = it->second;
+    while (!waiting.empty() && !waits_for_engine(waiting.front().batch)) {
+      HeldBatch held = std::move(waiting.front());
+      waiting.pop_front();
+      --held_count_;
       if (auto ack = offer_decoded(held.ticket, std::move(held.batch))) {
         replies.emplace_back(held.ticket, std::move(*ack));
       }
-      continue;
     }
-    Prechecked verdict{&held.check->verdict};
-    const bool strand_accepted = !held.check->verdict.has_value();
-    if (auto ack = offer_decoded(held.ticket, std::move(held.batch), &verdict)) {
-      replies.emplace_back(held.ticket, std::move(*ack));
-    }
-    if (verdict.used || !strand_accepted) continue;
-    // Stopped before its check (a retry, an out-of-order batch), yet the strand's checker
-    // holds its events: the window's checker is rebuilt from the batches the window holds.
-    speculating = false;
-    Pool& engine = *state_.registry.find(pool);
-    WindowPool& in_window = window_pool(pool, engine);
-    in_window.checker = BatchChecker(engine);
-    for (const PendingBatch& pending : window_) {
-      if (pending.batch.pool != pool || pending.batch.retire) continue;
-      if (auto error = in_window.checker.accept(pending.batch.events)) {
-        throw std::logic_error("pool " + pool + ": a batch accepted on its strand is refused "
-                               "when checked again: " + error->message);
-      }
-    }
+    it = waiting.empty() ? held_.erase(it) : std::next(it);
   }
 }
 

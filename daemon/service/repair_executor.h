@@ -1,9 +1,9 @@
-// Where the PoolService runs its pools' repairs. The service hands over one task per pool at a
-// time (a pool whose repair is in flight takes no other work until the service has collected
-// it: PoolService::finish_repairs), so an executor only has to run tasks; it may run those of
-// different pools at once. The service's own default runs each task at once, on the caller's
-// thread: tests and the fuzzer that drive the service without sockets stay deterministic. The
-// daemon gives worker threads (daemon/server/repair_threads.h).
+// Where the PoolService runs its pools' repairs: two tasks per sealed window of a pool (stage,
+// then repair), several windows of a pool possibly queued, which the executor must run in the
+// order given (a strand per pool); it may run those of different pools at once. The service's own
+// default runs each task at once, on the caller's thread: tests and the fuzzer that drive the
+// service without sockets stay deterministic. The daemon gives worker threads
+// (daemon/server/repair_threads.h).
 #pragma once
 
 #include <functional>

@@ -53,11 +53,13 @@ class BatchChecker::Overlay {
 
   std::size_t accepted_events() const { return accepted_events_; }
 
-  // unordered_map::clear keeps the bucket arrays: the next window does not grow them again.
+  // unordered_map::clear keeps the bucket arrays, so the next window does not grow them again;
+  // but it also walks them, so tables grown by one big window (a new pool's base graph) are
+  // swapped for small ones, or every later clear would pay for that window.
   void clear() {
-    vertex_.clear();
-    edge_override_.clear();
-    partner_.clear();
+    empty(vertex_);
+    empty(edge_override_);
+    empty(partner_);
     vertex_undo_.clear();
     edge_undo_.clear();
     partner_undo_.clear();
@@ -67,6 +69,17 @@ class BatchChecker::Overlay {
   }
 
  private:
+  template <class Map>
+  static void empty(Map& map) {
+    if (map.bucket_count() > 4 * map.size() + 64) {
+      Map fresh;
+      fresh.reserve(map.size());
+      map.swap(fresh);
+    } else {
+      map.clear();
+    }
+  }
+
   // Where a running count went above a limit and stayed there: the event that last crossed it.
   struct LimitWatch {
     bool above = false;
@@ -252,14 +265,46 @@ class BatchChecker::Overlay {
                          text(event.v) + "} is out of range: |w| must be at most " +
                          std::to_string(bound)};
     }
-    for (const VertexKey end : {event.u, event.v}) {
-      if (!exists(end)) {
-        if (auto refusal = arrive(end)) return refusal;
-      }
+    // Each end looked up once (the most frequent event: the overlay's and the pool's maps
+    // would otherwise be asked several times for the same key).
+    End a = end_of(event.u);
+    End b = end_of(event.v);
+    for (End* end : {&a, &b}) {
+      if (end->alive) continue;
+      if (auto refusal = arrive(end->key)) return refusal;
+      end->alive = true;  // with its generation, and in no slot of the pool (it was not alive)
     }
-    if (!edge_exists(event.u, event.v)) ++edge_change_;  // the limit is checked after the batch
-    write_edge(edge_key(event.u, event.v), true);
+    if (!edge_exists(a, b)) ++edge_change_;  // the limit is checked after the batch
+    write_edge(edge_key(a, b), true);
     return std::nullopt;
+  }
+
+  // A vertex as the batches so far leave it, and its slot in the pool when the overlay says
+  // nothing of it (kNoVertex otherwise: a vertex the overlay names is in no slot its edges may
+  // be read from, or its generation voids them).
+  struct End {
+    VertexKey key;
+    bool alive;
+    std::uint32_t generation;
+    Vertex slot;
+  };
+  End end_of(VertexKey key) const {
+    const auto it = vertex_.find(key);
+    if (it != vertex_.end()) return {key, it->second.alive, it->second.generation, kNoVertex};
+    const Vertex slot = pool_.graph.find(key);
+    return {key, slot != kNoVertex, 0, slot};
+  }
+  static EdgeKey edge_key(const End& a, const End& b) {
+    return a.key < b.key ? EdgeKey{a.key, b.key, a.generation, b.generation}
+                         : EdgeKey{b.key, a.key, b.generation, a.generation};
+  }
+  bool edge_exists(const End& a, const End& b) const {
+    const auto it = edge_override_.find(edge_key(a, b));
+    if (it != edge_override_.end()) return it->second;
+    if (a.generation != 0 || b.generation != 0) return false;  // an end left earlier
+    if (pool_.holds.aside_count() != 0 && pool_.holds.aside_weight(a.key, b.key)) return true;
+    return a.slot != kNoVertex && b.slot != kNoVertex &&
+           pool_.graph.find_edge(a.slot, b.slot) != kNoEdge;
   }
 
   bool exists(VertexKey key) const {
@@ -280,15 +325,7 @@ class BatchChecker::Overlay {
     if (a > b) std::swap(a, b);
     return {a, b, generation(a), generation(b)};
   }
-  bool edge_exists(VertexKey a, VertexKey b) const {
-    const auto it = edge_override_.find(edge_key(a, b));
-    if (it != edge_override_.end()) return it->second;
-    if (generation(a) != 0 || generation(b) != 0) return false;  // an end left earlier
-    if (pool_.holds.aside_weight(a, b)) return true;
-    const Vertex va = pool_.graph.find(a);
-    const Vertex vb = pool_.graph.find(b);
-    return va != kNoVertex && vb != kNoVertex && pool_.graph.find_edge(va, vb) != kNoEdge;
-  }
+  bool edge_exists(VertexKey a, VertexKey b) const { return edge_exists(end_of(a), end_of(b)); }
 
   void write_vertex(VertexKey key, VertexState state) {
     const auto [it, inserted] = vertex_.try_emplace(key, state);

@@ -39,8 +39,14 @@ const PoolLimits& Pool::limits() const { return state_->limits; }
 Weight Pool::churn_bonus() const { return state_->churn_bonus; }
 
 CommitResult Pool::commit(std::span<const Event> batch) {
-  YOKE_DCHECK(!check(batch), "Pool::commit: the batch did not pass check()");
+  stage(batch);
+  return repair();
+}
+
+void Pool::stage(std::span<const Event> batch) {
+  YOKE_DCHECK(!check(batch), "Pool::stage: the batch did not pass check()");
   State& pool = *state_;
+  YOKE_DCHECK(!pool.staged, "Pool::stage: the previous batch was staged and not repaired");
   pool.stats = {};
   pool.root_candidates.clear();
   pool.weight_before.clear();
@@ -49,7 +55,8 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   const bool holds_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
     return e.kind == EventKind::hold_pair || e.kind == EventKind::release_pair;
   });
-  if (pool.graph.vertex_count() == 0 && !holds_in_batch) {
+  pool.staged_solve = pool.graph.vertex_count() == 0 && !holds_in_batch;
+  if (pool.staged_solve) {
     // Nothing to repair: the first batch (or one after the pool emptied) is solved from scratch.
     for (const Event& event : batch) load_event(pool, event);
     // Nothing refers to a slot yet in a new pool: number them for locality (the whole run's
@@ -59,11 +66,6 @@ CommitResult Pool::commit(std::span<const Event> batch) {
     } else {
       pool.graph.tidy_layout();
     }
-    const SolveStats solved = solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
-    pool.stats.initial_solve = true;
-    pool.stats.searches = solved.searches;
-    pool.stats.augmentations = solved.augmentations;
-    pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
   } else {
     for (std::size_t i = 0; i < batch.size(); ++i) {
       pool.current_cause = static_cast<EventCause>(std::min<std::size_t>(i, kNoCause));
@@ -71,6 +73,23 @@ CommitResult Pool::commit(std::span<const Event> batch) {
       apply_event(pool, batch[i]);
     }
     pool.graph.tidy_layout();
+  }
+  pool.staged = true;
+}
+
+CommitResult Pool::repair() {
+  State& pool = *state_;
+  YOKE_DCHECK(pool.staged, "Pool::repair: no batch was staged");
+  // From here on nothing writes what a BatchChecker reads (the key and edge maps, the counts,
+  // the holds): the weights, duals, mates and blossoms change, the topology does not.
+  if (pool.staged_solve) {
+    const SolveStats solved =
+        solve_from_scratch(pool.graph.graph(), pool.weight_offset, pool.matching);
+    pool.stats.initial_solve = true;
+    pool.stats.searches = solved.searches;
+    pool.stats.augmentations = solved.augmentations;
+    pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
+  } else {
     search_from_roots(pool);
   }
   settle_churn_bonus(pool);
@@ -78,7 +97,8 @@ CommitResult Pool::commit(std::span<const Event> batch) {
   CommitResult result;
   result.diff = collect_diff(pool);
   pool.matching.mate.close_journal();
-  pool.graph.release_slots();
+  pool.graph.release_slots();  // the free-slot queue only: find() and find_edge() do not read it
+  pool.staged = false;
   result.commit = ++pool.commits;
   result.weight = pool.weight + pool.holds.weight();
   result.pairs = pool.pairs + pool.holds.size();

@@ -281,7 +281,9 @@ class EventRepair {
   // unpriced blossom's vertices are not visited).
   void dissolve_from(NodeId lowest) {
     bases_.clear();
-    pool_.stats.vertices_touched += forest_.dissolve_path(lowest, dual2_, bases_);
+    const std::size_t pushed = forest_.dissolve_path(lowest, dual2_, bases_);
+    pool_.stats.vertices_touched += pushed;
+    pool_.stats.vertices_dissolved += pushed;
     pool_.stats.blossoms_dissolved += bases_.size();
     for (Vertex base : bases_) recheck_matched_edge(base);
   }
@@ -428,7 +430,9 @@ void search_from_roots(PoolState& pool) {
   pool.stats.searches += after.searches - before.searches;
   pool.stats.augmentations += after.augmentations - before.augmentations;
   pool.stats.vertices_touched += after.scans - before.scans;
-  pool.stats.dual_levels += after.dual_steps - before.dual_steps;
+  pool.stats.blossoms_formed += after.blossoms_formed - before.blossoms_formed;
+  pool.stats.blossoms_expanded += after.blossoms_expanded - before.blossoms_expanded;
+  pool.stats.dual_steps += after.dual_steps - before.dual_steps;
   pool.stats.last_level_scans += after.last_level_scans - before.last_level_scans;
   pool.stats.stale_bounds += after.stale_bounds - before.stale_bounds;
 }

@@ -77,6 +77,8 @@ struct PoolState {
   };
   std::map<HeldPairs::KeyPair, HoldTouch> holds_touched;
   RepairStats stats;
+  bool staged = false;        // Pool::stage() ran, Pool::repair() not yet
+  bool staged_solve = false;  // the staged batch is solved from scratch (the pool was empty)
 };
 
 struct Pool::State : PoolState {

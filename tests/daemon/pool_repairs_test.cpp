@@ -47,6 +47,16 @@ class ManualRepairs final : public RepairExecutor {
     for (auto& task : tasks) task();
     return tasks.size();
   }
+  // Runs the first task queued for `pool` (a window's stage, or its repair); false when none.
+  bool release_one(const std::string& pool) {
+    const auto it = queued_.find(pool);
+    if (it == queued_.end() || it->second.empty()) return false;
+    std::function<void()> task = std::move(it->second.front());
+    it->second.pop_front();
+    if (it->second.empty()) queued_.erase(it);
+    task();
+    return true;
+  }
   std::size_t queued(const std::string& pool) const {
     const auto it = queued_.find(pool);
     return it == queued_.end() ? 0 : it->second.size();
@@ -68,6 +78,18 @@ std::uint64_t accepted_seq(const std::pair<Ticket, v1::Ack>& reply) {
   return reply.second.has_accepted() ? reply.second.accepted().seq() : 0;
 }
 
+// Hands the sealed window over, runs every task of `pool` and collects them; the pool then
+// is at `seq` with `weight`, certified.
+void apply_and_expect(PoolService& service, ManualRepairs& repairs, const std::string& pool,
+                      std::uint64_t seq, Weight weight) {
+  service.start_apply();
+  repairs.release(pool);
+  service.finish_repairs();
+  EXPECT_EQ(service.progress(pool)->seq, seq);
+  EXPECT_EQ(service.registry().find(pool)->weight(), weight);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find(pool)));
+}
+
 TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   ServiceHarness harness;
   PoolService& service = harness.service();
@@ -84,8 +106,8 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_TRUE(service.repairing("A"));
   EXPECT_TRUE(service.repairing("B"));
 
-  // B's repair ends; A's stays held.
-  EXPECT_EQ(repairs.release("B"), 1u);
+  // B's repair ends (its stage, then its repair); A's stays held.
+  EXPECT_EQ(repairs.release("B"), 2u);
   PoolService::RepairsDone done = service.finish_repairs();
   ASSERT_EQ(done.diffs.size(), 1u);
   EXPECT_EQ(done.diffs[0].pool(), "B");
@@ -101,7 +123,7 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_EQ(second_acks[0].second.pool(), "B");
   EXPECT_EQ(accepted_seq(second_acks[0]), 2u);
   service.start_apply();
-  EXPECT_EQ(repairs.release("B"), 1u);
+  EXPECT_EQ(repairs.release("B"), 2u);
   done = service.finish_repairs();
   ASSERT_EQ(done.diffs.size(), 1u);
   EXPECT_EQ(done.diffs[0].seq(), 2u);
@@ -114,7 +136,7 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_EQ(reply.summary().seq(), 2u);
   EXPECT_EQ(reply.summary().weight(), 9);
 
-  // A's repair ends, then its waiting batch is checked on A's strand (a second task), joins
+  // A's window is staged and repaired (two tasks), then its waiting batch is checked, joins
   // the window once collected, and gets seq 2.
   EXPECT_EQ(repairs.release("A"), 2u);
   done = service.finish_repairs();
@@ -167,11 +189,12 @@ TEST(PoolRepairs, HeldBatchesAreCheckedInArrivalOrderWithRetriesAndRefusals) {
   EXPECT_EQ(service.registry().find("A")->weight(), 8);
 }
 
-// The strand checks a waiting batch against the pool after its repair plus the waiting
-// batches before it: a refusal that exists only because of an earlier waiting batch, the
-// seqs in arrival order, and a retry of a batch the strand had accepted as new (the window's
-// checker is then rebuilt without it: the batch after it is judged on the pool as it is).
-TEST(PoolRepairs, WaitingBatchesAreCheckedOnTheStrandAgainstTheOnesBeforeThem) {
+// Once a pool's window is staged (Pool::stage), its next batches are checked on the loop
+// against the staged pool plus the batches before them, and acknowledged by the next window,
+// while the repair is still in flight; a refusal (one that exists only because of an earlier
+// batch of the same window) is answered at once; a retry of a batch sealed but not yet repaired
+// is a duplicate with that batch's seq. The windows then repair in seq order.
+TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolRepairs) {
   ServiceHarness harness;
   PoolService& service = harness.service();
   ManualRepairs repairs;
@@ -179,36 +202,131 @@ TEST(PoolRepairs, WaitingBatchesAreCheckedOnTheStrandAgainstTheOnesBeforeThem) {
   ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
   service.seal();
   service.start_apply();
-  // Vertex 3 arrives in batch 2; batch 3 adds it again: refused only because of batch 2.
+  // Window 1 not staged yet: A's batch waits.
   EXPECT_FALSE(harness.offer({wire_add(3), wire_set(2, 3, 6)}, from_client("a", 2, "A")));
-  EXPECT_FALSE(harness.offer({wire_add(3)}, from_client("b", 1, "A")));
-  // A retry of batch 1 (set {1, 2} alone, which the strand accepts as new; its retry rule
-  // answers it as batch 1's duplicate, so the window's checker is rebuilt without it).
-  EXPECT_FALSE(harness.offer({wire_set(1, 2, 5)}, from_client("a", 1, "A")));
-  // Batch 4 of b removes vertex 3: valid after batch 2, whatever the retry above did.
-  EXPECT_FALSE(harness.offer({testing::wire_remove(3)}, from_client("b", 2, "A")));
-  EXPECT_EQ(service.held_batches(), 4u);
-  EXPECT_EQ(repairs.release("A"), 5u);  // the repair, then four checks
+  EXPECT_EQ(service.held_batches(), 1u);
+  ASSERT_TRUE(repairs.release_one("A"));  // staged, not repaired
+  PoolService::RepairsDone done = service.finish_repairs();
+  EXPECT_TRUE(done.diffs.empty());
+  EXPECT_TRUE(done.replies.empty());
+  EXPECT_EQ(service.held_batches(), 0u);  // checked now: in the open window
+  EXPECT_TRUE(service.repairing("A"));
+  // Checked at once: refused only because of batch 2 (vertex 3), and a new batch after it.
+  const std::optional<v1::Ack> refusal = harness.offer({wire_add(3)}, from_client("b", 1, "A"));
+  ASSERT_TRUE(refusal && refusal->has_rejected());
+  EXPECT_EQ(refusal->rejected().errors(0).code(), v1::Error::VERTEX_EXISTS);
+  EXPECT_FALSE(harness.offer({testing::wire_remove(1)}, from_client("b", 2, "A")));
+  const auto acks = service.seal();  // while window 1 repairs
+  ASSERT_EQ(acks.size(), 2u);
+  EXPECT_EQ(accepted_seq(acks[0]), 2u);
+  EXPECT_EQ(accepted_seq(acks[1]), 3u);
+  EXPECT_EQ(service.progress("A")->seq, 0u);  // nothing collected yet
+  // A retry of batch 2, durable but not repaired: its duplicate at once.
+  const std::optional<v1::Ack> retry =
+      harness.offer({wire_add(3), wire_set(2, 3, 6)}, from_client("a", 2, "A"));
+  ASSERT_TRUE(retry && retry->has_accepted());
+  EXPECT_TRUE(retry->accepted().duplicate());
+  EXPECT_EQ(retry->accepted().seq(), 2u);
+  service.start_apply();  // window 2 behind window 1 on A's strand
+  // Window 2 not staged: A's next batch waits again.
+  EXPECT_FALSE(harness.offer({wire_set(2, 3, 9)}, from_client("a", 3, "A", 2)));
+  EXPECT_EQ(service.held_batches(), 1u);
+  ASSERT_TRUE(repairs.release_one("A"));  // window 1's repair
+  done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(done.diffs[0].seq(), 1u);
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_EQ(repairs.release("A"), 2u);  // window 2 staged and repaired
+  done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(done.diffs[0].prev_seq(), 1u);
+  EXPECT_EQ(done.diffs[0].seq(), 3u);
+  EXPECT_FALSE(service.repairing("A"));
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto last_acks = service.seal();
+  ASSERT_EQ(last_acks.size(), 1u);
+  EXPECT_EQ(accepted_seq(last_acks[0]), 4u);
+  apply_and_expect(service, repairs, "A", 4, 9);
+}
+
+// A new pool's big first batch is checked on a worker (PoolService::FirstCheck): other pools'
+// batches are acknowledged meanwhile, the pool's next batches wait behind it and get the
+// following seqs; a refused first batch leaves no pool behind. Seqs: events.proto.
+TEST(PoolRepairs, ANewPoolsBigFirstBatchIsCheckedOnAWorker) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  std::vector<v1::Event> big;
+  for (VertexKey key = 1; key <= 5000; ++key) big.push_back(wire_add(key));
+  for (VertexKey key = 1; key < 5000; key += 2) big.push_back(wire_set(key, key + 1, 3));
+  std::vector<v1::Event> bad = big;
+  bad.push_back(wire_set(7, 7, 1));  // a self loop, last
+  EXPECT_FALSE(harness.offer(big, from_client("a", 1, "big")));
+  EXPECT_FALSE(harness.offer(bad, from_client("a", 1, "bad")));
+  EXPECT_EQ(service.held_batches(), 2u);
+  EXPECT_TRUE(service.repairs_in_flight());
+  EXPECT_FALSE(harness.offer({wire_add(1)}, from_client("b", 1, "B")));
+  EXPECT_FALSE(harness.offer({wire_set(1, 5000, 9)}, from_client("a", 2, "big", 1)));
+  EXPECT_EQ(service.held_batches(), 3u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(acks[0].second.pool(), "B");
+  service.start_apply();
+  repairs.release("B");
+  EXPECT_EQ(repairs.release("big"), 1u);
+  EXPECT_EQ(repairs.release("bad"), 1u);
   const PoolService::RepairsDone done = service.finish_repairs();
-  ASSERT_EQ(done.replies.size(), 2u);
-  ASSERT_TRUE(done.replies[0].second.has_rejected());
-  EXPECT_EQ(done.replies[0].second.client_id(), "b");
-  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::VERTEX_EXISTS);
-  EXPECT_EQ(done.replies[0].second.rejected().errors(0).message(), "vertex 3 already exists");
-  EXPECT_TRUE(done.replies[1].second.accepted().duplicate());
-  EXPECT_EQ(done.replies[1].second.accepted().seq(), 1u);
+  ASSERT_EQ(done.replies.size(), 1u);
+  EXPECT_EQ(done.replies[0].second.pool(), "bad");
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::SELF_LOOP);
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).event_index(), bad.size() - 1);
+  EXPECT_EQ(service.registry().find("bad"), nullptr);
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto big_acks = service.seal();
+  ASSERT_EQ(big_acks.size(), 2u);
+  EXPECT_EQ(accepted_seq(big_acks[0]), 1u);
+  EXPECT_EQ(accepted_seq(big_acks[1]), 2u);
+  apply_and_expect(service, repairs, "big", 2, 2498 * 3 + 9);  // 1-5000 for 1-2 and 4999-5000
+}
+
+// A retirement waits until its pool's repairs are over (it drops the engine a worker holds),
+// and the pool's batches after it wait behind it; drain() (a query held) makes the pool's
+// batches wait too, so that its repairs end.
+TEST(PoolRepairs, RetirementsAndDrainedPoolsWaitForTheRepairsInFlight) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(
+      harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  ASSERT_FALSE(harness.offer({wire_add(1)}, from_client("b", 1, "B")));
+  service.seal();
+  service.start_apply();
+  repairs.release_one("A");
+  repairs.release_one("B");
+  service.finish_repairs();
+  service.drain("B");
+  EXPECT_FALSE(harness.offer({wire_add(2)}, from_client("b", 2, "B")));
+  EXPECT_FALSE(service.offer(90, testing::retire_message("A")));
+  EXPECT_FALSE(harness.offer({wire_add(3)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 3u);
+  EXPECT_TRUE(service.window_empty());
+  repairs.release("A");
+  repairs.release("B");
+  const PoolService::RepairsDone done = service.finish_repairs();
+  EXPECT_EQ(done.diffs.size(), 2u);
+  ASSERT_EQ(done.replies.size(), 1u);  // A's batch after its retirement: UNAVAILABLE
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::UNAVAILABLE);
+  EXPECT_EQ(service.held_batches(), 0u);
   const auto acks = service.seal();
   ASSERT_EQ(acks.size(), 2u);
-  EXPECT_EQ(acks[0].second.client_id(), "a");
-  EXPECT_EQ(accepted_seq(acks[0]), 2u);
-  EXPECT_EQ(acks[1].second.client_id(), "b");
-  EXPECT_EQ(accepted_seq(acks[1]), 3u);
   service.start_apply();
-  repairs.release("A");
-  service.finish_repairs();
-  EXPECT_EQ(service.progress("A")->seq, 3u);
-  EXPECT_EQ(service.registry().find("A")->weight(), 5);
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+  repairs.release("B");
+  const PoolService::RepairsDone last = service.finish_repairs();
+  EXPECT_EQ(service.registry().find("A"), nullptr);
+  EXPECT_EQ(service.progress("B")->seq, 2u);
+  EXPECT_EQ(last.diffs.size(), 2u);  // A's retirement and B's window
 }
 
 // Random batches (many refused: vertex keys reused, edges unset twice, releases of pairs not
@@ -281,7 +399,14 @@ TEST(PoolRepairs, HeldRepairsAnswerEveryBatchAsTheInlineServiceDoes) {
         service.start_apply();
       }
       if (below(3) == 0) {
-        repairs.release(pools[below(pools.size())]);
+        // A pool's every task, or one (a stage alone: the pool's batches are then checked
+        // against the staged pool while its repair waits).
+        const std::string& pool = pools[below(pools.size())];
+        if (below(2) == 0) {
+          repairs.release(pool);
+        } else {
+          repairs.release_one(pool);
+        }
         take(service.finish_repairs().replies);
       }
     }
@@ -327,25 +452,21 @@ TEST(PoolRepairs, RefusingTheWindowRefusesTheBatchesWaitingForARepair) {
   service.finish_repairs();
 }
 
-// Many pools on worker threads: windows closed without waiting for the repairs, so that
-// batches wait for their pool's repair and pools repair at once. Every batch is acknowledged
-// once with its pool's next seq, every pool's diffs come in seq order without a gap, and the
-// pools end as the inline run of the same batches ends them (weight and seq), certified.
-TEST(PoolRepairs, WindowsOfOnePoolApplyInOrderWithManyPoolsInFlight) {
-  testing::ScriptSpec spec;
-  spec.pools = {"p0", "p1", "p2", "p3", "p4", "p5", "p6", "p7"};
-  spec.windows = 150;
-  spec.max_batches_per_window = 10;
-  spec.max_events_per_batch = 8;
-  spec.keys = 40;
-  const std::vector<testing::ScriptWindow> script = testing::random_script(spec, 14);
-
+// Windows closed without waiting for the repairs on worker threads, so that batches are
+// checked on this thread against pools whose repairs run meanwhile (or wait for a window to be
+// staged) and pools repair at once. Every batch is acknowledged once with its pool's next seq,
+// every pool's diffs come in seq order without a gap, and the pools end as the inline run of
+// the same batches ends them (weight and seq), certified. Run under ThreadSanitizer too
+// (DEVELOPERS.md, "Inside the daemon").
+void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& spec,
+                                                    std::uint64_t seed, std::size_t threads_count) {
+  const std::vector<testing::ScriptWindow> script = testing::random_script(spec, seed);
   ServiceHarness reference;
   ASSERT_TRUE(testing::run_script(reference, script));
 
   ServiceHarness harness;
   PoolService& service = harness.service();
-  RepairThreads threads(4);
+  RepairThreads threads(threads_count);
   service.set_repair_executor(&threads);
 
   std::map<std::string, std::uint64_t> next_seq;     // per pool, the seq the next ack must carry
@@ -404,6 +525,28 @@ TEST(PoolRepairs, WindowsOfOnePoolApplyInOrderWithManyPoolsInFlight) {
   }
   threads.join();
   service.set_repair_executor(nullptr);
+}
+
+TEST(PoolRepairs, WindowsOfOnePoolApplyInOrderWithManyPoolsInFlight) {
+  testing::ScriptSpec spec;
+  spec.pools = {"p0", "p1", "p2", "p3", "p4", "p5", "p6", "p7"};
+  spec.windows = 150;
+  spec.max_batches_per_window = 10;
+  spec.max_events_per_batch = 8;
+  spec.keys = 40;
+  expect_windows_in_order_with_repairs_in_flight(spec, 14, 4);
+}
+
+// Larger pools, so that a repair lasts while the next windows' batches are checked.
+TEST(PoolRepairs, BatchesAreCheckedWhileTheirPoolsRepairOnWorkers) {
+  testing::ScriptSpec spec;
+  spec.pools = {"p0", "p1"};
+  spec.windows = 120;
+  spec.max_batches_per_window = 12;
+  spec.max_events_per_batch = 40;
+  spec.keys = 3000;
+  spec.max_w = 1000;
+  expect_windows_in_order_with_repairs_in_flight(spec, 21, 2);
 }
 
 }  // namespace

@@ -7,9 +7,10 @@
 #include <random>
 #include <vector>
 
-#include "yoke/batch_checker.h"
-#include "yoke/pool.h"
 #include "tests/event_builders.h"
+#include "yoke/batch_checker.h"
+#include "yoke/certificate.h"
+#include "yoke/pool.h"
 
 namespace yoke {
 namespace {
@@ -137,6 +138,63 @@ TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
       } else {
         reference.commit(batch);
       }
+    }
+  }
+}
+
+// Pool::stage then Pool::repair is Pool::commit (pool.h): between them a checker over the
+// staged pool gives the verdicts Pool::check gives on a pool that committed the batch (the
+// daemon checks the next batches there while the repair runs), and the repair's result equals
+// the commit's. References: the committed twin's own check and result; every state certified
+// by check_certificate, the engine's independent referee.
+TEST(BatchChecker, AStagedPoolIsCheckedAsTheCommittedOne) {
+  std::mt19937_64 random(20261204);
+  std::uniform_int_distribution<int> kind(0, 5);
+  std::uniform_int_distribution<VertexKey> key(0, 30);
+  std::uniform_int_distribution<Weight> weight(-20, 60);
+  const auto random_batch = [&](int size) {
+    std::vector<Event> batch(size);
+    for (Event& event : batch) {
+      switch (kind(random)) {
+        case 0: event = add(key(random)); break;
+        case 1:
+        case 2: event = set(key(random), key(random), weight(random)); break;
+        case 3: event = unset(key(random), key(random)); break;
+        case 4: event = remove(key(random)); break;
+        default: event = hold(key(random), key(random)); break;
+      }
+    }
+    return batch;
+  };
+  for (int round = 0; round < 40; ++round) {
+    Pool staged(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
+    Pool committed(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
+    for (int step = 0; step < 30; ++step) {
+      std::vector<Event> batch = random_batch(1 + step % 6);
+      if (committed.check(batch)) continue;  // only batches that apply are staged
+      staged.stage(batch);
+      const CommitResult expected = committed.commit(batch);
+      BatchChecker checker(staged);
+      for (int probe = 0; probe < 4; ++probe) {
+        const std::vector<Event> next = random_batch(3);
+        const std::optional<EventError> want = committed.check(next);
+        const std::optional<EventError> got = checker.accept(next);
+        ASSERT_EQ(got.has_value(), want.has_value()) << "round " << round << " step " << step;
+        if (want) {
+          EXPECT_EQ(got->message, want->message);
+        }
+        checker.clear();
+      }
+      EXPECT_EQ(staged.vertex_count(), committed.vertex_count());
+      EXPECT_EQ(staged.edge_count(), committed.edge_count());
+      const CommitResult result = staged.repair();
+      EXPECT_EQ(result.weight, expected.weight);
+      EXPECT_EQ(result.diff.added, expected.diff.added);
+      EXPECT_EQ(result.diff.removed, expected.diff.removed);
+      EXPECT_EQ(staged.matching(), committed.matching());
+      const PoolExport exported = staged.export_certified();
+      const CheckResult checked = check_certificate(exported.graph, exported.certificate);
+      ASSERT_TRUE(checked.ok) << "round " << round << " step " << step;
     }
   }
 }

@@ -205,6 +205,10 @@ void expect_same_result(const CommitResult& x, const CommitResult& y) {
   EXPECT_EQ(x.stats.augmentations, y.stats.augmentations);
   EXPECT_EQ(x.stats.blossoms_dissolved, y.stats.blossoms_dissolved);
   EXPECT_EQ(x.stats.vertices_touched, y.stats.vertices_touched);
+  EXPECT_EQ(x.stats.vertices_dissolved, y.stats.vertices_dissolved);
+  EXPECT_EQ(x.stats.blossoms_formed, y.stats.blossoms_formed);
+  EXPECT_EQ(x.stats.blossoms_expanded, y.stats.blossoms_expanded);
+  EXPECT_EQ(x.stats.dual_steps, y.stats.dual_steps);
 }
 
 // Two pools fed the same stream give the same results, diffs and matchings at every commit.
@@ -224,6 +228,37 @@ TEST(PoolDiff, SameStreamSameAnswers) {
       }
     }
   }
+}
+
+// The probes' counters (yoke_tail_probe) say where a repair's visits went: the dissolving's
+// pushes are part of the vertices touched, each tree augments at most once, and a commit that
+// grew no tree formed, expanded and stepped nothing; over all the streams each counter moves.
+TEST(PoolDiff, RepairCountersAddUp) {
+  RepairStats total;
+  for (const StreamFamily family : oracle::kStreamFamilies) {
+    SCOPED_TRACE(trace_label(family, Mode::max_weight, 2100));
+    Pool pool(Mode::max_weight);
+    for (const auto& batch : gen::generate_stream(gen::test_stream_spec(family, 2100, 200, 100))) {
+      const RepairStats s = pool.commit(batch).stats;
+      if (s.initial_solve) continue;  // the static solver's figures
+      EXPECT_LE(s.vertices_dissolved, s.vertices_touched);
+      EXPECT_LE(s.augmentations, s.searches);
+      if (s.searches == 0) {
+        EXPECT_EQ(s.blossoms_formed + s.blossoms_expanded + s.dual_steps, 0u);
+      }
+      if (s.blossoms_dissolved == 0) {
+        EXPECT_EQ(s.vertices_dissolved, 0u);
+      }
+      total.vertices_dissolved += s.vertices_dissolved;
+      total.blossoms_formed += s.blossoms_formed;
+      total.blossoms_expanded += s.blossoms_expanded;
+      total.dual_steps += s.dual_steps;
+    }
+  }
+  EXPECT_GT(total.vertices_dissolved, 0u);
+  EXPECT_GT(total.blossoms_formed, 0u);
+  EXPECT_GT(total.blossoms_expanded, 0u);
+  EXPECT_GT(total.dual_steps, 0u);
 }
 
 // ---- bad batches ---------------------------------------------------------------------------

@@ -40,6 +40,9 @@ TEST(Crc32c, MatchesBitwiseDefinitionAtEveryLengthAndAlignment) {
     for (std::size_t length = 0; start + length <= data.size(); ++length) {
       const std::string_view piece = std::string_view(data).substr(start, length);
       ASSERT_EQ(crc32c(piece), bitwise_crc32c(piece)) << "start " << start << " length " << length;
+      // The tables, which the instruction replaces on CPUs that have it, are checked here too.
+      ASSERT_EQ(crc32c_extend_by_tables(0, piece), bitwise_crc32c(piece))
+          << "start " << start << " length " << length;
     }
   }
 }
@@ -49,6 +52,8 @@ TEST(Crc32c, ExtendEqualsWholeAtEverySplit) {
   for (std::size_t split = 0; split <= data.size(); ++split) {
     const std::string_view whole(data);
     EXPECT_EQ(crc32c_extend(crc32c(whole.substr(0, split)), whole.substr(split)), crc32c(whole));
+    EXPECT_EQ(crc32c_extend_by_tables(crc32c(whole.substr(0, split)), whole.substr(split)),
+              crc32c(whole));
   }
 }
 

@@ -197,7 +197,7 @@ void print_setting(std::ostream& out, const StreamResult& r) {
       << percent(r.searches - std::min(r.searches, r.augmentations), r.searches)
       << ", dual levels per search "
       << format("%.2f", r.searches
-                            ? static_cast<double>(r.dual_levels) / static_cast<double>(r.searches)
+                            ? static_cast<double>(r.dual_steps) / static_cast<double>(r.searches)
                             : 0.0)
       << ", touched at a search's last level " << percent(r.last_level_scans, r.scans)
       << ", stale bounds per commit "

@@ -102,7 +102,7 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
     roots += committed.stats.roots;
     result.scans += committed.stats.vertices_touched;
     result.last_level_scans += committed.stats.last_level_scans;
-    result.dual_levels += committed.stats.dual_levels;
+    result.dual_steps += committed.stats.dual_steps;
     result.stale_bounds += committed.stats.stale_bounds;
     searches += committed.stats.searches;
     augmentations += committed.stats.augmentations;

@@ -56,7 +56,7 @@ struct StreamResult {
   std::uint64_t augmentations = 0;
   std::uint64_t scans = 0;             // vertices touched
   std::uint64_t last_level_scans = 0;  // of those, scanned at a search's last dual level
-  std::uint64_t dual_levels = 0;
+  std::uint64_t dual_steps = 0;
   std::uint64_t stale_bounds = 0;
   Spread touched;  // vertices touched per commit
 

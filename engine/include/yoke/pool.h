@@ -64,7 +64,12 @@ struct RepairStats {
   std::uint64_t augmentations = 0;
   std::uint64_t blossoms_dissolved = 0;  // by events (the search forms and expands its own)
   std::uint64_t vertices_touched = 0;    // vertex visits: scans and dual pushes
-  std::uint64_t dual_levels = 0;         // dual steps taken by the searches
+  // Where the visits went, for benchmarks and probes (not on the wire; the search's three are
+  // the repair's, 0 for a batch solved from scratch):
+  std::uint64_t vertices_dissolved = 0;  // dual pushes by the events' dissolving (in vertices_touched)
+  std::uint64_t blossoms_formed = 0;     // by the search
+  std::uint64_t blossoms_expanded = 0;   // odd blossoms the search expanded
+  std::uint64_t dual_steps = 0;          // the search's dual steps
   std::uint64_t last_level_scans = 0;    // scans at the dual level where each search ended
   std::uint64_t stale_bounds = 0;        // queued bounds the searches found out of date
   bool initial_solve = false;  // the pool was empty before the batch: solved from scratch
@@ -139,7 +144,18 @@ class Pool {
   std::optional<EventError> check(std::span<const Event> batch) const;
 
   // Applies a batch and repairs the optimum. Precondition: check(batch) found nothing.
+  // The same as stage(batch) then repair().
   CommitResult commit(std::span<const Event> batch);
+
+  // commit() in two steps, so that the next batches can be checked while the repair runs:
+  // stage() applies the batch's changes of vertices, edges and holds (what BatchChecker and
+  // has_vertex() read, and the counts); repair() restores the optimum and returns the commit's
+  // result. From stage()'s return until the next stage() those do not change, so a
+  // BatchChecker may read the pool on another thread during repair(), given a happens-before
+  // from stage()'s return (the daemon checks waiting batches so, daemon/service). No other
+  // call between them. Precondition of stage(): check(batch) found nothing, and no batch staged.
+  void stage(std::span<const Event> batch);
+  CommitResult repair();
 
   Weight weight() const;
   std::size_t pairs() const;

@@ -17,9 +17,11 @@
 #include <unistd.h>
 
 #include <chrono>
+#include <cstdint>
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <initializer_list>
 #include <iostream>
 #include <string>
 #include <thread>
@@ -29,6 +31,7 @@
 #include <zmq.hpp>
 
 #include "ingest_load.h"
+#include "memory_contention.h"
 #include "pool_scaling.h"
 #include "tools/bench/machine_facts.h"
 #include "tools/graphgen/event_stream.h"
@@ -156,6 +159,20 @@ class DiffListener {
   std::vector<double> commit_to_publish_us_;
 };
 
+// Before the multi-pool sections: how much this machine's cores slow each other down on loads
+// that miss their own cache, which two pools' repairs at once pay in part (README, "The daemon
+// under load": a second worker added 0-20% to a pool's CPU per event, this probe 25-72%).
+void print_memory_contention(bool quick) {
+  const std::uint64_t loads = quick ? 200000 : 2000000;
+  std::printf("memory: dependent loads, CPU per load of one thread alone and of each of two at "
+              "once:\n");
+  for (const std::size_t mib : {1, 16}) {
+    const MemoryContention probe = measure_memory_contention(mib << 20, loads);
+    std::printf("  %2zu MiB each   alone %6.1f ns   two at once %6.1f ns   ratio %.2f\n", mib,
+                probe.alone_ns, probe.together_ns, probe.ratio());
+  }
+}
+
 int run(const Settings& settings) {
   std::printf("yoke_daemon_bench: yoked over loopback TCP, journal durability %s\n",
               settings.durability.c_str());
@@ -188,7 +205,10 @@ int run(const Settings& settings) {
   pools.seconds = settings.quick ? 1 : 4;
   pools.snapshots = !settings.pools_without_snapshots;
   if (settings.only_pools) {
-    if (!settings.skip_scaling) run_pool_scaling(context, pools);
+    if (!settings.skip_scaling) {
+      print_memory_contention(settings.quick);
+      run_pool_scaling(context, pools);
+    }
     run_long_repair(context, pools);
     std::error_code ignored;
     std::filesystem::remove_all(work, ignored);
@@ -286,6 +306,7 @@ int run(const Settings& settings) {
   std::printf("%-34s %8.2f s (snapshot + %zu journalled batches)\n", "  restart after SIGKILL",
               crash_ready, big_batches.size() - 1);
 
+  print_memory_contention(settings.quick);
   run_pool_scaling(context, pools);
   run_long_repair(context, pools);
 
