@@ -433,6 +433,8 @@ void search_from_roots(PoolState& pool) {
   pool.stats.blossoms_formed += after.blossoms_formed - before.blossoms_formed;
   pool.stats.blossoms_expanded += after.blossoms_expanded - before.blossoms_expanded;
   pool.stats.dual_steps += after.dual_steps - before.dual_steps;
+  pool.stats.last_level_scans += after.last_level_scans - before.last_level_scans;
+  pool.stats.stale_bounds += after.stale_bounds - before.stale_bounds;
 }
 
 void settle_churn_bonus(PoolState& pool) {

@@ -223,6 +223,7 @@ std::size_t AlternatingSearch::run() {
     lone_tree_ = true;
     for (Vertex v : scan_queue_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
   }
+  std::uint64_t level_start_scans = stats_.scans;
   while (live_trees_ > 0) {
     while (!scan_queue_.empty()) {
       const Vertex v = scan_queue_.back();
@@ -234,8 +235,14 @@ std::size_t AlternatingSearch::run() {
     // Every live tree has an even root, so a valid bound always exists.
     const RadixHeap::Entry entry = bounds_.top();
     bounds_.pop();
-    if (!still_due(entry)) continue;
-    if (entry.key != delta_) ++stats_.dual_steps;
+    if (!still_due(entry)) {
+      ++stats_.stale_bounds;
+      continue;
+    }
+    if (entry.key != delta_) {
+      ++stats_.dual_steps;
+      level_start_scans = stats_.scans;
+    }
     delta_ = entry.key;
 
     switch (entry.kind) {
@@ -258,6 +265,7 @@ std::size_t AlternatingSearch::run() {
       }
     }
   }
+  stats_.last_level_scans += stats_.scans - level_start_scans;
   running_ = false;
   lone_tree_ = false;
   latest_end_ = kNever;

@@ -6,6 +6,7 @@
 
 #include <gtest/gtest.h>
 
+#include <functional>
 #include <vector>
 
 #include "yoke/certificate.h"
@@ -63,21 +64,29 @@ struct Solved {
   CheckResult check;
 };
 
-Solved search_from_root(const Star& s) {
-  const Graph graph = Graph::from_edges(s.mate.size(), s.edges);
-  MatchingState state(s.mate.size());
-  for (Vertex v = 0; v < s.mate.size(); ++v) {
-    state.mate.set(v, s.mate[v]);
-    state.dual2[v] = s.dual2[v];
+// Any hand-built state with one root, r = 0; `shape` may form blossoms first.
+Solved search_from_state(std::size_t n, const std::vector<Edge>& edges,
+                         const std::vector<Vertex>& mate, const std::vector<Weight>& dual2,
+                         const std::function<void(BlossomForest&)>& shape = {}) {
+  const Graph graph = Graph::from_edges(n, edges);
+  MatchingState state(n);
+  for (Vertex v = 0; v < n; ++v) {
+    state.mate.set(v, mate[v]);
+    state.dual2[v] = dual2[v];
   }
+  if (shape) shape(state.forest);
   AlternatingSearch search(graph, 0, state);
   search.add_root(0);
   search.run();
   Certificate cert;
   cert.mate = state.mate.values();
   cert.vertex_dual2 = state.dual2;
-  cert.blossoms = state.forest.certificate_blossoms({}, s.mate.size());
+  cert.blossoms = state.forest.certificate_blossoms({}, n);
   return {search.stats(), state.mate.values(), check_certificate(graph, cert)};
+}
+
+Solved search_from_root(const Star& s) {
+  return search_from_state(s.mate.size(), s.edges, s.mate, s.dual2);
 }
 
 // r's dual reaches 0 at delta 2, when every r - x edge turns tight too: the tree ends with r
@@ -124,6 +133,44 @@ TEST(AlternatingSearchOrder, ZeroDualMateAtTheLevelIsTakenBeforeTheBranches) {
   EXPECT_EQ(solved.mate[0], x);
   EXPECT_EQ(solved.mate[z], kNoVertex);
   EXPECT_EQ(solved.stats.scans, 2u);  // r, then z (even at dual 0: the tree ends)
+}
+
+// Two edges into one free vertex: the worse one (r - x, due at 8) is queued first, the better
+// one (y - x, due at 6) only once y has turned even at 2. The tree must take y - x, or y - x
+// would go negative before r - x comes due. (A filter keeping one queued bound per free vertex
+// must still queue the later, sooner one.)
+TEST(AlternatingSearchFreeBounds, ALaterEdgeDueSoonerIsStillQueued) {
+  // r = 0 (root, dual2 20), a = 1 and y = 2 matched (dual2 10 each), x = 3 exposed (dual2 0).
+  const std::vector<Edge> edges = {{0, 1, 14}, {1, 2, 10}, {0, 3, 6}, {2, 3, 3}};
+  const Solved solved = search_from_state(4, edges, {kNoVertex, 2, 1, kNoVertex}, {20, 10, 10, 0});
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], 1u);
+  EXPECT_EQ(solved.mate[2], 3u);
+}
+
+// A vertex whose bound was queued while its blossom was free, then spent steps odd inside the
+// blossom, comes out free when the blossom expands: that old bound is early, and the edges
+// into it must be queued afresh (a filter that let the old bound stand for the vertex fails
+// here). B is a 5-cycle blossom b0..b4 = 1..5 (base b0 matched to m = 6,
+// z2 = 6); the root r = 0 reaches b1 = 2 (due 6) and b3 = 4 (due 2). The tree enters B at b3
+// at 2, B expands at 5 and frees b1 and b2; r - b1 is now due at 9, m - b1 at 7, and m's dual
+// reaches 0 at 12. Had b1's old bound (6) stood as the one to beat, m - b1 would be dropped and
+// the tree would step past 7 with m - b1 negative.
+TEST(AlternatingSearchFreeBounds, AVertexFreedByAnExpansionIsQueuedAfresh) {
+  const std::vector<Edge> edges = {{1, 2, 13}, {2, 3, 13}, {3, 4, 13}, {4, 5, 13}, {5, 1, 13},
+                                   {1, 6, 10}, {0, 4, 24}, {0, 2, 22}, {6, 2, 9}};
+  const std::vector<Vertex> mate = {kNoVertex, 6, 3, 2, 5, 4, 1};
+  const std::vector<Weight> dual2 = {40, 10, 10, 10, 10, 10, 10};
+  const Solved solved = search_from_state(7, edges, mate, dual2, [](BlossomForest& forest) {
+    const NodeId b = forest.make_blossom({1, 2, 3, 4, 5}, {{1, 2}, {2, 3}, {3, 4}, {4, 5}, {5, 1}});
+    forest.set_dual2(b, 6);
+  });
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.stats.blossoms_expanded, 1u);
+  EXPECT_EQ(solved.mate[0], 4u);
+  EXPECT_EQ(solved.mate[1], 5u);         // the path r - b3 = b4 - b0 = m flipped
+  EXPECT_EQ(solved.mate[2], 3u);         // b1 = b2 stay, b1 odd off the path
+  EXPECT_EQ(solved.mate[6], kNoVertex);  // m's dual reached 0 first: it is the one left exposed
 }
 
 }  // namespace

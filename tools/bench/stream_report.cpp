@@ -175,8 +175,7 @@ void print_setting(std::ostream& out, const StreamResult& r) {
       << "), departure " << t.departure_events << " ("
       << percent(t.departure_events, t.events()) << ")";
   if (t.other_events > 0) out << ", other " << t.other_events;
-  out << "; "
-      << events_per_arrival(t) << " events per arrival\n"
+  out << "; " << events_per_arrival(t) << " events per arrival\n"
       << "          drifts on matched edges " << percent(t.drifts_on_matched, t.drift_events)
       << ", departures of matched vertices " << percent(t.departures_matched, t.departure_events)
       << " (as the pool stood before the commit)\n"
@@ -184,12 +183,27 @@ void print_setting(std::ostream& out, const StreamResult& r) {
       << amount(r.commit_us.p90) << " us, p99 " << amount(r.commit_us.p99) << " us, max "
       << amount(r.commit_us.max) << " us, mean " << amount(r.commit_us.mean) << " us; "
       << format("%.0f", r.events_per_second()) << " events/s (" << r.events << " events in "
-      << format("%.3f", r.commit_seconds) << " s of commits)\n"
+      << format("%.3f", r.commit_seconds) << " s of commits; CPU "
+      << format("%.3f", r.commit_cpu_seconds) << " s, "
+      << format("%.0f",
+                r.commit_cpu_seconds > 0 ? static_cast<double>(r.events) / r.commit_cpu_seconds : 0)
+      << " events per CPU second)\n"
       << "  work    per commit: roots " << format("%.2f", r.mean_roots) << ", searches "
       << format("%.2f", r.mean_searches) << ", augmentations "
       << format("%.2f", r.mean_augmentations) << ", vertices touched mean "
       << amount(r.touched.mean) << ", p99 " << amount(r.touched.p99) << ", max "
-      << amount(r.touched.max) << "\n";
+      << amount(r.touched.max) << "\n"
+      << "          searches ending without augmenting "
+      << percent(r.searches - std::min(r.searches, r.augmentations), r.searches)
+      << ", dual levels per search "
+      << format("%.2f", r.searches
+                            ? static_cast<double>(r.dual_steps) / static_cast<double>(r.searches)
+                            : 0.0)
+      << ", touched at a search's last level " << percent(r.last_level_scans, r.scans)
+      << ", stale bounds per commit "
+      << format("%.0f", static_cast<double>(r.stale_bounds) /
+                            std::max<double>(1, static_cast<double>(r.commits)))
+      << "\n";
   if (has_lemon(r)) {
     out << "  LEMON   median run " << amount(r.lemon_median_ms()) << " ms, build+run "
         << amount(r.lemon_median_build_run_ms()) << " ms, over " << r.samples.size()

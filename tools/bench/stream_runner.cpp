@@ -90,14 +90,20 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
     reject_if_invalid(*pool, batch, c + 1);
     count_matched(*pool, batch, result.tally);
 
+    const Stopwatch cpu;
     const Clock::time_point start = Clock::now();
     const CommitResult committed = pool->commit(batch);
     const Clock::duration took = Clock::now() - start;
+    result.commit_cpu_seconds += cpu.cpu_ms() / 1e3;
 
     in_commits += took;
     commit_us[c] = std::chrono::duration<double, std::micro>(took).count();
     touched[c] = static_cast<double>(committed.stats.vertices_touched);
     roots += committed.stats.roots;
+    result.scans += committed.stats.vertices_touched;
+    result.last_level_scans += committed.stats.last_level_scans;
+    result.dual_steps += committed.stats.dual_steps;
+    result.stale_bounds += committed.stats.stale_bounds;
     searches += committed.stats.searches;
     augmentations += committed.stats.augmentations;
 
@@ -121,6 +127,8 @@ StreamResult run_setting(const StreamSetting& setting, std::uint64_t seed,
   result.mean_roots = static_cast<double>(roots) / commits;
   result.mean_searches = static_cast<double>(searches) / commits;
   result.mean_augmentations = static_cast<double>(augmentations) / commits;
+  result.searches = searches;
+  result.augmentations = augmentations;
   return result;
 }
 

@@ -42,6 +42,7 @@ struct StreamResult {
   std::size_t events = 0;
   Spread commit_us;  // repair time per commit, microseconds
   double commit_seconds = 0;  // sum over the streamed commits
+  double commit_cpu_seconds = 0;  // the same, this thread's CPU time (steadier on a busy machine)
   double events_per_second() const {
     return commit_seconds > 0 ? static_cast<double>(events) / commit_seconds : 0;
   }
@@ -50,6 +51,13 @@ struct StreamResult {
   double mean_roots = 0;
   double mean_searches = 0;
   double mean_augmentations = 0;
+  // Where the searches' work went, summed over the streamed commits (RepairStats).
+  std::uint64_t searches = 0;
+  std::uint64_t augmentations = 0;
+  std::uint64_t scans = 0;             // vertices touched
+  std::uint64_t last_level_scans = 0;  // of those, scanned at a search's last dual level
+  std::uint64_t dual_steps = 0;
+  std::uint64_t stale_bounds = 0;
   Spread touched;  // vertices touched per commit
 
   EventTally tally;

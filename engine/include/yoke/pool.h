@@ -70,6 +70,8 @@ struct RepairStats {
   std::uint64_t blossoms_formed = 0;     // by the search
   std::uint64_t blossoms_expanded = 0;   // odd blossoms the search expanded
   std::uint64_t dual_steps = 0;          // the search's dual steps
+  std::uint64_t last_level_scans = 0;    // scans at the dual level where each search ended
+  std::uint64_t stale_bounds = 0;        // queued bounds the searches found out of date
   bool initial_solve = false;  // the pool was empty before the batch: solved from scratch
 };
 

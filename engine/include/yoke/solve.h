@@ -26,6 +26,9 @@ struct SolveStats {
   std::uint64_t dual_steps = 0;
   std::uint64_t scans = 0;           // even vertices whose edges were scanned
   std::uint64_t heap_pushes = 0;     // bound candidates queued
+  std::uint64_t stale_bounds = 0;    // bounds taken from the queue and dropped as out of date
+  std::uint64_t last_level_scans = 0;  // scans after each run's last dual step (a lone tree's
+                                       // last level: the flood before what ends it)
 };
 
 enum class SolveStatus {
