@@ -23,10 +23,14 @@ Pool& PoolRegistry::pool(const std::string& name) {
   auto& slot = pools_[name];
   if (!slot) {
     if (!is_declared(name)) ++undeclared_;
-    const PoolSettings& settings = settings_for(name);
-    slot = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
+    slot = make_aside(name);
   }
   return *slot;
+}
+
+std::unique_ptr<Pool> PoolRegistry::make_aside(const std::string& name) const {
+  const PoolSettings& settings = settings_for(name);
+  return std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
 }
 
 Pool* PoolRegistry::find(const std::string& name) {

@@ -37,6 +37,8 @@ class PoolRegistry {
   std::vector<std::string> names() const;
   std::size_t size() const { return pools_.size(); }
   const PoolSettings& settings_for(const std::string& name) const;
+  // A new, empty pool with the settings `name` takes, not registered (put() registers it).
+  std::unique_ptr<Pool> make_aside(const std::string& name) const;
 
   bool is_declared(const std::string& name) const { return declared_.contains(name); }
   std::size_t declared_count() const { return declared_.size(); }

@@ -118,8 +118,7 @@ bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch)
   }
   auto check = std::make_shared<FirstCheck>();
   check->ticket = ticket;
-  const PoolSettings& settings = state_.registry.settings_for(batch.pool);
-  check->engine = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
+  check->engine = state_.registry.make_aside(batch.pool);
   check->batch = std::move(batch);
   first_checks_.emplace(check->batch.pool, check);
   ++held_count_;
@@ -189,12 +188,7 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
                                 std::to_string(state_.registry.declared_count()) +
                                 " declared pools leave (retire one to free a slot)")));
     }
-    if (first != nullptr) {
-      created = std::move(first->engine);
-    } else {
-      const PoolSettings& settings = state_.registry.settings_for(batch.pool);
-      created = std::make_unique<Pool>(settings.mode, settings.limits, settings.churn_bonus);
-    }
+    created = first != nullptr ? std::move(first->engine) : state_.registry.make_aside(batch.pool);
     pool = created.get();
   }
   if (!batch.client_id.empty()) {

@@ -307,10 +307,7 @@ class BatchChecker::Overlay {
            pool_.graph.find_edge(a.slot, b.slot) != kNoEdge;
   }
 
-  bool exists(VertexKey key) const {
-    const auto it = vertex_.find(key);
-    return it != vertex_.end() ? it->second.alive : pool_.graph.find(key) != kNoVertex;
-  }
+  bool exists(VertexKey key) const { return end_of(key).alive; }
   std::uint32_t generation(VertexKey key) const {
     const auto it = vertex_.find(key);
     return it == vertex_.end() ? 0 : it->second.generation;
