@@ -1,7 +1,5 @@
 #include "tools/bench/churn_runner.h"
 
-#include <time.h>
-
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -14,6 +12,7 @@
 #include "yoke/certificate.h"
 #include "yoke/pool.h"
 #include "tools/bench/number_format.h"
+#include "tools/bench/stopwatch.h"
 #include "tools/bench/stored_stream.h"
 #include "tools/bench/stream_runner.h"
 
@@ -23,14 +22,6 @@ namespace {
 using Clock = std::chrono::steady_clock;
 
 constexpr double kMaxPercent = 1000;
-
-// This thread's CPU time: steadier than the wall clock on a shared machine, where waiting for
-// a core inflates wall time.
-double thread_cpu_seconds() {
-  timespec now{};
-  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &now);
-  return static_cast<double>(now.tv_sec) + static_cast<double>(now.tv_nsec) / 1e9;
-}
 
 // What one run leaves behind for the next to be compared with: per streamed commit.
 struct Trace {
@@ -91,11 +82,11 @@ ChurnRun run_one(const StoredStream& stream, Weight bonus, std::string label,
     const std::span<const Event> batch = stream.batch(c);
     reject_if_invalid(pool, batch, c + 1);
 
-    const double cpu_start = thread_cpu_seconds();
+    const Stopwatch cpu;  // this thread's CPU time too: waiting for a core inflates wall time
     const Clock::time_point start = Clock::now();
     const CommitResult committed = pool.commit(batch);
     const Clock::duration took = Clock::now() - start;
-    run.repair_cpu_seconds += thread_cpu_seconds() - cpu_start;
+    run.repair_cpu_seconds += cpu.cpu_ms() / 1e3;
     in_commits += took;
     repair_us[c] = std::chrono::duration<double, std::micro>(took).count();
 

@@ -8,16 +8,10 @@
 #include <utility>
 #include <vector>
 
-#include <time.h>
+#include "tools/bench/stopwatch.h"
 
 namespace yoke::bench {
 namespace {
-
-double thread_cpu_ns() {
-  timespec now{};
-  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &now);
-  return static_cast<double>(now.tv_sec) * 1e9 + static_cast<double>(now.tv_nsec);
-}
 
 // One cycle through every index (Sattolo's shuffle), so the chase never settles in a short loop
 // that the cache would hold.
@@ -35,14 +29,14 @@ std::vector<std::uint32_t> random_cycle(std::size_t n, std::uint32_t seed) {
 // CPU ns per load of `loads` dependent loads; the chase starts when `start` opens.
 double chase(const std::vector<std::uint32_t>& next, std::uint64_t loads, std::latch& start) {
   start.arrive_and_wait();
-  const double begin = thread_cpu_ns();
+  const Stopwatch clock;
   std::uint32_t at = 0;
   for (std::uint64_t i = 0; i < loads; ++i) at = next[at];
-  const double end = thread_cpu_ns();
+  const double cpu_ns = clock.cpu_ms() * 1e6;
   // The end point depends on every load: keep the compiler from dropping the loop.
   volatile std::uint32_t sink = at;
   (void)sink;
-  return (end - begin) / static_cast<double>(loads);
+  return cpu_ns / static_cast<double>(loads);
 }
 
 // Mean CPU ns per load of `arrays.size()` threads chasing at once, one array each.
