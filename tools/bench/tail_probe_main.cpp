@@ -26,6 +26,7 @@
 
 #include "tools/bench/aimed_stream.h"
 #include "tools/bench/stopwatch.h"
+#include "tools/bench/tail_runner.h"
 #include "tools/formats/event_script_reader.h"
 #include "yoke/pool.h"
 
@@ -33,8 +34,6 @@ namespace {
 
 using namespace yoke;
 using namespace yoke::bench;
-
-constexpr std::uint64_t kIdleLimit = 2000;  // tail_runner.h's kIdleTouchLimit
 
 struct Row {
   std::size_t commit = 0;
@@ -62,15 +61,15 @@ void print_kind(const std::string& kind, std::vector<Row> rows) {
     if (!shown_already(by_cpu[i])) shown.push_back(by_cpu[i]);
   }
   for (std::size_t i = top; i < rows.size(); ++i) {
-    if (rows[i].changed == 0 && rows[i].stats.vertices_touched > kIdleLimit &&
+    if (rows[i].changed == 0 && static_cast<double>(rows[i].stats.vertices_touched) > kIdleTouchLimit &&
         !shown_already(rows[i])) {
       shown.push_back(rows[i]);
     }
   }
   std::printf(
-      "%s: %zu commits, the %zu heaviest by vertices touched, by CPU, and the idle ones above %llu "
+      "%s: %zu commits, the %zu heaviest by vertices touched, by CPU, and the idle ones above %.0f "
       "touched\n",
-      kind.c_str(), rows.size(), top, static_cast<unsigned long long>(kIdleLimit));
+      kind.c_str(), rows.size(), top, kIdleTouchLimit);
   std::printf("  %7s %8s %9s %5s %5s %5s %9s %7s %8s %6s %7s %9s\n", "commit", "touched",
               "dissolved", "roots", "trees", "augm", "dissolves", "formed", "expanded", "steps",
               "changed", "cpu_us");
