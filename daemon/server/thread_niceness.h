@@ -3,10 +3,10 @@
 // the loop that reads the sockets and sends the acknowledgements.
 #pragma once
 
-#include <boost/asio/thread_pool.hpp>
-
 #include <cstddef>
 #include <string>
+
+#include <boost/asio/thread_pool.hpp>
 
 namespace yoke::daemon {
 

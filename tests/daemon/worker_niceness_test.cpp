@@ -2,8 +2,8 @@
 // worker and the snapshot writer read their own niceness (getpriority on their thread id)
 // inside a task, and the thread that made them keeps its own.
 #include <algorithm>
-#include <memory>
 #include <latch>
+#include <memory>
 #include <mutex>
 #include <string>
 #include <vector>
@@ -60,7 +60,12 @@ TEST(WorkerNiceness, OffsetZeroLeavesTheWorkersAsNiceAsTheirMaker) {
 TEST(WorkerNiceness, TheNicenessStopsAt19) {
   const int base = this_thread_niceness();
   RepairThreads threads(2, 19);
-  for (const int niceness : worker_niceness(threads)) EXPECT_EQ(niceness, 19);
+  for (const int niceness : worker_niceness(threads)) {
+    EXPECT_EQ(niceness, expected_niceness(base, 19));
+    if (base >= 0) {
+      EXPECT_EQ(niceness, 19);
+    }
+  }
   EXPECT_EQ(this_thread_niceness(), base);
 }
 
@@ -68,7 +73,8 @@ TEST(WorkerNiceness, TheNicenessStopsAt19) {
 class NicenessRecordingStore final : public storage::SnapshotStore {
  public:
   std::string describe() const override { return "niceness recorder"; }
-  std::string write(storage::Position /*position*/, const std::vector<v1::SnapshotRecord>& /*pools*/) override {
+  std::string write(storage::Position /*position*/,
+                    const std::vector<v1::SnapshotRecord>& /*pools*/) override {
     write_niceness = this_thread_niceness();
     return "recorded";
   }
@@ -85,7 +91,8 @@ TEST(WorkerNiceness, TheSnapshotWriterRunsAtTheLoopsNicenessPlusTheOffset) {
   testing::ServiceHarness harness;
   NicenessRecordingStore store;
   const int base = this_thread_niceness();
-  BackgroundSnapshot background(harness.service(), store, [] {}, 7);
+  BackgroundSnapshot background(
+      harness.service(), store, [] {}, 7);
   EXPECT_EQ(this_thread_niceness(), base);
   background.start();  // no pool repairs: the write starts at once
   background.wait_written();
