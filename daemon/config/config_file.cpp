@@ -28,6 +28,7 @@ void read_batching(TomlTableReader& table, BatchingSettings& out) {
 
 void read_service(TomlTableReader& table, ServiceSettings& out) {
   table.read("repair_threads", std::uint64_t{0}, std::uint64_t{256}, out.repair_threads);
+  table.read("worker_nice", std::uint64_t{0}, std::uint64_t{19}, out.worker_nice);
   table.finish();
 }
 

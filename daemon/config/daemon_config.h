@@ -38,6 +38,10 @@ struct ServiceSettings {
   // Worker threads that repair pools (each pool's windows in order, different pools at once);
   // the loop thread answers the sockets beside them. 0: one per CPU this process may use.
   std::uint64_t repair_threads = 0;
+  // Added to the daemon's niceness for the repair workers and the snapshot writer, so that
+  // a long repair yields a shared core to the loop, which acknowledges other pools' batches
+  // (0..19; 0: the loop's niceness).
+  std::uint64_t worker_nice = 5;
 };
 
 struct SnapshotSettings {

@@ -6,12 +6,15 @@
 
 #include "daemon/service/snapshot_capture.h"
 #include "daemon/service/unix_time.h"
+#include "thread_niceness.h"
 
 namespace yoke::daemon {
 
 BackgroundSnapshot::BackgroundSnapshot(PoolService& service, storage::SnapshotStore& store,
-                                       std::function<void()> wake)
-    : service_(service), store_(store), wake_(std::move(wake)) {}
+                                       std::function<void()> wake, int nice_offset)
+    : service_(service), store_(store), wake_(std::move(wake)) {
+  add_pool_niceness(writer_, 1, nice_offset);
+}
 
 BackgroundSnapshot::~BackgroundSnapshot() { writer_.join(); }
 

@@ -34,9 +34,10 @@ class BackgroundSnapshot {
     std::exception_ptr failure;  // the write failed: nothing else holds
   };
 
-  // `wake` runs on the writer's thread when a write ends (post to the loop from it).
+  // `wake` runs on the writer's thread when a write ends (post to the loop from it). The
+  // writer runs `nice_offset` nicer than the caller (`[service] worker_nice`).
   BackgroundSnapshot(PoolService& service, storage::SnapshotStore& store,
-                     std::function<void()> wake);
+                     std::function<void()> wake, int nice_offset = 0);
   ~BackgroundSnapshot();  // waits for a write in progress
   BackgroundSnapshot(const BackgroundSnapshot&) = delete;
   BackgroundSnapshot& operator=(const BackgroundSnapshot&) = delete;

@@ -6,10 +6,14 @@
 
 #include <boost/asio/post.hpp>
 
+#include "thread_niceness.h"
+
 namespace yoke::daemon {
 
-RepairThreads::RepairThreads(std::size_t threads)
-    : threads_(std::max<std::size_t>(threads, 1)), workers_(threads_) {}
+RepairThreads::RepairThreads(std::size_t threads, int nice_offset)
+    : threads_(std::max<std::size_t>(threads, 1)), workers_(threads_) {
+  add_pool_niceness(workers_, threads_, nice_offset);
+}
 
 RepairThreads::~RepairThreads() { join(); }
 

@@ -16,8 +16,9 @@ namespace yoke::daemon {
 
 class RepairThreads final : public RepairExecutor {
  public:
-  // Starts `threads` workers (at least 1).
-  explicit RepairThreads(std::size_t threads);
+  // Starts `threads` workers (at least 1), each `nice_offset` nicer than the caller
+  // (`[service] worker_nice`; thread_niceness.h), so that the loop wins a shared core.
+  explicit RepairThreads(std::size_t threads, int nice_offset = 0);
   // Waits for every task given (join()).
   ~RepairThreads() override;
   RepairThreads(const RepairThreads&) = delete;

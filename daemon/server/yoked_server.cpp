@@ -97,15 +97,17 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
   ingest_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, ingest_, [this] { on_ingest_message(); });
   query_watcher_ = std::make_unique<ZmqSocketWatcher>(io_, query_, [this] { on_query_message(); });
 
+  // The workers yield a shared core to this loop: it sends the acknowledgements.
+  const int worker_nice = static_cast<int>(config.service.worker_nice);
   repairs_ = std::make_unique<RepairThreads>(
-      RepairThreads::for_setting(config.service.repair_threads));
+      RepairThreads::for_setting(config.service.repair_threads), worker_nice);
   service_.set_repair_listener(
       [this] { boost::asio::post(io_, [this] { on_repairs_finished(); }); });
   service_.set_repair_executor(repairs_.get());
   if (snapshots_ != nullptr) {
     background_ = std::make_unique<BackgroundSnapshot>(
         service_, *snapshots_,
-        [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); });
+        [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); }, worker_nice);
     service_.set_collect_listener(
         [this](const std::string& pool, const PoolService::EngineCapture* engine) {
           background_->pool_collected(pool, engine);
@@ -145,6 +147,7 @@ int YokedServer::run() {
   if (cluster_ != nullptr) arm_cluster_timer();
   log_event(LogLevel::info, "serving",
             {{"repair_threads", repairs_->threads()},
+             {"worker_nice", config_.service.worker_nice},
              {"ingest", config_.endpoints.ingest},
              {"publish", config_.endpoints.publish},
              {"query", config_.endpoints.query},

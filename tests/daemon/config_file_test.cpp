@@ -50,6 +50,7 @@ void expect_same(const DaemonConfig& a, const DaemonConfig& b) {
   EXPECT_EQ(a.batching.max_delay_us, b.batching.max_delay_us);
   EXPECT_EQ(a.batching.max_events, b.batching.max_events);
   EXPECT_EQ(a.service.repair_threads, b.service.repair_threads);
+  EXPECT_EQ(a.service.worker_nice, b.service.worker_nice);
   EXPECT_EQ(a.journal.durability, b.journal.durability);
   EXPECT_EQ(a.journal.segment_bytes, b.journal.segment_bytes);
   EXPECT_EQ(a.journal.max_record_bytes, b.journal.max_record_bytes);
@@ -131,6 +132,7 @@ max_delay_us = 0
 max_events = 7
 [service]
 repair_threads = 3
+worker_nice = 12
 [journal]
 durability = "every-batch"
 segment_bytes = 2097152
@@ -167,6 +169,7 @@ file = "/var/log/yoked.log"
   EXPECT_EQ(config.batching.max_delay_us, 0u);
   EXPECT_EQ(config.batching.max_events, 7u);
   EXPECT_EQ(config.service.repair_threads, 3u);
+  EXPECT_EQ(config.service.worker_nice, 12u);
   EXPECT_EQ(config.journal.durability, journal::Durability::every_batch);
   EXPECT_EQ(config.journal.segment_bytes, 2097152u);
   EXPECT_EQ(config.journal.max_record_bytes, 8388608u);
@@ -224,6 +227,10 @@ TEST(ConfigFile, WrongTypesAreErrorsNamingKeyAndLine) {
 TEST(ConfigFile, ValuesOutOfRangeAreErrors) {
   EXPECT_EQ(read_error("[batching]\nmax_delay_us = 5000000\n"),
             "t.toml:2: 'batching.max_delay_us' is 5000000, out of range 0..1000000");
+  EXPECT_EQ(read_error("[service]\nworker_nice = 20\n"),
+            "t.toml:2: 'service.worker_nice' is 20, out of range 0..19");
+  EXPECT_EQ(read_error("[service]\nworker_nice = -1\n"),
+            "t.toml:2: 'service.worker_nice' is -1, out of range 0..19");
   EXPECT_EQ(read_error("[snapshots]\nkeep = -1\n"),
             "t.toml:2: 'snapshots.keep' is -1, out of range 1..1000");
   EXPECT_EQ(read_error("[snapshots]\ninterval_seconds = 0\n"),

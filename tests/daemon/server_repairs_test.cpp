@@ -7,6 +7,7 @@
 #include <sys/socket.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <future>
 #include <memory>
@@ -16,6 +17,7 @@
 #include <gtest/gtest.h>
 #include <zmq.hpp>
 
+#include "daemon/server/thread_niceness.h"
 #include "daemon/server/yoked_server.h"
 #include "daemon/service/recovery.h"
 #include "daemon/service/snapshot_capture.h"
@@ -221,6 +223,23 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   // The final one holds both, and a restart from it finds them as they were.
   const storage::SnapshotContents last = yoked.snapshots.read(positions.front());
   EXPECT_EQ(last.pools.size(), 2u);
+}
+
+// [service] worker_nice reaches the server's repair workers: a task reads its own thread's
+// niceness (the threads themselves: worker_niceness_test.cpp).
+TEST(ServerRepairs, RepairWorkersRunAtTheConfiguredNiceness) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.service.worker_nice = 3;
+  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  PoolService service(config, testing::fresh_state(config), *log);
+  const int base = this_thread_niceness();
+  YokedServer server(config, service, snapshots);
+  std::promise<int> seen;
+  server.repair_threads().run("A", [&seen] { seen.set_value(this_thread_niceness()); });
+  EXPECT_EQ(seen.get_future().get(), std::min(base + 3, 19));
+  EXPECT_EQ(this_thread_niceness(), base);
 }
 
 }  // namespace

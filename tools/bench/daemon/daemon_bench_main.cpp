@@ -64,6 +64,7 @@ struct Settings {
   bool skip_scaling = false;
   bool in_flight_per_pool = false;
   bool pools_without_snapshots = false;
+  int worker_nice = -1;  // [service] worker_nice for every yoked started (-1: its default)
 };
 
 std::filesystem::path make_work_dir() {
@@ -73,7 +74,7 @@ std::filesystem::path make_work_dir() {
 }
 
 void write_config(const std::filesystem::path& file, const YokedEndpoints& endpoints,
-                  const std::string& durability) {
+                  const std::string& durability, int worker_nice) {
   std::ofstream out(file);
   out << "[endpoints]\n"
       << "ingest = \"" << endpoints.ingest << "\"\n"
@@ -83,6 +84,7 @@ void write_config(const std::filesystem::path& file, const YokedEndpoints& endpo
       << "[limits]\nmax_message_bytes = 268435456\nmax_events_per_batch = 10000000\n"
       << "[journal]\nmax_record_bytes = 268435456\ndurability = \"" << durability << "\"\n"
       << "[logging]\nlevel = \"warn\"\n";
+  if (worker_nice >= 0) out << "[service]\nworker_nice = " << worker_nice << "\n";
 }
 
 // The stream's base graph as one batch, then its batches.
@@ -174,8 +176,9 @@ void print_memory_contention(bool quick) {
 }
 
 int run(const Settings& settings) {
-  std::printf("yoke_daemon_bench: yoked over loopback TCP, journal durability %s\n",
-              settings.durability.c_str());
+  std::printf("yoke_daemon_bench: yoked over loopback TCP, journal durability %s, worker_nice %s\n",
+              settings.durability.c_str(),
+              settings.worker_nice < 0 ? "default" : std::to_string(settings.worker_nice).c_str());
   std::printf("machine: %s, %ld usable CPUs, load %s; source %s\n", cpu_model().c_str(),
               usable_cpus(), load_average().c_str(), source_commit().c_str());
   std::printf("settings: city pool of %zu vertices, %zu events in batches of %zu, mix %s, "
@@ -191,7 +194,7 @@ int run(const Settings& settings) {
   pools.work = work;
   pools.write_config = [&settings](const std::filesystem::path& file,
                                    const YokedEndpoints& endpoints) {
-    write_config(file, endpoints, settings.durability);
+    write_config(file, endpoints, settings.durability, settings.worker_nice);
   };
   pools.vertices = settings.pool_vertices;
   pools.events = settings.pool_events;
@@ -241,7 +244,7 @@ int run(const Settings& settings) {
   // 2. Sustained ingest.
   const YokedEndpoints endpoints = free_loopback_endpoints();
   const std::filesystem::path config = work / "yoked.toml";
-  write_config(config, endpoints, settings.durability);
+  write_config(config, endpoints, settings.durability, settings.worker_nice);
   YokedProcess daemon(settings.yoked, work / "data", config);
   daemon.wait_ready(context, endpoints.query, std::chrono::seconds(30));
   const LoadResult load = send_pipelined(context, endpoints.ingest, batches, 0, 1, 1);
@@ -280,7 +283,7 @@ int run(const Settings& settings) {
   const std::vector<std::vector<Event>> big_stream = draw_stream(big);
   const std::vector<EncodedBatch> big_batches = encode_batches(big_stream, "bench", "big", 1);
   const YokedEndpoints big_endpoints = free_loopback_endpoints();
-  write_config(config, big_endpoints, settings.durability);
+  write_config(config, big_endpoints, settings.durability, settings.worker_nice);
   const std::filesystem::path big_data = work / "big";
   double first_ready = 0;
   {
@@ -339,6 +342,9 @@ int main(int argc, char** argv) {
                  "The journal's durability: group (fsync per window), every-batch or none")
       ->check(CLI::IsMember({"group", "every-batch", "none"}))
       ->capture_default_str();
+  app.add_option("--worker-nice", settings.worker_nice,
+                 "[service] worker_nice of every yoked started (default: the daemon's)")
+      ->check(CLI::Range(0, 19));
   app.add_option("--pool-vertices", settings.pool_vertices,
                  "Each pool's size in the multi-pool and long-repair runs")
       ->capture_default_str();

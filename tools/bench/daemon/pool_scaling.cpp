@@ -205,6 +205,9 @@ void run_long_repair(zmq::context_t& context, const PoolScalingSettings& setting
   daemon.wait_ready(context, endpoints.query, std::chrono::seconds(60));
   send_pipelined(context, endpoints.ingest, quick, 0, 1, 1);
   send_pipelined(context, endpoints.ingest, during, 0, 1, 1);
+  // "Alone" means alone: the two base graphs' repairs (acknowledged before they ran) are over.
+  await_summary(context, endpoints.query, "quick");
+  await_summary(context, endpoints.query, "during");
   const double per_second = settings.rate / static_cast<double>(settings.batch);
   const std::size_t half = 1 + (quick.size() - 1) / 2;
 
