@@ -298,5 +298,64 @@ TEST(PoolGraphSlotOrder, KeepsKeysEdgesAndPendingSlots) {
   EXPECT_EQ(reused, 79u) << "the slot freed in the batch, now the lowest free one";
 }
 
+// The edges are numbered anew with the slots: in the order a walk of the new slot order meets
+// them, removed edge slots after the live ones and still reused; each record keeps its ends and
+// weight, and the positions kept for O(1) changes still point at the right entries.
+TEST(PoolGraphSlotOrder, NumbersEdgesInTheSlotOrder) {
+  PoolGraph graph;
+  gen::Rng rng(23);
+  for (VertexKey key = 0; key < 60; ++key) graph.add_vertex(key);
+  std::vector<EdgeIndex> added;
+  for (int i = 0; i < 400; ++i) {
+    const auto a = static_cast<Vertex>(rng.below(60));
+    const auto b = static_cast<Vertex>(rng.below(60));
+    if (a == b || graph.find_edge(a, b) != kNoEdge) continue;
+    added.push_back(graph.add_edge(a, b, static_cast<Weight>(rng.below(1000))));
+  }
+  for (std::size_t i = 0; i < added.size(); i += 7) graph.remove_edge(added[i]);
+  const std::size_t live = graph.edge_count();
+  const std::size_t slots = graph.graph().edge_slots();
+  ASSERT_LT(live, slots);
+
+  graph.order_slots_by_locality();
+
+  const Graph& g = graph.graph();
+  EXPECT_EQ(g.edge_slots(), slots);
+  EdgeIndex next = 0;
+  for (Vertex v = 0; v < graph.capacity(); ++v) {
+    for (const Incidence& inc : g.incident(v)) {
+      const Edge& edge = g.edge(inc.edge);
+      EXPECT_TRUE((edge.a == v && edge.b == inc.other) || (edge.b == v && edge.a == inc.other));
+      EXPECT_EQ(edge.w, inc.w);
+      EXPECT_EQ(graph.find_edge(v, inc.other), inc.edge);
+      EXPECT_LE(inc.edge, next) << "an edge met for the first time takes the next number";
+      if (inc.edge == next) ++next;
+    }
+  }
+  EXPECT_EQ(next, live);
+  for (EdgeIndex e = static_cast<EdgeIndex>(live); e < slots; ++e) EXPECT_FALSE(g.is_live(e));
+
+  // Weight changes and removals find their entries; a new edge takes a removed slot.
+  for (Vertex v = 0; v < graph.capacity(); v += 3) {
+    if (g.incident(v).empty()) continue;
+    const Incidence inc = g.incident(v).front();
+    graph.set_weight(inc.edge, 5000 + v);
+    EXPECT_EQ(g.incident(v).front().w, 5000 + static_cast<Weight>(v));
+    const Vertex other = inc.other;
+    bool seen = false;
+    for (const Incidence& back : g.incident(other)) {
+      if (back.edge == inc.edge) seen = back.w == 5000 + static_cast<Weight>(v);
+    }
+    EXPECT_TRUE(seen);
+    graph.remove_edge(inc.edge);
+    EXPECT_EQ(graph.find_edge(v, other), kNoEdge);
+    for (const Incidence& back : g.incident(other)) EXPECT_NE(back.edge, inc.edge);
+  }
+  Vertex a = 0, b = 1;
+  while (graph.find_edge(a, b) != kNoEdge) ++b;
+  const EdgeIndex reused = graph.add_edge(a, b, 1);
+  EXPECT_LT(reused, slots) << "a removed slot is reused";
+}
+
 }  // namespace
 }  // namespace yoke
