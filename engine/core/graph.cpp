@@ -113,47 +113,19 @@ void Graph::remove_edge(EdgeIndex e) {
 void Graph::renumber(std::span<const Vertex> new_of_old) {
   const std::size_t n = vertex_count();
   YOKE_DCHECK(new_of_old.size() == n, "Graph::renumber: not one number per vertex");
-  std::vector<Vertex> old_of_new(n);
-  for (Vertex v = 0; v < n; ++v) old_of_new[new_of_old[v]] = v;
-  // Edges are numbered in the order a walk of the new vertex order meets them, removed slots
-  // last: an edge's record then lies near those of its ends' other edges, so the search's
-  // look-ups by edge (its queued bounds name edges) hit lines its neighbours brought in.
-  std::vector<EdgeIndex> new_edge(edges_.size(), kNoEdge);
-  EdgeIndex next_edge = 0;
-  for (Vertex v : old_of_new) {
-    for (const Incidence& inc : incident(v)) {
-      if (new_edge[inc.edge] == kNoEdge) new_edge[inc.edge] = next_edge++;
-    }
-  }
-  for (EdgeIndex& e : new_edge) {
-    if (e == kNoEdge) e = next_edge++;
-  }
   std::vector<std::uint32_t> degree(n, 0);
   for (Vertex v = 0; v < n; ++v) degree[new_of_old[v]] = static_cast<std::uint32_t>(incident(v).size());
   IncidenceLists lists = IncidenceLists::with_room(degree);
   for (Vertex v = 0; v < n; ++v) {
-    for (const Incidence& inc : incident(v)) {
-      lists.push(new_of_old[v], {new_of_old[inc.other], new_edge[inc.edge], inc.w});
-    }
+    for (const Incidence& inc : incident(v)) lists.push(new_of_old[v], {new_of_old[inc.other], inc.edge, inc.w});
   }
   lists.compact();  // slack for the edges to come
   lists_ = std::move(lists);
-  std::vector<Edge> edges(edges_.size());
-  for (EdgeIndex e = 0; e < edges_.size(); ++e) {
-    Edge edge = edges_[e];
-    if (edge.a != kNoVertex) {
-      edge.a = new_of_old[edge.a];
-      edge.b = new_of_old[edge.b];
-    }
-    edges[new_edge[e]] = edge;
+  for (Edge& edge : edges_) {
+    if (edge.a == kNoVertex) continue;
+    edge.a = new_of_old[edge.a];
+    edge.b = new_of_old[edge.b];
   }
-  edges_ = std::move(edges);
-  if (tracking_) {  // positions within each list are kept
-    std::vector<Positions> positions(positions_.size());
-    for (EdgeIndex e = 0; e < positions_.size(); ++e) positions[new_edge[e]] = positions_[e];
-    positions_ = std::move(positions);
-  }
-  for (EdgeIndex& e : free_edges_) e = new_edge[e];
 }
 
 void Graph::save(ByteWriter& out) const {

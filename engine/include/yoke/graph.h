@@ -53,10 +53,8 @@ class Graph {
   // O(1), or O(n + m) paid for by the Omega(n + m) moves since the last time. A caller calls
   // it between mutations and searches (PoolGraph::tidy_layout, before a repair).
   void tidy_incidence() { lists_.tidy(); }
-  // Gives vertex v the number new_of_old[v] (a permutation of 0..n-1), and numbers the edges
-  // anew in the order a walk of the new vertex order meets them (removed slots after the live
-  // ones, the free list keeping its order), so that edge records lie in the vertices' order
-  // too. Weights and the order of each incidence list stay. O(n + m).
+  // Gives vertex v the number new_of_old[v] (a permutation of 0..n-1); edge indices, weights
+  // and the order of each incidence list stay. O(n + m).
   void renumber(std::span<const Vertex> new_of_old);
 
   std::size_t vertex_count() const { return lists_.vertex_count(); }
