@@ -87,6 +87,7 @@ void AlternatingSearch::scan(Vertex v) {
   for (const Incidence& inc : incident) {
     __builtin_prefetch(&vertex_mark_[inc.other]);
     __builtin_prefetch(&dual2_[inc.other]);
+    __builtin_prefetch(&mate_.values()[inc.other]);  // free_edge_kind reads a free end's mate
   }
   for (const Incidence& inc : incident) {
     const Weight w = inc.w + weight_offset_;
