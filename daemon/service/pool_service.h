@@ -86,8 +86,8 @@ class PoolService {
   // (Pool::stage) plus the windows sealed after it (their checker, kept here) plus the open
   // window, and joins the window. It waits instead, and its answer comes from finish_repairs()
   // (a refusal, a duplicate) or with a later window, while a window of the pool is being staged
-  // (a worker writes the topology then), while the pool's only window in flight is not staged
-  // yet (its checker is the worker's), when its check finds a limit exceeded before the
+  // (a worker writes the topology then), while its latest window in flight, handed over with
+  // nothing of the pool before it, is not staged yet (its checker is the worker's), when its check finds a limit exceeded before the
   // pool's windows are all staged (the edge count is exact only then), and for a retirement
   // or in a cluster (then while any repair is in flight).
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
