@@ -16,6 +16,26 @@
 namespace yoke {
 namespace {
 
+// `size` random events over vertex keys 0..max_key: arrivals, edges set (twice as often),
+// unset, departures and holds.
+std::vector<Event> random_events(std::mt19937_64& random, int size, VertexKey max_key) {
+  std::uniform_int_distribution<int> kind(0, 5);
+  std::uniform_int_distribution<VertexKey> key(0, max_key);
+  std::uniform_int_distribution<Weight> weight(-20, 60);
+  std::vector<Event> batch(size);
+  for (Event& event : batch) {
+    switch (kind(random)) {
+      case 0: event = add(key(random)); break;
+      case 1:
+      case 2: event = set(key(random), key(random), weight(random)); break;
+      case 3: event = unset(key(random), key(random)); break;
+      case 4: event = remove(key(random)); break;
+      default: event = hold(key(random), key(random)); break;
+    }
+  }
+  return batch;
+}
+
 // Common knowledge (batch_checker.h): a batch may rely on what earlier accepted batches did.
 TEST(BatchChecker, LaterBatchesSeeEarlierAcceptedOnes) {
   Pool pool(Mode::max_weight);
@@ -150,23 +170,7 @@ TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
 // by check_certificate, the engine's independent referee.
 TEST(BatchChecker, AStagedPoolIsCheckedAsTheCommittedOne) {
   std::mt19937_64 random(20261204);
-  std::uniform_int_distribution<int> kind(0, 5);
-  std::uniform_int_distribution<VertexKey> key(0, 30);
-  std::uniform_int_distribution<Weight> weight(-20, 60);
-  const auto random_batch = [&](int size) {
-    std::vector<Event> batch(size);
-    for (Event& event : batch) {
-      switch (kind(random)) {
-        case 0: event = add(key(random)); break;
-        case 1:
-        case 2: event = set(key(random), key(random), weight(random)); break;
-        case 3: event = unset(key(random), key(random)); break;
-        case 4: event = remove(key(random)); break;
-        default: event = hold(key(random), key(random)); break;
-      }
-    }
-    return batch;
-  };
+  const auto random_batch = [&random](int size) { return random_events(random, size, 30); };
   for (int round = 0; round < 40; ++round) {
     Pool staged(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
     Pool committed(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
@@ -250,10 +254,7 @@ TEST(BatchChecker, AWindowStagedUnderTheCheckerIsCountedOnce) {
 // messages of Pool::check on a pool that committed every batch accepted before (no edge limit
 // in reach: its count is an upper bound within a window; the vertex limit is often reached).
 TEST(BatchChecker, WindowsStagedUnderTheCheckerAgreeWithCommitting) {
-  std::mt19937_64 random(20261204);
-  std::uniform_int_distribution<int> kind(0, 5);
-  std::uniform_int_distribution<VertexKey> key(0, 9);
-  std::uniform_int_distribution<Weight> weight(-20, 60);
+  std::mt19937_64 random(20261205);
   for (int round = 0; round < 60; ++round) {
     PoolLimits limits;
     limits.max_vertices = 6;
@@ -263,17 +264,7 @@ TEST(BatchChecker, WindowsStagedUnderTheCheckerAgreeWithCommitting) {
     std::vector<Event> open;  // the current window's accepted events
     std::deque<std::pair<std::vector<Event>, BatchChecker::CountChange>> ended;
     for (int step = 0; step < 40; ++step) {
-      std::vector<Event> batch(1 + step % 4);
-      for (Event& event : batch) {
-        switch (kind(random)) {
-          case 0: event = add(key(random)); break;
-          case 1:
-          case 2: event = set(key(random), key(random), weight(random)); break;
-          case 3: event = unset(key(random), key(random)); break;
-          case 4: event = remove(key(random)); break;
-          default: event = hold(key(random), key(random)); break;
-        }
-      }
+      const std::vector<Event> batch = random_events(random, 1 + step % 4, 9);
       const std::optional<EventError> want = reference.check(batch);
       const std::optional<EventError> got = checker.accept(batch);
       ASSERT_EQ(got.has_value(), want.has_value()) << "round " << round << " step " << step;
