@@ -37,6 +37,7 @@ void PoolService::adopt_pool(const std::string& pool, PoolState state) {
                            " cannot be adopted while the window holds its batches");
   }
   if (!routing_.serves_every_pool()) routing_.serve_here(pool);
+  chained_checkers_.erase(pool);  // before the pool: it reads it
   put_pool_state(state_, pool, std::move(state));
 }
 
@@ -77,6 +78,7 @@ void PoolService::drop_pool(const std::string& pool,
     return true;
   });
   window_pools_.erase(pool);  // before the pool: its checker reads it
+  chained_checkers_.erase(pool);
   take_pool_state(state_, pool);
 }
 
@@ -148,10 +150,48 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (batch.retire || !routing_.serves_every_pool() || draining_.contains(batch.pool)) {
     return true;
   }
-  RepairJob& last = *jobs->second.back();  // staged: so are the jobs before it (one strand)
-  if (last.staged.load(std::memory_order_acquire)) return false;
-  last.wake_when_staged.store(true);
-  return !last.staged.load();
+  if (const auto wait = stage_waits_.find(batch.pool); wait != stage_waits_.end()) {
+    if (waits_for_stage(*wait->second)) return true;
+    stage_waits_.erase(wait);
+  }
+  // The pool's latest window handed over with its checker: staged, so are the jobs before it
+  // (one strand). A chained one is checked under the stage lock instead (offer_decoded()).
+  RepairJob& last = *jobs->second.back();
+  return !last.chained && waits_for_stage(last);
+}
+
+bool PoolService::waits_for_stage(RepairJob& job) {
+  if (job.staged.load(std::memory_order_acquire)) return false;
+  job.wake_when_staged.store(true);
+  return !job.staged.load();
+}
+
+void PoolService::hold_for_stage(Ticket ticket, DecodedBatch batch,
+                                 const std::shared_ptr<RepairJob>& job) {
+  const std::string pool = batch.pool;
+  held_[pool].push_front(HeldBatch{ticket, std::move(batch)});  // it came before those held
+  ++held_count_;
+  stage_waits_[pool] = job;
+  // Staged meanwhile (the worker may have looked at the flag before it was set): the loop is
+  // woken all the same, to offer it again.
+  if (!waits_for_stage(*job) && repair_listener_) repair_listener_();
+}
+
+void PoolService::count_off_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs,
+                                   BatchChecker& checker) {
+  for (const std::shared_ptr<RepairJob>& job : jobs) {
+    if (job->chained_counts && job->staged.load(std::memory_order_acquire)) {
+      checker.window_staged(*job->chained_counts);
+      job->chained_counts.reset();
+    }
+  }
+}
+
+BatchChecker* PoolService::chain_checker(const std::string& pool) {
+  if (const auto it = window_pools_.find(pool); it != window_pools_.end()) return &it->second.checker;
+  if (const auto it = sealed_checkers_.find(pool); it != sealed_checkers_.end()) return &it->second;
+  if (const auto it = chained_checkers_.find(pool); it != chained_checkers_.end()) return &it->second;
+  return nullptr;
 }
 
 std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
@@ -204,9 +244,34 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
     error = std::move(first->verdict);
   } else {
     window_entry = &window_pool(batch.pool, *pool);
-    // While the pool's repair is in flight the checker reads the topology its window left
-    // (Pool::stage), which the repair does not change.
-    error = window_entry->checker.accept(batch.events);
+    // While the pool's repairs are in flight the checker reads the topology its windows staged
+    // so far (Pool::stage), which a repair does not change, but a stage does: not meanwhile.
+    std::unique_lock<std::mutex> stage_lock;
+    const auto jobs = repairing_.find(batch.pool);
+    if (jobs != repairing_.end()) {
+      stage_lock = std::unique_lock(*jobs->second.front()->stage_mutex, std::try_to_lock);
+      const auto unstaged = std::find_if(
+          jobs->second.begin(), jobs->second.end(),
+          [](const auto& job) { return !job->staged.load(std::memory_order_acquire); });
+      if (!stage_lock.owns_lock() ||
+          (unstaged != jobs->second.end() && (*unstaged)->stage_failed)) {
+        // The stage under way (the first not staged, or the last: staged, not yet unlocked).
+        hold_for_stage(ticket, std::move(batch),
+                       unstaged != jobs->second.end() ? *unstaged : jobs->second.back());
+        return std::nullopt;
+      }
+      count_off_staged(jobs->second, window_entry->checker);
+      error = window_entry->checker.accept(batch.events);
+      // Before every window is staged the edge count is an upper bound over theirs too: a
+      // refusal for a limit waits for them, to be the one a staged pool gives.
+      if (error && error->code == EventErrorCode::limit_exceeded &&
+          unstaged != jobs->second.end()) {
+        hold_for_stage(ticket, std::move(batch), jobs->second.back());
+        return std::nullopt;
+      }
+    } else {
+      error = window_entry->checker.accept(batch.events);
+    }
   }
   WindowPool& in_window = *window_entry;
   if (error) {
@@ -333,7 +398,10 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
   if (it == window_pools_.end()) {
     const std::uint64_t seq = journalled_seq(name);
     std::optional<BatchChecker> checker;
-    if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
+    if (auto chained = chained_checkers_.find(name); chained != chained_checkers_.end()) {
+      checker.emplace(std::move(chained->second));
+      chained_checkers_.erase(chained);
+    } else if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
       // The last window in flight's checker, emptied by its worker once staged, is this one's.
       RepairJob& last = *jobs->second.back();
       if (last.staged.load(std::memory_order_acquire) && last.checker) {
@@ -427,6 +495,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     }
   }
   held_.clear();
+  stage_waits_.clear();
   // A worker may still be checking: it reads the batch's events, not its names.
   for (const auto& [pool, check] : first_checks_) {
     replies.emplace_back(check->ticket, refuse(refused(ack_for(check->batch), error)));

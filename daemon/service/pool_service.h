@@ -82,11 +82,14 @@ class PoolService {
 
   // Takes one ingest message. Returns the Ack to send now for a refusal or for a retry of a
   // batch already durable; nothing when the reply comes with the window (see seal()). A batch
-  // for a pool whose repair is in flight is checked here too, against the pool as staged
-  // (Pool::stage) plus the window, and joins the window, unless the pool's latest window is
-  // still being staged (or it is a retirement, or the daemon is in a cluster: then any repair
-  // in flight): the batch then waits and its answer comes from finish_repairs() (a refusal, a
-  // duplicate) or with a later window.
+  // for a pool whose repair is in flight is checked here too, against the pool as staged so far
+  // (Pool::stage) plus the windows sealed after it (their checker, kept here) plus the open
+  // window, and joins the window. It waits instead, and its answer comes from finish_repairs()
+  // (a refusal, a duplicate) or with a later window, while a window of the pool is being staged
+  // (a worker writes the topology then), while its latest window in flight, handed over with
+  // nothing of the pool before it, is not staged yet (its checker is the worker's), when its check finds a limit exceeded before the
+  // pool's windows are all staged (the edge count is exact only then), and for a retirement
+  // or in a cluster (then while any repair is in flight).
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
 
   // Repairs go to `executor` from now on (nullptr: the inline default). Only while no repair
@@ -231,8 +234,18 @@ class PoolService {
     std::uint64_t repair_us = 0;
     std::exception_ptr failure;
     // The sealed window's checker, handed over so that the worker, not the loop, clears its
-    // tables: emptied once the window is staged, then the loop's (window_pool()).
+    // tables: emptied once the window is staged, then the loop's (window_pool()). Only when no
+    // earlier window of the pool was in flight: otherwise the checker stays on the loop
+    // (chained_checkers_), the base of the next window's checks, and `chained` is set.
     std::optional<BatchChecker> checker;
+    bool chained = false;
+    // The loop's: the window's count change in the chained checker, until the loop has
+    // subtracted it from there (once it sees the window staged: count_off_staged()).
+    std::optional<BatchChecker::CountChange> chained_counts;
+    // The pool's, shared by its jobs: held by the worker while it stages a window, and tried by
+    // the loop around a check that reads the pool while its repairs are in flight.
+    std::shared_ptr<std::mutex> stage_mutex;
+    bool stage_failed = false;  // written under stage_mutex
     // Stored by the worker once the window is staged, after its last write of the pool's
     // topology and of `checker`: from then on the loop may check batches against the pool
     // (Pool::stage's promise) and take `checker`. The loop sets wake_when_staged before it
@@ -284,6 +297,18 @@ class PoolService {
   bool waits_for_engine(const DecodedBatch& batch);
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
+  // `job` of the pool is not staged yet; asks it to wake the loop once it is (false: it is).
+  bool waits_for_stage(RepairJob& job);
+  // Holds `batch`, first of its pool's waiting batches, until `job` is staged (offer_decoded
+  // found the stage lock taken, or a limit exceeded while windows were not staged).
+  void hold_for_stage(Ticket ticket, DecodedBatch batch, const std::shared_ptr<RepairJob>& job);
+  // Subtracts from `checker` the counts of the chained windows now staged (under the pool's
+  // stage lock, or once their jobs ended).
+  static void count_off_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs,
+                               BatchChecker& checker);
+  // The checker that holds the pool's chained windows: the open window's, the sealed one's, or
+  // the one kept between windows; nullptr when none.
+  BatchChecker* chain_checker(const std::string& pool);
   // Gives `task` to `job`'s strand, counted so that the job is collected after it.
   void post_task(const std::shared_ptr<RepairJob>& job, std::function<void()> task);
   // Run on the executor: the window's batches staged in the engine, then the repair.
@@ -315,6 +340,9 @@ class PoolService {
   std::vector<PendingBatch> sealed_;
   std::map<std::string, std::uint64_t> sealed_seq_before_;
   std::map<std::string, BatchChecker> sealed_checkers_;  // the sealed window's, for its repairs
+  // A pool's latest window's checker, kept on the loop when that window was handed over behind
+  // another of the pool's (start_apply()): the next window checks on top of it.
+  std::map<std::string, BatchChecker> chained_checkers_;
   std::set<std::string> retiring_;  // pools retired by the open or sealed window
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
@@ -327,6 +355,8 @@ class PoolService {
   std::map<std::string, std::deque<std::shared_ptr<RepairJob>>> repairing_;
   std::map<std::string, std::deque<HeldBatch>> held_;  // batches waiting for those pools
   std::set<std::string> draining_;  // pools whose batches wait until their repairs are over
+  // Pools whose first held batch waits for that job's stage (hold_for_stage()).
+  std::map<std::string, std::shared_ptr<RepairJob>> stage_waits_;
   std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)

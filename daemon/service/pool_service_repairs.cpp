@@ -68,19 +68,36 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
       retired_.window_closed.push_back(window_closed);
+      chained_checkers_.erase(name);  // before the pool: it reads it
       take_pool_state(state_, name);
       continue;
     }
     std::deque<std::shared_ptr<RepairJob>>& in_flight = repairing_[name];
-    if (!in_flight.empty()) job->after = in_flight.back();
+    const bool behind = !in_flight.empty();
+    if (behind) job->after = in_flight.back();
+    job->stage_mutex = behind ? in_flight.back()->stage_mutex : std::make_shared<std::mutex>();
     in_flight.push_back(job);
     job->engine = &pool;
     if (auto checker = sealed_checkers_.find(name); checker != sealed_checkers_.end()) {
-      job->checker.emplace(std::move(checker->second));
+      if (behind) {
+        // Its stage waits for the repairs before it: the pool's next batches are checked on
+        // top of this checker meanwhile, which then counts this window until it is staged.
+        job->chained = true;
+        job->chained_counts = checker->second.end_window();
+        chained_checkers_.insert_or_assign(name, std::move(checker->second));
+      } else {
+        job->checker.emplace(std::move(checker->second));
+      }
+      sealed_checkers_.erase(checker);
     }
   }
   sealed_seq_before_.clear();
-  sealed_checkers_.clear();  // a retired pool's, and none else
+  // Left: a retired pool's, dropped; and those of pools whose batches in the window were all
+  // refused or held, kept: they may still hold windows that are not staged.
+  for (auto& [name, checker] : sealed_checkers_) {
+    if (!retired.contains(name)) chained_checkers_.insert_or_assign(name, std::move(checker));
+  }
+  sealed_checkers_.clear();
   for (auto& [name, pool_job] : jobs) {
     if (pool_job->engine == nullptr) continue;
     // A copy of the binding to capture (clang 14 cannot capture a structured binding).
@@ -124,16 +141,23 @@ void PoolService::stage_window(RepairJob& job) {
       joined.insert(joined.end(), events.begin(), events.end());
     }
     job.batches_events.clear();
-    job.engine->stage(joined);
+    // The loop checks batches against the pool while its repairs run, never while it stages.
+    const std::lock_guard stage_lock(*job.stage_mutex);
+    try {
+      job.engine->stage(joined);
+    } catch (...) {
+      job.stage_failed = true;
+      throw;
+    }
+    // The sealed window's checker, now that its batches are in the pool's topology: emptied
+    // here, off the loop, it is the next window's (window_pool()) once `staged` says so.
+    if (job.checker) job.checker->clear();
+    job.staged.store(true);  // seq_cst, against the loop's wake_when_staged (waits_for_stage)
   } catch (...) {
     job.failure = std::current_exception();
   }
   job.repair_us = micros_since(start);
   if (job.failure) return;  // the loop waits for the end of the job, and then stops
-  // The sealed window's checker, now that its batches are in the pool's topology: emptied
-  // here, off the loop, it is the next window's (window_pool()).
-  if (job.checker) job.checker->clear();
-  job.staged.store(true);  // seq_cst, against the loop's wake_when_staged (waits_for_engine)
   if (job.wake_when_staged.load() && repair_listener_) repair_listener_();
 }
 
@@ -218,6 +242,14 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     if (job.failure) {
       if (!failure) failure = job.failure;
       continue;
+    }
+    if (job.chained_counts) {  // staged: its counts are the pool's now
+      if (BatchChecker* chain = chain_checker(job.pool)) chain->window_staged(*job.chained_counts);
+      job.chained_counts.reset();
+    }
+    if (const auto wait = stage_waits_.find(job.pool);
+        wait != stage_waits_.end() && wait->second == done_job) {
+      stage_waits_.erase(wait);
     }
     PoolProgress& progress = state_.progress[job.pool];
     progress.record_commit(job.result, job.last_seq, job.batches);

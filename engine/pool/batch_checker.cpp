@@ -53,6 +53,20 @@ class BatchChecker::Overlay {
 
   std::size_t accepted_events() const { return accepted_events_; }
 
+  BatchChecker::CountChange end_window() {
+    const BatchChecker::CountChange change{alive_change_ - window_start_.alive_change,
+                                           edge_change_ - window_start_.edge_change};
+    window_start_ = mark();
+    return change;
+  }
+  // The counts are read as pool + change: the pool's counts now include the window's.
+  void window_staged(const BatchChecker::CountChange& change) {
+    alive_change_ -= change.vertices;
+    edge_change_ -= change.edges;
+    window_start_.alive_change -= change.vertices;
+    window_start_.edge_change -= change.edges;
+  }
+
   // unordered_map::clear keeps the bucket arrays, so the next window does not grow them again;
   // but it also walks them, so tables grown by one big window (a new pool's base graph) are
   // swapped for small ones, or every later clear would pay for that window.
@@ -65,6 +79,7 @@ class BatchChecker::Overlay {
     partner_undo_.clear();
     alive_change_ = 0;
     edge_change_ = 0;
+    window_start_ = Mark{0, 0};
     accepted_events_ = 0;
   }
 
@@ -378,6 +393,7 @@ class BatchChecker::Overlay {
   // edge limit is checked conservatively (edge_count()).
   std::ptrdiff_t edge_change_ = 0;
   std::size_t accepted_events_ = 0;
+  Mark window_start_{0, 0};  // the counts' changes when the current window began (end_window)
 };
 
 BatchChecker::BatchChecker(const Pool& pool) : overlay_(std::make_unique<Overlay>(*pool.state_)) {}
@@ -392,6 +408,10 @@ std::optional<EventError> BatchChecker::accept(std::span<const Event> batch) {
 void BatchChecker::clear() { overlay_->clear(); }
 
 std::size_t BatchChecker::accepted_events() const { return overlay_->accepted_events(); }
+
+BatchChecker::CountChange BatchChecker::end_window() { return overlay_->end_window(); }
+
+void BatchChecker::window_staged(CountChange change) { overlay_->window_staged(change); }
 
 std::optional<EventError> Pool::check(std::span<const Event> batch) const {
   return BatchChecker(*this).accept(batch);

@@ -2,6 +2,7 @@
 // before them, as the daemon's batching window does.
 #include <gtest/gtest.h>
 
+#include <deque>
 #include <optional>
 #include <string>
 #include <random>
@@ -14,6 +15,26 @@
 
 namespace yoke {
 namespace {
+
+// `size` random events over vertex keys 0..max_key: arrivals, edges set (twice as often),
+// unset, departures and holds.
+std::vector<Event> random_events(std::mt19937_64& random, int size, VertexKey max_key) {
+  std::uniform_int_distribution<int> kind(0, 5);
+  std::uniform_int_distribution<VertexKey> key(0, max_key);
+  std::uniform_int_distribution<Weight> weight(-20, 60);
+  std::vector<Event> batch(size);
+  for (Event& event : batch) {
+    switch (kind(random)) {
+      case 0: event = add(key(random)); break;
+      case 1:
+      case 2: event = set(key(random), key(random), weight(random)); break;
+      case 3: event = unset(key(random), key(random)); break;
+      case 4: event = remove(key(random)); break;
+      default: event = hold(key(random), key(random)); break;
+    }
+  }
+  return batch;
+}
 
 // Common knowledge (batch_checker.h): a batch may rely on what earlier accepted batches did.
 TEST(BatchChecker, LaterBatchesSeeEarlierAcceptedOnes) {
@@ -149,23 +170,7 @@ TEST(BatchChecker, AgreesWithCheckingAfterEachCommit) {
 // by check_certificate, the engine's independent referee.
 TEST(BatchChecker, AStagedPoolIsCheckedAsTheCommittedOne) {
   std::mt19937_64 random(20261204);
-  std::uniform_int_distribution<int> kind(0, 5);
-  std::uniform_int_distribution<VertexKey> key(0, 30);
-  std::uniform_int_distribution<Weight> weight(-20, 60);
-  const auto random_batch = [&](int size) {
-    std::vector<Event> batch(size);
-    for (Event& event : batch) {
-      switch (kind(random)) {
-        case 0: event = add(key(random)); break;
-        case 1:
-        case 2: event = set(key(random), key(random), weight(random)); break;
-        case 3: event = unset(key(random), key(random)); break;
-        case 4: event = remove(key(random)); break;
-        default: event = hold(key(random), key(random)); break;
-      }
-    }
-    return batch;
-  };
+  const auto random_batch = [&random](int size) { return random_events(random, size, 30); };
   for (int round = 0; round < 40; ++round) {
     Pool staged(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
     Pool committed(Mode::max_weight, {}, round % 2 == 0 ? 0 : 7);
@@ -196,6 +201,103 @@ TEST(BatchChecker, AStagedPoolIsCheckedAsTheCommittedOne) {
       const CheckResult checked = check_certificate(exported.graph, exported.certificate);
       ASSERT_TRUE(checked.ok) << "round " << round << " step " << step;
     }
+  }
+}
+
+// A checker that goes on checking while the windows it accepted are staged into its pool
+// (batch_checker.h: end_window, window_staged): at a pool of max_edges 3 the counts of a window
+// leave the checker once staged, and before that its edge count over a departure is an upper
+// bound. Reference: Pool::check on a pool that committed the same batches.
+TEST(BatchChecker, AWindowStagedUnderTheCheckerIsCountedOnce) {
+  PoolLimits limits;
+  limits.max_vertices = 5;
+  limits.max_edges = 3;
+  Pool pool(Mode::max_weight, limits);
+  pool.commit(std::vector{set(1, 2, 4)});
+  BatchChecker checker(pool);
+  const std::vector window{set(3, 4, 6), set(2, 3, 1)};
+  EXPECT_FALSE(checker.accept(window));
+  const BatchChecker::CountChange change = checker.end_window();
+  EXPECT_EQ(change, (BatchChecker::CountChange{2, 2}));
+  EXPECT_TRUE(checker.accept(std::vector{set(4, 5, 2)}));  // 4 edges
+  pool.stage(window);
+  checker.window_staged(change);
+  EXPECT_EQ(pool.edge_count(), 3u);
+  // Ends at 3 edges, 5 vertices: counted once, it fits.
+  EXPECT_FALSE(checker.accept(std::vector{unset(1, 2), set(4, 5, 2)}));
+  const auto refused = checker.accept(std::vector{add(6)});
+  ASSERT_TRUE(refused);
+  EXPECT_EQ(refused->code, EventErrorCode::limit_exceeded);
+  pool.repair();
+  // The next window: a departure of a vertex with two edges, not staged.
+  const BatchChecker::CountChange second = checker.end_window();
+  EXPECT_EQ(second, (BatchChecker::CountChange{1, 0}));
+  pool.stage(std::vector{unset(1, 2), set(4, 5, 2)});
+  checker.window_staged(second);
+  pool.repair();
+  EXPECT_FALSE(checker.accept(std::vector{remove(3)}));  // {2,3} and {3,4} go with it
+  const BatchChecker::CountChange departure = checker.end_window();
+  const std::vector<Event> next{set(1, 2, 3), set(1, 5, 1)};
+  EXPECT_TRUE(checker.accept(next));  // the upper bound: 3 + 2 edges
+  pool.stage(std::vector{remove(3)});
+  checker.window_staged(departure);
+  EXPECT_FALSE(checker.accept(next));  // exact once staged: 1 + 2
+  EXPECT_FALSE(pool.check(next));
+  pool.repair();
+  pool.commit(next);
+  EXPECT_EQ(pool.edge_count(), 3u);
+  EXPECT_EQ(pool.vertex_count(), 4u);
+}
+
+// Differential: windows ended and staged at random under one checker (each stage once the
+// repair before it ran, as the daemon's strand does) give, batch by batch, the verdicts and
+// messages of Pool::check on a pool that committed every batch accepted before (no edge limit
+// in reach: its count is an upper bound within a window; the vertex limit is often reached).
+TEST(BatchChecker, WindowsStagedUnderTheCheckerAgreeWithCommitting) {
+  std::mt19937_64 random(20261205);
+  for (int round = 0; round < 60; ++round) {
+    PoolLimits limits;
+    limits.max_vertices = 6;
+    Pool staged(Mode::max_weight, limits);
+    Pool reference(Mode::max_weight, limits);
+    BatchChecker checker(staged);
+    std::vector<Event> open;  // the current window's accepted events
+    std::deque<std::pair<std::vector<Event>, BatchChecker::CountChange>> ended;
+    for (int step = 0; step < 40; ++step) {
+      const std::vector<Event> batch = random_events(random, 1 + step % 4, 9);
+      const std::optional<EventError> want = reference.check(batch);
+      const std::optional<EventError> got = checker.accept(batch);
+      ASSERT_EQ(got.has_value(), want.has_value()) << "round " << round << " step " << step;
+      if (want) {
+        EXPECT_EQ(got->index, want->index);
+        EXPECT_EQ(got->message, want->message);
+      } else {
+        reference.commit(batch);
+        open.insert(open.end(), batch.begin(), batch.end());
+      }
+      if (random() % 3 == 0) {
+        ended.emplace_back(std::move(open), checker.end_window());
+        open.clear();
+      }
+      if (!ended.empty() && random() % 2 == 0) {
+        staged.stage(ended.front().first);
+        checker.window_staged(ended.front().second);
+        ended.pop_front();
+        staged.repair();
+      }
+    }
+    while (!ended.empty()) {
+      staged.stage(ended.front().first);
+      checker.window_staged(ended.front().second);
+      ended.pop_front();
+      staged.repair();
+    }
+    staged.commit(open);
+    EXPECT_EQ(staged.vertex_count(), reference.vertex_count());
+    EXPECT_EQ(staged.edge_count(), reference.edge_count());
+    EXPECT_EQ(staged.weight(), reference.weight());
+    const PoolExport exported = staged.export_certified();
+    ASSERT_TRUE(check_certificate(exported.graph, exported.certificate).ok) << "round " << round;
   }
 }
 

@@ -14,8 +14,10 @@ namespace yoke {
 class Pool;
 
 // Checks consecutive batches against one pool plus the batches it accepted so far. The pool
-// must not change while the checker holds batches: commit the accepted batches, then clear()
-// it (or start a new one).
+// must not change while the checker holds batches, but in one way: the accepted batches of a
+// window (end_window()) may be staged into the pool (Pool::stage) while the checker keeps
+// checking, if window_staged() is told before the checker next reads the pool. Otherwise commit
+// the accepted batches, then clear() it (or start a new one).
 class BatchChecker {
  public:
   explicit BatchChecker(const Pool& pool);
@@ -41,6 +43,22 @@ class BatchChecker {
 
   // Events accepted so far, over all batches.
   std::size_t accepted_events() const;
+
+  // What a window's batches change in the pool's vertex and edge counts, as the checker counts
+  // them (the edges: an upper bound, see accept()).
+  struct CountChange {
+    std::ptrdiff_t vertices = 0;
+    std::ptrdiff_t edges = 0;
+    bool operator==(const CountChange&) const = default;
+  };
+  // Ends a window: the count change of the batches accepted since the last end_window() (or
+  // clear(), or construction). The checker keeps those batches and goes on checking after them.
+  CountChange end_window();
+  // The pool now holds a window ended with end_window() (staged or committed), whose count
+  // change this was: those counts are the pool's now, so they leave the checker's. The
+  // checker's entries of that window stay (they say what the pool says now). Windows in the
+  // order ended. O(1).
+  void window_staged(CountChange change);
 
  private:
   class Overlay;
