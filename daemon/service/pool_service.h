@@ -87,9 +87,10 @@ class PoolService {
   // window, and joins the window. It waits instead, and its answer comes from finish_repairs()
   // (a refusal, a duplicate) or with a later window, while a window of the pool is being staged
   // (a worker writes the topology then), while its latest window in flight, handed over with
-  // nothing of the pool before it, is not staged yet (its checker is the worker's), when its check finds a limit exceeded before the
-  // pool's windows are all staged (the edge count is exact only then), and for a retirement
-  // or in a cluster (then while any repair is in flight).
+  // nothing of the pool before it, is not staged yet (its checker is the worker's), when its
+  // check finds a limit exceeded before the pool's windows are all staged (the edge count is
+  // exact only then), and for a retirement or in a cluster (then while any repair is in
+  // flight).
   std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
 
   // Repairs go to `executor` from now on (nullptr: the inline default). Only while no repair
