@@ -24,7 +24,11 @@ v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
 }  // namespace
 
 PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log)
-    : limits_(config.limits), state_(std::move(state)), routing_(config.cluster), log_(log) {}
+    : limits_(config.limits),
+      max_events_behind_(kWindowsBehind * config.batching.max_events),
+      state_(std::move(state)),
+      routing_(config.cluster),
+      log_(log) {}
 
 bool PoolService::sealed_holds(const std::string& pool) const {
   return std::any_of(sealed_.begin(), sealed_.end(),
@@ -154,6 +158,11 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
     if (waits_for_stage(*wait->second)) return true;
     stage_waits_.erase(wait);
   }
+  // Acknowledged but not yet repaired: past the bound, the pool's batches wait for its repairs
+  // (back-pressure: acknowledgements keep pace with repairs, and memory stays bounded).
+  std::uint64_t behind = 0;
+  for (const std::shared_ptr<RepairJob>& job : jobs->second) behind += job->events;
+  if (behind >= max_events_behind_) return true;
   // The pool's latest window handed over with its checker: staged, so are the jobs before it
   // (one strand). A chained one is checked under the stage lock instead (offer_decoded()).
   RepairJob& last = *jobs->second.back();

@@ -223,6 +223,7 @@ class PoolService {
     // The window's batches of the pool, moved here by the loop; the worker joins them into
     // one commit (the copy and the frees are its, not the loop's).
     std::vector<std::vector<Event>> batches_events;
+    std::uint64_t events = 0;  // in batches_events, kept once they are moved (back-pressure)
     std::uint64_t last_seq = 0;
     std::uint64_t seq_before = 0;
     std::uint64_t batches = 0;
@@ -332,6 +333,10 @@ class PoolService {
   bool sealed_holds(const std::string& pool) const;
 
   InputLimits limits_;
+  // A pool's batches wait (held, unacknowledged) while its windows in flight hold this many
+  // events: kWindowsBehind full windows ([batching] max_events each).
+  static constexpr std::uint64_t kWindowsBehind = 2;
+  std::uint64_t max_events_behind_;
   ServiceState state_;
   PoolRouting routing_;
   storage::CommitLog& log_;

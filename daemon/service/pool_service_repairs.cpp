@@ -48,6 +48,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       job->pool = pending.batch.pool;
       job->window_closed = window_closed;
     }
+    job->events += pending.batch.events.size();
     job->batches_events.push_back(std::move(pending.batch.events));
     job->last_seq = pending.seq;
     ++job->batches;

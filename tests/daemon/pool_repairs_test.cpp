@@ -508,6 +508,48 @@ TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolsPreviousWindowWaitsToBeSt
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
+// Back-pressure: once a pool's windows in flight hold two full windows of events ([batching]
+// max_events 2 here: 4 events), its next batch waits unacknowledged until a repair is collected,
+// then joins a window as usual; nothing is lost or reordered.
+TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
+  DaemonConfig config = testing::test_config({});
+  config.batching.max_events = 2;
+  ServiceHarness harness(config);
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  ASSERT_EQ(service.seal().size(), 1u);
+  service.start_apply();  // 3 events behind
+  ASSERT_TRUE(repairs.release_one("A"));  // window 1 staged; its repair held
+  service.finish_repairs();
+  ASSERT_FALSE(harness.offer({wire_add(3)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 0u);  // 3 < 4: checked and acknowledged with its window
+  ASSERT_EQ(service.seal().size(), 1u);
+  service.start_apply();  // 4 events behind
+  ASSERT_FALSE(harness.offer({wire_add(4), wire_set(3, 4, 7)}, from_client("a", 3, "A")));
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_TRUE(service.seal().empty());  // nothing of it in the window: no acknowledgement yet
+  // Window 1's repair ends: 1 event behind, the batch is checked and joins a window.
+  ASSERT_TRUE(repairs.release_one("A"));
+  PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_EQ(repairs.queued("A"), 2u);
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(accepted_seq(acks[0]), 3u);
+  service.start_apply();
+  while (service.repairs_in_flight()) {
+    repairs.release("A");
+    service.finish_repairs();
+  }
+  EXPECT_EQ(service.progress("A")->seq, 3u);
+  // Edges {1,2}=5, {3,4}=7: both matched (common knowledge: disjoint edges).
+  EXPECT_EQ(service.registry().find("A")->weight(), 12);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+}
+
 // The vertex and edge limits across windows in flight (max_edges 3, max_vertices 4): a
 // window's counts leave the chained checker once it is staged, so a batch that ends at a
 // limit is accepted, and one that ends above it refused with the message of the inline
