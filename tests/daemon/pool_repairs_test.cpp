@@ -66,6 +66,19 @@ class ManualRepairs final : public RepairExecutor {
   std::map<std::string, std::deque<std::function<void()>>> queued_;
 };
 
+// Runs `pool`'s tasks, and the tasks they lead to, until no repair is in flight; the replies
+// finish_repairs() gave on the way.
+std::vector<std::pair<Ticket, v1::Ack>> repair_to_the_end(ManualRepairs& repairs,
+                                                           PoolService& service,
+                                                           const std::string& pool) {
+  std::vector<std::pair<Ticket, v1::Ack>> replies;
+  while (service.repairs_in_flight()) {
+    repairs.release(pool);
+    for (auto& reply : service.finish_repairs().replies) replies.push_back(std::move(reply));
+  }
+  return replies;
+}
+
 std::string summary_request(const std::string& pool) {
   v1::QueryRequest request;
   request.set_version(1);
@@ -498,10 +511,7 @@ TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolsPreviousWindowWaitsToBeSt
   ASSERT_EQ(acks.size(), 1u);
   EXPECT_EQ(accepted_seq(acks[0]), 4u);
   service.start_apply();
-  while (service.repairs_in_flight()) {
-    repairs.release("A");
-    service.finish_repairs();
-  }
+  repair_to_the_end(repairs, service, "A");
   EXPECT_EQ(service.progress("A")->seq, 4u);
   // Edges {1,2}=5, {3,4}=8, {1,4}=20: {1,4} alone outweighs {1,2} with {3,4} (13).
   EXPECT_EQ(service.registry().find("A")->weight(), 20);
@@ -540,10 +550,7 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   ASSERT_EQ(acks.size(), 1u);
   EXPECT_EQ(accepted_seq(acks[0]), 3u);
   service.start_apply();
-  while (service.repairs_in_flight()) {
-    repairs.release("A");
-    service.finish_repairs();
-  }
+  repair_to_the_end(repairs, service, "A");
   EXPECT_EQ(service.progress("A")->seq, 3u);
   // Edges {1,2}=5, {3,4}=7: both matched (common knowledge: disjoint edges).
   EXPECT_EQ(service.registry().find("A")->weight(), 12);
@@ -629,10 +636,7 @@ TEST(PoolRepairs, LimitsAreCountedOnceAcrossAStagedWindow) {
   EXPECT_TRUE(answered.contains(5));
   take(service.seal());
   service.start_apply();
-  while (service.repairs_in_flight()) {
-    repairs.release("A");
-    take(service.finish_repairs().replies);
-  }
+  take(repair_to_the_end(repairs, service, "A"));
   ASSERT_EQ(answered.size(), batches.size());
   for (std::size_t i = 0; i < batches.size(); ++i) {
     EXPECT_EQ(answered[i + 1].DebugString(), expected[i].DebugString()) << "batch " << i + 1;
