@@ -30,4 +30,6 @@ build() {
 }
 
 phase "${label} build" build
-phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 2
+# -j 4 on 2 cores: most of the suite's time is tests waiting on processes they started (daemons,
+# nats-server clusters, Python clients); their COST puts them first (tests/CMakeLists.txt).
+phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 4
