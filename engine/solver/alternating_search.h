@@ -71,7 +71,6 @@ class AlternatingSearch {
     return m == kNoVertex || dual2_[m] == 0 ? kExposedEdge : kFreeEdge;
   }
 
-
   // Lazy duals.
   Weight vertex_dual(Vertex v) const;
   Weight blossom_dual(NodeId b) const;
