@@ -81,6 +81,8 @@ void AlternatingSearch::scan(Vertex v) {
   ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
+  // A plain vertex is a top-level node of its own: no even far end can share it.
+  const bool top_v_is_blossom = !forest_.is_vertex(top_v);
   const std::span<const Incidence> incident = graph_.incident(v);
   // The far ends' search state and duals are scattered reads: ask for all of them before the
   // first is needed, so their misses overlap instead of following one another.
@@ -89,32 +91,46 @@ void AlternatingSearch::scan(Vertex v) {
     __builtin_prefetch(&dual2_[inc.other]);
     __builtin_prefetch(&mate_.values()[inc.other]);  // free_edge_kind reads a free end's mate
   }
+  // queue_free_edge's and queue_edge's tests, written out: most scanned edges fail them, and
+  // they skip the call, the look at the forest and the far end's mate.
   for (const Incidence& inc : incident) {
-    const Weight w = inc.w + weight_offset_;
-    if (w <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
+    const Weight w2 = 2 * (inc.w + weight_offset_);
+    if (w2 <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     // The far end's sign says its top node's label, so most edges need no look at the forest.
     const VertexMark& mark = vertex_mark_[inc.other];
     const int sign = mark.stamp == stamp_ ? mark.sign : 0;
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
-    const Weight dual_x = sign == 0 ? dual2_[inc.other] : dual2_[inc.other] - (delta_ - mark.since);
     if (sign == 0) {
-      queue_free_edge(inc.edge, inc.other, dual_v + dual_x - 2 * w, dual_v);
-    } else if (forest_.top(inc.other) != top_v) {
-      queue_edge(inc.edge, dual_v + dual_x - 2 * w, dual_v + dual_x, kEvenEdge);
+      // slack = dual_v + dual_x - w2 is more than v's reach (dual_v) exactly when dual_x > w2.
+      const Weight dual_x = dual2_[inc.other];
+      if (dual_x > w2) continue;
+      const Weight due = delta_ + dual_v + dual_x - w2;
+      if (due > latest_end_) continue;
+      queue_free_bound(inc.edge, inc.other, due);
+    } else {
+      // Both ends even: the slack falls twice as fast, and never exceeds the ends' reach.
+      const Weight slack = dual_v + dual2_[inc.other] - (delta_ - mark.since) - w2;
+      const Weight due = delta_ + slack / 2;
+      if (due > latest_end_) continue;
+      if (top_v_is_blossom && forest_.top(inc.other) == top_v) continue;
+      bounds_.push(due, inc.edge, kEvenEdge);
     }
   }
 }
 
-AlternatingSearch::BoundKind AlternatingSearch::edge_kind(EdgeIndex e, bool a_even, bool b_even) const {
-  if (a_even && b_even) return kEvenEdge;
-  const Edge& edge = graph_.edge(e);
-  return free_edge_kind(a_even ? edge.b : edge.a);
-}
-
 void AlternatingSearch::queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach) {
   // The same tests as queue_edge's, before the kind is looked up: most scanned edges fail them.
-  if (slack > reach || delta_ + slack > latest_end_) return;
-  bounds_.push(delta_ + slack, e, free_edge_kind(free_end));
+  const Weight due = delta_ + slack;
+  if (slack > reach || due > latest_end_) return;
+  queue_free_bound(e, free_end, due);
+}
+
+void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {
+  // A lone tree ends by the time an edge into an exposed vertex becomes tight: the vertex stays
+  // free and exposed until then (only the tree's end changes the matching) and taking the edge
+  // augments. Bounds due later can never be taken, so none is queued from now on.
+  if (lone_tree_ && mate_[free_end] == kNoVertex) latest_end_ = due;
+  bounds_.push(due, e, free_edge_kind(free_end));
 }
 
 void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind) {
@@ -142,18 +158,21 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
 }
 
 bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
-  if (!may_matter(entry)) return false;
-  if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return true;
+  if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return may_matter(entry);
   // Either end of the edge may have spent time in another state since the push (free after
   // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
-  // exact key when the entry came early or under the other kind.
+  // exact key when the entry came early or under the other kind. The edge and its ends' signs
+  // are read once, for may_matter's test and for this.
   const Edge& e = graph_.edge(entry.id);
-  const bool a_even = is_even_vertex(e.a);
-  const bool b_even = is_even_vertex(e.b);
+  const int sign_a = vertex_sign(e.a);
+  const int sign_b = vertex_sign(e.b);
+  if (!edge_may_matter(e, sign_a, sign_b)) return false;
+  const bool a_even = sign_a < 0;
+  const bool b_even = sign_b < 0;
   const Weight dual_a = vertex_dual(e.a);
   const Weight dual_b = vertex_dual(e.b);
-  const Weight slack = dual_a + dual_b - 2 * weight(entry.id);
-  const BoundKind kind = edge_kind(entry.id, a_even, b_even);
+  const Weight slack = dual_a + dual_b - 2 * (e.w + weight_offset_);
+  const BoundKind kind = a_even && b_even ? kEvenEdge : free_edge_kind(a_even ? e.b : e.a);
   const Weight due = delta_ + (kind == kEvenEdge ? slack / 2 : slack);
   if (due == entry.key && kind == entry.kind) return true;
   queue_edge(entry.id, slack, (a_even ? dual_a : 0) + (b_even ? dual_b : 0), kind);
@@ -176,11 +195,13 @@ bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
     default:
       break;
   }
+  const Edge& e = graph_.edge(entry.id);
+  return edge_may_matter(e, vertex_sign(e.a), vertex_sign(e.b));
+}
+
+bool AlternatingSearch::edge_may_matter(const Edge& e, int sign_a, int sign_b) const {
   // Every transition into an even-free or even-even state queues a fresh entry, except an even
   // end turning free, which relies on the even-even entry: keep exactly those two states.
-  const Edge& e = graph_.edge(entry.id);
-  const int sign_a = vertex_sign(e.a);
-  const int sign_b = vertex_sign(e.b);
   if (sign_a > 0 || sign_b > 0) return false;       // an odd end
   if (sign_a == 0 && sign_b == 0) return false;     // no even end
   if (sign_a < 0 && sign_b < 0) return forest_.top(e.a) != forest_.top(e.b);
@@ -212,6 +233,10 @@ void AlternatingSearch::start_run() {
 void AlternatingSearch::add_root(Vertex root) {
   if (!running_) start_run();
   const NodeId node = forest_.top(root);
+  if (!spare_node_lists_.empty() && tree_nodes_[root].capacity() == 0) {
+    tree_nodes_[root].swap(spare_node_lists_.back());
+    spare_node_lists_.pop_back();
+  }
   label_even(node, kNoVertex, forest_.base(node), root);
   ++live_trees_;
   ++stats_.searches;
@@ -360,7 +385,13 @@ void AlternatingSearch::end_tree(Vertex root) {
     for (std::size_t i = 0; i < kept; ++i) push_edges_to_even(nodes[i]);
   }
   nodes.clear();
-  nodes.shrink_to_fit();
+  // The lists belong to root vertices, so a list kept would hold memory per vertex that ever
+  // was a root: a few go back to the spares for the next trees, the rest are freed.
+  if (spare_node_lists_.size() < kSpareNodeLists) {
+    spare_node_lists_.emplace_back().swap(nodes);
+  } else {
+    nodes.shrink_to_fit();
+  }
   --live_trees_;
 }
 

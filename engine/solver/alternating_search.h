@@ -63,8 +63,6 @@ class AlternatingSearch {
     kFreeEdge = 3,         // an even-to-free edge becomes tight
     kOddBlossomDual = 4,   // an odd blossom's dual reaches 0
   };
-  // The kind of edge e's bound, given which ends are even (at least one is).
-  BoundKind edge_kind(EdgeIndex e, bool a_even, bool b_even) const;
   // The kind of a bound on an edge into free vertex x: kExposedEdge when taking it ends the
   // tree at once (x is exposed, or its mate has dual 0 and would stop the tree as soon as it
   // turns even). A heuristic of order only, read from settled duals (x and its mate are free).
@@ -72,8 +70,6 @@ class AlternatingSearch {
     const Vertex m = mate_[x];
     return m == kNoVertex || dual2_[m] == 0 ? kExposedEdge : kFreeEdge;
   }
-
-  Weight weight(EdgeIndex e) const { return graph_.edge(e).w + weight_offset_; }
 
   // Lazy duals.
   Weight vertex_dual(Vertex v) const;
@@ -102,6 +98,7 @@ class AlternatingSearch {
   void push_edges_to_even(NodeId node);
   void queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind);
   void queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach);
+  void queue_free_bound(EdgeIndex e, Vertex free_end, Weight due);  // past queue_free_edge's tests
   void grow_along(EdgeIndex e);
   void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
   NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
@@ -122,6 +119,7 @@ class AlternatingSearch {
   // False for entries that can never become due again in the current state's future (still_due
   // would drop them without requeueing). No side effects.
   bool may_matter(const RadixHeap::Entry& entry) const;
+  bool edge_may_matter(const Edge& e, int sign_a, int sign_b) const;  // its part for edge entries
   void compact_bounds_if_bloated();
 
   const Graph& graph_;
@@ -158,6 +156,10 @@ class AlternatingSearch {
   std::vector<Vertex> tree_inner_;
   std::vector<Vertex> tree_of_;            // per node: the root vertex of its tree
   std::vector<std::vector<NodeId>> tree_nodes_;  // per root vertex: nodes labelled in its tree
+  // Emptied lists of ended trees, their memory reused by the next roots (a pool's repair starts
+  // one tree after another: without them, each tree's list grew from nothing again).
+  std::vector<std::vector<NodeId>> spare_node_lists_;
+  static constexpr std::size_t kSpareNodeLists = 4;
   std::size_t live_trees_ = 0;
   // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
   // key of its even vertices' dual bounds), and queues no bound due after it.

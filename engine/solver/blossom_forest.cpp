@@ -6,6 +6,14 @@
 
 namespace yoke {
 
+NodeId BlossomForest::climb_to_top(Vertex v) const {
+  TopCache& cache = top_[v];
+  NodeId node = version_[cache.node] == cache.version ? cache.node : v;
+  while (parent_[node] != kNoNode) node = parent_[node];
+  cache = {node, version_[node]};
+  return node;
+}
+
 BlossomForest::BlossomForest(std::size_t vertex_count)
     : vertex_count_(vertex_count),
       parent_(2 * vertex_count, kNoNode),

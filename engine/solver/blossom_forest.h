@@ -40,14 +40,13 @@ class BlossomForest {
   // its slot had then; forming a blossom does not touch its vertices, and neither does
   // dissolve(): a cached blossom dissolved since (its slot's version moved on) sends the lookup
   // back to v itself. The next lookup climbs the levels above and remembers the result.
-  NodeId top(Vertex v) const {
-    TopCache& cache = top_[v];
-    NodeId node = cache.node;
-    if (version_[node] != cache.version) node = v;
-    if (parent_[node] == kNoNode && node == cache.node) return node;
-    while (parent_[node] != kNoNode) node = parent_[node];
-    cache = {node, version_[node]};
-    return node;
+  // Forced inline: the search calls it per scanned edge, and in a unity build's large units
+  // GCC's inlining budget runs out before it gets there.
+  [[gnu::always_inline]] NodeId top(Vertex v) const {
+    // The common case: the cache still names a top-level node. The climb is out of line.
+    const TopCache cache = top_[v];
+    if (version_[cache.node] == cache.version && parent_[cache.node] == kNoNode) return cache.node;
+    return climb_to_top(v);
   }
   Vertex base(NodeId node) const { return base_[node]; }
   Weight dual2(NodeId node) const { return dual2_[node]; }
@@ -152,6 +151,7 @@ class BlossomForest {
   std::vector<NodeId> path_;          // scratch for dissolve_path
   std::vector<NodeId> nest_;          // scratch for dissolve_unpriced_nest
 
+  NodeId climb_to_top(Vertex v) const;  // top()'s climb, which also refreshes v's cache
   void free_slot(NodeId b);  // b's children are already detached
   void reset_top_caches();  // every vertex's cache back to itself
 

@@ -41,14 +41,13 @@ class RadixHeap {
   std::uint64_t pushes() const { return pushes_; }
 
   // Preconditions: key >= the key of the last top(); key < 2^57; kind < 8.
-  void push(Weight key, std::uint32_t id, std::uint32_t kind) {
+  // Forced inline, as BlossomForest::top: the search pushes from its per-edge loop.
+  [[gnu::always_inline]] void push(Weight key, std::uint32_t id, std::uint32_t kind) {
     // A kind that ranks before the one just taken, at the same key, is simply due next.
     const Weight order = key * kKinds + static_cast<Weight>(kind);
-    if (order < last_) {
-      late_.push_back(Slot::make(last_, id, kind));
-    } else {
-      buckets_[bucket_of(order)].push_back(Slot::make(order, id, kind));
-    }
+    const bool late = order < last_;
+    std::vector<Slot>& to = late ? late_ : buckets_[bucket_of(order)];
+    to.push_back(Slot::make(late ? last_ : order, id, kind));
     ++size_;
     ++pushes_;
   }

@@ -135,6 +135,22 @@ TEST(AlternatingSearchOrder, ZeroDualMateAtTheLevelIsTakenBeforeTheBranches) {
   EXPECT_EQ(solved.stats.scans, 2u);  // r, then z (even at dual 0: the tree ends)
 }
 
+// A lone tree ends at the latest when an edge into an exposed vertex turns tight, so once such
+// an edge is queued, bounds due later are not: here r - e (due at 2) is r's first edge, and none
+// of the 40 branch edges behind it (due at 4) is queued. Only r's own dual bound and r - e are.
+TEST(AlternatingSearchFreeBounds, NothingDueAfterAnExposedVertexIsQueued) {
+  Star s = star(/*branches=*/40, /*chain_pairs=*/2, /*root_dual2=*/10, /*branch_slack2=*/4);
+  const auto e = static_cast<Vertex>(s.mate.size());
+  s.mate.push_back(kNoVertex);
+  s.dual2.push_back(0);
+  s.edges.insert(s.edges.begin(), Edge{0, e, 4});  // slack2 = 10 + 0 - 8 = 2, listed first
+  const Solved solved = search_from_root(s);
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], e);
+  EXPECT_EQ(solved.stats.scans, 1u);
+  EXPECT_EQ(solved.stats.heap_pushes, 2u);  // before this rule: 42, one per branch as well
+}
+
 // Two edges into one free vertex: the worse one (r - x, due at 8) is queued first, the better
 // one (y - x, due at 6) only once y has turned even at 2. The tree must take y - x, or y - x
 // would go negative before r - x comes due. (A filter keeping one queued bound per free vertex
