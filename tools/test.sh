@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Sets up the machine, builds yoke (Release) and runs every test suite under CTest.
 #   tools/test.sh            # build in build/ and test
-#   tools/test.sh --sanitize # the same with AddressSanitizer + UBSan, in build-sanitize/
+#   tools/test.sh --sanitize # the same with AddressSanitizer + UBSan, built by clang, in build-sanitize/
 # Both build each target as a few large units (CMAKE_UNITY_BUILD: about 3x faster from clean);
 # a build configured by hand compiles file by file, which also catches a missing #include.
 set -euo pipefail
@@ -15,7 +15,10 @@ if [[ "${1:-}" == "--sanitize" ]]; then
   build_dir=build-sanitize
   label=sanitize
   # -O1: the sanitizers' own checks dominate the run time; line tables (-g1) are enough for
-  # their stack traces. No benchmarks: they measure nothing under a sanitizer.
+  # their stack traces. No benchmarks: they measure nothing under a sanitizer. clang: it builds
+  # this tree in ~40% of GCC's time and runs its tests faster (both measured on 2 cores), and a
+  # second compiler's warnings come with it.
+  export CC=clang CXX=clang++
   cmake_args=(-G Ninja -DCMAKE_BUILD_TYPE=RelWithDebInfo "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=-O1 -g1"
               -DYOKE_SANITIZE=ON -DYOKE_BUILD_BENCH=OFF -DCMAKE_UNITY_BUILD=ON)
   export ASAN_OPTIONS=detect_leaks=1:abort_on_error=1
