@@ -216,7 +216,9 @@ void PoolService::count_off_staged(const std::deque<std::shared_ptr<RepairJob>>&
 
 BatchChecker* PoolService::chain_checker(const std::string& pool) {
   if (const auto it = window_pools_.find(pool); it != window_pools_.end()) return &it->second.checker;
-  if (const auto it = syncing_checkers_.find(pool); it != syncing_checkers_.end()) return &it->second;
+  if (const auto it = syncing_checkers_.find(pool); it != syncing_checkers_.end()) {
+    return &it->second;
+  }
   if (const auto it = sealed_checkers_.find(pool); it != sealed_checkers_.end()) return &it->second;
   if (const auto it = chained_checkers_.find(pool); it != chained_checkers_.end()) return &it->second;
   return nullptr;
@@ -376,7 +378,8 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
       if (answer.seq > journalled_seq(batch.pool)) {  // not durable yet: answered once it is
         const auto syncing = syncing_last_seq_.find(batch.pool);
         const bool in_syncing = syncing != syncing_last_seq_.end() && answer.seq <= syncing->second;
-        (in_syncing ? syncing_duplicates_ : waiting_duplicates_).emplace_back(ticket, std::move(ack));
+        auto& waiting = in_syncing ? syncing_duplicates_ : waiting_duplicates_;
+        waiting.emplace_back(ticket, std::move(ack));
         return std::optional<v1::Ack>();
       }
       return std::optional<v1::Ack>(std::move(ack));

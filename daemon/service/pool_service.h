@@ -171,8 +171,9 @@ class PoolService {
   // When the window will never be sealed (seal() threw: the log failed, or the daemon stops
   // without closing it): refuses every batch of the syncing window (begin_seal() without its
   // end_seal()) and of the open window and every waiting retry with `error` (UNAVAILABLE) and
-  // empties both windows, and so every batch waiting for its pool's repair. Nothing is applied. The retry ledger still
-  // names those batches, so the service must take no more batches after it. O(window).
+  // empties both windows, and so every batch waiting for its pool's repair. Nothing is
+  // applied. The retry ledger still names those batches, so the service must take no more
+  // batches after it. O(window).
   std::vector<std::pair<Ticket, v1::Ack>> refuse_window(const v1::Error& error);
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order:
