@@ -21,11 +21,13 @@ void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_p
   ended_ = done->get_future();
   auto window = std::make_shared<std::vector<v1::JournalRecord>>(std::move(records));
   boost::asio::post(thread_, [this, window, done, result = result_] {
+    const Clock::time_point start = Clock::now();
     try {
       result->committed = log_.commit(std::move(*window));
     } catch (...) {
       result->failure = std::current_exception();
     }
+    result->took = Clock::now() - start;
     window->clear();  // the records' memory is freed here, not on the loop
     done->set_value();
     if (wake_) wake_();

@@ -31,6 +31,7 @@ class JournalThread {
     storage::CommittedWindow committed;
     std::exception_ptr failure;  // commit() threw: nothing of the window may be acknowledged
     Clock::time_point closed;    // commit()'s argument, handed back
+    Clock::duration took{};      // of commit() alone, on this thread
   };
 
   // `log` must outlive the thread. `wake` runs on this thread when a commit ends (post to the

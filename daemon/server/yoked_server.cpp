@@ -261,7 +261,7 @@ void YokedServer::close_window() {
     on_commit_failed(error);
     return;
   }
-  after_seal(closed, std::move(acks), lost);
+  after_seal(closed, Clock::now() - closed, std::move(acks), lost);
 }
 
 void YokedServer::on_commit_failed(const std::exception& error) {
@@ -293,7 +293,7 @@ void YokedServer::on_window_synced() {
     }
     return;
   }
-  after_seal(synced->closed, service_.end_seal(synced->committed), {});
+  after_seal(synced->closed, synced->took, service_.end_seal(synced->committed), {});
   if (stopping_ || finishing_sync_ || service_.window_empty()) return;
   // Due while this one synced (its timer, max_events or a retirement): it closes now.
   if (close_after_sync_ || service_.window_events() >= config_.batching.max_events ||
@@ -312,10 +312,10 @@ void YokedServer::finish_sync() {
   if (close_after_sync_ && !stopping_) arm_window_timer();  // not closed by the completion
 }
 
-void YokedServer::after_seal(Clock::time_point closed,
+void YokedServer::after_seal(Clock::time_point closed, Clock::duration sync_took,
                              std::vector<std::pair<Ticket, v1::Ack>> acks,
                              const std::vector<std::string>& lost) {
-  metrics_->journal_synced(Clock::now() - closed, acks.size());
+  metrics_->journal_synced(sync_took, acks.size());
   if (cluster_ != nullptr && !lost.empty()) {
     settle();
     cluster_->lost(service_, lost, Clock::now());

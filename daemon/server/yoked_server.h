@@ -93,7 +93,9 @@ class YokedServer {
   void on_window_synced();
   // What follows a window's commit: metrics, lost pools (cluster), acks, the repairs handed
   // over, and a snapshot after `after_events`.
-  void after_seal(Clock::time_point closed, std::vector<std::pair<Ticket, v1::Ack>> acks,
+  // `sync_took`: the commit's time (yoke_journal_sync_seconds).
+  void after_seal(Clock::time_point closed, Clock::duration sync_took,
+                  std::vector<std::pair<Ticket, v1::Ack>> acks,
                   const std::vector<std::string>& lost);
   // The log could not store a window: the cluster's path (its pools read again and claimed
   // anew) or the journal's (stop, journal_failed).
