@@ -479,7 +479,10 @@ void YokedServer::snapshot_in_background() {
   // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
   snapshotting_ = true;
   close_window();
-  finish_sync();  // the snapshot is named by the log's end, which is the loop's again then
+  // The snapshot is named by the log's end, the loop's again once the sync is over. A window
+  // that waited for a sync in flight stays open: its marks are above its pools' seqs, which
+  // the snapshot leaves out (snapshot_mark), and its pools' states do not hold it yet.
+  finish_sync();
   snapshotting_ = false;
   if (journal_failed_ || stopping_) return;
   background_->start();
