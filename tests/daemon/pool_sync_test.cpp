@@ -55,11 +55,7 @@ class PoolSyncTest : public ::testing::Test {
 
   static DaemonConfig config() {
     DaemonConfig config = testing::test_config({});
-    PoolSettings tiny;
-    tiny.limits.max_vertices = 4;
-    tiny.limits.max_edges = 3;
-    tiny.limits.max_abs_weight = 1000;
-    config.pools["tiny"] = tiny;
+    config.pools["tiny"] = testing::tiny_pool_settings();
     return config;
   }
 

@@ -230,36 +230,23 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
 
 // The local journal behind a latch: its first commit() waits (on the journal thread) until the
 // test opens it, and says when it began.
-class HeldCommitLog : public storage::CommitLog {
+class HeldCommitLog : public testing::ForwardingCommitLog {
  public:
-  explicit HeldCommitLog(storage::CommitLog& log) : log_(log), opened_(latch.get_future()) {}
+  explicit HeldCommitLog(storage::CommitLog& log)
+      : ForwardingCommitLog(log), opened_(latch.get_future()) {}
 
-  std::string describe() const override { return log_.describe(); }
-  storage::Position first_position(std::string_view pool) const override {
-    return log_.first_position(pool);
-  }
-  std::unique_ptr<storage::GroupReader> read_from(storage::Position from,
-                                                  std::string_view pool) override {
-    return log_.read_from(from, pool);
-  }
-  storage::Position end_position() const override { return log_.end_position(); }
-  void continue_from(storage::Position position) override { log_.continue_from(position); }
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
     if (commits_++ == 0) {
       began.set_value();
       opened_.wait();
     }
-    return log_.commit(std::move(window));
-  }
-  std::size_t drop_before(storage::Position position) override {
-    return log_.drop_before(position);
+    return ForwardingCommitLog::commit(std::move(window));
   }
 
   std::promise<void> latch;
   std::promise<void> began;
 
  private:
-  storage::CommitLog& log_;
   std::future<void> opened_;
   int commits_ = 0;  // the journal thread's alone
 };
