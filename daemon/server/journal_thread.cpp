@@ -15,6 +15,7 @@ JournalThread::~JournalThread() { thread_.join(); }
 void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_point closed) {
   if (busy_) throw std::logic_error("a window is syncing already: one at a time");
   busy_ = true;
+  ended_flag_.store(false, std::memory_order_relaxed);  // no commit runs: nobody else writes it
   result_ = std::make_shared<Synced>();
   result_->closed = closed;
   auto done = std::make_shared<std::promise<void>>();
@@ -30,6 +31,7 @@ void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_p
     result->took = Clock::now() - start;
     window->clear();  // the records' memory is freed here, not on the loop
     done->set_value();
+    ended_flag_.store(true, std::memory_order_release);
     if (wake_) wake_();
   });
 }

@@ -9,6 +9,7 @@
 // when it is not busy (wait() for it first). take() synchronizes with the commit's end.
 #pragma once
 
+#include <atomic>
 #include <chrono>
 #include <exception>
 #include <functional>
@@ -43,6 +44,9 @@ class JournalThread {
 
   // A window was handed over and its result is not taken yet.
   bool busy() const { return busy_; }
+  // Busy, and the commit has ended: take() returns its result. One atomic load, so the loop
+  // may ask between messages instead of waiting for `wake`'s turn behind a burst of them.
+  bool ready() const { return busy_ && ended_flag_.load(std::memory_order_acquire); }
   // Hands the window's records over for one commit(). Not while busy() (std::logic_error).
   void commit(std::vector<v1::JournalRecord> records, Clock::time_point closed);
   // Blocks until the window handed over is durable or has failed (nothing when not busy()).
@@ -56,6 +60,7 @@ class JournalThread {
   boost::asio::thread_pool thread_{1};
   bool busy_ = false;
   std::future<void> ended_;
+  std::atomic<bool> ended_flag_{false};  // set with ended_, before `wake`
   std::shared_ptr<Synced> result_;
 };
 

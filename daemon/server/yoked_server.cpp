@@ -164,6 +164,11 @@ int YokedServer::run() {
 }
 
 void YokedServer::on_ingest_message() {
+  // A window synced meanwhile: its acks go now, not after the rest of this burst of messages.
+  if (journal_ != nullptr && !stopping_ && journal_->ready()) {
+    on_window_synced();
+    if (stopping_) return;  // its journal failed: the stop answered the queued messages
+  }
   Envelope frames;
   if (!zmq::recv_multipart(ingest_, std::back_inserter(frames), zmq::recv_flags::dontwait)) return;
   metrics_->ingest_message();
