@@ -199,6 +199,14 @@ void YokedServer::on_ingest_message() {
   // A retirement ends its window: the pool's next batch must find it gone.
   if (service_.window_events() >= config_.batching.max_events || service_.retire_waiting()) {
     close_window();
+    if (journal_ != nullptr && journal_->busy() &&
+        service_.window_events() >= config_.batching.max_events) {
+      // Full while the window before it syncs: nothing more is read until that sync ends
+      // (ZeroMQ's queue holds the rest, as when the loop synced itself), so a window stays
+      // near max_events and a stuck disk cannot grow it without bound.
+      ingest_watcher_->stop();
+      ingest_paused_ = true;
+    }
   } else {
     arm_window_timer();
   }
@@ -299,11 +307,16 @@ void YokedServer::on_window_synced() {
     return;
   }
   after_seal(synced->closed, synced->took, service_.end_seal(synced->committed), {});
-  if (stopping_ || finishing_sync_ || service_.window_empty()) return;
+  if (stopping_) return;
   // Due while this one synced (its timer, max_events or a retirement): it closes now.
-  if (close_after_sync_ || service_.window_events() >= config_.batching.max_events ||
-      service_.retire_waiting()) {
+  if (!finishing_sync_ && !service_.window_empty() &&
+      (close_after_sync_ || service_.window_events() >= config_.batching.max_events ||
+       service_.retire_waiting())) {
     close_window();
+  }
+  if (ingest_paused_) {
+    ingest_paused_ = false;
+    ingest_watcher_->start();
   }
 }
 

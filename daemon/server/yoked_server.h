@@ -172,6 +172,7 @@ class YokedServer {
   bool window_timer_armed_ = false;
   bool close_after_sync_ = false;  // the window was due while the previous one synced
   bool finishing_sync_ = false;     // finish_sync(): the next window waits for its timer
+  bool ingest_paused_ = false;      // the window is full while another syncs: not read
   bool snapshotting_ = false;  // take_snapshot() is settling the windows
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot

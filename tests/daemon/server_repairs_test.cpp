@@ -252,11 +252,12 @@ class HeldCommitLog : public testing::ForwardingCommitLog {
 };
 
 // While a window syncs (its commit held), the loop answers queries and takes the next window's
-// batches, checked on top of the syncing one; the acknowledgements come once each is durable,
-// in window order.
-TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) {
+// batches, checked on top of the syncing one (with max_events 1, it reads no further once the
+// next window is full); the acknowledgements come once each is durable, in window order.
+void serve_while_a_window_syncs(std::uint64_t max_events) {
   testing::TempDir dir;
-  const DaemonConfig config = server_config(dir.path());
+  DaemonConfig config = server_config(dir.path());
+  config.batching.max_events = max_events;
   auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
   HeldCommitLog log(*journal);
   SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
@@ -302,6 +303,12 @@ TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) {
   EXPECT_EQ(service.registry().find("A")->vertex_count(), 1u);
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+}
+
+TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) { serve_while_a_window_syncs(10000); }
+
+TEST(ServerRepairs, AFullWindowWaitsUnreadWhileTheOneBeforeSyncs) {
+  serve_while_a_window_syncs(1);
 }
 
 // [service] worker_nice reaches the server's repair workers: a task reads its own thread's
