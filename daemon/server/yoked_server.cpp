@@ -112,10 +112,15 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
         [this](const std::string& pool, const PoolService::EngineCapture* engine) {
           background_->pool_collected(pool, engine);
         });
+    // The cluster's log keeps its commits on the loop: the cluster part reads and writes it
+    // between windows (claims, epochs), which a commit on another thread would race.
+    journal_ = std::make_unique<JournalThread>(
+        service_.log(), [this] { boost::asio::post(io_, [this] { on_window_synced(); }); });
   }
 }
 
 YokedServer::~YokedServer() {
+  journal_.reset();  // a commit in flight ends first (a stop has waited for it already)
   repairs_->join();  // the repairs in flight end on the service's state, which outlives us
   service_.set_collect_listener(nullptr);  // no snapshot starts its write from here
   try {
@@ -159,6 +164,11 @@ int YokedServer::run() {
 }
 
 void YokedServer::on_ingest_message() {
+  // A window synced meanwhile: its acks go now, not after the rest of this burst of messages.
+  if (journal_ != nullptr && !stopping_ && journal_->ready()) {
+    on_window_synced();
+    if (stopping_) return;  // its journal failed: the stop answered the queued messages
+  }
   Envelope frames;
   if (!zmq::recv_multipart(ingest_, std::back_inserter(frames), zmq::recv_flags::dontwait)) return;
   metrics_->ingest_message();
@@ -189,6 +199,14 @@ void YokedServer::on_ingest_message() {
   // A retirement ends its window: the pool's next batch must find it gone.
   if (service_.window_events() >= config_.batching.max_events || service_.retire_waiting()) {
     close_window();
+    if (journal_ != nullptr && journal_->busy() &&
+        service_.window_events() >= config_.batching.max_events) {
+      // Full while the window before it syncs: nothing more is read until that sync ends
+      // (ZeroMQ's queue holds the rest, as when the loop synced itself), so a window stays
+      // near max_events and a stuck disk cannot grow it without bound.
+      ingest_watcher_->stop();
+      ingest_paused_ = true;
+    }
   } else {
     arm_window_timer();
   }
@@ -236,30 +254,86 @@ void YokedServer::close_window() {
     window_timer_armed_ = false;
   }
   if (service_.window_empty()) return;
+  if (journal_ != nullptr && journal_->busy()) {
+    close_after_sync_ = true;  // one window syncs at a time: this one follows it
+    return;
+  }
+  close_after_sync_ = false;
   const Clock::time_point closed = Clock::now();
   events_since_snapshot_ += service_.window_events();
+  if (journal_ != nullptr) {
+    // Written and synced on the journal thread; on_window_synced() continues on the loop.
+    journal_->commit(service_.begin_seal(), closed);
+    return;
+  }
   std::vector<std::pair<Ticket, v1::Ack>> acks;
   std::vector<std::string> lost;  // pools whose windows the shared log no longer counts
   try {
     acks = service_.seal(&lost);
   } catch (const std::exception& error) {
-    if (cluster_ != nullptr) {
-      // A replicated log that did not answer in time (a leader election): the window's fate
-      // is unknown, so its pools are read from the log again and claimed anew; the batches
-      // are refused (NOT_OWNER, retry) and their retries answered by the ledger later.
-      log_event(LogLevel::error, "log_commit_failed", {{"reason", error.what()}});
-      settle();  // the cluster part gives up every pool: no worker may hold one
-      send_acks(cluster_->commit_failed(service_, Clock::now()));
-      return;
-    }
-    // Nothing of this window is acknowledged: its batches get UNAVAILABLE (shut_down), and
-    // the journal has cut them (journal.h); recovery keeps the acknowledged windows.
-    log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
-    journal_failed_ = true;
-    shut_down(kYokedFailure);
+    on_commit_failed(error);
     return;
   }
-  metrics_->journal_synced(Clock::now() - closed, acks.size());
+  after_seal(closed, Clock::now() - closed, std::move(acks), lost);
+}
+
+void YokedServer::on_commit_failed(const std::exception& error) {
+  if (cluster_ != nullptr) {
+    // A replicated log that did not answer in time (a leader election): the window's fate
+    // is unknown, so its pools are read from the log again and claimed anew; the batches
+    // are refused (NOT_OWNER, retry) and their retries answered by the ledger later.
+    log_event(LogLevel::error, "log_commit_failed", {{"reason", error.what()}});
+    settle();  // the cluster part gives up every pool: no worker may hold one
+    send_acks(cluster_->commit_failed(service_, Clock::now()));
+    return;
+  }
+  // Nothing of this window is acknowledged: its batches get UNAVAILABLE (shut_down), and
+  // the journal has cut them (journal.h); recovery keeps the acknowledged windows.
+  log_event(LogLevel::critical, "journal_failed", {{"reason", error.what()}});
+  journal_failed_ = true;
+  shut_down(kYokedFailure);
+}
+
+void YokedServer::on_window_synced() {
+  if (stopping_) return;  // a stop waits for the sync first: nothing is left to take
+  std::optional<JournalThread::Synced> synced = journal_->take();
+  if (!synced) return;  // taken already (finish_sync()), or still syncing
+  if (synced->failure) {
+    try {
+      std::rethrow_exception(synced->failure);
+    } catch (const std::exception& error) {
+      on_commit_failed(error);
+    }
+    return;
+  }
+  after_seal(synced->closed, synced->took, service_.end_seal(synced->committed), {});
+  if (stopping_) return;
+  // Due while this one synced (its timer, max_events or a retirement): it closes now.
+  if (!finishing_sync_ && !service_.window_empty() &&
+      (close_after_sync_ || service_.window_events() >= config_.batching.max_events ||
+       service_.retire_waiting())) {
+    close_window();
+  }
+  if (ingest_paused_) {
+    ingest_paused_ = false;
+    ingest_watcher_->start();
+  }
+}
+
+void YokedServer::finish_sync() {
+  if (journal_ == nullptr || !journal_->busy()) return;
+  journal_->wait();
+  const bool outer = finishing_sync_;  // a snapshot its completion starts finishes one too
+  finishing_sync_ = true;
+  on_window_synced();
+  finishing_sync_ = outer;
+  if (close_after_sync_ && !stopping_) arm_window_timer();  // not closed by the completion
+}
+
+void YokedServer::after_seal(Clock::time_point closed, Clock::duration sync_took,
+                             std::vector<std::pair<Ticket, v1::Ack>> acks,
+                             const std::vector<std::string>& lost) {
+  metrics_->journal_synced(sync_took, acks.size());
   if (cluster_ != nullptr && !lost.empty()) {
     settle();
     cluster_->lost(service_, lost, Clock::now());
@@ -338,6 +412,7 @@ void YokedServer::answer_held_queries() {
 }
 
 void YokedServer::settle() {
+  finish_sync();
   service_.wait_repairs();
   on_repairs_finished();  // a failed repair stops the daemon here too
 }
@@ -422,6 +497,10 @@ void YokedServer::snapshot_in_background() {
   // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
   snapshotting_ = true;
   close_window();
+  // The snapshot is named by the log's end, the loop's again once the sync is over. A window
+  // that waited for a sync in flight stays open: its marks are above its pools' seqs, which
+  // the snapshot leaves out (snapshot_mark), and its pools' states do not hold it yet.
+  finish_sync();
   snapshotting_ = false;
   if (journal_failed_ || stopping_) return;
   background_->start();
@@ -429,6 +508,10 @@ void YokedServer::snapshot_in_background() {
 
 void YokedServer::on_snapshot_written() {
   if (background_ == nullptr) return;
+  // The log is the journal thread's while a window syncs (drop_before below); first, so that
+  // the completion's snapshot trigger finds this one still busy.
+  finish_sync();
+  if (stopping_) return;
   std::optional<BackgroundSnapshot::Written> written = background_->take_result();
   if (!written) return;
   if (written->failure) {
@@ -526,7 +609,8 @@ void YokedServer::arm_snapshot_timer() {
     if (error || stopping_) return;
     try {
       // Idle since the last snapshot: the newest file already holds this state.
-      if (!service_.window_empty() || last_snapshot_position_ != service_.next_journal_position()) {
+      if (!service_.window_empty() || service_.syncing() ||
+          last_snapshot_position_ != service_.next_journal_position()) {
         snapshot_in_background();
       }
     } catch (const std::exception& failure) {

@@ -2,10 +2,12 @@
 // ROUTER, publish PUB, query ROUTER), the batching-window and snapshot timers, the signals and
 // the metrics HTTP endpoint. All of that runs on the one thread that calls run(); the pools'
 // repairs run on worker threads (RepairThreads: a strand per pool), which wake the loop when
-// one is done. The PoolService holds the state and never sees a socket; a query about a pool
-// whose repair is in flight waits for it, the others are answered at once. Snapshots go to a snapshot store and
-// the commit log is trimmed below the oldest one kept, both through their interfaces
-// (daemon/storage/), whichever backend holds them.
+// one is done. With the local journal, a sealed window is written and synced on a thread of its
+// own (JournalThread) while the loop takes the next window's batches; the loop sends the
+// acknowledgements when that thread wakes it. The PoolService holds the state and never sees a
+// socket; a query about a pool whose repair is in flight waits for it, the others are answered
+// at once. Snapshots go to a snapshot store and the commit log is trimmed below the oldest one
+// kept, both through their interfaces (daemon/storage/), whichever backend holds them.
 #pragma once
 
 #include <chrono>
@@ -27,6 +29,7 @@
 #include "daemon/service/query_handler.h"
 #include "daemon/storage/snapshot_store.h"
 #include "background_snapshot.h"
+#include "journal_thread.h"
 #include "repair_threads.h"
 #include "zmq_socket_watcher.h"
 
@@ -64,6 +67,7 @@ class YokedServer {
   RepairThreads& repair_threads() { return *repairs_; }
 
  private:
+  using Clock = std::chrono::steady_clock;
   using Envelope = std::vector<zmq::message_t>;
   struct HeldQuery {
     Envelope envelope;
@@ -77,9 +81,25 @@ class YokedServer {
   // that joined it.
   void handle_repairs(PoolService::RepairsDone done);
   void answer_held_queries();
-  // Waits for every repair in flight and handles it: no worker then touches a pool until the
-  // next window closes. Blocks the loop for the longest repair in flight.
+  // Waits for the window syncing (finish_sync()) and every repair in flight, and handles them:
+  // no worker then touches a pool, nor the journal thread the log, until the next window
+  // closes. Blocks the loop for the longest repair in flight.
   void settle();
+  // Waits for the window syncing on the journal thread, if any, and does what follows its
+  // commit (on_window_synced()), without closing the next window: the log is the loop's again.
+  void finish_sync();
+  // The journal thread's commit ended: acks and repairs of the window (after_seal()), or the
+  // stop after a failed journal; then the next window closes if it waited for this sync.
+  void on_window_synced();
+  // What follows a window's commit: metrics, lost pools (cluster), acks, the repairs handed
+  // over, and a snapshot after `after_events`.
+  // `sync_took`: the commit's time (yoke_journal_sync_seconds).
+  void after_seal(Clock::time_point closed, Clock::duration sync_took,
+                  std::vector<std::pair<Ticket, v1::Ack>> acks,
+                  const std::vector<std::string>& lost);
+  // The log could not store a window: the cluster's path (its pools read again and claimed
+  // anew) or the journal's (stop, journal_failed).
+  void on_commit_failed(const std::exception& error);
   // settle() until no repair is in flight and the window is empty (every batch that waited
   // for a repair sealed and applied): the state a snapshot or the cluster part reads.
   void settle_all();
@@ -92,7 +112,7 @@ class YokedServer {
   void arm_window_timer();
   void close_window();
   void send_acks(std::vector<std::pair<Ticket, v1::Ack>> acks);
-  void publish(v1::Diff& diff, std::chrono::steady_clock::time_point closed);
+  void publish(v1::Diff& diff, Clock::time_point closed);
   // A snapshot now (query.proto, SnapshotRequest): of every pool, or with `only_pool` one pool.
   // The local store keeps every pool at one journal position (recovery needs that), so there
   // the file holds every pool and `only_pool` narrows the reply; the cluster backend stores
@@ -134,6 +154,7 @@ class YokedServer {
   std::unique_ptr<RepairThreads> repairs_;
   std::map<std::string, std::vector<HeldQuery>> held_queries_;  // by the pool being repaired
   std::unique_ptr<BackgroundSnapshot> background_;  // local backend only; posts to io_
+  std::unique_ptr<JournalThread> journal_;  // local backend only; posts to io_
   zmq::context_t zmq_context_;
   zmq::socket_t ingest_;
   zmq::socket_t publisher_;
@@ -149,6 +170,9 @@ class YokedServer {
   std::unique_ptr<metrics::HttpEndpoint> http_;
 
   bool window_timer_armed_ = false;
+  bool close_after_sync_ = false;  // the window was due while the previous one synced
+  bool finishing_sync_ = false;     // finish_sync(): the next window waits for its timer
+  bool ingest_paused_ = false;      // the window is full while another syncs: not read
   bool snapshotting_ = false;  // take_snapshot() is settling the windows
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot

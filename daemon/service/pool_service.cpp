@@ -31,7 +31,8 @@ PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage
       log_(log) {}
 
 bool PoolService::sealed_holds(const std::string& pool) const {
-  return std::any_of(sealed_.begin(), sealed_.end(),
+  return syncing_seq_before_.contains(pool) ||
+         std::any_of(sealed_.begin(), sealed_.end(),
                      [&pool](const PendingBatch& pending) { return pending.batch.pool == pool; });
 }
 
@@ -68,21 +69,33 @@ void PoolService::drop_pool(const std::string& pool,
                               .value_or(make_error(v1::Error::NOT_OWNER,
                                                    "the commit log did not accept the batches of "
                                                    "pool " + pool + ": nothing was applied"));
+  // The syncing window's (end_seal(): the log did not accept its group) before the open one's.
+  std::erase_if(syncing_, [&](PendingBatch& pending) {
+    if (pending.batch.pool != pool) return false;
+    replies.emplace_back(pending.ticket, refuse(rejected(pending.batch, error)));
+    return true;
+  });
   std::erase_if(window_, [&](PendingBatch& pending) {
     if (pending.batch.pool != pool) return false;
     window_events_ -= pending.batch.events.size();
     replies.emplace_back(pending.ticket, refuse(rejected(pending.batch, error)));
     return true;
   });
-  std::erase_if(waiting_duplicates_, [&](std::pair<Ticket, v1::Ack>& waiting) {
-    const v1::Ack& ack = waiting.second;
-    if (ack.pool() != pool) return false;
-    v1::Ack refusal = refused(batch_ack(ack.client_id(), ack.client_batch(), pool), error);
-    replies.emplace_back(waiting.first, refuse(std::move(refusal)));
-    return true;
-  });
+  for (auto* waiting : {&syncing_duplicates_, &waiting_duplicates_}) {
+    std::erase_if(*waiting, [&](std::pair<Ticket, v1::Ack>& entry) {
+      const v1::Ack& ack = entry.second;
+      if (ack.pool() != pool) return false;
+      v1::Ack refusal = refused(batch_ack(ack.client_id(), ack.client_batch(), pool), error);
+      replies.emplace_back(entry.first, refuse(std::move(refusal)));
+      return true;
+    });
+  }
   window_pools_.erase(pool);  // before the pool: its checker reads it
   chained_checkers_.erase(pool);
+  syncing_checkers_.erase(pool);
+  syncing_seq_before_.erase(pool);
+  syncing_last_seq_.erase(pool);
+  taken_counts_.erase(pool);
   take_pool_state(state_, pool);
 }
 
@@ -147,6 +160,11 @@ bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch)
 
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
+  // A retirement drops the engine (and may meet a checker the syncing window left), and a
+  // cluster may lose the pool at end_seal(): neither while the pool's window syncs.
+  if ((batch.retire || !routing_.serves_every_pool()) && syncing_seq_before_.contains(batch.pool)) {
+    return true;
+  }
   const auto jobs = repairing_.find(batch.pool);
   if (jobs == repairing_.end()) return false;
   // A retirement drops the engine, and a cluster may drop a pool at seal() (lost): neither
@@ -198,6 +216,9 @@ void PoolService::count_off_staged(const std::deque<std::shared_ptr<RepairJob>>&
 
 BatchChecker* PoolService::chain_checker(const std::string& pool) {
   if (const auto it = window_pools_.find(pool); it != window_pools_.end()) return &it->second.checker;
+  if (const auto it = syncing_checkers_.find(pool); it != syncing_checkers_.end()) {
+    return &it->second;
+  }
   if (const auto it = sealed_checkers_.find(pool); it != sealed_checkers_.end()) return &it->second;
   if (const auto it = chained_checkers_.find(pool); it != chained_checkers_.end()) return &it->second;
   return nullptr;
@@ -354,8 +375,11 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
     case RetryVerdict::duplicate: {
       ++state_.progress[batch.pool].batches_duplicate;
       v1::Ack ack = accepted(ack_for(batch), answer.seq, true);
-      if (answer.seq > journalled_seq(batch.pool)) {  // in this window: answer once durable
-        waiting_duplicates_.emplace_back(ticket, std::move(ack));
+      if (answer.seq > journalled_seq(batch.pool)) {  // not durable yet: answered once it is
+        const auto syncing = syncing_last_seq_.find(batch.pool);
+        const bool in_syncing = syncing != syncing_last_seq_.end() && answer.seq <= syncing->second;
+        auto& waiting = in_syncing ? syncing_duplicates_ : waiting_duplicates_;
+        waiting.emplace_back(ticket, std::move(ack));
         return std::optional<v1::Ack>();
       }
       return std::optional<v1::Ack>(std::move(ack));
@@ -402,12 +426,23 @@ std::uint64_t PoolService::journalled_seq(const std::string& pool) const {
   return progress == state_.progress.end() ? 0 : progress->second.seq;
 }
 
+std::uint64_t PoolService::seq_before_window(const std::string& pool) const {
+  const auto syncing = syncing_last_seq_.find(pool);
+  return syncing != syncing_last_seq_.end() ? syncing->second : journalled_seq(pool);
+}
+
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
   auto it = window_pools_.find(name);
   if (it == window_pools_.end()) {
-    const std::uint64_t seq = journalled_seq(name);
+    const std::uint64_t seq = seq_before_window(name);
     std::optional<BatchChecker> checker;
-    if (auto chained = chained_checkers_.find(name); chained != chained_checkers_.end()) {
+    if (auto syncing = syncing_checkers_.find(name); syncing != syncing_checkers_.end()) {
+      // It holds the syncing window's batches, not yet in the pool: this window checks on top
+      // of them, and start_apply() makes that window's repair a chained one with this count.
+      taken_counts_.insert_or_assign(name, syncing->second.end_window());
+      checker.emplace(std::move(syncing->second));
+      syncing_checkers_.erase(syncing);
+    } else if (auto chained = chained_checkers_.find(name); chained != chained_checkers_.end()) {
       checker.emplace(std::move(chained->second));
       chained_checkers_.erase(chained);
     } else if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
@@ -426,8 +461,14 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
     std::vector<std::string>* lost_pools) {
-  std::vector<std::pair<Ticket, v1::Ack>> replies;
-  replies.reserve(window_.size() + waiting_duplicates_.size());
+  std::vector<v1::JournalRecord> records = begin_seal();
+  // Durable on return: only then are the acks sent.
+  const storage::CommittedWindow committed = log_.commit(std::move(records));
+  return end_seal(committed, lost_pools);
+}
+
+std::vector<v1::JournalRecord> PoolService::begin_seal() {
+  if (syncing_active_) throw std::logic_error("a window is syncing already: one at a time");
   const std::uint64_t wall_time = unix_time_us();
   std::vector<v1::JournalRecord> records;
   records.reserve(window_.size());
@@ -445,21 +486,38 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
       const Pool& pool = *state_.registry.find(batch.pool);
       *record.mutable_created() = pool_config(pool);
     }
+    syncing_last_seq_[batch.pool] = pending.seq;
   }
-  // Durable on return: only then are the acks sent.
-  const storage::CommittedWindow committed = log_.commit(std::move(records));
+  for (auto& [name, in_window] : window_pools_) {
+    syncing_seq_before_[name] = in_window.seq_before;
+    // The ledger's horizon moves with the log, as recovery's replay of this group will move it:
+    // now, before the next window's batches add marks a replay would not have yet.
+    if (syncing_last_seq_.contains(name)) {
+      state_.ledger.close_group(name, in_window.seq_before + 1, wall_time);
+    }
+    syncing_checkers_.insert_or_assign(name, std::move(in_window.checker));
+  }
+  window_pools_.clear();
+  syncing_ = std::move(window_);
+  window_.clear();
+  syncing_duplicates_ = std::move(waiting_duplicates_);
+  waiting_duplicates_.clear();
+  window_events_ = 0;
+  syncing_active_ = true;
+  return records;
+}
+
+std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(
+    const storage::CommittedWindow& committed, std::vector<std::string>* lost_pools) {
+  if (!syncing_active_) throw std::logic_error("end_seal() without a window syncing");
+  std::vector<std::pair<Ticket, v1::Ack>> replies;
+  replies.reserve(syncing_.size() + syncing_duplicates_.size());
   std::set<std::string> lost;
   for (const storage::CommittedGroup& group : committed.groups) {
     if (!group.accepted) {
       lost.insert(group.pool);
-    } else {
-      if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
-        it->second.last_position = group.position;
-      }
-      // The ledger's horizon moves with the log, as recovery's replay of this group will move it.
-      if (const auto in_window = window_pools_.find(group.pool); in_window != window_pools_.end()) {
-        state_.ledger.close_group(group.pool, in_window->second.seq_before + 1, wall_time);
-      }
+    } else if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
+      it->second.last_position = group.position;
     }
   }
   for (const std::string& pool : lost) {
@@ -471,32 +529,40 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
     if (lost_pools != nullptr) lost_pools->push_back(pool);
   }
 
-  for (const PendingBatch& pending : window_) {
+  for (const PendingBatch& pending : syncing_) {
     replies.emplace_back(pending.ticket, accepted(ack_for(pending.batch), pending.seq, false));
   }
-  for (auto& waiting : waiting_duplicates_) replies.push_back(std::move(waiting));
-  waiting_duplicates_.clear();
-  for (auto& [name, in_window] : window_pools_) {
-    sealed_seq_before_[name] = in_window.seq_before;
-    // The checkers read the pools, which apply() is about to change: each goes to its pool's
-    // repair, whose worker clears it for the batches that arrive meanwhile.
-    sealed_checkers_.insert_or_assign(name, std::move(in_window.checker));
+  for (auto& waiting : syncing_duplicates_) replies.push_back(std::move(waiting));
+  for (const auto& [name, seq_before] : syncing_seq_before_) sealed_seq_before_[name] = seq_before;
+  // The checkers read the pools, which apply() is about to change: each goes to its pool's
+  // repair, whose worker clears it for the batches that arrive meanwhile (those the next
+  // window took stay there: taken_counts_).
+  for (auto& [name, checker] : syncing_checkers_) {
+    sealed_checkers_.insert_or_assign(name, std::move(checker));
   }
-  window_pools_.clear();
-  for (PendingBatch& pending : window_) sealed_.push_back(std::move(pending));
-  window_.clear();
-  window_events_ = 0;
+  for (PendingBatch& pending : syncing_) sealed_.push_back(std::move(pending));
+  syncing_.clear();
+  syncing_duplicates_.clear();
+  syncing_seq_before_.clear();
+  syncing_last_seq_.clear();
+  syncing_checkers_.clear();
+  syncing_active_ = false;
   return replies;
 }
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Error& error) {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
-  for (const PendingBatch& pending : window_) {
-    replies.emplace_back(pending.ticket, refuse(refused(ack_for(pending.batch), error)));
+  for (const auto* batches : {&syncing_, &window_}) {
+    for (const PendingBatch& pending : *batches) {
+      replies.emplace_back(pending.ticket, refuse(refused(ack_for(pending.batch), error)));
+    }
   }
-  for (const auto& [ticket, ack] : waiting_duplicates_) {
-    replies.emplace_back(
-        ticket, refuse(refused(batch_ack(ack.client_id(), ack.client_batch(), ack.pool()), error)));
+  for (const auto* waiting : {&syncing_duplicates_, &waiting_duplicates_}) {
+    for (const auto& [ticket, ack] : *waiting) {
+      replies.emplace_back(ticket, refuse(refused(
+                                       batch_ack(ack.client_id(), ack.client_batch(), ack.pool()),
+                                       error)));
+    }
   }
   for (auto& [pool, waiting] : held_) {
     for (const HeldBatch& held : waiting) {
@@ -515,6 +581,13 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
   waiting_duplicates_.clear();
   window_pools_.clear();
   window_events_ = 0;
+  syncing_.clear();
+  syncing_duplicates_.clear();
+  syncing_seq_before_.clear();
+  syncing_last_seq_.clear();
+  syncing_checkers_.clear();
+  taken_counts_.clear();
+  syncing_active_ = false;
   return replies;
 }
 

@@ -149,13 +149,31 @@ class PoolService {
   // dropped, the routing says nobody serves it, and its name is appended to `lost_pools`
   // when given (the server follows it from the log). Each accepted pool's last_position
   // becomes its group's position.
+  // begin_seal(), the log's commit() and end_seal() in one call, on the caller's thread.
   std::vector<std::pair<Ticket, v1::Ack>> seal(std::vector<std::string>* lost_pools = nullptr);
 
+  // seal() in two steps, for a caller that makes the window durable on another thread (the
+  // server's JournalThread): begin_seal() returns the window's records for CommitLog::commit()
+  // and opens the next window at once; end_seal() takes what commit() stored and returns the
+  // replies, as seal() does. Meanwhile (syncing()) batches join the next window, checked on top
+  // of the syncing one's (a pool's checker goes on to the next window as on a chained one), but
+  // for a retirement, and every batch in a cluster, of a pool in the syncing window: they wait
+  // (offered by finish_repairs() after start_apply()). A retry of a syncing batch is answered by
+  // end_seal(). One window syncs at a time; the caller must not touch the log meanwhile
+  // (next_journal_position() included). The retry ledger's horizon moves at begin_seal(), with
+  // the records' wall time: the ledger then holds exactly the marks a replay up to this window
+  // holds. If commit() throws, refuse_window() answers the syncing window too. O(window).
+  std::vector<v1::JournalRecord> begin_seal();
+  std::vector<std::pair<Ticket, v1::Ack>> end_seal(const storage::CommittedWindow& committed,
+                                                   std::vector<std::string>* lost_pools = nullptr);
+  bool syncing() const { return syncing_active_; }
+
   // When the window will never be sealed (seal() threw: the log failed, or the daemon stops
-  // without closing it): refuses every batch of the open window and every waiting retry with
-  // `error` (UNAVAILABLE) and empties the window, and so every batch waiting for its pool's
-  // repair. Nothing is applied. The retry ledger still
-  // names those batches, so the service must take no more batches after it. O(window).
+  // without closing it): refuses every batch of the syncing window (begin_seal() without its
+  // end_seal()) and of the open window and every waiting retry with `error` (UNAVAILABLE) and
+  // empties both windows, and so every batch waiting for its pool's repair. Nothing is
+  // applied. The retry ledger still names those batches, so the service must take no more
+  // batches after it. O(window).
   std::vector<std::pair<Ticket, v1::Ack>> refuse_window(const v1::Error& error);
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order:
@@ -196,7 +214,8 @@ class PoolService {
   PoolProgress& progress_of(const std::string& pool) { return state_.progress[pool]; }
   const RetryLedger& ledger() const { return state_.ledger; }
   storage::CommitLog& log() { return log_; }
-  // The log position after every window committed: a snapshot now is named by it.
+  // The log position after every window committed: a snapshot now is named by it. Not while
+  // a window syncs (the log is the committing thread's then).
   std::uint64_t next_journal_position() const { return log_.end_position(); }
 
   // Refusals by error code over the daemon's life: of batches and of messages not read as one
@@ -326,6 +345,9 @@ class PoolService {
   std::optional<std::optional<v1::Ack>> apply_retry_rule(Ticket ticket, const DecodedBatch& batch);
   // The pool's last seq in the log: its progress's, or its last repair's in flight.
   std::uint64_t journalled_seq(const std::string& pool) const;
+  // The pool's last seq given to a batch before the open window: its syncing window's, or
+  // journalled_seq().
+  std::uint64_t seq_before_window(const std::string& pool) const;
   WindowPool& window_pool(const std::string& name, Pool& pool);
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.
@@ -349,7 +371,17 @@ class PoolService {
   // A pool's latest window's checker, kept on the loop when that window was handed over behind
   // another of the pool's (start_apply()): the next window checks on top of it.
   std::map<std::string, BatchChecker> chained_checkers_;
-  std::set<std::string> retiring_;  // pools retired by the open or sealed window
+  std::set<std::string> retiring_;  // pools retired by the open, syncing or sealed window
+  // The window between begin_seal() and end_seal(): its batches (seq order per pool), retries
+  // of them, each pool's seq before it and last seq, and its checkers until the next window
+  // takes them (window_pool(), which keeps the count change of the window for start_apply()).
+  bool syncing_active_ = false;
+  std::vector<PendingBatch> syncing_;
+  std::vector<std::pair<Ticket, v1::Ack>> syncing_duplicates_;
+  std::map<std::string, std::uint64_t> syncing_seq_before_;
+  std::map<std::string, std::uint64_t> syncing_last_seq_;
+  std::map<std::string, BatchChecker> syncing_checkers_;
+  std::map<std::string, BatchChecker::CountChange> taken_counts_;
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
 

@@ -56,7 +56,8 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
     if (pending.batch.retire) retired.insert(pending.batch.pool);
   }
   sealed_.clear();
-  retiring_.clear();
+  // Only the sealed window's: a retirement in the next window (begin_seal() opened it) stays.
+  for (const std::string& name : retired) retiring_.erase(name);
 
   for (auto& [name, job] : jobs) {
     job->seq_before = sealed_seq_before_[name];
@@ -90,8 +91,14 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
         job->checker.emplace(std::move(checker->second));
       }
       sealed_checkers_.erase(checker);
+    } else if (auto taken = taken_counts_.find(name); taken != taken_counts_.end()) {
+      // The next window took its checker while it synced (window_pool()): checked on top of
+      // this window, which that checker counts until it is staged, as a chained window.
+      job->chained = true;
+      job->chained_counts = taken->second;
     }
   }
+  taken_counts_.clear();  // the others' windows held no batch: nothing to count off
   sealed_seq_before_.clear();
   // Left: a retired pool's, dropped; and those of pools whose batches in the window were all
   // refused or held, kept: they may still hold windows that are not staged.

@@ -13,9 +13,9 @@
 // snapshot taken between windows is named by end_position() and covers exactly the groups
 // below it, so recovery reads from that position on.
 //
-// Threads: one thread uses a CommitLog (the daemon's loop); a backend may run threads of its
-// own, but every call returns on the caller's thread. Errors: storage::LogError (and its
-// LogDamage), storage_error.h.
+// Threads: one at a time (yoked: its loop, or its journal thread alone during a commit(); the
+// hand-over synchronizes: daemon/server/journal_thread.h); a backend may run threads of its own,
+// but every call returns on the caller's thread. Errors: storage::LogError, LogDamage.
 #pragma once
 
 #include <cstdint>

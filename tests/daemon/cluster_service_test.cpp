@@ -282,38 +282,24 @@ TEST_F(ClusterServiceTest, QueriesForPoolsNotServedHereAreRefused) {
 }
 
 // Passes everything to a real journal; the groups of `refused_pool` come back not accepted.
-class ClaimLostLog : public storage::CommitLog {
+class ClaimLostLog : public testing::ForwardingCommitLog {
  public:
   ClaimLostLog(storage::CommitLog& inner, std::string refused_pool)
-      : inner_(inner), refused_pool_(std::move(refused_pool)) {}
+      : ForwardingCommitLog(inner), refused_pool_(std::move(refused_pool)) {}
 
-  std::string describe() const override { return inner_.describe(); }
-  storage::Position first_position(std::string_view pool) const override {
-    return inner_.first_position(pool);
-  }
-  std::unique_ptr<storage::GroupReader> read_from(storage::Position from,
-                                                  std::string_view pool) override {
-    return inner_.read_from(from, pool);
-  }
-  storage::Position end_position() const override { return inner_.end_position(); }
-  void continue_from(storage::Position position) override { inner_.continue_from(position); }
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
-    storage::CommittedWindow committed = inner_.commit(std::move(window));
+    storage::CommittedWindow committed = ForwardingCommitLog::commit(std::move(window));
     for (storage::CommittedGroup& group : committed.groups) {
       if (group.pool == refused_pool_) group.accepted = false;
     }
     last_ = committed;
     return committed;
   }
-  std::size_t drop_before(storage::Position position) override {
-    return inner_.drop_before(position);
-  }
 
   void refuse(std::string pool) { refused_pool_ = std::move(pool); }
   const storage::CommittedWindow& last() const { return last_; }
 
  private:
-  storage::CommitLog& inner_;
   std::string refused_pool_;
   storage::CommittedWindow last_;
 };

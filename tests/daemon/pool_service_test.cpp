@@ -39,11 +39,7 @@ using testing::WindowResult;
 // A config with two small declared pools, "tiny" and "small", for limits and weight bounds.
 DaemonConfig tiny_config() {
   DaemonConfig config = testing::test_config({});
-  PoolSettings tiny;
-  tiny.limits.max_vertices = 4;
-  tiny.limits.max_edges = 3;
-  tiny.limits.max_abs_weight = 1000;
-  config.pools["tiny"] = tiny;
+  config.pools["tiny"] = testing::tiny_pool_settings();
   PoolSettings small;
   small.limits.max_vertices = 12;
   // Edges within a window are limited conservatively (engine/pool/batch_checker.cpp: removals are

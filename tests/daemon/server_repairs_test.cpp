@@ -1,7 +1,8 @@
 // yoked's loop with its repair threads, in process over real ZeroMQ sockets: while pool A's
 // strand is blocked on a latch (so A's repair cannot run), pool B's acknowledgement and a query
-// on B are answered, and A's own batch and query wait for A. No timing: the order of replies on
-// one socket says what waited.
+// on B are answered, and A's own batch and query wait for A; while a window's commit is held on
+// the journal thread, queries are answered and batches join the next window. No timing: the
+// order of replies on one socket says what waited.
 #include <netinet/in.h>
 #include <signal.h>
 #include <sys/socket.h>
@@ -12,7 +13,9 @@
 #include <future>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <thread>
+#include <vector>
 
 #include <gtest/gtest.h>
 #include <zmq.hpp>
@@ -223,6 +226,89 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   // The final one holds both, and a restart from it finds them as they were.
   const storage::SnapshotContents last = yoked.snapshots.read(positions.front());
   EXPECT_EQ(last.pools.size(), 2u);
+}
+
+// The local journal behind a latch: its first commit() waits (on the journal thread) until the
+// test opens it, and says when it began.
+class HeldCommitLog : public testing::ForwardingCommitLog {
+ public:
+  explicit HeldCommitLog(storage::CommitLog& log)
+      : ForwardingCommitLog(log), opened_(latch.get_future()) {}
+
+  storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
+    if (commits_++ == 0) {
+      began.set_value();
+      opened_.wait();
+    }
+    return ForwardingCommitLog::commit(std::move(window));
+  }
+
+  std::promise<void> latch;
+  std::promise<void> began;
+
+ private:
+  std::future<void> opened_;
+  int commits_ = 0;  // the journal thread's alone
+};
+
+// While a window syncs (its commit held), the loop answers queries and takes the next window's
+// batches, checked on top of the syncing one (with max_events 1, it reads no further once the
+// next window is full); the acknowledgements come once each is durable, in window order.
+void serve_while_a_window_syncs(std::uint64_t max_events) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.batching.max_events = max_events;
+  auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  HeldCommitLog log(*journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  PoolService service(config, testing::fresh_state(config), log);
+  YokedServer server(config, service, snapshots);
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  log.began.get_future().wait();  // A's first window is on the journal thread, held
+
+  // Vertex 2 is only in the syncing window: the batch is checked on top of it.
+  send_batch(ingest, {testing::wire_remove(2)}, from_client("a", 2, "A"));
+  send_batch(ingest, {wire_add(7)}, from_client("b", 1, "B"));
+  v1::QueryRequest health;
+  health.set_version(1);
+  health.set_request_id(9);
+  health.mutable_health();
+  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  const v1::QueryReply answer = next_answer(query);
+  EXPECT_EQ(answer.request_id(), 9u);
+  EXPECT_TRUE(answer.has_health()) << answer.DebugString();
+
+  log.latch.set_value();
+  const v1::Ack a1 = next_ack(ingest);
+  ASSERT_TRUE(a1.has_accepted()) << a1.DebugString();
+  EXPECT_EQ(a1.client_batch(), 1u);
+  EXPECT_EQ(a1.accepted().seq(), 1u);
+  const v1::Ack second = next_ack(ingest);
+  const v1::Ack third = next_ack(ingest);
+  const v1::Ack& a2 = second.pool() == "A" ? second : third;
+  const v1::Ack& b1 = second.pool() == "A" ? third : second;
+  ASSERT_TRUE(a2.has_accepted()) << a2.DebugString();
+  EXPECT_EQ(a2.accepted().seq(), 2u);
+  ASSERT_TRUE(b1.has_accepted()) << b1.DebugString();
+  EXPECT_EQ(b1.accepted().seq(), 1u);
+
+  ::kill(::getpid(), SIGTERM);
+  EXPECT_EQ(status.get(), kYokedOk);
+  EXPECT_EQ(service.progress("A")->seq, 2u);
+  EXPECT_EQ(service.registry().find("A")->vertex_count(), 1u);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+}
+
+TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) { serve_while_a_window_syncs(10000); }
+
+TEST(ServerRepairs, AFullWindowWaitsUnreadWhileTheOneBeforeSyncs) {
+  serve_while_a_window_syncs(1);
 }
 
 // [service] worker_nice reaches the server's repair workers: a task reads its own thread's

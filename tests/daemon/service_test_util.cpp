@@ -111,6 +111,14 @@ std::vector<Event> engine_events(const std::vector<v1::Event>& events) {
   return out;
 }
 
+PoolSettings tiny_pool_settings() {
+  PoolSettings tiny;
+  tiny.limits.max_vertices = 4;
+  tiny.limits.max_edges = 3;
+  tiny.limits.max_abs_weight = 1000;
+  return tiny;
+}
+
 journal::Options fast_journal(std::uint64_t segment_bytes) {
   return journal::testing::small_segments(segment_bytes, journal::Durability::none);
 }

@@ -8,6 +8,7 @@
 #include <memory>
 #include <ostream>
 #include <string>
+#include <string_view>
 #include <utility>
 #include <vector>
 
@@ -18,6 +19,7 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/recovery.h"
 #include "daemon/snapshots/snapshot_directory.h"
+#include "daemon/storage/commit_log.h"
 #include "yoke/pool.h"
 #include "tests/journal/journal_test_util.h"
 #include "yoke/v1/events.pb.h"
@@ -64,6 +66,36 @@ std::string retire_message(const std::string& pool, std::uint64_t at_seq = 0,
 
 // The engine events of wire events (every one valid).
 std::vector<Event> engine_events(const std::vector<v1::Event>& events);
+
+// A commit log that passes every call to `inner` (a real journal): tests override what they
+// change (a group refused, a commit held).
+class ForwardingCommitLog : public storage::CommitLog {
+ public:
+  explicit ForwardingCommitLog(storage::CommitLog& inner) : inner_(inner) {}
+
+  std::string describe() const override { return inner_.describe(); }
+  storage::Position first_position(std::string_view pool) const override {
+    return inner_.first_position(pool);
+  }
+  std::unique_ptr<storage::GroupReader> read_from(storage::Position from,
+                                                  std::string_view pool) override {
+    return inner_.read_from(from, pool);
+  }
+  storage::Position end_position() const override { return inner_.end_position(); }
+  void continue_from(storage::Position position) override { inner_.continue_from(position); }
+  storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
+    return inner_.commit(std::move(window));
+  }
+  std::size_t drop_before(storage::Position position) override {
+    return inner_.drop_before(position);
+  }
+
+ private:
+  storage::CommitLog& inner_;
+};
+
+// A pool setting of a few vertices and edges, for limits and weight bounds.
+PoolSettings tiny_pool_settings();
 
 // Journal options for tests: no fsync (speed; durability is the journal tests' subject).
 journal::Options fast_journal(std::uint64_t segment_bytes = std::uint64_t{1} << 20);

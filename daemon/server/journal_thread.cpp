@@ -1,0 +1,53 @@
+#include "journal_thread.h"
+
+#include <stdexcept>
+#include <utility>
+
+#include <boost/asio/post.hpp>
+
+namespace yoke::daemon {
+
+JournalThread::JournalThread(storage::CommitLog& log, std::function<void()> wake)
+    : log_(log), wake_(std::move(wake)) {}
+
+JournalThread::~JournalThread() { thread_.join(); }
+
+void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_point closed) {
+  if (busy_) throw std::logic_error("a window is syncing already: one at a time");
+  busy_ = true;
+  ended_flag_.store(false, std::memory_order_relaxed);  // no commit runs: nobody else writes it
+  result_ = std::make_shared<Synced>();
+  result_->closed = closed;
+  auto done = std::make_shared<std::promise<void>>();
+  ended_ = done->get_future();
+  auto window = std::make_shared<std::vector<v1::JournalRecord>>(std::move(records));
+  boost::asio::post(thread_, [this, window, done, result = result_] {
+    const Clock::time_point start = Clock::now();
+    try {
+      result->committed = log_.commit(std::move(*window));
+    } catch (...) {
+      result->failure = std::current_exception();
+    }
+    result->took = Clock::now() - start;
+    window->clear();  // the records' memory is freed here, not on the loop
+    done->set_value();
+    ended_flag_.store(true, std::memory_order_release);
+    if (wake_) wake_();
+  });
+}
+
+void JournalThread::wait() {
+  if (busy_) ended_.wait();
+}
+
+std::optional<JournalThread::Synced> JournalThread::take() {
+  if (!busy_ || ended_.wait_for(std::chrono::seconds(0)) != std::future_status::ready) {
+    return std::nullopt;
+  }
+  busy_ = false;
+  Synced synced = std::move(*result_);
+  result_.reset();
+  return synced;
+}
+
+}  // namespace yoke::daemon
