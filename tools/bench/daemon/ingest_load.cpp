@@ -135,7 +135,7 @@ LoadResult send_paced(zmq::context_t& context, const std::string& endpoint,
       if (left.count() <= 0) break;
     }
     // The last sub-millisecond (poll's resolution is 1 ms) asleep, not spinning: a spinning
-    // client took a fifth of a core per paced pool from the daemon it measures (2 cores).
+    // client took up to a fifth of a core per paced pool from the daemon it measures (2 cores).
     std::this_thread::sleep_until(due);
     sent.emplace(batches[next].number, Clock::now());
     socket.send(zmq::buffer(batches[next].bytes), zmq::send_flags::none);
