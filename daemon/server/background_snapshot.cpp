@@ -13,7 +13,7 @@ namespace yoke::daemon {
 BackgroundSnapshot::BackgroundSnapshot(PoolService& service, storage::SnapshotStore& store,
                                        std::function<void()> wake, int nice_offset)
     : service_(service), store_(store), wake_(std::move(wake)) {
-  add_pool_niceness(writer_, 1, nice_offset);
+  prepare_pool_threads(writer_, 1, "yoked-snapshot", nice_offset);
 }
 
 BackgroundSnapshot::~BackgroundSnapshot() { writer_.join(); }

@@ -5,10 +5,14 @@
 
 #include <boost/asio/post.hpp>
 
+#include "thread_niceness.h"
+
 namespace yoke::daemon {
 
 JournalThread::JournalThread(storage::CommitLog& log, std::function<void()> wake)
-    : log_(log), wake_(std::move(wake)) {}
+    : log_(log), wake_(std::move(wake)) {
+  prepare_pool_threads(thread_, 1, "yoked-journal", 0);  // the acks wait for it: not nicer
+}
 
 JournalThread::~JournalThread() { thread_.join(); }
 

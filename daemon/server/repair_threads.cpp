@@ -12,7 +12,7 @@ namespace yoke::daemon {
 
 RepairThreads::RepairThreads(std::size_t threads, int nice_offset)
     : threads_(std::max<std::size_t>(threads, 1)), workers_(threads_) {
-  add_pool_niceness(workers_, threads_, nice_offset);
+  prepare_pool_threads(workers_, threads_, "yoked-repair", nice_offset);
 }
 
 RepairThreads::~RepairThreads() { join(); }

@@ -1,5 +1,6 @@
 #include "thread_niceness.h"
 
+#include <pthread.h>
 #include <sys/resource.h>
 #include <unistd.h>
 
@@ -36,15 +37,18 @@ std::string add_this_thread_niceness(int offset) {
   return "";
 }
 
-void add_pool_niceness(boost::asio::thread_pool& pool, std::size_t threads, int offset) {
-  if (offset <= 0 || threads == 0) return;
+void prepare_pool_threads(boost::asio::thread_pool& pool, std::size_t threads,
+                          const std::string& name, int offset) {
+  if (threads == 0) return;
+  const std::string shown = name.substr(0, 15);  // longer names are refused (ERANGE)
   // Every task waits for all the others: so each of the pool's threads takes exactly one.
   // Shared: a worker may still be leaving wait() when this returns.
   auto all_done = std::make_shared<std::latch>(static_cast<std::ptrdiff_t>(threads) + 1);
   std::mutex failure_mutex;
   std::string failure;  // written before arriving: read here after the latch
   for (std::size_t i = 0; i < threads; ++i) {
-    boost::asio::post(pool, [&failure_mutex, &failure, all_done, offset] {
+    boost::asio::post(pool, [&failure_mutex, &failure, &shown, all_done, offset] {
+      ::pthread_setname_np(::pthread_self(), shown.c_str());  // a name is a nicety: no failure
       std::string why = add_this_thread_niceness(offset);
       if (!why.empty()) {
         const std::lock_guard lock(failure_mutex);

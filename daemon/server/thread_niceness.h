@@ -1,6 +1,7 @@
 // Per-thread niceness (Linux: setpriority(PRIO_PROCESS, tid) changes that one thread), so that
 // the daemon's background threads (repair workers, the snapshot writer) yield a shared core to
-// the loop that reads the sockets and sends the acknowledgements.
+// the loop that reads the sockets and sends the acknowledgements; and their names, so that an
+// operator's `top -H` or `ps -L` tells which of yoked's threads holds a core.
 #pragma once
 
 #include <cstddef>
@@ -17,11 +18,12 @@ int this_thread_niceness();
 // privilege). Returns "" or why it failed (the thread keeps its niceness then).
 std::string add_this_thread_niceness(int offset);
 
-// Adds `offset` to the niceness of each of `pool`'s `threads` threads (as many as it was made
-// with), before any other task runs on them: call right after making the pool. A thread
-// inherits its maker's niceness, so the workers end at the caller's + offset. A failure is
-// logged (`worker_nice_failed`) and the threads run on at the caller's niceness. Nothing for
-// offset 0. Blocks until every thread has done it.
-void add_pool_niceness(boost::asio::thread_pool& pool, std::size_t threads, int offset);
+// Names each of `pool`'s `threads` threads (as many as it was made with) `name` (Linux keeps
+// 15 bytes of it) and adds `offset` to its niceness, before any other task runs on them: call
+// right after making the pool. A thread inherits its maker's niceness, so the workers end at
+// the caller's + offset. A failure is logged (`worker_nice_failed`) and the threads run on at
+// the caller's niceness. Blocks until every thread has done it.
+void prepare_pool_threads(boost::asio::thread_pool& pool, std::size_t threads,
+                          const std::string& name, int offset);
 
 }  // namespace yoke::daemon

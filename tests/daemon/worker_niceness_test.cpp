@@ -1,6 +1,6 @@
 // The daemon's background threads run nicer than the loop ([service] worker_nice): each repair
 // worker and the snapshot writer read their own niceness (getpriority on their thread id)
-// inside a task, and the thread that made them keeps its own.
+// inside a task, and the thread that made them keeps its own. They carry names (top -H).
 #include <algorithm>
 #include <latch>
 #include <memory>
@@ -8,7 +8,11 @@
 #include <string>
 #include <vector>
 
+#include <pthread.h>
+
 #include <gtest/gtest.h>
+#include <boost/asio/post.hpp>
+#include <boost/asio/thread_pool.hpp>
 
 #include "daemon/server/background_snapshot.h"
 #include "daemon/server/repair_threads.h"
@@ -21,25 +25,36 @@ namespace {
 // What a thread made here at niceness `base` runs at after `offset` is added.
 int expected_niceness(int base, int offset) { return std::min(base + offset, 19); }
 
+std::string this_thread_name() {
+  char name[16] = {};
+  ::pthread_getname_np(::pthread_self(), name, sizeof name);
+  return name;
+}
+
 // Runs one task per pool on `threads`, each holding its worker until all have started (so
-// every worker runs one), and returns the niceness each read for its own thread. Joins them.
-std::vector<int> worker_niceness(RepairThreads& threads) {
+// every worker runs one), and returns what `read` read on each worker's thread. Joins them.
+template <typename Read>
+auto read_on_each_worker(RepairThreads& threads, Read read) {
   const std::size_t workers = threads.threads();
   auto all_started = std::make_shared<std::latch>(static_cast<std::ptrdiff_t>(workers));
   std::mutex mutex;
-  std::vector<int> seen;
+  std::vector<decltype(read())> seen;
   for (std::size_t i = 0; i < workers; ++i) {
-    threads.run("pool-" + std::to_string(i), [&mutex, &seen, all_started] {
-      const int niceness = this_thread_niceness();
+    threads.run("pool-" + std::to_string(i), [&mutex, &seen, &read, all_started] {
+      auto value = read();
       {
         const std::lock_guard lock(mutex);
-        seen.push_back(niceness);
+        seen.push_back(std::move(value));
       }
       all_started->arrive_and_wait();
     });
   }
   threads.join();
   return seen;
+}
+
+std::vector<int> worker_niceness(RepairThreads& threads) {
+  return read_on_each_worker(threads, [] { return this_thread_niceness(); });
 }
 
 TEST(WorkerNiceness, RepairWorkersRunAtTheLoopsNicenessPlusTheOffset) {
@@ -69,6 +84,22 @@ TEST(WorkerNiceness, TheNicenessStopsAt19) {
   EXPECT_EQ(this_thread_niceness(), base);
 }
 
+TEST(WorkerNiceness, RepairWorkersAreNamedForTop) {
+  RepairThreads threads(2, 3);
+  const std::vector<std::string> names = read_on_each_worker(threads, this_thread_name);
+  ASSERT_EQ(names.size(), 2u);
+  for (const std::string& name : names) EXPECT_EQ(name, "yoked-repair");
+}
+
+TEST(WorkerNiceness, AThreadKeepsTheFirst15BytesOfItsName) {
+  boost::asio::thread_pool pool(1);
+  prepare_pool_threads(pool, 1, "yoked-a-name-too-long-for-linux", 0);
+  std::string seen;
+  boost::asio::post(pool, [&seen] { seen = this_thread_name(); });
+  pool.join();
+  EXPECT_EQ(seen, "yoked-a-name-to");  // Linux's limit: 16 bytes with the terminating zero
+}
+
 // A snapshot store that records the niceness of the thread its write() runs on.
 class NicenessRecordingStore final : public storage::SnapshotStore {
  public:
@@ -76,6 +107,7 @@ class NicenessRecordingStore final : public storage::SnapshotStore {
   std::string write(storage::Position /*position*/,
                     const std::vector<v1::SnapshotRecord>& /*pools*/) override {
     write_niceness = this_thread_niceness();
+    write_thread = this_thread_name();
     return "recorded";
   }
   std::vector<storage::Position> positions() const override { return {}; }
@@ -85,6 +117,7 @@ class NicenessRecordingStore final : public storage::SnapshotStore {
   std::optional<storage::Position> oldest_needed() const override { return std::nullopt; }
 
   int write_niceness = -100;
+  std::string write_thread;
 };
 
 TEST(WorkerNiceness, TheSnapshotWriterRunsAtTheLoopsNicenessPlusTheOffset) {
@@ -101,6 +134,7 @@ TEST(WorkerNiceness, TheSnapshotWriterRunsAtTheLoopsNicenessPlusTheOffset) {
   EXPECT_FALSE(written->failure);
   EXPECT_EQ(written->path, "recorded");
   EXPECT_EQ(store.write_niceness, expected_niceness(base, 7));
+  EXPECT_EQ(store.write_thread, "yoked-snapshot");
 }
 
 }  // namespace
