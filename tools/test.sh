@@ -34,5 +34,6 @@ build() {
 
 phase "${label} build" build
 # -j 4 on 2 cores: most of the suite's time is tests waiting on processes they started (daemons,
-# nats-server clusters, Python clients); their COST puts them first (tests/CMakeLists.txt).
+# nats-server clusters, Python clients); their COST puts them first (tests/CMakeLists.txt), and
+# a test that starts a three-node nats-server cluster takes 2 slots (PROCESSORS 2).
 phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 4
