@@ -34,6 +34,5 @@ build() {
 
 phase "${label} build" build
 # -j 4 on 2 cores: most of the suite's time is tests waiting on processes they started (daemons,
-# nats-server clusters, Python clients); their COST puts them first (tests/CMakeLists.txt), and
-# a test that starts a three-node nats-server cluster takes 2 slots (PROCESSORS 2).
+# nats-server clusters, Python clients); their COST puts them first (tests/CMakeLists.txt).
 phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 4
