@@ -541,13 +541,17 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(
     sealed_checkers_.insert_or_assign(name, std::move(checker));
   }
   for (PendingBatch& pending : syncing_) sealed_.push_back(std::move(pending));
+  end_syncing();
+  return replies;
+}
+
+void PoolService::end_syncing() {
   syncing_.clear();
   syncing_duplicates_.clear();
   syncing_seq_before_.clear();
   syncing_last_seq_.clear();
   syncing_checkers_.clear();
   syncing_active_ = false;
-  return replies;
 }
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Error& error) {
@@ -581,13 +585,8 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
   waiting_duplicates_.clear();
   window_pools_.clear();
   window_events_ = 0;
-  syncing_.clear();
-  syncing_duplicates_.clear();
-  syncing_seq_before_.clear();
-  syncing_last_seq_.clear();
-  syncing_checkers_.clear();
-  taken_counts_.clear();
-  syncing_active_ = false;
+  end_syncing();
+  taken_counts_.clear();  // no repair follows to count them off
   return replies;
 }
 

@@ -349,6 +349,8 @@ class PoolService {
   // journalled_seq().
   std::uint64_t seq_before_window(const std::string& pool) const;
   WindowPool& window_pool(const std::string& name, Pool& pool);
+  // Forgets the syncing window (end_seal(): handed on; refuse_window(): refused).
+  void end_syncing();
   // Refuses the pool's batches of the open window and their waiting retries (NOT_OWNER, as the
   // routing says), and drops its state.
   void drop_pool(const std::string& pool, std::vector<std::pair<Ticket, v1::Ack>>& replies);
