@@ -34,7 +34,7 @@ build() {
 
 phase "${label} build" build
 # -j 2: -j 4 halved the Release suite's time (most of it is tests waiting on the daemons,
-# nats-server clusters and Python clients they start) but lost a JetStream read-back and a
-# no-responders reply in two CI runs of three with several clusters up at once. The long
-# tests' COST starts them first (tests/CMakeLists.txt).
+# nats-server clusters and Python clients they start), and starting the long tests first
+# (CTest COST) cut a third, but both lost JetStream replies in CI with two or more clusters up
+# at once (session 9): not until those tests are robust under load.
 phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 2
