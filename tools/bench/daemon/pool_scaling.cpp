@@ -6,6 +6,8 @@
 #include <ctime>
 #include <fstream>
 #include <future>
+#include <latch>
+#include <memory>
 #include <stdexcept>
 #include <thread>
 #include <utility>
@@ -13,6 +15,7 @@
 
 #include "ingest_load.h"
 #include "tools/graphgen/event_stream.h"
+#include "yoke/pool.h"
 #include "yoke/v1/query.pb.h"
 
 namespace yoke::bench {
@@ -20,9 +23,11 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::size_t vertices,
-                                      std::size_t events, std::uint64_t seed,
-                                      const std::string& pool) {
+using Batches = std::vector<std::vector<Event>>;
+
+// A pool's city stream: its base graph first, then batches of `settings.batch` events.
+Batches pool_batches(const PoolScalingSettings& settings, std::size_t vertices,
+                     std::size_t events, std::uint64_t seed) {
   gen::StreamSpec spec;
   spec.family = gen::StreamFamily::city;
   spec.vertices = vertices;
@@ -31,10 +36,54 @@ std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::
   spec.mix = gen::parse_mix(settings.mix);
   spec.seed = seed;
   gen::EventStream stream(spec);
-  std::vector<std::vector<Event>> batches;
+  Batches batches;
   std::vector<Event> batch;
   while (stream.next_batch(batch)) batches.push_back(batch);
-  return encode_batches(batches, "scaling-" + pool, pool, 1);
+  return batches;
+}
+
+std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::size_t vertices,
+                                      std::size_t events, std::uint64_t seed,
+                                      const std::string& pool) {
+  return encode_batches(pool_batches(settings, vertices, events, seed), "scaling-" + pool, pool,
+                        1);
+}
+
+// The repairs alone, with no daemon around them: each pool's stream committed in this process
+// by a thread of its own, all pools at once, in commits of `per_commit` events (the size the
+// daemon's repairs had). How its rate grows with the pool count is what this machine's cores
+// give the engine's work: the ceiling for the daemon's ratio (shared caches, memory, and a
+// vCPU that may be a hyperthread all count in it). Events per second of wall time.
+double engine_events_per_second(const std::vector<Batches>& streams, std::size_t per_commit) {
+  std::vector<std::unique_ptr<Pool>> pools;
+  std::vector<Batches> commits(streams.size());
+  std::size_t events = 0;
+  for (std::size_t i = 0; i < streams.size(); ++i) {
+    pools.push_back(std::make_unique<Pool>(Mode::max_weight));
+    pools.back()->commit(streams[i].front());  // the base graph, before the clock
+    std::vector<Event> joined;
+    for (std::size_t b = 1; b < streams[i].size(); ++b) {
+      joined.insert(joined.end(), streams[i][b].begin(), streams[i][b].end());
+      if (joined.size() >= per_commit || b + 1 == streams[i].size()) {
+        events += joined.size();
+        commits[i].push_back(std::move(joined));
+        joined.clear();
+      }
+    }
+  }
+  std::latch start(static_cast<std::ptrdiff_t>(pools.size()) + 1);
+  std::vector<std::thread> threads;
+  for (std::size_t i = 0; i < pools.size(); ++i) {
+    threads.emplace_back([&, i] {
+      start.arrive_and_wait();
+      for (const std::vector<Event>& commit : commits[i]) pools[i]->commit(commit);
+    });
+  }
+  start.arrive_and_wait();
+  const Clock::time_point began = Clock::now();
+  for (std::thread& thread : threads) thread.join();
+  const double seconds = std::chrono::duration<double>(Clock::now() - began).count();
+  return static_cast<double>(events) / seconds;
 }
 
 // Sends `request` about `pool` on a query socket and waits for the reply (the daemon holds a
@@ -109,14 +158,15 @@ struct ScalingRun {
 
 // Events per second of `pools` pools fed at once by one pipelined client each.
 ScalingRun pools_at_once(zmq::context_t& context, const PoolScalingSettings& settings,
-                     std::size_t pools) {
+                         const std::vector<Batches>& raw_streams) {
+  const std::size_t pools = raw_streams.size();
   const YokedEndpoints endpoints = free_loopback_endpoints();
   const std::filesystem::path config = settings.work / "scaling.toml";
   settings.write_config(config, endpoints);
   std::vector<std::vector<EncodedBatch>> streams;
   for (std::size_t i = 0; i < pools; ++i) {
-    streams.push_back(pool_stream(settings, settings.vertices, settings.events / pools, 7 + i,
-                                  "pool-" + std::to_string(i)));
+    const std::string pool = "pool-" + std::to_string(i);
+    streams.push_back(encode_batches(raw_streams[i], "scaling-" + pool, pool, 1));
   }
   YokedProcess daemon(settings.yoked, settings.work / ("scaling-" + std::to_string(pools)), config);
   daemon.wait_ready(context, endpoints.query, std::chrono::seconds(60));
@@ -178,16 +228,29 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
               settings.in_flight_per_pool ? "for each pool's client"
                                           : "shared by one client per pool");
   std::printf("  CPU us per event: yoked's loop thread, its other threads (repairs, ZeroMQ), "
-              "the clients (this process); events per commit (repair) of a pool\n");
-  std::printf("  %-8s %14s %12s %10s %10s %10s %12s\n", "pools", "events/s", "vs first", "loop",
-              "workers", "clients", "per commit");
+              "the clients (this process); events per commit (repair) of a pool;\n"
+              "  engine alone: the same streams committed in this process, a thread per pool, "
+              "in commits of that size, no daemon (the machine's ceiling for the ratio)\n");
+  std::printf("  %-6s %11s %9s %7s %8s %8s %11s %13s %9s %9s\n", "pools", "events/s",
+              "vs first", "loop", "workers", "clients", "per commit", "engine alone",
+              "vs first", "of it");
   double first = 0;
+  double engine_first = 0;
   for (const std::size_t pools : settings.pool_counts) {
-    const ScalingRun run = pools_at_once(context, settings, pools);
+    std::vector<Batches> streams;
+    for (std::size_t i = 0; i < pools; ++i) {
+      streams.push_back(pool_batches(settings, settings.vertices, settings.events / pools, 7 + i));
+    }
+    const ScalingRun run = pools_at_once(context, settings, streams);
+    const double engine = engine_events_per_second(
+        streams, static_cast<std::size_t>(std::max(run.events_per_commit, 1.0)));
     if (first == 0) first = run.events_per_second;
-    std::printf("  %-8zu %14.0f %12.2f %10.2f %10.2f %10.2f %12.0f\n", pools,
-                run.events_per_second, run.events_per_second / std::max(first, 1.0), run.loop_us,
-                run.workers_us, run.clients_us, run.events_per_commit);
+    if (engine_first == 0) engine_first = engine;
+    const double ratio = run.events_per_second / std::max(first, 1.0);
+    const double engine_ratio = engine / std::max(engine_first, 1.0);
+    std::printf("  %-6zu %11.0f %9.2f %7.2f %8.2f %8.2f %11.0f %13.0f %9.2f %8.0f%%\n", pools,
+                run.events_per_second, ratio, run.loop_us, run.workers_us, run.clients_us,
+                run.events_per_commit, engine, engine_ratio, 100 * ratio / engine_ratio);
   }
 }
 

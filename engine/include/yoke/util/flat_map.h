@@ -25,6 +25,12 @@ class FlatMap {
     }
   }
 
+  // Starts loading the cell where find(key) begins, so that several look-ups' cache misses
+  // overlap instead of following one another. Changes nothing.
+  void prefetch(std::uint64_t key) const {
+    if (!cells_.empty()) __builtin_prefetch(&cells_[home(key)]);
+  }
+
   // Precondition: `key` is absent and value != kAbsent.
   void insert(std::uint64_t key, std::uint32_t value) {
     if (10 * (size_ + 1) > 7 * cells_.size()) grow();
