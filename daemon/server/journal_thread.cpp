@@ -19,13 +19,11 @@ JournalThread::~JournalThread() { thread_.join(); }
 void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_point closed) {
   if (busy_) throw std::logic_error("a window is syncing already: one at a time");
   busy_ = true;
-  ended_flag_.store(false, std::memory_order_relaxed);  // no commit runs: nobody else writes it
+  ended_.store(false, std::memory_order_relaxed);  // no commit runs: nobody else writes it
   result_ = std::make_shared<Synced>();
   result_->closed = closed;
-  auto done = std::make_shared<std::promise<void>>();
-  ended_ = done->get_future();
   auto window = std::make_shared<std::vector<v1::JournalRecord>>(std::move(records));
-  boost::asio::post(thread_, [this, window, done, result = result_] {
+  boost::asio::post(thread_, [this, window, result = result_] {
     const Clock::time_point start = Clock::now();
     try {
       result->committed = log_.commit(std::move(*window));
@@ -34,20 +32,18 @@ void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_p
     }
     result->took = Clock::now() - start;
     window->clear();  // the records' memory is freed here, not on the loop
-    done->set_value();
-    ended_flag_.store(true, std::memory_order_release);
+    ended_.store(true, std::memory_order_release);
+    ended_.notify_all();
     if (wake_) wake_();
   });
 }
 
 void JournalThread::wait() {
-  if (busy_) ended_.wait();
+  if (busy_) ended_.wait(false, std::memory_order_acquire);
 }
 
 std::optional<JournalThread::Synced> JournalThread::take() {
-  if (!busy_ || ended_.wait_for(std::chrono::seconds(0)) != std::future_status::ready) {
-    return std::nullopt;
-  }
+  if (!ready()) return std::nullopt;
   busy_ = false;
   Synced synced = std::move(*result_);
   result_.reset();

@@ -13,7 +13,6 @@
 #include <chrono>
 #include <exception>
 #include <functional>
-#include <future>
 #include <memory>
 #include <optional>
 #include <vector>
@@ -46,7 +45,7 @@ class JournalThread {
   bool busy() const { return busy_; }
   // Busy, and the commit has ended: take() returns its result. One atomic load, so the loop
   // may ask between messages instead of waiting for `wake`'s turn behind a burst of them.
-  bool ready() const { return busy_ && ended_flag_.load(std::memory_order_acquire); }
+  bool ready() const { return busy_ && ended_.load(std::memory_order_acquire); }
   // Hands the window's records over for one commit(). Not while busy() (std::logic_error).
   void commit(std::vector<v1::JournalRecord> records, Clock::time_point closed);
   // Blocks until the window handed over is durable or has failed (nothing when not busy()).
@@ -59,8 +58,9 @@ class JournalThread {
   std::function<void()> wake_;
   boost::asio::thread_pool thread_{1};
   bool busy_ = false;
-  std::future<void> ended_;
-  std::atomic<bool> ended_flag_{false};  // set with ended_, before `wake`
+  // Set by the thread when the commit has ended (result_ written), before `wake`; wait()
+  // blocks on it (std::atomic::wait).
+  std::atomic<bool> ended_{false};
   std::shared_ptr<Synced> result_;
 };
 
