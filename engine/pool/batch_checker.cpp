@@ -5,11 +5,11 @@
 
 #include <algorithm>
 #include <string>
-#include <unordered_map>
 #include <utility>
 #include <vector>
 
 #include "pool/pool_state.h"
+#include "yoke/util/open_table.h"
 
 namespace yoke {
 namespace {
@@ -69,13 +69,12 @@ class BatchChecker::Overlay {
     window_start_.edge_change -= change.edges;
   }
 
-  // unordered_map::clear keeps the bucket arrays, so the next window does not grow them again;
-  // but it also walks them, so tables grown by one big window (a new pool's base graph) are
-  // swapped for small ones, or every later clear would pay for that window.
+  // OpenTable::clear keeps the cells for the next window, unless one big window (a new pool's
+  // base graph) grew them far beyond what the tables hold.
   void clear() {
-    empty(vertex_);
-    empty(edge_override_);
-    empty(partner_);
+    vertex_.clear();
+    edge_override_.clear();
+    partner_.clear();
     vertex_undo_.clear();
     edge_undo_.clear();
     partner_undo_.clear();
@@ -86,17 +85,6 @@ class BatchChecker::Overlay {
   }
 
  private:
-  template <class Map>
-  static void empty(Map& map) {
-    if (map.bucket_count() > 4 * map.size() + 64) {
-      Map fresh;
-      fresh.reserve(map.size());
-      map.swap(fresh);
-    } else {
-      map.clear();
-    }
-  }
-
   // The pool's maps are far larger than the caches and the events read them at random, one
   // cache miss after another. So the cells of the next run of events are asked for first:
   // their vertices', then (those now at hand) their edges'; the misses overlap.
@@ -174,15 +162,15 @@ class BatchChecker::Overlay {
     Key key;
     std::optional<Value> before;
   };
-  // The undo entry of a write at `it`: the overlay's value before, or nothing if the write
+  // The undo entry of a write to `value`: the overlay's value before, or nothing if the write
   // `inserted` the key. Spelled out because for an optional Value (a hold's partner) the
-  // shorter `inserted ? std::nullopt : std::optional(it->second)` has the Value's own type, so
+  // shorter `inserted ? std::nullopt : std::optional(*value)` has the Value's own type, so
   // "no entry before" became "an entry saying: not held", and undoing a refused release hid
   // the pool's committed hold from the batches after it.
-  template <typename Key, typename Value, typename Iterator>
-  static Undo<Key, Value> undo_entry(const Key& key, bool inserted, Iterator it) {
+  template <typename Key, typename Value>
+  static Undo<Key, Value> undo_entry(const Key& key, bool inserted, const Value* value) {
     if (inserted) return {key, std::nullopt};
-    return {key, std::optional<Value>(std::in_place, it->second)};
+    return {key, std::optional<Value>(std::in_place, *value)};
   }
   struct Mark {
     std::ptrdiff_t alive_change;
@@ -276,17 +264,17 @@ class BatchChecker::Overlay {
   }
 
   std::optional<VertexKey> partner_of(VertexKey key) const {
-    const auto it = partner_.find(key);
-    return it != partner_.end() ? it->second : pool_.holds.partner(key);
+    const std::optional<VertexKey>* changed = partner_.find(key);
+    return changed != nullptr ? *changed : pool_.holds.partner(key);
   }
   void release(VertexKey a, VertexKey b) {
     write_partner(a, std::nullopt);
     write_partner(b, std::nullopt);
   }
   void write_partner(VertexKey key, std::optional<VertexKey> partner) {
-    const auto [it, inserted] = partner_.try_emplace(key, partner);
-    partner_undo_.push_back(undo_entry<VertexKey, std::optional<VertexKey>>(key, inserted, it));
-    it->second = partner;
+    const auto [value, inserted] = partner_.try_emplace(key, partner);
+    partner_undo_.push_back(undo_entry<VertexKey, std::optional<VertexKey>>(key, inserted, value));
+    *value = partner;
   }
 
   std::optional<Refusal> check_set(const Event& event) {
@@ -324,8 +312,9 @@ class BatchChecker::Overlay {
     Vertex slot;
   };
   End end_of(VertexKey key) const {
-    const auto it = vertex_.find(key);
-    if (it != vertex_.end()) return {key, it->second.alive, it->second.generation, kNoVertex};
+    if (const VertexState* changed = vertex_.find(key)) {
+      return {key, changed->alive, changed->generation, kNoVertex};
+    }
     const Vertex slot = pool_.graph.find(key);
     return {key, slot != kNoVertex, 0, slot};
   }
@@ -334,8 +323,7 @@ class BatchChecker::Overlay {
                          : EdgeKey{b.key, a.key, b.generation, a.generation};
   }
   bool edge_exists(const End& a, const End& b) const {
-    const auto it = edge_override_.find(edge_key(a, b));
-    if (it != edge_override_.end()) return it->second;
+    if (const bool* changed = edge_override_.find(edge_key(a, b))) return *changed;
     if (a.generation != 0 || b.generation != 0) return false;  // an end left earlier
     if (pool_.holds.aside_count() != 0 && pool_.holds.aside_weight(a.key, b.key)) return true;
     return a.slot != kNoVertex && b.slot != kNoVertex &&
@@ -344,8 +332,8 @@ class BatchChecker::Overlay {
 
   bool exists(VertexKey key) const { return end_of(key).alive; }
   std::uint32_t generation(VertexKey key) const {
-    const auto it = vertex_.find(key);
-    return it == vertex_.end() ? 0 : it->second.generation;
+    const VertexState* changed = vertex_.find(key);
+    return changed == nullptr ? 0 : changed->generation;
   }
   // The vertex limit is checked after the batch (accept).
   std::optional<Refusal> arrive(VertexKey key) {
@@ -360,35 +348,35 @@ class BatchChecker::Overlay {
   bool edge_exists(VertexKey a, VertexKey b) const { return edge_exists(end_of(a), end_of(b)); }
 
   void write_vertex(VertexKey key, VertexState state) {
-    const auto [it, inserted] = vertex_.try_emplace(key, state);
-    vertex_undo_.push_back(undo_entry<VertexKey, VertexState>(key, inserted, it));
-    it->second = state;
+    const auto [value, inserted] = vertex_.try_emplace(key, state);
+    vertex_undo_.push_back(undo_entry<VertexKey, VertexState>(key, inserted, value));
+    *value = state;
   }
   void write_edge(const EdgeKey& key, bool present) {
-    const auto [it, inserted] = edge_override_.try_emplace(key, present);
-    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, it));
-    it->second = present;
+    const auto [value, inserted] = edge_override_.try_emplace(key, present);
+    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, value));
+    *value = present;
   }
 
   Mark mark() const { return {alive_change_, edge_change_}; }
   void undo_to(const Mark& mark) {
     for (auto it = vertex_undo_.rbegin(); it != vertex_undo_.rend(); ++it) {
       if (it->before) {
-        vertex_[it->key] = *it->before;
+        *vertex_.try_emplace(it->key, *it->before).first = *it->before;
       } else {
         vertex_.erase(it->key);
       }
     }
     for (auto it = edge_undo_.rbegin(); it != edge_undo_.rend(); ++it) {
       if (it->before) {
-        edge_override_[it->key] = *it->before;
+        *edge_override_.try_emplace(it->key, *it->before).first = *it->before;
       } else {
         edge_override_.erase(it->key);
       }
     }
     for (auto it = partner_undo_.rbegin(); it != partner_undo_.rend(); ++it) {
       if (it->before) {
-        partner_[it->key] = *it->before;
+        *partner_.try_emplace(it->key, *it->before).first = *it->before;
       } else {
         partner_.erase(it->key);
       }
@@ -401,12 +389,12 @@ class BatchChecker::Overlay {
   }
 
   const PoolState& pool_;
-  std::unordered_map<VertexKey, VertexState> vertex_;
-  std::unordered_map<EdgeKey, bool, EdgeKeyHash> edge_override_;
+  OpenTable<VertexKey, VertexState> vertex_;
+  OpenTable<EdgeKey, bool, EdgeKeyHash> edge_override_;
   std::vector<Undo<VertexKey, VertexState>> vertex_undo_;  // this batch's writes, in order
   std::vector<Undo<EdgeKey, bool>> edge_undo_;
   // The holds the batches changed: the partner, or nothing for a vertex no longer held.
-  std::unordered_map<VertexKey, std::optional<VertexKey>> partner_;
+  OpenTable<VertexKey, std::optional<VertexKey>> partner_;
   std::vector<Undo<VertexKey, std::optional<VertexKey>>> partner_undo_;
   std::ptrdiff_t alive_change_ = 0;  // arrivals minus departures so far
   // Edges inserted minus edges unset so far; a departure's edges are not enumerated, so the
