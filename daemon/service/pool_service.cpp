@@ -26,6 +26,7 @@ v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
 PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log)
     : limits_(config.limits),
       max_events_behind_(kWindowsBehind * config.batching.max_events),
+      max_chained_entries_(kChainedEntriesPerEventBehind * max_events_behind_ + kChainedEntriesFloor),
       state_(std::move(state)),
       routing_(config.cluster),
       log_(log) {}
@@ -167,6 +168,16 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   }
   const auto jobs = repairing_.find(batch.pool);
   if (jobs == repairing_.end()) return false;
+  if (!window_pools_.contains(batch.pool)) {
+    // A new window would take the chained checker: grown past its bound, it waits for the
+    // pool's windows to be staged, and starts empty then (window_pool()). A syncing window
+    // with batches of the pool becomes a job whose end offers the held batches again.
+    const BatchChecker* chain = chain_checker(batch.pool);
+    if (chain != nullptr && chain->entries() > max_chained_entries_ &&
+        (syncing_last_seq_.contains(batch.pool) || waits_for_stage(*jobs->second.back()))) {
+      return true;
+    }
+  }
   // A retirement drops the engine, and a cluster may drop a pool at seal() (lost): neither
   // while a worker holds it.
   if (batch.retire || !routing_.serves_every_pool() || draining_.contains(batch.pool)) {
@@ -185,6 +196,11 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   // (one strand). A chained one is checked under the stage lock instead (offer_decoded()).
   RepairJob& last = *jobs->second.back();
   return !last.chained && waits_for_stage(last);
+}
+
+bool PoolService::every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs) {
+  // One strand: the last staged means every job before it is.
+  return jobs.empty() || jobs.back()->staged.load(std::memory_order_acquire);
 }
 
 bool PoolService::waits_for_stage(RepairJob& job) {
@@ -445,6 +461,14 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
     } else if (auto chained = chained_checkers_.find(name); chained != chained_checkers_.end()) {
       checker.emplace(std::move(chained->second));
       chained_checkers_.erase(chained);
+      const auto jobs = repairing_.find(name);
+      if (jobs == repairing_.end() || every_job_staged(jobs->second)) {
+        // Every window it holds is in the pool's topology now (a repair does not change that):
+        // it knows nothing the pool does not, and starts empty. Chained from window to window
+        // while repairs lag, it would otherwise keep every key their batches touched.
+        if (jobs != repairing_.end()) count_off_staged(jobs->second, *checker);
+        checker->clear();
+      }
     } else if (const auto jobs = repairing_.find(name); jobs != repairing_.end()) {
       // The last window in flight's checker, emptied by its worker once staged, is this one's.
       RepairJob& last = *jobs->second.back();

@@ -132,6 +132,12 @@ class PoolService {
   }
   // Batches waiting for their pool's engine (offer()), not yet checked nor in the window.
   std::size_t held_batches() const { return held_count_; }
+  // Keys the pool's newest checker holds beside the pool (BatchChecker::entries; 0 when it
+  // has none): the memory its chain of windows in flight takes.
+  std::size_t checker_entries(const std::string& pool) {
+    const BatchChecker* checker = chain_checker(pool);
+    return checker == nullptr ? 0 : checker->entries();
+  }
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
   // The open window holds a pool's retirement (RetirePool, ingest.proto): the caller should
@@ -318,6 +324,7 @@ class PoolService {
   bool waits_for_engine(const DecodedBatch& batch);
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
+  static bool every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs);
   // `job` of the pool is not staged yet; asks it to wake the loop once it is (false: it is).
   bool waits_for_stage(RepairJob& job);
   // Holds `batch`, first of its pool's waiting batches, until `job` is staged (offer_decoded
@@ -361,6 +368,13 @@ class PoolService {
   // events: kWindowsBehind full windows ([batching] max_events each).
   static constexpr std::uint64_t kWindowsBehind = 2;
   std::uint64_t max_events_behind_;
+  // A pool's chained checker keeps the keys of every window it checked until one finds the
+  // windows before it staged (window_pool() empties it then). Past this many entries, the
+  // pool's next window waits for that (waits_for_engine()): its memory stays within a bound
+  // of the events in flight, whatever keys a long run brings (every arriving vertex id).
+  static constexpr std::uint64_t kChainedEntriesPerEventBehind = 16;
+  static constexpr std::uint64_t kChainedEntriesFloor = 1u << 18;
+  std::uint64_t max_chained_entries_;
   ServiceState state_;
   PoolRouting routing_;
   storage::CommitLog& log_;

@@ -54,6 +54,7 @@ class BatchChecker::Overlay {
   }
 
   std::size_t accepted_events() const { return accepted_events_; }
+  std::size_t entries() const { return vertex_.size() + edge_override_.size() + partner_.size(); }
 
   BatchChecker::CountChange end_window() {
     const BatchChecker::CountChange change{alive_change_ - window_start_.alive_change,
@@ -416,6 +417,8 @@ std::optional<EventError> BatchChecker::accept(std::span<const Event> batch) {
 void BatchChecker::clear() { overlay_->clear(); }
 
 std::size_t BatchChecker::accepted_events() const { return overlay_->accepted_events(); }
+
+std::size_t BatchChecker::entries() const { return overlay_->entries(); }
 
 BatchChecker::CountChange BatchChecker::end_window() { return overlay_->end_window(); }
 

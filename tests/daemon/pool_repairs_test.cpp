@@ -557,6 +557,58 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
+// A pool whose repairs always lag one window: each new window checks on top of the chained
+// checker, which would keep every vertex key that ever arrived or left. It is emptied when a
+// window opens with every earlier one staged, and past its bound (16 entries per event that
+// may be behind, plus 2^18) the pool's next batch waits for that; nothing is refused or lost.
+TEST(PoolRepairs, AChainedCheckerStaysWithinItsBoundUnderEndlessLag) {
+  DaemonConfig config = testing::test_config({});
+  config.batching.max_events = 1000;  // back-pressure past 2000 events behind: not reached
+  const std::size_t bound = 16 * 2 * 1000 + (1u << 18);
+  ServiceHarness harness(config);
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  constexpr VertexKey kPerBatch = 100;
+  const auto batch_of = [](std::uint64_t i) {
+    std::vector<v1::Event> events;
+    for (VertexKey k = 0; k < kPerBatch; ++k) events.push_back(wire_add(i * kPerBatch + k));
+    if (i > 0) {  // the last batch's vertices leave: the pool stays small, the keys do not
+      for (VertexKey k = 0; k < kPerBatch; ++k) events.push_back(testing::wire_remove((i - 1) * kPerBatch + k));
+    }
+    return events;
+  };
+  std::size_t most_entries = 0;
+  std::size_t held_at = 0;
+  std::uint64_t seq = 0;
+  constexpr std::uint64_t kBatches = 4000;  // 100 new keys each: the bound is passed
+  for (std::uint64_t i = 0; i < kBatches; ++i) {
+    const std::optional<v1::Ack> answer = harness.offer(batch_of(i), from_client("c", i + 1, "A"));
+    ASSERT_FALSE(answer) << "batch " << i;  // in the window, or held
+    if (service.held_batches() > 0) {
+      if (held_at == 0) held_at = i;
+      // The lagging window's stage lets the held batch in, on an emptied checker.
+      ASSERT_TRUE(repairs.release_one("A"));
+      service.finish_repairs();
+      ASSERT_EQ(service.held_batches(), 0u) << "batch " << i;
+      EXPECT_LE(service.checker_entries("A"), 2 * kPerBatch);
+    }
+    most_entries = std::max(most_entries, service.checker_entries("A"));
+    const auto acks = service.seal();
+    ASSERT_EQ(acks.size(), 1u);
+    EXPECT_EQ(accepted_seq(acks[0]), ++seq);
+    service.start_apply();
+    // Every window but the newest staged and repaired: the newest lags.
+    while (repairs.queued("A") > 2) ASSERT_TRUE(repairs.release_one("A"));
+    service.finish_repairs();
+  }
+  EXPECT_GT(held_at, 0u);  // the bound was reached, and the chain restarted
+  EXPECT_LE(most_entries, bound + 2 * kPerBatch);
+  repair_to_the_end(repairs, service, "A");
+  EXPECT_EQ(service.progress("A")->seq, kBatches);
+  EXPECT_EQ(service.registry().find("A")->vertex_count(), kPerBatch);  // the last batch's
+}
+
 // The vertex and edge limits across windows in flight (max_edges 3, max_vertices 4): a
 // window's counts leave the chained checker once it is staged, so a batch that ends at a
 // limit is accepted, and one that ends above it refused with the message of the inline

@@ -43,6 +43,9 @@ class BatchChecker {
 
   // Events accepted so far, over all batches.
   std::size_t accepted_events() const;
+  // Keys held on the side of the pool (vertices, edges and holds the accepted batches changed):
+  // what the checker's memory grows with until clear(). O(1).
+  std::size_t entries() const;
 
   // What a window's batches change in the pool's vertex and edge counts, as the checker counts
   // them (the edges: an upper bound, see accept()).
