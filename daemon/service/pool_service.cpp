@@ -199,8 +199,10 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
 }
 
 bool PoolService::every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs) {
-  // One strand: the last staged means every job before it is.
-  return jobs.empty() || jobs.back()->staged.load(std::memory_order_acquire);
+  // Each asked (not only the last): a job that stages nothing may be born staged.
+  return std::all_of(jobs.begin(), jobs.end(), [](const std::shared_ptr<RepairJob>& job) {
+    return job->staged.load(std::memory_order_acquire);
+  });
 }
 
 bool PoolService::waits_for_stage(RepairJob& job) {
