@@ -173,9 +173,11 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
     // pool's windows to be staged, and starts empty then (window_pool()). A syncing window
     // with batches of the pool becomes a job whose end offers the held batches again.
     const BatchChecker* chain = chain_checker(batch.pool);
-    if (chain != nullptr && chain->entries() > max_chained_entries_ &&
-        (syncing_last_seq_.contains(batch.pool) || waits_for_stage(*jobs->second.back()))) {
-      return true;
+    if (chain != nullptr && chain->entries() > max_chained_entries_) {
+      if (syncing_last_seq_.contains(batch.pool)) return true;
+      for (const std::shared_ptr<RepairJob>& job : jobs->second) {
+        if (waits_for_stage(*job)) return true;  // woken when that one is staged
+      }
     }
   }
   // A retirement drops the engine, and a cluster may drop a pool at seal() (lost): neither
