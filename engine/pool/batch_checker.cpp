@@ -3,7 +3,6 @@
 // on the side in an overlay, with an undo log so that a refused batch leaves no trace.
 #include "yoke/batch_checker.h"
 
-#include <algorithm>
 #include <string>
 #include <utility>
 #include <vector>
@@ -34,7 +33,6 @@ class BatchChecker::Overlay {
     const Mark mark = this->mark();
     LimitWatch vertices_over, edges_over;
     for (std::size_t i = 0; i < batch.size(); ++i) {
-      if (i % kPrefetchRun == 0) prefetch_pool_lookups(batch.subspan(i));
       if (auto refusal = check(batch[i])) {
         undo_to(mark);
         return EventError{i, refusal->code, std::move(refusal->message)};
@@ -86,24 +84,6 @@ class BatchChecker::Overlay {
   }
 
  private:
-  // The pool's maps are far larger than the caches and the events read them at random, one
-  // cache miss after another. So the cells of the next run of events are asked for first:
-  // their vertices', then (those now at hand) their edges'; the misses overlap.
-  static constexpr std::size_t kPrefetchRun = 32;
-  void prefetch_pool_lookups(std::span<const Event> rest) const {
-    const std::span<const Event> run = rest.first(std::min(rest.size(), kPrefetchRun));
-    for (const Event& event : run) {
-      pool_.graph.prefetch_find(event.u);
-      pool_.graph.prefetch_find(event.v);
-    }
-    for (const Event& event : run) {
-      if (event.kind != EventKind::set_edge && event.kind != EventKind::unset_edge) continue;
-      const Vertex a = pool_.graph.find(event.u);
-      const Vertex b = pool_.graph.find(event.v);
-      if (a != kNoVertex && b != kNoVertex) pool_.graph.prefetch_find_edge(a, b);
-    }
-  }
-
   // Where a running count went above a limit and stayed there: the event that last crossed it.
   struct LimitWatch {
     bool above = false;

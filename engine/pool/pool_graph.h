@@ -25,9 +25,6 @@ class PoolGraph {
   std::size_t edge_count() const { return graph_.edge_count(); }
 
   Vertex find(VertexKey key) const;  // kNoVertex when absent
-  // Start loading what find(key) and find_edge(a, b) will read (FlatMap::prefetch).
-  void prefetch_find(VertexKey key) const { key_to_slot_.prefetch(key); }
-  void prefetch_find_edge(Vertex a, Vertex b) const { edge_of_pair_.prefetch(pair_key(a, b)); }
   VertexKey key(Vertex v) const { return slot_key_[v]; }
   bool alive(Vertex v) const { return slot_alive_[v] != 0; }
 

@@ -27,9 +27,6 @@ class FlatMap {
   // Removes `key` if present.
   void erase(std::uint64_t key) { table_.erase(key); }
 
-  // Starts loading the cell find(key) begins with (OpenTable::prefetch).
-  void prefetch(std::uint64_t key) const { table_.prefetch(key); }
-
  private:
   // The keys are mixed by the table: they need no hash of their own.
   struct SameKey {

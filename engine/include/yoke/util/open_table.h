@@ -87,12 +87,6 @@ class OpenTable {
     size_ = 0;
   }
 
-  // Starts loading the cell where find(key) begins, so that several look-ups' cache misses
-  // overlap instead of following one another. Changes nothing.
-  void prefetch(const Key& key) const {
-    if (!cells_.empty()) __builtin_prefetch(&cells_[home(key)]);
-  }
-
  private:
   struct Cell {
     Key key{};
