@@ -22,6 +22,7 @@
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/service/wire_types.h"
+#include "manual_repairs.h"
 #include "service_test_util.h"
 #include "yoke/v1/query.pb.h"
 
@@ -30,41 +31,10 @@ namespace {
 
 using testing::from_client;
 using testing::in_pool;
+using testing::ManualRepairs;
 using testing::ServiceHarness;
 using testing::wire_add;
 using testing::wire_set;
-
-// Keeps every task until the test runs a pool's: the latch of a pool whose repair is held.
-class ManualRepairs final : public RepairExecutor {
- public:
-  void run(const std::string& pool, std::function<void()> task) override {
-    queued_[pool].push_back(std::move(task));
-  }
-  // Runs the tasks queued for `pool` so far; how many.
-  std::size_t release(const std::string& pool) {
-    std::deque<std::function<void()>> tasks = std::move(queued_[pool]);
-    queued_.erase(pool);
-    for (auto& task : tasks) task();
-    return tasks.size();
-  }
-  // Runs the first task queued for `pool` (a window's stage, or its repair); false when none.
-  bool release_one(const std::string& pool) {
-    const auto it = queued_.find(pool);
-    if (it == queued_.end() || it->second.empty()) return false;
-    std::function<void()> task = std::move(it->second.front());
-    it->second.pop_front();
-    if (it->second.empty()) queued_.erase(it);
-    task();
-    return true;
-  }
-  std::size_t queued(const std::string& pool) const {
-    const auto it = queued_.find(pool);
-    return it == queued_.end() ? 0 : it->second.size();
-  }
-
- private:
-  std::map<std::string, std::deque<std::function<void()>>> queued_;
-};
 
 // Runs `pool`'s tasks, and the tasks they lead to, until no repair is in flight; the replies
 // finish_repairs() gave on the way.
@@ -350,6 +320,7 @@ TEST(PoolRepairs, RetirementsAndDrainedPoolsWaitForTheRepairsInFlight) {
 void expect_answers_of_the_inline_service(const DaemonConfig& config) {
   for (std::uint64_t seed = 1; seed <= 12; ++seed) {
     std::mt19937_64 random(seed);
+    std::mt19937_64 capture_random(seed + 1000);
     const auto below = [&random](std::uint64_t n) { return random() % n; };
     ServiceHarness reference(config);
     ServiceHarness held(config);
@@ -410,6 +381,11 @@ void expect_answers_of_the_inline_service(const DaemonConfig& config) {
       if (below(4) == 0) {
         take(service.seal());
         service.start_apply();
+      }
+      // A snapshot's capture of a pool, on its strand (a capture-only job when it is free),
+      // from a generator of its own so that the batches are the same with or without it.
+      if (capture_random() % 5 == 0) {
+        service.capture_on_worker(pools[capture_random() % pools.size()]);
       }
       if (below(3) == 0) {
         // A pool's every task, or one (a stage alone: the pool's batches are then checked
