@@ -128,9 +128,10 @@ class PoolService {
   // may take the capture's contents (the job is dropped after it).
   using CollectListener = std::function<void(const std::string&, EngineCapture*)>;
   void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
-  // A repair of `pool` is in flight (one per sealed window of it, in seq order): its engine
-  // state belongs to the executor until finish_repairs() collects the last, but for the
-  // topology the batch checks read once the last is staged (offer()). O(log pools).
+  // A repair of `pool` is in flight (one per sealed window of it, in seq order, and a
+  // snapshot's capture-only job: capture_on_worker()): its engine state belongs to the
+  // executor until finish_repairs() collects the last, but for the topology the batch checks
+  // read once the last is staged (offer()). O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
   bool repairs_in_flight() const { return !repairing_.empty() || !first_checks_.empty(); }
   // Someone waits for the engine of `pool` (a query held until its repairs are collected):
