@@ -1,7 +1,6 @@
 #include "background_snapshot.h"
 
 #include <algorithm>
-#include <stdexcept>
 #include <utility>
 
 #include <boost/asio/post.hpp>
@@ -51,14 +50,7 @@ void BackgroundSnapshot::pool_collected(const std::string& pool,
   if (waiting == waiting_.end()) return;
   v1::SnapshotRecord heading = std::move(waiting->second);
   waiting_.erase(waiting);
-  PoolService::EngineCapture taken;
-  if (engine != nullptr) {
-    taken = std::move(*engine);
-  } else {  // not one the service leaves out, but then the record is not complete
-    taken.failure = std::make_exception_ptr(
-        std::runtime_error("pool " + pool + " was collected without its capture"));
-  }
-  complete(std::move(heading), std::move(taken));
+  complete(std::move(heading), std::move(*engine));
   if (waiting_.empty()) start_write();
 }
 

@@ -122,10 +122,10 @@ class PoolService {
   // with the inline executor, for a pool the log holds nothing of, and for one retiring in
   // the open window (the caller captures those itself). O(log pools).
   bool capture_on_worker(const std::string& pool);
-  // Called by finish_repairs() for each job it collects that was asked for a capture (with
-  // it), or after which the pool has no repair in flight (nullptr unless asked), once its
-  // progress is recorded and before the batches that waited for it are checked. The listener
-  // may take the capture's contents (the job is dropped after it).
+  // Called by finish_repairs() for each job it collects that was asked for a capture, with
+  // it (its `failure` set when save() threw; a job whose repair failed is not reported: the
+  // daemon stops), once its progress is recorded and before the batches that waited for it
+  // are checked. The listener may take the capture's contents (the job is dropped after it).
   using CollectListener = std::function<void(const std::string&, EngineCapture*)>;
   void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
   // A repair of `pool` is in flight (one per sealed window of it, in seq order, and a

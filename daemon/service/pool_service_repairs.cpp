@@ -309,11 +309,10 @@ PoolService::RepairsDone PoolService::finish_repairs() {
       done.diffs.push_back(std::move(job.diff));
       done.window_closed.push_back(job.window_closed);
     }
-    // A snapshot waiting for the pool takes it at the repair it asked, or once the pool is
-    // free: never while a later repair may be changing the engine.
-    if (collect_listener_ && (job.captured || !repairing(job.pool))) {
-      collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
-    }
+    // A snapshot waiting for the pool takes the capture of the job it asked (saved on the
+    // worker at that job's end), never the engine now: several jobs of the pool may be
+    // collected at once, the later ones' windows already in it.
+    if (collect_listener_ && job.captured) collect_listener_(job.pool, &*job.captured);
   }
   if (failure) std::rethrow_exception(failure);
   std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });

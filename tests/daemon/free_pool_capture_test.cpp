@@ -161,6 +161,41 @@ TEST_F(FreePoolCapture, ARetirementWaitsForItsPoolsCapture) {
   EXPECT_EQ(contents.pools[0].pool(), "A");
 }
 
+// A pool with two windows in flight at the start is saved by its last repair's worker; both
+// repairs collected by one finish_repairs() give the record of the pool after both (the seq
+// and the engine of the same window), as a synchronous snapshot then holds it.
+TEST_F(FreePoolCapture, APoolsRepairsCollectedTogetherGiveTheLastOnesState) {
+  EXPECT_FALSE(harness_.offer({wire_add(4), wire_set(3, 4, 9)}, from_client("a", 2, "A")));
+  service().seal();
+  service().start_apply();
+  ASSERT_TRUE(repairs_.release_one("A"));  // window 2 staged: the next batch is checked
+  EXPECT_FALSE(harness_.offer({wire_add(5), wire_set(4, 5, 11)}, from_client("a", 3, "A")));
+  EXPECT_EQ(service().held_batches(), 0u);
+  service().seal();
+  service().start_apply();
+  EXPECT_EQ(repairs_.queued("A"), 3u);  // window 2's repair, window 3's stage and repair
+
+  snapshot_.start();
+  EXPECT_EQ(repairs_.queued("A"), 3u);  // asked of the last repair: no job of its own
+  repairs_.release("A");
+  repairs_.release("B");
+  EXPECT_EQ(service().finish_repairs().diffs.size(), 2u);
+  EXPECT_EQ(service().progress("A")->seq, 3u);
+  const std::vector<v1::SnapshotRecord> synchronous = capture_snapshot(service());
+
+  snapshot_.wait_written();
+  const std::optional<BackgroundSnapshot::Written> written = snapshot_.take_result();
+  ASSERT_TRUE(written.has_value());
+  ASSERT_FALSE(written->failure);
+  const storage::SnapshotContents contents = store_.read(written->position);
+  ASSERT_EQ(contents.pools.size(), synchronous.size());
+  for (std::size_t i = 0; i < synchronous.size(); ++i) {
+    EXPECT_EQ(without_wall_time(contents.pools[i]), without_wall_time(synchronous[i]))
+        << synchronous[i].pool();
+  }
+  EXPECT_EQ(contents.pools[0].seq(), 3u);
+}
+
 // With the inline executor nothing runs off the caller's thread: the free pools are saved at
 // start(), and the snapshot is written at once.
 TEST(FreePoolCaptureInline, SavesAtStartWithTheInlineExecutor) {
