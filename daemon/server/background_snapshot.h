@@ -53,8 +53,8 @@ class BackgroundSnapshot {
   // retiring in the open window) the engine states are saved here, O(their states).
   void start();
   // A job of `pool` was collected with its capture (PoolService's collect listener; never
-  // null): when the snapshot waits for the pool, it completes the pool's record (its contents are taken); once every
-  // pool is in, the write starts. A failed capture fails the snapshot.
+  // null): when the snapshot waits for the pool, it completes the pool's record (its contents
+  // are taken); once every pool is in, the write starts. A failed capture fails the snapshot.
   void pool_collected(const std::string& pool, PoolService::EngineCapture* engine);
   // The finished write's result, once (nothing while capturing or writing).
   std::optional<Written> take_result();
