@@ -1,6 +1,7 @@
 #include "background_snapshot.h"
 
 #include <algorithm>
+#include <utility>
 
 #include <boost/asio/post.hpp>
 
@@ -25,24 +26,41 @@ void BackgroundSnapshot::start() {
   wall_time_ = unix_time_us();
   start_time_ = Clock::now();
   records_.clear();
-  waiting_for_.clear();
+  waiting_.clear();
+  capture_failure_ = nullptr;
   for (const std::string& name : service_.registry().names()) {
-    if (service_.capture_after_repair(name)) {
-      waiting_for_.insert(name);
-    } else if (auto record = capture_pool_at(service_, name, position_, wall_time_)) {
-      records_.push_back(std::move(*record));
+    // Everything but the engine is read here, at the position: a later window's ledger work
+    // (close_group) happens before the capture of a repairing pool comes back.
+    std::optional<v1::SnapshotRecord> heading = record_heading(
+        service_, name, service_.journalled_seq(name), position_, wall_time_);
+    if (!heading) continue;
+    if (service_.capture_on_worker(name)) {
+      waiting_.emplace(name, std::move(*heading));
+    } else {  // free (the inline executor, or retiring in the open window): saved here
+      complete(std::move(*heading), PoolService::capture_engine(*service_.registry().find(name)));
     }
   }
-  if (waiting_for_.empty()) start_write();
+  if (waiting_.empty()) start_write();
 }
 
 void BackgroundSnapshot::pool_collected(const std::string& pool,
-                                        const PoolService::EngineCapture* engine) {
-  if (!started_ || writing_ || waiting_for_.erase(pool) == 0) return;
-  if (auto record = capture_pool_at(service_, pool, position_, wall_time_, engine)) {
-    records_.push_back(std::move(*record));
+                                        PoolService::EngineCapture* engine) {
+  if (!started_ || writing_) return;
+  const auto waiting = waiting_.find(pool);
+  if (waiting == waiting_.end()) return;
+  v1::SnapshotRecord heading = std::move(waiting->second);
+  waiting_.erase(waiting);
+  complete(std::move(heading), std::move(*engine));
+  if (waiting_.empty()) start_write();
+}
+
+void BackgroundSnapshot::complete(v1::SnapshotRecord heading, PoolService::EngineCapture engine) {
+  if (engine.failure) {
+    if (!capture_failure_) capture_failure_ = engine.failure;
+    return;
   }
-  if (waiting_for_.empty()) start_write();
+  add_engine_part(heading, std::move(engine));
+  records_.push_back(std::move(heading));
 }
 
 void BackgroundSnapshot::start_write() {
@@ -61,8 +79,10 @@ void BackgroundSnapshot::start_write() {
   written_ = done->get_future();
   auto records = std::make_shared<std::vector<v1::SnapshotRecord>>(std::move(records_));
   records_.clear();
-  boost::asio::post(writer_, [this, records, done, result = result_, start = start_time_] {
+  boost::asio::post(writer_, [this, records, done, result = result_, start = start_time_,
+                               failure = capture_failure_] {
     try {
+      if (failure) std::rethrow_exception(failure);  // a pool is missing: nothing is written
       result->path = store_.write(result->position, *records);
     } catch (...) {
       result->failure = std::current_exception();

@@ -1,9 +1,11 @@
-// A snapshot of every pool at one log position that does not hold the loop: each pool is
-// captured between its windows as soon as it is free (at once, or when its repair in flight is
-// collected: PoolService's collect listener; that repair saves the engine state on its worker,
-// PoolService::capture_after_repair), and the file is written on a thread of its own.
-// The loop learns "snapshot P written" (or failed) by `wake`. The local backend's timer and
-// after_events snapshots use it; requested and final snapshots stay synchronous.
+// A snapshot of every pool at one log position that does not hold the loop. At start() the
+// loop gathers each pool's heading (seq, retry marks, position, wall time: record_heading) and
+// asks for its engine state to be saved on a worker (PoolService::capture_on_worker: right
+// after the pool's last repair in flight, or by a capture-only job on a free pool's strand,
+// which the pool's later windows queue behind); PoolService's collect listener hands each
+// capture back (pool_collected), and once all are in the file is written on a thread of its
+// own. The loop learns "snapshot P written" (or failed) by `wake`. The local backend's timer
+// and after_events snapshots use it; requested and final snapshots stay synchronous.
 #pragma once
 
 #include <chrono>
@@ -11,8 +13,9 @@
 #include <exception>
 #include <functional>
 #include <future>
+#include <map>
 #include <memory>
-#include <set>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -44,23 +47,27 @@ class BackgroundSnapshot {
 
   // Started and its result not taken yet.
   bool busy() const { return started_; }
-  // Starts a snapshot named by the log's end now: every pool not repairing is captured here.
-  // Call on the loop with the window sealed (every batch in the ledger durable or held).
-  // O(state of the free pools).
+  // Starts a snapshot named by the log's end now. Call on the loop with no window syncing or
+  // sealed and not applied (every batch in the ledger durable, held, or in the open window).
+  // O(pools + client marks) with worker threads; with the inline executor (and for a pool
+  // retiring in the open window) the engine states are saved here, O(their states).
   void start();
-  // `pool`'s repair was collected (PoolService's collect listener): captured now when the
-  // snapshot waits for it; then, once every pool is captured, the write starts.
-  void pool_collected(const std::string& pool, const PoolService::EngineCapture* engine);
+  // A job of `pool` was collected with its capture (PoolService's collect listener; never
+  // null): when the snapshot waits for the pool, it completes the pool's record (its contents
+  // are taken); once every pool is in, the write starts. A failed capture fails the snapshot.
+  void pool_collected(const std::string& pool, PoolService::EngineCapture* engine);
   // The finished write's result, once (nothing while capturing or writing).
   std::optional<Written> take_result();
   // Blocks until the write has ended; every pool must have been captured (the caller settles
   // the repairs first). Then take_result() has it.
   void wait_written();
   // Pools still to capture.
-  bool capturing() const { return started_ && !waiting_for_.empty(); }
+  bool capturing() const { return started_ && !waiting_.empty(); }
 
  private:
   void start_write();
+  // Adds a pool's engine part to its heading, or keeps the capture's failure.
+  void complete(v1::SnapshotRecord heading, PoolService::EngineCapture engine);
 
   PoolService& service_;
   storage::SnapshotStore& store_;
@@ -71,8 +78,10 @@ class BackgroundSnapshot {
   std::uint64_t position_ = 0;
   std::uint64_t wall_time_ = 0;
   Clock::time_point start_time_;
-  std::set<std::string> waiting_for_;  // pools repairing at start, not captured yet
-  std::vector<v1::SnapshotRecord> records_;
+  // Pools asked at start() and not captured yet, by name, with their headings.
+  std::map<std::string, v1::SnapshotRecord> waiting_;
+  std::vector<v1::SnapshotRecord> records_;  // complete
+  std::exception_ptr capture_failure_;       // the first capture that failed
   std::future<void> written_;
   std::shared_ptr<Written> result_;
 };

@@ -109,7 +109,7 @@ YokedServer::YokedServer(const DaemonConfig& config, PoolService& service,
         service_, *snapshots_,
         [this] { boost::asio::post(io_, [this] { on_snapshot_written(); }); }, worker_nice);
     service_.set_collect_listener(
-        [this](const std::string& pool, const PoolService::EngineCapture* engine) {
+        [this](const std::string& pool, PoolService::EngineCapture* engine) {
           background_->pool_collected(pool, engine);
         });
     // The cluster's log keeps its commits on the loop: the cluster part reads and writes it

@@ -99,7 +99,7 @@ class PoolService {
   // Called on the executor's thread each time a repair has finished (the server wakes its
   // loop with it, which then calls finish_repairs()). Set it before repairs start.
   void set_repair_listener(std::function<void()> listener) { repair_listener_ = std::move(listener); }
-  // A pool's engine state as a snapshot keeps it, taken on the worker right after a repair.
+  // A pool's engine state as a snapshot keeps it, taken on a worker (or by the caller).
   struct EngineCapture {
     v1::PoolConfig config;
     Weight weight = 0;
@@ -107,21 +107,31 @@ class PoolService {
     std::size_t vertices = 0;
     std::size_t edges = 0;
     std::string state;  // Pool::save()
+    std::exception_ptr failure;  // Pool::save() threw: nothing else holds
   };
-  // Asks the last repair of `pool` in flight to capture the engine state it leaves, on the
-  // worker (the collect listener then receives it): a snapshot started while the pool repairs
-  // saves it off the loop. When that repair is already past the point, the capture is made
-  // here, now (the worker no longer touches the engine). False when no repair of it is in
-  // flight. O(log pools), or Pool::save() in that late case.
-  bool capture_after_repair(const std::string& pool);
-  // Called by finish_repairs() for each repair it collects that was asked for a capture (with
-  // it), or after which the pool has no repair in flight (nullptr unless asked), once its
-  // progress is recorded and before the batches that waited for it are checked.
-  using CollectListener = std::function<void(const std::string&, const EngineCapture*)>;
+  // `pool`'s engine state now, on the caller's thread (a failure is kept, not thrown).
+  // O(the pool's state).
+  static EngineCapture capture_engine(const Pool& pool);
+  // Asks for `pool`'s engine state, as the log's end now leaves it, to be captured on a worker
+  // (the collect listener then receives it), never by this call: a snapshot so saves no pool
+  // on the loop. A pool repairing: by its last repair in flight, right after it. A free pool
+  // (or one whose last repair is past that point): by a capture-only job on its strand, which
+  // counts as a repair in flight until collected (repairing()): its next windows' stages
+  // queue behind it, its retirement and queries wait for it, its batches are checked
+  // meanwhile (the capture only reads the pool, as the checks do). False, and nothing asked,
+  // with the inline executor, for a pool the log holds nothing of, and for one retiring in
+  // the open window (the caller captures those itself). O(log pools).
+  bool capture_on_worker(const std::string& pool);
+  // Called by finish_repairs() for each job it collects that was asked for a capture, with
+  // it (its `failure` set when save() threw; a job whose repair failed is not reported: the
+  // daemon stops), once its progress is recorded and before the batches that waited for it
+  // are checked. The listener may take the capture's contents (the job is dropped after it).
+  using CollectListener = std::function<void(const std::string&, EngineCapture*)>;
   void set_collect_listener(CollectListener listener) { collect_listener_ = std::move(listener); }
-  // A repair of `pool` is in flight (one per sealed window of it, in seq order): its engine
-  // state belongs to the executor until finish_repairs() collects the last, but for the
-  // topology the batch checks read once the last is staged (offer()). O(log pools).
+  // A repair of `pool` is in flight (one per sealed window of it, in seq order, and a
+  // snapshot's capture-only job: capture_on_worker()): its engine state belongs to the
+  // executor until finish_repairs() collects the last, but for the topology the batch checks
+  // read once the last is staged (offer()). O(log pools).
   bool repairing(const std::string& pool) const { return repairing_.contains(pool); }
   bool repairs_in_flight() const { return !repairing_.empty() || !first_checks_.empty(); }
   // Someone waits for the engine of `pool` (a query held until its repairs are collected):
@@ -215,6 +225,10 @@ class PoolService {
   // Blocks until every repair in flight has finished (finish_repairs() then collects them).
   void wait_repairs();
 
+  // The pool's last seq in the log: the sealed window's, its last repair's in flight, or its
+  // progress's (0: none). O(sealed window + log pools).
+  std::uint64_t journalled_seq(const std::string& pool) const;
+
   PoolRegistry& registry() { return state_.registry; }
   const PoolProgress* progress(const std::string& pool) const;
   PoolProgress& progress_of(const std::string& pool) { return state_.progress[pool]; }
@@ -287,6 +301,9 @@ class PoolService {
     bool capture_wanted = false;            // set by the loop before capture_passed
     bool capture_passed = false;            // the worker touches the engine no more
     std::optional<EngineCapture> captured;  // read by the loop once collected
+    // A capture-only job (capture_on_worker()): no window, one task that saves the engine.
+    // Born staged (it changes no topology) with no events, seq_before = last_seq = the pool's.
+    bool capture_only = false;
   };
   struct HeldBatch {
     Ticket ticket;
@@ -342,7 +359,9 @@ class PoolService {
   // Run on the executor: the window's batches staged in the engine, then the repair.
   void stage_window(RepairJob& job);
   void repair_window(RepairJob& job);
-  static EngineCapture capture_engine(const Pool& pool);
+  // Hands `pool` a capture-only job behind whatever it has in flight, and its one task.
+  void post_capture(const std::string& pool);
+  void capture_alone(RepairJob& job);
   // A job whose every task ended (under finished_mutex_).
   static bool tasks_ended(const RepairJob& job) { return job.tasks_ended == job.tasks_posted; }
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);
@@ -350,8 +369,6 @@ class PoolService {
   // nothing when the batch is new and may enter the window; otherwise offer()'s answer (a
   // refusal, a duplicate's Ack, or no Ack yet for a retry of a batch in the open window).
   std::optional<std::optional<v1::Ack>> apply_retry_rule(Ticket ticket, const DecodedBatch& batch);
-  // The pool's last seq in the log: its progress's, or its last repair's in flight.
-  std::uint64_t journalled_seq(const std::string& pool) const;
   // The pool's last seq given to a batch before the open window: its syncing window's, or
   // journalled_seq().
   std::uint64_t seq_before_window(const std::string& pool) const;

@@ -196,24 +196,67 @@ void PoolService::repair_window(RepairJob& job) {
 }
 
 PoolService::EngineCapture PoolService::capture_engine(const Pool& pool) {
-  return EngineCapture{pool_config(pool),   pool.weight(),     pool.pairs(),
-                       pool.vertex_count(), pool.edge_count(), pool.save()};
+  EngineCapture capture;
+  try {
+    capture = EngineCapture{pool_config(pool),   pool.weight(),     pool.pairs(),
+                            pool.vertex_count(), pool.edge_count(), pool.save(), nullptr};
+  } catch (...) {
+    capture.failure = std::current_exception();  // the snapshot fails, serving goes on
+  }
+  return capture;
 }
 
-bool PoolService::capture_after_repair(const std::string& pool) {
-  const auto jobs = repairing_.find(pool);
-  if (jobs == repairing_.end()) return false;
-  RepairJob& job = *jobs->second.back();
-  {
+bool PoolService::capture_on_worker(const std::string& pool) {
+  // Inline, a job would run here and now anyway; a pool retiring in the open window would
+  // hold its retirement behind the job, which start_apply() cannot do.
+  if (executor_ == &inline_repairs_ || retiring_.contains(pool)) return false;
+  if (const auto jobs = repairing_.find(pool); jobs != repairing_.end()) {
+    RepairJob& job = *jobs->second.back();
     const std::lock_guard lock(finished_mutex_);
-    if (job.capture_wanted) return true;  // asked already: the worker or this call makes it
-    job.capture_wanted = true;
-    if (!job.capture_passed) return true;
+    if (job.capture_wanted) return true;  // asked already (a capture-only job is born asked)
+    if (!job.capture_passed) {
+      job.capture_wanted = true;  // the worker saves the engine right after the repair
+      return true;
+    }
+    // Past that point: a job of its own behind it, as for a free pool.
+  } else if (journalled_seq(pool) == 0 || state_.registry.find(pool) == nullptr) {
+    return false;
   }
-  // The worker is past the point: it touches the engine no more, and no later repair of the
-  // pool is handed over before the loop's next start_apply().
-  if (!job.failure) job.captured = capture_engine(*job.engine);
+  post_capture(pool);
   return true;
+}
+
+void PoolService::post_capture(const std::string& pool) {
+  auto job = std::make_shared<RepairJob>();
+  job->pool = pool;
+  job->engine = state_.registry.find(pool);
+  job->capture_only = true;
+  job->capture_wanted = true;
+  job->seq_before = job->last_seq = journalled_seq(pool);
+  // It changes no topology: the loop goes on checking the pool's batches (a read beside a
+  // read), and a window sealed meanwhile is chained behind it (start_apply()).
+  job->staged.store(true);
+  std::deque<std::shared_ptr<RepairJob>>& in_flight = repairing_[pool];
+  job->after = in_flight.empty() ? nullptr : in_flight.back();
+  job->stage_mutex = in_flight.empty() ? std::make_shared<std::mutex>()
+                                       : in_flight.back()->stage_mutex;
+  in_flight.push_back(job);
+  post_task(job, [this, job] { capture_alone(*job); });
+}
+
+void PoolService::capture_alone(RepairJob& job) {
+  // Nothing writes the pool meanwhile: its later windows are staged behind this task (one
+  // strand), its retirement waits for the job's collection, and the loop only reads it.
+  if (job.after && job.after->failure) {
+    // A broken engine: the jobs after this one fail too (stage_window()), the daemon stops.
+    job.failure = std::make_exception_ptr(
+        std::runtime_error("pool " + job.pool + ": an earlier repair failed"));
+  } else {
+    job.captured = capture_engine(*job.engine);
+  }
+  job.after.reset();
+  const std::lock_guard lock(finished_mutex_);
+  job.capture_passed = true;
 }
 
 void PoolService::wait_repairs() {
@@ -259,16 +302,17 @@ PoolService::RepairsDone PoolService::finish_repairs() {
         wait != stage_waits_.end() && wait->second == done_job) {
       stage_waits_.erase(wait);
     }
-    PoolProgress& progress = state_.progress[job.pool];
-    progress.record_commit(job.result, job.last_seq, job.batches);
-    progress.last_timings.set_repair_us(job.repair_us);
-    done.diffs.push_back(std::move(job.diff));
-    done.window_closed.push_back(job.window_closed);
-    // A snapshot waiting for the pool takes it at the repair it asked, or once the pool is
-    // free: never while a later repair may be changing the engine.
-    if (collect_listener_ && (job.captured || !repairing(job.pool))) {
-      collect_listener_(job.pool, job.captured ? &*job.captured : nullptr);
+    if (!job.capture_only) {
+      PoolProgress& progress = state_.progress[job.pool];
+      progress.record_commit(job.result, job.last_seq, job.batches);
+      progress.last_timings.set_repair_us(job.repair_us);
+      done.diffs.push_back(std::move(job.diff));
+      done.window_closed.push_back(job.window_closed);
     }
+    // A snapshot waiting for the pool takes the capture of the job it asked (saved on the
+    // worker at that job's end), never the engine now: several jobs of the pool may be
+    // collected at once, the later ones' windows already in it.
+    if (collect_listener_ && job.captured) collect_listener_(job.pool, &*job.captured);
   }
   if (failure) std::rethrow_exception(failure);
   std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });

@@ -2,44 +2,50 @@
 
 #include <algorithm>
 #include <chrono>
+#include <exception>
 #include <optional>
+#include <utility>
 
 #include "unix_time.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
 
-std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& name,
-                                                 std::uint64_t position, std::uint64_t wall_time,
-                                                 const PoolService::EngineCapture* engine) {
-  const PoolProgress* progress = service.progress(name);
-  const Pool* pool = service.registry().find(name);
-  if (progress == nullptr || progress->seq == 0 || pool == nullptr) return std::nullopt;
+std::optional<v1::SnapshotRecord> record_heading(PoolService& service, const std::string& name,
+                                                 std::uint64_t seq, std::uint64_t position,
+                                                 std::uint64_t wall_time) {
+  if (seq == 0 || service.registry().find(name) == nullptr) return std::nullopt;
   v1::SnapshotRecord record;
   record.set_pool(name);
-  record.set_seq(progress->seq);
-  PoolService::EngineCapture here;
-  if (engine == nullptr) {
-    here = {pool_config(*pool), pool->weight(), pool->pairs(), pool->vertex_count(),
-            pool->edge_count(), pool->save()};
-    engine = &here;
-  }
-  *record.mutable_config() = engine->config;
+  record.set_seq(seq);
   for (const auto& [client, mark] : service.ledger().clients_of(name)) {
-    if (auto kept = snapshot_mark(client, mark, progress->seq)) *record.add_clients() = *kept;
+    if (auto kept = snapshot_mark(client, mark, seq)) *record.add_clients() = *kept;
   }
-  record.set_weight(engine->weight);
-  record.set_pairs(engine->pairs);
-  record.set_vertices(engine->vertices);
-  record.set_edges(engine->edges);
   record.set_wall_time_unix_us(wall_time);
-  record.set_engine_state_format(kEngineStateFormat);
-  if (engine == &here) {
-    record.set_engine_state(std::move(here.state));
-  } else {
-    record.set_engine_state(engine->state);
-  }
   record.set_journal_position(position);
+  return record;
+}
+
+void add_engine_part(v1::SnapshotRecord& record, PoolService::EngineCapture engine) {
+  *record.mutable_config() = std::move(engine.config);
+  record.set_weight(engine.weight);
+  record.set_pairs(engine.pairs);
+  record.set_vertices(engine.vertices);
+  record.set_edges(engine.edges);
+  record.set_engine_state_format(kEngineStateFormat);
+  record.set_engine_state(std::move(engine.state));
+}
+
+std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& name,
+                                                 std::uint64_t position, std::uint64_t wall_time) {
+  const PoolProgress* progress = service.progress(name);
+  if (progress == nullptr) return std::nullopt;
+  std::optional<v1::SnapshotRecord> record =
+      record_heading(service, name, progress->seq, position, wall_time);
+  if (!record) return std::nullopt;
+  PoolService::EngineCapture engine = PoolService::capture_engine(*service.registry().find(name));
+  if (engine.failure) std::rethrow_exception(engine.failure);
+  add_engine_part(*record, std::move(engine));
   return record;
 }
 

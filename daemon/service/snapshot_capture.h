@@ -22,13 +22,21 @@ std::vector<v1::SnapshotRecord> capture_snapshot(PoolService& service);
 
 // One pool's record in a snapshot named `position` taken at `wall_time`, or nothing when the
 // pool has applied nothing: call it when the pool's state is the one at `position` (between
-// its windows; a pool repairing then is captured once its repair is collected, before any
-// later window of it is sealed). O(the pool's state).
-// With `engine` (PoolService::capture_after_repair), the engine's part comes from there and
-// only the service's part (seq, retry marks) is read here: O(the pool's client marks).
-std::optional<v1::SnapshotRecord> capture_pool_at(
-    PoolService& service, const std::string& pool, std::uint64_t position,
-    std::uint64_t wall_time, const PoolService::EngineCapture* engine = nullptr);
+// its windows, no repair of it in flight). O(the pool's state): Pool::save() here.
+std::optional<v1::SnapshotRecord> capture_pool_at(PoolService& service, const std::string& pool,
+                                                 std::uint64_t position, std::uint64_t wall_time);
+
+// A pool's record in two parts, for a snapshot whose engine states are saved off the loop
+// (daemon/server/background_snapshot). The heading, gathered on the loop at the snapshot's
+// start: the pool, `seq` (its last in the log at `position`), its retry marks up to `seq`, the
+// position and `wall_time`; nothing when `seq` is 0 or the pool is unknown. O(the pool's
+// client marks).
+std::optional<v1::SnapshotRecord> record_heading(PoolService& service, const std::string& pool,
+                                                 std::uint64_t seq, std::uint64_t position,
+                                                 std::uint64_t wall_time);
+// Then the engine's part (config, counts, state), captured at that same seq. O(1) beyond the
+// state's move.
+void add_engine_part(v1::SnapshotRecord& record, PoolService::EngineCapture engine);
 
 // One pool's record, at the position that names a snapshot of that pool alone: its
 // last_position + 1 (in cluster mode the pool's snapshot subject; the record's

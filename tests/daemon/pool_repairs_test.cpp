@@ -9,6 +9,7 @@
 #include <deque>
 #include <functional>
 #include <map>
+#include <optional>
 #include <random>
 #include <tuple>
 #include <set>
@@ -18,10 +19,13 @@
 
 #include <gtest/gtest.h>
 
+#include "daemon/server/background_snapshot.h"
 #include "daemon/server/repair_threads.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/query_handler.h"
 #include "daemon/service/wire_types.h"
+#include "daemon/snapshots/snapshot_directory.h"
+#include "manual_repairs.h"
 #include "service_test_util.h"
 #include "yoke/v1/query.pb.h"
 
@@ -30,41 +34,10 @@ namespace {
 
 using testing::from_client;
 using testing::in_pool;
+using testing::ManualRepairs;
 using testing::ServiceHarness;
 using testing::wire_add;
 using testing::wire_set;
-
-// Keeps every task until the test runs a pool's: the latch of a pool whose repair is held.
-class ManualRepairs final : public RepairExecutor {
- public:
-  void run(const std::string& pool, std::function<void()> task) override {
-    queued_[pool].push_back(std::move(task));
-  }
-  // Runs the tasks queued for `pool` so far; how many.
-  std::size_t release(const std::string& pool) {
-    std::deque<std::function<void()>> tasks = std::move(queued_[pool]);
-    queued_.erase(pool);
-    for (auto& task : tasks) task();
-    return tasks.size();
-  }
-  // Runs the first task queued for `pool` (a window's stage, or its repair); false when none.
-  bool release_one(const std::string& pool) {
-    const auto it = queued_.find(pool);
-    if (it == queued_.end() || it->second.empty()) return false;
-    std::function<void()> task = std::move(it->second.front());
-    it->second.pop_front();
-    if (it->second.empty()) queued_.erase(it);
-    task();
-    return true;
-  }
-  std::size_t queued(const std::string& pool) const {
-    const auto it = queued_.find(pool);
-    return it == queued_.end() ? 0 : it->second.size();
-  }
-
- private:
-  std::map<std::string, std::deque<std::function<void()>>> queued_;
-};
 
 // Runs `pool`'s tasks, and the tasks they lead to, until no repair is in flight; the replies
 // finish_repairs() gave on the way.
@@ -350,6 +323,7 @@ TEST(PoolRepairs, RetirementsAndDrainedPoolsWaitForTheRepairsInFlight) {
 void expect_answers_of_the_inline_service(const DaemonConfig& config) {
   for (std::uint64_t seed = 1; seed <= 12; ++seed) {
     std::mt19937_64 random(seed);
+    std::mt19937_64 capture_random(seed + 1000);
     const auto below = [&random](std::uint64_t n) { return random() % n; };
     ServiceHarness reference(config);
     ServiceHarness held(config);
@@ -410,6 +384,11 @@ void expect_answers_of_the_inline_service(const DaemonConfig& config) {
       if (below(4) == 0) {
         take(service.seal());
         service.start_apply();
+      }
+      // A snapshot's capture of a pool, on its strand (a capture-only job when it is free),
+      // from a generator of its own so that the batches are the same with or without it.
+      if (capture_random() % 5 == 0) {
+        service.capture_on_worker(pools[capture_random() % pools.size()]);
       }
       if (below(3) == 0) {
         // A pool's every task, or one (a stage alone: the pool's batches are then checked
@@ -724,7 +703,9 @@ TEST(PoolRepairs, RefusingTheWindowRefusesTheBatchesWaitingForARepair) {
 // checked on this thread against pools whose repairs run meanwhile (or wait for a window to be
 // staged) and pools repair at once. Every batch is acknowledged once with its pool's next seq,
 // every pool's diffs come in seq order without a gap, and the pools end as the inline run of
-// the same batches ends them (weight and seq), certified. Run under ThreadSanitizer too
+// the same batches ends them (weight and seq), certified. A background snapshot starts every
+// fifth window (free pools captured on their strands while batches are checked), and a
+// restart from the newest one ends as the inline run too. Run under ThreadSanitizer too
 // (DEVELOPERS.md, "Inside the daemon").
 void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& spec,
                                                     std::uint64_t seed, std::size_t threads_count) {
@@ -736,6 +717,27 @@ void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& s
   PoolService& service = harness.service();
   RepairThreads threads(threads_count);
   service.set_repair_executor(&threads);
+  // Background snapshots every few windows: free pools captured on their strands meanwhile.
+  SnapshotDirectory store(harness.snapshot_dir(), 3);
+  BackgroundSnapshot snapshot(service, store, [] {});
+  service.set_collect_listener([&snapshot](const std::string& pool,
+                                           PoolService::EngineCapture* engine) {
+    snapshot.pool_collected(pool, engine);
+  });
+  std::size_t snapshots_written = 0;
+  std::size_t windows_closed = 0;
+  const auto take_snapshot_result = [&] {
+    if (std::optional<BackgroundSnapshot::Written> written = snapshot.take_result()) {
+      if (written->failure) {
+        try {
+          std::rethrow_exception(written->failure);
+        } catch (const std::exception& error) {
+          ADD_FAILURE() << "snapshot at " << written->position << " failed: " << error.what();
+        }
+      }
+      ++snapshots_written;
+    }
+  };
 
   std::map<std::string, std::uint64_t> next_seq;     // per pool, the seq the next ack must carry
   std::map<std::string, std::uint64_t> last_diff;   // per pool, the seq of its last diff
@@ -769,6 +771,8 @@ void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& s
     take_acks(service.seal());
     service.start_apply();
     take_done(service.finish_repairs());
+    take_snapshot_result();
+    if (!snapshot.busy() && ++windows_closed % 5 == 0) snapshot.start();
   }
   while (service.repairs_in_flight() || !service.window_empty()) {
     service.wait_repairs();
@@ -776,6 +780,9 @@ void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& s
     take_acks(service.seal());
     service.start_apply();
   }
+  snapshot.wait_written();
+  take_snapshot_result();
+  EXPECT_GT(snapshots_written, 0u);
   EXPECT_EQ(acknowledged, offered);
   EXPECT_TRUE(pool_of_ticket.empty());
   for (const std::string& pool : spec.pools) {
@@ -792,7 +799,20 @@ void expect_windows_in_order_with_repairs_in_flight(const testing::ScriptSpec& s
     EXPECT_TRUE(testing::pool_certified(*ours)) << pool;
   }
   threads.join();
+  service.set_collect_listener(nullptr);
   service.set_repair_executor(nullptr);
+
+  // A restart from the newest of those snapshots and the log after it: the same pools.
+  const RecoveryReport report = harness.restart(3);
+  EXPECT_TRUE(report.snapshot_position.has_value());
+  for (const std::string& pool : spec.pools) {
+    const Pool* theirs = reference.service().registry().find(pool);
+    const Pool* ours = harness.service().registry().find(pool);
+    ASSERT_EQ(ours == nullptr, theirs == nullptr) << pool;
+    if (ours == nullptr) continue;
+    EXPECT_EQ(harness.service().progress(pool)->seq, reference.service().progress(pool)->seq);
+    EXPECT_EQ(ours->weight(), theirs->weight()) << pool;
+  }
 }
 
 TEST(PoolRepairs, WindowsOfOnePoolApplyInOrderWithManyPoolsInFlight) {

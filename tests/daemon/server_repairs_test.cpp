@@ -228,6 +228,78 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   EXPECT_EQ(last.pools.size(), 2u);
 }
 
+// A pool free when a background snapshot starts is saved on its strand, not on the loop: with
+// A recovered (seq 1) and its strand blocked, B's window starts a snapshot; A's next batch is
+// acknowledged while A's capture waits, and its window, repaired after the capture, is not in
+// that snapshot. A restart from the snapshots finds both pools as they were.
+TEST(ServerRepairs, AFreePoolsCaptureWaitsOnItsStrandWhileItsBatchesAreAcknowledged) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+  {  // A's first window, journalled by a daemon of the service alone
+    auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+    SnapshotDirectory none(dir.path() / "snapshots", config.snapshots.keep);
+    RecoveryReport report;
+    PoolService service(config, recover(config, *log, none, report), *log);
+    ASSERT_FALSE(service.offer(1, testing::ingest_message({wire_add(1), wire_add(2),
+                                                           wire_set(1, 2, 5)},
+                                                          from_client("a", 1, "A"))));
+    ASSERT_EQ(testing::close_window(service).acks.size(), 1u);
+  }
+  auto yoked = std::make_unique<HeldRepairDaemon>(config, dir.path());
+  ASSERT_EQ(yoked->report.pools, 1u);
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  ASSERT_TRUE(next_ack(ingest).has_accepted());  // a snapshot starts: A's capture is held
+  send_batch(ingest, {wire_add(3), wire_set(2, 3, 9)}, from_client("a", 2, "A"));
+  const v1::Ack a2 = next_ack(ingest);
+  ASSERT_TRUE(a2.has_accepted()) << a2.DebugString();
+  EXPECT_EQ(a2.accepted().seq(), 2u);
+  // Nothing written yet: the snapshot waits for A's capture, behind the latch on A's strand.
+  EXPECT_TRUE(yoked->snapshots.positions().empty());
+
+  yoked->latch.set_value();
+  ask_summary(query, "A", 1);  // answered once A's capture and window are collected
+  const v1::QueryReply on_a = next_answer(query);
+  ASSERT_TRUE(on_a.has_summary()) << on_a.DebugString();
+  EXPECT_EQ(on_a.summary().seq(), 2u);
+  EXPECT_EQ(on_a.summary().weight(), 9);
+  ::kill(::getpid(), SIGTERM);
+  ASSERT_EQ(yoked->status.get(), kYokedOk);
+
+  // The oldest snapshot, started at B's window: A at seq 1 (before its window), B at seq 1.
+  const std::vector<std::uint64_t> positions = yoked->snapshots.positions();
+  ASSERT_GE(positions.size(), 2u);
+  const storage::SnapshotContents first = yoked->snapshots.read(positions.back());
+  ASSERT_EQ(first.pools.size(), 2u);
+  EXPECT_EQ(first.pools[0].pool(), "A");
+  EXPECT_EQ(first.pools[0].seq(), 1u);
+  EXPECT_EQ(first.pools[0].weight(), 5);
+  EXPECT_EQ(first.pools[0].vertices(), 2u);
+  EXPECT_TRUE(testing::pool_certified(*restore_checked(first.pools[0])));
+  EXPECT_EQ(first.pools[1].pool(), "B");
+  EXPECT_EQ(first.pools[1].seq(), 1u);
+
+  yoked.reset();  // the journal unlocked
+  // Recovered from the oldest snapshot alone (the newer ones gone) plus the journal after it:
+  // A's window is replayed.
+  const SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  for (std::size_t i = 0; i + 1 < positions.size(); ++i) {
+    std::filesystem::remove(snapshots.path_for(positions[i]));  // newest first
+  }
+  auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  RecoveryReport report;
+  PoolService restarted(config, recover(config, *log, snapshots, report), *log);
+  EXPECT_EQ(report.snapshot_position, positions.back());
+  EXPECT_EQ(restarted.progress("A")->seq, 2u);
+  EXPECT_EQ(restarted.registry().find("A")->weight(), 9);
+  EXPECT_TRUE(testing::pool_certified(*restarted.registry().find("A")));
+}
+
 // The local journal behind a latch: its first commit() waits (on the journal thread) until the
 // test opens it, and says when it began.
 class HeldCommitLog : public testing::ForwardingCommitLog {
