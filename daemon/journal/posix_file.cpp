@@ -96,6 +96,19 @@ void write_all(const FileDescriptor& file, std::string_view bytes,
   }
 }
 
+std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, std::uint64_t offset,
+                          std::size_t piece, const std::filesystem::path& path) {
+  while (!bytes.empty()) {
+    const std::string_view next = bytes.substr(0, piece);
+    write_all(file, next, path);
+    ::sync_file_range(file.get(), static_cast<off_t>(offset), static_cast<off_t>(next.size()),
+                      SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+    offset += next.size();
+    bytes.remove_prefix(next.size());
+  }
+  return offset;
+}
+
 void sync_data(const FileDescriptor& file, const std::filesystem::path& path) {
   if (file_system().sync_data(file.get()) != 0) fail("fdatasync of", path);
 }

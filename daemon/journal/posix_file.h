@@ -46,6 +46,14 @@ std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path&
 // Writes every byte (retrying short writes and EINTR) or throws.
 void write_all(const FileDescriptor& file, std::string_view bytes,
                const std::filesystem::path& path);
+// write_all of `bytes` at the file's end `offset`, a piece of `piece` bytes at a time, each
+// written back to the device (sync_file_range) before the next is written: a big file then
+// never fills the device's queue, where another file's fdatasync (the journal's) would wait
+// behind all of it. A hint about when, not a promise that: nothing is durable until
+// sync_data(), so a failed write-back is ignored (it bypasses the FileSystem seam, which it
+// changes nothing for). Returns the offset after `bytes`.
+std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, std::uint64_t offset,
+                          std::size_t piece, const std::filesystem::path& path);
 // fdatasync: the file's data and the metadata needed to read it (its size) are on disk.
 void sync_data(const FileDescriptor& file, const std::filesystem::path& path);
 // fsync of a directory: entries created, renamed or removed in it are on disk.

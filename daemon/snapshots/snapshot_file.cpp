@@ -17,6 +17,7 @@ constexpr std::string_view kMagic = "YOKESNAP";
 constexpr std::string_view kEndMarker = "SNAPEND1";
 constexpr std::uint32_t kVersion = 1;
 constexpr std::size_t kHeaderBytes = 8 + 4 + 8 + 4;  // before the header checksum
+constexpr std::size_t kWriteBackPiece = 256 * 1024;
 
 std::string header(std::uint64_t journal_position, std::uint32_t pools) {
   ByteWriter writer;
@@ -55,16 +56,21 @@ void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journa
   {
     journal::FileDescriptor file =
         journal::open_file(temporary, O_WRONLY | O_CREAT | O_TRUNC, 0644);
-    journal::write_all(file, header(journal_position, static_cast<std::uint32_t>(pools.size())),
-                       temporary);
+    // Written back a piece at a time as it goes (write_paced): the journal's syncs, on the same
+    // disk meanwhile, wait behind one piece at most instead of the whole file.
+    std::uint64_t end = 0;
+    const auto put = [&](std::string_view bytes) {
+      end = journal::write_paced(file, bytes, end, kWriteBackPiece, temporary);
+    };
+    put(header(journal_position, static_cast<std::uint32_t>(pools.size())));
     std::string payload;
     for (const v1::SnapshotRecord& pool : pools) {
       payload.clear();
       pool.SerializeToString(&payload);
-      journal::write_all(file, entry_frame(payload), temporary);
-      journal::write_all(file, payload, temporary);
+      put(entry_frame(payload));
+      put(payload);
     }
-    journal::write_all(file, kEndMarker, temporary);
+    put(kEndMarker);
     journal::sync_data(file, temporary);
   }
   journal::rename_file(temporary, path);

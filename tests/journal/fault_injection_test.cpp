@@ -75,6 +75,35 @@ TEST(FaultyFileSystem, FailsTheNthCallAndWithPersistentEveryLaterOne) {
   EXPECT_EQ(files.trace().front(), "open " + (dir / "f").string());
 }
 
+// write_paced (the snapshot files' writer): every piece in order, the end offset returned; the
+// write-back it asks for is a hint, so under the fault model its bytes are as undurable as any
+// until sync_data, and a crash before that forgets them.
+TEST(PacedWrites, WriteEveryPieceInOrderAndAreDurableOnlyWhenSynced) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  std::string bytes;
+  for (int i = 0; i < 70000; ++i) bytes += static_cast<char>('a' + i % 26);
+  {
+    const FileDescriptor file = open_file(dir / "f", O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "head", dir / "f");
+    EXPECT_EQ(write_paced(file, bytes, 4, 4096, dir / "f"), 4 + bytes.size());
+    EXPECT_TRUE(read_file(dir / "f") == "head" + bytes);
+    EXPECT_EQ(files.calls(), 2u + (bytes.size() + 4095) / 4096);  // open, one write a piece
+  }
+  sync_directory(open_directory(dir.path()), dir.path());
+  files.crash();
+  EXPECT_EQ(read_file(dir / "f"), "");  // nothing of it was synced
+  {
+    const FileDescriptor file = open_file(dir / "g", O_WRONLY | O_CREAT | O_EXCL);
+    write_paced(file, bytes, 0, 1 << 20, dir / "g");
+    sync_data(file, dir / "g");
+  }
+  sync_directory(open_directory(dir.path()), dir.path());
+  files.crash();
+  EXPECT_TRUE(read_file(dir / "g") == bytes);
+}
+
 TEST(JournalFaults, AFailedSyncCutsBackToTheLastDurableRecord) {
   TempDir dir;
   FaultyFileSystem files;
