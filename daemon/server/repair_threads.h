@@ -27,6 +27,10 @@ class RepairThreads final : public RepairExecutor {
   // Queues `task` on `pool`'s strand. Call from one thread (the loop): the strands' map is not
   // guarded. O(log pools).
   void run(const std::string& pool, std::function<void()> task) override;
+  // Drops the pool's strand. From the loop, as run(). O(log pools).
+  void forget(const std::string& pool) override { strands_.erase(pool); }
+  // Strands kept: one per pool given a task and not forgotten.
+  std::size_t strands() const { return strands_.size(); }
 
   // Blocks until every task given has run, then stops the workers; run() must not be called
   // after it. Idempotent.

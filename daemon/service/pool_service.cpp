@@ -98,6 +98,7 @@ void PoolService::drop_pool(const std::string& pool,
   syncing_last_seq_.erase(pool);
   taken_counts_.erase(pool);
   take_pool_state(state_, pool);
+  if (!repairing(pool)) executor_->forget(pool);  // dropped only with no repair in flight
 }
 
 const PoolProgress* PoolService::progress(const std::string& pool) const {

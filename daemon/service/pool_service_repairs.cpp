@@ -72,6 +72,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       retired_.window_closed.push_back(window_closed);
       chained_checkers_.erase(name);  // before the pool: it reads it
       take_pool_state(state_, name);
+      executor_->forget(name);  // nothing of it in flight (above)
       continue;
     }
     std::deque<std::shared_ptr<RepairJob>>& in_flight = repairing_[name];
@@ -337,9 +338,12 @@ void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& re
   for (const std::shared_ptr<FirstCheck>& check : ended) {
     --held_count_;
     if (check->failure) std::rethrow_exception(check->failure);  // as a repair's (the daemon stops)
+    const std::string pool = check->batch.pool;
     if (auto ack = offer_decoded(check->ticket, std::move(check->batch), check.get())) {
       replies.emplace_back(check->ticket, std::move(*ack));
     }
+    // Refused: the pool was never made, and its check, on its strand, is over.
+    if (state_.registry.find(pool) == nullptr && !repairing(pool)) executor_->forget(pool);
   }
 }
 

@@ -18,6 +18,11 @@ class RepairExecutor {
   // tasks of one pool in the order given. Never throws from a task: the service's tasks catch
   // their own failures.
   virtual void run(const std::string& pool, std::function<void()> task) = 0;
+  // `pool` is gone (retired, given up, or refused before it existed) and no task of it is
+  // queued or running: what the executor keeps for it may go, or a daemon that sees many
+  // short-lived pools would keep something for every name it ever saw. A later run() of the
+  // same name starts afresh.
+  virtual void forget(const std::string& /*pool*/) {}
 };
 
 // Runs every task at once, on the thread that gives it. O(1) beyond the task.

@@ -7,6 +7,7 @@
 #include <map>
 #include <string>
 #include <utility>
+#include <vector>
 
 #include "daemon/service/repair_executor.h"
 
@@ -39,9 +40,13 @@ class ManualRepairs final : public RepairExecutor {
     const auto it = queued_.find(pool);
     return it == queued_.end() ? 0 : it->second.size();
   }
+  // Every forget() so far, with how many tasks of that pool were queued at the time.
+  void forget(const std::string& pool) override { forgotten_.emplace_back(pool, queued(pool)); }
+  const std::vector<std::pair<std::string, std::size_t>>& forgotten() const { return forgotten_; }
 
  private:
   std::map<std::string, std::deque<std::function<void()>>> queued_;
+  std::vector<std::pair<std::string, std::size_t>> forgotten_;
 };
 
 }  // namespace yoke::daemon::testing

@@ -312,6 +312,40 @@ TEST(PoolRepairs, RetirementsAndDrainedPoolsWaitForTheRepairsInFlight) {
   EXPECT_EQ(service.registry().find("A"), nullptr);
   EXPECT_EQ(service.progress("B")->seq, 2u);
   EXPECT_EQ(last.diffs.size(), 2u);  // A's retirement and B's window
+  // The executor forgets A once it is gone, with nothing of it queued; B it keeps.
+  ASSERT_EQ(repairs.forgotten().size(), 1u);
+  EXPECT_EQ(repairs.forgotten()[0], (std::pair<std::string, std::size_t>{"A", 0}));
+}
+
+// Worker threads keep a strand per pool given a task: pools retired leave none behind, so a
+// daemon that sees many short-lived pools does not keep one for every name (bounded memory).
+TEST(PoolRepairs, RetiredPoolsLeaveNoStrandBehind) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  RepairThreads threads(2);
+  service.set_repair_executor(&threads);
+  for (int round = 0; round < 3; ++round) {
+    for (int i = 0; i < 10; ++i) {
+      const std::string pool = "short-" + std::to_string(round) + "-" + std::to_string(i);
+      ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 3)},
+                                 from_client("c", 1, pool)));
+    }
+    service.seal();
+    service.start_apply();
+    service.wait_repairs();
+    service.finish_repairs();
+    EXPECT_EQ(threads.strands(), 10u);
+    for (int i = 0; i < 10; ++i) {
+      const std::string pool = "short-" + std::to_string(round) + "-" + std::to_string(i);
+      EXPECT_FALSE(service.offer(100 + i, testing::retire_message(pool)));
+    }
+    service.seal();
+    service.start_apply();
+    service.wait_repairs();
+    service.finish_repairs();
+    EXPECT_EQ(service.registry().find("short-" + std::to_string(round) + "-0"), nullptr);
+    EXPECT_EQ(threads.strands(), 0u) << "round " << round;
+  }
 }
 
 // Random batches (many refused: vertex keys reused, edges unset twice, releases of pairs not
