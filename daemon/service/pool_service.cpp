@@ -32,7 +32,7 @@ PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage
       log_(log) {}
 
 bool PoolService::sealed_holds(const std::string& pool) const {
-  return syncing_seq_before_.contains(pool) ||
+  return syncing_.seq_before.contains(pool) ||
          std::any_of(sealed_.begin(), sealed_.end(),
                      [&pool](const PendingBatch& pending) { return pending.batch.pool == pool; });
 }
@@ -71,7 +71,7 @@ void PoolService::drop_pool(const std::string& pool,
                                                    "the commit log did not accept the batches of "
                                                    "pool " + pool + ": nothing was applied"));
   // The syncing window's (end_seal(): the log did not accept its group) before the open one's.
-  std::erase_if(syncing_, [&](PendingBatch& pending) {
+  std::erase_if(syncing_.batches, [&](PendingBatch& pending) {
     if (pending.batch.pool != pool) return false;
     replies.emplace_back(pending.ticket, refuse(rejected(pending.batch, error)));
     return true;
@@ -82,7 +82,7 @@ void PoolService::drop_pool(const std::string& pool,
     replies.emplace_back(pending.ticket, refuse(rejected(pending.batch, error)));
     return true;
   });
-  for (auto* waiting : {&syncing_duplicates_, &waiting_duplicates_}) {
+  for (auto* waiting : {&syncing_.duplicates, &waiting_duplicates_}) {
     std::erase_if(*waiting, [&](std::pair<Ticket, v1::Ack>& entry) {
       const v1::Ack& ack = entry.second;
       if (ack.pool() != pool) return false;
@@ -93,9 +93,9 @@ void PoolService::drop_pool(const std::string& pool,
   }
   window_pools_.erase(pool);  // before the pool: its checker reads it
   chained_checkers_.erase(pool);
-  syncing_checkers_.erase(pool);
-  syncing_seq_before_.erase(pool);
-  syncing_last_seq_.erase(pool);
+  syncing_.checkers.erase(pool);
+  syncing_.seq_before.erase(pool);
+  syncing_.last_seq.erase(pool);
   taken_counts_.erase(pool);
   take_pool_state(state_, pool);
   if (!repairing(pool)) executor_->forget(pool);  // dropped only with no repair in flight
@@ -164,7 +164,7 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
   // A retirement drops the engine (and may meet a checker the syncing window left), and a
   // cluster may lose the pool at end_seal(): neither while the pool's window syncs.
-  if ((batch.retire || !routing_.serves_every_pool()) && syncing_seq_before_.contains(batch.pool)) {
+  if ((batch.retire || !routing_.serves_every_pool()) && syncing_.seq_before.contains(batch.pool)) {
     return true;
   }
   const auto jobs = repairing_.find(batch.pool);
@@ -175,7 +175,7 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
     // with batches of the pool becomes a job whose end offers the held batches again.
     const BatchChecker* chain = chain_checker(batch.pool);
     if (chain != nullptr && chain->entries() > max_chained_entries_) {
-      if (syncing_last_seq_.contains(batch.pool)) return true;
+      if (syncing_.last_seq.contains(batch.pool)) return true;
       for (const std::shared_ptr<RepairJob>& job : jobs->second) {
         if (waits_for_stage(*job)) return true;  // woken when that one is staged
       }
@@ -237,7 +237,7 @@ void PoolService::count_off_staged(const std::deque<std::shared_ptr<RepairJob>>&
 
 BatchChecker* PoolService::chain_checker(const std::string& pool) {
   if (const auto it = window_pools_.find(pool); it != window_pools_.end()) return &it->second.checker;
-  if (const auto it = syncing_checkers_.find(pool); it != syncing_checkers_.end()) {
+  if (const auto it = syncing_.checkers.find(pool); it != syncing_.checkers.end()) {
     return &it->second;
   }
   if (const auto it = sealed_checkers_.find(pool); it != sealed_checkers_.end()) return &it->second;
@@ -397,9 +397,9 @@ std::optional<std::optional<v1::Ack>> PoolService::apply_retry_rule(Ticket ticke
       ++state_.progress[batch.pool].batches_duplicate;
       v1::Ack ack = accepted(ack_for(batch), answer.seq, true);
       if (answer.seq > journalled_seq(batch.pool)) {  // not durable yet: answered once it is
-        const auto syncing = syncing_last_seq_.find(batch.pool);
-        const bool in_syncing = syncing != syncing_last_seq_.end() && answer.seq <= syncing->second;
-        auto& waiting = in_syncing ? syncing_duplicates_ : waiting_duplicates_;
+        const auto syncing = syncing_.last_seq.find(batch.pool);
+        const bool in_syncing = syncing != syncing_.last_seq.end() && answer.seq <= syncing->second;
+        auto& waiting = in_syncing ? syncing_.duplicates : waiting_duplicates_;
         waiting.emplace_back(ticket, std::move(ack));
         return std::optional<v1::Ack>();
       }
@@ -448,8 +448,8 @@ std::uint64_t PoolService::journalled_seq(const std::string& pool) const {
 }
 
 std::uint64_t PoolService::seq_before_window(const std::string& pool) const {
-  const auto syncing = syncing_last_seq_.find(pool);
-  return syncing != syncing_last_seq_.end() ? syncing->second : journalled_seq(pool);
+  const auto syncing = syncing_.last_seq.find(pool);
+  return syncing != syncing_.last_seq.end() ? syncing->second : journalled_seq(pool);
 }
 
 PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool& pool) {
@@ -457,12 +457,12 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
   if (it == window_pools_.end()) {
     const std::uint64_t seq = seq_before_window(name);
     std::optional<BatchChecker> checker;
-    if (auto syncing = syncing_checkers_.find(name); syncing != syncing_checkers_.end()) {
+    if (auto syncing = syncing_.checkers.find(name); syncing != syncing_.checkers.end()) {
       // It holds the syncing window's batches, not yet in the pool: this window checks on top
       // of them, and start_apply() makes that window's repair a chained one with this count.
       taken_counts_.insert_or_assign(name, syncing->second.end_window());
       checker.emplace(std::move(syncing->second));
-      syncing_checkers_.erase(syncing);
+      syncing_.checkers.erase(syncing);
     } else if (auto chained = chained_checkers_.find(name); chained != chained_checkers_.end()) {
       checker.emplace(std::move(chained->second));
       chained_checkers_.erase(chained);
@@ -497,7 +497,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
 }
 
 std::vector<v1::JournalRecord> PoolService::begin_seal() {
-  if (syncing_active_) throw std::logic_error("a window is syncing already: one at a time");
+  if (syncing_.active) throw std::logic_error("a window is syncing already: one at a time");
   const std::uint64_t wall_time = unix_time_us();
   std::vector<v1::JournalRecord> records;
   records.reserve(window_.size());
@@ -515,32 +515,32 @@ std::vector<v1::JournalRecord> PoolService::begin_seal() {
       const Pool& pool = *state_.registry.find(batch.pool);
       *record.mutable_created() = pool_config(pool);
     }
-    syncing_last_seq_[batch.pool] = pending.seq;
+    syncing_.last_seq[batch.pool] = pending.seq;
   }
   for (auto& [name, in_window] : window_pools_) {
-    syncing_seq_before_[name] = in_window.seq_before;
+    syncing_.seq_before[name] = in_window.seq_before;
     // The ledger's horizon moves with the log, as recovery's replay of this group will move it:
     // now, before the next window's batches add marks a replay would not have yet.
-    if (syncing_last_seq_.contains(name)) {
+    if (syncing_.last_seq.contains(name)) {
       state_.ledger.close_group(name, in_window.seq_before + 1, wall_time);
     }
-    syncing_checkers_.insert_or_assign(name, std::move(in_window.checker));
+    syncing_.checkers.insert_or_assign(name, std::move(in_window.checker));
   }
   window_pools_.clear();
-  syncing_ = std::move(window_);
+  syncing_.batches = std::move(window_);
   window_.clear();
-  syncing_duplicates_ = std::move(waiting_duplicates_);
+  syncing_.duplicates = std::move(waiting_duplicates_);
   waiting_duplicates_.clear();
   window_events_ = 0;
-  syncing_active_ = true;
+  syncing_.active = true;
   return records;
 }
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(
     const storage::CommittedWindow& committed, std::vector<std::string>* lost_pools) {
-  if (!syncing_active_) throw std::logic_error("end_seal() without a window syncing");
+  if (!syncing_.active) throw std::logic_error("end_seal() without a window syncing");
   std::vector<std::pair<Ticket, v1::Ack>> replies;
-  replies.reserve(syncing_.size() + syncing_duplicates_.size());
+  replies.reserve(syncing_.batches.size() + syncing_.duplicates.size());
   std::set<std::string> lost;
   for (const storage::CommittedGroup& group : committed.groups) {
     if (!group.accepted) {
@@ -558,39 +558,32 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(
     if (lost_pools != nullptr) lost_pools->push_back(pool);
   }
 
-  for (const PendingBatch& pending : syncing_) {
+  for (const PendingBatch& pending : syncing_.batches) {
     replies.emplace_back(pending.ticket, accepted(ack_for(pending.batch), pending.seq, false));
   }
-  for (auto& waiting : syncing_duplicates_) replies.push_back(std::move(waiting));
-  for (const auto& [name, seq_before] : syncing_seq_before_) sealed_seq_before_[name] = seq_before;
+  for (auto& waiting : syncing_.duplicates) replies.push_back(std::move(waiting));
+  for (const auto& [name, seq_before] : syncing_.seq_before) sealed_seq_before_[name] = seq_before;
   // The checkers read the pools, which apply() is about to change: each goes to its pool's
   // repair, whose worker clears it for the batches that arrive meanwhile (those the next
   // window took stay there: taken_counts_).
-  for (auto& [name, checker] : syncing_checkers_) {
+  for (auto& [name, checker] : syncing_.checkers) {
     sealed_checkers_.insert_or_assign(name, std::move(checker));
   }
-  for (PendingBatch& pending : syncing_) sealed_.push_back(std::move(pending));
+  for (PendingBatch& pending : syncing_.batches) sealed_.push_back(std::move(pending));
   end_syncing();
   return replies;
 }
 
-void PoolService::end_syncing() {
-  syncing_.clear();
-  syncing_duplicates_.clear();
-  syncing_seq_before_.clear();
-  syncing_last_seq_.clear();
-  syncing_checkers_.clear();
-  syncing_active_ = false;
-}
+void PoolService::end_syncing() { syncing_ = SyncingWindow(); }
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Error& error) {
   std::vector<std::pair<Ticket, v1::Ack>> replies;
-  for (const auto* batches : {&syncing_, &window_}) {
+  for (const auto* batches : {&syncing_.batches, &window_}) {
     for (const PendingBatch& pending : *batches) {
       replies.emplace_back(pending.ticket, refuse(refused(ack_for(pending.batch), error)));
     }
   }
-  for (const auto* waiting : {&syncing_duplicates_, &waiting_duplicates_}) {
+  for (const auto* waiting : {&syncing_.duplicates, &waiting_duplicates_}) {
     for (const auto& [ticket, ack] : *waiting) {
       replies.emplace_back(ticket, refuse(refused(
                                        batch_ack(ack.client_id(), ack.client_batch(), ack.pool()),

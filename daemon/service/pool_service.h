@@ -182,7 +182,7 @@ class PoolService {
   std::vector<v1::JournalRecord> begin_seal();
   std::vector<std::pair<Ticket, v1::Ack>> end_seal(const storage::CommittedWindow& committed,
                                                    std::vector<std::string>* lost_pools = nullptr);
-  bool syncing() const { return syncing_active_; }
+  bool syncing() const { return syncing_.active; }
 
   // When the window will never be sealed (seal() threw: the log failed, or the daemon stops
   // without closing it): refuses every batch of the syncing window (begin_seal() without its
@@ -405,15 +405,18 @@ class PoolService {
   // another of the pool's (start_apply()): the next window checks on top of it.
   std::map<std::string, BatchChecker> chained_checkers_;
   std::set<std::string> retiring_;  // pools retired by the open, syncing or sealed window
-  // The window between begin_seal() and end_seal(): its batches (seq order per pool), retries
-  // of them, each pool's seq before it and last seq, and its checkers until the next window
-  // takes them (window_pool(), which keeps the count change of the window for start_apply()).
-  bool syncing_active_ = false;
-  std::vector<PendingBatch> syncing_;
-  std::vector<std::pair<Ticket, v1::Ack>> syncing_duplicates_;
-  std::map<std::string, std::uint64_t> syncing_seq_before_;
-  std::map<std::string, std::uint64_t> syncing_last_seq_;
-  std::map<std::string, BatchChecker> syncing_checkers_;
+  // The window between begin_seal() and end_seal(), forgotten whole by end_syncing().
+  struct SyncingWindow {
+    bool active = false;
+    std::vector<PendingBatch> batches;  // seq order per pool
+    std::vector<std::pair<Ticket, v1::Ack>> duplicates;  // retries of them
+    std::map<std::string, std::uint64_t> seq_before;  // each pool's seq before the window
+    std::map<std::string, std::uint64_t> last_seq;    // each pool's last seq in it
+    // Its checkers, until the next window takes them (window_pool(), which keeps the count
+    // change of the window for start_apply()).
+    std::map<std::string, BatchChecker> checkers;
+  };
+  SyncingWindow syncing_;
   std::map<std::string, BatchChecker::CountChange> taken_counts_;
   std::size_t window_events_ = 0;
   std::map<v1::Error::Code, std::uint64_t> refusals_;
