@@ -26,7 +26,8 @@ v1::Ack rejected(const DecodedBatch& batch, v1::Error error) {
 PoolService::PoolService(const DaemonConfig& config, ServiceState state, storage::CommitLog& log)
     : limits_(config.limits),
       max_events_behind_(kWindowsBehind * config.batching.max_events),
-      max_chained_entries_(kChainedEntriesPerEventBehind * max_events_behind_ + kChainedEntriesFloor),
+      max_chained_entries_(kChainedEntriesPerEventBehind * max_events_behind_ +
+                           kChainedEntriesFloor),
       state_(std::move(state)),
       routing_(config.cluster),
       log_(log) {}

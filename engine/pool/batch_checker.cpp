@@ -340,31 +340,22 @@ class BatchChecker::Overlay {
   }
 
   Mark mark() const { return {alive_change_, edge_change_}; }
+  // Puts back what `undo` says each key held, newest write first.
+  template <typename Table, typename Key, typename Value>
+  static void roll_back(Table& table, std::vector<Undo<Key, Value>>& undo) {
+    for (auto it = undo.rbegin(); it != undo.rend(); ++it) {
+      if (it->before) {
+        table.insert_or_assign(it->key, *it->before);
+      } else {
+        table.erase(it->key);
+      }
+    }
+    undo.clear();
+  }
   void undo_to(const Mark& mark) {
-    for (auto it = vertex_undo_.rbegin(); it != vertex_undo_.rend(); ++it) {
-      if (it->before) {
-        *vertex_.try_emplace(it->key, *it->before).first = *it->before;
-      } else {
-        vertex_.erase(it->key);
-      }
-    }
-    for (auto it = edge_undo_.rbegin(); it != edge_undo_.rend(); ++it) {
-      if (it->before) {
-        *edge_override_.try_emplace(it->key, *it->before).first = *it->before;
-      } else {
-        edge_override_.erase(it->key);
-      }
-    }
-    for (auto it = partner_undo_.rbegin(); it != partner_undo_.rend(); ++it) {
-      if (it->before) {
-        *partner_.try_emplace(it->key, *it->before).first = *it->before;
-      } else {
-        partner_.erase(it->key);
-      }
-    }
-    vertex_undo_.clear();
-    edge_undo_.clear();
-    partner_undo_.clear();
+    roll_back(vertex_, vertex_undo_);
+    roll_back(edge_override_, edge_undo_);
+    roll_back(partner_, partner_undo_);
     alive_change_ = mark.alive_change;
     edge_change_ = mark.edge_change;
   }

@@ -587,7 +587,9 @@ TEST(PoolRepairs, AChainedCheckerStaysWithinItsBoundUnderEndlessLag) {
     std::vector<v1::Event> events;
     for (VertexKey k = 0; k < kPerBatch; ++k) events.push_back(wire_add(i * kPerBatch + k));
     if (i > 0) {  // the last batch's vertices leave: the pool stays small, the keys do not
-      for (VertexKey k = 0; k < kPerBatch; ++k) events.push_back(testing::wire_remove((i - 1) * kPerBatch + k));
+      for (VertexKey k = 0; k < kPerBatch; ++k) {
+        events.push_back(testing::wire_remove((i - 1) * kPerBatch + k));
+      }
     }
     return events;
   };

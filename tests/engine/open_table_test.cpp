@@ -37,6 +37,11 @@ TEST(OpenTable, TryEmplaceKeepsAnExistingValue) {
   EXPECT_EQ(*table.find({1, 2}), 30);
   EXPECT_EQ(table.find({2, 1}), nullptr);
   EXPECT_EQ(table.size(), 1u);
+  table.insert_or_assign({1, 2}, 40);  // present: replaced
+  table.insert_or_assign({2, 1}, 50);  // absent: added
+  EXPECT_EQ(*table.find({1, 2}), 40);
+  EXPECT_EQ(*table.find({2, 1}), 50);
+  EXPECT_EQ(table.size(), 2u);
 }
 
 TEST(OpenTable, ClearEmptiesAndTheTableFillsAgain) {

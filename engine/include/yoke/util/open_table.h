@@ -44,6 +44,12 @@ class OpenTable {
     return {&cells_[i].value, true};
   }
 
+  // Stores `value` for `key`, present or not. Amortised O(1) expected.
+  void insert_or_assign(const Key& key, const Value& value) {
+    const auto [stored, inserted] = try_emplace(key, value);
+    if (!inserted) *stored = value;
+  }
+
   // try_emplace without looking for the key. Precondition: `key` is absent.
   void insert_new(const Key& key, const Value& value) {
     if (10 * (size_ + 1) > 7 * cells_.size()) grow();
