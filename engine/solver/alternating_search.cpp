@@ -77,6 +77,14 @@ void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Ve
   if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
 }
 
+inline void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {
+  // A lone tree ends by the time an edge into an exposed vertex becomes tight: the vertex stays
+  // free and exposed until then (only the tree's end changes the matching) and taking the edge
+  // augments. Bounds due later can never be taken, so none is queued from now on.
+  if (lone_tree_ && mate_[free_end] == kNoVertex) latest_end_ = due;
+  bounds_.push(due, e, free_edge_kind(free_end));
+}
+
 void AlternatingSearch::scan(Vertex v) {
   ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
@@ -125,14 +133,6 @@ void AlternatingSearch::queue_free_edge(EdgeIndex e, Vertex free_end, Weight sla
   queue_free_bound(e, free_end, due);
 }
 
-void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {
-  // A lone tree ends by the time an edge into an exposed vertex becomes tight: the vertex stays
-  // free and exposed until then (only the tree's end changes the matching) and taking the edge
-  // augments. Bounds due later can never be taken, so none is queued from now on.
-  if (lone_tree_ && mate_[free_end] == kNoVertex) latest_end_ = due;
-  bounds_.push(due, e, free_edge_kind(free_end));
-}
-
 void AlternatingSearch::queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind) {
   // An even end stays even for at most its dual's worth of steps (then its tree ends), and an
   // end that turns even again is rescanned. So an edge whose slack exceeds what its even ends
@@ -157,7 +157,16 @@ void AlternatingSearch::push_edges_to_even(NodeId node) {
   });
 }
 
-bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
+inline bool AlternatingSearch::edge_may_matter(const Edge& e, int sign_a, int sign_b) const {
+  // Every transition into an even-free or even-even state queues a fresh entry, except an even
+  // end turning free, which relies on the even-even entry: keep exactly those two states.
+  if (sign_a > 0 || sign_b > 0) return false;       // an odd end
+  if (sign_a == 0 && sign_b == 0) return false;     // no even end
+  if (sign_a < 0 && sign_b < 0) return forest_.top(e.a) != forest_.top(e.b);
+  return true;
+}
+
+inline bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
   if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return may_matter(entry);
   // Either end of the edge may have spent time in another state since the push (free after
   // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
@@ -197,15 +206,6 @@ bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
   }
   const Edge& e = graph_.edge(entry.id);
   return edge_may_matter(e, vertex_sign(e.a), vertex_sign(e.b));
-}
-
-bool AlternatingSearch::edge_may_matter(const Edge& e, int sign_a, int sign_b) const {
-  // Every transition into an even-free or even-even state queues a fresh entry, except an even
-  // end turning free, which relies on the even-even entry: keep exactly those two states.
-  if (sign_a > 0 || sign_b > 0) return false;       // an odd end
-  if (sign_a == 0 && sign_b == 0) return false;     // no even end
-  if (sign_a < 0 && sign_b < 0) return forest_.top(e.a) != forest_.top(e.b);
-  return true;
 }
 
 void AlternatingSearch::compact_bounds_if_bloated() {

@@ -98,7 +98,9 @@ class AlternatingSearch {
   void push_edges_to_even(NodeId node);
   void queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind);
   void queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach);
-  void queue_free_bound(EdgeIndex e, Vertex free_end, Weight due);  // past queue_free_edge's tests
+  // Past queue_free_edge's tests. Forced inline: scan calls it for most edges into free vertices,
+  // and a call there costs the saving and restoring of scan's registers each time.
+  [[gnu::always_inline]] void queue_free_bound(EdgeIndex e, Vertex free_end, Weight due);
   void grow_along(EdgeIndex e);
   void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
   NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
@@ -115,11 +117,13 @@ class AlternatingSearch {
   // The bounds on a dual step (BoundKind). An entry's key is never later than the moment its bound is
   // reached; entries that went stale are dropped or requeued with their exact key when they
   // surface (still_due).
-  bool still_due(const RadixHeap::Entry& entry);
+  // Forced inline, as is edge_may_matter: run() tests every entry it takes.
+  [[gnu::always_inline]] bool still_due(const RadixHeap::Entry& entry);
   // False for entries that can never become due again in the current state's future (still_due
   // would drop them without requeueing). No side effects.
   bool may_matter(const RadixHeap::Entry& entry) const;
-  bool edge_may_matter(const Edge& e, int sign_a, int sign_b) const;  // its part for edge entries
+  // Its part for edge entries.
+  [[gnu::always_inline]] bool edge_may_matter(const Edge& e, int sign_a, int sign_b) const;
   void compact_bounds_if_bloated();
 
   const Graph& graph_;
