@@ -28,11 +28,32 @@ DecodeResult decode_retire(const v1::RetirePool& retire) {
   decoded.client_batch = retire.client_batch();
   decoded.retire = true;
   decoded.at_seq = retire.at_seq();
-  decoded.wire.set_client_id(retire.client_id());
-  decoded.wire.set_client_batch(retire.client_batch());
-  decoded.wire.set_pool(pool);
   return decoded;
 }
+
+// The events a thread's parsed message keeps for the next parse (Clear() keeps them): one
+// big message (a base graph) would otherwise stay allocated for good.
+constexpr int kReusedEvents = 1 << 14;
+
+// The thread's message, parsed into anew by each decode_ingest; emptied whole after a message
+// of more than kReusedEvents events.
+class ReusedRequest {
+ public:
+  ReusedRequest() : request_(kept()) {}
+  ~ReusedRequest() {
+    if (request_.batch().events_size() > kReusedEvents) request_ = v1::IngestRequest();
+  }
+  ReusedRequest(const ReusedRequest&) = delete;
+  ReusedRequest& operator=(const ReusedRequest&) = delete;
+  v1::IngestRequest& get() { return request_; }
+
+ private:
+  static v1::IngestRequest& kept() {
+    thread_local v1::IngestRequest request;
+    return request;
+  }
+  v1::IngestRequest& request_;
+};
 
 }  // namespace
 
@@ -77,7 +98,8 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
                                   " bytes exceeds the limit of " +
                                   std::to_string(limits.max_message_bytes)));
   }
-  v1::IngestRequest request;
+  ReusedRequest reused;
+  v1::IngestRequest& request = reused.get();
   if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
     return refusal(make_error(v1::Error::MALFORMED_MESSAGE,
                               "the message is not a yoke.v1.IngestRequest"));
@@ -93,7 +115,7 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
                               "the request carries no kind this daemon knows (expected batch "
                               "or retire)"));
   }
-  v1::EventBatch& batch = *request.mutable_batch();
+  const v1::EventBatch& batch = request.batch();
   const std::string pool = resolve_pool_name(batch.pool());
   if (auto problem = pool_name_problem(pool)) {
     return refusal_for(batch, "", make_error(v1::Error::UNKNOWN_POOL, *problem));
@@ -126,7 +148,6 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
   decoded.client_id = batch.client_id();
   decoded.client_batch = batch.client_batch();
   decoded.after_batch = batch.after_batch();
-  decoded.wire = std::move(batch);
   return decoded;
 }
 

@@ -70,7 +70,8 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
       retired_.window_closed.push_back(window_closed);
-      chained_checkers_.erase(name);  // before the pool: it reads it
+      chained_checkers_.erase(name);  // before the pool: they read it
+      spare_checkers_.erase(name);
       take_pool_state(state_, name);
       executor_->forget(name);  // nothing of it in flight (above)
       continue;
@@ -314,6 +315,8 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     // worker at that job's end), never the engine now: several jobs of the pool may be
     // collected at once, the later ones' windows already in it.
     if (collect_listener_ && job.captured) collect_listener_(job.pool, &*job.captured);
+    // Emptied by the worker once staged, and not taken by a window since: kept for the next.
+    if (job.checker) spare_checkers_.try_emplace(job.pool, std::move(*job.checker));
   }
   if (failure) std::rethrow_exception(failure);
   std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });

@@ -74,6 +74,11 @@ v1::RepairStats to_wire(const RepairStats& stats) {
 
 v1::Event to_wire(const Event& event) {
   v1::Event wire;
+  write_wire(event, wire);
+  return wire;
+}
+
+void write_wire(const Event& event, v1::Event& wire) {
   switch (event.kind) {
     case EventKind::add_vertex: wire.set_kind(v1::Event::ADD_VERTEX); break;
     case EventKind::set_edge: wire.set_kind(v1::Event::SET_EDGE); break;
@@ -88,7 +93,6 @@ v1::Event to_wire(const Event& event) {
     wire.set_v(event.v);
   }
   if (event.kind == EventKind::set_edge) wire.set_w(event.w);
-  return wire;
 }
 
 v1::Ack batch_ack(const std::string& client_id, std::uint64_t client_batch,
