@@ -1,7 +1,10 @@
 #include "batch_decoder.h"
 
+#include <memory>
 #include <optional>
 #include <utility>
+
+#include <google/protobuf/arena.h>
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
@@ -31,28 +34,27 @@ DecodeResult decode_retire(const v1::RetirePool& retire) {
   return decoded;
 }
 
-// The events a thread's parsed message keeps for the next parse (Clear() keeps them): one
-// big message (a base graph) would otherwise stay allocated for good.
-constexpr int kReusedEvents = 1 << 14;
+// Each thread parses into an arena whose first block is kept from message to message
+// (Arena::Reset frees only the blocks a bigger message took beyond it): a batch's Event
+// messages cost no allocation each, and nothing the parse made outlives decode_ingest (the
+// DecodedBatch and the refusals copy what they keep).
+constexpr std::size_t kParseBlockBytes = std::size_t{256} << 10;
 
-// The thread's message, parsed into anew by each decode_ingest; emptied whole after a message
-// of more than kReusedEvents events.
-class ReusedRequest {
+class ParseArena {
  public:
-  ReusedRequest() : request_(kept()) {}
-  ~ReusedRequest() {
-    if (request_.batch().events_size() > kReusedEvents) request_ = v1::IngestRequest();
-  }
-  ReusedRequest(const ReusedRequest&) = delete;
-  ReusedRequest& operator=(const ReusedRequest&) = delete;
-  v1::IngestRequest& get() { return request_; }
+  ParseArena() : arena_(kept()) {}
+  ~ParseArena() { arena_.Reset(); }
+  ParseArena(const ParseArena&) = delete;
+  ParseArena& operator=(const ParseArena&) = delete;
+  google::protobuf::Arena* get() { return &arena_; }
 
  private:
-  static v1::IngestRequest& kept() {
-    thread_local v1::IngestRequest request;
-    return request;
+  static google::protobuf::Arena& kept() {
+    thread_local const std::unique_ptr<char[]> block(new char[kParseBlockBytes]);
+    thread_local google::protobuf::Arena arena(block.get(), kParseBlockBytes);
+    return arena;
   }
-  v1::IngestRequest& request_;
+  google::protobuf::Arena& arena_;
 };
 
 }  // namespace
@@ -98,8 +100,9 @@ DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) 
                                   " bytes exceeds the limit of " +
                                   std::to_string(limits.max_message_bytes)));
   }
-  ReusedRequest reused;
-  v1::IngestRequest& request = reused.get();
+  ParseArena arena;
+  v1::IngestRequest& request =
+      *google::protobuf::Arena::CreateMessage<v1::IngestRequest>(arena.get());
   if (!request.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
     return refusal(make_error(v1::Error::MALFORMED_MESSAGE,
                               "the message is not a yoke.v1.IngestRequest"));

@@ -33,8 +33,8 @@ struct DecodedBatch {
 // A refusal: the Ack to send back (client id, batch and pool filled in when readable).
 using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
 
-// Parses into a message kept per thread (its Event objects reused, up to 2^14 of them), so
-// that a batch's events cost no allocation each.
+// Parses on an arena kept per thread (its first block reused), so that a batch's events cost
+// no allocation each.
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
 
 // Whether a refusal is of a message that was not read as a batch: too large to read

@@ -1,7 +1,7 @@
 // The journal records the daemon writes (a batch decoded into engine events, written back by
 // SealedRecords on the committing thread) against those it wrote when it kept each batch's
-// wire events and swapped them into the record: the same bytes. And the parse into a message
-// reused from one batch to the next reads each batch as a fresh message does.
+// wire events and swapped them into the record: the same bytes. And the parse on an arena
+// reused from one batch to the next reads each batch as a fresh parse does.
 #include <cstdint>
 #include <random>
 #include <string>
@@ -84,8 +84,8 @@ TEST(SealedRecords, WriteTheBytesTheReceivedBatchesGave) {
 
 TEST(SealedRecords, ReusedParseReadsEachBatchAsAFreshOne) {
   std::mt19937_64 random(7);
-  // Sizes up and down, one past what the reused message keeps (it is emptied after it), and
-  // refusals in between (a parse that fails leaves the message half filled).
+  // Sizes up and down, one past the arena's first block (its other blocks are freed after
+  // it), and refusals in between (a parse that fails leaves a message half filled).
   for (const std::size_t size : {30u, 3u, 0u, 20000u, 12u, 500u, 1u}) {
     std::vector<v1::Event> events(size);
     for (v1::Event& event : events) event = random_event(random);
