@@ -26,8 +26,8 @@ void JournalThread::commit(SealedRecords records, Clock::time_point closed) {
   boost::asio::post(thread_, [this, window, result = result_] {
     const Clock::time_point start = Clock::now();
     try {
-      // The records' memory is made and freed here, not on the loop.
-      result->committed = log_.commit(std::move(*window).complete());
+      // The events written straight as bytes, here, not on the loop.
+      result->committed = log_.commit_encoded(std::move(*window).encode());
     } catch (...) {
       result->failure = std::current_exception();
     }

@@ -47,8 +47,8 @@ class JournalThread {
   // Busy, and the commit has ended: take() returns its result. One atomic load, so the loop
   // may ask between messages instead of waiting for `wake`'s turn behind a burst of them.
   bool ready() const { return busy_ && ended_.load(std::memory_order_acquire); }
-  // Hands the window's records over for one commit(), completed on this thread (their events
-  // built and freed here, not on the loop). Not while busy() (std::logic_error).
+  // Hands the window's records over for one commit (CommitLog::commit_encoded), their events
+  // encoded on this thread, not on the loop. Not while busy() (std::logic_error).
   void commit(SealedRecords records, Clock::time_point closed);
   // Blocks until the window handed over is durable or has failed (nothing when not busy()).
   void wait();

@@ -7,8 +7,11 @@
 // (to_wire: the fields the schema allows; proto3 leaves zeros out either way).
 #pragma once
 
+#include <cstdint>
+#include <string>
 #include <vector>
 
+#include "daemon/storage/commit_log.h"
 #include "yoke/events.h"
 #include "yoke/v1/records.pb.h"
 
@@ -20,6 +23,15 @@ struct SealedRecords {
 
   // The whole records, each with its events. O(events).
   std::vector<v1::JournalRecord> complete() &&;
+  // The records with their events as wire bytes (CommitLog::commit_encoded), no Event message
+  // made: the bytes complete()'s records serialize them to. O(events).
+  storage::EncodedWindow encode() &&;
 };
+
+// Writes at `out` the bytes Protobuf writes for `event`, as write_wire makes it, as an element
+// of a repeated Event field numbered `field` (< 16): its tag, its length, its non-zero fields;
+// at most kMaxWireEventBytes. Returns the end.
+constexpr std::size_t kMaxWireEventBytes = 40;
+char* put_wire_event(char* out, const Event& event, std::uint32_t field);
 
 }  // namespace yoke::daemon

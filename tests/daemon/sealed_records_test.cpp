@@ -2,7 +2,11 @@
 // SealedRecords on the committing thread) against those it wrote when it kept each batch's
 // wire events and swapped them into the record: the same bytes. And the parse on an arena
 // reused from one batch to the next reads each batch as a fresh parse does.
+#include <algorithm>
 #include <cstdint>
+#include <filesystem>
+#include <fstream>
+#include <iterator>
 #include <random>
 #include <string>
 #include <utility>
@@ -11,9 +15,11 @@
 
 #include <gtest/gtest.h>
 
+#include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/batch_decoder.h"
 #include "daemon/service/sealed_records.h"
 #include "service_test_util.h"
+#include "tests/journal/journal_test_util.h"
 
 namespace yoke::daemon {
 namespace {
@@ -80,6 +86,80 @@ TEST(SealedRecords, WriteTheBytesTheReceivedBatchesGave) {
   for (std::size_t i = 0; i < records.size(); ++i) {
     EXPECT_EQ(records[i].SerializeAsString(), old_records[i].SerializeAsString()) << i;
   }
+}
+
+// A window of random batches, sealed: its records without events, and their engine events.
+SealedRecords random_window(std::uint64_t seed, std::size_t batches) {
+  std::mt19937_64 random(seed);
+  SealedRecords sealed;
+  for (std::uint64_t seq = 1; seq <= batches; ++seq) {
+    std::vector<v1::Event> events(random() % 40);
+    for (v1::Event& event : events) event = random_event(random);
+    const v1::EventBatch batch =
+        testing::make_batch(events, BatchHeader{"tug-" + std::to_string(seq % 4), seq, "", 0});
+    v1::JournalRecord record = record_of_old(batch, seq);
+    record.set_pool(seq % 3 == 0 ? "quay" : "dock");
+    if (seq == 1) record.mutable_created()->set_mode(v1::MODE_MAX_WEIGHT);
+    record.set_retired(seq == batches);
+    record.clear_events();
+    sealed.records.push_back(std::move(record));
+    sealed.events.push_back(testing::engine_events(events));
+  }
+  return sealed;
+}
+
+std::string file_bytes(const std::filesystem::path& file) {
+  std::ifstream in(file, std::ios::binary);
+  return {std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>()};
+}
+
+// Every segment file's bytes, in name order.
+std::string journal_bytes(const std::filesystem::path& dir) {
+  std::vector<std::filesystem::path> files;
+  for (const auto& entry : std::filesystem::directory_iterator(dir)) {
+    if (entry.path().extension() != ".lock") files.push_back(entry.path());
+  }
+  std::sort(files.begin(), files.end());
+  std::string bytes;
+  for (const auto& file : files) bytes += file.filename().string() + "\n" + file_bytes(file);
+  return bytes;
+}
+
+TEST(SealedRecords, EncodedEventsAreTheBytesOfTheCompletedRecords) {
+  for (std::uint64_t seed = 1; seed <= 20; ++seed) {
+    std::vector<v1::JournalRecord> whole = random_window(seed, 25).complete();
+    storage::EncodedWindow encoded = random_window(seed, 25).encode();
+    ASSERT_EQ(encoded.records.size(), whole.size());
+    for (std::size_t i = 0; i < whole.size(); ++i) {
+      v1::JournalRecord events_only;
+      *events_only.mutable_events() = whole[i].events();
+      EXPECT_EQ(encoded.events[i], events_only.SerializeAsString()) << seed << " " << i;
+    }
+    // What a log without its own commit_encoded() stores: the same records.
+    const std::vector<v1::JournalRecord> decoded = storage::decoded_records(std::move(encoded));
+    for (std::size_t i = 0; i < whole.size(); ++i) {
+      EXPECT_EQ(decoded[i].SerializeAsString(), whole[i].SerializeAsString()) << seed << " " << i;
+    }
+  }
+}
+
+TEST(SealedRecords, TheJournalWritesTheSameBytesFromEncodedEvents) {
+  journal::testing::TempDir dir;
+  const journal::Options options = journal::testing::small_segments(std::uint64_t{1} << 14);
+  auto plain = journal::JournalCommitLog::open(dir.path() / "plain", options);
+  auto encoded = journal::JournalCommitLog::open(dir.path() / "encoded", options);
+  for (std::uint64_t seed = 1; seed <= 10; ++seed) {  // several windows, over several segments
+    const storage::CommittedWindow a = plain->commit(random_window(seed, 30).complete());
+    const storage::CommittedWindow b = encoded->commit_encoded(random_window(seed, 30).encode());
+    EXPECT_EQ(a.position, b.position);
+    EXPECT_EQ(a.end, b.end);
+    ASSERT_EQ(a.groups.size(), b.groups.size());
+  }
+  plain.reset();
+  encoded.reset();
+  const std::string bytes = journal_bytes(dir.path() / "plain");
+  EXPECT_GT(bytes.size(), std::size_t{1} << 15);
+  EXPECT_EQ(journal_bytes(dir.path() / "encoded"), bytes);
 }
 
 TEST(SealedRecords, ReusedParseReadsEachBatchAsAFreshOne) {

@@ -52,8 +52,8 @@ class DeferredRepairs final : public daemon::RepairExecutor {
 // The records of a sealed window, whole, committed: what yoked's journal thread does.
 template <class Sealed>
 [[gnu::noinline]] storage::CommittedWindow commit_window(storage::CommitLog& log, Sealed sealed) {
-  if constexpr (requires { std::move(sealed).complete(); }) {
-    return log.commit(std::move(sealed).complete());
+  if constexpr (requires { std::move(sealed).encode(); }) {
+    return log.commit_encoded(std::move(sealed).encode());
   } else {
     return log.commit(std::move(sealed));
   }
