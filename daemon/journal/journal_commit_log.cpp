@@ -1,7 +1,9 @@
 #include "journal_commit_log.h"
 
+#include <cstdint>
 #include <deque>
 #include <set>
+#include <stdexcept>
 #include <string_view>
 #include <utility>
 
@@ -73,6 +75,34 @@ class JournalGroupReader : public storage::GroupReader {
   bool ended_ = false;
 };
 
+// Where a record serialized without events takes their bytes: before its first field past 5
+// (Protobuf writes a message's fields in number order), or at its end. The bytes are a record
+// this log just serialized: well formed, with no groups.
+std::size_t events_offset(std::string_view bytes) {
+  std::size_t at = 0;
+  const auto varint = [&bytes, &at] {
+    std::uint64_t value = 0;
+    for (int shift = 0;; shift += 7) {
+      const auto byte = static_cast<std::uint8_t>(bytes.at(at++));
+      value |= std::uint64_t{byte & 0x7fu} << shift;
+      if (byte < 0x80) return value;
+    }
+  };
+  while (at < bytes.size()) {
+    const std::size_t field = at;
+    const std::uint64_t tag = varint();
+    if ((tag >> 3) > 5) return field;
+    switch (tag & 7) {
+      case 0: varint(); break;
+      case 1: at += 8; break;
+      case 2: at += static_cast<std::size_t>(varint()); break;
+      case 5: at += 4; break;
+      default: throw std::logic_error("a serialized journal record holds a group");
+    }
+  }
+  return bytes.size();
+}
+
 }  // namespace
 
 JournalView::JournalView(std::filesystem::path dir) : dir_(std::move(dir)) {}
@@ -127,8 +157,26 @@ void JournalCommitLog::continue_from(storage::Position position) {
 }
 
 storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord> window) {
+  return append_window(window, [&window](std::size_t i, std::string& bytes) {
+    window[i].SerializeToString(&bytes);
+  });
+}
+
+storage::CommittedWindow JournalCommitLog::commit_encoded(storage::EncodedWindow window) {
+  if (window.events.size() != window.records.size()) {
+    throw std::invalid_argument("an encoded window holds one list of events per record");
+  }
+  return append_window(window.records, [&window](std::size_t i, std::string& bytes) {
+    window.records[i].SerializeToString(&bytes);
+    bytes.insert(events_offset(bytes), window.events[i]);
+  });
+}
+
+storage::CommittedWindow JournalCommitLog::append_window(
+    std::vector<v1::JournalRecord>& records,
+    const std::function<void(std::size_t, std::string&)>& payload) {
   const storage::Position start = end_position();
-  if (window.empty()) return {0, start, {}};
+  if (records.empty()) return {0, start, {}};
   if (failed_) {
     throw storage::LogError(describe() + " refuses commits after a failed one; reopen it");
   }
@@ -136,10 +184,10 @@ storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord>
     as_storage_errors([&] {
       storage::Position position = start;
       std::string bytes;
-      for (v1::JournalRecord& record : window) {
-        record.set_window_start(start);
+      for (std::size_t i = 0; i < records.size(); ++i) {
+        records[i].set_window_start(start);  // before the payload serializes it
         bytes.clear();
-        record.SerializeToString(&bytes);
+        payload(i, bytes);
         journal_.append(position++, bytes);
       }
       journal_.sync();
@@ -150,7 +198,7 @@ storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord>
   }
   storage::CommittedWindow committed{start, end_position(), {}};
   std::set<std::string_view> pools_seen;
-  for (const v1::JournalRecord& record : window) {
+  for (const v1::JournalRecord& record : records) {
     if (pools_seen.insert(record.pool()).second) committed.groups.push_back({record.pool(), start, true});
   }
   return committed;

@@ -8,6 +8,7 @@
 #pragma once
 
 #include <filesystem>
+#include <functional>
 #include <memory>
 #include <string>
 #include <string_view>
@@ -60,11 +61,20 @@ class JournalCommitLog : public storage::CommitLog {
   // Appends the records at end_position(), end_position() + 1, ... (window_start = the first)
   // and syncs once.
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override;
+  // The same bytes as commit() of the records the window stands for: each record serialized
+  // without events, and the events' bytes put in before its first field past 5.
+  storage::CommittedWindow commit_encoded(storage::EncodedWindow window) override;
   // Deletes whole segment files below `position` (Journal::drop_before); returns how many.
   std::size_t drop_before(storage::Position position) override;
 
  private:
   Journal journal_;
+  // Appends one serialized record per payload() call, at end_position() on, and syncs; the
+  // commit's result. Marks the log failed when it throws.
+  storage::CommittedWindow append_window(
+      std::vector<v1::JournalRecord>& records,
+      const std::function<void(std::size_t, std::string&)>& payload);
+
   storage::Position resume_ = 1;  // continue_from(): the least position of the next window
   bool failed_ = false;           // a commit threw: no more commits
 };

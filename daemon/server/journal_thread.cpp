@@ -16,22 +16,23 @@ JournalThread::JournalThread(storage::CommitLog& log, std::function<void()> wake
 
 JournalThread::~JournalThread() { thread_.join(); }
 
-void JournalThread::commit(std::vector<v1::JournalRecord> records, Clock::time_point closed) {
+void JournalThread::commit(SealedRecords records, Clock::time_point closed) {
   if (busy_) throw std::logic_error("a window is syncing already: one at a time");
   busy_ = true;
   ended_.store(false, std::memory_order_relaxed);  // no commit runs: nobody else writes it
   result_ = std::make_shared<Synced>();
   result_->closed = closed;
-  auto window = std::make_shared<std::vector<v1::JournalRecord>>(std::move(records));
+  auto window = std::make_shared<SealedRecords>(std::move(records));
   boost::asio::post(thread_, [this, window, result = result_] {
     const Clock::time_point start = Clock::now();
     try {
-      result->committed = log_.commit(std::move(*window));
+      // The events written straight as bytes, here, not on the loop.
+      result->committed = log_.commit_encoded(std::move(*window).encode());
     } catch (...) {
       result->failure = std::current_exception();
     }
     result->took = Clock::now() - start;
-    window->clear();  // the records' memory is freed here, not on the loop
+    *window = SealedRecords();  // the events' copies too
     ended_.store(true, std::memory_order_release);
     ended_.notify_all();
     if (wake_) wake_();

@@ -19,6 +19,7 @@
 
 #include <boost/asio/thread_pool.hpp>
 
+#include "daemon/service/sealed_records.h"
 #include "daemon/storage/commit_log.h"
 #include "yoke/v1/records.pb.h"
 
@@ -46,8 +47,9 @@ class JournalThread {
   // Busy, and the commit has ended: take() returns its result. One atomic load, so the loop
   // may ask between messages instead of waiting for `wake`'s turn behind a burst of them.
   bool ready() const { return busy_ && ended_.load(std::memory_order_acquire); }
-  // Hands the window's records over for one commit(). Not while busy() (std::logic_error).
-  void commit(std::vector<v1::JournalRecord> records, Clock::time_point closed);
+  // Hands the window's records over for one commit (CommitLog::commit_encoded), their events
+  // encoded on this thread, not on the loop. Not while busy() (std::logic_error).
+  void commit(SealedRecords records, Clock::time_point closed);
   // Blocks until the window handed over is durable or has failed (nothing when not busy()).
   void wait();
   // The result once the commit has ended, once; nothing while it runs or when not busy().

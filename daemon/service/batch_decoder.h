@@ -24,8 +24,7 @@ struct DecodedBatch {
   std::string client_id;
   std::uint64_t client_batch = 0;
   std::uint64_t after_batch = 0;
-  std::vector<Event> events;
-  v1::EventBatch wire;  // as received: becomes the journal record
+  std::vector<Event> events;  // the journal record's, written back by SealedRecords
   // A RetirePool read as a batch of no events: client id, batch and pool come from it.
   bool retire = false;
   std::uint64_t at_seq = 0;  // RetirePool.at_seq (retire only)
@@ -34,6 +33,8 @@ struct DecodedBatch {
 // A refusal: the Ack to send back (client id, batch and pool filled in when readable).
 using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
 
+// Parses on an arena kept per thread (its first block reused), so that a batch's events cost
+// no allocation each.
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
 
 // Whether a refusal is of a message that was not read as a batch: too large to read

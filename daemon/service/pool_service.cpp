@@ -44,7 +44,8 @@ void PoolService::adopt_pool(const std::string& pool, PoolState state) {
                            " cannot be adopted while the window holds its batches");
   }
   if (!routing_.serves_every_pool()) routing_.serve_here(pool);
-  chained_checkers_.erase(pool);  // before the pool: it reads it
+  chained_checkers_.erase(pool);  // before the pool: they read it
+  spare_checkers_.erase(pool);
   put_pool_state(state_, pool, std::move(state));
 }
 
@@ -94,6 +95,7 @@ void PoolService::drop_pool(const std::string& pool,
   }
   window_pools_.erase(pool);  // before the pool: its checker reads it
   chained_checkers_.erase(pool);
+  spare_checkers_.erase(pool);
   syncing_.checkers.erase(pool);
   syncing_.seq_before.erase(pool);
   syncing_.last_seq.erase(pool);
@@ -483,6 +485,10 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
         last.checker.reset();
       }
     }
+    if (auto spare = spare_checkers_.find(name); !checker && spare != spare_checkers_.end()) {
+      checker.emplace(std::move(spare->second));  // empty: it says nothing the pool does not
+      spare_checkers_.erase(spare);
+    }
     if (!checker) checker.emplace(pool);
     it = window_pools_.emplace(name, WindowPool{seq, seq + 1, std::move(*checker)}).first;
   }
@@ -491,25 +497,25 @@ PoolService::WindowPool& PoolService::window_pool(const std::string& name, Pool&
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::seal(
     std::vector<std::string>* lost_pools) {
-  std::vector<v1::JournalRecord> records = begin_seal();
   // Durable on return: only then are the acks sent.
-  const storage::CommittedWindow committed = log_.commit(std::move(records));
+  const storage::CommittedWindow committed = log_.commit(begin_seal().complete());
   return end_seal(committed, lost_pools);
 }
 
-std::vector<v1::JournalRecord> PoolService::begin_seal() {
+SealedRecords PoolService::begin_seal() {
   if (syncing_.active) throw std::logic_error("a window is syncing already: one at a time");
   const std::uint64_t wall_time = unix_time_us();
-  std::vector<v1::JournalRecord> records;
-  records.reserve(window_.size());
+  SealedRecords sealed;
+  sealed.records.reserve(window_.size());
+  sealed.events.reserve(window_.size());
   for (PendingBatch& pending : window_) {
     DecodedBatch& batch = pending.batch;
-    v1::JournalRecord& record = records.emplace_back();
+    v1::JournalRecord& record = sealed.records.emplace_back();
+    sealed.events.push_back(batch.events);  // a copy: the repair takes the batch's own
     record.set_pool(batch.pool);
     record.set_seq(pending.seq);
     record.set_client_id(batch.client_id);
     record.set_client_batch(batch.client_batch);
-    record.mutable_events()->Swap(batch.wire.mutable_events());
     record.set_wall_time_unix_us(wall_time);
     record.set_retired(batch.retire);
     if (pending.seq == 1 && !batch.retire) {
@@ -534,7 +540,7 @@ std::vector<v1::JournalRecord> PoolService::begin_seal() {
   waiting_duplicates_.clear();
   window_events_ = 0;
   syncing_.active = true;
-  return records;
+  return sealed;
 }
 
 std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(

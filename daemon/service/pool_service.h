@@ -40,6 +40,7 @@
 #include "pool_progress.h"
 #include "pool_routing.h"
 #include "repair_executor.h"
+#include "sealed_records.h"
 #include "service_state.h"
 #include "yoke/batch_checker.h"
 #include "yoke/v1/ingest.pb.h"
@@ -170,7 +171,8 @@ class PoolService {
 
   // seal() in two steps, for a caller that makes the window durable on another thread (the
   // server's JournalThread): begin_seal() returns the window's records for CommitLog::commit()
-  // and opens the next window at once; end_seal() takes what commit() stored and returns the
+  // (their events written in by SealedRecords::complete(), on the committing thread) and opens
+  // the next window at once; end_seal() takes what commit() stored and returns the
   // replies, as seal() does. Meanwhile (syncing()) batches join the next window, checked on top
   // of the syncing one's (a pool's checker goes on to the next window as on a chained one), but
   // for a retirement, and every batch in a cluster, of a pool in the syncing window: they wait
@@ -179,7 +181,7 @@ class PoolService {
   // (next_journal_position() included). The retry ledger's horizon moves at begin_seal(), with
   // the records' wall time: the ledger then holds exactly the marks a replay up to this window
   // holds. If commit() throws, refuse_window() answers the syncing window too. O(window).
-  std::vector<v1::JournalRecord> begin_seal();
+  SealedRecords begin_seal();
   std::vector<std::pair<Ticket, v1::Ack>> end_seal(const storage::CommittedWindow& committed,
                                                    std::vector<std::string>* lost_pools = nullptr);
   bool syncing() const { return syncing_.active; }
@@ -404,6 +406,10 @@ class PoolService {
   // A pool's latest window's checker, kept on the loop when that window was handed over behind
   // another of the pool's (start_apply()): the next window checks on top of it.
   std::map<std::string, BatchChecker> chained_checkers_;
+  // A pool's emptied checker that no window took (its job was collected after the next window
+  // opened with a new one): the next new window takes it, so that its tables are not grown
+  // again from nothing. Dropped with the pool's state (it reads the pool).
+  std::map<std::string, BatchChecker> spare_checkers_;
   std::set<std::string> retiring_;  // pools retired by the open, syncing or sealed window
   // The window between begin_seal() and end_seal(), forgotten whole by end_syncing().
   struct SyncingWindow {

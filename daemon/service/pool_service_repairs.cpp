@@ -19,6 +19,15 @@ std::uint64_t micros_since(std::chrono::steady_clock::time_point start) {
                                         .count());
 }
 
+// A window's events joined for Pool::stage: each thread's buffer, kept from window to window
+// up to this many events.
+constexpr std::size_t kKeptJoinedEvents = std::size_t{1} << 17;
+
+std::vector<Event>& joined_buffer() {
+  thread_local std::vector<Event> buffer;
+  return buffer;
+}
+
 }  // namespace
 
 void PoolService::set_repair_executor(RepairExecutor* executor) {
@@ -70,7 +79,8 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
       retired_.window_closed.push_back(window_closed);
-      chained_checkers_.erase(name);  // before the pool: it reads it
+      chained_checkers_.erase(name);  // before the pool: they read it
+      spare_checkers_.erase(name);
       take_pool_state(state_, name);
       executor_->forget(name);  // nothing of it in flight (above)
       continue;
@@ -144,7 +154,9 @@ void PoolService::stage_window(RepairJob& job) {
     job.after.reset();  // ended before this task began (one strand): no chain of jobs is kept
     std::size_t total = 0;
     for (const std::vector<Event>& events : job.batches_events) total += events.size();
-    std::vector<Event> joined;
+    // Joined in a buffer the thread keeps, so that its pages are not zeroed anew each window.
+    std::vector<Event>& joined = joined_buffer();
+    joined.clear();
     joined.reserve(total);
     for (const std::vector<Event>& events : job.batches_events) {
       joined.insert(joined.end(), events.begin(), events.end());
@@ -158,6 +170,8 @@ void PoolService::stage_window(RepairJob& job) {
       job.stage_failed = true;
       throw;
     }
+    // One far bigger than a window (a new pool's base graph) is not kept.
+    if (joined.capacity() > kKeptJoinedEvents) std::vector<Event>().swap(joined);
     // The sealed window's checker, now that its batches are in the pool's topology: emptied
     // here, off the loop, it is the next window's (window_pool()) once `staged` says so.
     if (job.checker) job.checker->clear();
@@ -314,6 +328,8 @@ PoolService::RepairsDone PoolService::finish_repairs() {
     // worker at that job's end), never the engine now: several jobs of the pool may be
     // collected at once, the later ones' windows already in it.
     if (collect_listener_ && job.captured) collect_listener_(job.pool, &*job.captured);
+    // Emptied by the worker once staged, and not taken by a window since: kept for the next.
+    if (job.checker) spare_checkers_.try_emplace(job.pool, std::move(*job.checker));
   }
   if (failure) std::rethrow_exception(failure);
   std::erase_if(draining_, [this](const std::string& pool) { return !repairing(pool); });

@@ -74,21 +74,30 @@ v1::RepairStats to_wire(const RepairStats& stats) {
 
 v1::Event to_wire(const Event& event) {
   v1::Event wire;
-  switch (event.kind) {
-    case EventKind::add_vertex: wire.set_kind(v1::Event::ADD_VERTEX); break;
-    case EventKind::set_edge: wire.set_kind(v1::Event::SET_EDGE); break;
-    case EventKind::unset_edge: wire.set_kind(v1::Event::UNSET_EDGE); break;
-    case EventKind::remove_vertex: wire.set_kind(v1::Event::REMOVE_VERTEX); break;
-    case EventKind::hold_pair: wire.set_kind(v1::Event::HOLD_PAIR); break;
-    case EventKind::release_pair: wire.set_kind(v1::Event::RELEASE_PAIR); break;
+  write_wire(event, wire);
+  return wire;
+}
+
+v1::Event::Kind wire_kind(EventKind kind) {
+  switch (kind) {
+    case EventKind::add_vertex: return v1::Event::ADD_VERTEX;
+    case EventKind::set_edge: return v1::Event::SET_EDGE;
+    case EventKind::unset_edge: return v1::Event::UNSET_EDGE;
+    case EventKind::remove_vertex: return v1::Event::REMOVE_VERTEX;
+    case EventKind::hold_pair: return v1::Event::HOLD_PAIR;
+    case EventKind::release_pair: return v1::Event::RELEASE_PAIR;
   }
+  return v1::Event::KIND_UNSPECIFIED;
+}
+
+void write_wire(const Event& event, v1::Event& wire) {
+  wire.set_kind(wire_kind(event.kind));
   wire.set_u(event.u);
   if (event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
       event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair) {
     wire.set_v(event.v);
   }
   if (event.kind == EventKind::set_edge) wire.set_w(event.w);
-  return wire;
 }
 
 v1::Ack batch_ack(const std::string& client_id, std::uint64_t client_batch,

@@ -32,6 +32,9 @@ v1::RepairStats to_wire(const RepairStats& stats);
 // An engine event as the ingest socket takes it: v only on edge events, w only on SET_EDGE
 // (the schema refuses them elsewhere). decode_event (batch_decoder.h) reads it back.
 v1::Event to_wire(const Event& event);
+v1::Event::Kind wire_kind(EventKind kind);
+// to_wire into `wire`, which must be empty (a message added to a repeated field).
+void write_wire(const Event& event, v1::Event& wire);
 
 v1::Error::Code to_wire(EventErrorCode code);
 

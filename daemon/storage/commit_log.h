@@ -21,6 +21,7 @@
 #include <cstdint>
 #include <memory>
 #include <optional>
+#include <stdexcept>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -98,12 +99,37 @@ struct CommittedGroup {
   bool accepted = true;
 };
 
+// A window as commit() takes it, but with each record's `events` apart, as their wire bytes:
+// events[i] is records[i]'s field `repeated Event events = 5` serialized (a tag and a length
+// per Event), and records[i] holds no events. So a writer of serialized records writes them
+// in place without making an Event message each (commit_encoded()).
+struct EncodedWindow {
+  std::vector<v1::JournalRecord> records;
+  std::vector<std::string> events;
+};
+
 // What one commit() stored.
 struct CommittedWindow {
   Position position = 0;  // the window's first group's position (0 for an empty window)
   Position end = 0;       // end_position() after it
   std::vector<CommittedGroup> groups;  // one per pool, in the order of their first records
 };
+
+// The records an EncodedWindow stands for, their events parsed back.
+inline std::vector<v1::JournalRecord> decoded_records(EncodedWindow window) {
+  if (window.events.size() != window.records.size()) {
+    throw std::invalid_argument("an encoded window holds one list of events per record");
+  }
+  for (std::size_t i = 0; i < window.records.size(); ++i) {
+    v1::JournalRecord parsed;
+    const bool read = parsed.ParseFromString(window.events[i]);
+    window.records[i].mutable_events()->Swap(parsed.mutable_events());
+    if (!read || parsed.ByteSizeLong() != 0) {  // nothing but events may be left
+      throw std::invalid_argument("an encoded window's events are not an events field");
+    }
+  }
+  return std::move(window.records);
+}
 
 // The writer's side. One CommitLog per log per process (the local journal holds a lock).
 class CommitLog : public CommitLogView {
@@ -129,6 +155,13 @@ class CommitLog : public CommitLogView {
   // acknowledged, though part of it may be stored and replayed later; the log refuses further
   // commits (the caller must stop and recover from what is stored).
   virtual CommittedWindow commit(std::vector<v1::JournalRecord> window) = 0;
+  // commit() of the window the encoded one stands for: what is stored is the same. This
+  // default parses the events back into the records; the local journal writes their bytes
+  // between the record's fields 4 and 6, where Protobuf's serialization puts them. Throws
+  // std::invalid_argument for events bytes that are not such a field, or one list per record.
+  virtual CommittedWindow commit_encoded(EncodedWindow window) {
+    return commit(decoded_records(std::move(window)));
+  }
 
   // The caller needs no group below `position` any more (every pool this log writes has a
   // snapshot at or above it): the log may delete them, in whole units of its own (segment

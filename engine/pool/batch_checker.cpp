@@ -278,8 +278,13 @@ class BatchChecker::Overlay {
       if (auto refusal = arrive(end->key)) return refusal;
       end->alive = true;  // with its generation, and in no slot of the pool (it was not alive)
     }
-    if (!edge_exists(a, b)) ++edge_change_;  // the limit is checked after the batch
-    write_edge(edge_key(a, b), true);
+    // One probe of the overlay for the look-up and the write (the most frequent event).
+    const EdgeKey key = edge_key(a, b);
+    const auto [value, inserted] = edge_override_.try_emplace(key, true);
+    const bool existed = inserted ? pool_edge_exists(a, b) : *value;
+    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, value));
+    *value = true;
+    if (!existed) ++edge_change_;  // the limit is checked after the batch
     return std::nullopt;
   }
 
@@ -305,6 +310,10 @@ class BatchChecker::Overlay {
   }
   bool edge_exists(const End& a, const End& b) const {
     if (const bool* changed = edge_override_.find(edge_key(a, b))) return *changed;
+    return pool_edge_exists(a, b);
+  }
+  // Whether the pool holds the edge, for one the overlay says nothing of.
+  bool pool_edge_exists(const End& a, const End& b) const {
     if (a.generation != 0 || b.generation != 0) return false;  // an end left earlier
     if (pool_.holds.aside_count() != 0 && pool_.holds.aside_weight(a.key, b.key)) return true;
     return a.slot != kNoVertex && b.slot != kNoVertex &&

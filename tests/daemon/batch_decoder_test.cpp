@@ -11,6 +11,7 @@
 
 #include "daemon/service/batch_decoder.h"
 #include "daemon/pools/pool_names.h"
+#include "daemon/service/sealed_records.h"
 #include "daemon/service/wire_types.h"
 #include "service_test_util.h"
 
@@ -75,8 +76,15 @@ TEST(BatchDecoder, GoodBatchMapsEveryKind) {
   EXPECT_EQ(decoded.events[2].v, 7u);
   EXPECT_EQ(decoded.events[3].kind, EventKind::remove_vertex);
   EXPECT_EQ(decoded.events[3].u, 7u);
-  // The wire batch is kept as received: it becomes the journal record.
-  EXPECT_EQ(decoded.wire.SerializeAsString(), batch.SerializeAsString());
+  // Written back (the journal record's events), they are the batch's as received.
+  SealedRecords sealed;
+  sealed.records.emplace_back();
+  sealed.events.push_back(decoded.events);
+  const std::vector<v1::JournalRecord> records = std::move(sealed).complete();
+  ASSERT_EQ(records.size(), 1u);
+  v1::EventBatch written;
+  *written.mutable_events() = records[0].events();
+  EXPECT_EQ(written.SerializeAsString(), make_batch(events, BatchHeader{}).SerializeAsString());
 }
 
 TEST(BatchDecoder, HoldAndReleaseCarryBothEnds) {

@@ -531,6 +531,53 @@ TEST(PoolRepairs, BatchesAreAcknowledgedWhileTheirPoolsPreviousWindowWaitsToBeSt
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
+// A batch held while its pool's window stages joins a new window once that job is collected:
+// the job's emptied checker (the pool's spare) is the new window's, and says nothing the pool
+// does not; a retired pool's next incarnation starts with nothing of the old one.
+TEST(PoolRepairs, AWindowAfterACollectedJobChecksOnItsSpareChecker) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
+  service.seal();
+  service.start_apply();
+  // Window 1 is not staged: the next batch waits for it, then joins a new window.
+  ASSERT_FALSE(harness.offer({wire_add(3), wire_set(2, 3, 7)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 1u);
+  repairs.release("A");
+  EXPECT_TRUE(service.finish_repairs().replies.empty());  // joined the window, unanswered
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto refused_with = [&](const std::vector<v1::Event>& events, const char* client,
+                                std::uint64_t batch) {
+    const std::optional<v1::Ack> ack = harness.offer(events, from_client(client, batch, "A"));
+    return ack && ack->has_rejected() ? ack->rejected().errors(0).code() : v1::Error::INTERNAL;
+  };
+  EXPECT_EQ(refused_with({wire_add(3)}, "b", 1), v1::Error::VERTEX_EXISTS);  // the window's
+  EXPECT_EQ(refused_with({wire_add(1)}, "b", 2), v1::Error::VERTEX_EXISTS);  // the pool's
+  EXPECT_FALSE(harness.offer({testing::wire_unset(1, 2)}, from_client("b", 3, "A")));
+  EXPECT_EQ(refused_with({testing::wire_unset(1, 2)}, "b", 4), v1::Error::UNKNOWN_EDGE);
+  EXPECT_EQ(service.seal().size(), 2u);
+  service.start_apply();
+  repair_to_the_end(repairs, service, "A");
+  EXPECT_EQ(service.progress("A")->seq, 3u);
+  EXPECT_EQ(service.registry().find("A")->weight(), 7);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+
+  EXPECT_FALSE(service.offer(50, testing::retire_message("A")));
+  service.seal();
+  service.start_apply();
+  service.finish_repairs();
+  ASSERT_EQ(service.registry().find("A"), nullptr);
+  EXPECT_FALSE(harness.offer({wire_add(2)}, from_client("c", 1, "A")));  // a new pool A
+  EXPECT_EQ(refused_with({testing::wire_unset(2, 3)}, "c", 2), v1::Error::UNKNOWN_EDGE);
+  EXPECT_EQ(service.seal().size(), 1u);
+  service.start_apply();
+  repair_to_the_end(repairs, service, "A");
+  EXPECT_EQ(service.registry().find("A")->vertex_count(), 1u);
+  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
+}
+
 // Back-pressure: once a pool's windows in flight hold two full windows of events ([batching]
 // max_events 2 here: 4 events), its next batch waits unacknowledged until a repair is collected,
 // then joins a window as usual; nothing is lost or reordered.

@@ -77,7 +77,7 @@ class PoolSyncTest : public ::testing::Test {
 
 TEST_F(PoolSyncTest, BatchesDuringASyncAreCheckedOnTopOfTheSyncingWindow) {
   ASSERT_FALSE(offer_at(1, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}));
-  std::vector<v1::JournalRecord> records = service().begin_seal();
+  std::vector<v1::JournalRecord> records = service().begin_seal().complete();
   EXPECT_TRUE(service().syncing());
   EXPECT_TRUE(service().window_empty());
   ASSERT_EQ(records.size(), 1u);
@@ -109,7 +109,7 @@ TEST_F(PoolSyncTest, BatchesDuringASyncAreCheckedOnTopOfTheSyncingWindow) {
 
 TEST_F(PoolSyncTest, APoolsLimitsCountTheSyncingWindowOnce) {
   ASSERT_FALSE(offer_at(1, {wire_add(1), wire_add(2), wire_add(3)}, in_pool("tiny")));
-  std::vector<v1::JournalRecord> records = service().begin_seal();
+  std::vector<v1::JournalRecord> records = service().begin_seal().complete();
   EXPECT_FALSE(offer_at(2, {wire_add(4)}, in_pool("tiny")));  // four alive: the limit
   const auto over = offer_at(3, {wire_add(5)}, in_pool("tiny"));
   ASSERT_TRUE(over && over->has_rejected());
@@ -129,7 +129,7 @@ TEST_F(PoolSyncTest, APoolsLimitsCountTheSyncingWindowOnce) {
 
 TEST_F(PoolSyncTest, ARetryOfASyncingBatchIsAnsweredOnceDurable) {
   ASSERT_FALSE(offer_at(1, {wire_add(1)}, from_client("quay-2", 8)));
-  std::vector<v1::JournalRecord> records = service().begin_seal();
+  std::vector<v1::JournalRecord> records = service().begin_seal().complete();
   EXPECT_FALSE(offer_at(2, {wire_add(1)}, from_client("quay-2", 8)));  // waits
   EXPECT_TRUE(service().window_empty());
   const auto acks = by_ticket(sync_and_end(service(), std::move(records)));
@@ -145,7 +145,7 @@ TEST_F(PoolSyncTest, ARetryOfASyncingBatchIsAnsweredOnceDurable) {
 
 TEST_F(PoolSyncTest, ARetirementWaitsForItsPoolsSyncingWindow) {
   ASSERT_FALSE(offer_at(1, {wire_add(1)}, in_pool("ferry")));
-  std::vector<v1::JournalRecord> records = service().begin_seal();
+  std::vector<v1::JournalRecord> records = service().begin_seal().complete();
   EXPECT_FALSE(service().offer(2, testing::retire_message("ferry", 1)));
   EXPECT_EQ(service().held_batches(), 1u);
   EXPECT_TRUE(service().window_empty());
@@ -160,7 +160,7 @@ TEST_F(PoolSyncTest, ARetirementWaitsForItsPoolsSyncingWindow) {
 
 TEST_F(PoolSyncTest, AFailedSyncRefusesTheSyncingWindowThenTheOpenOne) {
   ASSERT_FALSE(offer_at(1, {wire_add(1)}, from_client("tug", 1)));
-  std::vector<v1::JournalRecord> records = service().begin_seal();
+  std::vector<v1::JournalRecord> records = service().begin_seal().complete();
   ASSERT_FALSE(offer_at(2, {wire_add(2)}, from_client("tug", 2)));
   // The commit failed: nothing is acknowledged.
   const Replies refusals =
@@ -200,7 +200,7 @@ TEST(PoolSyncScript, OverlappedWindowsEndAsSequentialOnes) {
             << seed;
       }
       if (syncing) record(sync_and_end(service, std::move(*syncing)));
-      syncing = service.begin_seal();
+      syncing = service.begin_seal().complete();
     }
     record(sync_and_end(service, std::move(*syncing)));
     ASSERT_EQ(seqs.size(), ticket - 1) << seed;

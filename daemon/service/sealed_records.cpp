@@ -1,0 +1,83 @@
+#include "sealed_records.h"
+
+#include <algorithm>
+#include <stdexcept>
+#include <utility>
+
+#include "wire_types.h"
+
+namespace yoke::daemon {
+
+std::vector<v1::JournalRecord> SealedRecords::complete() && {
+  if (records.size() != events.size()) {
+    throw std::logic_error("sealed records: one list of events per record");
+  }
+  for (std::size_t i = 0; i < records.size(); ++i) {
+    auto& wire = *records[i].mutable_events();
+    wire.Reserve(static_cast<int>(events[i].size()));
+    for (const Event& event : events[i]) write_wire(event, *wire.Add());
+  }
+  events.clear();
+  return std::move(records);
+}
+
+namespace {
+
+// A varint as Protobuf writes one, at `out`; returns the end.
+char* put_varint(char* out, std::uint64_t value) {
+  while (value >= 0x80) {
+    *out++ = static_cast<char>(value | 0x80);
+    value >>= 7;
+  }
+  *out++ = static_cast<char>(value);
+  return out;
+}
+
+// A field of `number` with wire type varint, left out when zero (proto3 writes no default).
+char* put_varint_field(char* out, std::uint32_t number, std::uint64_t value) {
+  if (value == 0) return out;
+  out = put_varint(out, std::uint64_t{number} << 3);
+  return put_varint(out, value);
+}
+
+}  // namespace
+
+char* put_wire_event(char* out, const Event& event, std::uint32_t field) {
+  // The fields as write_wire sets them, in number order: kind 1 (enum), u 2, v 3 (uint64),
+  // w 4 (sint64: zigzag). At most 35 bytes: 4 one-byte tags, 3 varints of 10 and one of 1.
+  const bool has_v = event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
+                     event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair;
+  const bool has_w = event.kind == EventKind::set_edge;
+  const std::int64_t w = has_w ? static_cast<std::int64_t>(event.w) : 0;
+  char body[40];
+  char* end = put_varint_field(body, 1, static_cast<std::uint64_t>(wire_kind(event.kind)));
+  end = put_varint_field(end, 2, event.u);
+  end = put_varint_field(end, 3, has_v ? event.v : 0);
+  end = put_varint_field(end, 4, (static_cast<std::uint64_t>(w) << 1) ^
+                                     static_cast<std::uint64_t>(w >> 63));
+  out = put_varint(out, (std::uint64_t{field} << 3) | 2);
+  out = put_varint(out, static_cast<std::uint64_t>(end - body));
+  return std::copy(body, end, out);
+}
+
+storage::EncodedWindow SealedRecords::encode() && {
+  if (records.size() != events.size()) {
+    throw std::logic_error("sealed records: one list of events per record");
+  }
+  storage::EncodedWindow window;
+  window.events.resize(records.size());
+  for (std::size_t i = 0; i < records.size(); ++i) {
+    std::string& bytes = window.events[i];
+    bytes.resize(events[i].size() * kMaxWireEventBytes);  // then cut to what was written
+    char* out = bytes.data();
+    for (const Event& event : events[i]) {
+      out = put_wire_event(out, event, v1::JournalRecord::kEventsFieldNumber);
+    }
+    bytes.resize(static_cast<std::size_t>(out - bytes.data()));
+  }
+  events.clear();
+  window.records = std::move(records);
+  return window;
+}
+
+}  // namespace yoke::daemon
