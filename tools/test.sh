@@ -36,5 +36,6 @@ phase "${label} build" build
 # -j 2: -j 4 halved the Release suite's time (most of it is tests waiting on the daemons,
 # nats-server clusters and Python clients they start), and starting the long tests first
 # (CTest COST) cut a third, but both lost JetStream replies in CI with two or more clusters up
-# at once (session 9): not until those tests are robust under load.
+# at once (session 9): not until those tests are robust under load. Tests that start clusters
+# (label nats) hold RESOURCE_LOCK nats_cluster, so -j 2 never runs two of them at once.
 phase "${label} tests" ctest --test-dir "$build_dir" --output-on-failure -j 2
