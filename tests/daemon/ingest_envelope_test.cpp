@@ -11,6 +11,7 @@
 #include <string>
 #include <variant>
 
+#include <google/protobuf/stubs/logging.h>
 #include <gtest/gtest.h>
 
 #include "daemon/pools/pool_names.h"
@@ -143,6 +144,7 @@ InputLimits wide_limits() {
 }
 
 TEST(IngestEnvelope, NamesWhatTheDecoderReadsOnMessagesBuiltFieldByField) {
+  const google::protobuf::LogSilencer quiet;  // protobuf logs each string that is not UTF-8
   MessageMaker maker(11);
   int batches = 0;
   for (int i = 0; i < 20000; ++i) {
