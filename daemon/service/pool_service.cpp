@@ -171,7 +171,7 @@ bool PoolService::decode_first_batch_off_loop(Ticket ticket, std::string_view me
   DecodedBatch names;
   names.pool = resolve_pool_name(envelope->pool);
   if (pool_name_problem(names.pool)) return false;
-  if (held_.contains(names.pool) || waits_for_engine(names) || !first_check_may_run(names.pool)) {
+  if (!first_check_may_run(names.pool) || held_.contains(names.pool) || waits_for_engine(names)) {
     return false;
   }
   names.client_id = std::move(envelope->client_id);
