@@ -147,7 +147,8 @@ bool PoolService::first_check_may_run(const std::string& pool) {
 }
 
 bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch) {
-  if (batch.retire || batch.events.size() < kFirstCheckOffLoop || !first_check_may_run(batch.pool)) {
+  if (batch.retire || batch.events.size() < kFirstCheckOffLoop ||
+      !first_check_may_run(batch.pool)) {
     return false;
   }
   auto check = std::make_shared<FirstCheck>();
