@@ -185,7 +185,11 @@ void YokedServer::on_ingest_message() {
     return;
   }
   const Ticket ticket = next_ticket_++;
-  std::optional<v1::Ack> ack = service_.offer(ticket, payload.to_string_view());
+  // A new pool's big first batch is decoded on a worker: its bytes are moved there, not copied.
+  std::optional<v1::Ack> ack = service_.offer(ticket, payload.to_string_view(), [&payload] {
+    auto kept = std::make_shared<zmq::message_t>(std::move(payload));
+    return PoolService::KeptMessage{kept, kept->to_string_view()};
+  });
   if (ack) {
     log_refusal(*ack);
     metrics_->acknowledged(*ack);

@@ -5,7 +5,9 @@
 #include <set>
 #include <stdexcept>
 
+#include "daemon/pools/pool_names.h"
 #include "diff_message.h"
+#include "ingest_envelope.h"
 #include "unix_time.h"
 #include "wire_types.h"
 #include "yoke/v1/records.pb.h"
@@ -119,10 +121,15 @@ v1::Ack PoolService::refuse(v1::Ack ack) {
   return ack;
 }
 
-std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view message) {
+std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view message,
+                                          const KeepMessage& keep) {
+  if (decode_first_batch_off_loop(ticket, message, keep)) return std::nullopt;
   DecodeResult decoded = decode_ingest(message, limits_);
   if (auto* refusal = std::get_if<v1::Ack>(&decoded)) return refuse(std::move(*refusal));
-  DecodedBatch& batch = std::get<DecodedBatch>(decoded);
+  return offer_batch(ticket, std::move(std::get<DecodedBatch>(decoded)));
+}
+
+std::optional<v1::Ack> PoolService::offer_batch(Ticket ticket, DecodedBatch batch) {
   if (held_.contains(batch.pool) || waits_for_engine(batch)) {
     // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
     held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
@@ -133,23 +140,87 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
   return offer_decoded(ticket, std::move(batch));
 }
 
+bool PoolService::first_check_may_run(const std::string& pool) {
+  return executor_ != &inline_repairs_ && routing_.serves_every_pool() &&
+         !retiring_.contains(pool) && state_.registry.find(pool) == nullptr &&
+         state_.registry.may_create(pool, limits_.max_pools);
+}
+
 bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch) {
-  if (executor_ == &inline_repairs_ || batch.retire || batch.events.size() < kFirstCheckOffLoop ||
-      !routing_.serves_every_pool() || retiring_.contains(batch.pool) ||
-      state_.registry.find(batch.pool) != nullptr ||
-      !state_.registry.may_create(batch.pool, limits_.max_pools)) {
+  if (batch.retire || batch.events.size() < kFirstCheckOffLoop ||
+      !first_check_may_run(batch.pool)) {
     return false;
   }
   auto check = std::make_shared<FirstCheck>();
   check->ticket = ticket;
   check->engine = state_.registry.make_aside(batch.pool);
   check->batch = std::move(batch);
+  run_first_check(check);
+  return true;
+}
+
+bool PoolService::decode_first_batch_off_loop(Ticket ticket, std::string_view message,
+                                              const KeepMessage& keep) {
+  // Cheap tests first: most messages are small, and a refusal for size is the loop's at once.
+  if (executor_ == &inline_repairs_ || message.size() < kDecodeOffLoopBytes ||
+      message.size() > limits_.max_message_bytes) {
+    return false;
+  }
+  std::optional<BatchEnvelope> envelope = read_batch_envelope(message);
+  // Names decode_ingest would refuse are refused on the loop, as ever (before the events).
+  if (!envelope || envelope->client_id.size() > kMaxClientIdBytes) return false;
+  DecodedBatch names;
+  names.pool = resolve_pool_name(envelope->pool);
+  if (pool_name_problem(names.pool)) return false;
+  if (!first_check_may_run(names.pool) || held_.contains(names.pool) || waits_for_engine(names)) {
+    return false;
+  }
+  names.client_id = std::move(envelope->client_id);
+  names.client_batch = envelope->client_batch;
+  auto check = std::make_shared<FirstCheck>();
+  check->ticket = ticket;
+  check->engine = state_.registry.make_aside(names.pool);
+  check->batch = std::move(names);
+  check->decode = true;
+  if (keep) {
+    KeptMessage kept = keep();
+    check->message = kept.bytes;
+    check->message_owner = std::move(kept.owner);
+  } else {
+    auto copy = std::make_shared<const std::string>(message);
+    check->message = *copy;
+    check->message_owner = std::move(copy);
+  }
+  run_first_check(check);
+  return true;
+}
+
+void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   first_checks_.emplace(check->batch.pool, check);
   ++held_count_;
-  executor_->run(check->batch.pool, [this, check] {
+  executor_->run(check->batch.pool, [this, check, limits = limits_] {
     try {
-      check->checker.emplace(*check->engine);
-      check->verdict = check->checker->accept(check->batch.events);
+      const std::vector<Event>* events = &check->batch.events;
+      if (check->decode) {
+        DecodeResult decoded = decode_ingest(check->message, limits);
+        check->message = {};
+        check->message_owner.reset();  // the message's bytes freed here, not on the loop
+        if (auto* refusal = std::get_if<v1::Ack>(&decoded)) {
+          check->refusal = std::move(*refusal);
+        } else {
+          check->decoded = std::move(std::get<DecodedBatch>(decoded));
+          const DecodedBatch& announced = check->batch;
+          check->not_as_announced =
+              check->decoded.retire || check->decoded.pool != announced.pool ||
+              check->decoded.client_id != announced.client_id ||
+              check->decoded.client_batch != announced.client_batch;
+          events = &check->decoded.events;
+        }
+      }
+      if (!check->refusal && !check->not_as_announced) {
+        check->checker.emplace(*check->engine);
+        check->verdict = check->checker->accept(*events);
+      }
     } catch (...) {
       check->failure = std::current_exception();
     }
@@ -160,7 +231,6 @@ bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch)
     finished_signal_.notify_all();
     if (repair_listener_) repair_listener_();
   });
-  return true;
 }
 
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {

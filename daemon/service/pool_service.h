@@ -92,7 +92,19 @@ class PoolService {
   // check finds a limit exceeded before the pool's windows are all staged (the edge count is
   // exact only then), and for a retirement or in a cluster (then while any repair is in
   // flight).
-  std::optional<v1::Ack> offer(Ticket ticket, std::string_view message);
+  //
+  // A message of kDecodeOffLoopBytes or more that is a new pool's first batch, by its envelope
+  // alone (read_batch_envelope), is decoded on a worker as well as checked (FirstCheck): the
+  // message's bytes then outlive the call, kept by `keep` (its owner, taken from the caller
+  // without a copy) or, without it, copied. A decode refusal comes back as the Ack this call
+  // would have returned, from finish_repairs(), and the pool's later batches wait behind it.
+  struct KeptMessage {
+    std::shared_ptr<const void> owner;  // keeps `bytes` alive
+    std::string_view bytes;
+  };
+  using KeepMessage = std::function<KeptMessage()>;
+  std::optional<v1::Ack> offer(Ticket ticket, std::string_view message,
+                               const KeepMessage& keep = {});
 
   // Repairs go to `executor` from now on (nullptr: the inline default). Only while no repair
   // is in flight (throws std::logic_error otherwise); the executor must outlive its use.
@@ -314,27 +326,50 @@ class PoolService {
   // A new pool's first batch of kFirstCheckOffLoop events or more, checked on a worker (on the
   // loop its check would hold every other pool's batches): the pool made aside and the
   // checker holding the batch come back with the verdict, and the loop offers the batch with
-  // them (offer_decoded); the pool's next batches wait behind it. The worker reads only
-  // batch.events, engine and checker until `ended` (guarded by finished_mutex_).
+  // them (offer_decoded); the pool's next batches wait behind it. A message of
+  // kDecodeOffLoopBytes or more is decoded there too (`decode`): `batch` then holds only the
+  // names its envelope gave, and the worker writes `decoded` and `refusal`. The worker reads
+  // only batch.events, `message`, engine and checker, and writes only the fields after them,
+  // until `ended` (guarded by finished_mutex_).
   struct FirstCheck {
     Ticket ticket = 0;
     DecodedBatch batch;
     std::unique_ptr<Pool> engine;
+    bool decode = false;
+    std::string_view message;  // to decode, kept alive by message_owner (dropped once decoded)
+    std::shared_ptr<const void> message_owner;
     std::optional<BatchChecker> checker;
     std::optional<EventError> verdict;
+    DecodedBatch decoded;
+    std::optional<v1::Ack> refusal;  // decode_ingest's
+    // Decoded as some other pool's or client's batch than its envelope said (a bug of
+    // read_batch_envelope): not checked, offered afresh as a decoded message.
+    bool not_as_announced = false;
     std::exception_ptr failure;
     bool ended = false;
   };
   static constexpr std::size_t kFirstCheckOffLoop = 4096;
+  // An event takes 8 to 30 bytes on the wire: past this, a message may hold kFirstCheckOffLoop.
+  static constexpr std::size_t kDecodeOffLoopBytes = 16 * kFirstCheckOffLoop;
 
   v1::Ack refuse(v1::Ack ack);
   // offer() once the batch is decoded and its pool's topology may be read here; with `first`,
   // its pool, checker and verdict stand for the new pool and the check.
   std::optional<v1::Ack> offer_decoded(Ticket ticket, DecodedBatch batch,
                                        FirstCheck* first = nullptr);
+  // offer() once the message is decoded.
+  std::optional<v1::Ack> offer_batch(Ticket ticket, DecodedBatch batch);
   // Hands a new pool's big first batch to a worker for its check (FirstCheck); false (the
   // batch untouched) when it is not one, or with the inline executor.
   bool check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch);
+  // The same for a big message, by its envelope, to be decoded there too; false (nothing
+  // taken) when it is not one.
+  bool decode_first_batch_off_loop(Ticket ticket, std::string_view message,
+                                   const KeepMessage& keep);
+  // `pool` is new, and its first batch may be checked on a worker (nothing of it held,
+  // pending, retiring; room for it).
+  bool first_check_may_run(const std::string& pool);
+  void run_first_check(const std::shared_ptr<FirstCheck>& check);
   // The first checks ended since the last call, offered (finish_repairs()).
   void offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   // A batch that must wait for its pool's engine: a job of the pool is still staging its

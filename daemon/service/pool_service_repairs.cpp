@@ -355,11 +355,21 @@ void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& re
     --held_count_;
     if (check->failure) std::rethrow_exception(check->failure);  // as a repair's (the daemon stops)
     const std::string pool = check->batch.pool;
-    if (auto ack = offer_decoded(check->ticket, std::move(check->batch), check.get())) {
-      replies.emplace_back(check->ticket, std::move(*ack));
+    std::optional<v1::Ack> ack;
+    if (check->refusal) {
+      ack = refuse(std::move(*check->refusal));  // as offer() would have answered the message
+    } else if (check->not_as_announced) {
+      ack = offer_batch(check->ticket, std::move(check->decoded));
+    } else {
+      if (check->decode) check->batch = std::move(check->decoded);
+      ack = offer_decoded(check->ticket, std::move(check->batch), check.get());
     }
+    if (ack) replies.emplace_back(check->ticket, std::move(*ack));
     // Refused: the pool was never made, and its check, on its strand, is over.
-    if (state_.registry.find(pool) == nullptr && !repairing(pool)) executor_->forget(pool);
+    if (state_.registry.find(pool) == nullptr && !repairing(pool) &&
+        !first_checks_.contains(pool)) {
+      executor_->forget(pool);
+    }
   }
 }
 

@@ -182,6 +182,49 @@ TEST(ServerRepairs, ABlockedPoolHoldsNeitherAnotherPoolsAckNorItsQueries) {
   EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("B")));
 }
 
+// A new pool's big first message is decoded on its strand, here behind the latch: another
+// pool's batch is acknowledged meanwhile, and once the latch opens the big message's refusal
+// (an event of an unknown kind at index 4321) and then the pool's next big batch, which waited
+// behind it, are answered in that order.
+TEST(ServerRepairs, ANewPoolsBigFirstMessageIsDecodedOffTheLoop) {
+  testing::TempDir dir;
+  const DaemonConfig config = server_config(dir.path());
+  HeldRepairDaemon yoked(config, dir.path());
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+
+  std::vector<v1::Event> base;
+  for (VertexKey key = 1; key <= 8000; ++key) base.push_back(wire_add(key));
+  for (VertexKey key = 1; key < 8000; key += 2) base.push_back(wire_set(key, key + 1, 3));
+  v1::EventBatch bad = testing::make_batch(base, from_client("a", 1, "A"));
+  bad.mutable_events(4321)->set_kind(static_cast<v1::Event::Kind>(99));
+  const std::string bad_message = testing::ingest_message(bad);
+  ASSERT_GT(bad_message.size(), std::size_t{64} << 10);
+  ingest.send(zmq::buffer(bad_message), zmq::send_flags::none);
+  send_batch(ingest, base, from_client("a", 2, "A"));
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  const v1::Ack b1 = next_ack(ingest);
+  EXPECT_EQ(b1.pool(), "B");
+  ASSERT_TRUE(b1.has_accepted()) << b1.DebugString();
+
+  yoked.latch.set_value();
+  const v1::Ack refused = next_ack(ingest);
+  EXPECT_EQ(refused.client_batch(), 1u);
+  EXPECT_EQ(refused.pool(), "A");
+  ASSERT_TRUE(refused.has_rejected()) << refused.DebugString();
+  EXPECT_EQ(refused.rejected().errors(0).code(), v1::Error::MALFORMED_MESSAGE);
+  EXPECT_EQ(refused.rejected().errors(0).event_index(), 4321u);
+  const v1::Ack a2 = next_ack(ingest);
+  EXPECT_EQ(a2.client_batch(), 2u);
+  ASSERT_TRUE(a2.has_accepted()) << a2.DebugString();
+  EXPECT_EQ(a2.accepted().seq(), 1u);
+
+  ::kill(::getpid(), SIGTERM);
+  EXPECT_EQ(yoked.status.get(), kYokedOk);
+  EXPECT_EQ(yoked.service.registry().find("A")->weight(), 4000 * 3);
+  EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("A")));
+}
+
 // A snapshot after every window, written off the loop: the one started while A's repair is
 // held waits for A alone (B's batch and query are answered meanwhile), holds A at its
 // position, and not B, whose first batch came after that position.

@@ -6,7 +6,8 @@
 //   tag % 4 == 2:      a query message, answered by the QueryHandler;
 //   tag % 4 == 3:      close the window: seal() into the journal, then apply().
 // The window is closed at the end as well, and the whole input also goes once through
-// decode_ingest and the QueryHandler as a single message.
+// decode_ingest (and read_batch_envelope, which must agree with it) and the QueryHandler as a
+// single message.
 //
 // Each input gets a fresh PoolService (so a crash replays from its input alone) over one journal
 // in a temporary directory that lives as long as the process. Every reply is held to
@@ -37,6 +38,7 @@
 
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/batch_decoder.h"
+#include "daemon/service/ingest_envelope.h"
 #include "daemon/pools/pool_names.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/wire_types.h"
@@ -632,6 +634,14 @@ void Run::query(std::string_view message) {
 void check_decoder(std::string_view input) {
   const InputLimits wide{std::uint64_t{1} << 20, std::uint64_t{1} << 20};
   const DecodeResult result = decode_ingest(input, wide);
+  // The envelope read on the loop for a big message (a new pool's first, decoded on a worker)
+  // names the batch decode_ingest reads, whenever both read one.
+  const std::optional<BatchEnvelope> envelope = read_batch_envelope(input);
+  if (const auto* batch = std::get_if<DecodedBatch>(&result); envelope && batch && !batch->retire) {
+    REQUIRE(resolve_pool_name(envelope->pool) == batch->pool &&
+            envelope->client_id == batch->client_id &&
+            envelope->client_batch == batch->client_batch);
+  }
   if (const auto* ack = std::get_if<v1::Ack>(&result)) {
     REQUIRE(ack->has_rejected() && ack->rejected().errors_size() > 0);
     REQUIRE(ack->rejected().errors(0).code() != v1::Error::INTERNAL);
