@@ -25,6 +25,7 @@
 #include "daemon/service/recovery.h"
 #include "daemon/snapshots/snapshot_directory.h"
 #include "daemon/storage/storage_error.h"
+#include "freed_memory.h"
 #include "service_notifier.h"
 #include "yoked_server.h"
 
@@ -154,6 +155,7 @@ int main(int argc, char** argv) {
     return kYokedConfigError;
   }
   route_protobuf_logs();
+  keep_freed_memory_for_reuse();  // before the service allocates its pools
   try {
     const int status = config.cluster.backend == StorageBackend::jetstream
                            ? serve_in_cluster(config)

@@ -7,8 +7,11 @@
 #include <fstream>
 #include <future>
 #include <latch>
+#include <map>
+#include <sstream>
 #include <memory>
 #include <stdexcept>
+#include <string>
 #include <thread>
 #include <utility>
 #include <vector>
@@ -122,11 +125,44 @@ void await_summary(zmq::context_t& context, const std::string& endpoint, const s
   ask_and_wait(context, endpoint, std::move(request), pool);
 }
 
-// CPU time (seconds) a process's threads have run: its main thread (yoked's loop) apart.
+// CPU time (seconds) a process's threads have run: its main thread (yoked's loop) apart; and
+// each thread's time and context switches by thread name (several threads of a name summed).
+struct ThreadCpu {
+  double seconds = 0;
+  double switches = 0;  // voluntary and involuntary
+  double faults = 0;    // minor page faults (fresh pages the kernel zeroes)
+  int threads = 0;
+};
+
 struct ProcessCpu {
   double main_thread = 0;
   double other_threads = 0;
+  std::map<std::string, ThreadCpu> by_name;
 };
+
+// Field `index` (1-based, as proc(5) counts) of a /proc stat file (0 when absent).
+double stat_field(const std::filesystem::path& stat, int index) {
+  std::string line;
+  std::getline(std::ifstream(stat), line);
+  const std::size_t comm_end = line.rfind(')');  // a thread name may hold spaces
+  if (comm_end == std::string::npos) return 0;
+  std::istringstream fields(line.substr(comm_end + 1));
+  std::string field;
+  for (int i = 3; i <= index && fields >> field; ++i) {
+    if (i == index) return std::strtod(field.c_str(), nullptr);
+  }
+  return 0;
+}
+
+// A number after `label` in a /proc status file (0 when absent).
+double status_field(const std::filesystem::path& status, const std::string& label) {
+  std::ifstream in(status);
+  std::string line;
+  while (std::getline(in, line)) {
+    if (line.starts_with(label)) return std::strtod(line.c_str() + label.size(), nullptr);
+  }
+  return 0;
+}
 
 ProcessCpu process_cpu(pid_t pid) {
   ProcessCpu cpu;
@@ -138,6 +174,14 @@ ProcessCpu process_cpu(pid_t pid) {
     if (!(schedstat >> ns)) continue;
     (task.path().filename() == std::to_string(pid) ? cpu.main_thread : cpu.other_threads) +=
         ns * 1e-9;
+    std::string name;
+    std::getline(std::ifstream(task.path() / "comm"), name);
+    ThreadCpu& thread = cpu.by_name[name];
+    thread.seconds += ns * 1e-9;
+    thread.switches += status_field(task.path() / "status", "voluntary_ctxt_switches:") +
+                       status_field(task.path() / "status", "nonvoluntary_ctxt_switches:");
+    thread.faults += stat_field(task.path() / "stat", 10);  // minflt
+    ++thread.threads;
   }
   return cpu;
 }
@@ -154,6 +198,8 @@ struct ScalingRun {
   // (repair workers, ZeroMQ, snapshots), and this process (the clients).
   double loop_us = 0, workers_us = 0, clients_us = 0;
   double events_per_commit = 0;  // the repairs' size: the engine's cost per event falls with it
+  // yoked's threads by name over the timed part: CPU us per event, switches per 1000 events.
+  std::map<std::string, ThreadCpu> threads;
 };
 
 // Events per second of `pools` pools fed at once by one pipelined client each.
@@ -209,6 +255,13 @@ ScalingRun pools_at_once(zmq::context_t& context, const PoolScalingSettings& set
   run.loop_us = (daemon_after.main_thread - daemon_before.main_thread) * per_event;
   run.workers_us = (daemon_after.other_threads - daemon_before.other_threads) * per_event;
   run.clients_us = (clients_after - clients_before) * per_event;
+  for (const auto& [name, after] : daemon_after.by_name) {
+    const auto before = daemon_before.by_name.find(name);
+    const ThreadCpu earlier = before == daemon_before.by_name.end() ? ThreadCpu{} : before->second;
+    run.threads[name] = {(after.seconds - earlier.seconds) * per_event,
+                         (after.switches - earlier.switches) * per_event * 1e-3,
+                         (after.faults - earlier.faults) * per_event * 1e-3, after.threads};
+  }
   run.events_per_commit = static_cast<double>(events) /
                           static_cast<double>(std::max<std::uint64_t>(commits - commits_before, 1));
   return run;
@@ -251,6 +304,13 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
     std::printf("  %-6zu %11.0f %9.2f %7.2f %8.2f %8.2f %11.0f %13.0f %9.2f %8.0f%%\n", pools,
                 run.events_per_second, ratio, run.loop_us, run.workers_us, run.clients_us,
                 run.events_per_commit, engine, engine_ratio, 100 * ratio / engine_ratio);
+    std::printf("         yoked's threads, CPU us/event (context switches, minor faults per 1000 "
+                "events):");
+    for (const auto& [name, thread] : run.threads) {
+      std::printf(" %s x%d %.3f (%.1f, %.1f)", name.c_str(), thread.threads, thread.seconds,
+                  thread.switches, thread.faults);
+    }
+    std::printf("\n");
   }
 }
 

@@ -1,0 +1,19 @@
+#include "freed_memory.h"
+
+#include <malloc.h>
+
+#include <cstdlib>
+#include <cstring>
+
+namespace yoke::daemon {
+
+bool keep_freed_memory_for_reuse() {
+  const char* tunables = std::getenv("GLIBC_TUNABLES");
+  if (tunables != nullptr && std::strstr(tunables, "glibc.malloc.") != nullptr) return false;
+  // Either call also stops glibc from moving the mapping threshold by itself.
+  const bool mapped = ::mallopt(M_MMAP_THRESHOLD, static_cast<int>(kMappedBlockBytes)) == 1;
+  const bool kept = ::mallopt(M_TRIM_THRESHOLD, static_cast<int>(kKeptFreeBytes)) == 1;
+  return mapped && kept;
+}
+
+}  // namespace yoke::daemon
