@@ -16,8 +16,9 @@ namespace yoke::daemon {
 inline constexpr std::size_t kMappedBlockBytes = std::size_t{32} << 20;  // glibc's largest
 inline constexpr std::size_t kKeptFreeBytes = std::size_t{64} << 20;
 
-// Sets the thresholds above, unless GLIBC_TUNABLES names a malloc setting (an operator's
-// choice wins). Call once at the start. Returns whether it set them.
+// Sets the thresholds above, unless GLIBC_TUNABLES sets glibc.malloc.mmap_threshold or
+// trim_threshold (an operator's choice wins; other tunables, such as the systemd unit's
+// hugetlb, do not stop it). Call once at the start. Returns whether it set them.
 bool keep_freed_memory_for_reuse();
 
 }  // namespace yoke::daemon

@@ -42,10 +42,26 @@ TEST(FreedMemory, OperatorsMallocTunablesWin) {
   }
 }
 
+TEST(FreedMemory, OtherMallocTunablesLeaveTheThresholdsToYoked) {
+#ifdef YOKE_SANITIZED_MALLOC
+  GTEST_SKIP() << "a sanitizer's allocator, not glibc's";
+#endif
+  const char* before = std::getenv("GLIBC_TUNABLES");
+  const std::string kept = before == nullptr ? "" : before;
+  if (kept.find("threshold") != std::string::npos) GTEST_SKIP() << "GLIBC_TUNABLES sets one";
+  ::setenv("GLIBC_TUNABLES", "glibc.malloc.hugetlb=1", 1);  // as the systemd unit does
+  EXPECT_TRUE(keep_freed_memory_for_reuse());
+  if (before == nullptr) {
+    ::unsetenv("GLIBC_TUNABLES");
+  } else {
+    ::setenv("GLIBC_TUNABLES", kept.c_str(), 1);
+  }
+}
+
 TEST(FreedMemory, WindowSizedBlocksStayLargeOnesAreMapped) {
   const char* tunables = std::getenv("GLIBC_TUNABLES");
-  if (tunables != nullptr && std::strstr(tunables, "glibc.malloc.") != nullptr) {
-    GTEST_SKIP() << "GLIBC_TUNABLES sets malloc here";
+  if (tunables != nullptr && std::strstr(tunables, "threshold") != nullptr) {
+    GTEST_SKIP() << "GLIBC_TUNABLES sets a malloc threshold here";
   }
 #ifdef YOKE_SANITIZED_MALLOC
   GTEST_SKIP() << "a sanitizer's allocator, not glibc's";
