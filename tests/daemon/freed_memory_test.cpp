@@ -6,6 +6,7 @@
 #include <cstddef>
 #include <cstdlib>
 #include <cstring>
+#include <optional>
 #include <string>
 
 #include <gtest/gtest.h>
@@ -30,32 +31,39 @@ char* touched_block(std::size_t bytes) {
   return block;
 }
 
-TEST(FreedMemory, OperatorsMallocTunablesWin) {
-  const char* before = std::getenv("GLIBC_TUNABLES");
-  const std::string kept = before == nullptr ? "" : before;
-  ::setenv("GLIBC_TUNABLES", "glibc.malloc.trim_threshold=1048576", 1);
-  EXPECT_FALSE(keep_freed_memory_for_reuse());
-  if (before == nullptr) {
-    ::unsetenv("GLIBC_TUNABLES");
-  } else {
-    ::setenv("GLIBC_TUNABLES", kept.c_str(), 1);
+// GLIBC_TUNABLES set to `value` for the guard's lifetime, then as it was.
+class ScopedTunables {
+ public:
+  explicit ScopedTunables(const char* value) {
+    const char* before = std::getenv("GLIBC_TUNABLES");
+    if (before != nullptr) before_ = before;
+    ::setenv("GLIBC_TUNABLES", value, 1);
   }
+  ~ScopedTunables() {
+    if (before_) {
+      ::setenv("GLIBC_TUNABLES", before_->c_str(), 1);
+    } else {
+      ::unsetenv("GLIBC_TUNABLES");
+    }
+  }
+  ScopedTunables(const ScopedTunables&) = delete;
+  ScopedTunables& operator=(const ScopedTunables&) = delete;
+
+ private:
+  std::optional<std::string> before_;
+};
+
+TEST(FreedMemory, OperatorsMallocTunablesWin) {
+  const ScopedTunables tunables("glibc.malloc.trim_threshold=1048576");
+  EXPECT_FALSE(keep_freed_memory_for_reuse());
 }
 
 TEST(FreedMemory, OtherMallocTunablesLeaveTheThresholdsToYoked) {
 #ifdef YOKE_SANITIZED_MALLOC
   GTEST_SKIP() << "a sanitizer's allocator, not glibc's";
 #endif
-  const char* before = std::getenv("GLIBC_TUNABLES");
-  const std::string kept = before == nullptr ? "" : before;
-  if (kept.find("threshold") != std::string::npos) GTEST_SKIP() << "GLIBC_TUNABLES sets one";
-  ::setenv("GLIBC_TUNABLES", "glibc.malloc.hugetlb=1", 1);  // as the systemd unit does
+  const ScopedTunables tunables("glibc.malloc.hugetlb=1");  // as the systemd unit sets
   EXPECT_TRUE(keep_freed_memory_for_reuse());
-  if (before == nullptr) {
-    ::unsetenv("GLIBC_TUNABLES");
-  } else {
-    ::setenv("GLIBC_TUNABLES", kept.c_str(), 1);
-  }
 }
 
 TEST(FreedMemory, WindowSizedBlocksStayLargeOnesAreMapped) {
