@@ -3,7 +3,9 @@
 // on the side in an overlay, with an undo log so that a refused batch leaves no trace.
 #include "yoke/batch_checker.h"
 
+#include <optional>
 #include <string>
+#include <type_traits>
 #include <utility>
 #include <vector>
 
@@ -153,6 +155,16 @@ class BatchChecker::Overlay {
     if (inserted) return {key, std::nullopt};
     return {key, std::optional<Value>(std::in_place, *value)};
   }
+  // Stores `value` for `key` in one probe of `table`, with its undo entry. Returns what the
+  // overlay held before (nothing: the key was not in it).
+  template <typename Table, typename Key, typename Value>
+  static std::optional<Value> write(Table& table, std::vector<Undo<Key, Value>>& undo,
+                                    const Key& key, const std::type_identity_t<Value>& value) {
+    const auto [stored, inserted] = table.try_emplace(key, value);
+    undo.push_back(undo_entry<Key, Value>(key, inserted, stored));
+    *stored = value;
+    return undo.back().before;
+  }
   struct Mark {
     std::ptrdiff_t alive_change;
     std::ptrdiff_t edge_change;
@@ -253,9 +265,7 @@ class BatchChecker::Overlay {
     write_partner(b, std::nullopt);
   }
   void write_partner(VertexKey key, std::optional<VertexKey> partner) {
-    const auto [value, inserted] = partner_.try_emplace(key, partner);
-    partner_undo_.push_back(undo_entry<VertexKey, std::optional<VertexKey>>(key, inserted, value));
-    *value = partner;
+    write(partner_, partner_undo_, key, partner);
   }
 
   std::optional<Refusal> check_set(const Event& event) {
@@ -279,11 +289,8 @@ class BatchChecker::Overlay {
       end->alive = true;  // with its generation, and in no slot of the pool (it was not alive)
     }
     // One probe of the overlay for the look-up and the write (the most frequent event).
-    const EdgeKey key = edge_key(a, b);
-    const auto [value, inserted] = edge_override_.try_emplace(key, true);
-    const bool existed = inserted ? pool_edge_exists(a, b) : *value;
-    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, value));
-    *value = true;
+    const std::optional<bool> before = write(edge_override_, edge_undo_, edge_key(a, b), true);
+    const bool existed = before ? *before : pool_edge_exists(a, b);
     if (!existed) ++edge_change_;  // the limit is checked after the batch
     return std::nullopt;
   }
@@ -337,15 +344,9 @@ class BatchChecker::Overlay {
   }
   bool edge_exists(VertexKey a, VertexKey b) const { return edge_exists(end_of(a), end_of(b)); }
 
-  void write_vertex(VertexKey key, VertexState state) {
-    const auto [value, inserted] = vertex_.try_emplace(key, state);
-    vertex_undo_.push_back(undo_entry<VertexKey, VertexState>(key, inserted, value));
-    *value = state;
-  }
+  void write_vertex(VertexKey key, VertexState state) { write(vertex_, vertex_undo_, key, state); }
   void write_edge(const EdgeKey& key, bool present) {
-    const auto [value, inserted] = edge_override_.try_emplace(key, present);
-    edge_undo_.push_back(undo_entry<EdgeKey, bool>(key, inserted, value));
-    *value = present;
+    write(edge_override_, edge_undo_, key, present);
   }
 
   Mark mark() const { return {alive_change_, edge_change_}; }
