@@ -99,12 +99,16 @@ void write_all(const FileDescriptor& file, std::string_view bytes,
 std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, std::uint64_t offset,
                           std::size_t piece, const std::filesystem::path& path) {
   while (!bytes.empty()) {
-    const std::string_view next = bytes.substr(0, piece);
+    // Up to the file's next piece boundary, so that small writes (a snapshot's frames) share
+    // their piece's write-back instead of asking for one each.
+    const std::string_view next = bytes.substr(0, piece - offset % piece);
     write_all(file, next, path);
-    ::sync_file_range(file.get(), static_cast<off_t>(offset), static_cast<off_t>(next.size()),
-                      SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
     offset += next.size();
     bytes.remove_prefix(next.size());
+    if (offset % piece == 0) {
+      ::sync_file_range(file.get(), static_cast<off_t>(offset - piece), static_cast<off_t>(piece),
+                        SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+    }
   }
   return offset;
 }

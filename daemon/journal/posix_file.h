@@ -46,8 +46,9 @@ std::uint64_t file_size(const FileDescriptor& file, const std::filesystem::path&
 // Writes every byte (retrying short writes and EINTR) or throws.
 void write_all(const FileDescriptor& file, std::string_view bytes,
                const std::filesystem::path& path);
-// write_all of `bytes` at the file's end `offset`, a piece of `piece` bytes at a time, each
-// written back to the device (sync_file_range) before the next is written: a big file then
+// write_all of `bytes` at the file's end `offset`, cut at the file's multiples of `piece`, each
+// whole piece written back to the device (sync_file_range) before the next is written (the
+// last, partial one is left to sync_data), however small the calls that fill it: a big file then
 // never fills the device's queue, where another file's fdatasync (the journal's) would wait
 // behind all of it. A hint about when, not a promise that: nothing is durable until
 // sync_data(), so a failed write-back is ignored (it bypasses the FileSystem seam, which it
