@@ -40,14 +40,18 @@ bool PoolService::sealed_holds(const std::string& pool) const {
                      [&pool](const PendingBatch& pending) { return pending.batch.pool == pool; });
 }
 
+void PoolService::drop_kept_checkers(const std::string& pool) {
+  chained_checkers_.erase(pool);
+  spare_checkers_.erase(pool);
+}
+
 void PoolService::adopt_pool(const std::string& pool, PoolState state) {
   if (window_pools_.contains(pool) || sealed_holds(pool) || repairing(pool)) {
     throw std::logic_error("pool " + pool +
                            " cannot be adopted while the window holds its batches");
   }
   if (!routing_.serves_every_pool()) routing_.serve_here(pool);
-  chained_checkers_.erase(pool);  // before the pool: they read it
-  spare_checkers_.erase(pool);
+  drop_kept_checkers(pool);
   put_pool_state(state_, pool, std::move(state));
 }
 
@@ -96,8 +100,7 @@ void PoolService::drop_pool(const std::string& pool,
     });
   }
   window_pools_.erase(pool);  // before the pool: its checker reads it
-  chained_checkers_.erase(pool);
-  spare_checkers_.erase(pool);
+  drop_kept_checkers(pool);
   syncing_.checkers.erase(pool);
   syncing_.seq_before.erase(pool);
   syncing_.last_seq.erase(pool);

@@ -181,18 +181,18 @@ class PoolService {
   // begin_seal(), the log's commit() and end_seal() in one call, on the caller's thread.
   std::vector<std::pair<Ticket, v1::Ack>> seal(std::vector<std::string>* lost_pools = nullptr);
 
-  // seal() in two steps, for a caller that makes the window durable on another thread (the
-  // server's JournalThread): begin_seal() returns the window's records for CommitLog::commit()
-  // (their events written in by SealedRecords::complete(), on the committing thread) and opens
-  // the next window at once; end_seal() takes what commit() stored and returns the
-  // replies, as seal() does. Meanwhile (syncing()) batches join the next window, checked on top
-  // of the syncing one's (a pool's checker goes on to the next window as on a chained one), but
-  // for a retirement, and every batch in a cluster, of a pool in the syncing window: they wait
-  // (offered by finish_repairs() after start_apply()). A retry of a syncing batch is answered by
-  // end_seal(). One window syncs at a time; the caller must not touch the log meanwhile
-  // (next_journal_position() included). The retry ledger's horizon moves at begin_seal(), with
-  // the records' wall time: the ledger then holds exactly the marks a replay up to this window
-  // holds. If commit() throws, refuse_window() answers the syncing window too. O(window).
+  // seal() in two steps, for a caller that makes the window durable on another thread (the server's
+  // JournalThread): begin_seal() returns the window's records for CommitLog::commit() (their events
+  // written in by SealedRecords::encode() or complete(), on the committing thread) and opens the
+  // next window at once; end_seal() takes what commit() stored and returns the replies, as seal()
+  // does. Meanwhile (syncing()) batches join the next window, checked on top of the syncing one's
+  // (a pool's checker goes on to the next window as on a chained one), but for a retirement, and
+  // every batch in a cluster, of a pool in the syncing window: they wait (offered by
+  // finish_repairs() after start_apply()). A retry of a syncing batch is answered by end_seal().
+  // One window syncs at a time; the caller must not touch the log meanwhile
+  // (next_journal_position() included). The retry ledger's horizon moves at begin_seal(), with the
+  // records' wall time: the ledger then holds exactly the marks a replay up to this window holds.
+  // If commit() throws, refuse_window() answers the syncing window too. O(window).
   SealedRecords begin_seal();
   std::vector<std::pair<Ticket, v1::Ack>> end_seal(const storage::CommittedWindow& committed,
                                                    std::vector<std::string>* lost_pools = nullptr);
@@ -370,6 +370,8 @@ class PoolService {
   // pending, retiring; room for it).
   bool first_check_may_run(const std::string& pool);
   void run_first_check(const std::shared_ptr<FirstCheck>& check);
+  // Drops the pool's chained and spare checkers, before the pool they read goes or is replaced.
+  void drop_kept_checkers(const std::string& pool);
   // The first checks ended since the last call, offered (finish_repairs()).
   void offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   // A batch that must wait for its pool's engine: a job of the pool is still staging its

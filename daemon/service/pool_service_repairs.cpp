@@ -79,8 +79,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
       retired_.window_closed.push_back(window_closed);
-      chained_checkers_.erase(name);  // before the pool: they read it
-      spare_checkers_.erase(name);
+      drop_kept_checkers(name);
       take_pool_state(state_, name);
       executor_->forget(name);  // nothing of it in flight (above)
       continue;
