@@ -85,11 +85,17 @@ std::uint64_t Journal::first_position() const {
 std::uint64_t Journal::next_position() const { return state_->next_position; }
 
 void Journal::append(std::uint64_t position, std::string_view payload) {
+  append(position, PayloadPieces(&payload, 1));
+}
+
+void Journal::append(std::uint64_t position, PayloadPieces pieces) {
   State& s = *state_;
   s.check_usable();
-  if (payload.size() > s.options.max_record_bytes) {
+  std::uint64_t size = 0;
+  for (const std::string_view piece : pieces) size += piece.size();
+  if (size > s.options.max_record_bytes) {
     throw Error("journal: record " + std::to_string(position) + " of " +
-                std::to_string(payload.size()) + " bytes exceeds the maximum record size of " +
+                std::to_string(size) + " bytes exceeds the maximum record size of " +
                 std::to_string(s.options.max_record_bytes) + " bytes");
   }
   if (position == 0 || position == std::numeric_limits<std::uint64_t>::max()) {
@@ -100,7 +106,7 @@ void Journal::append(std::uint64_t position, std::string_view payload) {
                 std::to_string(s.next_position));
   }
   s.guarded([&] {
-    const std::uint64_t bytes = format::kRecordHeaderBytes + payload.size();
+    const std::uint64_t bytes = format::kRecordHeaderBytes + size;
     if (!s.writer.is_open()) {
       s.start_segment(position);
     } else if (s.writer.holds_records() && s.writer.size() + bytes > s.options.segment_bytes) {
@@ -108,7 +114,7 @@ void Journal::append(std::uint64_t position, std::string_view payload) {
       s.writer.sync();
       s.start_segment(position);
     }
-    s.writer.add(position, payload);
+    s.writer.add(position, pieces);
     s.next_position = position + 1;
     if (s.options.durability == Durability::every_batch) {
       s.sync();

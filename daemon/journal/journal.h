@@ -20,6 +20,7 @@
 #include "journal_error.h"
 #include "journal_format.h"
 #include "journal_reader.h"
+#include "record_codec.h"
 
 namespace yoke::journal {
 
@@ -80,6 +81,8 @@ class Journal {
   // Starts a new segment when the current one is full, first making the full one durable.
   // Amortised O(payload).
   void append(std::uint64_t position, std::string_view payload);
+  // The same for the payload `pieces` make together (record_codec.h), not joined first.
+  void append(std::uint64_t position, PayloadPieces pieces);
 
   // Makes every record appended so far durable (see Durability); returns when it is. O(bytes
   // since the last sync) plus one fdatasync.

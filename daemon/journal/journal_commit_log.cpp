@@ -1,5 +1,6 @@
 #include "journal_commit_log.h"
 
+#include <array>
 #include <cstdint>
 #include <deque>
 #include <set>
@@ -161,6 +162,7 @@ void JournalCommitLog::continue_from(storage::Position position) {
 storage::CommittedWindow JournalCommitLog::commit(std::vector<v1::JournalRecord> window) {
   return append_window(window, [&window](std::size_t i, std::string& bytes) {
     window[i].SerializeToString(&bytes);
+    return Inserted{bytes.size(), {}};
   });
 }
 
@@ -170,13 +172,13 @@ storage::CommittedWindow JournalCommitLog::commit_encoded(storage::EncodedWindow
   }
   return append_window(window.records, [&window](std::size_t i, std::string& bytes) {
     window.records[i].SerializeToString(&bytes);
-    bytes.insert(events_offset(bytes), window.events[i]);
+    return Inserted{events_offset(bytes), window.events[i]};  // written in place, not copied
   });
 }
 
 storage::CommittedWindow JournalCommitLog::append_window(
     std::vector<v1::JournalRecord>& records,
-    const std::function<void(std::size_t, std::string&)>& payload) {
+    const std::function<Inserted(std::size_t, std::string&)>& serialize) {
   const storage::Position start = end_position();
   if (records.empty()) return {0, start, {}};
   if (failed_) {
@@ -189,8 +191,11 @@ storage::CommittedWindow JournalCommitLog::append_window(
       for (std::size_t i = 0; i < records.size(); ++i) {
         records[i].set_window_start(start);  // before the payload serializes it
         bytes.clear();
-        payload(i, bytes);
-        journal_.append(position++, bytes);
+        const Inserted inserted = serialize(i, bytes);
+        const std::string_view whole(bytes);
+        const std::array<std::string_view, 3> pieces{
+            whole.substr(0, inserted.at), inserted.bytes, whole.substr(inserted.at)};
+        journal_.append(position++, pieces);
       }
       journal_.sync();
     });

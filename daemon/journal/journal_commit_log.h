@@ -69,11 +69,17 @@ class JournalCommitLog : public storage::CommitLog {
 
  private:
   Journal journal_;
-  // Appends one serialized record per payload() call, at end_position() on, and syncs; the
-  // commit's result. Marks the log failed when it throws.
+  // Bytes a record's payload holds besides those serialize() wrote: `bytes` go in at `at`.
+  struct Inserted {
+    std::size_t at = 0;
+    std::string_view bytes;
+  };
+  // Appends one serialized record per serialize() call (what it wrote, with what it returns
+  // inserted), at end_position() on, and syncs; the commit's result. Marks the log failed when
+  // it throws.
   storage::CommittedWindow append_window(
       std::vector<v1::JournalRecord>& records,
-      const std::function<void(std::size_t, std::string&)>& payload);
+      const std::function<Inserted(std::size_t, std::string&)>& serialize);
 
   storage::Position resume_ = 1;  // continue_from(): the least position of the next window
   bool failed_ = false;           // a commit threw: no more commits

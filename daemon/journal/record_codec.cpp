@@ -33,13 +33,19 @@ void append_segment_header(std::string& out, std::uint64_t first_position) {
 }
 
 void append_record(std::string& out, std::uint64_t position, std::string_view payload) {
+  append_record_header(out, position, PayloadPieces(&payload, 1));
+  out.append(payload);
+}
+
+void append_record_header(std::string& out, std::uint64_t position, PayloadPieces pieces) {
+  std::size_t size = 0;
+  for (const std::string_view piece : pieces) size += piece.size();
   const std::size_t start = out.size();
-  put_le(out, payload.size(), 4);
+  put_le(out, size, 4);
   put_le(out, 0, 4);  // checksum, filled in below
   put_le(out, position, 8);
-  out.append(payload);
   const std::string_view header = std::string_view(out).substr(start, kRecordHeaderBytes);
-  const std::uint32_t crc = record_checksum(header, payload);
+  const std::uint32_t crc = record_checksum(header, pieces);
   for (int i = 0; i < 4; ++i) {
     out[start + kRecordChecksumOffset + static_cast<std::size_t>(i)] =
         static_cast<char>((crc >> (8 * i)) & 0xFFu);
@@ -94,9 +100,14 @@ RecordHeader decode_record_header(std::string_view bytes) {
 
 // The checksum covers the length and everything after the checksum field.
 std::uint32_t record_checksum(std::string_view header_bytes, std::string_view payload) {
+  return record_checksum(header_bytes, PayloadPieces(&payload, 1));
+}
+
+std::uint32_t record_checksum(std::string_view header_bytes, PayloadPieces payload) {
   std::uint32_t crc = crc32c(header_bytes.substr(kRecordLengthOffset, 4));
   crc = crc32c_extend(crc, header_bytes.substr(kRecordPositionOffset, 8));
-  return crc32c_extend(crc, payload);
+  for (const std::string_view piece : payload) crc = crc32c_extend(crc, piece);
+  return crc;
 }
 
 }  // namespace yoke::journal

@@ -3,6 +3,7 @@
 #pragma once
 
 #include <cstdint>
+#include <span>
 #include <string>
 #include <string_view>
 
@@ -10,9 +11,17 @@ namespace yoke::journal {
 
 // Appends the segment header for a segment whose first record is first_position.
 void append_segment_header(std::string& out, std::uint64_t first_position);
+// A payload given in pieces: the record holds their concatenation (a journal record's fields
+// around its events, which are not copied into one string first).
+using PayloadPieces = std::span<const std::string_view>;
+
 // Appends one record: header (length, checksum, position), then the payload.
 // Precondition: payload.size() <= format::kMaxPayloadBytes.
 void append_record(std::string& out, std::uint64_t position, std::string_view payload);
+
+// Appends one record's header alone, for the payload `pieces` make; the caller writes the
+// pieces right after it. Precondition: as append_record's, for their total size. O(payload).
+void append_record_header(std::string& out, std::uint64_t position, PayloadPieces pieces);
 
 // What a segment header says, or why it cannot be trusted.
 struct HeaderCheck {
@@ -39,5 +48,6 @@ struct RecordHeader {
 RecordHeader decode_record_header(std::string_view bytes);
 // The checksum a record with this header and payload must carry.
 std::uint32_t record_checksum(std::string_view header_bytes, std::string_view payload);
+std::uint32_t record_checksum(std::string_view header_bytes, PayloadPieces payload);
 
 }  // namespace yoke::journal

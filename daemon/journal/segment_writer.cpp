@@ -33,8 +33,25 @@ SegmentWriter SegmentWriter::reopen(const std::filesystem::path& file) {
 bool SegmentWriter::holds_records() const { return size() > format::kSegmentHeaderBytes; }
 
 void SegmentWriter::add(std::uint64_t position, std::string_view payload) {
-  append_record(buffer_, position, payload);
-  if (buffer_.size() >= kFlushBufferBytes) flush();
+  add(position, PayloadPieces(&payload, 1));
+}
+
+void SegmentWriter::add(std::uint64_t position, PayloadPieces pieces) {
+  std::size_t size = 0;
+  for (const std::string_view piece : pieces) size += piece.size();
+  append_record_header(buffer_, position, pieces);
+  if (size < kFlushBufferBytes) {
+    for (const std::string_view piece : pieces) buffer_.append(piece);
+    if (buffer_.size() >= kFlushBufferBytes) flush();
+    return;
+  }
+  // A big record (a new pool's base graph): copied into the buffer, it cost a copy and the
+  // buffer's growth while every pool's next acknowledgements waited for this commit.
+  flush();
+  for (const std::string_view piece : pieces) {
+    write_all(file_, piece, path_);
+    written_ += piece.size();
+  }
 }
 
 void SegmentWriter::flush() {

@@ -8,6 +8,7 @@
 #include <string_view>
 
 #include "posix_file.h"
+#include "record_codec.h"
 
 namespace yoke::journal {
 
@@ -27,6 +28,9 @@ class SegmentWriter {
 
   // Buffers one record; writes the buffer out when it grows large. Amortised O(payload).
   void add(std::uint64_t position, std::string_view payload);
+  // The same for the payload `pieces` make; a record of 1 MiB or more is written from its
+  // pieces (after the buffer) instead of being copied into the buffer. O(payload).
+  void add(std::uint64_t position, PayloadPieces pieces);
   // Hands the buffered bytes to the OS: safe from a process crash, not yet from power loss.
   void flush();
   // flush(), then fdatasync: the bytes are on disk.

@@ -25,6 +25,9 @@ struct DecodedBatch {
   std::uint64_t client_batch = 0;
   std::uint64_t after_batch = 0;
   std::vector<Event> events;  // the journal record's, written back by SealedRecords
+  // encode_events(events) when made beforehand (a new pool's big first batch, on the worker
+  // that checks it): the seal moves these bytes to the journal instead of copying `events`.
+  std::string journal_events;
   // A RetirePool read as a batch of no events: client id, batch and pool come from it.
   bool retire = false;
   std::uint64_t at_seq = 0;  // RetirePool.at_seq (retire only)

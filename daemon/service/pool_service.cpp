@@ -223,6 +223,13 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
       if (!check->refusal && !check->not_as_announced) {
         check->checker.emplace(*check->engine);
         check->verdict = check->checker->accept(*events);
+        // Its journal bytes too, here: encoded on the journal thread and copied on the loop,
+        // a base graph's events held every pool's next window (and acknowledgements) behind
+        // them for tens of milliseconds.
+        if (!check->verdict) {
+          DecodedBatch& checked = check->decode ? check->decoded : check->batch;
+          checked.journal_events = encode_events(checked.events);
+        }
       }
     } catch (...) {
       check->failure = std::current_exception();
@@ -584,7 +591,14 @@ SealedRecords PoolService::begin_seal() {
   for (PendingBatch& pending : window_) {
     DecodedBatch& batch = pending.batch;
     v1::JournalRecord& record = sealed.records.emplace_back();
-    sealed.events.push_back(batch.events);  // a copy: the repair takes the batch's own
+    if (!batch.journal_events.empty()) {
+      // Encoded on a worker already: the loop copies no event of a big batch.
+      sealed.encoded.resize(sealed.records.size());
+      sealed.encoded.back() = std::move(batch.journal_events);
+      sealed.events.emplace_back();
+    } else {
+      sealed.events.push_back(batch.events);  // a copy: the repair takes the batch's own
+    }
     record.set_pool(batch.pool);
     record.set_seq(pending.seq);
     record.set_client_id(batch.client_id);

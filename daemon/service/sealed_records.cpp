@@ -13,11 +13,19 @@ std::vector<v1::JournalRecord> SealedRecords::complete() && {
     throw std::logic_error("sealed records: one list of events per record");
   }
   for (std::size_t i = 0; i < records.size(); ++i) {
+    if (i < encoded.size() && !encoded[i].empty()) {
+      // The bytes are elements of the `events` field: merged in, they are appended to it.
+      if (!records[i].MergeFromString(encoded[i])) {
+        throw std::logic_error("sealed records: events encoded beforehand do not parse");
+      }
+      continue;
+    }
     auto& wire = *records[i].mutable_events();
     wire.Reserve(static_cast<int>(events[i].size()));
     for (const Event& event : events[i]) write_wire(event, *wire.Add());
   }
   events.clear();
+  encoded.clear();
   return std::move(records);
 }
 
@@ -60,6 +68,17 @@ char* put_wire_event(char* out, const Event& event, std::uint32_t field) {
   return std::copy(body, end, out);
 }
 
+std::string encode_events(const std::vector<Event>& events) {
+  std::string bytes;
+  bytes.resize(events.size() * kMaxWireEventBytes);  // then cut to what was written
+  char* out = bytes.data();
+  for (const Event& event : events) {
+    out = put_wire_event(out, event, v1::JournalRecord::kEventsFieldNumber);
+  }
+  bytes.resize(static_cast<std::size_t>(out - bytes.data()));
+  return bytes;
+}
+
 storage::EncodedWindow SealedRecords::encode() && {
   if (records.size() != events.size()) {
     throw std::logic_error("sealed records: one list of events per record");
@@ -67,15 +86,11 @@ storage::EncodedWindow SealedRecords::encode() && {
   storage::EncodedWindow window;
   window.events.resize(records.size());
   for (std::size_t i = 0; i < records.size(); ++i) {
-    std::string& bytes = window.events[i];
-    bytes.resize(events[i].size() * kMaxWireEventBytes);  // then cut to what was written
-    char* out = bytes.data();
-    for (const Event& event : events[i]) {
-      out = put_wire_event(out, event, v1::JournalRecord::kEventsFieldNumber);
-    }
-    bytes.resize(static_cast<std::size_t>(out - bytes.data()));
+    const bool made = i < encoded.size() && !encoded[i].empty();
+    window.events[i] = made ? std::move(encoded[i]) : encode_events(events[i]);
   }
   events.clear();
+  encoded.clear();
   window.records = std::move(records);
   return window;
 }

@@ -20,6 +20,10 @@ namespace yoke::daemon {
 struct SealedRecords {
   std::vector<v1::JournalRecord> records;  // `events` left empty
   std::vector<std::vector<Event>> events;  // events[i]: those of records[i]
+  // encoded[i], when not empty: records[i]'s events as encode_events() wrote them beforehand
+  // (a new pool's big first batch, on the worker that checked it), and events[i] is left
+  // empty; shorter than `records`, or an empty string: the events are encoded here.
+  std::vector<std::string> encoded;
 
   // The whole records, each with its events. O(events).
   std::vector<v1::JournalRecord> complete() &&;
@@ -27,6 +31,10 @@ struct SealedRecords {
   // made: the bytes complete()'s records serialize them to. O(events).
   storage::EncodedWindow encode() &&;
 };
+
+// The bytes encode() writes for a batch's events: each as put_wire_event writes it as an
+// element of JournalRecord's `events`. O(events).
+std::string encode_events(const std::vector<Event>& events);
 
 // Writes at `out` the bytes Protobuf writes for `event`, as write_wire makes it, as an element
 // of a repeated Event field numbered `field` (< 16): its tag, its length, its non-zero fields;

@@ -2,13 +2,16 @@
 // every answer is the one the inline service gives for the same messages in the same order,
 // whatever the message holds (malformed, too large, a bad event at index k, a bad pool name, a
 // client id too long), and the pool's batches, retries and retirement that arrive while it is
-// decoded wait behind it and are answered as if it had been decoded on arrival.
+// decoded wait behind it and are answered as if it had been decoded on arrival. The journal
+// holds the same records (the worker encodes an accepted batch's events for it).
 //
 // Sources of the expected values: the inline service (decode and check on the caller's
 // thread, every message in a window of its own), which the batch decoder's and the service's
 // own tests pin to the protocol (events.proto, ingest.proto).
+#include <filesystem>
 #include <map>
 #include <optional>
+#include <utility>
 #include <string>
 #include <vector>
 
@@ -125,6 +128,24 @@ void expect_answers_of_the_inline_service(const std::vector<Offered>& messages,
   for (const auto& [t, ack] : expected) {
     ASSERT_TRUE(answered.contains(t)) << "ticket " << t << " unanswered";
     EXPECT_EQ(answered[t].DebugString(), ack.DebugString()) << "ticket " << t;
+  }
+  // Windows differ (the reference closes one per message): each record's own fields compared.
+  const auto by_pool_seq = [](const std::filesystem::path& journal) {
+    std::map<std::pair<std::string, std::uint64_t>, v1::JournalRecord> records;
+    for (v1::JournalRecord& record : testing::journal_records(journal)) {
+      record.clear_window_start();
+      record.clear_wall_time_unix_us();
+      records.emplace(std::pair(record.pool(), record.seq()), std::move(record));
+    }
+    return records;
+  };
+  const auto want_records = by_pool_seq(reference.journal_dir());
+  const auto got_records = by_pool_seq(held.journal_dir());
+  ASSERT_EQ(got_records.size(), want_records.size());
+  for (const auto& [key, want] : want_records) {
+    ASSERT_TRUE(got_records.contains(key)) << key.first << " " << key.second;
+    EXPECT_EQ(got_records.at(key).SerializeAsString(), want.SerializeAsString())
+        << key.first << " " << key.second;
   }
   for (const std::string& pool : pools) {
     const Pool* want = reference.service().registry().find(pool);

@@ -26,6 +26,7 @@ namespace {
 using testing::BatchHeader;
 using testing::close_window;
 using testing::from_client;
+using testing::journal_records;
 using testing::in_pool;
 using testing::PoolView;
 using testing::ServiceHarness;
@@ -48,18 +49,6 @@ DaemonConfig tiny_config() {
   small.limits.max_abs_weight = 1000;
   config.pools["small"] = small;
   return config;
-}
-
-// The records in the journal's files, in their order there.
-std::vector<v1::JournalRecord> journal_records(const std::filesystem::path& journal_dir) {
-  std::vector<v1::JournalRecord> records;
-  journal::Reader reader = journal::Reader::from_start(journal_dir);
-  while (auto record = reader.next()) {
-    v1::JournalRecord& parsed = records.emplace_back();
-    EXPECT_TRUE(parsed.ParseFromArray(record->payload.data(),
-                                      static_cast<int>(record->payload.size())));
-  }
-  return records;
 }
 
 // The acks of a closed window by ticket.

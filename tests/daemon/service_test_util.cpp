@@ -345,4 +345,15 @@ PoolView view_of(PoolService& service, const std::string& pool_name) {
   return view;
 }
 
+std::vector<v1::JournalRecord> journal_records(const std::filesystem::path& journal_dir) {
+  std::vector<v1::JournalRecord> records;
+  journal::Reader reader = journal::Reader::from_start(journal_dir);
+  while (auto record = reader.next()) {
+    v1::JournalRecord& parsed = records.emplace_back();
+    EXPECT_TRUE(parsed.ParseFromArray(record->payload.data(),
+                                      static_cast<int>(record->payload.size())));
+  }
+  return records;
+}
+
 }  // namespace yoke::daemon::testing

@@ -24,6 +24,7 @@
 #include "tests/journal/journal_test_util.h"
 #include "yoke/v1/events.pb.h"
 #include "yoke/v1/ingest.pb.h"
+#include "yoke/v1/records.pb.h"
 
 namespace yoke {
 // Readable pairs in gtest failure messages.
@@ -174,6 +175,9 @@ std::vector<ScriptWindow> random_script(const ScriptSpec& spec, std::uint64_t se
 // those of the certified matching, and the engine's static solve of the exported graph (itself
 // certificate-checked) reaches the same weight.
 ::testing::AssertionResult pool_certified(const Pool& pool);
+
+// The records in the journal's files, in their order there.
+std::vector<v1::JournalRecord> journal_records(const std::filesystem::path& journal_dir);
 
 // A pool's observable state, for "unchanged" and "identical after recovery" comparisons.
 struct PoolView {

@@ -1,5 +1,10 @@
 // Records written are the records read: across rotations, reopens, empty and maximal payloads;
 // appends out of order are refused; old segments are dropped after a snapshot.
+#include <algorithm>
+#include <array>
+#include <string>
+#include <string_view>
+
 #include <gtest/gtest.h>
 
 #include "daemon/journal/journal.h"
@@ -146,6 +151,43 @@ TEST(JournalRoundTrip, MaximumRecordSize) {
   too_large.max_record_bytes = format::kMaxPayloadBytes + 1;
   TempDir other;
   EXPECT_THROW(Journal::open(other.path(), too_large), Error);
+}
+
+// A payload given in pieces is the record their concatenation makes, byte for byte in the
+// files: small records (buffered) and records of 1 MiB and more (written from their pieces
+// past the buffer), among buffered ones, in the order appended.
+TEST(JournalRoundTrip, PayloadPiecesWriteTheJoinedRecord) {
+  TempDir dir;
+  const Options options = small_segments(std::uint64_t{8} << 20);
+  Journal joined = Journal::open(dir.path() / "joined", options);
+  Journal pieces = Journal::open(dir.path() / "pieces", options);
+  testing::Records expected;
+  std::uint64_t position = 1;
+  for (const std::size_t size : {std::size_t{40}, std::size_t{3} << 20, std::size_t{0},
+                                 (std::size_t{1} << 20) - 20, std::size_t{1} << 20,
+                                 std::size_t{77}, (std::size_t{5} << 20) + 3}) {
+    std::string payload(size, '\0');
+    for (std::size_t i = 0; i < size; ++i) payload[i] = static_cast<char>((i * 131 + size) % 251);
+    const std::string_view whole(payload);
+    const std::size_t cut = size / 3;
+    const std::array<std::string_view, 3> parts{whole.substr(0, 7 % (size + 1)),
+                                                whole.substr(7 % (size + 1), cut),
+                                                whole.substr(std::min(size, 7 % (size + 1) + cut))};
+    joined.append(position, payload);
+    pieces.append(position, parts);
+    expected.emplace_back(position++, payload);
+  }
+  joined.sync();
+  pieces.sync();
+  EXPECT_EQ(read_all(dir.path() / "pieces"), expected);
+  const auto joined_files = segment_files(dir.path() / "joined");
+  const auto piece_files = segment_files(dir.path() / "pieces");
+  ASSERT_EQ(piece_files.size(), joined_files.size());
+  for (std::size_t i = 0; i < joined_files.size(); ++i) {
+    EXPECT_EQ(piece_files[i].filename(), joined_files[i].filename());
+    EXPECT_TRUE(testing::read_file(piece_files[i]) == testing::read_file(joined_files[i]))
+        << piece_files[i];
+  }
 }
 
 TEST(JournalRoundTrip, PositionsMustRiseByOne) {
