@@ -37,6 +37,7 @@
 #include "daemon/pools/pool_registry.h"
 #include "daemon/pools/retry_ledger.h"
 #include "daemon/storage/commit_log.h"
+#include "diff_recycler.h"
 #include "pool_progress.h"
 #include "pool_routing.h"
 #include "repair_executor.h"
@@ -238,6 +239,10 @@ class PoolService {
 
   // Blocks until every repair in flight has finished (finish_repairs() then collects them).
   void wait_repairs();
+
+  // Hands back a diff of finish_repairs() once published: a later repair's diff is made in it
+  // (DiffRecycler), without allocating its pairs again. Optional. O(its pairs).
+  void reuse_diff(v1::Diff&& diff) { diff_recycler_.give(std::move(diff)); }
 
   // The pool's last seq in the log: the sealed window's, its last repair's in flight, or its
   // progress's (0: none). O(sealed window + log pools).
@@ -479,6 +484,7 @@ class PoolService {
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;
+  DiffRecycler diff_recycler_;  // published diffs given back (the loop), taken by the workers
 };
 
 }  // namespace yoke::daemon
