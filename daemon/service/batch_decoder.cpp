@@ -8,6 +8,7 @@
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
+#include "plain_batch.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -94,6 +95,11 @@ std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t
 }
 
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) {
+  if (auto plain = read_plain_batch(message, limits)) return std::move(*plain);
+  return decode_ingest_with_protobuf(message, limits);
+}
+
+DecodeResult decode_ingest_with_protobuf(std::string_view message, const InputLimits& limits) {
   if (message.size() > limits.max_message_bytes) {
     return refusal(make_error(v1::Error::OVERSIZED_MESSAGE,
                               "message of " + std::to_string(message.size()) +
