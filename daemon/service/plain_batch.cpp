@@ -2,12 +2,14 @@
 
 #include <climits>
 #include <cstdint>
+#include <optional>
 #include <string>
 #include <utility>
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
 #include "wire_reader.h"
+#include "wire_types.h"
 #include "yoke/v1/protocol.pb.h"
 
 namespace yoke::daemon {
@@ -54,19 +56,13 @@ bool read_plain_event(std::string_view bytes, Event& event) {
     reader.step(1);
     if (!reader.varint(fields[field])) return false;
   }
-  switch (fields[kEventKind]) {
-    case v1::Event::ADD_VERTEX: event.kind = EventKind::add_vertex; break;
-    case v1::Event::SET_EDGE: event.kind = EventKind::set_edge; break;
-    case v1::Event::UNSET_EDGE: event.kind = EventKind::unset_edge; break;
-    case v1::Event::REMOVE_VERTEX: event.kind = EventKind::remove_vertex; break;
-    case v1::Event::HOLD_PAIR: event.kind = EventKind::hold_pair; break;
-    case v1::Event::RELEASE_PAIR: event.kind = EventKind::release_pair; break;
-    default: return false;  // unspecified, or one decode_event names in its refusal
+  const std::optional<EventKind> kind = engine_kind(fields[kEventKind]);
+  // Unspecified, or a number decode_event names in its refusal; then decode_event's field rules.
+  if (!kind || (!carries_v(*kind) && fields[kEventV] != 0) ||
+      (!carries_w(*kind) && fields[kEventW] != 0)) {
+    return false;
   }
-  // decode_event's field rules: v for edge and pair events only, w for SET_EDGE only.
-  const bool has_v = event.kind != EventKind::add_vertex && event.kind != EventKind::remove_vertex;
-  const bool has_w = event.kind == EventKind::set_edge;
-  if ((!has_v && fields[kEventV] != 0) || (!has_w && fields[kEventW] != 0)) return false;
+  event.kind = *kind;
   event.u = fields[kEventU];
   event.v = fields[kEventV];
   event.w = zigzag_decoded(fields[kEventW]);
