@@ -432,9 +432,11 @@ class PoolService {
   // A pool's chained checker keeps the keys of every window it checked until one finds the
   // windows before it staged (window_pool() empties it then). Past this many entries, the
   // pool's next window waits for that (waits_for_engine()): its memory stays within a bound
-  // of the events in flight, whatever keys a long run brings (every arriving vertex id).
-  static constexpr std::uint64_t kChainedEntriesPerEventBehind = 16;
-  static constexpr std::uint64_t kChainedEntriesFloor = 1u << 18;
+  // of the events in flight, whatever keys a long run brings (every arriving vertex id). Small
+  // (a few MB of tables): under steady load the chain lives for many windows, and checks in
+  // tables of 10^5 entries miss the cache (16 per event + 2^18 before: DEVELOPERS.md).
+  static constexpr std::uint64_t kChainedEntriesPerEventBehind = 1;
+  static constexpr std::uint64_t kChainedEntriesFloor = 1u << 15;
   std::uint64_t max_chained_entries_;
   ServiceState state_;
   PoolRouting routing_;
