@@ -73,8 +73,8 @@ bool read_plain_fields(std::string_view bytes, const InputLimits& limits, Decode
   WireReader reader(bytes);
   SeenFields seen;
   std::string_view pool;
-  // An event takes 4 bytes at least (tag, length, kind's tag and value): never over-reserved
-  // past that; a small batch of larger events grows once or twice.
+  // One slot per 12 bytes (an event takes 6 to ~40 with its tag and length): a batch of small
+  // events grows once or twice, one of big events leaves slots it never touches.
   batch.events.reserve(bytes.size() / 12);
   while (!reader.done()) {
     std::string_view payload;
