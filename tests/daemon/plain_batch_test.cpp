@@ -163,7 +163,8 @@ TEST(PlainBatch, LeavesProtobufRulesToProtobuf) {
       {"an event of no kind", request(pool + bytes_field(4, varint_field(2, 3)))},
       {"v on ADD_VERTEX", request(pool + bytes_field(4, add + varint_field(3, 1)))},
       {"w on UNSET_EDGE",
-       request(pool + bytes_field(4, varint_field(1, 3) + varint_field(2, 1) + varint_field(4, 2)))},
+       request(pool +
+               bytes_field(4, varint_field(1, 3) + varint_field(2, 1) + varint_field(4, 2)))},
       {"a kind as a length-delimited field", request(pool + bytes_field(4, bytes_field(1, "x")))},
       {"version 2", varint_field(1, 2) + bytes_field(2, pool + events)},
       {"no version", bytes_field(2, pool + events)},
