@@ -386,6 +386,7 @@ void YokedServer::handle_repairs(PoolService::RepairsDone done) {
       metrics_->pool_retired(diff.pool());
       log_event(LogLevel::info, "pool_retired", {{"pool", diff.pool()}, {"seq", diff.seq()}});
     }
+    service_.reuse_diff(std::move(diff));  // its pair messages serve a later repair's diff
   }
   for (const auto& [ticket, ack] : done.replies) log_refusal(ack);
   send_acks(std::move(done.replies));

@@ -8,6 +8,7 @@
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
+#include "plain_batch.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -65,21 +66,15 @@ std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t
   };
   Event event;
   event.u = wire.u();
-  switch (wire.kind()) {
-    case v1::Event::ADD_VERTEX: event.kind = EventKind::add_vertex; break;
-    case v1::Event::SET_EDGE: event.kind = EventKind::set_edge; break;
-    case v1::Event::UNSET_EDGE: event.kind = EventKind::unset_edge; break;
-    case v1::Event::REMOVE_VERTEX: event.kind = EventKind::remove_vertex; break;
-    case v1::Event::HOLD_PAIR: event.kind = EventKind::hold_pair; break;
-    case v1::Event::RELEASE_PAIR: event.kind = EventKind::release_pair; break;
-    default:
-      return malformed("event kind " + std::to_string(static_cast<int>(wire.kind())) +
-                       " is not one of ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, "
-                       "HOLD_PAIR, RELEASE_PAIR");
+  const std::optional<EventKind> kind = engine_kind(static_cast<std::uint64_t>(wire.kind()));
+  if (!kind) {
+    return malformed("event kind " + std::to_string(static_cast<int>(wire.kind())) +
+                     " is not one of ADD_VERTEX, SET_EDGE, UNSET_EDGE, REMOVE_VERTEX, "
+                     "HOLD_PAIR, RELEASE_PAIR");
   }
-  const bool has_v = event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
-                     event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair;
-  const bool has_w = event.kind == EventKind::set_edge;
+  event.kind = *kind;
+  const bool has_v = carries_v(event.kind);
+  const bool has_w = carries_w(event.kind);
   if (!has_v && wire.v() != 0) {
     return malformed(v1::Event::Kind_Name(wire.kind()) + " carries v = " +
                      std::to_string(wire.v()) + ", which only edge and pair events may set");
@@ -94,6 +89,11 @@ std::variant<Event, v1::Error> decode_event(const v1::Event& wire, std::uint32_t
 }
 
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits) {
+  if (auto plain = read_plain_batch(message, limits)) return std::move(*plain);
+  return decode_ingest_with_protobuf(message, limits);
+}
+
+DecodeResult decode_ingest_with_protobuf(std::string_view message, const InputLimits& limits) {
   if (message.size() > limits.max_message_bytes) {
     return refusal(make_error(v1::Error::OVERSIZED_MESSAGE,
                               "message of " + std::to_string(message.size()) +

@@ -36,9 +36,14 @@ struct DecodedBatch {
 // A refusal: the Ack to send back (client id, batch and pool filled in when readable).
 using DecodeResult = std::variant<DecodedBatch, v1::Ack>;
 
-// Parses on an arena kept per thread (its first block reused), so that a batch's events cost
-// no allocation each.
+// A message in the shape clients write is read by hand (read_plain_batch, plain_batch.h: no
+// Protobuf message per event); any other by decode_ingest_with_protobuf. O(message bytes).
 DecodeResult decode_ingest(std::string_view message, const InputLimits& limits);
+
+// The same decode by Protobuf alone, whatever the message: the reference read_plain_batch is
+// held to. Parses on an arena kept per thread (its first block reused), so that a batch's
+// events cost no allocation each.
+DecodeResult decode_ingest_with_protobuf(std::string_view message, const InputLimits& limits);
 
 // Whether a refusal is of a message that was not read as a batch: too large to read
 // (OVERSIZED_MESSAGE), not a yoke.v1.IngestRequest (MALFORMED_MESSAGE without an event index:

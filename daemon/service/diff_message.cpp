@@ -6,13 +6,18 @@ namespace yoke::daemon {
 
 v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std::uint64_t seq,
                         std::uint64_t prev_seq, bool no_perfect_matching,
-                        std::uint64_t repair_us) {
-  v1::Diff diff;
+                        std::uint64_t repair_us, v1::Diff diff) {
   diff.set_pool(pool);
   diff.set_seq(seq);
   diff.set_prev_seq(prev_seq);
-  for (const MatchedPair& pair : result.diff.removed) *diff.add_removed() = to_wire(pair);
-  for (const MatchedPair& pair : result.diff.added) *diff.add_added() = to_wire(pair);
+  // Set in place: add_*() hands back a pair message a recycled diff still holds.
+  const auto put = [](v1::Pair* wire, const MatchedPair& pair) {
+    wire->set_a(pair.a);
+    wire->set_b(pair.b);
+    wire->set_weight(pair.w);
+  };
+  for (const MatchedPair& pair : result.diff.removed) put(diff.add_removed(), pair);
+  for (const MatchedPair& pair : result.diff.added) put(diff.add_added(), pair);
   diff.set_weight(result.weight);
   diff.set_pairs(result.pairs);
   diff.set_no_perfect_matching(no_perfect_matching);

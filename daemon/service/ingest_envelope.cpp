@@ -1,93 +1,10 @@
 #include "ingest_envelope.h"
 
+#include "wire_reader.h"
 #include "yoke/v1/protocol.pb.h"
 
 namespace yoke::daemon {
 namespace {
-
-// Field numbers of yoke.v1.IngestRequest and yoke.v1.EventBatch (proto/yoke/v1/).
-constexpr std::uint32_t kRequestVersion = 1;
-constexpr std::uint32_t kRequestBatch = 2;
-constexpr std::uint32_t kRequestRetire = 3;
-constexpr std::uint32_t kBatchClientId = 1;
-constexpr std::uint32_t kBatchClientBatch = 2;
-constexpr std::uint32_t kBatchPool = 3;
-constexpr std::uint32_t kBatchEvents = 4;
-
-enum WireType : std::uint32_t { kVarint = 0, kFixed64 = 1, kLengthDelimited = 2, kFixed32 = 5 };
-constexpr std::uint8_t kEventsTag = (kBatchEvents << 3) | kLengthDelimited;
-
-// A cursor over bytes in which every read says whether it stayed inside them.
-class WireReader {
- public:
-  explicit WireReader(std::string_view bytes) : bytes_(bytes) {}
-  bool done() const { return at_ == bytes_.size(); }
-
-  bool varint(std::uint64_t& value) {
-    value = 0;
-    for (int shift = 0; shift < 64; shift += 7) {
-      if (done()) return false;
-      const auto byte = static_cast<std::uint8_t>(bytes_[at_++]);
-      // The tenth byte may carry only the top bit of 64: anything else is left to Protobuf.
-      if (shift == 63 && byte > 1) return false;
-      value |= std::uint64_t{byte & 0x7Fu} << shift;
-      if ((byte & 0x80u) == 0) return true;
-    }
-    return false;
-  }
-
-  // A field's tag: false at a field number 0, past 32 bits, or a wire type we do not skip
-  // (groups, and the two that do not exist).
-  bool tag(std::uint32_t& field, std::uint32_t& wire_type) {
-    std::uint64_t raw = 0;
-    if (!varint(raw) || raw > 0xFFFFFFFFu) return false;
-    field = static_cast<std::uint32_t>(raw >> 3);
-    wire_type = static_cast<std::uint32_t>(raw & 7u);
-    return field != 0 && (wire_type == kVarint || wire_type == kFixed64 ||
-                           wire_type == kLengthDelimited || wire_type == kFixed32);
-  }
-
-  // The payload of a length-delimited field.
-  bool length_delimited(std::string_view& payload) {
-    std::uint64_t length = 0;
-    if (!varint(length) || length > 0x7FFFFFFFu || length > bytes_.size() - at_) return false;
-    payload = bytes_.substr(at_, static_cast<std::size_t>(length));
-    at_ += static_cast<std::size_t>(length);
-    return true;
-  }
-
-  // Skips a length-delimited field whose tag is the one byte `tag` and whose length takes one
-  // byte, as an encoder writes a small event; false (nothing read) for anything else.
-  bool skip_short(std::uint8_t tag) {
-    if (bytes_.size() - at_ < 2 || static_cast<std::uint8_t>(bytes_[at_]) != tag) return false;
-    const auto length = static_cast<std::uint8_t>(bytes_[at_ + 1]);
-    if (length >= 0x80 || length > bytes_.size() - at_ - 2) return false;
-    at_ += 2 + std::size_t{length};
-    return true;
-  }
-
-  bool skip(std::uint32_t wire_type) {
-    std::uint64_t ignored = 0;
-    std::string_view payload;
-    switch (wire_type) {
-      case kVarint: return varint(ignored);
-      case kLengthDelimited: return length_delimited(payload);
-      case kFixed64: return skip_bytes(8);
-      case kFixed32: return skip_bytes(4);
-      default: return false;
-    }
-  }
-
- private:
-  bool skip_bytes(std::size_t count) {
-    if (count > bytes_.size() - at_) return false;
-    at_ += count;
-    return true;
-  }
-
-  std::string_view bytes_;
-  std::size_t at_ = 0;
-};
 
 // One EventBatch occurrence parsed into `into` (a later occurrence merges: each field present
 // overwrites), its events skipped.

@@ -37,6 +37,7 @@
 #include "daemon/pools/pool_registry.h"
 #include "daemon/pools/retry_ledger.h"
 #include "daemon/storage/commit_log.h"
+#include "diff_recycler.h"
 #include "pool_progress.h"
 #include "pool_routing.h"
 #include "repair_executor.h"
@@ -239,6 +240,10 @@ class PoolService {
   // Blocks until every repair in flight has finished (finish_repairs() then collects them).
   void wait_repairs();
 
+  // Hands back a diff of finish_repairs() once published: a later repair's diff is made in it
+  // (DiffRecycler), without allocating its pairs again. Optional. O(its pairs).
+  void reuse_diff(v1::Diff&& diff) { diff_recycler_.give(std::move(diff)); }
+
   // The pool's last seq in the log: the sealed window's, its last repair's in flight, or its
   // progress's (0: none). O(sealed window + log pools).
   std::uint64_t journalled_seq(const std::string& pool) const;
@@ -427,9 +432,11 @@ class PoolService {
   // A pool's chained checker keeps the keys of every window it checked until one finds the
   // windows before it staged (window_pool() empties it then). Past this many entries, the
   // pool's next window waits for that (waits_for_engine()): its memory stays within a bound
-  // of the events in flight, whatever keys a long run brings (every arriving vertex id).
-  static constexpr std::uint64_t kChainedEntriesPerEventBehind = 16;
-  static constexpr std::uint64_t kChainedEntriesFloor = 1u << 18;
+  // of the events in flight, whatever keys a long run brings (every arriving vertex id). Small
+  // (a few MB of tables): under steady load the chain lives for many windows, and checks in
+  // tables of 10^5 entries miss the cache (16 per event + 2^18 before: DEVELOPERS.md).
+  static constexpr std::uint64_t kChainedEntriesPerEventBehind = 1;
+  static constexpr std::uint64_t kChainedEntriesFloor = 1u << 15;
   std::uint64_t max_chained_entries_;
   ServiceState state_;
   PoolRouting routing_;
@@ -479,6 +486,7 @@ class PoolService {
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;
+  DiffRecycler diff_recycler_;  // published diffs given back (the loop), taken by the workers
 };
 
 }  // namespace yoke::daemon

@@ -197,7 +197,8 @@ void PoolService::repair_window(RepairJob& job) {
     // The published diff is built here, off the loop; the loop's progress says the same
     // no_perfect_matching (PoolProgress::record_commit).
     job.diff = diff_of_commit(job.pool, job.result, job.last_seq, job.seq_before,
-                              job.result.status == SolveStatus::no_perfect_matching, job.repair_us);
+                              job.result.status == SolveStatus::no_perfect_matching, job.repair_us,
+                              diff_recycler_.take());
     job.result.diff = MatchingDiff();  // its pairs are in the message now: freed here too
   }
   bool capture = false;

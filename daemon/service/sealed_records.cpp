@@ -53,9 +53,8 @@ char* put_varint_field(char* out, std::uint32_t number, std::uint64_t value) {
 char* put_wire_event(char* out, const Event& event, std::uint32_t field) {
   // The fields as write_wire sets them, in number order: kind 1 (enum), u 2, v 3 (uint64),
   // w 4 (sint64: zigzag). At most 35 bytes: 4 one-byte tags, 3 varints of 10 and one of 1.
-  const bool has_v = event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
-                     event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair;
-  const bool has_w = event.kind == EventKind::set_edge;
+  const bool has_v = carries_v(event.kind);
+  const bool has_w = carries_w(event.kind);
   const std::int64_t w = has_w ? static_cast<std::int64_t>(event.w) : 0;
   char body[40];
   char* end = put_varint_field(body, 1, static_cast<std::uint64_t>(wire_kind(event.kind)));

@@ -90,14 +90,28 @@ v1::Event::Kind wire_kind(EventKind kind) {
   return v1::Event::KIND_UNSPECIFIED;
 }
 
+std::optional<EventKind> engine_kind(std::uint64_t wire_kind) {
+  switch (wire_kind) {
+    case v1::Event::ADD_VERTEX: return EventKind::add_vertex;
+    case v1::Event::SET_EDGE: return EventKind::set_edge;
+    case v1::Event::UNSET_EDGE: return EventKind::unset_edge;
+    case v1::Event::REMOVE_VERTEX: return EventKind::remove_vertex;
+    case v1::Event::HOLD_PAIR: return EventKind::hold_pair;
+    case v1::Event::RELEASE_PAIR: return EventKind::release_pair;
+    default: return std::nullopt;
+  }
+}
+
+bool carries_v(EventKind kind) {
+  return kind == EventKind::set_edge || kind == EventKind::unset_edge ||
+         kind == EventKind::hold_pair || kind == EventKind::release_pair;
+}
+
 void write_wire(const Event& event, v1::Event& wire) {
   wire.set_kind(wire_kind(event.kind));
   wire.set_u(event.u);
-  if (event.kind == EventKind::set_edge || event.kind == EventKind::unset_edge ||
-      event.kind == EventKind::hold_pair || event.kind == EventKind::release_pair) {
-    wire.set_v(event.v);
-  }
-  if (event.kind == EventKind::set_edge) wire.set_w(event.w);
+  if (carries_v(event.kind)) wire.set_v(event.v);
+  if (carries_w(event.kind)) wire.set_w(event.w);
 }
 
 v1::Ack batch_ack(const std::string& client_id, std::uint64_t client_batch,

@@ -33,6 +33,11 @@ v1::RepairStats to_wire(const RepairStats& stats);
 // (the schema refuses them elsewhere). decode_event (batch_decoder.h) reads it back.
 v1::Event to_wire(const Event& event);
 v1::Event::Kind wire_kind(EventKind kind);
+// The engine kind of a wire kind's number: nothing for KIND_UNSPECIFIED or a number no kind has.
+std::optional<EventKind> engine_kind(std::uint64_t wire_kind);
+// The fields a kind carries on the wire: v for edge and pair events, w for SET_EDGE.
+bool carries_v(EventKind kind);
+inline bool carries_w(EventKind kind) { return kind == EventKind::set_edge; }
 // to_wire into `wire`, which must be empty (a message added to a repeated field).
 void write_wire(const Event& event, v1::Event& wire);
 

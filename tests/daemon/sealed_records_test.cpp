@@ -26,28 +26,6 @@ namespace {
 
 using testing::BatchHeader;
 
-// A valid event of any kind; ends, weights and kinds drawn so that zeros (left out on the
-// wire), large keys and negative weights all come up.
-v1::Event random_event(std::mt19937_64& random) {
-  const auto key = [&random]() -> VertexKey {
-    switch (random() % 4) {
-      case 0: return 0;
-      case 1: return random() % 50;
-      case 2: return random();
-      default: return random() % 100000;
-    }
-  };
-  const Weight w = static_cast<Weight>(random() % 2001) - 1000;
-  switch (random() % 6) {
-    case 0: return testing::wire_add(key());
-    case 1: return testing::wire_set(key(), key(), random() % 5 == 0 ? 0 : w);
-    case 2: return testing::wire_unset(key(), key());
-    case 3: return testing::wire_remove(key());
-    case 4: return testing::wire_hold(key(), key());
-    default: return testing::wire_release(key(), key());
-  }
-}
-
 const InputLimits kWide{std::uint64_t{1} << 26, std::uint64_t{1} << 20};
 
 // The record as the daemon wrote it before: the received batch's wire events swapped in.
@@ -69,7 +47,7 @@ TEST(SealedRecords, WriteTheBytesTheReceivedBatchesGave) {
   std::vector<v1::JournalRecord> old_records;
   for (std::uint64_t seq = 1; seq <= 300; ++seq) {
     std::vector<v1::Event> events(random() % 40);
-    for (v1::Event& event : events) event = random_event(random);
+    for (v1::Event& event : events) event = testing::random_wire_event(random);
     const BatchHeader header{"fleet-" + std::to_string(seq % 3), seq, "quay", 0};
     const v1::EventBatch batch = testing::make_batch(events, header);
     DecodeResult decoded = decode_ingest(testing::ingest_message(batch), kWide);
@@ -94,7 +72,7 @@ SealedRecords random_window(std::uint64_t seed, std::size_t batches) {
   SealedRecords sealed;
   for (std::uint64_t seq = 1; seq <= batches; ++seq) {
     std::vector<v1::Event> events(random() % 40);
-    for (v1::Event& event : events) event = random_event(random);
+    for (v1::Event& event : events) event = testing::random_wire_event(random);
     const v1::EventBatch batch =
         testing::make_batch(events, BatchHeader{"tug-" + std::to_string(seq % 4), seq, "", 0});
     v1::JournalRecord record = record_of_old(batch, seq);
@@ -196,7 +174,7 @@ TEST(SealedRecords, ReusedParseReadsEachBatchAsAFreshOne) {
   // it), and refusals in between (a parse that fails leaves a message half filled).
   for (const std::size_t size : {30u, 3u, 0u, 20000u, 12u, 500u, 1u}) {
     std::vector<v1::Event> events(size);
-    for (v1::Event& event : events) event = random_event(random);
+    for (v1::Event& event : events) event = testing::random_wire_event(random);
     const v1::EventBatch batch = testing::make_batch(events, BatchHeader{"ferry", size, "", 0});
     const DecodeResult decoded = decode_ingest(testing::ingest_message(batch), kWide);
     ASSERT_TRUE(std::holds_alternative<DecodedBatch>(decoded)) << size;

@@ -70,6 +70,26 @@ v1::Event wire_release(VertexKey u, VertexKey v) {
   return event;
 }
 
+v1::Event random_wire_event(std::mt19937_64& random) {
+  const auto key = [&random]() -> VertexKey {
+    switch (random() % 4) {
+      case 0: return 0;
+      case 1: return random() % 50;
+      case 2: return random();
+      default: return random() % 100000;
+    }
+  };
+  const Weight w = static_cast<Weight>(random() % 2001) - 1000;
+  switch (random() % 6) {
+    case 0: return wire_add(key());
+    case 1: return wire_set(key(), key(), random() % 5 == 0 ? 0 : w);
+    case 2: return wire_unset(key(), key());
+    case 3: return wire_remove(key());
+    case 4: return wire_hold(key(), key());
+    default: return wire_release(key(), key());
+  }
+}
+
 v1::EventBatch make_batch(const std::vector<v1::Event>& events, const BatchHeader& header) {
   v1::EventBatch batch;
   batch.set_client_id(header.client_id);

@@ -7,6 +7,7 @@
 #include <filesystem>
 #include <memory>
 #include <ostream>
+#include <random>
 #include <string>
 #include <string_view>
 #include <utility>
@@ -42,6 +43,9 @@ v1::Event wire_unset(VertexKey u, VertexKey v);
 v1::Event wire_remove(VertexKey u);
 v1::Event wire_hold(VertexKey u, VertexKey v);
 v1::Event wire_release(VertexKey u, VertexKey v);
+// A valid event of any kind; ends, weights and kinds drawn so that zeros (left out on the
+// wire), large keys and negative weights all come up.
+v1::Event random_wire_event(std::mt19937_64& random);
 
 // The EventBatch fields around the events.
 struct BatchHeader {

@@ -6,8 +6,8 @@
 //   tag % 4 == 2:      a query message, answered by the QueryHandler;
 //   tag % 4 == 3:      close the window: seal() into the journal, then apply().
 // The window is closed at the end as well, and the whole input also goes once through
-// decode_ingest (and read_batch_envelope, which must agree with it) and the QueryHandler as a
-// single message.
+// decode_ingest (and read_batch_envelope and read_plain_batch, which must agree with it) and
+// the QueryHandler as a single message.
 //
 // Each input gets a fresh PoolService (so a crash replays from its input alone) over one journal
 // in a temporary directory that lives as long as the process. Every reply is held to
@@ -39,6 +39,7 @@
 #include "daemon/journal/journal_commit_log.h"
 #include "daemon/service/batch_decoder.h"
 #include "daemon/service/ingest_envelope.h"
+#include "daemon/service/plain_batch.h"
 #include "daemon/pools/pool_names.h"
 #include "daemon/service/pool_service.h"
 #include "daemon/service/wire_types.h"
@@ -634,6 +635,21 @@ void Run::query(std::string_view message) {
 void check_decoder(std::string_view input) {
   const InputLimits wide{std::uint64_t{1} << 20, std::uint64_t{1} << 20};
   const DecodeResult result = decode_ingest(input, wide);
+  // A batch read by hand (read_plain_batch) is the one Protobuf reads, and decode_ingest's
+  // answer is Protobuf's, whichever read it.
+  if (const auto plain = read_plain_batch(input, wide)) {
+    const DecodeResult parsed = decode_ingest_with_protobuf(input, wide);
+    const auto* batch = std::get_if<DecodedBatch>(&parsed);
+    REQUIRE(batch && batch->pool == plain->pool && batch->client_id == plain->client_id &&
+            batch->client_batch == plain->client_batch &&
+            batch->after_batch == plain->after_batch && !batch->retire &&
+            batch->events.size() == plain->events.size());
+    for (std::size_t i = 0; i < batch->events.size(); ++i) {
+      const Event& a = batch->events[i];
+      const Event& b = plain->events[i];
+      REQUIRE(a.kind == b.kind && a.u == b.u && a.v == b.v && a.w == b.w);
+    }
+  }
   // The envelope read on the loop for a big message (a new pool's first, decoded on a worker)
   // names the batch decode_ingest reads, whenever both read one.
   const std::optional<BatchEnvelope> envelope = read_batch_envelope(input);

@@ -111,6 +111,12 @@ int run(const Settings& settings) {
       in_window = 0;
       window_batches = 0;
     };
+    // As yoked's loop does once it has published them: the diffs go back for later repairs.
+    const auto collect = [&] {
+      daemon::PoolService::RepairsDone done = service.finish_repairs();
+      for (v1::Diff& diff : done.diffs) service.reuse_diff(std::move(diff));
+      acks += done.replies.size();
+    };
     std::size_t longest = 0;
     for (const auto& stream : streams) longest = std::max(longest, stream.size());
     for (std::size_t b = 0; b < longest; ++b) {
@@ -121,17 +127,17 @@ int run(const Settings& settings) {
         events += stream[b].events;
         if (++window_batches == settings.pools && repairs.queued() != 0) {
           repairs.run_repairs();  // the last window's, with the next window's first batches held
-          acks += service.finish_repairs().replies.size();
+          collect();
         }
         if (in_window >= settings.window) close();
       }
     }
     close();
     repairs.run_repairs();
-    acks += service.finish_repairs().replies.size();
+    collect();
     if (!service.window_empty()) close();
     repairs.run_repairs();
-    acks += service.finish_repairs().replies.size();
+    collect();
   }
   std::error_code ignored;
   std::filesystem::remove_all(dir, ignored);
