@@ -203,7 +203,7 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   ++held_count_;
   executor_->run(check->batch.pool, [this, check, limits = limits_] {
     try {
-      const std::vector<Event>* events = &check->batch.events;
+      DecodedBatch* checked = &check->batch;  // or the batch decoded here from the message
       if (check->decode) {
         DecodeResult decoded = decode_ingest(check->message, limits);
         check->message = {};
@@ -217,19 +217,16 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
               check->decoded.retire || check->decoded.pool != announced.pool ||
               check->decoded.client_id != announced.client_id ||
               check->decoded.client_batch != announced.client_batch;
-          events = &check->decoded.events;
+          checked = &check->decoded;
         }
       }
       if (!check->refusal && !check->not_as_announced) {
         check->checker.emplace(*check->engine);
-        check->verdict = check->checker->accept(*events);
+        check->verdict = check->checker->accept(checked->events);
         // Its journal bytes too, here: encoded on the journal thread and copied on the loop,
         // a base graph's events held every pool's next window (and acknowledgements) behind
         // them for tens of milliseconds.
-        if (!check->verdict) {
-          DecodedBatch& checked = check->decode ? check->decoded : check->batch;
-          checked.journal_events = encode_events(checked.events);
-        }
+        if (!check->verdict) checked->journal_events = encode_events(checked->events);
       }
     } catch (...) {
       check->failure = std::current_exception();

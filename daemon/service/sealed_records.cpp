@@ -13,7 +13,7 @@ std::vector<v1::JournalRecord> SealedRecords::complete() && {
     throw std::logic_error("sealed records: one list of events per record");
   }
   for (std::size_t i = 0; i < records.size(); ++i) {
-    if (i < encoded.size() && !encoded[i].empty()) {
+    if (encoded_beforehand(i)) {
       // The bytes are elements of the `events` field: merged in, they are appended to it.
       if (!records[i].MergeFromString(encoded[i])) {
         throw std::logic_error("sealed records: events encoded beforehand do not parse");
@@ -85,8 +85,7 @@ storage::EncodedWindow SealedRecords::encode() && {
   storage::EncodedWindow window;
   window.events.resize(records.size());
   for (std::size_t i = 0; i < records.size(); ++i) {
-    const bool made = i < encoded.size() && !encoded[i].empty();
-    window.events[i] = made ? std::move(encoded[i]) : encode_events(events[i]);
+    window.events[i] = encoded_beforehand(i) ? std::move(encoded[i]) : encode_events(events[i]);
   }
   events.clear();
   encoded.clear();

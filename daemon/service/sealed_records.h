@@ -7,6 +7,7 @@
 // (to_wire: the fields the schema allows; proto3 leaves zeros out either way).
 #pragma once
 
+#include <cstddef>
 #include <cstdint>
 #include <string>
 #include <vector>
@@ -24,6 +25,9 @@ struct SealedRecords {
   // (a new pool's big first batch, on the worker that checked it), and events[i] is left
   // empty; shorter than `records`, or an empty string: the events are encoded here.
   std::vector<std::string> encoded;
+
+  // Whether records[i]'s events are in encoded[i] rather than in events[i]. O(1).
+  bool encoded_beforehand(std::size_t i) const { return i < encoded.size() && !encoded[i].empty(); }
 
   // The whole records, each with its events. O(events).
   std::vector<v1::JournalRecord> complete() &&;
