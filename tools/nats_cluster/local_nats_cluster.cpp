@@ -163,9 +163,17 @@ void LocalNatsCluster::resume(int node) {
 void LocalNatsCluster::restart(int node, std::chrono::milliseconds limit) {
   if (running(node)) throw std::runtime_error(server_name(node) + " is still running");
   start_node(node);
+  const auto deadline = std::chrono::steady_clock::now() + limit;
   if (!wait_healthy(node, limit)) {
     throw std::runtime_error(server_name(node) + " did not become healthy after a restart:\n" +
                              log_tail(node));
+  }
+  // A node healthy again can leave the cluster without a settled meta leader for seconds; the
+  // caller's next stream would then time out being created.
+  const std::string why_not = accepts_replicated_stream(deadline);
+  if (!why_not.empty()) {
+    throw std::runtime_error("the cluster accepted no replicated stream after " +
+                             server_name(node) + " restarted: " + why_not);
   }
 }
 
@@ -214,13 +222,19 @@ void LocalNatsCluster::wait_ready(std::chrono::milliseconds limit) {
       throw PortTaken("another server answers on the monitoring port of " + server_name(node));
     }
   }
-  // Healthy nodes can still lack a JetStream meta leader or peers: a replicated stream that
-  // can be created proves both.
+  // Healthy nodes can still lack a JetStream meta leader or peers.
+  const std::string why_not = accepts_replicated_stream(deadline);
+  if (!why_not.empty()) give_up("never accepted a replicated stream: " + why_not);
+}
+
+std::string LocalNatsCluster::accepts_replicated_stream(
+    std::chrono::steady_clock::time_point deadline) const {
+  // A replicated stream that can be created proves a meta leader and enough peers.
   cluster::ConnectionSettings connection_settings;
   connection_settings.servers = client_urls();
   connection_settings.name = "yoke-cluster-probe";
   connection_settings.api_timeout = std::chrono::milliseconds(2000);
-  std::string last_error;
+  std::string last_error = "no time left to try";
   try {
     cluster::NatsConnection connection(connection_settings);
     cluster::StreamSettings probe;
@@ -233,7 +247,7 @@ void LocalNatsCluster::wait_ready(std::chrono::milliseconds limit) {
         cluster::ensure_stream(connection, probe);
         jsErrCode code = jsErrCode(0);
         js_DeleteStream(connection.jetstream(), probe.name.c_str(), nullptr, &code);
-        return;
+        return {};
       } catch (const cluster::ClusterError& error) {
         last_error = error.what();
       }
@@ -242,7 +256,7 @@ void LocalNatsCluster::wait_ready(std::chrono::milliseconds limit) {
   } catch (const cluster::ClusterError& error) {
     last_error = error.what();
   }
-  give_up("never accepted a replicated stream: " + last_error);
+  return last_error;
 }
 
 std::optional<NodeStreamView> LocalNatsCluster::stream_view(int node,

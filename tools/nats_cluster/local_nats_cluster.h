@@ -69,7 +69,8 @@ class LocalNatsCluster {
   void pause(int node);
   void resume(int node);
   // Starts a killed node again with the same ports, configuration and data, and waits until
-  // its /healthz answers 200 (it has caught up with its streams), at most `limit`.
+  // its /healthz answers 200 (it has caught up with its streams) and the cluster accepts a new
+  // replicated stream, at most `limit` in all.
   void restart(int node, std::chrono::milliseconds limit = std::chrono::milliseconds(30000));
   // SIGTERM (then SIGKILL after a grace period) for every node still running; idempotent.
   void stop_all();
@@ -90,6 +91,9 @@ class LocalNatsCluster {
   void start_on_fresh_ports();
   void start_node(int node);
   void wait_ready(std::chrono::milliseconds limit);
+  // Creates and deletes a stream replicated on every node until that works; the last error,
+  // or "" once it worked, by `deadline`.
+  std::string accepts_replicated_stream(std::chrono::steady_clock::time_point deadline) const;
   std::filesystem::path log_file(int node) const;
   std::filesystem::path config_file(int node) const;
 
