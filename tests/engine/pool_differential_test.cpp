@@ -474,6 +474,34 @@ TEST_P(LongAimedPoolStreams, EveryCommitIsACertifiedOptimum) {
   }
 }
 
+// Tied weights in batches of many aimed actions: one batch's events dissolve priced blossoms
+// one after another, a later one often inside a region an earlier one opened, before the
+// batch's one search (the single-action streams above never stack dissolutions). Every commit
+// is certified.
+class ManyActionTiedPoolStreams : public PoolAgainstStatic {};
+
+TEST_P(ManyActionTiedPoolStreams, EveryCommitIsACertifiedOptimum) {
+  const auto [family, mode] = GetParam();
+  const int seeds = oracle::small_scale() ? 1 : 2;
+  for (int seed = 931; seed < 931 + seeds && !HasFailure(); ++seed) {
+    const auto s = static_cast<std::uint64_t>(seed);
+    gen::StreamSpec spec = gen::test_stream_spec(family, s, 1500, 1);
+    spec.vertices = std::max<std::size_t>(spec.vertices, 800);
+    spec.mix = gen::tail_mix();
+    spec.weight_grain = 100;
+    spec.action_batches = false;
+    spec.batch_min = 2;
+    spec.batch_max = 60;
+    spec.events = 3000;
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_tied_batches");
+  }
+}
+
+INSTANTIATE_TEST_SUITE_P(Streams, ManyActionTiedPoolStreams,
+                         testing::Combine(testing::Values(StreamFamily::city, StreamFamily::stress),
+                                          testing::Values(Mode::max_weight, Mode::max_cardinality)),
+                         oracle::stream_case_name);
+
 INSTANTIATE_TEST_SUITE_P(Streams, LongAimedPoolStreams,
                          testing::Combine(testing::Values(StreamFamily::city, StreamFamily::stress),
                                           testing::Values(Mode::max_weight, Mode::max_cardinality)),
