@@ -578,9 +578,11 @@ TEST(PoolRepairs, AWindowAfterACollectedJobChecksOnItsSpareChecker) {
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
-// Back-pressure: once a pool's windows in flight hold two full windows of events ([batching]
-// max_events 2 here: 4 events), its next batch waits unacknowledged until a repair is collected,
-// then joins a window as usual; nothing is lost or reordered.
+// Back-pressure: once a pool's windows in flight that are not yet staged hold two full windows
+// of events ([batching] max_events 2 here: 4 events), its next batch waits unacknowledged until
+// one of them is staged, then joins a window as usual; nothing is lost or reordered. A window
+// staged but not repaired does not count (its events are in the engine): the next window is
+// sealed and synced while it repairs, so that the worker finds it queued.
 TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   DaemonConfig config = testing::test_config({});
   config.batching.max_events = 2;
@@ -590,30 +592,37 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   service.set_repair_executor(&repairs);
   ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
   ASSERT_EQ(service.seal().size(), 1u);
-  service.start_apply();  // 3 events behind
+  service.start_apply();  // 3 events not staged
   ASSERT_TRUE(repairs.release_one("A"));  // window 1 staged; its repair held
   service.finish_repairs();
-  ASSERT_FALSE(harness.offer({wire_add(3)}, from_client("a", 2, "A")));
-  EXPECT_EQ(service.held_batches(), 0u);  // 3 < 4: checked and acknowledged with its window
+  // Window 1's events are staged: none is behind, though none is repaired.
+  ASSERT_FALSE(harness.offer({wire_add(3), wire_add(4)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 0u);
   ASSERT_EQ(service.seal().size(), 1u);
-  service.start_apply();  // 4 events behind
-  ASSERT_FALSE(harness.offer({wire_add(4), wire_set(3, 4, 7)}, from_client("a", 3, "A")));
+  service.start_apply();  // window 2 behind window 1's repair: 2 events not staged
+  ASSERT_FALSE(harness.offer({wire_set(3, 4, 7), wire_add(5)}, from_client("a", 3, "A")));
+  EXPECT_EQ(service.held_batches(), 0u);  // 2 < 4
+  ASSERT_EQ(service.seal().size(), 1u);
+  service.start_apply();  // 4 events not staged
+  ASSERT_FALSE(harness.offer({wire_set(2, 5, 9)}, from_client("a", 4, "A")));
   EXPECT_EQ(service.held_batches(), 1u);
   EXPECT_TRUE(service.seal().empty());  // nothing of it in the window: no acknowledgement yet
-  // Window 1's repair ends: 1 event behind, the batch is checked and joins a window.
+  // Window 1's repair ends, but nothing was staged since: the batch still waits.
   ASSERT_TRUE(repairs.release_one("A"));
-  PoolService::RepairsDone done = service.finish_repairs();
-  ASSERT_EQ(done.diffs.size(), 1u);
-  EXPECT_EQ(repairs.queued("A"), 2u);
+  EXPECT_EQ(service.finish_repairs().diffs.size(), 1u);
+  EXPECT_EQ(service.held_batches(), 1u);
+  // Window 2 staged, its repair not run: 2 events not staged, the batch joins a window.
+  ASSERT_TRUE(repairs.release_one("A"));
+  EXPECT_TRUE(service.finish_repairs().diffs.empty());
   EXPECT_EQ(service.held_batches(), 0u);
   const auto acks = service.seal();
   ASSERT_EQ(acks.size(), 1u);
-  EXPECT_EQ(accepted_seq(acks[0]), 3u);
+  EXPECT_EQ(accepted_seq(acks[0]), 4u);
   service.start_apply();
   repair_to_the_end(repairs, service, "A");
-  EXPECT_EQ(service.progress("A")->seq, 3u);
-  // Edges {1,2}=5, {3,4}=7: both matched (common knowledge: disjoint edges).
-  EXPECT_EQ(service.registry().find("A")->weight(), 12);
+  EXPECT_EQ(service.progress("A")->seq, 4u);
+  // Edges {1,2}=5, {3,4}=7, {2,5}=9: {2,5} with {3,4} (16) outweighs {1,2} with {3,4} (12).
+  EXPECT_EQ(service.registry().find("A")->weight(), 16);
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
