@@ -431,8 +431,11 @@ class PoolService {
 
   InputLimits limits_;
   // A pool's batches wait (held, unacknowledged) while its windows in flight not yet staged
-  // hold this many events: kWindowsBehind full windows ([batching] max_events each).
-  static constexpr std::uint64_t kWindowsBehind = 2;
+  // hold this many events: kWindowsBehind full windows ([batching] max_events each). One: a
+  // window queued behind the repairing one keeps the worker busy, and what arrives meanwhile
+  // makes the next window, not several smaller ones (a commit's cost per event falls with its
+  // size; smaller windows also cost the loop more).
+  static constexpr std::uint64_t kWindowsBehind = 1;
   std::uint64_t max_events_behind_;
   // A pool's chained checker keeps the keys of every window it checked until one finds the
   // windows before it staged (window_pool() empties it then). Past this many entries, the
