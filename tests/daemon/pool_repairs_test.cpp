@@ -607,8 +607,12 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   ASSERT_TRUE(repairs.release_one("A"));
   EXPECT_EQ(service.finish_repairs().diffs.size(), 1u);
   EXPECT_EQ(service.held_batches(), 1u);
-  // Window 2 staged, its repair not run: nothing is behind, the batch joins a window.
+  // Window 2 staged, its repair not run: its stage wakes the loop (the held batch asked it
+  // to), nothing is behind, and the batch joins a window.
+  int wakes = 0;
+  service.set_repair_listener([&wakes] { ++wakes; });
   ASSERT_TRUE(repairs.release_one("A"));
+  EXPECT_EQ(wakes, 1);
   EXPECT_TRUE(service.finish_repairs().diffs.empty());
   EXPECT_EQ(service.held_batches(), 0u);
   const auto acks = service.seal();
