@@ -270,15 +270,25 @@ bool PoolService::waits_for_engine(const DecodedBatch& batch) {
     if (waits_for_stage(*wait->second)) return true;
     stage_waits_.erase(wait);
   }
-  // Acknowledged but not yet repaired: past the bound, the pool's batches wait for its repairs
-  // (back-pressure: acknowledgements keep pace with repairs, and memory stays bounded).
-  std::uint64_t behind = 0;
-  for (const std::shared_ptr<RepairJob>& job : jobs->second) behind += job->events;
-  if (behind >= max_events_behind_) return true;
+  // Back-pressure: acknowledgements keep pace with the stages, and memory stays bounded.
+  if (too_far_behind(jobs->second)) return true;
   // The pool's latest window handed over with its checker: staged, so are the jobs before it
   // (one strand). A chained one is checked under the stage lock instead (offer_decoded()).
   RepairJob& last = *jobs->second.back();
   return !last.chained && waits_for_stage(last);
+}
+
+bool PoolService::too_far_behind(const std::deque<std::shared_ptr<RepairJob>>& jobs) {
+  std::uint64_t unstaged = 0;
+  for (const std::shared_ptr<RepairJob>& job : jobs) {
+    if (!job->staged.load(std::memory_order_acquire)) unstaged += job->events;
+  }
+  if (unstaged < max_events_behind_) return false;
+  // Woken when the first of them is staged (one strand: the others come after it).
+  for (const std::shared_ptr<RepairJob>& job : jobs) {
+    if (waits_for_stage(*job)) return true;
+  }
+  return false;  // all staged meanwhile
 }
 
 bool PoolService::every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs) {

@@ -386,6 +386,11 @@ class PoolService {
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   static bool every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs);
+  // The pool's windows in flight not yet staged hold max_events_behind_ events or more: its
+  // next batches wait, and the first of those windows wakes the loop once it is staged. A
+  // staged window's events are in the engine already, and the next window syncs while it
+  // repairs, so that the worker finds it queued (no pause for the seal and the sync).
+  bool too_far_behind(const std::deque<std::shared_ptr<RepairJob>>& jobs);
   // `job` of the pool is not staged yet; asks it to wake the loop once it is (false: it is).
   bool waits_for_stage(RepairJob& job);
   // Holds `batch`, first of its pool's waiting batches, until `job` is staged (offer_decoded
@@ -425,9 +430,12 @@ class PoolService {
   bool sealed_holds(const std::string& pool) const;
 
   InputLimits limits_;
-  // A pool's batches wait (held, unacknowledged) while its windows in flight hold this many
-  // events: kWindowsBehind full windows ([batching] max_events each).
-  static constexpr std::uint64_t kWindowsBehind = 2;
+  // A pool's batches wait (held, unacknowledged) while its windows in flight not yet staged
+  // hold this many events: kWindowsBehind full windows ([batching] max_events each). One: a
+  // window queued behind the repairing one keeps the worker busy, and what arrives meanwhile
+  // makes the next window, not several smaller ones (a commit's cost per event falls with its
+  // size; smaller windows also cost the loop more).
+  static constexpr std::uint64_t kWindowsBehind = 1;
   std::uint64_t max_events_behind_;
   // A pool's chained checker keeps the keys of every window it checked until one finds the
   // windows before it staged (window_pool() empties it then). Past this many entries, the

@@ -578,9 +578,11 @@ TEST(PoolRepairs, AWindowAfterACollectedJobChecksOnItsSpareChecker) {
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
 }
 
-// Back-pressure: once a pool's windows in flight hold two full windows of events ([batching]
-// max_events 2 here: 4 events), its next batch waits unacknowledged until a repair is collected,
-// then joins a window as usual; nothing is lost or reordered.
+// Back-pressure: once a pool's windows in flight that are not yet staged hold a full window of
+// events ([batching] max_events, 2 here), its next batch waits unacknowledged until they are
+// staged, then joins a window as usual; nothing is lost or reordered. A window staged but not
+// repaired does not count (its events are in the engine): the next window is sealed and synced
+// while it repairs, so that the worker finds it queued.
 TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   DaemonConfig config = testing::test_config({});
   config.batching.max_events = 2;
@@ -590,21 +592,28 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
   service.set_repair_executor(&repairs);
   ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A")));
   ASSERT_EQ(service.seal().size(), 1u);
-  service.start_apply();  // 3 events behind
+  service.start_apply();  // 3 events not staged
   ASSERT_TRUE(repairs.release_one("A"));  // window 1 staged; its repair held
   service.finish_repairs();
-  ASSERT_FALSE(harness.offer({wire_add(3)}, from_client("a", 2, "A")));
-  EXPECT_EQ(service.held_batches(), 0u);  // 3 < 4: checked and acknowledged with its window
+  // Window 1's events are staged: none is behind, though none is repaired.
+  ASSERT_FALSE(harness.offer({wire_add(3), wire_add(4)}, from_client("a", 2, "A")));
+  EXPECT_EQ(service.held_batches(), 0u);
   ASSERT_EQ(service.seal().size(), 1u);
-  service.start_apply();  // 4 events behind
-  ASSERT_FALSE(harness.offer({wire_add(4), wire_set(3, 4, 7)}, from_client("a", 3, "A")));
+  service.start_apply();  // window 2, behind window 1's repair: 2 events not staged
+  ASSERT_FALSE(harness.offer({wire_set(3, 4, 7), wire_add(5)}, from_client("a", 3, "A")));
   EXPECT_EQ(service.held_batches(), 1u);
   EXPECT_TRUE(service.seal().empty());  // nothing of it in the window: no acknowledgement yet
-  // Window 1's repair ends: 1 event behind, the batch is checked and joins a window.
+  // Window 1's repair ends, but window 2 is not staged: the batch still waits.
   ASSERT_TRUE(repairs.release_one("A"));
-  PoolService::RepairsDone done = service.finish_repairs();
-  ASSERT_EQ(done.diffs.size(), 1u);
-  EXPECT_EQ(repairs.queued("A"), 2u);
+  EXPECT_EQ(service.finish_repairs().diffs.size(), 1u);
+  EXPECT_EQ(service.held_batches(), 1u);
+  // Window 2 staged, its repair not run: its stage wakes the loop (the held batch asked it
+  // to), nothing is behind, and the batch joins a window.
+  int wakes = 0;
+  service.set_repair_listener([&wakes] { ++wakes; });
+  ASSERT_TRUE(repairs.release_one("A"));
+  EXPECT_EQ(wakes, 1);
+  EXPECT_TRUE(service.finish_repairs().diffs.empty());
   EXPECT_EQ(service.held_batches(), 0u);
   const auto acks = service.seal();
   ASSERT_EQ(acks.size(), 1u);
@@ -623,7 +632,7 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
 // may be behind, plus 2^18) the pool's next batch waits for that; nothing is refused or lost.
 TEST(PoolRepairs, AChainedCheckerStaysWithinItsBoundUnderEndlessLag) {
   DaemonConfig config = testing::test_config({});
-  config.batching.max_events = 1000;  // back-pressure past 2000 events behind: not reached
+  config.batching.max_events = 1000;  // back-pressure past 1000 events not staged: not reached
   const std::size_t bound = 16 * 2 * 1000 + (1u << 18);
   ServiceHarness harness(config);
   PoolService& service = harness.service();
