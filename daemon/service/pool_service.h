@@ -442,7 +442,8 @@ class PoolService {
   // pool's next window waits for that (waits_for_engine()): its memory stays within a bound
   // of the events in flight, whatever keys a long run brings (every arriving vertex id). Small
   // (a few MB of tables): under steady load the chain lives for many windows, and checks in
-  // tables of 10^5 entries miss the cache (16 per event + 2^18 before: DEVELOPERS.md).
+  // tables of 10^5 entries miss the cache (until session 12, 16 per event + 2^18:
+  // DEVELOPERS.md).
   static constexpr std::uint64_t kChainedEntriesPerEventBehind = 1;
   static constexpr std::uint64_t kChainedEntriesFloor = 1u << 15;
   std::uint64_t max_chained_entries_;

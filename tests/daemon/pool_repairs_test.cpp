@@ -628,12 +628,12 @@ TEST(PoolRepairs, APoolFarBehindItsAcknowledgementsHoldsItsNextBatches) {
 
 // A pool whose repairs always lag one window: each new window checks on top of the chained
 // checker, which would keep every vertex key that ever arrived or left. It is emptied when a
-// window opens with every earlier one staged, and past its bound (16 entries per event that
-// may be behind, plus 2^18) the pool's next batch waits for that; nothing is refused or lost.
+// window opens with every earlier one staged, and past its bound (one entry per event that
+// may be behind, plus 2^15) the pool's next batch waits for that; nothing is refused or lost.
 TEST(PoolRepairs, AChainedCheckerStaysWithinItsBoundUnderEndlessLag) {
   DaemonConfig config = testing::test_config({});
   config.batching.max_events = 1000;  // back-pressure past 1000 events not staged: not reached
-  const std::size_t bound = 16 * 2 * 1000 + (1u << 18);
+  const std::size_t bound = 1000 + (1u << 15);
   ServiceHarness harness(config);
   PoolService& service = harness.service();
   ManualRepairs repairs;
