@@ -12,6 +12,7 @@
 #include "daemon/cluster/log_reader.h"
 #include "daemon/cluster/nats_connection.h"
 #include "daemon/cluster/stream_setup.h"
+#include "daemon/cluster/subject_scan.h"
 #include "tools/nats_cluster/local_nats_cluster.h"
 
 namespace yoke::cluster::testing {
@@ -50,8 +51,10 @@ class OneClusterPerSuite : public ::testing::Test {
   static inline std::unique_ptr<NatsConnection> connection_;
 };
 
-// Every message of `filter` from `start` until the reader reports none pending (or nothing
-// arrives for `quiet`).
+// Every message of `filter` from `start` until the reader reports none pending and the stream
+// leader stores none after it (or nothing arrives for `quiet`). The pending count alone can read
+// 0 one message early on a loaded machine, as the daemon's group reader knows too
+// (JetStreamGroupReader::more_stored_after).
 inline std::vector<LogMessage> read_to_end(NatsConnection& connection, const std::string& stream,
                                            const std::string& filter, std::uint64_t start = 1,
                                            std::chrono::milliseconds quiet =
@@ -59,7 +62,8 @@ inline std::vector<LogMessage> read_to_end(NatsConnection& connection, const std
   LogReader reader(connection, {stream, filter, start});
   std::vector<LogMessage> messages;
   while (auto message = reader.next(quiet)) {
-    const bool last = message->pending == 0;
+    const bool last = message->pending == 0 &&
+                      !first_sequence_from(connection, stream, filter, message->sequence + 1);
     messages.push_back(std::move(*message));
     if (last) break;
   }

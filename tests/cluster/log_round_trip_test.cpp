@@ -60,8 +60,11 @@ TEST_F(LogRoundTrip, PublishedMessagesComeBackInOrderWithHeadersAndSequences) {
     EXPECT_EQ(message.subject, "round.pool-a");
     EXPECT_EQ(message.data, payload_for(k));
     EXPECT_EQ(message.headers, headers_for(k)) << "message " << k;
-    EXPECT_EQ(message.pending, static_cast<std::uint64_t>(59 - k));
+    // What remains after it, never more: on a loaded machine the server has counted short (CI
+    // saw 0 one message early; read_to_end asks the stream leader before it stops).
+    EXPECT_LE(message.pending, static_cast<std::uint64_t>(59 - k));
   }
+  EXPECT_EQ(read.back().pending, 0u);
 
   // From a later sequence: that message first.
   const std::vector<LogMessage> tail = read_to_end(connection, "ROUND", "round.pool-a", 41);
