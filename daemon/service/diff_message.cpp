@@ -11,13 +11,8 @@ v1::Diff diff_of_commit(const std::string& pool, const CommitResult& result, std
   diff.set_seq(seq);
   diff.set_prev_seq(prev_seq);
   // Set in place: add_*() hands back a pair message a recycled diff still holds.
-  const auto put = [](v1::Pair* wire, const MatchedPair& pair) {
-    wire->set_a(pair.a);
-    wire->set_b(pair.b);
-    wire->set_weight(pair.w);
-  };
-  for (const MatchedPair& pair : result.diff.removed) put(diff.add_removed(), pair);
-  for (const MatchedPair& pair : result.diff.added) put(diff.add_added(), pair);
+  for (const MatchedPair& pair : result.diff.removed) write_wire(pair, *diff.add_removed());
+  for (const MatchedPair& pair : result.diff.added) write_wire(pair, *diff.add_added());
   diff.set_weight(result.weight);
   diff.set_pairs(result.pairs);
   diff.set_no_perfect_matching(no_perfect_matching);
@@ -32,7 +27,7 @@ v1::Diff diff_of_retirement(const std::string& name, const Pool& pool, std::uint
   diff.set_pool(name);
   diff.set_seq(seq);
   diff.set_prev_seq(prev_seq);
-  for (const MatchedPair& pair : pool.matching()) *diff.add_removed() = to_wire(pair);
+  for (const MatchedPair& pair : pool.matching()) write_wire(pair, *diff.add_removed());
   diff.set_retired(true);
   diff.mutable_timings();  // present, all zero: nothing was repaired
   diff.mutable_stats();

@@ -4,6 +4,7 @@
 #include <stdexcept>
 #include <utility>
 
+#include "wire_reader.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -57,12 +58,13 @@ char* put_wire_event(char* out, const Event& event, std::uint32_t field) {
   const bool has_w = carries_w(event.kind);
   const std::int64_t w = has_w ? static_cast<std::int64_t>(event.w) : 0;
   char body[40];
-  char* end = put_varint_field(body, 1, static_cast<std::uint64_t>(wire_kind(event.kind)));
-  end = put_varint_field(end, 2, event.u);
-  end = put_varint_field(end, 3, has_v ? event.v : 0);
-  end = put_varint_field(end, 4, (static_cast<std::uint64_t>(w) << 1) ^
-                                     static_cast<std::uint64_t>(w >> 63));
-  out = put_varint(out, (std::uint64_t{field} << 3) | 2);
+  char* end =
+      put_varint_field(body, kEventKind, static_cast<std::uint64_t>(wire_kind(event.kind)));
+  end = put_varint_field(end, kEventU, event.u);
+  end = put_varint_field(end, kEventV, has_v ? event.v : 0);
+  end = put_varint_field(end, kEventW, (static_cast<std::uint64_t>(w) << 1) ^
+                                           static_cast<std::uint64_t>(w >> 63));
+  out = put_varint(out, (std::uint64_t{field} << 3) | kLengthDelimited);
   out = put_varint(out, static_cast<std::uint64_t>(end - body));
   return std::copy(body, end, out);
 }

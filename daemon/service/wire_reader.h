@@ -1,6 +1,7 @@
 // A cursor over Protobuf wire bytes, and the ingest messages' field numbers, for the readers
 // that take the common shape of a client message by hand (ingest_envelope.h, plain_batch.h)
-// and leave anything unusual to Protobuf.
+// and leave anything unusual to Protobuf; the journal's event writer (sealed_records.cpp)
+// writes events by the same numbers.
 #pragma once
 
 #include <cstddef>

@@ -54,10 +54,14 @@ std::optional<PoolLimits> from_wire(const v1::PoolLimits& wire) {
 
 v1::Pair to_wire(const MatchedPair& pair) {
   v1::Pair wire;
+  write_wire(pair, wire);
+  return wire;
+}
+
+void write_wire(const MatchedPair& pair, v1::Pair& wire) {
   wire.set_a(pair.a);
   wire.set_b(pair.b);
   wire.set_weight(pair.w);
-  return wire;
 }
 
 v1::RepairStats to_wire(const RepairStats& stats) {

@@ -27,6 +27,8 @@ std::optional<PoolLimits> from_wire(const v1::PoolLimits& limits);
 // read. Throws InputError when the engine refuses the settings.
 std::unique_ptr<Pool> make_pool(const v1::PoolConfig& config);
 v1::Pair to_wire(const MatchedPair& pair);
+// to_wire into `wire`, every field set: a recycled message's old values are overwritten.
+void write_wire(const MatchedPair& pair, v1::Pair& wire);
 v1::RepairStats to_wire(const RepairStats& stats);
 
 // An engine event as the ingest socket takes it: v only on edge events, w only on SET_EDGE
