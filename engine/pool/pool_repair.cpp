@@ -418,12 +418,13 @@ void search_from_roots(PoolState& pool) {
   AlternatingSearch& search = *pool.search;
   const SolveStats before = search.stats();
   if (pool.weight_offset != 0) {
-    // All trees at once, in the modes with an offset: no price there falls to 0 while a vertex
-    // can still be matched, so a freed vertex's tree ends only by meeting another exposed
-    // vertex. Grown alone, it must reach the other at the whole distance between them; grown
-    // together, the two meet halfway, and a tree's region shrinks with its radius. A run's
-    // roots share a parity (the two ends of a matched edge do: their doubled duals sum to an
-    // even doubled weight), so the roots go in one run per parity.
+    // All trees at once, in the modes with an offset: a vertex that every maximum matching
+    // covers holds about half the offset in its price, so its tree cannot end at a price of 0,
+    // only by meeting another exposed vertex. Grown alone, it must reach the other at the whole
+    // distance between them; grown together, the two meet halfway, and a tree's region shrinks
+    // with its radius (docs/mathematics.md §9). A run's roots must share a parity (the two
+    // ends of a matched edge do: their doubled duals sum to an even doubled weight), so the
+    // roots go in one run per parity.
     for (const Weight parity : {0, 1}) {
       bool any = false;
       for (const Root& root : roots) {
@@ -441,7 +442,7 @@ void search_from_roots(PoolState& pool) {
     for (const Root& root : roots) {
       const Vertex v = root.vertex;
       if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
-      search.add_root(v, root.cause);  // what this tree changes goes back to the event that queued v
+      search.add_root(v, root.cause);  // what the tree changes goes back to the event that queued v
       search.run();
     }
   }
