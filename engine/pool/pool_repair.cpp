@@ -415,16 +415,36 @@ void search_from_roots(PoolState& pool) {
   if (roots.empty()) return;
   pool.stats.roots += roots.size();
 
-  // One tree at a time: a tree that reaches a later root augments into it as into any exposed
-  // vertex, and a lone tree never has to tell other trees about the vertices it frees.
   AlternatingSearch& search = *pool.search;
   const SolveStats before = search.stats();
-  for (const Root& root : roots) {
-    const Vertex v = root.vertex;
-    if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
-    mate.set_cause(root.cause);  // what this tree changes goes back to the event that queued v
-    search.add_root(v);
-    search.run();
+  if (pool.weight_offset != 0) {
+    // All trees at once, in the modes with an offset: a vertex that every maximum matching
+    // covers holds about half the offset in its price, so its tree cannot end at a price of 0,
+    // only by meeting another exposed vertex. Grown alone, it must reach the other at the whole
+    // distance between them; grown together, the two meet halfway, and a tree's region shrinks
+    // with its radius (docs/mathematics.md §9). A run's roots must share a parity (the two
+    // ends of a matched edge do: their doubled duals sum to an even doubled weight), so the
+    // roots go in one run per parity.
+    for (const Weight parity : {0, 1}) {
+      bool any = false;
+      for (const Root& root : roots) {
+        const Vertex v = root.vertex;
+        if (mate[v] != kNoVertex || dual2[v] == 0 || dual2[v] % 2 != parity) continue;
+        search.add_root(v, root.cause);
+        any = true;
+      }
+      if (any) search.run();
+    }
+  } else {
+    // One tree at a time: a tree that reaches a later root augments into it as into any
+    // exposed vertex, and a lone tree never has to tell other trees about the vertices it
+    // frees (and can stop queueing bounds past its latest end).
+    for (const Root& root : roots) {
+      const Vertex v = root.vertex;
+      if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
+      search.add_root(v, root.cause);  // what the tree changes goes back to the event that queued v
+      search.run();
+    }
   }
   const SolveStats& after = search.stats();
   pool.stats.searches += after.searches - before.searches;

@@ -20,6 +20,7 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       tree_inner_(2 * graph.vertex_count(), kNoVertex),
       tree_of_(2 * graph.vertex_count(), kNoVertex),
       tree_nodes_(graph.vertex_count()),
+      root_cause_(graph.vertex_count(), kNoCause),
       mark_(2 * graph.vertex_count(), 0) {}
 
 Weight AlternatingSearch::vertex_dual(Vertex v) const {
@@ -242,6 +243,16 @@ void AlternatingSearch::add_root(Vertex root) {
   ++stats_.searches;
 }
 
+void AlternatingSearch::add_root(Vertex root, EventCause cause) {
+  add_root(root);
+  root_cause_[root] = cause;
+  traces_causes_ = true;
+}
+
+void AlternatingSearch::attribute_to(Vertex root) {
+  if (traces_causes_) mate_.set_cause(root_cause_[root]);
+}
+
 std::size_t AlternatingSearch::run() {
   const std::uint64_t augmentations_before = stats_.augmentations;
   if (live_trees_ == 1 && !half_cycles_mode_) {
@@ -286,6 +297,7 @@ std::size_t AlternatingSearch::run() {
         // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
         // the even path from its root to it, and its tree is done.
         const Vertex root = tree_of_[forest_.top(entry.id)];
+        attribute_to(root);
         flip_path_to_root(entry.id, kNoVertex);
         end_tree(root);
       }
@@ -293,6 +305,7 @@ std::size_t AlternatingSearch::run() {
   }
   stats_.last_level_scans += stats_.scans - level_start_scans;
   running_ = false;
+  traces_causes_ = true;
   lone_tree_ = false;
   latest_end_ = kNever;
   stats_.heap_pushes = bounds_.pushes();
@@ -308,6 +321,7 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
   const Vertex base = forest_.base(node);
   const Vertex tree = tree_of_[forest_.top(even_end)];
   if (mate_[base] == kNoVertex) {
+    attribute_to(tree);
     if (half_cycles_mode_ && cycle_next_[free_end] != kNoVertex) open_half_cycle(free_end);
     forest_.make_base(node, free_end, mate_);
     mate_.set(free_end, even_end);
@@ -335,6 +349,7 @@ void AlternatingSearch::join_even_ends(EdgeIndex e) {
     }
     return;
   }
+  attribute_to(root_cause_[tree_a] <= root_cause_[tree_b] ? tree_a : tree_b);
   flip_path_to_root(edge.a, edge.b);
   flip_path_to_root(edge.b, edge.a);
   ++stats_.augmentations;

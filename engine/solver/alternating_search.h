@@ -39,6 +39,9 @@ class AlternatingSearch {
   // Starts a tree at `root`. Preconditions: root is exposed, its doubled dual is positive and
   // has the same parity as every other root of this run (so every dual step is integral).
   void add_root(Vertex root);
+  // The same, and the mates this tree writes are tagged with `cause` (Mates::set_cause); two
+  // trees that meet write with the earlier of their causes.
+  void add_root(Vertex root, EventCause cause);
   // Grows all trees until each has ended. Returns the number of augmentations.
   std::size_t run();
 
@@ -111,6 +114,7 @@ class AlternatingSearch {
   void expand_odd(NodeId b);
   void flip_path_to_root(Vertex v, Vertex partner);
   void end_tree(Vertex root);                 // its nodes leave the tree structure, duals settle
+  void attribute_to(Vertex root);             // tags the coming mate writes with root's cause
   void dissolve_unpriced(NodeId node);        // dissolves a free blossom with dual 0, and nested ones
   void start_run();
 
@@ -165,6 +169,10 @@ class AlternatingSearch {
   std::vector<std::vector<NodeId>> spare_node_lists_;
   static constexpr std::size_t kSpareNodeLists = 4;
   std::size_t live_trees_ = 0;
+  // Per root vertex: the event its tree's mate writes go back to; used in runs whose roots
+  // were added with a cause (traces_causes_), so that trees grown together keep their own.
+  std::vector<EventCause> root_cause_;
+  bool traces_causes_ = false;
   // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
   // key of its even vertices' dual bounds), and queues no bound due after it.
   static constexpr Weight kNever = std::numeric_limits<Weight>::max();

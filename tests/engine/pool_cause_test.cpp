@@ -65,5 +65,36 @@ TEST(PoolCause, EachChangeGoesBackToItsOwnEvent) {
   EXPECT_LE(result.diff.added_cause[0], 1u);
 }
 
+// In the modes with an offset a commit's trees grow together in one run (pool_repair.cpp):
+// each keeps its own event.
+TEST(PoolCause, TreesGrownTogetherKeepTheirOwnEvents) {
+  for (const Mode mode : {Mode::max_cardinality, Mode::perfect}) {
+    Pool pool(mode);
+    // Two squares alike: each matched on its heavy sides {a,b}, {c,d}.
+    commit_checked(pool, std::vector<Event>{set(1, 2, 5), set(2, 3, 4), set(3, 4, 5), set(4, 1, 4),
+                                            set(11, 12, 5), set(12, 13, 4), set(13, 14, 5),
+                                            set(14, 11, 4)});
+    // Each event makes its square's other sides worth more: both squares turn, each by its own
+    // event's tree.
+    const CommitResult result =
+        commit_checked(pool, std::vector<Event>{set(1, 2, 1), set(11, 12, 1)});
+    ASSERT_EQ(result.diff.removed,
+              (std::vector<MatchedPair>{{1, 2, 5}, {3, 4, 5}, {11, 12, 5}, {13, 14, 5}}));
+    ASSERT_EQ(result.diff.added,
+              (std::vector<MatchedPair>{{1, 4, 4}, {2, 3, 4}, {11, 14, 4}, {12, 13, 4}}));
+    EXPECT_EQ(result.diff.removed_cause, (std::vector<EventCause>{0, 0, 1, 1}));
+    EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{0, 0, 1, 1}));
+  }
+}
+
+TEST(PoolCause, TwoTreesThatMeetGoBackToTheEarlierEvent) {
+  Pool pool(Mode::max_cardinality);
+  commit_checked(pool, std::vector<Event>{set(1, 2, 5), set(3, 4, 5), set(2, 3, 1)});
+  // Each event frees one of 2 and 3; their trees meet on {2,3}.
+  const CommitResult result = commit_checked(pool, std::vector<Event>{unset(3, 4), unset(1, 2)});
+  ASSERT_EQ(result.diff.added, (std::vector<MatchedPair>{{2, 3, 1}}));
+  EXPECT_EQ(result.diff.added_cause, (std::vector<EventCause>{0}));
+}
+
 }  // namespace
 }  // namespace yoke
