@@ -8,9 +8,10 @@
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
-#include "wire_reader.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "daemon/wire_format/zigzag.h"
+#include "wire_fields.h"
 #include "wire_types.h"
-#include "zigzag.h"
 #include "yoke/v1/protocol.pb.h"
 
 namespace yoke::daemon {

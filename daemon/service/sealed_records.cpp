@@ -4,9 +4,10 @@
 #include <stdexcept>
 #include <utility>
 
-#include "wire_reader.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "daemon/wire_format/zigzag.h"
+#include "wire_fields.h"
 #include "wire_types.h"
-#include "zigzag.h"
 
 namespace yoke::daemon {
 

@@ -1,4 +1,4 @@
-// The zigzag pair (daemon/service/zigzag.h) against Protobuf's sint64: its edges round trip,
+// The zigzag pair (daemon/wire_format/zigzag.h) against Protobuf's sint64: its edges round trip,
 // it agrees with Protobuf's own encoder and decoder, and a w that Protobuf serializes in an
 // Event carries the varint zigzag_encoded gives.
 #include <cstdint>
@@ -9,8 +9,8 @@
 #include <google/protobuf/wire_format_lite.h>
 #include <gtest/gtest.h>
 
-#include "daemon/service/wire_reader.h"
-#include "daemon/service/zigzag.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "daemon/wire_format/zigzag.h"
 #include "yoke/v1/events.pb.h"
 
 namespace yoke::daemon {
