@@ -8,9 +8,8 @@
 #include <string_view>
 #include <utility>
 
-#include <google/protobuf/io/coded_stream.h>
-
 #include "daemon/storage/storage_error.h"
+#include "daemon/wire_format/wire_reader.h"
 #include "segment_names.h"
 #include "window_regrouper.h"
 
@@ -78,32 +77,22 @@ class JournalGroupReader : public storage::GroupReader {
   bool ended_ = false;
 };
 
-// Skips the field whose `tag` was just read; false for a group or a field cut short.
-bool skip_field(google::protobuf::io::CodedInputStream& in, std::uint32_t tag) {
-  std::uint64_t ignored = 0;
-  std::uint32_t length = 0;
-  switch (tag & 7) {
-    case 0: return in.ReadVarint64(&ignored);
-    case 1: return in.Skip(8);
-    case 2: return in.ReadVarint32(&length) && in.Skip(static_cast<int>(length));
-    case 5: return in.Skip(4);
-    default: return false;
-  }
-}
-
-// Where a record serialized without events takes their bytes: before its first field past 5
-// (Protobuf writes a message's fields in number order), or at its end. The bytes are a record
-// this log just serialized: well formed, with no groups.
+// Where a record serialized without events takes their bytes: before its first field numbered
+// past the events' (Protobuf writes a message's fields in number order), or at its end. The
+// bytes are a record this log just serialized: well formed, with no groups.
 std::size_t events_offset(std::string_view bytes) {
-  google::protobuf::io::CodedInputStream in(reinterpret_cast<const std::uint8_t*>(bytes.data()),
-                                            static_cast<int>(bytes.size()));
-  for (;;) {
-    const int field = in.CurrentPosition();
-    const std::uint32_t tag = in.ReadTag();
-    if (tag == 0) return bytes.size();  // the end
-    if ((tag >> 3) > 5) return static_cast<std::size_t>(field);
-    if (!skip_field(in, tag)) throw std::logic_error("a serialized journal record is cut short");
+  daemon::WireReader reader(bytes);
+  while (!reader.done()) {
+    const std::size_t field_start = reader.at();
+    std::uint32_t field = 0;
+    std::uint32_t wire_type = 0;
+    if (!reader.tag(field, wire_type)) {
+      throw std::logic_error("a serialized journal record has a field it cannot skip");
+    }
+    if (field > v1::JournalRecord::kEventsFieldNumber) return field_start;
+    if (!reader.skip(wire_type)) throw std::logic_error("a serialized journal record is cut short");
   }
+  return bytes.size();
 }
 
 }  // namespace

@@ -1,6 +1,7 @@
 #include "ingest_envelope.h"
 
-#include "wire_reader.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "wire_fields.h"
 #include "yoke/v1/protocol.pb.h"
 
 namespace yoke::daemon {

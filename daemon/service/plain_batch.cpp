@@ -8,7 +8,9 @@
 
 #include "daemon/pools/pool_names.h"
 #include "daemon/pools/retry_ledger.h"
-#include "wire_reader.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "daemon/wire_format/zigzag.h"
+#include "wire_fields.h"
 #include "wire_types.h"
 #include "yoke/v1/protocol.pb.h"
 
@@ -35,10 +37,6 @@ bool ascii(std::string_view text) {
     if (static_cast<unsigned char>(c) >= 0x80) return false;
   }
   return true;
-}
-
-std::int64_t zigzag_decoded(std::uint64_t raw) {
-  return static_cast<std::int64_t>(raw >> 1) ^ -static_cast<std::int64_t>(raw & 1);
 }
 
 // One Event as decode_event reads it, when decode_event accepts it. Its fields are read by

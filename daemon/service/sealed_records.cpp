@@ -4,7 +4,9 @@
 #include <stdexcept>
 #include <utility>
 
-#include "wire_reader.h"
+#include "daemon/wire_format/wire_reader.h"
+#include "daemon/wire_format/zigzag.h"
+#include "wire_fields.h"
 #include "wire_types.h"
 
 namespace yoke::daemon {
@@ -62,8 +64,7 @@ char* put_wire_event(char* out, const Event& event, std::uint32_t field) {
       put_varint_field(body, kEventKind, static_cast<std::uint64_t>(wire_kind(event.kind)));
   end = put_varint_field(end, kEventU, event.u);
   end = put_varint_field(end, kEventV, has_v ? event.v : 0);
-  end = put_varint_field(end, kEventW, (static_cast<std::uint64_t>(w) << 1) ^
-                                           static_cast<std::uint64_t>(w >> 63));
+  end = put_varint_field(end, kEventW, zigzag_encoded(w));
   out = put_varint(out, (std::uint64_t{field} << 3) | kLengthDelimited);
   out = put_varint(out, static_cast<std::uint64_t>(end - body));
   return std::copy(body, end, out);

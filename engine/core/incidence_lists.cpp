@@ -99,7 +99,7 @@ void IncidenceLists::rebuild(std::size_t extra) {
   // least `extra`), so the next rebuild comes only after that much has moved.
   Arena arena;
   arena.reserve(total + std::max(extra, total / 4));
-  arena.resize(total);
+  arena.resize(total);  // not zeroed (HugePageAllocator::construct): the copies below fill it
   std::size_t next = 0;
   for (List& list : lists_) {
     std::copy_n(arena_.begin() + static_cast<std::ptrdiff_t>(list.begin), list.size,

@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <chrono>
+#include <exception>
 #include <memory>
 #include <string>
 #include <vector>
@@ -49,6 +50,28 @@ class OneClusterPerSuite : public ::testing::Test {
   }
   static inline std::unique_ptr<nats_cluster::LocalNatsCluster> cluster_;
   static inline std::unique_ptr<NatsConnection> connection_;
+};
+
+// Restarts a killed node when the scope ends, however the test leaves it (so the suite's next
+// tests find the whole cluster). A failed restart fails the test (ADD_FAILURE); it is never
+// thrown out of the destructor, which would end the whole test binary.
+class RestartWhenDone {
+ public:
+  RestartWhenDone(nats_cluster::LocalNatsCluster& cluster, int node)
+      : cluster_(cluster), node_(node) {}
+  RestartWhenDone(const RestartWhenDone&) = delete;
+  RestartWhenDone& operator=(const RestartWhenDone&) = delete;
+  ~RestartWhenDone() {
+    try {
+      cluster_.restart(node_);
+    } catch (const std::exception& error) {
+      ADD_FAILURE() << "restarting node " << node_ << " failed: " << error.what();
+    }
+  }
+
+ private:
+  nats_cluster::LocalNatsCluster& cluster_;
+  int node_;
 };
 
 // Every message of `filter` from `start` until the reader reports none pending and the stream

@@ -1,5 +1,6 @@
 // The stream's rules on a real cluster: creating it twice, settings that differ, bad settings,
 // a full stream refusing new messages, no single-message deletes, no stream for a subject.
+#include <gtest/gtest-spi.h>
 #include <gtest/gtest.h>
 
 #include <functional>
@@ -29,6 +30,13 @@ ClusterErrorKind kind_of(const std::function<void()>& action) {
   }
   ADD_FAILURE() << "no ClusterError";
   return ClusterErrorKind::other;
+}
+
+// A restart that fails at a scope's end is the test's failure, not the end of the binary: here
+// the node is still running, which restart refuses.
+TEST_F(StreamRules, AFailedRestartAtAScopesEndFailsTheTest) {
+  EXPECT_NONFATAL_FAILURE({ const testing::RestartWhenDone guard(*cluster_, 0); },
+                          "is still running");
 }
 
 TEST_F(StreamRules, EnsuringTheSameStreamAgainIsANoOpAndOtherSettingsAreNamed) {

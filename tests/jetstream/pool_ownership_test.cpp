@@ -6,7 +6,6 @@
 #include <barrier>
 #include <chrono>
 #include <cstdio>
-#include <functional>
 #include <memory>
 #include <optional>
 #include <string>
@@ -209,9 +208,7 @@ TEST_F(OwnershipOnCluster, ClaimsSurviveASigkilledStreamLeader) {
 
   const int leader = cluster_->stream_leader(settings_.stream, std::chrono::milliseconds(10000));
   cluster_->kill(leader);
-  // Back for the suite's next tests, however this one ends.
-  const std::unique_ptr<void, std::function<void(void*)>> restart_later(
-      this, [leader](void*) { cluster_->restart(leader); });
+  const cluster::testing::RestartWhenDone restart_later(*cluster_, leader);
   // Asked with a short API timeout, so that the wait measures the election rather than
   // requests that went out during it and wait out their timeout.
   const auto started = std::chrono::steady_clock::now();

@@ -1,10 +1,13 @@
 // An allocator for large arrays read at random (the graph's incidence arena): blocks of 4 MiB
 // and more are aligned to 2 MiB and offered to the kernel for transparent huge pages, so that
 // random reads across them miss the TLB far less. Smaller blocks are ordinary allocations.
+// Slots that resize() adds are default-initialised, not zeroed: an array on this allocator must
+// not read a slot before writing it.
 #pragma once
 
 #include <cstddef>
 #include <new>
+#include <utility>
 
 #include <sys/mman.h>
 
@@ -36,6 +39,16 @@ struct HugePageAllocator {
     } else {
       ::operator delete(block, std::align_val_t{kHugePage});
     }
+  }
+  // Default-initialises what resize() adds: for plain structs (Incidence) no zeroing, which a
+  // rebuild of the arena paid for twice over (its slack is never read before a push writes it).
+  template <class U>
+  void construct(U* slot) {
+    ::new (static_cast<void*>(slot)) U;
+  }
+  template <class U, class... Args>
+  void construct(U* slot, Args&&... args) {
+    ::new (static_cast<void*>(slot)) U(std::forward<Args>(args)...);
   }
   template <class U>
   bool operator==(const HugePageAllocator<U>&) const { return true; }

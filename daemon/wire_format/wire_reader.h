@@ -1,7 +1,7 @@
-// A cursor over Protobuf wire bytes, and the ingest messages' field numbers, for the readers
-// that take the common shape of a client message by hand (ingest_envelope.h, plain_batch.h)
-// and leave anything unusual to Protobuf; the journal's event writer (sealed_records.cpp)
-// writes events by the same numbers.
+// A cursor over Protobuf wire bytes that knows no schema: the daemon's hand readers of client
+// messages (daemon/service: ingest_envelope, plain_batch, by the field numbers in
+// wire_fields.h) and the journal's splice of events into a record (journal_commit_log.cpp)
+// read with it. Header only, with no dependency but the standard library.
 #pragma once
 
 #include <cstddef>
@@ -10,22 +10,7 @@
 
 namespace yoke::daemon {
 
-// Field numbers of yoke.v1.IngestRequest, EventBatch and Event (proto/yoke/v1/).
-constexpr std::uint32_t kRequestVersion = 1;
-constexpr std::uint32_t kRequestBatch = 2;
-constexpr std::uint32_t kRequestRetire = 3;
-constexpr std::uint32_t kBatchClientId = 1;
-constexpr std::uint32_t kBatchClientBatch = 2;
-constexpr std::uint32_t kBatchPool = 3;
-constexpr std::uint32_t kBatchEvents = 4;
-constexpr std::uint32_t kBatchAfterBatch = 5;
-constexpr std::uint32_t kEventKind = 1;
-constexpr std::uint32_t kEventU = 2;
-constexpr std::uint32_t kEventV = 3;
-constexpr std::uint32_t kEventW = 4;
-
 enum WireType : std::uint32_t { kVarint = 0, kFixed64 = 1, kLengthDelimited = 2, kFixed32 = 5 };
-constexpr std::uint8_t kEventsTag = (kBatchEvents << 3) | kLengthDelimited;
 
 // A cursor over bytes in which every read says whether it stayed inside them.
 class WireReader {
