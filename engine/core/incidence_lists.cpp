@@ -99,7 +99,9 @@ void IncidenceLists::rebuild(std::size_t extra) {
   // least `extra`), so the next rebuild comes only after that much has moved.
   Arena arena;
   arena.reserve(total + std::max(extra, total / 4));
-  arena.resize(total);  // not zeroed (HugePageAllocator::construct): the copies below fill it
+  // Not zeroed (HugePageAllocator::construct): the copies below fill each list's entries, and
+  // its slack is written by a push before anything reads it.
+  arena.resize(total);
   std::size_t next = 0;
   for (List& list : lists_) {
     std::copy_n(arena_.begin() + static_cast<std::ptrdiff_t>(list.begin), list.size,
