@@ -11,7 +11,9 @@
 #include <algorithm>
 #include <filesystem>
 #include <future>
+#include <map>
 #include <memory>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <thread>
@@ -343,27 +345,32 @@ TEST(ServerRepairs, AFreePoolsCaptureWaitsOnItsStrandWhileItsBatchesAreAcknowled
   EXPECT_TRUE(testing::pool_certified(*restarted.registry().find("A")));
 }
 
-// The local journal behind a latch: its first commit() waits (on the journal thread) until the
-// test opens it, and says when it began.
+// The local journal behind latches: each of its first `held` commit()s waits (on the journal
+// thread) until the test opens its latch, and says when it began.
 class HeldCommitLog : public testing::ForwardingCommitLog {
  public:
-  explicit HeldCommitLog(storage::CommitLog& log)
-      : ForwardingCommitLog(log), opened_(latch.get_future()) {}
+  explicit HeldCommitLog(storage::CommitLog& log, std::size_t held = 1)
+      : ForwardingCommitLog(log), latches_(held), began_(held) {
+    for (std::promise<void>& latch : latches_) opened_.push_back(latch.get_future());
+  }
 
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
-    if (commits_++ == 0) {
-      began.set_value();
-      opened_.wait();
+    if (const std::size_t n = commits_++; n < latches_.size()) {
+      began_[n].set_value();
+      opened_[n].wait();
     }
     return ForwardingCommitLog::commit(std::move(window));
   }
 
-  std::promise<void> latch;
-  std::promise<void> began;
+  // Blocks until the n-th commit (from 0) is held.
+  void wait_began(std::size_t n = 0) { began_[n].get_future().wait(); }
+  void open(std::size_t n = 0) { latches_[n].set_value(); }
 
  private:
-  std::future<void> opened_;
-  int commits_ = 0;  // the journal thread's alone
+  std::vector<std::promise<void>> latches_;
+  std::vector<std::promise<void>> began_;
+  std::vector<std::future<void>> opened_;
+  std::size_t commits_ = 0;  // the journal thread's alone
 };
 
 // While a window syncs (its commit held), the loop answers queries and takes the next window's
@@ -384,7 +391,7 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
   zmq::socket_t query = dealer(context, config.endpoints.query);
   send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
-  log.began.get_future().wait();  // A's first window is on the journal thread, held
+  log.wait_began();  // A's first window is on the journal thread, held
 
   // Vertex 2 is only in the syncing window: the batch is checked on top of it.
   send_batch(ingest, {testing::wire_remove(2)}, from_client("a", 2, "A"));
@@ -398,7 +405,7 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   EXPECT_EQ(answer.request_id(), 9u);
   EXPECT_TRUE(answer.has_health()) << answer.DebugString();
 
-  log.latch.set_value();
+  log.open();
   const v1::Ack a1 = next_ack(ingest);
   ASSERT_TRUE(a1.has_accepted()) << a1.DebugString();
   EXPECT_EQ(a1.client_batch(), 1u);
@@ -424,6 +431,115 @@ TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) { serve_while_a_window_syncs
 
 TEST(ServerRepairs, AFullWindowWaitsUnreadWhileTheOneBeforeSyncs) {
   serve_while_a_window_syncs(1);
+}
+
+// The next reply on `socket` within its bound, or nothing (a loop that waits does not answer).
+std::optional<zmq::message_t> reply_within_bound(zmq::socket_t& socket) {
+  zmq::message_t message;
+  if (!socket.recv(message)) return std::nullopt;
+  return message;
+}
+
+// A message that is no IngestRequest: refused at once, so its answer shows that the loop read
+// every ingest message sent before it.
+void send_unreadable(zmq::socket_t& ingest) {
+  ingest.send(zmq::buffer(std::string_view("\xff\xff\xff")), zmq::send_flags::none);
+}
+
+// The daemon part of the test below: A's window held, B's batch joins the next, A's window
+// triggers the snapshot, which seals B's (held); a query and C's batch meanwhile; then SIGTERM.
+void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::CommitLog& journal,
+                                         SnapshotDirectory& snapshots) {
+  HeldCommitLog log(journal, 2);
+  PoolService service(config, testing::fresh_state(config), log);
+  YokedServer server(config, service, snapshots);
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  log.wait_began(0);  // A's window syncs, held
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  send_unreadable(ingest);
+  EXPECT_TRUE(next_ack(ingest).has_rejected());  // B's batch is in the open window
+  log.open(0);
+  const v1::Ack a1 = next_ack(ingest);  // then A's window triggers a snapshot, which seals B's
+  EXPECT_TRUE(a1.has_accepted()) << a1.DebugString();
+  log.wait_began(1);  // B's window syncs, held: the snapshot waits for it
+
+  v1::QueryRequest health;
+  health.set_version(1);
+  health.set_request_id(9);
+  health.mutable_health();
+  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  send_batch(ingest, {wire_add(1)}, from_client("c", 1, "C"));
+  send_unreadable(ingest);
+  const bool answered = reply_within_bound(query).has_value();
+  EXPECT_TRUE(answered) << "the loop waited for the sync";
+  // (A loop that waits answers nothing before the latch opens: one bound is enough.)
+  const bool read = answered && reply_within_bound(ingest).has_value();
+  EXPECT_TRUE(read) << "the loop read no batch during the sync";
+  EXPECT_TRUE(snapshots.positions().empty());  // the snapshot has not started
+
+  log.open(1);
+  std::map<std::string, v1::Ack> acks;  // by pool; the refusal, if not read yet, by ""
+  for (int left = read ? 2 : 3; left > 0; --left) {
+    v1::Ack ack = next_ack(ingest);
+    acks[ack.pool()] = std::move(ack);
+  }
+  EXPECT_TRUE(acks["B"].has_accepted()) << acks["B"].DebugString();
+  EXPECT_TRUE(acks["C"].has_accepted()) << acks["C"].DebugString();
+  ::kill(::getpid(), SIGTERM);
+  ASSERT_EQ(status.get(), kYokedOk);
+}
+
+// A snapshot due while a window syncs starts from that sync's completion instead of waiting for
+// it on the loop: with the journal's second commit held (B's window, sealed by the snapshot
+// that A's window triggered), a query is answered and batches are read meanwhile. The snapshot
+// is named by the log's end after B's window (A and B at seq 1); C's batch, which came during
+// the sync, is in a later window: the snapshot leaves it out, and recovery from that snapshot
+// replays it from the journal.
+TEST(ServerRepairs, ASnapshotWaitingForASyncHoldsNeitherQueriesNorBatches) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+  auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
+  serve_a_snapshot_waiting_for_a_sync(config, *journal, snapshots);
+
+  // The oldest snapshot: A and B at seq 1, not C.
+  const std::vector<std::uint64_t> positions = snapshots.positions();
+  ASSERT_GE(positions.size(), 2u);
+  const storage::SnapshotContents first = snapshots.read(positions.back());
+  ASSERT_EQ(first.pools.size(), 2u);
+  EXPECT_EQ(first.pools[0].pool(), "A");
+  EXPECT_EQ(first.pools[0].seq(), 1u);
+  EXPECT_EQ(first.pools[0].weight(), 5);
+  EXPECT_EQ(first.pools[1].pool(), "B");
+  EXPECT_EQ(first.pools[1].seq(), 1u);
+  EXPECT_EQ(first.pools[1].weight(), 7);
+
+  // Recovered from that snapshot alone plus the journal after it: C's window is replayed, and
+  // C's client mark with it (its retry is a duplicate).
+  for (std::size_t i = 0; i + 1 < positions.size(); ++i) {
+    std::filesystem::remove(snapshots.path_for(positions[i]));
+  }
+  RecoveryReport report;
+  PoolService restarted(config, recover(config, *journal, snapshots, report), *journal);
+  EXPECT_EQ(report.snapshot_position, positions.back());
+  EXPECT_EQ(restarted.progress("A")->seq, 1u);
+  EXPECT_EQ(restarted.progress("B")->seq, 1u);
+  ASSERT_NE(restarted.progress("C"), nullptr);
+  EXPECT_EQ(restarted.progress("C")->seq, 1u);
+  EXPECT_EQ(restarted.registry().find("C")->vertex_count(), 1u);
+  const std::optional<v1::Ack> retry =
+      restarted.offer(1, testing::ingest_message({wire_add(1)}, from_client("c", 1, "C")));
+  ASSERT_TRUE(retry.has_value());
+  ASSERT_TRUE(retry->has_accepted()) << retry->DebugString();
+  EXPECT_TRUE(retry->accepted().duplicate());
+  EXPECT_EQ(retry->accepted().seq(), 1u);
 }
 
 // [service] worker_nice reaches the server's repair workers: a task reads its own thread's
