@@ -332,7 +332,7 @@ void YokedServer::on_window_synced() {
 void YokedServer::finish_sync() {
   if (journal_ == nullptr || !journal_->busy()) return;
   journal_->wait();
-  const bool outer = finishing_sync_;  // kept for a settle() nested in the completion
+  const bool outer = finishing_sync_;  // a settle() nested in the completion
   finishing_sync_ = true;
   on_window_synced();
   finishing_sync_ = outer;
@@ -505,7 +505,8 @@ void YokedServer::snapshot_in_background() {
   events_since_snapshot_ = 0;
   // The ledger may hold batches of the open window: sealed first, so that every mark it
   // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
-  close_window();
+  // Not inside finish_sync(), whose caller closes the next window itself (a stop refuses it).
+  if (!finishing_sync_) close_window();
   // The snapshot is named by the log's end, the loop's again once the sync is over: it starts
   // from that sync's completion (on_window_synced), and the loop serves meanwhile.
   start_after_sync_ = true;

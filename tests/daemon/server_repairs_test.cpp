@@ -9,6 +9,8 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <atomic>
+#include <chrono>
 #include <filesystem>
 #include <future>
 #include <map>
@@ -345,32 +347,47 @@ TEST(ServerRepairs, AFreePoolsCaptureWaitsOnItsStrandWhileItsBatchesAreAcknowled
   EXPECT_TRUE(testing::pool_certified(*restarted.registry().find("A")));
 }
 
-// The local journal behind latches: each of its first `held` commit()s waits (on the journal
-// thread) until the test opens its latch, and says when it began.
+// The local journal behind latches: each of its commit()s numbered `first` to `first + held - 1`
+// (from 0) waits on the journal thread until the test opens its latch, and says when it began.
+// It counts the loop's drop_before() calls, and those made while a commit ran (the journal
+// thread is then the log's only user: there must be none).
 class HeldCommitLog : public testing::ForwardingCommitLog {
  public:
-  explicit HeldCommitLog(storage::CommitLog& log, std::size_t held = 1)
-      : ForwardingCommitLog(log), latches_(held), began_(held) {
+  explicit HeldCommitLog(storage::CommitLog& log, std::size_t held = 1, std::size_t first = 0)
+      : ForwardingCommitLog(log), first_(first), latches_(held), began_(held) {
     for (std::promise<void>& latch : latches_) opened_.push_back(latch.get_future());
   }
 
   storage::CommittedWindow commit(std::vector<v1::JournalRecord> window) override {
-    if (const std::size_t n = commits_++; n < latches_.size()) {
-      began_[n].set_value();
-      opened_[n].wait();
+    committing_ = true;
+    if (const std::size_t n = commits_++; n >= first_ && n - first_ < latches_.size()) {
+      began_[n - first_].set_value();
+      opened_[n - first_].wait();
     }
-    return ForwardingCommitLog::commit(std::move(window));
+    storage::CommittedWindow committed = ForwardingCommitLog::commit(std::move(window));
+    committing_ = false;
+    return committed;
+  }
+  std::size_t drop_before(storage::Position position) override {
+    ++drops;
+    if (committing_) ++drops_during_commits;
+    return ForwardingCommitLog::drop_before(position);
   }
 
-  // Blocks until the n-th commit (from 0) is held.
-  void wait_began(std::size_t n = 0) { began_[n].get_future().wait(); }
-  void open(std::size_t n = 0) { latches_[n].set_value(); }
+  // Blocks until commit n (from 0) is held.
+  void wait_began(std::size_t n) { began_[n - first_].get_future().wait(); }
+  void open(std::size_t n) { latches_[n - first_].set_value(); }
+
+  std::atomic<int> drops{0};
+  std::atomic<int> drops_during_commits{0};
 
  private:
+  std::size_t first_;
   std::vector<std::promise<void>> latches_;
   std::vector<std::promise<void>> began_;
   std::vector<std::future<void>> opened_;
   std::size_t commits_ = 0;  // the journal thread's alone
+  std::atomic<bool> committing_{false};
 };
 
 // While a window syncs (its commit held), the loop answers queries and takes the next window's
@@ -391,7 +408,7 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
   zmq::socket_t query = dealer(context, config.endpoints.query);
   send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
-  log.wait_began();  // A's first window is on the journal thread, held
+  log.wait_began(0);  // A's first window is on the journal thread, held
 
   // Vertex 2 is only in the syncing window: the batch is checked on top of it.
   send_batch(ingest, {testing::wire_remove(2)}, from_client("a", 2, "A"));
@@ -405,7 +422,7 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   EXPECT_EQ(answer.request_id(), 9u);
   EXPECT_TRUE(answer.has_health()) << answer.DebugString();
 
-  log.open();
+  log.open(0);
   const v1::Ack a1 = next_ack(ingest);
   ASSERT_TRUE(a1.has_accepted()) << a1.DebugString();
   EXPECT_EQ(a1.client_batch(), 1u);
@@ -490,6 +507,7 @@ void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::Co
   }
   EXPECT_TRUE(acks["B"].has_accepted()) << acks["B"].DebugString();
   EXPECT_TRUE(acks["C"].has_accepted()) << acks["C"].DebugString();
+  EXPECT_EQ(log.drops_during_commits, 0);
   ::kill(::getpid(), SIGTERM);
   ASSERT_EQ(status.get(), kYokedOk);
 }
@@ -540,6 +558,94 @@ TEST(ServerRepairs, ASnapshotWaitingForASyncHoldsNeitherQueriesNorBatches) {
   ASSERT_TRUE(retry->has_accepted()) << retry->DebugString();
   EXPECT_TRUE(retry->accepted().duplicate());
   EXPECT_EQ(retry->accepted().seq(), 1u);
+}
+
+// A snapshot directory whose first write() waits until the test opens its latch, and says
+// when it began and when it returned (the writer thread then wakes the loop).
+class HeldSnapshotStore : public storage::SnapshotStore {
+ public:
+  explicit HeldSnapshotStore(storage::SnapshotStore& inner)
+      : inner_(inner), opened_(latch.get_future()) {}
+
+  std::string describe() const override { return inner_.describe(); }
+  std::string write(storage::Position position,
+                    const std::vector<v1::SnapshotRecord>& pools) override {
+    const bool first = writes_++ == 0;
+    if (first) {
+      began.set_value();
+      opened_.wait();
+    }
+    std::string path = inner_.write(position, pools);
+    if (first) returned.set_value();
+    return path;
+  }
+  std::vector<storage::Position> positions() const override { return inner_.positions(); }
+  storage::SnapshotContents read(storage::Position position) const override {
+    return inner_.read(position);
+  }
+  std::optional<storage::Position> oldest_needed() const override {
+    return inner_.oldest_needed();
+  }
+
+  std::promise<void> latch;
+  std::promise<void> began;
+  std::promise<void> returned;
+
+ private:
+  storage::SnapshotStore& inner_;
+  std::future<void> opened_;
+  int writes_ = 0;  // the writer thread's alone
+};
+
+// A background snapshot whose write ends while a window syncs: its log trimming waits for that
+// sync's completion (the journal thread is the log's only user meanwhile) instead of holding
+// the loop for it, and happens then. With A's snapshot's write held and B's window's commit
+// held, the write is let go; once it has returned (and a moment for its wake to reach the
+// loop, which a loop that waits for the sync would then do) a query is answered. Then B's
+// window commits and the log is trimmed, never during a commit.
+TEST(ServerRepairs, AWrittenSnapshotsTrimmingWaitsForTheSyncWithoutHoldingTheLoop) {
+  testing::TempDir dir;
+  DaemonConfig config = server_config(dir.path());
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+  auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
+  HeldCommitLog log(*journal, 1, 1);  // B's window, the second
+  SnapshotDirectory directory(dir.path() / "snapshots", config.snapshots.keep);
+  HeldSnapshotStore snapshots(directory);
+  PoolService service(config, testing::fresh_state(config), log);
+  YokedServer server(config, service, snapshots);
+  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+
+  zmq::context_t context(1);
+  zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
+  zmq::socket_t query = dealer(context, config.endpoints.query);
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "A"));
+  EXPECT_TRUE(next_ack(ingest).has_accepted());  // A's window triggers a snapshot
+  snapshots.began.get_future().wait();           // whose write is held
+  send_batch(ingest, {wire_add(1), wire_add(2), wire_set(1, 2, 7)}, from_client("b", 1, "B"));
+  log.wait_began(1);  // B's window syncs, held
+  snapshots.latch.set_value();
+  snapshots.returned.get_future().wait();
+  std::this_thread::sleep_for(std::chrono::milliseconds(100));
+  EXPECT_EQ(log.drops, 0);  // not while B's window syncs
+
+  v1::QueryRequest health;
+  health.set_version(1);
+  health.set_request_id(9);
+  health.mutable_health();
+  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  EXPECT_TRUE(reply_within_bound(query).has_value()) << "the loop waited for the sync";
+
+  log.open(1);
+  const v1::Ack b1 = next_ack(ingest);
+  EXPECT_TRUE(b1.has_accepted()) << b1.DebugString();
+  health.set_request_id(10);  // answered after the completion that sent B's ack
+  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  EXPECT_TRUE(reply_within_bound(query).has_value());
+  EXPECT_GE(log.drops, 1);  // the first snapshot's trimming, at that completion
+  ::kill(::getpid(), SIGTERM);
+  ASSERT_EQ(status.get(), kYokedOk);
+  EXPECT_EQ(log.drops_during_commits, 0);
 }
 
 // [service] worker_nice reaches the server's repair workers: a task reads its own thread's
