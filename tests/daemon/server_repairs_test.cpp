@@ -113,6 +113,14 @@ DaemonConfig server_config(const std::filesystem::path& dir) {
   return config;
 }
 
+// server_config() with a snapshot after every window, the last 10 kept.
+DaemonConfig snapshot_each_window_config(const std::filesystem::path& dir) {
+  DaemonConfig config = server_config(dir);
+  config.snapshots.after_events = 1;
+  config.snapshots.keep = 10;
+  return config;
+}
+
 // A yoked server on its own thread, recovered from `dir`, whose pool A's strand first runs a
 // latch: A's repairs wait behind it until `latch.set_value()`.
 struct HeldRepairDaemon {
@@ -234,9 +242,7 @@ TEST(ServerRepairs, ANewPoolsBigFirstMessageIsDecodedOffTheLoop) {
 // position, and not B, whose first batch came after that position.
 TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
   testing::TempDir dir;
-  DaemonConfig config = server_config(dir.path());
-  config.snapshots.after_events = 1;
-  config.snapshots.keep = 10;
+  const DaemonConfig config = snapshot_each_window_config(dir.path());
 
   HeldRepairDaemon yoked(config, dir.path());
 
@@ -281,9 +287,7 @@ TEST(ServerRepairs, ASnapshotWaitsForABlockedPoolWithoutHoldingTheOthers) {
 // that snapshot. A restart from the snapshots finds both pools as they were.
 TEST(ServerRepairs, AFreePoolsCaptureWaitsOnItsStrandWhileItsBatchesAreAcknowledged) {
   testing::TempDir dir;
-  DaemonConfig config = server_config(dir.path());
-  config.snapshots.after_events = 1;
-  config.snapshots.keep = 10;
+  const DaemonConfig config = snapshot_each_window_config(dir.path());
   {  // A's first window, journalled by a daemon of the service alone
     auto log = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
     SnapshotDirectory none(dir.path() / "snapshots", config.snapshots.keep);
@@ -390,6 +394,30 @@ class HeldCommitLog : public testing::ForwardingCommitLog {
   std::atomic<bool> committing_{false};
 };
 
+// A yoked server on its own thread with no pool yet, over `journal` behind a HeldCommitLog
+// (`held` commits from number `first` wait for the test) and `snapshots`.
+struct HeldCommitDaemon {
+  HeldCommitDaemon(const DaemonConfig& config, storage::CommitLog& journal,
+                   storage::SnapshotStore& snapshots, std::size_t held = 1, std::size_t first = 0)
+      : log(journal, held, first),
+        service(config, testing::fresh_state(config), log),
+        server(config, service, snapshots),
+        status(std::async(std::launch::async, [this] { return server.run(); })) {}
+
+  HeldCommitLog log;
+  PoolService service;
+  YokedServer server;
+  std::future<int> status;  // server.run()'s exit status
+};
+
+void ask_health(zmq::socket_t& socket, std::uint64_t id) {
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_request_id(id);
+  request.mutable_health();
+  socket.send(zmq::buffer(request.SerializeAsString()), zmq::send_flags::none);
+}
+
 // While a window syncs (its commit held), the loop answers queries and takes the next window's
 // batches, checked on top of the syncing one (with max_events 1, it reads no further once the
 // next window is full); the acknowledgements come once each is durable, in window order.
@@ -398,11 +426,9 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   DaemonConfig config = server_config(dir.path());
   config.batching.max_events = max_events;
   auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
-  HeldCommitLog log(*journal);
   SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
-  PoolService service(config, testing::fresh_state(config), log);
-  YokedServer server(config, service, snapshots);
-  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+  HeldCommitDaemon yoked(config, *journal, snapshots);
+  HeldCommitLog& log = yoked.log;
 
   zmq::context_t context(1);
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
@@ -413,11 +439,7 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   // Vertex 2 is only in the syncing window: the batch is checked on top of it.
   send_batch(ingest, {testing::wire_remove(2)}, from_client("a", 2, "A"));
   send_batch(ingest, {wire_add(7)}, from_client("b", 1, "B"));
-  v1::QueryRequest health;
-  health.set_version(1);
-  health.set_request_id(9);
-  health.mutable_health();
-  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  ask_health(query, 9);
   const v1::QueryReply answer = next_answer(query);
   EXPECT_EQ(answer.request_id(), 9u);
   EXPECT_TRUE(answer.has_health()) << answer.DebugString();
@@ -437,11 +459,11 @@ void serve_while_a_window_syncs(std::uint64_t max_events) {
   EXPECT_EQ(b1.accepted().seq(), 1u);
 
   ::kill(::getpid(), SIGTERM);
-  EXPECT_EQ(status.get(), kYokedOk);
-  EXPECT_EQ(service.progress("A")->seq, 2u);
-  EXPECT_EQ(service.registry().find("A")->vertex_count(), 1u);
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
-  EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
+  EXPECT_EQ(yoked.status.get(), kYokedOk);
+  EXPECT_EQ(yoked.service.progress("A")->seq, 2u);
+  EXPECT_EQ(yoked.service.registry().find("A")->vertex_count(), 1u);
+  EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("A")));
+  EXPECT_TRUE(testing::pool_certified(*yoked.service.registry().find("B")));
 }
 
 TEST(ServerRepairs, TheLoopServesWhileAWindowSyncs) { serve_while_a_window_syncs(10000); }
@@ -467,10 +489,8 @@ void send_unreadable(zmq::socket_t& ingest) {
 // triggers the snapshot, which seals B's (held); a query and C's batch meanwhile; then SIGTERM.
 void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::CommitLog& journal,
                                          SnapshotDirectory& snapshots) {
-  HeldCommitLog log(journal, 2);
-  PoolService service(config, testing::fresh_state(config), log);
-  YokedServer server(config, service, snapshots);
-  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+  HeldCommitDaemon yoked(config, journal, snapshots, 2);
+  HeldCommitLog& log = yoked.log;
 
   zmq::context_t context(1);
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
@@ -485,11 +505,7 @@ void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::Co
   EXPECT_TRUE(a1.has_accepted()) << a1.DebugString();
   log.wait_began(1);  // B's window syncs, held: the snapshot waits for it
 
-  v1::QueryRequest health;
-  health.set_version(1);
-  health.set_request_id(9);
-  health.mutable_health();
-  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  ask_health(query, 9);
   send_batch(ingest, {wire_add(1)}, from_client("c", 1, "C"));
   send_unreadable(ingest);
   const bool answered = reply_within_bound(query).has_value();
@@ -509,7 +525,7 @@ void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::Co
   EXPECT_TRUE(acks["C"].has_accepted()) << acks["C"].DebugString();
   EXPECT_EQ(log.drops_during_commits, 0);
   ::kill(::getpid(), SIGTERM);
-  ASSERT_EQ(status.get(), kYokedOk);
+  ASSERT_EQ(yoked.status.get(), kYokedOk);
 }
 
 // A snapshot due while a window syncs starts from that sync's completion instead of waiting for
@@ -520,9 +536,7 @@ void serve_a_snapshot_waiting_for_a_sync(const DaemonConfig& config, storage::Co
 // replays it from the journal.
 TEST(ServerRepairs, ASnapshotWaitingForASyncHoldsNeitherQueriesNorBatches) {
   testing::TempDir dir;
-  DaemonConfig config = server_config(dir.path());
-  config.snapshots.after_events = 1;
-  config.snapshots.keep = 10;
+  const DaemonConfig config = snapshot_each_window_config(dir.path());
   auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
   SnapshotDirectory snapshots(dir.path() / "snapshots", config.snapshots.keep);
   serve_a_snapshot_waiting_for_a_sync(config, *journal, snapshots);
@@ -605,16 +619,12 @@ class HeldSnapshotStore : public storage::SnapshotStore {
 // window commits and the log is trimmed, never during a commit.
 TEST(ServerRepairs, AWrittenSnapshotsTrimmingWaitsForTheSyncWithoutHoldingTheLoop) {
   testing::TempDir dir;
-  DaemonConfig config = server_config(dir.path());
-  config.snapshots.after_events = 1;
-  config.snapshots.keep = 10;
+  const DaemonConfig config = snapshot_each_window_config(dir.path());
   auto journal = journal::JournalCommitLog::open(dir.path() / "journal", config.journal);
-  HeldCommitLog log(*journal, 1, 1);  // B's window, the second
   SnapshotDirectory directory(dir.path() / "snapshots", config.snapshots.keep);
   HeldSnapshotStore snapshots(directory);
-  PoolService service(config, testing::fresh_state(config), log);
-  YokedServer server(config, service, snapshots);
-  std::future<int> status = std::async(std::launch::async, [&server] { return server.run(); });
+  HeldCommitDaemon yoked(config, *journal, snapshots, 1, 1);  // B's window, the second
+  HeldCommitLog& log = yoked.log;
 
   zmq::context_t context(1);
   zmq::socket_t ingest = dealer(context, config.endpoints.ingest);
@@ -629,22 +639,17 @@ TEST(ServerRepairs, AWrittenSnapshotsTrimmingWaitsForTheSyncWithoutHoldingTheLoo
   std::this_thread::sleep_for(std::chrono::milliseconds(100));
   EXPECT_EQ(log.drops, 0);  // not while B's window syncs
 
-  v1::QueryRequest health;
-  health.set_version(1);
-  health.set_request_id(9);
-  health.mutable_health();
-  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  ask_health(query, 9);
   EXPECT_TRUE(reply_within_bound(query).has_value()) << "the loop waited for the sync";
 
   log.open(1);
   const v1::Ack b1 = next_ack(ingest);
   EXPECT_TRUE(b1.has_accepted()) << b1.DebugString();
-  health.set_request_id(10);  // answered after the completion that sent B's ack
-  query.send(zmq::buffer(health.SerializeAsString()), zmq::send_flags::none);
+  ask_health(query, 10);  // answered after the completion that sent B's ack
   EXPECT_TRUE(reply_within_bound(query).has_value());
   EXPECT_GE(log.drops, 1);  // the first snapshot's trimming, at that completion
   ::kill(::getpid(), SIGTERM);
-  ASSERT_EQ(status.get(), kYokedOk);
+  ASSERT_EQ(yoked.status.get(), kYokedOk);
   EXPECT_EQ(log.drops_during_commits, 0);
 }
 
