@@ -597,9 +597,7 @@ class HeldSnapshotStore : public storage::SnapshotStore {
   storage::SnapshotContents read(storage::Position position) const override {
     return inner_.read(position);
   }
-  std::optional<storage::Position> oldest_needed() const override {
-    return inner_.oldest_needed();
-  }
+  std::optional<storage::Position> oldest_needed() const override { return inner_.oldest_needed(); }
 
   std::promise<void> latch;
   std::promise<void> began;
