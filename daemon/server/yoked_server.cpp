@@ -312,6 +312,11 @@ void YokedServer::on_window_synced() {
   }
   after_seal(synced->closed, synced->took, service_.end_seal(synced->committed), {});
   if (stopping_) return;
+  // The log is the loop's until the next window closes: snapshot work that waited for it.
+  if (background_ != nullptr) {
+    on_snapshot_written();
+    start_snapshot_after_sync();
+  }
   // Due while this one synced (its timer, max_events or a retirement): it closes now.
   if (!finishing_sync_ && !service_.window_empty() &&
       (close_after_sync_ || service_.window_events() >= config_.batching.max_events ||
@@ -327,7 +332,7 @@ void YokedServer::on_window_synced() {
 void YokedServer::finish_sync() {
   if (journal_ == nullptr || !journal_->busy()) return;
   journal_->wait();
-  const bool outer = finishing_sync_;  // a snapshot its completion starts finishes one too
+  const bool outer = finishing_sync_;  // a settle() nested in the completion
   finishing_sync_ = true;
   on_window_synced();
   finishing_sync_ = outer;
@@ -496,27 +501,37 @@ void YokedServer::snapshot_in_background() {
     return;
   }
   // One at a time: a trigger meanwhile is taken when this one is written (on_snapshot_written).
-  if (background_->busy() || journal_failed_ || stopping_) return;
+  if (background_->busy() || start_after_sync_ || journal_failed_ || stopping_) return;
   events_since_snapshot_ = 0;
   // The ledger may hold batches of the open window: sealed first, so that every mark it
   // holds of a pool free now is durable (the batches of pools repairing wait, unchecked).
-  snapshotting_ = true;
-  close_window();
-  // The snapshot is named by the log's end, the loop's again once the sync is over. A window
-  // that waited for a sync in flight stays open: its marks are above its pools' seqs, which
-  // the snapshot leaves out (snapshot_mark), and its pools' states do not hold it yet.
-  finish_sync();
-  snapshotting_ = false;
+  // Not inside finish_sync(), whose caller closes the next window itself (a stop refuses it).
+  if (!finishing_sync_) close_window();
+  // The snapshot is named by the log's end, the loop's again once the sync is over: it starts
+  // from that sync's completion (on_window_synced), and the loop serves meanwhile.
+  start_after_sync_ = true;
+  start_snapshot_after_sync();
+}
+
+void YokedServer::start_snapshot_after_sync() {
+  if (!start_after_sync_ || journal_->busy()) return;
+  start_after_sync_ = false;
   if (journal_failed_ || stopping_) return;
-  background_->start();
+  // A window that waited for the sync stays open: its marks are above its pools' seqs, which
+  // the snapshot leaves out (snapshot_mark), and its pools' states do not hold it yet.
+  try {
+    background_->start();
+  } catch (const std::exception& failure) {
+    // The journal still holds everything: a failed snapshot costs restart time, not data.
+    log_event(LogLevel::error, "snapshot_failed", {{"reason", failure.what()}});
+  }
 }
 
 void YokedServer::on_snapshot_written() {
-  if (background_ == nullptr) return;
-  // The log is the journal thread's while a window syncs (drop_before below); first, so that
-  // the completion's snapshot trigger finds this one still busy.
-  finish_sync();
-  if (stopping_) return;
+  if (background_ == nullptr || stopping_) return;
+  // The log is the journal thread's while a window syncs (drop_before below): the result then
+  // waits for the sync's completion, which comes back here.
+  if (journal_->busy()) return;
   std::optional<BackgroundSnapshot::Written> written = background_->take_result();
   if (!written) return;
   if (written->failure) {
@@ -553,14 +568,17 @@ void YokedServer::finish_background_snapshot() {
   while (background_->capturing() && !stopping_) settle();
   if (background_->capturing()) return;  // stopped: a repair failed; the snapshot is dropped
   background_->wait_written();
+  finish_sync();  // the log is the loop's again: the completion takes the result
   on_snapshot_written();
 }
 
 v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& only_pool) {
   // One snapshot at a time, in position order: a background one in progress is finished
-  // first (and starts no other: snapshotting_). The ledger may hold batches of the open
-  // window, and workers the pools: seal and apply everything first.
+  // first (and starts no other: snapshotting_), one waiting for a sync to start is dropped
+  // (this one is newer). The ledger may hold batches of the open window, and workers the
+  // pools: seal and apply everything first.
   snapshotting_ = true;
+  start_after_sync_ = false;
   finish_background_snapshot();
   settle_all();
   snapshotting_ = false;

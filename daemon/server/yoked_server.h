@@ -87,9 +87,12 @@ class YokedServer {
   void settle();
   // Waits for the window syncing on the journal thread, if any, and does what follows its
   // commit (on_window_synced()), without closing the next window: the log is the loop's again.
+  // Blocks the loop for the sync: for settle() and the synchronous snapshots alone.
   void finish_sync();
   // The journal thread's commit ended: acks and repairs of the window (after_seal()), or the
-  // stop after a failed journal; then the next window closes if it waited for this sync.
+  // stop after a failed journal; then the snapshot work that waited for the log (a written
+  // snapshot's trimming, a snapshot's start), and the next window closes if it waited for
+  // this sync.
   void on_window_synced();
   // What follows a window's commit: metrics, lost pools (cluster), acks, the repairs handed
   // over, and a snapshot after `after_events`.
@@ -120,10 +123,16 @@ class YokedServer {
   v1::SnapshotTaken take_snapshot(const std::optional<std::string>& only_pool = std::nullopt);
   void arm_snapshot_timer();
   // The timer's and after_events' snapshot: off the loop with the local backend
-  // (BackgroundSnapshot; skipped while one is still in progress), take_snapshot() in a cluster.
+  // (BackgroundSnapshot; skipped while one is still in progress or waits to start),
+  // take_snapshot() in a cluster. Seals the open window; the start waits for no sync on the
+  // loop: while a window syncs it is left to that sync's completion (on_window_synced).
   void snapshot_in_background();
+  // Starts the background snapshot that waits for a sync, once no window syncs (the snapshot
+  // is named by the log's end). A failed start is logged (snapshot_failed). On the loop.
+  void start_snapshot_after_sync();
   // A background snapshot's write ended: the log is trimmed below the oldest kept, as after
-  // take_snapshot(). On the loop.
+  // take_snapshot(). On the loop; while a window syncs it waits for that sync's completion
+  // (the log is the journal thread's), which calls it again.
   void on_snapshot_written();
   // Completes a background snapshot in progress (waits for its pools' repairs, then its write).
   void finish_background_snapshot();
@@ -174,6 +183,7 @@ class YokedServer {
   bool finishing_sync_ = false;     // finish_sync(): the next window waits for its timer
   bool ingest_paused_ = false;      // the window is full while another syncs: not read
   bool snapshotting_ = false;  // take_snapshot() is settling the windows
+  bool start_after_sync_ = false;  // a background snapshot starts when the sync in flight ends
   std::uint64_t events_since_snapshot_ = 0;  // journalled since the last snapshot
   std::uint64_t last_snapshot_position_ = 0;  // log position of the newest snapshot
   Ticket next_ticket_ = 1;
