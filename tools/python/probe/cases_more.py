@@ -1,0 +1,344 @@
+"""Second-round probe cases: diffs of commits that change no pair, bounds that depend on a
+pool's settings, declared pools before their first batch, counters, metrics."""
+
+import time
+import urllib.request
+
+from harness import (Code, Subscriber, accepted, add, first_error, outcome, qoutcome,
+                     rejected_code, remove, set_)
+from yoke.v1 import query_pb2
+
+P = "docs/protocol.md"
+PU = "proto/yoke/v1/publish.proto"
+QU = "proto/yoke/v1/query.proto"
+IN = "proto/yoke/v1/ingest.proto"
+
+
+def diffs(rec, c, daemon):
+    pool = "diffs"
+    sub = Subscriber(daemon, pool)
+    time.sleep(0.3)
+    c.batch(pool, [set_(1, 2, 5)], client_id="D", client_batch=1)
+    got = sub.diffs(0.5)
+    pub = got[0][1] if got else None
+    rec.case("Publication envelope carries version 1 and Diff.pool = topic", f"{PU}:17-18, :28",
+             "version 1, pool 'diffs'", f"version={pub.version if pub else None} pool="
+             f"{pub.diff.pool if pub else None}", pub is not None and pub.version == 1
+             and pub.diff.pool == pool)
+    c.batch(pool, [set_(1, 2, 9)], client_id="D", client_batch=2)
+    got = sub.diffs(0.5)
+    d = got[0][1].diff if got else None
+    rec.case("weight change of a standing pair: in neither list, weight updated", f"{PU}:36-37",
+             "removed=[] added=[] weight 9 seq 2 prev 1",
+             f"removed={len(d.removed)} added={len(d.added)} weight={d.weight} seq={d.seq} "
+             f"prev={d.prev_seq}" if d else "no diff",
+             d is not None and not d.removed and not d.added and d.weight == 9 and d.seq == 2)
+    c.batch(pool, [add(50)], client_id="D", client_batch=3)
+    got = sub.diffs(0.5)
+    d = got[0][1].diff if got else None
+    rec.case("a commit that changes no pair still publishes a diff", f"{PU}:6-8 (prev_seq chain),"
+             " yoked.example.toml 'one diff per committed batch'", "a diff seq 3 prev 2, empty "
+             "lists", f"seq={d.seq} prev={d.prev_seq} removed={len(d.removed)} added="
+             f"{len(d.added)}" if d else "no diff", d is not None and d.seq == 3
+             and d.prev_seq == 2)
+    r = c.batch(pool, [], client_id="D", client_batch=4)
+    got = sub.diffs(0.5)
+    d = got[0][1].diff if got else None
+    rec.case("an empty batch in an existing pool: seq and diff", "spec silent on empty batches",
+             "(GAP) seq 4 and a diff, to keep prev_seq chained", outcome(r) + "; diff " + (
+                 f"seq={d.seq} prev={d.prev_seq} events={d.stats.events}" if d else "none"),
+             None)
+    # a refused batch publishes nothing
+    c.batch(pool, [set_(3, 3, 1)], client_id="D", client_batch=5)
+    got = sub.diffs(0.4)
+    rec.case("a refused batch publishes no diff", f"{PR_}Error: 'left every pool untouched'",
+             "no diff", f"{len(got)} diffs", not got)
+    # matching and summary agree with the last diff
+    m = c.matching(pool)
+    s = c.summary(pool)
+    ok = m.matching.seq == s.summary.seq and m.matching.weight == s.summary.weight and \
+        sum(p.weight for p in m.matching.matching) == m.matching.weight and \
+        all(p.a < p.b for p in m.matching.matching)
+    rec.case("Matching: seq and weight as Summary's; weight = sum of pairs; a < b", f"{QU}:92-100;"
+             " pool.proto Pair", "consistent", qoutcome(m)[:200], ok)
+    sub.close()
+
+
+PR_ = "proto/yoke/v1/protocol.proto "
+
+
+def bounds(rec, c):
+    # tiny: max_vertices 4 -> P = 2 -> max-weight bound min(2^52, 2^61 / 2) = 2^52
+    b = 2 ** 52
+    st = c.stats("tiny")
+    rec.case("resolved bound of a max-weight pool with max_vertices 4", f"{P}:76-80",
+             f"{b} (min(2^52, 2^61/2))", f"{st.stats.config.limits.max_abs_weight}",
+             st.stats.config.limits.max_abs_weight == b)
+    # cardtiny: max-cardinality, max_vertices 4 -> (2^52 - 1) // 6
+    bc = (2 ** 52 - 1) // 6
+    r1 = c.batch("cardtiny", [set_(1, 2, bc)], client_id="B", client_batch=1)
+    r2 = c.batch("cardtiny", [set_(1, 2, bc + 1)], client_id="B", client_batch=2)
+    rec.case("max-cardinality pool with max_vertices 4: weight (2^52-1)/(2P+2) and one more",
+             f"{P}:81", f"{bc} accepted, {bc + 1} WEIGHT_OUT_OF_RANGE", outcome(r1) + " / " +
+             outcome(r2), accepted(r1) and rejected_code(r2) == Code.WEIGHT_OUT_OF_RANGE)
+    # churn: churn_bonus 1000 takes room from the default bound 2^40
+    st = c.stats("churn")
+    r0 = c.batch("churn", [set_(1, 2, 2 ** 40 - 1000)], client_id="B", client_batch=1)
+    st = c.stats("churn")
+    r1 = c.batch("churn", [set_(1, 2, 2 ** 40 - 999)], client_id="B", client_batch=2)
+    r2 = c.batch("churn", [set_(1, 2, 2 ** 40)], client_id="B", client_batch=3)
+    lim = st.stats.config.limits.max_abs_weight if st.WhichOneof("kind") == "stats" else None
+    rec.case("churn_bonus 1000 on a default max-weight pool: the bound", f"{P}:82-83 ('takes "
+             "its room from the same bound'); pool.proto PoolConfig.churn_bonus "
+             "(max_abs_weight + churn_bonus stays within the mode's)",
+             "resolved max_abs_weight 2^40 - 1000; 2^40-999 and 2^40 refused (reading of the "
+             "two lines)", f"max_abs_weight={lim}; 2^40-1000: {outcome(r0)[-40:]}; 2^40-999: "
+             f"{outcome(r1)[-90:]}; 2^40: {outcome(r2)[-90:]}",
+             lim == 2 ** 40 - 1000 and accepted(r0) and
+             rejected_code(r1) == Code.WEIGHT_OUT_OF_RANGE and
+             rejected_code(r2) == Code.WEIGHT_OUT_OF_RANGE)
+
+
+def declared(rec, c):
+    q = c.summary("perf")
+    rec.case("query of a declared pool before its first batch", f"{P}:88-95",
+             "Error UNKNOWN_POOL 'there is no pool perf'", qoutcome(q),
+             q.WhichOneof("kind") == "error" and q.error.code == Code.UNKNOWN_POOL)
+    r = c.retire("perf", client_id="X", client_batch=1)
+    rec.case("retire of a declared pool before its first batch", f"{IN}:30", "UNKNOWN_POOL",
+             outcome(r), rejected_code(r) == Code.UNKNOWN_POOL)
+    r = c.batch("perf", [add(1), set_(2, 3, 4)], client_id="X", client_batch=2)
+    s = c.summary("perf")
+    ok = accepted(r) and r.ack.accepted.seq == 1 and s.summary.mode == 3 and \
+        s.summary.no_perfect_matching
+    rec.case("declared perfect pool: 3 vertices", f"{P}:91-92; pool.proto Mode", "seq 1, mode "
+             "PERFECT, no_perfect_matching", outcome(r) + "; " + qoutcome(s), ok)
+    r = c.batch("perf", [remove(1)], client_id="X", client_batch=3)
+    s = c.summary("perf")
+    rec.case("perfect pool made perfect again", "pool.proto Mode PERFECT",
+             "no_perfect_matching false, pairs 1", qoutcome(s),
+             accepted(r) and not s.summary.no_perfect_matching and s.summary.pairs == 1)
+
+
+def counters(rec, c):
+    pool = "counters"
+    c.batch(pool, [add(1)], client_id="S", client_batch=1)
+    c.batch(pool, [add(2)], client_id="S", client_batch=3)
+    c.batch(pool, [add(2)], client_id="S", client_batch=3)          # duplicate
+    c.batch(pool, [set_(4, 4, 1)], client_id="S", client_batch=4)   # SELF_LOOP
+    c.batch(pool, [add(5)], client_id="S", client_batch=2)          # BATCH_SKIPPED
+    c.batch(pool, [add(6)], client_id="S", client_batch=5, after_batch=4)  # OUT_OF_ORDER
+    st = c.stats(pool)
+    s = st.stats
+    rec.case("Stats counters: 2 applied, 1 duplicate, 1 SELF_LOOP, 1 SKIPPED, 1 OUT_OF_ORDER",
+             f"{QU}:159-164 (rejected = 'Batches refused with errors')",
+             "accepted 2, duplicate 1, rejected 3", f"accepted {s.batches_accepted}, duplicate "
+             f"{s.batches_duplicate}, rejected {s.batches_rejected}, events_applied "
+             f"{s.events_applied}", s.batches_accepted == 2 and s.batches_duplicate == 1
+             and s.batches_rejected == 3 and s.events_applied == 2)
+    # at_seq counts the open window's batches
+    c.send_request(_req(pool, [add(7)], "S", 6))
+    r = c.retire(pool, client_id="S", client_batch=7, at_seq=3)
+    a = c.wait_ack("S", 6)
+    rec.case("retire at_seq = seq of a batch still in the open window", f"{IN}:45-46 ('those of"
+             " the open window included')", "batch seq 3 accepted, retirement accepted seq 4",
+             outcome(a) + " / " + outcome(r), accepted(a) and accepted(r)
+             and r.ack.accepted.seq == 4)
+
+
+def _req(pool, events, cid, number):
+    from cases_state import _batch_request
+    return _batch_request(pool, events, cid, number)
+
+
+def idle_twice(rec, c):
+    """Daemon with idle_seconds 1: a resend answered duplicate, then the same resend again."""
+    pool = "twice"
+    r0 = c.batch(pool, [add(1)], client_id="T", client_batch=1)
+    time.sleep(2.2)
+    r1 = c.batch(pool, [add(2)], client_id="T", client_batch=1)
+    time.sleep(0.1)
+    r2 = c.batch(pool, [add(3)], client_id="T", client_batch=1)
+    rec.case("idle past idle_seconds, then the same resend twice", f"{P}:179-182, :188-190",
+             "(GAP) does a duplicate close a window? If so the mark goes, and the second "
+             "resend is applied again", " / ".join(outcome(x) for x in (r0, r1, r2)), None)
+
+
+def metrics(rec, daemon):
+    base = f"http://127.0.0.1:{daemon.ports[3]}"
+    try:
+        h = urllib.request.urlopen(base + "/healthz", timeout=3)
+        hs = (h.status, h.read(200))
+    except Exception as e:  # an HTTP error is an observation, not a crash of the probe
+        hs = (None, repr(e))
+    rec.case("GET /healthz", f"{P}:15", "200", str(hs)[:120], hs[0] == 200)
+    try:
+        text = urllib.request.urlopen(base + "/metrics", timeout=3).read().decode()
+    except Exception as e:
+        text = repr(e)
+    names = ["yoke_batches_total", "yoke_batches_rejected_total",
+             "yoke_ingest_messages_rejected_total", "yoke_snapshot_last_duration_seconds"]
+    missing = [n for n in names if n not in text]
+    rec.case("/metrics names the README's metrics", "README.md:158-162", "all present",
+             f"missing {missing}", not missing)
+    unknown_pool = 'code="UNKNOWN_POOL"' in text
+    rec.case("/metrics: refusals by code include UNKNOWN_POOL (probed above)", "README.md:158-160",
+             "a yoke_batches_rejected_total or ingest series with code UNKNOWN_POOL",
+             f"present={unknown_pool}", None if not unknown_pool else True)
+
+
+def limit_points(rec, c):
+    """Declared pool 'lim': max_vertices 3, max_edges 1."""
+    r = c.batch("lim", [add(1), add(2), add(3)], client_id="M", client_batch=1)
+    rec.case("lim pool: fill to 3 vertices", "pool.proto PoolLimits", "accepted", outcome(r),
+             accepted(r))
+    r = c.batch("lim", [add(4), remove(4), add(5), remove(1), add(6)], client_id="M",
+                client_batch=2)
+    ok = rejected_code(r) == Code.POOL_LIMIT_EXCEEDED and first_error(r).event_index == 4
+    rec.case("vertex count 4,3,4,3,4 over a limit of 3: the event it stayed above from",
+             f"{PR_}:45-49", "POOL_LIMIT_EXCEEDED at event_index 4", outcome(r), ok)
+    r = c.batch("lim", [set_(1, 2, 1), add(7), set_(2, 3, 1)], client_id="M", client_batch=3)
+    ok = rejected_code(r) == Code.POOL_LIMIT_EXCEEDED and first_error(r).event_index == 1
+    rec.case("both limits crossed (vertices from event 1, edges from event 2)",
+             f"{PR_}:47-49 ('the earlier of the two')", "POOL_LIMIT_EXCEEDED at event_index 1",
+             outcome(r), ok)
+    r = c.batch("lim", [remove(1), add(9)], client_id="M", client_batch=4)
+    rec.case("at the vertex limit: REMOVE then ADD of another vertex in one batch",
+             f"{PR_}:49-50 (only a removed vertex's edges keep their places)", "accepted",
+             outcome(r), accepted(r))
+    c.batch("lim", [set_(2, 3, 1)], client_id="M", client_batch=5)
+    # REMOVE_VERTEX's edge places, across two batches of one window
+    c.send_request(_req("lim", [remove(3)], "M", 6))
+    c.send_request(_req("lim", [set_(2, 9, 1)], "M", 7))
+    a6, a7 = c.wait_ack("M", 6), c.wait_ack("M", 7)
+    rec.case("REMOVE of a vertex with the pool's one edge, then SET in the next batch sent at "
+             "once (same window, likely)", f"{PR_}:49-50 ('keep their places until the batching"
+             " window is committed')", "(GAP: timing) second refused POOL_LIMIT_EXCEEDED if in "
+             "the same window", outcome(a6) + " / " + outcome(a7), None)
+
+
+def pipelined(rec, c):
+    pool = "pipe"
+    for b, after in ((1, 0), (2, 1), (3, 2)):
+        c.send_request(_req_after(pool, [add(b)], "P", b, after))
+    acks = [c.wait_ack("P", b) for b in (1, 2, 3)]
+    rec.case("three batches chained by after_batch, sent back to back (one window)",
+             f"{P}:168-170 (the ledger records a batch when it enters the window); events.proto"
+             " after_batch", "all accepted, seqs 1 2 3", " / ".join(outcome(a) for a in acks),
+             all(accepted(a) for a in acks) and [a.ack.accepted.seq for a in acks] == [1, 2, 3])
+    c.send_request(_req_after(pool, [set_(9, 9, 1)], "P", 4, 3))
+    c.send_request(_req_after(pool, [add(10)], "P", 5, 4))
+    a4, a5 = c.wait_ack("P", 4), c.wait_ack("P", 5)
+    rec.case("a chained batch whose predecessor is refused, sent back to back",
+             "events.proto after_batch ('a batch lost or refused')", "4 SELF_LOOP, 5 OUT_OF_ORDER"
+             " last_batch=3", outcome(a4) + " / " + outcome(a5),
+             rejected_code(a4) == Code.SELF_LOOP and rejected_code(a5) == Code.OUT_OF_ORDER
+             and first_error(a5).last_batch == 3)
+    r = c.batch(pool, [add(11)], client_id="", client_batch=0, after_batch=3)
+    rec.case("after_batch with no client id", "spec silent (after_batch is per (pool, "
+             "client_id); an empty id has no protection)", "(GAP)", outcome(r), None)
+
+
+def _req_after(pool, events, cid, number, after):
+    from cases_state import _batch_request
+    return _batch_request(pool, events, cid, number, after)
+
+
+def removed_weights(rec, c, daemon):
+    pool = "rmw"
+    sub = Subscriber(daemon, pool)
+    time.sleep(0.3)
+    c.batch(pool, [set_(1, 2, 5)], client_id="W", client_batch=1)
+    c.batch(pool, [set_(1, 2, 1), set_(1, 3, 10)], client_id="W", client_batch=2)
+    got = [p.diff for _, p, _ in sub.diffs(0.6)]
+    d = got[-1] if got else None
+    rem = [(p.a, p.b, p.weight) for p in d.removed] if d else None
+    addl = [(p.a, p.b, p.weight) for p in d.added] if d else None
+    rec.case("re-weighted pair lost in the same commit: removed carries the weight before",
+             "publish.proto Diff.removed, pool.proto Pair.weight", "removed [(1,2,5)], added "
+             "[(1,3,10)]", f"removed {rem} added {addl}", rem == [(1, 2, 5)]
+             and addl == [(1, 3, 10)])
+    c.batch(pool, [set_(2, 4, 3), remove(1), add(1), set_(1, 4, 1)], client_id="W",
+            client_batch=3)
+    got = [p.diff for _, p, _ in sub.diffs(0.6)]
+    d = got[-1] if got else None
+    rem = [(p.a, p.b, p.weight) for p in d.removed] if d else None
+    addl = [(p.a, p.b, p.weight) for p in d.added] if d else None
+    rec.case("matched vertex leaves and rejoins in one batch", "publish.proto Diff",
+             "removed [(1,3,10)], added [(2,4,3)]", f"removed {rem} added {addl}",
+             rem == [(1, 3, 10)] and addl == [(2, 4, 3)])
+    sub.close()
+
+
+def odd_envelopes(rec, c):
+    from harness import field_bytes, field_varint
+    from yoke.v1 import events_pb2, ingest_pb2
+    b = events_pb2.EventBatch(client_id="both", client_batch=1, pool="both-kinds")
+    b.events.append(add(1))
+    rt = ingest_pb2.RetirePool(client_id="both", client_batch=2, pool="both-kinds")
+    c.send_raw(field_varint(1, 1) + field_bytes(2, b.SerializeToString()) +
+               field_bytes(3, rt.SerializeToString()))
+    r = c.recv_ack(3.0)
+    rec.case("an envelope with both batch and retire set (raw bytes; Protobuf: the last wins)",
+             "spec silent", "(GAP) retire of a pool that does not exist: UNKNOWN_POOL, batch 2",
+             outcome(r), None)
+    limit = 4 * 1024 * 1024
+    q = field_varint(1, 1) + field_varint(2, 5) + field_bytes(10, b"")
+    q += field_bytes(100, b"\0" * (limit + 1 - len(q) - 2 - 4))
+    assert len(q) == limit + 1, len(q)
+    reply = c.query_raw(q, 0, 5.0)
+    rec.case("query message of max_message_bytes + 1", f"{P}:27-29 (said of 'both sockets')",
+             "Error OVERSIZED_MESSAGE, request_id 0", qoutcome(reply),
+             reply is not None and reply.WhichOneof("kind") == "error"
+             and reply.error.code == Code.OVERSIZED_MESSAGE)
+    r = c.query(query_pb2.QueryRequest(summary=query_pb2.SummaryRequest()), pool="lim")
+    rec.case("query socket still serves after the oversized query", "-", "summary", qoutcome(r),
+             r is not None and r.WhichOneof("kind") == "summary")
+
+
+def retire_long_id(rec, c):
+    c.batch("longid", [add(1)], client_id="L", client_batch=1)
+    r = c.retire("longid", client_id="r" * 129, client_batch=1)
+    q = c.summary("longid")
+    rec.case("RetirePool with a 129-byte client id, of an existing pool",
+             "ingest.proto RetirePool client_id ('As in EventBatch'); events.proto:47-49",
+             "MALFORMED_MESSAGE, pool kept (if 'as in EventBatch' includes the limit)",
+             outcome(r) + " ; then " + qoutcome(q)[:80],
+             rejected_code(r) == Code.MALFORMED_MESSAGE)
+
+
+def missed_retirement(rec, c, daemon):
+    """The catch-up rule of protocol.md step 3 against a retired diff the subscriber missed
+    (a PUB drop; here: a subscription not yet in place, the slow joiner the rule says it
+    catches)."""
+    pool = "missed"
+    for b in (1, 2, 3):
+        c.batch(pool, [set_(10 * b, 10 * b + 1, b)], client_id="M", client_batch=b)
+    m = c.matching(pool)
+    s = m.matching.seq
+    held = {(p.a, p.b) for p in m.matching.matching}
+    c.retire(pool, client_id="M", client_batch=4)
+    sub = Subscriber(daemon, pool)
+    time.sleep(0.3)
+    for b in range(5, 10):
+        c.batch(pool, [set_(100 + b, 200 + b, 1)], client_id="M", client_batch=b)
+    seq, noticed = s, False
+    for _, p, _ in sub.diffs(0.8):
+        d = p.diff
+        if d.seq <= seq and not d.retired:
+            continue  # step 3: drop diffs with seq <= s
+        if d.prev_seq != seq:
+            noticed = True
+            break
+        for x in d.removed:
+            held.discard((x.a, x.b))
+        for x in d.added:
+            held.add((x.a, x.b))
+        seq = 0 if d.retired else d.seq
+    want = {(p.a, p.b) for p in c.matching(pool).matching.matching}
+    rec.case("catch-up misses the retired diff; the new pool's seqs pass the old s",
+             f"{P}:131-140 (prev_seq check catches a missed diff); publish.proto Diff.retired",
+             "the subscriber notices the gap (spec's promise)", f"s={s}; noticed={noticed}; "
+             f"state held {sorted(held)} vs daemon {sorted(want)}",
+             None if noticed or held == want else False)
+    sub.close()

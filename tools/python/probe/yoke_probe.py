@@ -1,0 +1,125 @@
+#!/usr/bin/env python3
+"""An outside integrator's probe of yoked, written from the spec alone (docs/protocol.md,
+docs/contracts.md, README.md, proto/yoke/v1/): each case prints what the spec says (with the
+line), what the daemon did, and agree / DISAGREE / GAP (the spec is silent or ambiguous).
+
+    PYTHONPATH=build/proto/python:tools/python/probe /usr/bin/python3 \
+        tools/python/probe/yoke_probe.py --yoked build/daemon/server/yoked
+
+Starts its own daemons on free loopback ports and temporary data directories, and stops them
+by their PIDs on every way out. Exit status 0 when no case disagrees, 1 otherwise."""
+
+import argparse
+import shutil
+import sys
+import time
+
+import cases_input
+import cases_lifecycle
+import cases_more
+import cases_state
+from harness import Client, Daemon, Record
+
+MAIN_CONFIG = """
+[pools.card]
+mode = "max-cardinality"
+[pools.tiny]
+max_vertices = 4
+max_edges = 2
+[pools.perf]
+mode = "perfect"
+[pools.cardtiny]
+mode = "max-cardinality"
+max_vertices = 4
+[pools.churn]
+churn_bonus = 1000
+[pools.lim]
+max_vertices = 3
+max_edges = 1
+"""
+
+SMALL_CONFIG = """
+[limits]
+max_pools = 4
+[pools.d1]
+mode = "max-weight"
+[pools.d2]
+mode = "max-weight"
+"""
+
+LEDGER_CONFIG = """
+[ledger]
+batches_per_client = 4
+idle_seconds = 1
+max_clients_per_pool = 2
+"""
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    parser.add_argument("--yoked", required=True)
+    parser.add_argument("--keep", action="store_true", help="keep the data directories")
+    parser.add_argument("--skip-lifecycle", action="store_true")
+    args = parser.parse_args()
+    rec = Record()
+    daemons = []
+    t0 = time.time()
+    try:
+        main_daemon = Daemon(args.yoked, MAIN_CONFIG, tag="main")
+        daemons.append(main_daemon)
+        main_daemon.start()
+        with Client(main_daemon) as c:
+            for group in (cases_input.envelopes, cases_input.sizes, cases_input.pool_names,
+                          cases_input.client_ids, cases_input.events, cases_input.weights,
+                          cases_input.limits, cases_state.ledger, cases_state.queries,
+                          cases_more.bounds, cases_more.declared, cases_more.counters,
+                          cases_more.limit_points, cases_more.pipelined,
+                          cases_more.odd_envelopes, cases_more.retire_long_id):
+                print(f"== {group.__name__}", flush=True)
+                group(rec, c)
+            print("== retire", flush=True)
+            cases_state.retire(rec, c, main_daemon)
+            print("== catch_up", flush=True)
+            cases_state.catch_up(rec, c, main_daemon)
+            print("== diffs", flush=True)
+            cases_more.diffs(rec, c, main_daemon)
+            cases_more.removed_weights(rec, c, main_daemon)
+            cases_more.missed_retirement(rec, c, main_daemon)
+        cases_more.metrics(rec, main_daemon)
+        print("== far_oversized", flush=True)
+        cases_lifecycle.far_oversized(rec, main_daemon)
+        small = Daemon(args.yoked, SMALL_CONFIG, tag="small")
+        daemons.append(small)
+        small.start()
+        with Client(small) as c:
+            print("== max_pools", flush=True)
+            cases_state.max_pools(rec, c)
+        ledger_daemon = Daemon(args.yoked, LEDGER_CONFIG, tag="ledger")
+        daemons.append(ledger_daemon)
+        ledger_daemon.start()
+        with Client(ledger_daemon) as c:
+            print("== horizon", flush=True)
+            cases_state.horizon(rec, c)
+            cases_more.idle_twice(rec, c)
+        if not args.skip_lifecycle:
+            print("== sigterm_in_flight", flush=True)
+            daemons.append(cases_lifecycle.sigterm_in_flight(rec, args.yoked))
+            print("== sigkill_restart", flush=True)
+            cases_lifecycle.sigkill_restart(rec, args.yoked)
+    finally:
+        for d in daemons:
+            if d is not None:
+                d.stop()
+                if not args.keep:
+                    shutil.rmtree(d.data_dir, ignore_errors=True)
+    counts = rec.summary()
+    print(f"\n{len(rec.cases)} cases in {time.time() - t0:.1f} s: {counts}")
+    for verdict, name, spec, expected, observed in rec.cases:
+        if verdict != "agree":
+            print(f"  {verdict}: {name} [{spec}]\n      expected {expected}\n      observed "
+                  f"{observed}")
+    return 1 if counts.get("DISAGREE") else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
