@@ -17,6 +17,7 @@ import time
 import cases_input
 import cases_lifecycle
 import cases_more
+import cases_recovery
 import cases_state
 from harness import Client, Daemon, Record
 
@@ -74,7 +75,8 @@ def main():
                           cases_input.limits, cases_state.ledger, cases_state.queries,
                           cases_more.bounds, cases_more.declared, cases_more.counters,
                           cases_more.limit_points, cases_more.pipelined,
-                          cases_more.odd_envelopes, cases_more.retire_long_id):
+                          cases_more.odd_envelopes, cases_more.retire_long_id,
+                          cases_recovery.big_first_batch):
                 print(f"== {group.__name__}", flush=True)
                 group(rec, c)
             print("== retire", flush=True)
@@ -106,6 +108,8 @@ def main():
             daemons.append(cases_lifecycle.sigterm_in_flight(rec, args.yoked))
             print("== sigkill_restart", flush=True)
             cases_lifecycle.sigkill_restart(rec, args.yoked)
+            print("== recovery", flush=True)
+            daemons.append(cases_recovery.recovery(rec, args.yoked))
     finally:
         for d in daemons:
             if d is not None:
