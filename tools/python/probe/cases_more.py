@@ -4,7 +4,7 @@ pool's settings, declared pools before their first batch, counters, metrics."""
 import time
 import urllib.request
 
-from harness import (Code, Subscriber, accepted, add, first_error, outcome, qoutcome,
+from harness import (Code, Subscriber, accepted, add, first_error, hold, outcome, qoutcome,
                      rejected_code, remove, set_)
 from yoke.v1 import query_pb2
 
@@ -342,3 +342,94 @@ def missed_retirement(rec, c, daemon):
              f"state held {sorted(held)} vs daemon {sorted(want)}",
              None if noticed or held == want else False)
     sub.close()
+
+
+def explanations(rec, c):
+    """Complementary slackness read off Explanation, on a path 1-2 (5), 2-3 (4), 3-4 (5)."""
+    for pool, mode in (("explain-mw", "max-weight"), ("card", "max-cardinality")):
+        c.batch(pool, [set_(101, 102, 5), set_(102, 103, 4), set_(103, 104, 5)],
+                client_id="E", client_batch=1)
+        ex = {}
+        for v in (101, 102, 103, 104):
+            r = c.query(query_pb2.QueryRequest(explain=query_pb2.ExplainRequest(vertex=v)),
+                        pool=pool)
+            ex[v] = r.explain if r.WhichOneof("kind") == "explain" else None
+        if any(e is None for e in ex.values()):
+            rec.case(f"explain on a {mode} path", "query.proto Explanation", "explanations",
+                     "an error", False)
+            continue
+        off = ex[101].weight_offset
+        pair_ok = ex[101].dual_x2 + ex[102].dual_x2 == 2 * (5 + off) and \
+            ex[103].dual_x2 + ex[104].dual_x2 == 2 * (5 + off)
+        alt = ex[102].alternatives
+        slack_ok = len(alt) == 1 and alt[0].other == 103 and alt[0].weight == 4 and \
+            alt[0].slack_x2 == ex[102].dual_x2 + ex[103].dual_x2 - 2 * (4 + off) and \
+            alt[0].slack_x2 >= 0 and alt[0].other_mate == 104
+        rec.case(f"explain on a {mode} path: matched pairs tight, alternative's slack",
+                 "query.proto Explanation dual_x2 ('offset included'), Alternative.slack_x2 "
+                 "(u(i) + u(j) - w - offset, doubled)", "dual_x2 sums = 2(w + offset); slack_x2 "
+                 "= dual_x2(102) + dual_x2(103) - 2(4 + offset)",
+                 f"offset {off}; duals {[ex[v].dual_x2 for v in (101, 102, 103, 104)]}; alt "
+                 f"{[(a.other, a.weight, a.slack_x2, a.other_mate) for a in alt]}",
+                 pair_ok and slack_ok)
+    r = c.query(query_pb2.QueryRequest(explain=query_pb2.ExplainRequest(vertex=102,
+                                                                        max_alternatives=1)),
+                pool="explain-mw")
+    rec.case("explain with max_alternatives 1", "query.proto ExplainRequest", "at most one",
+             qoutcome(r)[:150], r.WhichOneof("kind") == "explain"
+             and len(r.explain.alternatives) <= 1)
+
+
+def retire_held(rec, c, daemon):
+    pool = "retire-held"
+    c.batch(pool, [set_(1, 2, 1), set_(1, 3, 50), set_(4, 5, 7), hold(1, 2)], client_id="H",
+            client_batch=1)
+    sub = Subscriber(daemon, pool)
+    time.sleep(0.3)
+    r = c.retire(pool, client_id="H", client_batch=2)
+    got = [p.diff for _, p, _ in sub.diffs(0.6)]
+    d = got[-1] if got else None
+    rem = sorted((p.a, p.b, p.weight) for p in d.removed) if d else None
+    rec.case("retired diff of a pool with a held pair", f"{PU}:49-52 ('removed lists every pair"
+             " it held at prev_seq')", "removed [(1,2,1), (4,5,7)]", outcome(r) + f"; removed "
+             f"{rem}", rem == [(1, 2, 1), (4, 5, 7)])
+    sub.close()
+
+
+def req_ingest(rec, daemon):
+    import zmq
+    from cases_state import _batch_request
+    from yoke.v1 import ingest_pb2
+    s = zmq.Context.instance().socket(zmq.REQ)
+    s.setsockopt(zmq.LINGER, 0)
+    s.connect(daemon.ingest)
+    s.send(_batch_request("req-ingest", [add(1)], "REQ", 1).SerializeToString())
+    got = None
+    if s.poll(3000):
+        got = ingest_pb2.IngestReply()
+        got.ParseFromString(s.recv())
+    s.close(0)
+    rec.case("a batch from a REQ socket", f"{P}:12, :26", "accepted", outcome(got),
+             accepted(got))
+
+
+def whole_batch_errors(rec, c):
+    checks = []
+    r = c.batch("wbe", [add(1)], client_id="w" * 129, client_batch=1)
+    checks.append(("client id too long", r))
+    r = c.batch("bad name", [add(1)], client_id="W", client_batch=1)
+    checks.append(("bad pool name", r))
+    c.batch("wbe", [add(1)], client_id="W", client_batch=5)
+    r = c.batch("wbe", [add(2)], client_id="W", client_batch=3)
+    checks.append(("BATCH_SKIPPED", r))
+    r = c.batch("wbe", [add(2)], client_id="W", client_batch=6, after_batch=4)
+    checks.append(("OUT_OF_ORDER", r))
+    bad = [(n, outcome(r)) for n, r in checks
+           if r is None or not r.ack.rejected.errors or
+           r.ack.rejected.errors[0].HasField("event_index")]
+    rec.case("errors about the whole batch carry no event_index", f"{PR_}:97-98",
+             "event_index absent", f"with event_index: {bad}" if bad else "all absent", not bad)
+    r = c.batch("bad name", [add(1)], client_id="W", client_batch=2)
+    rec.case("Ack.pool of a batch refused for its pool name", "ingest.proto:66 ('The pool as "
+             "resolved ...; empty when unreadable')", "(GAP) the name as sent, or empty",
+             repr(r.ack.pool), None)

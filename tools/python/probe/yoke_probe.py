@@ -76,7 +76,8 @@ def main():
                           cases_more.bounds, cases_more.declared, cases_more.counters,
                           cases_more.limit_points, cases_more.pipelined,
                           cases_more.odd_envelopes, cases_more.retire_long_id,
-                          cases_recovery.big_first_batch):
+                          cases_recovery.big_first_batch, cases_more.explanations,
+                          cases_more.whole_batch_errors):
                 print(f"== {group.__name__}", flush=True)
                 group(rec, c)
             print("== retire", flush=True)
@@ -87,6 +88,8 @@ def main():
             cases_more.diffs(rec, c, main_daemon)
             cases_more.removed_weights(rec, c, main_daemon)
             cases_more.missed_retirement(rec, c, main_daemon)
+            cases_more.retire_held(rec, c, main_daemon)
+        cases_more.req_ingest(rec, main_daemon)
         cases_more.metrics(rec, main_daemon)
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
