@@ -89,6 +89,7 @@ def main():
             cases_more.removed_weights(rec, c, main_daemon)
             cases_more.missed_retirement(rec, c, main_daemon)
             cases_more.retire_held(rec, c, main_daemon)
+            cases_more.live_catch_up(rec, c, main_daemon)
         cases_more.req_ingest(rec, main_daemon)
         cases_more.metrics(rec, main_daemon)
         print("== far_oversized", flush=True)
