@@ -191,6 +191,7 @@ def sigkill_restart(rec, yoked):
              f"seq {s.summary.seq}" if s else "no reply", s is not None)
     c.close()
     d.stop()
+    return d
 
 
 def far_oversized(rec, d):

@@ -305,6 +305,11 @@ def retire_long_id(rec, c):
              "MALFORMED_MESSAGE, pool kept (if 'as in EventBatch' includes the limit)",
              outcome(r) + " ; then " + qoutcome(q)[:80],
              rejected_code(r) == Code.MALFORMED_MESSAGE)
+    c.batch("longid", [add(1)], client_id="L", client_batch=2)
+    r = c.retire("longid", client_id="r" * (1 << 20), client_batch=1, timeout=10)
+    rec.case("RetirePool with a 1 MiB client id", f"{P}:71-72 ('A client id is at most 128 "
+             "bytes')", "MALFORMED_MESSAGE", outcome(r) + f" (echoed {len(r.ack.client_id)} "
+             "bytes)" if r else "no reply", rejected_code(r) == Code.MALFORMED_MESSAGE)
 
 
 def missed_retirement(rec, c, daemon):

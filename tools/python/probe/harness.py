@@ -3,6 +3,9 @@ match replies, read diffs, and record each case as spec-says / daemon-did / agre
 
 Written from docs/protocol.md, docs/contracts.md, README.md and proto/yoke/v1/ only."""
 
+import glob
+import os
+import shutil
 import signal
 import socket
 import subprocess
@@ -143,6 +146,12 @@ class Daemon:
             return self.proc.wait(timeout)
         except subprocess.TimeoutExpired:
             return None
+
+    def remove_files(self):
+        """The data directory and the config and log files beside it."""
+        shutil.rmtree(self.data_dir, ignore_errors=True)
+        for path in glob.glob(self.data_dir + ".*"):
+            os.remove(path)
 
     def stop(self):
         if self.proc and self.proc.poll() is None:

@@ -10,7 +10,6 @@ Starts its own daemons on free loopback ports and temporary data directories, an
 by their PIDs on every way out. Exit status 0 when no case disagrees, 1 otherwise."""
 
 import argparse
-import shutil
 import sys
 import time
 
@@ -111,7 +110,7 @@ def main():
             print("== sigterm_in_flight", flush=True)
             daemons.append(cases_lifecycle.sigterm_in_flight(rec, args.yoked))
             print("== sigkill_restart", flush=True)
-            cases_lifecycle.sigkill_restart(rec, args.yoked)
+            daemons.append(cases_lifecycle.sigkill_restart(rec, args.yoked))
             print("== recovery", flush=True)
             daemons.append(cases_recovery.recovery(rec, args.yoked))
     finally:
@@ -119,7 +118,7 @@ def main():
             if d is not None:
                 d.stop()
                 if not args.keep:
-                    shutil.rmtree(d.data_dir, ignore_errors=True)
+                    d.remove_files()
     counts = rec.summary()
     print(f"\n{len(rec.cases)} cases in {time.time() - t0:.1f} s: {counts}")
     for verdict, name, spec, expected, observed in rec.cases:
