@@ -204,3 +204,28 @@ def far_oversized(rec, d):
              f"victim: {outcome(r)}; bystander: {outcome(b)}", r is None and accepted(b))
     victim.close()
     bystander.close()
+
+
+def unread_replies(rec, d):
+    """250,000 queries sent without reading the replies for 3 s (a client with ZeroMQ's default
+    receive queue of 1,000)."""
+    s = zmq.Context.instance().socket(zmq.DEALER)
+    s.setsockopt(zmq.SNDHWM, 0)
+    s.setsockopt(zmq.LINGER, 0)
+    s.connect(d.query)
+    n = 250000
+    for i in range(1, n + 1):
+        s.send(query_pb2.QueryRequest(version=V1, request_id=i,
+                                      health=query_pb2.HealthRequest()).SerializeToString())
+    time.sleep(3)
+    got = set()
+    while s.poll(2000):
+        r = query_pb2.QueryReply()
+        r.ParseFromString(s.recv())
+        got.add(r.request_id)
+    s.close(0)
+    missing = sorted(set(range(1, n + 1)) - got)
+    rec.case("250,000 queries whose replies are read only after 3 s", f"{P}:27 ('at most "
+             "100,000 queued messages per direction'; silent on what happens past it)",
+             "(GAP) every reply, or a documented loss", f"{len(got)} replies; {len(missing)} "
+             f"lost silently, from request {missing[0] if missing else None}", None)

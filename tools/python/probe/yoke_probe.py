@@ -93,6 +93,7 @@ def main():
         cases_more.metrics(rec, main_daemon)
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
+        cases_lifecycle.unread_replies(rec, main_daemon)
         small = Daemon(args.yoked, SMALL_CONFIG, tag="small")
         daemons.append(small)
         small.start()
