@@ -3,8 +3,8 @@ max_pools and the exactly-once horizon."""
 
 import time
 
-from harness import (Code, Subscriber, accepted, add, first_error, outcome, qoutcome,
-                     rejected_code, set_)
+from harness import (Code, Subscriber, accepted, add, apply_diff, first_error, outcome,
+                     qoutcome, rejected_code, set_)
 from yoke.v1 import query_pb2
 
 P = "docs/protocol.md"
@@ -317,10 +317,7 @@ def catch_up(rec, c, daemon):
             continue
         if d.prev_seq != seq:
             broken.append((d.seq, d.prev_seq, seq))
-        for p in d.removed:
-            held.discard((p.a, p.b))
-        for p in d.added:
-            held.add((p.a, p.b))
+        apply_diff(held, d)
         seq = 0 if d.retired else d.seq
     final = c.matching(pool)
     want = {(p.a, p.b) for p in final.matching.matching}

@@ -327,6 +327,14 @@ def release(u, v):
     return K(kind=K.RELEASE_PAIR, u=u, v=v)
 
 
+def apply_diff(held, diff):
+    """A subscriber's matching, as (a, b) pairs, after one diff."""
+    for p in diff.removed:
+        held.discard((p.a, p.b))
+    for p in diff.added:
+        held.add((p.a, p.b))
+
+
 def outcome(reply):
     """A short text of an IngestReply, for the record."""
     if reply is None:

@@ -55,6 +55,14 @@ max_clients_per_pool = 2
 """
 
 
+def started(daemons, yoked, config, tag):
+    """A daemon started and listed for the cleanup."""
+    d = Daemon(yoked, config, tag=tag)
+    daemons.append(d)
+    d.start()
+    return d
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--yoked", required=True)
@@ -65,9 +73,7 @@ def main():
     daemons = []
     t0 = time.time()
     try:
-        main_daemon = Daemon(args.yoked, MAIN_CONFIG, tag="main")
-        daemons.append(main_daemon)
-        main_daemon.start()
+        main_daemon = started(daemons, args.yoked, MAIN_CONFIG, "main")
         with Client(main_daemon) as c:
             for group in (cases_input.envelopes, cases_input.sizes, cases_input.pool_names,
                           cases_input.client_ids, cases_input.events, cases_input.weights,
@@ -94,16 +100,10 @@ def main():
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
         cases_lifecycle.unread_replies(rec, main_daemon)
-        small = Daemon(args.yoked, SMALL_CONFIG, tag="small")
-        daemons.append(small)
-        small.start()
-        with Client(small) as c:
+        with Client(started(daemons, args.yoked, SMALL_CONFIG, "small")) as c:
             print("== max_pools", flush=True)
             cases_state.max_pools(rec, c)
-        ledger_daemon = Daemon(args.yoked, LEDGER_CONFIG, tag="ledger")
-        daemons.append(ledger_daemon)
-        ledger_daemon.start()
-        with Client(ledger_daemon) as c:
+        with Client(started(daemons, args.yoked, LEDGER_CONFIG, "ledger")) as c:
             print("== horizon", flush=True)
             cases_state.horizon(rec, c)
             cases_more.idle_twice(rec, c)
