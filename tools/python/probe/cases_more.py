@@ -503,3 +503,18 @@ def live_catch_up(rec, c, daemon):
              f"diff {s_not_end}, equal {held == want}",
              s_not_end == 0 and held == want and seq == final.matching.seq)
     sub.close()
+
+
+def client_id_bytes(rec, c):
+    """Client ids are compared as whole byte strings: NUL bytes and a common prefix."""
+    r1 = c.batch("id-bytes", [add(1)], client_id="a\0b", client_batch=1)
+    r2 = c.batch("id-bytes", [add(2)], client_id="a\0c", client_batch=1)
+    r3 = c.batch("id-bytes", [add(3)], client_id="a", client_batch=1)
+    r4 = c.batch("id-bytes", [add(4)], client_id="a\0b", client_batch=1)
+    ok = all(accepted(r) for r in (r1, r2, r3, r4)) and \
+        [r.ack.accepted.duplicate for r in (r1, r2, r3, r4)] == [False, False, False, True] and \
+        r1.ack.client_id == "a\0b" and r4.ack.accepted.seq == r1.ack.accepted.seq
+    rec.case("client ids 'a\\0b', 'a\\0c', 'a' are three clients; 'a\\0b' resent is a duplicate",
+             "events.proto:47-50 (any string of at most 128 bytes)", "new, new, new, duplicate "
+             "of the first; ids echoed whole", " / ".join(outcome(r) for r in (r1, r2, r3, r4)),
+             ok)

@@ -82,7 +82,7 @@ def main():
                           cases_more.limit_points, cases_more.pipelined,
                           cases_more.odd_envelopes, cases_more.retire_long_id,
                           cases_recovery.big_first_batch, cases_more.explanations,
-                          cases_more.whole_batch_errors):
+                          cases_more.whole_batch_errors, cases_more.client_id_bytes):
                 print(f"== {group.__name__}", flush=True)
                 group(rec, c)
             print("== retire", flush=True)
