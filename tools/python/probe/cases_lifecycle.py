@@ -229,3 +229,29 @@ def unread_replies(rec, d):
              "100,000 queued messages per direction'; silent on what happens past it)",
              "(GAP) every reply, or a documented loss", f"{len(got)} replies; {len(missing)} "
              f"lost silently, from request {missing[0] if missing else None}", None)
+
+
+def replay_equals_daemon(rec, yoke, d, summaries):
+    """contracts.md §4: a replay of the journal commits the daemon's groups and ends in the
+    daemon's state. `summaries` are the Summary replies taken before the daemon stopped."""
+    import subprocess
+    for pool, reply in summaries.items():
+        out = subprocess.run([yoke, "replay", d.data_dir, "--pool", pool, "--verify"],
+                             capture_output=True, text=True, timeout=120)
+        if reply.WhichOneof("kind") != "summary":
+            rec.case(f"yoke replay DATA_DIR --pool {pool}, a pool retired at the end",
+                     "README.md:116-117 ('replay shows a pool's life since its last "
+                     "retirement'); contracts.md:41-42 (exit 2: bad input)",
+                     "(GAP) an error naming the retirement, or an empty replay",
+                     f"exit {out.returncode}: {out.stderr.strip()[:140]!r}", None)
+            continue
+        s = reply.summary
+        last = [ln for ln in out.stdout.splitlines() if ln.startswith("commit ")]
+        fields = last[-1].split() if last else []
+        got = {fields[i]: fields[i + 1] for i in range(2, len(fields) - 1, 2)} if fields else {}
+        want = {"weight": str(s.weight), "pairs": str(s.pairs), "seq": str(s.seq)}
+        ok = out.returncode == 0 and all(got.get(k) == v for k, v in want.items())
+        rec.case(f"yoke replay DATA_DIR --pool {pool} --verify ends in the daemon's state",
+                 "docs/contracts.md:38-40, :47-50; README.md:116-117", f"exit 0, last commit "
+                 f"{want}", f"exit {out.returncode}, last line {last[-1] if last else None!r} "
+                 f"{out.stderr.strip()[:120]!r}", ok)

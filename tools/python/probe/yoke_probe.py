@@ -4,7 +4,8 @@ docs/contracts.md, README.md, proto/yoke/v1/): each case prints what the spec sa
 line), what the daemon did, and agree / DISAGREE / GAP (the spec is silent or ambiguous).
 
     PYTHONPATH=build/proto/python:tools/python/probe /usr/bin/python3 \
-        tools/python/probe/yoke_probe.py --yoked build/daemon/server/yoked
+        tools/python/probe/yoke_probe.py --yoked build/daemon/server/yoked \
+        [--yoke build/tools/cli/yoke]   # also replays the main daemon's journal and compares
 
 Starts its own daemons on free loopback ports and temporary data directories, and stops them
 by their PIDs on every way out. Exit status 0 when no case disagrees, 1 otherwise."""
@@ -55,6 +56,11 @@ max_clients_per_pool = 2
 """
 
 
+# Pools of the main daemon whose journal `--yoke` replays: many small commits, a retired and
+# recreated pool, held pairs, a churn bonus, perfect and max-cardinality modes.
+REPLAYED_POOLS = ["live", "events", "ret", "churn", "perf", "card", "default"]
+
+
 def started(daemons, yoked, config, tag):
     """A daemon started and listed for the cleanup."""
     d = Daemon(yoked, config, tag=tag)
@@ -66,6 +72,8 @@ def started(daemons, yoked, config, tag):
 def main():
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--yoked", required=True)
+    parser.add_argument("--yoke", help="the yoke command line: also replay the main daemon's "
+                        "journal and compare")
     parser.add_argument("--keep", action="store_true", help="keep the data directories")
     parser.add_argument("--skip-lifecycle", action="store_true")
     args = parser.parse_args()
@@ -100,6 +108,11 @@ def main():
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
         cases_lifecycle.unread_replies(rec, main_daemon)
+        if args.yoke:
+            with Client(main_daemon) as c:
+                summaries = {p: c.summary(p) for p in REPLAYED_POOLS}
+            main_daemon.stop()
+            cases_lifecycle.replay_equals_daemon(rec, args.yoke, main_daemon, summaries)
         with Client(started(daemons, args.yoked, SMALL_CONFIG, "small")) as c:
             print("== max_pools", flush=True)
             cases_state.max_pools(rec, c)
