@@ -49,7 +49,7 @@ def envelopes(rec, c):
     # garbage bytes
     c.send_raw(b"\xff\xff\xff\xff\x0f not protobuf")
     r = unreadable_ack(c)
-    rec.case("ingest garbage bytes", f"{P}:54-56; {PR}:21-22",
+    rec.case("ingest garbage bytes", f"{P}:55-57; {PR}:21-22",
              "MALFORMED_MESSAGE, Ack with empty client_id and batch 0", outcome(r),
              is_unreadable_refusal(r, Code.MALFORMED_MESSAGE))
     # empty message (0 bytes): parses as an envelope with version 0
@@ -113,23 +113,25 @@ def envelopes(rec, c):
 def sizes(rec, c):
     # empty batch
     r = c.batch("empty-batch", [], client_id="eb", client_batch=1)
-    rec.case("empty batch (no events) as a pool's first batch",
-             "spec silent on the wire; docs/formats.md:56-57 allows an empty commit in a script",
-             "(GAP) accepted with seq 1, or a refusal", outcome(r), None)
+    rec.case("empty batch (no events) as a pool's first batch", f"{P}:136-139",
+             "accepted with seq 1 (it creates the pool)", outcome(r),
+             accepted(r) and r.ack.accepted.seq == 1)
     r2 = c.summary("empty-batch")
-    rec.case("pool after an empty first batch", "spec silent", "(GAP)", qoutcome(r2), None)
+    rec.case("pool after an empty first batch", f"{P}:136-139", "summary at seq 1",
+             qoutcome(r2), r2 is not None and r2.WhichOneof("kind") == "summary"
+             and r2.summary.seq == 1)
     # exactly the limit, and one over
     big = [add(i) for i in range(100000)]
     r = c.batch("max-batch", big, client_id="mb", client_batch=1, timeout=30)
-    rec.case("batch of exactly 100,000 events", f"{P}:69-70", "accepted", outcome(r),
+    rec.case("batch of exactly 100,000 events", f"{P}:74-75", "accepted", outcome(r),
              accepted(r))
     over = [add(i) for i in range(100001)]
     r = c.batch("max-batch-over", over, client_id="mb", client_batch=2, timeout=30)
     ok = rejected_code(r) == Code.TOO_MANY_EVENTS and r.ack.client_id == "mb"
-    rec.case("batch of 100,001 events", f"{P}:69-70", "TOO_MANY_EVENTS, matched Ack",
+    rec.case("batch of 100,001 events", f"{P}:74-75", "TOO_MANY_EVENTS, matched Ack",
              outcome(r), ok)
     reply = c.summary("max-batch-over")
-    rec.case("refused first batch creates no pool (TOO_MANY_EVENTS)", f"{P}:92",
+    rec.case("refused first batch creates no pool (TOO_MANY_EVENTS)", f"{P}:98",
              "UNKNOWN_POOL", qoutcome(reply), reply is not None
              and reply.WhichOneof("kind") == "error" and reply.error.code == Code.UNKNOWN_POOL)
     # message size: exactly 4 MiB parses, 4 MiB + 1 is OVERSIZED_MESSAGE, unread
@@ -155,7 +157,7 @@ def sizes(rec, c):
                      outcome(r), accepted(r) if r is not None else False)
         else:
             r = unreadable_ack(c, 10)
-            rec.case("message of max_message_bytes + 1", f"{P}:28-29, :54-56",
+            rec.case("message of max_message_bytes + 1", f"{P}:28-29, :55-57",
                      "OVERSIZED_MESSAGE, unmatched Ack (not parsed)", outcome(r),
                      is_unreadable_refusal(r, Code.OVERSIZED_MESSAGE))
 
@@ -167,24 +169,24 @@ def pool_names(rec, c):
         if name is None:
             continue
         r = c.batch(name, [add(1)], client_id="names", client_batch=0)
-        rec.case(f"pool name {label}", f"{P}:63-64", "accepted", outcome(r), accepted(r))
+        rec.case(f"pool name {label}", f"{P}:64-65", "accepted", outcome(r), accepted(r))
     bad = {"129 letters": "a" * 129, "space": "a b", "slash": "a/b", "NUL byte": "a\0b",
            "UTF-8 e-acute": "caf\u00e9", "tab": "a\tb", "asterisk": "a*", "'>' (NATS wildcard)":
            "a>", "DEL 0x7f": "a\x7f"}
     for label, name in bad.items():
         r = c.batch(name, [add(1)], client_id="names-bad", client_batch=1)
         ok = rejected_code(r) == Code.UNKNOWN_POOL and bool(first_error(r).message)
-        rec.case(f"pool name with {label}", f"{P}:63-66", "UNKNOWN_POOL with a message",
+        rec.case(f"pool name with {label}", f"{P}:64-71", "UNKNOWN_POOL with a message",
                  outcome(r), ok)
         reply = c.summary(name)
         ok = reply is not None and reply.WhichOneof("kind") == "error" and \
             reply.error.code == Code.UNKNOWN_POOL
-        rec.case(f"query naming a pool with {label}", f"{P}:63-66", "Error UNKNOWN_POOL",
+        rec.case(f"query naming a pool with {label}", f"{P}:64-71", "Error UNKNOWN_POOL",
                  qoutcome(reply), ok)
         if ok and label in ("129 letters", "slash"):
             says = "not" in reply.error.message or "at most" in reply.error.message
             rec.case(f"query naming a pool with {label}: the message says what is wrong",
-                     f"{P}:63-65 ('A batch or query names its pool ... refused with UNKNOWN_POOL"
+                     f"{P}:64-71 ('A batch or query names its pool ... refused with UNKNOWN_POOL"
                      " and a message saying what is wrong')", "a message naming the bad byte or "
                      "length, as a batch's refusal does", repr(reply.error.message[:80]), says)
     # invalid UTF-8 in the pool field (proto3 string): raw bytes
@@ -192,7 +194,7 @@ def pool_names(rec, c):
         field_bytes(4, field_varint(1, 1) + field_varint(2, 1))
     c.send_raw(raw_ingest_batch(b))
     r = c.wait_ack("utf8-bad", 1, 2.0) or unreadable_ack(c, 2.0)
-    rec.case("pool name with invalid UTF-8 byte 0xff (raw bytes)", f"{P}:63-66 vs {P}:54-56",
+    rec.case("pool name with invalid UTF-8 byte 0xff (raw bytes)", f"{P}:64-71 vs {P}:55-57",
              "UNKNOWN_POOL (name rule) or MALFORMED_MESSAGE (not a valid proto3 string)",
              outcome(r), rejected_code(r) in (Code.UNKNOWN_POOL, Code.MALFORMED_MESSAGE))
     # "" and "default" are the same pool
@@ -201,7 +203,7 @@ def pool_names(rec, c):
     ok = accepted(r1) and accepted(r2) and r1.ack.pool == "default" and \
         r2.ack.accepted.seq == r1.ack.accepted.seq + 1
     rec.case("empty pool name and 'default' are one pool; Ack.pool resolved",
-             f"{P}:63; {IN}:66", "Ack.pool='default', seqs consecutive",
+             f"{P}:64; {IN}:69-70", "Ack.pool='default', seqs consecutive",
              outcome(r1) + " / " + outcome(r2), ok)
     reply = c.summary("")
     rec.case("query with empty pool: reply.pool resolved", f"{QU}:40", "pool='default'",
@@ -221,7 +223,7 @@ def client_ids(rec, c):
         else:
             ok = rejected_code(r) == Code.MALFORMED_MESSAGE and r.ack.client_id == cid
             exp = "MALFORMED_MESSAGE, Ack echoing the id"
-        rec.case(f"client id {label}", f"{P}:71-72; {EV}:47-49", exp, outcome(r), ok)
+        rec.case(f"client id {label}", f"{P}:76-78; {EV}:47-49", exp, outcome(r), ok)
 
 
 def events(rec, c):
@@ -345,18 +347,18 @@ def weights(rec, c):
                                    ("INT64_MIN", -2 ** 63, False)):
         r = send("weights", w)
         if ok_expected:
-            rec.case(f"max-weight default pool, weight {label}", f"{P}:79-80", "accepted",
+            rec.case(f"max-weight default pool, weight {label}", f"{P}:85-86", "accepted",
                      outcome(r), accepted(r))
         else:
             ok = rejected_code(r) == Code.WEIGHT_OUT_OF_RANGE and \
                 str(b40) in first_error(r).message
-            rec.case(f"max-weight default pool, weight {label}", f"{P}:79-84; {PR}:35",
+            rec.case(f"max-weight default pool, weight {label}", f"{P}:85-90; {PR}:35",
                      f"WEIGHT_OUT_OF_RANGE naming the bound {b40}", outcome(r), ok)
     st = c.stats("weights")
     ok = st is not None and st.WhichOneof("kind") == "stats" and \
         st.stats.config.limits.max_abs_weight == b40
     rec.case("Stats.config.limits.max_abs_weight resolved (default max-weight pool)",
-             f"{P}:83-84", f"{b40}", qoutcome(st)[:200], ok)
+             f"{P}:89-90", f"{b40}", qoutcome(st)[:200], ok)
     # a zero and a negative weight are never taken in max-weight
     c.batch("weights-zero", [set_(1, 2, 0), set_(3, 4, -5)], client_id="w0", client_batch=1)
     s = c.summary("weights-zero")
@@ -370,23 +372,23 @@ def weights(rec, c):
                                    ("bound + 1", bc + 1, False), ("-(bound + 1)", -bc - 1, False)):
         r = send("card", w, 10 + n[0], 20 + n[0])
         if ok_expected:
-            rec.case(f"max-cardinality pool, weight {label}", f"{P}:81", "accepted", outcome(r),
+            rec.case(f"max-cardinality pool, weight {label}", f"{P}:87", "accepted", outcome(r),
                      accepted(r))
         else:
             ok = rejected_code(r) == Code.WEIGHT_OUT_OF_RANGE and str(bc) in first_error(r).message
-            rec.case(f"max-cardinality pool, weight {label}", f"{P}:81-84",
+            rec.case(f"max-cardinality pool, weight {label}", f"{P}:87-90",
                      f"WEIGHT_OUT_OF_RANGE naming {bc}", outcome(r), ok)
     st = c.stats("card")
     ok = st is not None and st.WhichOneof("kind") == "stats" and \
         st.stats.config.limits.max_abs_weight == bc
-    rec.case("Stats max_abs_weight of a max-cardinality pool", f"{P}:81,83-84", str(bc),
+    rec.case("Stats max_abs_weight of a max-cardinality pool", f"{P}:87,83-84", str(bc),
              qoutcome(st)[:200], ok)
 
 
 def limits(rec, c):
     # declared pool 'tiny': max_vertices 4, max_edges 2
     r = c.batch("tiny", [set_(1, 2, 5), set_(3, 4, 5)], client_id="t", client_batch=1)
-    rec.case("tiny pool: fill to the limits (4 vertices, 2 edges)", f"{P}:73-74", "accepted",
+    rec.case("tiny pool: fill to the limits (4 vertices, 2 edges)", f"{P}:79-80", "accepted",
              outcome(r), accepted(r))
     r = c.batch("tiny", [set_(1, 3, 5), unset(1, 2)], client_id="t", client_batch=2)
     rec.case("at edge limit: set a new edge then unset another in one batch", f"{PR}:45-47",
