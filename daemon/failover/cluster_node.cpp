@@ -361,6 +361,7 @@ v1::SnapshotTaken ClusterNode::snapshot(daemon::PoolService& service,
     v1::SnapshotTaken::Entry& entry = *taken.add_pools();
     entry.set_pool(pool);
     entry.set_seq(record->seq());
+    entry.set_incarnation(record->incarnation());
     if (const auto oldest = role.snapshots->oldest_needed()) log_.drop_pool_before(pool, *oldest);
     diff_feed_->snapshot_written(pool, record->seq());
   }

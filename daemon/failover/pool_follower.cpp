@@ -54,6 +54,7 @@ std::size_t PoolFollower::catch_up(storage::CommitLogView& log,
       recent_diffs_.push_back(daemon::diff_of_commit(
           pool_, *result, seq(), seq_before, state_.progress[pool_].no_perfect_matching,
           repair_us));
+      recent_diffs_.back().set_incarnation(state_.progress[pool_].incarnation);
       if (recent_diffs_.size() > kRecentDiffs) recent_diffs_.pop_front();
       ++applied;
     }

@@ -612,6 +612,7 @@ v1::SnapshotTaken YokedServer::take_snapshot(const std::optional<std::string>& o
     v1::SnapshotTaken::Entry& entry = *taken.add_pools();
     entry.set_pool(record.pool());
     entry.set_seq(record.seq());
+    entry.set_incarnation(record.incarnation());
   }
   // Log entries older than the oldest kept snapshot are no longer needed by any fallback.
   std::size_t dropped = 0;

@@ -20,11 +20,25 @@ v1::Ack refusal_for(const v1::EventBatch& batch, const std::string& pool, v1::Er
   return refused(batch_ack(batch.client_id(), batch.client_batch(), pool), std::move(error));
 }
 
+// The retry ledger keeps ids, so they are bounded; a retirement's too (it is journalled). The
+// id is echoed for matching, but the refusal is counted and logged as a message not read
+// (refuses_unread_message), so that the id reaches no log line.
+std::optional<v1::Error> client_id_problem(const std::string& client_id) {
+  if (client_id.size() <= kMaxClientIdBytes) return std::nullopt;
+  return make_error(v1::Error::MALFORMED_MESSAGE,
+                    "a client id has at most " + std::to_string(kMaxClientIdBytes) +
+                        " bytes, not " + std::to_string(client_id.size()));
+}
+
 DecodeResult decode_retire(const v1::RetirePool& retire) {
   const std::string pool = resolve_pool_name(retire.pool());
   if (auto problem = pool_name_problem(pool)) {
     return refused(batch_ack(retire.client_id(), retire.client_batch(), ""),
                    make_error(v1::Error::UNKNOWN_POOL, *problem));
+  }
+  if (auto problem = client_id_problem(retire.client_id())) {
+    return refused(batch_ack(retire.client_id(), retire.client_batch(), pool),
+                   std::move(*problem));
   }
   DecodedBatch decoded;
   decoded.pool = pool;
@@ -123,13 +137,8 @@ DecodeResult decode_ingest_with_protobuf(std::string_view message, const InputLi
   if (auto problem = pool_name_problem(pool)) {
     return refusal_for(batch, "", make_error(v1::Error::UNKNOWN_POOL, *problem));
   }
-  if (batch.client_id().size() > kMaxClientIdBytes) {
-    // The retry ledger keeps ids: they are bounded. Echoed for matching, but counted and logged
-    // as a message not read (refuses_unread_message), so the id reaches no log line.
-    return refusal_for(batch, pool,
-                       make_error(v1::Error::MALFORMED_MESSAGE,
-                                  "a client id has at most " + std::to_string(kMaxClientIdBytes) +
-                                      " bytes, not " + std::to_string(batch.client_id().size())));
+  if (auto problem = client_id_problem(batch.client_id())) {
+    return refusal_for(batch, pool, std::move(*problem));
   }
   if (static_cast<std::uint64_t>(batch.events_size()) > limits.max_events_per_batch) {
     return refusal_for(batch, pool,

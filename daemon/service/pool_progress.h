@@ -25,6 +25,11 @@ struct PoolProgress {
   // position - 1. A snapshot of this pool alone is named last_position + 1 (in cluster mode,
   // its snapshot subject), and following the pool reads the log from there.
   std::uint64_t last_position = 0;
+  // The commit log position of the group holding the pool's first batch (seq 1): it tells this
+  // pool from an earlier one of the same name, retired since (Diff.incarnation). Set once that
+  // group is durable (0 before), by the service and by recovery alike; a snapshot keeps it
+  // (0 from a snapshot written before it was kept).
+  std::uint64_t incarnation = 0;
 
   // One commit of `batches` batches ending at `last_seq`, as the daemon and recovery both
   // count it.

@@ -242,6 +242,9 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
 
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
+  // Behind a retirement: for the pool that comes after it, once start_apply() has dropped the
+  // old one (ingest.proto, RetirePool). finish_repairs() offers it then, right after.
+  if (retiring_.contains(batch.pool)) return true;
   // A retirement drops the engine (and may meet a checker the syncing window left), and a
   // cluster may lose the pool at end_seal(): neither while the pool's window syncs.
   if ((batch.retire || !routing_.serves_every_pool()) && syncing_.seq_before.contains(batch.pool)) {
@@ -337,14 +340,11 @@ BatchChecker* PoolService::chain_checker(const std::string& pool) {
 
 std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch batch,
                                                   FirstCheck* first) {
-  if (batch.retire) return offer_retire(ticket, std::move(batch));
-  if (retiring_.contains(batch.pool)) {
-    return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE,
-                                             "pool " + batch.pool +
-                                                 " is being retired in the open batching window: "
-                                                 "send again once that is acknowledged (the "
-                                                 "batch then creates the pool afresh)")));
+  if (retiring_.contains(batch.pool)) {  // waits_for_engine() holds such a batch
+    throw std::logic_error("a batch of pool " + batch.pool + " offered before its retirement "
+                           "was applied");
   }
+  if (batch.retire) return offer_retire(ticket, std::move(batch));
   if (!routing_.serves_every_pool()) {  // the local backend: one test, nothing looked up
     if (auto not_here = routing_.refusal(batch.pool, Asked::ingest)) {
       return refuse(rejected(batch, std::move(*not_here)));
@@ -439,14 +439,6 @@ std::optional<v1::Ack> PoolService::offer_retire(Ticket ticket, DecodedBatch bat
                                              "pools are not retired by a daemon of a cluster "
                                              "(backend jetstream): pool " + batch.pool +
                                                  " is unchanged")));
-  }
-  const auto unavailable = [&](const std::string& why) {
-    return refuse(rejected(batch, make_error(v1::Error::UNAVAILABLE, why)));
-  };
-  if (retiring_.contains(batch.pool)) {
-    return unavailable("pool " + batch.pool +
-                       " is being retired in the open batching window: send again once that "
-                       "is acknowledged");
   }
   Pool* pool = state_.registry.find(batch.pool);
   if (pool == nullptr) {
@@ -648,6 +640,11 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::end_seal(
       lost.insert(group.pool);
     } else if (auto it = state_.progress.find(group.pool); it != state_.progress.end()) {
       it->second.last_position = group.position;
+      // Recovery's replay gives the group holding seq 1 the same position (apply_commit_group).
+      const auto before = syncing_.seq_before.find(group.pool);
+      if (before != syncing_.seq_before.end() && before->second == 0) {
+        it->second.incarnation = group.position;
+      }
     }
   }
   for (const std::string& pool : lost) {

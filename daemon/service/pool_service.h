@@ -91,8 +91,8 @@ class PoolService {
   // (a worker writes the topology then), while its latest window in flight, handed over with
   // nothing of the pool before it, is not staged yet (its checker is the worker's), when its
   // check finds a limit exceeded before the pool's windows are all staged (the edge count is
-  // exact only then), and for a retirement or in a cluster (then while any repair is in
-  // flight).
+  // exact only then), for a retirement or in a cluster (then while any repair is in
+  // flight), and behind a retirement of the pool not yet applied.
   //
   // A message of kDecodeOffLoopBytes or more that is a new pool's first batch, by its envelope
   // alone (read_batch_envelope), is decoded on a worker as well as checked (FirstCheck): the
@@ -165,8 +165,9 @@ class PoolService {
 
   bool window_empty() const { return window_.empty() && waiting_duplicates_.empty(); }
   // The open window holds a pool's retirement (RetirePool, ingest.proto): the caller should
-  // close it now, so that the pool's next batches find it gone. Until apply(), batches and
-  // retirements of that pool are refused with UNAVAILABLE (send again).
+  // close it now, so that the pool's next batches find it gone. Until start_apply() drops the
+  // pool, batches and retirements of that pool wait (held_batches()); finish_repairs() then
+  // offers them, in arrival order, to the pool made afresh.
   bool retire_waiting() const { return !retiring_.empty() && !window_.empty(); }
   std::size_t window_events() const { return window_events_; }
 
@@ -208,9 +209,9 @@ class PoolService {
   std::vector<std::pair<Ticket, v1::Ack>> refuse_window(const v1::Error& error);
 
   // Repairs each pool of the sealed window once and returns its diff, pools in name order:
-  // start_apply(), wait_repairs(), finish_repairs() in one call (its replies are empty when no
-  // batch waited for a repair, as always with the inline executor; a caller with worker
-  // threads uses the three steps). Timings carry repair_us only; the publisher fills in the
+  // start_apply(), wait_repairs(), finish_repairs() in one call (its replies are dropped: they
+  // are empty when no batch waited for a repair or behind a retirement; a caller with worker
+  // threads or retirements uses the three steps). Timings carry repair_us only; the publisher fills in the
   // rest. A pool retired in the window is not repaired: its diff says so (Diff.retired, every
   // pair removed) and its whole state goes (pool, progress, retry marks), which frees its slot
   // under max_pools.
@@ -380,8 +381,8 @@ class PoolService {
   // The first checks ended since the last call, offered (finish_repairs()).
   void offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   // A batch that must wait for its pool's engine: a job of the pool is still staging its
-  // window (or, for a retirement and in a cluster, any job is in flight). Asks that job to wake
-  // the loop once staged.
+  // window (or, for a retirement and in a cluster, any job is in flight), or a retirement of
+  // the pool is not applied yet. Asks that job to wake the loop once staged.
   bool waits_for_engine(const DecodedBatch& batch);
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);

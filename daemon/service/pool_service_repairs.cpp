@@ -78,6 +78,7 @@ void PoolService::start_apply(std::chrono::steady_clock::time_point window_close
       // Nothing to repair: the pool ends here (the window's batches before the retirement are
       // in the journal, and replay drops them with the pool as this does).
       retired_.diffs.push_back(diff_of_retirement(name, pool, job->last_seq, job->seq_before));
+      retired_.diffs.back().set_incarnation(state_.progress[name].incarnation);
       retired_.window_closed.push_back(window_closed);
       drop_kept_checkers(name);
       take_pool_state(state_, name);
@@ -321,6 +322,7 @@ PoolService::RepairsDone PoolService::finish_repairs() {
       PoolProgress& progress = state_.progress[job.pool];
       progress.record_commit(job.result, job.last_seq, job.batches);
       progress.last_timings.set_repair_us(job.repair_us);
+      job.diff.set_incarnation(progress.incarnation);
       done.diffs.push_back(std::move(job.diff));
       done.window_closed.push_back(job.window_closed);
     }

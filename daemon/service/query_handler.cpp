@@ -15,6 +15,13 @@ v1::QueryReply error_reply(v1::Error::Code code, std::string message) {
   return reply;
 }
 
+// An error about the pool the request names, which the reply names too.
+v1::QueryReply pool_error(v1::Error::Code code, std::string message, const std::string& pool) {
+  v1::QueryReply reply = error_reply(code, std::move(message));
+  reply.set_pool(pool);
+  return reply;
+}
+
 std::string kind_name(const v1::QueryRequest& request) {
   switch (request.kind_case()) {
     case v1::QueryRequest::kSummary: return "summary";
@@ -99,6 +106,10 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
   const bool about_one_pool =
       request.kind_case() != v1::QueryRequest::kSnapshot || !request.snapshot().all_pools();
   if (about_one_pool) {
+    // A name no pool can have is told apart from a pool that is not there, as a batch's is.
+    if (auto problem = pool_name_problem(name)) {
+      return pool_error(v1::Error::UNKNOWN_POOL, std::move(*problem), name);
+    }
     if (auto not_here = service_.routing().refusal(name, Asked::query)) {
       v1::QueryReply reply;
       *reply.mutable_error() = std::move(*not_here);
@@ -108,7 +119,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
   }
   if (request.kind_case() == v1::QueryRequest::kSnapshot) {
     if (!request.snapshot().all_pools() && service_.progress(name) == nullptr) {
-      return error_reply(v1::Error::UNKNOWN_POOL, "there is no pool " + name);
+      return pool_error(v1::Error::UNKNOWN_POOL, "there is no pool " + name, name);
     }
     v1::QueryReply reply;
     reply.set_pool(name);
@@ -118,19 +129,14 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
   Pool* pool = service_.registry().find(name);
   const PoolProgress* progress = service_.progress(name);
   if (pool == nullptr || progress == nullptr) {
-    v1::QueryReply reply = error_reply(v1::Error::UNKNOWN_POOL, "there is no pool " + name);
-    reply.set_pool(name);
-    return reply;
+    return pool_error(v1::Error::UNKNOWN_POOL, "there is no pool " + name, name);
   }
 
   v1::QueryReply reply;
   reply.set_pool(name);
   const auto unknown_vertex = [&](std::uint64_t vertex) {
-    v1::QueryReply error = error_reply(v1::Error::UNKNOWN_VERTEX,
-                                       "pool " + name + " holds no vertex " +
-                                           std::to_string(vertex));
-    error.set_pool(name);
-    return error;
+    return pool_error(v1::Error::UNKNOWN_VERTEX,
+                      "pool " + name + " holds no vertex " + std::to_string(vertex), name);
   };
   switch (request.kind_case()) {
     case v1::QueryRequest::kSummary: {
@@ -165,6 +171,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       for (const MatchedPair& pair : pool->matching()) *matching.add_matching() = to_wire(pair);
       matching.set_mode(to_wire(pool->mode()));
       matching.set_no_perfect_matching(progress->no_perfect_matching);
+      matching.set_incarnation(progress->incarnation);
       return reply;
     }
     case v1::QueryRequest::kExplain: {

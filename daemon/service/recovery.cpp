@@ -40,6 +40,7 @@ storage::Position load_newest_snapshot(const storage::CommitLogView& log,
     PoolProgress& progress = state.progress[record.pool()];
     progress.seq = record.seq();
     progress.last_snapshot_seq = record.seq();
+    progress.incarnation = record.incarnation();
     // The snapshot covers the log below its position.
     progress.last_position = chosen->position > 0 ? chosen->position - 1 : 0;
     for (const v1::ClientMark& mark : record.clients()) {
@@ -105,6 +106,7 @@ std::optional<CommitResult> apply_commit_group(const CommitGroup& group, Service
   const CommitResult result = pool->commit(group.events);
   progress.record_commit(result, group.records.back().seq(), group.records.size());
   progress.last_position = group.position;
+  if (first_seq == 1) progress.incarnation = group.position;  // as PoolService::end_seal()
   for (const v1::JournalRecord& record : group.records) {
     if (!record.client_id().empty()) {
       state.ledger.record(group.pool, record.client_id(), {record.client_batch(), record.seq()});

@@ -23,6 +23,9 @@ std::optional<v1::SnapshotRecord> record_heading(PoolService& service, const std
   }
   record.set_wall_time_unix_us(wall_time);
   record.set_journal_position(position);
+  if (const PoolProgress* progress = service.progress(name)) {
+    record.set_incarnation(progress->incarnation);
+  }
   return record;
 }
 

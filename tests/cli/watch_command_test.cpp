@@ -11,6 +11,7 @@
 #include <chrono>
 #include <string>
 #include <thread>
+#include <utility>
 #include <vector>
 
 #include "fake_daemon.h"
@@ -116,6 +117,55 @@ TEST(WatchCommand, CatchUpStartsFromTheMatchingAndRefetchesAfterAGap) {
   EXPECT_EQ(result.err,
             "note: pool city: diff 8 follows seq 7, but the last seq held is 6; catching up "
             "again\n");
+}
+
+// The same message of another incarnation of the pool (Diff.incarnation).
+Message of_incarnation(Message message, std::uint64_t incarnation) {
+  yoke::v1::Publication publication;
+  EXPECT_TRUE(publication.ParseFromString(message.second));
+  publication.mutable_diff()->set_incarnation(incarnation);
+  message.second = publication.SerializeAsString();
+  return message;
+}
+
+// docs/protocol.md, "Catching up": the matching held is of incarnation 10 at seq 3. A diff of an
+// earlier pool of the name (5) is dropped; diff 4 follows seq 3 but is of a later pool (20), met
+// in its middle (the retirement was missed): the matching is fetched again (incarnation 20 at
+// seq 5), and 6 follows it.
+TEST(WatchCommand, CatchUpTellsPoolsOfOneNameApartByIncarnation) {
+  TempDir dir;
+  const std::string publish = "ipc://" + dir.file("publish");
+  const std::string query = "ipc://" + dir.file("query");
+  FakePublisher publisher(publish, {of_incarnation(diff_message("city", 2, 1), 5),
+                                    of_incarnation(diff_message("city", 4, 3), 20),
+                                    of_incarnation(diff_message("city", 6, 5), 20)});
+  const std::vector<std::pair<std::uint64_t, std::uint64_t>> matchings = {{3, 10}, {5, 20}};
+  std::size_t asked = 0;
+  FakeRouter query_peer(query, [&](const std::string& bytes) -> std::optional<std::string> {
+    yoke::v1::QueryRequest request;
+    EXPECT_TRUE(request.ParseFromString(bytes));
+    yoke::v1::QueryReply reply;
+    reply.set_version(yoke::v1::PROTOCOL_VERSION_1);
+    reply.set_request_id(request.request_id());
+    reply.set_pool("city");
+    const auto [seq, incarnation] = matchings.at(std::min(asked++, matchings.size() - 1));
+    reply.mutable_matching()->set_seq(seq);
+    reply.mutable_matching()->set_incarnation(incarnation);
+    return reply.SerializeAsString();
+  });
+  const RunResult result = run_yoke(dir, {"watch", "--pool", "city", "--publish", publish,
+                                          "--query", query, "--catch-up", "--count", "1"});
+  ASSERT_EQ(result.exit_code, 0) << result.err;
+  const auto start = [](std::uint64_t seq) {
+    return "{\"pool\":\"city\",\"seq\":" + std::to_string(seq) +
+           ",\"weight\":0,\"pairs\":0,\"matching\":[],\"mode\":null,"
+           "\"no_perfect_matching\":false,\"catch_up\":true}";
+  };
+  EXPECT_EQ(lines_of(result.out),
+            (std::vector<std::string>{start(3), start(5), diff_line("city", 6, 5)}));
+  EXPECT_EQ(result.err,
+            "note: pool city: diff 4 is of a later pool of that name than the one held; "
+            "catching up again\n");
 }
 
 TEST(WatchCommand, CatchUpOnAPoolNotCreatedYetStartsAtSeqZero) {

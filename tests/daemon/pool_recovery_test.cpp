@@ -29,6 +29,7 @@ PoolView view_in(ServiceState& state, const std::string& name) {
   if (pool == nullptr) return view;
   if (const auto it = state.progress.find(name); it != state.progress.end()) {
     view.seq = it->second.seq;
+    view.incarnation = it->second.incarnation;
   }
   view.weight = pool->weight();
   view.pairs = pool->pairs();

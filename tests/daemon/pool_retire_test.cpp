@@ -5,6 +5,7 @@
 // and declared pools reserved against max_pools.
 #include <gtest/gtest.h>
 
+#include "daemon/pools/retry_ledger.h"
 #include "daemon/service/query_handler.h"
 #include "service_test_util.h"
 #include "yoke/v1/query.pb.h"
@@ -19,6 +20,7 @@ using testing::retire_message;
 using testing::ServiceHarness;
 using testing::view_of;
 using testing::wire_add;
+using testing::wire_remove;
 using testing::wire_set;
 
 v1::Error::Code refusal_code(const std::optional<v1::Ack>& ack) {
@@ -114,6 +116,15 @@ TEST_F(PoolRetireTest, RefusalsChangeNothing) {
   const std::uint64_t position = service().next_journal_position();
   EXPECT_EQ(refusal_code(retire("nowhere")), v1::Error::UNKNOWN_POOL);
   EXPECT_EQ(refusal_code(retire("bad name with spaces")), v1::Error::UNKNOWN_POOL);
+  // A client id longer than a batch may carry (ingest.proto: "As in EventBatch") is refused
+  // before anything is journalled, the id echoed for matching.
+  const std::string long_id(kMaxClientIdBytes + 1, 'r');
+  const auto long_id_refusal = service().offer(77, retire_message("brissa", 0, long_id, 5));
+  EXPECT_EQ(refusal_code(long_id_refusal), v1::Error::MALFORMED_MESSAGE);
+  EXPECT_EQ(long_id_refusal->rejected().errors(0).message(),
+            "a client id has at most 128 bytes, not 129");
+  EXPECT_EQ(long_id_refusal->client_id(), long_id);
+  EXPECT_EQ(long_id_refusal->pool(), "brissa");
   const auto mismatch = retire("brissa", 1);
   EXPECT_EQ(refusal_code(mismatch), v1::Error::SEQ_MISMATCH);
   EXPECT_EQ(mismatch->rejected().errors(0).message(),
@@ -128,15 +139,73 @@ TEST_F(PoolRetireTest, RefusalsChangeNothing) {
   EXPECT_FALSE(harness_.offer({wire_add(7)}, from_client("van-7", 3, "brissa")));
   EXPECT_EQ(refusal_code(retire("brissa", 2)), v1::Error::SEQ_MISMATCH);
   EXPECT_FALSE(retire("brissa", 3).has_value());
-  // Until the window is applied the pool takes nothing more, retirements neither.
-  EXPECT_EQ(refusal_code(harness_.offer({wire_add(8)}, from_client("van-7", 4, "brissa"))),
-            v1::Error::UNAVAILABLE);
-  EXPECT_EQ(refusal_code(retire("brissa")), v1::Error::UNAVAILABLE);
   const auto acks = harness_.close().acks;
   ASSERT_EQ(acks.size(), 2u);
   EXPECT_EQ(acks[0].second.accepted().seq(), 3u);
   EXPECT_EQ(acks[1].second.accepted().seq(), 4u);
   EXPECT_EQ(service().registry().find("brissa"), nullptr);
+}
+
+// ingest.proto, RetirePool: "batches of the pool sent after it land in the next window, in the
+// new pool". They wait for the retirement to be applied (not refused), then are checked, in the
+// order they came, against the pool made afresh; a second retirement behind them retires that.
+TEST_F(PoolRetireTest, BatchesSentAfterARetirementLandInTheNewPool) {
+  fill("brissa");
+  const std::uint64_t old_incarnation = view_of(service(), "brissa").incarnation;
+  EXPECT_GT(old_incarnation, 0u);
+  EXPECT_FALSE(harness_.offer({wire_add(7)}, from_client("van-7", 3, "brissa")));
+  EXPECT_FALSE(retire("brissa").has_value());
+  // Behind it: a batch, a retry of a batch of the old pool, one refused by the new pool's
+  // state, and another retirement.
+  EXPECT_FALSE(harness_.offer({wire_add(2)}, from_client("van-8", 1, "brissa")));
+  EXPECT_FALSE(harness_.offer({wire_add(7)}, from_client("van-7", 3, "brissa")));
+  EXPECT_FALSE(harness_.offer({wire_remove(4)}, from_client("van-8", 2, "brissa")));
+  EXPECT_FALSE(service().offer(90, retire_message("brissa", 0, "desk", 2)));
+  EXPECT_FALSE(harness_.offer({wire_add(3)}, from_client("van-8", 3, "brissa")));
+  EXPECT_EQ(service().held_batches(), 5u);
+  EXPECT_TRUE(service().retire_waiting());
+
+  const auto first = service().seal();
+  ASSERT_EQ(first.size(), 2u);
+  EXPECT_EQ(first[1].second.accepted().seq(), 4u);  // the retirement
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  ASSERT_EQ(done.diffs.size(), 1u);
+  EXPECT_TRUE(done.diffs[0].retired());
+  EXPECT_EQ(done.diffs[0].incarnation(), old_incarnation);
+  ASSERT_EQ(done.replies.size(), 1u);  // the old pool's vertex, which the new one does not hold
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::UNKNOWN_VERTEX);
+  EXPECT_EQ(done.replies[0].second.client_batch(), 2u);
+  EXPECT_EQ(service().held_batches(), 1u);  // the last batch, behind the second retirement
+  EXPECT_TRUE(service().retire_waiting());
+
+  // The new pool: its batch at seq 1, the old pool's batch again at seq 2 (its mark went with
+  // the old pool), retired at seq 3; then the last batch creates it once more.
+  const auto second = service().seal();
+  ASSERT_EQ(second.size(), 3u);
+  EXPECT_EQ(second[0].second.client_id(), "van-8");
+  EXPECT_EQ(second[0].second.accepted().seq(), 1u);
+  EXPECT_EQ(second[1].second.client_id(), "van-7");
+  EXPECT_EQ(second[1].second.accepted().seq(), 2u);
+  EXPECT_FALSE(second[1].second.accepted().duplicate());
+  EXPECT_EQ(second[2].second.client_batch(), 2u);
+  EXPECT_EQ(second[2].second.accepted().seq(), 3u);
+  service().start_apply();
+  const PoolService::RepairsDone retired_again = service().finish_repairs();
+  ASSERT_EQ(retired_again.diffs.size(), 1u);
+  EXPECT_EQ(retired_again.diffs[0].prev_seq(), 0u);
+  EXPECT_TRUE(retired_again.diffs[0].retired());
+  EXPECT_GT(retired_again.diffs[0].incarnation(), old_incarnation);
+  EXPECT_TRUE(retired_again.replies.empty());
+  EXPECT_EQ(service().held_batches(), 0u);
+
+  const testing::WindowResult last = harness_.close();
+  ASSERT_EQ(last.acks.size(), 1u);
+  EXPECT_EQ(last.acks[0].second.accepted().seq(), 1u);
+  EXPECT_EQ(view_of(service(), "brissa").vertices, 1u);
+  ASSERT_EQ(last.diffs.size(), 1u);
+  EXPECT_GT(last.diffs[0].incarnation(), retired_again.diffs[0].incarnation());
+  EXPECT_EQ(last.diffs[0].incarnation(), view_of(service(), "brissa").incarnation);
 }
 
 TEST_F(PoolRetireTest, BatchesBeforeTheRetirementInItsWindowAreAcknowledgedThenDropped) {
@@ -259,6 +328,9 @@ class RetireRecoveryTest : public PoolRetireTest {
     const PoolView brissa = view_of(service(), "brissa");
     const PoolView quay = view_of(service(), "quay");
     EXPECT_EQ(brissa.seq, 1u);
+    // Made again after quay was made: a later incarnation (Diff.incarnation), kept by recovery.
+    EXPECT_GT(quay.incarnation, 0u);
+    EXPECT_GT(brissa.incarnation, quay.incarnation);
     harness_.restart();
     EXPECT_EQ(view_of(service(), "brissa"), brissa);
     EXPECT_EQ(view_of(service(), "quay"), quay);

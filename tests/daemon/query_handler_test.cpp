@@ -11,6 +11,7 @@
 
 #include <gtest/gtest.h>
 
+#include "daemon/pools/pool_names.h"
 #include "daemon/service/query_handler.h"
 #include "yoke/certificate.h"
 #include "service_test_util.h"
@@ -432,11 +433,32 @@ TEST_F(QueryHandlerTest, HealthIgnoresThePool) {
 }
 
 TEST_F(QueryHandlerTest, UnknownPool) {
-  for (const auto& request : {summary(), mate(1), matching(), explain(1), stats()}) {
+  for (const auto& request :
+       {summary(), mate(1), matching(), explain(1), stats(), snapshot(false)}) {
     const v1::QueryReply reply = ask_pool("nowhere", request);
     expect_error(reply, v1::Error::UNKNOWN_POOL);
+    EXPECT_EQ(reply.error().message(), "there is no pool nowhere");
     EXPECT_EQ(reply.pool(), "nowhere");
   }
+}
+
+// A name no pool may have is refused saying what is wrong with it, in the words a batch's
+// refusal uses (docs/protocol.md, "Pool names"), not as a pool that is not there.
+TEST_F(QueryHandlerTest, InvalidPoolNameSaysWhatIsWrong) {
+  const std::string too_long(kMaxPoolNameBytes + 1, 'a');
+  for (const auto& request :
+       {summary(), mate(1), matching(), explain(1), stats(), snapshot(false)}) {
+    v1::QueryReply reply = ask_pool(too_long, request);
+    expect_error(reply, v1::Error::UNKNOWN_POOL);
+    EXPECT_EQ(reply.error().message(), *pool_name_problem(too_long));
+    EXPECT_EQ(reply.error().message(), "a pool name has at most 128 bytes, not 129");
+    reply = ask_pool("a/b", request);
+    expect_error(reply, v1::Error::UNKNOWN_POOL);
+    EXPECT_EQ(reply.error().message(),
+              "a pool name may hold only ASCII letters, digits and . _ - : (byte 47 is not "
+              "allowed)");
+  }
+  EXPECT_TRUE(snapshot_calls_.empty());
 }
 
 TEST_F(QueryHandlerTest, RequestIdIsEchoed) {

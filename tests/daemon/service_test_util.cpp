@@ -343,7 +343,7 @@ std::vector<ScriptWindow> random_script(const ScriptSpec& spec, std::uint64_t se
 }
 
 void PrintTo(const PoolView& view, std::ostream* out) {
-  *out << "{seq " << view.seq << ", weight " << view.weight << ", pairs " << view.pairs
+  *out << "{seq " << view.seq << ", incarnation " << view.incarnation << ", weight " << view.weight << ", pairs " << view.pairs
        << ", vertices " << view.vertices << ", edges " << view.edges << ", matching";
   for (const MatchedPair& pair : view.matching) {
     *out << " ";
@@ -356,7 +356,10 @@ PoolView view_of(PoolService& service, const std::string& pool_name) {
   PoolView view;
   const Pool* pool = service.registry().find(pool_name);
   if (pool == nullptr) return view;
-  if (const PoolProgress* progress = service.progress(pool_name)) view.seq = progress->seq;
+  if (const PoolProgress* progress = service.progress(pool_name)) {
+    view.seq = progress->seq;
+    view.incarnation = progress->incarnation;
+  }
   view.weight = pool->weight();
   view.pairs = pool->pairs();
   view.vertices = pool->vertex_count();

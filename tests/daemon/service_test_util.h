@@ -186,6 +186,7 @@ std::vector<v1::JournalRecord> journal_records(const std::filesystem::path& jour
 // A pool's observable state, for "unchanged" and "identical after recovery" comparisons.
 struct PoolView {
   std::uint64_t seq = 0;
+  std::uint64_t incarnation = 0;  // PoolProgress::incarnation: recovery keeps it
   Weight weight = 0;
   std::size_t pairs = 0;
   std::size_t vertices = 0;

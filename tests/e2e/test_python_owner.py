@@ -53,8 +53,9 @@ class Peer:
 
 
 class Publisher:
-    """An XPUB bound at `endpoint` that sends `messages` (diffs of pool "quillory") once its
-    first subscriber has subscribed, after `delay_s`."""
+    """An XPUB bound at `endpoint` that sends `diffs` ((seq, prev_seq) or (seq, prev_seq,
+    incarnation) of pool "quillory") once its first subscriber has subscribed, after
+    `delay_s`."""
 
     def __init__(self, endpoint, diffs, delay_s=0.0):
         self._sock = zmq.Context.instance().socket(zmq.XPUB)
@@ -73,10 +74,11 @@ class Publisher:
             if self._sock.recv()[:1] != b"\x01" or self.published.is_set():
                 continue
             time.sleep(self._delay_s)
-            for seq, prev in self._diffs:
+            for seq, prev, *incarnation in self._diffs:
                 publication = publish_pb2.Publication(version=VERSION)
                 diff = publication.diff
                 diff.pool, diff.seq, diff.prev_seq, diff.weight = "quillory", seq, prev, seq
+                diff.incarnation = incarnation[0] if incarnation else 0
                 self._sock.send_multipart([b"quillory", publication.SerializeToString()])
             self.published.set()
 
@@ -265,6 +267,38 @@ class OwnerFollowingTest(unittest.TestCase):
             seqs.append(diff["seq"])
         self.assertEqual(seqs, [1, 2, 3, 4, 5])
         self.assertIsNone(watcher.next(0.5))
+
+    def test_watcher_tells_pools_of_one_name_apart_by_incarnation(self):
+        """docs/protocol.md, "Catching up": the matching held is incarnation 10 at seq 3."""
+        matchings = [(3, 10), (5, 20)]
+
+        def matching(data):
+            request = query_pb2.QueryRequest.FromString(data)
+            reply = query_pb2.QueryReply(version=VERSION, request_id=request.request_id,
+                                         pool=request.pool)
+            seq, incarnation = matchings.pop(0) if len(matchings) > 1 else matchings[0]
+            reply.matching.seq, reply.matching.incarnation = seq, incarnation
+            return reply.SerializeToString()
+        self.peer("query", matching)
+        # An earlier pool's diff (5), dropped; a later pool's diff 4 (20) met in its middle:
+        # fetched again (20 at seq 5); then 6 follows.
+        middle = Publisher(self.endpoint("middle"), [(2, 1, 5), (4, 3, 20), (6, 5, 20)])
+        self.addCleanup(middle.close)
+        watcher = Watcher(self.endpoint("middle"), "quillory",
+                          query_endpoint=self.endpoint("query")).catch_up()
+        self.addCleanup(watcher.close)
+        self.assertEqual((watcher.seq, watcher.incarnation), (3, 10))
+        self.assertEqual(watcher.next(5.0)["seq"], 6)
+        self.assertEqual((watcher.seq, watcher.incarnation, watcher.refetches), (6, 20, 1))
+        # A later pool's first diff, its predecessor's retired diff missed: from empty.
+        matchings[:] = [(3, 10)]
+        first = Publisher(self.endpoint("first"), [(1, 0, 20), (2, 1, 20)])
+        self.addCleanup(first.close)
+        fresh = Watcher(self.endpoint("first"), "quillory",
+                        query_endpoint=self.endpoint("query")).catch_up()
+        self.addCleanup(fresh.close)
+        self.assertEqual([fresh.next(5.0)["seq"], fresh.next(5.0)["seq"]], [1, 2])
+        self.assertEqual((fresh.seq, fresh.incarnation, fresh.refetches), (2, 20, 0))
 
 
 if __name__ == "__main__":

@@ -110,6 +110,8 @@ class RetireTest(unittest.TestCase):
                 diff = watcher.next(10 * SLOWDOWN)
             self.assertEqual(diff["seq"], 2)
             self.assertEqual(watcher.matching, {})
+            retired = watcher.incarnation
+            self.assertGreater(retired, 0)
             with self.assertRaises(Rejected) as refused:
                 sender.retire()
             self.assertEqual(refused.exception.code_name, "UNKNOWN_POOL")
@@ -118,6 +120,7 @@ class RetireTest(unittest.TestCase):
             diff = watcher.next(10 * SLOWDOWN)
             self.assertEqual((diff["seq"], diff["prev_seq"]), (1, 0))
             self.assertEqual(watcher.matching, {5: 6, 6: 5})
+            self.assertGreater(watcher.incarnation, retired)  # a later pool of the name
         finally:
             sender.close()
             watcher.close()

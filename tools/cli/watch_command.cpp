@@ -31,7 +31,8 @@ constexpr const char* kWatchHelp =
     "made again later under that name starts over at seq 1.\n"
     "With --catch-up, first the pool's whole matching with \"catch_up\":true (as `yoke query\n"
     "matching` prints it), then the diffs after its seq; a missed diff is noted on stderr\n"
-    "(note: ...) and the matching fetched again, printed the same way.\n"
+    "(note: ...) and the matching fetched again, printed the same way, as is a diff of a\n"
+    "later pool of that name met in its middle (Diff.incarnation; a missed retirement).\n"
     "Several --publish endpoints (a cluster): every one is subscribed to, and each diff\n"
     "(pool, seq) is printed once, in seq order; a diff that skips seqs waits a moment for the\n"
     "ones between from another daemon. The --catch-up query follows NOT_OWNER refusals among\n"
@@ -214,6 +215,19 @@ class Watcher {
   // Prints `diff` unless the state held already covers it.
   void take(const Diff& diff) {
     if (held_seq_) {
+      // Another pool of the name (docs/protocol.md, "Catching up"): an earlier one's diff is
+      // dropped; a later one's first diff follows the empty pool a retirement left, and one
+      // met in its middle means the retirement was missed: the lines printed must add up.
+      if (diff.incarnation() < held_incarnation_) return;
+      if (diff.incarnation() > held_incarnation_) {
+        if (diff.prev_seq() != 0 || *held_seq_ != 0) {
+          std::cerr << "note: pool " << options_.pool << ": diff " << diff.seq()
+                    << " is of a later pool of that name than the one held; catching up again\n";
+          catch_up();
+          if (diff.incarnation() != held_incarnation_) return;
+        }
+        held_incarnation_ = diff.incarnation();
+      }
       if (diff.seq() <= *held_seq_) return;
       if (diff.prev_seq() != *held_seq_) {
         std::cerr << "note: pool " << options_.pool << ": diff " << diff.seq()
@@ -256,6 +270,7 @@ class Watcher {
     start["catch_up"] = true;
     print_line(start);
     held_seq_ = matching.seq();
+    held_incarnation_ = matching.incarnation();
   }
 
   const WatchOptions& options_;
@@ -265,6 +280,7 @@ class Watcher {
   const bool several_;
   EndpointRoute query_route_;
   std::optional<std::uint64_t> held_seq_;      // --catch-up: the seq the printed lines add up to
+  std::uint64_t held_incarnation_ = 0;         // --catch-up: which pool of the name they are of
   std::optional<std::uint64_t> last_printed_;  // the seq of the last diff printed
   std::uint64_t printed_ = 0;
   std::map<std::uint64_t, Diff> held_back_;    // several publishers: diffs after a gap, by seq

@@ -4,7 +4,9 @@ Messages are two frames, [pool name][Publication]. ZeroMQ subscriptions match pr
 watcher keeps only the messages whose topic frame equals the pool's name exactly. In catch-up
 mode (proto/yoke/v1/publish.proto) it holds the whole matching: it fetches it from the query
 socket at some seq s, drops diffs with seq <= s, applies the rest in order, and fetches the
-matching again when a diff's prev_seq is not the seq it holds (a message was missed).
+matching again when a diff's prev_seq is not the seq it holds (a message was missed). Diffs of
+another incarnation of the pool (a pool retired and made again under its name) follow the rule
+of docs/protocol.md, "Catching up".
 
 A cluster: a pool's diffs come from whichever daemon serves it, and a daemon that takes a pool
 over may publish again diffs its predecessor published. Given several publish endpoints, the
@@ -50,6 +52,7 @@ class Watcher:
         self.matching = None  # {vertex: mate}, in catch-up mode
         self.weight = None    # the matching's total weight, in catch-up mode
         self.seq = None       # the seq `matching` describes, in catch-up mode
+        self.incarnation = None  # which pool of the name `matching` is of (Diff.incarnation)
         self.refetches = 0    # matchings fetched again after a missed diff
         self._topic = pool.encode()
         self._query = None
@@ -90,16 +93,20 @@ class Watcher:
 
     def _fetch(self):
         try:
-            whole = self._query.matching(self.pool)
+            reply = self._query.ask("matching", self.pool)
+            whole = dicts.reply(reply)
+            whole["incarnation"] = reply.matching.incarnation
         except QueryError as error:
             if error.code_name != "UNKNOWN_POOL":
                 raise
-            whole = {"seq": 0, "weight": 0, "matching": []}  # created by its first batch
+            # Created by its first batch.
+            whole = {"seq": 0, "weight": 0, "matching": [], "incarnation": 0}
         self.matching = {}
         for a, b, _ in whole["matching"]:
             self.matching[a], self.matching[b] = b, a
         self.weight = whole["weight"]
         self.seq = whole["seq"]
+        self.incarnation = whole["incarnation"]
 
     def __iter__(self):
         while True:
@@ -200,6 +207,16 @@ class Watcher:
     def _apply(self, diff):
         """Applies a diff to the held matching; False when it is old (dropped) or did not follow
         (the matching is fetched again)."""
+        if diff.incarnation < self.incarnation:
+            return False  # an earlier pool of the name, retired before the state held
+        if diff.incarnation > self.incarnation:
+            if diff.prev_seq != 0:  # a later pool, met in its middle: the retirement was missed
+                self.refetches += 1
+                self._fetch()
+                return False
+            # A later pool's first diff: the one held was retired (its last diff maybe missed).
+            self.matching, self.seq, self.weight = {}, 0, 0
+            self.incarnation = diff.incarnation
         if diff.seq <= self.seq:
             return False
         if diff.prev_seq != self.seq:
