@@ -408,9 +408,10 @@ void search_from_roots(PoolState& pool) {
   roots.erase(std::unique(roots.begin(), roots.end(),
                           [](const Root& x, const Root& y) { return x.vertex == y.vertex; }),
               roots.end());
+  // Still a root: exposed with a positive dual (an earlier tree may have reached it since).
+  const auto still_a_root = [&](Vertex v) { return mate[v] == kNoVertex && dual2[v] != 0; };
   std::erase_if(roots, [&](const Root& root) {
-    const Vertex v = root.vertex;
-    return !pool.graph.alive(v) || mate[v] != kNoVertex || dual2[v] == 0;
+    return !pool.graph.alive(root.vertex) || !still_a_root(root.vertex);
   });
   if (roots.empty()) return;
   pool.stats.roots += roots.size();
@@ -429,7 +430,7 @@ void search_from_roots(PoolState& pool) {
       bool any = false;
       for (const Root& root : roots) {
         const Vertex v = root.vertex;
-        if (mate[v] != kNoVertex || dual2[v] == 0 || dual2[v] % 2 != parity) continue;
+        if (!still_a_root(v) || dual2[v] % 2 != parity) continue;
         search.add_root(v, root.cause);
         any = true;
       }
@@ -441,7 +442,7 @@ void search_from_roots(PoolState& pool) {
     // frees (and can stop queueing bounds past its latest end).
     for (const Root& root : roots) {
       const Vertex v = root.vertex;
-      if (mate[v] != kNoVertex || dual2[v] == 0) continue;  // an earlier tree reached it
+      if (!still_a_root(v)) continue;
       search.add_root(v, root.cause);  // what the tree changes goes back to the event that queued v
       search.run();
     }

@@ -305,7 +305,7 @@ std::size_t AlternatingSearch::run() {
   }
   stats_.last_level_scans += stats_.scans - level_start_scans;
   running_ = false;
-  traces_causes_ = true;
+  traces_causes_ = false;  // the next run's roots say again whether they carry causes
   lone_tree_ = false;
   latest_end_ = kNever;
   stats_.heap_pushes = bounds_.pushes();

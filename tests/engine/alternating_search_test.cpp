@@ -189,5 +189,28 @@ TEST(AlternatingSearchFreeBounds, AVertexFreedByAnExpansionIsQueuedAfresh) {
   EXPECT_EQ(solved.mate[6], kNoVertex);  // m's dual reached 0 first: it is the one left exposed
 }
 
+// Causes (Mates::set_cause): a run whose roots were added with one tags its trees' mate writes
+// with it; a later run of the same search whose roots carry none leaves the caller's cause on
+// its writes, not the earlier run's.
+TEST(AlternatingSearchCauses, ARunWithoutCausesKeepsTheCallersCause) {
+  // Two separate tight edges {0,1} and {2,3}, every vertex exposed with a positive dual.
+  const Graph graph = Graph::from_edges(4, {{0, 1, 5}, {2, 3, 5}});
+  MatchingState state(4);
+  for (Vertex v = 0; v < 4; ++v) state.dual2[v] = 5;
+  state.mate.open_journal();
+  AlternatingSearch search(graph, 0, state);
+  search.add_root(0, /*cause=*/7);
+  search.run();
+  ASSERT_EQ(state.mate[0], 1u);
+  EXPECT_EQ(state.mate.last_cause(0), 7u);
+  EXPECT_EQ(state.mate.last_cause(1), 7u);
+  state.mate.set_cause(3);
+  search.add_root(2);
+  search.run();
+  ASSERT_EQ(state.mate[2], 3u);
+  EXPECT_EQ(state.mate.last_cause(2), 3u);
+  EXPECT_EQ(state.mate.last_cause(3), 3u);
+}
+
 }  // namespace
 }  // namespace yoke
