@@ -99,24 +99,31 @@ GOOD = [
      "max_record_bytes = 1024\nlock_wait_ms = 0\n[snapshots]\ninterval_seconds = 1\nkeep = 1\n"
      "after_events = 0\n[limits]\nmax_message_bytes = 1024\nmax_events_per_batch = 1\n"
      "max_pools = 1\n[ledger]\nbatches_per_client = 1\nidle_seconds = 0\n"
-     "max_clients_per_pool = 1\n[pool_defaults]\nmax_vertices = 2\nmax_edges = 1\n"),
+     "max_clients_per_pool = 1\n[pool_defaults]\nmax_vertices = 2\nmax_edges = 1\n",
+     "(0..1000000; 0 = never)"),
     ("upper ends", "[batching]\nmax_delay_us = 1000000\nmax_events = 10000000\n[service]\n"
      "worker_nice = 19\n[journal]\ndurability = \"none\"\nsegment_bytes = 1099511627776\n"
      "max_record_bytes = 1073741824\nlock_wait_ms = 3600000\n[snapshots]\n"
      "interval_seconds = 604800\nkeep = 1000\n[limits]\nmax_message_bytes = 1073741824\n"
      "max_events_per_batch = 10000000\nmax_pools = 1000000\n[ledger]\n"
      "batches_per_client = 4096\nmax_clients_per_pool = 10000000\n[pool_defaults]\n"
-     "mode = \"perfect\"\n"
-     "[logging]\nlevel = \"off\"\n"),
-    ("pool_defaults.max_vertices = 1", "[pool_defaults]\nmax_vertices = 1\n"),
-    ("pool_defaults.max_vertices = 1073741824", "[pool_defaults]\nmax_vertices = 1073741824\n"),
-    ("pool_defaults.max_edges = 1073741824", "[pool_defaults]\nmax_edges = 1073741824\n"),
-    ("a declared pool's max_vertices = 1", "[pools.one]\nmax_vertices = 1\n"),
+     "mode = \"perfect\"\n[logging]\nlevel = \"off\"\n", "(1..10000000)"),
+    ("pool_defaults.max_vertices = 1", "[pool_defaults]\nmax_vertices = 1\n",
+     "max_vertices = 4194304 # alive at once (1 .. 1073741824)"),
+    ("pool_defaults.max_vertices = 1073741824", "[pool_defaults]\nmax_vertices = 1073741824\n",
+     "max_vertices = 4194304 # alive at once (1 .. 1073741824)"),
+    ("pool_defaults.max_edges = 1073741824", "[pool_defaults]\nmax_edges = 1073741824\n",
+     "max_edges = 67108864 # alive at once (1 .. 1073741824)"),
+    ("a declared pool's max_vertices = 1", "[pools.one]\nmax_vertices = 1\n",
+     "a key left out takes its value from [pool_defaults]"),
     ("max_abs_weight = 2^52 with max_vertices = 2",
-     "[pool_defaults]\nmax_vertices = 2\nmax_abs_weight = 4503599627370496\n"),
+     "[pool_defaults]\nmax_vertices = 2\nmax_abs_weight = 4503599627370496\n",
+     "(0 .. 4503599627370496)"),
     ("max_abs_weight 2^40 - 5 + churn_bonus 5 (exactly the bound)",
-     "[pool_defaults]\nmax_abs_weight = 1099511627771\nchurn_bonus = 5\n"),
-    ("the example file itself", None),
+     "[pool_defaults]\nmax_abs_weight = 1099511627771\nchurn_bonus = 5\n",
+     "max_abs_weight + churn_bonus must stay within it"),
+    ("the example file itself", None, "yoked.example.toml: every setting of yoked, each set to "
+     "its default"),
 ]
 
 
@@ -175,15 +182,14 @@ def bad_configs(rec, yoked):
 
 
 def good_configs(rec, yoked):
-    for label, text in GOOD:
+    for label, text, cite in GOOD:
         if text is None:
             with open(os.path.join(os.path.dirname(__file__), "..", "..", "..", X)) as f:
                 text = f.read()
         d = start(yoked, text, "good")
         try:
             code = settle(d)
-            rec.case(f"config at its bounds: {label}", spec(X, "# 1 .. 604800") + " and the other"
-                     " ranges of the example", "serves (answers health)",
+            rec.case(f"config at its bounds: {label}", spec(X, cite), "serves (answers health)",
                      f"exit {code}, {' '.join(log_of(d).split())[-160:]!r}" if code is not None
                      else "serves", code is None)
             if code is None and label.startswith("max_abs_weight = 2^52"):
@@ -319,21 +325,21 @@ def behaviour(rec, yoked):
         with Client(d) as c:
             sub = Subscriber(d, "one")
             time.sleep(0.3)
-            for b in range(1, 6):
+            for b in range(1, 21):
                 req = ingest_pb2.IngestRequest(version=1)
                 req.batch.pool, req.batch.client_id, req.batch.client_batch = "one", "O", b
                 req.batch.events.append(add(b))
                 c.send_request(req)
-            acks = [c.wait_ack("O", b, 5) for b in range(1, 6)]
-            diffs = sub.diffs(1.0, count=5)
+            acks = [c.wait_ack("O", b, 5) for b in range(1, 21)]
+            diffs = sub.diffs(1.0, count=20)
             cover = [(p.diff.prev_seq, p.diff.seq) for _, p, _ in diffs]
             sub.close()
-            rec.case("batching.max_events = 1: five one-event batches sent at once",
+            rec.case("batching.max_events = 1: twenty one-event batches sent at once",
                      spec(X, "the window closes early once it holds this many events") + "; " +
                      spec(X, "batches that arrive together are made durable and repaired as one "
-                          "group"), "five windows, so five diffs, each of one seq",
+                          "group"), "twenty windows, so twenty diffs, each of one seq",
                      f"{sum(map(accepted, acks))} accepted; diffs (prev_seq, seq) {cover}",
-                     cover == [(b - 1, b) for b in range(1, 6)])
+                     cover == [(b - 1, b) for b in range(1, 21)])
     finally:
         d.stop()
         d.remove_files()

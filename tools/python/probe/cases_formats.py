@@ -164,6 +164,19 @@ def edge_list_cases(rec, yoke):
     rec.case("yoke solve --mode max-cardinality prefers 2 pairs of 1 to one of 10",
              spec(R, "`max-cardinality` (most pairs, then most weight)"), "pairs 2 weight 2",
              r.short(), o is not None and (o["pairs"], o["weight"]) == (2, 2))
+    r = solve(yoke, "\ufeff1 2 5\n")
+    rec.case("edge list starting with a UTF-8 byte order mark (as Windows editors write with "
+             "CRLF)", spec(F, "A line holds three fields `U V W` separated by blanks") +
+             " (a BOM is not a blank)", "(GAP) exit 2 naming line 1, or the mark skipped",
+             r.short(), None if r.code == 0 or names_line(r, 1) else False)
+    r = solve(yoke, "1 2 5\r\r\n")
+    rec.case("edge list: two \\r before the newline", spec(F, "a `\\r` before the newline is a "
+             "blank"), "(GAP) exit 0 (both blanks) or exit 2 naming line 1", r.short(),
+             None if r.code == 0 or names_line(r, 1) else False)
+    r = solve(yoke, "1 2\r5\n")
+    rec.case("edge list: a \\r between two fields", spec(F, "separated by blanks (space, tab; a "
+             "`\\r` before the newline is a blank"), "exit 2 naming line 1 (only a \\r before "
+             "the newline is a blank)", r.short(), True if names_line(r, 1) else None)
     r = run([yoke, "solve", "/nonexistent/graph.txt"])
     rec.case("yoke solve of a file that does not exist", spec(C, "2 bad input or usage"),
              "exit 2", r.short(), r.code == 2)

@@ -28,7 +28,10 @@ def spec(path, words):
     flat, starts = "", []
     for i, line in enumerate(lines):
         starts.append(len(flat))
-        flat += " ".join(line.split()) + " "
+        words_of_line = line.split()
+        if words_of_line and words_of_line[0] in ("#", "//"):  # a comment's marker
+            words_of_line = words_of_line[1:]
+        flat += " ".join(words_of_line) + " "
     at = flat.find(" ".join(words.split()))
     if at < 0:
         return f'{path} "{words}" (not found: stale citation)'
