@@ -208,6 +208,15 @@ def query_cases(rec, y):
     rec.case("yoke query explain --alternatives 1", helps("--alternatives UINT Alternatives to "
              "list at most"), "at most 1 alternative", str(e)[:160],
              e is not None and len(e.get("alternatives", [0, 0])) <= 1)
+    r = y.query("explain", pool, "--vertex", "999")
+    o = one_json(r)
+    rec.case("yoke query explain of a vertex the pool does not hold",
+             spec("docs/formats.md", "also printed by `yoke query explain` (there behind `pool` "
+                  "and `seq`). A vertex not in the pool at that point has only `vertex` and "
+                  '`"present": false`') + " vs " + spec("proto/yoke/v1/protocol.proto", "in a "
+                  "query, a vertex the pool does not hold"),
+             '{"pool","seq","vertex":999,"present":false} (formats.md), exit 0', r.short(),
+             r.code == 0 and o is not None and o.get("present") is False)
     r = y.query("explain", pool, "--vertex", "2", "--text")
     rec.case("yoke query explain --text", helps("--text prints it in sentences instead"),
              "exit 0, text that is not one JSON object", r.short(),
@@ -362,6 +371,45 @@ def watch_cases(rec, y):
              "[[5,6,8]], then the diff seq 3",
              f"exit {code}, lines {[str(d)[:90] for d in lines]}; query now {str(m)[:80]}",
              code == 0 and same and [d.get("seq") for d in lines[1:]] == [3])
+
+
+def send_across_a_restart(rec, yoke, yoked):
+    """`yoke send` of 20,000 one-event batches while the daemon is SIGKILLed and restarted."""
+    from harness import Daemon
+    d = Daemon(yoked, "", tag="sendkill")
+    d.start()
+    try:
+        n = 20000
+        script = "".join(f"add {i}\ncommit\n" for i in range(1, n + 1))
+        path = scratch_file(script)
+        p = subprocess.Popen([yoke, "send", path, "--pool", "sk", "--ingest", d.ingest,
+                              "--timeout-ms", "500", "--retries", "40", "--in-flight", "32"],
+                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+        time.sleep(0.4)
+        d.proc.kill()
+        d.proc.wait()
+        time.sleep(0.3)
+        d.start(timeout=20)
+        code, out, err = finished(p, 120)
+        os.remove(path)
+        o = None
+        try:
+            o = json.loads(out)
+        except ValueError:
+            pass
+        s = one_json(Yoke(yoke, d).query("summary", "sk"))
+        rec.case("yoke send of 20,000 batches across a SIGKILL and restart of the daemon",
+                 spec("README.md", "keeps batches in flight and resends after a timeout or a "
+                      "restart (the daemon applies each once)"),
+                 f"exit 0; batches {n}, last_seq {n}; the pool at seq {n} with {n} vertices",
+                 f"exit {code}, {out.strip()[:140]!r}, {err.strip()[:100]!r}; summary "
+                 f"{ {k: s.get(k) for k in ('seq', 'vertices')} if s else None}",
+                 code == 0 and o is not None and o.get("batches") == n and
+                 o.get("last_seq") == n and s is not None and s.get("seq") == n and
+                 s.get("vertices") == n)
+    finally:
+        d.stop()
+        d.remove_files()
 
 
 def all_cases(rec, yoke, daemon):

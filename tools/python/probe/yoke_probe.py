@@ -148,6 +148,9 @@ def main():
             cases_many.sigterm_many(rec, args.yoked)
             print("== lock_wait", flush=True)
             cases_many.lock_wait(rec, args.yoked)
+            if args.yoke:
+                print("== send_across_a_restart", flush=True)
+                cases_cli.send_across_a_restart(rec, args.yoke, args.yoked)
         cases_config.all_cases(rec, args.yoked)
         if args.yoke:
             cases_formats.all_cases(rec, args.yoke)
