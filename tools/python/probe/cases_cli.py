@@ -106,10 +106,11 @@ def send_cases(rec, y):
     r = y.send(script, "cli-send", "--client-id", "cli-1")
     o = one_json(r)
     rec.case("yoke send: the same script again under the same --client-id",
-             spec(C, "a retried batch (same client id and batch number) is applied once") +
-             " (whether a second run reuses the batch numbers is not said)",
-             "(GAP) either 3 duplicates at seqs 1..3, or 3 new batches at seqs 4..6",
-             r.short(), None)
+             helps("so a second run under the same --client-id sends new batches (applied "
+                   "again), not retries of the first run's"),
+             "exit 0, 3 new batches at seqs 4..6, no duplicate", r.short(),
+             r.code == 0 and o is not None and (o.get("first_seq"), o.get("last_seq"),
+                                                o.get("duplicates")) == (4, 6, 0))
 
     r = y.send("set 1 2 5\ncommit\nremove 77\ncommit\n", "cli-bad", "--client-id", "cli-2")
     rec.case("yoke send: a batch the daemon rejects (remove of an unknown vertex, line 3)",
@@ -123,9 +124,9 @@ def send_cases(rec, y):
              r.code == 2 and ":3" in r.err)
     q = y.query("summary", "cli-form")
     rec.case("yoke send of a malformed script: were the batches before the bad line sent?",
-             "spec silent (send's help: exit 2 'a malformed script')",
-             "(GAP) the pool cli-form absent (the script is read whole first) or at seq 1",
-             q.short(), None)
+             helps("The script is read whole first: a malformed one sends nothing"),
+             "no: the pool cli-form does not exist (UNKNOWN_POOL)", q.short(),
+             q.code == 2 and "UNKNOWN_POOL" in q.err)
 
     r = y.send("", "cli-send", "--client-id", "cli-4", stdin="set 10 11 4\ncommit\n")
     o = one_json(r)
@@ -153,10 +154,13 @@ def send_cases(rec, y):
              r.short() + f" after {time.time() - t0:.1f} s", r.code == 4)
 
     r = y.send("", "cli-empty", "--client-id", "cli-7", stdin="")
-    rec.case("yoke send of an empty script", spec("docs/formats.md", "Events after the last "
-             "`commit` form one more batch") + " (an empty input holds no events)",
-             "(GAP) exit 0 with 0 batches, or one empty batch", r.short(),
-             None if r.code == 0 else False)
+    o = one_json(r)
+    rec.case("yoke send of an empty script", spec("docs/formats.md", "An empty script, or one of "
+             "comments and blank lines only, holds no batch") + "; " + helps("an empty script "
+             "sends nothing: 0 batches, first_seq and last_seq null"),
+             "exit 0, batches 0, first_seq null, last_seq null", r.short(),
+             r.code == 0 and o is not None and o.get("batches") == 0 and
+             o.get("first_seq") is None and o.get("last_seq") is None)
 
 
 def query_cases(rec, y):
@@ -211,12 +215,11 @@ def query_cases(rec, y):
     r = y.query("explain", pool, "--vertex", "999")
     o = one_json(r)
     rec.case("yoke query explain of a vertex the pool does not hold",
-             spec("docs/formats.md", "also printed by `yoke query explain` (there behind `pool` "
-                  "and `seq`). A vertex not in the pool at that point has only `vertex` and "
-                  '`"present": false`') + " vs " + spec("proto/yoke/v1/protocol.proto", "in a "
-                  "query, a vertex the pool does not hold"),
-             '{"pool","seq","vertex":999,"present":false} (formats.md), exit 0', r.short(),
-             r.code == 0 and o is not None and o.get("present") is False)
+             spec("docs/formats.md", "which `yoke query explain` prints as `error: "
+                  "UNKNOWN_VERTEX: ...` with exit code 2") + "; " +
+             spec("proto/yoke/v1/protocol.proto", "in a query, a vertex the pool does not hold"),
+             "exit 2, stderr 'error: UNKNOWN_VERTEX: ...', nothing on stdout", r.short(),
+             r.code == 2 and r.err.startswith("error: UNKNOWN_VERTEX: ") and o is None)
     r = y.query("explain", pool, "--vertex", "2", "--text")
     rec.case("yoke query explain --text", helps("--text prints it in sentences instead"),
              "exit 0, text that is not one JSON object", r.short(),

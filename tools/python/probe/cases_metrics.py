@@ -136,19 +136,20 @@ def all_cases(rec, yoke, d):
     _, _, p4 = scrape(d)
     left = sorted({n for (n, ls) in p4.samples if dict(ls).get("pool") == pool and
                    p4.types.get(p4.family_of(n) or "") == "gauge"})
-    rec.case("a retired pool's gauges", "spec silent (README: per-pool gauges; a retired pool is "
-             "as one that does not exist)", "(GAP) gone from the page, or left at their last "
-             "values", f"{outcome(r)}; gauges still there: {left}", None)
+    gone = not any(dict(ls).get("pool") == pool for (_, ls) in p4.samples)
+    rec.case("a retired pool's series", spec(R, "a retired pool's series, its counters too, leave"
+             " the page"), "no series with pool=mx", f"{outcome(r)}; gauges still there: {left}, "
+             f"all gone {gone}", accepted(r) and gone)
 
     st, body = http_get(base + "/healthz")
     rec.case("GET /healthz body", spec("docs/protocol.md", "`GET /metrics` (Prometheus text), "
              "`GET /healthz`"), "200 and a short body", f"{st} {body[:80]!r}", st == 200)
     st, body = http_get(base + "/nowhere")
-    rec.case("GET of a path the endpoint does not serve", "spec names /metrics and /healthz only",
-             "404", f"{st} {body[:80]!r}", st == 404 if st is not None else False)
+    rec.case("GET of a path the endpoint does not serve", spec(R, "Other paths are answered 404"),
+             "404", f"{st} {body[:80]!r}", st == 404)
     st, body = http_get(base + "/metrics", method="POST")
-    rec.case("POST /metrics", "spec names GET only", "(GAP) 405 or the page",
-             f"{st} {body[:60]!r}", None if st is not None else False)
+    rec.case("POST /metrics", spec(R, "other methods 405"), "405", f"{st} {body[:60]!r}",
+             st == 405)
 
 
 def remove_(u):
