@@ -83,7 +83,8 @@ def finished(proc, timeout):
 
 
 def send_cases(rec, y):
-    script = "# two commits and a tail\nset 1 2 5\nset 3 4 7\ncommit\n\nset 2 3 20\ncommit\nset 8 9 1\n"
+    script = ("# two commits and a tail\nset 1 2 5\nset 3 4 7\ncommit\n\nset 2 3 20\ncommit\n"
+              "set 8 9 1\n")
     r = y.send(script, "cli-send", "--client-id", "cli-1")
     o = one_json(r)
     want = {"pool": "cli-send", "batches": 3, "events": 4, "first_seq": 1, "last_seq": 3,
@@ -298,7 +299,7 @@ def retire_cases(rec, y):
 
 def watch_cases(rec, y):
     w = y.watch("cli-watch", "--count", "3", "--timeout-ms", "8000")
-    time.sleep(0.6)  # the slow joiner: the subscription takes effect a little later
+    time.sleep(0.4)  # the slow joiner: the subscription takes effect a little later
     y.send("set 1 2 5\ncommit\n", "cli-watch-2", "--client-id", "cw")
     y.send("set 1 2 5\ncommit\n", "cli-watch", "--client-id", "cw")  # one batch a send: one diff
     y.send("set 2 3 9\nremove 1\ncommit\n", "cli-watch", "--client-id", "cw")
@@ -346,7 +347,7 @@ def watch_cases(rec, y):
 
     # --catch-up on a pool that does not exist yet, then created
     w = y.watch("cli-late", "--catch-up", "--count", "2", "--timeout-ms", "8000")
-    time.sleep(0.6)
+    time.sleep(0.4)
     y.send("set 4 5 6\ncommit\n", "cli-late", "--client-id", "cl")
     y.send("set 5 6 8\ncommit\n", "cli-late", "--client-id", "cl")
     code, out, err = finished(w, 15)
@@ -362,7 +363,7 @@ def watch_cases(rec, y):
              first.get("matching") == [] and [d.get("seq") for d in lines[1:]] == [1, 2])
 
     w = y.watch("cli-late", "--catch-up", "--count", "1", "--timeout-ms", "8000")
-    time.sleep(0.6)
+    time.sleep(0.4)
     y.send("add 40\ncommit\n", "cli-late", "--client-id", "cl2")
     code, out, err = finished(w, 15)
     lines = json_lines(out)

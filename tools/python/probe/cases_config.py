@@ -11,7 +11,7 @@ import time
 from harness import Client, Daemon, accepted, add, outcome, rejected_code, Code, Subscriber
 from harness import free_ports
 from outside import spec
-from yoke.v1 import ingest_pb2, query_pb2
+from yoke.v1 import ingest_pb2
 
 X = "daemon/yoked.example.toml"
 R = "README.md"
@@ -291,6 +291,37 @@ def behaviour(rec, yoked):
         d.stop()
         d.remove_files()
 
+    d = start(yoked, "[batching]\nmax_events = 1\n", "onewin")
+    try:
+        settle(d)
+        with Client(d) as c:
+            sub = Subscriber(d, "one")
+            time.sleep(0.3)
+            for b in range(1, 21):
+                req = ingest_pb2.IngestRequest(version=1)
+                req.batch.pool, req.batch.client_id, req.batch.client_batch = "one", "O", b
+                req.batch.events.append(add(b))
+                c.send_request(req)
+            acks = [c.wait_ack("O", b, 5) for b in range(1, 21)]
+            diffs = sub.diffs(1.0, count=20)
+            cover = [(p.diff.prev_seq, p.diff.seq) for _, p, _ in diffs]
+            sub.close()
+            chained = all(a[1] == b[0] for a, b in zip(cover, cover[1:]))
+            rec.case("batching.max_events = 1: twenty one-event batches sent at once",
+                     spec(X, "the window closes early once it holds this many events") + "; " +
+                     spec(X, "then join the next window together: that window may hold more "
+                          "than max_events"), "all accepted; diffs chained from 0 to 20 (a diff"
+                     " of several seqs only from batches that waited behind a repair)",
+                     f"{sum(map(accepted, acks))} accepted; diffs (prev_seq, seq) {cover}",
+                     all(map(accepted, acks)) and chained and cover and cover[0][0] == 0 and
+                     cover[-1][1] == 20)
+    finally:
+        d.stop()
+        d.remove_files()
+
+
+def slow_window(rec, yoked):
+    """Slow (a window of a second): what batching.max_delay_us does."""
     d = start(yoked, "[batching]\nmax_delay_us = 1000000\nmax_events = 10000000\n", "slowwin")
     try:
         settle(d)
@@ -318,34 +349,6 @@ def behaviour(rec, yoked):
                      "one diff covering seqs 1..2", f"{outcome(a1)} / {outcome(a2)} after "
                      f"{waited:.2f} s; diffs (prev_seq, seq) {cover}",
                      accepted(a1) and accepted(a2) and 0.8 <= waited <= 2.5 and cover == [(0, 2)])
-    finally:
-        d.stop()
-        d.remove_files()
-
-    d = start(yoked, "[batching]\nmax_events = 1\n", "onewin")
-    try:
-        settle(d)
-        with Client(d) as c:
-            sub = Subscriber(d, "one")
-            time.sleep(0.3)
-            for b in range(1, 21):
-                req = ingest_pb2.IngestRequest(version=1)
-                req.batch.pool, req.batch.client_id, req.batch.client_batch = "one", "O", b
-                req.batch.events.append(add(b))
-                c.send_request(req)
-            acks = [c.wait_ack("O", b, 5) for b in range(1, 21)]
-            diffs = sub.diffs(1.0, count=20)
-            cover = [(p.diff.prev_seq, p.diff.seq) for _, p, _ in diffs]
-            sub.close()
-            chained = all(a[1] == b[0] for a, b in zip(cover, cover[1:]))
-            rec.case("batching.max_events = 1: twenty one-event batches sent at once",
-                     spec(X, "the window closes early once it holds this many events") + "; " +
-                     spec(X, "then join the next window together: that window may hold more "
-                          "than max_events"), "all accepted; diffs chained from 0 to 20 (a diff"
-                     " of several seqs only from batches that waited behind a repair)",
-                     f"{sum(map(accepted, acks))} accepted; diffs (prev_seq, seq) {cover}",
-                     all(map(accepted, acks)) and chained and cover and cover[0][0] == 0 and
-                     cover[-1][1] == 20)
     finally:
         d.stop()
         d.remove_files()

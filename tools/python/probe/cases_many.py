@@ -13,7 +13,7 @@ import time
 from harness import (Client, Code, Daemon, Subscriber, V1, accepted, add, apply_diff, outcome,
                      qoutcome, rejected_code, set_)
 from outside import run, scratch_file, spec
-from yoke.v1 import ingest_pb2, query_pb2
+from yoke.v1 import ingest_pb2
 
 P = "docs/protocol.md"
 R = "README.md"
@@ -93,7 +93,7 @@ def interleaving(rec, yoke, d):
              f"{sorted(seqs) == list(range(1, n + 1))}, rising per client {per_client_rising}",
              len(seqs) == n and sorted(seqs) == list(range(1, n + 1)) and per_client_rising)
 
-    diffs = [pub.diff for _, pub, _ in sub.diffs(3.0)]
+    diffs = [pub.diff for _, pub, _ in sub.diffs(1.0)]
     sub.close()
     chain_ok = all(a.seq == b.prev_seq for a, b in zip(diffs, diffs[1:])) and bool(diffs) and \
         diffs[0].prev_seq == 0 and diffs[-1].seq == n
@@ -247,7 +247,7 @@ def retire_during_catch_up(rec, yoke, d):
     t.start()
     time.sleep(0.15)
     w = subprocess.Popen([yoke, "watch", "--pool", pool, "--catch-up", "--publish", d.publish,
-                          "--query", d.query, "--timeout-ms", "1500"], stdout=subprocess.PIPE,
+                          "--query", d.query, "--timeout-ms", "800"], stdout=subprocess.PIPE,
                          stderr=subprocess.PIPE, text=True)
     t.join()
     out, err = w.communicate(timeout=30)
@@ -294,7 +294,7 @@ def lock_wait(rec, yoked):
     c0 = Daemon(yoked, "[journal]\nlock_wait_ms = 0\n", data_dir=a.data_dir, tag="lockc")
     try:
         b.start(wait=False)
-        time.sleep(1.0)
+        time.sleep(0.5)
         t0 = time.time()
         c0.start(wait=False)
         code_c = c0.wait_exit(5)
@@ -316,7 +316,7 @@ def lock_wait(rec, yoked):
         rec.case("a second yoked waiting for the lock (lock_wait_ms 6000) while the first "
                  "stops on SIGTERM", spec(R, "A start waits up to `[journal] lock_wait_ms` (10 s) "
                                           "for a daemon on the same data directory"),
-                 "waiting after 1 s; serves once the first has stopped, with its pool at seq 1",
+                 "waiting after 0.5 s; serves once the first has stopped, with its pool at seq 1",
                  f"waiting {still is None}; serves after {served}; {qoutcome(s)[:100]}",
                  still is None and isinstance(served, float) and
                  s.WhichOneof("kind") == "summary" and s.summary.seq == 1)

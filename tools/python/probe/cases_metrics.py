@@ -3,7 +3,7 @@ README names is there, counters only grow, and the counts move by what this clie
 
 import time
 
-from harness import Client, Code, add, accepted, outcome, raw_ingest_batch, rejected_code, set_
+from harness import Client, add, accepted, outcome, raw_ingest_batch, set_
 from outside import Page, http_get, spec
 from yoke.v1 import query_pb2
 

@@ -21,6 +21,7 @@ import cases_cli
 import cases_config
 import cases_formats
 import cases_input
+import cases_keys
 import cases_lifecycle
 import cases_many
 import cases_metrics
@@ -45,6 +46,8 @@ churn_bonus = 1000
 [pools.lim]
 max_vertices = 3
 max_edges = 1
+[pools.exact3]
+max_vertices = 6
 """
 
 SMALL_CONFIG = """
@@ -120,8 +123,11 @@ def main():
         if args.yoke:
             cases_cli.all_cases(rec, args.yoke, main_daemon)
         cases_many.interleaving(rec, args.yoke, main_daemon)
+        with Client(main_daemon) as c:
+            cases_keys.health_and_exact(rec, c)
         if args.yoke:
             cases_many.retire_during_catch_up(rec, args.yoke, main_daemon)
+            cases_keys.exact_in_json(rec, args.yoke, main_daemon)
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
         cases_lifecycle.unread_replies(rec, main_daemon)
@@ -148,15 +154,21 @@ def main():
             cases_many.sigterm_many(rec, args.yoked)
             print("== lock_wait", flush=True)
             cases_many.lock_wait(rec, args.yoked)
-            if args.yoke:
-                print("== send_across_a_restart", flush=True)
-                cases_cli.send_across_a_restart(rec, args.yoke, args.yoked)
         cases_config.all_cases(rec, args.yoked)
+        cases_keys.all_cases(rec, args.yoked, args.yoke)
         if args.yoke:
             cases_formats.all_cases(rec, args.yoke)
-        if args.slow:
+        if args.slow:  # kept out of CTest's run for its time
             print("== long_repair (slow)", flush=True)
             cases_many.long_repair(rec, args.yoked)
+            if args.yoke:
+                print("== send_across_a_restart (slow)", flush=True)
+                cases_cli.send_across_a_restart(rec, args.yoke, args.yoked)
+                print("== keys.segments (slow)", flush=True)
+                cases_keys.segments(rec, args.yoked, args.yoke)
+            print("== timers (slow)", flush=True)
+            cases_config.slow_window(rec, args.yoked)
+            cases_keys.snapshot_timer(rec, args.yoked)
     finally:
         for d in daemons:
             if d is not None:
