@@ -16,24 +16,23 @@ SOLVE_KEYS = {"weight", "pairs", "solve_ms", "matching", "mode", "status", "vert
 COMMIT_LINE = re.compile(r"^commit (\d+) weight (-?\d+) pairs (\d+) repair_us (\d+)$")
 
 
-def solve(yoke, text, *extra, binary=False):
-    path = scratch_file(text, binary=binary)
+def on_text(yoke, command, text, *extra):
+    """`yoke COMMAND FILE ...` on `text` written to a scratch file (its path kept in .path)."""
+    path = scratch_file(text)
     try:
-        r = run([yoke, "solve", path, *extra])
+        r = run([yoke, command, path, *extra])
         r.path = path
         return r
     finally:
         os.remove(path)
 
 
-def replay(yoke, text, *extra, binary=False):
-    path = scratch_file(text, binary=binary)
-    try:
-        r = run([yoke, "replay", path, *extra])
-        r.path = path
-        return r
-    finally:
-        os.remove(path)
+def solve(yoke, text, *extra):
+    return on_text(yoke, "solve", text, *extra)
+
+
+def replay(yoke, text, *extra):
+    return on_text(yoke, "replay", text, *extra)
 
 
 def solved(r):
@@ -72,7 +71,7 @@ def edge_list_cases(rec, yoke):
              "object: `weight`, `pairs`, `solve_ms`") + "; " + spec(C, "prints one JSON object "
              "with at least `weight`"), str(sorted(SOLVE_KEYS)), str(sorted(o) if o else None),
              o is not None and SOLVE_KEYS <= set(o))
-    r = solve(yoke, "1 2 5\r\n2 3 7\r\n\r\n# c\r\n", binary=False)
+    r = solve(yoke, "1 2 5\r\n2 3 7\r\n\r\n# c\r\n")
     o = solved(r)
     rec.case("edge list with CRLF line ends (and a CRLF blank line and comment)",
              spec(F, "a `\\r` before the newline is a blank, so CRLF files read the same"),

@@ -22,6 +22,15 @@ def snapshot(c, pool):
                    timeout=20)
 
 
+def snapshot_seq_reaching(c, pool, want, seconds):
+    """The pool's Stats.last_snapshot_seq once it is `want`, or when `seconds` have passed."""
+    deadline, got = time.time() + seconds, c.stats(pool).stats.last_snapshot_seq
+    while time.time() < deadline and got < want:
+        time.sleep(0.1)
+        got = c.stats(pool).stats.last_snapshot_seq
+    return got
+
+
 def snapshots(rec, yoked):
     d = Daemon(yoked, "[snapshots]\nkeep = 1\nafter_events = 10\ninterval_seconds = 604800\n",
                tag="snapkeep")
@@ -40,10 +49,7 @@ def snapshots(rec, yoked):
             seq0 = c.stats("k").stats.last_snapshot_seq
             c.batch("k", [add(b) for b in range(10, 16)], client_id="K", client_batch=4)
             c.batch("k", [add(b) for b in range(20, 26)], client_id="K", client_batch=5)
-            deadline, got = time.time() + 5, seq0
-            while time.time() < deadline and got < 5:
-                time.sleep(0.1)
-                got = c.stats("k").stats.last_snapshot_seq
+            got = snapshot_seq_reaching(c, "k", 5, 5)
             rec.case("snapshots.after_events = 10: 12 events journalled after the last snapshot",
                      spec(X, "also once this many events were journalled since the last"),
                      "a snapshot of seq 5 without a request (Stats.last_snapshot_seq)",
@@ -60,10 +66,7 @@ def snapshot_timer(rec, yoked):
     try:
         with Client(d) as c:
             c.batch("t", [add(1)], client_id="T", client_batch=1)
-            deadline, got = time.time() + 4, 0
-            while time.time() < deadline and got < 1:
-                time.sleep(0.1)
-                got = c.stats("t").stats.last_snapshot_seq
+            got = snapshot_seq_reaching(c, "t", 1, 4)
             rec.case("snapshots.interval_seconds = 1", spec(X, "Snapshots of every pool's full "
                      "state, taken on a timer"), "a snapshot of seq 1 within a few seconds",
                      f"last_snapshot_seq {got}", got == 1)

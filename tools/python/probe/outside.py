@@ -69,9 +69,10 @@ def dead_endpoint():
     return f"tcp://127.0.0.1:{free_ports(1)[0]}"
 
 
-def scratch_file(text, suffix=".txt", binary=False):
+def scratch_file(text, suffix=".txt"):
+    """`text` in a new temporary file, written as is (no newline translation)."""
     fd, path = tempfile.mkstemp(prefix="yoke-probe3-", suffix=suffix)
-    with os.fdopen(fd, "wb" if binary else "w", newline="" if not binary else None) as f:
+    with os.fdopen(fd, "w", newline="") as f:
         f.write(text)
     return path
 
