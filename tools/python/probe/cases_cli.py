@@ -154,6 +154,18 @@ def send_cases(rec, y):
              "retries"), "exit 4 within a few seconds",
              r.short() + f" after {time.time() - t0:.1f} s", r.code == 4)
 
+    t0 = time.time()
+    r = run([y.yoke, "send", "-", "--pool", "cli-list", "--ingest", dead_endpoint() + "," +
+             y.d.ingest, "--timeout-ms", "300", "--owner-wait-ms", "5000"],
+            stdin="add 1\ncommit\n")
+    q = run([y.yoke, "query", "summary", "--pool", "cli-list", "--query", dead_endpoint() + "," +
+             y.d.query, "--timeout-ms", "300", "--owner-wait-ms", "5000"])
+    rec.case("yoke send and query given a silent endpoint first, then the daemon's",
+             spec(R, "or an endpoint stays silent, they try the next endpoint after a short "
+                  "backoff"), "both exit 0 (the batch at seq 1; the summary at seq 1)",
+             f"{r.short(80)} / {q.short(80)} after {time.time() - t0:.1f} s",
+             r.code == 0 and q.code == 0 and (one_json(q) or {}).get("seq") == 1)
+
     r = y.send("", "cli-empty", "--client-id", "cli-7", stdin="")
     o = one_json(r)
     rec.case("yoke send of an empty script", spec("docs/formats.md", "An empty script, or one of "
@@ -411,6 +423,26 @@ def send_across_a_restart(rec, yoke, yoked):
                  code == 0 and o is not None and o.get("batches") == n and
                  o.get("last_seq") == n and s is not None and s.get("seq") == n and
                  s.get("vertices") == n)
+    finally:
+        d.stop()
+        d.remove_files()
+
+
+def send_oversized(rec, yoke, yoked):
+    """`yoke send` of a batch past a daemon's max_message_bytes: refused unread, so its Ack
+    names no batch (protocol.md); the command must still tell it from silence."""
+    from harness import Daemon
+    d = Daemon(yoked, "[limits]\nmax_message_bytes = 1024\n", tag="sendbig")
+    d.start()
+    try:
+        script = "add 1\ncommit\n" + "".join(f"set {i} {i + 1} 3\n" for i in range(0, 400, 2))
+        r = Yoke(yoke, d).send(script + "commit\n", "big", "--timeout-ms", "500", "--retries", "2")
+        rec.case("yoke send of a batch larger than the daemon's max_message_bytes (1 KiB)",
+                 helps("2 a malformed script, or a batch the daemon rejects") + "; " +
+                 spec("docs/protocol.md", "A message that could not be read as a batch (not a "
+                      "`yoke.v1.IngestRequest`, another version or kind, too large"),
+                 "exit 2 at once with OVERSIZED_MESSAGE (not exit 4 after the retries)",
+                 r.short(), r.code == 2 and "OVERSIZED_MESSAGE" in r.err)
     finally:
         d.stop()
         d.remove_files()

@@ -157,6 +157,8 @@ def main():
         cases_config.all_cases(rec, args.yoked)
         cases_keys.all_cases(rec, args.yoked, args.yoke)
         if args.yoke:
+            cases_cli.send_oversized(rec, args.yoke, args.yoked)
+        if args.yoke:
             cases_formats.all_cases(rec, args.yoke)
         if args.slow:  # kept out of CTest's run for its time
             print("== long_repair (slow)", flush=True)
