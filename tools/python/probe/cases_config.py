@@ -238,6 +238,23 @@ def endpoint_configs(rec, yoked):
     finally:
         d.stop()
         d.remove_files()
+    p = free_ports(4)
+    star = (f'[endpoints]\ningest = "tcp://*:{p[0]}"\npublish = "tcp://127.0.0.1:{p[1]}"\n'
+            f'query = "tcp://127.0.0.1:{p[2]}"\nmetrics = "127.0.0.1:{p[3]}"\n')
+    d = start(yoked, star, "star", use_flags=False)
+    d.ports = p
+    try:
+        code = settle(d)
+        r = None
+        if code is None:
+            with Client(d) as c:
+                r = c.batch("star", [add(1)], client_id="S", client_batch=1)
+        rec.case("config: ingest on tcp://*:PORT, reached on 127.0.0.1", spec(X, 'HOST "*" binds '
+                 "every interface"), "serves; a batch sent to 127.0.0.1:PORT accepted",
+                 f"exit {code}; {outcome(r)}", code is None and accepted(r))
+    finally:
+        d.stop()
+        d.remove_files()
     # a flag wins over the file: the file names a port that is taken
     blocker = socket.socket()
     blocker.bind(("127.0.0.1", 0))
