@@ -1,6 +1,7 @@
 #include "config_file.h"
 
 #include <fstream>
+#include <optional>
 #include <sstream>
 
 #include "cluster_section.h"
@@ -77,12 +78,40 @@ void read_pool(TomlTableReader& table, PoolSettings& out) {
     if (!mode) table.fail("mode", "is '" + *value + "', not one of " + kModeNames);
     out.mode = *mode;
   }
-  table.read("max_vertices", std::uint64_t{1}, std::uint64_t{kMaxVertices},
+  // The engine's ranges (resolve_limits): a pair needs two vertices; indices stay below 2^30.
+  table.read("max_vertices", std::uint64_t{2}, std::uint64_t{kMaxVertices - 1},
              out.limits.max_vertices);
-  table.read("max_edges", std::uint64_t{1}, std::uint64_t{kMaxEdges}, out.limits.max_edges);
+  table.read("max_edges", std::uint64_t{1}, std::uint64_t{kMaxEdges - 1}, out.limits.max_edges);
   table.read("max_abs_weight", std::int64_t{0}, kMaxAbsWeight, out.limits.max_abs_weight);
   table.read("churn_bonus", std::int64_t{0}, kMaxAbsWeight, out.churn_bonus);
   table.finish();
+  // Each key in range, but the weights must also stay exact with the mode and the vertices
+  // (validate_config checks it again for settings made in code, without a line to name).
+  try {
+    PoolRegistry(out, {});
+  } catch (const InputError& error) {
+    table.fail(table.last_given({"mode", "max_vertices", "max_abs_weight", "churn_bonus"}),
+               std::string("cannot stay exact: ") + error.what());
+  }
+}
+
+// An accepted batch is one journal record: a message limit past the record's is refused
+// where the file set one of the two (validate_config checks it again without a line).
+void check_message_fits_record(const std::optional<TomlTableReader>& limits,
+                               const std::optional<TomlTableReader>& journal,
+                               const DaemonConfig& config) {
+  if (config.limits.max_message_bytes <= config.journal.max_record_bytes) return;
+  const auto message = std::to_string(config.limits.max_message_bytes);
+  const auto record = std::to_string(config.journal.max_record_bytes);
+  const std::string why = ": an accepted batch must fit one journal record";
+  if (limits && limits->given("max_message_bytes")) {
+    limits->fail("max_message_bytes",
+                 "is " + message + ", above journal.max_record_bytes (" + record + ")" + why);
+  }
+  if (journal && journal->given("max_record_bytes")) {
+    journal->fail("max_record_bytes",
+                  "is " + record + ", below limits.max_message_bytes (" + message + ")" + why);
+  }
 }
 
 void read_logging(TomlTableReader& table, LogSettings& out) {
@@ -110,9 +139,12 @@ void read_root(TomlTableReader& root, DaemonConfig& config) {
   if (auto table = root.read_table("endpoints")) read_endpoints(*table, config.endpoints);
   if (auto table = root.read_table("batching")) read_batching(*table, config.batching);
   if (auto table = root.read_table("service")) read_service(*table, config.service);
-  if (auto table = root.read_table("journal")) read_journal(*table, config.journal);
+  auto journal = root.read_table("journal");
+  if (journal) read_journal(*journal, config.journal);
   if (auto table = root.read_table("snapshots")) read_snapshots(*table, config.snapshots);
-  if (auto table = root.read_table("limits")) read_limits(*table, config.limits);
+  auto limits = root.read_table("limits");
+  if (limits) read_limits(*limits, config.limits);
+  check_message_fits_record(limits, journal, config);
   if (auto table = root.read_table("ledger")) read_ledger(*table, config.ledger);
   // Before the declared pools: they start from the defaults and change what they name.
   if (auto table = root.read_table("pool_defaults")) read_pool(*table, config.pool_defaults);

@@ -127,6 +127,19 @@ std::vector<std::pair<std::string, TomlTableReader>> TomlTableReader::read_named
   return tables;
 }
 
+std::string_view TomlTableReader::last_given(std::initializer_list<std::string_view> keys) const {
+  std::string_view last;
+  std::uint32_t last_line = 0;
+  for (std::string_view key : keys) {
+    const toml::node* node = table_->get(key);
+    if (node != nullptr && node->source().begin.line >= last_line) {
+      last = key;
+      last_line = node->source().begin.line;
+    }
+  }
+  return last;
+}
+
 void TomlTableReader::finish() const {
   // The table is sorted by key; report the unknown key that comes first in the file.
   const toml::key* first = nullptr;

@@ -4,6 +4,7 @@
 #pragma once
 
 #include <cstdint>
+#include <initializer_list>
 #include <optional>
 #include <set>
 #include <string>
@@ -33,6 +34,12 @@ class TomlTableReader {
 
   // Throws for the first key no read asked for.
   void finish() const;
+
+  // Of `keys`, the one given in this table on the latest line; "" (the table itself) when the
+  // table gives none of them. For a refusal of keys that are each in range but not together:
+  // reading top down, the last of them is the one that broke the rule.
+  std::string_view last_given(std::initializer_list<std::string_view> keys) const;
+  bool given(std::string_view key) const { return table_->get(key) != nullptr; }
 
   // "source:line: message" for `key` (or for the table itself when key is empty).
   [[noreturn]] void fail(std::string_view key, const std::string& message) const;

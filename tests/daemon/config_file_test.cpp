@@ -238,7 +238,7 @@ TEST(ConfigFile, ValuesOutOfRangeAreErrors) {
   EXPECT_EQ(read_error("[journal]\nmax_record_bytes = 2147483648\n"),
             "t.toml:2: 'journal.max_record_bytes' is 2147483648, out of range 1024..1073741824");
   EXPECT_EQ(read_error("[pool_defaults]\nmax_vertices = 0\n"),
-            "t.toml:2: 'pool_defaults.max_vertices' is 0, out of range 1..1073741824");
+            "t.toml:2: 'pool_defaults.max_vertices' is 0, out of range 2..1073741823");
   EXPECT_EQ(read_error("[pool_defaults]\nmax_abs_weight = -3\n"),
             "t.toml:2: 'pool_defaults.max_abs_weight' is -3, out of range 0..4503599627370496");
   EXPECT_EQ(read_error("[pools.a]\nchurn_bonus = -1\n"),
@@ -251,6 +251,53 @@ TEST(ConfigFile, ValuesOutOfRangeAreErrors) {
             "t.toml:2: 'ledger.idle_seconds' is -5, out of range 0..316224000");
   EXPECT_EQ(read_error("[ledger]\nforget_after = 3\n"),
             "t.toml:2: unknown key 'ledger.forget_after'");
+}
+
+// The engine's own ranges (resolve_limits), refused by the reader so that the message names
+// the file, line and key (they were "cannot stay exact" errors with no line).
+TEST(ConfigFile, PoolLimitsTakeTheEnginesRanges) {
+  EXPECT_EQ(read_error("[pool_defaults]\nmax_vertices = 1\n"),
+            "t.toml:2: 'pool_defaults.max_vertices' is 1, out of range 2..1073741823");
+  EXPECT_EQ(read_error("[pools.a]\nmax_vertices = 1073741824\n"),
+            "t.toml:2: 'pools.a.max_vertices' is 1073741824, out of range 2..1073741823");
+  EXPECT_EQ(read_error("[pool_defaults]\n\nmax_edges = 1073741824\n"),
+            "t.toml:3: 'pool_defaults.max_edges' is 1073741824, out of range 1..1073741823");
+  EXPECT_EQ(read_error("[pool_defaults]\nmax_vertices = 2\nmax_edges = 1073741823\n"), "");
+  EXPECT_EQ(read_error("[pool_defaults]\nmax_vertices = 1073741823\nmax_edges = 1\n"), "");
+}
+
+// Keys each in range that cannot stay exact together name the last of them in the file.
+TEST(ConfigFile, PoolKeysThatCannotStayExactTogetherNameTheirLine) {
+  const std::string bonus =
+      read_error("[pool_defaults]\nmax_abs_weight = 1099511627776\nchurn_bonus = 1\n");
+  EXPECT_EQ(bonus.rfind("t.toml:3: 'pool_defaults.churn_bonus' cannot stay exact: "
+                        "max_abs_weight = 1099511627776 exceeds",
+                        0),
+            0u)
+      << bonus;
+  const std::string weight = read_error("[pool_defaults]\nmax_abs_weight = 1099511627777\n");
+  EXPECT_EQ(weight.rfind("t.toml:2: 'pool_defaults.max_abs_weight' cannot stay exact: ", 0), 0u)
+      << weight;
+  // A declared pool that changes only its mode: the offset of max-cardinality passes 2^52.
+  const std::string mode = read_error(
+      "[pool_defaults]\nmax_abs_weight = 1099511627776\n[pools.wide]\nmode = "
+      "\"max-cardinality\"\n");
+  EXPECT_EQ(mode.rfind("t.toml:4: 'pools.wide.mode' cannot stay exact: ", 0), 0u) << mode;
+  EXPECT_EQ(read_error("[pool_defaults]\nmax_vertices = 2\nmax_abs_weight = 4503599627370496\n"),
+            "");
+}
+
+TEST(ConfigFile, AMessageLimitPastAJournalRecordNamesItsLine) {
+  EXPECT_EQ(read_error("[journal]\nmax_record_bytes = 1048576\n[limits]\n"
+                       "max_message_bytes = 2097152\n"),
+            "t.toml:4: 'limits.max_message_bytes' is 2097152, above journal.max_record_bytes "
+            "(1048576): an accepted batch must fit one journal record");
+  // Only the record's size given: the default message limit (4 MiB) no longer fits it.
+  EXPECT_EQ(read_error("[journal]\nmax_record_bytes = 1048576\n"),
+            "t.toml:2: 'journal.max_record_bytes' is 1048576, below limits.max_message_bytes "
+            "(4194304): an accepted batch must fit one journal record");
+  EXPECT_EQ(read_error("[journal]\nmax_record_bytes = 1024\n[limits]\nmax_message_bytes = 1024\n"),
+            "");
 }
 
 TEST(ConfigFile, UnknownNamesOfModesPoliciesAndLevelsAreErrors) {

@@ -16,9 +16,8 @@ namespace {
 
 using testing::read_text;
 
-// The message of the ConfigError validate_config throws for `text` plus a data dir.
-std::string validate_error(const std::string& text) {
-  DaemonConfig config = read_text(text);
+// The message of the ConfigError validate_config throws for `config` plus a data dir.
+std::string validate_error(DaemonConfig config) {
   config.data_dir = "/tmp/yoke-data";
   try {
     validate_config(config);
@@ -27,6 +26,8 @@ std::string validate_error(const std::string& text) {
   }
   return "";
 }
+
+std::string validate_error(const std::string& text) { return validate_error(read_text(text)); }
 
 TEST(ConfigValidate, RequiresADataDir) {
   EXPECT_THROW(validate_config(DaemonConfig{}), ConfigError);
@@ -61,16 +62,21 @@ TEST(ConfigValidate, EndpointsMustBeWellFormed) {
             "endpoints.metrics is 'http://127.0.0.1:7413', not HOST:PORT");
 }
 
+// Settings made in code (a file's are refused by the reader, naming the line: config_file_test).
 TEST(ConfigValidate, PoolSettingsMustStayExact) {
   // The max-cardinality offset for |w| = 2^50 passes 2^52 (PoolRegistry refuses it).
-  const std::string declared =
-      validate_error("[pools.wide]\nmode = \"max-cardinality\"\nmax_abs_weight = 1125899906842624\n");
+  DaemonConfig wide;
+  wide.pools["wide"].mode = Mode::max_cardinality;
+  wide.pools["wide"].limits.max_abs_weight = std::int64_t{1} << 50;
+  const std::string declared = validate_error(wide);
   EXPECT_EQ(declared.rfind("pools.wide cannot stay exact: ", 0), 0u) << declared;
   // 2^22 vertices x 2^52 passes the 2^61 bound on the total weight.
-  const std::string defaults = validate_error("[pool_defaults]\nmax_abs_weight = 4503599627370496\n");
+  DaemonConfig heavy;
+  heavy.pool_defaults.limits.max_abs_weight = std::int64_t{1} << 52;
+  const std::string defaults = validate_error(heavy);
   EXPECT_EQ(defaults.rfind("pool_defaults cannot stay exact: ", 0), 0u) << defaults;
-  EXPECT_EQ(validate_error("[pool_defaults]\nmax_vertices = 1000\nmax_abs_weight = 4503599627370496\n"),
-            "");
+  heavy.pool_defaults.limits.max_vertices = 1000;
+  EXPECT_EQ(validate_error(heavy), "");
 }
 
 // Declared pools have their slots reserved under max_pools: they must all fit.
@@ -84,7 +90,9 @@ TEST(ConfigValidate, DeclaredPoolsMustFitUnderMaxPools) {
 }
 
 TEST(ConfigValidate, AMessageMustFitAJournalRecord) {
-  EXPECT_EQ(validate_error("[limits]\nmax_message_bytes = 33554432\n"),
+  DaemonConfig config;
+  config.limits.max_message_bytes = 33554432;
+  EXPECT_EQ(validate_error(config),
             "limits.max_message_bytes (33554432) exceeds journal.max_record_bytes (16777216): "
             "an accepted batch must fit one journal record");
 }

@@ -1,11 +1,14 @@
 #!/usr/bin/env python3
 """An outside integrator's probe of yoked, written from the spec alone (docs/protocol.md,
-docs/contracts.md, README.md, proto/yoke/v1/): each case prints what the spec says (with the
+docs/contracts.md, docs/formats.md, README.md, proto/yoke/v1/, daemon/yoked.example.toml and the
+commands' --help): each case prints what the spec says (with the
 line), what the daemon did, and agree / DISAGREE / GAP (the spec is silent or ambiguous).
 
     PYTHONPATH=build/proto/python:tools/python/probe /usr/bin/python3 \
         tools/python/probe/yoke_probe.py --yoked build/daemon/server/yoked \
-        [--yoke build/tools/cli/yoke]   # also replays the main daemon's journal and compares
+        [--yoke build/tools/cli/yoke]   # also replays the main daemon's journal and compares,
+                                        # runs the client commands and the text formats
+        [--slow]                        # also the slow cases (not in CTest)
 
 Starts its own daemons on free loopback ports and temporary data directories, and stops them
 by their PIDs on every way out. Exit status 0 when no case disagrees, 1 otherwise."""
@@ -14,8 +17,14 @@ import argparse
 import sys
 import time
 
+import cases_cli
+import cases_config
+import cases_formats
 import cases_input
+import cases_keys
 import cases_lifecycle
+import cases_many
+import cases_metrics
 import cases_more
 import cases_recovery
 import cases_state
@@ -37,6 +46,8 @@ churn_bonus = 1000
 [pools.lim]
 max_vertices = 3
 max_edges = 1
+[pools.exact3]
+max_vertices = 6
 """
 
 SMALL_CONFIG = """
@@ -76,6 +87,8 @@ def main():
                         "journal and compare")
     parser.add_argument("--keep", action="store_true", help="keep the data directories")
     parser.add_argument("--skip-lifecycle", action="store_true")
+    parser.add_argument("--slow", action="store_true", help="also the slow cases (not in CTest):"
+                        " a 10^5-vertex pool's long repairs beside another pool")
     args = parser.parse_args()
     rec = Record()
     daemons = []
@@ -105,6 +118,16 @@ def main():
             cases_more.live_catch_up(rec, c, main_daemon)
         cases_more.req_ingest(rec, main_daemon)
         cases_more.metrics(rec, main_daemon)
+        print("== metrics (third pass)", flush=True)
+        cases_metrics.all_cases(rec, args.yoke, main_daemon)
+        if args.yoke:
+            cases_cli.all_cases(rec, args.yoke, main_daemon)
+        cases_many.interleaving(rec, args.yoke, main_daemon)
+        with Client(main_daemon) as c:
+            cases_keys.health_and_exact(rec, c)
+        if args.yoke:
+            cases_many.retire_during_catch_up(rec, args.yoke, main_daemon)
+            cases_keys.exact_in_json(rec, args.yoke, main_daemon)
         print("== far_oversized", flush=True)
         cases_lifecycle.far_oversized(rec, main_daemon)
         cases_lifecycle.unread_replies(rec, main_daemon)
@@ -127,6 +150,27 @@ def main():
             daemons.append(cases_lifecycle.sigkill_restart(rec, args.yoked))
             print("== recovery", flush=True)
             daemons.append(cases_recovery.recovery(rec, args.yoked))
+            print("== sigterm_many", flush=True)
+            cases_many.sigterm_many(rec, args.yoked)
+            print("== lock_wait", flush=True)
+            cases_many.lock_wait(rec, args.yoked)
+        cases_config.all_cases(rec, args.yoked)
+        cases_keys.all_cases(rec, args.yoked, args.yoke)
+        if args.yoke:
+            cases_cli.send_oversized(rec, args.yoke, args.yoked)
+        if args.yoke:
+            cases_formats.all_cases(rec, args.yoke)
+        if args.slow:  # kept out of CTest's run for its time
+            print("== long_repair (slow)", flush=True)
+            cases_many.long_repair(rec, args.yoked)
+            if args.yoke:
+                print("== send_across_a_restart (slow)", flush=True)
+                cases_cli.send_across_a_restart(rec, args.yoke, args.yoked)
+                print("== keys.segments (slow)", flush=True)
+                cases_keys.segments(rec, args.yoked, args.yoke)
+            print("== timers (slow)", flush=True)
+            cases_config.slow_window(rec, args.yoked)
+            cases_keys.snapshot_timer(rec, args.yoked)
     finally:
         for d in daemons:
             if d is not None:
