@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "ingest_load.h"
+#include "tools/bench/machine_facts.h"
 #include "tools/graphgen/event_stream.h"
 #include "yoke/pool.h"
 #include "yoke/v1/query.pb.h"
@@ -311,6 +312,15 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
                   thread.switches, thread.faults);
     }
     std::printf("\n");
+    // How many cores the run kept busy, and the rate this CPU per event would reach with every
+    // usable core busy: a run near that bound is held by CPU per event, not by waiting.
+    const double total_us = run.loop_us + run.workers_us + run.clients_us;
+    const double cpus = static_cast<double>(std::max(usable_cpus(), 1L));
+    std::printf("         cores busy: yoked %.2f, clients %.2f (of %.0f); all %.0f busy at this CPU "
+                "per event: %.0f events/s\n",
+                (run.loop_us + run.workers_us) * run.events_per_second * 1e-6,
+                run.clients_us * run.events_per_second * 1e-6, cpus, cpus,
+                cpus * 1e6 / std::max(total_us, 1e-9));
   }
 }
 
