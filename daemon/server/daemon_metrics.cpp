@@ -37,13 +37,20 @@ DaemonMetrics::DaemonMetrics()
           "How long the last snapshot took to capture and write, in seconds (0: none yet).")),
       uptime_seconds_(&registry_.gauge("yoke_uptime_seconds", "Seconds since the daemon started.")) {}
 
+metrics::Counter& DaemonMetrics::batches_counter(const std::string& pool, bool duplicate) {
+  auto found = batches_by_pool_.find(pool);
+  if (found == batches_by_pool_.end()) found = batches_by_pool_.emplace(pool, BatchCounters{}).first;
+  metrics::Counter*& counter = duplicate ? found->second.duplicate : found->second.accepted;
+  if (counter == nullptr) {  // registered on first use, as before: no series of 0 appears
+    counter = &registry_.counter("yoke_batches_total", "Batches acknowledged, by pool and outcome.",
+                                 {{"pool", pool}, {"outcome", duplicate ? "duplicate" : "accepted"}});
+  }
+  return *counter;
+}
+
 void DaemonMetrics::acknowledged(const v1::Ack& ack) {
   if (ack.has_accepted()) {
-    const char* outcome = ack.accepted().duplicate() ? "duplicate" : "accepted";
-    registry_
-        .counter("yoke_batches_total", "Batches acknowledged, by pool and outcome.",
-                 {{"pool", ack.pool()}, {"outcome", outcome}})
-        .add();
+    batches_counter(ack.pool(), ack.accepted().duplicate()).add();
     return;
   }
   if (ack.rejected().errors_size() == 0) return;

@@ -4,6 +4,8 @@
 
 #include <chrono>
 #include <cstdint>
+#include <functional>
+#include <map>
 #include <string>
 
 #include "daemon/metrics/metrics_registry.h"
@@ -24,7 +26,10 @@ class DaemonMetrics {
   void snapshot_written(std::chrono::nanoseconds took);
   // Drops every series labelled with the retired pool: names that come and go must not grow
   // the page (or the daemon) for ever. O(total series).
-  void pool_retired(const std::string& pool) { registry_.forget_series("pool", pool); }
+  void pool_retired(const std::string& pool) {
+    batches_by_pool_.erase(pool);  // its counters are among the series that go
+    registry_.forget_series("pool", pool);
+  }
 
   // The page, with the pools' gauges refreshed from `service` first.
   std::string render(PoolService& service, std::chrono::steady_clock::duration uptime);
@@ -32,6 +37,15 @@ class DaemonMetrics {
  private:
   static constexpr const char* kQueries = "yoke_queries_total";
   static constexpr const char* kQueriesHelp = "Query socket requests by kind.";
+
+  // A pool's counters of accepted batches, each found in the registry once: its look-up
+  // (labels built, names checked, label sets compared) is a few microseconds, and every batch
+  // is acknowledged on the loop thread.
+  struct BatchCounters {
+    metrics::Counter* accepted = nullptr;
+    metrics::Counter* duplicate = nullptr;
+  };
+  metrics::Counter& batches_counter(const std::string& pool, bool duplicate);
 
   metrics::Registry registry_;
   metrics::Counter* ingest_messages_;
@@ -42,6 +56,7 @@ class DaemonMetrics {
   metrics::Counter* snapshots_;
   metrics::Gauge* snapshot_seconds_;
   metrics::Gauge* uptime_seconds_;
+  std::map<std::string, BatchCounters, std::less<>> batches_by_pool_;
 };
 
 }  // namespace yoke::daemon

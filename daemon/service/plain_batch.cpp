@@ -1,7 +1,9 @@
 #include "plain_batch.h"
 
+#include <algorithm>
 #include <climits>
 #include <cstdint>
+#include <iterator>
 #include <optional>
 #include <string>
 #include <utility>
@@ -39,12 +41,24 @@ bool ascii(std::string_view text) {
   return true;
 }
 
-// One Event as decode_event reads it, when decode_event accepts it. Its fields are read by
-// their one-byte tags (what encoders write for field numbers 1 to 4): the loop's inner loop.
-bool read_plain_event(std::string_view bytes, Event& event) {
+// An event's fields as every encoder writes them: in field order, each at most once, each a
+// varint. One byte comparison per field, where the loop of read_any_order tests each tag's
+// wire type, number and repetition. False when the bytes are not all of that shape (then
+// read_any_order reads them afresh: what it accepts in this shape, it reads the same way).
+bool read_in_order(std::string_view bytes, std::uint64_t (&fields)[kEventW + 1]) {
+  WireReader reader(bytes);
+  for (std::uint32_t field = 1; field <= kEventW && !reader.done(); ++field) {
+    if (static_cast<std::uint8_t>(bytes[reader.at()]) != ((field << 3) | kVarint)) continue;
+    reader.step(1);
+    if (!reader.varint(fields[field])) return false;
+  }
+  return reader.done();
+}
+
+// Any order: each field number 1 to kEventW at most once, each a varint.
+bool read_any_order(std::string_view bytes, std::uint64_t (&fields)[kEventW + 1]) {
   WireReader reader(bytes);
   SeenFields seen;
-  std::uint64_t fields[kEventW + 1] = {};
   while (!reader.done()) {
     const auto tag = static_cast<std::uint8_t>(bytes[reader.at()]);
     const std::uint32_t field = tag >> 3;
@@ -53,6 +67,17 @@ bool read_plain_event(std::string_view bytes, Event& event) {
     }
     reader.step(1);
     if (!reader.varint(fields[field])) return false;
+  }
+  return true;
+}
+
+// One Event as decode_event reads it, when decode_event accepts it. Its fields are read by
+// their one-byte tags (what encoders write for field numbers 1 to 4): the loop's inner loop.
+bool read_plain_event(std::string_view bytes, Event& event) {
+  std::uint64_t fields[kEventW + 1] = {};
+  if (!read_in_order(bytes, fields)) {
+    std::fill(std::begin(fields), std::end(fields), 0);
+    if (!read_any_order(bytes, fields)) return false;
   }
   const std::optional<EventKind> kind = engine_kind(fields[kEventKind]);
   // Unspecified, or a number decode_event names in its refusal; then decode_event's field rules.

@@ -3,7 +3,12 @@
 #include <fcntl.h>
 
 #include <cstring>
+#include <stdexcept>
+#include <string>
 #include <string_view>
+
+#include <google/protobuf/io/coded_stream.h>
+#include <google/protobuf/io/zero_copy_stream.h>
 
 #include "daemon/journal/crc32c.h"
 #include "daemon/journal/journal_error.h"
@@ -31,12 +36,83 @@ std::string header(std::uint64_t journal_position, std::uint32_t pools) {
   return bytes + crc.take();
 }
 
-std::string entry_frame(const std::string& payload) {
+std::string entry_frame(std::uint64_t payload_bytes, std::uint32_t payload_crc) {
   ByteWriter writer;
-  writer.put(static_cast<std::uint64_t>(payload.size()));
-  writer.put(journal::crc32c(payload));
+  writer.put(payload_bytes);
+  writer.put(payload_crc);
   return writer.take();
 }
+
+// A record's serialization in pieces: Protobuf's own bytes, but a large string or bytes field
+// (a pool's engine state: megabytes) is left where it lies in the record instead of copied:
+// Protobuf hands it to an aliasing stream as a pointer. The pieces joined are the record's
+// SerializeAsString(); they live as long as this and the record.
+class RecordPieces final : public google::protobuf::io::ZeroCopyOutputStream {
+ public:
+  explicit RecordPieces(const v1::SnapshotRecord& record) : bytes_(record.ByteSizeLong()) {
+    {
+      google::protobuf::io::CodedOutputStream out(this);
+      out.EnableAliasing(true);
+      record.SerializeWithCachedSizes(&out);  // the sizes ByteSizeLong() cached
+      if (out.HadError()) throw std::runtime_error("a snapshot record did not serialize");
+    }  // gone: it gave back (BackUp) what it did not fill
+    if (written_ != static_cast<std::int64_t>(bytes_)) {
+      throw std::runtime_error("a snapshot record serialized to another size than it said");
+    }
+    end_owned();
+    // Views only now: the owned buffer grew (and moved) while Protobuf wrote.
+    for (const Piece& piece : order_) {
+      views_.push_back(piece.owned
+                           ? std::string_view(owned_).substr(piece.begin, piece.end - piece.begin)
+                           : piece.aliased);
+    }
+  }
+  std::uint64_t bytes() const { return bytes_; }
+  const std::vector<std::string_view>& views() const { return views_; }
+
+  bool Next(void** data, int* size) override {
+    constexpr std::size_t kChunk = 16 * 1024;
+    const std::size_t at = owned_.size();
+    owned_.resize(at + kChunk);
+    *data = owned_.data() + at;
+    *size = static_cast<int>(kChunk);
+    written_ += kChunk;
+    return true;
+  }
+  void BackUp(int count) override {
+    owned_.resize(owned_.size() - static_cast<std::size_t>(count));
+    written_ -= count;
+  }
+  std::int64_t ByteCount() const override { return written_; }
+  bool AllowsAliasing() const override { return true; }
+  bool WriteAliasedRaw(const void* data, int size) override {
+    end_owned();
+    order_.push_back({false, 0, 0,
+                      std::string_view(static_cast<const char*>(data),
+                                       static_cast<std::size_t>(size))});
+    written_ += size;
+    return true;
+  }
+
+ private:
+  struct Piece {
+    bool owned;
+    std::size_t begin, end;     // owned: bytes [begin, end) of owned_
+    std::string_view aliased;  // not owned: the record's own bytes
+  };
+  // The owned bytes written since the last piece become one.
+  void end_owned() {
+    if (owned_.size() > owned_start_) order_.push_back({true, owned_start_, owned_.size(), {}});
+    owned_start_ = owned_.size();
+  }
+
+  std::uint64_t bytes_;
+  std::string owned_;
+  std::size_t owned_start_ = 0;
+  std::int64_t written_ = 0;
+  std::vector<Piece> order_;
+  std::vector<std::string_view> views_;
+};
 
 std::string read_whole(const std::filesystem::path& path) {
   journal::FileDescriptor file = journal::open_file(path, O_RDONLY);
@@ -63,12 +139,13 @@ void write_snapshot_file(const std::filesystem::path& path, std::uint64_t journa
       end = journal::write_paced(file, bytes, end, kWriteBackPiece, temporary);
     };
     put(header(journal_position, static_cast<std::uint32_t>(pools.size())));
-    std::string payload;
     for (const v1::SnapshotRecord& pool : pools) {
-      payload.clear();
-      pool.SerializeToString(&payload);
-      put(entry_frame(payload));
-      put(payload);
+      // Not serialized into one string first: that copied each pool's engine state once more.
+      const RecordPieces payload(pool);
+      std::uint32_t crc = journal::crc32c(std::string_view());
+      for (const std::string_view piece : payload.views()) crc = journal::crc32c_extend(crc, piece);
+      put(entry_frame(payload.bytes(), crc));
+      for (const std::string_view piece : payload.views()) put(piece);
     }
     put(kEndMarker);
     journal::sync_data(file, temporary);

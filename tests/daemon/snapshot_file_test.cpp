@@ -116,6 +116,28 @@ TEST_F(SnapshotFileTest, RoundTripOfSeveralRecords) {
                                 expected[2].SerializeAsString()}));
 }
 
+// The writer hands a large engine state to the file from the record itself, in pieces around
+// Protobuf's other bytes: the file must hold exactly the records' serializations all the same
+// (a state of megabytes, one just past a small write's reach, one empty; the fields after it).
+TEST_F(SnapshotFileTest, LargeEngineStatesAreWrittenAsTheirSerializations) {
+  std::vector<v1::SnapshotRecord> records = sample_records();
+  std::string big(3 * 1024 * 1024 + 17, '\0');
+  for (std::size_t i = 0; i < big.size(); ++i) big[i] = static_cast<char>(i * 131 % 251);
+  records[0].set_engine_state(big);
+  records[1].set_engine_state(std::string(16 * 1024 + 1, 'y'));
+  records[1].set_incarnation(77);
+  records[2].clear_engine_state();
+  for (int i = 0; i < 300; ++i) *records[2].add_clients() = records[0].clients(0);
+  write_snapshot_file(path_, 1234, records);
+  EXPECT_EQ(read_file(path_),
+            forged_file(1, 1234, 3,
+                        {records[0].SerializeAsString(), records[1].SerializeAsString(),
+                         records[2].SerializeAsString()}));
+  const SnapshotContents contents = read_snapshot_file(path_);
+  ASSERT_EQ(contents.pools.size(), 3u);
+  EXPECT_EQ(contents.pools[0].engine_state(), big);
+}
+
 TEST_F(SnapshotFileTest, RoundTripOfNoRecordsAndRewrite) {
   write_snapshot_file(path_, 9, {});
   SnapshotContents contents = read_snapshot_file(path_);

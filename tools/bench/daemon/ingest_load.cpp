@@ -5,7 +5,7 @@
 #include <chrono>
 #include <cmath>
 #include <deque>
-#include <map>
+#include <optional>
 #include <stdexcept>
 #include <thread>
 
@@ -21,11 +21,9 @@ double micros_since(Clock::time_point start) {
   return std::chrono::duration<double, std::micro>(Clock::now() - start).count();
 }
 
-// Reads one reply; returns the client_batch it acknowledges. Throws on a rejection.
-std::uint64_t read_ack(zmq::socket_t& socket) {
-  zmq::message_t message;
-  (void)socket.recv(message);
-  v1::IngestReply reply;
+// The client_batch one reply acknowledges, parsed into `reply`, which the caller keeps from
+// reply to reply (its strings keep their buffers: no allocation per ack). Throws on a rejection.
+std::uint64_t read_ack(const zmq::message_t& message, v1::IngestReply& reply) {
   if (!reply.ParseFromArray(message.data(), static_cast<int>(message.size())) ||
       !reply.ack().has_accepted()) {
     throw std::runtime_error("batch " + std::to_string(reply.ack().client_batch()) +
@@ -48,18 +46,57 @@ zmq::socket_t connect_dealer(zmq::context_t& context, const std::string& endpoin
   return socket;
 }
 
+// Send times of the batches in flight. The batches of a run are numbered consecutively, so a
+// flat array indexed by number serves where a map allocated and freed a node per batch: the
+// clients share the 2 cores with the daemon they measure.
+class SendTimes {
+ public:
+  SendTimes(std::uint64_t first_number, std::size_t count)
+      : first_(first_number), sent_(count), pending_(count, false) {}
+  void sent(std::uint64_t number, Clock::time_point at) {
+    sent_[number - first_] = at;
+    pending_[number - first_] = true;
+    ++in_flight_;
+  }
+  // The microseconds since `number` was sent, once; nothing for a number not in flight.
+  std::optional<double> acknowledged(std::uint64_t number) {
+    const std::uint64_t index = number - first_;  // below first_: wraps, out of range
+    if (index >= pending_.size() || !pending_[index]) return std::nullopt;
+    pending_[index] = false;
+    --in_flight_;
+    return micros_since(sent_[index]);
+  }
+  std::size_t in_flight() const { return in_flight_; }
+
+ private:
+  std::uint64_t first_;
+  std::vector<Clock::time_point> sent_;
+  std::vector<bool> pending_;
+  std::size_t in_flight_ = 0;
+};
+
+// Hands every reply already queued on `socket` to `take` (non-blocking receives: one poll per
+// burst of replies, not one per reply).
+template <typename Take>
+void drain_replies(zmq::socket_t& socket, Take take) {
+  zmq::message_t message;
+  while (socket.recv(message, zmq::recv_flags::dontwait)) take(message);
+}
+
 // The pipelined loop shared by the daemon run and the raw reference: `read` returns the batch
 // number one reply acknowledges.
 template <typename ReadReply>
 LoadResult pipeline(zmq::socket_t& socket, const std::vector<EncodedBatch>& batches,
                     std::size_t begin, std::size_t end, std::size_t in_flight, ReadReply read) {
   LoadResult result;
-  std::map<std::uint64_t, Clock::time_point> sent;
+  if (begin >= end) return result;
+  result.latency_us.reserve(end - begin);
+  SendTimes times(batches[begin].number, end - begin);
   const Clock::time_point start = Clock::now();
   std::size_t next = begin;
-  while (next < end || !sent.empty()) {
-    while (next < end && sent.size() < in_flight) {
-      sent.emplace(batches[next].number, Clock::now());
+  while (next < end || times.in_flight() > 0) {
+    while (next < end && times.in_flight() < in_flight) {
+      times.sent(batches[next].number, Clock::now());
       socket.send(zmq::buffer(batches[next].bytes), zmq::send_flags::none);
       result.events += batches[next].events;
       ++next;
@@ -67,12 +104,9 @@ LoadResult pipeline(zmq::socket_t& socket, const std::vector<EncodedBatch>& batc
     if (!wait_readable(socket, std::chrono::seconds(30))) {
       throw std::runtime_error("no acknowledgement for 30 s");
     }
-    while (wait_readable(socket, std::chrono::milliseconds(0))) {
-      const auto it = sent.find(read(socket));
-      if (it == sent.end()) continue;
-      result.latency_us.push_back(micros_since(it->second));
-      sent.erase(it);
-    }
+    drain_replies(socket, [&](const zmq::message_t& message) {
+      if (const auto us = times.acknowledged(read(message))) result.latency_us.push_back(*us);
+    });
   }
   result.seconds = std::chrono::duration<double>(Clock::now() - start).count();
   result.batches = end - begin;
@@ -105,7 +139,9 @@ LoadResult send_pipelined(zmq::context_t& context, const std::string& endpoint,
                           const std::vector<EncodedBatch>& batches, std::size_t begin,
                           std::size_t end, std::size_t in_flight) {
   zmq::socket_t socket = connect_dealer(context, endpoint);
-  return pipeline(socket, batches, begin, end, in_flight, read_ack);
+  v1::IngestReply reply;
+  return pipeline(socket, batches, begin, end, in_flight,
+                  [&reply](const zmq::message_t& message) { return read_ack(message, reply); });
 }
 
 LoadResult send_paced(zmq::context_t& context, const std::string& endpoint,
@@ -113,18 +149,19 @@ LoadResult send_paced(zmq::context_t& context, const std::string& endpoint,
                       std::size_t end, double batches_per_second) {
   zmq::socket_t socket = connect_dealer(context, endpoint);
   LoadResult result;
-  std::map<std::uint64_t, Clock::time_point> sent;
+  if (begin >= end) return result;
+  SendTimes times(batches[begin].number, end - begin);
+  v1::IngestReply reply;
   const auto period = std::chrono::duration<double>(1.0 / batches_per_second);
   const Clock::time_point start = Clock::now();
   std::size_t next = begin;
   const auto collect = [&](std::chrono::milliseconds wait) {
     if (!wait_readable(socket, wait)) return;
-    while (wait_readable(socket, std::chrono::milliseconds(0))) {
-      const auto it = sent.find(read_ack(socket));
-      if (it == sent.end()) continue;
-      result.latency_us.push_back(micros_since(it->second));
-      sent.erase(it);
-    }
+    drain_replies(socket, [&](const zmq::message_t& message) {
+      if (const auto us = times.acknowledged(read_ack(message, reply))) {
+        result.latency_us.push_back(*us);
+      }
+    });
   };
   while (next < end) {
     const auto due = start + std::chrono::duration_cast<Clock::duration>(
@@ -137,14 +174,16 @@ LoadResult send_paced(zmq::context_t& context, const std::string& endpoint,
     // The last sub-millisecond (poll's resolution is 1 ms) asleep, not spinning: a spinning
     // client took up to a fifth of a core per paced pool from the daemon it measures (2 cores).
     std::this_thread::sleep_until(due);
-    sent.emplace(batches[next].number, Clock::now());
+    times.sent(batches[next].number, Clock::now());
     socket.send(zmq::buffer(batches[next].bytes), zmq::send_flags::none);
     result.events += batches[next].events;
     ++next;
   }
   const Clock::time_point drain_deadline = Clock::now() + std::chrono::seconds(30);
-  while (!sent.empty() && Clock::now() < drain_deadline) collect(std::chrono::milliseconds(100));
-  if (!sent.empty()) throw std::runtime_error("acknowledgements missing after the paced run");
+  while (times.in_flight() > 0 && Clock::now() < drain_deadline) {
+    collect(std::chrono::milliseconds(100));
+  }
+  if (times.in_flight() > 0) throw std::runtime_error("acknowledgements missing after the paced run");
   result.seconds = std::chrono::duration<double>(Clock::now() - start).count();
   result.batches = end - begin;
   return result;
@@ -173,9 +212,7 @@ LoadResult raw_zmq_reference(zmq::context_t& context, const std::string& endpoin
   });
   zmq::socket_t dealer = connect_dealer(context, endpoint);
   LoadResult result = pipeline(dealer, batches, 0, batches.size(), in_flight,
-                               [](zmq::socket_t& socket) {
-                                 zmq::message_t message;
-                                 (void)socket.recv(message);
+                               [](const zmq::message_t& message) {
                                  std::uint64_t number = 0;
                                  std::memcpy(&number, message.data(), sizeof number);
                                  return number;

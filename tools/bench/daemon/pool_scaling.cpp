@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "ingest_load.h"
+#include "tools/bench/machine_facts.h"
 #include "tools/graphgen/event_stream.h"
 #include "yoke/pool.h"
 #include "yoke/v1/query.pb.h"
@@ -289,6 +290,7 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
               "vs first", "of it");
   double first = 0;
   double engine_first = 0;
+  double strand_first = 0;  // events/s of one pool's repair thread at the first run's CPU
   for (const std::size_t pools : settings.pool_counts) {
     std::vector<Batches> streams;
     for (std::size_t i = 0; i < pools; ++i) {
@@ -311,6 +313,22 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
                   thread.switches, thread.faults);
     }
     std::printf("\n");
+    // How many cores the run kept busy, and the rate this CPU per event would reach with every
+    // usable core busy: a run near that bound is held by CPU per event, not by waiting. Against
+    // the first run's strand bound (one pool's repairs on one thread, at their CPU per event),
+    // that is the ratio idle cores would give: read from CPU times, it holds under other load.
+    const double total_us = run.loop_us + run.workers_us + run.clients_us;
+    const double cpus = static_cast<double>(std::max(usable_cpus(), 1L));
+    const double all_busy = cpus * 1e6 / std::max(total_us, 1e-9);
+    const auto repairs = run.threads.find("yoked-repair");
+    if (strand_first == 0 && repairs != run.threads.end()) {
+      strand_first = 1e6 / std::max(repairs->second.seconds, 1e-9);
+    }
+    std::printf("         cores busy: yoked %.2f, clients %.2f (of %.0f); all %.0f busy at this CPU "
+                "per event: %.0f events/s, %.2fx the first run's strand bound\n",
+                (run.loop_us + run.workers_us) * run.events_per_second * 1e-6,
+                run.clients_us * run.events_per_second * 1e-6, cpus, cpus, all_busy,
+                all_busy / std::max(strand_first, 1.0));
   }
 }
 
