@@ -93,6 +93,7 @@ CommitResult Pool::repair() {
     search_from_roots(pool);
   }
   settle_churn_bonus(pool);
+  flush_pending_duals(pool);
 
   CommitResult result;
   result.diff = collect_diff(pool);

@@ -209,7 +209,7 @@ class EventRepair {
     for (const Incidence& inc : graph_.graph().incident(v)) {
       if (inc.other == skip) continue;
       // v is in no blossom, so no blossom dual counts on its edges.
-      least = std::min(least, dual2_[v] + dual2_[inc.other] - 2 * (inc.w + pool_.weight_offset));
+      least = std::min(least, dual2_[v] + dual(inc.other) - 2 * (inc.w + pool_.weight_offset));
       if (least <= 0) return 0;
     }
     pool_.stats.vertices_touched += 1;
@@ -277,11 +277,16 @@ class EventRepair {
     return forest_.is_vertex(top) ? (mate_[v] == kNoVertex ? 0 : 1) : 1 + forest_.size(top);
   }
 
-  // Counts the vertices whose dual moved as touched (RepairStats counts vertex visits; an
-  // unpriced blossom's vertices are not visited).
+  // Counts the vertices whose dual was written as touched (RepairStats counts vertex visits):
+  // a vertex child's at once; a blossom child's dual is owed (BlossomForest::pending_dual2) and
+  // written by the search that labels it, on the pass over its vertices it makes anyway, or
+  // by flush_pending_duals at the end of the repair, which counts them. An unpriced blossom's
+  // vertices are owed nothing.
   void dissolve_from(NodeId lowest) {
     bases_.clear();
+    const std::size_t owing_before = forest_.pending_count();
     const std::size_t pushed = forest_.dissolve_path(lowest, dual2_, bases_);
+    pool_.stats.blossoms_owing += forest_.pending_count() - owing_before;
     pool_.stats.vertices_touched += pushed;
     pool_.stats.vertices_dissolved += pushed;
     pool_.stats.blossoms_dissolved += bases_.size();
@@ -321,8 +326,12 @@ class EventRepair {
   }
 
   Weight slack2(Vertex a, Vertex b, EdgeIndex e) {
-    return dual2_[a] + dual2_[b] + common_blossom(a, b).z2 - pool_.weight2(e);
+    return dual(a) + dual(b) + common_blossom(a, b).z2 - pool_.weight2(e);
   }
+
+  // v's doubled dual with what a dissolution still owes it (BlossomForest::pending_dual2). The
+  // duals this repair writes are of plain top-level vertices, which are never owed anything.
+  Weight dual(Vertex v) const { return vertex_dual2(pool_, v); }
 
   // O(depth of a and b in their blossom).
   Common common_blossom(Vertex a, Vertex b) {
@@ -396,11 +405,23 @@ void apply_event(PoolState& pool, const Event& event) {
   ++pool.stats.events;
 }
 
+Weight vertex_dual2(const PoolState& pool, Vertex v) {
+  const BlossomForest& forest = pool.matching.forest;
+  const Weight owed = forest.has_pending() ? forest.pending_dual2(forest.top(v)) : 0;
+  return pool.matching.dual2[v] + owed;
+}
+
+std::size_t flush_pending_duals(PoolState& pool) {
+  const std::size_t written = pool.matching.forest.flush_pending(pool.matching.dual2);
+  pool.stats.vertices_touched += written;
+  pool.stats.vertices_dissolved += written;
+  return written;
+}
+
 void search_from_roots(PoolState& pool) {
   using Root = PoolState::RootCandidate;
   std::vector<Root>& roots = pool.root_candidates;
   Mates& mate = pool.matching.mate;
-  std::vector<Weight>& dual2 = pool.matching.dual2;
   // A vertex queued by several events goes back to the first of them.
   std::sort(roots.begin(), roots.end(), [](const Root& x, const Root& y) {
     return x.vertex != y.vertex ? x.vertex < y.vertex : x.cause < y.cause;
@@ -409,7 +430,9 @@ void search_from_roots(PoolState& pool) {
                           [](const Root& x, const Root& y) { return x.vertex == y.vertex; }),
               roots.end());
   // Still a root: exposed with a positive dual (an earlier tree may have reached it since).
-  const auto still_a_root = [&](Vertex v) { return mate[v] == kNoVertex && dual2[v] != 0; };
+  const auto still_a_root = [&](Vertex v) {
+    return mate[v] == kNoVertex && vertex_dual2(pool, v) != 0;
+  };
   std::erase_if(roots, [&](const Root& root) {
     return !pool.graph.alive(root.vertex) || !still_a_root(root.vertex);
   });
@@ -430,7 +453,7 @@ void search_from_roots(PoolState& pool) {
       bool any = false;
       for (const Root& root : roots) {
         const Vertex v = root.vertex;
-        if (!still_a_root(v) || dual2[v] % 2 != parity) continue;
+        if (!still_a_root(v) || vertex_dual2(pool, v) % 2 != parity) continue;
         search.add_root(v, root.cause);
         any = true;
       }

@@ -97,6 +97,13 @@ void load_event(PoolState& pool, const Event& event);
 void apply_event(PoolState& pool, const Event& event);
 // Grows alternating trees from the queued roots until the matching is optimal again.
 void search_from_roots(PoolState& pool);
+// Vertex v's doubled dual during a repair: dual2[v] plus what a dissolution still owes it
+// (BlossomForest::pending_dual2). Outside a repair dual2[v] alone.
+Weight vertex_dual2(const PoolState& pool, Vertex v);
+// Writes the duals the repair's dissolutions still owe into the vertices that were not visited
+// for them (counted as touched). Pool::repair's last step on the duals: after it every reader
+// may take dual2 as it is. Returns the number of vertices written.
+std::size_t flush_pending_duals(PoolState& pool);
 // Moves the churn bonus from the pairs the commit broke to the pairs it formed, repairing after
 // each move, until the bonus sits on exactly the matching (docs/mathematics.md §6).
 void settle_churn_bonus(PoolState& pool);

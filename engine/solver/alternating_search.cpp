@@ -2,6 +2,8 @@
 
 #include <algorithm>
 
+#include "yoke/util/dcheck.h"
+
 namespace yoke {
 
 AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, MatchingState& state,
@@ -23,10 +25,16 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       root_cause_(graph.vertex_count(), kNoCause),
       mark_(2 * graph.vertex_count(), 0) {}
 
-Weight AlternatingSearch::vertex_dual(Vertex v) const {
-  const VertexMark& mark = vertex_mark_[v];
-  if (mark.stamp != stamp_) return dual2_[v];
-  return dual2_[v] + mark.sign * (delta_ - mark.since);
+Weight AlternatingSearch::owed_dual2_slow(Vertex v) const {
+  return forest_.pending_dual2(forest_.top(v));
+}
+
+void AlternatingSearch::settle_owed_slow(NodeId node) {
+  const Weight owed = forest_.pending_dual2(node);
+  if (owed == 0) return;
+  forest_.for_each_vertex(node, [&](Vertex v) { dual2_[v] += owed; });
+  forest_.settle_top(node);  // its vertices' caches still name the dissolved blossoms
+  forest_.clear_pending(node);
 }
 
 Weight AlternatingSearch::blossom_dual(NodeId b) const {
@@ -37,7 +45,9 @@ Weight AlternatingSearch::blossom_dual(NodeId b) const {
 }
 
 void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
-  dual2_[v] = vertex_dual(v);
+  dual2_[v] = settled_vertex_dual(v);
+  YOKE_DCHECK(!may_owe_ || forest_.pending_dual2(forest_.top(v)) == 0,
+              "set_vertex_sign: a vertex whose node still owes its dual");
   vertex_mark_[v] = {delta_, stamp_, static_cast<std::int8_t>(sign)};
 }
 
@@ -59,6 +69,7 @@ void AlternatingSearch::label_node(NodeId node, Label label, Vertex outer, Verte
 
 void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Vertex tree) {
   label_node(node, kEven, via_odd, base, tree);
+  settle_owed(node);
   forest_.for_each_vertex(node, [&](Vertex v) { make_even(v); });
 }
 
@@ -74,7 +85,11 @@ void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Ve
   label_node(node, kOdd, via_even, entry, tree);
   // A child of an expanding odd blossom that stays odd keeps its vertices' lazy duals as they
   // are (same sign, same start): skipping the pass saves O(|child|) per expanded level.
-  if (!vertices_already_odd) forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
+  if (!vertices_already_odd) {
+    settle_owed(node);
+    forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
+  }
+  YOKE_DCHECK(forest_.pending_dual2(node) == 0, "label_odd: a pending dual left unwritten");
   if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
 }
 
@@ -92,6 +107,7 @@ void AlternatingSearch::scan(Vertex v) {
   const NodeId top_v = forest_.top(v);
   // A plain vertex is a top-level node of its own: no even far end can share it.
   const bool top_v_is_blossom = !forest_.is_vertex(top_v);
+  const bool may_owe = may_owe_;  // in a register: the pushes below could alias the member
   const std::span<const Incidence> incident = graph_.incident(v);
   // The far ends' search state and duals are scattered reads: ask for all of them before the
   // first is needed, so their misses overlap instead of following one another.
@@ -111,8 +127,13 @@ void AlternatingSearch::scan(Vertex v) {
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
     if (sign == 0) {
       // slack = dual_v + dual_x - w2 is more than v's reach (dual_v) exactly when dual_x > w2.
-      const Weight dual_x = dual2_[inc.other];
+      // A debt only raises the dual: past the test on the dual alone, add what is owed.
+      Weight dual_x = dual2_[inc.other];
       if (dual_x > w2) continue;
+      if (may_owe) [[unlikely]] {
+        dual_x += owed_dual2_slow(inc.other);
+        if (dual_x > w2) continue;
+      }
       const Weight due = delta_ + dual_v + dual_x - w2;
       if (due > latest_end_) continue;
       queue_free_bound(inc.edge, inc.other, due);
@@ -228,6 +249,7 @@ void AlternatingSearch::start_run() {
   bounds_.reset(0);
   compact_at_ = kFirstCompaction;
   scan_queue_.clear();
+  may_owe_ = forest_.has_pending();
   running_ = true;
 }
 

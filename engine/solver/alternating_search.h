@@ -71,17 +71,41 @@ class AlternatingSearch {
   // turns even). A heuristic of order only, read from settled duals (x and its mate are free).
   BoundKind free_edge_kind(Vertex x) const {
     const Vertex m = mate_[x];
-    return m == kNoVertex || dual2_[m] == 0 ? kExposedEdge : kFreeEdge;
+    // A debt is never negative: only a mate whose own dual is 0 needs a look at its node.
+    return m == kNoVertex || (dual2_[m] == 0 && owed_dual2(m) == 0) ? kExposedEdge : kFreeEdge;
   }
+  // What a pool's dissolution still owes vertex v's dual (BlossomForest::pending_dual2): 0 for
+  // a vertex this run labelled (its node's debt was written then) and outside a pool's repair.
+  Weight owed_dual2(Vertex v) const { return may_owe_ ? owed_dual2_slow(v) : 0; }
+  // Out of line: a search outside a pool's repair, or in one that dissolved nothing priced,
+  // pays one test of a flag per read and keeps its inlining as it was.
+  [[gnu::noinline]] Weight owed_dual2_slow(Vertex v) const;
+  // Labelling `node` passes over its vertices: write what it is owed into them first.
+  void settle_owed(NodeId node) {
+    if (may_owe_) settle_owed_slow(node);
+  }
+  void settle_owed_slow(NodeId node);
 
   // Lazy duals.
-  Weight vertex_dual(Vertex v) const;
+  [[gnu::always_inline]] Weight vertex_dual(Vertex v) const {
+    const VertexMark& mark = vertex_mark_[v];
+    if (mark.stamp != stamp_) return dual2_[v] + owed_dual2(v);
+    return dual2_[v] + mark.sign * (delta_ - mark.since);
+  }
+  // vertex_dual for a vertex whose node owes nothing: labelled in this run, or just settled.
+  [[gnu::always_inline]] Weight settled_vertex_dual(Vertex v) const {
+    const VertexMark& mark = vertex_mark_[v];
+    if (mark.stamp != stamp_) return dual2_[v];
+    return dual2_[v] + mark.sign * (delta_ - mark.since);
+  }
   Weight blossom_dual(NodeId b) const;
   Label label_of(NodeId node) const {
     const NodeMark& mark = node_mark_[node];
     return mark.stamp == stamp_ ? static_cast<Label>(mark.label) : kFree;
   }
-  void set_vertex_sign(Vertex v, int sign);   // settles the dual, then follows `sign`
+  // Settles the dual, then follows `sign`. Inlined: labelling calls it once per vertex. Only for
+  // a vertex whose node owes nothing (every caller labels a node it settled, or relabels one).
+  [[gnu::always_inline]] inline void set_vertex_sign(Vertex v, int sign);
   // -1 even, +1 odd, 0 free: a vertex's sign always follows the label of its top-level node
   // (every relabelling sets its vertices' signs), so this avoids a climb in the forest.
   int vertex_sign(Vertex v) const {
@@ -179,6 +203,9 @@ class AlternatingSearch {
   bool lone_tree_ = false;
   Weight latest_end_ = kNever;
   bool running_ = false;
+  // Whether the pool's forest may owe duals (BlossomForest::has_pending), read at a run's start:
+  // a run creates no debt, so a run that starts without one reads every dual as it is.
+  bool may_owe_ = false;
   std::vector<std::uint32_t> mark_;        // scratch stamps for finding the tree's meeting point
   std::uint32_t mark_stamp_ = 0;
 

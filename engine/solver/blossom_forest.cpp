@@ -4,6 +4,8 @@
 #include <string>
 #include <type_traits>
 
+#include "yoke/util/dcheck.h"
+
 namespace yoke {
 
 NodeId BlossomForest::climb_to_top(Vertex v) const {
@@ -21,6 +23,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
       version_(2 * vertex_count, 0),
       base_(2 * vertex_count, kNoVertex),
       dual2_(2 * vertex_count, 0),
+      pending2_(2 * vertex_count, 0),
       first_leaf_(2 * vertex_count, kNoVertex),
       last_leaf_(2 * vertex_count, kNoVertex),
       size_(2 * vertex_count, 1),
@@ -40,6 +43,9 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
 
 NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
                                    const std::vector<CycleEdge>& edges) {
+  for (NodeId child : children) {
+    YOKE_DCHECK(pending2_[child] == 0, "make_blossom: a child's pending dual was not written");
+  }
   const NodeId b = free_slots_.back();
   free_slots_.pop_back();
   children_[b - vertex_count_] = children;
@@ -59,11 +65,13 @@ NodeId BlossomForest::make_blossom(const std::vector<NodeId>& children,
 }
 
 void BlossomForest::dissolve(NodeId b) {
+  YOKE_DCHECK(pending2_[b] == 0, "dissolve: the blossom's pending dual was not written");
   for (NodeId child : children_[b - vertex_count_]) parent_[child] = kNoNode;
   free_slot(b);
 }
 
 void BlossomForest::free_slot(NodeId b) {
+  pending2_[b] = 0;  // passed on to the children by dissolve_path, or never owed
   children_[b - vertex_count_].clear();
   edges_[b - vertex_count_].clear();
   dual2_[b] = 0;
@@ -79,6 +87,7 @@ void BlossomForest::reset_top_caches() {
 }
 
 void BlossomForest::dissolve_unpriced_nest(NodeId b) {
+  YOKE_DCHECK(pending2_[b] == 0, "dissolve_unpriced_nest: the pending dual was not written");
   // Slots are freed in the order of dissolve() called top-down with a stack, so slot ids (and
   // with them every later choice) are the same as that way gives.
   nest_.assign(1, b);
@@ -101,11 +110,16 @@ std::size_t BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& ver
                                          std::vector<Vertex>& bases) {
   path_.clear();
   for (NodeId node = lowest; node != kNoNode; node = parent_[node]) path_.push_back(node);
-  // Walk down from the top. A vertex receives the pushes of all dissolved blossoms holding it at
-  // once, when its child leaves the path: every vertex of the top blossom that gains is visited
-  // once. The levels above the first priced blossom push nothing: their children are left to
-  // the lazy top() repair (a freed slot's caches are stale by version), as dissolve() leaves them.
-  Weight pushed = 0;
+  // Walk down from the top. A child leaving the path receives the pushes of all dissolved
+  // blossoms above it at once: a small child into its vertices' duals, a large blossom as a
+  // pending dual that the next search to label it writes while it passes over its vertices
+  // anyway (a search that re-forms the region the dissolution opened visits each vertex once,
+  // not twice). Small children are pushed at once because a debt costs every read of a dual a
+  // look-up while it is out. The top node may owe a pending dual of its own from an earlier
+  // dissolution: its children inherit it. Owing children are left to the lazy top() repair (a
+  // freed slot's caches are stale by version).
+  Weight pushed = pending2_[path_.back()];
+  pending2_[path_.back()] = 0;
   std::size_t moved = 0;
   for (std::size_t level = path_.size(); level-- > 0;) {
     const NodeId b = path_[level];
@@ -115,16 +129,35 @@ std::size_t BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& ver
     for (NodeId child : children_[b - vertex_count_]) {
       parent_[child] = kNoNode;
       if (child == next || pushed == 0) continue;
-      const std::uint32_t version = version_[child];
-      for_each_vertex(child, [&](Vertex x) {
-        vertex_dual2[x] += pushed;
-        top_[x] = {child, version};
-      });
-      moved += size_[child];
+      if (size_[child] < kOwedFromSize) {
+        const std::uint32_t version = version_[child];
+        for_each_vertex(child, [&](Vertex x) {
+          vertex_dual2[x] += pushed;
+          top_[x] = {child, version};
+        });
+        moved += size_[child];
+      } else {
+        pending2_[child] = pushed;
+        pending_nodes_.push_back(child);
+      }
     }
     free_slot(b);
   }
   return moved;
+}
+
+std::size_t BlossomForest::flush_pending(std::vector<Weight>& vertex_dual2) {
+  std::size_t written = 0;
+  for (NodeId node : pending_nodes_) {
+    const Weight owed = pending2_[node];
+    if (owed == 0) continue;  // written by a search, or passed on by a later dissolution
+    YOKE_DCHECK(parent_[node] == kNoNode, "flush_pending: a pending dual below the top level");
+    for_each_vertex(node, [&](Vertex x) { vertex_dual2[x] += owed; });
+    written += size_[node];
+    pending2_[node] = 0;
+  }
+  pending_nodes_.clear();
+  return written;
 }
 
 void BlossomForest::grow(std::size_t vertex_count) {
@@ -148,6 +181,8 @@ void BlossomForest::grow(std::size_t vertex_count) {
   remap_nodes(parent_, kNoNode, true);
   remap_nodes(base_, kNoVertex, false);
   remap_nodes(dual2_, Weight{0}, false);
+  remap_nodes(pending2_, Weight{0}, false);
+  for (NodeId& node : pending_nodes_) node = moved(node);
   remap_nodes(first_leaf_, kNoVertex, false);
   remap_nodes(last_leaf_, kNoVertex, false);
   remap_nodes(size_, std::uint32_t{1}, false);
@@ -257,6 +292,7 @@ std::vector<CertificateBlossom> BlossomForest::certificate_blossoms(
 }
 
 void BlossomForest::save(ByteWriter& out) const {
+  YOKE_DCHECK(!has_pending(), "BlossomForest::save: pending duals not flushed");
   out.put<std::uint64_t>(vertex_count_);
   out.put_vector(parent_);
   out.put_vector(base_);
@@ -284,6 +320,7 @@ BlossomForest BlossomForest::load(ByteReader& in) {
   per_node(forest.parent_);
   per_node(forest.base_);
   per_node(forest.dual2_);
+  forest.pending2_.assign(2 * n, 0);
   per_node(forest.first_leaf_);
   per_node(forest.last_leaf_);
   forest.next_leaf_ = in.get_vector<Vertex>(n);

@@ -88,11 +88,25 @@ class BlossomForest {
   // `vertex_dual2` += z2/2). Edges inside a dissolved blossom keep their slack and edges leaving
   // it gain, so feasibility holds; only the matched edges at the dissolved blossoms' bases can
   // lose tightness, and those bases are appended to `bases` for the caller to check.
-  // Returns the number of vertices whose dual moved. Only those are visited: a child that
-  // receives nothing (every dissolved blossom above it is unpriced) costs O(1), its vertices'
-  // top() being repaired lazily as after dissolve(). O(that count + path length + children).
+  // A child of fewer than kOwedFromSize vertices gets its gain at once; a larger one is owed it
+  // (pending_dual2, written to its vertices when a search labels it or by flush_pending), and
+  // its vertices' top() is repaired lazily as after dissolve(). Returns the number of vertices
+  // whose dual was written. O(path length + children + vertices of the small children).
   std::size_t dissolve_path(NodeId lowest, std::vector<Weight>& vertex_dual2,
                             std::vector<Vertex>& bases);
+
+  // Dual owed by dissolve_path to every vertex of top-level blossom `node`, doubled (>= 0): the
+  // dual of a vertex v is vertex_dual2[v] + pending_dual2(top(v)). 0 for every other node.
+  Weight pending_dual2(NodeId node) const { return pending2_[node]; }
+  static constexpr std::uint32_t kOwedFromSize = 32;
+  bool has_pending() const { return !pending_nodes_.empty(); }
+  // Blossoms given a pending dual since the last flush (some may have been written since).
+  std::size_t pending_count() const { return pending_nodes_.size(); }
+  // For a caller that has just written node's pending dual into its vertices.
+  void clear_pending(NodeId node) { pending2_[node] = 0; }
+  // Writes every pending dual into its vertices. Returns the number of vertices written.
+  // O(that count + blossoms given a pending dual since the last flush).
+  std::size_t flush_pending(std::vector<Weight>& vertex_dual2);
 
   // Number of vertices in `node`. O(1).
   std::uint32_t size(NodeId node) const { return size_[node]; }
@@ -134,6 +148,8 @@ class BlossomForest {
   std::vector<std::uint32_t> version_;  // per node: bumped whenever a blossom slot is freed
   std::vector<Vertex> base_;          // per node
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
+  std::vector<Weight> pending2_;      // per node: see pending_dual2()
+  std::vector<NodeId> pending_nodes_;  // blossoms given a pending dual since the last flush
   std::vector<Vertex> first_leaf_;    // per node
   std::vector<Vertex> last_leaf_;     // per node
   std::vector<std::uint32_t> size_;   // per node: number of vertices

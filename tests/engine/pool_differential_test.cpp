@@ -324,7 +324,9 @@ std::string save_script(const std::string& label, Mode mode,
 }
 
 // Streams `spec` through a fresh pool and checks every commit; stops at the first problem.
-void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string& label) {
+// `owing`, when given, adds up the commits' RepairStats::blossoms_owing.
+void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string& label,
+                             std::uint64_t* owing = nullptr) {
   Pool pool(mode);
   // Every fifth stream also sets weights at the pool's bound.
   if (spec.seed % 5 == 0) spec.extreme_weight = pool.limits().max_abs_weight;
@@ -340,6 +342,7 @@ void expect_stream_certified(gen::StreamSpec spec, Mode mode, const std::string&
              << "\n  replay: " << save_script(label, mode, batches);
     }
     const CommitResult result = pool.commit(batch);
+    if (owing != nullptr) *owing += result.stats.blossoms_owing;
     if (result.commit != batches.size()) {
       FAIL() << label << ": commit numbered " << result.commit << ", expected " << batches.size();
     }
@@ -475,9 +478,9 @@ TEST_P(LongAimedPoolStreams, EveryCommitIsACertifiedOptimum) {
 }
 
 // Tied weights in batches of many aimed actions: one batch's events dissolve priced blossoms
-// one after another, a later one often inside a region an earlier one opened, before the
-// batch's one search (the single-action streams above never stack dissolutions). Every commit
-// is certified.
+// one after another, a later one often inside a blossom an earlier one left owing its dual
+// (BlossomForest::pending_dual2), and the search and the next events read duals through those
+// debts. Every commit is certified.
 class ManyActionTiedPoolStreams : public PoolAgainstStatic {};
 
 TEST_P(ManyActionTiedPoolStreams, EveryCommitIsACertifiedOptimum) {
@@ -493,7 +496,35 @@ TEST_P(ManyActionTiedPoolStreams, EveryCommitIsACertifiedOptimum) {
     spec.batch_min = 2;
     spec.batch_max = 60;
     spec.events = 3000;
-    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_tied_batches");
+    std::uint64_t owing = 0;
+    expect_stream_certified(spec, mode, script_label(family, mode, s) + "_aimed_tied_batches",
+                            &owing);
+    // In max-weight pools of this size no dissolved blossom has a child large enough to owe
+    // (BlossomForest::kOwedFromSize); the spanning blossoms of max-cardinality pools do.
+    if (mode != Mode::max_weight) {
+      EXPECT_GT(owing, 0u) << "no dissolution left a blossom child owing its push";
+    }
+  }
+}
+
+// The same in a max-weight pool large enough for tied weights to nest blossoms of dozens of
+// vertices under priced ones (a city graph: the stress family's blossoms stay small):
+// dissolutions leave children owing their push, later events and the search read duals through
+// the debts, and every commit is certified.
+TEST(LargeTiedPoolStreams, DissolutionsLeaveChildrenOwingAndEveryCommitIsCertified) {
+  for (const StreamFamily family : {StreamFamily::city}) {
+    gen::StreamSpec spec = gen::test_stream_spec(family, 977, 1500, 1);
+    spec.vertices = oracle::small_scale() ? 3000 : 6000;
+    spec.mix = gen::tail_mix();
+    spec.weight_grain = 100;
+    spec.action_batches = false;
+    spec.batch_min = 2;
+    spec.batch_max = 60;
+    spec.events = 2000;
+    std::uint64_t owing = 0;
+    expect_stream_certified(spec, Mode::max_weight,
+                            script_label(family, Mode::max_weight, 977) + "_large_tied", &owing);
+    EXPECT_GT(owing, 0u) << gen::stream_family_name(family) << ": no blossom child owed its push";
   }
 }
 

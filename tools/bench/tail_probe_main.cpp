@@ -3,8 +3,9 @@
 // graph, --mix tail, one action per commit) into a max-weight pool and prints, per kind, the
 // commits at or above the kind's p98 of vertices touched and of CPU time (and the commits that
 // changed no pair but touched more than 2,000) with the repair's counters: vertices
-// touched, of those pushed by the events' dissolving, roots, trees, augmentations, blossoms
-// dissolved by events, formed and expanded by the search, dual steps, pairs changed, CPU us.
+// touched, of those pushed by the events' dissolving, blossoms left owing their push, roots,
+// trees, augmentations, blossoms dissolved by events, formed and expanded by the search, dual
+// steps, pairs changed, CPU us.
 //
 //   yoke_tail_probe [--vertices N] [--actions A] [--seed S] [--weight-grain G] [--kind K]...
 //                   [--repeat C --times K] [--script FILE]
@@ -70,14 +71,15 @@ void print_kind(const std::string& kind, std::vector<Row> rows) {
       "%s: %zu commits, the %zu heaviest by vertices touched, by CPU, and the idle ones above %.0f "
       "touched\n",
       kind.c_str(), rows.size(), top, kIdleTouchLimit);
-  std::printf("  %7s %8s %9s %5s %5s %5s %9s %7s %8s %6s %7s %9s\n", "commit", "touched",
-              "dissolved", "roots", "trees", "augm", "dissolves", "formed", "expanded", "steps",
-              "changed", "cpu_us");
+  std::printf("  %7s %8s %9s %6s %5s %5s %5s %9s %7s %8s %6s %7s %9s\n", "commit", "touched",
+              "dissolved", "owing", "roots", "trees", "augm", "dissolves", "formed", "expanded",
+              "steps", "changed", "cpu_us");
   for (const Row& r : shown) {
     const RepairStats& s = r.stats;
-    std::printf("  %7zu %8llu %9llu %5llu %5llu %5llu %9llu %7llu %8llu %6llu %7zu %9.0f\n",
+    std::printf("  %7zu %8llu %9llu %6llu %5llu %5llu %5llu %9llu %7llu %8llu %6llu %7zu %9.0f\n",
                 r.commit, static_cast<unsigned long long>(s.vertices_touched),
                 static_cast<unsigned long long>(s.vertices_dissolved),
+                static_cast<unsigned long long>(s.blossoms_owing),
                 static_cast<unsigned long long>(s.roots),
                 static_cast<unsigned long long>(s.searches),
                 static_cast<unsigned long long>(s.augmentations),

@@ -66,7 +66,11 @@ struct RepairStats {
   std::uint64_t vertices_touched = 0;    // vertex visits: scans and dual pushes
   // Where the visits went, for benchmarks and probes (not on the wire; the search's three are
   // the repair's, 0 for a batch solved from scratch):
-  std::uint64_t vertices_dissolved = 0;  // dual pushes by the events' dissolving (in vertices_touched)
+  // Dual pushes by the events' dissolving (in vertices_touched): to a vertex at once, or owed
+  // by a blossom and written at the end of the repair; not those a search wrote while labelling.
+  std::uint64_t vertices_dissolved = 0;
+  // Blossom children the events' dissolving left owing their push (BlossomForest::pending_dual2)
+  std::uint64_t blossoms_owing = 0;
   std::uint64_t blossoms_formed = 0;     // by the search
   std::uint64_t blossoms_expanded = 0;   // odd blossoms the search expanded
   std::uint64_t dual_steps = 0;          // the search's dual steps
