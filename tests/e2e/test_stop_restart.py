@@ -41,14 +41,19 @@ class SigtermInFlightTest(unittest.TestCase):
         daemon.start()
         client = IngestClient(daemon.ingest)
         self.addCleanup(client.close)
+        # The pool exists first (a new pool's first batch is checked on a repair thread, and
+        # the batches behind it wait for that): the window's batches are offered as read.
+        self.assertEqual(ack_outcome(client.send(batch(1))), "accepted")
+        answers = {1: "accepted"}
         waiting = 10
-        for number in range(1, waiting + 1):
+        for number in range(2, waiting + 2):
             client.sock.send(batch(number).SerializeToString())
-        time.sleep(0.2)  # read into the window, which closes after 1 s
+        # All read into the window (which closes after 1 s) before the signal, however slow
+        # the machine: the daemon counts every message it reads.
+        self.wait_until_read(daemon, waiting + 1)
         daemon.proc.send_signal(signal.SIGTERM)
 
         # Then the client goes on sending, one batch per answer, while the daemon stops.
-        answers = {}
 
         def receive(timeout_s):
             """The next Ack, or None on silence."""
@@ -58,13 +63,13 @@ class SigtermInFlightTest(unittest.TestCase):
             reply.ParseFromString(client.sock.recv())
             return reply.ack
 
-        while len(answers) < waiting:
+        while len(answers) < waiting + 1:
             ack = receive(5 * SLOWDOWN)
             self.assertIsNotNone(ack, f"{answers}\n{daemon.diagnostics()}")
             self.assertEqual(ack.client_id, CLIENT)
             self.assertNotIn(ack.client_batch, answers)
             answers[ack.client_batch] = ack_outcome(ack)
-        number = waiting
+        number = waiting + 1
         sent_unanswered = None  # the batch that met the closed socket, if any
         while True:
             number += 1
@@ -84,7 +89,7 @@ class SigtermInFlightTest(unittest.TestCase):
         self.assertEqual(daemon.proc.wait(30 * SLOWDOWN), 0, daemon.diagnostics())
 
         # The window's batches were applied and acknowledged; after them, only UNAVAILABLE.
-        self.assertEqual([answers[n] for n in range(1, waiting + 1)], ["accepted"] * waiting)
+        self.assertEqual([answers[n] for n in range(1, waiting + 2)], ["accepted"] * (waiting + 1))
         outcomes = [answers[n] for n in sorted(answers)]
         first_refused = outcomes.index("UNAVAILABLE")
         self.assertEqual(set(outcomes[first_refused:]), {"UNAVAILABLE"}, outcomes)
@@ -104,6 +109,17 @@ class SigtermInFlightTest(unittest.TestCase):
             self.assertFalse(ack.accepted.duplicate)
             self.assertEqual(ack.accepted.seq, number)
         self.assertEqual(daemon.summary()["seq"], last)
+
+    def wait_until_read(self, daemon, messages):
+        """Until the daemon's yoke_ingest_messages_total reaches `messages`."""
+        deadline = time.monotonic() + 20 * SLOWDOWN
+        while time.monotonic() < deadline:
+            for line in daemon.metrics_text().splitlines():
+                if line.startswith("yoke_ingest_messages_total") and \
+                        float(line.split()[-1]) >= messages:
+                    return
+            time.sleep(0.01)
+        self.fail(f"the daemon did not read {messages} messages\n{daemon.diagnostics()}")
 
 
 class LockWaitTest(unittest.TestCase):
