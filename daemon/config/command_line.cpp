@@ -9,6 +9,7 @@ namespace yoke::daemon {
 CommandLine parse_command_line(int argc, const char* const* argv) {
   CLI::App app{"yoked: the streaming maximum-weight matching daemon"};
   app.name("yoked");
+  app.set_version_flag("--version", "yoked " YOKE_VERSION);
   std::string data_dir, config_file, ingest, publish, query, metrics, log_format;
   app.add_option("--data-dir", data_dir, "directory of the journal and snapshots")->required();
   app.add_option("--config", config_file, "TOML config file (see yoked.example.toml)");

@@ -39,6 +39,15 @@ TEST(CommandLine, LeavesWhatIsNotGivenToTheFile) {
   EXPECT_FALSE(line.overrides.log_format.has_value());
 }
 
+// Before the required --data-dir is asked for, as --help is (the third outside probe found
+// `yoked --version` answered "--data-dir is required").
+TEST(CommandLine, VersionStopsWithStatusZeroAndNamesTheDaemon) {
+  const CommandLine line = parse({"--version"});
+  ASSERT_TRUE(line.exit_code.has_value());
+  EXPECT_EQ(*line.exit_code, 0);
+  EXPECT_NE(line.message.find("yoked 0."), std::string::npos) << line.message;
+}
+
 TEST(CommandLine, HelpStopsWithStatusZero) {
   const CommandLine line = parse({"--help"});
   ASSERT_EQ(line.exit_code, 0);
