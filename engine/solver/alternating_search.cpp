@@ -137,6 +137,7 @@ void AlternatingSearch::scan(Vertex v) {
       const Weight due = delta_ + dual_v + dual_x - w2;
       if (due > latest_end_) continue;
       queue_free_bound(inc.edge, inc.other, due);
+      if (latest_end_ == delta_) break;  // a tight edge into an exposed vertex: the tree ends now
     } else {
       // Both ends even: the slack falls twice as fast, and never exceeds the ends' reach.
       const Weight slack = dual_v + dual2_[inc.other] - (delta_ - mark.since) - w2;
@@ -284,7 +285,11 @@ std::size_t AlternatingSearch::run() {
   }
   std::uint64_t level_start_scans = stats_.scans;
   while (live_trees_ > 0) {
-    while (!scan_queue_.empty()) {
+    // A lone tree whose known end is the current level ends before any further dual step (an
+    // even vertex's dual is 0, or an edge into an exposed vertex is tight): the vertices left in
+    // the queue could only queue bounds due now, behind the one that ends it. Unscanned, they
+    // keep their labels until end_tree settles them.
+    while (!scan_queue_.empty() && latest_end_ != delta_) {
       const Vertex v = scan_queue_.back();
       scan_queue_.pop_back();
       if (!scan_queue_.empty()) __builtin_prefetch(graph_.incident(scan_queue_.back()).data());
@@ -326,6 +331,7 @@ std::size_t AlternatingSearch::run() {
     }
   }
   stats_.last_level_scans += stats_.scans - level_start_scans;
+  scan_queue_.clear();
   running_ = false;
   traces_causes_ = false;  // the next run's roots say again whether they carry causes
   lone_tree_ = false;
