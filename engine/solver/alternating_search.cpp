@@ -75,8 +75,14 @@ void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Ver
 
 void AlternatingSearch::make_even(Vertex v) {
   set_vertex_sign(v, -1);
-  bounds_.push(delta_ + dual2_[v], v, kEvenVertexDual);
-  if (lone_tree_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
+  // A lone tree ends by latest_end_, so a bound due later could never be taken: only a vertex
+  // whose dual reaches 0 no later is queued, and it becomes the known end (most even vertices
+  // of a lone tree hold more dual than its root has left, and queue nothing).
+  const Weight due = delta_ + dual2_[v];
+  if (due <= latest_end_) {
+    bounds_.push(due, v, kEvenVertexDual);
+    if (lone_tree_) latest_end_ = due;
+  }
   scan_queue_.push_back(v);
 }
 
@@ -90,7 +96,9 @@ void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Ve
     forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
   }
   YOKE_DCHECK(forest_.pending_dual2(node) == 0, "label_odd: a pending dual left unwritten");
-  if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
+  if (forest_.is_vertex(node)) return;
+  const Weight due = delta_ + forest_.dual2(node) / 2;
+  if (due <= latest_end_) bounds_.push(due, node, kOddBlossomDual);  // else the tree ends first
 }
 
 inline void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {

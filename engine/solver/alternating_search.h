@@ -198,7 +198,8 @@ class AlternatingSearch {
   std::vector<EventCause> root_cause_;
   bool traces_causes_ = false;
   // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
-  // key of its even vertices' dual bounds), and queues no bound due after it.
+  // key of its even vertices' dual bounds and of its edges into exposed vertices), and queues
+  // no bound due after it: no edge, vertex or blossom bound.
   static constexpr Weight kNever = std::numeric_limits<Weight>::max();
   bool lone_tree_ = false;
   Weight latest_end_ = kNever;
