@@ -115,42 +115,53 @@ void AlternatingSearch::scan(Vertex v) {
   const NodeId top_v = forest_.top(v);
   // A plain vertex is a top-level node of its own: no even far end can share it.
   const bool top_v_is_blossom = !forest_.is_vertex(top_v);
-  const bool may_owe = may_owe_;  // in a register: the pushes below could alias the member
   const std::span<const Incidence> incident = graph_.incident(v);
+  // Held in locals: a push writes memory, after which members read through `this` would be
+  // loaded again on every edge. Only latest_end_ can change during the loop (queue_free_bound).
+  const bool may_owe = may_owe_;
+  const VertexMark* const marks = vertex_mark_.data();
+  const Weight* const duals = dual2_.data();
+  const Vertex* const mates = mate_.values().data();
+  const std::uint32_t stamp = stamp_;
+  const Weight delta = delta_;
+  const Weight offset = weight_offset_;
   // The far ends' search state and duals are scattered reads: ask for all of them before the
   // first is needed, so their misses overlap instead of following one another.
   for (const Incidence& inc : incident) {
-    __builtin_prefetch(&vertex_mark_[inc.other]);
-    __builtin_prefetch(&dual2_[inc.other]);
-    __builtin_prefetch(&mate_.values()[inc.other]);  // free_edge_kind reads a free end's mate
+    __builtin_prefetch(&marks[inc.other]);
+    __builtin_prefetch(&duals[inc.other]);
+    __builtin_prefetch(&mates[inc.other]);  // free_edge_kind reads a free end's mate
   }
   // queue_free_edge's and queue_edge's tests, written out: most scanned edges fail them, and
   // they skip the call, the look at the forest and the far end's mate.
+  Weight latest_end = latest_end_;
   for (const Incidence& inc : incident) {
-    const Weight w2 = 2 * (inc.w + weight_offset_);
+    const Weight w2 = 2 * (inc.w + offset);
     if (w2 <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     // The far end's sign says its top node's label, so most edges need no look at the forest.
-    const VertexMark& mark = vertex_mark_[inc.other];
-    const int sign = mark.stamp == stamp_ ? mark.sign : 0;
+    const VertexMark& mark = marks[inc.other];
+    const int sign = mark.stamp == stamp ? mark.sign : 0;
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
     if (sign == 0) {
       // slack = dual_v + dual_x - w2 is more than v's reach (dual_v) exactly when dual_x > w2.
       // A debt only raises the dual: past the test on the dual alone, add what is owed.
-      Weight dual_x = dual2_[inc.other];
+      Weight dual_x = duals[inc.other];
       if (dual_x > w2) continue;
       if (may_owe) [[unlikely]] {
         dual_x += owed_dual2_slow(inc.other);
         if (dual_x > w2) continue;
       }
-      const Weight due = delta_ + dual_v + dual_x - w2;
-      if (due > latest_end_) continue;
+      const Weight due = delta + dual_v + dual_x - w2;
+      if (due > latest_end) continue;
       queue_free_bound(inc.edge, inc.other, due);
-      if (latest_end_ == delta_) break;  // a tight edge into an exposed vertex: the tree ends now
+      latest_end = latest_end_;
+      if (latest_end == delta) break;  // a tight edge into an exposed vertex: the tree ends now
     } else {
       // Both ends even: the slack falls twice as fast, and never exceeds the ends' reach.
-      const Weight slack = dual_v + dual2_[inc.other] - (delta_ - mark.since) - w2;
-      const Weight due = delta_ + slack / 2;
-      if (due > latest_end_) continue;
+      const Weight slack = dual_v + duals[inc.other] - (delta - mark.since) - w2;
+      const Weight due = delta + slack / 2;
+      if (due > latest_end) continue;
+      // Most such edges join two vertices of v's own blossom (a scan after a shrink).
       if (top_v_is_blossom && forest_.top(inc.other) == top_v) continue;
       bounds_.push(due, inc.edge, kEvenEdge);
     }
