@@ -102,11 +102,13 @@ void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Ve
 }
 
 inline void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {
-  // A lone tree ends by the time an edge into an exposed vertex becomes tight: the vertex stays
-  // free and exposed until then (only the tree's end changes the matching) and taking the edge
+  // A lone tree ends by the time an edge into an exposed vertex (or into a free blossom whose
+  // base is exposed) becomes tight: the base stays free and exposed until then (only the tree's
+  // end changes the matching, and only a tree node is shrunk or expanded) and taking the edge
   // augments. Bounds due later can never be taken, so none is queued from now on.
-  if (lone_tree_ && mate_[free_end] == kNoVertex) latest_end_ = due;
-  bounds_.push(due, e, free_edge_kind(free_end));
+  const Vertex partner = free_partner(free_end);
+  if (lone_tree_ && partner == kNoVertex) latest_end_ = due;
+  bounds_.push(due, e, free_edge_kind_of(partner));
 }
 
 void AlternatingSearch::scan(Vertex v) {
@@ -130,7 +132,7 @@ void AlternatingSearch::scan(Vertex v) {
   for (const Incidence& inc : incident) {
     __builtin_prefetch(&marks[inc.other]);
     __builtin_prefetch(&duals[inc.other]);
-    __builtin_prefetch(&mates[inc.other]);  // free_edge_kind reads a free end's mate
+    __builtin_prefetch(&mates[inc.other]);  // free_partner reads a free end's mate
   }
   // queue_free_edge's and queue_edge's tests, written out: most scanned edges fail them, and
   // they skip the call, the look at the forest and the far end's mate.

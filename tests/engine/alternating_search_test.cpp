@@ -150,6 +150,24 @@ TEST(AlternatingSearchOrder, ATightEdgeIntoAnExposedVertexStopsTheScans) {
   EXPECT_EQ(solved.stats.scans, 1u);  // all three before the rule
 }
 
+// A free blossom B = {1, 2, 3} whose base 1 is exposed (a later root of a pool's commit, say):
+// taking r - 2, into a vertex of B that is not its base, augments. It is due at the same level
+// as two branch edges listed before it, and goes first (2's own mate, 3, has a positive dual,
+// so the kind must be read from B's base, not from 2).
+TEST(AlternatingSearchOrder, AFreeBlossomWithAnExposedBaseIsTakenBeforeTheBranches) {
+  const std::vector<Edge> edges = {{0, 4, 2}, {4, 5, 6}, {0, 6, 2}, {6, 7, 6},
+                                   {1, 2, 1}, {2, 3, 2}, {3, 1, 1}, {0, 2, 2}};
+  const std::vector<Vertex> mate = {kNoVertex, kNoVertex, 3, 2, 5, 4, 7, 6};
+  const std::vector<Weight> dual2 = {4, 0, 2, 2, 2, 10, 2, 10};
+  const Solved solved = search_from_state(8, edges, mate, dual2, [](BlossomForest& forest) {
+    forest.make_blossom({1, 2, 3}, {{1, 2}, {2, 3}, {3, 1}});
+  });
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], 2u);
+  EXPECT_EQ(solved.mate[1], 3u);
+  EXPECT_EQ(solved.stats.scans, 1u);  // r only; before, the branches' mates 5 and 7 as well
+}
+
 // r's edge to a is tight at once; a's mate b holds far more dual (100) than r has left (4), so
 // the tree ends (r's dual reaching 0) long before b's could: b's dual bound is not queued.
 TEST(AlternatingSearchFreeBounds, AVertexHoldingMoreDualThanTheRootHasLeftQueuesNoBound) {
