@@ -75,8 +75,14 @@ void AlternatingSearch::label_even(NodeId node, Vertex via_odd, Vertex base, Ver
 
 void AlternatingSearch::make_even(Vertex v) {
   set_vertex_sign(v, -1);
-  bounds_.push(delta_ + dual2_[v], v, kEvenVertexDual);
-  if (lone_tree_) latest_end_ = std::min(latest_end_, delta_ + dual2_[v]);
+  // A lone tree ends by latest_end_, so a bound due later could never be taken: only a vertex
+  // whose dual reaches 0 no later is queued, and it becomes the known end (most even vertices
+  // of a lone tree hold more dual than its root has left, and queue nothing).
+  const Weight due = delta_ + dual2_[v];
+  if (due <= latest_end_) {
+    bounds_.push(due, v, kEvenVertexDual);
+    if (lone_tree_) latest_end_ = due;
+  }
   scan_queue_.push_back(v);
 }
 
@@ -90,15 +96,19 @@ void AlternatingSearch::label_odd(NodeId node, Vertex via_even, Vertex entry, Ve
     forest_.for_each_vertex(node, [&](Vertex v) { set_vertex_sign(v, +1); });
   }
   YOKE_DCHECK(forest_.pending_dual2(node) == 0, "label_odd: a pending dual left unwritten");
-  if (!forest_.is_vertex(node)) bounds_.push(delta_ + forest_.dual2(node) / 2, node, kOddBlossomDual);
+  if (forest_.is_vertex(node)) return;
+  const Weight due = delta_ + forest_.dual2(node) / 2;
+  if (due <= latest_end_) bounds_.push(due, node, kOddBlossomDual);  // else the tree ends first
 }
 
 inline void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, Weight due) {
-  // A lone tree ends by the time an edge into an exposed vertex becomes tight: the vertex stays
-  // free and exposed until then (only the tree's end changes the matching) and taking the edge
+  // A lone tree ends by the time an edge into an exposed vertex (or into a free blossom whose
+  // base is exposed) becomes tight: the base stays free and exposed until then (only the tree's
+  // end changes the matching, and only a tree node is shrunk or expanded) and taking the edge
   // augments. Bounds due later can never be taken, so none is queued from now on.
-  if (lone_tree_ && mate_[free_end] == kNoVertex) latest_end_ = due;
-  bounds_.push(due, e, free_edge_kind(free_end));
+  const Vertex partner = free_partner(free_end);
+  if (lone_tree_ && partner == kNoVertex) latest_end_ = due;
+  bounds_.push(due, e, free_edge_kind_of(partner));
 }
 
 void AlternatingSearch::scan(Vertex v) {
@@ -107,41 +117,53 @@ void AlternatingSearch::scan(Vertex v) {
   const NodeId top_v = forest_.top(v);
   // A plain vertex is a top-level node of its own: no even far end can share it.
   const bool top_v_is_blossom = !forest_.is_vertex(top_v);
-  const bool may_owe = may_owe_;  // in a register: the pushes below could alias the member
   const std::span<const Incidence> incident = graph_.incident(v);
+  // Held in locals: a push writes memory, after which members read through `this` would be
+  // loaded again on every edge. Only latest_end_ can change during the loop (queue_free_bound).
+  const bool may_owe = may_owe_;
+  const VertexMark* const marks = vertex_mark_.data();
+  const Weight* const duals = dual2_.data();
+  const Vertex* const mates = mate_.values().data();
+  const std::uint32_t stamp = stamp_;
+  const Weight delta = delta_;
+  const Weight offset = weight_offset_;
   // The far ends' search state and duals are scattered reads: ask for all of them before the
   // first is needed, so their misses overlap instead of following one another.
   for (const Incidence& inc : incident) {
-    __builtin_prefetch(&vertex_mark_[inc.other]);
-    __builtin_prefetch(&dual2_[inc.other]);
-    __builtin_prefetch(&mate_.values()[inc.other]);  // free_edge_kind reads a free end's mate
+    __builtin_prefetch(&marks[inc.other]);
+    __builtin_prefetch(&duals[inc.other]);
+    __builtin_prefetch(&mates[inc.other]);  // free_partner reads a free end's mate
   }
   // queue_free_edge's and queue_edge's tests, written out: most scanned edges fail them, and
   // they skip the call, the look at the forest and the far end's mate.
+  Weight latest_end = latest_end_;
   for (const Incidence& inc : incident) {
-    const Weight w2 = 2 * (inc.w + weight_offset_);
+    const Weight w2 = 2 * (inc.w + offset);
     if (w2 <= 0) continue;  // never worth taking; its slack stays >= 0 as all duals are >= 0
     // The far end's sign says its top node's label, so most edges need no look at the forest.
-    const VertexMark& mark = vertex_mark_[inc.other];
-    const int sign = mark.stamp == stamp_ ? mark.sign : 0;
+    const VertexMark& mark = marks[inc.other];
+    const int sign = mark.stamp == stamp ? mark.sign : 0;
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
     if (sign == 0) {
       // slack = dual_v + dual_x - w2 is more than v's reach (dual_v) exactly when dual_x > w2.
       // A debt only raises the dual: past the test on the dual alone, add what is owed.
-      Weight dual_x = dual2_[inc.other];
+      Weight dual_x = duals[inc.other];
       if (dual_x > w2) continue;
       if (may_owe) [[unlikely]] {
         dual_x += owed_dual2_slow(inc.other);
         if (dual_x > w2) continue;
       }
-      const Weight due = delta_ + dual_v + dual_x - w2;
-      if (due > latest_end_) continue;
+      const Weight due = delta + dual_v + dual_x - w2;
+      if (due > latest_end) continue;
       queue_free_bound(inc.edge, inc.other, due);
+      latest_end = latest_end_;
+      if (latest_end == delta) break;  // a tight edge into an exposed vertex: the tree ends now
     } else {
       // Both ends even: the slack falls twice as fast, and never exceeds the ends' reach.
-      const Weight slack = dual_v + dual2_[inc.other] - (delta_ - mark.since) - w2;
-      const Weight due = delta_ + slack / 2;
-      if (due > latest_end_) continue;
+      const Weight slack = dual_v + duals[inc.other] - (delta - mark.since) - w2;
+      const Weight due = delta + slack / 2;
+      if (due > latest_end) continue;
+      // Most such edges join two vertices of v's own blossom (a scan after a shrink).
       if (top_v_is_blossom && forest_.top(inc.other) == top_v) continue;
       bounds_.push(due, inc.edge, kEvenEdge);
     }
@@ -284,7 +306,11 @@ std::size_t AlternatingSearch::run() {
   }
   std::uint64_t level_start_scans = stats_.scans;
   while (live_trees_ > 0) {
-    while (!scan_queue_.empty()) {
+    // A lone tree whose known end is the current level ends before any further dual step (an
+    // even vertex's dual is 0, or an edge into an exposed vertex is tight): the vertices left in
+    // the queue could only queue bounds due now, behind the one that ends it. Unscanned, they
+    // keep their labels until end_tree settles them.
+    while (!scan_queue_.empty() && latest_end_ != delta_) {
       const Vertex v = scan_queue_.back();
       scan_queue_.pop_back();
       if (!scan_queue_.empty()) __builtin_prefetch(graph_.incident(scan_queue_.back()).data());
@@ -326,6 +352,7 @@ std::size_t AlternatingSearch::run() {
     }
   }
   stats_.last_level_scans += stats_.scans - level_start_scans;
+  scan_queue_.clear();
   running_ = false;
   traces_causes_ = false;  // the next run's roots say again whether they carry causes
   lone_tree_ = false;

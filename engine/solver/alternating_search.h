@@ -66,14 +66,24 @@ class AlternatingSearch {
     kFreeEdge = 3,         // an even-to-free edge becomes tight
     kOddBlossomDual = 4,   // an odd blossom's dual reaches 0
   };
-  // The kind of a bound on an edge into free vertex x: kExposedEdge when taking it ends the
-  // tree at once (x is exposed, or its mate has dual 0 and would stop the tree as soon as it
-  // turns even). A heuristic of order only, read from settled duals (x and its mate are free).
-  BoundKind free_edge_kind(Vertex x) const {
-    const Vertex m = mate_[x];
-    // A debt is never negative: only a mate whose own dual is 0 needs a look at its node.
-    return m == kNoVertex || (dual2_[m] == 0 && owed_dual2(m) == 0) ? kExposedEdge : kFreeEdge;
+  // The vertex that taking an edge into free vertex x would make even: the mate of the base of
+  // x's top-level node (kNoVertex when that base is exposed: taking the edge augments). Inside
+  // a free blossom x's own mate is another vertex of the blossom, not the one that turns even.
+  Vertex free_partner(Vertex x) const {
+    if (forest_.parent(x) == kNoNode) return mate_[x];
+    return mate_[forest_.base(forest_.top(x))];
   }
+  // The kind of a bound on an edge into a free vertex whose free_partner is `partner`:
+  // kExposedEdge when taking it ends the tree at once (the base is exposed, or the partner has
+  // dual 0 and would stop the tree as soon as it turns even). A heuristic of order only, read
+  // from settled duals (both are free).
+  BoundKind free_edge_kind_of(Vertex partner) const {
+    // A debt is never negative: only a partner whose own dual is 0 needs a look at its node.
+    return partner == kNoVertex || (dual2_[partner] == 0 && owed_dual2(partner) == 0)
+               ? kExposedEdge
+               : kFreeEdge;
+  }
+  BoundKind free_edge_kind(Vertex x) const { return free_edge_kind_of(free_partner(x)); }
   // What a pool's dissolution still owes vertex v's dual (BlossomForest::pending_dual2): 0 for
   // a vertex this run labelled (its node's debt was written then) and outside a pool's repair.
   Weight owed_dual2(Vertex v) const { return may_owe_ ? owed_dual2_slow(v) : 0; }
@@ -198,7 +208,8 @@ class AlternatingSearch {
   std::vector<EventCause> root_cause_;
   bool traces_causes_ = false;
   // A run with a single tree (a pool's repair) knows the tree ends by latest_end_ (the least
-  // key of its even vertices' dual bounds), and queues no bound due after it.
+  // key of its even vertices' dual bounds and of its edges into exposed vertices), and queues
+  // no bound due after it: no edge, vertex or blossom bound.
   static constexpr Weight kNever = std::numeric_limits<Weight>::max();
   bool lone_tree_ = false;
   Weight latest_end_ = kNever;

@@ -132,7 +132,52 @@ TEST(AlternatingSearchOrder, ZeroDualMateAtTheLevelIsTakenBeforeTheBranches) {
   ASSERT_TRUE(solved.check.ok) << solved.check.failure;
   EXPECT_EQ(solved.mate[0], x);
   EXPECT_EQ(solved.mate[z], kNoVertex);
-  EXPECT_EQ(solved.stats.scans, 2u);  // r, then z (even at dual 0: the tree ends)
+  // r only: z turns even at dual 0, which ends the tree at this level, so z is not scanned.
+  EXPECT_EQ(solved.stats.scans, 1u);
+}
+
+// The root is a blossom B = {0, 1, 2} (base 0 exposed, 1 - 2 matched, z = 0), so all three
+// vertices wait to be scanned; the first scanned, 2, has a tight edge into the exposed vertex e.
+// The tree ends at this level: the other two are not scanned.
+TEST(AlternatingSearchOrder, ATightEdgeIntoAnExposedVertexStopsTheScans) {
+  const std::vector<Edge> edges = {{0, 1, 2}, {1, 2, 2}, {2, 0, 2}, {2, 3, 1}};
+  const Solved solved = search_from_state(
+      4, edges, {kNoVertex, 2, 1, kNoVertex}, {2, 2, 2, 0},
+      [](BlossomForest& forest) { forest.make_blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}}); });
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[2], 3u);
+  EXPECT_EQ(solved.mate[0], 1u);
+  EXPECT_EQ(solved.stats.scans, 1u);  // all three before the rule
+}
+
+// A free blossom B = {1, 2, 3} whose base 1 is exposed (a later root of a pool's commit, say):
+// taking r - 2, into a vertex of B that is not its base, augments. It is due at the same level
+// as two branch edges listed before it, and goes first (2's own mate, 3, has a positive dual,
+// so the kind must be read from B's base, not from 2).
+TEST(AlternatingSearchOrder, AFreeBlossomWithAnExposedBaseIsTakenBeforeTheBranches) {
+  const std::vector<Edge> edges = {{0, 4, 2}, {4, 5, 6}, {0, 6, 2}, {6, 7, 6},
+                                   {1, 2, 1}, {2, 3, 2}, {3, 1, 1}, {0, 2, 2}};
+  const std::vector<Vertex> mate = {kNoVertex, kNoVertex, 3, 2, 5, 4, 7, 6};
+  const std::vector<Weight> dual2 = {4, 0, 2, 2, 2, 10, 2, 10};
+  const Solved solved = search_from_state(8, edges, mate, dual2, [](BlossomForest& forest) {
+    forest.make_blossom({1, 2, 3}, {{1, 2}, {2, 3}, {3, 1}});
+  });
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], 2u);
+  EXPECT_EQ(solved.mate[1], 3u);
+  EXPECT_EQ(solved.stats.scans, 1u);  // r only; before, the branches' mates 5 and 7 as well
+}
+
+// r's edge to a is tight at once; a's mate b holds far more dual (100) than r has left (4), so
+// the tree ends (r's dual reaching 0) long before b's could: b's dual bound is not queued.
+TEST(AlternatingSearchFreeBounds, AVertexHoldingMoreDualThanTheRootHasLeftQueuesNoBound) {
+  const std::vector<Edge> edges = {{0, 1, 5}, {1, 2, 53}};
+  const Solved solved = search_from_state(3, edges, {kNoVertex, 2, 1}, {4, 6, 100});
+  ASSERT_TRUE(solved.check.ok) << solved.check.failure;
+  EXPECT_EQ(solved.mate[0], kNoVertex);
+  EXPECT_EQ(solved.mate[1], 2u);
+  EXPECT_EQ(solved.stats.scans, 2u);        // r and b
+  EXPECT_EQ(solved.stats.heap_pushes, 2u);  // r's dual and r - a; b's dual as well before
 }
 
 // A lone tree ends at the latest when an edge into an exposed vertex turns tight, so once such
