@@ -146,15 +146,18 @@ void AlternatingSearch::scan(Vertex v) {
     if (sign > 0) continue;  // odd: the slack is constant while one end is even, the other odd
     if (sign == 0) {
       // slack = dual_v + dual_x - w2 is more than v's reach (dual_v) exactly when dual_x > w2.
-      // A debt only raises the dual: past the test on the dual alone, add what is owed.
+      // A debt only raises the dual, so the bound: past both tests on the dual alone, add what
+      // is owed and test again (the look-up climbs the forest: most edges never need it).
       Weight dual_x = duals[inc.other];
       if (dual_x > w2) continue;
-      if (may_owe) [[unlikely]] {
-        dual_x += owed_dual2_slow(inc.other);
-        if (dual_x > w2) continue;
-      }
-      const Weight due = delta + dual_v + dual_x - w2;
+      Weight due = delta + dual_v + dual_x - w2;
       if (due > latest_end) continue;
+      if (may_owe) [[unlikely]] {
+        const Weight owed = owed_dual2_slow(inc.other);
+        dual_x += owed;
+        due += owed;
+        if (dual_x > w2 || due > latest_end) continue;
+      }
       queue_free_bound(inc.edge, inc.other, due);
       latest_end = latest_end_;
       if (latest_end == delta) break;  // a tight edge into an exposed vertex: the tree ends now
