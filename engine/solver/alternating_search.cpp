@@ -111,7 +111,8 @@ inline void AlternatingSearch::queue_free_bound(EdgeIndex e, Vertex free_end, We
   bounds_.push(due, e, free_edge_kind_of(partner));
 }
 
-void AlternatingSearch::scan(Vertex v) {
+template <bool kMayOwe>
+void AlternatingSearch::scan_edges(Vertex v) {
   ++stats_.scans;
   const Weight dual_v = vertex_dual(v);
   const NodeId top_v = forest_.top(v);
@@ -120,7 +121,6 @@ void AlternatingSearch::scan(Vertex v) {
   const std::span<const Incidence> incident = graph_.incident(v);
   // Held in locals: a push writes memory, after which members read through `this` would be
   // loaded again on every edge. Only latest_end_ can change during the loop (queue_free_bound).
-  const bool may_owe = may_owe_;
   const VertexMark* const marks = vertex_mark_.data();
   const Weight* const duals = dual2_.data();
   const Vertex* const mates = mate_.values().data();
@@ -152,7 +152,7 @@ void AlternatingSearch::scan(Vertex v) {
       if (dual_x > w2) continue;
       Weight due = delta + dual_v + dual_x - w2;
       if (due > latest_end) continue;
-      if (may_owe) [[unlikely]] {
+      if constexpr (kMayOwe) {
         const Weight owed = owed_dual2_slow(inc.other);
         dual_x += owed;
         due += owed;

@@ -131,7 +131,11 @@ class AlternatingSearch {
   void make_even(Vertex v);
   void label_odd(NodeId node, Vertex via_even, Vertex entry, Vertex tree,
                  bool vertices_already_odd = false);
-  void scan(Vertex v);
+  // Queues the bounds of v's edges. Two copies of the edge loop: a run in which nothing is
+  // owed (most of them) keeps the loop free of the debt's test and its call.
+  void scan(Vertex v) { may_owe_ ? scan_edges<true>(v) : scan_edges<false>(v); }
+  template <bool kMayOwe>
+  void scan_edges(Vertex v);
   void push_edges_to_even(NodeId node);
   void queue_edge(EdgeIndex e, Weight slack, Weight reach, BoundKind kind);
   void queue_free_edge(EdgeIndex e, Vertex free_end, Weight slack, Weight reach);

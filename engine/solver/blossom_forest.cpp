@@ -119,7 +119,7 @@ std::size_t BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& ver
   // dissolution: its children inherit it. Owing children are left to the lazy top() repair (a
   // freed slot's caches are stale by version).
   Weight pushed = pending2_[path_.back()];
-  pending2_[path_.back()] = 0;
+  clear_pending(path_.back());  // passed on to the children below
   std::size_t moved = 0;
   for (std::size_t level = path_.size(); level-- > 0;) {
     const NodeId b = path_[level];
@@ -137,7 +137,8 @@ std::size_t BlossomForest::dissolve_path(NodeId lowest, std::vector<Weight>& ver
         });
         moved += size_[child];
       } else {
-        pending2_[child] = pushed;
+        pending2_[child] = pushed;  // a child was inside a blossom: it owed nothing
+        ++owing_;
         pending_nodes_.push_back(child);
       }
     }
@@ -157,6 +158,7 @@ std::size_t BlossomForest::flush_pending(std::vector<Weight>& vertex_dual2) {
     pending2_[node] = 0;
   }
   pending_nodes_.clear();
+  owing_ = 0;
   return written;
 }
 

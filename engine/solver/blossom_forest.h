@@ -98,12 +98,17 @@ class BlossomForest {
   // Dual owed by dissolve_path to every vertex of top-level blossom `node`, doubled (>= 0): the
   // dual of a vertex v is vertex_dual2[v] + pending_dual2(top(v)). 0 for every other node.
   Weight pending_dual2(NodeId node) const { return pending2_[node]; }
-  static constexpr std::uint32_t kOwedFromSize = 32;
-  bool has_pending() const { return !pending_nodes_.empty(); }
+  static constexpr std::uint32_t kOwedFromSize = 128;
+  // Whether some node still owes a pending dual (written ones no longer count).
+  bool has_pending() const { return owing_ != 0; }
   // Blossoms given a pending dual since the last flush (some may have been written since).
   std::size_t pending_count() const { return pending_nodes_.size(); }
   // For a caller that has just written node's pending dual into its vertices.
-  void clear_pending(NodeId node) { pending2_[node] = 0; }
+  void clear_pending(NodeId node) {
+    if (pending2_[node] == 0) return;
+    pending2_[node] = 0;
+    --owing_;
+  }
   // Writes every pending dual into its vertices. Returns the number of vertices written.
   // O(that count + blossoms given a pending dual since the last flush).
   std::size_t flush_pending(std::vector<Weight>& vertex_dual2);
@@ -150,6 +155,7 @@ class BlossomForest {
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
   std::vector<Weight> pending2_;      // per node: see pending_dual2()
   std::vector<NodeId> pending_nodes_;  // blossoms given a pending dual since the last flush
+  std::size_t owing_ = 0;              // nodes whose pending dual is not 0
   std::vector<Vertex> first_leaf_;    // per node
   std::vector<Vertex> last_leaf_;     // per node
   std::vector<std::uint32_t> size_;   // per node: number of vertices

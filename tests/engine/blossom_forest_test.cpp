@@ -745,9 +745,13 @@ TEST(BlossomForest, PendingDualsStackAcrossDissolutionsAndSurviveGrowth) {
       }
       bases.clear();
       written += forest.dissolve_path(path.front(), dual2, bases);
+      bool any_owed = false;
       for (Vertex x = 0; x < kVertices; ++x) {
         ASSERT_EQ(owed_dual2(forest, dual2, x), expected[x]) << "round " << round << ", " << x;
+        any_owed = any_owed || forest.pending_dual2(forest.top(x)) != 0;
       }
+      // has_pending() counts the nodes that owe: a debt passed down leaves its node owing none.
+      EXPECT_EQ(forest.has_pending(), any_owed) << "round " << round;
     }
     written += forest.flush_pending(dual2);
     EXPECT_FALSE(forest.has_pending());

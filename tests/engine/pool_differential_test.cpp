@@ -507,14 +507,17 @@ TEST_P(ManyActionTiedPoolStreams, EveryCommitIsACertifiedOptimum) {
   }
 }
 
-// The same in a max-weight pool large enough for tied weights to nest blossoms of dozens of
+// The same in a max-weight pool large enough for tied weights to nest blossoms of hundreds of
 // vertices under priced ones (a city graph: the stress family's blossoms stay small):
 // dissolutions leave children owing their push, later events and the search read duals through
 // the debts, and every commit is certified.
 TEST(LargeTiedPoolStreams, DissolutionsLeaveChildrenOwingAndEveryCommitIsCertified) {
   for (const StreamFamily family : {StreamFamily::city}) {
     gen::StreamSpec spec = gen::test_stream_spec(family, 977, 1500, 1);
-    spec.vertices = oracle::small_scale() ? 3000 : 6000;
+    spec.vertices = 20000;
+    spec.degree = 10;  // as the tail benchmark's city graphs: ties on a grain of 100 of ~5000
+    spec.min_weight = 1;
+    spec.max_weight = 5000;
     spec.mix = gen::tail_mix();
     spec.weight_grain = 100;
     spec.action_batches = false;
