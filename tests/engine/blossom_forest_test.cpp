@@ -622,6 +622,27 @@ TEST(BlossomForest, LazyTopMatchesAClimbUnderRandomDissolves) {
 namespace yoke {
 namespace {
 
+// Nests every vertex of a fresh `forest`: merges random odd groups (3 or 5) of top-level nodes
+// until fewer than 3 are left, each new blossom's doubled dual from pick_dual2().
+template <typename PickDual2>
+void nest_at_random(BlossomForest& forest, std::mt19937_64& rng, PickDual2 pick_dual2) {
+  std::vector<NodeId> tops(forest.vertex_count());
+  for (Vertex v = 0; v < tops.size(); ++v) tops[v] = v;
+  while (tops.size() >= 3) {
+    const std::size_t k = tops.size() >= 5 && rng() % 2 == 0 ? 5 : 3;
+    std::shuffle(tops.begin(), tops.end(), rng);
+    std::vector<NodeId> children(tops.end() - static_cast<std::ptrdiff_t>(k), tops.end());
+    tops.resize(tops.size() - k);
+    std::vector<CycleEdge> edges;
+    for (std::size_t i = 0; i < k; ++i) {
+      edges.push_back({forest.base(children[i]), forest.base(children[(i + 1) % k])});
+    }
+    const NodeId b = forest.make_blossom(children, edges);
+    forest.set_dual2(b, pick_dual2());
+    tops.push_back(b);
+  }
+}
+
 // The dual a vertex has while dissolutions may owe it: its own plus its top node's debt.
 Weight owed_dual2(const BlossomForest& forest, const std::vector<Weight>& dual2, Vertex v) {
   return dual2[v] + forest.pending_dual2(forest.top(v));
@@ -638,23 +659,10 @@ TEST(BlossomForest, DissolvePathPushesExactlyTheDissolvedDuals) {
     SCOPED_TRACE(seed);
     std::mt19937_64 rng(seed);
     BlossomForest forest(kVertices);
-    std::vector<NodeId> tops(kVertices);
-    for (Vertex v = 0; v < kVertices; ++v) tops[v] = v;
-    // Nest: merge random odd groups of top-level nodes until few are left.
-    while (tops.size() >= 3) {
-      const std::size_t k = tops.size() >= 5 && rng() % 2 == 0 ? 5 : 3;
-      std::shuffle(tops.begin(), tops.end(), rng);
-      std::vector<NodeId> children(tops.end() - static_cast<std::ptrdiff_t>(k), tops.end());
-      tops.resize(tops.size() - k);
-      std::vector<CycleEdge> edges;
-      for (std::size_t i = 0; i < k; ++i) {
-        edges.push_back({forest.base(children[i]), forest.base(children[(i + 1) % k])});
-      }
-      const NodeId b = forest.make_blossom(children, edges);
+    nest_at_random(forest, rng, [&rng] {
       const std::uint64_t roll = rng() % 4;
-      forest.set_dual2(b, roll < 2 ? 0 : static_cast<Weight>(2 * roll));
-      tops.push_back(b);
-    }
+      return roll < 2 ? 0 : static_cast<Weight>(2 * roll);
+    });
     std::vector<Weight> dual2(kVertices);
     for (Vertex v = 0; v < kVertices; ++v) dual2[v] = static_cast<Weight>(2 * (rng() % 5));
     for (Vertex v = 0; v < kVertices; ++v) forest.top(v);  // warm caches, so stale ones are tested
@@ -707,21 +715,9 @@ TEST(BlossomForest, PendingDualsStackAcrossDissolutionsAndSurviveGrowth) {
     SCOPED_TRACE(seed);
     std::mt19937_64 rng(seed);
     BlossomForest forest(kVertices);
-    std::vector<NodeId> tops(kVertices);
-    for (Vertex v = 0; v < kVertices; ++v) tops[v] = v;
-    while (tops.size() >= 3) {
-      const std::size_t k = tops.size() >= 5 && rng() % 2 == 0 ? 5 : 3;
-      std::shuffle(tops.begin(), tops.end(), rng);
-      std::vector<NodeId> children(tops.end() - static_cast<std::ptrdiff_t>(k), tops.end());
-      tops.resize(tops.size() - k);
-      std::vector<CycleEdge> edges;
-      for (std::size_t i = 0; i < k; ++i) {
-        edges.push_back({forest.base(children[i]), forest.base(children[(i + 1) % k])});
-      }
-      const NodeId b = forest.make_blossom(children, edges);
-      forest.set_dual2(b, rng() % 3 == 0 ? 0 : static_cast<Weight>(2 * (1 + rng() % 3)));
-      tops.push_back(b);
-    }
+    nest_at_random(forest, rng, [&rng] {
+      return rng() % 3 == 0 ? 0 : static_cast<Weight>(2 * (1 + rng() % 3));
+    });
     std::vector<Weight> dual2(kVertices, 0);
     std::vector<Weight> expected(kVertices, 0);
     std::size_t written = 0;
