@@ -27,6 +27,7 @@
 #include "daemon/storage/storage_error.h"
 #include "freed_memory.h"
 #include "service_notifier.h"
+#include "stop_signals.h"
 #include "yoked_server.h"
 
 namespace {
@@ -136,6 +137,7 @@ int serve_in_cluster(const yoke::daemon::DaemonConfig& config) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  route_stop_signals_to_their_own_thread();  // first: every thread started later blocks them
   const CommandLine command_line = parse_command_line(argc, argv);
   if (command_line.exit_code) {
     (*command_line.exit_code == 0 ? std::cout : std::cerr) << command_line.message;
