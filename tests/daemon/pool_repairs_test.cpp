@@ -328,6 +328,40 @@ TEST(PoolRepairs, APoolsBigLaterBatchIsCheckedOnAWorkerBesideItsRepair) {
   EXPECT_TRUE(service.window_empty());
 }
 
+// A query of the pool (drain()) that comes while a later big batch is checked on a worker
+// makes the batch wait for the pool's repairs after all; offered from the hold then, it goes
+// to a worker again, and joins the window with the seq it would have had.
+TEST(PoolRepairs, ABigLaterBatchWaitsForADrainThatBeganDuringItsCheck) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2)}, from_client("a", 1, "big")));
+  service.seal();
+  service.start_apply();
+  ASSERT_TRUE(repairs.release_one("big"));  // staged; its repair waits on the strand
+  std::vector<v1::Event> big;
+  for (VertexKey key = 3; key < 20003; ++key) big.push_back(wire_add(key));
+  EXPECT_FALSE(harness.offer(big, from_client("a", 2, "big")));
+  ASSERT_EQ(repairs.queued("big check"), 1u);
+  service.drain("big");
+  EXPECT_EQ(repairs.release("big check"), 1u);
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_TRUE(service.window_empty());
+  EXPECT_EQ(repairs.release("big"), 1u);  // the repair: the drain ends, the batch is offered
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(repairs.queued("big check"), 1u);
+  EXPECT_EQ(repairs.release("big check"), 1u);
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(accepted_seq(acks[0]), 2u);
+  apply_and_expect(service, repairs, "big", 2, 0);
+  EXPECT_EQ(service.registry().find("big")->vertex_count(), 20002u);
+}
+
 // A retirement waits until its pool's repairs are over (it drops the engine a worker holds),
 // and the pool's batches after it wait behind it; drain() (a query held) makes the pool's
 // batches wait too, so that its repairs end.
