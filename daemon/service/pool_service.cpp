@@ -149,14 +149,44 @@ bool PoolService::first_check_may_run(const std::string& pool) {
          state_.registry.may_create(pool, limits_.max_pools);
 }
 
-bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch) {
-  if (batch.retire || batch.events.size() < kFirstCheckOffLoop ||
-      !first_check_may_run(batch.pool)) {
+bool PoolService::later_check_may_run(const std::string& pool) {
+  if (executor_ == &inline_repairs_ || !routing_.serves_every_pool() || retiring_.contains(pool) ||
+      state_.registry.find(pool) == nullptr || first_checks_.contains(pool) ||
+      draining_.contains(pool) || stage_waits_.contains(pool) ||
+      window_pools_.contains(pool) || sealed_holds(pool) || syncing_.checkers.contains(pool) ||
+      sealed_checkers_.contains(pool)) {
     return false;
   }
+  // Staged, a window's batches are all in the topology (a repair does not change it).
+  const auto jobs = repairing_.find(pool);
+  return jobs == repairing_.end() || every_job_staged(jobs->second);
+}
+
+const Pool* PoolService::pool_for_later_check(const std::string& pool) {
+  if (auto chained = chained_checkers_.find(pool); chained != chained_checkers_.end()) {
+    // Every window it holds is staged: it knows nothing the pool does not (as window_pool()
+    // finds it). Its jobs' counts come off it, not off the window the batch will open.
+    if (const auto jobs = repairing_.find(pool); jobs != repairing_.end()) {
+      count_off_staged(jobs->second, chained->second);
+    }
+    chained->second.clear();
+    spare_checkers_.insert_or_assign(pool, std::move(chained->second));
+    chained_checkers_.erase(chained);
+  }
+  return state_.registry.find(pool);
+}
+
+bool PoolService::check_first_batch_off_loop(Ticket ticket, DecodedBatch& batch) {
+  if (batch.retire || batch.events.size() < kFirstCheckOffLoop) return false;
   auto check = std::make_shared<FirstCheck>();
+  if (first_check_may_run(batch.pool)) {
+    check->engine = state_.registry.make_aside(batch.pool);
+  } else if (batch.events.size() >= kLaterCheckOffLoop && later_check_may_run(batch.pool)) {
+    check->existing = pool_for_later_check(batch.pool);
+  } else {
+    return false;
+  }
   check->ticket = ticket;
-  check->engine = state_.registry.make_aside(batch.pool);
   check->batch = std::move(batch);
   run_first_check(check);
   return true;
@@ -175,14 +205,21 @@ bool PoolService::decode_first_batch_off_loop(Ticket ticket, std::string_view me
   DecodedBatch names;
   names.pool = resolve_pool_name(envelope->pool);
   if (pool_name_problem(names.pool)) return false;
-  if (!first_check_may_run(names.pool) || held_.contains(names.pool) || waits_for_engine(names)) {
+  if (held_.contains(names.pool) || waits_for_engine(names)) return false;
+  const bool fresh = first_check_may_run(names.pool);
+  if (!fresh &&
+      (message.size() < kDecodeLaterOffLoopBytes || !later_check_may_run(names.pool))) {
     return false;
   }
   names.client_id = std::move(envelope->client_id);
   names.client_batch = envelope->client_batch;
   auto check = std::make_shared<FirstCheck>();
   check->ticket = ticket;
-  check->engine = state_.registry.make_aside(names.pool);
+  if (fresh) {
+    check->engine = state_.registry.make_aside(names.pool);
+  } else {
+    check->existing = pool_for_later_check(names.pool);
+  }
   check->batch = std::move(names);
   check->decode = true;
   if (keep) {
@@ -201,7 +238,9 @@ bool PoolService::decode_first_batch_off_loop(Ticket ticket, std::string_view me
 void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   first_checks_.emplace(check->batch.pool, check);
   ++held_count_;
-  executor_->run(check->batch.pool, [this, check, limits = limits_] {
+  const std::string strand =
+      check->existing != nullptr ? check_strand(check->batch.pool) : check->batch.pool;
+  executor_->run(strand, [this, check, limits = limits_] {
     try {
       DecodedBatch* checked = &check->batch;  // or the batch decoded here from the message
       if (check->decode) {
@@ -221,7 +260,7 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
         }
       }
       if (!check->refusal && !check->not_as_announced) {
-        check->checker.emplace(*check->engine);
+        check->checker.emplace(check->existing != nullptr ? *check->existing : *check->engine);
         check->verdict = check->checker->accept(checked->events);
         // Its journal bytes too, here: encoded on the journal thread and copied on the loop,
         // a base graph's events held every pool's next window (and acknowledgements) behind
@@ -354,8 +393,11 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   // A pool named for the first time is made aside and kept only if the batch is accepted: a
   // refusal changes nothing, not even the pools there are (nor their count, for max_pools).
   Pool* pool = state_.registry.find(batch.pool);
-  // The pool's batches waited behind its first one: nothing made it meanwhile.
-  if (pool != nullptr || window_pools_.contains(batch.pool)) first = nullptr;
+  // The pool's batches waited behind its first one: nothing made it meanwhile (and a later
+  // batch's pool is the one checked, with nothing of it in a window).
+  if (first != nullptr && (pool != first->existing || window_pools_.contains(batch.pool))) {
+    first = nullptr;
+  }
   std::unique_ptr<Pool> created;
   if (pool == nullptr) {
     if (!state_.registry.may_create(batch.pool, limits_.max_pools)) {
@@ -380,8 +422,10 @@ std::optional<v1::Ack> PoolService::offer_decoded(Ticket ticket, DecodedBatch ba
   WindowPool* window_entry = nullptr;
   if (first != nullptr) {
     // The worker's checker holds the batch when it accepted it: the window's.
-    window_entry = &window_pools_.emplace(batch.pool, WindowPool{0, 1, std::move(*first->checker)})
-                        .first->second;
+    const std::uint64_t seq = first->existing != nullptr ? seq_before_window(batch.pool) : 0;
+    window_entry =
+        &window_pools_.emplace(batch.pool, WindowPool{seq, seq + 1, std::move(*first->checker)})
+             .first->second;
     error = std::move(first->verdict);
   } else {
     window_entry = &window_pool(batch.pool, *pool);

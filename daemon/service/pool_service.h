@@ -337,10 +337,19 @@ class PoolService {
   // names its envelope gave, and the worker writes `decoded` and `refusal`. The worker reads
   // only batch.events, `message`, engine and checker, and writes only the fields after them,
   // until `ended` (guarded by finished_mutex_).
+  //
+  // A later batch of kLaterCheckOffLoop events or more (or a message of kDecodeLaterOffLoopBytes
+  // or more) of a pool that exists goes the same way when nothing of the pool waits on the
+  // loop and every window of it is staged, so that its topology holds everything before the
+  // batch (later_check_may_run()): `existing` is then the pool, which the worker only reads
+  // (as the loop's checks read it during a repair), with a new checker; the pool's next
+  // batches, and its retirement, wait behind it, so nothing stages a window of it meanwhile.
+  // It runs beside the pool's repairs (check_strand()), not behind them.
   struct FirstCheck {
     Ticket ticket = 0;
     DecodedBatch batch;
     std::unique_ptr<Pool> engine;
+    const Pool* existing = nullptr;
     bool decode = false;
     std::string_view message;  // to decode, kept alive by message_owner (dropped once decoded)
     std::shared_ptr<const void> message_owner;
@@ -357,6 +366,10 @@ class PoolService {
   static constexpr std::size_t kFirstCheckOffLoop = 4096;
   // An event takes 8 to 30 bytes on the wire: past this, a message may hold kFirstCheckOffLoop.
   static constexpr std::size_t kDecodeOffLoopBytes = 16 * kFirstCheckOffLoop;
+  // A later batch's check costs the loop ~0.2 us per event (8x10^5 events: 140 ms of the
+  // loop, perf, session 15); below this it stays there (~3 ms), with no hand-off.
+  static constexpr std::size_t kLaterCheckOffLoop = 1u << 14;
+  static constexpr std::size_t kDecodeLaterOffLoopBytes = 16 * kLaterCheckOffLoop;
 
   v1::Ack refuse(v1::Ack ack);
   // offer() once the batch is decoded and its pool's topology may be read here; with `first`,
@@ -375,6 +388,17 @@ class PoolService {
   // `pool` is new, and its first batch may be checked on a worker (nothing of it held,
   // pending, retiring; room for it).
   bool first_check_may_run(const std::string& pool);
+  // `pool` exists and a batch of it may be checked on a worker against its topology alone
+  // (FirstCheck::existing): nothing of it in a window (open, syncing, sealed), every window of
+  // it staged. The caller sees that nothing of it is held before the batch (as for
+  // first_check_may_run()).
+  bool later_check_may_run(const std::string& pool);
+  // The pool, for such a check: its chained checker, if any, emptied (it says nothing the
+  // staged pool does not) and kept as its spare.
+  const Pool* pool_for_later_check(const std::string& pool);
+  // The executor's key for a later batch's check: a strand beside the pool's own (a name no
+  // pool has), so that the check does not wait for the repairs in flight.
+  static std::string check_strand(const std::string& pool) { return pool + " check"; }
   void run_first_check(const std::shared_ptr<FirstCheck>& check);
   // Drops the pool's chained and spare checkers, before the pool they read goes or is replaced.
   void drop_kept_checkers(const std::string& pool);

@@ -364,12 +364,21 @@ void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& re
       ack = offer_batch(check->ticket, std::move(check->decoded));
     } else {
       if (check->decode) check->batch = std::move(check->decoded);
-      ack = offer_decoded(check->ticket, std::move(check->batch), check.get());
+      if (check->existing != nullptr && draining_.contains(pool)) {
+        // A query of the pool came meanwhile, and its repairs are in flight: the batch waits
+        // for them, as it would have on arrival (offer_held() checks it again then).
+        held_[pool].push_front(HeldBatch{check->ticket, std::move(check->batch)});
+        ++held_count_;
+      } else {
+        ack = offer_decoded(check->ticket, std::move(check->batch), check.get());
+      }
     }
     if (ack) replies.emplace_back(check->ticket, std::move(*ack));
-    // Refused: the pool was never made, and its check, on its strand, is over.
-    if (state_.registry.find(pool) == nullptr && !repairing(pool) &&
-        !first_checks_.contains(pool)) {
+    if (check->existing != nullptr) {
+      executor_->forget(check_strand(pool));  // its one task is over
+    } else if (state_.registry.find(pool) == nullptr && !repairing(pool) &&
+               !first_checks_.contains(pool)) {
+      // Refused: the pool was never made, and its check, on its strand, is over.
       executor_->forget(pool);
     }
   }
@@ -382,6 +391,8 @@ void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
       HeldBatch held = std::move(waiting.front());
       waiting.pop_front();
       --held_count_;
+      // A big one may go to a worker now, as on arrival (the rest of the pool's wait for it).
+      if (check_first_batch_off_loop(held.ticket, held.batch)) continue;
       if (auto ack = offer_decoded(held.ticket, std::move(held.batch))) {
         replies.emplace_back(held.ticket, std::move(*ack));
       }

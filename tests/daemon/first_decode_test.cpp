@@ -52,16 +52,17 @@ std::string big_message(const testing::BatchHeader& header, VertexKey vertices =
 }
 
 // The big message with event `index`'s kind replaced by one no protocol version has.
-std::string with_bad_kind_at(std::size_t index, const testing::BatchHeader& header) {
-  v1::EventBatch batch = testing::make_batch(base_graph(8000), header);
+std::string with_bad_kind_at(std::size_t index, const testing::BatchHeader& header,
+                             VertexKey vertices = 8000) {
+  v1::EventBatch batch = testing::make_batch(base_graph(vertices), header);
   batch.mutable_events(static_cast<int>(index))->set_kind(static_cast<v1::Event::Kind>(99));
   return testing::ingest_message(batch);
 }
 
 // The big message with one event's bytes not a yoke.v1.Event (a field numbered 0 in it):
 // its envelope reads, the message does not parse.
-std::string with_unparsable_event(const testing::BatchHeader& header) {
-  v1::EventBatch batch = testing::make_batch(base_graph(8000), header);
+std::string with_unparsable_event(const testing::BatchHeader& header, VertexKey vertices = 8000) {
+  v1::EventBatch batch = testing::make_batch(base_graph(vertices), header);
   v1::IngestRequest request;
   request.set_version(1);
   *request.mutable_batch() = batch;
@@ -74,15 +75,17 @@ std::string with_unparsable_event(const testing::BatchHeader& header) {
 struct Offered {
   std::string message;
   bool off_loop = false;  // expected: decoded on a worker (no answer from offer())
+  bool settle_first = false;  // every window closed and repaired before it is offered
 };
 
 // Offers the messages in order to the inline service (a window closed after each) and to one
 // whose worker tasks are held (all offered first, then repairs run and windows closed until
 // nothing waits): the same answer for every ticket.
 void expect_answers_of_the_inline_service(const std::vector<Offered>& messages,
-                                          const std::vector<std::string>& pools) {
-  ServiceHarness reference(small_limits());
-  ServiceHarness held(small_limits());
+                                          const std::vector<std::string>& pools,
+                                          const DaemonConfig& config = small_limits()) {
+  ServiceHarness reference(config);
+  ServiceHarness held(config);
   PoolService& service = held.service();
   ManualRepairs repairs;
   service.set_repair_executor(&repairs);
@@ -93,9 +96,20 @@ void expect_answers_of_the_inline_service(const std::vector<Offered>& messages,
       ASSERT_TRUE(answered.emplace(ticket, ack).second) << "answered twice: " << ticket;
     }
   };
+  const auto settle = [&] {
+    for (int round = 0; round < 20 && (service.repairs_in_flight() || !service.window_empty() ||
+                                        service.held_batches() > 0);
+         ++round) {
+      for (const std::string& pool : pools) repairs.release(pool);
+      take(service.finish_repairs().replies);
+      take(service.seal());
+      service.start_apply();
+    }
+  };
   Ticket ticket = 0;
   for (const Offered& offered : messages) {
     ++ticket;
+    if (offered.settle_first) settle();
     if (auto now = reference.service().offer(ticket, offered.message)) {
       expected.emplace(ticket, *now);
     } else {
@@ -114,14 +128,7 @@ void expect_answers_of_the_inline_service(const std::vector<Offered>& messages,
       EXPECT_EQ(queued_after, queued + 1) << "message " << ticket << " not handed to a worker";
     }
   }
-  for (int round = 0; round < 20 && (service.repairs_in_flight() || !service.window_empty() ||
-                                      service.held_batches() > 0);
-       ++round) {
-    for (const std::string& pool : pools) repairs.release(pool);
-    take(service.finish_repairs().replies);
-    take(service.seal());
-    service.start_apply();
-  }
+  settle();
   EXPECT_FALSE(service.repairs_in_flight());
   EXPECT_EQ(service.held_batches(), 0u);
   ASSERT_EQ(answered.size(), expected.size());
@@ -193,6 +200,31 @@ TEST(FirstDecode, NamesAndSizesDecodeRefusesStayOnTheLoop) {
       {{oversized, false}, {bad_pool, false}, {long_id, false}, {old_version, false},
        {big_message(from_client("a", 1, "big")), true}},
       {"big", "no spaces allowed"});
+}
+
+// A later big message of a pool that exists (past 256 KiB, 16,384 events) is decoded and
+// checked on a worker too (beside the pool's strand: "big check") when nothing of the pool is
+// in a window; what arrives behind it waits, and refusals are those of the loop.
+TEST(FirstDecode, ALaterBigBatchOfAPoolIsDecodedAndCheckedOnAWorker) {
+  DaemonConfig config = testing::test_config({});
+  config.limits.max_message_bytes = std::uint64_t{4} << 20;
+  const VertexKey n = 60000;
+  const std::string later = big_message(from_client("a", 2, "big"), n);
+  ASSERT_GT(later.size(), std::size_t{256} << 10);
+  const std::string more =
+      testing::ingest_message({wire_add(n + 2), wire_add(n + 3)}, from_client("a", 5, "big"));
+  expect_answers_of_the_inline_service(
+      {{testing::ingest_message({wire_add(n + 1)}, from_client("a", 1, "big")), false},
+       {later, true, true},
+       {testing::ingest_message({wire_add(1)}, from_client("b", 1, "other")), false},
+       {later, false},  // its retry: a duplicate of seq 2, behind it
+       {testing::ingest_message({wire_set(1, n + 1, 9)}, from_client("a", 3, "big", 2)), false},
+       {with_bad_kind_at(54321, from_client("a", 4, "big"), n), true, true},
+       {with_unparsable_event(from_client("a", 4, "big"), n), true, true},
+       {big_message(from_client("c", 1, "big"), n), true, true},  // refused: vertex 1 exists
+       {more, false},
+       {testing::retire_message("big", 0, "a", 6), false}},
+      {"big", "big check", "other"}, config);
 }
 
 // The daemon stops with a decode in flight: the message is refused (UNAVAILABLE) under the

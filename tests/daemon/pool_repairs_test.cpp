@@ -275,6 +275,93 @@ TEST(PoolRepairs, ANewPoolsBigFirstBatchIsCheckedOnAWorker) {
   apply_and_expect(service, repairs, "big", 2, 2498 * 3 + 9);  // 1-5000 for 1-2 and 4999-5000
 }
 
+// A later big batch of a pool (16384 events or more) is checked on a worker too, beside the
+// pool's repair in flight (its own strand): another pool's batches are acknowledged meanwhile,
+// the pool's next batch waits behind it, and a bad one is refused with its event's index, as
+// the loop refuses it. Seqs: events.proto.
+TEST(PoolRepairs, APoolsBigLaterBatchIsCheckedOnAWorkerBesideItsRepair) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(
+      harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, from_client("a", 1, "big")));
+  service.seal();
+  service.start_apply();
+  ASSERT_TRUE(repairs.release_one("big"));  // staged; its repair waits on the strand
+  std::vector<v1::Event> big;
+  for (VertexKey key = 3; key < 12003; ++key) big.push_back(wire_add(key));
+  for (VertexKey key = 3; key < 12003; key += 2) big.push_back(wire_set(key, key + 1, 2));
+  EXPECT_FALSE(harness.offer(big, from_client("a", 2, "big")));
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_EQ(repairs.queued("big check"), 1u);
+  EXPECT_FALSE(harness.offer({wire_add(1)}, from_client("b", 1, "B")));
+  EXPECT_FALSE(harness.offer({wire_set(2, 3, 6)}, from_client("a", 3, "big", 2)));
+  EXPECT_EQ(service.held_batches(), 2u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(acks[0].second.pool(), "B");
+  service.start_apply();
+  repairs.release("B");
+  EXPECT_EQ(repairs.release("big check"), 1u);  // before the pool's repair
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto big_acks = service.seal();
+  ASSERT_EQ(big_acks.size(), 2u);
+  EXPECT_EQ(accepted_seq(big_acks[0]), 2u);
+  EXPECT_EQ(accepted_seq(big_acks[1]), 3u);
+  apply_and_expect(service, repairs, "big", 3, 5 + 6000 * 2);  // 2-3 for 6 does not pay
+  EXPECT_FALSE(service.repairs_in_flight());
+
+  std::vector<v1::Event> bad;
+  for (VertexKey key = 12003; key < 52003; ++key) bad.push_back(wire_add(key));
+  bad.push_back(wire_add(7));  // a vertex the pool has, last
+  EXPECT_FALSE(harness.offer(bad, from_client("a", 4, "big")));
+  EXPECT_EQ(repairs.queued("big check"), 1u);
+  EXPECT_EQ(repairs.release("big check"), 1u);
+  const PoolService::RepairsDone done = service.finish_repairs();
+  ASSERT_EQ(done.replies.size(), 1u);
+  ASSERT_EQ(done.replies[0].second.rejected().errors_size(), 1);
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).code(), v1::Error::VERTEX_EXISTS);
+  EXPECT_EQ(done.replies[0].second.rejected().errors(0).event_index(), bad.size() - 1);
+  EXPECT_EQ(service.registry().find("big")->vertex_count(), 12002u);
+  EXPECT_TRUE(service.window_empty());
+}
+
+// A query of the pool (drain()) that comes while a later big batch is checked on a worker
+// makes the batch wait for the pool's repairs after all; offered from the hold then, it goes
+// to a worker again, and joins the window with the seq it would have had.
+TEST(PoolRepairs, ABigLaterBatchWaitsForADrainThatBeganDuringItsCheck) {
+  ServiceHarness harness;
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2)}, from_client("a", 1, "big")));
+  service.seal();
+  service.start_apply();
+  ASSERT_TRUE(repairs.release_one("big"));  // staged; its repair waits on the strand
+  std::vector<v1::Event> big;
+  for (VertexKey key = 3; key < 20003; ++key) big.push_back(wire_add(key));
+  EXPECT_FALSE(harness.offer(big, from_client("a", 2, "big")));
+  ASSERT_EQ(repairs.queued("big check"), 1u);
+  service.drain("big");
+  EXPECT_EQ(repairs.release("big check"), 1u);
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(service.held_batches(), 1u);
+  EXPECT_TRUE(service.window_empty());
+  EXPECT_EQ(repairs.release("big"), 1u);  // the repair: the drain ends, the batch is offered
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(repairs.queued("big check"), 1u);
+  EXPECT_EQ(repairs.release("big check"), 1u);
+  EXPECT_TRUE(service.finish_repairs().replies.empty());
+  EXPECT_EQ(service.held_batches(), 0u);
+  const auto acks = service.seal();
+  ASSERT_EQ(acks.size(), 1u);
+  EXPECT_EQ(accepted_seq(acks[0]), 2u);
+  apply_and_expect(service, repairs, "big", 2, 0);
+  EXPECT_EQ(service.registry().find("big")->vertex_count(), 20002u);
+}
+
 // A retirement waits until its pool's repairs are over (it drops the engine a worker holds),
 // and the pool's batches after it wait behind it; drain() (a query held) makes the pool's
 // batches wait too, so that its repairs end.

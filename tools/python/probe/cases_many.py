@@ -437,12 +437,14 @@ def long_repair(rec, yoked):
                  all(max(a, q) < r / 4 for (a, q), r in zip(repairing, repairs)))
         rec.case("the same, while the loop takes the big batches in (from sending to the Ack)",
                  spec(P, "for a batch that waits behind its pool's work on a repair thread (a new "
-                      "pool's big first batch, decoded and checked there") + " (a later big batch"
-                 " of the pool is read on the loop: how long that holds other pools is not said)",
-                 "(GAP) the other pool's worst ack and query meanwhile",
+                      "pool's big first batch, or a big later batch of a pool with nothing in a "
+                      "window, decoded and checked there"),
+                 "both big batches are read off the loop: the other pool's worst ack and query "
+                 "meanwhile stay far below the big batch's own time to its Ack (< 1/4 of it)",
                  "; ".join(f"batch {i + 1}: {t1 - t0:.2f} s to its Ack, worst ack "
                            f"{a * 1000:.0f} ms, worst query {q * 1000:.0f} ms"
-                           for i, ((t0, t1, _), (a, q)) in enumerate(zip(phases, intake))), None)
+                           for i, ((t0, t1, _), (a, q)) in enumerate(zip(phases, intake))),
+                 all(max(a, q) < (t1 - t0) / 4 for (t0, t1, _), (a, q) in zip(phases, intake)))
         unknown = f"error {Code.UNKNOWN_POOL}"
         odd = {k: v for k, v in got["answers"].items()
                if k not in (unknown, "summary 0", "summary 1", "summary 2")}
