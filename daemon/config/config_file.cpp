@@ -88,7 +88,7 @@ void read_pool(TomlTableReader& table, PoolSettings& out) {
   // Each key in range, but the weights must also stay exact with the mode and the vertices
   // (validate_config checks it again for settings made in code, without a line to name).
   try {
-    PoolRegistry(out, {});
+    check_pool_settings(out);
   } catch (const InputError& error) {
     table.fail(table.last_given({"mode", "max_vertices", "max_abs_weight", "churn_bonus"}),
                std::string("cannot stay exact: ") + error.what());

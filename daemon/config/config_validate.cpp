@@ -42,13 +42,13 @@ void check_pools(const DaemonConfig& config) {
                       ": every declared pool has a slot reserved");
   }
   try {
-    PoolRegistry(config.pool_defaults, {});
+    check_pool_settings(config.pool_defaults);
   } catch (const InputError& error) {
     throw ConfigError(std::string("pool_defaults cannot stay exact: ") + error.what());
   }
   for (const auto& [name, settings] : config.pools) {
     try {
-      PoolRegistry(config.pool_defaults, {{name, settings}});
+      check_pool_settings(settings);
     } catch (const InputError& error) {
       throw ConfigError("pools." + name + " cannot stay exact: " + error.what());
     }

@@ -2,11 +2,14 @@
 
 namespace yoke::daemon {
 
+void check_pool_settings(const PoolSettings& settings) {
+  Pool(settings.mode, settings.limits, settings.churn_bonus);
+}
+
 PoolRegistry::PoolRegistry(PoolSettings defaults, std::map<std::string, PoolSettings> declared)
     : defaults_(std::move(defaults)), declared_(std::move(declared)) {
-  // Fail at start-up, not at the first batch, when a setting is out of range.
-  Pool(defaults_.mode, defaults_.limits, defaults_.churn_bonus);
-  for (const auto& [name, settings] : declared_) Pool(settings.mode, settings.limits, settings.churn_bonus);
+  check_pool_settings(defaults_);
+  for (const auto& [name, settings] : declared_) check_pool_settings(settings);
 }
 
 const PoolSettings& PoolRegistry::settings_for(const std::string& name) const {

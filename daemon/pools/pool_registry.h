@@ -19,6 +19,11 @@ struct PoolSettings {
   Weight churn_bonus = 0;  // Pool's churn control; 0: none
 };
 
+// Throws InputError when the engine refuses `settings` (limits out of its ranges, or weights
+// that cannot stay exact with the mode, the vertices and the churn bonus): the check a pool
+// made with them would make, run at start-up instead of at the first batch.
+void check_pool_settings(const PoolSettings& settings);
+
 class PoolRegistry {
  public:
   // Throws InputError when a declared or the default setting cannot be kept exact.

@@ -407,7 +407,7 @@ void apply_event(PoolState& pool, const Event& event) {
 
 Weight vertex_dual2(const PoolState& pool, Vertex v) {
   const BlossomForest& forest = pool.matching.forest;
-  const Weight owed = forest.has_pending() ? forest.pending_dual2(forest.top(v)) : 0;
+  const Weight owed = forest.has_pending() ? forest.owed_dual2(v) : 0;
   return pool.matching.dual2[v] + owed;
 }
 

@@ -25,9 +25,7 @@ AlternatingSearch::AlternatingSearch(const Graph& graph, Weight weight_offset, M
       root_cause_(graph.vertex_count(), kNoCause),
       mark_(2 * graph.vertex_count(), 0) {}
 
-Weight AlternatingSearch::owed_dual2_slow(Vertex v) const {
-  return forest_.pending_dual2(forest_.top(v));
-}
+Weight AlternatingSearch::owed_dual2_slow(Vertex v) const { return forest_.owed_dual2(v); }
 
 void AlternatingSearch::settle_owed_slow(NodeId node) {
   const Weight owed = forest_.pending_dual2(node);
@@ -46,7 +44,7 @@ Weight AlternatingSearch::blossom_dual(NodeId b) const {
 
 void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
   dual2_[v] = settled_vertex_dual(v);
-  YOKE_DCHECK(!may_owe_ || forest_.pending_dual2(forest_.top(v)) == 0,
+  YOKE_DCHECK(!may_owe_ || forest_.owed_dual2(v) == 0,
               "set_vertex_sign: a vertex whose node still owes its dual");
   vertex_mark_[v] = {delta_, stamp_, static_cast<std::int8_t>(sign)};
 }

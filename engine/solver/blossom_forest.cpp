@@ -71,7 +71,7 @@ void BlossomForest::dissolve(NodeId b) {
 }
 
 void BlossomForest::free_slot(NodeId b) {
-  pending2_[b] = 0;  // passed on to the children by dissolve_path, or never owed
+  clear_pending(b);  // passed on to the children by dissolve_path, or never owed
   children_[b - vertex_count_].clear();
   edges_[b - vertex_count_].clear();
   dual2_[b] = 0;

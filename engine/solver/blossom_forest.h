@@ -98,6 +98,8 @@ class BlossomForest {
   // Dual owed by dissolve_path to every vertex of top-level blossom `node`, doubled (>= 0): the
   // dual of a vertex v is vertex_dual2[v] + pending_dual2(top(v)). 0 for every other node.
   Weight pending_dual2(NodeId node) const { return pending2_[node]; }
+  // What vertex v is owed: its top-level node's pending dual. O(1) with a settled top() cache.
+  Weight owed_dual2(Vertex v) const { return pending2_[top(v)]; }
   static constexpr std::uint32_t kOwedFromSize = 128;
   // Whether some node still owes a pending dual (written ones no longer count).
   bool has_pending() const { return owing_ != 0; }

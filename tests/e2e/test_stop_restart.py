@@ -15,7 +15,7 @@ import zmq
 from yoke.v1 import ingest_pb2
 
 from e2e_harness import (SLOWDOWN, Daemon, ErrorCode, IngestClient, check_binaries, log_fields,
-                         make_batch_request)
+                         make_batch_request, metric_value)
 
 CLIENT = "vardolune-dispatch"
 
@@ -115,10 +115,8 @@ class SigtermInFlightTest(unittest.TestCase):
         """Until the daemon's yoke_ingest_messages_total reaches `messages`."""
         deadline = time.monotonic() + 20 * SLOWDOWN
         while time.monotonic() < deadline:
-            for line in daemon.metrics_text().splitlines():
-                if line.startswith("yoke_ingest_messages_total") and \
-                        float(line.split()[-1]) >= messages:
-                    return
+            if metric_value(daemon.metrics_text(), "yoke_ingest_messages_total") >= messages:
+                return
             time.sleep(0.01)
         self.fail(f"the daemon did not read {messages} messages\n{daemon.diagnostics()}")
 
