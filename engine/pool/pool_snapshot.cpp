@@ -82,9 +82,13 @@ std::string Pool::save() const {
   out.put(pool.weight);
   out.put<std::uint64_t>(pool.pairs);
   pool.graph.save(out);
-  out.put_vector(pool.matching.mate.values());
-  out.put_vector(pool.matching.dual2);
-  pool.matching.forest.save(out);
+  // The bytes describe G alone: with φ present, a copy with φ taken out (a restored pool
+  // brings φ in again at its next event).
+  const MatchingState without = state_without_phantom(pool);
+  const MatchingState& state = pool.phantom == kNoVertex ? pool.matching : without;
+  out.put_vector(state.mate.values());
+  out.put_vector(state.dual2);
+  state.forest.save(out);
   pool.holds.save(out);
   return out.take();
 }
@@ -132,6 +136,13 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   if (!in.done()) ByteReader::fail("bytes are left over at the end");
   pool.node_mark.assign(2 * n, 0);
   pool.search = std::make_unique<AlternatingSearch>(pool.graph.graph(), pool.weight_offset, pool.matching);
+  pool.prices.resize(n);
+  if (pool.uses_phantom) {
+    for (Vertex v = 0; v < n; ++v) {
+      if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
+    }
+    pool.search->set_phantom(kNoVertex, &pool.prices);
+  }
   return std::unique_ptr<Pool>(new Pool(std::move(state)));
 }
 
