@@ -43,6 +43,21 @@ Vertex PoolGraph::reserve_slot() {
   return v;
 }
 
+bool PoolGraph::claim_reserved(Vertex v) {
+  decltype(free_slots_) others;
+  bool found = false;
+  for (; !free_slots_.empty(); free_slots_.pop()) {
+    if (free_slots_.top() == v) {
+      found = true;
+    } else {
+      others.push(free_slots_.top());
+    }
+  }
+  free_slots_ = std::move(others);
+  if (found) reserved_slots_.push_back(v);
+  return found;
+}
+
 void PoolGraph::release_reserved(Vertex v) {
   std::erase(reserved_slots_, v);
   freed_slots_.push_back(v);

@@ -40,6 +40,9 @@ class PoolGraph {
   // released like a removed vertex's; saved as a free slot.
   Vertex reserve_slot();
   void release_reserved(Vertex v);
+  // After load(): takes free slot v back as reserved (a saved pool's phantom). False when v is
+  // not a free slot. O(free slots).
+  bool claim_reserved(Vertex v);
 
   EdgeIndex find_edge(Vertex a, Vertex b) const;  // kNoEdge when absent
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);

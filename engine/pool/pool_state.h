@@ -55,7 +55,7 @@ struct PoolState {
   // The phantom vertex (docs/mathematics.md §9): in max-cardinality and perfect pools (without
   // a churn bonus or held pairs), while the vertex count is odd, one keyless slot joined to
   // every vertex by an implicit edge of weight 0, so that the graph the search sees is even.
-  const bool uses_phantom;
+  bool uses_phantom;  // fixed at construction, or by a restored pool that held φ
   PhantomPrices prices;          // every vertex joined while uses_phantom, φ present or not
   Vertex phantom = kNoVertex;    // φ's slot while present
   std::vector<Vertex> phantom_slots;  // the slots φ held during the batch (the diff skips them)
