@@ -91,8 +91,8 @@ TEST(PoolPhantom, ParityFlipsByArrivalsAndDepartures) {
         batch.push_back(set(next, static_cast<VertexKey>((step * 5) % 21), 1 + step % 6));
         ++next;
       }
-      batch.push_back(set(static_cast<VertexKey>(20 - step % 7), static_cast<VertexKey>(19 - step % 7),
-                          step % 9));  // a weight moves inside the component
+      const auto a = static_cast<VertexKey>(20 - step % 7);
+      batch.push_back(set(a, a - 1, step % 9));  // a weight moves inside the component
       twins.commit(batch, where);
     }
   }
