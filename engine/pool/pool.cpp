@@ -101,6 +101,8 @@ CommitResult Pool::repair() {
       for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
         if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
       }
+      pool.current_cause = kNoCause;  // no one event of a solved batch brought it in
+      pool.matching.mate.set_cause(kNoCause);
       sync_phantom(pool);
       search_from_roots(pool);
     }
