@@ -13,9 +13,12 @@ PoolState::PoolState(Mode pool_mode, PoolLimits pool_limits, Weight bonus)
       churn_bonus(bonus),
       weight_offset(resolve_limits(pool_mode, limits, bonus)),
       matching(graph.capacity()),
+      uses_phantom(pool_mode != Mode::max_weight && bonus == 0 && phantom_switched_on()),
       search(std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching)),
       node_mark(2 * graph.capacity(), 0) {
   if (churn_bonus != 0) bonus_mate.assign(graph.capacity(), kNoVertex);
+  prices.resize(graph.capacity());
+  if (uses_phantom) search->set_phantom(kNoVertex, &prices);
 }
 
 void PoolState::fit_capacity() {
@@ -28,6 +31,8 @@ void PoolState::fit_capacity() {
   if (churn_bonus != 0) bonus_mate.resize(n, kNoVertex);
   // The search's per-node arrays follow the capacity; it keeps no state between runs.
   search = std::make_unique<AlternatingSearch>(graph.graph(), weight_offset, matching);
+  prices.resize(n);
+  if (uses_phantom) search->set_phantom(phantom, &prices);
 }
 
 Pool::Pool(Mode mode, PoolLimits limits, Weight churn_bonus)
@@ -51,6 +56,8 @@ void Pool::stage(std::span<const Event> batch) {
   pool.root_candidates.clear();
   pool.weight_before.clear();
   pool.holds_touched.clear();
+  pool.phantom_slots.clear();
+  if (pool.phantom != kNoVertex) pool.phantom_slots.push_back(pool.phantom);
   pool.matching.mate.open_journal();
   const bool holds_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
     return e.kind == EventKind::hold_pair || e.kind == EventKind::release_pair;
@@ -89,6 +96,16 @@ CommitResult Pool::repair() {
     pool.stats.searches = solved.searches;
     pool.stats.augmentations = solved.augmentations;
     pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
+    if (pool.uses_phantom) {
+      // Every vertex joins φ's heap at its price; φ enters if the count is odd.
+      for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
+        if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
+      }
+      pool.current_cause = kNoCause;  // no one event of a solved batch brought it in
+      pool.matching.mate.set_cause(kNoCause);
+      sync_phantom(pool);
+      search_from_roots(pool);
+    }
   } else {
     search_from_roots(pool);
   }
@@ -127,6 +144,8 @@ std::vector<std::pair<VertexKey, VertexKey>> Pool::blossom_cycle_at(VertexKey ke
   const NodeId blossom = forest.parent(v);
   if (blossom == kNoNode) return cycle;
   for (const CycleEdge& edge : forest.cycle_edges(blossom)) {
+    // φ has no key: its implicit edges are left out (the pool's inside, not G's).
+    if (edge.from == state_->phantom || edge.to == state_->phantom) continue;
     cycle.emplace_back(state_->graph.key(edge.from), state_->graph.key(edge.to));
   }
   return cycle;
@@ -137,7 +156,7 @@ std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
   const Vertex v = state_->graph.find(key);
   if (v == kNoVertex) return std::nullopt;
   const Vertex m = state_->matching.mate[v];
-  if (m == kNoVertex) return std::nullopt;
+  if (m == kNoVertex || m == state_->phantom) return std::nullopt;
   return state_->graph.key(m);
 }
 
@@ -147,7 +166,7 @@ std::vector<MatchedPair> Pool::matching() const {
   pairs.reserve(pool.pairs);
   for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
     const Vertex m = pool.matching.mate[v];
-    if (m == kNoVertex || m < v) continue;
+    if (m == kNoVertex || m < v || v == pool.phantom || m == pool.phantom) continue;
     const VertexKey a = pool.graph.key(v);
     const VertexKey b = pool.graph.key(m);
     const Weight w = pool.own_weight(v, m, pool.graph.find_edge(v, m));
@@ -188,13 +207,19 @@ PoolExport Pool::export_certified() const {
   cert.weight_offset = pool.weight_offset;
   cert.mate.assign(n, kNoVertex);
   cert.vertex_dual2.assign(n, 0);
+  // The certificate is of G. With φ present its prices come from a copy with φ taken out and
+  // G's optimum restored; the pool's own matching less φ's pair is an optimum of G too, so by
+  // complementary slackness those optimal prices certify it as well (every condition of
+  // docs/mathematics.md §2 holds for any optimal matching with any optimal dual).
+  const MatchingState without = state_without_phantom(pool);
+  const MatchingState& state = pool.phantom == kNoVertex ? pool.matching : without;
   for (Vertex v = 0; v < capacity; ++v) {
     if (dense[v] == kNoVertex) continue;
-    const Vertex m = pool.matching.mate[v];
+    const Vertex m = pool.matching.mate[v] == pool.phantom ? kNoVertex : pool.matching.mate[v];
     cert.mate[dense[v]] = m == kNoVertex ? kNoVertex : dense[m];
-    cert.vertex_dual2[dense[v]] = pool.matching.dual2[v];
+    cert.vertex_dual2[dense[v]] = state.dual2[v];
   }
-  cert.blossoms = pool.matching.forest.certificate_blossoms(dense, n);
+  cert.blossoms = state.forest.certificate_blossoms(dense, n);
   if (pool.mode == Mode::perfect) {
     if (2 * pool.pairs == n) {
       // Perfect-matching duals for the original weights: shift each u by offset/2.

@@ -61,13 +61,18 @@ MatchingDiff collect_diff(PoolState& pool) {
     const Vertex v = change.vertex;
     const Vertex after = mate[v];
     if (change.before == after) continue;
-    if (change.before != kNoVertex && v < change.before) {
+    // φ's pairs are the pool's inside: G's diff has none of them (a vertex may go from φ to a
+    // vertex of G: only its added pair counts).
+    const bool phantoms = !pool.phantom_slots.empty();
+    if (phantoms && pool.is_phantom_slot(v)) continue;
+    if (change.before != kNoVertex && v < change.before &&
+        !(phantoms && pool.is_phantom_slot(change.before))) {
       const Weight w = weight_then(v, change.before);
       removed.push_back(by_key(pool.graph, v, change.before, w, change.first_cause));
       pool.weight -= w;
       --pool.pairs;
     }
-    if (after != kNoVertex && v < after) {
+    if (after != kNoVertex && v < after && !(phantoms && pool.is_phantom_slot(after))) {
       const Weight w = weight_now(v, after);
       added.push_back(by_key(pool.graph, v, after, w, mate.last_cause(v)));
       pool.weight += w;

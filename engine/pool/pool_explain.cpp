@@ -18,8 +18,12 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
     held.held = true;
     return held;
   }
-  const BlossomForest& forest = pool.matching.forest;
-  const std::vector<Weight>& dual2 = pool.matching.dual2;
+  // With φ present the prices are the certificate's: a copy's with φ taken out (Pool::
+  // export_certified; O(n) per call while φ is present). The pairs are the pool's.
+  const MatchingState without = state_without_phantom(pool);
+  const MatchingState& priced = pool.phantom == kNoVertex ? pool.matching : without;
+  const BlossomForest& forest = priced.forest;
+  const std::vector<Weight>& dual2 = priced.dual2;
   const Mates& mate = pool.matching.mate;
 
   // Blossoms holding v, each with the sum of the doubled duals from it to the top: an edge
@@ -44,7 +48,12 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
   VertexExplanation out;
   out.dual2 = dual2[v];
   out.weight_offset = pool.weight_offset;
-  if (mate[v] != kNoVertex) out.mate = pool.graph.key(mate[v]);
+  // φ has no key: a vertex paired with it shows as exposed (its prices are the pool's inside).
+  auto mate_key = [&](Vertex x) -> std::optional<VertexKey> {
+    if (mate[x] == kNoVertex || mate[x] == pool.phantom) return std::nullopt;
+    return pool.graph.key(mate[x]);
+  };
+  out.mate = mate_key(v);
   for (const Incidence& inc : pool.graph.graph().incident(v)) {
     if (inc.other == mate[v]) {
       out.pair_bonus = pool.bonus_on(v, inc.other);
@@ -55,7 +64,7 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
     alt.other = pool.graph.key(inc.other);
     alt.w = inc.w;
     alt.slack2 = dual2[v] + dual2[inc.other] + common_z2(inc.other) - 2 * (inc.w + pool.weight_offset);
-    if (mate[inc.other] != kNoVertex) alt.other_mate = pool.graph.key(mate[inc.other]);
+    alt.other_mate = mate_key(inc.other);
     out.alternatives.push_back(alt);
   }
   auto closer = [](const Alternative& x, const Alternative& y) {

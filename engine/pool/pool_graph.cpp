@@ -17,6 +17,15 @@ Vertex PoolGraph::find(VertexKey key) const {
 }
 
 Vertex PoolGraph::add_vertex(VertexKey key) {
+  const Vertex v = reserve_slot();
+  reserved_slots_.pop_back();
+  key_to_slot_.insert(key, v);
+  slot_key_[v] = key;
+  slot_alive_[v] = 1;
+  return v;
+}
+
+Vertex PoolGraph::reserve_slot() {
   Vertex v;
   if (!free_slots_.empty()) {
     v = free_slots_.top();
@@ -30,10 +39,28 @@ Vertex PoolGraph::add_vertex(VertexKey key) {
     }
     v = static_cast<Vertex>(next_unused_++);
   }
-  key_to_slot_.insert(key, v);
-  slot_key_[v] = key;
-  slot_alive_[v] = 1;
+  reserved_slots_.push_back(v);
   return v;
+}
+
+bool PoolGraph::claim_reserved(Vertex v) {
+  decltype(free_slots_) others;
+  bool found = false;
+  for (; !free_slots_.empty(); free_slots_.pop()) {
+    if (free_slots_.top() == v) {
+      found = true;
+    } else {
+      others.push(free_slots_.top());
+    }
+  }
+  free_slots_ = std::move(others);
+  if (found) reserved_slots_.push_back(v);
+  return found;
+}
+
+void PoolGraph::release_reserved(Vertex v) {
+  std::erase(reserved_slots_, v);
+  freed_slots_.push_back(v);
 }
 
 void PoolGraph::remove_vertex(Vertex v) {
@@ -125,6 +152,7 @@ void PoolGraph::save(ByteWriter& out) const {
     free_slots.pop();
   }
   free_list.insert(free_list.end(), freed_slots_.begin(), freed_slots_.end());
+  free_list.insert(free_list.end(), reserved_slots_.begin(), reserved_slots_.end());
   out.put_vector(free_list);
   out.put<std::uint64_t>(next_unused_);
 }

@@ -35,6 +35,14 @@ class PoolGraph {
   void remove_vertex(Vertex v);
   // Makes the slots freed since the last call reusable.
   void release_slots();
+  // A slot with no key, never alive and outside vertex_count(): the phantom vertex's
+  // (docs/mathematics.md §9). Taken as add_vertex takes one (the capacity may double);
+  // released like a removed vertex's; saved as a free slot.
+  Vertex reserve_slot();
+  void release_reserved(Vertex v);
+  // After load(): takes free slot v back as reserved (a saved pool's phantom). False when v is
+  // not a free slot. O(free slots).
+  bool claim_reserved(Vertex v);
 
   EdgeIndex find_edge(Vertex a, Vertex b) const;  // kNoEdge when absent
   EdgeIndex add_edge(Vertex a, Vertex b, Weight w);
@@ -67,6 +75,7 @@ class PoolGraph {
   std::vector<std::uint8_t> slot_alive_;
   std::priority_queue<Vertex, std::vector<Vertex>, std::greater<>> free_slots_;  // lowest first
   std::vector<Vertex> freed_slots_;    // freed in the current batch
+  std::vector<Vertex> reserved_slots_;  // reserve_slot's, not released yet
   std::size_t next_unused_ = 0;        // slots >= this were never used
 };
 

@@ -55,6 +55,19 @@ class EventRepair {
         end_hold(u, v, /*keep_edge=*/true);
         break;
     }
+    if (pool_.uses_phantom) sync_phantom();
+  }
+
+  // φ is present exactly while the vertex count is odd and nothing is held (a held vertex is
+  // in no pair the optimisation may form, φ's included).
+  void sync_phantom() {
+    const bool wanted = holds_.empty() && graph_.vertex_count() % 2 == 1;
+    if (wanted == (pool_.phantom != kNoVertex)) return;
+    if (wanted) {
+      enter_phantom();
+    } else {
+      leave_phantom();
+    }
   }
 
   // Moves the churn bonus between pairs: `delta` is +bonus for a pair that now carries it and
@@ -114,6 +127,36 @@ class EventRepair {
     }
   }
 
+  // φ enters exposed at the least price that keeps its edges feasible: u(φ) = K - min u(v),
+  // tight at the vertex of least price. A positive price makes it a root.
+  void enter_phantom() {
+    const Vertex phi = graph_.reserve_slot();
+    if (graph_.capacity() != mate_.size()) pool_.fit_capacity();
+    const PhantomPrices::Least least =
+        pool_.prices.least([&](Vertex v) { return dual(v); }, [](Vertex) { return false; });
+    dual2_[phi] = std::max<Weight>(0, 2 * pool_.weight_offset - least.price2);
+    pool_.phantom = phi;
+    pool_.phantom_slots.push_back(phi);
+    pool_.search->set_phantom(phi, &pool_.prices);
+    if (dual2_[phi] > 0) queue_root(phi);
+  }
+
+  // As a departure: the blossoms holding φ dissolve, its mate becomes a root.
+  void leave_phantom() {
+    const Vertex phi = pool_.phantom;
+    if (forest_.parent(phi) != kNoNode) dissolve_from(forest_.parent(phi));
+    if (mate_[phi] != kNoVertex) unmatch(phi, mate_[phi]);
+    dual2_[phi] = 0;
+    pool_.phantom = kNoVertex;
+    graph_.release_reserved(phi);
+    pool_.search->set_phantom(kNoVertex, &pool_.prices);
+  }
+
+  // Doubled slack of φ's edge to top-level vertex v (no blossom holds both).
+  Weight phantom_slack2(Vertex v) const {
+    return dual(v) + dual(pool_.phantom) - 2 * pool_.weight_offset;
+  }
+
   void touch_hold(VertexKey u, VertexKey v) {
     const HeldPairs::KeyPair pair = HeldPairs::ordered(u, v);
     const bool was = holds_.is_pair(u, v);
@@ -133,6 +176,14 @@ class EventRepair {
     v = graph_.add_vertex(key);
     if (graph_.capacity() != mate_.size()) pool_.fit_capacity();
     dual2_[v] = 0;  // a fresh slot: exposed, top level, dual 0 (a freed slot was left so)
+    if (pool_.uses_phantom) {
+      // φ's edge to the newcomer must be feasible: it starts at the price that makes it tight.
+      if (pool_.phantom != kNoVertex && phantom_slack2(v) < 0) {
+        dual2_[v] = -phantom_slack2(v);
+        queue_root(v);
+      }
+      pool_.prices.join(v, dual2_[v]);
+    }
     return v;
   }
 
@@ -180,12 +231,15 @@ class EventRepair {
     const Weight room_a = room(a, b);
     if (room_a >= excess) {
       dual2_[a] -= excess;
+      offer_price(a);
       return true;
     }
     const Weight room_b = room(b, a);
     if (room_a + room_b < excess) return false;
     dual2_[a] -= room_a;
     dual2_[b] -= excess - room_a;
+    offer_price(a);
+    offer_price(b);
     return true;
   }
 
@@ -196,7 +250,13 @@ class EventRepair {
     if (m == kNoVertex || m == y || !is_plain_top(x) || room(m, x) < deficit) return false;
     dual2_[x] += deficit;
     dual2_[m] -= deficit;
+    offer_price(m);
     return true;
+  }
+
+  // A price that fell is offered to φ's heap (PhantomPrices' invariant).
+  void offer_price(Vertex v) {
+    if (pool_.uses_phantom) pool_.prices.offer(v, dual2_[v]);
   }
 
   bool is_plain_top(Vertex v) const { return forest_.parent(v) == kNoNode; }
@@ -205,7 +265,13 @@ class EventRepair {
   // plain top-level vertex. O(degree of v).
   Weight room(Vertex v, Vertex skip) {
     if (!is_plain_top(v)) return 0;
+    const Vertex phi = pool_.phantom;
+    if (v == phi) return 0;  // φ's edges are to every vertex: no room is looked for
     Weight least = dual2_[v];
+    if (phi != kNoVertex && skip != phi) {
+      least = std::min(least, phantom_slack2(v));
+      if (least <= 0) return 0;
+    }
     for (const Incidence& inc : graph_.graph().incident(v)) {
       if (inc.other == skip) continue;
       // v is in no blossom, so no blossom dual counts on its edges.
@@ -236,6 +302,7 @@ class EventRepair {
     }
     dual2_[v] = 0;
     drop_bonus(v);
+    if (pool_.uses_phantom) pool_.prices.leave(v);
     graph_.remove_vertex(v);
     ++pool_.stats.vertices_touched;
   }
@@ -301,7 +368,11 @@ class EventRepair {
       queue_root(base);
       return;
     }
-    if (slack2(base, m, graph_.find_edge(base, m)) > 0) unmatch(base, m);
+    // No blossom holds both ends now; φ's edges are implicit.
+    const Weight slack = base == pool_.phantom || m == pool_.phantom
+                             ? phantom_slack2(base == pool_.phantom ? m : base)
+                             : slack2(base, m, graph_.find_edge(base, m));
+    if (slack > 0) unmatch(base, m);
   }
 
   void unmatch(Vertex a, Vertex b) {
@@ -400,6 +471,10 @@ void load_event(PoolState& pool, const Event& event) {
   ++pool.stats.events;
 }
 
+void sync_phantom(PoolState& pool) {
+  if (pool.uses_phantom) EventRepair(pool).sync_phantom();
+}
+
 void apply_event(PoolState& pool, const Event& event) {
   EventRepair(pool).apply(event);
   ++pool.stats.events;
@@ -434,7 +509,8 @@ void search_from_roots(PoolState& pool) {
     return mate[v] == kNoVertex && vertex_dual2(pool, v) != 0;
   };
   std::erase_if(roots, [&](const Root& root) {
-    return !pool.graph.alive(root.vertex) || !still_a_root(root.vertex);
+    const bool present = pool.graph.alive(root.vertex) || root.vertex == pool.phantom;
+    return !present || !still_a_root(root.vertex);
   });
   if (roots.empty()) return;
   pool.stats.roots += roots.size();

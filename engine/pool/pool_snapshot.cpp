@@ -9,10 +9,13 @@
 namespace yoke {
 namespace {
 
-void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2) {
+// φ's pair (docs/mathematics.md §9) is on an implicit edge: only its symmetry is checked.
+void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector<Weight>& dual2,
+                    Vertex phantom) {
   for (Vertex v = 0; v < mate.size(); ++v) {
     const Vertex m = mate[v];
     if (m == kNoVertex) continue;
+    if (m < mate.size() && mate[m] == v && (v == phantom || m == phantom)) continue;
     if (m >= mate.size() || mate[m] != v || !graph.alive(v) || graph.find_edge(v, m) == kNoEdge) {
       ByteReader::fail("the matching is not a matching of the graph");
     }
@@ -26,7 +29,7 @@ void check_matching(const PoolGraph& graph, const Mates& mate, const std::vector
 // objective is only ever moved by diffs after this). Found by tests/fuzz/snapshot_fuzz.
 // With a churn bonus, matched edges carry it on top of their own weight.
 void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weight bonus,
-                   Weight weight, std::uint64_t pairs) {
+                   Weight weight, std::uint64_t pairs, Vertex phantom) {
   const Graph& g = graph.graph();
   for (EdgeIndex e = 0; e < g.edge_slots(); ++e) {
     if (!g.is_live(e)) continue;
@@ -40,7 +43,7 @@ void check_weights(const PoolGraph& graph, const Mates& mate, Weight bound, Weig
   std::uint64_t count = 0;
   for (Vertex v = 0; v < mate.size(); ++v) {
     const Vertex m = mate[v];
-    if (m == kNoVertex || m < v) continue;
+    if (m == kNoVertex || m < v || v == phantom || m == phantom) continue;
     total += g.edge(graph.find_edge(v, m)).w - bonus;
     ++count;
   }
@@ -72,7 +75,8 @@ std::string Pool::save() const {
   const State& pool = *state_;
   ByteWriter out;
   out.put(state_format::kStateMagic);
-  out.put(state_format::kStateVersion);
+  const bool phantom = pool.phantom != kNoVertex;
+  out.put(phantom ? state_format::kPhantomStateVersion : state_format::kStateVersion);
   out.put(static_cast<std::uint8_t>(pool.mode));
   out.put<std::uint64_t>(pool.limits.max_vertices);
   out.put<std::uint64_t>(pool.limits.max_edges);
@@ -81,6 +85,7 @@ std::string Pool::save() const {
   out.put(pool.commits);
   out.put(pool.weight);
   out.put<std::uint64_t>(pool.pairs);
+  if (phantom) out.put<std::uint32_t>(pool.phantom);  // its slot is listed free in the graph
   pool.graph.save(out);
   out.put_vector(pool.matching.mate.values());
   out.put_vector(pool.matching.dual2);
@@ -95,7 +100,7 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
     ByteReader::fail("it does not start with the pool magic");
   }
   const auto version = in.get<std::uint32_t>();
-  if (version < 1 || version > state_format::kStateVersion) {
+  if (version < 1 || version > state_format::kPhantomStateVersion) {
     ByteReader::fail("unknown format version");
   }
   const auto mode_number = in.get<std::uint8_t>();
@@ -111,14 +116,24 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   pool.commits = in.get<std::uint64_t>();
   pool.weight = in.get<Weight>();
   pool.pairs = in.get<std::uint64_t>();
+  const Vertex phantom = version >= 4 ? in.get<std::uint32_t>() : kNoVertex;
   pool.graph = PoolGraph::load(in);
   const std::size_t n = pool.graph.capacity();
+  if (phantom != kNoVertex) {
+    // A pool saved with φ keeps using it, whatever this process's switch says.
+    if (pool.mode == Mode::max_weight || bonus != 0 || phantom >= n ||
+        !pool.graph.claim_reserved(phantom) || pool.graph.vertex_count() % 2 == 0) {
+      ByteReader::fail("the phantom vertex is not a free slot of an odd pool that may have one");
+    }
+    pool.uses_phantom = true;
+    pool.phantom = phantom;
+  }
   pool.matching.mate.assign(in.get_vector<Vertex>(n));
   if (pool.matching.mate.size() != n) ByteReader::fail("the matching has the wrong length");
   pool.matching.dual2 = in.get_vector<Weight>(n);
-  check_matching(pool.graph, pool.matching.mate, pool.matching.dual2);
+  check_matching(pool.graph, pool.matching.mate, pool.matching.dual2, phantom);
   check_weights(pool.graph, pool.matching.mate, pool.limits.max_abs_weight, bonus, pool.weight,
-                pool.pairs);
+                pool.pairs, phantom);
   if (bonus != 0) pool.bonus_mate = pool.matching.mate.values();  // between commits: the matching
   pool.matching.forest = BlossomForest::load(in);
   if (pool.matching.forest.vertex_count() != n) ByteReader::fail("the forest has the wrong size");
@@ -129,9 +144,19 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
       ByteReader::fail("an edge aside has a weight beyond the pool's bound");
     }
   }
+  if (phantom != kNoVertex && !pool.holds.empty()) {
+    ByteReader::fail("a pool with the phantom vertex holds pairs");
+  }
   if (!in.done()) ByteReader::fail("bytes are left over at the end");
   pool.node_mark.assign(2 * n, 0);
   pool.search = std::make_unique<AlternatingSearch>(pool.graph.graph(), pool.weight_offset, pool.matching);
+  pool.prices.resize(n);
+  if (pool.uses_phantom) {
+    for (Vertex v = 0; v < n; ++v) {
+      if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
+    }
+    pool.search->set_phantom(pool.phantom, &pool.prices);
+  }
   return std::unique_ptr<Pool>(new Pool(std::move(state)));
 }
 

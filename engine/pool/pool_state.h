@@ -3,6 +3,7 @@
 // pool_snapshot.cpp). Not part of the public interface.
 #pragma once
 
+#include <algorithm>
 #include <cstdint>
 #include <map>
 #include <memory>
@@ -51,6 +52,16 @@ struct PoolState {
   // during a commit, the matching itself between commits. Empty when churn_bonus is 0.
   std::vector<Vertex> bonus_mate;
   HeldPairs holds;  // pairs fixed by hold_pair, outside the optimisation
+  // The phantom vertex (docs/mathematics.md §9): in max-cardinality and perfect pools (without
+  // a churn bonus or held pairs), while the vertex count is odd, one keyless slot joined to
+  // every vertex by an implicit edge of weight 0, so that the graph the search sees is even.
+  bool uses_phantom;  // fixed at construction, or by a restored pool that held φ
+  PhantomPrices prices;          // every vertex joined while uses_phantom, φ present or not
+  Vertex phantom = kNoVertex;    // φ's slot while present
+  std::vector<Vertex> phantom_slots;  // the slots φ held during the batch (the diff skips them)
+  bool is_phantom_slot(Vertex v) const {
+    return std::find(phantom_slots.begin(), phantom_slots.end(), v) != phantom_slots.end();
+  }
   std::unique_ptr<AlternatingSearch> search;  // one for the pool's life: stamps, no clearing
   std::vector<std::uint32_t> node_mark;      // scratch stamps per forest node
   std::uint32_t node_stamp = 0;
@@ -89,6 +100,16 @@ inline std::uint64_t slot_pair(Vertex a, Vertex b) {
   return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
 }
 
+// Whether pools use the phantom vertex: an experiment's switch (YOKE_PHANTOM=1), off by default.
+bool phantom_switched_on();
+// Brings φ in or out so that it is present exactly when the pool wants it (see PoolState):
+// φ enters exposed at the least price that keeps its edges feasible (a root when positive),
+// and leaves like a departing vertex (its mate becomes a root). O(log n) plus a departure's
+// dissolving.
+void sync_phantom(PoolState& pool);
+// A copy of the matching state with φ taken out and the optimum of the graph without it
+// restored (its mate's tree grown again): what exports and saves describe. O(n) for the copy.
+MatchingState state_without_phantom(const PoolState& pool);
 // Applies one event to the graph alone. Precondition: the pool was empty when the batch began
 // (every slot exposed with dual 0, no blossoms), so the batch is then solved from scratch.
 void load_event(PoolState& pool, const Event& event);

@@ -20,6 +20,8 @@ namespace yoke::state_format {
 inline constexpr std::uint64_t kStateMagic = 0x4c4f4f50454b4f59;  // the bytes "YOKEPOOL"
 // 2 added the churn bonus, 3 the held pairs; older versions are read as none of either.
 inline constexpr std::uint32_t kStateVersion = 3;
+// 4 adds the phantom vertex's slot; written only by a pool that holds one (otherwise 3).
+inline constexpr std::uint32_t kPhantomStateVersion = 4;
 
 // A type copied as raw bytes: trivially copyable, of the documented size, and without padding
 // (padding bytes would carry whatever memory held, so equal pools could save unequal bytes).

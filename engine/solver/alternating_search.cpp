@@ -47,6 +47,101 @@ void AlternatingSearch::set_vertex_sign(Vertex v, int sign) {
   YOKE_DCHECK(!may_owe_ || forest_.owed_dual2(v) == 0,
               "set_vertex_sign: a vertex whose node still owes its dual");
   vertex_mark_[v] = {delta_, stamp_, static_cast<std::int8_t>(sign)};
+  if (prices_ != nullptr) note_phantom(v, sign);
+}
+
+void AlternatingSearch::note_phantom(Vertex v, int sign) {
+  if (v == phi_) {
+    phantom_dirty_ = true;  // both of φ's bounds change with its label
+    return;
+  }
+  if (sign == 0) {
+    prices_->offer(v, dual2_[v]);  // settled: v leaves its tree here
+    if (phi_ != kNoVertex && vertex_sign(phi_) < 0) phantom_dirty_ = true;
+  } else if (sign < 0 && phi_ != kNoVertex) {
+    even_by_due_.emplace_back(delta_ + dual2_[v], v);
+    std::push_heap(even_by_due_.begin(), even_by_due_.end(), std::greater<>{});
+    phantom_dirty_ = true;
+  }
+}
+
+Vertex AlternatingSearch::least_even_beside_phantom() {
+  // An even vertex in φ's own top node stays there until its tree ends (an even blossom is
+  // not expanded), when it is no longer even: its entry can go for good.
+  const NodeId phi_top = forest_.top(phi_);
+  while (!even_by_due_.empty()) {
+    const auto [due, v] = even_by_due_.front();
+    const VertexMark& mark = vertex_mark_[v];
+    if (mark.stamp == stamp_ && mark.sign < 0 && mark.since + dual2_[v] == due && v != phi_ &&
+        forest_.top(v) != phi_top) {
+      return v;
+    }
+    std::pop_heap(even_by_due_.begin(), even_by_due_.end(), std::greater<>{});
+    even_by_due_.pop_back();
+  }
+  return kNoVertex;
+}
+
+Weight AlternatingSearch::phantom_due(BoundKind kind, Vertex& other) {
+  other = kNoVertex;
+  const int phi_sign = vertex_sign(phi_);
+  if (kind == kPhantomToEven) {
+    // An odd φ keeps its slack to every even vertex; a free one's falls once per step, an
+    // even one's twice.
+    if (phi_sign > 0) return kNever;
+    other = least_even_beside_phantom();
+    if (other == kNoVertex) return kNever;
+    const Weight slack = phantom_slack2(other);
+    return delta_ + (phi_sign < 0 ? slack / 2 : slack);
+  }
+  if (phi_sign >= 0) return kNever;  // only an even φ reaches out to the free vertices
+  const PhantomPrices::Least least = prices_->least(
+      [&](Vertex v) { return vertex_dual(v); }, [&](Vertex v) { return vertex_sign(v) != 0; });
+  if (least.vertex == kNoVertex) return kNever;
+  other = least.vertex;
+  return delta_ + vertex_dual(phi_) + least.price2 - 2 * weight_offset_;
+}
+
+void AlternatingSearch::queue_phantom_bounds() {
+  phantom_dirty_ = false;
+  for (const BoundKind kind : {kPhantomToEven, kPhantomToFree}) {
+    Vertex other;
+    const Weight due = phantom_due(kind, other);
+    Weight& queued = phantom_queued_[kind - kPhantomToEven];
+    if (due == kNever || due > latest_end_ || due >= queued) continue;
+    bounds_.push(due, phi_, kind);
+    queued = due;
+  }
+}
+
+bool AlternatingSearch::phantom_bound_due(const RadixHeap::Entry& entry) {
+  const BoundKind kind = static_cast<BoundKind>(entry.kind);
+  Weight& queued = phantom_queued_[kind - kPhantomToEven];
+  if (entry.key == queued) queued = kNever;
+  Vertex other;
+  const Weight due = phantom_due(kind, other);
+  YOKE_DCHECK(due >= entry.key, "phantom_bound_due: a bound of the phantom vertex came late");
+  if (due == entry.key) {
+    phantom_other_ = other;
+    return true;
+  }
+  if (due != kNever && due <= latest_end_ && due < queued) {
+    bounds_.push(due, phi_, kind);
+    queued = due;
+  }
+  return false;
+}
+
+void AlternatingSearch::take_phantom_bound(BoundKind kind) {
+  const Vertex other = phantom_other_;
+  phantom_dirty_ = true;  // queue the next of its kind
+  if (kind == kPhantomToFree) {
+    grow_between(phi_, other);
+  } else if (vertex_sign(phi_) < 0) {
+    join_even_vertices(other, phi_);
+  } else {
+    grow_between(other, phi_);
+  }
 }
 
 void AlternatingSearch::settle_blossom_dual(NodeId b) {
@@ -212,6 +307,7 @@ inline bool AlternatingSearch::edge_may_matter(const Edge& e, int sign_a, int si
 }
 
 inline bool AlternatingSearch::still_due(const RadixHeap::Entry& entry) {
+  if (entry.kind >= kPhantomToEven) [[unlikely]] return phantom_bound_due(entry);
   if (entry.kind == kEvenVertexDual || entry.kind == kOddBlossomDual) return may_matter(entry);
   // Either end of the edge may have spent time in another state since the push (free after
   // its tree ended, odd inside a blossom since expanded): recompute, and requeue under the
@@ -246,6 +342,9 @@ bool AlternatingSearch::may_matter(const RadixHeap::Entry& entry) const {
       return forest_.is_live_blossom(b) && forest_.parent(b) == kNoNode && label_of(b) == kOdd &&
              entry.key == node_since_[b] + forest_.dual2(b) / 2;
     }
+    case kPhantomToEven:
+    case kPhantomToFree:
+      return true;  // at most a few, requeued or dropped when they surface
     default:
       break;
   }
@@ -273,6 +372,9 @@ void AlternatingSearch::start_run() {
   compact_at_ = kFirstCompaction;
   scan_queue_.clear();
   may_owe_ = forest_.has_pending();
+  even_by_due_.clear();
+  phantom_dirty_ = false;
+  phantom_queued_[0] = phantom_queued_[1] = kNever;
   running_ = true;
 }
 
@@ -317,6 +419,7 @@ std::size_t AlternatingSearch::run() {
       if (!scan_queue_.empty()) __builtin_prefetch(graph_.incident(scan_queue_.back()).data());
       scan(v);
     }
+    if (phantom_dirty_) queue_phantom_bounds();
     compact_bounds_if_bloated();
     // Every live tree has an even root, so a valid bound always exists.
     const RadixHeap::Entry entry = bounds_.top();
@@ -342,6 +445,10 @@ std::size_t AlternatingSearch::run() {
       case kOddBlossomDual:
         expand_odd(entry.id);
         break;
+      case kPhantomToEven:
+      case kPhantomToFree:
+        take_phantom_bound(static_cast<BoundKind>(entry.kind));
+        break;
       default: {
         // An even vertex's dual reached zero: it may stay exposed, so shift the matching along
         // the even path from its root to it, and its tree is done.
@@ -365,8 +472,10 @@ std::size_t AlternatingSearch::run() {
 void AlternatingSearch::grow_along(EdgeIndex e) {
   const Edge& edge = graph_.edge(e);
   const bool a_even = is_even_vertex(edge.a);
-  const Vertex even_end = a_even ? edge.a : edge.b;
-  const Vertex free_end = a_even ? edge.b : edge.a;
+  grow_between(a_even ? edge.a : edge.b, a_even ? edge.b : edge.a);
+}
+
+void AlternatingSearch::grow_between(Vertex even_end, Vertex free_end) {
   const NodeId node = forest_.top(free_end);
   const Vertex base = forest_.base(node);
   const Vertex tree = tree_of_[forest_.top(even_end)];
@@ -389,19 +498,23 @@ void AlternatingSearch::grow_along(EdgeIndex e) {
 
 void AlternatingSearch::join_even_ends(EdgeIndex e) {
   const Edge& edge = graph_.edge(e);
-  const Vertex tree_a = tree_of_[forest_.top(edge.a)];
-  const Vertex tree_b = tree_of_[forest_.top(edge.b)];
+  join_even_vertices(edge.a, edge.b);
+}
+
+void AlternatingSearch::join_even_vertices(Vertex a, Vertex b) {
+  const Vertex tree_a = tree_of_[forest_.top(a)];
+  const Vertex tree_b = tree_of_[forest_.top(b)];
   if (tree_a == tree_b) {
     if (half_cycles_mode_) {
-      form_half_cycle(edge.a, edge.b);
+      form_half_cycle(a, b);
     } else {
-      shrink(edge.a, edge.b);
+      shrink(a, b);
     }
     return;
   }
   attribute_to(root_cause_[tree_a] <= root_cause_[tree_b] ? tree_a : tree_b);
-  flip_path_to_root(edge.a, edge.b);
-  flip_path_to_root(edge.b, edge.a);
+  flip_path_to_root(a, b);
+  flip_path_to_root(b, a);
   ++stats_.augmentations;
   end_tree(tree_a);
   end_tree(tree_b);

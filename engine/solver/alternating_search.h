@@ -16,6 +16,7 @@
 #include <vector>
 
 #include "solver/matching_state.h"
+#include "solver/phantom_prices.h"
 #include "solver/radix_heap.h"
 #include "yoke/graph.h"
 #include "yoke/solve.h"
@@ -51,6 +52,17 @@ class AlternatingSearch {
 
   const SolveStats& stats() const { return stats_; }
 
+  // The phantom vertex φ (docs/mathematics.md §9): `phi`, a vertex of the graph with no stored
+  // edges, is joined to every vertex `prices` has joined by an implicit edge of weight 0 (so
+  // 2 x weight_offset doubled, after the offset). kNoVertex: no φ. With `prices` attached (φ
+  // or not), every vertex a tree lets go is offered to it at its settled price, which keeps
+  // the prices' invariant across runs. Call between runs; both must outlive the search.
+  void set_phantom(Vertex phi, PhantomPrices* prices) {
+    phi_ = phi;
+    prices_ = prices;
+  }
+  Vertex phantom() const { return phi_; }
+
  private:
   enum Label : std::uint8_t { kFree = 0, kEven = 1, kOdd = 2 };  // S = even, T = odd
 
@@ -65,6 +77,9 @@ class AlternatingSearch {
     kEvenEdge = 2,         // an even-to-even edge becomes tight
     kFreeEdge = 3,         // an even-to-free edge becomes tight
     kOddBlossomDual = 4,   // an odd blossom's dual reaches 0
+    // φ's implicit edges, one pending bound per kind for all of them (the id is unused):
+    kPhantomToEven = 5,    // φ even or free: its edge to the even vertex of least dual
+    kPhantomToFree = 6,    // φ even: its edge to the free vertex of least price
   };
   // The vertex that taking an edge into free vertex x would make even: the mate of the base of
   // x's top-level node (kNoVertex when that base is exposed: taking the edge augments). Inside
@@ -143,7 +158,9 @@ class AlternatingSearch {
   // and a call there costs the saving and restoring of scan's registers each time.
   [[gnu::always_inline]] void queue_free_bound(EdgeIndex e, Vertex free_end, Weight due);
   void grow_along(EdgeIndex e);
-  void join_even_ends(EdgeIndex e);           // shrink within a tree, or augment across two
+  void grow_between(Vertex even_end, Vertex free_end);  // along a tight edge into a free node
+  void join_even_ends(EdgeIndex e);
+  void join_even_vertices(Vertex a, Vertex b);  // shrink within a tree, or augment across two
   NodeId meeting_node(NodeId x, NodeId y);    // nearest common even ancestor in one tree
   void collect_cycle(Vertex v, Vertex w, NodeId meet);  // into cycle_nodes_ / cycle_edges_
   void shrink(Vertex v, Vertex w);
@@ -167,6 +184,19 @@ class AlternatingSearch {
   // Its part for edge entries.
   [[gnu::always_inline]] bool edge_may_matter(const Edge& e, int sign_a, int sign_b) const;
   void compact_bounds_if_bloated();
+
+  // φ's bounds. Each kind's exact key (and the vertex at its other end) is recomputed from
+  // the least even dual and the least free price whenever something may have lowered it
+  // (phantom_dirty_) and when its entry surfaces; the heap holds an entry no later than it.
+  [[gnu::noinline]] void note_phantom(Vertex v, int sign);  // set_vertex_sign's part for φ
+  void queue_phantom_bounds();
+  Weight phantom_due(BoundKind kind, Vertex& other);  // kNever when the bound does not exist
+  Vertex least_even_beside_phantom();
+  Weight phantom_slack2(Vertex v) const {
+    return vertex_dual(v) + vertex_dual(phi_) - 2 * weight_offset_;
+  }
+  bool phantom_bound_due(const RadixHeap::Entry& entry);  // still_due for φ's kinds
+  void take_phantom_bound(BoundKind kind);
 
   const Graph& graph_;
   const Weight weight_offset_;
@@ -225,6 +255,15 @@ class AlternatingSearch {
   std::uint32_t mark_stamp_ = 0;
 
   std::vector<Vertex> scan_queue_;
+
+  // φ (set_phantom). even_by_due_: this run's even vertices by the step at which their dual
+  // would reach 0 (so the least is the one of least dual), lazily deleted.
+  Vertex phi_ = kNoVertex;
+  PhantomPrices* prices_ = nullptr;
+  std::vector<std::pair<Weight, Vertex>> even_by_due_;
+  bool phantom_dirty_ = false;
+  Weight phantom_queued_[2] = {kNever, kNever};  // least key pending per φ kind
+  Vertex phantom_other_ = kNoVertex;             // the far end of the φ bound just taken
 
   RadixHeap bounds_;  // key: the value of delta_ at which the bound is reached
   std::size_t compact_at_ = kFirstCompaction;
