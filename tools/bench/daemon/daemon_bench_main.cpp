@@ -30,6 +30,7 @@
 #include <CLI/CLI.hpp>
 #include <zmq.hpp>
 
+#include "engine_ceiling.h"
 #include "ingest_load.h"
 #include "memory_contention.h"
 #include "pool_scaling.h"
@@ -321,6 +322,8 @@ int run(const Settings& settings) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  // The machine ceiling's children (engine_ceiling.h) are this program started again.
+  if (argc > 1 && std::string(argv[1]) == kCeilingChildFlag) return ceiling_child_main(argc, argv);
   Settings settings;
   CLI::App app("yoked under load over loopback TCP, against bare ZeroMQ in the same run",
                "yoke_daemon_bench");
