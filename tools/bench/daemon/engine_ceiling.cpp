@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <cerrno>
 #include <chrono>
+#include <ctime>
 #include <cstdio>
 #include <cstdlib>
 #include <stdexcept>
@@ -40,6 +41,26 @@ char read_byte(int fd) {
   } while (got < 0 && errno == EINTR);
   if (got != 1) throw std::runtime_error("ceiling: a child ended early");
   return byte;
+}
+
+// A double in the machine's own byte order (both ends are this program on this machine).
+void write_double(int fd, double value) {
+  if (::write(fd, &value, sizeof value) != sizeof value) {
+    throw std::runtime_error("ceiling: a pipe write failed");
+  }
+}
+
+double read_double(int fd) {
+  double value = 0;
+  char* bytes = reinterpret_cast<char*>(&value);
+  for (std::size_t i = 0; i < sizeof value; ++i) bytes[i] = read_byte(fd);
+  return value;
+}
+
+double process_cpu_seconds() {
+  timespec now{};
+  ::clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &now);
+  return static_cast<double>(now.tv_sec) + static_cast<double>(now.tv_nsec) * 1e-9;
 }
 
 // A started child: its pid, the write end of its stdin and the read end of its stdout.
@@ -130,8 +151,9 @@ Batches commits_of(const Batches& batches, std::size_t per_commit) {
   return commits;
 }
 
-double processes_events_per_second(const std::string& self, const std::vector<CityStream>& streams,
-                                   std::size_t per_commit) {
+EngineRun processes_events_per_second(const std::string& self,
+                                       const std::vector<CityStream>& streams,
+                                       std::size_t per_commit) {
   std::vector<Child> children;
   std::size_t events = 0;
   try {
@@ -146,13 +168,16 @@ double processes_events_per_second(const std::string& self, const std::vector<Ci
     }
     const auto start = std::chrono::steady_clock::now();
     for (const Child& child : children) write_byte(child.to, kGo);
+    double cpu_seconds = 0;
     for (const Child& child : children) {
       if (read_byte(child.from) != kDone) throw std::runtime_error("ceiling: no done");
     }
     const double seconds =
         std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+    for (const Child& child : children) cpu_seconds += read_double(child.from);
     for (Child& child : children) end_child(child);
-    return static_cast<double>(events) / seconds;
+    const double per_event = 1e6 / static_cast<double>(std::max<std::size_t>(events, 1));
+    return EngineRun{static_cast<double>(events) / seconds, cpu_seconds * per_event};
   } catch (...) {
     for (Child& child : children) end_child(child);
     throw;
@@ -178,8 +203,11 @@ int ceiling_child_main(int argc, char** argv) {
     pool.commit(batches.front());
     write_byte(STDOUT_FILENO, kReady);
     if (read_byte(STDIN_FILENO) != kGo) return 3;
+    const double cpu_before = process_cpu_seconds();
     for (const std::vector<Event>& commit : commits) pool.commit(commit);
+    const double cpu = process_cpu_seconds() - cpu_before;
     write_byte(STDOUT_FILENO, kDone);
+    write_double(STDOUT_FILENO, cpu);
     return 0;
   } catch (const std::exception& error) {
     std::fprintf(stderr, "%s: ceiling child: %s\n", argv[0], error.what());

@@ -17,6 +17,12 @@ namespace yoke::bench {
 
 using Batches = std::vector<std::vector<Event>>;
 
+// A run of the engine alone over several pools' streams at once.
+struct EngineRun {
+  double events_per_second = 0;  // of wall time
+  double cpu_us = 0;  // CPU time of the repairs over the timed part, microseconds per event
+};
+
 // One pool's city stream as the multi-pool run draws it: the base graph first, then batches.
 struct CityStream {
   std::size_t vertices = 0;
@@ -37,15 +43,16 @@ Batches commits_of(const Batches& batches, std::size_t per_commit);
 // (base graph first, before the clock) in commits of `per_commit` events, all at once: the
 // clock runs from the moment every process is told to start to the last one's end. The
 // processes are this program started again (`self`) with ceiling_child_arguments().
-double processes_events_per_second(const std::string& self, const std::vector<CityStream>& streams,
-                                   std::size_t per_commit);
+EngineRun processes_events_per_second(const std::string& self,
+                                       const std::vector<CityStream>& streams,
+                                       std::size_t per_commit);
 
 // The first argument that makes this program a ceiling child (ceiling_child_main()).
 inline constexpr const char* kCeilingChildFlag = "--ceiling-child";
 
 // A child's part: argv is {program, kCeilingChildFlag, vertices, events, batch, mix, seed,
 // per_commit}. Draws the stream, commits the base graph, writes "ready" on stdout, waits for a
-// line on stdin, commits the rest, writes "done". Returns the exit status.
+// line on stdin, commits the rest, writes "done" and the CPU seconds that took. Returns the exit status.
 int ceiling_child_main(int argc, char** argv);
 
 }  // namespace yoke::bench

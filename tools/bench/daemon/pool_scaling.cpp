@@ -46,12 +46,19 @@ std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::
                         1);
 }
 
+double thread_cpu_seconds() {
+  timespec now{};
+  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &now);
+  return static_cast<double>(now.tv_sec) + static_cast<double>(now.tv_nsec) * 1e-9;
+}
+
 // The repairs alone, with no daemon around them: each pool's stream committed in this process
 // by a thread of its own, all pools at once, in commits of `per_commit` events (the size the
 // daemon's repairs had). How its rate grows with the pool count is what this machine's cores
 // give the engine's work: the ceiling for the daemon's ratio (shared caches, memory, and a
-// vCPU that may be a hyperthread all count in it). Events per second of wall time.
-double engine_events_per_second(const std::vector<Batches>& streams, std::size_t per_commit) {
+// vCPU that may be a hyperthread all count in it). Events per second of wall time, and the
+// threads' CPU time per event.
+EngineRun engine_events_per_second(const std::vector<Batches>& streams, std::size_t per_commit) {
   std::vector<std::unique_ptr<Pool>> pools;
   std::vector<Batches> commits;
   std::size_t events = 0;
@@ -63,17 +70,23 @@ double engine_events_per_second(const std::vector<Batches>& streams, std::size_t
   }
   std::latch start(static_cast<std::ptrdiff_t>(pools.size()) + 1);
   std::vector<std::thread> threads;
+  std::vector<double> cpu_seconds(pools.size(), 0);
   for (std::size_t i = 0; i < pools.size(); ++i) {
     threads.emplace_back([&, i] {
       start.arrive_and_wait();
+      const double before = thread_cpu_seconds();
       for (const std::vector<Event>& commit : commits[i]) pools[i]->commit(commit);
+      cpu_seconds[i] = thread_cpu_seconds() - before;
     });
   }
   start.arrive_and_wait();
   const Clock::time_point began = Clock::now();
   for (std::thread& thread : threads) thread.join();
   const double seconds = std::chrono::duration<double>(Clock::now() - began).count();
-  return static_cast<double>(events) / seconds;
+  double cpu = 0;
+  for (const double thread : cpu_seconds) cpu += thread;
+  return EngineRun{static_cast<double>(events) / seconds,
+                   cpu * 1e6 / static_cast<double>(std::max<std::size_t>(events, 1))};
 }
 
 // Sends `request` about `pool` on a query socket and waits for the reply (the daemon holds a
@@ -288,13 +301,15 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
     }
     const ScalingRun run = pools_at_once(context, settings, streams);
     const auto per_commit = static_cast<std::size_t>(std::max(run.events_per_commit, 1.0));
-    const double engine = engine_events_per_second(streams, per_commit);
+    const EngineRun alone = engine_events_per_second(streams, per_commit);
+    const double engine = alone.events_per_second;
     std::vector<CityStream> ceiling_streams;
     for (std::size_t i = 0; i < pools; ++i) {
       ceiling_streams.push_back(
           city_stream(settings, settings.vertices, settings.events / pools, 7 + i));
     }
-    const double ceiling = processes_events_per_second(self, ceiling_streams, per_commit);
+    const EngineRun processes = processes_events_per_second(self, ceiling_streams, per_commit);
+    const double ceiling = processes.events_per_second;
     if (ceiling_first == 0) ceiling_first = ceiling;
     const double ceiling_ratio = ceiling / std::max(ceiling_first, 1.0);
     if (first == 0) first = run.events_per_second;
@@ -309,6 +324,12 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
                 "of it\n",
                 pools, pools == 1 ? "" : "es", ceiling, ceiling_ratio, ratio,
                 100 * ratio / std::max(ceiling_ratio, 1e-9));
+    // The engine's own CPU per event beside the repair workers': what the workers spend above
+    // it is the daemon's (staging, diffs, captures, and what the other threads cost them).
+    std::printf("         repairs' CPU us/event: yoked's workers %.3f; engine alone, threads %.3f, "
+                "processes %.3f\n",
+                run.threads.contains("yoked-repair") ? run.threads.at("yoked-repair").seconds : 0.0,
+                alone.cpu_us, processes.cpu_us);
     std::printf("         yoked's threads, CPU us/event (context switches, minor faults per 1000 "
                 "events):");
     for (const auto& [name, thread] : run.threads) {
