@@ -19,7 +19,6 @@
 #include "engine_ceiling.h"
 #include "ingest_load.h"
 #include "tools/bench/machine_facts.h"
-#include "tools/graphgen/event_stream.h"
 #include "yoke/pool.h"
 #include "yoke/v1/query.pb.h"
 
