@@ -86,10 +86,13 @@ void IncidenceLists::move_list(Vertex v, std::uint32_t room) {
   list.room = block.room;
 }
 
-void IncidenceLists::compact() { rebuild(0); }
+void IncidenceLists::compact() {
+  rebuild(0);
+  Arena().swap(spare_.arena);
+}
 
 void IncidenceLists::tidy() {
-  if (4 * moved_ >= lists_.size() + entries_ && moved_ > 0) compact();
+  if (4 * moved_ >= lists_.size() + entries_ && moved_ > 0) rebuild(0);
 }
 
 void IncidenceLists::rebuild(std::size_t extra) {
@@ -97,8 +100,16 @@ void IncidenceLists::rebuild(std::size_t extra) {
   for (const List& list : lists_) total += rebuilt_room(list.size);
   // Room at the end for the lists that will outgrow their slack: a quarter of the arena (at
   // least `extra`), so the next rebuild comes only after that much has moved.
-  Arena arena;
-  arena.reserve(total + std::max(extra, total / 4));
+  const std::size_t wanted = total + std::max(extra, total / 4);
+  Arena arena = std::move(spare_.arena);  // its pages are mapped already (Spare)
+  arena.clear();
+  if (arena.capacity() < wanted || arena.capacity() / 2 > wanted) {
+    // A sixteenth more than wanted, so that a graph that grows a little between rebuilds
+    // still finds room in the spare next time; one that shrank to less than half does not
+    // keep the bigger block.
+    Arena().swap(arena);
+    arena.reserve(wanted + wanted / 16);
+  }
   // Not zeroed (HugePageAllocator::construct): the copies below fill each list's entries, and
   // its slack is written by a push before anything reads it.
   arena.resize(total);
@@ -110,6 +121,7 @@ void IncidenceLists::rebuild(std::size_t extra) {
     list.room = rebuilt_room(list.size);
     next += list.room;
   }
+  spare_.arena = std::move(arena_);
   arena_ = std::move(arena);
   free_blocks_.clear();
   moved_ = 0;

@@ -154,6 +154,48 @@ TEST(IncidenceLists, CompactLeavesSlackInVertexOrder) {
   EXPECT_EQ(lists.arena_size(), lists.room(0) + lists.room(1) + lists.room(2) + lists.room(3));
 }
 
+// A stream's rebuilds (tidy()) keep the block they leave and copy into it next time, once it
+// has room (its pages are mapped already): a list that grows by 100 entries and shrinks back,
+// round after round, against the model; compact() and a copy keep no spare.
+TEST(IncidenceLists, AStreamsRebuildsReuseTheBlockTheOneBeforeLeft) {
+  Model model(5);
+  IncidenceLists lists(5);
+  for (std::uint32_t i = 0; i < 200; ++i) {
+    const Incidence entry{static_cast<Vertex>(i % 7), i, static_cast<Weight>(i * 3)};
+    lists.push(static_cast<Vertex>(i % 5), entry);
+    model[i % 5].push_back(entry);
+  }
+  lists.compact();
+  EXPECT_EQ(lists.spare_capacity(), 0u);
+  std::vector<const Incidence*> bases;
+  for (std::uint32_t round = 0; round < 12; ++round) {
+    const auto v = static_cast<Vertex>(round % 5);
+    for (std::uint32_t i = 0; i < 100; ++i) {
+      const Incidence entry{7, 1000 + i, static_cast<Weight>(round)};
+      lists.push(v, entry);
+      model[v].push_back(entry);
+    }
+    lists.tidy();  // the pushes rebuilt the arena to grow it, or the moves make tidy() do it
+    EXPECT_GT(lists.spare_capacity(), 0u);
+    bases.push_back(lists.of(0).data());  // list 0 is first in the rebuilt arena
+    expect_lists_match(lists, model);
+    for (std::uint32_t i = 0; i < 100; ++i) {
+      lists.remove(v, static_cast<std::uint32_t>(model[v].size() - 1));
+      model[v].pop_back();
+    }
+  }
+  // From the third round on, each rebuild copies into the block the one before left.
+  for (std::size_t round = 3; round < bases.size(); ++round) {
+    EXPECT_EQ(bases[round], bases[round - 2]) << "round " << round;
+  }
+  IncidenceLists copy = lists;
+  EXPECT_EQ(copy.spare_capacity(), 0u);
+  expect_lists_match(copy, model);
+  lists.compact();
+  EXPECT_EQ(lists.spare_capacity(), 0u);
+  expect_lists_match(lists, model);
+}
+
 // Graph on the flat storage: random edge insertions, removals and weight changes against a map
 // of the live edges; every incidence entry must name a live edge, its other end and its weight.
 void expect_graph_matches(const Graph& graph, const std::map<EdgeIndex, Edge>& live) {

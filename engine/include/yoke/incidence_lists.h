@@ -58,15 +58,18 @@ class IncidenceLists {
 
   // Rebuilds the arena with every list in vertex order and modest slack, so that lists moved
   // by growth sit in order again and freed blocks are given back. Positions within each list
-  // do not change. O(n + entries).
+  // do not change. O(n + entries). Keeps no spare block (a graph built in one go, then solved).
   void compact();
   // compact() when the entries moved to new blocks since the last rebuild reach a quarter of
-  // (lists + entries): then O(n + entries), paid for by those moves; otherwise O(1).
+  // (lists + entries): then O(n + entries), paid for by those moves; otherwise O(1). A graph
+  // edited by a stream (the pool's) rebuilds this way: the block it leaves is kept (Spare).
   void tidy();
 
   std::size_t entries() const { return entries_; }
   // Room of v's block (size <= room): for tests and memory accounting.
   std::uint32_t room(Vertex v) const { return lists_[v].room; }
+  // Slots of the block kept for the next rebuild (Spare), 0 when none: for tests.
+  std::size_t spare_capacity() const { return spare_.arena.capacity(); }
   // Arena slots in use by blocks, free blocks included.
   std::size_t arena_size() const { return arena_.size(); }
 
@@ -85,7 +88,24 @@ class IncidenceLists {
   static std::uint32_t room_class(std::uint32_t room);  // floor(log2(room)), room >= 1
 
   using Arena = std::vector<Incidence, HugePageAllocator<Incidence>>;
+  // The arena a rebuild by growth or tidy() left, kept as the next rebuild's target: a pool's
+  // stream rebuilds its arena every few commits, and a fresh block of that size is fresh pages
+  // the kernel zeroes (huge pages for 4 MiB and more): with the daemon's window-sized commits
+  // that zeroing was ~6% of a replay's CPU samples, <1% with the spare. Costs one more arena
+  // per pool. A copy of the lists starts without one; compact() frees it.
+  struct Spare {
+    Spare() = default;
+    Spare(const Spare&) {}
+    Spare(Spare&&) = default;
+    Spare& operator=(const Spare&) {
+      arena = Arena();
+      return *this;
+    }
+    Spare& operator=(Spare&&) = default;
+    Arena arena;
+  };
   Arena arena_;
+  Spare spare_;
   std::vector<List> lists_;
   struct Block {
     std::size_t begin;

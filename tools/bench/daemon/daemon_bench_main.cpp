@@ -30,11 +30,11 @@
 #include <CLI/CLI.hpp>
 #include <zmq.hpp>
 
+#include "engine_ceiling.h"
 #include "ingest_load.h"
 #include "memory_contention.h"
 #include "pool_scaling.h"
 #include "tools/bench/machine_facts.h"
-#include "tools/graphgen/event_stream.h"
 #include "yoke/v1/publish.pb.h"
 #include "yoked_process.h"
 
@@ -85,15 +85,6 @@ void write_config(const std::filesystem::path& file, const YokedEndpoints& endpo
       << "[journal]\nmax_record_bytes = 268435456\ndurability = \"" << durability << "\"\n"
       << "[logging]\nlevel = \"warn\"\n";
   if (worker_nice >= 0) out << "[service]\nworker_nice = " << worker_nice << "\n";
-}
-
-// The stream's base graph as one batch, then its batches.
-std::vector<std::vector<Event>> draw_stream(const gen::StreamSpec& spec) {
-  gen::EventStream stream(spec);
-  std::vector<std::vector<Event>> batches;
-  std::vector<Event> batch;
-  while (stream.next_batch(batch)) batches.push_back(batch);
-  return batches;
 }
 
 void print_latency(const char* what, const std::vector<double>& us) {
@@ -218,14 +209,9 @@ int run(const Settings& settings) {
     return 0;
   }
 
-  gen::StreamSpec spec;
-  spec.family = gen::StreamFamily::city;
-  spec.vertices = settings.vertices;
-  spec.events = settings.events;
-  spec.batch_min = spec.batch_max = settings.batch;
-  spec.mix = gen::parse_mix(settings.mix);
-  spec.seed = 2026;
-  const std::vector<std::vector<Event>> stream = draw_stream(spec);
+  // The stream's base graph as one batch, then its batches.
+  const CityStream city{settings.vertices, settings.events, settings.batch, settings.mix, 2026};
+  const Batches stream = city_batches(city);
   const std::vector<EncodedBatch> batches = encode_batches(stream, "bench", "city", 1);
   const std::size_t paced_batches =
       std::min<std::size_t>(batches.size() - 1,
@@ -277,10 +263,10 @@ int run(const Settings& settings) {
   print_latency("  disk: 4 KiB write + fdatasync", fsync_probe(work, settings.quick ? 20 : 200));
 
   // 4. Restart of a larger pool.
-  gen::StreamSpec big = spec;
+  CityStream big = city;
   big.vertices = settings.restart_edges / 3;  // a city graph has about 3 edges per vertex
   big.events = 20000;
-  const std::vector<std::vector<Event>> big_stream = draw_stream(big);
+  const Batches big_stream = city_batches(big);
   const std::vector<EncodedBatch> big_batches = encode_batches(big_stream, "bench", "big", 1);
   const YokedEndpoints big_endpoints = free_loopback_endpoints();
   write_config(config, big_endpoints, settings.durability, settings.worker_nice);
@@ -321,6 +307,8 @@ int run(const Settings& settings) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  // The machine ceiling's children (engine_ceiling.h) are this program started again.
+  if (argc > 1 && std::string(argv[1]) == kCeilingChildFlag) return ceiling_child_main(argc, argv);
   Settings settings;
   CLI::App app("yoked under load over loopback TCP, against bare ZeroMQ in the same run",
                "yoke_daemon_bench");

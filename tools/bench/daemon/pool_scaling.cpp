@@ -16,9 +16,9 @@
 #include <utility>
 #include <vector>
 
+#include "engine_ceiling.h"
 #include "ingest_load.h"
 #include "tools/bench/machine_facts.h"
-#include "tools/graphgen/event_stream.h"
 #include "yoke/pool.h"
 #include "yoke/v1/query.pb.h"
 
@@ -27,23 +27,15 @@ namespace {
 
 using Clock = std::chrono::steady_clock;
 
-using Batches = std::vector<std::vector<Event>>;
-
 // A pool's city stream: its base graph first, then batches of `settings.batch` events.
+CityStream city_stream(const PoolScalingSettings& settings, std::size_t vertices,
+                       std::size_t events, std::uint64_t seed) {
+  return CityStream{vertices, events, settings.batch, settings.mix, seed};
+}
+
 Batches pool_batches(const PoolScalingSettings& settings, std::size_t vertices,
                      std::size_t events, std::uint64_t seed) {
-  gen::StreamSpec spec;
-  spec.family = gen::StreamFamily::city;
-  spec.vertices = vertices;
-  spec.events = events;
-  spec.batch_min = spec.batch_max = settings.batch;
-  spec.mix = gen::parse_mix(settings.mix);
-  spec.seed = seed;
-  gen::EventStream stream(spec);
-  Batches batches;
-  std::vector<Event> batch;
-  while (stream.next_batch(batch)) batches.push_back(batch);
-  return batches;
+  return city_batches(city_stream(settings, vertices, events, seed));
 }
 
 std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::size_t vertices,
@@ -53,41 +45,47 @@ std::vector<EncodedBatch> pool_stream(const PoolScalingSettings& settings, std::
                         1);
 }
 
+double thread_cpu_seconds() {
+  timespec now{};
+  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &now);
+  return static_cast<double>(now.tv_sec) + static_cast<double>(now.tv_nsec) * 1e-9;
+}
+
 // The repairs alone, with no daemon around them: each pool's stream committed in this process
 // by a thread of its own, all pools at once, in commits of `per_commit` events (the size the
 // daemon's repairs had). How its rate grows with the pool count is what this machine's cores
 // give the engine's work: the ceiling for the daemon's ratio (shared caches, memory, and a
-// vCPU that may be a hyperthread all count in it). Events per second of wall time.
-double engine_events_per_second(const std::vector<Batches>& streams, std::size_t per_commit) {
+// vCPU that may be a hyperthread all count in it). Events per second of wall time, and the
+// threads' CPU time per event.
+EngineRun engine_events_per_second(const std::vector<Batches>& streams, std::size_t per_commit) {
   std::vector<std::unique_ptr<Pool>> pools;
-  std::vector<Batches> commits(streams.size());
+  std::vector<Batches> commits;
   std::size_t events = 0;
-  for (std::size_t i = 0; i < streams.size(); ++i) {
+  for (const Batches& stream : streams) {
     pools.push_back(std::make_unique<Pool>(Mode::max_weight));
-    pools.back()->commit(streams[i].front());  // the base graph, before the clock
-    std::vector<Event> joined;
-    for (std::size_t b = 1; b < streams[i].size(); ++b) {
-      joined.insert(joined.end(), streams[i][b].begin(), streams[i][b].end());
-      if (joined.size() >= per_commit || b + 1 == streams[i].size()) {
-        events += joined.size();
-        commits[i].push_back(std::move(joined));
-        joined.clear();
-      }
-    }
+    pools.back()->commit(stream.front());  // the base graph, before the clock
+    commits.push_back(commits_of(stream, per_commit));
+    for (const std::vector<Event>& commit : commits.back()) events += commit.size();
   }
   std::latch start(static_cast<std::ptrdiff_t>(pools.size()) + 1);
   std::vector<std::thread> threads;
+  std::vector<double> cpu_seconds(pools.size(), 0);
   for (std::size_t i = 0; i < pools.size(); ++i) {
     threads.emplace_back([&, i] {
       start.arrive_and_wait();
+      const double before = thread_cpu_seconds();
       for (const std::vector<Event>& commit : commits[i]) pools[i]->commit(commit);
+      cpu_seconds[i] = thread_cpu_seconds() - before;
     });
   }
   start.arrive_and_wait();
   const Clock::time_point began = Clock::now();
   for (std::thread& thread : threads) thread.join();
   const double seconds = std::chrono::duration<double>(Clock::now() - began).count();
-  return static_cast<double>(events) / seconds;
+  double cpu = 0;
+  for (const double thread : cpu_seconds) cpu += thread;
+  return EngineRun{static_cast<double>(events) / seconds,
+                   cpu * 1e6 / static_cast<double>(std::max<std::size_t>(events, 1))};
 }
 
 // Sends `request` about `pool` on a query socket and waits for the reply (the daemon holds a
@@ -284,12 +282,16 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
   std::printf("  CPU us per event: yoked's loop thread, its other threads (repairs, ZeroMQ), "
               "the clients (this process); events per commit (repair) of a pool;\n"
               "  engine alone: the same streams committed in this process, a thread per pool, "
-              "in commits of that size, no daemon (the machine's ceiling for the ratio)\n");
+              "in commits of that size, no daemon;\n"
+              "  machine ceiling: the same again, a process per pool (what independent "
+              "processes get of this machine)\n");
   std::printf("  %-6s %11s %9s %7s %8s %8s %11s %13s %9s %9s\n", "pools", "events/s",
               "vs first", "loop", "workers", "clients", "per commit", "engine alone",
               "vs first", "of it");
   double first = 0;
   double engine_first = 0;
+  double ceiling_first = 0;  // events/s of the first count's processes (machine ceiling)
+  const std::string self = std::filesystem::read_symlink("/proc/self/exe").string();
   double strand_first = 0;  // events/s of one pool's repair thread at the first run's CPU
   for (const std::size_t pools : settings.pool_counts) {
     std::vector<Batches> streams;
@@ -297,8 +299,18 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
       streams.push_back(pool_batches(settings, settings.vertices, settings.events / pools, 7 + i));
     }
     const ScalingRun run = pools_at_once(context, settings, streams);
-    const double engine = engine_events_per_second(
-        streams, static_cast<std::size_t>(std::max(run.events_per_commit, 1.0)));
+    const auto per_commit = static_cast<std::size_t>(std::max(run.events_per_commit, 1.0));
+    const EngineRun alone = engine_events_per_second(streams, per_commit);
+    const double engine = alone.events_per_second;
+    std::vector<CityStream> ceiling_streams;
+    for (std::size_t i = 0; i < pools; ++i) {
+      ceiling_streams.push_back(
+          city_stream(settings, settings.vertices, settings.events / pools, 7 + i));
+    }
+    const EngineRun processes = processes_events_per_second(self, ceiling_streams, per_commit);
+    const double ceiling = processes.events_per_second;
+    if (ceiling_first == 0) ceiling_first = ceiling;
+    const double ceiling_ratio = ceiling / std::max(ceiling_first, 1.0);
     if (first == 0) first = run.events_per_second;
     if (engine_first == 0) engine_first = engine;
     const double ratio = run.events_per_second / std::max(first, 1.0);
@@ -306,6 +318,17 @@ void run_pool_scaling(zmq::context_t& context, const PoolScalingSettings& settin
     std::printf("  %-6zu %11.0f %9.2f %7.2f %8.2f %8.2f %11.0f %13.0f %9.2f %8.0f%%\n", pools,
                 run.events_per_second, ratio, run.loop_us, run.workers_us, run.clients_us,
                 run.events_per_commit, engine, engine_ratio, 100 * ratio / engine_ratio);
+    std::printf("         machine ceiling: these streams repaired by the engine alone in %zu "
+                "process%s at once: %.0f events/s, %.2fx the first; the daemon's %.2fx is %.0f%% "
+                "of it\n",
+                pools, pools == 1 ? "" : "es", ceiling, ceiling_ratio, ratio,
+                100 * ratio / std::max(ceiling_ratio, 1e-9));
+    // The engine's own CPU per event beside the repair workers': what the workers spend above
+    // it is the daemon's (staging, diffs, captures, and what the other threads cost them).
+    std::printf("         repairs' CPU us/event: yoked's workers %.3f; engine alone, threads %.3f, "
+                "processes %.3f\n",
+                run.threads.contains("yoked-repair") ? run.threads.at("yoked-repair").seconds : 0.0,
+                alone.cpu_us, processes.cpu_us);
     std::printf("         yoked's threads, CPU us/event (context switches, minor faults per 1000 "
                 "events):");
     for (const auto& [name, thread] : run.threads) {
