@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <exception>
+#include <optional>
 
 #include "daemon/pools/pool_names.h"
 #include "wire_types.h"
@@ -156,11 +157,11 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
       v1::Mate& mate = *reply.mutable_mate();
       mate.set_seq(progress->seq);
       mate.set_vertex(vertex);
-      // explain() with no alternatives is the cheap way to the pair's weight.
-      const auto explanation = pool->explain(vertex, 0);
-      if (explanation && explanation->mate) {
-        mate.set_mate(*explanation->mate);
-        mate.set_pair_weight(explanation->pair_weight);
+      // pair_of, not explain: no prices, so O(degree) in every pool (an explanation of an odd
+      // max-cardinality pool costs a search, docs/mathematics.md §9).
+      if (const std::optional<MatchedPair> pair = pool->pair_of(vertex)) {
+        mate.set_mate(pair->b);
+        mate.set_pair_weight(pair->w);
       }
       return reply;
     }

@@ -1,6 +1,7 @@
 #include "yoke/pool.h"
 
 #include <algorithm>
+#include <optional>
 
 #include "pool/pool_state.h"
 #include "yoke/util/dcheck.h"
@@ -160,6 +161,18 @@ std::optional<VertexKey> Pool::mate_of(VertexKey key) const {
   return state_->graph.key(m);
 }
 
+std::optional<MatchedPair> Pool::pair_of(VertexKey key) const {
+  const State& pool = *state_;
+  if (const auto partner = pool.holds.partner(key)) {
+    return MatchedPair{key, *partner, *pool.holds.aside_weight(key, *partner)};
+  }
+  const Vertex v = pool.graph.find(key);
+  if (v == kNoVertex) return std::nullopt;
+  const Vertex m = pool.matching.mate[v];
+  if (m == kNoVertex || m == pool.phantom) return std::nullopt;
+  return MatchedPair{key, pool.graph.key(m), pool.own_weight(v, m, pool.graph.find_edge(v, m))};
+}
+
 std::vector<MatchedPair> Pool::matching() const {
   const State& pool = *state_;
   std::vector<MatchedPair> pairs;
@@ -211,8 +224,9 @@ PoolExport Pool::export_certified() const {
   // G's optimum restored; the pool's own matching less φ's pair is an optimum of G too, so by
   // complementary slackness those optimal prices certify it as well (every condition of
   // docs/mathematics.md §2 holds for any optimal matching with any optimal dual).
-  const MatchingState without = state_without_phantom(pool);
-  const MatchingState& state = pool.phantom == kNoVertex ? pool.matching : without;
+  std::optional<MatchingState> without;
+  if (pool.phantom != kNoVertex) without = state_without_phantom(pool);
+  const MatchingState& state = without ? *without : pool.matching;
   for (Vertex v = 0; v < capacity; ++v) {
     if (dense[v] == kNoVertex) continue;
     const Vertex m = pool.matching.mate[v] == pool.phantom ? kNoVertex : pool.matching.mate[v];

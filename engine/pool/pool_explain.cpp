@@ -1,5 +1,6 @@
 // Pool::explain: a vertex's price and its nearest alternatives, read off the dual solution.
 #include <algorithm>
+#include <optional>
 #include <unordered_map>
 
 #include "pool/pool_state.h"
@@ -19,9 +20,10 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
     return held;
   }
   // With φ present the prices are the certificate's: a copy's with φ taken out (Pool::
-  // export_certified; O(n) per call while φ is present). The pairs are the pool's.
-  const MatchingState without = state_without_phantom(pool);
-  const MatchingState& priced = pool.phantom == kNoVertex ? pool.matching : without;
+  // export_certified; O(n) and a search per call while φ is present). The pairs are the pool's.
+  std::optional<MatchingState> without;
+  if (pool.phantom != kNoVertex) without = state_without_phantom(pool);
+  const MatchingState& priced = without ? *without : pool.matching;
   const BlossomForest& forest = priced.forest;
   const std::vector<Weight>& dual2 = priced.dual2;
   const Mates& mate = pool.matching.mate;

@@ -100,7 +100,7 @@ inline std::uint64_t slot_pair(Vertex a, Vertex b) {
   return a < b ? (std::uint64_t{a} << 32) | b : (std::uint64_t{b} << 32) | a;
 }
 
-// Whether pools use the phantom vertex: an experiment's switch (YOKE_PHANTOM=1), off by default.
+// Whether new pools use the phantom vertex: yes unless YOKE_PHANTOM=0 (a switch for tests).
 bool phantom_switched_on();
 // Brings φ in or out so that it is present exactly when the pool wants it (see PoolState):
 // φ enters exposed at the least price that keeps its edges feasible (a root when positive),

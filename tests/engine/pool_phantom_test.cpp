@@ -1,11 +1,13 @@
 // The phantom vertex in max-cardinality and perfect pools (docs/mathematics.md §9), switched
-// on here (YOKE_PHANTOM=1) for the pools each test builds. Every commit is checked against a
-// pool with the switch off fed the same batches (the same weight, pairs and status: the
-// lexicographic optimum's value is unique) and its export by the certificate checker.
+// on here for the pools each test builds (whatever YOKE_PHANTOM says outside). Every commit is
+// checked against a pool built with YOKE_PHANTOM=0 fed the same batches (the same weight, pairs
+// and status: the lexicographic optimum's value is unique) and its export by the certificate
+// checker.
 #include <gtest/gtest.h>
 
 #include <cstdlib>
 #include <cstring>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -18,33 +20,51 @@
 namespace yoke {
 namespace {
 
-// Pools built while it lives use the phantom vertex.
-class PhantomOn {
+// Pools built while it lives use the phantom vertex or not, as asked; YOKE_PHANTOM is put back.
+class PhantomSwitch {
  public:
-  PhantomOn() { setenv("YOKE_PHANTOM", "1", 1); }
-  ~PhantomOn() { unsetenv("YOKE_PHANTOM"); }
-  PhantomOn(const PhantomOn&) = delete;
-  PhantomOn& operator=(const PhantomOn&) = delete;
+  explicit PhantomSwitch(bool on) {
+    if (const char* value = std::getenv("YOKE_PHANTOM")) outside_ = value;
+    setenv("YOKE_PHANTOM", on ? "1" : "0", 1);
+  }
+  ~PhantomSwitch() {
+    if (outside_) {
+      setenv("YOKE_PHANTOM", outside_->c_str(), 1);
+    } else {
+      unsetenv("YOKE_PHANTOM");
+    }
+  }
+  PhantomSwitch(const PhantomSwitch&) = delete;
+  PhantomSwitch& operator=(const PhantomSwitch&) = delete;
+
+ private:
+  std::optional<std::string> outside_;
 };
 
-std::unique_ptr<Pool> pool_with_phantom(Mode mode) {
-  const PhantomOn on;
+std::unique_ptr<Pool> pool_with_phantom(Mode mode, bool on = true) {
+  const PhantomSwitch phantom(on);
   return std::make_unique<Pool>(mode);
 }
 
 // The pool with φ and one without, fed the same batches.
 class Twins {
  public:
-  explicit Twins(Mode mode) : with_(pool_with_phantom(mode)), without_(mode) {}
+  explicit Twins(Mode mode)
+      : with_(pool_with_phantom(mode)), without_(pool_with_phantom(mode, false)) {}
 
   CommitResult commit(const std::vector<Event>& batch, const std::string& where) {
     const CommitResult a = with_->commit(batch);
-    const CommitResult b = without_.commit(batch);
+    const CommitResult b = without_->commit(batch);
     EXPECT_EQ(a.weight, b.weight) << where;
     EXPECT_EQ(a.pairs, b.pairs) << where;
     EXPECT_EQ(a.status, b.status) << where;
     EXPECT_EQ(with_->pairs(), a.pairs) << where;
     EXPECT_EQ(with_->matching().size(), a.pairs) << where;
+    // pair_of (the daemon's mate query) agrees with the pairs from both ends.
+    for (const MatchedPair& pair : with_->matching()) {
+      EXPECT_EQ(with_->pair_of(pair.a), pair) << where;
+      EXPECT_EQ(with_->pair_of(pair.b), (MatchedPair{pair.b, pair.a, pair.w})) << where;
+    }
     const PoolExport out = with_->export_certified();
     const CheckResult check = check_certificate(out.graph, out.certificate);
     EXPECT_TRUE(check.ok) << where << ": " << check.failure;
@@ -54,7 +74,7 @@ class Twins {
 
  private:
   std::unique_ptr<Pool> with_;
-  Pool without_;
+  std::unique_ptr<Pool> without_;
 };
 
 // The keys of the exposed vertices (φ's mate among them).

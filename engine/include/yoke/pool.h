@@ -168,6 +168,9 @@ class Pool {
   std::uint64_t commits() const;
   bool has_vertex(VertexKey key) const;
   std::optional<VertexKey> mate_of(VertexKey key) const;
+  // key's pair {key, mate, own weight} (a held pair's weight aside), or nothing when key is
+  // unpaired or absent. O(degree).
+  std::optional<MatchedPair> pair_of(VertexKey key) const;
   // The cycle edges of the smallest blossom holding `key`, by keys (empty when the vertex is in
   // no blossom or does not exist): edges whose change dissolves blossoms, for benchmarks and
   // tests that aim events at them. O(children of that blossom).
@@ -175,9 +178,11 @@ class Pool {
   // Every pair, sorted. O(n).
   std::vector<MatchedPair> matching() const;
   // Nothing when the vertex does not exist. At most `limit` alternatives. O(degree x depth in
-  // the blossom forest + degree log degree).
+  // the blossom forest + degree log degree); while the pool holds the phantom vertex (an odd
+  // max-cardinality or perfect pool, docs/mathematics.md §9) the prices are the certificate's,
+  // which costs what export_certified() does.
   std::optional<VertexExplanation> explain(VertexKey key, std::size_t limit = 5) const;
-  // O(n + m + blossom sizes).
+  // O(n + m + blossom sizes); with the phantom vertex, plus the search that takes it out.
   PoolExport export_certified() const;
 
   // The pool's whole state as bytes, and a pool rebuilt from them that behaves exactly as this
