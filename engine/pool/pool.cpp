@@ -58,6 +58,7 @@ void Pool::stage(std::span<const Event> batch) {
   pool.weight_before.clear();
   pool.holds_touched.clear();
   pool.phantom_slots.clear();
+  pool.without_phantom.reset();  // the state it was made from is about to change
   if (pool.phantom != kNoVertex) pool.phantom_slots.push_back(pool.phantom);
   pool.matching.mate.open_journal();
   const bool holds_in_batch = std::any_of(batch.begin(), batch.end(), [](const Event& e) {
@@ -224,9 +225,7 @@ PoolExport Pool::export_certified() const {
   // G's optimum restored; the pool's own matching less φ's pair is an optimum of G too, so by
   // complementary slackness those optimal prices certify it as well (every condition of
   // docs/mathematics.md §2 holds for any optimal matching with any optimal dual).
-  std::optional<MatchingState> without;
-  if (pool.phantom != kNoVertex) without = state_without_phantom(pool);
-  const MatchingState& state = without ? *without : pool.matching;
+  const MatchingState& state = certified_state(pool);
   for (Vertex v = 0; v < capacity; ++v) {
     if (dense[v] == kNoVertex) continue;
     const Vertex m = pool.matching.mate[v] == pool.phantom ? kNoVertex : pool.matching.mate[v];

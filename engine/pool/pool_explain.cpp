@@ -1,6 +1,5 @@
 // Pool::explain: a vertex's price and its nearest alternatives, read off the dual solution.
 #include <algorithm>
-#include <optional>
 #include <unordered_map>
 
 #include "pool/pool_state.h"
@@ -20,10 +19,9 @@ std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit)
     return held;
   }
   // With φ present the prices are the certificate's: a copy's with φ taken out (Pool::
-  // export_certified; O(n) and a search per call while φ is present). The pairs are the pool's.
-  std::optional<MatchingState> without;
-  if (pool.phantom != kNoVertex) without = state_without_phantom(pool);
-  const MatchingState& priced = without ? *without : pool.matching;
+  // export_certified; O(n) and a search once per commit while φ is present). The pairs are the
+  // pool's.
+  const MatchingState& priced = certified_state(pool);
   const BlossomForest& forest = priced.forest;
   const std::vector<Weight>& dual2 = priced.dual2;
   const Mates& mate = pool.matching.mate;

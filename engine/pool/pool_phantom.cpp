@@ -68,4 +68,10 @@ MatchingState state_without_phantom(const PoolState& pool) {
   return state;
 }
 
+const MatchingState& certified_state(const PoolState& pool) {
+  if (pool.phantom == kNoVertex) return pool.matching;
+  if (!pool.without_phantom) pool.without_phantom = state_without_phantom(pool);
+  return *pool.without_phantom;
+}
+
 }  // namespace yoke
