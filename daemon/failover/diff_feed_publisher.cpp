@@ -159,6 +159,10 @@ void DiffFeedPublisher::send_front(const std::string& pool, Lane& lane) {
   jsPubOptions options;
   jsPubOptions_Init(&options);
   options.MaxWait = settings_.publish_timeout.count();
+  // Stored only if the subject still ends where this daemon last saw it: a daemon that stalled
+  // past a claim cannot add a diff behind its successor's (the stream refuses it, and pump()
+  // then finds the pool served elsewhere). An empty subject has nothing to expect (0: unset).
+  if (!lane.stored.empty()) options.ExpectLastSubjectSeq = lane.stored.back().second;
   const natsStatus status = js_PublishMsgAsync(context_.get(), &raw, &options);
   natsMsg_Destroy(raw);  // no effect when the library took the message
   if (status != NATS_OK) {
@@ -272,7 +276,14 @@ void DiffFeedPublisher::pump(Clock::time_point now) {
     lane.resumed = true;
     lane.failed = false;
     lane.late = false;
-    if (last) {
+    // The subject's end as read now is what the next diff expects (send_front): a stream made
+    // again from nothing holds none of the stream sequences this daemon remembers.
+    if (!last) {
+      lane.stored.clear();
+    } else {
+      if (!lane.stored.empty() && lane.stored.back().second > last->stream_sequence) {
+        lane.stored.clear();
+      }
       if (lane.stored.empty() || lane.stored.back().second < last->stream_sequence) {
         lane.stored.emplace_back(last->seq, last->stream_sequence);
       }

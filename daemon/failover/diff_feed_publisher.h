@@ -36,9 +36,12 @@
 //   daemon that claimed the pool meanwhile has stored it already. On a connection with
 //   ConnectionSettings::send_at_once, a diff handed to libnats is in the kernel's socket
 //   before the call returns, so a stall cannot hold it back in libnats' buffer until after
-//   a claim. Remaining limit: a stall between the staleness check and that write (the same
-//   few microseconds of one thread) still lets that seq be stored twice; watchers drop a
-//   seq they have seen.
+//   a claim. A stall between the staleness check and that write (the same few microseconds of
+//   one thread; longer under a sanitizer: CI saw it once) is caught by the stream itself: each
+//   diff is sent expecting the subject's last stream sequence this daemon knows (JetStream's
+//   expected last subject sequence), so it is refused once a successor stored more. Remaining
+//   limit: on a subject still empty nothing can be expected, so a pool's very first diff could
+//   be stored twice; watchers drop a seq they have seen.
 //
 // Threads: the public calls are for the daemon's one thread; the acknowledgement callbacks
 // run on libnats' thread. One mutex guards the pools' queues.

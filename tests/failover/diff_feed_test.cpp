@@ -150,6 +150,28 @@ TEST_F(DiffFeedOnCluster, ANewServerStoresExactlyTheDiffsAfterTheLastStored) {
   EXPECT_EQ(stored_seqs("quay"), range(1, 9));
 }
 
+// A server stalled past its successor's claim (SIGSTOP between a diff's staleness check and
+// its write) still sends that diff: the stream refuses it, as the subject no longer ends where
+// the stalled server saw it. Before the expectation, the subject held 1..8 then 6 again.
+TEST_F(DiffFeedOnCluster, AStalledServersLateDiffIsRefusedBehindItsSuccessors) {
+  make_stream();
+  DiffFeedPublisher old_server(*connection_, settings_);
+  ASSERT_EQ(old_server.resume("mole"), 0u);
+  publish_range(old_server, "mole", 1, 5);
+  ASSERT_TRUE(old_server.settle(milliseconds(10000)));
+  DiffFeedPublisher new_server(*connection_, settings_);
+  EXPECT_EQ(new_server.resume("mole"), 5u);
+  publish_range(new_server, "mole", 6, 8);
+  ASSERT_TRUE(new_server.settle(milliseconds(10000)));
+  publish_range(old_server, "mole", 6, 6);
+  const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
+  while (!old_server.status("mole").failing && std::chrono::steady_clock::now() < deadline) {
+    std::this_thread::sleep_for(milliseconds(10));
+  }
+  EXPECT_TRUE(old_server.status("mole").failing);
+  EXPECT_EQ(stored_seqs("mole"), range(1, 8));
+}
+
 TEST_F(DiffFeedOnCluster, AFailedPublishIsRetriedAndTheGapFilledInOrder) {
   make_stream();
   DiffFeedPublisher feed(*connection_, settings_);
