@@ -99,10 +99,7 @@ CommitResult Pool::repair() {
     pool.stats.augmentations = solved.augmentations;
     pool.stats.vertices_touched = solved.scans + solved.warm_start_scans;
     if (pool.uses_phantom) {
-      // Every vertex joins φ's heap at its price; φ enters if the count is odd.
-      for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
-        if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
-      }
+      join_every_price(pool);  // φ enters below if the count is odd
       pool.current_cause = kNoCause;  // no one event of a solved batch brought it in
       pool.matching.mate.set_cause(kNoCause);
       sync_phantom(pool);

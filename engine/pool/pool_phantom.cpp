@@ -16,10 +16,12 @@ bool phantom_switched_on() {
   return value == nullptr || value[0] != '0';
 }
 
+namespace {
+
+// A copy of the matching state with φ (present) taken out and its mate's tree grown again.
 MatchingState state_without_phantom(const PoolState& pool) {
   MatchingState state = pool.matching;
   const Vertex phi = pool.phantom;
-  if (phi == kNoVertex) return state;
   BlossomForest& forest = state.forest;
   Mates& mate = state.mate;
   const Graph& graph = pool.graph.graph();
@@ -66,6 +68,14 @@ MatchingState state_without_phantom(const PoolState& pool) {
     if (any) search.run();
   }
   return state;
+}
+
+}  // namespace
+
+void join_every_price(PoolState& pool) {
+  for (Vertex v = 0; v < pool.graph.capacity(); ++v) {
+    if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
+  }
 }
 
 const MatchingState& certified_state(const PoolState& pool) {

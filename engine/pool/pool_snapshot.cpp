@@ -152,9 +152,7 @@ std::unique_ptr<Pool> Pool::restore(std::string_view bytes) {
   pool.search = std::make_unique<AlternatingSearch>(pool.graph.graph(), pool.weight_offset, pool.matching);
   pool.prices.resize(n);
   if (pool.uses_phantom) {
-    for (Vertex v = 0; v < n; ++v) {
-      if (pool.graph.alive(v)) pool.prices.join(v, pool.matching.dual2[v]);
-    }
+    join_every_price(pool);
     pool.search->set_phantom(pool.phantom, &pool.prices);
   }
   return std::unique_ptr<Pool>(new Pool(std::move(state)));

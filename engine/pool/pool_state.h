@@ -60,7 +60,7 @@ struct PoolState {
   PhantomPrices prices;          // every vertex joined while uses_phantom, φ present or not
   Vertex phantom = kNoVertex;    // φ's slot while present
   std::vector<Vertex> phantom_slots;  // the slots φ held during the batch (the diff skips them)
-  // state_without_phantom's result, made by the first explanation or export after a commit and
+  // The state with φ taken out, made by the first explanation or export after a commit and
   // dropped when the next batch stages: a search per commit, not per call (certified_state).
   mutable std::optional<MatchingState> without_phantom;
   bool is_phantom_slot(Vertex v) const {
@@ -111,11 +111,12 @@ bool phantom_switched_on();
 // and leaves like a departing vertex (its mate becomes a root). O(log n) plus a departure's
 // dissolving.
 void sync_phantom(PoolState& pool);
-// A copy of the matching state with φ taken out and the optimum of the graph without it
-// restored (its mate's tree grown again): what exports and saves describe. O(n) for the copy.
-MatchingState state_without_phantom(const PoolState& pool);
-// The state whose prices certify G: the pool's own, or while φ is present the copy without it
-// (made once per commit and kept in `without_phantom`).
+// Joins every vertex of the pool to φ's heap at its price (`prices`, once resized): a pool
+// solved from scratch or restored. O(n log n).
+void join_every_price(PoolState& pool);
+// The state whose prices certify G: the pool's own, or while φ is present a copy with φ taken
+// out and the optimum of the graph without it restored (its mate's tree grown again; O(n) and
+// a search), made once per commit and kept in `without_phantom`.
 const MatchingState& certified_state(const PoolState& pool);
 // Applies one event to the graph alone. Precondition: the pool was empty when the batch began
 // (every slot exposed with dual 0, no blossoms), so the batch is then solved from scratch.

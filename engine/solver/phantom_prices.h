@@ -28,8 +28,6 @@ class PhantomPrices {
 
   // Room for vertices 0 .. vertex_count-1; new ones are not joined. O(growth).
   void resize(std::size_t vertex_count) { joined_.resize(vertex_count, 0); }
-  std::size_t joined_count() const { return joined_count_; }
-  bool joined(Vertex v) const { return v < joined_.size() && joined_[v] != 0; }
 
   // v becomes (stops being) a neighbour of φ. O(log entries).
   void join(Vertex v, Weight price2) {
@@ -68,16 +66,6 @@ class PhantomPrices {
       pop();
     }
     return {};
-  }
-
-  // Forgets every entry and offers every joined vertex at `price2_of(v)`. O(n log n).
-  template <class PriceOf>
-  void reset(PriceOf&& price2_of) {
-    heap_.clear();
-    for (Vertex v = 0; v < joined_.size(); ++v) {
-      if (joined_[v] != 0) heap_.push_back({price2_of(v), v});
-    }
-    std::make_heap(heap_.begin(), heap_.end(), std::greater<>{});
   }
 
  private:
