@@ -410,7 +410,7 @@ void YokedServer::handle_repairs(PoolService::RepairsDone done) {
 void YokedServer::answer_held_queries() {
   bool answered = false;
   for (auto it = held_queries_.begin(); it != held_queries_.end();) {
-    if (service_.repairing(it->first)) {
+    if (service_.repairing(it->first) || prices_first(it->first, it->second)) {
       ++it;
       continue;
     }
@@ -419,6 +419,14 @@ void YokedServer::answer_held_queries() {
     it = held_queries_.erase(it);
   }
   if (answered) query_watcher_->poke();
+}
+
+bool YokedServer::prices_first(const std::string& pool, const std::vector<HeldQuery>& held) {
+  const bool explains = std::any_of(held.begin(), held.end(),
+                                    [](const HeldQuery& query) { return query.reads_prices; });
+  if (!explains || !service_.prices_on_worker(pool)) return false;
+  service_.drain(pool);
+  return true;
 }
 
 void YokedServer::settle() {
@@ -476,12 +484,14 @@ void YokedServer::on_query_message() {
   if (frames.size() < 2) return;
   zmq::message_t payload = std::move(frames.back());
   frames.pop_back();
-  if (const auto pool = QueryHandler::pool_read_by(payload.to_string_view());
-      pool && service_.repairing(*pool)) {
-    // A worker holds that pool's state: answered once its repairs are collected, and its
-    // batches wait meanwhile, so that no further repair of it is handed over.
-    held_queries_[*pool].push_back({std::move(frames), std::move(payload)});
-    service_.drain(*pool);
+  if (const auto read = QueryHandler::pool_read_by(payload.to_string_view());
+      read && (service_.repairing(read->pool) ||
+               (read->reads_prices && service_.prices_on_worker(read->pool)))) {
+    // A worker holds that pool's state (a repair, or the search that makes an explanation's
+    // prices): answered once its jobs are collected, and its batches wait meanwhile, so that
+    // no further repair of it is handed over.
+    held_queries_[read->pool].push_back({std::move(frames), std::move(payload), read->reads_prices});
+    service_.drain(read->pool);
     return;
   }
   answer_query(frames, payload);

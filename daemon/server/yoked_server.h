@@ -72,6 +72,7 @@ class YokedServer {
   struct HeldQuery {
     Envelope envelope;
     zmq::message_t payload;
+    bool reads_prices = false;  // an explanation (QueryHandler::PoolRead)
   };
 
   // A worker finished a repair: collects what is done (handle_repairs). On the loop.
@@ -81,6 +82,9 @@ class YokedServer {
   // that joined it.
   void handle_repairs(PoolService::RepairsDone done);
   void answer_held_queries();
+  // Whether a held explanation of `pool` (no repair in flight) waits for its prices, now being
+  // made on the pool's worker (PoolService::prices_on_worker): then the pool's queries wait.
+  bool prices_first(const std::string& pool, const std::vector<HeldQuery>& held);
   // Waits for the window syncing (finish_sync()) and every repair in flight, and handles them:
   // no worker then touches a pool, nor the journal thread the log, until the next window
   // closes. Blocks the loop for the longest repair in flight.

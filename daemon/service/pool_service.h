@@ -136,6 +136,14 @@ class PoolService {
   // with the inline executor, for a pool the log holds nothing of, and for one retiring in
   // the open window (the caller captures those itself). O(log pools).
   bool capture_on_worker(const std::string& pool);
+  // Asks for `pool`'s certificate prices (Pool::make_certificate_prices: with the phantom
+  // vertex, a search once per commit) to be made on a worker by a read-only job on its strand,
+  // as a capture-only job is, when the next explanation would pay that search
+  // (Pool::certificate_prices_due): a query held until the job is collected then reads them
+  // without the search on the loop. False, and nothing asked, with the inline executor, for a
+  // pool missing, retiring in the open window, with a repair in flight (the query waits for it
+  // first: ask again then), or whose prices are made. O(log pools).
+  bool prices_on_worker(const std::string& pool);
   // Called by finish_repairs() for each job it collects that was asked for a capture, with
   // it (its `failure` set when save() threw; a job whose repair failed is not reported: the
   // daemon stops), once its progress is recorded and before the batches that waited for it
@@ -321,9 +329,11 @@ class PoolService {
     bool capture_wanted = false;            // set by the loop before capture_passed
     bool capture_passed = false;            // the worker touches the engine no more
     std::optional<EngineCapture> captured;  // read by the loop once collected
-    // A capture-only job (capture_on_worker()): no window, one task that saves the engine.
-    // Born staged (it changes no topology) with no events, seq_before = last_seq = the pool's.
-    bool capture_only = false;
+    // A read-only job (capture_on_worker(), prices_on_worker()): no window, one task that
+    // saves the engine or makes its certificate prices (`make_prices`), or both. Born staged
+    // (it changes no topology) with no events, seq_before = last_seq = the pool's.
+    bool read_only = false;
+    bool make_prices = false;
   };
   struct HeldBatch {
     Ticket ticket;
@@ -433,9 +443,10 @@ class PoolService {
   // Run on the executor: the window's batches staged in the engine, then the repair.
   void stage_window(RepairJob& job);
   void repair_window(RepairJob& job);
-  // Hands `pool` a capture-only job behind whatever it has in flight, and its one task.
-  void post_capture(const std::string& pool);
-  void capture_alone(RepairJob& job);
+  // Hands `pool` a read-only job behind whatever it has in flight, and its one task: a
+  // capture, or the certificate prices.
+  void post_read_only(const std::string& pool, bool capture);
+  void read_alone(RepairJob& job);
   // A job whose every task ended (under finished_mutex_).
   static bool tasks_ended(const RepairJob& job) { return job.tasks_ended == job.tasks_posted; }
   std::optional<v1::Ack> offer_retire(Ticket ticket, DecodedBatch batch);

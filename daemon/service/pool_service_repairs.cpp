@@ -238,16 +238,25 @@ bool PoolService::capture_on_worker(const std::string& pool) {
   } else if (journalled_seq(pool) == 0 || state_.registry.find(pool) == nullptr) {
     return false;
   }
-  post_capture(pool);
+  post_read_only(pool, /*capture=*/true);
   return true;
 }
 
-void PoolService::post_capture(const std::string& pool) {
+bool PoolService::prices_on_worker(const std::string& pool) {
+  if (executor_ == &inline_repairs_ || retiring_.contains(pool) || repairing(pool)) return false;
+  const Pool* engine = state_.registry.find(pool);
+  if (engine == nullptr || !engine->certificate_prices_due()) return false;
+  post_read_only(pool, /*capture=*/false);
+  return true;
+}
+
+void PoolService::post_read_only(const std::string& pool, bool capture) {
   auto job = std::make_shared<RepairJob>();
   job->pool = pool;
   job->engine = state_.registry.find(pool);
-  job->capture_only = true;
-  job->capture_wanted = true;
+  job->read_only = true;
+  job->capture_wanted = capture;
+  job->make_prices = !capture;
   job->seq_before = job->last_seq = journalled_seq(pool);
   // It changes no topology: the loop goes on checking the pool's batches (a read beside a
   // read), and a window sealed meanwhile is chained behind it (start_apply()).
@@ -257,22 +266,34 @@ void PoolService::post_capture(const std::string& pool) {
   job->stage_mutex = in_flight.empty() ? std::make_shared<std::mutex>()
                                        : in_flight.back()->stage_mutex;
   in_flight.push_back(job);
-  post_task(job, [this, job] { capture_alone(*job); });
+  post_task(job, [this, job] { read_alone(*job); });
 }
 
-void PoolService::capture_alone(RepairJob& job) {
+void PoolService::read_alone(RepairJob& job) {
   // Nothing writes the pool meanwhile: its later windows are staged behind this task (one
-  // strand), its retirement waits for the job's collection, and the loop only reads it.
+  // strand), its retirement waits for the job's collection, and the loop only reads it (the
+  // batch checks read its topology; the prices are a cache beside it that only explanations,
+  // held meanwhile, read).
   if (job.after && job.after->failure) {
     // A broken engine: the jobs after this one fail too (stage_window()), the daemon stops.
     job.failure = std::make_exception_ptr(
         std::runtime_error("pool " + job.pool + ": an earlier repair failed"));
-  } else {
-    job.captured = capture_engine(*job.engine);
+  } else if (job.make_prices) {
+    try {
+      job.engine->make_certificate_prices();
+    } catch (...) {
+      // Not made: the explanation makes them on the loop and answers its error (INTERNAL).
+    }
   }
   job.after.reset();
-  const std::lock_guard lock(finished_mutex_);
-  job.capture_passed = true;
+  bool capture = false;
+  {
+    // A snapshot may have asked meanwhile (capture_on_worker(): this job was the pool's last).
+    const std::lock_guard lock(finished_mutex_);
+    job.capture_passed = true;
+    capture = job.capture_wanted && !job.failure;
+  }
+  if (capture) job.captured = capture_engine(*job.engine);
 }
 
 void PoolService::wait_repairs() {
@@ -318,7 +339,7 @@ PoolService::RepairsDone PoolService::finish_repairs() {
         wait != stage_waits_.end() && wait->second == done_job) {
       stage_waits_.erase(wait);
     }
-    if (!job.capture_only) {
+    if (!job.read_only) {
       PoolProgress& progress = state_.progress[job.pool];
       progress.record_commit(job.result, job.last_seq, job.batches);
       progress.last_timings.set_repair_us(job.repair_us);

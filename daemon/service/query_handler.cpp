@@ -77,7 +77,7 @@ std::string QueryHandler::handle(std::string_view message, std::string* kind) {
   return reply.SerializeAsString();
 }
 
-std::optional<std::string> QueryHandler::pool_read_by(std::string_view message) {
+std::optional<QueryHandler::PoolRead> QueryHandler::pool_read_by(std::string_view message) {
   v1::QueryRequest request;
   if (!request.ParseFromArray(message.data(), static_cast<int>(message.size())) ||
       request.version() != v1::PROTOCOL_VERSION_1) {
@@ -87,8 +87,8 @@ std::optional<std::string> QueryHandler::pool_read_by(std::string_view message) 
     case v1::QueryRequest::kSummary:
     case v1::QueryRequest::kMate:
     case v1::QueryRequest::kMatching:
-    case v1::QueryRequest::kExplain:
-    case v1::QueryRequest::kStats: return resolve_pool_name(request.pool());
+    case v1::QueryRequest::kStats: return PoolRead{resolve_pool_name(request.pool()), false};
+    case v1::QueryRequest::kExplain: return PoolRead{resolve_pool_name(request.pool()), true};
     default: return std::nullopt;
   }
 }

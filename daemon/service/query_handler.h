@@ -31,10 +31,17 @@ class QueryHandler {
   std::string handle(std::string_view message, std::string* kind = nullptr);
 
   // The pool whose engine state answering `message` reads (a well-formed request of version 1
-  // about one pool, snapshots aside: they wait for every pool themselves); nothing otherwise.
-  // A server whose repairs run on worker threads holds such a request while that pool's repair
-  // is in flight (PoolService::repairing). O(message).
-  static std::optional<std::string> pool_read_by(std::string_view message);
+  // about one pool, snapshots aside: they wait for every pool themselves), and whether it
+  // reads the prices (explain: with the phantom vertex they may cost a search first,
+  // Pool::certificate_prices_due); nothing otherwise. A server whose repairs run on worker
+  // threads holds such a request while that pool's repair is in flight
+  // (PoolService::repairing), and while its prices are made (PoolService::prices_on_worker).
+  // O(message).
+  struct PoolRead {
+    std::string pool;
+    bool reads_prices = false;
+  };
+  static std::optional<PoolRead> pool_read_by(std::string_view message);
 
   // Alternatives listed when a request asks for 0, and the most it may ask for.
   static constexpr std::uint32_t kDefaultAlternatives = 5;

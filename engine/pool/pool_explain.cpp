@@ -1,10 +1,17 @@
-// Pool::explain: a vertex's price and its nearest alternatives, read off the dual solution.
+// Pool::explain: a vertex's price and its nearest alternatives, read off the dual solution (with
+// the phantom vertex, off the certificate's prices, made once per commit).
 #include <algorithm>
 #include <unordered_map>
 
 #include "pool/pool_state.h"
 
 namespace yoke {
+
+bool Pool::certificate_prices_due() const {
+  return state_->phantom != kNoVertex && !state_->without_phantom;
+}
+
+void Pool::make_certificate_prices() const { certified_state(*state_); }
 
 std::optional<VertexExplanation> Pool::explain(VertexKey key, std::size_t limit) const {
   const State& pool = *state_;

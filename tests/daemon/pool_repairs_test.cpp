@@ -115,7 +115,10 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_EQ(done.diffs[0].seq(), 2u);
 
   // A query on B reads B now; one on A is what a server holds (A's state is the worker's).
-  EXPECT_EQ(QueryHandler::pool_read_by(summary_request("A")), "A");
+  const auto read = QueryHandler::pool_read_by(summary_request("A"));
+  ASSERT_TRUE(read.has_value());
+  EXPECT_EQ(read->pool, "A");
+  EXPECT_FALSE(read->reads_prices);
   v1::QueryReply reply;
   ASSERT_TRUE(reply.ParseFromString(queries.handle(summary_request("B"))));
   ASSERT_TRUE(reply.has_summary()) << reply.DebugString();
@@ -142,6 +145,88 @@ TEST(PoolRepairs, AHeldRepairHoldsNeitherAnotherPoolsAcksNorItsQueries) {
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("A")));
   EXPECT_TRUE(testing::pool_certified(*service.registry().find("B")));
   EXPECT_EQ(service.progress("A")->seq, 2u);
+}
+
+std::string explain_request(const std::string& pool, std::uint64_t vertex) {
+  v1::QueryRequest request;
+  request.set_version(1);
+  request.set_pool(pool);
+  request.mutable_explain()->set_vertex(vertex);
+  return request.SerializeAsString();
+}
+
+// An odd max-cardinality pool holds the phantom vertex, and its first explanation after a
+// commit searches for the certificate's prices (docs/mathematics.md §9): yoked has a worker
+// make them, not its loop. Expected answers: the inline service's, which makes them on the
+// caller's thread.
+TEST(PoolRepairs, AnOddMaxCardinalityPoolsPricesAreMadeOnItsWorker) {
+  DaemonConfig config = testing::test_config({});
+  config.pools["odd"] = PoolSettings{Mode::max_cardinality, {}, 0};
+  const std::vector<v1::Event> first = {wire_add(1), wire_add(2), wire_add(3), wire_set(1, 2, 5),
+                                        wire_set(2, 3, 4)};
+  ServiceHarness inline_harness(config);
+  ASSERT_FALSE(inline_harness.offer(first, in_pool("odd")));
+  inline_harness.close();
+  QueryHandler inline_queries(inline_harness.service(), 1 << 20, nullptr, nullptr);
+
+  ServiceHarness harness(config);
+  PoolService& service = harness.service();
+  ManualRepairs repairs;
+  service.set_repair_executor(&repairs);
+  QueryHandler queries(service, 1 << 20, nullptr, nullptr);
+  ASSERT_FALSE(harness.offer(first, in_pool("odd")));
+  ASSERT_EQ(service.seal().size(), 1u);
+  service.start_apply();
+  EXPECT_FALSE(service.prices_on_worker("odd"));  // its repair is in flight: asked after it
+  repairs.release("odd");
+  service.finish_repairs();
+  const Pool& pool = *service.registry().find("odd");
+  // (The certificate is checked at the end: the check's export makes the prices too.)
+  if (!pool.certificate_prices_due()) GTEST_SKIP() << "the phantom vertex is switched off";
+
+  const auto read = QueryHandler::pool_read_by(explain_request("odd", 3));
+  ASSERT_TRUE(read.has_value());
+  EXPECT_EQ(read->pool, "odd");
+  EXPECT_TRUE(read->reads_prices);
+  ASSERT_TRUE(service.prices_on_worker("odd"));
+  EXPECT_TRUE(service.repairing("odd"));  // a server holds the explanation meanwhile
+  EXPECT_TRUE(pool.certificate_prices_due());  // not made on this thread
+  EXPECT_EQ(repairs.queued("odd"), 1u);
+  EXPECT_EQ(repairs.release("odd"), 1u);
+  EXPECT_TRUE(service.finish_repairs().diffs.empty());  // no commit, no diff
+  EXPECT_FALSE(service.repairing("odd"));
+  EXPECT_FALSE(pool.certificate_prices_due());
+  EXPECT_FALSE(service.prices_on_worker("odd"));  // made: nothing asked
+
+  for (const std::uint64_t vertex : {1, 2, 3}) {
+    v1::QueryReply worker_made, inline_made;
+    ASSERT_TRUE(worker_made.ParseFromString(queries.handle(explain_request("odd", vertex))));
+    ASSERT_TRUE(inline_made.ParseFromString(inline_queries.handle(explain_request("odd", vertex))));
+    ASSERT_TRUE(worker_made.has_explain()) << worker_made.ShortDebugString();
+    EXPECT_EQ(worker_made.explain().SerializeAsString(), inline_made.explain().SerializeAsString())
+        << worker_made.ShortDebugString() << " vs " << inline_made.ShortDebugString();
+  }
+
+  // The next commit drops them: due again once it is staged.
+  ASSERT_FALSE(harness.offer({wire_set(1, 3, 2)}, in_pool("odd")));
+  ASSERT_EQ(service.seal().size(), 1u);
+  service.start_apply();
+  repairs.release("odd");
+  service.finish_repairs();
+  EXPECT_TRUE(pool.certificate_prices_due());
+  EXPECT_TRUE(service.prices_on_worker("odd"));
+  repairs.release("odd");
+  service.finish_repairs();
+  EXPECT_EQ(service.progress("odd")->seq, 2u);
+  EXPECT_EQ(pool.weight(), 5);
+  EXPECT_TRUE(testing::pool_certified(pool));
+
+  // A max-weight pool's prices are its own: never a job.
+  ASSERT_FALSE(harness.offer({wire_add(1), wire_add(2), wire_set(1, 2, 5)}, in_pool("plain")));
+  ASSERT_EQ(service.seal().size(), 1u);
+  apply_and_expect(service, repairs, "plain", 1, 5);
+  EXPECT_FALSE(service.prices_on_worker("plain"));
+  EXPECT_FALSE(service.prices_on_worker("missing"));
 }
 
 TEST(PoolRepairs, HeldBatchesAreCheckedInArrivalOrderWithRetriesAndRefusals) {

@@ -128,6 +128,30 @@ class HistoryTest(unittest.TestCase):
         self.assertRegex(text, rf"\n{busiest} is (paired with \d+ \(weight -?\d+\)|unpaired)\. "
                                r"Its price is -?\d+(\.5)?\.\n")
 
+    def test_an_odd_max_cardinality_pools_explanations_equal_the_replays(self):
+        # An odd max-cardinality pool holds the phantom vertex: the daemon's first explanation
+        # after each commit has a worker search for the certificate's prices, between that
+        # pool's repairs (docs/mathematics.md §9). Oracle: `yoke replay DATA_DIR --explain`,
+        # which makes them itself from the journal.
+        daemon = Daemon(self, config='[pools.odd]\nmode = "max-cardinality"\n').start()
+        # Two streams on the same 61 street points (no arrivals or departures: the pool stays
+        # odd), the second sent after the first; explanations after each.
+        for seed in (23, 24):
+            script = gen_stream(os.path.join(daemon.dir, f"odd-{seed}.txt"), "city", 61, 300, 10,
+                                seed=seed,
+                                extra=("--mix", "nudge-weight=40,random-weight=40,unset=10,link=10"))
+            daemon.yoke("send", script.path, "--pool", "odd")
+            for vertex in (0, 17, 60):
+                asked = daemon.yoke_json("query", "explain", "--pool", "odd", "--vertex",
+                                         str(vertex), "--alternatives", "50")
+                [replayed] = json_lines(run_yoke("replay", daemon.data_dir, "--pool", "odd",
+                                                 "--explain", str(vertex), "--json",
+                                                 "--alternatives", "50").stdout)[-1:]
+                self.assertEqual(asked["seq"], replayed["at"])
+                self.assertEqual({k: x for k, x in asked.items() if k not in ("pool", "seq")},
+                                 {k: x for k, x in replayed.items()
+                                  if k not in ("kind", "pool", "unit", "at")}, vertex)
+
     def check_history(self, history, commits, script):
         vertex = history["vertex"]
         # Every pair change of the history at a commit whose diff holds it, and back.

@@ -182,6 +182,12 @@ class Pool {
   // max-cardinality or perfect pool, docs/mathematics.md §9) the prices are the certificate's,
   // which costs what export_certified() does.
   std::optional<VertexExplanation> explain(VertexKey key, std::size_t limit = 5) const;
+  // Whether the next explain() or export_certified() pays that search first (the phantom
+  // vertex present and the certificate's prices not made since the last commit), O(1); and
+  // the search, made now and kept until the next batch stages: a caller with threads runs it
+  // where a long task may run (yoked: on the pool's worker, not its loop).
+  bool certificate_prices_due() const;
+  void make_certificate_prices() const;
   // O(n + m + blossom sizes); with the phantom vertex, plus the search that takes it out.
   PoolExport export_certified() const;
 
