@@ -161,8 +161,13 @@ void DiffFeedPublisher::send_front(const std::string& pool, Lane& lane) {
   options.MaxWait = settings_.publish_timeout.count();
   // Stored only if the subject still ends where this daemon last saw it: a daemon that stalled
   // past a claim cannot add a diff behind its successor's (the stream refuses it, and pump()
-  // then finds the pool served elsewhere). An empty subject has nothing to expect (0: unset).
-  if (!lane.stored.empty()) options.ExpectLastSubjectSeq = lane.stored.back().second;
+  // then finds the pool served elsewhere). A subject read as empty is expected still empty,
+  // so that a pool's very first diff is not stored behind a successor's either.
+  if (lane.stored.empty()) {
+    options.ExpectNoMessage = true;
+  } else {
+    options.ExpectLastSubjectSeq = lane.stored.back().second;
+  }
   const natsStatus status = js_PublishMsgAsync(context_.get(), &raw, &options);
   natsMsg_Destroy(raw);  // no effect when the library took the message
   if (status != NATS_OK) {

@@ -39,9 +39,8 @@
 //   a claim. A stall between the staleness check and that write (the same few microseconds of
 //   one thread; longer under a sanitizer: CI saw it once) is caught by the stream itself: each
 //   diff is sent expecting the subject's last stream sequence this daemon knows (JetStream's
-//   expected last subject sequence), so it is refused once a successor stored more. Remaining
-//   limit: on a subject still empty nothing can be expected, so a pool's very first diff could
-//   be stored twice; watchers drop a seq they have seen.
+//   expected last subject sequence; on a subject read as empty, no message), so it is refused
+//   once a successor stored more.
 //
 // Threads: the public calls are for the daemon's one thread; the acknowledgement callbacks
 // run on libnats' thread. One mutex guards the pools' queues.

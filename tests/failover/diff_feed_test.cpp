@@ -172,6 +172,24 @@ TEST_F(DiffFeedOnCluster, AStalledServersLateDiffIsRefusedBehindItsSuccessors) {
   EXPECT_EQ(stored_seqs("mole"), range(1, 8));
 }
 
+TEST_F(DiffFeedOnCluster, AStalledServersFirstDiffIsRefusedOnceASuccessorStoredAny) {
+  // Both read the subject empty; the successor stores 1..3 first.
+  make_stream();
+  DiffFeedPublisher old_server(*connection_, settings_);
+  ASSERT_EQ(old_server.resume("vole"), 0u);
+  DiffFeedPublisher new_server(*connection_, settings_);
+  ASSERT_EQ(new_server.resume("vole"), 0u);
+  publish_range(new_server, "vole", 1, 3);
+  ASSERT_TRUE(new_server.settle(milliseconds(10000)));
+  publish_range(old_server, "vole", 1, 1);
+  const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
+  while (!old_server.status("vole").failing && std::chrono::steady_clock::now() < deadline) {
+    std::this_thread::sleep_for(milliseconds(10));
+  }
+  EXPECT_TRUE(old_server.status("vole").failing);
+  EXPECT_EQ(stored_seqs("vole"), range(1, 3));
+}
+
 TEST_F(DiffFeedOnCluster, AFailedPublishIsRetriedAndTheGapFilledInOrder) {
   make_stream();
   DiffFeedPublisher feed(*connection_, settings_);
