@@ -8,7 +8,6 @@
 #include <thread>
 
 #include "cluster_sections.h"
-#include "tools/bench/cluster/takeover_probe.h"
 #include "tools/bench/cluster/yoked_configs.h"
 #include "tools/bench/machine_facts.h"
 #include "tools/bench/daemon/yoked_process.h"
@@ -81,7 +80,7 @@ void run_aggregate_section(BenchContext& run) {
     YokedProcess solo(settings.yoked, dir / "data", dir / "yoked.toml");
     solo.wait_ready(run.zmq, plan.instances[0].endpoints.query, std::chrono::seconds(60));
     for (const std::string& name : names) {
-      wait_until_served(run.zmq, plan.instances[0].endpoints.query, name, std::chrono::seconds(60));
+      solo.wait_serving(run.zmq, plan.instances[0].endpoints.query, name, std::chrono::seconds(60));
     }
     const std::string ingest[2] = {plan.instances[0].endpoints.ingest,
                                    plan.instances[0].endpoints.ingest};
@@ -103,9 +102,8 @@ void run_aggregate_section(BenchContext& run) {
     YokedProcess south(settings.yoked, dir / "south" / "data", dir / "south" / "yoked.toml");
     north.wait_ready(run.zmq, plan.instances[0].endpoints.query, std::chrono::seconds(60));
     south.wait_ready(run.zmq, plan.instances[1].endpoints.query, std::chrono::seconds(60));
-    for (int p = 0; p < 2; ++p) {
-      wait_until_served(run.zmq, plan.instances[p].endpoints.query, names[p], std::chrono::seconds(60));
-    }
+    north.wait_serving(run.zmq, plan.instances[0].endpoints.query, names[0], std::chrono::seconds(60));
+    south.wait_serving(run.zmq, plan.instances[1].endpoints.query, names[1], std::chrono::seconds(60));
     const std::string ingest[2] = {plan.instances[0].endpoints.ingest,
                                    plan.instances[1].endpoints.ingest};
     two = feed_pair(run, pools, ingest);

@@ -9,7 +9,6 @@
 
 #include "cluster_sections.h"
 #include "tools/bench/cluster/daemon_log.h"
-#include "tools/bench/cluster/takeover_probe.h"
 #include "tools/bench/cluster/yoked_configs.h"
 #include "tools/bench/daemon/yoked_process.h"
 
@@ -30,7 +29,7 @@ BackendRun run_backend(BenchContext& run, const std::filesystem::path& dir,
   BackendRun out;
   YokedProcess daemon(run.settings.yoked, dir / "data", config);
   daemon.wait_ready(run.zmq, endpoints.query, std::chrono::seconds(60));
-  wait_until_served(run.zmq, endpoints.query, "city", std::chrono::seconds(60));
+  daemon.wait_serving(run.zmq, endpoints.query, "city", std::chrono::seconds(60));
   out.base = load_base(run.zmq, endpoints.ingest, pool);
   out.sustained = send_pipelined(run.zmq, endpoints.ingest, pool.batches, pool.base_count,
                                  sustained_end, run.settings.in_flight);

@@ -4,7 +4,6 @@
 
 #include "daemon/cluster/plain_subject.h"
 #include "yoke/v1/ingest.pb.h"
-#include "yoke/v1/query.pb.h"
 
 namespace yoke::bench {
 
@@ -37,34 +36,6 @@ BeatWatch::~BeatWatch() {
 std::optional<WallClock::time_point> BeatWatch::last_beat() const {
   const std::lock_guard lock(mutex_);
   return last_;
-}
-
-void wait_until_served(zmq::context_t& context, const std::string& query, const std::string& pool,
-                       std::chrono::seconds limit) {
-  zmq::socket_t socket(context, zmq::socket_type::dealer);
-  socket.set(zmq::sockopt::linger, 0);
-  socket.connect(query);
-  v1::QueryRequest request;
-  request.set_version(v1::PROTOCOL_VERSION_1);
-  request.set_pool(pool);
-  request.mutable_summary();
-  const std::string bytes = request.SerializeAsString();
-  const auto deadline = std::chrono::steady_clock::now() + limit;
-  while (std::chrono::steady_clock::now() < deadline) {
-    socket.send(zmq::buffer(bytes), zmq::send_flags::none);
-    zmq::pollitem_t item{socket.handle(), 0, ZMQ_POLLIN, 0};
-    if (zmq::poll(&item, 1, std::chrono::milliseconds(1000)) <= 0) continue;
-    zmq::message_t message;
-    (void)socket.recv(message);
-    v1::QueryReply reply;
-    if (!reply.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
-      throw std::runtime_error("an unreadable reply from " + query);
-    }
-    if (!reply.has_error() || reply.error().code() != v1::Error::NOT_OWNER) return;
-    std::this_thread::sleep_for(std::chrono::milliseconds(20));
-  }
-  throw std::runtime_error("pool " + pool + " not served at " + query + " within " +
-                           std::to_string(limit.count()) + " s");
 }
 
 ResendResult resend_until_acknowledged(zmq::context_t& context, const std::string& endpoint,

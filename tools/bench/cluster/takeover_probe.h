@@ -52,12 +52,6 @@ struct ResendResult {
   int silent = 0;           // tries that got no answer within the try's wait
 };
 
-// Asks `query` for a summary of `pool` every 20 ms until the answer is not NOT_OWNER: a
-// daemon of a cluster answers health queries before its claim on the pools it owns is stored,
-// and refuses their batches until then (a loaded machine showed it). Throws after `limit`.
-void wait_until_served(zmq::context_t& context, const std::string& query, const std::string& pool,
-                       std::chrono::seconds limit);
-
 // Sends `batch` to `endpoint` and again every `retry` while the answer is NOT_OWNER or none
 // comes, until it is acknowledged. Throws on any other refusal, or after `limit`.
 ResendResult resend_until_acknowledged(zmq::context_t& context, const std::string& endpoint,

@@ -85,7 +85,7 @@ void run_takeover_section(BenchContext& run) {
   east.wait_ready(run.zmq, east_at.query, std::chrono::seconds(60));
   YokedProcess west(settings.yoked, dir / "west" / "data", dir / "west" / "yoked.toml");
   west.wait_ready(run.zmq, west_at.query, std::chrono::seconds(60));
-  wait_until_served(run.zmq, east_at.query, "city", std::chrono::seconds(60));
+  east.wait_serving(run.zmq, east_at.query, "city", std::chrono::seconds(60));
 
   const auto load_start = std::chrono::steady_clock::now();
   const LoadResult base = load_base(run.zmq, east_at.ingest, pool);

@@ -34,6 +34,14 @@ int free_port() {
   return ntohs(address.sin_port);
 }
 
+// A DEALER socket to `endpoint` that drops what it has not sent when it closes.
+zmq::socket_t dealer_to(zmq::context_t& context, const std::string& endpoint) {
+  zmq::socket_t socket(context, zmq::socket_type::dealer);
+  socket.set(zmq::sockopt::linger, 0);
+  socket.connect(endpoint);
+  return socket;
+}
+
 }  // namespace
 
 YokedEndpoints free_loopback_endpoints() {
@@ -69,9 +77,7 @@ YokedProcess::~YokedProcess() {
 std::chrono::duration<double> YokedProcess::wait_ready(zmq::context_t& context,
                                                        const std::string& query,
                                                        std::chrono::seconds limit) {
-  zmq::socket_t socket(context, zmq::socket_type::dealer);
-  socket.set(zmq::sockopt::linger, 0);
-  socket.connect(query);
+  zmq::socket_t socket = dealer_to(context, query);
   v1::QueryRequest request;
   request.set_version(v1::PROTOCOL_VERSION_1);
   request.mutable_health();
@@ -92,6 +98,32 @@ std::chrono::duration<double> YokedProcess::wait_ready(zmq::context_t& context,
     }
   }
   throw std::runtime_error("yoked did not answer within the start limit");
+}
+
+void YokedProcess::wait_serving(zmq::context_t& context, const std::string& query,
+                                const std::string& pool, std::chrono::seconds limit) {
+  zmq::socket_t socket = dealer_to(context, query);
+  v1::QueryRequest request;
+  request.set_version(v1::PROTOCOL_VERSION_1);
+  request.set_pool(pool);
+  request.mutable_summary();
+  const std::string bytes = request.SerializeAsString();
+  const auto deadline = std::chrono::steady_clock::now() + limit;
+  while (std::chrono::steady_clock::now() < deadline) {
+    socket.send(zmq::buffer(bytes), zmq::send_flags::none);
+    zmq::pollitem_t item{socket.handle(), 0, ZMQ_POLLIN, 0};
+    if (zmq::poll(&item, 1, std::chrono::milliseconds(1000)) <= 0) continue;
+    zmq::message_t message;
+    (void)socket.recv(message);
+    v1::QueryReply reply;
+    if (!reply.ParseFromArray(message.data(), static_cast<int>(message.size()))) {
+      throw std::runtime_error("an unreadable reply from " + query);
+    }
+    if (!reply.has_error() || reply.error().code() != v1::Error::NOT_OWNER) return;
+    std::this_thread::sleep_for(std::chrono::milliseconds(20));
+  }
+  throw std::runtime_error("pool " + pool + " not served at " + query + " within " +
+                           std::to_string(limit.count()) + " s");
 }
 
 int YokedProcess::stop(bool kill) {

@@ -32,6 +32,11 @@ class YokedProcess {
   // from the process start to that answer.
   std::chrono::duration<double> wait_ready(zmq::context_t& context, const std::string& query,
                                            std::chrono::seconds limit);
+  // Blocks until a summary query of `pool` is answered other than NOT_OWNER (or throws after
+  // `limit`): a daemon of a cluster answers health queries before its claim on the pools it
+  // owns is stored, and refuses their batches until then (seen on a loaded machine).
+  void wait_serving(zmq::context_t& context, const std::string& query, const std::string& pool,
+                    std::chrono::seconds limit);
   // SIGTERM (clean: final snapshot) or SIGKILL; waits for the exit and returns its status.
   int stop(bool kill);
   // The child's process id (-1 once stopped), e.g. to read /proc/PID/status.
