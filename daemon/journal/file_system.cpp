@@ -16,6 +16,10 @@ class PosixFileSystem final : public FileSystem {
   ssize_t write(int fd, const void* bytes, std::size_t n) override {
     return ::write(fd, bytes, n);
   }
+  ssize_t read(int fd, void* bytes, std::size_t n) override { return ::read(fd, bytes, n); }
+  int write_back(int fd, off_t offset, off_t n) override {
+    return ::sync_file_range(fd, offset, n, SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+  }
   int sync_data(int fd) override { return ::fdatasync(fd); }
   int sync_directory(int fd) override { return ::fsync(fd); }
   int truncate(int fd, off_t size) override { return ::ftruncate(fd, size); }

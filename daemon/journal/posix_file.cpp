@@ -106,8 +106,12 @@ std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, st
     offset += next.size();
     bytes.remove_prefix(next.size());
     if (offset % piece == 0) {
-      ::sync_file_range(file.get(), static_cast<off_t>(offset - piece), static_cast<off_t>(piece),
-                        SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+      // Its error is the piece's failed write-back, which the file's fdatasync would then no
+      // longer report (the descriptor's error mark has moved past it): the file fails here.
+      if (file_system().write_back(file.get(), static_cast<off_t>(offset - piece),
+                                   static_cast<off_t>(piece)) != 0) {
+        fail("write-back of", path);
+      }
     }
   }
   return offset;
@@ -147,7 +151,7 @@ void BufferedReader::read(char* out, std::size_t n) {
     if (begin_ == end_) {
       // A large read goes straight to the caller's memory; small ones refill the buffer.
       if (n >= kReadBufferBytes) {
-        const ssize_t got = ::read(file_.get(), out, n);
+        const ssize_t got = file_system().read(file_.get(), out, n);
         if (got < 0 && errno == EINTR) continue;
         if (got < 0) fail("read of", path_);
         if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");
@@ -156,7 +160,7 @@ void BufferedReader::read(char* out, std::size_t n) {
         continue;
       }
       if (buffer_.empty()) buffer_.resize(kReadBufferBytes);
-      const ssize_t got = ::read(file_.get(), buffer_.data(), buffer_.size());
+      const ssize_t got = file_system().read(file_.get(), buffer_.data(), buffer_.size());
       if (got < 0 && errno == EINTR) continue;
       if (got < 0) fail("read of", path_);
       if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");

@@ -51,8 +51,9 @@ void write_all(const FileDescriptor& file, std::string_view bytes,
 // last, partial one is left to sync_data), however small the calls that fill it: a big file then
 // never fills the device's queue, where another file's fdatasync (the journal's) would wait
 // behind all of it. A hint about when, not a promise that: nothing is durable until
-// sync_data(), so a failed write-back is ignored (it bypasses the FileSystem seam, which it
-// changes nothing for). Returns the offset after `bytes`.
+// sync_data(). But a piece's failed write-back throws here: the kernel reports a file's
+// write-back error once per descriptor, so the sync_data() after it would return 0 over bytes
+// that never reached the disk. Returns the offset after `bytes`.
 std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, std::uint64_t offset,
                           std::size_t piece, const std::filesystem::path& path);
 // fdatasync: the file's data and the metadata needed to read it (its size) are on disk.
