@@ -1,6 +1,7 @@
 #include "file_system.h"
 
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <cstdio>
@@ -27,6 +28,9 @@ class PosixFileSystem final : public FileSystem {
     return std::rename(from.c_str(), to.c_str());
   }
   int remove(const std::filesystem::path& path) override { return ::unlink(path.c_str()); }
+  int make_directory(const std::filesystem::path& path, unsigned mode) override {
+    return ::mkdir(path.c_str(), static_cast<mode_t>(mode));
+  }
 };
 
 FileSystem* current_file_system = nullptr;  // nullptr: the POSIX one

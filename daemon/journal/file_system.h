@@ -1,5 +1,5 @@
-// The seam under every file the daemon keeps (the journal's segments, the snapshot files): the
-// system calls that read or change files or make them durable. Production uses the POSIX one;
+// The seam under every file the daemon keeps (the journal's segments, the snapshot files, their
+// directories): the system calls that read or change files or make them durable. Production uses the POSIX one;
 // tests install one that fails a chosen call or forgets what was not synced
 // (tests/journal/faulty_file_system.h). Stat and locks go to the system directly.
 //
@@ -30,6 +30,7 @@ class FileSystem {
   virtual int truncate(int fd, off_t size) = 0;              // ftruncate(2)
   virtual int rename(const std::filesystem::path& from, const std::filesystem::path& to) = 0;
   virtual int remove(const std::filesystem::path& path) = 0;  // unlink(2)
+  virtual int make_directory(const std::filesystem::path& path, unsigned mode) = 0;  // mkdir(2)
 };
 
 // The system's calls, unchanged.

@@ -11,18 +11,6 @@
 namespace yoke::journal {
 namespace {
 
-// Creates dir if missing, and makes its entry durable in its parent.
-void create_directory_durably(const std::filesystem::path& dir) {
-  std::filesystem::path clean = dir.lexically_normal();
-  if (!clean.has_filename()) clean = clean.parent_path();  // "a/b/" -> "a/b"
-  std::error_code error;
-  const bool created = std::filesystem::create_directories(clean, error);
-  if (error) throw Error("journal: cannot create " + dir.string() + ": " + error.message());
-  if (!created) return;
-  const std::filesystem::path parent = clean.has_parent_path() ? clean.parent_path() : ".";
-  sync_directory(open_directory(parent), parent);
-}
-
 // Writes the segment's bytes again, in place, and syncs them. The process before may have
 // stopped after a failed fdatasync whose cut failed too: the kernel then keeps those bytes in
 // its cache (the scan just read them) but marked clean, never to be written back, and a sync
@@ -67,7 +55,7 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
   auto state = std::make_unique<State>();
   state->dir = dir;
   state->options = options;
-  create_directory_durably(dir);
+  create_directories_durably(dir);
   state->dir_fd = open_directory(dir);
   const std::chrono::milliseconds waited =
       lock_directory(state->dir_fd, dir, std::chrono::milliseconds(options.lock_wait_ms));

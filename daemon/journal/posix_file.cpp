@@ -55,6 +55,38 @@ FileDescriptor open_directory(const std::filesystem::path& dir) {
   return open_file(dir, O_RDONLY | O_DIRECTORY);
 }
 
+namespace {
+
+std::filesystem::path without_trailing_slash(const std::filesystem::path& dir) {
+  std::filesystem::path clean = dir.lexically_normal();
+  if (!clean.has_filename() && clean.has_parent_path() && clean != clean.root_path()) {
+    clean = clean.parent_path();  // "a/b/" -> "a/b"
+  }
+  return clean;
+}
+
+std::filesystem::path parent_of(const std::filesystem::path& clean) {
+  return clean.has_parent_path() ? clean.parent_path() : std::filesystem::path(".");
+}
+
+// Creates clean (and its parents) unless it is there.
+void make_missing(const std::filesystem::path& clean) {
+  std::error_code error;
+  if (std::filesystem::is_directory(clean, error)) return;
+  const std::filesystem::path parent = parent_of(clean);
+  make_missing(parent);
+  if (file_system().make_directory(clean, 0755) != 0 && errno != EEXIST) {
+    fail("creation of directory", clean);
+  }
+  sync_directory(open_directory(parent), parent);
+}
+
+}  // namespace
+
+void create_directories_durably(const std::filesystem::path& dir) {
+  make_missing(without_trailing_slash(dir));
+}
+
 std::chrono::milliseconds lock_directory(const FileDescriptor& dir,
                                          const std::filesystem::path& path,
                                          std::chrono::milliseconds wait) {

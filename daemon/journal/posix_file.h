@@ -35,6 +35,10 @@ class FileDescriptor {
 FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode = 0644);
 // The directory, opened for fsync and locking.
 FileDescriptor open_directory(const std::filesystem::path& dir);
+// Creates dir and its missing parents, each new entry made durable by an fsync of its parent:
+// files made durable inside it are then reachable after a power loss. A dir already there is
+// left as it is (no call). Throws Error.
+void create_directories_durably(const std::filesystem::path& dir);
 // Takes an exclusive lock on the open directory for the life of the descriptor, waiting up to
 // `wait` (polling every 20 ms) while another process or open Journal holds it; throws Error
 // (saying "already open") when it is still held then. Returns how long it waited.

@@ -59,6 +59,30 @@ TEST(FaultyFileSystem, CrashForgetsWhatWasNotSynced) {
   EXPECT_FALSE(std::filesystem::exists(dir / "kept"));
 }
 
+TEST(FaultyFileSystem, CrashForgetsDirectoriesWhoseEntriesWereNotSynced) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const std::filesystem::path kept = dir / "kept" / "inner";
+  create_directories_durably(kept);
+  {
+    const FileDescriptor file = open_file(kept / "f", O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "bytes", kept / "f");
+    sync_data(file, kept / "f");
+  }
+  sync_directory(open_directory(kept), kept);
+  ASSERT_EQ(files.make_directory(dir / "lost", 0755), 0);  // its parent never synced
+  {
+    const FileDescriptor file = open_file(dir / "lost" / "f", O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "bytes", dir / "lost" / "f");
+    sync_data(file, dir / "lost" / "f");
+  }
+  sync_directory(open_directory(dir / "lost"), dir / "lost");
+  files.crash();
+  EXPECT_EQ(read_file(kept / "f"), "bytes");
+  EXPECT_FALSE(std::filesystem::exists(dir / "lost"));
+}
+
 TEST(FaultyFileSystem, FailsTheNthCallAndWithPersistentEveryLaterOne) {
   TempDir dir;
   FaultyFileSystem files;

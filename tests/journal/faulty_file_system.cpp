@@ -226,6 +226,14 @@ int FaultyFileSystem::remove(const std::filesystem::path& raw) {
   return 0;
 }
 
+int FaultyFileSystem::make_directory(const std::filesystem::path& raw, unsigned mode) {
+  const std::string path = clean(raw);
+  if (count("mkdir", path)) return -1;
+  if (::mkdir(path.c_str(), static_cast<mode_t>(mode)) != 0) return -1;
+  changes_.push_back({EntryChange::Kind::created, parent_of(path), path, {}, std::nullopt});
+  return 0;
+}
+
 void FaultyFileSystem::crash() {
   // Files first lose their unsynced bytes, under the names they have now...
   for (const auto& [path, durable] : durable_) {
@@ -253,7 +261,7 @@ void FaultyFileSystem::crash() {
   for (auto change = changes_.rbegin(); change != changes_.rend(); ++change) {
     switch (change->kind) {
       case EntryChange::Kind::created:
-        std::filesystem::remove(change->path);
+        std::filesystem::remove_all(change->path);
         break;
       case EntryChange::Kind::renamed:
         if (size_of(change->path)) std::filesystem::rename(change->path, change->from);

@@ -9,9 +9,10 @@
 //     write-back: its range), even after a later fdatasync returned 0: the kernel marks such
 //     pages clean and reports the error once, so a retry proves nothing. They read back as
 //     written until the crash, which zeroes them; writing them again makes them ordinary;
-//   - directory entries (files created, renamed or removed) since the last successful fsync of
-//     their directory: a created file disappears, a rename is undone (the replaced file
-//     comes back), a removed file comes back with the bytes it had.
+//   - directory entries (files and directories created, renamed or removed) since the last
+//     successful fsync of their directory: a created file or directory disappears (with all it
+//     holds), a rename is undone (the replaced file comes back), a removed file comes back with
+//     the bytes it had.
 // Syncs are modelled, not passed on (the crash is this class's, and tests stay fast). Stat and
 // locks are not counted. One thread. Install it with ScopedFileSystem.
 #pragma once
@@ -40,7 +41,7 @@ class FaultyFileSystem final : public FileSystem {
   // (write(2) may; 0: whole writes). Not a failure: failed() stays false.
   void shorten_writes(std::size_t bytes) { write_limit_ = bytes; }
   // Counted calls so far (open, write, read, write_back, sync_data, sync_directory, truncate,
-  // rename, remove).
+  // rename, remove, make_directory).
   std::uint64_t calls() const { return calls_; }
   // Whether a call has been failed.
   bool failed() const { return failures_ > 0; }
@@ -61,6 +62,7 @@ class FaultyFileSystem final : public FileSystem {
   int truncate(int fd, off_t size) override;
   int rename(const std::filesystem::path& from, const std::filesystem::path& to) override;
   int remove(const std::filesystem::path& path) override;
+  int make_directory(const std::filesystem::path& path, unsigned mode) override;
 
  private:
   // A directory change not yet made durable, and how to undo it.
