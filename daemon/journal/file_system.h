@@ -1,6 +1,6 @@
 // The seam under every file the daemon keeps (the journal's segments, the snapshot files, their
-// directories): the system calls that read or change files or make them durable. Production uses the POSIX one;
-// tests install one that fails a chosen call or forgets what was not synced
+// directories): the system calls that read or change files or make them durable. Production uses
+// the POSIX one; tests install one that fails a chosen call or forgets what was not synced
 // (tests/journal/faulty_file_system.h). Stat and locks go to the system directly.
 //
 // Each call has its system call's contract: the result, and errno set on failure (-1). One

@@ -120,7 +120,8 @@ Outcome serve_windows(const DaemonConfig& config, const std::vector<ScriptWindow
     log = journal::JournalCommitLog::open(config.data_dir / "journal", config.journal);
     snapshots = std::make_unique<SnapshotDirectory>(config.data_dir / "snapshots", snapshots_kept);
     RecoveryReport report;
-    service = std::make_unique<PoolService>(config, recover(config, *log, *snapshots, report), *log);
+    service =
+        std::make_unique<PoolService>(config, recover(config, *log, *snapshots, report), *log);
   } catch (const std::exception& error) {
     outcome.stopped = true;  // the daemon does not start
     outcome.failure = error.what();
@@ -209,7 +210,8 @@ void serve_first_run(const DaemonConfig& config, const std::vector<ScriptWindow>
                      AckedSeqs* acked = nullptr) {
   FaultyFileSystem no_faults;  // its syncs are modelled: fast
   const journal::ScopedFileSystem installed(no_faults);
-  const Outcome outcome = serve_windows(config, script, 0, kFirstRun, states, snapshots_kept, acked);
+  const Outcome outcome =
+      serve_windows(config, script, 0, kFirstRun, states, snapshots_kept, acked);
   ASSERT_EQ(outcome.windows_acknowledged, kFirstRun) << outcome.failure;
   tear_journal_tail(config.data_dir);
 }
@@ -343,7 +345,6 @@ INSTANTIATE_TEST_SUITE_P(
       return std::string(param_info.param.name);
     });
 
-
 // write(2) may write fewer bytes than asked without an error (a signal, a full pipe, some file
 // systems near full): the journal and the snapshots go on with the rest (write_all). The whole
 // workload on a disk whose every write takes at most 7 bytes, then a power loss: exactly the
@@ -404,9 +405,9 @@ TEST(DiskFaults, APowerLossAfterAFirstStartKeepsTheDirectoriesItMade) {
   const Outcome outcome = serve_windows(config, script, 0, script.size(), nullptr, 1);
   ASSERT_EQ(outcome.windows_acknowledged, script.size()) << outcome.failure;
   const std::string trimmed = "remove " + (config.data_dir / "journal").string() + "/";
-  ASSERT_TRUE(std::any_of(files.trace().begin(), files.trace().end(),
-                          [&](const std::string& call) { return call.starts_with(trimmed); }))
-      << "the journal was not trimmed behind a snapshot";
+  ASSERT_TRUE(std::any_of(files.trace().begin(), files.trace().end(), [&](const std::string& call) {
+    return call.starts_with(trimmed);
+  })) << "the journal was not trimmed behind a snapshot";
   files.crash();
   ::testing::AssertionResult certified = ::testing::AssertionSuccess();
   ServiceView recovered;
@@ -441,7 +442,7 @@ TEST(SnapshotFaults, AFailedWriteBackFailsTheSnapshotAndKeepsTheOneBefore) {
     ++write_backs;
     if (first_write_back == 0) first_write_back = i + 1;
   }
-  ASSERT_EQ(write_backs, 2u);  // 600 KiB: two whole pieces of 256 KiB
+  ASSERT_EQ(write_backs, 2u);       // 600 KiB: two whole pieces of 256 KiB
   files.fail_at(first_write_back);  // the next snapshot's calls go the same way
   EXPECT_THROW(snapshots.write(20, {record}), storage::LogError);
   EXPECT_EQ(files.trace().at(files.calls() - 1).substr(0, 10), "write-back");
@@ -487,7 +488,8 @@ ResendOutcome resend_windows(const DaemonConfig& config, const std::vector<Scrip
   Ticket ticket = 1;
   for (std::size_t w = first; w < script.size(); ++w) {
     for (const testing::ScriptBatch& batch : script[w]) {
-      if (const auto ack = service.offer(ticket++, testing::ingest_message(batch.events, batch.header))) {
+      if (const auto ack =
+              service.offer(ticket++, testing::ingest_message(batch.events, batch.header))) {
         check(w, *ack);
       }
     }
@@ -556,8 +558,8 @@ TEST_P(DiskFaultsThenRetries, RetriesGetTheirSeqsAndWhatIsAcknowledgedSurvivesAP
     // The clients send again from the last window they were told about.
     ResendOutcome resent;
     try {
-      resent = resend_windows(config, script, k == 0 ? 0 : k - 1, k, acked,
-                              may_keep_failed_window, point);
+      resent = resend_windows(config, script, k == 0 ? 0 : k - 1, k, acked, may_keep_failed_window,
+                              point);
     } catch (const std::exception& error) {
       FAIL() << point << ": the restart on a healthy disk failed: " << error.what();
     }

@@ -245,8 +245,8 @@ TEST(JournalFaults, AFailedCallAtOpenFailsTheOpenAndCutsNothing) {
     } catch (const Error&) {
       EXPECT_TRUE(files.failed());
     }
-    EXPECT_EQ(read_all(dir.path()), before) << "after failing call " << n << " ("
-                                            << files.trace().at(n - 1) << ")";
+    EXPECT_EQ(read_all(dir.path()), before)
+        << "after failing call " << n << " (" << files.trace().at(n - 1) << ")";
   }
   EXPECT_EQ(read_all(dir.path()), expected_range(1, 30));
 }

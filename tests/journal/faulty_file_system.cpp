@@ -5,9 +5,8 @@
 #include <unistd.h>
 
 #include <algorithm>
-#include <climits>
-#include <cstdint>
 #include <cerrno>
+#include <cstdint>
 #include <fstream>
 #include <iterator>
 #include <stdexcept>
