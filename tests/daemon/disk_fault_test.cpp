@@ -461,7 +461,6 @@ TEST(SnapshotFaults, AFailedWriteBackFailsTheSnapshotAndKeepsTheOneBefore) {
 struct ResendOutcome {
   ServiceView view;
   std::size_t windows_acknowledged = 0;
-  std::string failure;
 };
 
 ResendOutcome resend_windows(const DaemonConfig& config, const std::vector<ScriptWindow>& script,
@@ -586,7 +585,9 @@ TEST_P(DiskFaultsThenRetries, RetriesGetTheirSeqsAndWhatIsAcknowledgedSurvivesAP
 
 INSTANTIATE_TEST_SUITE_P(
     Modes, DiskFaultsThenRetries,
-    ::testing::Values(FaultMode{"OnceThenPowerLoss", false, true},
+    ::testing::Values(FaultMode{"OnceThenRestart", false, false},
+                      FaultMode{"OnceThenPowerLoss", false, true},
+                      FaultMode{"GoneThenPowerLoss", true, true},
                       FaultMode{"GoneThenRestart", true, false}),
     [](const ::testing::TestParamInfo<FaultMode>& param_info) {
       return std::string(param_info.param.name);
