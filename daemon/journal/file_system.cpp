@@ -1,6 +1,7 @@
 #include "file_system.h"
 
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <cstdio>
@@ -16,6 +17,10 @@ class PosixFileSystem final : public FileSystem {
   ssize_t write(int fd, const void* bytes, std::size_t n) override {
     return ::write(fd, bytes, n);
   }
+  ssize_t read(int fd, void* bytes, std::size_t n) override { return ::read(fd, bytes, n); }
+  int write_back(int fd, off_t offset, off_t n) override {
+    return ::sync_file_range(fd, offset, n, SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+  }
   int sync_data(int fd) override { return ::fdatasync(fd); }
   int sync_directory(int fd) override { return ::fsync(fd); }
   int truncate(int fd, off_t size) override { return ::ftruncate(fd, size); }
@@ -23,6 +28,9 @@ class PosixFileSystem final : public FileSystem {
     return std::rename(from.c_str(), to.c_str());
   }
   int remove(const std::filesystem::path& path) override { return ::unlink(path.c_str()); }
+  int make_directory(const std::filesystem::path& path, unsigned mode) override {
+    return ::mkdir(path.c_str(), static_cast<mode_t>(mode));
+  }
 };
 
 FileSystem* current_file_system = nullptr;  // nullptr: the POSIX one

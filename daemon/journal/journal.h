@@ -55,7 +55,9 @@ class Journal {
  public:
   // Opens the journal in dir, creating the directory if needed. Reads and checks every record
   // once (O(journal size)); cuts a damaged tail of the last segment (truncating the file, or
-  // removing it if its header was torn) and reports it in recovery(). Throws Corruption for
+  // removing it if its header was torn) and reports it in recovery(); then writes the last
+  // segment again in place and syncs it (O(segment): bytes a failed sync left clean in the OS's
+  // cache would otherwise never reach the disk, FORMAT.md). Throws Corruption for
   // damage anywhere else (the caller must not start: records after it would be lost), and
   // Error when the directory is still locked after Options::lock_wait_ms or a system call
   // fails.

@@ -1,7 +1,8 @@
 // Journal::open: find the journal's end, cut a torn tail, resume appending after it.
 #include <fcntl.h>
 
-#include <system_error>
+#include <algorithm>
+#include <string>
 
 #include "journal_state.h"
 #include "segment_names.h"
@@ -9,16 +10,24 @@
 namespace yoke::journal {
 namespace {
 
-// Creates dir if missing, and makes its entry durable in its parent.
-void create_directory_durably(const std::filesystem::path& dir) {
-  std::filesystem::path clean = dir.lexically_normal();
-  if (!clean.has_filename()) clean = clean.parent_path();  // "a/b/" -> "a/b"
-  std::error_code error;
-  const bool created = std::filesystem::create_directories(clean, error);
-  if (error) throw Error("journal: cannot create " + dir.string() + ": " + error.message());
-  if (!created) return;
-  const std::filesystem::path parent = clean.has_parent_path() ? clean.parent_path() : ".";
-  sync_directory(open_directory(parent), parent);
+// Writes the segment's bytes again, in place, and syncs them. The process before may have
+// stopped after a failed fdatasync whose cut failed too: the kernel then keeps those bytes in
+// its cache (the scan just read them) but marked clean, never to be written back, and a sync
+// now would return 0 without writing them. Only bytes written again are dirty again. O(segment).
+void write_back_again(const std::filesystem::path& segment) {
+  constexpr std::size_t kPiece = std::size_t{1} << 20;
+  FileDescriptor source = open_file(segment, O_RDONLY);
+  std::uint64_t left = file_size(source, segment);
+  BufferedReader reader(std::move(source), segment);
+  const FileDescriptor target = open_file(segment, O_WRONLY);
+  std::string piece;
+  while (left > 0) {
+    piece.resize(static_cast<std::size_t>(std::min<std::uint64_t>(left, kPiece)));
+    reader.read(piece.data(), piece.size());
+    write_all(target, piece, segment);
+    left -= piece.size();
+  }
+  sync_data(target, segment);
 }
 
 }  // namespace
@@ -45,7 +54,7 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
   auto state = std::make_unique<State>();
   state->dir = dir;
   state->options = options;
-  create_directory_durably(dir);
+  create_directories_durably(dir);
   state->dir_fd = open_directory(dir);
   const std::chrono::milliseconds waited =
       lock_directory(state->dir_fd, dir, std::chrono::milliseconds(options.lock_wait_ms));
@@ -58,6 +67,8 @@ Journal Journal::open(const std::filesystem::path& dir, const Options& options) 
 
   state->next_position = state->segments.empty() ? 0 : scan.next_position();
   if (!state->segments.empty()) {
+    // Every segment before the last was synced before the next one started.
+    write_back_again(segment_path(dir, state->segments.back()));
     state->writer = SegmentWriter::reopen(segment_path(dir, state->segments.back()));
   }
   state->recovery = Recovery{state->segments.size(), records, scan.tail(),

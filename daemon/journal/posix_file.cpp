@@ -55,6 +55,38 @@ FileDescriptor open_directory(const std::filesystem::path& dir) {
   return open_file(dir, O_RDONLY | O_DIRECTORY);
 }
 
+namespace {
+
+std::filesystem::path without_trailing_slash(const std::filesystem::path& dir) {
+  std::filesystem::path clean = dir.lexically_normal();
+  if (!clean.has_filename() && clean.has_parent_path() && clean != clean.root_path()) {
+    clean = clean.parent_path();  // "a/b/" -> "a/b"
+  }
+  return clean;
+}
+
+std::filesystem::path parent_of(const std::filesystem::path& clean) {
+  return clean.has_parent_path() ? clean.parent_path() : std::filesystem::path(".");
+}
+
+// Creates clean (and its parents) unless it is there.
+void make_missing(const std::filesystem::path& clean) {
+  std::error_code error;
+  if (std::filesystem::is_directory(clean, error)) return;
+  const std::filesystem::path parent = parent_of(clean);
+  make_missing(parent);
+  if (file_system().make_directory(clean, 0755) != 0 && errno != EEXIST) {
+    fail("creation of directory", clean);
+  }
+  sync_directory(open_directory(parent), parent);
+}
+
+}  // namespace
+
+void create_directories_durably(const std::filesystem::path& dir) {
+  make_missing(without_trailing_slash(dir));
+}
+
 std::chrono::milliseconds lock_directory(const FileDescriptor& dir,
                                          const std::filesystem::path& path,
                                          std::chrono::milliseconds wait) {
@@ -106,8 +138,12 @@ std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, st
     offset += next.size();
     bytes.remove_prefix(next.size());
     if (offset % piece == 0) {
-      ::sync_file_range(file.get(), static_cast<off_t>(offset - piece), static_cast<off_t>(piece),
-                        SYNC_FILE_RANGE_WRITE | SYNC_FILE_RANGE_WAIT_AFTER);
+      // Its error is the piece's failed write-back, which the file's fdatasync would then no
+      // longer report (the descriptor's error mark has moved past it): the file fails here.
+      if (file_system().write_back(file.get(), static_cast<off_t>(offset - piece),
+                                   static_cast<off_t>(piece)) != 0) {
+        fail("write-back of", path);
+      }
     }
   }
   return offset;
@@ -147,7 +183,7 @@ void BufferedReader::read(char* out, std::size_t n) {
     if (begin_ == end_) {
       // A large read goes straight to the caller's memory; small ones refill the buffer.
       if (n >= kReadBufferBytes) {
-        const ssize_t got = ::read(file_.get(), out, n);
+        const ssize_t got = file_system().read(file_.get(), out, n);
         if (got < 0 && errno == EINTR) continue;
         if (got < 0) fail("read of", path_);
         if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");
@@ -156,7 +192,7 @@ void BufferedReader::read(char* out, std::size_t n) {
         continue;
       }
       if (buffer_.empty()) buffer_.resize(kReadBufferBytes);
-      const ssize_t got = ::read(file_.get(), buffer_.data(), buffer_.size());
+      const ssize_t got = file_system().read(file_.get(), buffer_.data(), buffer_.size());
       if (got < 0 && errno == EINTR) continue;
       if (got < 0) fail("read of", path_);
       if (got == 0) throw Error("journal: " + path_.string() + " ended while being read");

@@ -35,6 +35,10 @@ class FileDescriptor {
 FileDescriptor open_file(const std::filesystem::path& path, int flags, unsigned mode = 0644);
 // The directory, opened for fsync and locking.
 FileDescriptor open_directory(const std::filesystem::path& dir);
+// Creates dir and its missing parents, each new entry made durable by an fsync of its parent:
+// files made durable inside it are then reachable after a power loss. A dir already there is
+// left as it is (no call). Throws Error.
+void create_directories_durably(const std::filesystem::path& dir);
 // Takes an exclusive lock on the open directory for the life of the descriptor, waiting up to
 // `wait` (polling every 20 ms) while another process or open Journal holds it; throws Error
 // (saying "already open") when it is still held then. Returns how long it waited.
@@ -51,8 +55,9 @@ void write_all(const FileDescriptor& file, std::string_view bytes,
 // last, partial one is left to sync_data), however small the calls that fill it: a big file then
 // never fills the device's queue, where another file's fdatasync (the journal's) would wait
 // behind all of it. A hint about when, not a promise that: nothing is durable until
-// sync_data(), so a failed write-back is ignored (it bypasses the FileSystem seam, which it
-// changes nothing for). Returns the offset after `bytes`.
+// sync_data(). But a piece's failed write-back throws here: the kernel reports a file's
+// write-back error once per descriptor, so the sync_data() after it would return 0 over bytes
+// that never reached the disk. Returns the offset after `bytes`.
 std::uint64_t write_paced(const FileDescriptor& file, std::string_view bytes, std::uint64_t offset,
                           std::size_t piece, const std::filesystem::path& path);
 // fdatasync: the file's data and the metadata needed to read it (its size) are on disk.

@@ -44,11 +44,9 @@ auto as_storage_errors(Step step) -> decltype(step()) {
 
 SnapshotDirectory::SnapshotDirectory(std::filesystem::path directory, std::size_t keep)
     : directory_(std::move(directory)), keep_(std::max<std::size_t>(keep, 1)) {
-  std::error_code error;
-  std::filesystem::create_directories(directory_, error);
-  if (error) {
-    throw storage::LogError("cannot create " + directory_.string() + ": " + error.message());
-  }
+  // Durably: a power loss must not take the directory, and the snapshots in it, with it after
+  // the journal was trimmed behind them.
+  as_storage_errors([&] { journal::create_directories_durably(directory_); });
 }
 
 std::string SnapshotDirectory::describe() const { return "snapshots " + directory_.string(); }

@@ -248,6 +248,7 @@ class Daemon:
         self.name = name
         self.metrics_port = free_tcp_port()
         self.proc = None
+        self.env = None  # the process's environment when set (else the test's)
         self.starts = 0
         self.children = []  # `yoke` processes started by popen_yoke, ended at cleanup
         self._write_config()
@@ -279,7 +280,7 @@ class Daemon:
             err.flush()
             self.proc = subprocess.Popen(
                 [YOKED, "--data-dir", self.data_dir, "--config", self.config_path],
-                stdin=subprocess.DEVNULL, stdout=err, stderr=err)
+                stdin=subprocess.DEVNULL, stdout=err, stderr=err, env=self.env)
         return self.proc
 
     def start(self, timeout_s=20):

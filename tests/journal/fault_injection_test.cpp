@@ -4,6 +4,7 @@
 // records appended (payload_for) and what was synced before each crash.
 #include <fcntl.h>
 
+#include <cerrno>
 #include <chrono>
 #include <filesystem>
 #include <string>
@@ -58,6 +59,30 @@ TEST(FaultyFileSystem, CrashForgetsWhatWasNotSynced) {
   EXPECT_FALSE(std::filesystem::exists(dir / "kept"));
 }
 
+TEST(FaultyFileSystem, CrashForgetsDirectoriesWhoseEntriesWereNotSynced) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const std::filesystem::path kept = dir / "kept" / "inner";
+  create_directories_durably(kept);
+  {
+    const FileDescriptor file = open_file(kept / "f", O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "bytes", kept / "f");
+    sync_data(file, kept / "f");
+  }
+  sync_directory(open_directory(kept), kept);
+  ASSERT_EQ(files.make_directory(dir / "lost", 0755), 0);  // its parent never synced
+  {
+    const FileDescriptor file = open_file(dir / "lost" / "f", O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "bytes", dir / "lost" / "f");
+    sync_data(file, dir / "lost" / "f");
+  }
+  sync_directory(open_directory(dir / "lost"), dir / "lost");
+  files.crash();
+  EXPECT_EQ(read_file(kept / "f"), "bytes");
+  EXPECT_FALSE(std::filesystem::exists(dir / "lost"));
+}
+
 TEST(FaultyFileSystem, FailsTheNthCallAndWithPersistentEveryLaterOne) {
   TempDir dir;
   FaultyFileSystem files;
@@ -89,7 +114,8 @@ TEST(PacedWrites, WriteEveryPieceInOrderAndAreDurableOnlyWhenSynced) {
     write_all(file, "head", dir / "f");
     EXPECT_EQ(write_paced(file, bytes, 4, 4096, dir / "f"), 4 + bytes.size());
     EXPECT_TRUE(read_file(dir / "f") == "head" + bytes);
-    EXPECT_EQ(files.calls(), 2u + (bytes.size() + 4095) / 4096);  // open, one write a piece
+    // open, one write a piece, one write-back a whole piece
+    EXPECT_EQ(files.calls(), 2u + (bytes.size() + 4095) / 4096 + (4 + bytes.size()) / 4096);
   }
   sync_directory(open_directory(dir.path()), dir.path());
   files.crash();
@@ -123,6 +149,142 @@ TEST(JournalFaults, AFailedSyncCutsBackToTheLastDurableRecord) {
   Journal again = Journal::open(dir.path(), testing::small_segments(512, Durability::group));
   EXPECT_EQ(again.next_position(), 21u);
   EXPECT_FALSE(again.recovery().cut);  // nothing torn was left behind
+}
+
+// What the kernel does after a failed write-back: the pages are marked clean, still read back as
+// written, and the error is reported once; a later fdatasync returns 0 without writing them.
+TEST(FaultyFileSystem, BytesOfAFailedSyncAreLostEvenAfterALaterSyncUnlessWrittenAgain) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const std::filesystem::path path = dir / "f";
+  {
+    const FileDescriptor file = open_file(path, O_WRONLY | O_CREAT | O_EXCL);
+    write_all(file, "durable ", path);
+    sync_data(file, path);
+    write_all(file, "dropped ", path);
+    files.fail_at(1);
+    EXPECT_THROW(sync_data(file, path), Error);
+    EXPECT_EQ(read_file(path), "durable dropped ");  // the cache still has them
+    write_all(file, "after", path);
+    EXPECT_NO_THROW(sync_data(file, path));  // returns 0: proves nothing about "dropped "
+  }
+  sync_directory(open_directory(dir.path()), dir.path());
+  files.crash();
+  EXPECT_EQ(read_file(path), "durable " + std::string(8, '\0') + "after");
+  {
+    const FileDescriptor file = open_file(path, O_WRONLY);
+    write_all(file, "durable ", path);
+    files.fail_at(1);
+    EXPECT_THROW(sync_data(file, path), Error);
+    write_all(file, "rewrite ", path);  // over the lost bytes, in place: dirty again
+    sync_data(file, path);
+  }
+  files.crash();
+  EXPECT_EQ(read_file(path), "durable rewrite after");
+}
+
+TEST(FaultyFileSystem, ShortWritesAndOtherErrnos) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const std::filesystem::path path = dir / "f";
+  const FileDescriptor file = open_file(path, O_WRONLY | O_CREAT | O_EXCL);
+  files.shorten_writes(3);
+  write_all(file, "0123456789", path);  // four calls of at most 3 bytes, no error
+  EXPECT_EQ(read_file(path), "0123456789");
+  EXPECT_EQ(files.calls(), 5u);
+  EXPECT_FALSE(files.failed());
+  files.shorten_writes(0);
+  files.fail_with(EINTR);
+  files.fail_at(1);
+  write_all(file, "ab", path);  // interrupted before writing anything, then written
+  EXPECT_EQ(read_file(path), "0123456789ab");
+  files.fail_with(ENOSPC);
+  files.fail_at(1);
+  try {
+    write_all(file, "cdef", path);
+    ADD_FAILURE() << "a full disk was not reported";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("No space left on device"), std::string::npos)
+        << error.what();
+  }
+}
+
+// A piece's write-back fails: the kernel has reported the error to this call and would not
+// report it to the file's fdatasync, so the paced write must fail here.
+TEST(PacedWrites, AFailedWriteBackFailsTheWrite) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const std::string bytes(3 * 4096, 'x');
+  const FileDescriptor file = open_file(dir / "f", O_WRONLY | O_CREAT | O_EXCL);
+  files.fail_at(2);  // the next calls: write, write-back of the first piece
+  EXPECT_THROW(write_paced(file, bytes, 0, 4096, dir / "f"), Error);
+  EXPECT_EQ(files.trace().at(2), "write-back " + (dir / "f").string());
+}
+
+// A failed call while a journal opens (a read above all) is an error, never a torn tail to cut:
+// cutting there would remove acknowledged records.
+TEST(JournalFaults, AFailedCallAtOpenFailsTheOpenAndCutsNothing) {
+  TempDir dir;
+  {
+    Journal journal = Journal::open(dir.path(), testing::small_segments(512, Durability::group));
+    testing::append_range(journal, 1, 30);
+    journal.sync();
+  }
+  const auto before = read_all(dir.path());
+  for (std::uint64_t n = 1;; ++n) {
+    FaultyFileSystem files;
+    const ScopedFileSystem installed(files);
+    files.fail_at(n);
+    try {
+      Journal journal = Journal::open(dir.path(), testing::small_segments(512, Durability::group));
+      EXPECT_FALSE(files.failed()) << "call " << n << " failed and the open went on";
+      break;  // no call left to fail
+    } catch (const Error&) {
+      EXPECT_TRUE(files.failed());
+    }
+    EXPECT_EQ(read_all(dir.path()), before)
+        << "after failing call " << n << " (" << files.trace().at(n - 1) << ")";
+  }
+  EXPECT_EQ(read_all(dir.path()), expected_range(1, 30));
+}
+
+// The journal stops after a failed sync whose cut failed too (a disk gone for a while); the OS
+// keeps the unsynced records in its cache, clean after the failed write-back, and a restart
+// reads them as if on disk. Records acknowledged after that restart must survive a power loss,
+// so the reopen writes them back again: without that, the power loss zeroes them and the next
+// open cuts the acknowledged records after them as a torn tail.
+TEST(JournalFaults, AReopenAfterAFailedSyncAndCutWritesTheCachedTailBackAgain) {
+  TempDir dir;
+  FaultyFileSystem files;
+  const ScopedFileSystem installed(files);
+  const Options options = testing::small_segments(1 << 20, Durability::group);
+  {
+    Journal journal = Journal::open(dir.path(), options);
+    testing::append_range(journal, 1, 10);
+    journal.sync();
+    for (std::uint64_t position = 11; position <= 20; ++position) {
+      journal.append(position, testing::payload_for(position));
+    }
+    (void)journal.read_after(0);  // hands 11..20 to the OS: the sync's first call is fdatasync
+    files.fail_at(1, true);       // the sync and every call of the cut after it
+    EXPECT_THROW(journal.sync(), Error);
+    EXPECT_EQ(files.trace().at(files.trace().size() - 2).substr(0, 5), "sync ");
+  }
+  files.fail_at(0);  // the disk is back; the process restarts with the OS's cache
+  {
+    Journal journal = Journal::open(dir.path(), options);
+    EXPECT_EQ(journal.next_position(), 21u);  // records 11..20 came back from the cache
+    testing::append_range(journal, 21, 30);
+    journal.sync();  // 21..30 acknowledged
+  }
+  files.crash();
+  Journal journal = Journal::open(dir.path(), options);
+  EXPECT_EQ(journal.next_position(), 31u);
+  EXPECT_FALSE(journal.recovery().cut);
+  EXPECT_EQ(read_all(dir.path()), expected_range(1, 30));
 }
 
 TEST(JournalLock, WaitsForAHolderThatLetsGo) {
