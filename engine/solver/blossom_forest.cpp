@@ -10,16 +10,32 @@ namespace yoke {
 
 NodeId BlossomForest::climb_to_top(Vertex v) const {
   TopCache& cache = top_[v];
-  NodeId node = version_[cache.node] == cache.version ? cache.node : v;
-  while (parent_[node] != kNoNode) node = parent_[node];
-  cache = {node, version_[node]};
-  return node;
+  const NodeId start = version_[cache.node] == cache.version ? cache.node : v;
+  // Up by a node's shortcut while it still names an ancestor, else by its parent. A nest of
+  // blossoms can be thousands deep (max-cardinality pools), and when its top is dissolved every
+  // vertex's cache goes stale at once: without the shortcuts each one climbed the whole nest.
+  const auto up = [this](NodeId node) {
+    const TopCache jump = node_top_[node];
+    return jump.node != node && version_[jump.node] == jump.version ? jump.node : parent_[node];
+  };
+  NodeId top = start;
+  while (parent_[top] != kNoNode) top = up(top);
+  // Every node passed names the top from now on (path compression), and so does v.
+  const TopCache found{top, version_[top]};
+  for (NodeId node = start; node != top;) {
+    const NodeId next = up(node);
+    node_top_[node] = found;
+    node = next;
+  }
+  cache = found;
+  return top;
 }
 
 BlossomForest::BlossomForest(std::size_t vertex_count)
     : vertex_count_(vertex_count),
       parent_(2 * vertex_count, kNoNode),
       top_(vertex_count),
+      node_top_(2 * vertex_count),
       version_(2 * vertex_count, 0),
       base_(2 * vertex_count, kNoVertex),
       dual2_(2 * vertex_count, 0),
@@ -30,6 +46,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
       next_leaf_(vertex_count, kNoVertex),
       children_(vertex_count),
       edges_(vertex_count) {
+  for (NodeId node = 0; node < 2 * vertex_count; ++node) node_top_[node] = {node, 0};
   for (Vertex v = 0; v < vertex_count; ++v) {
     top_[v] = {v, 0};
     base_[v] = v;
@@ -84,6 +101,8 @@ void BlossomForest::free_slot(NodeId b) {
 
 void BlossomForest::reset_top_caches() {
   for (Vertex v = 0; v < vertex_count_; ++v) top_[v] = {v, 0};
+  node_top_.resize(2 * vertex_count_);
+  for (NodeId node = 0; node < 2 * vertex_count_; ++node) node_top_[node] = {node, 0};
 }
 
 void BlossomForest::dissolve_unpriced_nest(NodeId b) {
@@ -211,6 +230,9 @@ void BlossomForest::grow(std::size_t vertex_count) {
   for (NodeId slot : free_slots_) free_slots.push_back(moved(slot));
   free_slots_ = std::move(free_slots);
   vertex_count_ = vertex_count;
+  // The shortcuts are a cache: started afresh rather than renumbered.
+  node_top_.resize(2 * vertex_count);
+  for (NodeId node = 0; node < 2 * vertex_count; ++node) node_top_[node] = {node, 0};
 }
 
 NodeId BlossomForest::child_containing(NodeId b, Vertex v) const {

@@ -152,6 +152,10 @@ class BlossomForest {
     std::uint32_t version;  // version_[node] then
   };
   mutable std::vector<TopCache> top_;  // per vertex (see top())
+  // Per node: an ancestor an earlier climb found above it (itself: none yet), a shortcut for
+  // the next climb through it. A node leaves the forest only from the top level, so an
+  // ancestor stays one until its slot is freed, which its version tells (climb_to_top).
+  mutable std::vector<TopCache> node_top_;
   std::vector<std::uint32_t> version_;  // per node: bumped whenever a blossom slot is freed
   std::vector<Vertex> base_;          // per node
   std::vector<Weight> dual2_;         // per node: 2 z(B); unused for vertices
@@ -177,7 +181,7 @@ class BlossomForest {
 
   NodeId climb_to_top(Vertex v) const;  // top()'s climb, which also refreshes v's cache
   void free_slot(NodeId b);  // b's children are already detached
-  void reset_top_caches();  // every vertex's cache back to itself
+  void reset_top_caches();  // every vertex's cache and node's shortcut back to itself
 
   void check_loaded() const;
 };

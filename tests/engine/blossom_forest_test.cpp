@@ -489,6 +489,42 @@ TEST(BlossomForest, DeepNestDissolveFromTheTop) {
   EXPECT_EQ(forest.make_blossom({0, 1, 2}, {{0, 1}, {1, 2}, {2, 0}}), kDeepVertices);
 }
 
+// top() against the definition (the top-level node holding the vertex) for every vertex,
+// while the top of a 3000-deep nest is dissolved again and again and blossoms are formed over
+// what is left (in the freed slots): the shortcuts a climb leaves on the nodes it passes
+// (climb_to_top) must never outlive the node they name.
+TEST(BlossomForest, DeepNestTopsStayRightAsItsTopIsDissolvedAndFormedAgain) {
+  NodeId outer = kNoNode;
+  Fixture fx = deep_nest(&outer);
+  BlossomForest& forest = fx.forest;
+  const auto check_every_vertex = [&](int round) {
+    std::vector<NodeId> expected(kDeepVertices, kNoNode);
+    for (Vertex v = 0; v < kDeepVertices; ++v) {
+      if (forest.parent(v) == kNoNode) expected[v] = v;
+    }
+    for (NodeId b : forest.live_blossoms()) {
+      if (forest.parent(b) == kNoNode) forest.for_each_vertex(b, [&](Vertex v) { expected[v] = b; });
+    }
+    for (Vertex v = 0; v < kDeepVertices; ++v) {
+      ASSERT_EQ(forest.top(v), expected[v]) << "round " << round << ", vertex " << v;
+    }
+  };
+  check_every_vertex(-1);
+  NodeId top = outer;
+  for (int round = 0; round < 60; ++round) {
+    const std::vector<NodeId> children = forest.children(top);
+    const std::vector<CycleEdge> edges = forest.cycle_edges(top);
+    forest.dissolve(top);
+    ASSERT_NO_FATAL_FAILURE(check_every_vertex(round));
+    if (round % 3 == 2) {
+      top = forest.make_blossom(children, edges);  // the slot just freed, a new version
+      ASSERT_NO_FATAL_FAILURE(check_every_vertex(round));
+    } else {
+      top = children.front();  // B_(k-1)
+    }
+  }
+}
+
 // dissolve_unpriced_nest against dissolve() called level by level from a stack (the way it
 // replaces): the same top-level nodes, the same tops, the same free slots in the same order.
 // Some levels carry a dual, so the nest is cut into kept and dissolved parts.

@@ -127,6 +127,9 @@ int main(int argc, char** argv) {
   std::size_t times = 100;
   app.add_option("--repeat", repeat, "Commit this batch (1-based) again from the state before it");
   app.add_option("--times", times, "How often --repeat commits it")->check(CLI::Range(1, 100000));
+  std::string mode = "max-weight";
+  app.add_option("--mode", mode, "The pool's mode: max-weight, max-cardinality or perfect")
+      ->check(CLI::IsMember({"max-weight", "max-cardinality", "perfect"}));
   std::string script;
   app.add_option("--script", script,
                  "An event script instead (yoke gen stream): its first batch is the base, every "
@@ -137,7 +140,7 @@ int main(int argc, char** argv) {
   const AimedStream stream =
       script.empty() ? draw_aimed_stream(aimed_tail_spec(vertices, actions, seed, grain))
                      : read_script(script);
-  Pool pool(Mode::max_weight);
+  Pool pool(parse_mode(mode));
   pool.commit(stream.base);
   std::map<std::string, std::vector<Row>> by_kind;
   std::string before_repeat;
