@@ -135,6 +135,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
 std::optional<v1::Ack> PoolService::offer_batch(Ticket ticket, DecodedBatch batch) {
   if (held_.contains(batch.pool) || waits_for_engine(batch)) {
     // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
+    if (batch.retire) ++held_retirements_;
     held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
     ++held_count_;
     return std::nullopt;
@@ -279,8 +280,15 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   });
 }
 
+bool PoolService::waits_for_a_slot(const DecodedBatch& batch) {
+  if (batch.retire || (retiring_.empty() && held_retirements_ == 0)) return false;
+  return state_.registry.find(batch.pool) == nullptr &&
+         !state_.registry.may_create(batch.pool, limits_.max_pools);
+}
+
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
+  if (waits_for_a_slot(batch)) return true;
   // Behind a retirement: for the pool that comes after it, once start_apply() has dropped the
   // old one (ingest.proto, RetirePool). finish_repairs() offers it then, right after.
   if (retiring_.contains(batch.pool)) return true;
@@ -738,6 +746,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     }
   }
   held_.clear();
+  held_retirements_ = 0;
   stage_waits_.clear();
   // A worker may still be checking: it reads the batch's events, not its names.
   for (const auto& [pool, check] : first_checks_) {

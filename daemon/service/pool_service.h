@@ -408,6 +408,10 @@ class PoolService {
   // window (or, for a retirement and in a cluster, any job is in flight), or a retirement of
   // the pool is not applied yet. Asks that job to wake the loop once staged.
   bool waits_for_engine(const DecodedBatch& batch);
+  // A batch that would make a pool while every slot under max_pools is taken, sent after a
+  // retirement not yet applied: it waits for that retirement (which may free the slot) as the
+  // retired pool's own batches do (ingest.proto, RetirePool), instead of being refused early.
+  bool waits_for_a_slot(const DecodedBatch& batch);
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   static bool every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs);
@@ -517,6 +521,7 @@ class PoolService {
   std::map<std::string, std::shared_ptr<RepairJob>> stage_waits_;
   std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
+  std::size_t held_retirements_ = 0;  // retirements among the held batches (waits_for_a_slot)
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;

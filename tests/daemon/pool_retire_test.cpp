@@ -258,6 +258,39 @@ TEST_F(RetireCapTest, RetiringFreesTheSlot) {
   }
 }
 
+// ingest.proto, RetirePool: the retired pool's slot is free again, and nothing is refused for
+// coming early. A first batch of another pool sent behind the retirement while every slot is
+// taken waits for it, as the retired pool's own batches do, and then takes the freed slot.
+TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("ferrow")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("ferrow").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "hollin")).has_value());
+  EXPECT_EQ(service().held_batches(), 1u);
+
+  const auto first = service().seal();
+  ASSERT_EQ(first.size(), 1u);  // the retirement alone
+  EXPECT_EQ(first[0].second.pool(), "ferrow");
+  EXPECT_TRUE(first[0].second.has_accepted());
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  EXPECT_TRUE(done.replies.empty()) << done.replies[0].second.DebugString();
+  EXPECT_EQ(service().held_batches(), 0u);
+
+  const testing::WindowResult second = harness_.close();
+  ASSERT_EQ(second.acks.size(), 1u);
+  EXPECT_EQ(second.acks[0].second.pool(), "hollin");
+  ASSERT_TRUE(second.acks[0].second.has_accepted()) << second.acks[0].second.DebugString();
+  EXPECT_EQ(second.acks[0].second.accepted().seq(), 1u);
+  EXPECT_EQ(service().registry().size(), 2u);
+
+  // With no retirement on its way a full daemon refuses at once, as before.
+  EXPECT_EQ(refusal_code(harness_.offer({wire_add(1)}, in_pool("ivel"))),
+            v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(service().held_batches(), 0u);
+}
+
 // Declared pools have their slots reserved: a flood of other names takes only what is left.
 class DeclaredPoolsTest : public PoolRetireTest {
  protected:

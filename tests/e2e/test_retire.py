@@ -9,7 +9,9 @@ import os
 import time
 import unittest
 
-from e2e_harness import SLOWDOWN, Daemon, check_binaries, replay_final_matching
+from e2e_harness import (PROTOCOL_VERSION, SLOWDOWN, Daemon, IngestClient, check_binaries,
+                         make_batch_request, replay_final_matching)
+from yoke.v1 import ingest_pb2
 from yoke_client import Rejected, Sender, Watcher, set_edge
 
 # Two slots for undeclared pools: max_pools 3, one declared.
@@ -95,6 +97,43 @@ class RetireTest(unittest.TestCase):
         self.assertIsNone(daemon.summary("market"))
         self.assertEqual(daemon.summary("quay"), held["quay"])
         self.send(daemon, "flood", [(1, 2, 1)])
+
+    def test_a_new_pool_sent_behind_a_retirement_takes_its_slot(self):
+        # ingest.proto, RetirePool: the slot is free again once the retirement is applied, and
+        # a first batch of another pool sent right behind it, every slot taken, waits for it
+        # (as the retired pool's own batches do) instead of being refused for coming early.
+        # The retired pool's batch just before keeps its repair in flight, so the retirement
+        # itself waits too.
+        daemon = Daemon(self, config=CONFIG).start()
+        self.send(daemon, "quay", [(1, 2, 5)])
+        self.send(daemon, "market", [(1, 2, 1)])
+        ingest = IngestClient(daemon.ingest)
+        self.addCleanup(ingest.close)
+        for _ in range(3):
+            ingest.sock.send(make_batch_request([("set", 3, 4, 2)], pool="quay",
+                                                client_id="desk", client_batch=1)
+                             .SerializeToString())
+            retire = ingest_pb2.IngestRequest(version=PROTOCOL_VERSION)
+            retire.retire.pool, retire.retire.client_id, retire.retire.client_batch = \
+                "quay", "desk", 2
+            ingest.sock.send(retire.SerializeToString())
+            ingest.sock.send(make_batch_request([("set", 7, 8, 3)], pool="lantern",
+                                                client_id="desk", client_batch=3)
+                             .SerializeToString())
+            acks = {}
+            while len(acks) < 3 and ingest.sock.poll(10000 * SLOWDOWN):
+                reply = ingest_pb2.IngestReply()
+                reply.ParseFromString(ingest.sock.recv())
+                acks[reply.ack.client_batch] = reply.ack
+            self.assertEqual(sorted(acks), [1, 2, 3], acks)
+            for number, ack in acks.items():
+                self.assertEqual(ack.WhichOneof("outcome"), "accepted", f"{number}: {ack}")
+            self.assertEqual(acks[3].accepted.seq, 1)
+            self.assertIsNone(daemon.summary("quay"))
+            self.assertEqual(daemon.summary("lantern")["pairs"], 1)
+            # Round again the other way: lantern retired, quay made anew in its slot.
+            daemon.yoke_json("retire", "lantern")
+            self.send(daemon, "quay", [(1, 2, 5)])
 
     def test_python_client_retires(self):
         daemon = Daemon(self, config=CONFIG).start()
