@@ -190,6 +190,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
         explain.set_pair_weight(explanation->pair_weight);
       }
       explain.set_pair_bonus(explanation->pair_bonus);
+      explain.set_held(explanation->held);
       explain.set_dual_x2(explanation->dual2);
       explain.set_weight_offset(explanation->weight_offset);
       for (const Alternative& alternative : explanation->alternatives) {
