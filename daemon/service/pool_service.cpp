@@ -280,10 +280,31 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   });
 }
 
+std::size_t PoolService::new_pools_being_checked() {
+  std::size_t checked = 0;
+  for (const auto& [pool, check] : first_checks_) {
+    // `existing` is set before the worker starts and never changed: read here without a race.
+    if (check->existing == nullptr && !state_.registry.is_declared(pool)) ++checked;
+  }
+  return checked;
+}
+
 bool PoolService::waits_for_a_slot(const DecodedBatch& batch) {
-  if (batch.retire || (retiring_.empty() && held_retirements_ == 0)) return false;
-  return state_.registry.find(batch.pool) == nullptr &&
-         !state_.registry.may_create(batch.pool, limits_.max_pools);
+  if (batch.retire || (first_checks_.empty() && retiring_.empty() && held_retirements_ == 0)) {
+    return false;  // nothing on its way could take a slot or give one back
+  }
+  if (state_.registry.is_declared(batch.pool) || state_.registry.find(batch.pool) != nullptr) {
+    return false;  // a slot of its own
+  }
+  // Slots go in arrival order: the first batches of new pools still checked on workers came
+  // first, so each holds a slot until its check ends.
+  const std::size_t checked = new_pools_being_checked();
+  if (checked < limits_.max_pools &&
+      state_.registry.may_create(batch.pool, limits_.max_pools - checked)) {
+    return false;
+  }
+  // None free: wait while a check in flight may be refused or a retirement may free one.
+  return checked > 0 || !retiring_.empty() || held_retirements_ > 0;
 }
 
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
