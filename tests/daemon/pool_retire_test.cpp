@@ -146,6 +146,44 @@ TEST_F(PoolRetireTest, RefusalsChangeNothing) {
   EXPECT_EQ(service().registry().find("brissa"), nullptr);
 }
 
+// query.proto, SnapshotRequest: a snapshot of one pool lists that pool alone, or is
+// UNKNOWN_POOL. A snapshot settles the open window first (YokedServer::take_snapshot), so a
+// retirement in it takes the pool away before the capture: the answer is UNKNOWN_POOL then,
+// not a snapshot listing no pool.
+TEST_F(PoolRetireTest, ASnapshotOfAPoolRetiredInTheOpenWindowIsUnknownPool) {
+  fill("brissa");
+  fill("quay");
+  QueryHandler queries(
+      service(), 1 << 20,
+      [this](bool all_pools, const std::string& pool) {
+        harness_.close();  // as take_snapshot's settle_all()
+        v1::SnapshotTaken taken;
+        for (const std::string& name : service().registry().names()) {
+          if (all_pools || name == pool) taken.add_pools()->set_pool(name);
+        }
+        return taken;
+      },
+      nullptr);
+  const auto ask = [&queries](const std::string& pool) {
+    v1::QueryRequest request;
+    request.set_version(1);
+    request.set_pool(pool);
+    request.mutable_snapshot()->set_all_pools(false);
+    v1::QueryReply reply;
+    EXPECT_TRUE(reply.ParseFromString(queries.handle(request.SerializeAsString())));
+    return reply;
+  };
+  ASSERT_FALSE(retire("brissa").has_value());
+  const v1::QueryReply gone = ask("brissa");
+  ASSERT_TRUE(gone.has_error()) << gone.ShortDebugString();
+  EXPECT_EQ(gone.error().code(), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(gone.pool(), "brissa");
+  EXPECT_EQ(service().registry().find("brissa"), nullptr);
+  const v1::QueryReply kept = ask("quay");
+  ASSERT_EQ(kept.snapshot().pools_size(), 1) << kept.ShortDebugString();
+  EXPECT_EQ(kept.snapshot().pools(0).pool(), "quay");
+}
+
 // ingest.proto, RetirePool: "batches of the pool sent after it land in the next window, in the
 // new pool". They wait for the retirement to be applied (not refused), then are checked, in the
 // order they came, against the pool made afresh; a second retirement behind them retires that.
