@@ -497,6 +497,24 @@ TEST_F(PoolServiceTest, DiffsCarryPrevSeqAndSortedPairsWithWeights) {
   EXPECT_EQ(progress.events_applied, 6u);
 }
 
+// publish.proto, Diff.added: the lists compare the matching before and after the commit, so a
+// pair matched on both sides is in neither, even when its edge or a vertex left and came back
+// within the commit; the weights are read from the pool (common knowledge: {1,2} and {3,4}
+// are the only edges, so both are matched whatever their positive weights).
+TEST_F(PoolServiceTest, APairMatchedBeforeAndAfterIsInNeitherList) {
+  offer({wire_set(1, 2, 5), wire_set(3, 4, 5)});
+  close_window(service());
+  offer({wire_remove(1), wire_set(1, 2, 7)});
+  offer({wire_unset(3, 4), wire_set(3, 4, 8)});
+  const WindowResult result = close_window(service());
+  ASSERT_EQ(result.diffs.size(), 1u);
+  EXPECT_EQ(result.diffs[0].removed_size(), 0);
+  EXPECT_EQ(result.diffs[0].added_size(), 0);
+  EXPECT_EQ(result.diffs[0].weight(), 15);
+  EXPECT_EQ(result.diffs[0].pairs(), 2u);
+  EXPECT_EQ(view_of(service(), "default").edges, 2u);
+}
+
 TEST_F(PoolServiceTest, EmptyWindowPublishesNothing) {
   const WindowResult result = close_window(service());
   EXPECT_TRUE(result.acks.empty());

@@ -397,6 +397,13 @@ TEST_F(QueryHandlerTest, ExplainSaysAVertexIsHeld) {
   EXPECT_EQ(reply.explain().alternatives_size(), 0);
   expect_consistent("berth", 3, reply.explain(), QueryHandler::kDefaultAlternatives);
 
+  // Summary counts the held vertices and every edge, those set aside included.
+  reply = ask_pool("berth", summary());
+  EXPECT_EQ(reply.summary().vertices(), 4u);
+  EXPECT_EQ(reply.summary().edges(), 4u);
+  EXPECT_EQ(reply.summary().pairs(), 2u);
+  EXPECT_EQ(reply.summary().weight(), 6);
+
   reply = ask_pool("cardinal", explain(3));
   EXPECT_TRUE(reply.explain().held());
   EXPECT_EQ(reply.explain().mate(), 2u);
