@@ -329,6 +329,28 @@ TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
   EXPECT_EQ(service().held_batches(), 0u);
 }
 
+// The freed slot goes to the first batch that came for it, whichever pool's name sorts first:
+// here a new pool's, then the retired pool's own batch, which finds no slot left.
+TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("keld").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
+  EXPECT_EQ(service().held_batches(), 2u);
+  ASSERT_EQ(service().seal().size(), 1u);  // the retirement
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  ASSERT_EQ(done.replies.size(), 1u);
+  EXPECT_EQ(done.replies[0].second.pool(), "keld");
+  EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
+  const testing::WindowResult next = harness_.close();
+  ASSERT_EQ(next.acks.size(), 1u);
+  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
+  EXPECT_EQ(next.acks[0].second.accepted().seq(), 1u);
+}
+
 // Declared pools have their slots reserved: a flood of other names takes only what is left.
 class DeclaredPoolsTest : public PoolRetireTest {
  protected:
