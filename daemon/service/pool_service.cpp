@@ -135,7 +135,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
 std::optional<v1::Ack> PoolService::offer_batch(Ticket ticket, DecodedBatch batch) {
   if (held_.contains(batch.pool) || waits_for_engine(batch)) {
     // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
-    if (batch.retire) ++held_retirements_;
+    if (batch.retire) ++held_retirements_[batch.pool];
     held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
     ++held_count_;
     return std::nullopt;
@@ -290,7 +290,7 @@ std::size_t PoolService::new_pools_being_checked() {
 }
 
 bool PoolService::waits_for_a_slot(const DecodedBatch& batch) {
-  if (batch.retire || (first_checks_.empty() && retiring_.empty() && held_retirements_ == 0)) {
+  if (batch.retire || (first_checks_.empty() && retiring_.empty() && held_retirements_.empty())) {
     return false;  // nothing on its way could take a slot or give one back
   }
   if (state_.registry.is_declared(batch.pool) || state_.registry.find(batch.pool) != nullptr) {
@@ -303,8 +303,14 @@ bool PoolService::waits_for_a_slot(const DecodedBatch& batch) {
       state_.registry.may_create(batch.pool, limits_.max_pools - checked)) {
     return false;
   }
-  // None free: wait while a check in flight may be refused or a retirement may free one.
-  return checked > 0 || !retiring_.empty() || held_retirements_ > 0;
+  // None free: wait while a check in flight may be refused or a retirement may free one. A
+  // retirement held behind its pool's work is offered once that ends, but one of a pool that
+  // does not exist frees nothing (its pool's batches before it may be waiting for a slot
+  // themselves: waiting for it would wait for ever).
+  if (checked > 0 || !retiring_.empty()) return true;
+  return std::any_of(held_retirements_.begin(), held_retirements_.end(), [this](const auto& held) {
+    return state_.registry.find(held.first) != nullptr;
+  });
 }
 
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
@@ -767,7 +773,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     }
   }
   held_.clear();
-  held_retirements_ = 0;
+  held_retirements_.clear();
   stage_waits_.clear();
   // A worker may still be checking: it reads the batch's events, not its names.
   for (const auto& [pool, check] : first_checks_) {

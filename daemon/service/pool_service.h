@@ -525,7 +525,8 @@ class PoolService {
   std::map<std::string, std::shared_ptr<RepairJob>> stage_waits_;
   std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
-  std::size_t held_retirements_ = 0;  // retirements among the held batches (waits_for_a_slot)
+  // Retirements among the held batches, per pool (waits_for_a_slot).
+  std::map<std::string, std::size_t> held_retirements_;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;

@@ -405,7 +405,11 @@ void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
     HeldBatch held = std::move(waiting.front());
     waiting.pop_front();
     --held_count_;
-    if (held.batch.retire) --held_retirements_;
+    if (held.batch.retire) {
+      if (const auto count = held_retirements_.find(pool); --count->second == 0) {
+        held_retirements_.erase(count);
+      }
+    }
     // A big one may go to a worker now, as on arrival (the rest of the pool's wait for it).
     if (!check_first_batch_off_loop(held.ticket, held.batch)) {
       if (auto ack = offer_decoded(held.ticket, std::move(held.batch))) {

@@ -351,6 +351,31 @@ TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
   EXPECT_EQ(next.acks[0].second.accepted().seq(), 1u);
 }
 
+// A retirement held behind a batch of its own pool that waits for a slot frees nothing (its
+// pool does not exist): that batch is refused, not held for ever waiting for it.
+TEST_F(RetireCapTest, ARetirementBehindABatchWaitingForASlotIsNoReasonToWait) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("keld").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
+  EXPECT_FALSE(retire("keld").has_value());
+  EXPECT_EQ(service().held_batches(), 3u);
+  ASSERT_EQ(service().seal().size(), 1u);  // the first retirement
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  // wyke took the slot; keld's batch finds none, and the second retirement no pool keld.
+  ASSERT_EQ(done.replies.size(), 2u);
+  EXPECT_EQ(done.replies[0].second.client_batch(), 2u);
+  EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(refusal_code(done.replies[1].second), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(service().held_batches(), 0u);
+  const testing::WindowResult next = harness_.close();
+  ASSERT_EQ(next.acks.size(), 1u);
+  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
+}
+
 // Declared pools have their slots reserved: a flood of other names takes only what is left.
 class DeclaredPoolsTest : public PoolRetireTest {
  protected:

@@ -6,11 +6,13 @@ journal), and `yoke replay DATA_DIR` replays the pool's current life."""
 
 import json
 import os
+import random
+import threading
 import time
 import unittest
 
-from e2e_harness import (PROTOCOL_VERSION, SLOWDOWN, Daemon, IngestClient, check_binaries,
-                         make_batch_request, replay_final_matching)
+from e2e_harness import (PROTOCOL_VERSION, SLOWDOWN, Daemon, ErrorCode, IngestClient,
+                         check_binaries, make_batch_request, replay_final_matching)
 from yoke.v1 import ingest_pb2
 from yoke_client import Rejected, Sender, Watcher, set_edge
 
@@ -134,6 +136,59 @@ class RetireTest(unittest.TestCase):
             # Round again the other way: lantern retired, quay made anew in its slot.
             daemon.yoke_json("retire", "lantern")
             self.send(daemon, "quay", [(1, 2, 5)])
+
+    def test_creations_and_retirements_at_the_cap_are_all_answered(self):
+        # Clients at once creating, feeding and retiring pools over more names than slots, some
+        # first batches big enough to be checked on a worker: every request is answered (a
+        # batch waiting for a slot is never left waiting: session 17 found one that was), only
+        # accepted or UNKNOWN_POOL, and a restart holds what the daemon held.
+        daemon = Daemon(self, config=CONFIG).start()
+        names = ["cove", "dray", "fell", "hythe"]
+        answers = {}
+
+        def client(number):
+            rnd = random.Random(number)
+            ingest = IngestClient(daemon.ingest)
+            client_id = f"desk-{number}"
+            for batch_number in range(1, 151):
+                pool = rnd.choice(names)
+                if rnd.random() < 0.35:
+                    request = ingest_pb2.IngestRequest(version=PROTOCOL_VERSION)
+                    request.retire.pool, request.retire.client_id = pool, client_id
+                    request.retire.client_batch = batch_number
+                elif rnd.random() < 0.1:
+                    request = make_batch_request(
+                        [("set", k, k + 1, 1) for k in range(1, 6000)], pool=pool,
+                        client_id=client_id, client_batch=batch_number)
+                else:
+                    request = make_batch_request(
+                        [("set", rnd.randrange(1, 40), rnd.randrange(40, 80), rnd.randint(1, 9))],
+                        pool=pool, client_id=client_id, client_batch=batch_number)
+                ingest.sock.send(request.SerializeToString())
+            got = {}
+            while len(got) < 150 and ingest.sock.poll(20000 * SLOWDOWN):
+                reply = ingest_pb2.IngestReply()
+                reply.ParseFromString(ingest.sock.recv())
+                ack = reply.ack
+                got[ack.client_batch] = (ack.WhichOneof("outcome") if ack.HasField("accepted")
+                                         else ack.rejected.errors[0].code)
+            ingest.close()
+            answers[number] = got
+
+        threads = [threading.Thread(target=client, args=(n,)) for n in range(3)]
+        for thread in threads:
+            thread.start()
+        for thread in threads:
+            thread.join()
+        for number, got in answers.items():
+            self.assertEqual(sorted(got), list(range(1, 151)), f"client {number}")
+            for outcome in got.values():
+                self.assertIn(outcome, ("accepted", ErrorCode.UNKNOWN_POOL))
+        held = {pool: daemon.summary(pool) for pool in names}
+        self.assertLessEqual(sum(summary is not None for summary in held.values()), 2)
+        daemon.restart()  # SIGKILL: the journal alone
+        for pool, summary in held.items():
+            self.assertEqual(daemon.summary(pool), summary, pool)
 
     def test_python_client_retires(self):
         daemon = Daemon(self, config=CONFIG).start()
