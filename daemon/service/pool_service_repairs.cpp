@@ -391,22 +391,23 @@ void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
   // In arrival order across pools (tickets count arrivals): their batches are independent but
   // for the slots under max_pools, which go to the earliest (waits_for_a_slot). A pool whose
   // first batch waits keeps the rest of its batches behind it.
-  using Front = std::pair<Ticket, std::string>;
-  std::priority_queue<Front, std::vector<Front>, std::greater<>> fronts;
-  for (const auto& [pool, waiting] : held_) {
-    if (!waiting.empty()) fronts.emplace(waiting.front().ticket, pool);
+  // Each pool at most once, by its map entry (stable: only the entry taken is erased, below).
+  using Front = std::pair<Ticket, decltype(held_)::iterator>;
+  const auto later = [](const Front& a, const Front& b) { return a.first > b.first; };
+  std::priority_queue<Front, std::vector<Front>, decltype(later)> fronts(later);
+  for (auto it = held_.begin(); it != held_.end(); ++it) {
+    if (!it->second.empty()) fronts.emplace(it->second.front().ticket, it);
   }
   while (!fronts.empty()) {
-    const std::string pool = fronts.top().second;
+    const auto it = fronts.top().second;
     fronts.pop();
-    const auto it = held_.find(pool);
     std::deque<HeldBatch>& waiting = it->second;
     if (waits_for_engine(waiting.front().batch)) continue;
     HeldBatch held = std::move(waiting.front());
     waiting.pop_front();
     --held_count_;
     if (held.batch.retire) {
-      if (const auto count = held_retirements_.find(pool); --count->second == 0) {
+      if (const auto count = held_retirements_.find(it->first); --count->second == 0) {
         held_retirements_.erase(count);
       }
     }
@@ -420,7 +421,7 @@ void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
     if (waiting.empty()) {
       held_.erase(it);
     } else {
-      fronts.emplace(waiting.front().ticket, pool);
+      fronts.emplace(waiting.front().ticket, it);
     }
   }
 }
