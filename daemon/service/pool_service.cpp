@@ -135,6 +135,7 @@ std::optional<v1::Ack> PoolService::offer(Ticket ticket, std::string_view messag
 std::optional<v1::Ack> PoolService::offer_batch(Ticket ticket, DecodedBatch batch) {
   if (held_.contains(batch.pool) || waits_for_engine(batch)) {
     // Answered once its pool's engine lets it be checked (finish_repairs()), in arrival order.
+    if (batch.retire) ++held_retirements_[batch.pool];
     held_[batch.pool].push_back(HeldBatch{ticket, std::move(batch)});
     ++held_count_;
     return std::nullopt;
@@ -279,8 +280,42 @@ void PoolService::run_first_check(const std::shared_ptr<FirstCheck>& check) {
   });
 }
 
+std::size_t PoolService::new_pools_being_checked() {
+  std::size_t checked = 0;
+  for (const auto& [pool, check] : first_checks_) {
+    // `existing` is set before the worker starts and never changed: read here without a race.
+    if (check->existing == nullptr && !state_.registry.is_declared(pool)) ++checked;
+  }
+  return checked;
+}
+
+bool PoolService::waits_for_a_slot(const DecodedBatch& batch) {
+  if (batch.retire || (first_checks_.empty() && retiring_.empty() && held_retirements_.empty())) {
+    return false;  // nothing on its way could take a slot or give one back
+  }
+  if (state_.registry.is_declared(batch.pool) || state_.registry.find(batch.pool) != nullptr) {
+    return false;  // a slot of its own
+  }
+  // Slots go in arrival order: the first batches of new pools still checked on workers came
+  // first, so each holds a slot until its check ends.
+  const std::size_t checked = new_pools_being_checked();
+  if (checked < limits_.max_pools &&
+      state_.registry.may_create(batch.pool, limits_.max_pools - checked)) {
+    return false;
+  }
+  // None free: wait while a check in flight may be refused or a retirement may free one. A
+  // retirement held behind its pool's work is offered once that ends, but one of a pool that
+  // does not exist frees nothing (its pool's batches before it may be waiting for a slot
+  // themselves: waiting for it would wait for ever).
+  if (checked > 0 || !retiring_.empty()) return true;
+  return std::any_of(held_retirements_.begin(), held_retirements_.end(), [this](const auto& held) {
+    return state_.registry.find(held.first) != nullptr;
+  });
+}
+
 bool PoolService::waits_for_engine(const DecodedBatch& batch) {
   if (first_checks_.contains(batch.pool)) return true;  // behind the pool's first batch
+  if (waits_for_a_slot(batch)) return true;
   // Behind a retirement: for the pool that comes after it, once start_apply() has dropped the
   // old one (ingest.proto, RetirePool). finish_repairs() offers it then, right after.
   if (retiring_.contains(batch.pool)) return true;
@@ -738,6 +773,7 @@ std::vector<std::pair<Ticket, v1::Ack>> PoolService::refuse_window(const v1::Err
     }
   }
   held_.clear();
+  held_retirements_.clear();
   stage_waits_.clear();
   // A worker may still be checking: it reads the batch's events, not its names.
   for (const auto& [pool, check] : first_checks_) {

@@ -418,6 +418,14 @@ class PoolService {
   // window (or, for a retirement and in a cluster, any job is in flight), or a retirement of
   // the pool is not applied yet. Asks that job to wake the loop once staged.
   bool waits_for_engine(const DecodedBatch& batch);
+  // A batch that would make a pool while every slot under max_pools is taken, counting those
+  // the new pools whose first batches came earlier and are still checked on workers will take
+  // (slots go in arrival order), or sent after a retirement not yet applied: it waits for those
+  // checks and retirements, as the retired pool's own batches do (ingest.proto, RetirePool),
+  // instead of taking an earlier batch's slot or being refused early.
+  bool waits_for_a_slot(const DecodedBatch& batch);
+  // New pools not declared in the config whose first batch is checked on a worker.
+  std::size_t new_pools_being_checked();
   // Offers the held batches of every pool that no longer has to wait, in arrival order.
   void offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies);
   static bool every_job_staged(const std::deque<std::shared_ptr<RepairJob>>& jobs);
@@ -528,6 +536,8 @@ class PoolService {
   std::map<std::string, std::shared_ptr<RepairJob>> stage_waits_;
   std::map<std::string, std::shared_ptr<FirstCheck>> first_checks_;  // on the workers
   std::size_t held_count_ = 0;
+  // Retirements among the held batches, per pool (waits_for_a_slot).
+  std::map<std::string, std::size_t> held_retirements_;
   RepairsDone retired_;  // retirements done by start_apply(), not yet collected (no replies)
   std::mutex finished_mutex_;  // guards the jobs' task counts (the executor's threads end tasks)
   std::condition_variable finished_signal_;

@@ -4,7 +4,10 @@
 #include <chrono>
 #include <map>
 #include <optional>
+#include <queue>
 #include <stdexcept>
+#include <string>
+#include <vector>
 
 #include "diff_message.h"
 #include "wire_types.h"
@@ -406,19 +409,41 @@ void PoolService::offer_first_checks(std::vector<std::pair<Ticket, v1::Ack>>& re
 }
 
 void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
-  for (auto it = held_.begin(); it != held_.end();) {
+  // In arrival order across pools (tickets count arrivals): their batches are independent but
+  // for the slots under max_pools, which go to the earliest (waits_for_a_slot). A pool whose
+  // first batch waits keeps the rest of its batches behind it.
+  // Each pool at most once, by its map entry (stable: only the entry taken is erased, below).
+  using Front = std::pair<Ticket, decltype(held_)::iterator>;
+  const auto later = [](const Front& a, const Front& b) { return a.first > b.first; };
+  std::priority_queue<Front, std::vector<Front>, decltype(later)> fronts(later);
+  for (auto it = held_.begin(); it != held_.end(); ++it) {
+    if (!it->second.empty()) fronts.emplace(it->second.front().ticket, it);
+  }
+  while (!fronts.empty()) {
+    const auto it = fronts.top().second;
+    fronts.pop();
     std::deque<HeldBatch>& waiting = it->second;
-    while (!waiting.empty() && !waits_for_engine(waiting.front().batch)) {
-      HeldBatch held = std::move(waiting.front());
-      waiting.pop_front();
-      --held_count_;
-      // A big one may go to a worker now, as on arrival (the rest of the pool's wait for it).
-      if (check_first_batch_off_loop(held.ticket, held.batch)) continue;
+    if (waits_for_engine(waiting.front().batch)) continue;
+    HeldBatch held = std::move(waiting.front());
+    waiting.pop_front();
+    --held_count_;
+    if (held.batch.retire) {
+      if (const auto count = held_retirements_.find(it->first); --count->second == 0) {
+        held_retirements_.erase(count);
+      }
+    }
+    // A big one may go to a worker now, as on arrival (the rest of the pool's wait for it).
+    if (!check_first_batch_off_loop(held.ticket, held.batch)) {
       if (auto ack = offer_decoded(held.ticket, std::move(held.batch))) {
         replies.emplace_back(held.ticket, std::move(*ack));
       }
     }
-    it = waiting.empty() ? held_.erase(it) : std::next(it);
+    // offer_decoded() may have put it back in front (hold_for_stage()): then it is met again.
+    if (waiting.empty()) {
+      held_.erase(it);
+    } else {
+      fronts.emplace(waiting.front().ticket, it);
+    }
   }
 }
 

@@ -125,6 +125,12 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
     v1::QueryReply reply;
     reply.set_pool(name);
     *reply.mutable_snapshot() = snapshot_now_(request.snapshot().all_pools(), name);
+    if (!request.snapshot().all_pools() && reply.snapshot().pools_size() == 0) {
+      // The snapshot settles the open window first: a retirement in it took the pool away.
+      return pool_error(v1::Error::UNKNOWN_POOL,
+                        "there is no pool " + name + " (retired before the snapshot was taken)",
+                        name);
+    }
     return reply;
   }
   Pool* pool = service_.registry().find(name);
@@ -190,6 +196,7 @@ v1::QueryReply QueryHandler::answer(const v1::QueryRequest& request) {
         explain.set_pair_weight(explanation->pair_weight);
       }
       explain.set_pair_bonus(explanation->pair_bonus);
+      explain.set_held(explanation->held);
       explain.set_dual_x2(explanation->dual2);
       explain.set_weight_offset(explanation->weight_offset);
       for (const Alternative& alternative : explanation->alternatives) {

@@ -117,6 +117,27 @@ TEST(ExplanationText, ChurnBonusIsNamed) {
             "Its price is 5.\nNo other edges.\n");
 }
 
+TEST(ExplanationText, AHeldPairHasNoPrice) {
+  // query.proto, Explanation.held: fixed by a hold, outside the optimisation. A max-cardinality
+  // pool's offset would otherwise show as a price of -offset / 2.
+  VertexExplanation explanation;
+  explanation.mate = 2;
+  explanation.pair_weight = 6;
+  explanation.weight_offset = 21;
+  explanation.held = true;
+  EXPECT_EQ(explanation_text(1, explanation),
+            "1 is held with 2 (weight 6): the pair stays until it is released, whatever the "
+            "weights, so it has no price and no alternatives.\n");
+  EXPECT_EQ(json_line(vertex_explanation_json(1, explanation)),
+            "{\"vertex\":1,\"present\":true,\"mate\":2,\"pair_weight\":6,\"pair_bonus\":0,"
+            "\"weight_offset\":21,\"dual_x2\":0,\"price\":null,\"alternatives\":[],"
+            "\"held\":true}");
+  yoke::v1::Explanation wire;
+  wire.set_mate(2);
+  wire.set_held(true);
+  EXPECT_TRUE(explanation_from_wire(wire).held);
+}
+
 TEST(ExplanationText, NegativeSlackIsRefused) {
   VertexExplanation explanation;
   explanation.alternatives = {alternative(3, 10, -1)};

@@ -202,6 +202,28 @@ TEST(FirstDecode, NamesAndSizesDecodeRefusesStayOnTheLoop) {
       {"big", "no spaces allowed"});
 }
 
+// Slots under max_pools go in arrival order (protocol.md, "Pool names and limits"): a new
+// pool's big first batch, checked on a worker, holds its slot against the first batches of
+// other new pools that arrive behind it; they wait for its check and get a slot only if it
+// was refused, as the inline service answers them.
+TEST(FirstDecode, ABigFirstBatchKeepsItsSlotAgainstLaterNewPools) {
+  DaemonConfig config = small_limits();
+  config.limits.max_pools = 2;
+  const std::string other = testing::ingest_message({wire_add(1)}, from_client("b", 1, "other"));
+  const std::string third = testing::ingest_message({wire_add(1)}, from_client("c", 1, "third"));
+  expect_answers_of_the_inline_service(
+      {{other, false},
+       {big_message(from_client("a", 1, "big")), true},
+       {third, false},  // refused: big came first
+       {big_message(from_client("d", 1, "big2")), false}},  // refused too, after big
+      {"big", "big2", "other", "third"}, config);
+  expect_answers_of_the_inline_service(
+      {{other, false},
+       {with_bad_kind_at(4321, from_client("a", 1, "big")), true},
+       {third, false}},  // big is refused: the slot is third's
+      {"big", "other", "third"}, config);
+}
+
 // A later big message of a pool that exists (past 256 KiB, 16,384 events) is decoded and
 // checked on a worker too (beside the pool's strand: "big check") when nothing of the pool is
 // in a window; what arrives behind it waits, and refusals are those of the loop.

@@ -146,6 +146,44 @@ TEST_F(PoolRetireTest, RefusalsChangeNothing) {
   EXPECT_EQ(service().registry().find("brissa"), nullptr);
 }
 
+// query.proto, SnapshotRequest: a snapshot of one pool lists that pool alone, or is
+// UNKNOWN_POOL. A snapshot settles the open window first (YokedServer::take_snapshot), so a
+// retirement in it takes the pool away before the capture: the answer is UNKNOWN_POOL then,
+// not a snapshot listing no pool.
+TEST_F(PoolRetireTest, ASnapshotOfAPoolRetiredInTheOpenWindowIsUnknownPool) {
+  fill("brissa");
+  fill("quay");
+  QueryHandler queries(
+      service(), 1 << 20,
+      [this](bool all_pools, const std::string& pool) {
+        harness_.close();  // as take_snapshot's settle_all()
+        v1::SnapshotTaken taken;
+        for (const std::string& name : service().registry().names()) {
+          if (all_pools || name == pool) taken.add_pools()->set_pool(name);
+        }
+        return taken;
+      },
+      nullptr);
+  const auto ask = [&queries](const std::string& pool) {
+    v1::QueryRequest request;
+    request.set_version(1);
+    request.set_pool(pool);
+    request.mutable_snapshot()->set_all_pools(false);
+    v1::QueryReply reply;
+    EXPECT_TRUE(reply.ParseFromString(queries.handle(request.SerializeAsString())));
+    return reply;
+  };
+  ASSERT_FALSE(retire("brissa").has_value());
+  const v1::QueryReply gone = ask("brissa");
+  ASSERT_TRUE(gone.has_error()) << gone.ShortDebugString();
+  EXPECT_EQ(gone.error().code(), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(gone.pool(), "brissa");
+  EXPECT_EQ(service().registry().find("brissa"), nullptr);
+  const v1::QueryReply kept = ask("quay");
+  ASSERT_EQ(kept.snapshot().pools_size(), 1) << kept.ShortDebugString();
+  EXPECT_EQ(kept.snapshot().pools(0).pool(), "quay");
+}
+
 // ingest.proto, RetirePool: "batches of the pool sent after it land in the next window, in the
 // new pool". They wait for the retirement to be applied (not refused), then are checked, in the
 // order they came, against the pool made afresh; a second retirement behind them retires that.
@@ -256,6 +294,86 @@ TEST_F(RetireCapTest, RetiringFreesTheSlot) {
     harness_.close();
     EXPECT_EQ(service().registry().size(), 0u);
   }
+}
+
+// ingest.proto, RetirePool: the retired pool's slot is free again, and nothing is refused for
+// coming early. A first batch of another pool sent behind the retirement while every slot is
+// taken waits for it, as the retired pool's own batches do, and then takes the freed slot.
+TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("ferrow")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("ferrow").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "hollin")).has_value());
+  EXPECT_EQ(service().held_batches(), 1u);
+
+  const auto first = service().seal();
+  ASSERT_EQ(first.size(), 1u);  // the retirement alone
+  EXPECT_EQ(first[0].second.pool(), "ferrow");
+  EXPECT_TRUE(first[0].second.has_accepted());
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  EXPECT_TRUE(done.replies.empty()) << done.replies[0].second.DebugString();
+  EXPECT_EQ(service().held_batches(), 0u);
+
+  const testing::WindowResult second = harness_.close();
+  ASSERT_EQ(second.acks.size(), 1u);
+  EXPECT_EQ(second.acks[0].second.pool(), "hollin");
+  ASSERT_TRUE(second.acks[0].second.has_accepted()) << second.acks[0].second.DebugString();
+  EXPECT_EQ(second.acks[0].second.accepted().seq(), 1u);
+  EXPECT_EQ(service().registry().size(), 2u);
+
+  // With no retirement on its way a full daemon refuses at once, as before.
+  EXPECT_EQ(refusal_code(harness_.offer({wire_add(1)}, in_pool("ivel"))),
+            v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(service().held_batches(), 0u);
+}
+
+// The freed slot goes to the first batch that came for it, whichever pool's name sorts first:
+// here a new pool's, then the retired pool's own batch, which finds no slot left.
+TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("keld").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
+  EXPECT_EQ(service().held_batches(), 2u);
+  ASSERT_EQ(service().seal().size(), 1u);  // the retirement
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  ASSERT_EQ(done.replies.size(), 1u);
+  EXPECT_EQ(done.replies[0].second.pool(), "keld");
+  EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
+  const testing::WindowResult next = harness_.close();
+  ASSERT_EQ(next.acks.size(), 1u);
+  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
+  EXPECT_EQ(next.acks[0].second.accepted().seq(), 1u);
+}
+
+// A retirement held behind a batch of its own pool that waits for a slot frees nothing (its
+// pool does not exist): that batch is refused, not held for ever waiting for it.
+TEST_F(RetireCapTest, ARetirementBehindABatchWaitingForASlotIsNoReasonToWait) {
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
+  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
+  harness_.close();
+  ASSERT_FALSE(retire("keld").has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
+  EXPECT_FALSE(retire("keld").has_value());
+  EXPECT_EQ(service().held_batches(), 3u);
+  ASSERT_EQ(service().seal().size(), 1u);  // the first retirement
+  service().start_apply();
+  const PoolService::RepairsDone done = service().finish_repairs();
+  // wyke took the slot; keld's batch finds none, and the second retirement no pool keld.
+  ASSERT_EQ(done.replies.size(), 2u);
+  EXPECT_EQ(done.replies[0].second.client_batch(), 2u);
+  EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(refusal_code(done.replies[1].second), v1::Error::UNKNOWN_POOL);
+  EXPECT_EQ(service().held_batches(), 0u);
+  const testing::WindowResult next = harness_.close();
+  ASSERT_EQ(next.acks.size(), 1u);
+  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
 }
 
 // Declared pools have their slots reserved: a flood of other names takes only what is left.

@@ -191,6 +191,34 @@ TEST_F(PoolServiceTest, DecoderRefusalsAreCountedAndChangeNothing) {
   EXPECT_EQ(service().refusals().at(v1::Error::MALFORMED_MESSAGE), 2u);
 }
 
+// ingest.proto, Rejected: the order of the checks. The events' form comes before the retry
+// rule and before any event is checked against the pool, so a malformed event is the refusal
+// even behind an earlier event that would not apply; the limits come after every event.
+TEST_F(PoolServiceTest, TheFormIsCheckedBeforeTheRetryRuleAndThePool) {
+  offer({wire_set(1, 2, 10)}, from_client("crane-3", 5, "tiny"));
+  close_window(service());
+  v1::Event stray_v = wire_add(5);
+  stray_v.set_v(6);
+  const BatchHeader next{"crane-3", 6, "tiny", 0};
+  expect_refused({wire_set(4, 4, 1), stray_v}, next, v1::Error::MALFORMED_MESSAGE, 1);
+  expect_refused({wire_remove(77), stray_v}, next, v1::Error::MALFORMED_MESSAGE, 1);
+  expect_refused({wire_set(1, 3, 1001), stray_v}, next, v1::Error::MALFORMED_MESSAGE, 1);
+  // Then the pool's checks in batch order, the limits last (tiny: four vertices alive).
+  expect_refused({wire_add(3), wire_add(4), wire_add(5), wire_remove(77)}, next,
+                 v1::Error::UNKNOWN_VERTEX, 3);
+  // A resend of an applied batch is a duplicate whatever its events say to the pool, but a
+  // malformed one is refused before the retry rule.
+  const v1::Ack duplicate = offer_now({wire_remove(77)}, from_client("crane-3", 5, "tiny"));
+  ASSERT_TRUE(duplicate.has_accepted()) << duplicate.ShortDebugString();
+  EXPECT_TRUE(duplicate.accepted().duplicate());
+  EXPECT_EQ(duplicate.accepted().seq(), 1u);
+  expect_refused({stray_v}, from_client("crane-3", 5, "tiny"), v1::Error::MALFORMED_MESSAGE, 0);
+  // One error per refusal.
+  const v1::Ack two_bad = offer_now({wire_set(4, 4, 1), wire_remove(77)}, next);
+  EXPECT_EQ(two_bad.rejected().errors_size(), 1);
+  EXPECT_EQ(two_bad.rejected().errors(0).code(), v1::Error::SELF_LOOP);
+}
+
 TEST_F(PoolServiceTest, BatchRelyingOnAnEarlierBatchOfTheWindowIsAccepted) {
   // Alone, these would be refused: the edge and the vertex do not exist yet.
   expect_refused({wire_unset(1, 2)}, {}, v1::Error::UNKNOWN_EDGE, 0);
@@ -467,6 +495,24 @@ TEST_F(PoolServiceTest, DiffsCarryPrevSeqAndSortedPairsWithWeights) {
   EXPECT_EQ(progress.commits, 4u);
   EXPECT_EQ(progress.batches_accepted, 5u);
   EXPECT_EQ(progress.events_applied, 6u);
+}
+
+// publish.proto, Diff.added: the lists compare the matching before and after the commit, so a
+// pair matched on both sides is in neither, even when its edge or a vertex left and came back
+// within the commit; the weights are read from the pool (common knowledge: {1,2} and {3,4}
+// are the only edges, so both are matched whatever their positive weights).
+TEST_F(PoolServiceTest, APairMatchedBeforeAndAfterIsInNeitherList) {
+  offer({wire_set(1, 2, 5), wire_set(3, 4, 5)});
+  close_window(service());
+  offer({wire_remove(1), wire_set(1, 2, 7)});
+  offer({wire_unset(3, 4), wire_set(3, 4, 8)});
+  const WindowResult result = close_window(service());
+  ASSERT_EQ(result.diffs.size(), 1u);
+  EXPECT_EQ(result.diffs[0].removed_size(), 0);
+  EXPECT_EQ(result.diffs[0].added_size(), 0);
+  EXPECT_EQ(result.diffs[0].weight(), 15);
+  EXPECT_EQ(result.diffs[0].pairs(), 2u);
+  EXPECT_EQ(view_of(service(), "default").edges, 2u);
 }
 
 TEST_F(PoolServiceTest, EmptyWindowPublishesNothing) {

@@ -367,6 +367,53 @@ TEST_F(QueryHandlerTest, ExplainListsAlternativesConsistentWithTheCertificate) {
   expect_error(ask(explain(77)), v1::Error::UNKNOWN_VERTEX);
 }
 
+// query.proto, Explanation.held: a held pair is fixed and outside the optimisation, so its
+// vertices have no price to explain, and the explanation says so rather than show a dual of 0
+// that no certificate of the pair's edge would have.
+TEST_F(QueryHandlerTest, ExplainSaysAVertexIsHeld) {
+  // berth: 1-2 (5), 1-3 (9), 2-4 (9), 3-4 (1); {1,2} held. The rest, 3 and 4 with their one
+  // edge (1-3 and 2-4 go aside with the held ends), pair as 3-4: common knowledge.
+  offer({wire_set(1, 2, 5), wire_set(1, 3, 9), wire_set(2, 4, 9), wire_set(3, 4, 1)},
+        in_pool("berth"));
+  harness_.close();
+  v1::QueryReply reply = ask_pool("berth", explain(1));
+  EXPECT_FALSE(reply.explain().held());
+  offer({testing::wire_hold(1, 2)}, in_pool("berth"));
+  // cardinal (path 1-2-3-4, max-cardinality): {2,3} held leaves 1 and 4 with no edge.
+  offer({testing::wire_hold(2, 3)}, in_pool("cardinal"));
+  harness_.close();
+
+  reply = ask_pool("berth", explain(1));
+  ASSERT_TRUE(reply.has_explain()) << reply.ShortDebugString();
+  EXPECT_TRUE(reply.explain().held());
+  EXPECT_EQ(reply.explain().mate(), 2u);
+  EXPECT_EQ(reply.explain().pair_weight(), 5);
+  EXPECT_EQ(reply.explain().dual_x2(), 0);
+  EXPECT_EQ(reply.explain().alternatives_size(), 0);
+  // 3's edge to the held 1 is no alternative; its pair with 4 is priced as ever.
+  reply = ask_pool("berth", explain(3));
+  EXPECT_FALSE(reply.explain().held());
+  EXPECT_EQ(reply.explain().mate(), 4u);
+  EXPECT_EQ(reply.explain().alternatives_size(), 0);
+  expect_consistent("berth", 3, reply.explain(), QueryHandler::kDefaultAlternatives);
+
+  // Summary counts the held vertices and every edge, those set aside included.
+  reply = ask_pool("berth", summary());
+  EXPECT_EQ(reply.summary().vertices(), 4u);
+  EXPECT_EQ(reply.summary().edges(), 4u);
+  EXPECT_EQ(reply.summary().pairs(), 2u);
+  EXPECT_EQ(reply.summary().weight(), 6);
+
+  reply = ask_pool("cardinal", explain(3));
+  EXPECT_TRUE(reply.explain().held());
+  EXPECT_EQ(reply.explain().mate(), 2u);
+  EXPECT_EQ(reply.explain().pair_weight(), 10);
+  reply = ask_pool("cardinal", explain(1));
+  EXPECT_FALSE(reply.explain().held());
+  EXPECT_FALSE(reply.explain().has_mate());
+  EXPECT_EQ(reply.explain().alternatives_size(), 0);
+}
+
 TEST_F(QueryHandlerTest, StatsCounters) {
   v1::QueryReply reply = ask(stats());
   ASSERT_TRUE(reply.has_stats()) << reply.ShortDebugString();

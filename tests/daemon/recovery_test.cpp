@@ -292,6 +292,37 @@ TEST(Recovery, SnapshotPlusJournalTail) {
   EXPECT_EQ(harness.service().next_journal_position(), next_record);
 }
 
+// query.proto, StatsRequest: the counters count from the daemon's start, recovery's replay of
+// the journal after the snapshot included; refusals and duplicates are not journalled.
+TEST(Recovery, StatsCountFromTheStartWithTheJournalReplayed) {
+  ServiceHarness harness;
+  ASSERT_FALSE(harness.offer({wire_set(1, 2, 5)}, from_client("tram", 1)));
+  harness.close();
+  ASSERT_FALSE(harness.offer({wire_set(3, 4, 5), wire_add(9)}, from_client("tram", 2)));
+  harness.close();
+  ASSERT_TRUE(harness.offer({wire_remove(77)}, from_client("tram", 3)));  // refused
+  ASSERT_TRUE(harness.offer({wire_set(3, 4, 5)}, from_client("tram", 2)));  // a duplicate
+  harness.close();
+  const PoolProgress& first_run = *harness.service().progress("default");
+  EXPECT_EQ(first_run.batches_accepted, 2u);
+  EXPECT_EQ(first_run.batches_rejected, 1u);
+  EXPECT_EQ(first_run.batches_duplicate, 1u);
+  harness.snapshot();
+  ASSERT_FALSE(harness.offer({wire_set(5, 6, 1), wire_unset(1, 2)}, from_client("tram", 4)));
+  harness.close();
+
+  harness.restart();
+  const PoolProgress& after = *harness.service().progress("default");
+  EXPECT_EQ(after.seq, 3u);
+  EXPECT_EQ(after.batches_accepted, 1u);  // the journal's tail, not the snapshot's two
+  EXPECT_EQ(after.events_applied, 2u);
+  EXPECT_EQ(after.commits, 1u);
+  EXPECT_EQ(after.batches_rejected, 0u);
+  EXPECT_EQ(after.batches_duplicate, 0u);
+  EXPECT_EQ(after.last_snapshot_seq, 2u);
+  EXPECT_EQ(after.last_repair.events, 2u);
+}
+
 TEST(Recovery, SnapshotWithoutATailAndAnEmptyJournal) {
   ServiceHarness harness;
   ASSERT_TRUE(testing::run_script(harness, testing::random_script({}, 8)));

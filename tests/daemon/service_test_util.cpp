@@ -298,10 +298,19 @@ std::vector<ScriptWindow> random_script(const ScriptSpec& spec, std::uint64_t se
   const CheckResult check = check_certificate(exported.graph, exported.certificate);
   if (!check.ok) return ::testing::AssertionFailure() << "certificate fails: " << check.failure;
 
-  // The certified matching is the pool's matching, with the pool's weight and pairs.
+  // The certified matching plus the held pairs (fixed, outside the certificate: PoolExport) is
+  // the pool's matching, with the pool's weight and pairs.
   const std::vector<Vertex>& mate = exported.certificate.mate;
   Weight weight = 0;
   std::size_t pairs = 0;
+  Weight held_weight = 0;
+  std::set<std::pair<VertexKey, VertexKey>> held;
+  for (const MatchedPair& pair : exported.held) {
+    held_weight += pair.w;
+    held.emplace(pair.a, pair.b);
+  }
+  weight += held_weight;
+  pairs += held.size();
   for (EdgeIndex e = 0; e < exported.graph.edge_slots(); ++e) {
     if (!exported.graph.is_live(e)) continue;
     const Edge& edge = exported.graph.edge(e);
@@ -320,6 +329,7 @@ std::vector<ScriptWindow> random_script(const ScriptSpec& spec, std::uint64_t se
     dense[exported.keys[i]] = static_cast<Vertex>(i);
   }
   for (const MatchedPair& pair : pool.matching()) {
+    if (held.contains({pair.a, pair.b})) continue;
     if (mate[dense.at(pair.a)] != dense.at(pair.b)) {
       return ::testing::AssertionFailure()
              << "pair " << pair.a << "-" << pair.b << " is not in the certified matching";
@@ -331,11 +341,12 @@ std::vector<ScriptWindow> random_script(const ScriptSpec& spec, std::uint64_t se
   if (auto solved = oracle::solve_checked(exported.graph, pool.mode(), fresh); !solved) {
     return solved;
   }
-  if (fresh.weight != pool.weight()) {
+  if (fresh.weight + held_weight != pool.weight()) {
     return ::testing::AssertionFailure() << "static solve weight " << fresh.weight
-                                         << " != pool weight " << pool.weight();
+                                         << " (+ held " << held_weight << ") != pool weight "
+                                         << pool.weight();
   }
-  if (pool.mode() != Mode::max_weight && fresh.pairs != pool.pairs()) {
+  if (pool.mode() != Mode::max_weight && fresh.pairs + held.size() != pool.pairs()) {
     return ::testing::AssertionFailure() << "static solve pairs " << fresh.pairs
                                          << " != pool pairs " << pool.pairs();
   }

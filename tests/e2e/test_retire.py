@@ -6,10 +6,14 @@ journal), and `yoke replay DATA_DIR` replays the pool's current life."""
 
 import json
 import os
+import random
+import threading
 import time
 import unittest
 
-from e2e_harness import SLOWDOWN, Daemon, check_binaries, replay_final_matching
+from e2e_harness import (PROTOCOL_VERSION, SLOWDOWN, Daemon, ErrorCode, IngestClient,
+                         check_binaries, make_batch_request, replay_final_matching)
+from yoke.v1 import ingest_pb2
 from yoke_client import Rejected, Sender, Watcher, set_edge
 
 # Two slots for undeclared pools: max_pools 3, one declared.
@@ -95,6 +99,96 @@ class RetireTest(unittest.TestCase):
         self.assertIsNone(daemon.summary("market"))
         self.assertEqual(daemon.summary("quay"), held["quay"])
         self.send(daemon, "flood", [(1, 2, 1)])
+
+    def test_a_new_pool_sent_behind_a_retirement_takes_its_slot(self):
+        # ingest.proto, RetirePool: the slot is free again once the retirement is applied, and
+        # a first batch of another pool sent right behind it, every slot taken, waits for it
+        # (as the retired pool's own batches do) instead of being refused for coming early.
+        # The retired pool's batch just before keeps its repair in flight, so the retirement
+        # itself waits too.
+        daemon = Daemon(self, config=CONFIG).start()
+        self.send(daemon, "quay", [(1, 2, 5)])
+        self.send(daemon, "market", [(1, 2, 1)])
+        ingest = IngestClient(daemon.ingest)
+        self.addCleanup(ingest.close)
+        for _ in range(3):
+            ingest.sock.send(make_batch_request([("set", 3, 4, 2)], pool="quay",
+                                                client_id="desk", client_batch=1)
+                             .SerializeToString())
+            retire = ingest_pb2.IngestRequest(version=PROTOCOL_VERSION)
+            retire.retire.pool, retire.retire.client_id, retire.retire.client_batch = \
+                "quay", "desk", 2
+            ingest.sock.send(retire.SerializeToString())
+            ingest.sock.send(make_batch_request([("set", 7, 8, 3)], pool="lantern",
+                                                client_id="desk", client_batch=3)
+                             .SerializeToString())
+            acks = {}
+            while len(acks) < 3 and ingest.sock.poll(10000 * SLOWDOWN):
+                reply = ingest_pb2.IngestReply()
+                reply.ParseFromString(ingest.sock.recv())
+                acks[reply.ack.client_batch] = reply.ack
+            self.assertEqual(sorted(acks), [1, 2, 3], acks)
+            for number, ack in acks.items():
+                self.assertEqual(ack.WhichOneof("outcome"), "accepted", f"{number}: {ack}")
+            self.assertEqual(acks[3].accepted.seq, 1)
+            self.assertIsNone(daemon.summary("quay"))
+            self.assertEqual(daemon.summary("lantern")["pairs"], 1)
+            # Round again the other way: lantern retired, quay made anew in its slot.
+            daemon.yoke_json("retire", "lantern")
+            self.send(daemon, "quay", [(1, 2, 5)])
+
+    def test_creations_and_retirements_at_the_cap_are_all_answered(self):
+        # Clients at once creating, feeding and retiring pools over more names than slots, some
+        # first batches big enough to be checked on a worker: every request is answered (a
+        # batch waiting for a slot is never left waiting: session 17 found one that was), only
+        # accepted or UNKNOWN_POOL, and a restart holds what the daemon held.
+        daemon = Daemon(self, config=CONFIG).start()
+        names = ["cove", "dray", "fell", "hythe"]
+        answers = {}
+
+        def client(number):
+            rnd = random.Random(number)
+            ingest = IngestClient(daemon.ingest)
+            client_id = f"desk-{number}"
+            for batch_number in range(1, 151):
+                pool = rnd.choice(names)
+                if rnd.random() < 0.35:
+                    request = ingest_pb2.IngestRequest(version=PROTOCOL_VERSION)
+                    request.retire.pool, request.retire.client_id = pool, client_id
+                    request.retire.client_batch = batch_number
+                elif rnd.random() < 0.1:
+                    request = make_batch_request(
+                        [("set", k, k + 1, 1) for k in range(1, 6000)], pool=pool,
+                        client_id=client_id, client_batch=batch_number)
+                else:
+                    request = make_batch_request(
+                        [("set", rnd.randrange(1, 40), rnd.randrange(40, 80), rnd.randint(1, 9))],
+                        pool=pool, client_id=client_id, client_batch=batch_number)
+                ingest.sock.send(request.SerializeToString())
+            got = {}
+            while len(got) < 150 and ingest.sock.poll(20000 * SLOWDOWN):
+                reply = ingest_pb2.IngestReply()
+                reply.ParseFromString(ingest.sock.recv())
+                ack = reply.ack
+                got[ack.client_batch] = (ack.WhichOneof("outcome") if ack.HasField("accepted")
+                                         else ack.rejected.errors[0].code)
+            ingest.close()
+            answers[number] = got
+
+        threads = [threading.Thread(target=client, args=(n,)) for n in range(3)]
+        for thread in threads:
+            thread.start()
+        for thread in threads:
+            thread.join()
+        for number, got in answers.items():
+            self.assertEqual(sorted(got), list(range(1, 151)), f"client {number}")
+            for outcome in got.values():
+                self.assertIn(outcome, ("accepted", ErrorCode.UNKNOWN_POOL))
+        held = {pool: daemon.summary(pool) for pool in names}
+        self.assertLessEqual(sum(summary is not None for summary in held.values()), 2)
+        daemon.restart()  # SIGKILL: the journal alone
+        for pool, summary in held.items():
+            self.assertEqual(daemon.summary(pool), summary, pool)
 
     def test_python_client_retires(self):
         daemon = Daemon(self, config=CONFIG).start()

@@ -49,7 +49,8 @@ const char* const kExplanationJsonHelp =
     "  unpaired),\"pair_bonus\",\"weight_offset\",\"dual_x2\",\"price\",\"alternatives\":\n"
     "  [{\"other\",\"weight\",\"slack\",\"slack_x2\",\"other_mate\"},...]}: the _x2 values are\n"
     "  doubled, exact integers; dual_x2 counts the mode's weight_offset, price does not:\n"
-    "  price = (dual_x2 - weight_offset) / 2 and slack = slack_x2 / 2 (either may end in .5)";
+    "  price = (dual_x2 - weight_offset) / 2 and slack = slack_x2 / 2 (either may end in .5);\n"
+    "  a vertex of a held pair adds \"held\":true, with price null and no alternatives";
 
 Weight price_x2(const VertexExplanation& explanation) {
   return explanation.dual2 - explanation.weight_offset;
@@ -64,6 +65,13 @@ std::string explanation_text(VertexKey vertex, const VertexExplanation& explanat
   check_slacks(vertex, explanation);
   const std::string name = key_text(vertex);
   std::string out;
+  if (explanation.held && explanation.mate) {
+    // Fixed by a hold and outside the optimisation: no price, no alternatives to weigh.
+    return name + " is held with " + key_text(*explanation.mate) + " (weight " +
+           std::to_string(explanation.pair_weight) +
+           "): the pair stays until it is released, whatever the weights, so it has no price "
+           "and no alternatives.\n";
+  }
   if (explanation.mate) {
     out += name + " is paired with " + key_text(*explanation.mate) + " (weight " +
            std::to_string(explanation.pair_weight);
@@ -110,15 +118,17 @@ Json vertex_explanation_json(VertexKey vertex, const VertexExplanation& explanat
                                 {"slack_x2", alternative.slack2},
                                 {"other_mate", optional_key_json(alternative.other_mate)}});
   }
-  return Json{{"vertex", vertex},
-              {"present", true},
-              {"mate", optional_key_json(explanation.mate)},
-              {"pair_weight", explanation.mate ? Json(explanation.pair_weight) : Json(nullptr)},
-              {"pair_bonus", explanation.pair_bonus},
-              {"weight_offset", explanation.weight_offset},
-              {"dual_x2", explanation.dual2},
-              {"price", half_json(price_x2(explanation))},
-              {"alternatives", std::move(alternatives)}};
+  Json out{{"vertex", vertex},
+           {"present", true},
+           {"mate", optional_key_json(explanation.mate)},
+           {"pair_weight", explanation.mate ? Json(explanation.pair_weight) : Json(nullptr)},
+           {"pair_bonus", explanation.pair_bonus},
+           {"weight_offset", explanation.weight_offset},
+           {"dual_x2", explanation.dual2},
+           {"price", explanation.held ? Json(nullptr) : half_json(price_x2(explanation))},
+           {"alternatives", std::move(alternatives)}};
+  if (explanation.held) out["held"] = true;  // only then, as a watched diff's "retired"
+  return out;
 }
 
 VertexExplanation explanation_from_wire(const yoke::v1::Explanation& explanation) {
@@ -126,6 +136,7 @@ VertexExplanation explanation_from_wire(const yoke::v1::Explanation& explanation
   if (explanation.has_mate()) out.mate = explanation.mate();
   out.pair_weight = explanation.pair_weight();  // 0 when absent, as the engine's struct has it
   out.pair_bonus = explanation.pair_bonus();
+  out.held = explanation.held();
   out.dual2 = explanation.dual_x2();
   out.weight_offset = explanation.weight_offset();
   for (const yoke::v1::Alternative& wire : explanation.alternatives()) {

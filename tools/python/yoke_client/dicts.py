@@ -72,11 +72,15 @@ def reply(r):
         alternatives = [{"other": a.other, "weight": a.weight, "slack": _half(a.slack_x2),
                          "slack_x2": a.slack_x2, "other_mate": _optional(a, "other_mate")}
                         for a in m.alternatives]
-        return {"pool": pool, "seq": m.seq, "vertex": m.vertex, "present": True,
-                "mate": _optional(m, "mate"), "pair_weight": _optional(m, "pair_weight"),
-                "pair_bonus": m.pair_bonus, "weight_offset": m.weight_offset,
-                "dual_x2": m.dual_x2, "price": _half(m.dual_x2 - m.weight_offset),
-                "alternatives": alternatives}
+        explained = {"pool": pool, "seq": m.seq, "vertex": m.vertex, "present": True,
+                     "mate": _optional(m, "mate"), "pair_weight": _optional(m, "pair_weight"),
+                     "pair_bonus": m.pair_bonus, "weight_offset": m.weight_offset,
+                     "dual_x2": m.dual_x2,
+                     "price": None if m.held else _half(m.dual_x2 - m.weight_offset),
+                     "alternatives": alternatives}
+        if m.held:  # a held pair: fixed, so no price (as `yoke query explain` prints it)
+            explained["held"] = True
+        return explained
     if kind == "stats":
         limits = m.config.limits
         return {"pool": pool, "seq": m.seq, "weight": m.weight, "pairs": m.pairs,

@@ -100,8 +100,9 @@ class Query(DealerConnection):
         """{"pool","seq","vertex","present","mate","pair_weight" (None: unpaired),"pair_bonus",
         "weight_offset","dual_x2","price","alternatives": [{"other","weight","slack","slack_x2",
         "other_mate"}, ...]}, as `yoke query explain` prints it: the _x2 values are doubled;
-        price = (dual_x2 - weight_offset) / 2, slack = slack_x2 / 2. alternatives: how many
-        to list at most (0: the daemon's default)."""
+        price = (dual_x2 - weight_offset) / 2, slack = slack_x2 / 2; a vertex of a held pair
+        adds "held": True, with price None and no alternatives. alternatives: how many to list
+        at most (0: the daemon's default)."""
         return dicts.reply(self.ask("explain", pool, vertex=v, max_alternatives=alternatives))
 
     def stats(self, pool="default"):
