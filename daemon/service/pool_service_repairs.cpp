@@ -428,7 +428,9 @@ void PoolService::offer_held(std::vector<std::pair<Ticket, v1::Ack>>& replies) {
     waiting.pop_front();
     --held_count_;
     if (held.batch.retire) {
-      if (const auto count = held_retirements_.find(it->first); --count->second == 0) {
+      // Counted when held (offer_batch()); a retirement is never held back by a stage.
+      if (const auto count = held_retirements_.find(it->first);
+          count != held_retirements_.end() && --count->second == 0) {
         held_retirements_.erase(count);
       }
     }
