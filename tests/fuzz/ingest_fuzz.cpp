@@ -183,6 +183,7 @@ class Run {
   PoolModel& model_of(const std::string& name);
   static void open_window(PoolModel& pool);
   bool declared(const std::string& name) const { return fixture_.config.pools.contains(name); }
+  bool pool_has_a_slot(const std::string& name) const;
   Fingerprint fingerprint();
   void check_unchanged(const Fingerprint& before, std::size_t window_events_before);
   void check_pool(const std::string& name);
@@ -238,6 +239,16 @@ void Run::check_unchanged(const Fingerprint& before, std::size_t window_events_b
   REQUIRE(service_.window_events() == window_events_before);
 }
 
+// The cap on pools (InputLimits::max_pools): an existing pool has its slot, a declared one its
+// reserved slot, the others share the rest.
+bool Run::pool_has_a_slot(const std::string& name) const {
+  const auto it = pools_.find(name);
+  if ((it != pools_.end() && it->second.exists) || declared(name)) return true;
+  const std::size_t undeclared_slots =
+      fixture_.config.limits.max_pools - fixture_.config.pools.size();
+  return existing_undeclared_ < undeclared_slots;
+}
+
 // The service holds exactly the pools that accepted a batch.
 void Run::check_pool_names() {
   std::vector<std::string> expected;
@@ -256,6 +267,14 @@ void Run::ingest(std::string_view message) {
     // Behind a retirement not yet applied: the service holds it and offers it once the window
     // is (pool_retire_test checks the holding); the model sends it then, after the commit.
     if (const auto it = pools_.find(named->pool); it != pools_.end() && it->second.retiring) {
+      after_retirement_.emplace_back(message);
+      return;
+    }
+    // So is a batch that would make a pool while every slot is taken, behind any retirement not
+    // yet applied: it waits for the slot that may free (ingest.proto, RetirePool).
+    const bool retirement_pending = std::any_of(
+        pools_.begin(), pools_.end(), [](const auto& entry) { return entry.second.retiring; });
+    if (!named->retire && retirement_pending && !pool_has_a_slot(named->pool)) {
       after_retirement_.emplace_back(message);
       return;
     }
@@ -311,9 +330,7 @@ void Run::ingest(std::string_view message) {
   // The cap on pools (InputLimits::max_pools): declared pools have their slots reserved, the
   // others share the rest. The service applies it before the retry rules; a batch refused by
   // both may name either.
-  const std::size_t undeclared_slots =
-      fixture_.config.limits.max_pools - fixture_.config.pools.size();
-  if (!pool.exists && !declared(batch.pool) && existing_undeclared_ >= undeclared_slots) {
+  if (!pool_has_a_slot(batch.pool)) {
     std::vector<v1::Error::Code> codes = {v1::Error::UNKNOWN_POOL};
     if (!batch.client_id.empty() && batch.after_batch != 0) {
       codes.push_back(v1::Error::OUT_OF_ORDER);
