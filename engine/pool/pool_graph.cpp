@@ -1,5 +1,7 @@
 #include "pool/pool_graph.h"
 
+#include <algorithm>
+
 namespace yoke {
 
 namespace {
@@ -32,7 +34,8 @@ Vertex PoolGraph::reserve_slot() {
     free_slots_.pop();
   } else {
     if (next_unused_ == capacity()) {
-      const std::size_t grown = 2 * capacity();
+      // At least the initial room: a pool restored from a state with no slots has capacity 0.
+      const std::size_t grown = std::max(2 * capacity(), kInitialCapacity);
       graph_.grow_vertices(grown);
       slot_key_.resize(grown, 0);
       slot_alive_.resize(grown, 0);
