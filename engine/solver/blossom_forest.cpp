@@ -35,7 +35,6 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
     : vertex_count_(vertex_count),
       parent_(2 * vertex_count, kNoNode),
       top_(vertex_count),
-      node_top_(2 * vertex_count),
       version_(2 * vertex_count, 0),
       base_(2 * vertex_count, kNoVertex),
       dual2_(2 * vertex_count, 0),
@@ -46,7 +45,7 @@ BlossomForest::BlossomForest(std::size_t vertex_count)
       next_leaf_(vertex_count, kNoVertex),
       children_(vertex_count),
       edges_(vertex_count) {
-  for (NodeId node = 0; node < 2 * vertex_count; ++node) node_top_[node] = {node, 0};
+  reset_shortcuts();
   for (Vertex v = 0; v < vertex_count; ++v) {
     top_[v] = {v, 0};
     base_[v] = v;
@@ -101,6 +100,10 @@ void BlossomForest::free_slot(NodeId b) {
 
 void BlossomForest::reset_top_caches() {
   for (Vertex v = 0; v < vertex_count_; ++v) top_[v] = {v, 0};
+  reset_shortcuts();
+}
+
+void BlossomForest::reset_shortcuts() {
   node_top_.resize(2 * vertex_count_);
   for (NodeId node = 0; node < 2 * vertex_count_; ++node) node_top_[node] = {node, 0};
 }
@@ -230,9 +233,7 @@ void BlossomForest::grow(std::size_t vertex_count) {
   for (NodeId slot : free_slots_) free_slots.push_back(moved(slot));
   free_slots_ = std::move(free_slots);
   vertex_count_ = vertex_count;
-  // The shortcuts are a cache: started afresh rather than renumbered.
-  node_top_.resize(2 * vertex_count);
-  for (NodeId node = 0; node < 2 * vertex_count; ++node) node_top_[node] = {node, 0};
+  reset_shortcuts();  // a cache: started afresh rather than renumbered
 }
 
 NodeId BlossomForest::child_containing(NodeId b, Vertex v) const {

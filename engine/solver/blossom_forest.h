@@ -182,6 +182,7 @@ class BlossomForest {
   NodeId climb_to_top(Vertex v) const;  // top()'s climb, which also refreshes v's cache
   void free_slot(NodeId b);  // b's children are already detached
   void reset_top_caches();  // every vertex's cache and node's shortcut back to itself
+  void reset_shortcuts();   // every node's shortcut back to itself (all 2 x vertex_count_)
 
   void check_loaded() const;
 };
