@@ -278,6 +278,15 @@ class RetireCapTest : public PoolRetireTest {
     return config;
   }
   RetireCapTest() : PoolRetireTest(capped()) {}
+
+  // Both slots taken by `retired` and `kept` (committed), then `retired` retired in the open
+  // window.
+  void fill_the_cap_and_retire(const std::string& retired, const std::string& kept) {
+    ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool(retired)));
+    ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool(kept)));
+    harness_.close();
+    ASSERT_FALSE(retire(retired).has_value());
+  }
 };
 
 TEST_F(RetireCapTest, RetiringFreesTheSlot) {
@@ -300,10 +309,7 @@ TEST_F(RetireCapTest, RetiringFreesTheSlot) {
 // coming early. A first batch of another pool sent behind the retirement while every slot is
 // taken waits for it, as the retired pool's own batches do, and then takes the freed slot.
 TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("ferrow")));
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
-  harness_.close();
-  ASSERT_FALSE(retire("ferrow").has_value());
+  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("ferrow", "gallant"));
   EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "hollin")).has_value());
   EXPECT_EQ(service().held_batches(), 1u);
 
@@ -332,10 +338,7 @@ TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
 // The freed slot goes to the first batch that came for it, whichever pool's name sorts first:
 // here a new pool's, then the retired pool's own batch, which finds no slot left.
 TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
-  harness_.close();
-  ASSERT_FALSE(retire("keld").has_value());
+  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("keld", "gallant"));
   EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
   EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
   EXPECT_EQ(service().held_batches(), 2u);
@@ -354,10 +357,7 @@ TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
 // A retirement held behind a batch of its own pool that waits for a slot frees nothing (its
 // pool does not exist): that batch is refused, not held for ever waiting for it.
 TEST_F(RetireCapTest, ARetirementBehindABatchWaitingForASlotIsNoReasonToWait) {
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("keld")));
-  ASSERT_FALSE(harness_.offer({wire_add(1)}, in_pool("gallant")));
-  harness_.close();
-  ASSERT_FALSE(retire("keld").has_value());
+  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("keld", "gallant"));
   EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
   EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
   EXPECT_FALSE(retire("keld").has_value());

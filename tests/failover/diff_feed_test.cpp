@@ -58,6 +58,15 @@ class DiffFeedOnCluster : public cluster::testing::OneClusterPerSuite<DiffFeedOn
     return jetstream::PoolSubjects(settings_.subject_prefix).of_diffs(pool);
   }
 
+  // Whether the feed says the pool's publishing is failing, within 10 s.
+  static bool failing_soon(const DiffFeedPublisher& feed, const std::string& pool) {
+    const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
+    while (!feed.status(pool).failing && std::chrono::steady_clock::now() < deadline) {
+      std::this_thread::sleep_for(milliseconds(10));
+    }
+    return feed.status(pool).failing;
+  }
+
   // The seqs stored on the pool's subject, in stream order; checks each message's header
   // against the diff it carries.
   std::vector<std::uint64_t> stored_seqs(const std::string& pool) {
@@ -164,11 +173,7 @@ TEST_F(DiffFeedOnCluster, AStalledServersLateDiffIsRefusedBehindItsSuccessors) {
   publish_range(new_server, "mole", 6, 8);
   ASSERT_TRUE(new_server.settle(milliseconds(10000)));
   publish_range(old_server, "mole", 6, 6);
-  const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
-  while (!old_server.status("mole").failing && std::chrono::steady_clock::now() < deadline) {
-    std::this_thread::sleep_for(milliseconds(10));
-  }
-  EXPECT_TRUE(old_server.status("mole").failing);
+  EXPECT_TRUE(failing_soon(old_server, "mole"));
   EXPECT_EQ(stored_seqs("mole"), range(1, 8));
 }
 
@@ -182,11 +187,7 @@ TEST_F(DiffFeedOnCluster, AStalledServersFirstDiffIsRefusedOnceASuccessorStoredA
   publish_range(new_server, "vole", 1, 3);
   ASSERT_TRUE(new_server.settle(milliseconds(10000)));
   publish_range(old_server, "vole", 1, 1);
-  const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
-  while (!old_server.status("vole").failing && std::chrono::steady_clock::now() < deadline) {
-    std::this_thread::sleep_for(milliseconds(10));
-  }
-  EXPECT_TRUE(old_server.status("vole").failing);
+  EXPECT_TRUE(failing_soon(old_server, "vole"));
   EXPECT_EQ(stored_seqs("vole"), range(1, 3));
 }
 
@@ -198,11 +199,7 @@ TEST_F(DiffFeedOnCluster, AFailedPublishIsRetriedAndTheGapFilledInOrder) {
   ASSERT_TRUE(feed.settle(milliseconds(10000)));
   delete_stream();  // no stream takes the subject: the next publishes fail
   publish_range(feed, "reef", 3, 6);
-  const auto deadline = std::chrono::steady_clock::now() + milliseconds(10000);
-  while (!feed.status("reef").failing && std::chrono::steady_clock::now() < deadline) {
-    std::this_thread::sleep_for(milliseconds(10));
-  }
-  ASSERT_TRUE(feed.status("reef").failing);
+  ASSERT_TRUE(failing_soon(feed, "reef"));
   EXPECT_FALSE(feed.settle(milliseconds(300)));  // keeps serving; retries meanwhile fail
   make_stream();                                 // the stream is back (empty)
   publish_range(feed, "reef", 7, 8);             // queued behind the failed ones
