@@ -310,7 +310,7 @@ TEST_F(RetireCapTest, RetiringFreesTheSlot) {
 // taken waits for it, as the retired pool's own batches do, and then takes the freed slot.
 TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
   ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("ferrow", "gallant"));
-  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "hollin")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "tessock")).has_value());
   EXPECT_EQ(service().held_batches(), 1u);
 
   const auto first = service().seal();
@@ -324,13 +324,13 @@ TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
 
   const testing::WindowResult second = harness_.close();
   ASSERT_EQ(second.acks.size(), 1u);
-  EXPECT_EQ(second.acks[0].second.pool(), "hollin");
+  EXPECT_EQ(second.acks[0].second.pool(), "tessock");
   ASSERT_TRUE(second.acks[0].second.has_accepted()) << second.acks[0].second.DebugString();
   EXPECT_EQ(second.acks[0].second.accepted().seq(), 1u);
   EXPECT_EQ(service().registry().size(), 2u);
 
   // With no retirement on its way a full daemon refuses at once, as before.
-  EXPECT_EQ(refusal_code(harness_.offer({wire_add(1)}, in_pool("ivel"))),
+  EXPECT_EQ(refusal_code(harness_.offer({wire_add(1)}, in_pool("ombrid"))),
             v1::Error::UNKNOWN_POOL);
   EXPECT_EQ(service().held_batches(), 0u);
 }
@@ -338,34 +338,34 @@ TEST_F(RetireCapTest, AFirstBatchBehindARetirementWaitsForItsSlot) {
 // The freed slot goes to the first batch that came for it, whichever pool's name sorts first:
 // here a new pool's, then the retired pool's own batch, which finds no slot left.
 TEST_F(RetireCapTest, TheFreedSlotGoesInArrivalOrder) {
-  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("keld", "gallant"));
-  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
-  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
+  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("quennow", "gallant"));
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "drastle")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "quennow")).has_value());
   EXPECT_EQ(service().held_batches(), 2u);
   ASSERT_EQ(service().seal().size(), 1u);  // the retirement
   service().start_apply();
   const PoolService::RepairsDone done = service().finish_repairs();
   ASSERT_EQ(done.replies.size(), 1u);
-  EXPECT_EQ(done.replies[0].second.pool(), "keld");
+  EXPECT_EQ(done.replies[0].second.pool(), "quennow");
   EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
   const testing::WindowResult next = harness_.close();
   ASSERT_EQ(next.acks.size(), 1u);
-  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
+  EXPECT_EQ(next.acks[0].second.pool(), "drastle");
   EXPECT_EQ(next.acks[0].second.accepted().seq(), 1u);
 }
 
 // A retirement held behind a batch of its own pool that waits for a slot frees nothing (its
 // pool does not exist): that batch is refused, not held for ever waiting for it.
 TEST_F(RetireCapTest, ARetirementBehindABatchWaitingForASlotIsNoReasonToWait) {
-  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("keld", "gallant"));
-  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "wyke")).has_value());
-  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "keld")).has_value());
-  EXPECT_FALSE(retire("keld").has_value());
+  ASSERT_NO_FATAL_FAILURE(fill_the_cap_and_retire("quennow", "gallant"));
+  EXPECT_FALSE(harness_.offer({wire_add(5)}, from_client("van-9", 1, "drastle")).has_value());
+  EXPECT_FALSE(harness_.offer({wire_add(6)}, from_client("van-9", 2, "quennow")).has_value());
+  EXPECT_FALSE(retire("quennow").has_value());
   EXPECT_EQ(service().held_batches(), 3u);
   ASSERT_EQ(service().seal().size(), 1u);  // the first retirement
   service().start_apply();
   const PoolService::RepairsDone done = service().finish_repairs();
-  // wyke took the slot; keld's batch finds none, and the second retirement no pool keld.
+  // drastle took the slot; quennow's batch finds none, and the second retirement no pool quennow.
   ASSERT_EQ(done.replies.size(), 2u);
   EXPECT_EQ(done.replies[0].second.client_batch(), 2u);
   EXPECT_EQ(refusal_code(done.replies[0].second), v1::Error::UNKNOWN_POOL);
@@ -373,7 +373,7 @@ TEST_F(RetireCapTest, ARetirementBehindABatchWaitingForASlotIsNoReasonToWait) {
   EXPECT_EQ(service().held_batches(), 0u);
   const testing::WindowResult next = harness_.close();
   ASSERT_EQ(next.acks.size(), 1u);
-  EXPECT_EQ(next.acks[0].second.pool(), "wyke");
+  EXPECT_EQ(next.acks[0].second.pool(), "drastle");
 }
 
 // Declared pools have their slots reserved: a flood of other names takes only what is left.
